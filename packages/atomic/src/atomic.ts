@@ -1,0 +1,88 @@
+import { mkdir, mkdtemp, rename, rm, writeFile, open, readdir, cp, stat } from 'node:fs/promises';
+import { dirname, basename, join, resolve } from 'node:path';
+
+/** Write a file so that readers see the old content or the new, never a part: temp file + fsync + rename. */
+export async function writeFileAtomic(path: string, data: string | Uint8Array): Promise<void> {
+  const dir = dirname(resolve(path));
+  await mkdir(dir, { recursive: true });
+  const tmp = join(dir, `.${basename(path)}.${process.pid}.${Date.now()}.${Math.random().toString(36).slice(2)}.tmp`);
+  const fh = await open(tmp, 'w');
+  try {
+    await fh.writeFile(data);
+    await fh.sync();
+  } finally {
+    await fh.close();
+  }
+  try {
+    await rename(tmp, path);
+  } catch (e) {
+    await rm(tmp, { force: true });
+    throw e;
+  }
+}
+
+export interface StagedFolder {
+  /** The staging folder to write into; it sits beside the target so the final rename stays on one device. */
+  readonly path: string;
+  /** Move the staged outputs into place. Previous outputs are replaced only now, file by file via rename. */
+  commit(): Promise<void>;
+  /** Remove the staging folder; the target is untouched. */
+  abort(): Promise<void>;
+}
+
+/**
+ * Stage outputs for `target`. Nothing appears in `target` until `commit()`; a crash before that leaves
+ * only a `.lamina-stage-*` folder beside it, which the next run removes.
+ * With `keep`, named files already in `target` (such as review.json) are copied into the stage first
+ * so the writer can read and merge them.
+ */
+export async function stageFolder(target: string, options: { keep?: string[] } = {}): Promise<StagedFolder> {
+  const abs = resolve(target);
+  const parent = dirname(abs);
+  await mkdir(parent, { recursive: true });
+  for (const name of await readdir(parent)) {
+    if (name.startsWith(`.lamina-stage-${basename(abs)}-`)) await rm(join(parent, name), { recursive: true, force: true });
+    // A run killed between the two renames of commit() left the previous outputs as a backup: restore them.
+    if (name.startsWith(`${basename(abs)}.lamina-old-`)) {
+      if (!(await exists(abs))) await rename(join(parent, name), abs);
+      else await rm(join(parent, name), { recursive: true, force: true });
+    }
+  }
+  const path = await mkdtemp(join(parent, `.lamina-stage-${basename(abs)}-`));
+  for (const name of options.keep ?? []) {
+    const from = join(abs, name);
+    if (await exists(from)) await cp(from, join(path, name), { recursive: true });
+  }
+  return {
+    path,
+    async commit() {
+      if (!(await exists(abs))) {
+        await rename(path, abs);
+        return;
+      }
+      // Swap whole folders: old -> backup, stage -> target, then drop the backup.
+      const backup = `${abs}.lamina-old-${process.pid}`;
+      await rm(backup, { recursive: true, force: true });
+      await rename(abs, backup);
+      try {
+        await rename(path, abs);
+      } catch (e) {
+        await rename(backup, abs);
+        throw e;
+      }
+      await rm(backup, { recursive: true, force: true });
+    },
+    async abort() {
+      await rm(path, { recursive: true, force: true });
+    },
+  };
+}
+
+async function exists(p: string): Promise<boolean> {
+  try {
+    await stat(p);
+    return true;
+  } catch {
+    return false;
+  }
+}

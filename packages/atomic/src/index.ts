@@ -1,0 +1,1 @@
+export { writeFileAtomic, stageFolder, type StagedFolder } from './atomic';

@@ -1,0 +1,1 @@
+export { InputError, isInputError, formatError } from './input-error';

@@ -1,0 +1,1 @@
+export { type RadarLine, traceOf, emptyLine } from './line';
