@@ -1,1 +1,1 @@
-export {};
+export { type SliceGrid, type Slice, type SliceStack, cellCentre } from './stack';
