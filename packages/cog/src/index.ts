@@ -1,1 +1,1 @@
-export {};
+export { encodeCog, type CogOptions, type CogCrs } from './cog';
