@@ -1,1 +1,48 @@
-export {};
+export { nextPow2 } from './fft';
+export { alongTrackM, medianOf, periodNs, withData } from './line-util';
+export {
+  type HilbertWorkspace,
+  hilbertWorkspace,
+  analyticSignal,
+  hilbertEnvelope,
+  envelope,
+} from './envelope';
+export {
+  type FilterKind,
+  type FiltfiltWorkspace,
+  butterworthSos,
+  sosfiltZi,
+  sosfiltInPlace,
+  sosfiltfiltPadlen,
+  filtfiltWorkspace,
+  sosfiltfilt,
+} from './butterworth';
+export { type ZeroPhaseOptions, type BandpassOptions, nyquistFraction, zeroPhaseFilter, bandpass } from './bandpass';
+export { type DewowOptions, oddWindow, dewow } from './dewow';
+export { type BackgroundOptions, backgroundRemoval } from './background';
+export { type DivergenceGainOptions, type AgcOptions, divergenceGainCurve, divergenceGain, agc } from './gain';
+export {
+  type TimeZeroOptions,
+  type TimeZeroResult,
+  C_M_PER_NS,
+  pickFirstArrival,
+  shiftTrace,
+  timeZero,
+} from './time-zero';
+export { type MigrationOptions, halfDerivative, migrate } from './migration';
+export {
+  STEP_NAMES,
+  type StepName,
+  type Step,
+  type Recipe,
+  type RecipeContext,
+  type RecipeLogEntry,
+  type RecipeResult,
+  type RunOptions,
+  stepSchema,
+  recipeSchema,
+  parseRecipe,
+  defaultRecipe,
+  runStep,
+  runRecipe,
+} from './recipe';

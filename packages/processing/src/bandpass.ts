@@ -1,0 +1,54 @@
+import type { RadarLine } from '@lamina/radar-data';
+import { butterworthSos, filtfiltWorkspace, sosfiltfilt, type FilterKind } from './butterworth';
+import { withData } from './line-util';
+
+export interface ZeroPhaseOptions {
+  /** Butterworth order N (scipy's `N`; a band-pass has 2N poles). @default 4 */
+  order?: number;
+}
+
+/** Nyquist fraction of a frequency in MHz for a sample interval in ns. */
+export function nyquistFraction(frequencyMHz: number, dtNs: number): number {
+  return 2 * frequencyMHz * dtNs * 1e-3;
+}
+
+/**
+ * Zero-phase Butterworth filter of every trace (forward-backward, scipy.signal.sosfiltfilt semantics).
+ * Corners in MHz; each must lie below the Nyquist frequency 500 / dtNs MHz. `out` may be `line.data`.
+ */
+export function zeroPhaseFilter(
+  line: RadarLine,
+  kind: FilterKind,
+  cornersMHz: number | readonly [number, number],
+  options: ZeroPhaseOptions = {},
+  out?: Float32Array,
+): RadarLine {
+  const order = options.order ?? 4;
+  const wn =
+    typeof cornersMHz === 'number'
+      ? nyquistFraction(cornersMHz, line.dtNs)
+      : ([nyquistFraction(cornersMHz[0], line.dtNs), nyquistFraction(cornersMHz[1], line.dtNs)] as const);
+  const sos = butterworthSos(order, wn, kind);
+  const { nSamples, nTraces } = line;
+  const res = out ?? new Float32Array(line.data.length);
+  const ws = filtfiltWorkspace(sos, nSamples);
+  const y = new Float64Array(nSamples);
+  for (let t = 0; t < nTraces; t++) {
+    const tr = line.data.subarray(t * nSamples, (t + 1) * nSamples);
+    sosfiltfilt(sos, tr, { workspace: ws }, y);
+    res.set(y, t * nSamples);
+  }
+  return withData(line, res);
+}
+
+export interface BandpassOptions extends ZeroPhaseOptions {
+  /** Low corner, MHz. */
+  lowMHz: number;
+  /** High corner, MHz. */
+  highMHz: number;
+}
+
+/** Zero-phase Butterworth band-pass between `lowMHz` and `highMHz`. */
+export function bandpass(line: RadarLine, options: BandpassOptions, out?: Float32Array): RadarLine {
+  return zeroPhaseFilter(line, 'bandpass', [options.lowMHz, options.highMHz], options, out);
+}

@@ -1,0 +1,78 @@
+import type { RadarLine } from '@lamina/radar-data';
+import { fftOfSize, nextPow2 } from './fft';
+import { withData } from './line-util';
+
+/** Scratch buffers for analytic signals of one padded length (reused across traces). */
+export interface HilbertWorkspace {
+  n: number;
+  real: Float64Array;
+  spec: Float64Array;
+  analytic: Float64Array;
+}
+
+export function hilbertWorkspace(nSamples: number, padTo?: number): HilbertWorkspace {
+  const n = padTo ?? nextPow2(nSamples);
+  if (n < nSamples || (n & (n - 1)) !== 0) {
+    throw new Error(`hilbert: padded length must be a power of two >= ${nSamples}, found ${n}`);
+  }
+  return { n, real: new Float64Array(n), spec: new Float64Array(2 * n), analytic: new Float64Array(2 * n) };
+}
+
+/**
+ * Analytic signal of `x` zero-padded to `ws.n` (a power of two), left in `ws.analytic` as interleaved
+ * re/im of length 2 * ws.n. Same definition as `scipy.signal.hilbert(x, N=ws.n)`: spectrum kept at 0 and
+ * N/2, doubled for 0 < k < N/2, zeroed above.
+ */
+export function analyticSignal(x: ArrayLike<number>, ws: HilbertWorkspace): Float64Array {
+  const { n, real, spec, analytic } = ws;
+  const m = Math.min(x.length, n);
+  for (let i = 0; i < m; i++) real[i] = x[i] as number;
+  real.fill(0, m);
+  fftOfSize(n).realTransform(spec, real);
+  // realTransform fills bins 0..N/2; build the one-sided spectrum there and zero the rest.
+  const half = n / 2;
+  for (let k = 1; k < half; k++) {
+    spec[2 * k] = (spec[2 * k] as number) * 2;
+    spec[2 * k + 1] = (spec[2 * k + 1] as number) * 2;
+  }
+  spec.fill(0, 2 * half + 2);
+  fftOfSize(n).inverseTransform(analytic, spec);
+  return analytic;
+}
+
+/**
+ * Hilbert envelope |analytic(x)| of one trace, the first `x.length` samples of
+ * `abs(scipy.signal.hilbert(x, N))` with N = `options.padTo` (default: next power of two >= length).
+ */
+export function hilbertEnvelope(
+  x: ArrayLike<number>,
+  options: { padTo?: number; workspace?: HilbertWorkspace } = {},
+  out?: Float32Array | Float64Array,
+): Float32Array | Float64Array {
+  const ws = options.workspace ?? hilbertWorkspace(x.length, options.padTo);
+  const res = out ?? new Float64Array(x.length);
+  const a = analyticSignal(x, ws);
+  for (let i = 0; i < x.length; i++) {
+    const re = a[2 * i] as number;
+    const im = a[2 * i + 1] as number;
+    res[i] = Math.sqrt(re * re + im * im);
+  }
+  return res;
+}
+
+/**
+ * Envelope of every trace of a line. Traces are zero-padded to the next power of two of `nSamples`
+ * (at least) before the FFT; `out` may be `line.data`.
+ */
+export function envelope(line: RadarLine, options: { padTo?: number } = {}, out?: Float32Array): RadarLine {
+  const { nSamples, nTraces } = line;
+  const res = out ?? new Float32Array(line.data.length);
+  const ws = hilbertWorkspace(nSamples, options.padTo);
+  const env = new Float64Array(nSamples);
+  for (let t = 0; t < nTraces; t++) {
+    const tr = line.data.subarray(t * nSamples, (t + 1) * nSamples);
+    hilbertEnvelope(tr, { workspace: ws }, env);
+    res.set(env, t * nSamples);
+  }
+  return withData(line, res);
+}

@@ -1,0 +1,298 @@
+import { z } from 'zod';
+import { InputError } from '@lamina/errors';
+import type { RadarLine } from '@lamina/radar-data';
+import { bandpass } from './bandpass';
+import { backgroundRemoval } from './background';
+import { dewow } from './dewow';
+import { envelope } from './envelope';
+import { agc, divergenceGain } from './gain';
+import { periodNs } from './line-util';
+import { migrate } from './migration';
+import { C_M_PER_NS, timeZero } from './time-zero';
+
+export const STEP_NAMES = ['timeZero', 'dewow', 'backgroundRemoval', 'gain', 'bandpass', 'envelope', 'migration'] as const;
+export type StepName = (typeof STEP_NAMES)[number];
+
+const pos = z.number().positive();
+const frac = z.number().gt(0).lt(1);
+
+const timeZeroStep = z.strictObject({
+  step: z.literal('timeZero'),
+  threshold: frac.optional(),
+  pick: z.enum(['peak', 'onset']).optional(),
+  medianTraces: z.number().int().min(1).optional(),
+  maxDeviationNs: pos.optional(),
+  shift: z.enum(['fractional', 'integer']).optional(),
+  /** Subtract the air travel time between the antennas (separationM / c) from the pick. @default true */
+  separationCorrection: z.boolean().optional(),
+  searchNs: z.tuple([z.number().min(0), pos]).optional(),
+});
+const dewowStep = z.strictObject({
+  step: z.literal('dewow'),
+  method: z.enum(['runningMean', 'lowCut']).optional(),
+  windowNs: pos.optional(),
+  lowCutMHz: pos.optional(),
+  order: z.number().int().min(1).max(8).optional(),
+});
+const backgroundStep = z.strictObject({
+  step: z.literal('backgroundRemoval'),
+  method: z.enum(['mean', 'movingMean']).optional(),
+  windowM: pos.optional(),
+});
+const gainStep = z.strictObject({
+  step: z.literal('gain'),
+  kind: z.enum(['divergence', 'agc']).optional(),
+  power: z.number().min(0).max(4).optional(),
+  alphaPerNs: z.number().min(0).optional(),
+  startNs: pos.optional(),
+  maxGainDb: z.number().min(0).max(200).optional(),
+  windowNs: pos.optional(),
+  floor: z.number().min(0).optional(),
+});
+const bandpassStep = z.strictObject({
+  step: z.literal('bandpass'),
+  lowMHz: pos.optional(),
+  highMHz: pos.optional(),
+  order: z.number().int().min(1).max(8).optional(),
+});
+const envelopeStep = z.strictObject({ step: z.literal('envelope') });
+const migrationStep = z.strictObject({
+  step: z.literal('migration'),
+  velocityMPerNs: z.number().positive().max(C_M_PER_NS).optional(),
+  apertureM: pos.optional(),
+  maxAngleDeg: z.number().gt(0).lt(90).optional(),
+  taper: z.number().min(0).max(1).optional(),
+  halfDerivative: z.boolean().optional(),
+});
+
+export const stepSchema = z.discriminatedUnion('step', [
+  timeZeroStep,
+  dewowStep,
+  backgroundStep,
+  gainStep,
+  bandpassStep,
+  envelopeStep,
+  migrationStep,
+]);
+export const recipeSchema = z.strictObject({ steps: z.array(stepSchema) });
+
+export type Step = z.infer<typeof stepSchema>;
+export type Recipe = z.infer<typeof recipeSchema>;
+
+function jsonPath(prefix: string, path: readonly PropertyKey[]): string {
+  let s = prefix;
+  for (const p of path) s += typeof p === 'number' ? `[${p}]` : s === '' ? String(p) : `.${String(p)}`;
+  return s || '(root)';
+}
+
+/**
+ * Validates a recipe (parsed JSON). Throws an InputError naming `file` and the JSON path of the first
+ * problem (all problems are listed in the message), e.g. `site.json: recipe.steps[2].windowNs: ...`.
+ */
+export function parseRecipe(json: unknown, file = 'recipe', options: { pathPrefix?: string } = {}): Recipe {
+  const prefix = options.pathPrefix ?? '';
+  // The step name first, for a clearer message than a failed union.
+  if (json && typeof json === 'object' && Array.isArray((json as { steps?: unknown }).steps)) {
+    const steps = (json as { steps: unknown[] }).steps;
+    steps.forEach((s, i) => {
+      const name = s && typeof s === 'object' ? (s as { step?: unknown }).step : undefined;
+      if (!STEP_NAMES.includes(name as StepName)) {
+        throw new InputError(file, `expected a step name (${STEP_NAMES.join(', ')}), found ${JSON.stringify(name) ?? 'nothing'}`, {
+          field: jsonPath(prefix, ['steps', i, 'step']),
+        });
+      }
+    });
+  }
+  const r = recipeSchema.safeParse(json);
+  if (r.success) return r.data;
+  const issues = r.error.issues.map((i) => `${jsonPath(prefix, i.path)}: ${i.message}`);
+  const first = r.error.issues[0];
+  throw new InputError(file, issues.length === 1 ? (first?.message ?? 'invalid recipe') : issues.join('; '), {
+    field: jsonPath(prefix, first?.path ?? []),
+  });
+}
+
+/**
+ * The default chain for an antenna of `frequencyMHz` (T = 1000 / f ns, one period):
+ * time-zero (envelope peak of the direct wave minus s/c), dewow (running mean over T), zero-phase
+ * Butterworth band-pass 0.25 f - 2 f (order 4), spherical-divergence gain t / T from T (60 dB ceiling),
+ * whole-line background removal, and Kirchhoff migration when a velocity is known (skipped otherwise).
+ * Gain comes before background removal so that the data `keepBefore: 'backgroundRemoval'` returns
+ * (for screening and display) is already gained; a gain curve shared by all traces commutes with the
+ * mean-trace removal, so the order does not change the result.
+ */
+export function defaultRecipe(frequencyMHz: number): Recipe {
+  if (!(frequencyMHz > 0)) throw new Error(`defaultRecipe: frequency must be > 0 MHz, found ${frequencyMHz}`);
+  const T = periodNs(frequencyMHz);
+  return {
+    steps: [
+      { step: 'timeZero', threshold: 0.25, pick: 'peak', medianTraces: 11, separationCorrection: true },
+      { step: 'dewow', method: 'runningMean', windowNs: T },
+      { step: 'bandpass', lowMHz: 0.25 * frequencyMHz, highMHz: 2 * frequencyMHz, order: 4 },
+      { step: 'gain', kind: 'divergence', power: 1, alphaPerNs: 0, startNs: T, maxGainDb: 60 },
+      { step: 'backgroundRemoval', method: 'mean' },
+      { step: 'migration', apertureM: 2, maxAngleDeg: 60 },
+    ],
+  };
+}
+
+export interface RecipeContext {
+  /** Antenna centre frequency, MHz. */
+  frequencyMHz: number;
+  /** Antenna separation, m. */
+  separationM: number;
+  /** Ground velocity from the velocity fit, m/ns; migration is skipped without it. */
+  velocityMPerNs?: number;
+  /** Metres per CRS unit of the trace positions (site.crs.metresPerUnit). @default 1 */
+  metresPerUnit?: number;
+}
+
+export interface RecipeLogEntry {
+  step: StepName;
+  /** Parameters as resolved (defaults filled in from the context). */
+  params: Record<string, unknown>;
+  /** Why the step did not run. */
+  skipped?: string;
+  notes?: string[];
+  /** What the step measured (time-zero picks and shifts). */
+  result?: Record<string, unknown>;
+}
+
+export interface RecipeResult {
+  line: RadarLine;
+  log: RecipeLogEntry[];
+  /** The line just before the first step named `options.keepBefore` (the output line if no such step ran). */
+  before?: RadarLine;
+}
+
+export interface RunOptions {
+  /** Keep a copy of the line as it was just before the first step of this name. */
+  keepBefore?: StepName;
+}
+
+const round = (x: number, d = 4): number => Math.round(x * 10 ** d) / 10 ** d;
+
+/** Runs one step on `line` (never modifying `line`); returns the new line and the log entry. */
+export function runStep(line: RadarLine, step: Step, ctx: RecipeContext): { line: RadarLine; entry: RecipeLogEntry } {
+  const f = ctx.frequencyMHz;
+  const T = periodNs(f);
+  const mpu = ctx.metresPerUnit ?? 1;
+  const notes: string[] = [];
+  switch (step.step) {
+    case 'timeZero': {
+      const params = {
+        threshold: step.threshold ?? 0.25,
+        pick: step.pick ?? 'peak',
+        medianTraces: step.medianTraces ?? 11,
+        maxDeviationNs: step.maxDeviationNs ?? T / 4,
+        shift: step.shift ?? 'fractional',
+        separationCorrection: step.separationCorrection ?? true,
+        separationM: ctx.separationM,
+        ...(step.searchNs ? { searchNs: step.searchNs } : {}),
+      } as const;
+      const r = timeZero(line, {
+        ...params,
+        searchNs: step.searchNs ? [step.searchNs[0], step.searchNs[1]] : undefined,
+        frequencyMHz: f,
+        separationM: params.separationCorrection ? ctx.separationM : 0,
+      });
+      if (r.replaced.length) notes.push(`${r.replaced.length} trace pick(s) replaced by the running median (dead or outlying)`);
+      return {
+        line: r.line,
+        entry: {
+          step: 'timeZero',
+          params,
+          notes,
+          result: {
+            timeZeroNs: round(r.timeZeroNs),
+            pickNs: round(r.pickNs),
+            shiftsNs: Array.from(r.shiftsNs, (x) => round(x)),
+            replacedTraces: r.replaced,
+          },
+        },
+      };
+    }
+    case 'dewow': {
+      const method = step.method ?? 'runningMean';
+      const params =
+        method === 'runningMean'
+          ? { method, windowNs: step.windowNs ?? T }
+          : { method, lowCutMHz: step.lowCutMHz ?? f / 4, order: step.order ?? 2 };
+      return { line: dewow(line, params), entry: { step: 'dewow', params } };
+    }
+    case 'backgroundRemoval': {
+      const method = step.method ?? 'mean';
+      const params = method === 'mean' ? { method } : { method, windowM: step.windowM ?? 10 };
+      return { line: backgroundRemoval(line, { ...params, metresPerUnit: mpu }), entry: { step: 'backgroundRemoval', params } };
+    }
+    case 'gain': {
+      const kind = step.kind ?? 'divergence';
+      if (kind === 'agc') {
+        const params = { kind, windowNs: step.windowNs ?? 8 * T, floor: step.floor ?? 1e-3 };
+        return { line: agc(line, params), entry: { step: 'gain', params } };
+      }
+      const params = {
+        kind,
+        power: step.power ?? 1,
+        alphaPerNs: step.alphaPerNs ?? 0,
+        startNs: step.startNs ?? T,
+        maxGainDb: step.maxGainDb ?? 60,
+      };
+      return { line: divergenceGain(line, params), entry: { step: 'gain', params } };
+    }
+    case 'bandpass': {
+      const nyq = 500 / line.dtNs;
+      let lowMHz = step.lowMHz ?? 0.25 * f;
+      let highMHz = step.highMHz ?? 2 * f;
+      const order = step.order ?? 4;
+      if (highMHz >= 0.95 * nyq) {
+        notes.push(`high corner ${highMHz} MHz clamped to 0.9 x Nyquist (${round(0.9 * nyq, 2)} MHz)`);
+        highMHz = 0.9 * nyq;
+      }
+      if (!(lowMHz < highMHz)) {
+        return {
+          line,
+          entry: { step: 'bandpass', params: { lowMHz, highMHz, order }, skipped: `low corner ${lowMHz} MHz not below high corner ${highMHz} MHz`, notes },
+        };
+      }
+      lowMHz = Math.max(lowMHz, 1e-6 * nyq);
+      const params = { lowMHz, highMHz, order };
+      return { line: bandpass(line, params), entry: { step: 'bandpass', params, notes } };
+    }
+    case 'envelope':
+      return { line: envelope(line), entry: { step: 'envelope', params: {} } };
+    case 'migration': {
+      const v = step.velocityMPerNs ?? ctx.velocityMPerNs;
+      const params = {
+        ...(v !== undefined ? { velocityMPerNs: v } : {}),
+        separationM: ctx.separationM,
+        apertureM: step.apertureM ?? 2,
+        maxAngleDeg: step.maxAngleDeg ?? 60,
+        taper: step.taper ?? 0.2,
+        halfDerivative: step.halfDerivative ?? true,
+      };
+      if (v === undefined) return { line, entry: { step: 'migration', params, skipped: 'no velocity given (run after the velocity fit)' } };
+      return { line: migrate(line, { ...params, velocityMPerNs: v, metresPerUnit: mpu }), entry: { step: 'migration', params } };
+    }
+  }
+}
+
+/**
+ * Runs the steps of `recipe` in order on a copy of `line`. The log records every step with its
+ * resolved parameters (and why a step was skipped); store it with every output.
+ */
+export function runRecipe(line: RadarLine, recipe: Recipe, ctx: RecipeContext, options: RunOptions = {}): RecipeResult {
+  if (!(ctx.frequencyMHz > 0)) throw new Error(`runRecipe: frequencyMHz must be > 0, found ${ctx.frequencyMHz}`);
+  let cur = line;
+  const log: RecipeLogEntry[] = [];
+  let before: RadarLine | undefined;
+  for (const step of recipe.steps) {
+    if (options.keepBefore === step.step && before === undefined) before = cur === line ? { ...line, data: line.data.slice() } : cur;
+    const r = runStep(cur, step, ctx);
+    cur = r.line;
+    log.push(r.entry);
+  }
+  if (cur === line) cur = { ...line, data: line.data.slice() };
+  if (options.keepBefore !== undefined && before === undefined) before = cur;
+  return before ? { line: cur, log, before } : { line: cur, log };
+}

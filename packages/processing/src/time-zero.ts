@@ -1,0 +1,170 @@
+import type { RadarLine } from '@lamina/radar-data';
+import { InputError } from '@lamina/errors';
+import { hilbertEnvelope, hilbertWorkspace } from './envelope';
+import { medianOf, outputFor, withData } from './line-util';
+
+export const C_M_PER_NS = 0.2998;
+
+export interface TimeZeroOptions {
+  /** Threshold on the envelope, a fraction of the trace's envelope maximum. @default 0.25 */
+  threshold?: number;
+  /**
+   * What is picked on the direct arrival: `peak` = the envelope maximum within one period after the
+   * threshold crossing (the wavelet centre); `onset` = the threshold crossing itself. @default 'peak'
+   */
+  pick?: 'peak' | 'onset';
+  /** Centre frequency, MHz: sets the one-period peak search after the crossing. */
+  frequencyMHz: number;
+  /** Antenna separation, m. Time-zero is the direct-air-wave pick minus separationM / c. @default 0 */
+  separationM?: number;
+  /** Traces in the running median of the picks (odd). @default 11 */
+  medianTraces?: number;
+  /** A pick further than this from the running median is replaced by the median, ns. @default a quarter period */
+  maxDeviationNs?: number;
+  /** `fractional`: Keys cubic interpolation; `integer`: whole-sample shifts. @default 'fractional' */
+  shift?: 'fractional' | 'integer';
+  /** Only search samples in [from, to) ns from the first sample. @default the whole trace */
+  searchNs?: [number, number];
+}
+
+export interface TimeZeroResult {
+  line: RadarLine;
+  /** Raw first-arrival pick per trace, ns from the first sample (NaN for a dead trace). */
+  picksNs: Float64Array;
+  /** Pick used for alignment: the raw pick, or the running median where the raw pick was an outlier or dead. */
+  usedNs: Float64Array;
+  /** Shift applied to each trace, ns (positive = moved later). */
+  shiftsNs: Float64Array;
+  /** Common time of the direct-arrival pick after alignment, ns from the first sample. */
+  pickNs: number;
+  /** Common time-zero, ns from the first sample: `pickNs - separationM / c`. */
+  timeZeroNs: number;
+  /** Traces whose pick was replaced (dead or outlier). */
+  replaced: number[];
+}
+
+/**
+ * First-arrival pick on one trace's envelope: first sample above `threshold` x max, then (`peak`) the
+ * parabolically refined envelope maximum in the following period. Returns samples (fractional), NaN if
+ * the trace is dead (zero or non-finite envelope).
+ */
+export function pickFirstArrival(
+  env: ArrayLike<number>,
+  options: { threshold: number; pick: 'peak' | 'onset'; periodSamples: number; from?: number; to?: number },
+): number {
+  const from = Math.max(0, options.from ?? 0);
+  const to = Math.min(env.length, options.to ?? env.length);
+  let max = 0;
+  for (let i = from; i < to; i++) {
+    const e = env[i] as number;
+    if (e > max) max = e;
+  }
+  if (!(max > 0) || !Number.isFinite(max)) return Number.NaN;
+  const thr = options.threshold * max;
+  let c = from;
+  while (c < to && (env[c] as number) < thr) c++;
+  if (options.pick === 'onset') {
+    if (c === from) return c;
+    const e0 = env[c - 1] as number;
+    const e1 = env[c] as number;
+    return c - 1 + (thr - e0) / (e1 - e0 || 1);
+  }
+  const end = Math.min(to, c + Math.max(2, Math.round(options.periodSamples)) + 1);
+  let k = c;
+  for (let i = c; i < end; i++) if ((env[i] as number) > (env[k] as number)) k = i;
+  if (k > 0 && k < env.length - 1) {
+    const a = env[k - 1] as number;
+    const b = env[k] as number;
+    const d = env[k + 1] as number;
+    const den = a - 2 * b + d;
+    if (den < 0) return k + (0.5 * (a - d)) / den;
+  }
+  return k;
+}
+
+/** Keys cubic convolution weight (a = -0.5). */
+function keys(x: number): number {
+  const ax = Math.abs(x);
+  if (ax < 1) return 1.5 * ax * ax * ax - 2.5 * ax * ax + 1;
+  if (ax < 2) return -0.5 * ax * ax * ax + 2.5 * ax * ax - 4 * ax + 2;
+  return 0;
+}
+
+/** out[i] = x(i - shift) by Keys cubic interpolation (zero outside the trace). */
+export function shiftTrace(x: ArrayLike<number>, shiftSamples: number, out: Float32Array | Float64Array): void {
+  const n = x.length;
+  const whole = Math.floor(shiftSamples);
+  const f = shiftSamples - whole;
+  if (f === 0) {
+    for (let i = 0; i < n; i++) {
+      const j = i - whole;
+      out[i] = j >= 0 && j < n ? (x[j] as number) : 0;
+    }
+    return;
+  }
+  // source position u = i - shift = (i - whole - 1) + (1 - f)
+  const w = [keys(2 - f), keys(1 - f), keys(f), keys(1 + f)] as const;
+  for (let i = 0; i < n; i++) {
+    const j = i - whole - 1;
+    let acc = 0;
+    for (let m = 0; m < 4; m++) {
+      const k = j - 1 + m;
+      if (k >= 0 && k < n) acc += (x[k] as number) * (w[m] as number);
+    }
+    out[i] = acc;
+  }
+}
+
+/**
+ * Time-zero: picks the direct arrival on every trace, replaces dead or outlying picks by the running
+ * median across traces, shifts every trace so the picks line up at their median, and sets
+ * `timeZeroNs` = aligned pick - separationM / c: the moment the wave left the transmitter, so that later
+ * stages measure two-way travel time from it. `out` may be `line.data`.
+ */
+export function timeZero(line: RadarLine, options: TimeZeroOptions, out?: Float32Array): TimeZeroResult {
+  const { nSamples: ns, nTraces: nt, dtNs } = line;
+  const threshold = options.threshold ?? 0.25;
+  const pick = options.pick ?? 'peak';
+  const period = 1000 / options.frequencyMHz;
+  const medianTraces = Math.max(1, (options.medianTraces ?? 11) | 1);
+  const maxDev = options.maxDeviationNs ?? period / 4;
+  const from = options.searchNs ? Math.floor(options.searchNs[0] / dtNs) : 0;
+  const to = options.searchNs ? Math.ceil(options.searchNs[1] / dtNs) : ns;
+  const ws = hilbertWorkspace(ns);
+  const env = new Float64Array(ns);
+  const picksNs = new Float64Array(nt);
+  for (let t = 0; t < nt; t++) {
+    hilbertEnvelope(line.data.subarray(t * ns, (t + 1) * ns), { workspace: ws }, env);
+    picksNs[t] = pickFirstArrival(env, { threshold, pick, periodSamples: period / dtNs, from, to }) * dtNs;
+  }
+  if (!picksNs.some(Number.isFinite)) {
+    throw new InputError(line.id, 'time-zero: expected a direct arrival, found no trace with signal (all traces zero or not finite)');
+  }
+  const h = medianTraces >> 1;
+  const usedNs = new Float64Array(nt);
+  const replaced: number[] = [];
+  const global = medianOf(picksNs);
+  for (let t = 0; t < nt; t++) {
+    let med = medianOf(picksNs, Math.max(0, t - h), Math.min(nt, t + h + 1));
+    if (!Number.isFinite(med)) med = global;
+    const p = picksNs[t] as number;
+    if (Number.isFinite(p) && Math.abs(p - med) <= maxDev) usedNs[t] = p;
+    else {
+      usedNs[t] = med;
+      replaced.push(t);
+    }
+  }
+  const pickNs = medianOf(usedNs);
+  const shiftsNs = new Float64Array(nt);
+  const { src, dst } = outputFor(line, out);
+  const tmp = new Float64Array(ns);
+  for (let t = 0; t < nt; t++) {
+    let sh = (pickNs - (usedNs[t] as number)) / dtNs;
+    if (options.shift === 'integer') sh = Math.round(sh);
+    shiftsNs[t] = sh * dtNs;
+    shiftTrace(src.subarray(t * ns, (t + 1) * ns), sh, tmp);
+    dst.set(tmp, t * ns);
+  }
+  const timeZeroNs = pickNs - (options.separationM ?? 0) / C_M_PER_NS;
+  return { line: withData(line, dst, timeZeroNs), picksNs, usedNs, shiftsNs, pickNs, timeZeroNs, replaced };
+}
