@@ -1,1 +1,22 @@
 export type * from './types';
+export { resolveCrs, lookupEpsg, registrySize, toWgs84, fromWgs84, pointToWgs84, pointFromWgs84, US_SURVEY_FOOT_M, INTERNATIONAL_FOOT_M, type ResolveCrsOptions, type LonLat, type Xy } from './crs';
+export { siteSchema, lineSchema, antennaSchema, checkSiteJson, LINE_ID, type SiteJson, type SiteJsonLine } from './manifest';
+export { parsePlan, readPlan, PLAN_KINDS, KIND_GEOMETRY, type ParsePlanOptions } from './plan';
+export {
+  positionsFromHeaders,
+  positionsFromStartEnd,
+  parsePositionsCsv,
+  positionsFromFixes,
+  lineDirections,
+  applyGpsOffset,
+  checkPositions,
+  type HeaderCoordinates,
+  type TracePositions,
+  type PositionFix,
+  type GpsOffsetOptions,
+  type CheckPositionsOptions,
+} from './positions';
+export { lineGeometry, type LineGeometry } from './geometry';
+export { loadSite, readLine, lineChunks, linePositions, summarizeLine, shownPath, type ReadLineOptions, type LineChunk, type LineChunksOptions, type LineSummary } from './load';
+export { InputProblems, jsonPath, type Problem } from './problems';
+export { defaultOpenSegy, type SegyReaderLike, type OpenSegy } from './segy';

@@ -38,7 +38,8 @@ export interface Crs {
 export type LinePositionSource =
   | { kind: 'headers' }
   | { kind: 'startEnd'; start: Position; end: Position }
-  | { kind: 'csv'; file: string };
+  /** `file` is the absolute path of the CSV; `relFile` as written in site.json. */
+  | { kind: 'csv'; file: string; relFile?: string };
 
 export interface LineSource {
   id: string;
@@ -47,6 +48,16 @@ export interface LineSource {
   /** The path as written in site.json (for messages). */
   relFile: string;
   position: LinePositionSource;
+  /** Index of the line in site.json `lines` (for JSON paths in messages). */
+  index?: number;
+}
+
+/** Where the position fix sits relative to the antenna midpoint (metres), applied along the line. */
+export interface GpsOffset {
+  /** Ahead of the midpoint in the direction of travel. */
+  alongM: number;
+  /** To the right of the midpoint, looking along the direction of travel. */
+  acrossM: number;
 }
 
 export interface Site {
@@ -54,9 +65,12 @@ export interface Site {
   dir: string;
   name: string;
   crs: Crs;
-  antenna: { frequencyMHz: number; separationM: number };
+  description?: string;
+  antenna: { frequencyMHz: number; separationM: number; gpsOffset?: GpsOffset };
   sampleIntervalNs?: number;
   plan: PlanFeature[];
+  /** Absolute path of the plan file, when site.json names one. */
+  planFile?: string;
   lines: LineSource[];
   /** Processing recipe from site.json, if any (validated by @lamina/processing). */
   recipe?: unknown;

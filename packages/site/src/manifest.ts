@@ -1,0 +1,73 @@
+import { z } from 'zod';
+import { describe, type Problem, zodProblems } from './problems';
+
+/** Line ids become file names (`radargrams/<id>.f32`), so they are kept to a portable set. */
+export const LINE_ID = /^[A-Za-z0-9][A-Za-z0-9._-]*$/;
+
+const finite = (what: string) =>
+  z.number({ error: (iss) => (iss.input === undefined ? `missing: expected ${what}` : `expected ${what}, found ${describe(iss.input)}`) });
+const positive = (what: string) => finite(what).positive({ error: (iss) => `expected ${what} > 0, found ${String(iss.input)}` });
+const text = (what: string) =>
+  z
+    .string({ error: (iss) => (iss.input === undefined ? `missing: expected ${what}` : `expected ${what}, found ${describe(iss.input)}`) })
+    .min(1, { error: `expected ${what}, found an empty string` });
+const xy = z.tuple([finite('a number (x in CRS units)'), finite('a number (y in CRS units)')], {
+  error: (iss) => `expected [x, y] in site CRS units, found ${describe(iss.input)}`,
+});
+
+export const gpsOffsetSchema = z.strictObject({
+  /** How far the position fix is ahead of the antenna midpoint, in the direction of travel (m). */
+  alongM: finite('a number of metres').default(0),
+  /** How far the position fix is to the right of the antenna midpoint, looking along the line (m). */
+  acrossM: finite('a number of metres').default(0),
+});
+
+export const antennaSchema = z.strictObject({
+  frequencyMHz: positive('the centre frequency in MHz'),
+  separationM: finite('the transmitter-receiver separation in metres').nonnegative({ error: (iss) => `expected a separation >= 0 m, found ${String(iss.input)}` }),
+  gpsOffset: gpsOffsetSchema.optional(),
+});
+
+export const lineSchema = z
+  .strictObject({
+    file: text('the path of a SEG-Y file'),
+    id: text('a line id').regex(LINE_ID, { error: (iss) => `expected a line id of letters, digits, ".", "_" or "-" (it becomes a file name), found ${describe(iss.input)}` }).optional(),
+    start: xy.optional(),
+    end: xy.optional(),
+    positions: text('the path of a positions CSV (trace,x,y)').optional(),
+  })
+  .superRefine((l, ctx) => {
+    if ((l.start === undefined) !== (l.end === undefined)) {
+      ctx.addIssue({ code: 'custom', path: [l.start === undefined ? 'start' : 'end'], message: 'missing: "start" and "end" go together (traces are spaced evenly from start to end)' });
+    }
+    if (l.positions !== undefined && (l.start !== undefined || l.end !== undefined)) {
+      ctx.addIssue({ code: 'custom', path: ['positions'], message: 'expected one position source, found both "positions" and "start"/"end"' });
+    }
+    if (l.start && l.end && l.start[0] === l.end[0] && l.start[1] === l.end[1]) {
+      ctx.addIssue({ code: 'custom', path: ['end'], message: `expected an end different from start, found both at [${l.start.join(', ')}]` });
+    }
+  });
+
+export const siteSchema = z.strictObject({
+  name: text('a site name'),
+  description: z.string().optional(),
+  crs: text('an EPSG code ("EPSG:32617") or a proj4 string'),
+  antenna: antennaSchema,
+  sampleIntervalNs: positive('a sample interval in ns').optional(),
+  plan: text('the path of the plan GeoJSON').optional(),
+  lines: z.array(lineSchema, { error: (iss) => (iss.input === undefined ? 'missing: expected an array of lines' : `expected an array of lines, found ${describe(iss.input)}`) }).min(1, { error: 'expected at least one line, found none' }),
+  recipe: z.unknown().optional(),
+});
+
+export type SiteJson = z.infer<typeof siteSchema>;
+export type SiteJsonLine = z.infer<typeof lineSchema>;
+
+/** Validate parsed site.json; every problem with its JSON path (empty when valid). */
+export function checkSiteJson(value: unknown): { value?: SiteJson; problems: Problem[] } {
+  if (value === null || typeof value !== 'object' || Array.isArray(value)) {
+    return { problems: [{ path: '(top level)', message: `expected a JSON object, found ${describe(value)}` }] };
+  }
+  const r = siteSchema.safeParse(value);
+  if (!r.success) return { problems: zodProblems(r.error) };
+  return { value: r.data, problems: [] };
+}
