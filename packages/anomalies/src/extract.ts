@@ -1,0 +1,113 @@
+import type { SliceStack } from '@lamina/slices';
+import { components } from './components';
+import { linkMembers, type LinkOptions } from './link';
+import { robustScores } from './normalise';
+import { outlineArea, traceOutline } from './outline';
+import { cellShape, centreline, type ShapeOptions } from './shape';
+import type { Anomaly3D, Member } from './types';
+
+export interface ExtractOptions extends ShapeOptions, LinkOptions {
+  /** Robust z-score a component must reach somewhere (seed threshold). @default 5 */
+  threshold?: number;
+  /** Robust z-score down to which a component grows from its seeds (hysteresis). @default 3 */
+  lowThreshold?: number;
+  /** Minimum cells of a component. @default 6 */
+  minCells?: number;
+  /** Minimum area of a component, m^2 (in addition to minCells). @default 0 */
+  minAreaM2?: number;
+}
+
+export interface Extraction {
+  members: Member[];
+  anomalies: Anomaly3D[];
+  /** Robust scores of each slice (NaN at nodata), same order as `stack.slices`. */
+  scores: Float32Array[];
+}
+
+/**
+ * Anomalies of a slice stack: per slice, robust z-scores (median / MAD), hysteresis threshold,
+ * 8-connected components of at least `minCells`; then members linked across neighbouring slices
+ * into 3D anomalies with depth range, union outline, shape and (linear) centreline.
+ */
+export function extractAnomalies(stack: SliceStack, options: ExtractOptions = {}): Extraction {
+  const { grid } = stack;
+  const mpu = options.metresPerUnit ?? 1;
+  const high = options.threshold ?? 5;
+  const low = Math.min(high, options.lowThreshold ?? 3);
+  const minCells = options.minCells ?? 6;
+  const cellAreaM2 = (grid.cellSize * mpu) ** 2;
+  const minCellsByArea = Math.ceil((options.minAreaM2 ?? 0) / cellAreaM2);
+  const members: Member[] = [];
+  const scores: Float32Array[] = [];
+  for (let si = 0; si < stack.slices.length; si++) {
+    const slice = stack.slices[si]!;
+    const z = robustScores(slice.values, grid.nodata);
+    scores.push(z);
+    for (const cells of components(z, grid.width, grid.height, high, low, Math.max(minCells, minCellsByArea))) {
+      const sc = new Float32Array(cells.length);
+      let sw = 0, sx = 0, sy = 0, peakValue = -Infinity, peakScore = -Infinity;
+      for (let i = 0; i < cells.length; i++) {
+        const k = cells[i]!;
+        const s = z[k]!;
+        sc[i] = s;
+        const r = (k / grid.width) | 0;
+        const w = Math.max(s, 1e-6);
+        sw += w;
+        sx += w * (grid.originX + (k - r * grid.width + 0.5) * grid.cellSize);
+        sy += w * (grid.originY - (r + 0.5) * grid.cellSize);
+        if (slice.values[k]! > peakValue) peakValue = slice.values[k]!;
+        if (s > peakScore) peakScore = s;
+      }
+      members.push({
+        id: members.length,
+        slice: si,
+        topM: slice.topM,
+        bottomM: slice.bottomM,
+        cells,
+        scores: sc,
+        x: sx / sw,
+        y: sy / sw,
+        areaM2: cells.length * cellAreaM2,
+        peakValue,
+        peakScore,
+        shape: cellShape(cells, grid, options),
+      });
+    }
+  }
+  const groups = linkMembers(members, grid.width * grid.height, grid.cellSize, options);
+  const anomalies = groups.map((g, i) => buildAnomaly(`A${String(i + 1).padStart(4, '0')}`, g.map((id) => members[id]!), stack, options));
+  // stable order: shallowest first, then west to east
+  anomalies.sort((a, b) => a.depthTopM - b.depthTopM || a.members[0]!.x - b.members[0]!.x);
+  anomalies.forEach((a, i) => (a.id = `A${String(i + 1).padStart(4, '0')}`));
+  return { members, anomalies, scores };
+}
+
+/** A 3D anomaly from its members (any slices of one stack). */
+export function buildAnomaly(id: string, members: Member[], stack: SliceStack, options: ShapeOptions = {}): Anomaly3D {
+  const { grid } = stack;
+  const mpu = options.metresPerUnit ?? 1;
+  const sorted = [...members].sort((a, b) => a.slice - b.slice || a.id - b.id);
+  const best = new Map<number, number>();
+  for (const m of sorted) for (let i = 0; i < m.cells.length; i++) {
+    const k = m.cells[i]!;
+    best.set(k, Math.max(best.get(k) ?? -Infinity, m.scores[i]!));
+  }
+  const cells = Int32Array.from(best.keys()).sort();
+  const weights = Float32Array.from(cells, (k) => best.get(k)!);
+  const shape = cellShape(cells, grid, options);
+  const outline = traceOutline(cells, grid);
+  const a: Anomaly3D = {
+    id,
+    members: sorted,
+    depthTopM: Math.min(...sorted.map((m) => m.topM)),
+    depthBottomM: Math.max(...sorted.map((m) => m.bottomM)),
+    cells,
+    outline,
+    shape,
+    areaM2: outlineArea(outline) * mpu * mpu,
+    peakValue: Math.max(...sorted.map((m) => m.peakValue)),
+    peakScore: Math.max(...sorted.map((m) => m.peakScore)),
+  };
+  if (shape.kind === 'linear') a.centreline = centreline(cells, weights, grid, shape);
+  return a;
+}

@@ -1,0 +1,74 @@
+import type { Member } from './types';
+
+export interface LinkOptions {
+  /** Link two members of neighbouring slices when their shared cells are at least this fraction of the smaller. @default 0.2 */
+  minOverlap?: number;
+  /** Or when both are compact and their centroids lie within this distance, site CRS units. @default 2 cells */
+  maxCentroidDistance?: number;
+  /** Slices a chain may skip (0: only adjacent slices link). @default 1 */
+  maxGap?: number;
+}
+
+/**
+ * Groups members of neighbouring slices into 3D objects (union-find over links). A link needs
+ * overlap in plan (shared cells / smaller member >= minOverlap), or, for two compact members,
+ * centroids within maxCentroidDistance. Returns groups of member ids, each sorted by slice.
+ */
+export function linkMembers(members: Member[], gridCells: number, cellSize: number, options: LinkOptions = {}): number[][] {
+  const minOverlap = options.minOverlap ?? 0.2;
+  const maxDist = options.maxCentroidDistance ?? 2 * cellSize;
+  const maxGap = options.maxGap ?? 1;
+  const parent = Int32Array.from(members.keys());
+  const find = (a: number): number => {
+    while (parent[a] !== a) {
+      parent[a] = parent[parent[a]!]!;
+      a = parent[a]!;
+    }
+    return a;
+  };
+  const union = (a: number, b: number) => {
+    const ra = find(a), rb = find(b);
+    if (ra !== rb) parent[Math.max(ra, rb)] = Math.min(ra, rb);
+  };
+  const bySlice = new Map<number, Member[]>();
+  for (const m of members) {
+    const l = bySlice.get(m.slice);
+    if (l) l.push(m);
+    else bySlice.set(m.slice, [m]);
+  }
+  const slices = [...bySlice.keys()].sort((a, b) => a - b);
+  const label = new Int32Array(gridCells).fill(-1);
+  const counts = new Map<number, number>();
+  for (const s of slices) {
+    const here = bySlice.get(s)!;
+    for (const m of here) for (const c of m.cells) label[c] = m.id;
+    for (let g = 1; g <= maxGap + 1; g++) {
+      const next = bySlice.get(s + g);
+      if (!next) continue;
+      for (const b of next) {
+        counts.clear();
+        for (const c of b.cells) {
+          const a = label[c]!;
+          if (a >= 0) counts.set(a, (counts.get(a) ?? 0) + 1);
+        }
+        for (const a of here) {
+          const shared = counts.get(a.id) ?? 0;
+          const linked =
+            shared >= minOverlap * Math.min(a.cells.length, b.cells.length) && shared > 0
+              ? true
+              : a.shape.kind === 'compact' && b.shape.kind === 'compact' && Math.hypot(a.x - b.x, a.y - b.y) <= maxDist;
+          if (linked) union(a.id, b.id);
+        }
+      }
+    }
+    for (const m of here) for (const c of m.cells) label[c] = -1;
+  }
+  const groups = new Map<number, number[]>();
+  for (const m of members) {
+    const r = find(m.id);
+    const l = groups.get(r);
+    if (l) l.push(m.id);
+    else groups.set(r, [m.id]);
+  }
+  return [...groups.values()].map((g) => g.sort((a, b) => members[a]!.slice - members[b]!.slice || a - b));
+}
