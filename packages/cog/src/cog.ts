@@ -344,7 +344,7 @@ async function encodeLevel(lv: Level, ts: number, nodata: number, predictor: num
             for (let c = 0; c < c1; c++, o += nb) tile[o] = src[base + c]!;
           }
         }
-        let bytes = new Uint8Array(tile.buffer);
+        let bytes: Uint8Array = new Uint8Array(tile.buffer);
         if (predictor === 3) bytes = floatPredict(bytes, ts, ts * nb, nb);
         const z = await deflateAsync(bytes, { level });
         return new Uint8Array(z.buffer, z.byteOffset, z.length);

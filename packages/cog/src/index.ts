@@ -1,1 +1,2 @@
 export { encodeCog, type CogOptions, type CogCrs } from './cog';
+export { readGeoTiff, type GeoTiffRaster } from './read';

@@ -1,1 +1,19 @@
-export { type SliceGrid, type Slice, type SliceStack, cellCentre } from './stack';
+export { type SliceGrid, type Slice, type SliceStack, type GriddingInfo, cellCentre } from './stack';
+export { bistaticDepth, timeToDepth, depthToTime, sampleDepths, verticalTimeNs, averageVelocity, constantModel } from './depth';
+export { type SliceWindow, type WindowOptions, type SliceMode, defaultThicknessM, sliceWindows, traceSliceValues } from './windows';
+export { type IdwOptions, type SearchFrame, searchFrame, buildIndex, nearestWithin, idwGrid } from './idw';
+export { levelLines, quantileOf } from './levelling';
+export { type SurveyGeometry, surveyGeometry, median } from './survey';
+export { type SliceStats, sliceStats } from './stats';
+export {
+  type LineInput,
+  type SliceBuilderOptions,
+  type GridOptions,
+  type DefaultWindowOptions,
+  SliceBuilder,
+  resolveGrid,
+  gridPoints,
+  buildSlices,
+  defaultWindows,
+} from './builder';
+export { type SlicesJson, type WriteSlicesOptions, SLICES_TIF, SLICES_JSON, epsgOf, writeSlices, readSlices, readSlicesJson } from './io';

@@ -1,3 +1,5 @@
+import type { SliceStats } from './stats';
+
 /**
  * A stack of depth slices on one regular grid in the site CRS.
  * Rows run north to south (row 0 is the northern edge), columns west to east, as in a GeoTIFF.
@@ -14,6 +16,10 @@ export interface SliceGrid {
   height: number;
   /** Value of cells outside every search radius. */
   nodata: number;
+  /** Metres per CRS unit (1, or 1200/3937 for US survey feet). @default 1 */
+  metresPerUnit?: number;
+  /** True when the CRS is geographic (degrees). @default false */
+  isGeographic?: boolean;
 }
 
 export interface Slice {
@@ -23,11 +29,34 @@ export interface Slice {
   bottomM: number;
   /** Row-major `height * width`, nodata where no trace is near. */
   values: Float32Array;
+  /** Statistics of the valid cells (filled by `writeSlices` / `readSlices`). */
+  stats?: SliceStats;
+}
+
+/** How the stack was made (recorded in slices.json). Radii and spacings in site CRS units. */
+export interface GriddingInfo {
+  method: 'idw';
+  power: number;
+  maxPoints: number;
+  minPoints: number;
+  /** Search radius along the survey direction and across it. */
+  radius: number;
+  radiusAcross: number;
+  /** Survey direction, degrees counter-clockwise from east. */
+  directionDeg: number;
+  /** Slice value of a trace: mean of envelope^2 (`mean-square`) or mean |amplitude| (`mean-abs`). */
+  mode: 'mean-square' | 'mean-abs';
+  levelled: boolean;
+  lineCount: number;
+  traceCount: number;
+  lineSpacing: number;
+  traceSpacing: number;
 }
 
 export interface SliceStack {
   grid: SliceGrid;
   slices: Slice[];
+  gridding?: GriddingInfo;
 }
 
 /** Centre of cell (col, row) in site CRS units. */

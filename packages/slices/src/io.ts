@@ -1,0 +1,173 @@
+import { mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
+import { join } from 'node:path';
+import { encodeCog, readGeoTiff, type CogCrs } from '@lamina/cog';
+import { InputError } from '@lamina/errors';
+import type { GriddingInfo, SliceGrid, SliceStack } from './stack';
+import { sliceStats, type SliceStats } from './stats';
+
+/** The content of slices.json (a contract: the anomalies, screening and viewer packages read it). */
+export interface SlicesJson {
+  version: 1;
+  /** The GeoTIFF beside this file; band `slices[k].band` (1-based) is slice k. */
+  file: string;
+  crs: string;
+  /** EPSG code of the CRS when it has one, else null. */
+  epsg: number | null;
+  metresPerUnit: number;
+  isGeographic: boolean;
+  /** Top-left corner of the top-left cell, CRS units; rows run north to south. */
+  originX: number;
+  originY: number;
+  /** CRS units, square cells. */
+  cellSize: number;
+  width: number;
+  height: number;
+  nodata: number;
+  gridding: GriddingInfo | null;
+  slices: { index: number; band: number; topM: number; bottomM: number; stats: NullableStats }[];
+}
+
+type NullableStats = { [K in keyof SliceStats]: number | null };
+
+export const SLICES_TIF = 'slices.tif';
+export const SLICES_JSON = 'slices.json';
+
+export interface WriteSlicesOptions {
+  /** @default 256 */
+  tileSize?: number;
+  /** zlib level. @default 6 */
+  level?: number;
+}
+
+/** `EPSG:nnnn` (any case) to its number. */
+export function epsgOf(crs: string): number | undefined {
+  const m = /^\s*EPSG:(\d+)\s*$/i.exec(crs);
+  return m ? Number(m[1]) : undefined;
+}
+
+function cogCrs(grid: SliceGrid): CogCrs {
+  const epsg = epsgOf(grid.crs);
+  const geographic = grid.isGeographic ?? /\+proj=(longlat|latlong)\b/.test(grid.crs);
+  const crs: CogCrs = { geographic, metresPerUnit: grid.metresPerUnit ?? 1 };
+  if (epsg !== undefined) crs.epsg = epsg;
+  else crs.citation = grid.crs;
+  return crs;
+}
+
+function describe(topM: number, bottomM: number): string {
+  return `depth ${topM.toFixed(3)}-${bottomM.toFixed(3)} m`;
+}
+
+/** Write `slices.tif` (multi-band Float32 COG) and `slices.json` into `outDir`, each via a temporary file and rename. */
+export async function writeSlices(stack: SliceStack, outDir: string, options: WriteSlicesOptions = {}): Promise<SlicesJson> {
+  const g = stack.grid;
+  if (!Number.isFinite(g.nodata)) throw new Error(`nodata must be a finite number (JSON has no NaN), found ${g.nodata}`);
+  const stats = stack.slices.map((s) => s.stats ?? sliceStats(s.values, g.nodata));
+  const tif = await encodeCog(
+    stack.slices.map((s) => s.values),
+    g.width,
+    g.height,
+    {
+      originX: g.originX,
+      originY: g.originY,
+      pixelSize: g.cellSize,
+      crs: cogCrs(g),
+      nodata: g.nodata,
+      descriptions: stack.slices.map((s) => describe(s.topM, s.bottomM)),
+      bandMetadata: stack.slices.map((s) => ({ TOP_M: String(s.topM), BOTTOM_M: String(s.bottomM) })),
+      metadata: { SLICE_VALUE: stack.gridding?.mode ?? 'mean-square', DEPTH_UNIT: 'metre' },
+      tileSize: options.tileSize ?? 256,
+      level: options.level ?? 6,
+    },
+  );
+  const json: SlicesJson = {
+    version: 1,
+    file: SLICES_TIF,
+    crs: g.crs,
+    epsg: epsgOf(g.crs) ?? null,
+    metresPerUnit: g.metresPerUnit ?? 1,
+    isGeographic: g.isGeographic ?? false,
+    originX: g.originX,
+    originY: g.originY,
+    cellSize: g.cellSize,
+    width: g.width,
+    height: g.height,
+    nodata: g.nodata,
+    gridding: stack.gridding ?? null,
+    slices: stack.slices.map((s, k) => ({
+      index: s.index,
+      band: k + 1,
+      topM: s.topM,
+      bottomM: s.bottomM,
+      stats: nullable(stats[k]!),
+    })),
+  };
+  await mkdir(outDir, { recursive: true });
+  await writeReplace(join(outDir, SLICES_TIF), tif);
+  await writeReplace(join(outDir, SLICES_JSON), `${JSON.stringify(json, null, 2)}\n`);
+  return json;
+}
+
+function nullable(s: SliceStats): NullableStats {
+  const out = {} as NullableStats;
+  for (const [k, v] of Object.entries(s) as [keyof SliceStats, number][]) out[k] = Number.isFinite(v) ? v : null;
+  return out;
+}
+
+async function writeReplace(path: string, data: string | Uint8Array) {
+  const tmp = `${path}.${process.pid}.tmp`;
+  try {
+    await writeFile(tmp, data);
+    await rename(tmp, path);
+  } catch (e) {
+    await rm(tmp, { force: true });
+    throw e;
+  }
+}
+
+/** Read and check slices.json. */
+export async function readSlicesJson(dir: string): Promise<SlicesJson> {
+  const path = join(dir, SLICES_JSON);
+  let raw: unknown;
+  try {
+    raw = JSON.parse(await readFile(path, 'utf8'));
+  } catch (e) {
+    throw new InputError(path, `expected JSON, found ${(e as Error).message}`);
+  }
+  const j = raw as Partial<SlicesJson>;
+  for (const f of ['originX', 'originY', 'cellSize', 'width', 'height', 'nodata'] as const) {
+    if (typeof j[f] !== 'number') throw new InputError(path, `expected a number, found ${JSON.stringify(j[f])}`, { field: f });
+  }
+  if (typeof j.crs !== 'string') throw new InputError(path, `expected a string, found ${JSON.stringify(j.crs)}`, { field: 'crs' });
+  if (!Array.isArray(j.slices)) throw new InputError(path, 'expected an array', { field: 'slices' });
+  return raw as SlicesJson;
+}
+
+/** Read slices.json + slices.tif (with the `geotiff` package) back into a stack. */
+export async function readSlices(dir: string): Promise<SliceStack> {
+  const json = await readSlicesJson(dir);
+  const tifPath = join(dir, json.file ?? SLICES_TIF);
+  const r = await readGeoTiff(new Uint8Array(await readFile(tifPath)));
+  if (r.width !== json.width || r.height !== json.height) {
+    throw new InputError(tifPath, `expected ${json.width} x ${json.height} cells (slices.json), found ${r.width} x ${r.height}`);
+  }
+  const grid: SliceGrid = {
+    crs: json.crs,
+    originX: json.originX,
+    originY: json.originY,
+    cellSize: json.cellSize,
+    width: json.width,
+    height: json.height,
+    nodata: json.nodata,
+    metresPerUnit: json.metresPerUnit ?? 1,
+    isGeographic: json.isGeographic ?? false,
+  };
+  const slices = json.slices.map((s, k) => {
+    const values = r.bands[s.band - 1];
+    if (!values) throw new InputError(tifPath, `expected band ${s.band}, found ${r.bands.length} bands`, { field: `slices[${k}].band` });
+    return { index: s.index, topM: s.topM, bottomM: s.bottomM, values, stats: sliceStats(values, json.nodata) };
+  });
+  const stack: SliceStack = { grid, slices };
+  if (json.gridding) stack.gridding = json.gridding;
+  return stack;
+}
