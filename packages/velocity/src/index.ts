@@ -1,1 +1,28 @@
 export { C_M_PER_NS, type Origin, type HyperbolaFit, type VelocityLayer, type VelocityModel, type VelocityReport } from './model';
+export {
+  permittivityFromVelocity,
+  velocityFromPermittivity,
+  toppMoisture,
+  toppPermittivity,
+  TOPP_METHOD,
+  TOPP_CAUTION,
+  velocityAt,
+  timeFromDepth,
+  depthFromTime,
+  constantModel,
+  dixInterval,
+} from './physics';
+export { fitHyperbola, hyperbolaTime, apexDistance, type PointFit, type FitOptions } from './fit';
+export { envelopeTraces, dominantFrequencyMHz } from './envelope';
+export { detectHyperbolas, alongLine, pointAlong, removeBackground, envelopeLevel, type DetectOptions, type DetectedHyperbola } from './detect';
+export {
+  ABOVE_GROUND_MAX_PERMITTIVITY,
+  classifyVelocity,
+  usableForSite,
+  weightedMedian,
+  robustCentre,
+  siteVelocityModel,
+  type SiteModelOptions,
+} from './site-model';
+export { toHyperbolaFit, lineHyperbolas, buildVelocityReport, velocityJson, writeVelocityJson, type ReportOptions } from './report';
+export { parsePicks, fitManualPicks, type PicksFile, type ManualHyperbola } from './picks';

@@ -24,6 +24,16 @@ export interface HyperbolaFit {
   picks?: { offsetM: number[]; timeNs: number[] };
   /** Why the fit was set aside, e.g. `v > c`. */
   flags?: string[];
+  /** `auto`: found by the detector; `manual`: fitted to picks from a picks file. */
+  source?: 'auto' | 'manual';
+  /** Apex offset along the line from its first trace, m. */
+  x0M?: number;
+  /** One standard deviation of t0, ns. */
+  t0UncertaintyNs?: number;
+  /** Weighted RMS residual of the retained picks, ns. */
+  rmsNs?: number;
+  /** Picks retained by the robust fit (weight > 0) of all picks. */
+  inliers?: number;
 }
 
 /** Interval velocity layer (Dix), depth in metres. */
@@ -48,7 +58,11 @@ export interface VelocityReport {
     spreadMPerNs: number;
     fitCount: number;
     moisture?: { volumetricWaterContent: number; method: string; caution: string };
+    /** Why the site velocity is what it is when it does not come from fits (e.g. no usable fit). */
+    note?: string;
   };
   model: VelocityModel;
   hyperbolas: HyperbolaFit[];
+  /** How the report was made: antenna separation (m), c (m/ns), the above-ground permittivity limit. */
+  method?: { separationM: number; cMPerNs: number; aboveGroundMaxPermittivity: number };
 }

@@ -1,0 +1,74 @@
+import { writeFileAtomic } from '@lamina/atomic';
+import type { RadarLine } from '@lamina/radar-data';
+import { detectHyperbolas, type DetectOptions, type DetectedHyperbola } from './detect';
+import type { PointFit } from './fit';
+import { C_M_PER_NS, type HyperbolaFit, type VelocityReport } from './model';
+import { permittivityFromVelocity } from './physics';
+import { ABOVE_GROUND_MAX_PERMITTIVITY, classifyVelocity, siteVelocityModel, type SiteModelOptions } from './site-model';
+
+/** One entry of `hyperbolas[]` from a fit on a line. */
+export function toHyperbolaFit(
+  lineId: string,
+  fit: PointFit & { trace: number; x: number; y: number; offsetM: ArrayLike<number>; timeNs: ArrayLike<number> },
+  source: 'auto' | 'manual',
+  options: { aboveGroundMaxPermittivity?: number } = {},
+): HyperbolaFit {
+  const { origin, flags } = classifyVelocity(fit.velocityMPerNs, options);
+  const out: HyperbolaFit = {
+    line: lineId,
+    trace: fit.trace,
+    x: fit.x,
+    y: fit.y,
+    t0Ns: fit.t0Ns,
+    velocityMPerNs: fit.velocityMPerNs,
+    permittivity: permittivityFromVelocity(fit.velocityMPerNs),
+    depthM: fit.zM,
+    uncertaintyMPerNs: fit.sigmaVelocity,
+    origin,
+    source,
+    x0M: fit.x0M,
+    t0UncertaintyNs: fit.sigmaT0Ns,
+    rmsNs: fit.rmsNs,
+    inliers: fit.inliers,
+    picks: { offsetM: Array.from(fit.offsetM), timeNs: Array.from(fit.timeNs) },
+  };
+  if (flags.length > 0) out.flags = flags;
+  return out;
+}
+
+/** Detect and fit the hyperbolas of one processed line, classified. */
+export function lineHyperbolas(line: RadarLine, options: DetectOptions & { aboveGroundMaxPermittivity?: number } = {}): HyperbolaFit[] {
+  return detectHyperbolas(line, options).map((d: DetectedHyperbola) => toHyperbolaFit(line.id, d, 'auto', options));
+}
+
+export interface ReportOptions extends SiteModelOptions {
+  /** Antenna separation, m (recorded in `method`). @default 0 */
+  separationM?: number;
+  /** @default 2 (common practice, no source) */
+  aboveGroundMaxPermittivity?: number;
+}
+
+/** The velocity.json content from all fits of a site. */
+export function buildVelocityReport(fits: HyperbolaFit[], options: ReportOptions = {}): VelocityReport {
+  const { site, model } = siteVelocityModel(fits, options);
+  return {
+    site,
+    model,
+    hyperbolas: fits,
+    method: {
+      separationM: options.separationM ?? 0,
+      cMPerNs: C_M_PER_NS,
+      aboveGroundMaxPermittivity: options.aboveGroundMaxPermittivity ?? ABOVE_GROUND_MAX_PERMITTIVITY,
+    },
+  };
+}
+
+/** JSON text of a report; non-finite numbers (never expected) become null rather than invalid JSON. */
+export function velocityJson(report: VelocityReport): string {
+  return JSON.stringify(report, (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v), 2) + '\n';
+}
+
+/** Write velocity.json atomically. */
+export async function writeVelocityJson(path: string, report: VelocityReport): Promise<void> {
+  await writeFileAtomic(path, velocityJson(report));
+}
