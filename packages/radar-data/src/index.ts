@@ -1,1 +1,28 @@
 export { type RadarLine, traceOf, emptyLine } from './line';
+export { type SampleFormat, SAMPLE_FORMATS, isSampleFormat } from './formats';
+export { ibmToNumber, numberToIbm, ibmWordsToFloat32, float32ToIbmWords } from './ibm';
+export {
+  type SegyBinaryHeader,
+  type BinaryFieldName,
+  BINARY_FIELDS,
+  TRACE,
+  applyScalar,
+  binaryFieldLabel,
+} from './layout';
+export { type TextEncoding, detectTextEncoding, decodeText, encodeText, textLines, cardImages } from './text';
+export {
+  type SegyOpenOptions,
+  type SegyTraceHeaders,
+  type SegyChunk,
+  type SegyInfo,
+  type DtSource,
+  SegyReader,
+  openSegy,
+  emptyTraceHeaders,
+  DT_MIN_NS,
+  DT_MAX_NS,
+  MAX_SAMPLES,
+  BLOCK_BYTES,
+} from './reader';
+export { type SegyWriteSpec, type SegyTraceChunk, SegyWriter, openSegyWriter, writeSegy } from './writer';
+export { type ReadSegyLineOptions, type SegyLine, type CoordinateSource, readSegyLine, writeSegyLine } from './segy-line';
