@@ -96,15 +96,29 @@ function checkGeometry(g: unknown, kind: PlanKind, path: (string | number)[], pr
   }
   const geometry = { type, coordinates: trim2(r.data) } as Geometry;
   if (geometry.type === 'Polygon' || geometry.type === 'MultiPolygon') {
-    const k = kinks(geometry);
-    const p = k.features[0]?.geometry.coordinates;
-    if (p) {
-      const more = k.features.length > 1 ? ` and ${k.features.length - 1} more crossing${k.features.length > 2 ? 's' : ''}` : '';
-      problems.push({ path: jsonPath([...path, 'coordinates']), message: `expected a simple footprint, found a self-intersection near [${(p[0] as number).toFixed(7)}, ${(p[1] as number).toFixed(7)}]${more}` });
+    // Repeated consecutive vertices are common in drawn plans and are not crossings.
+    const polys = geometry.type === 'Polygon' ? [geometry.coordinates] : geometry.coordinates;
+    const simple = polys.map((poly) => poly.map(dedupe));
+    if (simple.some((poly) => poly.some((r) => r.length < 4))) {
+      problems.push({ path: jsonPath([...path, 'coordinates']), message: 'expected a footprint with area, found a ring of fewer than 3 distinct corners' });
       return undefined;
+    }
+    for (let j = 0; j < simple.length; j++) {
+      const k = kinks({ type: 'Polygon', coordinates: simple[j] as Position[][] });
+      const p = k.features[0]?.geometry.coordinates;
+      if (p) {
+        const more = k.features.length > 1 ? ` and ${k.features.length - 1} more crossing${k.features.length > 2 ? 's' : ''}` : '';
+        const at = geometry.type === 'MultiPolygon' ? [...path, 'coordinates', j] : [...path, 'coordinates'];
+        problems.push({ path: jsonPath(at), message: `expected a simple footprint, found a self-intersection near [${(p[0] as number).toFixed(7)}, ${(p[1] as number).toFixed(7)}]${more}` });
+        return undefined;
+      }
     }
   }
   return geometry;
+}
+
+function dedupe(ring: Position[]): Position[] {
+  return ring.filter((p, i) => i === 0 || p[0] !== ring[i - 1]?.[0] || p[1] !== ring[i - 1]?.[1]);
 }
 
 /** Drop heights: plan geometry is 2D. */
