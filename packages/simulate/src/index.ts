@@ -1,1 +1,10 @@
-export {};
+export { ricker, rickerZeroCrossingNs, rickerHalfWidthNs, rickerSeries, addRicker } from './wavelet';
+export { C_M_PER_NS, velocityOf, reflectionCoefficient, materialReflection, attenuationFactor, MATERIAL_PERMITTIVITY, type Material } from './physics';
+export { bistaticOnSegment, projectOnLine, edgeFactor, type SegmentHit, type Vec3 } from './geometry';
+export { buildMedium, rayAverages, verticalTwoWayTime, depthOfTwoWayTime, type Medium, type Interface, type LayerSpec } from './medium';
+export { rng, hash32, type Rng } from './prng';
+export { scenarioSchema, parseScenario, type Scenario, type ScenarioPlanFeature, type ScenarioBuried } from './scenario';
+export { buildModel, lineId, type Model, type Scatterer, type LineGeom, type TruthBuried, type TruthAbove } from './model';
+export { simulateLine, newStats, mergeStats, STAT_FIELDS, type LineResult } from './forward';
+export { buildTruth, type Truth } from './truth';
+export { simulateSite, simulateScenarioFile, scenarioCrs, scenarioModel, planGeoJson, INTEGER_SCALE, type SimulateOptions, type SimulatedSite } from './site';

@@ -1,0 +1,229 @@
+import { z } from 'zod';
+import { InputError } from '@lamina/errors';
+
+/**
+ * scenario.json: everything the simulator needs, in one file. Plan and target coordinates are in the
+ * site CRS units (metres or US survey feet); every length whose name ends in `M` is metres; depths are
+ * metres below the ground surface; azimuths are degrees clockwise from grid north (+y).
+ */
+
+const num = z.number().refine(Number.isFinite, 'expected a finite number');
+const pos = num.refine((v) => v > 0, 'expected a number > 0');
+const nonneg = num.refine((v) => v >= 0, 'expected a number >= 0');
+const xy = z.tuple([num, num]);
+const xyd = z.tuple([num, num, nonneg]);
+const id = z.string().regex(/^[A-Za-z0-9][A-Za-z0-9._-]*$/, 'expected an id of letters, digits, ".", "_" or "-"');
+
+const material = z.enum(['metal', 'air', 'plastic', 'water', 'concrete', 'wood', 'brick', 'stone']);
+
+const planBase = {
+  id,
+  heightM: pos.optional(),
+  /** Material of the reflecting face; defaults by kind (see README). */
+  material: material.optional(),
+  /** Relative permittivity of the face, overriding the material's. */
+  permittivity: pos.optional(),
+  note: z.string().optional(),
+};
+
+export const planFeatureSchema = z.discriminatedUnion('kind', [
+  z.strictObject({ kind: z.literal('building'), ...planBase, footprint: z.array(xy).min(3) }),
+  z.strictObject({ kind: z.literal('wall'), ...planBase, path: z.array(xy).min(2), reflectivity: nonneg.optional() }),
+  z.strictObject({
+    kind: z.literal('fence'),
+    ...planBase,
+    path: z.array(xy).min(2),
+    /** Distance between posts along the fence (m); posts stand at every vertex and every postSpacingM along each segment. */
+    postSpacingM: pos,
+    postRadiusM: pos.optional(),
+    postMaterial: material.optional(),
+    /** Amplitude reflectivity of the fence panels between posts (0: invisible mesh). @default 0.1 */
+    panelReflectivity: nonneg.optional(),
+  }),
+  z.strictObject({ kind: z.literal('post'), ...planBase, at: xy, radiusM: pos.optional() }),
+  z.strictObject({ kind: z.literal('tree'), ...planBase, at: xy, radiusM: pos.optional() }),
+  z.strictObject({ kind: z.literal('column'), ...planBase, at: xy, radiusM: pos.optional() }),
+]);
+
+const repeat = z.strictObject({ count: z.number().int().min(2).max(1000), spacingM: pos, azimuthDeg: num });
+
+export const buriedSchema = z.discriminatedUnion('kind', [
+  z.strictObject({
+    kind: z.enum(['pipe', 'cable']),
+    id,
+    utility: z.string().optional(),
+    group: z.string().optional(),
+    /** Axis end points: [x, y] in CRS units, depth of the axis in m. */
+    from: xyd,
+    to: xyd,
+    radiusM: pos,
+    material,
+    permittivity: pos.optional(),
+    note: z.string().optional(),
+  }),
+  z.strictObject({
+    kind: z.literal('compact'),
+    id,
+    group: z.string().optional(),
+    shape: z.enum(['sphere', 'box']),
+    /** Centre: [x, y] in CRS units, depth of the centre in m. */
+    center: xyd,
+    /** Sphere radius (m). */
+    radiusM: pos.optional(),
+    /** Box size along its own axes [length, width, height] (m); length runs along azimuthDeg. */
+    sizeM: z.tuple([pos, pos, pos]).optional(),
+    azimuthDeg: num.optional(),
+    material,
+    permittivity: pos.optional(),
+    /** Expand into `count` copies `spacingM` apart along `azimuthDeg`, ids `<id>-1` ... */
+    repeat: repeat.optional(),
+    note: z.string().optional(),
+  }),
+]);
+
+export const layerSchema = z.strictObject({
+  /** Depth of the top of this layer below the survey origin (m). */
+  depthM: pos,
+  permittivity: z.number().min(1).max(81),
+  attenuationDbPerM: nonneg.optional(),
+  /** Dip of the interface (degrees from horizontal) and the azimuth it dips towards. @default 0 */
+  dipDeg: z.number().min(0).max(30).optional(),
+  dipAzimuthDeg: num.optional(),
+});
+
+export const scenarioSchema = z.strictObject({
+  name: id,
+  description: z.string().optional(),
+  seed: z.number().int().min(0).max(2 ** 32 - 1),
+  crs: z.string().min(1),
+  antenna: z.strictObject({
+    frequencyMHz: z.number().min(10).max(5000),
+    separationM: nonneg,
+    /** Beam exponent n: each antenna's amplitude falls as cos(angle from vertical)^n in the soil. @default 1 */
+    beamExponent: nonneg.optional(),
+    /** Amplitude factor of the shielded antenna towards the air (up and sideways), 0..1. @default 0.35 */
+    shielding: z.number().min(0).max(1).optional(),
+    /** Amplitude of the direct air wave and of the ground wave at the receiver. @default 1, 0.6 */
+    directWave: nonneg.optional(),
+    groundWave: nonneg.optional(),
+  }),
+  recording: z.strictObject({
+    sampleIntervalNs: pos,
+    samples: z.number().int().min(8).max(65535),
+    /** Pre-trigger: time of the first sample before the wave leaves the antenna (ns). */
+    timeZeroNs: nonneg,
+    /** Standard deviation of per-trace time-zero jitter (ns). @default 0 */
+    timeZeroJitterNs: nonneg.optional(),
+    /** Slow time-zero drift from start to end of each line (ns), e.g. electronics warming up. @default 0 */
+    timeZeroDriftNs: num.optional(),
+    /** Sample format in the SEG-Y files. @default "float32" */
+    format: z.enum(['float32', 'int16', 'int32']).optional(),
+    /** Byte order of the SEG-Y files (rev 2 allows little-endian). @default "big" */
+    byteOrder: z.enum(['big', 'little']).optional(),
+  }),
+  soil: z.strictObject({
+    permittivity: z.number().min(1).max(81),
+    attenuationDbPerM: nonneg,
+    layers: z.array(layerSchema).optional(),
+  }),
+  noise: z
+    .strictObject({
+      /** RMS of band-limited random noise, in units of the direct air wave amplitude. @default 0.002 */
+      rms: nonneg.optional(),
+      /** Amplitude of the low-frequency transient after time-zero ("wow"). @default 0.2 */
+      wow: nonneg.optional(),
+      /** Amplitude of antenna ringing (horizontal banding after the direct wave). @default 0.02 */
+      ringing: nonneg.optional(),
+      /** Small random scatterers (stones, roots) per square metre of surveyed ground. @default 0.3 */
+      clutterPerM2: nonneg.optional(),
+      clutterMaxDepthM: pos.optional(),
+    })
+    .optional(),
+  survey: z.strictObject({
+    /** First trace of the first line, CRS units. */
+    origin: xy,
+    /** Direction of the lines, degrees clockwise from grid north. */
+    azimuthDeg: num,
+    lengthM: pos,
+    /** Lines are stepped to the right of the first one, up to this width. */
+    widthM: nonneg,
+    lineSpacingM: pos,
+    traceSpacingM: pos,
+    /** "zigzag" reverses every other line (bidirectional survey). @default "zigzag" */
+    pattern: z.enum(['zigzag', 'parallel']).optional(),
+    /** Standard deviation of recorded position error for header coordinates (m). @default 0 */
+    positionNoiseM: nonneg.optional(),
+    /** Lines (ids "l01", "l02", ...) whose positions go in site.json as start/end or in a CSV. @default one each */
+    startEndLines: z.array(id).optional(),
+    csvLines: z.array(id).optional(),
+  }),
+  plan: z.array(planFeatureSchema).default([]),
+  buried: z.array(buriedSchema).default([]),
+});
+
+export type Scenario = z.infer<typeof scenarioSchema>;
+export type ScenarioPlanFeature = z.infer<typeof planFeatureSchema>;
+export type ScenarioBuried = z.infer<typeof buriedSchema>;
+
+function jsonPath(path: readonly PropertyKey[]): string {
+  let s = '';
+  for (const k of path) s += typeof k === 'number' ? `[${k}]` : s === '' ? String(k) : `.${String(k)}`;
+  return s === '' ? '(top level)' : s;
+}
+
+function describe(v: unknown): string {
+  if (v === undefined) return 'nothing';
+  const s = JSON.stringify(v);
+  return s === undefined ? String(v) : s.length > 60 ? `${s.slice(0, 57)}...` : s;
+}
+
+function valueAt(root: unknown, path: readonly PropertyKey[]): unknown {
+  let v: unknown = root;
+  for (const k of path) {
+    if (v === null || typeof v !== 'object') return undefined;
+    v = (v as Record<PropertyKey, unknown>)[k];
+  }
+  return v;
+}
+
+/**
+ * Validate a parsed scenario. Throws `InputError(file, ..., { field })` naming the JSON path of the first
+ * problem (all problems are listed in the detail), or a semantic problem such as duplicate ids.
+ */
+export function parseScenario(value: unknown, file = 'scenario.json'): Scenario {
+  const r = scenarioSchema.safeParse(value);
+  if (!r.success) {
+    const issues = r.error.issues;
+    const first = issues[0]!;
+    const found = describe(valueAt(value, first.path));
+    const more = issues.length > 1 ? ` (and ${issues.length - 1} more: ${issues.slice(1, 4).map((i) => jsonPath(i.path)).join(', ')})` : '';
+    throw new InputError(file, `${first.message}, found ${found}${more}`, { field: jsonPath(first.path) });
+  }
+  const s = r.data;
+  const seen = new Map<string, string>();
+  const check = (ident: string, path: string): void => {
+    const prev = seen.get(ident);
+    if (prev !== undefined) throw new InputError(file, `expected unique ids, found "${ident}" also at ${prev}`, { field: path });
+    seen.set(ident, path);
+  };
+  s.plan.forEach((f, i) => check(f.id, `plan[${i}].id`));
+  s.buried.forEach((b, i) => {
+    check(b.id, `buried[${i}].id`);
+    if (b.kind === 'compact') {
+      if (b.shape === 'sphere' && b.radiusM === undefined) throw new InputError(file, 'missing: a sphere needs radiusM', { field: `buried[${i}].radiusM` });
+      if (b.shape === 'box' && b.sizeM === undefined) throw new InputError(file, 'missing: a box needs sizeM [length, width, height]', { field: `buried[${i}].sizeM` });
+    }
+    if (b.kind !== 'compact' && b.from[0] === b.to[0] && b.from[1] === b.to[1] && b.from[2] === b.to[2]) {
+      throw new InputError(file, 'expected "to" different from "from", found the same point', { field: `buried[${i}].to` });
+    }
+  });
+  (s.soil.layers ?? []).forEach((l, i, all) => {
+    const prev = all[i - 1];
+    if (prev && l.depthM <= prev.depthM) throw new InputError(file, `expected layers ordered by depth, found ${l.depthM} m after ${prev.depthM} m`, { field: `soil.layers[${i}].depthM` });
+  });
+  const t = s.recording;
+  if (t.timeZeroNs >= t.samples * t.sampleIntervalNs) {
+    throw new InputError(file, `expected time-zero inside the record (< ${t.samples * t.sampleIntervalNs} ns), found ${t.timeZeroNs}`, { field: 'recording.timeZeroNs' });
+  }
+  return s;
+}
