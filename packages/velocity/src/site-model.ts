@@ -41,7 +41,7 @@ export function robustCentre(values: ArrayLike<number>, weights: ArrayLike<numbe
 export interface SiteModelOptions {
   /** Velocity used when no fit qualifies (K about 9, common practice for moist soil, no source). @default 0.1 */
   fallbackVelocityMPerNs?: number;
-  /** Weights are 1 / max(sigma, floor * v)^2, so no single near-exact fit outweighs the rest. @default 0.01 */
+  /** Weights are 1 / max(sigma, floor * median v)^2, so no single near-exact fit outweighs the rest. @default 0.02 */
   uncertaintyFloor?: number;
   /** Try a two-layer (Dix) model. @default true */
   layered?: boolean;
@@ -54,14 +54,17 @@ export interface SiteModelOptions {
 /**
  * Site velocity from the usable fits: weighted median (weights 1/sigma^2) with a 1.4826 x weighted-MAD
  * spread. A layered model is chosen when the fits, split by apex time into a shallow and a deep group,
- * differ by more than `layerSignificance` standard errors: the group medians are RMS velocities at their
- * median zero-offset times t1 < t2, and the interval velocity below follows Dix (1955):
+ * differ by more than `layerSignificance` standard errors: the group medians are RMS velocities, at the
+ * shallow group's deepest zero-offset time t1 and the deep group's median time t2; the first layer ends
+ * at z1 = v1 t1 / 2 and the interval velocity below it follows Dix (1955):
  * v_int^2 = (v2^2 t2 - v1^2 t1) / (t2 - t1).
  */
 export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOptions = {}): Pick<VelocityReport, 'site' | 'model'> {
   const usable = fits.filter(usableForSite);
-  const floor = options.uncertaintyFloor ?? 0.01;
-  const weightOf = (f: HyperbolaFit) => 1 / Math.max(f.uncertaintyMPerNs, floor * f.velocityMPerNs) ** 2;
+  const sortedV = usable.map((f) => f.velocityMPerNs).sort((a, b) => a - b);
+  const plainMedian = sortedV.length > 0 ? sortedV[sortedV.length >> 1]! : 0.1;
+  const floor = (options.uncertaintyFloor ?? 0.02) * plainMedian;
+  const weightOf = (f: HyperbolaFit) => 1 / Math.max(f.uncertaintyMPerNs, floor) ** 2;
   const deepest = usable.reduce((m, f) => Math.max(m, f.depthM), 0);
   const bottom = Math.max(deepest, 1);
   if (usable.length === 0) {
@@ -95,7 +98,7 @@ function twoLayer(usable: HyperbolaFit[], weightOf: (f: HyperbolaFit) => number,
   const sorted = usable.map((f) => ({ f, tzo: (2 * f.depthM) / f.velocityMPerNs, w: weightOf(f) })).sort((a, b) => a.tzo - b.tzo);
   if (sorted.length < 2 * minN) return null;
   let best: { stat: number; k: number } | null = null;
-  const group = (g: typeof sorted) => {
+  const group = (g: typeof sorted, deep: boolean) => {
     const { centre, spread } = robustCentre(
       g.map((e) => e.f.velocityMPerNs),
       g.map((e) => e.w),
@@ -103,22 +106,25 @@ function twoLayer(usable: HyperbolaFit[], weightOf: (f: HyperbolaFit) => number,
     const meanSigma = g.reduce((m, e) => m + e.f.uncertaintyMPerNs, 0) / g.length;
     // Standard error of a median: 1.2533 sigma / sqrt(n).
     const se = (1.2533 * Math.max(spread, meanSigma)) / Math.sqrt(g.length);
-    const t = weightedMedian(
-      g.map((e) => e.tzo),
-      g.map(() => 1),
-    );
+    // The shallow velocity holds down to the group's deepest fit; the deep group sits at its median time.
+    const t = deep
+      ? weightedMedian(
+          g.map((e) => e.tzo),
+          g.map(() => 1),
+        )
+      : g[g.length - 1]!.tzo;
     return { v: centre, se, t };
   };
   for (let k = minN; k <= sorted.length - minN; k++) {
     if (sorted[k]!.tzo === sorted[k - 1]!.tzo) continue;
-    const a = group(sorted.slice(0, k));
-    const b = group(sorted.slice(k));
+    const a = group(sorted.slice(0, k), false);
+    const b = group(sorted.slice(k), true);
     const stat = Math.abs(a.v - b.v) / Math.hypot(a.se, b.se);
     if (!best || stat > best.stat) best = { stat, k };
   }
   if (!best || !(best.stat > sig)) return null;
-  const a = group(sorted.slice(0, best.k));
-  const b = group(sorted.slice(best.k));
+  const a = group(sorted.slice(0, best.k), false);
+  const b = group(sorted.slice(best.k), true);
   if (!(b.t > a.t)) return null;
   const vInt = dixInterval(a.v, a.t, b.v, b.t);
   if (!Number.isFinite(vInt) || vInt <= 0 || vInt > C_M_PER_NS) return null;

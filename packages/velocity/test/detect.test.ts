@@ -1,0 +1,86 @@
+import { describe, expect, it } from 'vitest';
+import { C_M_PER_NS, detectHyperbolas, lineHyperbolas, type DetectedHyperbola } from '../src';
+import { bistatic, synthLine, type Diffractor } from './synth';
+
+const S = 0.15;
+const targets: Diffractor[] = [
+  { x0: 2.5, z: 0.5, v: C_M_PER_NS / 2, amp: 1 }, // K 4 (dry sand, Davis & Annan 1989 range)
+  { x0: 6, z: 1.1, v: 0.1, amp: 1 }, // K 9
+  { x0: 10.5, z: 0.7, v: C_M_PER_NS / 5, amp: 1 }, // K 25
+];
+// A post 0.9 m beside the line: t = 2 sqrt(dx^2 + r^2) / c (bistatic form), weaker than the buried targets.
+const post: Diffractor = { x0: 14, z: 0.9, v: C_M_PER_NS, amp: 0.4 };
+
+function match(found: DetectedHyperbola[], d: Diffractor): DetectedHyperbola | undefined {
+  const t0 = bistatic(0, d.z, d.v, S);
+  return found.find((h) => Math.abs(h.x0M - d.x0) < 0.15 && Math.abs(h.t0Ns - t0) < 1.5);
+}
+
+const opts = { separationM: S, frequencyMHz: 400 };
+const flats: [number, number][] = [
+  [0.6, 4], // direct wave
+  [30, 0.3], // a flat layer
+];
+
+describe('detectHyperbolas (end to end on a synthetic radargram)', () => {
+  it('finds every diffractor without noise and recovers v within 1 %, with no spurious fits', () => {
+    const line = synthLine('L1', [...targets, post], { nTraces: 340, nSamples: 640, dtNs: 0.1, fMHz: 400, separationM: S, flats });
+    const found = detectHyperbolas(line, opts);
+    for (const d of [...targets, post]) {
+      const h = match(found, d);
+      expect(h, `target at ${d.x0}`).toBeDefined();
+      expect(Math.abs(h!.velocityMPerNs / d.v - 1)).toBeLessThan(0.01);
+      expect(Math.abs(h!.zM - d.z)).toBeLessThan(0.02);
+    }
+    expect(found.length).toBe(4);
+  });
+
+  it('recovers v within 5 % with realistic noise (three seeds)', () => {
+    for (const seed of [11, 12, 13]) {
+      // Gaussian noise at 5 % of the apex amplitude of a 1 m deep target (common practice, no source).
+      const line = synthLine('L1', [...targets, post], { nTraces: 340, nSamples: 640, dtNs: 0.1, fMHz: 400, separationM: S, flats, noise: 0.05, seed });
+      const found = detectHyperbolas(line, opts);
+      for (const d of targets) {
+        const h = match(found, d);
+        expect(h, `seed ${seed} target at ${d.x0}`).toBeDefined();
+        expect(Math.abs(h!.velocityMPerNs / d.v - 1)).toBeLessThan(0.05);
+      }
+    }
+  });
+
+  it("fits a post's air-wave hyperbola with K between 0.8 and 1.5 and calls it above-ground", () => {
+    for (const seed of [21, 22]) {
+      const line = synthLine('L2', [targets[1]!, post], { nTraces: 340, nSamples: 640, dtNs: 0.1, fMHz: 400, separationM: S, flats, noise: 0.03, seed });
+      const fits = lineHyperbolas(line, opts);
+      const air = fits.find((f) => Math.abs((f.x0M ?? 0) - post.x0) < 0.2);
+      expect(air).toBeDefined();
+      expect(air!.permittivity).toBeGreaterThan(0.8);
+      expect(air!.permittivity).toBeLessThan(1.5);
+      expect(air!.origin).toBe('above-ground');
+      const soil = fits.find((f) => Math.abs((f.x0M ?? 0) - 6) < 0.2)!;
+      expect(soil.origin).toBe('subsurface');
+      expect(soil.flags).toBeUndefined();
+    }
+  });
+
+  it('reports apex positions in the site CRS (US survey feet, diagonal line)', () => {
+    const ft = 1200 / 3937;
+    const heading: [number, number] = [0.6, 0.8];
+    const line = synthLine('L3', targets, { nTraces: 300, nSamples: 640, dtNs: 0.1, fMHz: 400, separationM: S, metresPerUnit: ft, heading, origin: [1000, 2000] });
+    const found = detectHyperbolas(line, { ...opts, metresPerUnit: ft });
+    expect(found.length).toBe(3);
+    for (const d of targets) {
+      const h = match(found, d)!;
+      expect(h).toBeDefined();
+      expect(h.x).toBeCloseTo(1000 + (heading[0] * d.x0) / ft, 1);
+      expect(h.y).toBeCloseTo(2000 + (heading[1] * d.x0) / ft, 1);
+      expect(h.trace).toBe(Math.round(d.x0 / 0.05));
+      expect(Math.abs(h.velocityMPerNs / d.v - 1)).toBeLessThan(0.01);
+    }
+  });
+
+  it('finds nothing in pure noise or on flat reflections alone', () => {
+    const line = synthLine('L4', [], { nTraces: 300, nSamples: 512, dtNs: 0.1, fMHz: 400, flats, noise: 0.05, seed: 5 });
+    expect(detectHyperbolas(line, opts)).toEqual([]);
+  });
+});

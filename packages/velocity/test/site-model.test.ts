@@ -1,0 +1,84 @@
+import { describe, expect, it } from 'vitest';
+import { buildVelocityReport, permittivityFromVelocity, robustCentre, siteVelocityModel, toppMoisture, velocityAt, weightedMedian, type HyperbolaFit } from '../src';
+import { gauss, rng } from './synth';
+
+function fit(v: number, depthM: number, sigma = 0.002, extra: Partial<HyperbolaFit> = {}): HyperbolaFit {
+  return {
+    line: 'L',
+    trace: 0,
+    x: 0,
+    y: 0,
+    t0Ns: (2 * depthM) / v,
+    velocityMPerNs: v,
+    permittivity: permittivityFromVelocity(v),
+    depthM,
+    uncertaintyMPerNs: sigma,
+    origin: 'subsurface',
+    ...extra,
+  };
+}
+
+describe('weighted median', () => {
+  it('equals the plain median for equal weights and follows heavy weights', () => {
+    expect(weightedMedian([5, 1, 3, 2, 4], [1, 1, 1, 1, 1])).toBe(3);
+    expect(weightedMedian([1, 2, 3], [1, 1, 10])).toBe(3);
+    // 1.4826 MAD is the normal-consistent scale (Rousseeuw & Croux 1993): for N(0, 1) samples it approaches 1.
+    const g = gauss(rng(3));
+    const xs = Array.from({ length: 20000 }, () => g());
+    const { spread } = robustCentre(xs, xs.map(() => 1));
+    expect(spread).toBeCloseTo(1, 1);
+  });
+});
+
+describe('siteVelocityModel', () => {
+  it('takes the weighted median of subsurface fits only, ignoring air-wave and v > c fits', () => {
+    const g = gauss(rng(9));
+    const fits = Array.from({ length: 15 }, (_, i) => fit(0.1 + 0.002 * g(), 0.4 + 0.1 * i));
+    fits.push(fit(0.3, 1, 0.001, { origin: 'above-ground' }));
+    fits.push(fit(0.35, 1, 0.001, { origin: 'above-ground', flags: ['v > c'] }));
+    fits.push(fit(0.02, 1, 0.0001)); // one wild fit, very confident: the median resists it
+    const { site, model } = siteVelocityModel(fits);
+    expect(site.fitCount).toBe(16);
+    expect(Math.abs(site.velocityMPerNs - 0.1)).toBeLessThan(0.003);
+    expect(site.permittivity).toBeCloseTo(permittivityFromVelocity(site.velocityMPerNs), 10);
+    expect(site.spreadMPerNs).toBeGreaterThan(0.0005);
+    expect(site.spreadMPerNs).toBeLessThan(0.005);
+    expect(model.kind).toBe('constant');
+    expect(site.moisture?.volumetricWaterContent).toBeCloseTo(toppMoisture(site.permittivity), 10);
+    expect(site.moisture?.caution).toMatch(/mineral soils/);
+  });
+
+  it('chooses a layered model with the Dix interval velocity when shallow and deep fits disagree', () => {
+    // Layer 1: 0-0.8 m at 0.12 m/ns; below, 0.07 m/ns. Fits report RMS velocities (Dix 1955).
+    const v1 = 0.12;
+    const v2 = 0.07;
+    const vrmsAt = (z: number) => {
+      if (z <= 0.8) return v1;
+      const t1 = (2 * 0.8) / v1;
+      const dt = (2 * (z - 0.8)) / v2;
+      return Math.sqrt((v1 * v1 * t1 + v2 * v2 * dt) / (t1 + dt));
+    };
+    const g = gauss(rng(4));
+    const fits: HyperbolaFit[] = [];
+    for (let i = 0; i < 8; i++) fits.push(fit(v1 * (1 + 0.003 * g()), 0.3 + 0.06 * i, 0.0015));
+    for (let i = 0; i < 8; i++) fits.push(fit(vrmsAt(1.8) * (1 + 0.003 * g()), 1.8, 0.0015));
+    const { model } = siteVelocityModel(fits);
+    expect(model.kind).toBe('layered');
+    expect(model.layers.length).toBe(2);
+    expect(Math.abs(velocityAt(model, 0.2) / v1 - 1)).toBeLessThan(0.02);
+    // The interval between the shallow group's deepest fit (0.72 m) and 1.8 m is mostly layer 2.
+    const truthInterval = Math.sqrt((vrmsAt(1.8) ** 2 * ((2 * 0.8) / v1 + (2 * 1.0) / v2) - v1 * v1 * ((2 * 0.72) / v1)) / ((2 * 0.08) / v1 + (2 * 1.0) / v2));
+    expect(Math.abs(velocityAt(model, 1.5) / truthInterval - 1)).toBeLessThan(0.05);
+    expect(velocityAt(model, 1.5)).toBeLessThan(0.08);
+    expect(model.layers[0]!.topM).toBe(0);
+    expect(model.layers[1]!.topM).toBe(model.layers[0]!.bottomM);
+  });
+
+  it('falls back to a stated assumption when nothing qualifies', () => {
+    const r = buildVelocityReport([fit(0.3, 1, 0.01, { origin: 'above-ground' })]);
+    expect(r.site.fitCount).toBe(0);
+    expect(r.site.velocityMPerNs).toBe(0.1);
+    expect(r.site.note).toMatch(/assumed/);
+    expect(r.hyperbolas.length).toBe(1);
+  });
+});
