@@ -46,3 +46,12 @@ export {
   runStep,
   runRecipe,
 } from './recipe';
+export {
+  type WorkerRequest,
+  type WorkerReply,
+  type PoolOptions,
+  type ProcessingPool,
+  createProcessingPool,
+  processLines,
+  processLineInWorker,
+} from './pool';

@@ -13,13 +13,23 @@ export interface MigrationOptions {
   maxAngleDeg?: number;
   /** Fraction of the aperture at its edge tapered by a cosine. @default 0.2 */
   taper?: number;
-  /** Apply the 2D half-derivative filter sqrt(i omega) before summing (restores the wavelet's phase). @default true */
+  /**
+   * Apply the 2D half-derivative filter before summing. It keeps reflectors (and diffractions modelled by
+   * 2D wave propagation) zero-phase; a diffraction made of the source wavelet at ray travel times
+   * focuses zero-phase without it (it would then lag by 45 degrees). Phase does not matter to
+   * envelope-based slices. @default false
+   */
   halfDerivative?: boolean;
   /** Metres per CRS unit of `line.x/y`. @default 1 */
   metresPerUnit?: number;
 }
 
-/** Causal half-derivative sqrt(i omega) of every trace (omega in rad/ns), by FFT with zero padding. */
+/**
+ * Half-derivative filter sqrt(|omega|) e^{-i pi/4 sgn(omega)} of every trace (omega in rad/ns; forward FFT
+ * e^{-i omega t}), by FFT with zero padding to a power of two >= 2 nSamples. It undoes the +45 degree
+ * phase lead and the 1/sqrt(omega) amplitude that 2D diffraction summation gives a reflector
+ * (stationary phase along the summation curve).
+ */
 export function halfDerivative(data: Float32Array, nSamples: number, dtNs: number): Float32Array {
   const nt = data.length / nSamples;
   const n = nextPow2(2 * nSamples);
@@ -40,9 +50,9 @@ export function halfDerivative(data: Float32Array, nSamples: number, dtNs: numbe
       const a = Math.sqrt((2 * Math.PI * k) / (n * dtNs));
       const re = spec[2 * k] as number;
       const im = spec[2 * k + 1] as number;
-      // multiply by a * e^{i pi/4}
-      spec[2 * k] = a * c * (re - im);
-      spec[2 * k + 1] = a * c * (re + im);
+      // multiply by a * e^{-i pi/4}
+      spec[2 * k] = a * c * (re + im);
+      spec[2 * k + 1] = a * c * (im - re);
     }
     spec[2 * half + 1] = 0;
     for (let k = 1; k < half; k++) {
@@ -60,8 +70,9 @@ export function halfDerivative(data: Float32Array, nSamples: number, dtNs: numbe
  * common-offset line with the antennas `separationM` apart along it. Output sample at apex time t0
  * (after time-zero) of trace j sums the input along the bistatic diffraction curve of a point at depth
  * z = sqrt((v t0 / 2)^2 - (s/2)^2) under trace j, t(dx) = (sqrt((dx - s/2)^2 + z^2) + sqrt((dx + s/2)^2 + z^2)) / v,
- * with weights dx_i cos(theta) / sqrt(2 pi v r) (the 2D Kirchhoff weight; dx_i the local trace spacing, so
- * irregular spacing is integrated properly). Samples above the shallowest point (v t0 / 2 <= s/2) pass
+ * with weights dx_i cos(theta) / sqrt(2 pi (v/2) r) (the 2D Kirchhoff weight in the exploding-reflector model, r
+ * the mean one-way distance; dx_i the local trace spacing, so irregular spacing is integrated properly). With
+ * `halfDerivative` a flat reflector keeps its time and amplitude. Samples above the shallowest point (v t0 / 2 <= s/2) pass
  * through unchanged. `out` may be `line.data`.
  */
 export function migrate(line: RadarLine, options: MigrationOptions, out?: Float32Array): RadarLine {
@@ -73,7 +84,7 @@ export function migrate(line: RadarLine, options: MigrationOptions, out?: Float3
   const taper = Math.min(1, Math.max(0, options.taper ?? 0.2));
   const { nSamples: ns, nTraces: nt, dtNs: dt, timeZeroNs: tz } = line;
   const { src, dst } = outputFor(line, out);
-  const input = options.halfDerivative === false ? src : halfDerivative(src, ns, dt);
+  const input = options.halfDerivative ? halfDerivative(src, ns, dt) : src;
   const s = alongTrackM(line, options.metresPerUnit ?? 1);
   // trapezoid weights of an irregular line
   const ds = new Float64Array(nt);
@@ -110,7 +121,7 @@ export function migrate(line: RadarLine, options: MigrationOptions, out?: Float3
         if (iu >= ns - 1) break; // times only grow with k on this trace
         const fr = u - iu;
         const r = (r1 + r2) / 2;
-        let w = (wi * z) / (r * Math.sqrt(2 * Math.PI * v * r));
+        let w = (wi * z) / (r * Math.sqrt(Math.PI * v * r));
         const edge = a * (1 - taper);
         if (adx > edge && a > edge) w *= 0.5 * (1 + Math.cos((Math.PI * (adx - edge)) / (a - edge)));
         acc[k] = (acc[k] as number) + w * ((input[o + iu] as number) * (1 - fr) + (input[o + iu + 1] as number) * fr);

@@ -269,7 +269,7 @@ export function runStep(line: RadarLine, step: Step, ctx: RecipeContext): { line
         apertureM: step.apertureM ?? 2,
         maxAngleDeg: step.maxAngleDeg ?? 60,
         taper: step.taper ?? 0.2,
-        halfDerivative: step.halfDerivative ?? true,
+        halfDerivative: step.halfDerivative ?? false,
       };
       if (v === undefined) return { line, entry: { step: 'migration', params, skipped: 'no velocity given (run after the velocity fit)' } };
       return { line: migrate(line, { ...params, velocityMPerNs: v, metresPerUnit: mpu }), entry: { step: 'migration', params } };

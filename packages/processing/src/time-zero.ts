@@ -9,8 +9,9 @@ export interface TimeZeroOptions {
   /** Threshold on the envelope, a fraction of the trace's envelope maximum. @default 0.25 */
   threshold?: number;
   /**
-   * What is picked on the direct arrival: `peak` = the envelope maximum within one period after the
-   * threshold crossing (the wavelet centre); `onset` = the threshold crossing itself. @default 'peak'
+   * What is picked on the direct arrival: `peak` = the centre of the envelope lobe (centroid above half
+   * its maximum) at the largest envelope value within one period after the threshold crossing, i.e. the
+   * wavelet centre; `onset` = the threshold crossing itself. @default 'peak'
    */
   pick?: 'peak' | 'onset';
   /** Centre frequency, MHz: sets the one-period peak search after the crossing. */
@@ -45,7 +46,7 @@ export interface TimeZeroResult {
 
 /**
  * First-arrival pick on one trace's envelope: first sample above `threshold` x max, then (`peak`) the
- * parabolically refined envelope maximum in the following period. Returns samples (fractional), NaN if
+ * centroid of the envelope lobe at the largest value in the following period. Returns samples (fractional), NaN if
  * the trace is dead (zero or non-finite envelope).
  */
 export function pickFirstArrival(
@@ -72,14 +73,21 @@ export function pickFirstArrival(
   const end = Math.min(to, c + Math.max(2, Math.round(options.periodSamples)) + 1);
   let k = c;
   for (let i = c; i < end; i++) if ((env[i] as number) > (env[k] as number)) k = i;
-  if (k > 0 && k < env.length - 1) {
-    const a = env[k - 1] as number;
-    const b = env[k] as number;
-    const d = env[k + 1] as number;
-    const den = a - 2 * b + d;
-    if (den < 0) return k + (0.5 * (a - d)) / den;
+  // The envelope is flat at its top, so its argmax wanders with noise: take the centroid of the lobe above
+  // half the peak instead (weights env - peak/2), which is the centre of a symmetric wavelet's envelope.
+  const half = 0.5 * (env[k] as number);
+  let a = k;
+  while (a > from && (env[a - 1] as number) > half) a--;
+  let b = k;
+  while (b < to - 1 && (env[b + 1] as number) > half) b++;
+  let sw = 0;
+  let swi = 0;
+  for (let i = a; i <= b; i++) {
+    const w = (env[i] as number) - half;
+    sw += w;
+    swi += w * i;
   }
-  return k;
+  return sw > 0 ? swi / sw : k;
 }
 
 /** Keys cubic convolution weight (a = -0.5). */
