@@ -1,0 +1,35 @@
+import { execFileSync } from 'node:child_process';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+
+export const DATA = join(dirname(fileURLToPath(import.meta.url)), 'data');
+
+/** Debian's interpreter (numpy, segyio): not the `python3` first on PATH. */
+export const PYTHON = '/usr/bin/python3';
+
+export function python(args: string[], input?: string): string {
+  return execFileSync(PYTHON, args, { encoding: 'utf8', input, maxBuffer: 256 << 20 });
+}
+
+export function pythonJson<T>(script: string, args: string[] = []): T {
+  return JSON.parse(python(['-c', script, ...args])) as T;
+}
+
+export function tempDir(prefix = 'lamina-segy-'): { dir: string; remove(): void } {
+  const dir = mkdtempSync(join(tmpdir(), prefix));
+  return { dir, remove: () => rmSync(dir, { recursive: true, force: true }) };
+}
+
+/** Deterministic pseudo-random numbers (mulberry32). */
+export function rng(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
