@@ -216,14 +216,17 @@ function geoKeys(crs: CogCrs): { directory: number[]; ascii: string } {
     keys.push([id, 34737, s.length, ascii.length]);
     ascii += s;
   };
-  keys.push([1024, 0, 1, crs.geographic ? 2 : 1]); // GTModelTypeGeoKey
   keys.push([1025, 0, 1, 1]); // GTRasterTypeGeoKey: PixelIsArea
   if (crs.citation) asciiKey(1026, crs.citation);
-  if (crs.geographic) {
-    keys.push([2048, 0, 1, crs.epsg ?? 32767]); // GeographicTypeGeoKey
+  if (crs.epsg !== undefined) {
+    keys.push([1024, 0, 1, crs.geographic ? 2 : 1]); // GTModelTypeGeoKey
+    keys.push([crs.geographic ? 2048 : 3072, 0, 1, crs.epsg]); // GeographicTypeGeoKey / ProjectedCSTypeGeoKey
+  } else if (!crs.geographic) {
+    // No code: a local (engineering) CRS that keeps the linear unit, as GDAL itself writes one;
+    // the full definition travels in the citation and in slices.json.
+    keys.push([3076, 0, 1, linearUnitCode(crs.metresPerUnit ?? 1)]); // ProjLinearUnitsGeoKey
   } else {
-    keys.push([3072, 0, 1, crs.epsg ?? 32767]); // ProjectedCSTypeGeoKey
-    if (crs.epsg === undefined) keys.push([3076, 0, 1, linearUnitCode(crs.metresPerUnit ?? 1)]); // ProjLinearUnitsGeoKey
+    keys.push([1024, 0, 1, 2]);
   }
   keys.sort((a, b) => a[0] - b[0]);
   return { directory: [1, 1, 0, keys.length, ...keys.flat()], ascii };
