@@ -6,7 +6,7 @@ import { resolveCrs } from './crs';
 import { lineGeometry, type LineGeometry } from './geometry';
 import { checkSiteJson, LINE_ID } from './manifest';
 import { readPlan } from './plan';
-import { applyGpsOffset, checkPositions, parsePositionsCsv, positionsFromFixes, positionsFromHeaders, positionsFromStartEnd, type TracePositions } from './positions';
+import { HEADER_FIELDS, applyGpsOffset, checkPositions, parsePositionsCsv, positionsFromFixes, positionsFromHeaders, positionsFromStartEnd, type TracePositions } from './positions';
 import { InputProblems, parseJson, type Problem } from './problems';
 import { defaultOpenSegy, type OpenSegy, type SegyReaderLike } from './segy';
 import type { Crs, LineSource, Site } from './types';
@@ -125,7 +125,7 @@ export interface ReadLineOptions {
 async function openReader(site: Site, src: LineSource, options: ReadLineOptions): Promise<SegyReaderLike> {
   const open = options.open ?? defaultOpenSegy();
   const dt = options.sampleIntervalNs ?? site.sampleIntervalNs;
-  return await open(src.file, dt !== undefined ? { sampleIntervalNs: dt } : {});
+  return await open(src.file, { name: shownPath(src.file), ...(dt !== undefined ? { sampleIntervalNs: dt } : {}) });
 }
 
 /** Trace positions of a line (site CRS units, antenna midpoints) from its source, checked. */
@@ -157,7 +157,8 @@ export async function linePositions(site: Site, src: LineSource, reader: Pick<Se
   }
   const h = await reader.readTraceHeaders(0, n);
   const p = positionsFromHeaders(h, segyName);
-  checkPositions(p, site.crs, segyName, { what: `trace header ${p.from === 'source' ? 'source X/Y' : 'CDP X/Y'} coordinates`, field: p.from === 'source' ? 'trace header bytes 73-80 (source X/Y)' : 'trace header bytes 181-188 (CDP X/Y)' });
+  const label = { cdp: 'CDP X/Y', source: 'source X/Y', group: 'group X/Y' }[p.from];
+  checkPositions(p, site.crs, segyName, { what: `trace header ${label} coordinates`, field: HEADER_FIELDS[p.from] });
   if (off) applyGpsOffset(p, off.alongM, off.acrossM, m);
   return { x: p.x, y: p.y };
 }

@@ -7,6 +7,8 @@ export interface HeaderCoordinates {
   sourceY: Float64Array;
   cdpX?: Float64Array;
   cdpY?: Float64Array;
+  groupX?: Float64Array;
+  groupY?: Float64Array;
   /** Coordinate units, trace header bytes 89-90: 1 length, 2 arc seconds, 3 decimal degrees, 4 DMS. */
   coordUnits?: number | ArrayLike<number>;
 }
@@ -16,6 +18,15 @@ export interface TracePositions {
   y: Float64Array;
 }
 
+export type HeaderSource = 'cdp' | 'source' | 'group';
+
+/** The header fields named in messages, with their SEG-Y trace header bytes. */
+export const HEADER_FIELDS: Record<HeaderSource, string> = {
+  cdp: 'trace header bytes 181-188 (CDP X/Y)',
+  source: 'trace header bytes 73-80 (source X/Y)',
+  group: 'trace header bytes 81-88 (group X/Y)',
+};
+
 const ANGULAR_UNITS: Record<number, string> = { 2: 'arc seconds', 3: 'decimal degrees', 4: 'degrees, minutes, seconds (DMS)' };
 
 function allZero(a: ArrayLike<number>): boolean {
@@ -24,19 +35,28 @@ function allZero(a: ArrayLike<number>): boolean {
 }
 
 /**
- * Positions from trace headers: source X/Y (bytes 73-80), else CDP X/Y (181-188) when source is all zero.
- * Throws when both are all zero (the line needs `start`/`end` or `positions` in site.json) or when the
- * header coordinate units (bytes 89-90) are angular.
+ * Positions from trace headers: CDP X/Y (bytes 181-188, the midpoint of a common-offset pair), else source
+ * X/Y (73-80), else group X/Y (81-88), the first that is not all zero. Throws when all are zero (the line
+ * needs `start`/`end` or `positions` in site.json) or when the coordinate units (bytes 89-90) are angular.
  */
-export function positionsFromHeaders(h: HeaderCoordinates, file: string): TracePositions & { from: 'source' | 'cdp' } {
+export function positionsFromHeaders(h: HeaderCoordinates, file: string): TracePositions & { from: HeaderSource } {
   const units = h.coordUnits;
-  const u = typeof units === 'number' ? units : units && units.length ? units[0] : undefined;
-  if (u !== undefined && ANGULAR_UNITS[u]) {
-    throw new InputError(file, `expected trace coordinates in the projected site CRS (coordinate units 1 = length), found coordinate units ${u} (${ANGULAR_UNITS[u]}); reproject the positions or give a positions CSV`, { field: 'trace header bytes 89-90 (coordinate units)' });
+  const list = units === undefined ? [] : typeof units === 'number' ? [units] : units;
+  for (let i = 0; i < list.length; i++) {
+    const u = list[i] as number;
+    if (ANGULAR_UNITS[u]) {
+      throw new InputError(file, `expected trace coordinates in the projected site CRS (coordinate units 1 = length), found coordinate units ${u} (${ANGULAR_UNITS[u]})${list.length > 1 ? ` at trace ${i + 1}` : ''}; reproject the positions or give a positions CSV`, { field: 'trace header bytes 89-90 (coordinate units)' });
+    }
   }
-  if (!(allZero(h.sourceX) && allZero(h.sourceY))) return { x: Float64Array.from(h.sourceX), y: Float64Array.from(h.sourceY), from: 'source' };
-  if (h.cdpX && h.cdpY && !(allZero(h.cdpX) && allZero(h.cdpY))) return { x: Float64Array.from(h.cdpX), y: Float64Array.from(h.cdpY), from: 'cdp' };
-  throw new InputError(file, 'expected trace coordinates, found source X/Y (bytes 73-80) and CDP X/Y (bytes 181-188) all zero; give "start" and "end" or a "positions" CSV for this line in site.json', { field: 'trace headers' });
+  const pairs: [HeaderSource, Float64Array | undefined, Float64Array | undefined][] = [
+    ['cdp', h.cdpX, h.cdpY],
+    ['source', h.sourceX, h.sourceY],
+    ['group', h.groupX, h.groupY],
+  ];
+  for (const [from, x, y] of pairs) {
+    if (x && y && !(allZero(x) && allZero(y))) return { x: Float64Array.from(x), y: Float64Array.from(y), from };
+  }
+  throw new InputError(file, 'expected trace coordinates, found CDP X/Y (bytes 181-188), source X/Y (73-80) and group X/Y (81-88) all zero; give "start" and "end" or a "positions" CSV for this line in site.json', { field: 'trace headers' });
 }
 
 /** `nTraces` positions evenly spaced from `start` (first trace) to `end` (last trace), inclusive. */

@@ -1,9 +1,9 @@
-import * as radarData from '@lamina/radar-data';
+import { openSegy } from '@lamina/radar-data';
 import type { HeaderCoordinates } from './positions';
 
 /**
- * The part of @lamina/radar-data's SEG-Y reader this package uses. Written against the reader's planned
- * shape so the site package does not break while the reader lands; results may be sync or async.
+ * The part of @lamina/radar-data's `SegyReader` this package uses; tests may pass another opener of the
+ * same shape (`ReadLineOptions.open`).
  */
 export interface SegyReaderLike {
   nSamples: number;
@@ -14,11 +14,9 @@ export interface SegyReaderLike {
   close(): void | Promise<void>;
 }
 
-export type OpenSegy = (path: string, options?: { sampleIntervalNs?: number }) => SegyReaderLike | Promise<SegyReaderLike>;
+export type OpenSegy = (path: string, options?: { sampleIntervalNs?: number; name?: string }) => SegyReaderLike | Promise<SegyReaderLike>;
 
-/** The reader's `openSegy`, looked up at run time. */
+/** @lamina/radar-data's `openSegy`. */
 export function defaultOpenSegy(): OpenSegy {
-  const open = (radarData as unknown as Record<string, unknown>).openSegy;
-  if (typeof open !== 'function') throw new Error('@lamina/radar-data does not export openSegy yet');
-  return open as OpenSegy;
+  return openSegy;
 }

@@ -2,19 +2,13 @@ import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { checkPositions, defaultOpenSegy, loadSite, parsePositionsCsv, positionsFromFixes, readLine, readPlan, resolveCrs, shownPath, type OpenSegy } from '../src';
-import { openTinySegy } from './tiny-segy';
 
 // The corpus and its expected messages: test/bad/generate.ts (messages written from the format rules).
 const bad = join(import.meta.dirname, 'bad');
 interface Case { name: string; kind: 'site' | 'line' | 'plan' | 'csv'; input: string; crs?: string; nTraces?: number; error: string }
 const { cases } = JSON.parse(readFileSync(join(bad, 'cases.json'), 'utf8')) as { cases: Case[] };
 
-let open: OpenSegy;
-try {
-  open = defaultOpenSegy();
-} catch {
-  open = openTinySegy; // @lamina/radar-data's reader not exported yet
-}
+const open: OpenSegy = defaultOpenSegy();
 
 async function run(c: Case): Promise<void> {
   const input = join(bad, c.input);

@@ -1,4 +1,4 @@
-import { readFileSync, writeFileSync } from 'node:fs';
+import { writeFileSync } from 'node:fs';
 
 /**
  * A minimal SEG-Y rev 2.0 writer for this package's fixtures (big-endian, IEEE float samples, format 5),
@@ -6,7 +6,8 @@ import { readFileSync, writeFileSync } from 'node:fs';
  * per trace, 3225-3226 format code, 3273-3280 extended sample interval (IEEE double, us), 3297-3300
  * byte-order constant, 3501/3502 revision, 3503-3504 fixed-length flag; trace header 1-4 / 5-8 sequence
  * numbers, 71-72 coordinate scalar, 73-80 source X/Y, 89-90 coordinate units, 115-116 samples,
- * 117-118 interval, 181-188 CDP X/Y. Used until @lamina/radar-data's writer is the only one needed.
+ * 117-118 interval, 181-188 CDP X/Y. Kept
+ * independent of @lamina/radar-data so its reader is checked against a second writer.
  */
 export interface TinySegy {
   nSamples: number;
@@ -66,43 +67,3 @@ export function writeTinySegy(path: string, s: TinySegy): void {
   writeFileSync(path, tinySegy(s));
 }
 
-/**
- * Reads back what `tinySegy` writes (big-endian, format 5, fixed-length traces), shaped like the
- * @lamina/radar-data reader. Only a stand-in for tests while that reader is not exported.
- */
-export function openTinySegy(path: string, options: { sampleIntervalNs?: number } = {}): import('../src').SegyReaderLike {
-  const buf = readFileSync(path);
-  const ns = buf.readInt16BE(3220);
-  const ext = buf.readDoubleBE(3272);
-  const dtNs = ext > 0 ? ext * 1000 : buf.readInt16BE(3216) > 0 ? buf.readInt16BE(3216) * 1000 : (options.sampleIntervalNs ?? NaN);
-  const size = 240 + 4 * ns;
-  const nTraces = (buf.length - 3600) / size;
-  const coord = (o: number, at: number): number => {
-    const sc = buf.readInt16BE(o + 70);
-    const v = buf.readInt32BE(o + at);
-    return sc < 0 ? v / -sc : sc > 0 ? v * sc : v;
-  };
-  return {
-    nSamples: ns,
-    nTraces,
-    dtNs,
-    readTraces(first, count) {
-      const out = new Float32Array(count * ns);
-      for (let t = 0; t < count; t++) for (let k = 0; k < ns; k++) out[t * ns + k] = buf.readFloatBE(3600 + (first + t) * size + 240 + 4 * k);
-      return out;
-    },
-    readTraceHeaders(first, count) {
-      const h = { sourceX: new Float64Array(count), sourceY: new Float64Array(count), cdpX: new Float64Array(count), cdpY: new Float64Array(count), coordUnits: new Int16Array(count) };
-      for (let t = 0; t < count; t++) {
-        const o = 3600 + (first + t) * size;
-        h.sourceX[t] = coord(o, 72);
-        h.sourceY[t] = coord(o, 76);
-        h.cdpX[t] = coord(o, 180);
-        h.cdpY[t] = coord(o, 184);
-        h.coordUnits[t] = buf.readInt16BE(o + 88);
-      }
-      return h;
-    },
-    close() {},
-  };
-}

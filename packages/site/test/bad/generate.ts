@@ -152,14 +152,14 @@ const lineCase = (name: string, seg: Buffer, error: string, line: Record<string,
 });
 const z20 = new Array<number>(20).fill(0);
 cases.push(
-  lineCase('line-zero-coordinates', segy(z20, z20), '<dir>/l01.sgy: trace headers: expected trace coordinates, found source X/Y (bytes 73-80) and CDP X/Y (bytes 181-188) all zero; give "start" and "end" or a "positions" CSV for this line in site.json'),
+  lineCase('line-zero-coordinates', segy(z20, z20), '<dir>/l01.sgy: trace headers: expected trace coordinates, found CDP X/Y (bytes 181-188), source X/Y (73-80) and group X/Y (81-88) all zero; give "start" and "end" or a "positions" CSV for this line in site.json'),
   lineCase('line-constant-coordinates', segy(new Array<number>(20).fill(E0), new Array<number>(20).fill(N0)), `<dir>/l01.sgy: trace header bytes 73-80 (source X/Y): expected trace header source X/Y coordinates that move along the line, found all 20 traces at (${E0}, ${N0})`),
   lineCase(
     'line-degree-coordinates',
     segy(ramp(20, -80.8431, 0.0001), new Array<number>(20).fill(35.221), { scalar: -10000 }),
     '<dir>/l01.sgy: trace header bytes 73-80 (source X/Y): expected trace header source X/Y coordinates in the projected site CRS EPSG:32617 (m), found values that look like degrees (x -80.8431..-80.8412, y 35.221..35.221); reproject them',
   ),
-  lineCase('line-angular-units', segy(ramp(20, E0, 0.5), new Array<number>(20).fill(N0), { coordUnits: 3 }), '<dir>/l01.sgy: trace header bytes 89-90 (coordinate units): expected trace coordinates in the projected site CRS (coordinate units 1 = length), found coordinate units 3 (decimal degrees); reproject the positions or give a positions CSV'),
+  lineCase('line-angular-units', segy(ramp(20, E0, 0.5), new Array<number>(20).fill(N0), { coordUnits: 3 }), '<dir>/l01.sgy: trace header bytes 89-90 (coordinate units): expected trace coordinates in the projected site CRS (coordinate units 1 = length), found coordinate units 3 (decimal degrees) at trace 1; reproject the positions or give a positions CSV'),
   lineCase('line-one-trace', segy([E0], [N0]), '<dir>/l01.sgy: expected a line of at least 2 traces, found 1'),
   lineCase(
     'line-repeated-positions',
