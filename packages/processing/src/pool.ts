@@ -35,22 +35,9 @@ export interface ProcessingPool {
   close(): Promise<void>;
 }
 
-function loaderArgs(): string[] {
-  // Sources are TypeScript: the worker needs the tsx loader (inherited under the tsx CLI; not under vitest).
-  if (process.execArgv.some((a) => a.includes('tsx'))) return process.execArgv;
-  let spec = 'tsx';
-  try {
-    spec = import.meta.resolve('tsx');
-  } catch {
-    /* resolve from the working directory */
-  }
-  return ['--import', spec];
-}
-
 /** A fixed pool of worker threads running processing recipes; each worker takes one line at a time. */
 export function createProcessingPool(options: PoolOptions = {}): ProcessingPool {
   const size = Math.max(1, options.threads ?? availableParallelism());
-  const execArgv = loaderArgs();
   const workers: Worker[] = [];
   const idle: Worker[] = [];
   const queue: { req: WorkerRequest; transfer: ArrayBuffer[]; resolve: (r: RecipeResult) => void; reject: (e: unknown) => void }[] = [];
@@ -68,7 +55,7 @@ export function createProcessingPool(options: PoolOptions = {}): ProcessingPool 
   };
 
   for (let i = 0; i < size; i++) {
-    const w = new Worker(new URL('./worker.ts', import.meta.url), { execArgv });
+    const w = new Worker(new URL('./worker-boot.mjs', import.meta.url));
     w.on('message', (msg: WorkerReply) => {
       const p = pending.get(msg.id);
       if (!p) return;

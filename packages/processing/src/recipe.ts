@@ -170,7 +170,7 @@ export interface RunOptions {
   keepBefore?: StepName;
 }
 
-const round = (x: number, d = 4): number => Math.round(x * 10 ** d) / 10 ** d;
+const round = (x: number, d = 4): number => Math.round(x * 10 ** d) / 10 ** d || 0; // no -0 in logs
 
 /** Runs one step on `line` (never modifying `line`); returns the new line and the log entry. */
 export function runStep(line: RadarLine, step: Step, ctx: RecipeContext): { line: RadarLine; entry: RecipeLogEntry } {
