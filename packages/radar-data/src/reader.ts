@@ -41,6 +41,8 @@ export const BLOCK_BYTES = 8 << 20;
 export const MAX_EXTENDED_TEXT = 10000;
 /** Additional 240-byte trace headers per trace accepted (rev 2 bytes 3507-3510). */
 export const MAX_ADDITIONAL_TRACE_HEADERS = 100;
+/** Trace headers checked for a differing sample count when the file size does not add up. */
+const MIXED_LENGTH_WALK = 10000;
 
 export interface SegyOpenOptions {
   /**
@@ -559,6 +561,16 @@ async function parseHeaders(fh: FileHandle, size: number, name: string, options:
   const nTraces = Math.floor(dataBytes / traceBytes);
   const rest = dataBytes - nTraces * traceBytes;
   if (rest !== 0) {
+    // Traces of mixed length also break the arithmetic: walk the first traces by their own counts.
+    if (traceCountFits) {
+      let at = dataOffset;
+      for (let t = 0; t < MIXED_LENGTH_WALK && at + TRACE_HEADER_BYTES <= size - trailerBytes; t++) {
+        const hb = await readAt(fh, at, TRACE_HEADER_BYTES);
+        const own = new DataView(hb.buffer).getUint16(TRACE.nSamples, le);
+        if (own !== 0 && own !== nSamples) throw mixedLength(name, t, nTraces + 1, at, nSamples, own);
+        at += traceBytes;
+      }
+    }
     throw fail(
       `truncated trace: expected ${traceBytes} bytes per trace (${headerBytes}-byte header + ${nSamples} samples x ${bps} bytes), found ${rest} bytes after ${nTraces} whole traces`,
       `trace ${nTraces + 1}`,
