@@ -1,4 +1,6 @@
-import type { VelocityModel } from '@lamina/velocity';
+import { constantModel, depthFromTime, timeFromDepth, type VelocityModel } from '@lamina/velocity';
+
+export { constantModel };
 
 /**
  * Time to depth for a common-offset (bistatic) antenna pair.
@@ -11,7 +13,10 @@ import type { VelocityModel } from '@lamina/velocity';
  * vbar(z) = z / T(z), and the two-way time of a reflector at z is t(z) = 2 sqrt(z^2 + (s/2)^2) / vbar(z).
  * t(z) increases with z, so z(t) is found by bisection. Refraction at layer boundaries is ignored, as it
  * is in the usual depth conversion of slices (the ray bends little for a separation much smaller than the
- * depth); with one layer this is the constant-velocity formula exactly.
+ * depth); with one layer this is the constant-velocity formula exactly. The conversion itself is
+ * @lamina/velocity's `timeFromDepth` / `depthFromTime` (the same model), so slices and velocity.json agree;
+ * here times before the ground wave give NaN rather than 0, so air and direct-wave samples never count as
+ * the top slice.
  */
 
 /** Depth (m) of a reflection at two-way time `tNs` after time-zero, constant velocity, bistatic. NaN before the ground wave. */
@@ -45,27 +50,14 @@ export function averageVelocity(zM: number, model: VelocityModel): number {
 
 /** Two-way bistatic time (ns) of a reflector at depth `zM` (straight rays, time-averaged velocity). */
 export function depthToTime(zM: number, model: VelocityModel, separationM: number): number {
-  const v = averageVelocity(zM, model);
-  return (2 * Math.sqrt(zM * zM + (separationM * separationM) / 4)) / v;
+  return timeFromDepth(model, zM, separationM);
 }
 
 /** Depth (m) of a reflection at two-way time `tNs` after time-zero in a velocity model; NaN before the ground wave. */
 export function timeToDepth(tNs: number, model: VelocityModel, separationM: number): number {
-  const layers = model.layers;
-  if (layers.length === 1) return bistaticDepth(tNs, layers[0]!.velocityMPerNs, separationM);
-  const t0 = depthToTime(0, model, separationM);
-  if (!(tNs >= t0)) return Number.NaN;
-  // Bracket: the slowest layer bounds the depth from above at v_max * t / 2.
-  let vmax = 0;
-  for (const l of layers) vmax = Math.max(vmax, l.velocityMPerNs);
-  let lo = 0;
-  let hi = (vmax * tNs) / 2 + separationM;
-  for (let i = 0; i < 60 && hi - lo > 1e-9; i++) {
-    const mid = 0.5 * (lo + hi);
-    if (depthToTime(mid, model, separationM) < tNs) lo = mid;
-    else hi = mid;
-  }
-  return 0.5 * (lo + hi);
+  if (model.layers.length === 1) return bistaticDepth(tNs, model.layers[0]!.velocityMPerNs, separationM);
+  if (!(tNs >= timeFromDepth(model, 0, separationM))) return Number.NaN;
+  return depthFromTime(model, tNs, separationM);
 }
 
 /**
@@ -82,12 +74,4 @@ export function sampleDepths(
 ): Float64Array {
   for (let i = 0; i < nSamples; i++) out[i] = timeToDepth(i * dtNs - timeZeroNs, model, separationM);
   return out;
-}
-
-/** A constant model, for callers that only have one velocity. */
-export function constantModel(velocityMPerNs: number): VelocityModel {
-  return {
-    kind: 'constant',
-    layers: [{ topM: 0, bottomM: Infinity, velocityMPerNs, permittivity: (0.2998 / velocityMPerNs) ** 2 }],
-  };
 }

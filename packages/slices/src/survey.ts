@@ -65,6 +65,7 @@ export function surveyGeometry(coords: Float64Array, lineStarts: Int32Array): Su
   const traceSpacing = median(steps);
   let directionDeg = ((Math.atan2(s2, c2) / 2) * 180) / Math.PI;
   if (directionDeg < 0) directionDeg += 180;
+  if (directionDeg > 180 - 1e-9) directionDeg = 0;
   const parallelism = totalLen > 0 ? Math.hypot(c2, s2) / totalLen : 0;
   const lineSpacing = nLines > 1 ? estimateLineSpacing(coords, lineStarts, traceSpacing) : Number.NaN;
   return { traceSpacing, lineSpacing, directionDeg, parallelism, bounds: [minX, minY, maxX, maxY] };
