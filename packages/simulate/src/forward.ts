@@ -120,7 +120,7 @@ export function simulateLine(m: Model, line: LineGeom): LineResult {
       const a = m.ringing * (k % 2 === 0 ? 1 : -1) * Math.exp((-k * ringPeriod) / ringDecay);
       addRicker(trace, dt, t0 + m.separationM / C_M_PER_NS + k * ringPeriod, a, f);
     }
-    const wowAmp = m.wow * (1 + 0.2 * r.gauss());
+    const wowAmp = m.wow * (1 + 0.05 * r.gauss());
     for (let i = Math.max(0, Math.ceil(t0 / dt)); i < ns; i++) {
       const q = (i * dt - t0) / wowTau;
       trace[i] = trace[i]! + wowAmp * q * Math.exp(1 - q);

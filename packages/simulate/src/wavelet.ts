@@ -14,9 +14,9 @@ export function rickerZeroCrossingNs(frequencyMHz: number): number {
   return 1 / (Math.PI * (frequencyMHz / 1000) * Math.SQRT2);
 }
 
-/** Half-width (ns) beyond which the wavelet is below 1e-6 of its peak: |pi f t| > 3.8. */
+/** Half-width (ns) beyond which the wavelet stays below 1e-6 of its peak: |pi f t| > 4.2. */
 export function rickerHalfWidthNs(frequencyMHz: number): number {
-  return 3.8 / (Math.PI * (frequencyMHz / 1000));
+  return 4.2 / (Math.PI * (frequencyMHz / 1000));
 }
 
 /** Sampled Ricker wavelet centred at `centreNs` on `n` samples of `dtNs` (for tests and noise shaping). */
