@@ -1,1 +1,3 @@
-export {};
+export { runProcess, type ProcessOptions, type ProcessSummary } from './process';
+export { createPool, serveTasks, defaultThreads, type Pool } from './pool';
+export { siteRecipe } from './line-task';

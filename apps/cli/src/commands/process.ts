@@ -1,14 +1,73 @@
 import type { Command } from 'commander';
-import { action } from '../run';
+import { readFile } from 'node:fs/promises';
+import { InputError } from '@lamina/errors';
+import { runProcess, type ProcessOptions } from '@lamina/pipeline';
+import { action, progress } from '../run';
 
-// Placeholder until the issue that owns this command lands it.
 export function register(program: Command): void {
   program
     .command('process')
-    .description('(not yet available)')
+    .description('process a site end to end: lines, velocity, depth slices, air-wave screening, targets')
+    .argument('<site>', 'site folder (with site.json) or a site.json file')
+    .requiredOption('-o, --out <dir>', 'output folder (written atomically; review.json in it is kept)')
+    .option('--recipe <file>', 'processing recipe JSON, overriding site.json')
+    .option('--threads <n>', 'worker threads (0 = none)', (v) => Number.parseInt(v, 10))
+    .option('--slice-thickness <m>', 'slice thickness in metres', Number.parseFloat)
+    .option('--slice-overlap <fraction>', 'overlap of neighbouring slices, 0..0.9', Number.parseFloat)
+    .option('--max-depth <m>', 'deepest slice bottom in metres', Number.parseFloat)
+    .option('--cell-size <m>', 'grid cell size in metres', Number.parseFloat)
+    .option('--level', 'level line-to-line gain differences before gridding')
+    .option('--json', 'print the summary as JSON')
     .action(
-      action(async () => {
-        throw new Error('process is not implemented yet');
+      action(async (siteDir: string, opts: { out: string; recipe?: string; threads?: number; sliceThickness?: number; sliceOverlap?: number; maxDepth?: number; cellSize?: number; level?: boolean; json?: boolean }) => {
+        const options: ProcessOptions = {};
+        if (opts.recipe) {
+          let text: string;
+          try {
+            text = await readFile(opts.recipe, 'utf8');
+          } catch {
+            throw new InputError(opts.recipe, 'cannot read the recipe file');
+          }
+          try {
+            options.recipe = JSON.parse(text);
+          } catch (e) {
+            throw new InputError(opts.recipe, `not valid JSON (${(e as Error).message})`);
+          }
+          options.recipeFile = opts.recipe;
+        }
+        for (const [k, v] of Object.entries({ threads: opts.threads, sliceThickness: opts.sliceThickness, sliceOverlap: opts.sliceOverlap, maxDepth: opts.maxDepth, cellSize: opts.cellSize })) {
+          if (v !== undefined && !Number.isFinite(v)) throw new InputError('command line', `--${k.replace(/[A-Z]/g, (c) => '-' + c.toLowerCase())} must be a number`);
+        }
+        if (opts.threads !== undefined) options.threads = opts.threads;
+        if (opts.sliceThickness !== undefined) options.sliceThicknessM = opts.sliceThickness;
+        if (opts.sliceOverlap !== undefined) options.sliceOverlap = opts.sliceOverlap;
+        if (opts.maxDepth !== undefined) options.maxDepthM = opts.maxDepth;
+        if (opts.cellSize !== undefined) options.cellSizeM = opts.cellSize;
+        if (opts.level) options.level = true;
+        const bar = progress();
+        let current = '';
+        options.onProgress = (stage, done, total) => {
+          if (stage !== current) {
+            bar.start(stage, total);
+            current = stage;
+          }
+          bar.update(done);
+        };
+        const summary = await runProcess(siteDir, opts.out, options);
+        bar.stop();
+        if (opts.json) {
+          process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
+          return;
+        }
+        const v = summary.velocity;
+        process.stdout.write(
+          [
+            `site ${summary.site}: ${summary.lines} lines, ${summary.traces} traces`,
+            `velocity ${v.velocityMPerNs.toFixed(4)} m/ns (K ${v.permittivity.toFixed(2)}, spread ${v.spreadMPerNs.toFixed(4)} m/ns, ${v.fitCount} fits)`,
+            `${summary.slices} depth slices`,
+            `wrote ${summary.outDir}: ${summary.files.join(', ')}`,
+          ].join('\n') + '\n',
+        );
       }),
     );
 }

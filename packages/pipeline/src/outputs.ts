@@ -1,0 +1,135 @@
+import { mkdir, writeFile } from 'node:fs/promises';
+import { join } from 'node:path';
+import type { RadarLine } from '@lamina/radar-data';
+import type { Geometry, PlanFeature, Site } from '@lamina/site';
+
+export type ToWgs84 = (x: number, y: number) => [number, number];
+
+/** Plain summary of a line after positioning, kept for run.json and lines.geojson. */
+export interface LineSummary {
+  id: string;
+  file: string;
+  traces: number;
+  samples: number;
+  dtNs: number;
+  lengthM: number;
+  /** Decimated positions (site CRS) for the map: first, every k-th, last. */
+  x: number[];
+  y: number[];
+}
+
+export function summariseLine(line: RadarLine, file: string, metresPerUnit: number, maxVertices = 200): LineSummary {
+  let len = 0;
+  for (let i = 1; i < line.nTraces; i++) len += Math.hypot(line.x[i]! - line.x[i - 1]!, line.y[i]! - line.y[i - 1]!);
+  const step = Math.max(1, Math.ceil(line.nTraces / maxVertices));
+  const x: number[] = [];
+  const y: number[] = [];
+  for (let i = 0; i < line.nTraces; i += step) {
+    x.push(line.x[i]!);
+    y.push(line.y[i]!);
+  }
+  if ((line.nTraces - 1) % step !== 0) {
+    x.push(line.x[line.nTraces - 1]!);
+    y.push(line.y[line.nTraces - 1]!);
+  }
+  return { id: line.id, file, traces: line.nTraces, samples: line.nSamples, dtNs: line.dtNs, lengthM: len * metresPerUnit, x, y };
+}
+
+export function linesGeoJson(lines: LineSummary[], toWgs84: ToWgs84): object {
+  return {
+    type: 'FeatureCollection',
+    features: lines.map((l) => ({
+      type: 'Feature',
+      id: l.id,
+      properties: { id: l.id, file: l.file, traces: l.traces, lengthM: round(l.lengthM, 3) },
+      geometry: { type: 'LineString', coordinates: l.x.map((x, i) => toWgs84(x, l.y[i]!).map((v) => round(v, 8))) },
+    })),
+  };
+}
+
+export function planGeoJson(plan: PlanFeature[]): object {
+  return {
+    type: 'FeatureCollection',
+    features: plan.map((f) => ({
+      type: 'Feature',
+      id: f.id,
+      properties: { ...f.properties, id: f.id, kind: f.kind, ...(f.heightM !== undefined ? { heightM: f.heightM } : {}), ...(f.postSpacingM !== undefined ? { postSpacingM: f.postSpacingM } : {}) },
+      geometry: f.wgs84 as Geometry,
+    })),
+  };
+}
+
+/** Extent of all trace positions: site CRS [minX, minY, maxX, maxY] and WGS84 [west, south, east, north]. */
+export function extents(lines: LineSummary[], toWgs84: ToWgs84): { site: [number, number, number, number]; wgs84: [number, number, number, number] } {
+  let minX = Infinity, minY = Infinity, maxX = -Infinity, maxY = -Infinity;
+  for (const l of lines)
+    for (let i = 0; i < l.x.length; i++) {
+      minX = Math.min(minX, l.x[i]!);
+      maxX = Math.max(maxX, l.x[i]!);
+      minY = Math.min(minY, l.y[i]!);
+      maxY = Math.max(maxY, l.y[i]!);
+    }
+  const corners = [toWgs84(minX, minY), toWgs84(minX, maxY), toWgs84(maxX, minY), toWgs84(maxX, maxY)];
+  const lons = corners.map((c) => c[0]);
+  const lats = corners.map((c) => c[1]);
+  return { site: [minX, minY, maxX, maxY], wgs84: [Math.min(...lons), Math.min(...lats), Math.max(...lons), Math.max(...lats)] };
+}
+
+export interface RadargramEntry {
+  id: string;
+  file: string;
+  nTraces: number;
+  nSamples: number;
+  dtNs: number;
+  timeZeroNs: number;
+  traceStep: number;
+  x: number[];
+  y: number[];
+  lon: number[];
+  lat: number[];
+}
+
+/** Write a display radargram: little-endian Float32, trace-major, every `traceStep`-th trace. */
+export async function writeRadargram(dir: string, line: RadarLine, toWgs84: ToWgs84, maxTraces = 1500): Promise<RadargramEntry> {
+  await mkdir(join(dir, 'radargrams'), { recursive: true });
+  const step = Math.max(1, Math.ceil(line.nTraces / maxTraces));
+  const n = Math.ceil(line.nTraces / step);
+  const out = new Float32Array(n * line.nSamples);
+  const x: number[] = [], y: number[] = [], lon: number[] = [], lat: number[] = [];
+  for (let k = 0; k < n; k++) {
+    const t = k * step;
+    out.set(line.data.subarray(t * line.nSamples, (t + 1) * line.nSamples), k * line.nSamples);
+    x.push(line.x[t]!);
+    y.push(line.y[t]!);
+    const [lo, la] = toWgs84(line.x[t]!, line.y[t]!);
+    lon.push(round(lo, 8));
+    lat.push(round(la, 8));
+  }
+  const bytes = new Uint8Array(out.buffer);
+  if (!littleEndianHost()) throw new Error('big-endian hosts are not supported for radargram output');
+  const file = `radargrams/${safeName(line.id)}.f32`;
+  await writeFile(join(dir, file), bytes);
+  return { id: line.id, file, nTraces: n, nSamples: line.nSamples, dtNs: line.dtNs, timeZeroNs: line.timeZeroNs, traceStep: step, x, y, lon, lat };
+}
+
+export function safeName(id: string): string {
+  return id.replace(/[^A-Za-z0-9._-]/g, '_');
+}
+
+function littleEndianHost(): boolean {
+  return new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
+}
+
+export function round(v: number, digits: number): number {
+  const k = 10 ** digits;
+  return Math.round(v * k) / k;
+}
+
+export function siteSummary(site: Site) {
+  return {
+    name: site.name,
+    dir: site.dir,
+    crs: { input: site.crs.input, ...(site.crs.code ? { code: site.crs.code } : {}), proj4: site.crs.proj4, units: site.crs.units, metresPerUnit: site.crs.metresPerUnit },
+    antenna: site.antenna,
+  };
+}

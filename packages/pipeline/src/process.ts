@@ -1,0 +1,213 @@
+import { writeFile } from 'node:fs/promises';
+import { join } from 'node:path';
+import { InputError, isInputError } from '@lamina/errors';
+import { stageFolder } from '@lamina/atomic';
+import { loadSite, pointToWgs84, type Site } from '@lamina/site';
+import { buildVelocityReport, velocityJson, type VelocityReport } from '@lamina/velocity';
+import { defaultWindows, gridPoints, writeSlices, type SliceStack, type SliceWindow } from '@lamina/slices';
+import type { Recipe, RecipeLogEntry } from '@lamina/processing';
+import { createPool, defaultThreads, type Pool, type SerialisedError } from './pool';
+import { pass1, pass2, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
+import { extents, linesGeoJson, planGeoJson, siteSummary } from './outputs';
+
+export interface ProcessOptions {
+  /** Worker threads; 0 runs every line on the calling thread. @default LAMINA_THREADS or the core count */
+  threads?: number;
+  /** A recipe object (parsed JSON) overriding site.json's. */
+  recipe?: unknown;
+  recipeFile?: string;
+  /** Slice thickness, m. @default half a wavelength in the soil */
+  sliceThicknessM?: number;
+  sliceOverlap?: number;
+  maxDepthM?: number;
+  /** Grid cell size, m. @default a quarter of the line spacing */
+  cellSizeM?: number;
+  /** Line-level levelling of slice values. @default false */
+  level?: boolean;
+  onProgress?: (stage: string, done: number, total: number) => void;
+  /** Stop after this stage (for tests of interruption). */
+  failAfter?: string;
+}
+
+export interface ProcessSummary {
+  site: string;
+  outDir: string;
+  lines: number;
+  traces: number;
+  velocity: VelocityReport['site'];
+  slices: number;
+  files: string[];
+}
+
+const VERSION = '0.1.0';
+
+type Task = Pass1Task | Pass2Task;
+type Result = Pass1Result | Pass2Result;
+
+function revive(e: SerialisedError): Error {
+  if (e.name === 'InputError' && e.file !== undefined && e.detail !== undefined) {
+    const where: { field?: string; offset?: number; line?: number } = {};
+    if (e.field !== undefined) where.field = e.field;
+    if (e.offset !== undefined) where.offset = e.offset;
+    if (e.line !== undefined) where.line = e.line;
+    return new InputError(e.file, e.detail, where);
+  }
+  const err = new Error(e.message);
+  err.name = e.name;
+  if (e.stack) err.stack = e.stack;
+  return err;
+}
+
+/** Runs tasks on worker threads or, with 0 threads, in this thread; results in task order. */
+function runner(threads: number): { run: (t: Task) => Promise<Result>; close: () => Promise<void> } {
+  if (threads <= 0) return { run: (t) => (t.kind === 'pass1' ? pass1(t) : pass2(t)), close: async () => {} };
+  const pool: Pool<Task, Result> = createPool(new URL('./line-worker.ts', import.meta.url), threads, revive);
+  return { run: (t) => pool.run(t), close: () => pool.close() };
+}
+
+async function inOrder<T>(n: number, start: (i: number) => Promise<T>, onDone: (done: number) => void): Promise<T[]> {
+  let done = 0;
+  return Promise.all(
+    Array.from({ length: n }, (_, i) =>
+      start(i).then((r) => {
+        onDone(++done);
+        return r;
+      }),
+    ),
+  );
+}
+
+/**
+ * `lamina process`: lines -> processed -> velocity -> slices -> anomalies -> targets, written into a
+ * staging folder beside `outDir` and renamed into place only when everything succeeded. Input files are
+ * only read. An existing review.json in `outDir` is carried over and its decisions re-matched.
+ */
+export async function runProcess(siteDir: string, outDir: string, options: ProcessOptions = {}): Promise<ProcessSummary> {
+  const site = await loadSite(siteDir);
+  const recipe: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
+  const progress = options.onProgress ?? (() => {});
+  const threads = Math.min(options.threads ?? defaultThreads(), site.lines.length);
+  const stage = await stageFolder(outDir, { keep: ['review.json'] });
+  const exec = runner(threads);
+  try {
+    const n = site.lines.length;
+    progress('processing lines', 0, n);
+    const p1 = (await inOrder(n, (i) => exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path }), (d) => progress('processing lines', d, n))) as Pass1Result[];
+
+    const fits = p1.flatMap((r) => r.fits);
+    const velocity = buildVelocityReport(fits, { separationM: site.antenna.separationM });
+    await writeFile(join(stage.path, 'velocity.json'), velocityJson(velocity));
+    if (options.failAfter === 'velocity') throw new Error('stopped after velocity (failAfter)');
+
+    const windows = sliceWindowsFor(site, p1, velocity, options);
+    progress('depth slices', 0, n);
+    const p2 = (await inOrder(
+      n,
+      (i) => exec.run({ kind: 'pass2', siteDir: site.dir, line: i, recipe, model: velocity.model, velocityMPerNs: velocity.site.velocityMPerNs, windows }),
+      (d) => progress('depth slices', d, n),
+    )) as Pass2Result[];
+    await exec.close();
+
+    const gridOptions = {
+      crs: site.crs.input,
+      metresPerUnit: site.crs.metresPerUnit,
+      isGeographic: site.crs.isGeographic,
+      level: options.level ?? false,
+      ...(options.cellSizeM !== undefined ? { cellSizeM: options.cellSizeM } : {}),
+    };
+    const stack = grid(p2, windows, gridOptions, 'values');
+    const stackBeforeBackground = grid(p2, windows, gridOptions, 'valuesBeforeBackground');
+    await writeSlices(stack, stage.path);
+
+    const toWgs84 = (x: number, y: number) => pointToWgs84(site.crs, x, y);
+    const summaries = p1.map((r) => r.summary);
+    const ext = extents(summaries, toWgs84);
+    await writeJson(stage.path, 'lines.geojson', linesGeoJson(summaries, toWgs84));
+    await writeJson(stage.path, 'plan.geojson', planGeoJson(site.plan));
+    await writeJson(stage.path, 'radargrams/index.json', { lines: p1.map((r) => r.radargram) });
+    const identity = { name: site.name, crs: site.crs.input, extent: ext.wgs84 };
+    await writeJson(stage.path, 'run.json', {
+      tool: { name: 'lamina', version: VERSION },
+      createdAt: new Date().toISOString(),
+      site: { ...siteSummary(site), extentWgs84: ext.wgs84, extentSite: ext.site },
+      identity,
+      recipe,
+      log: logOf(p1[0]?.log, p2[0]?.log),
+      threads,
+      lines: summaries.map((l) => ({ id: l.id, file: l.file, traces: l.traces, samples: l.samples, dtNs: l.dtNs, lengthM: l.lengthM })),
+    });
+    void stackBeforeBackground;
+
+    if (options.failAfter === 'outputs') throw new Error('stopped before commit (failAfter)');
+    await stage.commit();
+    return {
+      site: site.name,
+      outDir,
+      lines: n,
+      traces: summaries.reduce((a, l) => a + l.traces, 0),
+      velocity: velocity.site,
+      slices: stack.slices.length,
+      files: ['run.json', 'lines.geojson', 'plan.geojson', 'velocity.json', 'slices.tif', 'slices.json', 'radargrams/index.json'],
+    };
+  } catch (e) {
+    await exec.close().catch(() => {});
+    await stage.abort().catch(() => {});
+    if (isInputError(e)) throw e;
+    throw e;
+  }
+}
+
+function sliceWindowsFor(site: Site, p1: Pass1Result[], velocity: VelocityReport, options: ProcessOptions): SliceWindow[] {
+  // The shallowest record bounds the depth range (every trace must reach every slice).
+  let nSamples = Infinity, dtNs = 0, timeZeroNs = 0, reach = Infinity;
+  for (const r of p1) {
+    const t = (r.nSamples - 1) * r.dtNs - r.timeZeroNs;
+    if (t < reach) {
+      reach = t;
+      nSamples = r.nSamples;
+      dtNs = r.dtNs;
+      timeZeroNs = r.timeZeroNs;
+    }
+  }
+  return defaultWindows({
+    model: velocity.model,
+    separationM: site.antenna.separationM,
+    frequencyMHz: site.antenna.frequencyMHz,
+    nSamples,
+    dtNs,
+    timeZeroNs,
+    ...(options.maxDepthM !== undefined ? { bottomM: options.maxDepthM } : {}),
+    ...(options.sliceThicknessM !== undefined ? { thicknessM: options.sliceThicknessM } : {}),
+    ...(options.sliceOverlap !== undefined ? { overlap: options.sliceOverlap } : {}),
+  });
+}
+
+function grid(p2: Pass2Result[], windows: SliceWindow[], options: Parameters<typeof gridPoints>[4], key: 'values' | 'valuesBeforeBackground'): SliceStack {
+  const total = p2.reduce((a, r) => a + r.x.length, 0);
+  const coords = new Float64Array(2 * total);
+  const values = new Float32Array(total * windows.length);
+  const starts = new Int32Array(p2.length + 1);
+  let k = 0;
+  p2.forEach((r, i) => {
+    starts[i] = k;
+    for (let t = 0; t < r.x.length; t++) {
+      coords[2 * (k + t)] = r.x[t]!;
+      coords[2 * (k + t) + 1] = r.y[t]!;
+    }
+    values.set(r[key], k * windows.length);
+    k += r.x.length;
+  });
+  starts[p2.length] = k;
+  return gridPoints(coords, values, starts, windows, options, 'mean-square');
+}
+
+function logOf(a: RecipeLogEntry[] | undefined, b: RecipeLogEntry[] | undefined): RecipeLogEntry[] {
+  return (b ?? a ?? []).map((e) => e);
+}
+
+async function writeJson(dir: string, name: string, obj: unknown): Promise<void> {
+  const { mkdir } = await import('node:fs/promises');
+  const { dirname } = await import('node:path');
+  await mkdir(dirname(join(dir, name)), { recursive: true });
+  await writeFile(join(dir, name), JSON.stringify(obj, null, 1) + '\n');
+}
