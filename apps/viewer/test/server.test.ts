@@ -1,0 +1,241 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { request } from 'node:http';
+import { mkdtemp, mkdir, readFile, symlink, writeFile } from 'node:fs/promises';
+import { networkInterfaces, tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { parseReview } from '@lamina/targets';
+import { startViewerServer, type ViewerServer, findExportTargets } from '../src';
+import { writeFixture } from './fixture';
+
+/** Raw HTTP request: the path goes on the wire exactly as given (no URL normalisation). */
+function raw(port: number, path: string, init: { method?: string; headers?: Record<string, string>; body?: string } = {}): Promise<{ status: number; headers: Record<string, string | string[] | undefined>; body: Buffer }> {
+  return new Promise((ok, fail) => {
+    const req = request({ host: '127.0.0.1', port, path, method: init.method ?? 'GET', headers: init.headers }, (res) => {
+      const chunks: Buffer[] = [];
+      res.on('data', (c: Buffer) => chunks.push(c));
+      res.on('end', () => ok({ status: res.statusCode ?? 0, headers: res.headers, body: Buffer.concat(chunks) }));
+    });
+    req.on('error', fail);
+    if (init.body) req.write(init.body);
+    req.end();
+  });
+}
+const postJson = (port: number, path: string, body: unknown) => raw(port, path, { method: 'POST', headers: { 'Content-Type': 'application/json' }, body: JSON.stringify(body) });
+
+const SECRET = 'outside-the-output-folder-7f3a';
+let root: string;
+let out: string;
+let dist: string;
+let srv: ViewerServer;
+
+beforeAll(async () => {
+  root = await mkdtemp(join(tmpdir(), 'lamina-viewer-srv-'));
+  out = join(root, 'out');
+  dist = join(root, 'dist');
+  await mkdir(out);
+  await mkdir(join(dist, 'assets'), { recursive: true });
+  await writeFile(join(dist, 'index.html'), '<!doctype html><title>t</title>');
+  await writeFile(join(dist, 'assets', 'w.mjs'), 'export {};');
+  await writeFile(join(root, 'secret.txt'), SECRET);
+  await writeFixture(out);
+  // many anomalies for the concurrency test
+  const fc = JSON.parse(await readFile(join(out, 'anomalies.geojson'), 'utf8')) as { features: unknown[] };
+  for (let i = 0; i < 40; i++) {
+    fc.features.push({ type: 'Feature', properties: { id: `c${i}`, depthTopM: 0.2, depthBottomM: 0.4, origin: 'subsurface', confidence: 0.5, evidence: [] }, geometry: { type: 'Point', coordinates: [-79.6 + i * 1e-5, 36.0] } });
+  }
+  await writeFile(join(out, 'anomalies.geojson'), JSON.stringify(fc));
+  await symlink(join(root, 'secret.txt'), join(out, 'link-out.txt'));
+  await symlink(root, join(out, 'link-dir'));
+  await symlink(join(out, 'run.json'), join(out, 'link-in.json'));
+  srv = await startViewerServer(out, { distDir: dist });
+});
+afterAll(async () => {
+  await srv?.close();
+});
+
+describe('binding', () => {
+  it('binds 127.0.0.1 by default and prints a loopback URL', () => {
+    const a = srv.server.address();
+    expect(typeof a === 'object' && a?.address).toBe('127.0.0.1');
+    expect(srv.url).toBe(`http://127.0.0.1:${srv.port}/`);
+  });
+
+  it('is not reachable on the machine\'s other addresses', async () => {
+    const others = Object.values(networkInterfaces()).flat().filter((i) => i && i.family === 'IPv4' && !i.internal).map((i) => i!.address);
+    for (const host of others) {
+      const err = await new Promise<NodeJS.ErrnoException | undefined>((ok) => {
+        const req = request({ host, port: srv.port, path: '/', timeout: 2000 }, () => ok(undefined));
+        req.on('error', (e) => ok(e));
+        req.end();
+      });
+      expect(err?.code, host).toBe('ECONNREFUSED');
+    }
+  });
+
+  it('binds another address only when asked', async () => {
+    const s = await startViewerServer(out, { distDir: dist, host: '0.0.0.0' });
+    try {
+      const a = s.server.address();
+      expect(typeof a === 'object' && a?.address).toBe('0.0.0.0');
+    } finally {
+      await s.close();
+    }
+  });
+
+  it('refuses a Host header that is not loopback on a loopback bind (DNS rebinding)', async () => {
+    const r = await raw(srv.port, '/data/run.json', { headers: { Host: 'attacker.example:80' } });
+    expect(r.status).toBe(403);
+  });
+});
+
+describe('serves only its folder', () => {
+  // Each must be refused (403 for traversal, 404 where the name simply does not exist inside) and never leak the file.
+  const attempts = [
+    '/data/../secret.txt',
+    '/data/%2e%2e/secret.txt',
+    '/data/%2E%2E/secret.txt',
+    '/data/.%2e/secret.txt',
+    '/data/%2e%2e%2fsecret.txt',
+    '/data/..%2fsecret.txt',
+    '/data/..%5csecret.txt',
+    '/data/radargrams/../../secret.txt',
+    '/data/radargrams/%2e%2e/%2e%2e/secret.txt',
+    '/data/%252e%252e/secret.txt',
+    '/data/run.json%00.txt',
+    '/data/link-out.txt',
+    '/data/link-dir/secret.txt',
+    '/data//etc/passwd',
+    '/../secret.txt',
+    '/%2e%2e/secret.txt',
+    '/assets/%2e%2e/%2e%2e/secret.txt',
+  ];
+  for (const path of attempts) {
+    it(`refuses ${path}`, async () => {
+      const r = await raw(srv.port, path);
+      expect([400, 403, 404]).toContain(r.status);
+      expect(r.body.toString()).not.toContain(SECRET);
+    });
+  }
+
+  it('answers 403 (not 404) for dot segments and symlinks that leave the folder', async () => {
+    for (const p of ['/data/../secret.txt', '/data/%2e%2e/secret.txt', '/data/..%2fsecret.txt', '/data/link-out.txt', '/data/link-dir/secret.txt']) {
+      expect((await raw(srv.port, p)).status, p).toBe(403);
+    }
+  });
+
+  it('follows a symlink that stays inside the folder', async () => {
+    const r = await raw(srv.port, '/data/link-in.json');
+    expect(r.status).toBe(200);
+    expect(JSON.parse(r.body.toString()).identity.name).toBe('fixture-yard');
+  });
+
+  it('hides dot files (temporary files of atomic writes)', async () => {
+    await writeFile(join(out, '.review.json.tmp'), '{}');
+    expect((await raw(srv.port, '/data/.review.json.tmp')).status).toBe(404);
+  });
+
+  it('refuses writes to the static and data paths', async () => {
+    expect((await raw(srv.port, '/data/run.json', { method: 'PUT', body: 'x' })).status).toBe(405);
+  });
+});
+
+describe('content', () => {
+  it('serves .mjs as text/javascript and .tif as image/tiff', async () => {
+    const m = await raw(srv.port, '/assets/w.mjs');
+    expect(m.status).toBe(200);
+    expect(m.headers['content-type']).toMatch(/^text\/javascript/);
+    const t = await raw(srv.port, '/data/slices.tif', { method: 'HEAD' });
+    expect(t.status).toBe(200);
+    expect(t.headers['content-type']).toBe('image/tiff');
+    expect((await raw(srv.port, '/')).headers['content-type']).toMatch(/^text\/html/);
+  });
+
+  it('answers byte ranges as RFC 9110 says (206 + Content-Range; suffix ranges; 416)', async () => {
+    const whole = await readFile(join(out, 'slices.tif'));
+    const a = await raw(srv.port, '/data/slices.tif', { headers: { Range: 'bytes=0-7' } });
+    expect(a.status).toBe(206);
+    expect(a.headers['content-range']).toBe(`bytes 0-7/${whole.length}`);
+    expect(a.body.equals(whole.subarray(0, 8))).toBe(true);
+    // TIFF magic: "II*\0" little-endian (TIFF 6.0 spec, section 2)
+    expect(a.body.subarray(0, 4).toString('latin1')).toBe('II*\0');
+    const s = await raw(srv.port, '/data/slices.tif', { headers: { Range: 'bytes=-10' } });
+    expect(s.body.equals(whole.subarray(whole.length - 10))).toBe(true);
+    const o = await raw(srv.port, '/data/slices.tif', { headers: { Range: `bytes=${whole.length}-` } });
+    expect(o.status).toBe(416);
+  });
+});
+
+describe('review API', () => {
+  it('rejects a body that fails validation, a non-JSON content type and an unknown anomaly', async () => {
+    expect((await postJson(srv.port, '/api/review', { anomalyId: 'a1', decision: 'maybe' })).status).toBe(400);
+    expect((await postJson(srv.port, '/api/review', { anomalyId: 'a1', utilityType: 'lava' })).status).toBe(400);
+    expect((await postJson(srv.port, '/api/review', { anomalyId: 'a1', extra: 1 })).status).toBe(400);
+    expect((await raw(srv.port, '/api/review', { method: 'POST', headers: { 'Content-Type': 'text/plain' }, body: '{"anomalyId":"a1"}' })).status).toBe(415);
+    expect((await postJson(srv.port, '/api/review', { anomalyId: 'nope', decision: 'reject' })).status).toBe(404);
+    const x = await raw(srv.port, '/api/review', { method: 'POST', headers: { 'Content-Type': 'application/json', Origin: 'http://attacker.example' }, body: '{"anomalyId":"a1"}' });
+    expect(x.status).toBe(403);
+  });
+
+  it('merges fields into one decision and writes a valid review.json', async () => {
+    expect((await postJson(srv.port, '/api/review', { anomalyId: 'a1', decision: 'accept' })).status).toBe(200);
+    const r = await postJson(srv.port, '/api/review', { anomalyId: 'a1', utilityType: 'water', note: 'pipe, 0.3 m' });
+    expect(r.status).toBe(200);
+    const review = parseReview(JSON.parse(await readFile(join(out, 'review.json'), 'utf8')), 'review.json');
+    const d = review.decisions.find((x) => x.anomalyId === 'a1')!;
+    expect(d).toMatchObject({ decision: 'accept', utilityType: 'water', note: 'pipe, 0.3 m' });
+    // anchor: centroid of the square outline, depth range from the anomaly
+    expect(d.anchor.depthTopM).toBe(0);
+    expect(d.anchor.depthBottomM).toBe(0.4);
+    const cleared = await postJson(srv.port, '/api/review', { anomalyId: 'a1', note: null });
+    expect(JSON.parse(cleared.body.toString()).decision.note).toBeUndefined();
+  });
+
+  it('loses no decision when two clients write at once', async () => {
+    // Two clients, each sending 20 decisions on its own anomalies plus 10 edits of one shared anomaly, all in flight together.
+    const a = Array.from({ length: 20 }, (_, i) => postJson(srv.port, '/api/review', { anomalyId: `c${i}`, decision: 'accept', by: 'client-a' }));
+    const b = Array.from({ length: 20 }, (_, i) => postJson(srv.port, '/api/review', { anomalyId: `c${20 + i}`, decision: 'reject', by: 'client-b' }));
+    const shared = Array.from({ length: 10 }, (_, i) => postJson(srv.port, '/api/review', i % 2 ? { anomalyId: 'a3', note: `note ${i}` } : { anomalyId: 'a3', label: `label ${i}` }));
+    const all = await Promise.all([...a, ...b, ...shared]);
+    expect(all.every((r) => r.status === 200)).toBe(true);
+    const review = parseReview(JSON.parse(await readFile(join(out, 'review.json'), 'utf8')), 'review.json');
+    for (let i = 0; i < 40; i++) {
+      const d = review.decisions.find((x) => x.anomalyId === `c${i}`);
+      expect(d?.decision, `c${i}`).toBe(i < 20 ? 'accept' : 'reject');
+    }
+    const a3 = review.decisions.filter((x) => x.anomalyId === 'a3');
+    expect(a3).toHaveLength(1);
+    expect(a3[0]).toMatchObject({ label: 'label 8', note: 'note 9' });
+    expect(review.decisions.find((x) => x.anomalyId === 'a1')?.decision).toBe('accept');
+  });
+
+  it('refuses a review.json of another site with a message naming the file', async () => {
+    const other = await mkdtemp(join(tmpdir(), 'lamina-viewer-other-'));
+    await writeFixture(other);
+    await writeFile(join(other, 'review.json'), JSON.stringify({ version: 1, site: { name: 'another-site', crs: 'EPSG:32617', extent: [0, 0, 1, 1] }, decisions: [] }));
+    const s = await startViewerServer(other, { distDir: dist });
+    try {
+      const r = await raw(s.port, '/api/review');
+      expect(r.status).toBe(422);
+      expect(JSON.parse(r.body.toString()).error).toMatch(/review\.json: site: belongs to another site/);
+    } finally {
+      await s.close();
+    }
+  });
+
+  it('runs exportTargets when @lamina/targets has it, else answers 501 with a reason', async () => {
+    const r = await postJson(srv.port, '/api/export', {});
+    if (findExportTargets()) expect(r.status).toBe(200);
+    else {
+      expect(r.status).toBe(501);
+      expect(JSON.parse(r.body.toString()).error).toMatch(/exportTargets/);
+    }
+  });
+
+  it('offers the cautions and no basemap unless one is set', async () => {
+    const c = JSON.parse((await raw(srv.port, '/api/config')).body.toString());
+    expect(c.basemap).toBeNull();
+    expect(c.cautions.join(' ')).toMatch(/one-call/);
+    expect(c.cautions.join(' ')).toMatch(/pothol/);
+    expect(c.utilityTypes).toContain('gas');
+  });
+});
