@@ -4,7 +4,7 @@ import { InputError, isInputError } from '@lamina/errors';
 import type { RadarLine } from '@lamina/radar-data';
 import { resolveCrs } from './crs';
 import { lineGeometry, type LineGeometry } from './geometry';
-import { checkSiteJson, LINE_ID } from './manifest';
+import { checkSiteJson, LINE_ID, sortProblems } from './manifest';
 import { readPlan } from './plan';
 import { HEADER_FIELDS, applyGpsOffset, checkPositions, parsePositionsCsv, positionsFromFixes, positionsFromHeaders, positionsFromStartEnd, type TracePositions } from './positions';
 import { InputProblems, parseJson, type Problem } from './problems';
@@ -49,21 +49,25 @@ export async function loadSite(dir: string): Promise<Site> {
   } catch {
     throw new InputError(shown, `expected a site manifest, found no readable site.json in ${shownPath(siteDir)}`);
   }
-  const checked = checkSiteJson(parseJson(text, shown));
+  const raw = parseJson(text, shown);
+  const checked = checkSiteJson(raw);
   const problems: Problem[] = [...checked.problems];
   const json = checked.value;
-  if (!json) throw new InputProblems(shown, problems);
+  const crsText = json?.crs ?? (raw as { crs?: unknown } | null)?.crs;
 
   let crs: Crs | undefined;
-  try {
-    crs = resolveCrs(json.crs, { file: shown, field: 'crs' });
-    if (crs.isGeographic) {
-      problems.push({ path: 'crs', message: `expected a projected CRS (trace positions are gridded in metres or feet), found the geographic CRS ${crs.code ?? crs.proj4}; use e.g. the UTM zone of the site` });
+  if (typeof crsText === 'string' && crsText !== '') {
+    try {
+      crs = resolveCrs(crsText, { file: shown, field: 'crs' });
+      if (crs.isGeographic) {
+        problems.push({ path: 'crs', message: `expected a projected CRS (trace positions are gridded in metres or feet), found the geographic CRS ${crs.code ?? crs.proj4}; use e.g. the UTM zone of the site` });
+      }
+    } catch (e) {
+      if (!isInputError(e)) throw e;
+      problems.push({ path: 'crs', message: e.detail });
     }
-  } catch (e) {
-    if (!isInputError(e)) throw e;
-    problems.push({ path: 'crs', message: e.detail });
   }
+  if (!json) throw new InputProblems(shown, sortProblems(problems, raw));
 
   const lines: LineSource[] = [];
   const ids = new Map<string, number>();
@@ -96,7 +100,7 @@ export async function loadSite(dir: string): Promise<Site> {
     planFile = resolve(siteDir, json.plan);
     if (!(await isFile(planFile))) problems.push({ path: 'plan', message: `expected a plan GeoJSON, found no file at ${shownPath(planFile)}` });
   }
-  if (problems.length || !crs) throw new InputProblems(shown, problems);
+  if (problems.length || !crs) throw new InputProblems(shown, sortProblems(problems, raw));
 
   const plan = planFile ? await readPlan(planFile, shownPath(planFile), { crs }) : [];
   const antenna: Site['antenna'] = { frequencyMHz: json.antenna.frequencyMHz, separationM: json.antenna.separationM };

@@ -28,24 +28,12 @@ export const antennaSchema = z.strictObject({
   gpsOffset: gpsOffsetSchema.optional(),
 });
 
-export const lineSchema = z
-  .strictObject({
+export const lineSchema = z.strictObject({
     file: text('the path of a SEG-Y file'),
     id: text('a line id').regex(LINE_ID, { error: (iss) => `expected a line id of letters, digits, ".", "_" or "-" (it becomes a file name), found ${describe(iss.input)}` }).optional(),
     start: xy.optional(),
     end: xy.optional(),
     positions: text('the path of a positions CSV (trace,x,y)').optional(),
-  })
-  .superRefine((l, ctx) => {
-    if ((l.start === undefined) !== (l.end === undefined)) {
-      ctx.addIssue({ code: 'custom', path: [l.start === undefined ? 'start' : 'end'], message: 'missing: "start" and "end" go together (traces are spaced evenly from start to end)' });
-    }
-    if (l.positions !== undefined && (l.start !== undefined || l.end !== undefined)) {
-      ctx.addIssue({ code: 'custom', path: ['positions'], message: 'expected one position source, found both "positions" and "start"/"end"' });
-    }
-    if (l.start && l.end && l.start[0] === l.end[0] && l.start[1] === l.end[1]) {
-      ctx.addIssue({ code: 'custom', path: ['end'], message: `expected an end different from start, found both at [${l.start.join(', ')}]` });
-    }
   });
 
 export const siteSchema = z.strictObject({
@@ -62,12 +50,49 @@ export const siteSchema = z.strictObject({
 export type SiteJson = z.infer<typeof siteSchema>;
 export type SiteJsonLine = z.infer<typeof lineSchema>;
 
+function lineRules(l: unknown, i: number): Problem[] {
+  if (l === null || typeof l !== 'object') return [];
+  const { start, end, positions } = l as { start?: unknown; end?: unknown; positions?: unknown };
+  const out: Problem[] = [];
+  if ((start === undefined) !== (end === undefined)) {
+    out.push({ path: `lines[${i}].${start === undefined ? 'start' : 'end'}`, message: 'missing: "start" and "end" go together (traces are spaced evenly from start to end)' });
+  }
+  if (positions !== undefined && (start !== undefined || end !== undefined)) {
+    out.push({ path: `lines[${i}].positions`, message: 'expected one position source, found both "positions" and "start"/"end"' });
+  }
+  const a = xy.safeParse(start);
+  const b = xy.safeParse(end);
+  if (a.success && b.success && a.data[0] === b.data[0] && a.data[1] === b.data[1]) {
+    out.push({ path: `lines[${i}].end`, message: `expected an end different from start, found both at [${a.data.join(', ')}]` });
+  }
+  return out;
+}
+
+/** Problems in document order: top-level keys as written, then by line index. */
+function order(path: string, doc: object): number {
+  const keys = Object.keys(doc);
+  const top = /^[A-Za-z_$][\w$]*/.exec(path)?.[0] ?? '';
+  const k = keys.indexOf(top);
+  const line = /^lines\[(\d+)\]/.exec(path);
+  return (k < 0 ? keys.length : k) * 1e6 + (line ? Number(line[1]) : 0);
+}
+
+/** Sort problems into the order their keys appear in the document (stable within a key). */
+export function sortProblems(problems: Problem[], doc: unknown): Problem[] {
+  if (doc === null || typeof doc !== 'object') return problems;
+  return problems.sort((p, q) => order(p.path, doc) - order(q.path, doc));
+}
+
 /** Validate parsed site.json; every problem with its JSON path (empty when valid). */
 export function checkSiteJson(value: unknown): { value?: SiteJson; problems: Problem[] } {
   if (value === null || typeof value !== 'object' || Array.isArray(value)) {
     return { problems: [{ path: '(top level)', message: `expected a JSON object, found ${describe(value)}` }] };
   }
   const r = siteSchema.safeParse(value);
-  if (!r.success) return { problems: zodProblems(r.error) };
-  return { value: r.data, problems: [] };
+  const problems = r.success ? [] : zodProblems(r.error);
+  // Cross-field rules run on the raw lines so they show beside the field errors zod reports.
+  const lines = (value as { lines?: unknown }).lines;
+  if (Array.isArray(lines)) lines.forEach((l, i) => problems.push(...lineRules(l, i)));
+  sortProblems(problems, value);
+  return r.success && problems.length === 0 ? { value: r.data, problems } : { problems };
 }

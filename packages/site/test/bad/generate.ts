@@ -52,6 +52,7 @@ const cases: Case[] = [
   // --- site.json ---
   { name: 'site-json-syntax', kind: 'site', files: { 'site.json': '{\n  "name": "x",\n}\n' }, error: '<dir>/site.json: line 3: expected valid JSON, found a syntax error (Expected double-quoted property name in JSON at position 17)' },
   { name: 'site-not-object', kind: 'site', files: { 'site.json': '[1, 2]' }, error: '<dir>/site.json: (top level): expected a JSON object, found an array' },
+  { name: 'site-null', kind: 'site', files: { 'site.json': 'null\n' }, error: '<dir>/site.json: (top level): expected a JSON object, found null' },
   { name: 'site-missing-manifest', kind: 'site', files: { 'readme.txt': 'no site.json here\n' }, error: '<dir>/site.json: expected a site manifest, found no readable site.json in <dir>' },
   { name: 'site-missing-name', kind: 'site', files: { 'site.json': JSON.stringify({ ...good, name: undefined }) }, error: '<dir>/site.json: name: missing: expected a site name' },
   { name: 'site-empty-name', kind: 'site', files: { 'site.json': site({ name: '' }) }, error: '<dir>/site.json: name: expected a site name, found an empty string' },
@@ -81,7 +82,8 @@ const cases: Case[] = [
     name: 'site-several-problems',
     kind: 'site',
     files: { 'site.json': site({ name: 7, antenna: { frequencyMHz: 0, separationM: 0.16 }, crs: 'EPSG:999999' }) },
-    error: '<dir>/site.json: name: expected a site name, found 7 (1 more problem: antenna.frequencyMHz: expected the centre frequency in MHz > 0, found 0)',
+    error:
+      '<dir>/site.json: name: expected a site name, found 7 (2 more problems: crs: unknown CRS EPSG:999999: not in the bundled EPSG registry (proj4-list); give its proj4 string instead (e.g. from `projinfo EPSG:999999 -o PROJ -q`); antenna.frequencyMHz: expected the centre frequency in MHz > 0, found 0)',
   },
   // --- plan.geojson ---
   { name: 'plan-no-kind', kind: 'plan', files: { 'plan.geojson': fc(feat(undefined, { type: 'Point', coordinates: [lon0, lat0] }, { name: 'post' })) }, error: `<dir>/plan.geojson: features[0].properties.kind: missing: expected one of ${KINDS}` },
