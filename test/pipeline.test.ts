@@ -1,0 +1,87 @@
+import { beforeAll, describe, expect, it } from 'vitest';
+import { spawn } from 'node:child_process';
+import { createHash } from 'node:crypto';
+import { cp, mkdtemp, readFile, readdir, stat, truncate, writeFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { simulateScenarioFile } from '@lamina/simulate';
+import { runProcess } from '@lamina/pipeline';
+
+const root = resolve(dirname(fileURLToPath(import.meta.url)), '..');
+const scenario = join(root, 'test/fixtures/tiny-scenario.json');
+let work: string;
+let siteDir: string;
+
+async function hashTree(dir: string): Promise<Record<string, string>> {
+  const out: Record<string, string> = {};
+  for (const e of await readdir(dir, { recursive: true, withFileTypes: true })) {
+    if (!e.isFile()) continue;
+    const p = join(e.parentPath, e.name);
+    out[p.slice(dir.length + 1)] = createHash('sha256').update(await readFile(p)).digest('hex');
+  }
+  return out;
+}
+
+beforeAll(async () => {
+  work = await mkdtemp(join(tmpdir(), 'lamina-pipeline-'));
+  siteDir = join(work, 'site');
+  await simulateScenarioFile(scenario, siteDir);
+});
+
+describe('process pipeline', () => {
+  it('gives the same outputs on worker threads as on the calling thread, and leaves inputs untouched', async () => {
+    const before = await hashTree(siteDir);
+    await runProcess(siteDir, join(work, 'single'), { threads: 0 });
+    await runProcess(siteDir, join(work, 'multi'), { threads: 2 });
+    const a = await hashTree(join(work, 'single'));
+    const b = await hashTree(join(work, 'multi'));
+    delete a['run.json'];
+    delete b['run.json'];
+    expect(Object.keys(a).sort()).toEqual(Object.keys(b).sort());
+    expect(b).toEqual(a);
+    expect(await hashTree(siteDir)).toEqual(before);
+  });
+
+  it('writes nothing when an input is bad, and names the file', async () => {
+    const bad = join(work, 'bad-site');
+    await cp(siteDir, bad, { recursive: true });
+    const sgy = join(bad, 'lines', (await readdir(join(bad, 'lines'))).find((f) => f.endsWith('.sgy'))!);
+    await truncate(sgy, (await stat(sgy)).size - 100);
+    const out = join(work, 'bad-out');
+    await expect(runProcess(bad, out, { threads: 2 })).rejects.toThrow(/\.sgy/);
+    await expect(stat(out)).rejects.toThrow();
+    expect((await readdir(work)).filter((f) => f.includes('lamina-stage'))).toEqual([]);
+  });
+
+  it('keeps previous outputs and review.json intact when killed with SIGKILL mid-run', async () => {
+    const out = join(work, 'killed');
+    await runProcess(siteDir, out, { threads: 0 });
+    const review = join(out, 'review.json');
+    if (!(await stat(review).catch(() => null))) {
+      const run = JSON.parse(await readFile(join(out, 'run.json'), 'utf8'));
+      await writeFile(review, JSON.stringify({ version: 1, site: run.identity, decisions: [] }, null, 2));
+    }
+    const previous = await hashTree(out);
+    const child = spawn(process.execPath, ['--import', 'tsx', join(root, 'apps/cli/src/main.ts'), 'process', siteDir, '--out', out, '--threads', '2'], {
+      cwd: root,
+      stdio: 'ignore',
+    });
+    // Kill once the run has started writing its stage folder: mid-run by construction.
+    const deadline = Date.now() + 60_000;
+    for (;;) {
+      const staged = (await readdir(work)).some((f) => f.startsWith('.lamina-stage-killed-'));
+      if (staged) break;
+      if (Date.now() > deadline) throw new Error('the run never started staging');
+      await new Promise((r) => setTimeout(r, 20));
+    }
+    await new Promise((r) => setTimeout(r, 300));
+    child.kill('SIGKILL');
+    await new Promise((r) => child.on('exit', r));
+    expect(await hashTree(out)).toEqual(previous);
+    // The next run clears the stale stage and keeps the review.
+    await runProcess(siteDir, out, { threads: 0 });
+    expect((await readdir(work)).filter((f) => f.startsWith('.lamina-stage-killed-'))).toEqual([]);
+    expect(await readFile(review, 'utf8')).toBeTruthy();
+  });
+});
