@@ -25,7 +25,7 @@ export interface DetectOptions {
   minVelocityMPerNs?: number;
   /** Beyond c (0.2998) on purpose, so air events are fitted and v > c can be flagged. @default 0.45 */
   maxVelocityMPerNs?: number;
-  /** @default 72 */
+  /** @default 48 */
   velocitySteps?: number;
   /** Half-aperture angle from vertical of the curve scan and the flank picks, degrees. @default 60 */
   apertureAngleDeg?: number;
@@ -45,7 +45,7 @@ export interface DetectOptions {
   minPicks?: number;
   /** Picks needed on each side of the apex. @default 3 */
   minPicksPerSide?: number;
-  /** Largest accepted weighted RMS residual, in periods of the centre frequency. @default 0.2 */
+  /** Largest accepted weighted RMS residual, in periods of the centre frequency. @default 0.12 */
   maxRmsPeriods?: number;
   /** Largest accepted sigma(v) / v. @default 0.1 */
   maxRelativeUncertainty?: number;
@@ -164,7 +164,7 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   const mpu = options.metresPerUnit ?? 1;
   const vMin = options.minVelocityMPerNs ?? 0.03;
   const vMax = options.maxVelocityMPerNs ?? 0.45;
-  const nV = options.velocitySteps ?? 72;
+  const nV = options.velocitySteps ?? 48;
   const tanA = Math.tan(((options.apertureAngleDeg ?? 60) * Math.PI) / 180);
   const maxAp = options.maxApertureM ?? 4;
   const bgM = options.backgroundWindowM ?? 10;
@@ -173,7 +173,7 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   const maxCand = options.maxCandidates ?? 400;
   const minPicks = options.minPicks ?? 8;
   const minSide = options.minPicksPerSide ?? 3;
-  const maxRmsP = options.maxRmsPeriods ?? 0.2;
+  const maxRmsP = options.maxRmsPeriods ?? 0.12;
   const maxRel = options.maxRelativeUncertainty ?? 0.1;
 
   const along = alongLine(line, mpu);
@@ -202,11 +202,13 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
 
   // Apex candidates: local maxima after the direct wave.
   const sStart = Math.max(1, Math.ceil(sampleOf(1.5 * periodNs)));
+  // Apexes need room below them for a wavelet and some move-out before the end of the record.
+  const sEnd = nSamples - 1 - 4 * halfPeriodS;
   const nbT = 2;
-  const apexShift = 3;
+  const apexShift = 2;
   const cands: { t: number; s: number; v: number }[] = [];
   for (let t = 0; t < nTraces; t++) {
-    for (let s = sStart; s < nSamples - 1; s++) {
+    for (let s = sStart; s < sEnd; s++) {
       const v = N[t * nSamples + s]!;
       if (v < candTh) continue;
       let isMax = true;
@@ -244,7 +246,9 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
     const [a, b] = traceRange(x0, ap);
     let acc = 0;
     let cnt = 0;
-    for (let j = a; j <= b; j++) {
+    // At most about 120 traces per curve: the score is a mean, so a stride keeps it comparable.
+    const stride = Math.max(1, Math.ceil((b - a + 1) / 120));
+    for (let j = a; j <= b; j += stride) {
       acc += at(j, sampleOf(hyperbolaTime(along[j]!, x0, z, v, sep)));
       cnt++;
     }
@@ -260,7 +264,7 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
       const sc = Math.round(sampleOf(hyperbolaTime(along[j]!, x0, z, v, sep)));
       let best = -1;
       let bestV = 0;
-      for (let s = Math.max(1, sc - win); s <= Math.min(nSamples - 2, sc + win); s++) {
+      for (let s = Math.max(1, sc - win); s <= Math.min(nSamples - 1 - halfPeriodS, sc + win); s++) {
         const o = j * nSamples + s;
         const u = E[o]!;
         if (u > bestV && N[o]! >= pickTh && u >= E[o - 1]! && u >= E[o + 1]!) {

@@ -26,3 +26,4 @@ export {
 } from './site-model';
 export { toHyperbolaFit, lineHyperbolas, buildVelocityReport, velocityJson, writeVelocityJson, type ReportOptions } from './report';
 export { parsePicks, fitManualPicks, type PicksFile, type ManualHyperbola } from './picks';
+export { lineDirection, correctObliqueCrossings, type ObliqueOptions } from './oblique';

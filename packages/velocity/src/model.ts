@@ -34,6 +34,12 @@ export interface HyperbolaFit {
   rmsNs?: number;
   /** Picks retained by the robust fit (weight > 0) of all picks. */
   inliers?: number;
+  /**
+   * Set when the fit belongs to a linear reflector crossing several lines obliquely (see
+   * `correctObliqueCrossings`): velocity and depth above are corrected by sin(angle); the apparent
+   * values of the hyperbola are kept here.
+   */
+  crossing?: { feature: string; angleDeg: number; apparentVelocityMPerNs: number; apparentDepthM: number; lines: number };
 }
 
 /** Interval velocity layer (Dix), depth in metres. */

@@ -3,6 +3,7 @@ import type { RadarLine } from '@lamina/radar-data';
 import { detectHyperbolas, type DetectOptions, type DetectedHyperbola } from './detect';
 import type { PointFit } from './fit';
 import { C_M_PER_NS, type HyperbolaFit, type VelocityReport } from './model';
+import { correctObliqueCrossings, type ObliqueOptions } from './oblique';
 import { permittivityFromVelocity } from './physics';
 import { ABOVE_GROUND_MAX_PERMITTIVITY, classifyVelocity, siteVelocityModel, type SiteModelOptions } from './site-model';
 
@@ -41,20 +42,23 @@ export function lineHyperbolas(line: RadarLine, options: DetectOptions & { above
   return detectHyperbolas(line, options).map((d: DetectedHyperbola) => toHyperbolaFit(line.id, d, 'auto', options));
 }
 
-export interface ReportOptions extends SiteModelOptions {
+export interface ReportOptions extends SiteModelOptions, ObliqueOptions {
   /** Antenna separation, m (recorded in `method`). @default 0 */
   separationM?: number;
   /** @default 2 (common practice, no source) */
   aboveGroundMaxPermittivity?: number;
+  /** Unit direction of each line (`lineDirection`), by line id: enables the oblique-crossing correction. */
+  lineDirections?: Record<string, [number, number]>;
 }
 
-/** The velocity.json content from all fits of a site. */
+/** The velocity.json content from all fits of a site (oblique crossings corrected when `lineDirections` is given). */
 export function buildVelocityReport(fits: HyperbolaFit[], options: ReportOptions = {}): VelocityReport {
-  const { site, model } = siteVelocityModel(fits, options);
+  const all = options.lineDirections ? correctObliqueCrossings(fits, options.lineDirections, options) : fits;
+  const { site, model } = siteVelocityModel(all, options);
   return {
     site,
     model,
-    hyperbolas: fits,
+    hyperbolas: all,
     method: {
       separationM: options.separationM ?? 0,
       cMPerNs: C_M_PER_NS,

@@ -49,6 +49,8 @@ export interface SiteModelOptions {
   minFitsPerLayer?: number;
   /** Difference of the group velocities, in combined standard errors, that calls for layers. @default 3 */
   layerSignificance?: number;
+  /** Systematic error of a group velocity, as a fraction of it, added to its standard error. @default 0.02 */
+  layerSystematic?: number;
 }
 
 /**
@@ -94,6 +96,7 @@ function moisture(k: number, assumed: boolean): { moisture?: VelocityReport['sit
 function twoLayer(usable: HyperbolaFit[], weightOf: (f: HyperbolaFit) => number, options: SiteModelOptions, bottom: number): VelocityModel | null {
   const minN = options.minFitsPerLayer ?? 4;
   const sig = options.layerSignificance ?? 3;
+  const systematic = options.layerSystematic ?? 0.02;
   // Zero-offset two-way time of each fit's apex.
   const sorted = usable.map((f) => ({ f, tzo: (2 * f.depthM) / f.velocityMPerNs, w: weightOf(f) })).sort((a, b) => a.tzo - b.tzo);
   if (sorted.length < 2 * minN) return null;
@@ -104,8 +107,9 @@ function twoLayer(usable: HyperbolaFit[], weightOf: (f: HyperbolaFit) => number,
       g.map((e) => e.w),
     );
     const meanSigma = g.reduce((m, e) => m + e.f.uncertaintyMPerNs, 0) / g.length;
-    // Standard error of a median: 1.2533 sigma / sqrt(n).
-    const se = (1.2533 * Math.max(spread, meanSigma)) / Math.sqrt(g.length);
+    // Standard error of a median, 1.2533 sigma / sqrt(n), plus a systematic part that more fits do not
+    // reduce (time-zero error, target radius, oblique crossings): `layerSystematic` of v.
+    const se = Math.hypot((1.2533 * Math.max(spread, meanSigma)) / Math.sqrt(g.length), systematic * centre);
     // The shallow velocity holds down to the group's deepest fit; the deep group sits at its median time.
     const t = deep
       ? weightedMedian(
@@ -115,19 +119,23 @@ function twoLayer(usable: HyperbolaFit[], weightOf: (f: HyperbolaFit) => number,
       : g[g.length - 1]!.tzo;
     return { v: centre, se, t };
   };
+  // The best split by significance among those giving a real Dix interval velocity over a time gap of
+  // at least a tenth of the deeper time.
+  let chosen: { a: ReturnType<typeof group>; b: ReturnType<typeof group>; vInt: number } | null = null;
   for (let k = minN; k <= sorted.length - minN; k++) {
     if (sorted[k]!.tzo === sorted[k - 1]!.tzo) continue;
     const a = group(sorted.slice(0, k), false);
     const b = group(sorted.slice(k), true);
     const stat = Math.abs(a.v - b.v) / Math.hypot(a.se, b.se);
-    if (!best || stat > best.stat) best = { stat, k };
+    if (!(stat > sig) || (best && stat <= best.stat)) continue;
+    if (!(b.t - a.t >= 0.1 * b.t)) continue;
+    const vInt = dixInterval(a.v, a.t, b.v, b.t);
+    if (!Number.isFinite(vInt) || vInt <= 0 || vInt > C_M_PER_NS) continue;
+    best = { stat, k };
+    chosen = { a, b, vInt };
   }
-  if (!best || !(best.stat > sig)) return null;
-  const a = group(sorted.slice(0, best.k), false);
-  const b = group(sorted.slice(best.k), true);
-  if (!(b.t > a.t)) return null;
-  const vInt = dixInterval(a.v, a.t, b.v, b.t);
-  if (!Number.isFinite(vInt) || vInt <= 0 || vInt > C_M_PER_NS) return null;
+  if (!chosen) return null;
+  const { a, vInt } = chosen;
   const z1 = (a.v * a.t) / 2;
   return {
     kind: 'layered',

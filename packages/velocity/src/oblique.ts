@@ -1,0 +1,159 @@
+import type { RadarLine } from '@lamina/radar-data';
+import type { HyperbolaFit } from './model';
+import { permittivityFromVelocity } from './physics';
+import { classifyVelocity } from './site-model';
+
+/**
+ * Oblique crossings of linear reflectors. A pipe (or a wall edge above ground) crossing a survey line at
+ * angle beta is at horizontal distance |u| sin(beta) from an antenna u metres along the line from the
+ * crossing, so its hyperbola is that of a point at z / sin(beta) seen with v / sin(beta): a pipe at 27
+ * degrees in soil of K 7.5 reads K 1.5 and would pass for an air wave. The same pipe crosses the
+ * neighbouring lines, and its apexes line up along its strike; from that strike beta follows and the fit
+ * is corrected: v = v_apparent sin(beta), depth = z_apparent sin(beta) (t0 unchanged).
+ */
+export interface ObliqueOptions {
+  /** Metres per site CRS unit. @default 1 */
+  metresPerUnit?: number;
+  /** Apexes on different lines further apart than this are not linked, m. @default 2.5 */
+  maxLinkM?: number;
+  /** Linked apexes need t0 within this fraction of each other. @default 0.15 */
+  timeTolerance?: number;
+  /** Linked apexes need apparent velocities within this fraction of each other. @default 0.2 */
+  velocityTolerance?: number;
+  /** A feature needs fits on at least this many lines. @default 3 */
+  minLines?: number;
+  /** Largest RMS distance of the apexes from the fitted strike line, m. @default 0.2 */
+  maxScatterM?: number;
+  /** Corrections are applied only below this crossing angle (above it they are within the noise), degrees. @default 80 */
+  maxCorrectedAngleDeg?: number;
+  /** Permittivity limit for above-ground, passed on to the re-classification. @default 2 */
+  aboveGroundMaxPermittivity?: number;
+}
+
+/** Unit direction of a line (first to last trace) in the site CRS. */
+export function lineDirection(line: RadarLine): [number, number] {
+  const n = line.nTraces;
+  const dx = line.x[n - 1]! - line.x[0]!;
+  const dy = line.y[n - 1]! - line.y[0]!;
+  const L = Math.hypot(dx, dy);
+  return L > 0 ? [dx / L, dy / L] : [1, 0];
+}
+
+/**
+ * Correct the fits of linear reflectors seen crossing several lines obliquely. `directions` maps line id
+ * to its unit direction (`lineDirection`). Returns new fit objects; uncorrected fits are returned as given.
+ */
+export function correctObliqueCrossings(fits: HyperbolaFit[], directions: Record<string, [number, number]>, options: ObliqueOptions = {}): HyperbolaFit[] {
+  const mpu = options.metresPerUnit ?? 1;
+  const maxLink = options.maxLinkM ?? 2.5;
+  const tTol = options.timeTolerance ?? 0.15;
+  const vTol = options.velocityTolerance ?? 0.2;
+  const minLines = options.minLines ?? 3;
+  const maxScatter = options.maxScatterM ?? 0.2;
+  const sinMax = Math.sin(((options.maxCorrectedAngleDeg ?? 80) * Math.PI) / 180);
+  const n = fits.length;
+  const parent = Int32Array.from({ length: n }, (_, i) => i);
+  const find = (i: number): number => {
+    while (parent[i] !== i) i = parent[i] = parent[parent[i]!]!;
+    return i;
+  };
+  for (let i = 0; i < n; i++) {
+    const a = fits[i]!;
+    for (let j = i + 1; j < n; j++) {
+      const b = fits[j]!;
+      if (a.line === b.line) continue;
+      if (Math.hypot(a.x - b.x, a.y - b.y) * mpu > maxLink) continue;
+      if (Math.abs(a.t0Ns - b.t0Ns) > tTol * Math.max(a.t0Ns, b.t0Ns)) continue;
+      if (Math.abs(a.velocityMPerNs - b.velocityMPerNs) > vTol * Math.max(a.velocityMPerNs, b.velocityMPerNs)) continue;
+      parent[find(i)] = find(j);
+    }
+  }
+  const groups = new Map<number, number[]>();
+  for (let i = 0; i < n; i++) {
+    const r = find(i);
+    const g = groups.get(r);
+    if (g) g.push(i);
+    else groups.set(r, [i]);
+  }
+  const out = fits.slice();
+  let feature = 0;
+  for (const members of groups.values()) {
+    // One fit per line: the one nearest the group's median t0.
+    const times = members.map((i) => fits[i]!.t0Ns).sort((p, q) => p - q);
+    const tMed = times[times.length >> 1]!;
+    const perLine = new Map<string, number>();
+    for (const i of members) {
+      const f = fits[i]!;
+      const k = perLine.get(f.line);
+      if (k === undefined || Math.abs(f.t0Ns - tMed) < Math.abs(fits[k]!.t0Ns - tMed)) perLine.set(f.line, i);
+    }
+    if (perLine.size < minLines) continue;
+    const idx = [...perLine.values()];
+    // Strike: principal axis of the apex positions (total least squares), in metres.
+    let cx = 0;
+    let cy = 0;
+    for (const i of idx) {
+      cx += fits[i]!.x;
+      cy += fits[i]!.y;
+    }
+    cx /= idx.length;
+    cy /= idx.length;
+    let sxx = 0;
+    let syy = 0;
+    let sxy = 0;
+    for (const i of idx) {
+      const dx = (fits[i]!.x - cx) * mpu;
+      const dy = (fits[i]!.y - cy) * mpu;
+      sxx += dx * dx;
+      syy += dy * dy;
+      sxy += dx * dy;
+    }
+    const theta = 0.5 * Math.atan2(2 * sxy, sxx - syy);
+    const sx = Math.cos(theta);
+    const sy = Math.sin(theta);
+    let along2 = 0;
+    let perp2 = 0;
+    for (const i of idx) {
+      const dx = (fits[i]!.x - cx) * mpu;
+      const dy = (fits[i]!.y - cy) * mpu;
+      along2 += (dx * sx + dy * sy) ** 2;
+      perp2 += (-dx * sy + dy * sx) ** 2;
+    }
+    const scatter = Math.sqrt(perp2 / idx.length);
+    const spread = Math.sqrt(along2 / idx.length);
+    if (scatter > maxScatter || spread < 0.3) continue;
+    // Strike direction uncertainty (radians), a small-angle estimate from the scatter.
+    const sigmaTheta = scatter / (spread * Math.sqrt(idx.length));
+    feature++;
+    for (const i of idx) {
+      const f = fits[i]!;
+      const d = directions[f.line];
+      if (!d) continue;
+      const sinB = Math.abs(sx * d[1] - sy * d[0]);
+      if (!(sinB < sinMax) || !(sinB > 0.05)) continue;
+      const cosB = Math.sqrt(Math.max(0, 1 - sinB * sinB));
+      const v = f.velocityMPerNs * sinB;
+      const sigma = Math.hypot(f.uncertaintyMPerNs * sinB, f.velocityMPerNs * cosB * sigmaTheta);
+      const { origin, flags } = classifyVelocity(v, options);
+      const g: HyperbolaFit = {
+        ...f,
+        velocityMPerNs: v,
+        permittivity: permittivityFromVelocity(v),
+        depthM: f.depthM * sinB,
+        uncertaintyMPerNs: sigma,
+        origin,
+        crossing: {
+          feature: `linear-${feature}`,
+          angleDeg: (Math.asin(sinB) * 180) / Math.PI,
+          apparentVelocityMPerNs: f.velocityMPerNs,
+          apparentDepthM: f.depthM,
+          lines: idx.length,
+        },
+      };
+      if (flags.length > 0) g.flags = flags;
+      else delete g.flags;
+      out[i] = g;
+    }
+  }
+  return out;
+}
