@@ -27,6 +27,8 @@ export interface LineResult {
 
 /** Shortest path length (m) the spreading laws are evaluated at: the antennas' near field. */
 const MIN_PATH_M = 0.15;
+/** The same for reflectors in the air: an antenna brushing past a post or wall does not see it as a point at zero range. */
+const MIN_AIR_PATH_M = 0.5;
 
 export function newStats(n: number): Float64Array {
   const s = new Float64Array(n * STAT_FIELDS);
@@ -153,21 +155,22 @@ export function simulateLine(m: Model, line: LineGeom): LineResult {
         if (s.type === 'segment') {
           if (s.outward && (mx - s.ax) * s.outward[0] + (my - s.ay) * s.outward[1] <= 0) continue;
           bistaticOnSegment(tx, rx, s.ax, s.ay, 0, s.bx, s.by, 0, hit);
-          L = Math.max(hit.sum, MIN_PATH_M);
+          L = hit.sum;
           arrival = t0 + L / C_M_PER_NS;
           if (arrival > recordEnd) continue;
           const segLen = Math.hypot(s.bx - s.ax, s.by - s.ay);
           const u = projectOnLine(mx, my, 0, s.ax, s.ay, 0, s.bx, s.by, 0);
           const rf = Math.sqrt((lambdaAir * L) / 4);
-          amp = (m.shielding * s.r * edgeFactor(Math.min(u, 1 - u) * segLen, rf)) / L;
+          amp = (m.shielding * s.r * edgeFactor(Math.min(u, 1 - u) * segLen, rf)) / Math.max(L, MIN_AIR_PATH_M);
         } else if (s.type === 'point') {
           const d1 = Math.hypot(tx.x - s.x, tx.y - s.y);
           const d2 = Math.hypot(rx.x - s.x, rx.y - s.y);
-          L = Math.max(d1 + d2 - 2 * s.radius, MIN_PATH_M);
+          L = Math.max(d1 + d2 - 2 * s.radius, 0);
           arrival = t0 + L / C_M_PER_NS;
           if (arrival > recordEnd) continue;
           const a = Math.max(s.radius, lambdaAir / 16);
-          amp = m.shielding * s.r * Math.sqrt(a / L) * (2 / L);
+          const Ls = Math.max(L, MIN_AIR_PATH_M);
+          amp = m.shielding * s.r * Math.sqrt(a / Ls) * (2 / Ls);
         } else continue;
         addRicker(trace, dt, arrival, amp, f);
         record(s, si, amp, L / 2, arrival);
