@@ -20,3 +20,4 @@ export { lineGeometry, type LineGeometry } from './geometry';
 export { loadSite, readLine, lineChunks, linePositions, summarizeLine, shownPath, type ReadLineOptions, type LineChunk, type LineChunksOptions, type LineSummary } from './load';
 export { InputProblems, jsonPath, type Problem } from './problems';
 export { defaultOpenSegy, type SegyReaderLike, type OpenSegy } from './segy';
+export { summarizeSite, type SiteSummary, type LineInfo, type SummarizeOptions } from './summary';
