@@ -344,20 +344,24 @@ export class SegyReader implements SegyInfo {
           out.set(new Int8Array(ab, so, ns), o);
           break;
       }
-      if (format === 5 || format === 1) {
-        for (let s = 0; s < ns; s++) {
-          const v = out[o + s]!;
-          if (v - v !== 0) {
-            const trace = t0 + t;
-            const offset = this.dataOffset + trace * tb + skip + s * bps;
-            const found = format === 1
-              ? `${ibmToNumber(new Uint32Array(ab, so + s * 4, 1)[0]!)} (an IBM float beyond the float32 range)`
-              : String(v);
-            throw new InputError(this.name, `expected a finite sample value, found ${found}`, {
-              field: `trace ${trace + 1} of ${this.nTraces}, sample ${s + 1} of ${ns}`,
-              offset,
-            });
-          }
+    }
+    if (format === 5 || format === 1) {
+      // One flat pass (cheaper than per trace); locate the sample only when one is bad.
+      const end = outAt + n * ns;
+      for (let i = outAt; i < end; i++) {
+        const v = out[i]!;
+        if (v - v !== 0) {
+          const t = Math.floor((i - outAt) / ns);
+          const s = i - outAt - t * ns;
+          const trace = t0 + t;
+          const offset = this.dataOffset + trace * tb + skip + s * bps;
+          const found = format === 1
+            ? `${ibmToNumber(new Uint32Array(ab, base + t * tb + skip + s * 4, 1)[0]!)} (an IBM float beyond the float32 range)`
+            : String(v);
+          throw new InputError(this.name, `expected a finite sample value, found ${found}`, {
+            field: `trace ${trace + 1} of ${this.nTraces}, sample ${s + 1} of ${ns}`,
+            offset,
+          });
         }
       }
     }

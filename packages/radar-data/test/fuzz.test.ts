@@ -55,7 +55,9 @@ const spec = fc.record({
   seed: fc.integer(),
 });
 
-async function validFile(s: fc.RecordValue<typeof spec>): Promise<{ bytes: Uint8Array; data: Float32Array; x: number[] }> {
+type Spec = typeof spec extends fc.Arbitrary<infer T> ? T : never;
+
+async function validFile(s: Spec): Promise<{ bytes: Uint8Array; data: Float32Array; x: number[] }> {
   const data = new Float32Array(s.nSamples * s.nTraces);
   let a = s.seed >>> 0;
   for (let i = 0; i < data.length; i++) {
