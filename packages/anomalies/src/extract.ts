@@ -44,34 +44,7 @@ export function extractAnomalies(stack: SliceStack, options: ExtractOptions = {}
     const z = robustScores(slice.values, grid.nodata);
     scores.push(z);
     for (const cells of components(z, grid.width, grid.height, high, low, Math.max(minCells, minCellsByArea))) {
-      const sc = new Float32Array(cells.length);
-      let sw = 0, sx = 0, sy = 0, peakValue = -Infinity, peakScore = -Infinity;
-      for (let i = 0; i < cells.length; i++) {
-        const k = cells[i]!;
-        const s = z[k]!;
-        sc[i] = s;
-        const r = (k / grid.width) | 0;
-        const w = Math.max(s, 1e-6);
-        sw += w;
-        sx += w * (grid.originX + (k - r * grid.width + 0.5) * grid.cellSize);
-        sy += w * (grid.originY - (r + 0.5) * grid.cellSize);
-        if (slice.values[k]! > peakValue) peakValue = slice.values[k]!;
-        if (s > peakScore) peakScore = s;
-      }
-      members.push({
-        id: members.length,
-        slice: si,
-        topM: slice.topM,
-        bottomM: slice.bottomM,
-        cells,
-        scores: sc,
-        x: sx / sw,
-        y: sy / sw,
-        areaM2: cells.length * cellAreaM2,
-        peakValue,
-        peakScore,
-        shape: cellShape(cells, grid, options),
-      });
+      members.push(makeMember(members.length, si, cells, stack, z, options));
     }
   }
   const groups = linkMembers(members, grid.width * grid.height, grid.cellSize, options);
@@ -80,6 +53,41 @@ export function extractAnomalies(stack: SliceStack, options: ExtractOptions = {}
   anomalies.sort((a, b) => a.depthTopM - b.depthTopM || a.members[0]!.x - b.members[0]!.x);
   anomalies.forEach((a, i) => (a.id = `A${String(i + 1).padStart(4, '0')}`));
   return { members, anomalies, scores };
+}
+
+/** A member (one slice's component) from its cells and the slice's robust scores. */
+export function makeMember(id: number, si: number, cells: Int32Array, stack: SliceStack, z: Float32Array, options: ShapeOptions = {}): Member {
+  const { grid } = stack;
+  const slice = stack.slices[si]!;
+  const mpu = options.metresPerUnit ?? 1;
+  const sc = new Float32Array(cells.length);
+  let sw = 0, sx = 0, sy = 0, peakValue = -Infinity, peakScore = -Infinity;
+  for (let i = 0; i < cells.length; i++) {
+    const k = cells[i]!;
+    const s = z[k]!;
+    sc[i] = s;
+    const r = (k / grid.width) | 0;
+    const w = Math.max(s, 1e-6);
+    sw += w;
+    sx += w * (grid.originX + (k - r * grid.width + 0.5) * grid.cellSize);
+    sy += w * (grid.originY - (r + 0.5) * grid.cellSize);
+    if (slice.values[k]! > peakValue) peakValue = slice.values[k]!;
+    if (s > peakScore) peakScore = s;
+  }
+  return {
+    id,
+    slice: si,
+    topM: slice.topM,
+    bottomM: slice.bottomM,
+    cells,
+    scores: sc,
+    x: sx / sw,
+    y: sy / sw,
+    areaM2: cells.length * (grid.cellSize * mpu) ** 2,
+    peakValue,
+    peakScore,
+    shape: cellShape(cells, grid, options),
+  };
 }
 
 /** A 3D anomaly from its members (any slices of one stack). */

@@ -1,0 +1,71 @@
+import type { Origin } from '@lamina/velocity';
+
+export type TestName =
+  | 'move-out'
+  | 'move-out-slope'
+  | 'edge-alignment'
+  | 'post-spacing'
+  | 'air-hyperbola'
+  | 'soil-hyperbola'
+  | 'unsurveyed-obstruction'
+  | 'before-background';
+
+/** One piece of screening evidence (a row of the viewer's evidence table). */
+export interface Evidence {
+  test: TestName;
+  /** Plan feature the test was run against; null for a test against no feature (unsurveyed obstruction). */
+  featureId: string | null;
+  measured: number;
+  expected: number;
+  tolerance: number;
+  units: string;
+  passed: boolean;
+  detail: string;
+  /** Log-odds this item adds for "above-ground" (see `combine`); 0 when inconclusive. */
+  weight: number;
+  /** Slice index the item refers to, when it refers to one. */
+  slice?: number;
+  /** Geometry (WGS84 in anomalies.geojson, site CRS inside the library) where an unsurveyed object must stand. */
+  geometry?: { type: 'Point'; coordinates: [number, number] } | { type: 'LineString'; coordinates: [number, number][] };
+}
+
+/**
+ * Log-odds weights of the evidence. They express how strongly each observation separates an
+ * air-wave reflection from a buried target by the physics, not a fit to any site:
+ * - prior -1 (P = 0.27): an anomaly is a candidate target unless evidence says air;
+ * - move-out: 2 (2f - 1) for the fraction f of members on the best feature's locus;
+ * - slope dr/dz matching c/v: +2; a stationary anomaly where move-out was measurable: -3;
+ * - edge alignment +1, post spacing +1, air hyperbola +2, soil hyperbola -1,
+ *   unsurveyed obstruction +2.5 (needs move-out at the air rate over at least three slices),
+ *   energy on the locus before background removal +0.5.
+ */
+export const WEIGHTS = {
+  prior: -1,
+  moveOut: 2,
+  slopePass: 2,
+  slopeFail: -3,
+  edge: 1,
+  postSpacing: 1,
+  airHyperbola: 2,
+  soilHyperbola: -1,
+  unsurveyed: 2.5,
+  beforeBackground: 0.5,
+} as const;
+
+export interface Verdict {
+  origin: Origin;
+  /** Probability of the assigned origin, in [0.5, 1]. */
+  confidence: number;
+  /** Probability of above-ground, in (0, 1). */
+  pAboveGround: number;
+  logOdds: number;
+}
+
+/** Naive-Bayes combination: log-odds = prior + sum of item weights; P = logistic(log-odds). */
+export function combine(evidence: Evidence[]): Verdict {
+  let l = WEIGHTS.prior;
+  for (const e of evidence) l += e.weight;
+  const p = 1 / (1 + Math.exp(-l));
+  const origin: Origin = p >= 0.5 ? 'above-ground' : 'subsurface';
+  return { origin, pAboveGround: p, confidence: origin === 'above-ground' ? p : 1 - p, logOdds: l };
+}

@@ -1,0 +1,274 @@
+import { buildAnomaly, extractAnomalies, linkMembers, robustScores, type Anomaly3D, type ExtractOptions, type Member } from '@lamina/anomalies';
+import type { PlanFeature } from '@lamina/site';
+import type { SliceStack } from '@lamina/slices';
+import type { VelocityReport } from '@lamina/velocity';
+import { separateCrossings } from './surgery';
+import { lineSpacingM, sliceLoci, surveyedMask, type Line, type ToleranceOptions } from './context';
+import { combine, type Evidence, type Verdict } from './evidence';
+import { CAUTION, forecastLoci } from './forecast';
+import { lineToWgs84, outlineToWgs84, pointToWgs84, type FeatureCollection, type GeoJsonFeature, type ToWgs84 } from './geojson';
+import { airRadiusM } from './physics';
+import { distanceField, reflectorsOf } from './reflectors';
+import {
+  beforeBackgroundEvidence,
+  bestMoveOut,
+  edgeEvidence,
+  hyperbolaHits,
+  moveOutEvidence,
+  postEvidence,
+  postTrains,
+  slopeEvidence,
+  unsurveyedEvidence,
+  type MoveOutResult,
+  type ScreenContext,
+} from './tests';
+
+export interface ScreenInput {
+  stack: SliceStack;
+  plan: PlanFeature[];
+  velocity: VelocityReport;
+  lines: Line[];
+  metresPerUnit: number;
+  toWgs84: ToWgs84;
+  /** Same grid, made before background removal: optional evidence for flat air events. */
+  beforeBackgroundStack?: SliceStack;
+}
+
+export interface ScreenOptions extends ExtractOptions, ToleranceOptions {
+  /** A linear anomaly within this angle of an edge is parallel to it, degrees. @default 15 (common practice, no source) */
+  parallelToleranceDeg?: number;
+  /** Relative tolerance on a move-out rate against c / v. @default 0.25 (common practice, no source) */
+  rateTolerance?: number;
+  /** Split an above-ground anomaly's off-locus members into their own anomaly when they span this many slices. @default 2 */
+  splitMinSlices?: number;
+}
+
+export interface ScreenedAnomaly {
+  anomaly: Anomaly3D;
+  evidence: Evidence[];
+  verdict: Verdict;
+}
+
+export interface ScreenSummary {
+  anomalies: number;
+  aboveGround: number;
+  subsurface: number;
+  slices: number;
+  reflectors: number;
+  /** Anomalies with a passed item, per test. */
+  passedByTest: Record<string, number>;
+  positionToleranceM: number;
+  lineSpacingM: number;
+  /** Members cut where a target crossed an air-wave band. */
+  crossingsCut: number;
+  elapsedMs: number;
+}
+
+export interface ScreenResult {
+  anomalies: FeatureCollection;
+  forecast: FeatureCollection;
+  summary: ScreenSummary;
+  /** The screened anomalies in the site CRS (for the targets package and tests). */
+  screened: ScreenedAnomaly[];
+}
+
+/**
+ * The pipeline's entry: extract anomalies from the slices, screen them for air-wave reflections
+ * against the plan, the velocity model and the fitted hyperbolas, and forecast the loci.
+ */
+export function screenSite(input: ScreenInput, options: ScreenOptions = {}): ScreenResult {
+  const t0 = performance.now();
+  const { stack, plan, velocity, lines, metresPerUnit: mpu, toWgs84 } = input;
+  const grid = stack.grid;
+  const cellM = grid.cellSize * mpu;
+  const spacing = lineSpacingM(lines, mpu);
+  const positionM = options.positionToleranceM ?? Math.max(cellM, Number.isFinite(spacing) ? 0.5 * spacing : 0);
+  const loci = sliceLoci(stack, velocity, positionM, options);
+  const reflectors = reflectorsOf(plan, mpu);
+  const mask = surveyedMask(stack);
+  const deepest = Math.max(0, ...loci.map((l) => l.radiusM + 2 * l.toleranceM));
+  const fields = reflectors.map((r) => {
+    const f = distanceField(r, grid, mpu);
+    let near = Infinity;
+    for (let i = 0; i < f.length; i++) if (mask[i] && f[i]! < near) near = f[i]!;
+    return near <= deepest ? f : null;
+  });
+  const extraction = extractAnomalies(stack, { ...options, metresPerUnit: mpu });
+  let beforeScores: Float32Array[] | undefined;
+  const bb = input.beforeBackgroundStack;
+  if (bb && bb.grid.width === grid.width && bb.grid.height === grid.height && bb.slices.length === stack.slices.length) {
+    beforeScores = bb.slices.map((s) => robustScores(s.values, bb.grid.nodata));
+  }
+  const ctx: ScreenContext = {
+    grid,
+    metresPerUnit: mpu,
+    loci,
+    reflectors,
+    fields,
+    positionM,
+    parallelToleranceDeg: options.parallelToleranceDeg ?? 15,
+    rateTolerance: options.rateTolerance ?? 0.25,
+    ...(beforeScores ? { beforeScores } : {}),
+  };
+  // cut buried targets out of the air-wave bands they cross, then link again
+  const sep = separateCrossings(extraction.members, stack, extraction.scores, ctx, options.minCells ?? 6, mpu);
+  const members = sep.members;
+  const linked =
+    sep.cut === 0
+      ? extraction.anomalies
+      : linkMembers(members, grid.width * grid.height, grid.cellSize, options).map((g) => buildAnomaly('A', g.map((i) => members[i]!), stack, { ...options, metresPerUnit: mpu }));
+  const trains = postTrains(members, ctx);
+  const hyper = hyperbolaHits(members, velocity.hyperbolas ?? [], velocity.model, ctx);
+  const evaluate = (a: Anomaly3D): ScreenedAnomaly & { mo?: MoveOutResult } => {
+    const evidence: Evidence[] = [];
+    const mo = bestMoveOut(a, ctx);
+    if (mo) {
+      evidence.push(...moveOutEvidence(mo, ctx));
+      if (mo.fraction > 0) {
+        const s = slopeEvidence(mo, ctx);
+        if (s) evidence.push(s);
+        const e = edgeEvidence(mo, ctx);
+        if (e) evidence.push(e);
+        const b = beforeBackgroundEvidence(mo, ctx, options.lowThreshold ?? 3);
+        if (b) evidence.push(b);
+      }
+    }
+    const p = postEvidence(a, trains);
+    if (p) evidence.push(p);
+    const hs = a.members.map((m) => hyper.get(m.id)).filter((e): e is Evidence => !!e);
+    const air = hs.find((e) => e.test === 'air-hyperbola');
+    if (air) evidence.push(air);
+    else if (hs[0]) evidence.push(hs[0]);
+    if (!mo || mo.fraction < 0.5) {
+      const u = unsurveyedEvidence(a, ctx);
+      if (u) evidence.push(u);
+    }
+    return { anomaly: a, evidence, verdict: combine(evidence), ...(mo ? { mo } : {}) };
+  };
+  const splitMin = options.splitMinSlices ?? 2;
+  const build = (ms: Member[]) => buildAnomaly('A', ms, stack, { ...options, metresPerUnit: mpu });
+  const screened: ScreenedAnomaly[] = [];
+  // Linking can join objects whose loci cross (two rings, an air band over a buried pipe). When the
+  // members on the best locus make an above-ground anomaly by themselves and the rest span at least
+  // splitMin slices, the rest are relinked and screened on their own (twice at most).
+  const screenOne = (a: Anomaly3D, depth: number) => {
+    const s = evaluate(a);
+    const explained = s.evidence.some((e) => e.test === 'unsurveyed-obstruction' && e.passed);
+    if (depth < 3 && s.mo && !explained) {
+      const off = s.mo.fits.filter((f) => !f.passed).map((f) => f.member);
+      const on = s.mo.fits.filter((f) => f.passed).map((f) => f.member);
+      if (on.length > 0 && off.length > 0 && new Set(off.map((m) => m.slice)).size >= splitMin) {
+        const onPart = evaluate(build(on));
+        if (onPart.verdict.origin === 'above-ground') {
+          screened.push(strip(onPart));
+          for (const g of relink(off, grid.width * grid.height, grid.cellSize, options)) screenOne(build(g), depth + 1);
+          return;
+        }
+      }
+    }
+    screened.push(strip(s));
+  };
+  for (const a of linked) screenOne(a, 0);
+  screened.sort((p, q) => p.anomaly.depthTopM - q.anomaly.depthTopM || p.anomaly.members[0]!.x - q.anomaly.members[0]!.x);
+  screened.forEach((s, i) => (s.anomaly.id = `A${String(i + 1).padStart(4, '0')}`));
+
+  const features = screened.map((s) => anomalyFeature(s, toWgs84, mpu));
+  const forecast = forecastLoci(plan, velocity, lines, mpu, toWgs84, {
+    grid,
+    surveyed: mask,
+    slices: stack.slices.map((s, i) => ({ index: i, topM: s.topM, bottomM: s.bottomM })),
+    ...(options.antennaFrequencyMHz ? { antennaFrequencyMHz: options.antennaFrequencyMHz } : {}),
+    ...(options.antennaSeparationM ? { antennaSeparationM: options.antennaSeparationM } : {}),
+  });
+  const passedByTest: Record<string, number> = {};
+  for (const s of screened) for (const t of new Set(s.evidence.filter((e) => e.passed).map((e) => e.test))) passedByTest[t] = (passedByTest[t] ?? 0) + 1;
+  const aboveGround = screened.filter((s) => s.verdict.origin === 'above-ground').length;
+  const summary: ScreenSummary = {
+    anomalies: screened.length,
+    aboveGround,
+    subsurface: screened.length - aboveGround,
+    slices: stack.slices.length,
+    reflectors: reflectors.length,
+    passedByTest,
+    positionToleranceM: positionM,
+    lineSpacingM: spacing,
+    crossingsCut: sep.cut,
+    elapsedMs: performance.now() - t0,
+  };
+  return {
+    anomalies: { type: 'FeatureCollection', features, caution: CAUTION },
+    forecast,
+    summary,
+    screened,
+  };
+}
+
+function strip(s: ScreenedAnomaly & { mo?: MoveOutResult }): ScreenedAnomaly {
+  return { anomaly: s.anomaly, evidence: s.evidence, verdict: s.verdict };
+}
+
+function relink(ms: Member[], cells: number, cellSize: number, options: ScreenOptions): Member[][] {
+  const copies = ms.map((m, i) => ({ ...m, id: i }));
+  return linkMembers(copies, cells, cellSize, options).map((g) => g.map((i) => ms[i]!));
+}
+
+/**
+ * One anomaly as a GeoJSON feature (WGS84). Geometry: outline of the union over depth. A linear
+ * anomaly also carries its centreline as `properties.centreline` (a GeoJSON LineString, WGS84).
+ */
+export function anomalyFeature(s: ScreenedAnomaly, toWgs84: ToWgs84, metresPerUnit: number): GeoJsonFeature {
+  const a = s.anomaly;
+  const evidence = s.evidence.map((e) => {
+    const { geometry, ...rest } = e;
+    if (!geometry) return rest;
+    return { ...rest, geometry: geometry.type === 'Point' ? pointToWgs84(geometry.coordinates, toWgs84) : lineToWgs84(geometry.coordinates, toWgs84) };
+  });
+  return {
+    type: 'Feature',
+    id: a.id,
+    geometry: outlineToWgs84(a.outline, toWgs84),
+    properties: {
+      id: a.id,
+      depthTopM: a.depthTopM,
+      depthBottomM: a.depthBottomM,
+      origin: s.verdict.origin,
+      confidence: round(s.verdict.confidence),
+      pAboveGround: round(s.verdict.pAboveGround),
+      evidence,
+      kind: a.shape.kind,
+      areaM2: round(a.areaM2),
+      directionDeg: round(a.shape.directionDeg),
+      elongation: round(a.shape.elongation),
+      lengthM: round(a.shape.lengthM),
+      widthM: round(a.shape.widthM),
+      slices: [...new Set(a.members.map((m) => m.slice))],
+      peakValue: a.peakValue,
+      peakScore: round(a.peakScore),
+      centroid: toWgs84(...centroidOf(a)),
+      ...(a.centreline ? { centreline: lineToWgs84(a.centreline, toWgs84) } : {}),
+      members: a.members.map((m) => ({
+        slice: m.slice,
+        topM: m.topM,
+        bottomM: m.bottomM,
+        centroid: toWgs84(m.x, m.y),
+        areaM2: round(m.areaM2),
+        kind: m.shape.kind,
+        directionDeg: round(m.shape.directionDeg),
+        peakScore: round(m.peakScore),
+      })),
+      metresPerUnit,
+    },
+  };
+}
+
+function centroidOf(a: Anomaly3D): [number, number] {
+  let w = 0, x = 0, y = 0;
+  for (const m of a.members) {
+    w += m.cells.length;
+    x += m.cells.length * m.x;
+    y += m.cells.length * m.y;
+  }
+  return [x / w, y / w];
+}
+
+const round = (v: number) => Math.round(v * 1e6) / 1e6;

@@ -1,0 +1,98 @@
+import { makeMember, type Member } from '@lamina/anomalies';
+import type { SliceStack } from '@lamina/slices';
+import type { ScreenContext } from './tests';
+import type { Reflector } from './reflectors';
+
+/** Signed distance (m) of cell c from a reflector's locus of radius r (union of rings for a post set). */
+export function cellResidual(c: number, refl: Reflector, field: Float32Array, radiusM: number, ctx: ScreenContext): number {
+  const pts = refl.points;
+  if (!(pts.length > 2 && refl.segments.length === 0)) return field[c]! - radiusM;
+  const g = ctx.grid;
+  const row = (c / g.width) | 0;
+  const x = g.originX + (c - row * g.width + 0.5) * g.cellSize, y = g.originY - (row + 0.5) * g.cellSize;
+  let best = Infinity;
+  for (let k = 0; k < pts.length; k += 2) {
+    const r = Math.hypot(x - pts[k]!, y - pts[k + 1]!) * ctx.metresPerUnit - radiusM;
+    if (Math.abs(r) < Math.abs(best)) best = r;
+  }
+  return best;
+}
+
+/** 8-connected components of a set of cells. */
+function subComponents(cells: number[], width: number): number[][] {
+  const idx = new Map<number, number>();
+  cells.forEach((c, i) => idx.set(c, i));
+  const seen = new Uint8Array(cells.length);
+  const out: number[][] = [];
+  for (let i = 0; i < cells.length; i++) {
+    if (seen[i]) continue;
+    seen[i] = 1;
+    const comp: number[] = [];
+    const stack = [cells[i]!];
+    while (stack.length) {
+      const c = stack.pop()!;
+      comp.push(c);
+      const row = (c / width) | 0, col = c - row * width;
+      for (let dr = -1; dr <= 1; dr++)
+        for (let dc = -1; dc <= 1; dc++) {
+          if (dr === 0 && dc === 0) continue;
+          const cc = col + dc;
+          if (cc < 0 || cc >= width) continue;
+          const j = idx.get((row + dr) * width + cc);
+          if (j !== undefined && !seen[j]) {
+            seen[j] = 1;
+            stack.push(cells[j]!);
+          }
+        }
+    }
+    out.push(comp.sort((a, b) => a - b));
+  }
+  return out;
+}
+
+/**
+ * A buried target crossing an air-wave band in one slice makes one connected component. Where a
+ * member has at least 30 % of its cells in a reflector's locus band (|residual| <= band half-width +
+ * position tolerance) and pieces of at least `minCells` cells (and 20 % of it) reaching beyond twice
+ * that band, those pieces become members of their own; the rest stays one member. Returns the new
+ * member list (ids renumbered) and how many members were cut.
+ */
+export function separateCrossings(members: Member[], stack: SliceStack, scores: Float32Array[], ctx: ScreenContext, minCells: number, metresPerUnit: number): { members: Member[]; cut: number } {
+  const out: Member[] = [];
+  let cut = 0;
+  for (const m of members) {
+    const l = ctx.loci[m.slice]!;
+    const band = l.bandHalfM + ctx.positionM;
+    let pieces: number[][] | undefined;
+    for (let r = 0; r < ctx.reflectors.length && !pieces; r++) {
+      const field = ctx.fields[r];
+      if (!field) continue;
+      const refl = ctx.reflectors[r]!;
+      let nearest = Infinity;
+      for (const c of m.cells) nearest = Math.min(nearest, field[c]!);
+      if (nearest > l.radiusM + band) continue;
+      const inside: number[] = [], off: number[] = [];
+      const res = new Map<number, number>();
+      for (const c of m.cells) {
+        const v = cellResidual(c, refl, field, l.radiusM, ctx);
+        res.set(c, v);
+        (Math.abs(v) <= band ? inside : off).push(c);
+      }
+      const n = m.cells.length;
+      if (inside.length < 0.3 * n || off.length < Math.max(minCells, 0.2 * n)) continue;
+      const far = subComponents(off, stack.grid.width).filter((p) => p.length >= Math.max(minCells, 0.2 * n) && p.some((c) => Math.abs(res.get(c)!) >= 2 * band));
+      if (far.length === 0) continue;
+      const farSet = new Set(far.flat());
+      pieces = [m.cells.filter((c) => !farSet.has(c)) as unknown as number[], ...far];
+      pieces[0] = Array.from(pieces[0]!);
+    }
+    if (!pieces) {
+      out.push(m);
+      continue;
+    }
+    cut++;
+    for (const p of pieces) if (p.length > 0) out.push(makeMember(0, m.slice, Int32Array.from(p), stack, scores[m.slice]!, { metresPerUnit }));
+  }
+  out.forEach((m, i) => (m.id = i));
+  return { members: out, cut };
+}

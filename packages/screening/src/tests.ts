@@ -1,0 +1,516 @@
+import type { Anomaly3D, Member } from '@lamina/anomalies';
+import type { SliceGrid } from '@lamina/slices';
+import type { HyperbolaFit, VelocityModel } from '@lamina/velocity';
+import type { SliceLocus } from './context';
+import { WEIGHTS, type Evidence } from './evidence';
+import { depthAtTimeNs } from './physics';
+import { alongDistance, distanceTo, nearestSegmentAzimuth, type Reflector } from './reflectors';
+
+/** What the tests share: grid, loci per slice, reflectors with their distance fields. */
+export interface ScreenContext {
+  grid: SliceGrid;
+  metresPerUnit: number;
+  loci: SliceLocus[];
+  reflectors: Reflector[];
+  /** Distance field (m) per reflector, null where the reflector is too far from the survey to matter. */
+  fields: (Float32Array | null)[];
+  positionM: number;
+  /** Robust scores of the stack made before background removal, per slice (optional evidence). */
+  beforeScores?: Float32Array[];
+  /** Angle within which a linear anomaly is parallel to an edge, degrees. */
+  parallelToleranceDeg: number;
+  /** Relative tolerance on a move-out rate. */
+  rateTolerance: number;
+}
+
+export interface MemberFit {
+  member: Member;
+  medianM: number;
+  iqrM: number;
+  residualM: number;
+  passed: boolean;
+}
+
+export interface MoveOutResult {
+  reflector: number;
+  fits: MemberFit[];
+  fraction: number;
+}
+
+const MAX_SAMPLES = 400;
+
+function quantile(sorted: Float64Array, q: number): number {
+  if (sorted.length === 0) return NaN;
+  const p = q * (sorted.length - 1);
+  const i = Math.floor(p);
+  const f = p - i;
+  return sorted[i]! + (i + 1 < sorted.length ? f * (sorted[i + 1]! - sorted[i]!) : 0);
+}
+
+/**
+ * Signed residuals (m) of a member's cells from a reflector's locus at radius r: d - r for a line,
+ * an edge or one point; for a set of points (a fence's posts) the locus is the union of their rings,
+ * so each cell takes the ring it is nearest to: the signed value of min_k | |p - P_k| - r |.
+ */
+function memberResiduals(m: Member, refl: Reflector, field: Float32Array, radiusM: number, ctx: ScreenContext): Float64Array {
+  const step = Math.max(1, Math.ceil(m.cells.length / MAX_SAMPLES));
+  const out = new Float64Array(Math.ceil(m.cells.length / step));
+  const g = ctx.grid;
+  const pts = refl.points;
+  const multi = pts.length > 2 && refl.segments.length === 0;
+  let n = 0;
+  for (let i = 0; i < m.cells.length; i += step) {
+    const c = m.cells[i]!;
+    if (!multi) {
+      out[n++] = field[c]! - radiusM;
+      continue;
+    }
+    const row = (c / g.width) | 0;
+    const x = g.originX + (c - row * g.width + 0.5) * g.cellSize, y = g.originY - (row + 0.5) * g.cellSize;
+    let best = Infinity;
+    for (let k = 0; k < pts.length; k += 2) {
+      const r = Math.hypot(x - pts[k]!, y - pts[k + 1]!) * ctx.metresPerUnit - radiusM;
+      if (Math.abs(r) < Math.abs(best)) best = r;
+    }
+    out[n++] = best;
+  }
+  return out.subarray(0, n).sort();
+}
+
+/** Member against one reflector's locus at the member's depth. */
+export function fitMember(m: Member, refl: Reflector, field: Float32Array, ctx: ScreenContext): MemberFit {
+  const locus = ctx.loci[m.slice]!;
+  const res = memberResiduals(m, refl, field, locus.radiusM, ctx);
+  const residualM = quantile(res, 0.5);
+  const medianM = locus.radiusM + residualM;
+  const iqrM = quantile(res, 0.75) - quantile(res, 0.25);
+  // on the locus, and shaped like it: the cells keep to the band rather than crossing it
+  const passed = Math.abs(residualM) <= locus.toleranceM && iqrM <= 2 * (locus.bandHalfM + ctx.positionM);
+  return { member: m, medianM, iqrM, residualM, passed };
+}
+
+/** Test 1 (distance part): the reflector whose locus holds most members of the anomaly. */
+export function bestMoveOut(a: Anomaly3D, ctx: ScreenContext): MoveOutResult | undefined {
+  let best: MoveOutResult | undefined;
+  let bestResidual = Infinity;
+  let reach = 0;
+  for (const m of a.members) reach = Math.max(reach, ctx.loci[m.slice]!.radiusM + 2 * ctx.loci[m.slice]!.toleranceM);
+  for (let r = 0; r < ctx.reflectors.length; r++) {
+    const field = ctx.fields[r];
+    if (!field) continue;
+    let near = Infinity;
+    for (let i = 0; i < a.cells.length; i++) near = Math.min(near, field[a.cells[i]!]!);
+    if (near > reach) continue;
+    const fits = a.members.map((m) => fitMember(m, ctx.reflectors[r]!, field, ctx));
+    const fraction = fits.filter((f) => f.passed).length / fits.length;
+    const residual = fits.reduce((s, f) => s + Math.abs(f.residualM) / ctx.loci[f.member.slice]!.toleranceM, 0) / fits.length;
+    if (!best || fraction > best.fraction || (fraction === best.fraction && residual < bestResidual)) {
+      best = { reflector: r, fits, fraction };
+      bestResidual = residual;
+    }
+  }
+  return best;
+}
+
+export function moveOutEvidence(mo: MoveOutResult, ctx: ScreenContext): Evidence[] {
+  const refl = ctx.reflectors[mo.reflector]!;
+  const n = mo.fits.length;
+  return mo.fits.map((f) => {
+    const l = ctx.loci[f.member.slice]!;
+    return {
+      test: 'move-out',
+      featureId: refl.featureId,
+      measured: f.medianM,
+      expected: l.radiusM,
+      tolerance: l.toleranceM,
+      units: 'm',
+      passed: f.passed,
+      weight: ((f.passed ? 1 : -1) * WEIGHTS.moveOut) / n,
+      slice: f.member.slice,
+      detail: `slice ${f.member.slice} (${l.topM.toFixed(2)}-${l.bottomM.toFixed(2)} m): median distance to ${refl.kind}${refl.source === 'posts' ? ' posts' : ''} ${refl.featureId} ${f.medianM.toFixed(2)} m (IQR ${f.iqrM.toFixed(2)} m), locus z c/v ${l.radiusM.toFixed(2)} m`,
+    } satisfies Evidence;
+  });
+}
+
+/** Least-squares slope of y on x with its standard error (NaN when it cannot be estimated). */
+function slope(x: number[], y: number[]): { b: number; se: number; rms: number } {
+  const n = x.length;
+  const mx = x.reduce((s, v) => s + v, 0) / n, my = y.reduce((s, v) => s + v, 0) / n;
+  let sxx = 0, sxy = 0;
+  for (let i = 0; i < n; i++) {
+    sxx += (x[i]! - mx) ** 2;
+    sxy += (x[i]! - mx) * (y[i]! - my);
+  }
+  const b = sxx > 0 ? sxy / sxx : NaN;
+  let ss = 0;
+  for (let i = 0; i < n; i++) ss += (y[i]! - my - b * (x[i]! - mx)) ** 2;
+  const rms = Math.sqrt(ss / n);
+  const se = n > 2 && sxx > 0 ? Math.sqrt(ss / (n - 2) / sxx) : NaN;
+  return { b, se, rms };
+}
+
+/** Test 1 (slope part): fitted dr/dz of the member distances against c / v over the depth range. */
+export function slopeEvidence(mo: MoveOutResult, ctx: ScreenContext): Evidence | undefined {
+  // one point per slice (the median over its members), so a slice with many pieces does not dominate
+  const per = new Map<number, number[]>();
+  for (const f of mo.fits) {
+    const l = per.get(f.member.slice);
+    if (l) l.push(f.medianM);
+    else per.set(f.member.slice, [f.medianM]);
+  }
+  const ks = [...per.keys()].sort((p, q) => p - q);
+  const zs = ks.map((k) => ctx.loci[k]!.depthM);
+  const ds = ks.map((k) => {
+    const v = per.get(k)!.sort((p, q) => p - q);
+    return v.length % 2 ? v[v.length >> 1]! : 0.5 * (v[v.length / 2 - 1]! + v[v.length / 2]!);
+  });
+  const zmin = Math.min(...zs), zmax = Math.max(...zs);
+  if (zmax - zmin <= 0) return undefined;
+  const lmin = ctx.loci.find((l) => l.depthM === zmin)!, lmax = ctx.loci.find((l) => l.depthM === zmax)!;
+  const expected = (lmax.radiusM - lmin.radiusM) / (zmax - zmin);
+  const refl = ctx.reflectors[mo.reflector]!;
+  const fit = slope(zs, ds);
+  const se = Number.isFinite(fit.se) ? fit.se : (Math.SQRT2 * ctx.positionM) / (zmax - zmin);
+  const tolerance = ctx.rateTolerance * expected + 2 * se;
+  const measurable = expected * (zmax - zmin) >= 2 * ctx.positionM && 2 * se <= 0.5 * expected;
+  const passed = Math.abs(fit.b - expected) <= tolerance;
+  return {
+    test: 'move-out-slope',
+    featureId: refl.featureId,
+    measured: fit.b,
+    expected,
+    tolerance,
+    units: 'm/m',
+    passed: measurable && passed,
+    weight: !measurable ? 0 : passed ? WEIGHTS.slopePass : WEIGHTS.slopeFail,
+    detail: `${ks.length} slices over ${zmin.toFixed(2)}-${zmax.toFixed(2)} m: dr/dz ${fit.b.toFixed(2)} +- ${se.toFixed(2)} against c/v ${expected.toFixed(2)}${measurable ? '' : ' (inconclusive: shift too small against position error)'}`,
+  };
+}
+
+function angleDiff(a: number, b: number): number {
+  const d = Math.abs(a - b) % 180;
+  return Math.min(d, 180 - d);
+}
+
+/** Test 2: linear members parallel to the wall / edge / fence line at the predicted offset. */
+export function edgeEvidence(mo: MoveOutResult, ctx: ScreenContext): Evidence | undefined {
+  const refl = ctx.reflectors[mo.reflector]!;
+  if (refl.segments.length === 0) return undefined;
+  const lin = mo.fits.filter((f) => f.member.shape.kind === 'linear');
+  if (lin.length === 0) return undefined;
+  const diffs = lin.map((f) => angleDiff(f.member.shape.directionDeg, nearestSegmentAzimuth(refl, f.member.x, f.member.y)));
+  const ok = lin.filter((f, i) => f.passed && diffs[i]! <= ctx.parallelToleranceDeg).length;
+  const sorted = [...diffs].sort((p, q) => p - q);
+  const med = sorted[sorted.length >> 1]!;
+  const passed = ok / lin.length >= 0.5;
+  return {
+    test: 'edge-alignment',
+    featureId: refl.featureId,
+    measured: med,
+    expected: 0,
+    tolerance: ctx.parallelToleranceDeg,
+    units: 'deg',
+    passed,
+    weight: passed ? WEIGHTS.edge : 0,
+    detail: `${ok} of ${lin.length} linear members parallel to ${refl.kind} ${refl.featureId} (median angle ${med.toFixed(1)} deg) at the predicted offset`,
+  };
+}
+
+/** Result of the post-spacing test for one member (test 3). */
+export interface PostTrainHit {
+  member: Member;
+  featureId: string;
+  spacingM: number;
+  measuredM: number;
+  coherence: number;
+  onRing: boolean;
+  passed: boolean;
+}
+
+/**
+ * Test 3: per slice and fence with posts, the members near the fence (within the locus band plus
+ * half a spacing) projected onto the fence line; their along-fence positions s_i are tested for the
+ * post period p by the Rayleigh coherence R = |mean exp(2 pi i s_i / p)| (1 for a perfect train,
+ * about 1/sqrt(n) for random positions; a train with missing posts still scores 1). A train passes
+ * with n >= 3 and R >= 0.7; a member passes when its train does and it lies on the ring of a post.
+ * Members far from the fence are never considered: regular spacing alone is not air.
+ */
+export function postTrains(members: Member[], ctx: ScreenContext): Map<number, PostTrainHit> {
+  const hits = new Map<number, PostTrainHit>();
+  const mpu = ctx.metresPerUnit;
+  for (let r = 0; r < ctx.reflectors.length; r++) {
+    const posts = ctx.reflectors[r]!;
+    const field = ctx.fields[r];
+    if (posts.source !== 'posts' || !posts.postSpacingM || !field) continue;
+    const line = ctx.reflectors.find((q) => q.featureId === posts.featureId && q.source === 'line');
+    if (!line) continue;
+    const p = posts.postSpacingM;
+    const bySlice = new Map<number, Member[]>();
+    for (const m of members) {
+      const l = ctx.loci[m.slice]!;
+      if (distanceTo(line, m.x, m.y) * mpu > l.radiusM + l.toleranceM + 0.5 * p) continue;
+      const list = bySlice.get(m.slice);
+      if (list) list.push(m);
+      else bySlice.set(m.slice, [m]);
+    }
+    for (const [, list] of bySlice) {
+      if (list.length < 3) continue;
+      const s = list.map((m) => alongDistance(line, m.x, m.y) * mpu);
+      let re = 0, im = 0;
+      for (const v of s) {
+        re += Math.cos((2 * Math.PI * v) / p);
+        im += Math.sin((2 * Math.PI * v) / p);
+      }
+      const coherence = Math.hypot(re, im) / s.length;
+      const sorted = [...s].sort((a, b) => a - b);
+      const gaps: number[] = [];
+      for (let i = 1; i < sorted.length; i++) {
+        const g = sorted[i]! - sorted[i - 1]!;
+        const k = Math.max(1, Math.round(g / p));
+        if (g > 0.25 * p) gaps.push(g / k);
+      }
+      gaps.sort((a, b) => a - b);
+      const measuredM = gaps.length ? gaps[gaps.length >> 1]! : NaN;
+      const train = coherence >= 0.7;
+      for (const m of list) {
+        const fit = fitMember(m, posts, field, ctx);
+        const onRing = Math.abs(fit.residualM) <= ctx.loci[m.slice]!.toleranceM;
+        const prev = hits.get(m.id);
+        const hit = { member: m, featureId: posts.featureId, spacingM: p, measuredM, coherence, onRing, passed: train && onRing };
+        if (!prev || (hit.passed && !prev.passed)) hits.set(m.id, hit);
+      }
+    }
+  }
+  return hits;
+}
+
+export function postEvidence(a: Anomaly3D, hits: Map<number, PostTrainHit>): Evidence | undefined {
+  const mine = a.members.map((m) => hits.get(m.id)).filter((h): h is PostTrainHit => !!h);
+  if (mine.length === 0) return undefined;
+  const h = mine.find((x) => x.passed) ?? mine[0]!;
+  return {
+    test: 'post-spacing',
+    featureId: h.featureId,
+    measured: h.measuredM,
+    expected: h.spacingM,
+    tolerance: 0.15 * h.spacingM,
+    units: 'm',
+    passed: h.passed,
+    weight: h.passed ? WEIGHTS.postSpacing : 0,
+    slice: h.member.slice,
+    detail: `train along fence ${h.featureId}: coherence ${h.coherence.toFixed(2)} at the ${h.spacingM} m post spacing (pass >= 0.7), member ${h.onRing ? 'on' : 'not on'} a post ring`,
+  };
+}
+
+/** Test 4: members that coincide with a fitted hyperbola's apex in the slice of its depth. */
+export function hyperbolaHits(members: Member[], hyperbolas: HyperbolaFit[], model: VelocityModel, ctx: ScreenContext): Map<number, Evidence> {
+  const out = new Map<number, Evidence>();
+  const g = ctx.grid;
+  const tolM = Math.max(2 * g.cellSize * ctx.metresPerUnit, ctx.positionM);
+  for (const h of hyperbolas) {
+    if (h.flags && h.flags.length > 0 && h.origin !== 'above-ground') continue;
+    const air = h.origin === 'above-ground' || h.permittivity < 2;
+    const z = depthAtTimeNs(h.t0Ns, model);
+    let k = ctx.loci.findIndex((l) => z >= l.topM && z <= l.bottomM);
+    if (k < 0) {
+      let best = Infinity;
+      ctx.loci.forEach((l, i) => {
+        if (Math.abs(l.depthM - z) < best) {
+          best = Math.abs(l.depthM - z);
+          k = i;
+        }
+      });
+    }
+    for (const m of members) {
+      if (Math.abs(m.slice - k) > 1) continue;
+      let dmin = Infinity;
+      for (let i = 0; i < m.cells.length; i++) {
+        const c = m.cells[i]!;
+        const row = (c / g.width) | 0;
+        const x = g.originX + (c - row * g.width + 0.5) * g.cellSize, y = g.originY - (row + 0.5) * g.cellSize;
+        dmin = Math.min(dmin, Math.hypot(x - h.x, y - h.y) * ctx.metresPerUnit);
+      }
+      if (dmin > tolM) continue;
+      const e: Evidence = {
+        test: air ? 'air-hyperbola' : 'soil-hyperbola',
+        featureId: null,
+        measured: dmin,
+        expected: 0,
+        tolerance: tolM,
+        units: 'm',
+        passed: true,
+        weight: air ? WEIGHTS.airHyperbola : WEIGHTS.soilHyperbola,
+        slice: m.slice,
+        detail: `hyperbola on line ${h.line} trace ${h.trace} (K ${h.permittivity.toFixed(2)}, ${h.origin}) apex ${dmin.toFixed(2)} m from slice ${m.slice} member`,
+      };
+      const prev = out.get(m.id);
+      if (!prev || (air && prev.test !== 'air-hyperbola')) out.set(m.id, e);
+    }
+  }
+  return out;
+}
+
+/** Cell centres of a member (site CRS), subsampled to at most MAX_SAMPLES. */
+function memberXY(m: Member, g: SliceGrid): { x: Float64Array; y: Float64Array } {
+  const step = Math.max(1, Math.ceil(m.cells.length / MAX_SAMPLES));
+  const n = Math.ceil(m.cells.length / step);
+  const x = new Float64Array(n), y = new Float64Array(n);
+  for (let i = 0, j = 0; i < m.cells.length; i += step, j++) {
+    const c = m.cells[i]!;
+    const row = (c / g.width) | 0;
+    x[j] = g.originX + (c - row * g.width + 0.5) * g.cellSize;
+    y[j] = g.originY - (row + 0.5) * g.cellSize;
+  }
+  return { x, y };
+}
+
+/**
+ * Test 5: an anomaly no plan feature explains, that still moves out at the air rate. Two models:
+ * a point object P (cells on rings |p - P| = r(z_k), P by Gauss-Newton from the shallowest member's
+ * centroid) and, for linear anomalies, a straight object (offsets n . p = a + s r(z_k) across the
+ * anomaly's axis). The better model passes when its RMS residual is within the mean locus tolerance,
+ * the free slope of distance against depth matches c / v within the rate tolerance, over at least
+ * three slices with a measurable shift. Its geometry is where the object must stand.
+ */
+export function unsurveyedEvidence(a: Anomaly3D, ctx: ScreenContext): Evidence | undefined {
+  const mpu = ctx.metresPerUnit;
+  const g = ctx.grid;
+  const slicesSet = [...new Set(a.members.map((m) => m.slice))].sort((p, q) => p - q);
+  if (slicesSet.length < 3) return undefined;
+  const l0 = ctx.loci[slicesSet[0]!]!, l1 = ctx.loci[slicesSet[slicesSet.length - 1]!]!;
+  const expected = (l1.radiusM - l0.radiusM) / (l1.depthM - l0.depthM);
+  const tolM = slicesSet.reduce((s, k) => s + ctx.loci[k]!.toleranceM, 0) / slicesSet.length;
+  const measurable = expected * (l1.depthM - l0.depthM) >= 2 * ctx.positionM;
+  const pts = a.members.map((m) => ({ m, r: ctx.loci[m.slice]!.radiusM / mpu, ...memberXY(m, g) }));
+  const shallow = pts.filter((p) => p.m.slice === slicesSet[0]);
+  // point model
+  let px = 0, py = 0, w = 0;
+  for (const p of shallow) for (let i = 0; i < p.x.length; i++) { px += p.x[i]!; py += p.y[i]!; w++; }
+  px /= w; py /= w;
+  for (let it = 0; it < 30; it++) {
+    let a11 = 0, a12 = 0, a22 = 0, b1 = 0, b2 = 0;
+    for (const p of pts) for (let i = 0; i < p.x.length; i++) {
+      const dx = px - p.x[i]!, dy = py - p.y[i]!;
+      const d = Math.hypot(dx, dy) || 1e-9;
+      const jx = dx / d, jy = dy / d, res = d - p.r;
+      a11 += jx * jx; a12 += jx * jy; a22 += jy * jy; b1 += jx * res; b2 += jy * res;
+    }
+    const det = a11 * a22 - a12 * a12;
+    if (!(Math.abs(det) > 1e-12)) break;
+    const sx = (a22 * b1 - a12 * b2) / det, sy = (a11 * b2 - a12 * b1) / det;
+    px -= sx; py -= sy;
+    if (Math.hypot(sx, sy) < 1e-6 * g.cellSize) break;
+  }
+  const perSlice = (dist: (x: number, y: number) => number) => {
+    const zs: number[] = [], ds: number[] = [];
+    let ss = 0, n = 0;
+    for (const k of slicesSet) {
+      const v: number[] = [];
+      for (const p of pts) if (p.m.slice === k) for (let i = 0; i < p.x.length; i++) {
+        const d = dist(p.x[i]!, p.y[i]!) * mpu;
+        v.push(d);
+        ss += (d - ctx.loci[k]!.radiusM) ** 2;
+        n++;
+      }
+      v.sort((p, q) => p - q);
+      zs.push(ctx.loci[k]!.depthM);
+      ds.push(v[v.length >> 1]!);
+    }
+    return { zs, ds, rms: Math.sqrt(ss / n) };
+  };
+  const point = perSlice((x, y) => Math.hypot(x - px, y - py));
+  let best = { model: 'point' as 'point' | 'line', ...point, geometry: { type: 'Point', coordinates: [px, py] } as NonNullable<Evidence['geometry']> };
+  if (a.shape.kind === 'linear') {
+    const az = (a.shape.directionDeg * Math.PI) / 180;
+    const ux = Math.sin(az), uy = Math.cos(az);
+    const nx = uy, ny = -ux;
+    // offsets across the axis per slice, then a + s r(z) by least squares for s = +1 and -1
+    const off = slicesSet.map((k) => {
+      const v: number[] = [];
+      for (const p of pts) if (p.m.slice === k) for (let i = 0; i < p.x.length; i++) v.push(p.x[i]! * nx + p.y[i]! * ny);
+      v.sort((p, q) => p - q);
+      return v[v.length >> 1]!;
+    });
+    for (const sgn of [1, -1]) {
+      const a0 = off.reduce((s, o, i) => s + o - (sgn * ctx.loci[slicesSet[i]!]!.radiusM) / mpu, 0) / off.length;
+      const line = perSlice((x, y) => Math.abs(x * nx + y * ny - a0));
+      if (line.rms < best.rms) {
+        let cx = 0, cy = 0, n = 0;
+        for (const p of pts) for (let i = 0; i < p.x.length; i++) { cx += p.x[i]!; cy += p.y[i]!; n++; }
+        cx /= n; cy /= n;
+        const t = cx * nx + cy * ny - a0;
+        const fx = cx - t * nx, fy = cy - t * ny;
+        const h = (0.5 * a.shape.lengthM) / mpu;
+        best = { model: 'line', ...line, geometry: { type: 'LineString', coordinates: [[fx - ux * h, fy - uy * h], [fx + ux * h, fy + uy * h]] } };
+      }
+    }
+  }
+  const fit = slope(best.zs, best.ds);
+  const se = Number.isFinite(fit.se) ? fit.se : 0;
+  const tolerance = ctx.rateTolerance * expected + 2 * se;
+  const conclusive = measurable && 2 * se <= 0.5 * expected;
+  const passed = conclusive && best.rms <= tolM && Math.abs(fit.b - expected) <= tolerance;
+  const e: Evidence = {
+    test: 'unsurveyed-obstruction',
+    featureId: null,
+    measured: fit.b,
+    expected,
+    tolerance,
+    units: 'm/m',
+    passed,
+    weight: passed ? WEIGHTS.unsurveyed : 0,
+    detail: `no plan feature explains it; best ${best.model} model: distance grows ${fit.b.toFixed(2)} m per m of depth (air rate ${expected.toFixed(2)}), RMS off the locus ${best.rms.toFixed(2)} m (tolerance ${tolM.toFixed(2)}) over ${slicesSet.length} slices${conclusive ? '' : ' (inconclusive)'}`,
+  };
+  if (passed) {
+    e.geometry = best.geometry;
+    e.detail += best.model === 'point' ? '; a post-like object must stand at the back-projected point' : '; a wall or edge must stand along the back-projected line';
+  }
+  return e;
+}
+
+/** Energy on the locus in the stack made before background removal (flat air events survive there). */
+export function beforeBackgroundEvidence(mo: MoveOutResult, ctx: ScreenContext, threshold: number): Evidence | undefined {
+  const field = ctx.fields[mo.reflector];
+  if (!ctx.beforeScores || !field) return undefined;
+  const refl = ctx.reflectors[mo.reflector]!;
+  const g = ctx.grid;
+  let best: Evidence | undefined;
+  for (const f of mo.fits) {
+    const l = ctx.loci[f.member.slice]!;
+    const sc = ctx.beforeScores[f.member.slice];
+    if (!sc || Math.abs(f.residualM) > l.toleranceM) continue;
+    // band cells within two metres of the member's cells
+    const reach = Math.ceil(2 / (g.cellSize * ctx.metresPerUnit));
+    const m = f.member;
+    let c0 = Infinity, c1 = -Infinity, r0 = Infinity, r1 = -Infinity;
+    for (const c of m.cells) {
+      const r = (c / g.width) | 0, cc = c - r * g.width;
+      c0 = Math.min(c0, cc); c1 = Math.max(c1, cc); r0 = Math.min(r0, r); r1 = Math.max(r1, r);
+    }
+    const vals: number[] = [];
+    for (let r = Math.max(0, r0 - reach); r <= Math.min(g.height - 1, r1 + reach); r++)
+      for (let c = Math.max(0, c0 - reach); c <= Math.min(g.width - 1, c1 + reach); c++) {
+        const k = r * g.width + c;
+        if (Math.abs(field[k]! - l.radiusM) <= l.bandHalfM && Number.isFinite(sc[k]!)) vals.push(sc[k]!);
+      }
+    if (vals.length < 4) continue;
+    vals.sort((p, q) => p - q);
+    const med = vals[vals.length >> 1]!;
+    const passed = med >= threshold;
+    if (!best || (passed && !best.passed)) {
+      best = {
+        test: 'before-background',
+        featureId: refl.featureId,
+        measured: med,
+        expected: threshold,
+        tolerance: 0,
+        units: 'robust z',
+        passed,
+        weight: passed ? WEIGHTS.beforeBackground : 0,
+        slice: m.slice,
+        detail: `median robust score ${med.toFixed(1)} on the ${refl.featureId} locus band before background removal (slice ${m.slice})`,
+      };
+    }
+  }
+  return best;
+}
