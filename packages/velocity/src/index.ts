@@ -27,3 +27,4 @@ export {
 export { toHyperbolaFit, lineHyperbolas, buildVelocityReport, velocityJson, writeVelocityJson, type ReportOptions } from './report';
 export { parsePicks, fitManualPicks, type PicksFile, type ManualHyperbola } from './picks';
 export { lineDirection, correctObliqueCrossings, type ObliqueOptions } from './oblique';
+export { recipeForVelocity } from './recipe';
