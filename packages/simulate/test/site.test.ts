@@ -3,7 +3,7 @@ import { mkdtemp, readFile, readdir, rm, stat, writeFile } from 'node:fs/promise
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { readSegyLine } from '@lamina/radar-data';
+import { openSegy, readSegyLine } from '@lamina/radar-data';
 import { loadSite, readLine } from '@lamina/site';
 import { parseScenario, scenarioCrs, scenarioModel, simulateLine, simulateScenarioFile, simulateSite, type Truth } from '../src';
 
@@ -93,6 +93,18 @@ describe('simulated site folder', () => {
       const sim = simulateLine(m, m.lines[i]!);
       expect(Buffer.from(line.data.buffer, line.data.byteOffset, line.data.byteLength).equals(Buffer.from(sim.data.buffer))).toBe(true);
     }
+    // The streaming reader sees rev 2, IEEE float, the extended interval, and integer-scaled int16 on request.
+    const reader = await openSegy(join(out, 'lines/l01.sgy'));
+    try {
+      expect(reader.revision.major).toBe(2);
+      expect(reader.format).toBe(5);
+      expect(reader.dtNs).toBeCloseTo(0.1, 12);
+      expect(reader.nSamples).toBe(256);
+      const chunk = await reader.readChunk(0, 2);
+      expect(chunk.data.length).toBe(512);
+    } finally {
+      await reader.close();
+    }
     // Lines zigzag: the second runs back.
     expect(truth.lines[1]!.start[0]).toBeGreaterThan(truth.lines[1]!.end[0]);
   });
@@ -163,12 +175,13 @@ describe('simulated site folder', () => {
     expect(t.aboveGround.find((a) => a.id === 'lamp')!.airWave.traces).toBeGreaterThan(0);
   });
 
-  it('works in US survey feet: plan and positions in feet, lengths in metres', async () => {
+  it('works in US survey feet: plan and positions in feet, lengths in metres; int16 little-endian samples', async () => {
     const out = join(await tmp(), 'site');
     const ft = 1200 / 3937;
     const s = parseScenario(
       small({
         crs: 'EPSG:2264',
+        recording: { sampleIntervalNs: 0.2, samples: 200, timeZeroNs: 6, format: 'int16', byteOrder: 'little' },
         survey: { origin: [2100000, 740000], azimuthDeg: 0, lengthM: 3, widthM: 1, lineSpacingM: 0.5, traceSpacingM: 0.1 },
         plan: [{ id: 'wall', kind: 'wall', path: [[2099990, 740000], [2099990, 740020]] }],
         buried: [{ id: 'pipe', kind: 'pipe', material: 'metal', radiusM: 0.05, from: [2099995, 740005, 0.8], to: [2100010, 740005, 0.8] }],
@@ -183,6 +196,13 @@ describe('simulated site folder', () => {
     expect(wall.airWave.distanceMinM!).toBeCloseTo(Math.hypot(10 * ft, 0.08), 3);
     const site = await loadSite(out);
     expect(site.crs.units).toBe('us-ft');
+    const line = await readLine(site, site.lines[0]!);
+    const sim = simulateLine(scenarioModel(s, scenarioCrs(s)), scenarioModel(s, scenarioCrs(s)).lines[0]!);
+    for (let i = 0; i < line.data.length; i++) expect(line.data[i]).toBe(Math.max(-32767, Math.min(32767, Math.round(sim.data[i]! * 8000))) + 0); // + 0: int16 has no -0
+    const r = await openSegy(site.lines[0]!.file);
+    expect(r.littleEndian).toBe(true);
+    expect(r.format).toBe(3);
+    await r.close();
   });
 });
 
