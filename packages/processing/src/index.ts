@@ -24,6 +24,7 @@ export { type DivergenceGainOptions, type AgcOptions, divergenceGainCurve, diver
 export {
   type TimeZeroOptions,
   type TimeZeroResult,
+  type TimeZeroPick,
   C_M_PER_NS,
   pickFirstArrival,
   shiftTrace,

@@ -19,7 +19,7 @@ const frac = z.number().gt(0).lt(1);
 const timeZeroStep = z.strictObject({
   step: z.literal('timeZero'),
   threshold: frac.optional(),
-  pick: z.enum(['peak', 'onset']).optional(),
+  pick: z.enum(['peak', 'firstPeak', 'onset']).optional(),
   medianTraces: z.number().int().min(1).optional(),
   maxDeviationNs: pos.optional(),
   shift: z.enum(['fractional', 'integer']).optional(),
@@ -114,7 +114,7 @@ export function parseRecipe(json: unknown, file = 'recipe', options: { pathPrefi
 
 /**
  * The default chain for an antenna of `frequencyMHz` (T = 1000 / f ns, one period):
- * time-zero (envelope peak of the direct wave minus s/c), dewow (running mean over T), zero-phase
+ * time-zero (main peak of the direct wave minus s/c), dewow (running mean over T), zero-phase
  * Butterworth band-pass 0.25 f - 2 f (order 4), spherical-divergence gain t / T from T (60 dB ceiling),
  * whole-line background removal, and Kirchhoff migration when a velocity is known (skipped otherwise).
  * Gain comes before background removal so that the data `keepBefore: 'backgroundRemoval'` returns
@@ -126,7 +126,7 @@ export function defaultRecipe(frequencyMHz: number): Recipe {
   const T = periodNs(frequencyMHz);
   return {
     steps: [
-      { step: 'timeZero', threshold: 0.25, pick: 'peak', medianTraces: 11, separationCorrection: true },
+      { step: 'timeZero', threshold: 0.25, pick: 'firstPeak', medianTraces: 11, separationCorrection: true },
       { step: 'dewow', method: 'runningMean', windowNs: T },
       { step: 'bandpass', lowMHz: 0.25 * frequencyMHz, highMHz: 2 * frequencyMHz, order: 4 },
       { step: 'gain', kind: 'divergence', power: 1, alphaPerNs: 0, startNs: T, maxGainDb: 60 },
@@ -182,7 +182,7 @@ export function runStep(line: RadarLine, step: Step, ctx: RecipeContext): { line
     case 'timeZero': {
       const params = {
         threshold: step.threshold ?? 0.25,
-        pick: step.pick ?? 'peak',
+        pick: step.pick ?? 'firstPeak',
         medianTraces: step.medianTraces ?? 11,
         maxDeviationNs: step.maxDeviationNs ?? T / 4,
         shift: step.shift ?? 'fractional',

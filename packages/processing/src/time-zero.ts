@@ -5,15 +5,21 @@ import { medianOf, outputFor, withData } from './line-util';
 
 export const C_M_PER_NS = 0.2998;
 
+export type TimeZeroPick = 'peak' | 'firstPeak' | 'onset';
+
 export interface TimeZeroOptions {
   /** Threshold on the envelope, a fraction of the trace's envelope maximum. @default 0.25 */
   threshold?: number;
   /**
-   * What is picked on the direct arrival: `peak` = the centre of the envelope lobe (centroid above half
+   * What is picked on the direct arrival: `firstPeak` (default) = the largest |trace| sample within one
+   * period after the threshold crossing (parabolic refinement): the main lobe of the direct wavelet,
+   * hardly pulled by a ground wave arriving within a period after it (but taken by that ground wave if
+   * it is the stronger one: then use `onset` or `searchNs`); `peak` = the centre of the envelope lobe (centroid above half
    * its maximum) at the largest envelope value within one period after the threshold crossing, i.e. the
-   * wavelet centre; `onset` = the threshold crossing itself. @default 'peak'
+   * wavelet centre for any wavelet phase, but pulled by an overlapping ground wave; `onset` = the
+   * threshold crossing itself. @default 'firstPeak'
    */
-  pick?: 'peak' | 'onset';
+  pick?: TimeZeroPick;
   /** Centre frequency, MHz: sets the one-period peak search after the crossing. */
   frequencyMHz: number;
   /** Antenna separation, m. Time-zero is the direct-air-wave pick minus separationM / c. @default 0 */
@@ -51,7 +57,7 @@ export interface TimeZeroResult {
  */
 export function pickFirstArrival(
   env: ArrayLike<number>,
-  options: { threshold: number; pick: 'peak' | 'onset'; periodSamples: number; from?: number; to?: number },
+  options: { threshold: number; pick: TimeZeroPick; periodSamples: number; from?: number; to?: number; trace?: ArrayLike<number> },
 ): number {
   const from = Math.max(0, options.from ?? 0);
   const to = Math.min(env.length, options.to ?? env.length);
@@ -71,6 +77,34 @@ export function pickFirstArrival(
     return c - 1 + (thr - e0) / (e1 - e0 || 1);
   }
   const end = Math.min(to, c + Math.max(2, Math.round(options.periodSamples)) + 1);
+  if (options.pick === 'firstPeak') {
+    const x = options.trace;
+    if (!x) throw new Error('pickFirstArrival: firstPeak needs the trace');
+    // Largest |x| in the period after the crossing: the main lobe of the direct wavelet. (A rule on the
+    // first lobe above a fraction of it was tried and fails where a ground wave's side lobe cancels part
+    // of the main lobe.)
+    let j = c;
+    for (let i = c; i < end; i++) if (Math.abs(x[i] as number) > Math.abs(x[j] as number)) j = i;
+    // vertex of a least-squares parabola over +-h samples (h ~ a tenth of a period): steadier under noise
+    // than the three-point vertex
+    const h = Math.max(1, Math.round(options.periodSamples / 10));
+    if (j - h >= 0 && j + h < x.length) {
+      let s0 = 0, s2 = 0, s4 = 0, sy = 0, suy = 0, su2y = 0;
+      for (let u = -h; u <= h; u++) {
+        const y = x[j + u] as number;
+        s0 += 1;
+        s2 += u * u;
+        s4 += u * u * u * u;
+        sy += y;
+        suy += u * y;
+        su2y += u * u * y;
+      }
+      const b = suy / s2;
+      const cc = (s0 * su2y - s2 * sy) / (s0 * s4 - s2 * s2);
+      if (cc !== 0 && Math.sign(cc) === -Math.sign(x[j] as number)) return j + Math.max(-1, Math.min(1, -b / (2 * cc)));
+    }
+    return j;
+  }
   let k = c;
   for (let i = c; i < end; i++) if ((env[i] as number) > (env[k] as number)) k = i;
   // The envelope is flat at its top, so its argmax wanders with noise: take the centroid of the lobe above
@@ -132,7 +166,7 @@ export function shiftTrace(x: ArrayLike<number>, shiftSamples: number, out: Floa
 export function timeZero(line: RadarLine, options: TimeZeroOptions, out?: Float32Array): TimeZeroResult {
   const { nSamples: ns, nTraces: nt, dtNs } = line;
   const threshold = options.threshold ?? 0.25;
-  const pick = options.pick ?? 'peak';
+  const pick = options.pick ?? 'firstPeak';
   const period = 1000 / options.frequencyMHz;
   const medianTraces = Math.max(1, (options.medianTraces ?? 11) | 1);
   const maxDev = options.maxDeviationNs ?? period / 4;
@@ -142,8 +176,9 @@ export function timeZero(line: RadarLine, options: TimeZeroOptions, out?: Float3
   const env = new Float64Array(ns);
   const picksNs = new Float64Array(nt);
   for (let t = 0; t < nt; t++) {
-    hilbertEnvelope(line.data.subarray(t * ns, (t + 1) * ns), { workspace: ws }, env);
-    picksNs[t] = pickFirstArrival(env, { threshold, pick, periodSamples: period / dtNs, from, to }) * dtNs;
+    const tr = line.data.subarray(t * ns, (t + 1) * ns);
+    hilbertEnvelope(tr, { workspace: ws }, env);
+    picksNs[t] = pickFirstArrival(env, { threshold, pick, periodSamples: period / dtNs, from, to, trace: tr }) * dtNs;
   }
   if (!picksNs.some(Number.isFinite)) {
     throw new InputError(line.id, 'time-zero: expected a direct arrival, found no trace with signal (all traces zero or not finite)');

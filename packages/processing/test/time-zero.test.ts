@@ -52,6 +52,21 @@ describe('time-zero', () => {
     expect(Math.abs(res.pickNs - (7 + 0.013 * 14.5))).toBeLessThan(0.01);
   });
 
+  it('a ground wave within a period of the air wave: firstPeak stays on the air wave, the envelope centre does not', () => {
+    // Direct waves between the antennas: air wave after s/c, ground wave after s/v (straight paths along
+    // the surface). Ground wave 0.6 of the air wave, soil v = 0.11 m/ns: 0.93 ns apart at s = 0.16 m.
+    const line = makeLine(20, 400, 0.1, 0.05);
+    const t0 = 6.2;
+    for (let t = 0; t < 20; t++) {
+      addRicker(line, t, t0 + S / C_M_PER_NS, 1, F);
+      addRicker(line, t, t0 + S / 0.11, 0.6, F);
+    }
+    const first = timeZero(line, { frequencyMHz: F, separationM: S });
+    const env = timeZero(line, { frequencyMHz: F, separationM: S, pick: 'peak' });
+    expect(Math.abs(first.timeZeroNs - t0)).toBeLessThan(0.1);
+    expect(Math.abs(env.timeZeroNs - t0)).toBeGreaterThan(0.15);
+  });
+
   it('a real step in the picks (e.g. a trigger change) is followed, not smoothed away', () => {
     const line = makeLine(60, 300, 0.1, 0.05);
     for (let t = 0; t < 60; t++) addRicker(line, t, t < 30 ? 5 : 8, 1, F);
