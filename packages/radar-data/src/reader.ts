@@ -217,13 +217,28 @@ export class SegyReader implements SegyInfo {
 
   /**
    * Every trace in order, `tracesPerChunk` at a time (the last chunk may be shorter); each chunk has its
-   * own arrays. @default tracesPerChunk: as many as fit in `BLOCK_BYTES` of file, at least 1
+   * own arrays; the next chunk is read while the caller holds the current one.
+   * @default tracesPerChunk: as many as fit in `BLOCK_BYTES` of file, at least 1
    */
   async *chunks(tracesPerChunk?: number): AsyncGenerator<SegyChunk> {
     const per = tracesPerChunk ?? Math.max(1, Math.floor(BLOCK_BYTES / this.traceBytes));
     if (!Number.isInteger(per) || per < 1) throw new RangeError(`tracesPerChunk must be a positive integer, got ${per}`);
-    for (let first = 0; first < this.nTraces; first += per) {
-      yield await this.readChunk(first, Math.min(per, this.nTraces - first));
+    const next = (first: number): Promise<SegyChunk> | null => {
+      if (first >= this.nTraces) return null;
+      const p = this.readChunk(first, Math.min(per, this.nTraces - first));
+      p.catch(() => {}); // surfaced when awaited below
+      return p;
+    };
+    // One chunk read ahead, so the disk works while the caller processes the current one.
+    let pending = next(0);
+    try {
+      for (let first = 0; pending; first += per) {
+        const current = await pending;
+        pending = next(first + per);
+        yield current;
+      }
+    } finally {
+      if (pending) await pending.catch(() => {});
     }
   }
 

@@ -61,12 +61,36 @@ describe('reader', () => {
         count += c.count;
       }
       expect(count).toBe(37);
+      // Leaving early waits for the chunk read ahead; the reader stays usable.
+      for await (const c of r.chunks(4)) {
+        expect(c.first).toBe(0);
+        break;
+      }
+      expect((await r.readTraces(36, 1))[0]).toBe(l.data[36 * 33]);
       await expect(r.readTraces(30, 8)).rejects.toThrow(RangeError);
       await expect(r.readTraces(-1, 1)).rejects.toThrow(RangeError);
     } finally {
       await r.close();
     }
     await r.close(); // idempotent
+  });
+
+  it('surfaces a bad sample from chunks() at the chunk that holds it', async () => {
+    const l = line(9, 8);
+    l.data[6 * 8 + 2] = NaN;
+    const file = join(tmp.dir, 'nan-chunks.sgy');
+    // The writer refuses NaN, so write a clean file and put the NaN in by hand.
+    await writeSegyLine(file, { ...l, data: l.data.map((v) => (Number.isNaN(v) ? 0 : v)) });
+    const b = readFileSync(file);
+    b.writeFloatBE(NaN, 3600 + 6 * (240 + 32) + 240 + 8);
+    writeFileSync(file, b);
+    const r = await openSegy(file, { name: 'n.sgy' });
+    const firsts: number[] = [];
+    await expect((async () => {
+      for await (const c of r.chunks(3)) firsts.push(c.first);
+    })()).rejects.toThrow('n.sgy: trace 7 of 9, sample 3 of 8: byte offset 5480: expected a finite sample value, found NaN');
+    expect(firsts).toEqual([0, 3]);
+    await r.close();
   });
 
   it('chooses the coordinates for readSegyLine', async () => {
