@@ -1,6 +1,7 @@
 import type { VelocityModel } from '@lamina/velocity';
 import { averageVelocity, sampleDepths, timeToDepth } from './depth';
 import { buildIndex, idwGrid, searchFrame, type IdwOptions } from './idw';
+import { idwGridParallel } from './idw-parallel';
 import { levelLines } from './levelling';
 import type { GriddingInfo, SliceGrid, SliceStack } from './stack';
 import { surveyGeometry, type SurveyGeometry } from './survey';
@@ -54,6 +55,8 @@ export interface GridOptions {
   nodata?: number;
   /** Grid extent [minX, minY, maxX, maxY] in CRS units. @default the traces' bounding box */
   bounds?: [number, number, number, number];
+  /** Worker threads for `gridAsync` / `buildSlices`. @default os.availableParallelism() */
+  threads?: number;
 }
 
 /** Lines whose axial directions agree this well (mean resultant length) count as a parallel survey. Common practice, no source. */
@@ -133,9 +136,16 @@ export class SliceBuilder {
     };
   }
 
+  /** Grid on the calling thread. */
   grid(options: GridOptions): SliceStack {
     const { coords, values, lineStarts } = this.points();
     return gridPoints(coords, values, lineStarts, this.windows, options, this.options.mode ?? 'mean-square');
+  }
+
+  /** Grid on worker threads (`options.threads`); the same result as `grid`. */
+  gridAsync(options: GridOptions): Promise<SliceStack> {
+    const { coords, values, lineStarts } = this.points();
+    return gridPointsAsync(coords, values, lineStarts, this.windows, options, this.options.mode ?? 'mean-square');
   }
 }
 
@@ -190,6 +200,25 @@ export function gridPoints(
   options: GridOptions,
   mode: SliceMode = 'mean-square',
 ): SliceStack {
+  const p = prepare(coords, values, lineStarts, windows, options, mode);
+  const index = buildIndex(coords, searchFrame(p.idw));
+  return p.finish(idwGrid(coords, p.values, windows.length, p.grid, p.idw, index));
+}
+
+/** `gridPoints` with the gridding on worker threads. */
+export async function gridPointsAsync(
+  coords: Float64Array,
+  values: Float32Array,
+  lineStarts: Int32Array,
+  windows: SliceWindow[],
+  options: GridOptions,
+  mode: SliceMode = 'mean-square',
+): Promise<SliceStack> {
+  const p = prepare(coords, values, lineStarts, windows, options, mode);
+  return p.finish(await idwGridParallel(coords, p.values, windows.length, p.grid, p.idw, options.threads));
+}
+
+function prepare(coords: Float64Array, values: Float32Array, lineStarts: Int32Array, windows: SliceWindow[], options: GridOptions, mode: SliceMode) {
   const ns = windows.length;
   const geometry = surveyGeometry(coords, lineStarts);
   const { grid, idw } = resolveGrid(geometry, options);
@@ -198,8 +227,6 @@ export function gridPoints(
     v = values.slice();
     levelLines(v, ns, lineStarts);
   }
-  const index = buildIndex(coords, searchFrame(idw));
-  const bands = idwGrid(coords, v, ns, grid, idw, index);
   const gridding: GriddingInfo = {
     method: 'idw',
     power: idw.power,
@@ -215,11 +242,12 @@ export function gridPoints(
     lineSpacing: geometry.lineSpacing,
     traceSpacing: geometry.traceSpacing,
   };
-  return {
+  const finish = (bands: Float32Array[]): SliceStack => ({
     grid,
     slices: windows.map((w, k) => ({ index: w.index, topM: w.topM, bottomM: w.bottomM, values: bands[k]! })),
     gridding,
-  };
+  });
+  return { grid, idw, values: v, finish };
 }
 
 /** Streaming entry point: feed lines one at a time (any iterable or async iterable), get the stack. */
@@ -229,7 +257,7 @@ export async function buildSlices(
 ): Promise<SliceStack> {
   const b = new SliceBuilder(options);
   for await (const line of lines) b.add(line);
-  return b.grid(options);
+  return b.gridAsync(options);
 }
 
 export interface DefaultWindowOptions {

@@ -40,9 +40,9 @@ export function searchFrame(options: IdwOptions): SearchFrame {
 }
 
 /** kd-tree (kdbush) of the points in the search frame. Its data is one ArrayBuffer (`index.data`). */
-export function buildIndex(coords: Float64Array, frame: SearchFrame): KDBush {
+export function buildIndex(coords: Float64Array, frame: SearchFrame, shared = false): KDBush {
   const n = coords.length / 2;
-  const index = new KDBush(Math.max(n, 1), 32);
+  const index = shared ? new KDBush(Math.max(n, 1), 32, Float64Array, SharedArrayBuffer) : new KDBush(Math.max(n, 1), 32);
   for (let i = 0; i < n; i++) {
     const x = coords[2 * i]!;
     const y = coords[2 * i + 1]!;
@@ -151,7 +151,7 @@ function insert(id: number, d: number, ids: Int32Array, d2: Float64Array, count:
  *
  * `coords` is `[x0, y0, x1, y1, ...]` (site CRS), `values` point-major (`values[p * nBands + b]`);
  * a NaN value leaves that point out of that band only (weights renormalised). Returns one row-major
- * Float32Array per band.
+ * Float32Array per band. `index` must have been built by `buildIndex` with the same search frame.
  */
 export function idwGrid(
   coords: Float64Array,
@@ -163,21 +163,37 @@ export function idwGrid(
 ): Float32Array[] {
   const n = coords.length / 2;
   if (values.length !== n * nBands) throw new Error(`expected ${n * nBands} values (${n} points x ${nBands} bands), found ${values.length}`);
+  const tree = index ?? buildIndex(coords, searchFrame(options));
+  const out: Float32Array[] = [];
+  for (let b = 0; b < nBands; b++) out.push(new Float32Array(grid.width * grid.height));
+  idwRows(tree, n, values, nBands, grid, options, 0, grid.height, out);
+  return out;
+}
+
+/** True if any value is NaN (then the per-band weight sums are kept). */
+export function hasNaN(values: Float32Array): boolean {
+  for (let i = 0; i < values.length; i++) if (values[i] !== values[i]) return true;
+  return false;
+}
+
+/** The kernel of `idwGrid` for rows [rowStart, rowEnd) into preallocated `out` bands (also run by workers). */
+export function idwRows(
+  tree: KDBush,
+  n: number,
+  values: Float32Array,
+  nBands: number,
+  grid: SliceGrid,
+  options: IdwOptions,
+  rowStart: number,
+  rowEnd: number,
+  out: Float32Array[],
+  anyNaN = hasNaN(values),
+): void {
   const frame = searchFrame(options);
-  const tree = index ?? buildIndex(coords, frame);
   const power = options.power ?? 2;
   const k = Math.max(1, options.maxPoints ?? 12);
   const minPoints = options.minPoints ?? 1;
-  const { width, height, cellSize, nodata } = grid;
-  const out: Float32Array[] = [];
-  for (let b = 0; b < nBands; b++) out.push(new Float32Array(width * height));
-  let anyNaN = false;
-  for (let i = 0; i < values.length; i++) {
-    if (values[i] !== values[i]) {
-      anyNaN = true;
-      break;
-    }
-  }
+  const { width, cellSize, nodata } = grid;
   const ids = new Int32Array(k);
   const d2 = new Float64Array(k);
   const w = new Float64Array(k);
@@ -186,7 +202,7 @@ export function idwGrid(
   const wsum = new Float64Array(nBands);
   const halfPower = power / 2;
   const r = frame.radius;
-  for (let row = 0; row < height; row++) {
+  for (let row = rowStart; row < rowEnd; row++) {
     const y = grid.originY - (row + 0.5) * cellSize;
     for (let col = 0; col < width; col++) {
       const x = grid.originX + (col + 0.5) * cellSize;
@@ -238,5 +254,4 @@ export function idwGrid(
       }
     }
   }
-  return out;
 }

@@ -1,7 +1,7 @@
 export { type SliceGrid, type Slice, type SliceStack, type GriddingInfo, cellCentre } from './stack';
 export { bistaticDepth, timeToDepth, depthToTime, sampleDepths, verticalTimeNs, averageVelocity, constantModel } from './depth';
 export { type SliceWindow, type WindowOptions, type SliceMode, defaultThicknessM, sliceWindows, traceSliceValues } from './windows';
-export { type IdwOptions, type SearchFrame, searchFrame, buildIndex, nearestWithin, idwGrid } from './idw';
+export { type IdwOptions, type SearchFrame, searchFrame, buildIndex, nearestWithin, idwGrid, idwRows, hasNaN } from './idw';
 export { levelLines, quantileOf } from './levelling';
 export { type SurveyGeometry, surveyGeometry, median } from './survey';
 export { type SliceStats, sliceStats } from './stats';
@@ -13,7 +13,9 @@ export {
   SliceBuilder,
   resolveGrid,
   gridPoints,
+  gridPointsAsync,
   buildSlices,
   defaultWindows,
 } from './builder';
 export { type SlicesJson, type WriteSlicesOptions, SLICES_TIF, SLICES_JSON, epsgOf, writeSlices, readSlices, readSlicesJson } from './io';
+export { idwGridParallel } from './idw-parallel';

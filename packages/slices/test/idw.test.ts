@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { buildIndex, idwGrid, nearestWithin, searchFrame, type SliceGrid } from '../src';
+import { buildIndex, idwGrid, idwGridParallel, nearestWithin, searchFrame, type SliceGrid } from '../src';
 import { gdalGridInvdistnn, rng } from './gdal';
 
 const NODATA = -9999;
@@ -166,6 +166,24 @@ describe('idwGrid invariants', () => {
         .slice(0, 10);
       expect(n).toBe(brute.length);
       expect(Array.from(ids.subarray(0, n))).toEqual(brute.map((p) => p.i));
+    }
+  });
+});
+
+describe('idwGridParallel', () => {
+  it('on worker threads gives the same grid as idwGrid, cell for cell', async () => {
+    const { coords } = randomPoints(20000, 13, 100, 75);
+    const nb = 20;
+    const vals = Float32Array.from({ length: 20000 * nb }, (_, i) => Math.fround(Math.sin(i * 0.7) + (i % nb)));
+    vals[17] = Number.NaN;
+    const g: SliceGrid = { crs: 'EPSG:32617', originX: 0, originY: 75, cellSize: 0.25, width: 400, height: 300, nodata: NODATA };
+    const opts = { radius: 0.8, radiusAcross: 1.6, directionDeg: 30, maxPoints: 10 };
+    const one = idwGrid(coords, vals, nb, g, opts);
+    const par = await idwGridParallel(coords, vals, nb, g, opts, 2);
+    for (let b = 0; b < nb; b++) {
+      let diff = 0;
+      for (let i = 0; i < one[b]!.length; i++) if (one[b]![i] !== par[b]![i]) diff++;
+      expect(diff).toBe(0);
     }
   });
 });

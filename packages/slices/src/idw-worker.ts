@@ -1,0 +1,31 @@
+import { parentPort } from 'node:worker_threads';
+import KDBush from 'kdbush';
+import { idwRows, type IdwOptions } from './idw';
+import type { SliceGrid } from './stack';
+
+/** One job: rows [rowStart, rowEnd) of a grid whose index, values and output live in shared memory. */
+export interface IdwJob {
+  index: SharedArrayBuffer;
+  n: number;
+  values: SharedArrayBuffer;
+  nBands: number;
+  grid: SliceGrid;
+  options: IdwOptions;
+  out: SharedArrayBuffer;
+  rowStart: number;
+  rowEnd: number;
+  anyNaN: boolean;
+}
+
+parentPort!.on('message', (job: IdwJob) => {
+  try {
+    const tree = KDBush.from(job.index);
+    const values = new Float32Array(job.values);
+    const cells = job.grid.width * job.grid.height;
+    const out = Array.from({ length: job.nBands }, (_, b) => new Float32Array(job.out, b * cells * 4, cells));
+    idwRows(tree, job.n, values, job.nBands, job.grid, job.options, job.rowStart, job.rowEnd, out, job.anyNaN);
+    parentPort!.postMessage({ ok: true });
+  } catch (e) {
+    parentPort!.postMessage({ ok: false, error: e instanceof Error ? e.message : String(e) });
+  }
+});
