@@ -17,9 +17,9 @@ export interface LineGeometry {
 
 /**
  * Length, direction, spacing and extent of a line from its trace positions (CRS units).
- * @param metresPerUnit `site.crs.metresPerUnit`. @default 1
+ * @param metresPerUnit `site.crs.metresPerUnit` (required: a US-feet site would otherwise report feet as metres)
  */
-export function lineGeometry(line: { x: ArrayLike<number>; y: ArrayLike<number> }, metresPerUnit = 1): LineGeometry {
+export function lineGeometry(line: { x: ArrayLike<number>; y: ArrayLike<number> }, metresPerUnit: number): LineGeometry {
   const { x, y } = line;
   const n = x.length;
   const steps = new Float64Array(Math.max(0, n - 1));

@@ -1,4 +1,5 @@
 import { InputError } from '@lamina/errors';
+import { pointToWgs84 } from './crs';
 import type { Crs, Position } from './types';
 
 /** Trace coordinates as the SEG-Y reader gives them (scalar applied). */
@@ -279,6 +280,14 @@ export function checkPositions(p: TracePositions, crs: Crs, file: string, option
     const inRange = minX >= -180 && maxX <= 180 && minY >= -90 && maxY <= 90;
     if (inRange && span < 0.05) {
       throw new InputError(file, `expected ${what} in the projected site CRS ${crs.code ?? crs.proj4} (${crs.units}), found values that look like degrees (x ${minX}..${maxX}, y ${minY}..${maxY}); reproject them`, where);
+    }
+  }
+  if (!crs.isGeographic) {
+    for (const t of [0, n - 1]) {
+      const [lon, lat] = pointToWgs84(crs, p.x[t] as number, p.y[t] as number);
+      if (!(Number.isFinite(lon) && Number.isFinite(lat) && Math.abs(lat) <= 90)) {
+        throw new InputError(file, `expected ${what} inside the site CRS ${crs.code ?? crs.proj4}, found (${p.x[t]}, ${p.y[t]}) at trace ${t + 1}, which has no longitude/latitude there; check the CRS`, where);
+      }
     }
   }
   let run = 1;

@@ -22,7 +22,7 @@ describe('positions from start/end', () => {
     expect(p.x[0]).toBe(500000);
     expect(p.y[10]).toBe(3900040);
     // 3-4-5 triangle: 50 m over 10 steps
-    const g = lineGeometry(p);
+    const g = lineGeometry(p, utm.metresPerUnit);
     expect(g.lengthM).toBeCloseTo(50, 9);
     expect(g.traceSpacingM).toBeCloseTo(5, 9);
     expect(g.azimuthDeg).toBeCloseTo((Math.atan2(3, 4) * 180) / Math.PI, 9);

@@ -142,6 +142,7 @@ const cases: Case[] = [
   { name: 'csv-empty', kind: 'csv', nTraces: 20, files: { 'positions.csv': 'trace,x,y\n' }, error: '<dir>/positions.csv: expected rows of trace,x,y, found none' },
   { name: 'csv-degrees', kind: 'csv', nTraces: 20, files: { 'positions.csv': `trace,x,y\n1,-80.84312,35.22101\n20,-80.84301,35.22103\n` }, error: '<dir>/positions.csv: expected CSV positions in the projected site CRS EPSG:32617 (m), found values that look like degrees (x -80.84312..-80.84301, y 35.22101..35.22103); reproject them' },
   { name: 'csv-constant', kind: 'csv', nTraces: 20, files: { 'positions.csv': `trace,x,y\n1,${E0},${N0}\n20,${E0},${N0}\n` }, error: `<dir>/positions.csv: expected CSV positions that move along the line, found all 20 traces at (${E0}, ${N0})` },
+  { name: 'csv-off-the-globe', kind: 'csv', nTraces: 20, files: { 'positions.csv': `trace,x,y\n1,50000000,${N0}\n20,50000010,${N0}\n` }, error: `<dir>/positions.csv: expected CSV positions inside the site CRS EPSG:32617, found (50000000, ${N0}) at trace 1, which has no longitude/latitude there; check the CRS` },
   { name: 'csv-single-fix', kind: 'csv', nTraces: 20, files: { 'positions.csv': `7,${E0},${N0}\n` }, error: `<dir>/positions.csv: expected CSV positions that move along the line, found all 20 traces at (${E0}, ${N0})` },
 ];
 
