@@ -5,3 +5,4 @@ export { combine, WEIGHTS, type Evidence, type TestName, type Verdict } from './
 export { forecastLoci, surveyGrid, CAUTION, type ForecastOptions, type ForecastSlice } from './forecast';
 export { outlineToWgs84, type FeatureCollection, type GeoJsonFeature, type GeoJsonGeometry, type ToWgs84 } from './geojson';
 export { screenSite, anomalyFeature, type ScreenInput, type ScreenOptions, type ScreenResult, type ScreenSummary, type ScreenedAnomaly } from './screen';
+export { scoreRun, type ScoreTruth, type ScoreOptions, type ScoreReport, type BuriedScore } from './score';

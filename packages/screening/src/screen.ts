@@ -1,6 +1,6 @@
-import { buildAnomaly, extractAnomalies, linkMembers, robustScores, type Anomaly3D, type ExtractOptions, type Member } from '@lamina/anomalies';
+import { buildAnomaly, extractAnomalies, traceOutline, linkMembers, robustScores, type Anomaly3D, type ExtractOptions, type Member } from '@lamina/anomalies';
 import type { PlanFeature } from '@lamina/site';
-import type { SliceStack } from '@lamina/slices';
+import type { SliceGrid, SliceStack } from '@lamina/slices';
 import type { VelocityReport } from '@lamina/velocity';
 import { separateCrossings } from './surgery';
 import { lineSpacingM, sliceLoci, surveyedMask, type Line, type ToleranceOptions } from './context';
@@ -172,7 +172,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   screened.sort((p, q) => p.anomaly.depthTopM - q.anomaly.depthTopM || p.anomaly.members[0]!.x - q.anomaly.members[0]!.x);
   screened.forEach((s, i) => (s.anomaly.id = `A${String(i + 1).padStart(4, '0')}`));
 
-  const features = screened.map((s) => anomalyFeature(s, toWgs84, mpu));
+  const features = screened.map((s) => anomalyFeature(s, grid, toWgs84, mpu));
   const forecast = forecastLoci(plan, velocity, lines, mpu, toWgs84, {
     grid,
     surveyed: mask,
@@ -216,7 +216,7 @@ function relink(ms: Member[], cells: number, cellSize: number, options: ScreenOp
  * One anomaly as a GeoJSON feature (WGS84). Geometry: outline of the union over depth. A linear
  * anomaly also carries its centreline as `properties.centreline` (a GeoJSON LineString, WGS84).
  */
-export function anomalyFeature(s: ScreenedAnomaly, toWgs84: ToWgs84, metresPerUnit: number): GeoJsonFeature {
+export function anomalyFeature(s: ScreenedAnomaly, grid: SliceGrid, toWgs84: ToWgs84, metresPerUnit: number): GeoJsonFeature {
   const a = s.anomaly;
   const evidence = s.evidence.map((e) => {
     const { geometry, ...rest } = e;
@@ -251,6 +251,7 @@ export function anomalyFeature(s: ScreenedAnomaly, toWgs84: ToWgs84, metresPerUn
         topM: m.topM,
         bottomM: m.bottomM,
         centroid: toWgs84(m.x, m.y),
+        outline: outlineToWgs84(traceOutline(m.cells, grid), toWgs84),
         areaM2: round(m.areaM2),
         kind: m.shape.kind,
         directionDeg: round(m.shape.directionDeg),

@@ -1,0 +1,315 @@
+import { InputError } from '@lamina/errors';
+import type { VelocityModel } from '@lamina/velocity';
+import { airRadiusM } from './physics';
+import type { FeatureCollection } from './geojson';
+
+type XY = [number, number];
+type XYZ = [number, number, number];
+
+/** The parts of truth.json scoring reads (DEVELOPERS.md; the simulator may add fields). */
+export interface ScoreTruth {
+  soil: { permittivity: number; velocityMPerNs: number; layers?: { topM: number; bottomM: number | null; velocityMPerNs: number; permittivity: number }[] };
+  crs: string;
+  metresPerUnit: number;
+  buried: { id: string; kind: string; utility?: string; from?: XYZ; to?: XYZ; center?: XYZ; radiusM: number }[];
+  aboveGround: { id: string; planFeatureId?: string; kind: string; from?: XY | XYZ; to?: XY | XYZ; center?: XY | XYZ; heightM?: number }[];
+}
+
+export interface ScoreOptions {
+  /** Plan distance within which a target covers a utility, m (plus the utility's radius). @default 0.5 */
+  planToleranceM?: number;
+  /** Depth tolerance, m: max(this, depthFraction * depth). @default 0.25 */
+  depthToleranceM?: number;
+  /** @default 0.25 */
+  depthFraction?: number;
+  /** Sampling step along a utility, m. @default 0.1 */
+  stepM?: number;
+  /** Base tolerance on a locus, m (plus half the band a slice window covers). @default 0.5 */
+  locusToleranceM?: number;
+}
+
+export interface BuriedScore {
+  id: string;
+  kind: string;
+  lengthM: number;
+  /** Fraction of the length (compact: 0 or 1) covered by targets. */
+  recall: number;
+  targets: string[];
+}
+
+export interface ScoreReport {
+  buried: BuriedScore[];
+  /** Length-weighted recall of pipes and cables, and the fraction of compact targets found. */
+  buriedRecall: { linear: number; compact: number; minimum: number };
+  targets: { id: string; matches: string; kind: 'buried' | 'air' | 'unmatched' }[];
+  /** Fraction of targets that are air-wave reflections (on a reflector's locus, matching no buried target). */
+  targetAirFraction: number;
+  aboveGround: { truePositive: number; falsePositive: number; falseNegative: number; ambiguous: number; precision: number; recall: number };
+  anomalies: { id: string; origin: string; reflector: string | null; buried: string | null }[];
+  definitions: string[];
+}
+
+type Geo = { type: string; coordinates: unknown };
+
+function flatPoints(g: Geo | null | undefined): XY[] {
+  const out: XY[] = [];
+  const walk = (c: unknown): void => {
+    if (Array.isArray(c) && typeof c[0] === 'number') out.push([c[0] as number, c[1] as number]);
+    else if (Array.isArray(c)) for (const x of c) walk(x);
+  };
+  if (g) walk(g.coordinates);
+  return out;
+}
+
+/** Segments and polygons of a geometry in the site CRS. */
+interface Shape {
+  segs: number[];
+  rings: XY[][];
+}
+function shapeOf(g: Geo | null | undefined, from: (lon: number, lat: number) => XY): Shape {
+  const s: Shape = { segs: [], rings: [] };
+  if (!g) return s;
+  const line = (cs: number[][]) => {
+    const p = cs.map((c) => from(c[0]!, c[1]!));
+    if (p.length === 1) s.segs.push(p[0]![0], p[0]![1], p[0]![0], p[0]![1]);
+    for (let i = 0; i + 1 < p.length; i++) s.segs.push(p[i]![0], p[i]![1], p[i + 1]![0], p[i + 1]![1]);
+    return p;
+  };
+  const c = g.coordinates as never;
+  switch (g.type) {
+    case 'Point':
+      line([c]);
+      break;
+    case 'LineString':
+      line(c);
+      break;
+    case 'MultiLineString':
+    case 'MultiPoint':
+      for (const l of c as number[][][]) line(g.type === 'MultiPoint' ? [l as unknown as number[]] : l);
+      break;
+    case 'Polygon':
+      for (const r of c as number[][][]) s.rings.push(line(r));
+      break;
+    case 'MultiPolygon':
+      for (const p of c as number[][][][]) for (const r of p) s.rings.push(line(r));
+      break;
+  }
+  return s;
+}
+
+function segDist(x: number, y: number, s: number[]): number {
+  let best = Infinity;
+  for (let i = 0; i < s.length; i += 4) {
+    const ax = s[i]!, ay = s[i + 1]!, dx = s[i + 2]! - ax, dy = s[i + 3]! - ay;
+    const l2 = dx * dx + dy * dy;
+    let t = l2 > 0 ? ((x - ax) * dx + (y - ay) * dy) / l2 : 0;
+    t = Math.max(0, Math.min(1, t));
+    best = Math.min(best, Math.hypot(x - ax - t * dx, y - ay - t * dy));
+  }
+  return best;
+}
+
+function inside(x: number, y: number, rings: XY[][]): boolean {
+  let n = false;
+  for (const ring of rings)
+    for (let i = 0, j = ring.length - 1; i < ring.length; j = i++) {
+      const [xi, yi] = ring[i]!, [xj, yj] = ring[j]!;
+      if (yi > y !== yj > y && x < ((xj - xi) * (y - yi)) / (yj - yi) + xi) n = !n;
+    }
+  return n;
+}
+
+function shapeDist(x: number, y: number, s: Shape): number {
+  if (s.rings.length && inside(x, y, s.rings)) return 0;
+  return segDist(x, y, s.segs);
+}
+
+function truthModel(t: ScoreTruth): VelocityModel {
+  const layers = (t.soil.layers ?? []).filter((l) => l.velocityMPerNs > 0);
+  if (layers.length === 0) return { kind: 'constant', layers: [{ topM: 0, bottomM: 1e6, velocityMPerNs: t.soil.velocityMPerNs, permittivity: t.soil.permittivity }] };
+  return { kind: 'layered', layers: layers.map((l) => ({ topM: l.topM, bottomM: l.bottomM ?? 1e6, velocityMPerNs: l.velocityMPerNs, permittivity: l.permittivity })) };
+}
+
+function str(v: unknown): string {
+  return typeof v === 'string' ? v : typeof v === 'number' ? String(v) : '';
+}
+
+function num(v: unknown, file: string, field: string): number {
+  if (typeof v !== 'number' || !Number.isFinite(v)) throw new InputError(file, `expected a number, found ${JSON.stringify(v)}`, { field });
+  return v;
+}
+
+/**
+ * Scores a run against the simulator's truth.
+ *
+ * Buried recall: each pipe or cable is sampled every `stepM` along from -> to; a sample is covered
+ * when a target (properties.origin not `above-ground`) lies within planToleranceM + radiusM in plan
+ * (inside its polygon, or near its outline, centreline or point) and its depth range widened by
+ * max(depthToleranceM, depthFraction * depth) holds the sample's depth. Compact targets: found or not.
+ *
+ * Above-ground flags: reflector R's locus at depth z is the set of points at r(z) = c t(z) / 2 from
+ * R (t from the truth soil; R a segment from -> to, or a point). A slice member of an anomaly is on
+ * the locus when the median distance of its outline's vertices (its centroid when it has no outline)
+ * to R is within locusToleranceM + (c/v) (bottomM - topM) / 2 of r(z). An anomaly is an air-wave
+ * reflection of R when at least half its members are on R's locus; an anomaly that is also within
+ * the plan and depth tolerance of a buried target is ambiguous and left out of precision and recall.
+ * Precision = flagged reflections / flagged; recall = flagged reflections / reflections.
+ * A target is an air reflection when its outline's median vertex distance to some R is within the
+ * tolerance of r over its depth range and it covers no buried target.
+ */
+export function scoreRun(
+  targets: FeatureCollection | undefined,
+  anomalies: FeatureCollection,
+  truth: ScoreTruth,
+  fromWgs84: (lon: number, lat: number) => XY,
+  options: ScoreOptions = {},
+): ScoreReport {
+  const mpu = truth.metresPerUnit;
+  const planTol = options.planToleranceM ?? 0.5;
+  const dTol = options.depthToleranceM ?? 0.25;
+  const dFrac = options.depthFraction ?? 0.25;
+  const step = options.stepM ?? 0.1;
+  const locTol = options.locusToleranceM ?? 0.5;
+  const model = truthModel(truth);
+  const rate = 0.2998 / model.layers[0]!.velocityMPerNs;
+
+  interface Obj {
+    id: string;
+    top: number;
+    bottom: number;
+    shape: Shape;
+    origin: string;
+    members: { top: number; bottom: number; pts: XY[] }[];
+  }
+  const read = (fc: FeatureCollection | undefined, file: string): Obj[] =>
+    (fc?.features ?? []).map((f, i) => {
+      const p = f.properties ?? {};
+      const top = num(p.depthTopM, file, `features[${i}].properties.depthTopM`);
+      const bottom = num(p.depthBottomM, file, `features[${i}].properties.depthBottomM`);
+      const shape = shapeOf(f.geometry as Geo, fromWgs84);
+      const cl = p.centreline as Geo | undefined;
+      if (cl && cl.type === 'LineString') shape.segs.push(...shapeOf(cl, fromWgs84).segs);
+      const ms = Array.isArray(p.members) ? (p.members as Record<string, unknown>[]) : [];
+      const outlinePts = flatPoints(f.geometry as Geo).map((q) => fromWgs84(q[0], q[1]));
+      const members = ms.length
+        ? ms.map((m) => {
+            const o = flatPoints(m.outline as Geo | undefined).map((q) => fromWgs84(q[0], q[1]));
+            const c = Array.isArray(m.centroid) ? [fromWgs84(m.centroid[0] as number, m.centroid[1] as number)] : [];
+            return { top: Number(m.topM ?? top), bottom: Number(m.bottomM ?? bottom), pts: o.length ? o : c };
+          })
+        : [{ top, bottom, pts: outlinePts }];
+      return { id: str(p.id) || str(f.id) || `#${i}`, top, bottom, shape, origin: str(p.origin) || 'subsurface', members };
+    });
+  const tgs = read(targets, 'targets.geojson').filter((t) => t.origin !== 'above-ground');
+  const ans = read(anomalies, 'anomalies.geojson');
+
+  const depthOk = (z: number, o: { top: number; bottom: number }) => {
+    const tol = Math.max(dTol, dFrac * z);
+    return z >= o.top - tol && z <= o.bottom + tol;
+  };
+  const near = (x: number, y: number, z: number, radiusM: number, o: Obj) => depthOk(z, o) && shapeDist(x, y, o.shape) * mpu <= planTol + radiusM;
+
+  const buried: BuriedScore[] = truth.buried.map((b) => {
+    const hit = new Set<string>();
+    if (b.center) {
+      const [x, y, z] = b.center;
+      for (const t of tgs) if (near(x, y, z, b.radiusM, t)) hit.add(t.id);
+      return { id: b.id, kind: b.kind, lengthM: 0, recall: hit.size ? 1 : 0, targets: [...hit] };
+    }
+    const f = b.from!, t2 = b.to!;
+    const lengthM = Math.hypot(t2[0] - f[0], t2[1] - f[1]) * mpu;
+    const n = Math.max(1, Math.round(lengthM / step));
+    let covered = 0;
+    for (let i = 0; i <= n; i++) {
+      const s = i / n;
+      const x = f[0] + s * (t2[0] - f[0]), y = f[1] + s * (t2[1] - f[1]), z = f[2] + s * (t2[2] - f[2]);
+      let c = false;
+      for (const t of tgs)
+        if (near(x, y, z, b.radiusM, t)) {
+          c = true;
+          hit.add(t.id);
+        }
+      if (c) covered++;
+    }
+    return { id: b.id, kind: b.kind, lengthM, recall: covered / (n + 1), targets: [...hit] };
+  });
+  const lin = buried.filter((b) => b.lengthM > 0);
+  const cmp = buried.filter((b) => b.lengthM === 0);
+  const linRecall = lin.length ? lin.reduce((s, b) => s + b.recall * b.lengthM, 0) / lin.reduce((s, b) => s + b.lengthM, 0) : 1;
+  const cmpRecall = cmp.length ? cmp.reduce((s, b) => s + b.recall, 0) / cmp.length : 1;
+
+  const refl = truth.aboveGround.map((a) => ({
+    id: a.id,
+    segs: a.center ? [a.center[0], a.center[1], a.center[0], a.center[1]] : [a.from![0], a.from![1], a.to![0], a.to![1]],
+  }));
+  const median = (v: number[]) => {
+    const s = [...v].sort((p, q) => p - q);
+    return s.length ? s[s.length >> 1]! : NaN;
+  };
+  const onLocus = (pts: XY[], top: number, bottom: number, segs: number[]) => {
+    if (pts.length === 0) return false;
+    const d = median(pts.map((p) => segDist(p[0], p[1], segs) * mpu));
+    const r0 = airRadiusM(top, model), r1 = airRadiusM(bottom, model);
+    const tol = locTol + (rate * (bottom - top)) / 2;
+    return d >= Math.min(r0, r1) - tol && d <= Math.max(r0, r1) + tol;
+  };
+  const reflectorOf = (o: Obj): string | null => {
+    for (const r of refl) {
+      const on = o.members.filter((m) => onLocus(m.pts, m.top, m.bottom, r.segs)).length;
+      if (on >= 0.5 * o.members.length && on > 0) return r.id;
+    }
+    return null;
+  };
+  const buriedOf = (o: Obj): string | null => {
+    for (const b of truth.buried) {
+      if (b.center) {
+        if (near(b.center[0], b.center[1], b.center[2], b.radiusM, o)) return b.id;
+        continue;
+      }
+      const f = b.from!, t2 = b.to!;
+      const n = Math.max(1, Math.round((Math.hypot(t2[0] - f[0], t2[1] - f[1]) * mpu) / (2 * step)));
+      for (let i = 0; i <= n; i++) {
+        const s = i / n;
+        if (near(f[0] + s * (t2[0] - f[0]), f[1] + s * (t2[1] - f[1]), f[2] + s * (t2[2] - f[2]), b.radiusM, o)) return b.id;
+      }
+    }
+    return null;
+  };
+  let tp = 0, fp = 0, fn = 0, amb = 0;
+  const anomalyRows = ans.map((a) => {
+    const r = reflectorOf(a);
+    const b = buriedOf(a);
+    const flagged = a.origin === 'above-ground';
+    if (r && b) amb++;
+    else if (r && flagged) tp++;
+    else if (r) fn++;
+    else if (flagged) fp++;
+    return { id: a.id, origin: a.origin, reflector: r, buried: b };
+  });
+  const targetRows = tgs.map((t) => {
+    const b = buriedOf(t);
+    if (b) return { id: t.id, matches: b, kind: 'buried' as const };
+    const r = reflectorOf({ ...t, members: [{ top: t.top, bottom: t.bottom, pts: t.members.flatMap((m) => m.pts) }] });
+    return r ? { id: t.id, matches: r, kind: 'air' as const } : { id: t.id, matches: '', kind: 'unmatched' as const };
+  });
+  return {
+    buried,
+    buriedRecall: { linear: linRecall, compact: cmpRecall, minimum: Math.min(1, ...lin.map((b) => b.recall)) },
+    targets: targetRows,
+    targetAirFraction: targetRows.length ? targetRows.filter((t) => t.kind === 'air').length / targetRows.length : 0,
+    aboveGround: {
+      truePositive: tp,
+      falsePositive: fp,
+      falseNegative: fn,
+      ambiguous: amb,
+      precision: tp + fp > 0 ? tp / (tp + fp) : 1,
+      recall: tp + fn > 0 ? tp / (tp + fn) : 1,
+    },
+    anomalies: anomalyRows,
+    definitions: [
+      `buried sample covered: a target within ${planTol} m + radius in plan and depth within max(${dTol} m, ${dFrac} x depth) of its range`,
+      `air-wave member: median outline-vertex distance to the reflector within ${locTol} m + (c/v)(thickness)/2 of r(z) = c t(z)/2 (truth soil)`,
+      'air-wave anomaly: at least half of its members on one reflector locus; also near a buried target = ambiguous (not counted)',
+    ],
+  };
+}
