@@ -1,22 +1,24 @@
 // Processing throughput (traces/s) of the default chain, side by side with the same chain written in
 // numpy/scipy (bench/processing_ref.py, Debian /usr/bin/python3) on the same seeded synthetic lines.
 // Single thread vs one process, and 2 worker threads vs 2 processes. Prints figures; asserts nothing.
-// Usage: pnpm bench processing   (env LAMINA_BENCH_LINES=40 LAMINA_BENCH_TRACES=400 LAMINA_BENCH_SAMPLES=512)
+// Data: the sample site's lines when sample-sites/yard/site/lines holds SEG-Y files (`pnpm lamina simulate`
+// writes them) or LAMINA_BENCH_SITE names a site folder; else seeded synthetic lines
+// (LAMINA_BENCH_LINES=40 LAMINA_BENCH_TRACES=400 LAMINA_BENCH_SAMPLES=512).
+// Usage: pnpm bench processing
 import { spawnSync } from 'node:child_process';
-import { mkdirSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, writeFileSync } from 'node:fs';
 import { availableParallelism, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import type { RadarLine } from '../packages/radar-data/src/index';
 import { createProcessingPool, defaultRecipe, migrate, runRecipe, type Recipe } from '../packages/processing/src/index';
+import { loadSite, readLine } from '../packages/site/src/index';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const N_LINES = Number(process.env.LAMINA_BENCH_LINES ?? 40);
 const N_TRACES = Number(process.env.LAMINA_BENCH_TRACES ?? 400);
 const N_SAMPLES = Number(process.env.LAMINA_BENCH_SAMPLES ?? 512);
 const DT = 0.1;
-const F = 400;
-const SEP = 0.16;
 const SPACING = 0.025;
 const RUNS = 3;
 
@@ -78,23 +80,47 @@ function stats(xs: number[]): string {
   return `min ${Math.min(...xs).toFixed(3)} s, mean ${mean.toFixed(3)} +- ${sd.toFixed(3)} s`;
 }
 
-const lines = Array.from({ length: N_LINES }, (_, k) => makeLine(k));
-const totalTraces = N_LINES * N_TRACES;
+const siteDir = process.env.LAMINA_BENCH_SITE ?? join(here, '..', 'sample-sites', 'yard', 'site');
+const haveSite = existsSync(join(siteDir, 'lines')) && readdirSync(join(siteDir, 'lines')).some((f) => f.endsWith('.sgy'));
+let lines: RadarLine[];
+let F = 400;
+let SEP = 0.16;
+let source: string;
+if (haveSite) {
+  const site = await loadSite(siteDir);
+  lines = [];
+  for (const src of site.lines) lines.push(await readLine(site, src));
+  F = site.antenna.frequencyMHz;
+  SEP = site.antenna.separationM;
+  source = `site ${site.name} (${siteDir})`;
+} else {
+  lines = Array.from({ length: N_LINES }, (_, k) => makeLine(k));
+  source = 'seeded synthetic';
+}
+const nSamples = lines[0]!.nSamples;
+if (lines.some((l) => l.nSamples !== nSamples)) throw new Error('bench: lines of different sample counts');
+const totalTraces = lines.reduce((s, l) => s + l.nTraces, 0);
 // the chain without migration (it needs the velocity fit), plus the envelope the slices take
 const base = defaultRecipe(F);
 const recipe: Recipe = { steps: [...base.steps.filter((s) => s.step !== 'migration'), { step: 'envelope' }] };
 const ctx = { frequencyMHz: F, separationM: SEP };
-console.log(`${N_LINES} lines x ${N_TRACES} traces x ${N_SAMPLES} samples (seeded synthetic), chain: ${recipe.steps.map((s) => s.step).join(' > ')}`);
+console.log(`${lines.length} lines, ${totalTraces} traces of ${nSamples} samples (${source}), chain: ${recipe.steps.map((s) => s.step).join(' > ')}`);
 
 // Data for the python reference: one raw little-endian float32 file, trace-major, plus the parameters.
 const dir = join(tmpdir(), 'lamina-bench-processing');
 mkdirSync(dir, { recursive: true });
-const all = new Float32Array(totalTraces * N_SAMPLES);
-lines.forEach((l, k) => all.set(l.data, k * N_TRACES * N_SAMPLES));
+const all = new Float32Array(totalTraces * nSamples);
+const index: { nTraces: number; offset: number }[] = [];
+let off = 0;
+for (const l of lines) {
+  all.set(l.data, off);
+  index.push({ nTraces: l.nTraces, offset: off });
+  off += l.data.length;
+}
 writeFileSync(join(dir, 'lines.f32'), Buffer.from(all.buffer));
 writeFileSync(
   join(dir, 'meta.json'),
-  JSON.stringify({ nLines: N_LINES, nTraces: N_TRACES, nSamples: N_SAMPLES, dtNs: DT, frequencyMHz: F, separationM: SEP, recipe, runs: RUNS }),
+  JSON.stringify({ lines: index, nSamples, dtNs: lines[0]!.dtNs, frequencyMHz: F, separationM: SEP, recipe, runs: RUNS }),
 );
 
 // single thread
@@ -110,7 +136,7 @@ for (let r = 0; r < RUNS; r++) {
 const threads = Math.max(2, availableParallelism());
 const t0s = performance.now();
 const pool = createProcessingPool({ threads });
-await Promise.all(Array.from({ length: threads }, (_, i) => pool.run(lines[i % N_LINES]!, recipe, ctx)));
+await Promise.all(Array.from({ length: threads }, (_, i) => pool.run(lines[i % lines.length]!, recipe, ctx)));
 const startup = (performance.now() - t0s) / 1000;
 const multi: number[] = [];
 for (let r = 0; r < RUNS; r++) {
@@ -121,7 +147,7 @@ for (let r = 0; r < RUNS; r++) {
 await pool.close();
 
 // migration alone (after the velocity fit), one thread
-const pre = runRecipe(lines[0]!, recipe.steps.length ? { steps: base.steps.filter((s) => s.step !== 'migration') } : recipe, ctx).line;
+const pre = runRecipe(lines[0]!, { steps: base.steps.filter((s) => s.step !== 'migration') }, ctx).line;
 migrate(pre, { velocityMPerNs: 0.1, separationM: SEP });
 const migT: number[] = [];
 for (let r = 0; r < RUNS; r++) {
@@ -144,4 +170,4 @@ if (ref) {
   console.log(`numpy   ${ref.processes} processes: ${stats(ref.multi)}  -> ${tps(ref.multi).toFixed(0)} traces/s`);
   console.log(`ratio lamina / numpy (traces/s): 1 thread ${(tps(single) / tps(ref.single)).toFixed(2)}, ${threads} cores ${(tps(multi) / tps(ref.multi)).toFixed(2)}`);
 }
-console.log(`migration (Kirchhoff, 2 m aperture, 60 deg), 1 thread, one ${N_TRACES}-trace line: ${stats(migT)} -> ${(N_TRACES / Math.min(...migT)).toFixed(0)} traces/s`);
+console.log(`migration (Kirchhoff, 2 m aperture, 60 deg), 1 thread, one ${pre.nTraces}-trace line: ${stats(migT)} -> ${(pre.nTraces / Math.min(...migT)).toFixed(0)} traces/s`);

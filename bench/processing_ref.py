@@ -40,11 +40,22 @@ def time_zero(d, dt, f, sep, p):
     c = np.argmax(env >= p.get("threshold", 0.25) * mx[:, None], axis=1)
     per = int(round(1000 / f / dt))
     idx = np.clip(c[:, None] + np.arange(per + 1)[None, :], 0, ns - 1)
-    k = np.take_along_axis(idx, np.argmax(np.take_along_axis(env, idx, axis=1), axis=1)[:, None], axis=1)[:, 0]
-    half = 0.5 * env[np.arange(nt), k]
-    widx = np.clip(k[:, None] + np.arange(-per // 2, per // 2 + 1)[None, :], 0, ns - 1)
-    w = np.maximum(np.take_along_axis(env, widx, axis=1) - half[:, None], 0)
-    picks = (w * widx).sum(axis=1) / np.maximum(w.sum(axis=1), 1e-30) * dt
+    if p.get("pick", "firstPeak") == "firstPeak":
+        j = np.take_along_axis(idx, np.argmax(np.abs(np.take_along_axis(d, idx, axis=1)), axis=1)[:, None], axis=1)[:, 0]
+        h = max(1, int(round(per / 10)))
+        u = np.arange(-h, h + 1)
+        y = np.take_along_axis(d, np.clip(j[:, None] + u[None, :], 0, ns - 1), axis=1)
+        s0, s2, s4 = len(u), (u**2).sum(), (u**4).sum()
+        b = (y * u).sum(axis=1) / s2
+        cc = (s0 * (y * u**2).sum(axis=1) - s2 * y.sum(axis=1)) / (s0 * s4 - s2 * s2)
+        ok = (cc != 0) & (np.sign(cc) == -np.sign(d[np.arange(nt), j]))
+        picks = (j + np.where(ok, np.clip(-b / np.where(cc == 0, 1, 2 * cc), -1, 1), 0)) * dt
+    else:
+        k = np.take_along_axis(idx, np.argmax(np.take_along_axis(env, idx, axis=1), axis=1)[:, None], axis=1)[:, 0]
+        half = 0.5 * env[np.arange(nt), k]
+        widx = np.clip(k[:, None] + np.arange(-per // 2, per // 2 + 1)[None, :], 0, ns - 1)
+        w = np.maximum(np.take_along_axis(env, widx, axis=1) - half[:, None], 0)
+        picks = (w * widx).sum(axis=1) / np.maximum(w.sum(axis=1), 1e-30) * dt
     picks[dead] = np.nan
     med = ndimage.generic_filter(picks, np.nanmedian, size=p.get("medianTraces", 11), mode="nearest")
     used = np.where(np.isfinite(picks) & (np.abs(picks - med) <= 1000 / f / 4), picks, med)
@@ -106,7 +117,8 @@ _meta = None
 def _init(path, meta):
     global _data, _meta
     _meta = meta
-    _data = np.fromfile(path, dtype="<f4").reshape(meta["nLines"], meta["nTraces"], meta["nSamples"])
+    raw = np.fromfile(path, dtype="<f4")
+    _data = [raw[l["offset"] : l["offset"] + l["nTraces"] * meta["nSamples"]].reshape(l["nTraces"], meta["nSamples"]) for l in meta["lines"]]
 
 
 def _one(k):
@@ -119,7 +131,7 @@ def main():
     meta = json.load(open(os.path.join(folder, "meta.json")))
     path = os.path.join(folder, "lines.f32")
     _init(path, meta)
-    n = meta["nLines"]
+    n = len(meta["lines"])
     runs = meta.get("runs", 3)
     process(_data[0], meta)  # warm-up
     single = []
