@@ -90,6 +90,43 @@ export function pointAlong(line: RadarLine, along: Float64Array, offsetM: number
   return { trace, x: line.x[lo]! + f * (line.x[hi]! - line.x[lo]!), y: line.y[lo]! + f * (line.y[hi]! - line.y[lo]!) };
 }
 
+/** Median of `a` (reordered in place), by quickselect (Hoare), mean of the two middle values for even length. */
+export function median(a: Float32Array): number {
+  const n = a.length;
+  if (n === 0) return Number.NaN;
+  const k = n >> 1;
+  const hi = select(a, k);
+  if (n % 2) return hi;
+  let lo = -Infinity;
+  for (let i = 0; i < k; i++) if (a[i]! > lo) lo = a[i]!;
+  return 0.5 * (lo + hi);
+}
+
+function select(a: Float32Array, k: number): number {
+  let l = 0;
+  let r = a.length - 1;
+  while (l < r) {
+    const x = a[(l + r) >> 1]!;
+    let i = l;
+    let j = r;
+    while (i <= j) {
+      while (a[i]! < x) i++;
+      while (a[j]! > x) j--;
+      if (i <= j) {
+        const t = a[i]!;
+        a[i] = a[j]!;
+        a[j] = t;
+        i++;
+        j--;
+      }
+    }
+    if (k <= j) r = j;
+    else if (k >= i) l = i;
+    else break;
+  }
+  return a[k]!;
+}
+
 /**
  * Subtract a background trace: the median over a window of `w` traces, computed at window centres
  * every w/4 traces and interpolated linearly between them. A median, unlike a mean, leaves no negative
@@ -109,9 +146,7 @@ export function removeBackground(data: Float32Array, nTraces: number, nSamples: 
     const trace = new Float32Array(nSamples);
     for (let s = 0; s < nSamples; s++) {
       for (let t = a; t < b; t++) col[t - a] = data[t * nSamples + s]!;
-      col.sort();
-      const m = col.length >> 1;
-      trace[s] = col.length % 2 ? col[m]! : 0.5 * (col[m - 1]! + col[m]!);
+      trace[s] = median(col);
     }
     return trace;
   });
@@ -140,8 +175,7 @@ export function envelopeLevel(env: Float32Array, nTraces: number, nSamples: numb
   for (let i = 0; i < env.length; i++) if (env[i]! > max) max = env[i]!;
   for (let s = 0; s < nSamples; s++) {
     for (let t = 0; t < nTraces; t++) col[t] = env[t * nSamples + s]!;
-    col.sort();
-    level[s] = col[Math.floor(nTraces / 2)]!;
+    level[s] = median(col);
   }
   const out = new Float64Array(nSamples);
   const floor = Math.max(max * floorFraction, Number.MIN_VALUE);

@@ -25,7 +25,7 @@ export function envelopeTraces(data: Float32Array, nTraces: number, nSamples: nu
       im[k] = 0;
     }
     fft(re, im, tw, true);
-    for (let s = 0; s < nSamples; s++) env[o + s] = Math.hypot(re[s]!, im[s]!) / n;
+    for (let s = 0; s < nSamples; s++) env[o + s] = Math.sqrt(re[s]! * re[s]! + im[s]! * im[s]!) / n;
   }
   return env;
 }
@@ -77,8 +77,12 @@ function fft(re: Float64Array, im: Float64Array, tw: { cos: Float64Array; sin: F
     for (; j & bit; bit >>= 1) j ^= bit;
     j ^= bit;
     if (i < j) {
-      [re[i], re[j]] = [re[j]!, re[i]!];
-      [im[i], im[j]] = [im[j]!, im[i]!];
+      const tr = re[i]!;
+      re[i] = re[j]!;
+      re[j] = tr;
+      const ti = im[i]!;
+      im[i] = im[j]!;
+      im[j] = ti;
     }
   }
   const sign = inverse ? 1 : -1;

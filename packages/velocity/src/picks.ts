@@ -60,7 +60,10 @@ export function parsePicks(text: string, file: string): PicksFile {
   const r = picksFileSchema.safeParse(raw);
   if (!r.success) {
     const issue = r.error.issues[0]!;
-    throw new InputError(file, issue.message, { field: jsonPath(issue.path) });
+    let found: unknown = raw;
+    for (const k of issue.path) found = found !== null && typeof found === 'object' ? (found as Record<PropertyKey, unknown>)[k] : undefined;
+    const shown = found === undefined ? 'nothing' : JSON.stringify(found).slice(0, 60);
+    throw new InputError(file, `${issue.message}, found ${shown}`, { field: jsonPath(issue.path) });
   }
   return r.data;
 }
