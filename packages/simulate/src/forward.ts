@@ -90,6 +90,7 @@ export function simulateLine(m: Model, line: LineGeom): LineResult {
   const ringPeriod = 1.3 / fGHz;
   const ringDecay = 3 * ringPeriod;
   const wowTau = 6 / fGHz;
+  const active = reachable(m, line, recordEnd);
 
   const record = (s: Scatterer, idx: number, amp: number, halfPath: number, arrival: number): void => {
     if (s.truth < 0) return;
@@ -145,7 +146,8 @@ export function simulateLine(m: Model, line: LineGeom): LineResult {
       addRicker(trace, dt, arrival, amp, f);
     }
 
-    for (let si = 0; si < m.scatterers.length; si++) {
+    for (let ai = 0; ai < active.length; ai++) {
+      const si = active[ai]!;
       const s = m.scatterers[si]!;
       let L: number;
       let amp: number;
@@ -259,4 +261,43 @@ export function simulateLine(m: Model, line: LineGeom): LineResult {
     for (let i = 0; i < ns; i++) data[o + i] = trace[i]!;
   }
   return { data, timeZeroNs: t0s, stats };
+}
+
+/**
+ * Indices of the scatterers that can reach a trace of this line within the record: those whose plan
+ * bounding box lies within the farthest one-way distance a wave travels in the record (at c in the air,
+ * at the fastest layer velocity in the soil) of the line's bounding box. Keeps long lines and dense
+ * clutter from costing (traces x scatterers of the whole site).
+ */
+function reachable(m: Model, line: LineGeom, recordEnd: number): Int32Array {
+  let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
+  for (let j = 0; j < line.mx.length; j++) {
+    const x = line.mx[j]!, y = line.my[j]!;
+    if (x < x0) x0 = x;
+    if (x > x1) x1 = x;
+    if (y < y0) y0 = y;
+    if (y > y1) y1 = y;
+  }
+  let vSoil = m.medium.v;
+  for (const i of m.medium.interfaces) vSoil = Math.max(vSoil, i.v);
+  const t = Math.max(0, recordEnd - m.timeZeroNs + 3 * m.timeZeroJitterNs + Math.abs(m.timeZeroDriftNs));
+  const half = m.separationM / 2;
+  const out: number[] = [];
+  m.scatterers.forEach((s, i) => {
+    const reach = ((s.medium === 'air' ? C_M_PER_NS : vSoil) * t) / 2 + half + 1;
+    let sx0: number, sy0: number, sx1: number, sy1: number;
+    if (s.type === 'segment') {
+      sx0 = Math.min(s.ax, s.bx); sx1 = Math.max(s.ax, s.bx);
+      sy0 = Math.min(s.ay, s.by); sy1 = Math.max(s.ay, s.by);
+    } else if (s.type === 'point') {
+      sx0 = sx1 = s.x; sy0 = sy1 = s.y;
+    } else {
+      const r = Math.hypot(s.hl, s.hw);
+      sx0 = s.cx - r; sx1 = s.cx + r; sy0 = s.cy - r; sy1 = s.cy + r;
+    }
+    const dx = Math.max(0, sx0 - x1, x0 - sx1);
+    const dy = Math.max(0, sy0 - y1, y0 - sy1);
+    if (Math.hypot(dx, dy) <= reach) out.push(i);
+  });
+  return Int32Array.from(out);
 }

@@ -221,6 +221,17 @@ export function parseScenario(value: unknown, file = 'scenario.json'): Scenario 
     const prev = all[i - 1];
     if (prev && l.depthM <= prev.depthM) throw new InputError(file, `expected layers ordered by depth, found ${l.depthM} m after ${prev.depthM} m`, { field: `soil.layers[${i}].depthM` });
   });
+  const sv = s.survey;
+  const nTraces = Math.floor(sv.lengthM / sv.traceSpacingM + 1e-9) + 1;
+  const nLines = Math.floor(sv.widthM / sv.lineSpacingM + 1e-9) + 1;
+  if (nTraces < 2 || nTraces > 1_000_000) throw new InputError(file, `expected 2 to 1000000 traces per line (lengthM / traceSpacingM + 1), found ${nTraces}`, { field: 'survey.traceSpacingM' });
+  if (nLines > 100_000) throw new InputError(file, `expected at most 100000 lines (widthM / lineSpacingM + 1), found ${nLines}`, { field: 'survey.lineSpacingM' });
+  const ids = new Set(Array.from({ length: nLines }, (_, i) => `l${String(i + 1).padStart(Math.max(2, String(nLines).length), '0')}`));
+  for (const key of ['startEndLines', 'csvLines'] as const) {
+    (sv[key] ?? []).forEach((id, i) => {
+      if (!ids.has(id)) throw new InputError(file, `expected a line id of this survey (l01 ... ${[...ids].pop()}), found "${id}"`, { field: `survey.${key}[${i}]` });
+    });
+  }
   const t = s.recording;
   if (t.timeZeroNs >= t.samples * t.sampleIntervalNs) {
     throw new InputError(file, `expected time-zero inside the record (< ${t.samples * t.sampleIntervalNs} ns), found ${t.timeZeroNs}`, { field: 'recording.timeZeroNs' });

@@ -244,3 +244,12 @@ describe('scenario errors', () => {
     await expect(simulateScenarioFile(join(dir, 's.json'))).rejects.toThrow(/s\.json: expected JSON/);
   });
 });
+
+describe('scenario limits', () => {
+  it('refuse surveys that would not fit and line ids that do not exist', () => {
+    const huge = small({ survey: { origin: [431000, 4430000], azimuthDeg: 90, lengthM: 1e5, widthM: 1, lineSpacingM: 0.5, traceSpacingM: 0.01 } });
+    expect(() => parseScenario(huge, 's.json')).toThrow(/s\.json: survey\.traceSpacingM: expected 2 to 1000000 traces per line/);
+    const ghost = small({ survey: { origin: [431000, 4430000], azimuthDeg: 90, lengthM: 2, widthM: 1, lineSpacingM: 0.5, traceSpacingM: 0.1, csvLines: ['l09'] } });
+    expect(() => parseScenario(ghost, 's.json')).toThrow(/survey\.csvLines\[0\]: expected a line id of this survey \(l01 \.\.\. l03\), found "l09"/);
+  });
+});
