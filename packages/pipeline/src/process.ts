@@ -6,6 +6,8 @@ import { loadSite, pointToWgs84, type Site } from '@lamina/site';
 import { buildVelocityReport, velocityJson, type VelocityReport } from '@lamina/velocity';
 import { defaultWindows, gridPoints, writeSlices, type SliceStack, type SliceWindow } from '@lamina/slices';
 import type { Recipe, RecipeLogEntry } from '@lamina/processing';
+import { screenSite } from '@lamina/screening';
+import { matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
 import { createPool, defaultThreads, type Pool, type SerialisedError } from './pool';
 import { pass1, pass2, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
 import { extents, linesGeoJson, planGeoJson, siteSummary } from './outputs';
@@ -36,6 +38,8 @@ export interface ProcessSummary {
   traces: number;
   velocity: VelocityReport['site'];
   slices: number;
+  anomalies: number;
+  aboveGround: number;
   files: string[];
 }
 
@@ -136,7 +140,21 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       threads,
       lines: summaries.map((l) => ({ id: l.id, file: l.file, traces: l.traces, samples: l.samples, dtNs: l.dtNs, lengthM: l.lengthM })),
     });
-    void stackBeforeBackground;
+
+    progress('air-wave screening', 0, 1);
+    const screened = screenSite({
+      stack,
+      plan: site.plan,
+      velocity,
+      lines: p2.map((r, i) => ({ id: summaries[i]!.id, x: r.x, y: r.y })),
+      metresPerUnit: site.crs.metresPerUnit,
+      toWgs84,
+      beforeBackgroundStack: stackBeforeBackground,
+    });
+    progress('air-wave screening', 1, 1);
+    await writeJson(stage.path, 'anomalies.geojson', screened.anomalies);
+    await writeJson(stage.path, 'forecast.geojson', screened.forecast);
+    await carryReview(join(stage.path, 'review.json'), identity, screened.anomalies);
 
     if (options.failAfter === 'outputs') throw new Error('stopped before commit (failAfter)');
     await stage.commit();
@@ -147,7 +165,9 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       traces: summaries.reduce((a, l) => a + l.traces, 0),
       velocity: velocity.site,
       slices: stack.slices.length,
-      files: ['run.json', 'lines.geojson', 'plan.geojson', 'velocity.json', 'slices.tif', 'slices.json', 'radargrams/index.json'],
+      anomalies: screened.summary.anomalies,
+      aboveGround: screened.summary.aboveGround,
+      files: ['run.json', 'lines.geojson', 'plan.geojson', 'velocity.json', 'slices.tif', 'slices.json', 'radargrams/index.json', 'anomalies.geojson', 'forecast.geojson', 'review.json'],
     };
   } catch (e) {
     await exec.close().catch(() => {});
@@ -155,6 +175,32 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     if (isInputError(e)) throw e;
     throw e;
   }
+}
+
+/** Re-match the decisions of an earlier review.json to this run's anomalies (kept when unmatched). */
+async function carryReview(path: string, identity: Review['site'], anomalies: { features: { properties?: Record<string, unknown> | null; geometry?: unknown }[] }): Promise<void> {
+  const review = await readReview(path, identity);
+  const anchored = anomalies.features.flatMap((f) => {
+    const p = f.properties ?? {};
+    const c = anchorOf(p, f.geometry);
+    return typeof p.id === 'string' && c ? [{ id: p.id, lon: c[0], lat: c[1], depthTopM: Number(p.depthTopM), depthBottomM: Number(p.depthBottomM) }] : [];
+  });
+  const { matched, unmatched } = matchDecisions(review.decisions, anchored);
+  await writeReview(path, { ...review, site: identity, decisions: [...matched, ...unmatched] });
+}
+
+/** A plan point for an anomaly: its `anchor` property if screening gave one, else the mean of its outline vertices. */
+export function anchorOf(p: Record<string, unknown>, geometry: unknown): [number, number] | undefined {
+  const a = p.anchor;
+  if (Array.isArray(a) && typeof a[0] === 'number' && typeof a[1] === 'number') return [a[0], a[1]];
+  const pts: number[][] = [];
+  const walk = (c: unknown) => {
+    if (Array.isArray(c) && typeof c[0] === 'number') pts.push(c as number[]);
+    else if (Array.isArray(c)) c.forEach(walk);
+  };
+  walk((geometry as { coordinates?: unknown } | undefined)?.coordinates);
+  if (pts.length === 0) return undefined;
+  return [pts.reduce((s, q) => s + q[0]!, 0) / pts.length, pts.reduce((s, q) => s + q[1]!, 0) / pts.length];
 }
 
 function sliceWindowsFor(site: Site, p1: Pass1Result[], velocity: VelocityReport, options: ProcessOptions): SliceWindow[] {

@@ -64,7 +64,7 @@ export function register(program: Command): void {
           [
             `site ${summary.site}: ${summary.lines} lines, ${summary.traces} traces`,
             `velocity ${v.velocityMPerNs.toFixed(4)} m/ns (K ${v.permittivity.toFixed(2)}, spread ${v.spreadMPerNs.toFixed(4)} m/ns, ${v.fitCount} fits)`,
-            `${summary.slices} depth slices`,
+            `${summary.slices} depth slices, ${summary.anomalies} anomalies (${summary.aboveGround} flagged above-ground)`,
             `wrote ${summary.outDir}: ${summary.files.join(', ')}`,
           ].join('\n') + '\n',
         );
