@@ -224,3 +224,50 @@ export async function readPlan(path: string, displayName: string, options: Parse
   }
   return parsePlan(parseJson(text, displayName), displayName, options);
 }
+
+function* vertices(g: Geometry): Generator<Position> {
+  switch (g.type) {
+    case 'Point':
+      yield g.coordinates;
+      break;
+    case 'LineString':
+      yield* g.coordinates;
+      break;
+    case 'Polygon':
+    case 'MultiLineString':
+      for (const r of g.coordinates) yield* r;
+      break;
+    case 'MultiPolygon':
+      for (const p of g.coordinates) for (const r of p) yield* r;
+      break;
+  }
+}
+
+export interface PlanNearOptions {
+  /** Largest allowed gap between the survey and the nearest plan vertex, metres. @default 1000 */
+  maxGapM?: number;
+}
+
+/**
+ * A plan none of whose vertices lies within `maxGapM` of the survey's extent was almost surely drawn in
+ * another CRS or with lon/lat swapped; throws an `InputError` naming the plan file and the gap.
+ * @param bbox survey extent `[minX, minY, maxX, maxY]` in site CRS units
+ */
+export function checkPlanNearSurvey(plan: readonly PlanFeature[], bbox: readonly [number, number, number, number], metresPerUnit: number, file: string, options: PlanNearOptions = {}): void {
+  if (plan.length === 0) return;
+  const [x0, y0, x1, y1] = bbox;
+  let best = Infinity;
+  for (const f of plan) {
+    for (const v of vertices(f.geometry)) {
+      const dx = Math.max(x0 - v[0], 0, v[0] - x1);
+      const dy = Math.max(y0 - v[1], 0, v[1] - y1);
+      const d = Math.hypot(dx, dy) * metresPerUnit;
+      if (d < best) best = d;
+    }
+  }
+  const limit = options.maxGapM ?? 1000;
+  if (!(best <= limit)) {
+    const km = Number.isFinite(best) ? `${(best / 1000).toFixed(1)} km` : 'an unmeasurable distance';
+    throw new InputError(file, `expected plan features near the survey lines (within ${limit} m), found the nearest ${km} away; is the plan in WGS84 lon/lat order (RFC 7946)?`);
+  }
+}

@@ -1,6 +1,6 @@
 import { toWgs84 } from './crs';
-import { summarizeLine, type ReadLineOptions } from './load';
-import { PLAN_KINDS } from './plan';
+import { shownPath, summarizeLine, type ReadLineOptions } from './load';
+import { checkPlanNearSurvey, PLAN_KINDS } from './plan';
 import type { PlanKind, Site } from './types';
 
 /** One line in a site summary (what `lamina info` prints). */
@@ -84,6 +84,7 @@ export async function summarizeSite(site: Site, options: SummarizeOptions = {}):
     }
     options.onLine?.(lines.length, site.lines.length);
   }
+  if (site.planFile) checkPlanNearSurvey(site.plan, crsBox, site.crs.metresPerUnit, shownPath(site.planFile));
   const byKind = Object.fromEntries(PLAN_KINDS.map((k) => [k, 0])) as Record<PlanKind, number>;
   for (const f of site.plan) byKind[f.kind]++;
   const { input, code, proj4, units, metresPerUnit } = site.crs;

@@ -1,11 +1,11 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { checkPositions, defaultOpenSegy, loadSite, parsePositionsCsv, positionsFromFixes, readLine, readPlan, resolveCrs, shownPath, type OpenSegy } from '../src';
+import { checkPositions, defaultOpenSegy, loadSite, parsePositionsCsv, positionsFromFixes, readLine, readPlan, resolveCrs, shownPath, summarizeSite, type OpenSegy } from '../src';
 
 // The corpus and its expected messages: test/bad/generate.ts (messages written from the format rules).
 const bad = join(import.meta.dirname, 'bad');
-interface Case { name: string; kind: 'site' | 'line' | 'plan' | 'csv'; input: string; crs?: string; nTraces?: number; error: string }
+interface Case { name: string; kind: 'site' | 'line' | 'info' | 'plan' | 'csv'; input: string; crs?: string; nTraces?: number; error: string }
 const { cases } = JSON.parse(readFileSync(join(bad, 'cases.json'), 'utf8')) as { cases: Case[] };
 
 const open: OpenSegy = defaultOpenSegy();
@@ -17,6 +17,8 @@ async function run(c: Case): Promise<void> {
   } else if (c.kind === 'line') {
     const site = await loadSite(input);
     for (const l of site.lines) await readLine(site, l, { open });
+  } else if (c.kind === 'info') {
+    await summarizeSite(await loadSite(input), { open });
   } else if (c.kind === 'plan') {
     await readPlan(input, shownPath(input), { crs: resolveCrs(c.crs ?? 'EPSG:32617') });
   } else {
@@ -29,7 +31,7 @@ async function run(c: Case): Promise<void> {
 describe('bad-input corpus (test/bad/cases.json)', () => {
   it('has cases of every kind', () => {
     expect(cases.length).toBeGreaterThanOrEqual(40);
-    for (const k of ['site', 'line', 'plan', 'csv']) expect(cases.some((c) => c.kind === k)).toBe(true);
+    for (const k of ['site', 'line', 'info', 'plan', 'csv']) expect(cases.some((c) => c.kind === k)).toBe(true);
   });
   for (const c of cases) {
     it(c.name, async () => {

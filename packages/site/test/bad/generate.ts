@@ -5,7 +5,8 @@
  *   pnpm exec tsx packages/site/test/bad/generate.ts
  * `<dir>` in a message stands for the case folder as shown relative to the working folder.
  *
- * Kinds: `site` (loadSite on the folder), `line` (loadSite, then readLine on every line), `plan`
+ * Kinds: `site` (loadSite on the folder), `line` (loadSite, then readLine on every line), `info`
+ * (loadSite, then summarizeSite: what `lamina info` does), `plan`
  * (the folder's plan.geojson under `crs`), `csv` (the folder's positions.csv for `nTraces` traces).
  */
 import { mkdirSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
@@ -16,7 +17,7 @@ const here = import.meta.dirname;
 
 interface Case {
   name: string;
-  kind: 'site' | 'line' | 'plan' | 'csv';
+  kind: 'site' | 'line' | 'info' | 'plan' | 'csv';
   files: Record<string, string | Buffer>;
   error: string;
   crs?: string;
@@ -173,6 +174,18 @@ cases.push(
   lineCase('line-start-end-degrees', segy(z20, z20), '<dir>/site.json: lines[0]: expected start/end positions in the projected site CRS EPSG:32617 (m), found values that look like degrees (x -80.8431..-80.843, y 35.221..35.2211); reproject them', { start: [-80.8431, 35.221], end: [-80.843, 35.2211] }),
 );
 
+// --- whole-site summary (lamina info) ---
+// A post 5 km north of the survey: (500000, 3905000) in EPSG:32617 is lat 35.2881629404, lon -81 by cs2cs.
+cases.push({
+  name: 'plan-far-from-survey',
+  kind: 'info',
+  files: {
+    'site.json': site({ plan: 'plan.geojson' }),
+    'plan.geojson': fc(feat('post', { type: 'Point', coordinates: [-81, 35.2881629404] })),
+  },
+  error: '<dir>/plan.geojson: expected plan features near the survey lines (within 1000 m), found the nearest 5.0 km away; is the plan in WGS84 lon/lat order (RFC 7946)?',
+});
+
 // Case folders are rewritten from scratch; the generator, cases.json and README stay.
 for (const e of readdirSync(here, { withFileTypes: true })) if (e.isDirectory()) rmSync(join(here, e.name), { recursive: true });
 mkdirSync(join(here, '_shared'));
@@ -190,7 +203,7 @@ const list = cases.map((c) => ({
   kind: c.kind,
   ...(c.kind === 'plan' ? { input: `${c.name}/plan.geojson`, crs: c.crs ?? 'EPSG:32617' } : {}),
   ...(c.kind === 'csv' ? { input: `${c.name}/positions.csv`, crs: c.crs ?? 'EPSG:32617', nTraces: c.nTraces } : {}),
-  ...(c.kind === 'site' || c.kind === 'line' ? { input: c.name } : {}),
+  ...(c.kind === 'site' || c.kind === 'line' || c.kind === 'info' ? { input: c.name } : {}),
   error: c.error,
 }));
 writeFileSync(join(here, 'cases.json'), JSON.stringify({ about: 'Bad inputs of @lamina/site; see generate.ts. <dir> = the case folder relative to the working folder.', cases: list }, null, 1) + '\n');
