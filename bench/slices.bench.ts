@@ -10,6 +10,8 @@ import { join } from 'node:path';
 import { once } from 'node:events';
 import { constantModel, sliceWindows, SliceBuilder, writeSlices, type LineInput, type SliceGrid } from '../packages/slices/src';
 import { buildIndex, idwGrid, searchFrame } from '../packages/slices/src/idw';
+import { idwGridParallel } from '../packages/slices/src/idw-parallel';
+import { availableParallelism } from 'node:os';
 
 const small = process.env.SLICES_BENCH_SMALL === '1';
 const N_LINES = small ? 80 : 250;
@@ -69,12 +71,17 @@ const sampler = setInterval(() => (peakRss = Math.max(peakRss, process.memoryUsa
 const windows = sliceWindows(0, 1.8, { thicknessM: 0.045 }).slice(0, N_SLICES);
 const t0 = performance.now();
 const builder = new SliceBuilder({ windows, model: constantModel(V), separationM: 0.1 });
-for (const l of lines()) builder.add(l);
+let tAdd = 0;
+for (const l of lines()) {
+  const a = performance.now();
+  builder.add(l);
+  tAdd += (performance.now() - a) / 1000;
+}
 const tStream = (performance.now() - t0) / 1000;
 const { coords, values, lineStarts } = builder.points();
 const n = coords.length / 2;
 console.log(`site: ${N_LINES} lines x ${N_TRACES} traces = ${n} positions, ${windows.length} slices, ${NS} samples/trace`);
-console.log(`stream + slice values: ${fmt(tStream)} s (${Math.round(n / tStream)} traces/s); kept ${mb(coords.byteLength + values.byteLength)}`);
+console.log(`stream: ${fmt(tStream)} s incl. synthesis; builder.add (depths + slice values): ${fmt(tAdd)} s (${Math.round(n / tAdd)} traces/s); kept ${mb(coords.byteLength + values.byteLength)}`);
 
 // 2. Our gridding: same isotropic parameters as gdal_grid, all slices in one pass.
 const width = Math.round((N_TRACES * TRACE_STEP) / CELL);
@@ -94,6 +101,12 @@ for (let i = 0; i < 3; i++) {
 const s = stats(runs);
 console.log(`ours, ${width} x ${height} grid, ${windows.length} slices, 1 thread: min ${fmt(s.min)} s, mean ${fmt(s.mean)} +- ${fmt(s.std)} s`);
 console.log(`  per slice: ${fmt(s.min / windows.length)} s; ${Math.round((width * height * windows.length) / s.min)} cell-slices/s`);
+const threads = availableParallelism();
+const p0 = performance.now();
+const par = await idwGridParallel(coords, values, windows.length, grid, idw, threads);
+const tPar = (performance.now() - p0) / 1000;
+console.log(`ours on ${threads} worker threads: ${fmt(tPar)} s for all slices (${fmt(tPar / windows.length)} s per slice)`);
+void par;
 const aniso = performance.now();
 idwGrid(coords, values, windows.length, grid, { radius: RADIUS / 2, radiusAcross: RADIUS, directionDeg: 0, maxPoints: MAX_POINTS });
 console.log(`ours, default anisotropic search (0.25 m along x 0.5 m across): ${fmt((performance.now() - aniso) / 1000)} s for all slices`);
@@ -112,16 +125,16 @@ writeFileSync(
   `<OGRVRTDataSource><OGRVRTLayer name="pts"><SrcDataSource>${join(dir, 'pts.csv')}</SrcDataSource><SrcLayer>pts</SrcLayer>` +
     '<GeometryType>wkbPoint</GeometryType><GeometryField encoding="PointFromColumns" x="x" y="y"/></OGRVRTLayer></OGRVRTDataSource>',
 );
-const threads = process.env.GDAL_NUM_THREADS ?? 'ALL_CPUS';
+const gdalThreads = process.env.GDAL_NUM_THREADS ?? 'ALL_CPUS';
 const g0 = performance.now();
 execFileSync('gdal_grid', ['-q', '-a', `invdistnn:power=2:radius=${RADIUS}:max_points=${MAX_POINTS}:nodata=-9999`,
   '-txe', '0', String(width * CELL), '-tye', String(height * CELL), '0', '-outsize', String(width), String(height),
   '-ot', 'Float32', '-zfield', 'z', '-l', 'pts', join(dir, 'pts.vrt'), join(dir, 'g.tif')],
-  { env: { ...process.env, GDAL_NUM_THREADS: threads }, stdio: 'inherit' });
+  { env: { ...process.env, GDAL_NUM_THREADS: gdalThreads }, stdio: 'inherit' });
 const tGdal = (performance.now() - g0) / 1000;
-console.log(`gdal_grid -a invdistnn (GDAL_NUM_THREADS=${threads}), 1 slice incl. reading ${n} points: ${fmt(tGdal)} s`);
-console.log(`RATIO per slice: gdal_grid / ours = ${(tGdal / (s.min / windows.length)).toFixed(0)}x` +
-  ` (all ${windows.length} slices by us vs 1 by gdal_grid: ${(tGdal / s.min).toFixed(1)}x)`);
+console.log(`gdal_grid -a invdistnn (GDAL_NUM_THREADS=${gdalThreads}), 1 slice incl. reading ${n} points: ${fmt(tGdal)} s`);
+console.log(`RATIO per slice: gdal_grid / ours = ${(tGdal / (s.min / windows.length)).toFixed(0)}x (1 thread), ` +
+  `${(tGdal / (tPar / windows.length)).toFixed(0)}x (${threads} threads); all ${windows.length} slices by us vs 1 by gdal_grid: ${(tGdal / s.min).toFixed(1)}x`);
 
 // Agreement on slice 0, cell by cell (tolerance as in the tests: 1e-6 relative, Float32 both sides here).
 execFileSync('/usr/bin/python3', ['-c', `from osgeo import gdal; ds=gdal.Open('${join(dir, 'g.tif')}'); ds.GetRasterBand(1).ReadAsArray().astype('<f4').tofile('${join(dir, 'g.f32')}')`]);
@@ -137,6 +150,7 @@ console.log(`agreement with gdal_grid on slice 0: ${agree} of ${ref.length} cell
 
 // 4. Writing slices.tif + slices.json.
 const w0 = performance.now();
+const load = (await import('node:os')).loadavg()[0]!;
 const json = await writeSlices({ grid, slices: windows.map((w, k) => ({ index: w.index, topM: w.topM, bottomM: w.bottomM, values: ours[k]! })) }, dir);
 console.log(`writeSlices (${json.slices.length} bands, COG + stats): ${fmt((performance.now() - w0) / 1000)} s, ${mb(readFileSync(join(dir, 'slices.tif')).byteLength)}`);
 
@@ -153,10 +167,11 @@ console.log(`writeSlices (${json.slices.length} bands, COG + stats): ${fmt((perf
   }
   const a = performance.now();
   const st = b.grid({ crs: 'EPSG:32617' });
-  console.log(`sample-site scale: ${b.traceCount} traces, ${st.slices.length} slices, ${st.grid.width} x ${st.grid.height} cells: ${fmt((performance.now() - a) / 1000)} s`);
+  console.log(`sample-site scale (grid(), 1 thread, incl. survey geometry): ${b.traceCount} traces, ${st.slices.length} slices, ${st.grid.width} x ${st.grid.height} cells: ${fmt((performance.now() - a) / 1000)} s`);
 }
 
 clearInterval(sampler);
+console.log(`load average (1 min) during the run: ${load.toFixed(1)} on ${availableParallelism()} cores`);
 console.log(`peak memory: rss ${mb(peakRss)} (sampled), maxRSS ${mb(process.resourceUsage().maxRSS * 1024)} (getrusage, includes the bench's own arrays)`);
 rmSync(dir, { recursive: true, force: true });
 void lineStarts;

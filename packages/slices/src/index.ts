@@ -4,7 +4,7 @@ export { type SliceWindow, type WindowOptions, type SliceMode, defaultThicknessM
 export { type IdwOptions, type SearchFrame, searchFrame, buildIndex, nearestWithin, idwGrid, idwRows, hasNaN } from './idw';
 export { levelLines, quantileOf } from './levelling';
 export { type SurveyGeometry, surveyGeometry, median } from './survey';
-export { type SliceStats, sliceStats } from './stats';
+export { type SliceStats, sliceStats, percentile } from './stats';
 export {
   type LineInput,
   type SliceBuilderOptions,

@@ -35,7 +35,7 @@ export const SLICES_JSON = 'slices.json';
 export interface WriteSlicesOptions {
   /** @default 256 */
   tileSize?: number;
-  /** zlib level. @default 6 */
+  /** zlib level. @default 1 (float mantissas hardly compress; level 6 saved about 1 % more and took longer) */
   level?: number;
 }
 
@@ -62,7 +62,8 @@ function describe(topM: number, bottomM: number): string {
 export async function writeSlices(stack: SliceStack, outDir: string, options: WriteSlicesOptions = {}): Promise<SlicesJson> {
   const g = stack.grid;
   if (!Number.isFinite(g.nodata)) throw new Error(`nodata must be a finite number (JSON has no NaN), found ${g.nodata}`);
-  const stats = stack.slices.map((s) => s.stats ?? sliceStats(s.values, g.nodata));
+  const scratch = new Float32Array(g.width * g.height);
+  const stats = stack.slices.map((s) => s.stats ?? sliceStats(s.values, g.nodata, scratch));
   const tif = await encodeCog(
     stack.slices.map((s) => s.values),
     g.width,
@@ -77,7 +78,7 @@ export async function writeSlices(stack: SliceStack, outDir: string, options: Wr
       bandMetadata: stack.slices.map((s) => ({ TOP_M: String(s.topM), BOTTOM_M: String(s.bottomM) })),
       metadata: { SLICE_VALUE: stack.gridding?.mode ?? 'mean-square', DEPTH_UNIT: 'metre' },
       tileSize: options.tileSize ?? 256,
-      level: options.level ?? 6,
+      level: options.level ?? 1,
     },
   );
   const json: SlicesJson = {
@@ -162,10 +163,11 @@ export async function readSlices(dir: string): Promise<SliceStack> {
     metresPerUnit: json.metresPerUnit ?? 1,
     isGeographic: json.isGeographic ?? false,
   };
+  const scratch = new Float32Array(r.width * r.height);
   const slices = json.slices.map((s, k) => {
     const values = r.bands[s.band - 1];
     if (!values) throw new InputError(tifPath, `expected band ${s.band}, found ${r.bands.length} bands`, { field: `slices[${k}].band` });
-    return { index: s.index, topM: s.topM, bottomM: s.bottomM, values, stats: sliceStats(values, json.nodata) };
+    return { index: s.index, topM: s.topM, bottomM: s.bottomM, values, stats: sliceStats(values, json.nodata, scratch) };
   });
   const stack: SliceStack = { grid, slices };
   if (json.gridding) stack.gridding = json.gridding;
