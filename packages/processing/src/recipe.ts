@@ -223,6 +223,9 @@ export function runStep(line: RadarLine, step: Step, ctx: RecipeContext): { line
     case 'backgroundRemoval': {
       const method = step.method ?? 'mean';
       const params = method === 'mean' ? { method } : { method, windowM: step.windowM ?? 10 };
+      if (line.nTraces < 2) {
+        return { line, entry: { step: 'backgroundRemoval', params, skipped: `line has ${line.nTraces} trace: the mean trace would remove everything` } };
+      }
       return { line: backgroundRemoval(line, { ...params, metresPerUnit: mpu }), entry: { step: 'backgroundRemoval', params } };
     }
     case 'gain': {

@@ -105,6 +105,14 @@ describe('runRecipe', () => {
     expect(b.log[0]?.params.velocityMPerNs).toBe(0.12);
   });
 
+  it('skips background removal on a one-trace line (it would remove everything)', () => {
+    const one = makeLine(1, 200, 0.1, 0.05);
+    addRicker(one, 0, 5, 1, F);
+    const r = runRecipe(one, { steps: [{ step: 'backgroundRemoval' }] }, ctx);
+    expect(r.log[0]?.skipped).toMatch(/1 trace/);
+    expect(Array.from(r.line.data)).toEqual(Array.from(one.data));
+  });
+
   it('envelope step gives non-negative data; an empty recipe returns a copy', () => {
     const line = surveyLine();
     const e = runRecipe(line, { steps: [{ step: 'envelope' }] }, ctx);
