@@ -40,6 +40,8 @@ export interface HyperbolaFit {
    * values of the hyperbola are kept here.
    */
   crossing?: { feature: string; angleDeg: number; apparentVelocityMPerNs: number; apparentDepthM: number; lines: number };
+  /** Unit direction of the fit's line (first to last trace) in the site CRS; lets the report find oblique crossings. */
+  lineDirection?: [number, number];
 }
 
 /** Interval velocity layer (Dix), depth in metres. */

@@ -4,6 +4,7 @@ import { z } from 'zod';
 import { alongLine, pointAlong } from './detect';
 import { fitHyperbola, type FitOptions } from './fit';
 import type { HyperbolaFit } from './model';
+import { lineDirection } from './oblique';
 import { toHyperbolaFit } from './report';
 
 /**
@@ -106,5 +107,5 @@ export function fitManualPicks(
     throw new InputError(file, `expected picks along a diffraction hyperbola, found ${off.length} picks that do not fit one`, { field: `hyperbolas[${index}].picks` });
   }
   const p = pointAlong(line, along, fit.x0M);
-  return toHyperbolaFit(line.id, { ...fit, ...p, offsetM: off, timeNs: tim }, 'manual', options);
+  return { ...toHyperbolaFit(line.id, { ...fit, ...p, offsetM: off, timeNs: tim }, 'manual', options), lineDirection: lineDirection(line) };
 }

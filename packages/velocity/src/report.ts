@@ -3,7 +3,7 @@ import type { RadarLine } from '@lamina/radar-data';
 import { detectHyperbolas, type DetectOptions, type DetectedHyperbola } from './detect';
 import type { PointFit } from './fit';
 import { C_M_PER_NS, type HyperbolaFit, type VelocityReport } from './model';
-import { correctObliqueCrossings, type ObliqueOptions } from './oblique';
+import { correctObliqueCrossings, lineDirection, type ObliqueOptions } from './oblique';
 import { permittivityFromVelocity } from './physics';
 import { ABOVE_GROUND_MAX_PERMITTIVITY, classifyVelocity, siteVelocityModel, type SiteModelOptions } from './site-model';
 
@@ -39,7 +39,8 @@ export function toHyperbolaFit(
 
 /** Detect and fit the hyperbolas of one processed line, classified. */
 export function lineHyperbolas(line: RadarLine, options: DetectOptions & { aboveGroundMaxPermittivity?: number } = {}): HyperbolaFit[] {
-  return detectHyperbolas(line, options).map((d: DetectedHyperbola) => toHyperbolaFit(line.id, d, 'auto', options));
+  const dir = lineDirection(line);
+  return detectHyperbolas(line, options).map((d: DetectedHyperbola) => ({ ...toHyperbolaFit(line.id, d, 'auto', options), lineDirection: dir }));
 }
 
 export interface ReportOptions extends SiteModelOptions, ObliqueOptions {
@@ -47,13 +48,20 @@ export interface ReportOptions extends SiteModelOptions, ObliqueOptions {
   separationM?: number;
   /** @default 2 (common practice, no source) */
   aboveGroundMaxPermittivity?: number;
-  /** Unit direction of each line (`lineDirection`), by line id: enables the oblique-crossing correction. */
+  /**
+   * Unit direction of each line (`lineDirection`), by line id, for the oblique-crossing correction.
+   * @default the `lineDirection` the fits carry (set by `lineHyperbolas`)
+   */
   lineDirections?: Record<string, [number, number]>;
+  /** Skip the oblique-crossing correction. @default false */
+  noObliqueCorrection?: boolean;
 }
 
-/** The velocity.json content from all fits of a site (oblique crossings corrected when `lineDirections` is given). */
+/** The velocity.json content from all fits of a site, oblique crossings corrected (see `correctObliqueCrossings`). */
 export function buildVelocityReport(fits: HyperbolaFit[], options: ReportOptions = {}): VelocityReport {
-  const all = options.lineDirections ? correctObliqueCrossings(fits, options.lineDirections, options) : fits;
+  const dirs: Record<string, [number, number]> = { ...options.lineDirections };
+  for (const f of fits) if (f.lineDirection && !dirs[f.line]) dirs[f.line] = f.lineDirection;
+  const all = options.noObliqueCorrection ? fits : correctObliqueCrossings(fits, dirs, options);
   const { site, model } = siteVelocityModel(all, options);
   return {
     site,

@@ -52,5 +52,9 @@ describe('oblique crossings of a linear reflector', () => {
       expect(f.origin).toBe('above-ground');
     }
     expect(Math.abs(report.site.permittivity / k - 1)).toBeLessThan(0.05);
+    // The fits carry their line's direction, so the report finds the same correction without being told.
+    const again = buildVelocityReport(fits, { separationM: 0.15 });
+    expect(again.hyperbolas.filter((f) => f.crossing).length).toBe(5);
+    expect(again.site.permittivity).toBeCloseTo(report.site.permittivity, 10);
   });
 });
