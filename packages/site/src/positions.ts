@@ -155,18 +155,10 @@ export function positionsFromFixes(fixes: readonly PositionFix[], nTraces: numbe
     while (k + 1 < sorted.length && (sorted[k + 1] as PositionFix).trace <= t) k++;
     const a = sorted[k] as PositionFix;
     const b = sorted[k + 1];
-    let px = a.x;
-    let py = a.y;
-    if (t > a.trace && b) {
-      const f = (t - a.trace) / (b.trace - a.trace);
-      px = a.x + (b.x - a.x) * f;
-      py = a.y + (b.y - a.y) * f;
-    } else if (t < a.trace) {
-      px = a.x;
-      py = a.y;
-    }
-    x[t - 1] = px;
-    y[t - 1] = py;
+    // before the first fix and after the last, `a` holds
+    const f = b && t > a.trace ? (t - a.trace) / (b.trace - a.trace) : 0;
+    x[t - 1] = b ? a.x + (b.x - a.x) * f : a.x;
+    y[t - 1] = b ? a.y + (b.y - a.y) * f : a.y;
   }
   return { x, y };
 }

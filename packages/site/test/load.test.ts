@@ -62,6 +62,12 @@ describe('loadSite and readLine', () => {
     expect(site.plan[0]?.geometry.coordinates[0]).toEqual([x, y]);
   });
 
+  it('accepts the path of site.json as well as the folder', async () => {
+    const again = await loadSite(join(dir, 'site.json'));
+    expect(again.dir).toBe(site.dir);
+    expect(again.lines.map((l) => l.file)).toEqual(site.lines.map((l) => l.file));
+  });
+
   it('reads samples and header positions, moving the GPS fix back by its offset', async () => {
     const l = await readLine(site, site.lines[0]!);
     expect([l.id, l.nTraces, l.nSamples, l.timeZeroNs]).toEqual(['l01', N, NS, 0]);
