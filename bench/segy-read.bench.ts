@@ -6,7 +6,7 @@
 import { spawnSync } from 'node:child_process';
 import { rmSync } from 'node:fs';
 import { open } from 'node:fs/promises';
-import { tmpdir } from 'node:os';
+import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { BLOCK_BYTES, openSegy, openSegyWriter, type SampleFormat } from '../packages/radar-data/src/index';
 
@@ -73,10 +73,10 @@ async function segyRead(path: string): Promise<number> {
   return sum;
 }
 
-function stats(xs: number[]): { min: number; mean: number; std: number } {
+function stats(xs: number[]): { min: number; max: number; mean: number; std: number } {
   const mean = xs.reduce((a, b) => a + b, 0) / xs.length;
   const std = Math.sqrt(xs.reduce((a, b) => a + (b - mean) ** 2, 0) / xs.length);
-  return { min: Math.min(...xs), mean, std };
+  return { min: Math.min(...xs), max: Math.max(...xs), mean, std };
 }
 
 async function time(f: () => Promise<unknown>): Promise<number[]> {
@@ -117,6 +117,7 @@ const cases: { format: SampleFormat; littleEndian: boolean; name: string }[] = [
   { format: 3, littleEndian: false, name: 'format 3 (int16), big-endian' },
 ];
 
+console.log(`load average ${loadavg().map((v) => v.toFixed(1)).join(' ')} on ${availableParallelism()} cores (other work skews every figure)`);
 console.log(`SEG-Y read: ~${TARGET_MB} MB files, ${NS} samples/trace, ${RUNS} timed runs after one warm-up; MB = 2^20 bytes of file`);
 for (const c of cases) {
   const path = join(tmpdir(), `lamina-bench-segy-f${c.format}-${c.littleEndian ? 'le' : 'be'}.sgy`);
@@ -127,15 +128,16 @@ for (const c of cases) {
     const segyTimes = await time(() => segyRead(path));
     const segy = stats(segyTimes.map((s) => mb / s));
     const tps = traces / stats(segyTimes).mean;
-    const fmt = (s: { min: number; mean: number; std: number }) => `${s.mean.toFixed(0)} +- ${s.std.toFixed(0)} MB/s (min ${s.min.toFixed(0)})`;
+    const fmt = (s: { min: number; max: number; mean: number; std: number }) =>
+      `${s.mean.toFixed(0)} +- ${s.std.toFixed(0)} MB/s (min ${s.min.toFixed(0)}, best ${s.max.toFixed(0)})`;
     console.log(`\n${c.name}: ${mb.toFixed(0)} MB, ${traces} traces`);
     console.log(`  plain sequential read  ${fmt(plain)}`);
     console.log(`  lamina openSegy.chunks ${fmt(segy)}, ${(tps / 1000).toFixed(0)} k traces/s`);
-    console.log(`  ratio lamina / plain   ${(segy.mean / plain.mean).toFixed(2)}`);
+    console.log(`  ratio lamina / plain   ${(segy.mean / plain.mean).toFixed(2)} (best runs ${(segy.max / plain.max).toFixed(2)})`);
     const ref = segyioTimes(path, c.littleEndian);
     if (ref) {
       const s = stats(ref.map((t) => mb / t));
-      console.log(`  segyio trace.raw[:]    ${fmt(s)}; ratio lamina / segyio ${(segy.mean / s.mean).toFixed(2)}`);
+      console.log(`  segyio trace.raw[:]    ${fmt(s)}; ratio lamina / segyio ${(segy.mean / s.mean).toFixed(2)} (best runs ${(segy.max / s.max).toFixed(2)})`);
     }
   } finally {
     rmSync(path, { force: true });

@@ -14,6 +14,10 @@ for (let e = 0; e < 128; e++) {
   INV_SCALE[e] = 2 ** (24 - 4 * (e - 64));
 }
 
+/** SIGNED_SCALE[top byte] = +-SCALE[exponent]: sign and exponent in one lookup. */
+const SIGNED_SCALE = new Float64Array(256);
+for (let b = 0; b < 256; b++) SIGNED_SCALE[b] = (b & 0x80 ? -1 : 1) * SCALE[b & 0x7f]!;
+
 const TWO24 = 0x1000000;
 const TWO20 = 0x100000;
 
@@ -58,8 +62,7 @@ export function numberToIbm(v: number): number {
 export function ibmWordsToFloat32(words: Uint32Array, out: Float32Array, outOffset = 0): void {
   for (let i = 0; i < words.length; i++) {
     const u = words[i]!;
-    const v = (u & 0xffffff) * SCALE[(u >>> 24) & 0x7f]!;
-    out[outOffset + i] = u & 0x80000000 ? -v : v;
+    out[outOffset + i] = (u & 0xffffff) * SIGNED_SCALE[u >>> 24]!;
   }
 }
 

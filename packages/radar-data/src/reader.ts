@@ -361,26 +361,30 @@ export class SegyReader implements SegyInfo {
       }
     }
     if (format === 5 || format === 1) {
-      // One flat pass (cheaper than per trace); locate the sample only when one is bad.
-      const end = outAt + n * ns;
-      for (let i = outAt; i < end; i++) {
-        const v = out[i]!;
-        if (v - v !== 0) {
-          const t = Math.floor((i - outAt) / ns);
-          const s = i - outAt - t * ns;
-          const trace = t0 + t;
-          const offset = this.dataOffset + trace * tb + skip + s * bps;
-          const found = format === 1
-            ? `${ibmToNumber(new Uint32Array(ab, base + t * tb + skip + s * 4, 1)[0]!)} (an IBM float beyond the float32 range)`
-            : String(v);
-          throw new InputError(this.name, `expected a finite sample value, found ${found}`, {
-            field: `trace ${trace + 1} of ${this.nTraces}, sample ${s + 1} of ${ns}`,
-            offset,
-          });
-        }
+      const i = firstNonFinite(out, outAt, outAt + n * ns);
+      if (i >= 0) {
+        const t = Math.floor((i - outAt) / ns);
+        const s = i - outAt - t * ns;
+        const trace = t0 + t;
+        const found = format === 1
+          ? `${ibmToNumber(new Uint32Array(ab, base + t * tb + skip + s * 4, 1)[0]!)} (an IBM float beyond the float32 range)`
+          : String(out[i]);
+        throw new InputError(this.name, `expected a finite sample value, found ${found}`, {
+          field: `trace ${trace + 1} of ${this.nTraces}, sample ${s + 1} of ${ns}`,
+          offset: this.dataOffset + trace * tb + skip + s * bps,
+        });
       }
     }
   }
+}
+
+/** Index of the first NaN or +-Infinity in a[from..to), or -1. Kept small so it optimises well. */
+function firstNonFinite(a: Float32Array, from: number, to: number): number {
+  for (let i = from; i < to; i++) {
+    const v = a[i]!;
+    if (v - v !== 0) return i;
+  }
+  return -1;
 }
 
 function mixedLength(name: string, trace: number, nTraces: number, traceOffset: number, expected: number, found: number): InputError {
