@@ -194,10 +194,16 @@ export function parseScenario(value: unknown, file = 'scenario.json'): Scenario 
   const r = scenarioSchema.safeParse(value);
   if (!r.success) {
     const issues = r.error.issues;
+    const where = (i: (typeof issues)[number]): PropertyKey[] => (i.code === 'unrecognized_keys' ? [...i.path, i.keys[0] ?? ''] : [...i.path]);
     const first = issues[0]!;
-    const found = describe(valueAt(value, first.path));
-    const more = issues.length > 1 ? ` (and ${issues.length - 1} more: ${issues.slice(1, 4).map((i) => jsonPath(i.path)).join(', ')})` : '';
-    throw new InputError(file, `${first.message}, found ${found}${more}`, { field: jsonPath(first.path) });
+    const path = where(first);
+    const found = valueAt(value, path);
+    let detail: string;
+    if (first.code === 'unrecognized_keys') detail = `unknown key "${first.keys[0]}" (the keys are listed in packages/simulate/README.md)`;
+    else if (found === undefined) detail = `missing: ${first.message.replace(/^Invalid input: /, '').replace(/, received undefined$/, '')}`;
+    else detail = `${first.message.replace(/^Invalid input: |^Invalid option: |^Invalid discriminator value. /, '').replace(/, received \w+$/, '')}, found ${describe(found)}`;
+    const more = issues.length > 1 ? ` (and ${issues.length - 1} more: ${issues.slice(1, 4).map((i) => jsonPath(where(i))).join(', ')})` : '';
+    throw new InputError(file, `${detail}${more}`, { field: jsonPath(path) });
   }
   const s = r.data;
   const seen = new Map<string, string>();
