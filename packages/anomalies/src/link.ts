@@ -7,17 +7,29 @@ export interface LinkOptions {
   maxCentroidDistance?: number;
   /** Slices a chain may skip (0: only adjacent slices link). @default 1 */
   maxGap?: number;
+  /** Two linear members whose directions differ by more than this are crossing, degrees. @default 30 */
+  crossingAngleDeg?: number;
+  /** Overlap fraction (of the smaller) crossing linear members need to link. @default 0.5 */
+  crossingOverlap?: number;
+}
+
+function angleDiff(a: number, b: number): number {
+  const d = Math.abs(a - b) % 180;
+  return Math.min(d, 180 - d);
 }
 
 /**
  * Groups members of neighbouring slices into 3D objects (union-find over links). A link needs
- * overlap in plan (shared cells / smaller member >= minOverlap), or, for two compact members,
+ * overlap in plan (shared cells / smaller member >= minOverlap; >= crossingOverlap for two linear
+ * members at more than crossingAngleDeg, so crossing utilities at neighbouring depths stay apart), or, for two compact members,
  * centroids within maxCentroidDistance. Returns groups of member ids, each sorted by slice.
  */
 export function linkMembers(members: Member[], gridCells: number, cellSize: number, options: LinkOptions = {}): number[][] {
   const minOverlap = options.minOverlap ?? 0.2;
   const maxDist = options.maxCentroidDistance ?? 2 * cellSize;
   const maxGap = options.maxGap ?? 1;
+  const crossAngle = options.crossingAngleDeg ?? 30;
+  const crossOverlap = options.crossingOverlap ?? 0.5;
   const parent = Int32Array.from(members.keys());
   const find = (a: number): number => {
     while (parent[a] !== a) {
@@ -53,8 +65,11 @@ export function linkMembers(members: Member[], gridCells: number, cellSize: numb
         }
         for (const a of here) {
           const shared = counts.get(a.id) ?? 0;
+          // two linear members at an angle (crossing utilities at neighbouring depths) need more overlap
+          const crossing = a.shape.kind === 'linear' && b.shape.kind === 'linear' && angleDiff(a.shape.directionDeg, b.shape.directionDeg) > crossAngle;
+          const need = (crossing ? crossOverlap : minOverlap) * Math.min(a.cells.length, b.cells.length);
           const linked =
-            shared >= minOverlap * Math.min(a.cells.length, b.cells.length) && shared > 0
+            shared >= need && shared > 0
               ? true
               : a.shape.kind === 'compact' && b.shape.kind === 'compact' && Math.hypot(a.x - b.x, a.y - b.y) <= maxDist;
           if (linked) union(a.id, b.id);

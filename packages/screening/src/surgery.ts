@@ -3,16 +3,31 @@ import type { SliceStack } from '@lamina/slices';
 import type { ScreenContext } from './tests';
 import type { Reflector } from './reflectors';
 
-/** Signed distance (m) of cell c from a reflector's locus of radius r (union of rings for a post set). */
+/**
+ * Signed distance (m) of cell c from a reflector's locus of radius r. Every element of a reflector
+ * (each post of a fence, each edge of a footprint, each segment of a wall) returns its own air wave,
+ * so the locus is the union of the elements' loci and the cell takes the one it is nearest to: the
+ * signed value of min_k | d_k - r |. For one point or one segment this is d - r.
+ */
 export function cellResidual(c: number, refl: Reflector, field: Float32Array, radiusM: number, ctx: ScreenContext): number {
-  const pts = refl.points;
-  if (!(pts.length > 2 && refl.segments.length === 0)) return field[c]! - radiusM;
+  const pts = refl.points, seg = refl.segments;
+  const nElements = pts.length / 2 + seg.length / 4;
+  if (nElements <= 1) return field[c]! - radiusM;
   const g = ctx.grid;
+  const mpu = ctx.metresPerUnit;
   const row = (c / g.width) | 0;
   const x = g.originX + (c - row * g.width + 0.5) * g.cellSize, y = g.originY - (row + 0.5) * g.cellSize;
   let best = Infinity;
   for (let k = 0; k < pts.length; k += 2) {
-    const r = Math.hypot(x - pts[k]!, y - pts[k + 1]!) * ctx.metresPerUnit - radiusM;
+    const r = Math.hypot(x - pts[k]!, y - pts[k + 1]!) * mpu - radiusM;
+    if (Math.abs(r) < Math.abs(best)) best = r;
+  }
+  for (let i = 0; i < seg.length; i += 4) {
+    const ax = seg[i]!, ay = seg[i + 1]!, dx = seg[i + 2]! - ax, dy = seg[i + 3]! - ay;
+    const l2 = dx * dx + dy * dy;
+    let t = l2 > 0 ? ((x - ax) * dx + (y - ay) * dy) / l2 : 0;
+    t = t < 0 ? 0 : t > 1 ? 1 : t;
+    const r = Math.hypot(x - ax - t * dx, y - ay - t * dy) * mpu - radiusM;
     if (Math.abs(r) < Math.abs(best)) best = r;
   }
   return best;

@@ -4,6 +4,7 @@ import type { HyperbolaFit, VelocityModel } from '@lamina/velocity';
 import type { SliceLocus } from './context';
 import { WEIGHTS, type Evidence } from './evidence';
 import { depthAtTimeNs } from './physics';
+import { cellResidual } from './surgery';
 import { alongDistance, distanceTo, nearestSegmentAzimuth, type Reflector } from './reflectors';
 
 /** What the tests share: grid, loci per slice, reflectors with their distance fields. */
@@ -48,32 +49,13 @@ function quantile(sorted: Float64Array, q: number): number {
 }
 
 /**
- * Signed residuals (m) of a member's cells from a reflector's locus at radius r: d - r for a line,
- * an edge or one point; for a set of points (a fence's posts) the locus is the union of their rings,
- * so each cell takes the ring it is nearest to: the signed value of min_k | |p - P_k| - r |.
+ * Signed residuals (m) of a member's cells from a reflector's locus at radius r (see cellResidual).
  */
 function memberResiduals(m: Member, refl: Reflector, field: Float32Array, radiusM: number, ctx: ScreenContext): Float64Array {
   const step = Math.max(1, Math.ceil(m.cells.length / MAX_SAMPLES));
   const out = new Float64Array(Math.ceil(m.cells.length / step));
-  const g = ctx.grid;
-  const pts = refl.points;
-  const multi = pts.length > 2 && refl.segments.length === 0;
   let n = 0;
-  for (let i = 0; i < m.cells.length; i += step) {
-    const c = m.cells[i]!;
-    if (!multi) {
-      out[n++] = field[c]! - radiusM;
-      continue;
-    }
-    const row = (c / g.width) | 0;
-    const x = g.originX + (c - row * g.width + 0.5) * g.cellSize, y = g.originY - (row + 0.5) * g.cellSize;
-    let best = Infinity;
-    for (let k = 0; k < pts.length; k += 2) {
-      const r = Math.hypot(x - pts[k]!, y - pts[k + 1]!) * ctx.metresPerUnit - radiusM;
-      if (Math.abs(r) < Math.abs(best)) best = r;
-    }
-    out[n++] = best;
-  }
+  for (let i = 0; i < m.cells.length; i += step) out[n++] = cellResidual(m.cells[i]!, refl, field, radiusM, ctx);
   return out.subarray(0, n).sort();
 }
 
