@@ -2,7 +2,7 @@ import { writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { InputError, isInputError } from '@lamina/errors';
 import { stageFolder } from '@lamina/atomic';
-import { loadSite, pointToWgs84, type Site } from '@lamina/site';
+import { checkPlanNearSurvey, loadSite, pointToWgs84, shownPath, type Site } from '@lamina/site';
 import { buildVelocityReport, velocityJson, type VelocityReport } from '@lamina/velocity';
 import { defaultWindows, gridPoints, writeSlices, type SliceStack, type SliceWindow } from '@lamina/slices';
 import type { Recipe, RecipeLogEntry } from '@lamina/processing';
@@ -98,6 +98,11 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     progress('processing lines', 0, n);
     const p1 = (await inOrder(n, (i) => exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path }), (d) => progress('processing lines', d, n))) as Pass1Result[];
 
+    const toWgs84 = (x: number, y: number) => pointToWgs84(site.crs, x, y);
+    const summaries = p1.map((r) => r.summary);
+    const ext = extents(summaries, toWgs84);
+    checkPlanNearSurvey(site.plan, ext.site, site.crs.metresPerUnit, shownPath(site.planFile ?? join(site.dir, 'plan.geojson')));
+
     const fits = p1.flatMap((r) => r.fits);
     const velocity = buildVelocityReport(fits, { separationM: site.antenna.separationM });
     await writeFile(join(stage.path, 'velocity.json'), velocityJson(velocity));
@@ -123,9 +128,6 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     const stackBeforeBackground = grid(p2, windows, gridOptions, 'valuesBeforeBackground');
     await writeSlices(stack, stage.path);
 
-    const toWgs84 = (x: number, y: number) => pointToWgs84(site.crs, x, y);
-    const summaries = p1.map((r) => r.summary);
-    const ext = extents(summaries, toWgs84);
     await writeJson(stage.path, 'lines.geojson', linesGeoJson(summaries, toWgs84));
     await writeJson(stage.path, 'plan.geojson', planGeoJson(site.plan));
     await writeJson(stage.path, 'radargrams/index.json', { lines: p1.map((r) => r.radargram) });
