@@ -46,6 +46,8 @@ interface LaminaHandle {
   setMode(m: '2d' | '3d'): Promise<void>;
   selectAnomaly(id: string): Promise<void>;
   whenDrawn(): Promise<void>;
+  /** Resolves at the next maplibre idle after a repaint (layer toggles, paint changes). */
+  whenIdle(): Promise<void>;
   /** RGBA of the map canvas at a lon/lat (needs preserveDrawingBuffer, set here). */
   samplePixel(lon: number, lat: number): [number, number, number, number] | null;
   project(lon: number, lat: number): { x: number; y: number } | null;
@@ -85,6 +87,7 @@ const handle: LaminaHandle = {
   setMode: async () => undefined,
   selectAnomaly: async () => undefined,
   whenDrawn: async () => undefined,
+  whenIdle: async () => undefined,
   samplePixel: () => null,
   project: () => null,
 };
@@ -129,7 +132,7 @@ async function main(): Promise<void> {
   const corners = source ? gridCornersWgs84(source.geo, run.site.crs.proj4) : undefined;
 
   // map
-  const ext = run.site.extentWgs84 ?? run.identity?.extent;
+  const ext = boundsOf([plan], run.site.extentWgs84 ?? run.identity?.extent);
   const basemapInput = $<HTMLInputElement>('basemap');
   basemapInput.value = config.basemap ?? '';
   const map = new MlMap({
@@ -306,13 +309,19 @@ async function main(): Promise<void> {
   };
   handle.setSlice = setSlice;
   handle.whenDrawn = () => drawing;
+  handle.whenIdle = () =>
+    new Promise<void>((ok) => {
+      map.once('idle', () => ok());
+      map.triggerRepaint();
+    });
 
   depthInput.addEventListener('input', () => void setSlice(Number(depthInput.value)));
   $('depth-up').addEventListener('click', () => void setSlice(state.sliceIndex - 1));
   $('depth-down').addEventListener('click', () => void setSlice(state.sliceIndex + 1));
   window.addEventListener('keydown', (e) => {
     const t = e.target as HTMLElement | null;
-    if (t && (t.tagName === 'INPUT' || t.tagName === 'TEXTAREA' || t.tagName === 'SELECT') && (t as HTMLInputElement).type !== 'range') return;
+    // leave keys to fields that take text; checkboxes, buttons and sliders do not
+    if (t && (t.tagName === 'TEXTAREA' || t.tagName === 'SELECT' || (t.tagName === 'INPUT' && !['range', 'checkbox', 'button'].includes((t as HTMLInputElement).type)))) return;
     if (e.key === ']' || e.key === 'PageDown') {
       e.preventDefault();
       void setSlice(state.sliceIndex + 1);
@@ -523,6 +532,22 @@ async function main(): Promise<void> {
   await setSlice(0);
   handle.ready = true;
   resolveReady();
+}
+
+/** Survey extent grown to take in the site plan (buildings beside the surveyed ground). */
+function boundsOf(fcs: FeatureCollection[], ext: [number, number, number, number] | undefined): [number, number, number, number] | undefined {
+  let [w, s, e, n] = ext ?? [Infinity, Infinity, -Infinity, -Infinity];
+  const walk = (c: unknown) => {
+    if (Array.isArray(c) && typeof c[0] === 'number') {
+      const [x, y] = c as number[];
+      w = Math.min(w, x!);
+      e = Math.max(e, x!);
+      s = Math.min(s, y!);
+      n = Math.max(n, y!);
+    } else if (Array.isArray(c)) for (const x of c) walk(x);
+  };
+  for (const fc of fcs) for (const f of fc.features) walk(f.geometry?.coordinates);
+  return Number.isFinite(w) && Number.isFinite(n) ? [w, s, e, n] : undefined;
 }
 
 function anchorOf(f: Feature): [number, number] | undefined {
