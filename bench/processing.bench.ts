@@ -6,7 +6,7 @@
 // (LAMINA_BENCH_LINES=40 LAMINA_BENCH_TRACES=400 LAMINA_BENCH_SAMPLES=512).
 // Usage: pnpm bench processing
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdirSync, readdirSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import { availableParallelism, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -169,5 +169,19 @@ if (ref) {
   console.log(`numpy   1 process: ${stats(ref.single)}  -> ${tps(ref.single).toFixed(0)} traces/s`);
   console.log(`numpy   ${ref.processes} processes: ${stats(ref.multi)}  -> ${tps(ref.multi).toFixed(0)} traces/s`);
   console.log(`ratio lamina / numpy (traces/s): 1 thread ${(tps(single) / tps(ref.single)).toFixed(2)}, ${threads} cores ${(tps(multi) / tps(ref.multi)).toFixed(2)}`);
+}
+if (ref) {
+  // same chain, same answer? line 0 from both, relative to its peak (the pick refinements differ slightly)
+  const mine = runRecipe(lines[0]!, recipe, ctx).line.data;
+  writeFileSync(join(dir, 'out0-lamina.f32'), Buffer.from(mine.buffer, mine.byteOffset, mine.byteLength));
+  const buf = readFileSync(join(dir, 'out0.f32'));
+  const theirs = new Float32Array(buf.buffer, buf.byteOffset, buf.byteLength / 4);
+  let d = 0;
+  let p = 0;
+  for (let i = 0; i < mine.length; i++) {
+    d = Math.max(d, Math.abs((mine[i] as number) - (theirs[i] as number)));
+    p = Math.max(p, Math.abs(theirs[i] as number));
+  }
+  console.log(`line 0, lamina vs numpy chain: max difference ${(d / p).toExponential(2)} of the peak`);
 }
 console.log(`migration (Kirchhoff, 2 m aperture, 60 deg), 1 thread, one ${pre.nTraces}-trace line: ${stats(migT)} -> ${(pre.nTraces / Math.min(...migT)).toFixed(0)} traces/s`);

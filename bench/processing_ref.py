@@ -133,7 +133,7 @@ def main():
     _init(path, meta)
     n = len(meta["lines"])
     runs = meta.get("runs", 3)
-    process(_data[0], meta)  # warm-up
+    process(_data[0], meta).astype("<f4").tofile(os.path.join(folder, "out0.f32"))  # warm-up, and line 0 for the side-by-side check
     single = []
     for _ in range(runs):
         t0 = time.perf_counter()
