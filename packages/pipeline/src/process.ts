@@ -118,7 +118,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     await exec.close();
 
     const gridOptions = {
-      crs: site.crs.input,
+      crs: site.crs.code ?? site.crs.proj4,
       metresPerUnit: site.crs.metresPerUnit,
       isGeographic: site.crs.isGeographic,
       level: options.level ?? false,
