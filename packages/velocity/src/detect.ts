@@ -7,9 +7,9 @@ import { apexDistance, fitHyperbola, hyperbolaTime, type PointFit } from './fit'
  * 1. background removal (moving median trace) so flat reflections and the direct wave do not dominate;
  * 2. Hilbert envelope, divided by its median across traces at each time (a time-varying noise level);
  * 3. apex candidates: local maxima of that normalised envelope above `candidateThreshold`;
- * 4. per candidate, a scan over velocity (geometric grid from `minVelocityMPerNs` to beyond c) scoring
- *    the mean normalised envelope along the predicted bistatic curve within an aperture of
- *    `apertureAngleDeg` either side of vertical;
+ * 4. per candidate, a scan over velocity (geometric grid from `minVelocityMPerNs` to beyond c) and
+ *    apex position scoring the predicted bistatic curve within `apertureAngleDeg` of vertical by the
+ *    smaller of its two flanks' medians of the normalised envelope;
  * 5. flank picks (envelope peak within half a period of the predicted curve, trace by trace), a robust
  *    fit (see `fitHyperbola`), re-picking around the fitted curve and a second fit;
  * 6. acceptance: enough picks on both flanks, small residuals, bounded uncertainty.
@@ -60,7 +60,7 @@ export interface DetectedHyperbola extends PointFit {
   /** Picks used (offset along the line from its first trace, m; two-way time after time-zero, ns). */
   offsetM: Float64Array;
   timeNs: Float64Array;
-  /** Mean normalised envelope along the fitted curve. */
+  /** Smaller of the two flanks' medians of the normalised envelope along the fitted curve. */
   score: number;
 }
 
@@ -276,17 +276,26 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   };
   const apertureOf = (z: number) => Math.min(maxAp, Math.max(5 * spacing, z * tanA));
 
+  // Score of a curve: the smaller of the two flanks' medians of the normalised envelope along it. A
+  // median ignores a few crossings of strong straight events (air waves from walls), and taking the
+  // weaker flank favours curves that follow both flanks of a real hyperbola.
+  const left = new Float32Array(nTraces);
+  const right = new Float32Array(nTraces);
   const curveScore = (x0: number, z: number, v: number, ap: number): number => {
     const [a, b] = traceRange(x0, ap);
-    let acc = 0;
-    let cnt = 0;
-    // At most about 120 traces per curve: the score is a mean, so a stride keeps it comparable.
     const stride = Math.max(1, Math.ceil((b - a + 1) / 120));
+    const skip = 1.5 * spacing;
+    let nl = 0;
+    let nr = 0;
     for (let j = a; j <= b; j += stride) {
-      acc += at(j, sampleOf(hyperbolaTime(along[j]!, x0, z, v, sep)));
-      cnt++;
+      const d = along[j]! - x0;
+      if (Math.abs(d) < skip) continue;
+      const u = at(j, sampleOf(hyperbolaTime(along[j]!, x0, z, v, sep)));
+      if (d < 0) left[nl++] = u;
+      else right[nr++] = u;
     }
-    return cnt > 0 ? acc / cnt : 0;
+    if (nl < 2 || nr < 2) return 0;
+    return Math.min(median(left.subarray(0, nl)), median(right.subarray(0, nr)));
   };
 
   const pick = (x0: number, z: number, v: number, ap: number, windowNs: number) => {
@@ -328,48 +337,20 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
     return false;
   };
 
-  let examined = 0;
-  for (const c of cands) {
-    if (examined >= maxCand) break;
-    if (nearAccepted(c.t, c.s)) continue;
-    examined++;
-    // Scan velocity and a few traces of apex position (noise moves the envelope maximum off the apex).
-    let bestScore = -1;
-    let bestV = Number.NaN;
-    let x0 = along[c.t]!;
-    const t0 = c.s * dtNs - timeZeroNs;
-    for (let dj = -apexShift; dj <= apexShift; dj++) {
-      const j = c.t + dj;
-      if (j < 0 || j >= nTraces) continue;
-      for (let k = 0; k < nV; k++) {
-        const v = velocities[k]!;
-        const z = apexDistance(t0, v, sep);
-        if (!(z > 0)) continue;
-        const sc = curveScore(along[j]!, z, v, apertureOf(z));
-        if (sc > bestScore) {
-          bestScore = sc;
-          bestV = v;
-          x0 = along[j]!;
-        }
-      }
-    }
-    if (!(bestScore > pickTh / 2)) continue;
+  /** Picks, fit and acceptance from one start; the accepted fit or null. */
+  const tryStart = (start: { x0M: number; t0Ns: number; velocityMPerNs: number }): DetectedHyperbola | null => {
     let fit: PointFit | null = null;
     let picks = { off: [] as number[], tim: [] as number[] };
-    let guess = { x0M: x0, t0Ns: t0, velocityMPerNs: bestV };
+    let guess = start;
     for (let pass = 0; pass < 3; pass++) {
       const z = apexDistance(guess.t0Ns, guess.velocityMPerNs, sep);
       picks = pick(guess.x0M, z, guess.velocityMPerNs, apertureOf(z), pass === 0 ? periodNs / 2 : periodNs / 3);
-      if (picks.off.length < minPicks) {
-        fit = null;
-        break;
-      }
+      if (picks.off.length < minPicks) return null;
       fit = fitHyperbola(picks.off, picks.tim, { separationM: sep, initial: guess });
-      if (!fit) break;
+      if (!fit) return null;
       guess = { x0M: fit.x0M, t0Ns: fit.t0Ns, velocityMPerNs: fit.velocityMPerNs };
     }
-    if (!fit) continue;
-    // Acceptance.
+    if (!fit) return null;
     let left = 0;
     let right = 0;
     let maxMoveout = 0;
@@ -382,17 +363,15 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
       else if (d > side) right++;
       maxMoveout = Math.max(maxMoveout, picks.tim[i]! - fit.t0Ns);
     }
-    if (fit.inliers < minPicks || left < minSide || right < minSide) continue;
-    if (!(fit.rmsNs <= maxRmsP * periodNs)) continue;
-    if (!(fit.sigmaVelocity <= maxRel * fit.velocityMPerNs)) continue;
-    if (maxMoveout < periodNs / 2) continue;
-    if (fit.velocityMPerNs < vMin * 0.9 || fit.velocityMPerNs > vMax * 1.1) continue;
-    if (fit.x0M < along[0]! - spacing || fit.x0M > length + spacing) continue;
-    if (fit.t0Ns <= 0) continue;
-    const dup = accepted.some((h) => Math.abs(h.x0M - fit.x0M) < Math.max(3 * spacing, 0.2) && Math.abs(h.t0Ns - fit.t0Ns) < periodNs);
-    if (dup) continue;
+    if (fit.inliers < minPicks || left < minSide || right < minSide) return null;
+    if (!(fit.rmsNs <= maxRmsP * periodNs)) return null;
+    if (!(fit.sigmaVelocity <= maxRel * fit.velocityMPerNs)) return null;
+    if (maxMoveout < periodNs / 2) return null;
+    if (fit.velocityMPerNs < vMin * 0.9 || fit.velocityMPerNs > vMax * 1.1) return null;
+    if (fit.x0M < along[0]! - spacing || fit.x0M > length + spacing) return null;
+    if (fit.t0Ns <= 0) return null;
     const p = pointAlong(line, along, fit.x0M);
-    accepted.push({
+    return {
       ...fit,
       trace: p.trace,
       x: p.x,
@@ -400,7 +379,53 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
       offsetM: Float64Array.from(picks.off),
       timeNs: Float64Array.from(picks.tim),
       score: curveScore(fit.x0M, fit.zM, fit.velocityMPerNs, apertureOf(fit.zM)),
-    });
+    };
+  };
+
+  const scoreV = new Float64Array(nV);
+  const xV = new Float64Array(nV);
+  let examined = 0;
+  for (const c of cands) {
+    if (examined >= maxCand) break;
+    if (nearAccepted(c.t, c.s)) continue;
+    examined++;
+    // Scan velocity and a few traces of apex position (noise moves the envelope maximum off the apex).
+    const t0 = c.s * dtNs - timeZeroNs;
+    scoreV.fill(-1);
+    for (let dj = -apexShift; dj <= apexShift; dj++) {
+      const j = c.t + dj;
+      if (j < 0 || j >= nTraces) continue;
+      for (let k = 0; k < nV; k++) {
+        const v = velocities[k]!;
+        const z = apexDistance(t0, v, sep);
+        if (!(z > 0)) continue;
+        const sc = curveScore(along[j]!, z, v, apertureOf(z));
+        if (sc > scoreV[k]!) {
+          scoreV[k] = sc;
+          xV[k] = along[j]!;
+        }
+      }
+    }
+    // Starts: the strongest local maxima of the score over velocity; the accepted fit with the smallest
+    // residual wins (a strong straight event crossing one flank can make a wrong curve score best).
+    const starts: number[] = [];
+    for (let k = 0; k < nV; k++) {
+      const u = scoreV[k]!;
+      if (!(u > pickTh / 2)) continue;
+      if ((k > 0 && scoreV[k - 1]! > u) || (k < nV - 1 && scoreV[k + 1]! >= u)) continue;
+      starts.push(k);
+    }
+    starts.sort((a, b) => scoreV[b]! - scoreV[a]!);
+    let best: DetectedHyperbola | null = null;
+    for (const k of starts.slice(0, 3)) {
+      const h = tryStart({ x0M: xV[k]!, t0Ns: t0, velocityMPerNs: velocities[k]! });
+      if (h && (!best || h.rmsNs < best.rmsNs)) best = h;
+    }
+    if (!best) continue;
+    const fit = best;
+    const dup = accepted.some((h) => Math.abs(h.x0M - fit.x0M) < Math.max(3 * spacing, 0.2) && Math.abs(h.t0Ns - fit.t0Ns) < periodNs);
+    if (dup) continue;
+    accepted.push(fit);
   }
   return accepted;
 }

@@ -17,6 +17,7 @@ export { envelopeTraces, dominantFrequencyMHz } from './envelope';
 export { detectHyperbolas, alongLine, pointAlong, removeBackground, envelopeLevel, type DetectOptions, type DetectedHyperbola } from './detect';
 export {
   ABOVE_GROUND_MAX_PERMITTIVITY,
+  MAX_SOIL_PERMITTIVITY,
   classifyVelocity,
   usableForSite,
   weightedMedian,

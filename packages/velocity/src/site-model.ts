@@ -4,11 +4,22 @@ import { permittivityFromVelocity, dixInterval, TOPP_CAUTION, TOPP_METHOD, toppM
 /** Fits whose permittivity is below this are above-ground (air-wave) reflections. Common practice, no source. @default 2 */
 export const ABOVE_GROUND_MAX_PERMITTIVITY = 2;
 
+/**
+ * Fits above this permittivity are flagged and left out of the site model: the wettest soils of the
+ * Davis & Annan (1989) table (clay) reach K 40; beyond that only water (K 80). @default 40
+ */
+export const MAX_SOIL_PERMITTIVITY = 40;
+
 /** Origin and flags of a fit from its velocity. */
-export function classifyVelocity(velocityMPerNs: number, options: { aboveGroundMaxPermittivity?: number } = {}): { origin: Origin; flags: string[] } {
+export function classifyVelocity(
+  velocityMPerNs: number,
+  options: { aboveGroundMaxPermittivity?: number; maxSoilPermittivity?: number } = {},
+): { origin: Origin; flags: string[] } {
   const k = permittivityFromVelocity(velocityMPerNs);
   const flags: string[] = [];
   if (velocityMPerNs > C_M_PER_NS) flags.push('v > c');
+  const kMax = options.maxSoilPermittivity ?? MAX_SOIL_PERMITTIVITY;
+  if (k > kMax) flags.push(`K > ${kMax}`);
   return { origin: k < (options.aboveGroundMaxPermittivity ?? ABOVE_GROUND_MAX_PERMITTIVITY) ? 'above-ground' : 'subsurface', flags };
 }
 
