@@ -7,6 +7,8 @@ export interface LinkOptions {
   maxCentroidDistance?: number;
   /** Slices a chain may skip (0: only adjacent slices link). @default 1 */
   maxGap?: number;
+  /** And shared cells at least this fraction of the larger member (keeps a large blob from absorbing every piece it touches). @default 0.1 */
+  minOverlapOfLarger?: number;
   /** Two linear members whose directions differ by more than this are crossing, degrees. @default 30 */
   crossingAngleDeg?: number;
   /** Overlap fraction (of the smaller) crossing linear members need to link. @default 0.5 */
@@ -30,6 +32,7 @@ export function linkMembers(members: Member[], gridCells: number, cellSize: numb
   const maxGap = options.maxGap ?? 1;
   const crossAngle = options.crossingAngleDeg ?? 30;
   const crossOverlap = options.crossingOverlap ?? 0.5;
+  const minOverlapLarger = options.minOverlapOfLarger ?? 0.1;
   const parent = Int32Array.from(members.keys());
   const find = (a: number): number => {
     while (parent[a] !== a) {
@@ -67,7 +70,10 @@ export function linkMembers(members: Member[], gridCells: number, cellSize: numb
           const shared = counts.get(a.id) ?? 0;
           // two linear members at an angle (crossing utilities at neighbouring depths) need more overlap
           const crossing = a.shape.kind === 'linear' && b.shape.kind === 'linear' && angleDiff(a.shape.directionDeg, b.shape.directionDeg) > crossAngle;
-          const need = (crossing ? crossOverlap : minOverlap) * Math.min(a.cells.length, b.cells.length);
+          const need = Math.max(
+            (crossing ? crossOverlap : minOverlap) * Math.min(a.cells.length, b.cells.length),
+            minOverlapLarger * Math.max(a.cells.length, b.cells.length),
+          );
           const linked =
             shared >= need && shared > 0
               ? true
