@@ -1,0 +1,167 @@
+import type { Crs } from '@lamina/site';
+import { FOOT_M, pointAlong, type Geometry, type Target } from './targets';
+
+/** Context every format writes beside the targets. */
+export interface ExportContext {
+  siteName: string;
+  crs: Crs;
+  /** e.g. "GPR, 400 MHz, depth slices". */
+  method: string;
+  surveyDate: string | null;
+  exportDate: string;
+}
+
+const ft = (m: number | null) => (m === null ? null : Math.round((m / FOOT_M) * 1e4) / 1e4);
+
+/** The fixed property set of targets.geojson and the GeoPackage attribute table, with SQLite types. */
+export const TARGET_FIELDS: readonly (readonly [string, 'TEXT' | 'REAL'])[] = [
+  ['id', 'TEXT'], ['depthTopM', 'REAL'], ['depthBottomM', 'REAL'], ['origin', 'TEXT'], ['confidence', 'REAL'],
+  ['depthTopFt', 'REAL'], ['depthBottomFt', 'REAL'], ['depthUncertaintyM', 'REAL'], ['depthUncertaintyFt', 'REAL'],
+  ['depthBottomUncertaintyM', 'REAL'], ['depthBottomUncertaintyFt', 'REAL'], ['kind', 'TEXT'], ['utilityType', 'TEXT'],
+  ['apwaColour', 'TEXT'], ['apwaColourName', 'TEXT'], ['label', 'TEXT'], ['lengthM', 'REAL'], ['qualityLevel', 'TEXT'],
+  ['method', 'TEXT'], ['surveyDate', 'TEXT'], ['exportDate', 'TEXT'], ['decision', 'TEXT'], ['note', 'TEXT'],
+  ['reviewedAt', 'TEXT'], ['screenedOrigin', 'TEXT'], ['site', 'TEXT'],
+];
+
+/** The properties of one target, keyed as TARGET_FIELDS. */
+export function targetProperties(t: Target, ctx: ExportContext): Record<string, string | number | null> {
+  return {
+    id: t.id,
+    depthTopM: t.depthTopM,
+    depthBottomM: t.depthBottomM,
+    origin: t.origin,
+    confidence: t.confidence,
+    depthTopFt: ft(t.depthTopM),
+    depthBottomFt: ft(t.depthBottomM),
+    depthUncertaintyM: t.depthUncertaintyM,
+    depthUncertaintyFt: ft(t.depthUncertaintyM),
+    depthBottomUncertaintyM: t.depthBottomUncertaintyM,
+    depthBottomUncertaintyFt: ft(t.depthBottomUncertaintyM),
+    kind: t.kind,
+    utilityType: t.utilityType,
+    apwaColour: t.apwaColour,
+    apwaColourName: t.apwaColourName,
+    label: t.label,
+    lengthM: t.lengthM,
+    qualityLevel: 'B',
+    method: ctx.method,
+    surveyDate: ctx.surveyDate,
+    exportDate: ctx.exportDate,
+    decision: t.decision,
+    note: t.note,
+    reviewedAt: t.reviewedAt,
+    screenedOrigin: t.screenedOrigin,
+    site: ctx.siteName,
+  };
+}
+
+/** RFC 7946 FeatureCollection (WGS84 lon/lat, no crs member). */
+export function targetsGeoJson(targets: Target[], ctx: ExportContext): string {
+  const fc = {
+    type: 'FeatureCollection',
+    features: targets.map((t) => ({
+      type: 'Feature',
+      id: t.id,
+      geometry: t.wgs84,
+      properties: { ...targetProperties(t, ctx), centroid: t.centroidLonLat },
+    })),
+  };
+  return JSON.stringify(fc, null, 1) + '\n';
+}
+
+// ---------- WKT geometry (site CRS) ----------
+const c2 = (p: number[]) => `${fmt(p[0]!)} ${fmt(p[1]!)}`;
+const fmt = (v: number) => String(Math.round(v * 1e6) / 1e6);
+export function geometryWkt(g: Geometry): string {
+  switch (g.type) {
+    case 'Point':
+      return `POINT (${c2(g.coordinates)})`;
+    case 'LineString':
+      return `LINESTRING (${g.coordinates.map(c2).join(', ')})`;
+    case 'Polygon':
+      return `POLYGON (${g.coordinates.map((r) => `(${r.map(c2).join(', ')})`).join(', ')})`;
+    case 'MultiPolygon':
+      return `MULTIPOLYGON (${g.coordinates.map((pl) => `(${pl.map((r) => `(${r.map(c2).join(', ')})`).join(', ')})`).join(', ')})`;
+  }
+}
+
+// ---------- CSV (RFC 4180) ----------
+export const CSV_COLUMNS = [
+  'id', 'kind', 'utility_type', 'apwa_colour', 'depth_top_m', 'depth_bottom_m', 'depth_top_ft', 'depth_bottom_ft',
+  'depth_uncertainty_m', 'depth_uncertainty_ft', 'confidence', 'x', 'y', 'lon', 'lat', 'length_m', 'quality_level',
+  'decision', 'note', 'crs', 'wkt',
+] as const;
+
+const csvCell = (v: string | number | null): string => {
+  if (v === null) return '';
+  const s = String(v);
+  return /[",\r\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+};
+
+export function targetsCsv(targets: Target[], ctx: ExportContext): string {
+  const crsName = ctx.crs.code ?? ctx.crs.proj4;
+  const rows = targets.map((t) =>
+    [
+      t.id, t.kind, t.utilityType, t.apwaColour, t.depthTopM, t.depthBottomM, ft(t.depthTopM), ft(t.depthBottomM),
+      t.depthUncertaintyM, ft(t.depthUncertaintyM), t.confidence, fmt(t.centroidXY[0]), fmt(t.centroidXY[1]),
+      round8(t.centroidLonLat[0]), round8(t.centroidLonLat[1]), t.lengthM, 'B', t.decision, t.note, crsName, geometryWkt(t.site),
+    ].map(csvCell).join(','),
+  );
+  return [CSV_COLUMNS.join(','), ...rows].join('\r\n') + '\r\n';
+}
+const round8 = (v: number) => Math.round(v * 1e8) / 1e8;
+
+// ---------- DXF (R12 ASCII) ----------
+/** AutoCAD colour index for each APWA colour (ACI 1 red, 2 yellow, 3 green, 5 blue, 6 magenta, 7 white, 8 grey, 30 orange; 221 a pink). */
+const ACI: Record<string, number> = { red: 1, orange: 30, yellow: 2, blue: 5, purple: 6, green: 3, pink: 221, white: 7, grey: 8 };
+
+export function dxfLayer(t: Target): string {
+  return `LAMINA_${(t.utilityType ?? 'unknown').toUpperCase().replace(/[^A-Z0-9]+/g, '_')}`;
+}
+
+/**
+ * R12 DXF in the site CRS: one layer per utility type, a 3D POLYLINE (VERTEX ... SEQEND) along each
+ * linear target's centreline, a POINT at each compact target's centroid, and a TEXT label with the depth.
+ * Z is the negative depth of the top (the ground surface is Z = 0), in the site CRS's unit.
+ */
+export function targetsDxf(targets: Target[], ctx: ExportContext): string {
+  const mpu = ctx.crs.metresPerUnit;
+  const out: string[] = [];
+  const g = (code: number, value: string | number) => out.push(String(code), typeof value === 'number' ? num(value) : value);
+  const layers = new Map<string, number>();
+  for (const t of targets) layers.set(dxfLayer(t), ACI[t.apwaColourName ?? 'grey'] ?? 8);
+  g(0, 'SECTION'); g(2, 'HEADER'); g(9, '$ACADVER'); g(1, 'AC1009');
+  g(9, '$INSUNITS'); g(70, ctx.crs.units === 'm' ? 6 : 2);
+  g(0, 'ENDSEC');
+  g(0, 'SECTION'); g(2, 'TABLES'); g(0, 'TABLE'); g(2, 'LAYER'); g(70, layers.size);
+  for (const [name, colour] of layers) {
+    g(0, 'LAYER'); g(2, name); g(70, 0); g(62, colour); g(6, 'CONTINUOUS');
+  }
+  g(0, 'ENDTAB'); g(0, 'ENDSEC');
+  g(0, 'SECTION'); g(2, 'ENTITIES');
+  const textH = 0.25 / mpu;
+  for (const t of targets) {
+    const layer = dxfLayer(t);
+    const colour = layers.get(layer)!;
+    const z = -t.depthTopM / mpu;
+    if (t.kind === 'linear' && t.site.type === 'LineString') {
+      g(0, 'POLYLINE'); g(8, layer); g(62, colour); g(66, 1); g(10, 0); g(20, 0); g(30, z); g(70, 8);
+      for (const p of t.site.coordinates) {
+        g(0, 'VERTEX'); g(8, layer); g(10, p[0]!); g(20, p[1]!); g(30, z); g(70, 32);
+      }
+      g(0, 'SEQEND'); g(8, layer);
+    } else {
+      g(0, 'POINT'); g(8, layer); g(62, colour); g(10, t.centroidXY[0]); g(20, t.centroidXY[1]); g(30, z);
+    }
+    const at = t.kind === 'linear' && t.site.type === 'LineString' ? pointAlong(t.site.coordinates, 0.5) : t.centroidXY;
+    const label = `${t.id} ${t.utilityType ?? 'unknown'} top ${t.depthTopM.toFixed(2)} m (${(t.depthTopM / FOOT_M).toFixed(2)} ft)${t.depthUncertaintyM !== null ? ` +-${t.depthUncertaintyM.toFixed(2)} m` : ''}`;
+    g(0, 'TEXT'); g(8, layer); g(62, colour); g(10, at[0] + textH / 2); g(20, at[1] + textH / 2); g(30, z); g(40, textH); g(1, label);
+  }
+  g(0, 'ENDSEC'); g(0, 'EOF');
+  return out.join('\r\n') + '\r\n';
+}
+
+const num = (v: number) => {
+  const s = Number.isInteger(v) ? v.toFixed(1) : String(Math.round(v * 1e6) / 1e6);
+  return s === '-0.0' ? '0.0' : s;
+};

@@ -1,0 +1,124 @@
+import type { Dropped, Target } from './targets';
+import { FOOT_M } from './targets';
+import type { ExportContext } from './formats';
+import type { AnomalyFeature, RunInfo, VelocityInfo } from './folder';
+import type { Thumbnail } from './thumbnails';
+
+/** The cautions every output meant for people near utilities carries. */
+export const CAUTIONS = [
+  'Radar finds are not a locate. This report shows reflections interpreted from ground-penetrating radar; it does not establish the presence, absence, position or type of any utility.',
+  'Call the one-call (call-before-you-dig) centre and wait for the utility owners to mark their lines before any digging.',
+  'Verify every target by potholing (vacuum or hand excavation) before excavating nearby with machinery.',
+  'Depths carry uncertainty: they depend on the radar velocity of the soil, which varies across a site and with moisture. The ranges given are from the spread of the measured velocities only; slice thickness and interpretation add to them.',
+  'Defer to local codes, owner requirements and licensed professional practice (quality level B in the sense of CI/ASCE 38-22 is designating by geophysical methods only).',
+];
+
+const esc = (s: unknown) => String(s ?? '').replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
+const f = (v: number | null | undefined, d = 2) => (v === null || v === undefined || !Number.isFinite(v) ? '–' : v.toFixed(d));
+const isObj = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
+
+export interface ReportInput {
+  run: RunInfo;
+  velocity: VelocityInfo;
+  targets: Target[];
+  dropped: Dropped[];
+  anomalies: AnomalyFeature[];
+  thumbnails: Thumbnail[];
+  ctx: ExportContext;
+  unmatchedDecisions: number;
+}
+
+function evidenceRows(a: AnomalyFeature): string {
+  const ev = a.properties.evidence;
+  const passed = ev.filter((e) => e.passed);
+  const shown = (passed.length ? passed : ev).slice(0, 6);
+  if (!shown.length) return '<em>no evidence recorded</em>';
+  const rest = (passed.length ? passed.length : ev.length) - shown.length;
+  return (
+    '<ul>' +
+    shown
+      .map((e) => {
+        const m = typeof e.measured === 'number' ? f(e.measured, 3) : esc(JSON.stringify(e.measured ?? null));
+        const x = typeof e.expected === 'number' ? f(e.expected, 3) : esc(JSON.stringify(e.expected ?? null));
+        const t = typeof e.tolerance === 'number' ? ` ± ${f(e.tolerance, 3)}` : '';
+        return `<li><b>${esc(e.test)}</b>${e.featureId ? ` (${esc(e.featureId)})` : ''}: measured ${m}, expected ${x}${t} ${esc(e.units ?? '')} — ${e.passed ? 'passed' : 'not passed'}${e.detail ? `<br><span class="detail">${esc(e.detail)}</span>` : ''}</li>`;
+      })
+      .join('') +
+    (rest > 0 ? `<li>… and ${rest} more</li>` : '') +
+    '</ul>'
+  );
+}
+
+export function reportHtml(r: ReportInput): string {
+  const { run, velocity, targets, dropped, thumbnails, ctx } = r;
+  const s = run.site;
+  const traces = run.lines.reduce((a, l) => a + (l.traces ?? 0), 0);
+  const lengthM = run.lines.reduce((a, l) => a + (l.lengthM ?? 0), 0);
+  const ext = s.extentSite;
+  const mpu = s.crs.metresPerUnit;
+  const unit = s.crs.units === 'm' ? 'm' : s.crs.units === 'us-ft' ? 'US survey ft' : 'ft';
+  const vr = velocity.raw;
+  const hyper = Array.isArray(vr.hyperbolas) ? vr.hyperbolas.filter(isObj) : [];
+  const model = isObj(vr.model) ? vr.model : {};
+  const layers = Array.isArray(model.layers) ? model.layers.filter(isObj) : [];
+  const moisture = isObj(vr.site) && isObj(vr.site.moisture) ? vr.site.moisture : undefined;
+  const sorted = [...targets].sort((a, b) => a.id.localeCompare(b.id));
+  const flagged = dropped.filter((d) => d.reason !== 'rejected');
+  const rejected = dropped.filter((d) => d.reason === 'rejected');
+  const num = (v: unknown, d = 3) => (typeof v === 'number' ? f(v, d) : '–');
+
+  const cautions = `<section class="cautions"><h2>Cautions</h2><ul>${CAUTIONS.map((c) => `<li>${esc(c)}</li>`).join('')}</ul></section>`;
+  return `<!doctype html>
+<html lang="en"><head><meta charset="utf-8"><title>Lamina report: ${esc(s.name)}</title>
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<style>
+body { font: 13px/1.4 system-ui, sans-serif; margin: 2em auto; max-width: 60em; color: #111; }
+h1 { font-size: 1.6em; margin-bottom: 0.2em; } h2 { font-size: 1.2em; border-bottom: 1px solid #999; margin-top: 1.6em; }
+table { border-collapse: collapse; width: 100%; margin: 0.5em 0; } th, td { border: 1px solid #bbb; padding: 2px 5px; text-align: left; vertical-align: top; }
+th { background: #eee; } td.n { text-align: right; font-variant-numeric: tabular-nums; }
+.cautions { border: 2px solid #c00; padding: 0.3em 1em; background: #fff4f4; } .cautions h2 { border: none; color: #a00; }
+.thumbs { display: flex; flex-wrap: wrap; gap: 8px; } figure { margin: 0; text-align: center; } figure img { image-rendering: pixelated; border: 1px solid #888; background: repeating-conic-gradient(#ddd 0 25%, #fff 0 50%) 0 0 / 8px 8px; }
+.swatch { display: inline-block; width: 0.9em; height: 0.9em; border: 1px solid #444; vertical-align: middle; }
+.detail { color: #555; } ul { margin: 0.2em 0; padding-left: 1.2em; }
+@media print { body { margin: 0; max-width: none; font-size: 10pt; } h2 { break-after: avoid; } tr, figure, .cautions { break-inside: avoid; } a { color: inherit; text-decoration: none; } }
+@page { size: A4; margin: 15mm; }
+</style></head><body>
+<h1>Lamina survey report: ${esc(s.name)}</h1>
+<p>Exported ${esc(ctx.exportDate)}${run.createdAt ? `; processed ${esc(run.createdAt)}` : ''}${ctx.surveyDate ? `; surveyed ${esc(ctx.surveyDate)}` : ''}. Method: ${esc(ctx.method)}. Quality level B (CI/ASCE 38-22).</p>
+${cautions}
+<h2>Site</h2>
+<table>
+<tr><th>Site</th><td>${esc(s.name)}</td></tr>
+<tr><th>Survey lines</th><td>${run.lines.length} lines, ${traces} traces${lengthM > 0 ? `, ${f(lengthM, 1)} m of line` : ''}</td></tr>
+<tr><th>Extent (site CRS)</th><td>${ext ? `${f(ext[0], 2)}, ${f(ext[1], 2)} to ${f(ext[2], 2)}, ${f(ext[3], 2)} ${esc(unit)} (${f((ext[2] - ext[0]) * mpu, 1)} m × ${f((ext[3] - ext[1]) * mpu, 1)} m)` : '–'}</td></tr>
+<tr><th>Extent (WGS84)</th><td>${s.extentWgs84 ? s.extentWgs84.map((v) => v.toFixed(7)).join(', ') + ' (west, south, east, north)' : '–'}</td></tr>
+<tr><th>CRS</th><td>${esc(s.crs.code ?? 'custom')} — <code>${esc(s.crs.proj4)}</code>; plan units ${esc(unit)} (${mpu} m)</td></tr>
+<tr><th>Antenna</th><td>${s.antenna?.frequencyMHz !== undefined ? `${s.antenna.frequencyMHz} MHz` : '–'}${s.antenna?.separationM !== undefined ? `, separation ${f(s.antenna.separationM, 3)} m` : ''}</td></tr>
+</table>
+<h2>Velocity</h2>
+<table>
+<tr><th>Site velocity</th><td class="n">${f(velocity.velocityMPerNs, 4)} m/ns</td><th>Permittivity K</th><td class="n">${num(velocity.permittivity, 2)}</td></tr>
+<tr><th>Spread</th><td class="n">${velocity.spreadMPerNs !== undefined ? `${f(velocity.spreadMPerNs, 4)} m/ns (${f((100 * velocity.spreadMPerNs) / velocity.velocityMPerNs, 1)} %)` : 'not given'}</td><th>Hyperbola fits</th><td class="n">${velocity.fitCount ?? hyper.length}</td></tr>
+${moisture ? `<tr><th>Moisture (estimate)</th><td colspan="3">${num(moisture.volumetricWaterContent, 3)} volumetric, ${esc(moisture.method)}. ${esc(moisture.caution)}</td></tr>` : ''}
+</table>
+${layers.length ? `<table><tr><th>Layer top (m)</th><th>bottom (m)</th><th>v (m/ns)</th><th>K</th></tr>${layers.map((l) => `<tr><td class="n">${num(l.topM, 2)}</td><td class="n">${num(l.bottomM, 2)}</td><td class="n">${num(l.velocityMPerNs, 4)}</td><td class="n">${num(l.permittivity, 2)}</td></tr>`).join('')}</table>` : ''}
+${hyper.length ? `<table><tr><th>Line</th><th>Trace</th><th>t0 (ns)</th><th>Depth (m)</th><th>v (m/ns)</th><th>± (m/ns)</th><th>K</th><th>Origin</th></tr>${hyper.map((h) => `<tr><td>${esc(h.line)}</td><td class="n">${esc(h.trace)}</td><td class="n">${num(h.t0Ns, 2)}</td><td class="n">${num(h.depthM, 2)}</td><td class="n">${num(h.velocityMPerNs, 4)}</td><td class="n">${num(h.uncertaintyMPerNs, 4)}</td><td class="n">${num(h.permittivity, 2)}</td><td>${esc(h.origin)}</td></tr>`).join('')}</table>` : '<p>No hyperbola fits.</p>'}
+<h2>Depth slices</h2>
+${thumbnails.length ? `<p>Grey levels from each slice's 2nd (black) to 98th (white) percentile; north up; checkered = no data.</p><div class="thumbs">${thumbnails.map((t) => `<figure><img src="${t.dataUri}" width="${t.width}" height="${t.height}" alt="slice ${t.band}"><figcaption>${f(t.topM)}–${f(t.bottomM)} m</figcaption></figure>`).join('')}</div>` : '<p>No slices.tif in the folder.</p>'}
+<h2>Targets (${targets.length})</h2>
+<p>Subsurface anomalies not rejected in review. Depth ft = m / 0.3048 (international foot). Uncertainty: dz = z · dv / v from the velocity spread.</p>
+<table><tr><th>Id</th><th>Kind</th><th>Utility (APWA)</th><th>Top m (ft)</th><th>Bottom m (ft)</th><th>± m</th><th>Length m</th><th>Confidence</th><th>Position (${esc(unit)})</th><th>Review</th></tr>
+${sorted.map((t) => `<tr><td>${esc(t.id)}</td><td>${t.kind}</td><td>${t.apwaColour ? `<span class="swatch" style="background:${t.apwaColour}"></span> ${esc(t.utilityType)} (${esc(t.apwaColourName)})` : esc(t.utilityType ?? '–')}</td><td class="n">${f(t.depthTopM)} (${f(t.depthTopM / FOOT_M)})</td><td class="n">${f(t.depthBottomM)} (${f(t.depthBottomM / FOOT_M)})</td><td class="n">${f(t.depthUncertaintyM)}</td><td class="n">${f(t.lengthM, 1)}</td><td class="n">${f(t.confidence)}</td><td class="n">${f(t.centroidXY[0], 2)}, ${f(t.centroidXY[1], 2)}</td><td>${t.decision}${t.screenedOrigin !== t.origin ? ' (relabelled subsurface)' : ''}${t.label ? `; ${esc(t.label)}` : ''}${t.note ? `; ${esc(t.note)}` : ''}</td></tr>`).join('\n')}
+</table>
+<h2>Flagged as above-ground (${flagged.length})</h2>
+<p>Anomalies the air-wave screening (or the reviewer) attributes to reflections from objects above the ground; they are not in the target files.</p>
+<table><tr><th>Id</th><th>Depth m</th><th>Confidence</th><th>Why</th></tr>
+${flagged.map((d) => `<tr><td>${esc(d.id)}</td><td class="n">${f(d.anomaly.properties.depthTopM)}–${f(d.anomaly.properties.depthBottomM)}</td><td class="n">${f(d.anomaly.properties.confidence)}</td><td>${d.reason === 'relabelled above-ground' ? '<b>relabelled above-ground in review</b>' : ''}${evidenceRows(d.anomaly)}</td></tr>`).join('\n')}
+</table>
+${rejected.length ? `<h2>Rejected in review (${rejected.length})</h2><p>${rejected.map((d) => esc(d.id)).join(', ')}</p>` : ''}
+${r.unmatchedDecisions ? `<p>${r.unmatchedDecisions} review decision(s) match no anomaly of this run and were not applied.</p>` : ''}
+${cautions}
+<p class="detail">Generated by Lamina${run.toolVersion ? ` ${esc(run.toolVersion)}` : ''}. ${r.anomalies.length} anomalies screened.</p>
+</body></html>
+`;
+}

@@ -1,0 +1,232 @@
+import { pointFromWgs84, pointToWgs84 } from '@lamina/site';
+import type { Crs } from '@lamina/site';
+import { APWA_COLOURS, type UtilityType } from './apwa';
+import type { AnomalyFeature, VelocityInfo } from './folder';
+import type { Decision } from './review';
+
+/**
+ * Depths in feet use the international foot (0.3048 m exactly): depths are lengths below the surface,
+ * not grid coordinates, and the US survey foot (1200/3937 m) is deprecated for new work since 2023
+ * (NIST/NGS Federal Register notice, 2020). The difference is 2 ppm, 0.006 mm at 3 m.
+ */
+export const FOOT_M = 0.3048;
+
+export type Geometry =
+  | { type: 'Point'; coordinates: number[] }
+  | { type: 'LineString'; coordinates: number[][] }
+  | { type: 'Polygon'; coordinates: number[][][] }
+  | { type: 'MultiPolygon'; coordinates: number[][][][] };
+
+/** One exported target, with its geometry both in WGS84 (lon, lat) and in the site CRS (x, y). */
+export interface Target {
+  id: string;
+  kind: 'linear' | 'compact';
+  origin: 'subsurface';
+  /** The screening's origin, when the user relabelled it. */
+  screenedOrigin: 'subsurface' | 'above-ground';
+  confidence: number;
+  depthTopM: number;
+  depthBottomM: number;
+  /** Depth uncertainty of the top (dz = z dv / v), m; null when velocity.json gives no spread. */
+  depthUncertaintyM: number | null;
+  /** Same at the bottom of the depth range. */
+  depthBottomUncertaintyM: number | null;
+  utilityType: UtilityType | null;
+  apwaColour: string | null;
+  apwaColourName: string | null;
+  label: string | null;
+  decision: 'accept' | 'undecided';
+  note: string | null;
+  reviewedAt: string | null;
+  reviewedBy: string | null;
+  wgs84: Geometry;
+  site: Geometry;
+  /** Centroid in the site CRS and WGS84. */
+  centroidXY: [number, number];
+  centroidLonLat: [number, number];
+  /** Plan length of the centreline (linear targets), m. */
+  lengthM: number | null;
+}
+
+/** Why an anomaly is not a target. */
+export interface Dropped {
+  id: string;
+  reason: 'rejected' | 'above-ground' | 'relabelled above-ground';
+  anomaly: AnomalyFeature;
+}
+
+const isPositions = (v: unknown): v is number[][] => Array.isArray(v) && v.every((p) => Array.isArray(p) && typeof p[0] === 'number' && typeof p[1] === 'number');
+
+function mapGeometry(g: Geometry, f: (p: number[]) => number[]): Geometry {
+  switch (g.type) {
+    case 'Point':
+      return { type: 'Point', coordinates: f(g.coordinates) };
+    case 'LineString':
+      return { type: 'LineString', coordinates: g.coordinates.map(f) };
+    case 'Polygon':
+      return { type: 'Polygon', coordinates: g.coordinates.map((r) => r.map(f)) };
+    case 'MultiPolygon':
+      return { type: 'MultiPolygon', coordinates: g.coordinates.map((pl) => pl.map((r) => r.map(f))) };
+  }
+}
+
+function asGeometry(v: unknown): Geometry | undefined {
+  if (typeof v !== 'object' || v === null) return undefined;
+  const g = v as { type?: unknown; coordinates?: unknown };
+  const c = g.coordinates;
+  if (g.type === 'Point' && Array.isArray(c) && typeof c[0] === 'number' && typeof c[1] === 'number') return { type: 'Point', coordinates: c as number[] };
+  if (g.type === 'LineString' && isPositions(c) && c.length >= 2) return { type: 'LineString', coordinates: c };
+  if (g.type === 'Polygon' && Array.isArray(c) && c.length > 0 && c.every(isPositions)) return { type: 'Polygon', coordinates: c as number[][][] };
+  if (g.type === 'MultiPolygon' && Array.isArray(c) && c.length > 0 && c.every((pl) => Array.isArray(pl) && pl.every(isPositions))) return { type: 'MultiPolygon', coordinates: c as number[][][][] };
+  return undefined;
+}
+
+function allPositions(g: Geometry): number[][] {
+  switch (g.type) {
+    case 'Point':
+      return [g.coordinates];
+    case 'LineString':
+      return g.coordinates;
+    case 'Polygon':
+      return g.coordinates.flat();
+    case 'MultiPolygon':
+      return g.coordinates.flat(2);
+  }
+}
+
+/** Area-weighted centroid of the outer rings (site CRS), else the mean of the vertices. */
+function centroidOf(g: Geometry): [number, number] {
+  const rings = g.type === 'Polygon' ? [g.coordinates[0]!] : g.type === 'MultiPolygon' ? g.coordinates.map((p) => p[0]!) : [];
+  let a = 0, cx = 0, cy = 0;
+  for (const r of rings) {
+    for (let i = 0; i + 1 < r.length; i++) {
+      const [x0, y0] = r[i]! as [number, number];
+      const [x1, y1] = r[i + 1]! as [number, number];
+      const w = x0 * y1 - x1 * y0;
+      a += w;
+      cx += (x0 + x1) * w;
+      cy += (y0 + y1) * w;
+    }
+  }
+  if (Math.abs(a) > 0) return [cx / (3 * a), cy / (3 * a)];
+  if (g.type === 'LineString') return pointAlong(g.coordinates, 0.5);
+  const pts = allPositions(g);
+  return [pts.reduce((s, p) => s + p[0]!, 0) / pts.length, pts.reduce((s, p) => s + p[1]!, 0) / pts.length];
+}
+
+/** The point at fraction `f` of a polyline's length (a label position that lies on the line). */
+export function pointAlong(c: number[][], f: number): [number, number] {
+  const total = polylineLength(c);
+  let want = total * f;
+  for (let i = 0; i + 1 < c.length; i++) {
+    const [x0, y0] = c[i]! as [number, number];
+    const [x1, y1] = c[i + 1]! as [number, number];
+    const d = Math.hypot(x1 - x0, y1 - y0);
+    if (want <= d && d > 0) return [x0 + ((x1 - x0) * want) / d, y0 + ((y1 - y0) * want) / d];
+    want -= d;
+  }
+  const last = c[c.length - 1]!;
+  return [last[0]!, last[1]!];
+}
+
+export function polylineLength(c: number[][]): number {
+  let s = 0;
+  for (let i = 0; i + 1 < c.length; i++) s += Math.hypot(c[i + 1]![0]! - c[i]![0]!, c[i + 1]![1]! - c[i]![1]!);
+  return s;
+}
+
+const round = (v: number, d: number) => Math.round(v * 10 ** d) / 10 ** d;
+
+/**
+ * Split anomalies into targets and dropped ones. A target is an anomaly whose origin (the user's relabel
+ * if any, else the screening's) is subsurface and whose decision is not `reject`. Decisions are looked
+ * up by anomaly id (the pipeline re-keys review.json to the current ids on every run).
+ */
+export function buildTargets(
+  anomalies: AnomalyFeature[],
+  decisions: Decision[],
+  velocity: VelocityInfo,
+  crs: Crs,
+): { targets: Target[]; dropped: Dropped[] } {
+  const byId = new Map(decisions.map((d) => [d.anomalyId, d]));
+  const rel = velocity.spreadMPerNs !== undefined ? velocity.spreadMPerNs / velocity.velocityMPerNs : undefined;
+  const targets: Target[] = [];
+  const dropped: Dropped[] = [];
+  const toSite = (p: number[]) => pointFromWgs84(crs, p[0]!, p[1]!) as number[];
+  for (const a of anomalies) {
+    const p = a.properties;
+    const d = byId.get(p.id);
+    const origin = d?.origin ?? p.origin;
+    if (d?.decision === 'reject') {
+      dropped.push({ id: p.id, reason: 'rejected', anomaly: a });
+      continue;
+    }
+    if (origin === 'above-ground') {
+      dropped.push({ id: p.id, reason: d?.origin === 'above-ground' && p.origin !== 'above-ground' ? 'relabelled above-ground' : 'above-ground', anomaly: a });
+      continue;
+    }
+    const centreline = asGeometry(p.centreline);
+    const outline = asGeometry(a.geometry);
+    const kind: Target['kind'] = p.kind === 'linear' && centreline?.type === 'LineString' ? 'linear' : 'compact';
+    let wgs84: Geometry | undefined = kind === 'linear' ? centreline : outline;
+    if (!wgs84) {
+      const c = Array.isArray(p.centroid) && typeof p.centroid[0] === 'number' && typeof p.centroid[1] === 'number' ? (p.centroid as number[]) : undefined;
+      if (!c) continue; // no plan position at all: nothing a map or CAD file could show
+      wgs84 = { type: 'Point', coordinates: c };
+    }
+    const site = mapGeometry(wgs84, toSite);
+    const given = Array.isArray(p.centroid) && typeof p.centroid[0] === 'number' && typeof p.centroid[1] === 'number' ? (p.centroid as [number, number]) : undefined;
+    let centroidXY: [number, number];
+    let centroidLonLat: [number, number];
+    if (kind === 'compact' && given) {
+      centroidLonLat = [given[0], given[1]];
+      centroidXY = toSite(given) as [number, number];
+    } else {
+      centroidXY = kind === 'linear' ? pointAlong((site as { coordinates: number[][] }).coordinates, 0.5) : centroidOf(site);
+      centroidLonLat = pointToWgs84(crs, centroidXY[0], centroidXY[1]);
+    }
+    const ut = d?.utilityType ?? null;
+    const colour = ut ? APWA_COLOURS[ut] : null;
+    targets.push({
+      id: p.id,
+      kind,
+      origin: 'subsurface',
+      screenedOrigin: p.origin,
+      confidence: p.confidence,
+      depthTopM: p.depthTopM,
+      depthBottomM: p.depthBottomM,
+      depthUncertaintyM: rel !== undefined ? round(p.depthTopM * rel, 4) : null,
+      depthBottomUncertaintyM: rel !== undefined ? round(p.depthBottomM * rel, 4) : null,
+      utilityType: ut,
+      apwaColour: colour?.hex ?? null,
+      apwaColourName: colour?.name ?? null,
+      label: d?.label ?? null,
+      decision: d?.decision === 'accept' ? 'accept' : 'undecided',
+      note: d?.note ?? null,
+      reviewedAt: d?.updatedAt ?? null,
+      reviewedBy: d?.by ?? null,
+      wgs84,
+      site,
+      centroidXY,
+      centroidLonLat,
+      lengthM: kind === 'linear' ? round(polylineLength((site as { coordinates: number[][] }).coordinates) * crs.metresPerUnit, 3) : null,
+    });
+  }
+  return { targets, dropped };
+}
+
+/** Envelope [minX, minY, maxX, maxY] of geometries. */
+export function envelope(gs: Geometry[]): [number, number, number, number] | undefined {
+  let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
+  for (const g of gs) {
+    for (const p of allPositions(g)) {
+      x0 = Math.min(x0, p[0]!);
+      y0 = Math.min(y0, p[1]!);
+      x1 = Math.max(x1, p[0]!);
+      y1 = Math.max(y1, p[1]!);
+    }
+  }
+  return x0 <= x1 ? [x0, y0, x1, y1] : undefined;
+}
+
+export { allPositions };
