@@ -1,7 +1,7 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { loadSite, readLine, pointToWgs84, type Site } from '@lamina/site';
 import { defaultRecipe, envelope, parseRecipe, runRecipe, type Recipe, type RecipeLogEntry } from '@lamina/processing';
-import { lineHyperbolas, type HyperbolaFit, type VelocityModel } from '@lamina/velocity';
+import { lineDirection, lineHyperbolas, recipeForVelocity, type HyperbolaFit, type VelocityModel } from '@lamina/velocity';
 import { sampleDepths, traceSliceValues, type SliceWindow } from '@lamina/slices';
 import { summariseLine, writeRadargram, type LineSummary, type RadargramEntry } from './outputs';
 
@@ -23,6 +23,7 @@ export interface Pass1Result {
   fits: HyperbolaFit[];
   log: RecipeLogEntry[];
   radargram: RadargramEntry;
+  direction: [number, number];
   timeZeroNs: number;
   nSamples: number;
   dtNs: number;
@@ -77,7 +78,7 @@ export async function pass1(task: Pass1Task): Promise<Pass1Result> {
   const s = await site(task.siteDir);
   const src = s.lines[task.line]!;
   const raw = await readLine(s, src);
-  const { line, log } = runRecipe(raw, task.recipe, context(s));
+  const { line, log } = runRecipe(raw, recipeForVelocity(task.recipe), context(s));
   const fits = lineHyperbolas(line, {
     separationM: s.antenna.separationM,
     metresPerUnit: s.crs.metresPerUnit,
@@ -89,6 +90,7 @@ export async function pass1(task: Pass1Task): Promise<Pass1Result> {
     fits,
     log,
     radargram,
+    direction: lineDirection(line),
     timeZeroNs: line.timeZeroNs,
     nSamples: line.nSamples,
     dtNs: line.dtNs,

@@ -104,7 +104,11 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     checkPlanNearSurvey(site.plan, ext.site, site.crs.metresPerUnit, shownPath(site.planFile ?? join(site.dir, 'plan.geojson')));
 
     const fits = p1.flatMap((r) => r.fits);
-    const velocity = buildVelocityReport(fits, { separationM: site.antenna.separationM });
+    const velocity = buildVelocityReport(fits, {
+      separationM: site.antenna.separationM,
+      metresPerUnit: site.crs.metresPerUnit,
+      lineDirections: Object.fromEntries(p1.map((r) => [r.summary.id, r.direction])),
+    });
     await writeFile(join(stage.path, 'velocity.json'), velocityJson(velocity));
     if (options.failAfter === 'velocity') throw new Error('stopped after velocity (failAfter)');
 
