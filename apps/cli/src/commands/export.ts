@@ -1,14 +1,34 @@
+import { stat } from 'node:fs/promises';
 import type { Command } from 'commander';
+import { InputError } from '@lamina/errors';
+import { exportTargets } from '@lamina/targets';
 import { action } from '../run';
 
-// Placeholder until the issue that owns this command lands it.
 export function register(program: Command): void {
   program
     .command('export')
-    .description('(not yet available)')
+    .description('rewrite the target layer of a processed output folder from its review.json: targets.geojson, .gpkg, .csv, .dxf and report.html')
+    .argument('<out-dir>', 'output folder of `lamina process` (reads run.json, anomalies.geojson, review.json, velocity.json, slices.json)')
+    .option('--no-thumbnails', 'leave the slice previews out of report.html')
+    .addHelpText(
+      'after',
+      '\nRun it after reviewing anomalies in the viewer or editing review.json. Targets are the anomalies that\n' +
+        'are subsurface (or relabelled subsurface) and not rejected; each file is replaced atomically.\n' +
+        'Radar finds are not a locate: call the one-call centre before digging and verify by potholing.\n' +
+        'Example:\n  pnpm lamina export out/yard',
+    )
     .action(
-      action(async () => {
-        throw new Error('export is not implemented yet');
+      action(async (outDir: string, opts: { thumbnails: boolean }) => {
+        const s = await stat(outDir).catch(() => undefined);
+        if (!s?.isDirectory()) throw new InputError(outDir, 'expected the output folder of `lamina process`, found no folder');
+        const r = await exportTargets(outDir, { ...(opts.thumbnails ? {} : { thumbnailSize: 0 }) });
+        const lines = [
+          `${r.targets} targets (${r.aboveGround} anomalies flagged above-ground and ${r.rejected} rejected left out)`,
+          ...(r.unmatchedDecisions ? [`note: ${r.unmatchedDecisions} review decision(s) match no anomaly id in anomalies.geojson and were not applied`] : []),
+          `wrote ${outDir}: ${r.files.join(', ')}`,
+          'caution: radar finds are not a locate; call the one-call centre before digging and verify by potholing',
+        ];
+        process.stdout.write(lines.join('\n') + '\n');
       }),
     );
 }
