@@ -98,6 +98,7 @@ describe('anchors and ranges', () => {
     expect(cy).toBeCloseTo((2 * 0.5 + 2 * 2) / 4, 12);
     expect(anomalyAnchorLonLat({ geometry: { type: 'Point', coordinates: [5, 6] } })).toEqual([5, 6]);
     expect(anomalyAnchorLonLat({ properties: { lon: 1, lat: 2 }, geometry: null })).toEqual([1, 2]);
+    expect(anomalyAnchorLonLat({ properties: { centroid: [3, 4] }, geometry: sq.geometry })).toEqual([3, 4]);
   });
   it('parses single byte ranges as in RFC 9110 section 14.1.2', () => {
     expect(parseRange('bytes=0-499', 10000)).toEqual({ start: 0, end: 499 });

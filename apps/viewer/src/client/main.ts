@@ -554,6 +554,8 @@ function anchorOf(f: Feature): [number, number] | undefined {
   const g = f.geometry;
   const p = f.properties ?? {};
   if (typeof p.lon === 'number' && typeof p.lat === 'number') return [p.lon, p.lat];
+  const c = p.centroid;
+  if (Array.isArray(c) && typeof c[0] === 'number' && typeof c[1] === 'number') return [c[0], c[1]];
   if (!g) return undefined;
   const flat: number[][] = [];
   const walk = (c: unknown) => {

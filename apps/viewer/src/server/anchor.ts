@@ -38,7 +38,8 @@ function meanOf(pts: Coord[]): { x: number; y: number } {
 }
 
 /**
- * `properties.anchor` {lon, lat} or `properties.lon/lat` when the writer gave one, else the area
+ * `properties.anchor` {lon, lat}, `properties.lon/lat` or `properties.centroid` [lon, lat] when the
+ * writer gave one, else the area
  * centroid of a (Multi)Polygon's outer rings, the mean vertex of a line, or the point itself.
  */
 export function anomalyAnchorLonLat(f: FeatureLike): [number, number] | undefined {
@@ -46,6 +47,9 @@ export function anomalyAnchorLonLat(f: FeatureLike): [number, number] | undefine
   const anchor = p.anchor as { lon?: unknown; lat?: unknown } | undefined;
   if (anchor && typeof anchor.lon === 'number' && typeof anchor.lat === 'number') return [anchor.lon, anchor.lat];
   if (typeof p.lon === 'number' && typeof p.lat === 'number') return [p.lon, p.lat];
+  // screening writes the cell-weighted centroid over depth as properties.centroid [lon, lat]
+  const c = p.centroid;
+  if (Array.isArray(c) && typeof c[0] === 'number' && typeof c[1] === 'number') return [c[0], c[1]];
   const g = f.geometry;
   if (!g || !g.coordinates) return undefined;
   switch (g.type) {
