@@ -78,49 +78,27 @@ export function correctObliqueCrossings(fits: HyperbolaFit[], directions: Record
   const out = fits.slice();
   let feature = 0;
   for (const members of groups.values()) {
-    // One fit per line: the one nearest the group's median t0.
-    const times = members.map((i) => fits[i]!.t0Ns).sort((p, q) => p - q);
-    const tMed = times[times.length >> 1]!;
-    const perLine = new Map<string, number>();
-    for (const i of members) {
+    // Strike: principal axis of the apex positions (total least squares, metres), trimmed of the worst
+    // apex until the rest lie on a line; then one fit per line, the one nearest the strike.
+    let idx = members.slice();
+    let axis = strikeOf(fits, idx, mpu);
+    while (idx.length >= minLines && (axis.scatter > maxScatter || axis.maxPerp > 2.5 * maxScatter)) {
+      idx.splice(axis.worst, 1);
+      axis = strikeOf(fits, idx, mpu);
+    }
+    const perLine = new Map<string, { i: number; d: number }>();
+    idx.forEach((i, m) => {
       const f = fits[i]!;
+      const d = axis.perp[m]!;
       const k = perLine.get(f.line);
-      if (k === undefined || Math.abs(f.t0Ns - tMed) < Math.abs(fits[k]!.t0Ns - tMed)) perLine.set(f.line, i);
-    }
-    if (perLine.size < minLines) continue;
-    const idx = [...perLine.values()];
-    // Strike: principal axis of the apex positions (total least squares), in metres.
-    let cx = 0;
-    let cy = 0;
-    for (const i of idx) {
-      cx += fits[i]!.x;
-      cy += fits[i]!.y;
-    }
-    cx /= idx.length;
-    cy /= idx.length;
-    let sxx = 0;
-    let syy = 0;
-    let sxy = 0;
-    for (const i of idx) {
-      const dx = (fits[i]!.x - cx) * mpu;
-      const dy = (fits[i]!.y - cy) * mpu;
-      sxx += dx * dx;
-      syy += dy * dy;
-      sxy += dx * dy;
-    }
-    const theta = 0.5 * Math.atan2(2 * sxy, sxx - syy);
-    const sx = Math.cos(theta);
-    const sy = Math.sin(theta);
-    let along2 = 0;
-    let perp2 = 0;
-    for (const i of idx) {
-      const dx = (fits[i]!.x - cx) * mpu;
-      const dy = (fits[i]!.y - cy) * mpu;
-      along2 += (dx * sx + dy * sy) ** 2;
-      perp2 += (-dx * sy + dy * sx) ** 2;
-    }
-    const scatter = Math.sqrt(perp2 / idx.length);
-    const spread = Math.sqrt(along2 / idx.length);
+      if (!k || d < k.d) perLine.set(f.line, { i, d });
+    });
+    // Most of the group's lines must stay on the strike, so a cluster of compact targets is not read as a line.
+    const groupLines = new Set(members.map((i) => fits[i]!.line)).size;
+    if (perLine.size < Math.max(minLines, 0.5 * groupLines)) continue;
+    idx = [...perLine.values()].map((e) => e.i);
+    axis = strikeOf(fits, idx, mpu);
+    const { sx, sy, scatter, spread } = axis;
     if (scatter > maxScatter || spread < 0.3) continue;
     // Strike direction uncertainty (radians), a small-angle estimate from the scatter.
     const sigmaTheta = scatter / (spread * Math.sqrt(idx.length));
@@ -156,4 +134,48 @@ export function correctObliqueCrossings(fits: HyperbolaFit[], directions: Record
     }
   }
   return out;
+}
+
+/** Principal axis of the apexes `idx` (metres): direction, RMS and largest perpendicular distance, spread along. */
+function strikeOf(fits: HyperbolaFit[], idx: number[], mpu: number) {
+  let cx = 0;
+  let cy = 0;
+  for (const i of idx) {
+    cx += fits[i]!.x;
+    cy += fits[i]!.y;
+  }
+  cx /= Math.max(1, idx.length);
+  cy /= Math.max(1, idx.length);
+  let sxx = 0;
+  let syy = 0;
+  let sxy = 0;
+  for (const i of idx) {
+    const dx = (fits[i]!.x - cx) * mpu;
+    const dy = (fits[i]!.y - cy) * mpu;
+    sxx += dx * dx;
+    syy += dy * dy;
+    sxy += dx * dy;
+  }
+  const theta = 0.5 * Math.atan2(2 * sxy, sxx - syy);
+  const sx = Math.cos(theta);
+  const sy = Math.sin(theta);
+  let along2 = 0;
+  let perp2 = 0;
+  let maxPerp = 0;
+  let worst = 0;
+  const perp: number[] = [];
+  idx.forEach((i, m) => {
+    const dx = (fits[i]!.x - cx) * mpu;
+    const dy = (fits[i]!.y - cy) * mpu;
+    const p = Math.abs(-dx * sy + dy * sx);
+    perp.push(p);
+    along2 += (dx * sx + dy * sy) ** 2;
+    perp2 += p * p;
+    if (p > maxPerp) {
+      maxPerp = p;
+      worst = m;
+    }
+  });
+  const n = Math.max(1, idx.length);
+  return { sx, sy, scatter: Math.sqrt(perp2 / n), spread: Math.sqrt(along2 / n), maxPerp, worst, perp };
 }
