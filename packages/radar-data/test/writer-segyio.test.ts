@@ -27,8 +27,10 @@ interface Dump {
   };
 }
 
-function dump(file: string, littleEndian: boolean): Dump {
-  return JSON.parse(python([join(DATA, 'segyio_dump.py'), file, littleEndian ? 'little' : 'big'])) as Dump;
+/** One python run for every file (numpy and segyio take about a second to import). */
+function dumpAll(files: { file: string; littleEndian: boolean }[]): Dump[] {
+  const args = files.flatMap((f) => [f.file, f.littleEndian ? 'little' : 'big']);
+  return JSON.parse(python([join(DATA, 'segyio_dump.py'), ...args])) as Dump[];
 }
 
 /** What each format stores for a float sample (the writer's documented conversion). */
@@ -72,29 +74,53 @@ for (const format of [1, 2, 3, 5, 8] as const) {
   cases.push({ format, littleEndian: false, revision: 1, textEncoding: 'ebcdic', dtNs: 2000, ext: format === 3 ? 1 : 0, utm: false });
 }
 
+interface Written {
+  file: string;
+  data: Float32Array;
+  x: number[];
+  y: number[];
+  elevation: number[];
+  ext: string[];
+  nt: number;
+  ns: number;
+}
+
+async function writeCase(c: Case): Promise<Written> {
+  const nt = 9;
+  const ns = 64;
+  const r = rng(c.format * 10 + (c.littleEndian ? 1 : 0) + c.revision * 100);
+  const scale = c.format === 8 ? 100 : c.format === 3 ? 20000 : c.format === 2 ? 3e9 : 1e4;
+  const data = Float32Array.from({ length: nt * ns }, () => (r() - 0.5) * 2 * scale);
+  const x = Array.from({ length: nt }, (_, i) => (c.utm ? 612345.678 : 12.345) + i * 0.051);
+  const y = Array.from({ length: nt }, (_, i) => (c.utm ? 4412345.678 : -3.21) + i * 0.037);
+  const elevation = Array.from({ length: nt }, (_, i) => 101.25 + i * 0.01);
+  const ext = Array.from({ length: c.ext }, (_, k) => `C01 EXTENDED HEADER ${k + 1}`);
+  const file = join(tmp.dir, `w${c.format}${c.littleEndian ? 'le' : 'be'}${c.revision}.sgy`);
+  const text = ['LAMINA WRITER TEST', `FORMAT ${c.format}`];
+  await writeSegy(file, {
+    nSamples: ns, dtNs: c.dtNs, format: c.format, littleEndian: c.littleEndian, revision: c.revision,
+    textEncoding: c.textEncoding, textHeader: text, extendedTextHeaders: ext, coordinateUnits: 1,
+    binary: { jobId: 77, lineNumber: 3 },
+    traces: [
+      { data: data.subarray(0, 4 * ns), x: x.slice(0, 4), y: y.slice(0, 4), elevation: elevation.slice(0, 4) },
+      { data: data.subarray(4 * ns), x: x.slice(4), y: y.slice(4), elevation: elevation.slice(4) },
+    ],
+  });
+  return { file, data, x, y, elevation, ext, nt, ns };
+}
+
+const written = new Map<Case, Written>();
+const dumps = new Map<Case, Dump>();
+beforeAll(async () => {
+  for (const c of cases) written.set(c, await writeCase(c));
+  const all = dumpAll(cases.map((c) => ({ file: written.get(c)!.file, littleEndian: c.littleEndian })));
+  cases.forEach((c, i) => dumps.set(c, all[i]!));
+});
+
 describe('writer output read by segyio', () => {
   it.each(cases)('format $format, little-endian $littleEndian, rev $revision', async (c) => {
-    const nt = 9;
-    const ns = 64;
-    const r = rng(c.format * 10 + (c.littleEndian ? 1 : 0) + c.revision * 100);
-    const scale = c.format === 8 ? 100 : c.format === 3 ? 20000 : c.format === 2 ? 3e9 : 1e4;
-    const data = Float32Array.from({ length: nt * ns }, () => (r() - 0.5) * 2 * scale);
-    const x = Array.from({ length: nt }, (_, i) => (c.utm ? 612345.678 : 12.345) + i * 0.051);
-    const y = Array.from({ length: nt }, (_, i) => (c.utm ? 4412345.678 : -3.21) + i * 0.037);
-    const elevation = Array.from({ length: nt }, (_, i) => 101.25 + i * 0.01);
-    const ext = Array.from({ length: c.ext }, (_, k) => `C01 EXTENDED HEADER ${k + 1}`);
-    const file = join(tmp.dir, `w${c.format}${c.littleEndian ? 'le' : 'be'}${c.revision}.sgy`);
-    const text = ['LAMINA WRITER TEST', `FORMAT ${c.format}`];
-    await writeSegy(file, {
-      nSamples: ns, dtNs: c.dtNs, format: c.format, littleEndian: c.littleEndian, revision: c.revision,
-      textEncoding: c.textEncoding, textHeader: text, extendedTextHeaders: ext, coordinateUnits: 1,
-      binary: { jobId: 77, lineNumber: 3 },
-      traces: [
-        { data: data.subarray(0, 4 * ns), x: x.slice(0, 4), y: y.slice(0, 4), elevation: elevation.slice(0, 4) },
-        { data: data.subarray(4 * ns), x: x.slice(4), y: y.slice(4), elevation: elevation.slice(4) },
-      ],
-    });
-    const d = dump(file, c.littleEndian);
+    const { file, data, x, y, elevation, ext, nt, ns } = written.get(c)!;
+    const d = dumps.get(c)!;
 
     expect(d.format).toBe(c.format);
     expect(d.tracecount).toBe(nt);
