@@ -97,6 +97,10 @@ export function createProcessingPool(options: PoolOptions = {}): ProcessingPool 
     },
     async close() {
       closed = true;
+      const gone = new Error('processing pool closed before the line was processed');
+      for (const job of queue.splice(0)) job.reject(gone);
+      for (const p of pending.values()) p.reject(gone);
+      pending.clear();
       await Promise.all(workers.map((w) => w.terminate()));
     },
   };
