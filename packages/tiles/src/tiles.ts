@@ -1,0 +1,400 @@
+/**
+ * Split a site into independent tile sites on a square grid in the site CRS. A tile holds the lines, or
+ * line pieces, whose traces fall in its square grown by the overlap; each trace's own square ("core")
+ * decides which tile owns results there. Whole lines are referenced in place; a line that leaves the
+ * tile is cut into pieces, each a byte copy of its traces (file and trace headers kept) with its
+ * positions carried over. The plan keeps every feature near enough to echo into the tile's record.
+ */
+import { open, readFile, mkdir, writeFile } from 'node:fs/promises';
+import { dirname, join, relative, resolve } from 'node:path';
+import { InputError } from '@lamina/errors';
+import { stageFolder } from '@lamina/atomic';
+import { openSegy, type SegyReader } from '@lamina/radar-data';
+import { linePositions, loadSite, parsePositionsCsv, positionsFromFixes, positionsFromStartEnd, shownPath, type Geometry, type LineSource, type PlanFeature, type Site } from '@lamina/site';
+
+/** Speed of light in air, m/ns (the project's constant). */
+const C = 0.2998;
+/** SEG-Y rev 2 binary header: bytes 3513-3520 number of traces (u64), 3529-3532 trailer stanzas (i32). */
+const TRACE_COUNT_OFFSET = 3512;
+const TRAILER_OFFSET = 3528;
+const COPY_BYTES = 8 * 2 ** 20;
+
+export type Box = [number, number, number, number];
+
+export interface TileOptions {
+  /** Side of a tile square, m. */
+  sizeM: number;
+  /**
+   * Margin around each tile, m, so anomalies at a tile edge are seen whole by a neighbour (migration
+   * aperture, gridding radius and the width of a target; common practice, no source). @default 5
+   */
+  overlapM?: number;
+  /**
+   * Plan features within this distance of a tile (grown by the overlap) are kept, m.
+   * @default the overlap plus c * record / 2 of the longest record (the farthest above-ground object
+   * whose echo arrives within the record)
+   */
+  planMarginM?: number;
+  /** Write absolute paths to the original files in the tile site.json. @default false (relative) */
+  absolutePaths?: boolean;
+  onLine?: (done: number, total: number) => void;
+}
+
+export interface TileLine {
+  /** Line id in the tile site. */
+  id: string;
+  /** Line id in the original site. */
+  source: string;
+  /** SEG-Y file as written in the tile site.json. */
+  file: string;
+  /** First and last trace of the original line (0-based, inclusive). */
+  first: number;
+  last: number;
+  /** True when the traces were copied into the tile (a line piece); false when the original is referenced. */
+  copied: boolean;
+}
+
+export interface TileEntry {
+  id: string;
+  /** Folder relative to the manifest. */
+  dir: string;
+  col: number;
+  row: number;
+  /** The tile square in site CRS units: results inside it belong to this tile. */
+  core: Box;
+  /** The square grown by the overlap: traces inside it are in the tile. */
+  bounds: Box;
+  traces: number;
+  lines: TileLine[];
+  planFeatures: number;
+  /** The one command that processes the tile (run from the manifest's folder). */
+  command: string;
+}
+
+export interface TilesManifest {
+  version: 1;
+  site: { name: string; dir: string; crs: string; units: string; metresPerUnit: number };
+  sizeM: number;
+  overlapM: number;
+  planMarginM: number;
+  /** Tile (col, row) covers x in [col * size, (col + 1) * size), y likewise, in site CRS units. */
+  sizeUnits: number;
+  traces: number;
+  tiles: TileEntry[];
+}
+
+const num = (v: number): string => (v < 0 ? `m${-v}` : String(v));
+export const tileId = (col: number, row: number): string => `tile_${num(col)}_${num(row)}`;
+
+/** The (col, row) of the tile whose core holds (x, y), in site CRS units. */
+export function tileOf(x: number, y: number, sizeUnits: number): [number, number] {
+  return [Math.floor(x / sizeUnits), Math.floor(y / sizeUnits)];
+}
+
+/** The tile of a manifest that owns a point (site CRS units): use it to keep one copy of an anomaly seen by two tiles. */
+export function ownerTile(manifest: TilesManifest, x: number, y: number): TileEntry | undefined {
+  const [c, r] = tileOf(x, y, manifest.sizeUnits);
+  return manifest.tiles.find((t) => t.col === c && t.row === r);
+}
+
+/**
+ * Runs of consecutive traces inside a box, each grown by one trace at both ends (so a piece always spans
+ * its boundary and never has a single trace), overlapping runs merged. Inclusive [first, last] pairs.
+ */
+export function tracesInBox(x: ArrayLike<number>, y: ArrayLike<number>, box: Box): [number, number][] {
+  const n = x.length;
+  const runs: [number, number][] = [];
+  let start = -1;
+  for (let i = 0; i <= n; i++) {
+    const inside = i < n && x[i]! >= box[0] && x[i]! <= box[2] && y[i]! >= box[1] && y[i]! <= box[3];
+    if (inside && start < 0) start = i;
+    if (!inside && start >= 0) {
+      const a = Math.max(0, start - 1);
+      const b = Math.min(n - 1, i);
+      const prev = runs[runs.length - 1];
+      if (prev && a <= prev[1] + 1) prev[1] = b;
+      else runs.push([a, b]);
+      start = -1;
+    }
+  }
+  return runs;
+}
+
+function geometryBox(g: Geometry): Box {
+  const b: Box = [Infinity, Infinity, -Infinity, -Infinity];
+  const walk = (c: unknown): void => {
+    if (Array.isArray(c) && typeof c[0] === 'number') {
+      const [px, py] = c as number[];
+      b[0] = Math.min(b[0], px!);
+      b[1] = Math.min(b[1], py!);
+      b[2] = Math.max(b[2], px!);
+      b[3] = Math.max(b[3], py!);
+    } else if (Array.isArray(c)) c.forEach(walk);
+  };
+  walk(g.coordinates);
+  return b;
+}
+
+const near = (a: Box, b: Box, margin: number): boolean => a[0] <= b[2] + margin && a[2] >= b[0] - margin && a[1] <= b[3] + margin && a[3] >= b[1] - margin;
+
+interface TileAcc {
+  col: number;
+  row: number;
+  coreTraces: number;
+  runs: { line: number; first: number; last: number }[];
+}
+
+async function openLine(site: Site, src: LineSource): Promise<SegyReader> {
+  return openSegy(src.file, { name: shownPath(src.file), ...(site.sampleIntervalNs !== undefined ? { sampleIntervalNs: site.sampleIntervalNs } : {}) });
+}
+
+/** Byte copy of traces [first, last] of a SEG-Y file, its trace count (rev 2) patched and trailer dropped. */
+async function copyTraces(reader: SegyReader, first: number, last: number, to: string): Promise<void> {
+  const src = await open(reader.path, 'r');
+  const dst = await open(to, 'w');
+  try {
+    const head = new Uint8Array(reader.dataOffset);
+    await readFully(src, head, 0);
+    if (reader.revision.major >= 2 && head.length >= TRAILER_OFFSET + 4) {
+      const view = new DataView(head.buffer);
+      if (view.getBigUint64(TRACE_COUNT_OFFSET, reader.littleEndian) !== 0n) view.setBigUint64(TRACE_COUNT_OFFSET, BigInt(last - first + 1), reader.littleEndian);
+      view.setInt32(TRAILER_OFFSET, 0, reader.littleEndian);
+    }
+    await dst.write(head, 0, head.length, 0);
+    const total = (last - first + 1) * reader.traceBytes;
+    const from = reader.dataOffset + first * reader.traceBytes;
+    const buf = new Uint8Array(Math.min(COPY_BYTES, total));
+    for (let done = 0; done < total; ) {
+      const n = Math.min(buf.length, total - done);
+      await readFully(src, buf.subarray(0, n), from + done);
+      await dst.write(buf, 0, n, head.length + done);
+      done += n;
+    }
+  } finally {
+    await src.close();
+    await dst.close();
+  }
+}
+
+async function readFully(fh: Awaited<ReturnType<typeof open>>, buf: Uint8Array, at: number): Promise<void> {
+  for (let got = 0; got < buf.length; ) {
+    const { bytesRead } = await fh.read(buf, got, buf.length - got, at + got);
+    if (bytesRead === 0) throw new Error(`unexpected end of file at byte ${at + got}`);
+    got += bytesRead;
+  }
+}
+
+function planJson(features: PlanFeature[]): string {
+  return JSON.stringify(
+    {
+      type: 'FeatureCollection',
+      features: features.map((f) => ({
+        type: 'Feature',
+        properties: { ...f.properties, id: f.id, kind: f.kind, ...(f.heightM !== undefined ? { heightM: f.heightM } : {}), ...(f.postSpacingM !== undefined ? { postSpacingM: f.postSpacingM } : {}) },
+        geometry: f.wgs84,
+      })),
+    },
+    null,
+    1,
+  );
+}
+
+function checkOptions(options: TileOptions): { sizeM: number; overlapM: number } {
+  const where = 'tiles options';
+  const { sizeM } = options;
+  const overlapM = options.overlapM ?? 5;
+  if (!Number.isFinite(sizeM) || sizeM <= 0) throw new InputError(where, `expected a tile size in m > 0, found ${sizeM}`, { field: 'size' });
+  if (!Number.isFinite(overlapM) || overlapM < 0 || overlapM >= sizeM / 2) throw new InputError(where, `expected an overlap in m >= 0 and below half the tile size (${sizeM / 2}), found ${overlapM}`, { field: 'overlap' });
+  if (options.planMarginM !== undefined && !(options.planMarginM >= 0)) throw new InputError(where, `expected a plan margin in m >= 0, found ${options.planMarginM}`, { field: 'planMargin' });
+  return { sizeM, overlapM };
+}
+
+/**
+ * `lamina tiles`: writes `outDir/tiles.json` and one site folder per tile (`outDir/<tile id>/site.json`,
+ * `plan.geojson`, `lines/` for line pieces). Staged and renamed into place, so an error writes nothing.
+ * Reads only headers to place traces; copies the samples of line pieces only.
+ */
+export async function writeTiles(siteDir: string, outDir: string, options: TileOptions): Promise<TilesManifest> {
+  const { sizeM, overlapM } = checkOptions(options);
+  const site = await loadSite(siteDir);
+  const mpu = site.crs.metresPerUnit;
+  const size = sizeM / mpu;
+  const ov = overlapM / mpu;
+  const accs = new Map<string, TileAcc>();
+  const acc = (col: number, row: number): TileAcc => {
+    const k = tileId(col, row);
+    let a = accs.get(k);
+    if (!a) accs.set(k, (a = { col, row, coreTraces: 0, runs: [] }));
+    return a;
+  };
+  const nTraces: number[] = [];
+  let maxRecordNs = 0;
+
+  // Pass 1: positions only (headers), the runs of every line in every tile it reaches.
+  for (let li = 0; li < site.lines.length; li++) {
+    const src = site.lines[li]!;
+    const reader = await openLine(site, src);
+    try {
+      const { x, y } = await linePositions(site, src, reader);
+      nTraces.push(reader.nTraces);
+      maxRecordNs = Math.max(maxRecordNs, reader.nSamples * reader.dtNs);
+      const reach = new Set<string>();
+      for (let i = 0; i < x.length; i++) {
+        const [c, r] = tileOf(x[i]!, y[i]!, size);
+        acc(c, r).coreTraces++;
+        for (let cc = Math.floor((x[i]! - ov) / size); cc <= Math.floor((x[i]! + ov) / size); cc++) {
+          for (let rr = Math.floor((y[i]! - ov) / size); rr <= Math.floor((y[i]! + ov) / size); rr++) reach.add(`${cc},${rr}`);
+        }
+      }
+      for (const key of reach) {
+        const [cc, rr] = key.split(',').map(Number) as [number, number];
+        const box: Box = [cc * size - ov, rr * size - ov, (cc + 1) * size + ov, (rr + 1) * size + ov];
+        for (const [first, last] of tracesInBox(x, y, box)) acc(cc, rr).runs.push({ line: li, first, last });
+      }
+    } finally {
+      await reader.close();
+    }
+    options.onLine?.(li + 1, site.lines.length * 2);
+  }
+
+  const planMarginM = options.planMarginM ?? overlapM + (C * maxRecordNs) / 2;
+  const live = [...accs.values()].filter((a) => a.coreTraces > 0).sort((a, b) => a.row - b.row || a.col - b.col);
+  const byLine = new Map<number, { tile: TileAcc; first: number; last: number; k: number }[]>();
+  for (const t of live) {
+    const count = new Map<number, number>();
+    for (const r of t.runs) {
+      const k = (count.get(r.line) ?? 0) + 1;
+      count.set(r.line, k);
+      const list = byLine.get(r.line) ?? [];
+      list.push({ tile: t, first: r.first, last: r.last, k });
+      byLine.set(r.line, list);
+    }
+  }
+
+  const stage = await stageFolder(outDir);
+  const finalOut = resolve(outDir);
+  try {
+    const tileLines = new Map<TileAcc, (TileLine & { position: Record<string, unknown> })[]>();
+    for (const t of live) {
+      tileLines.set(t, []);
+      await mkdir(join(stage.path, tileId(t.col, t.row), 'lines'), { recursive: true });
+    }
+    // Pass 2: per line, reference it whole or copy its pieces.
+    for (let li = 0; li < site.lines.length; li++) {
+      const src = site.lines[li]!;
+      const pieces = byLine.get(li) ?? [];
+      const n = nTraces[li]!;
+      const cut = pieces.filter((p) => !(p.first === 0 && p.last === n - 1));
+      const reader = cut.length ? await openLine(site, src) : undefined;
+      try {
+        const raw = cut.length ? await rawPositions(site, src, n) : undefined;
+        for (const p of pieces) {
+          const tid = tileId(p.tile.col, p.tile.row);
+          const finalDir = join(finalOut, tid);
+          const ref = (abs: string): string => (options.absolutePaths ? abs : relative(finalDir, abs));
+          const whole = p.first === 0 && p.last === n - 1;
+          const entry = { source: src.id, first: p.first, last: p.last };
+          if (whole) {
+            const position: Record<string, unknown> =
+              src.position.kind === 'startEnd' ? { start: src.position.start, end: src.position.end } : src.position.kind === 'csv' ? { positions: ref(src.position.file) } : {};
+            tileLines.get(p.tile)!.push({ ...entry, id: src.id, file: ref(src.file), copied: false, position });
+            continue;
+          }
+          const id = `${src.id}.p${p.k}`;
+          await copyTraces(reader!, p.first, p.last, join(stage.path, tid, 'lines', `${id}.sgy`));
+          let position: Record<string, unknown> = {};
+          if (src.position.kind === 'startEnd') {
+            position = { start: [raw!.x[p.first], raw!.y[p.first]], end: [raw!.x[p.last], raw!.y[p.last]] };
+          } else if (src.position.kind === 'csv') {
+            const rows = ['trace,x,y'];
+            for (let i = p.first; i <= p.last; i++) rows.push(`${i - p.first + 1},${raw!.x[i]},${raw!.y[i]}`);
+            await writeFile(join(stage.path, tid, 'lines', `${id}.csv`), rows.join('\n') + '\n');
+            position = { positions: `lines/${id}.csv` };
+          }
+          tileLines.get(p.tile)!.push({ ...entry, id, file: `lines/${id}.sgy`, copied: true, position });
+        }
+      } finally {
+        await reader?.close();
+      }
+      options.onLine?.(site.lines.length + li + 1, site.lines.length * 2);
+    }
+
+    const tiles: TileEntry[] = [];
+    const planBoxes = site.plan.map((f) => geometryBox(f.geometry));
+    for (const t of live) {
+      const tid = tileId(t.col, t.row);
+      const core: Box = [t.col * size, t.row * size, (t.col + 1) * size, (t.row + 1) * size];
+      const bounds: Box = [core[0] - ov, core[1] - ov, core[2] + ov, core[3] + ov];
+      const lines = tileLines.get(t)!;
+      const plan = site.plan.filter((_, i) => near(planBoxes[i]!, bounds, planMarginM / mpu));
+      const json: Record<string, unknown> = {
+        name: `${site.name}-${tid}`,
+        description: `Tile ${tid} of site "${site.name}" (${sizeM} m squares, ${overlapM} m overlap), written by lamina tiles.`,
+        crs: site.crs.input,
+        antenna: site.antenna,
+        ...(site.sampleIntervalNs !== undefined ? { sampleIntervalNs: site.sampleIntervalNs } : {}),
+        ...(plan.length ? { plan: 'plan.geojson' } : {}),
+        ...(site.recipe !== undefined ? { recipe: site.recipe } : {}),
+        lines: lines.map((l) => ({ id: l.id, file: l.file, ...l.position })),
+      };
+      const dir = join(stage.path, tid);
+      await writeFile(join(dir, 'site.json'), JSON.stringify(json, null, 2) + '\n');
+      if (plan.length) await writeFile(join(dir, 'plan.geojson'), planJson(plan) + '\n');
+      tiles.push({
+        id: tid,
+        dir: tid,
+        col: t.col,
+        row: t.row,
+        core,
+        bounds,
+        traces: lines.reduce((s, l) => s + l.last - l.first + 1, 0),
+        lines: lines.map(({ position: _p, ...l }) => l),
+        planFeatures: plan.length,
+        command: `lamina process ${tid} --out ${tid}-out`,
+      });
+    }
+    const manifest: TilesManifest = {
+      version: 1,
+      site: { name: site.name, dir: site.dir, crs: site.crs.input, units: site.crs.units, metresPerUnit: mpu },
+      sizeM,
+      overlapM,
+      planMarginM,
+      sizeUnits: size,
+      traces: nTraces.reduce((a, b) => a + b, 0),
+      tiles,
+    };
+    await writeFile(join(stage.path, 'tiles.json'), JSON.stringify(manifest, null, 1) + '\n');
+    await stage.commit();
+    return manifest;
+  } catch (e) {
+    await stage.abort().catch(() => {});
+    throw e;
+  }
+}
+
+/** Positions before the GPS offset, as the tile's site.json must give them (the tile applies the offset again). */
+async function rawPositions(site: Site, src: LineSource, n: number): Promise<{ x: Float64Array; y: Float64Array } | undefined> {
+  if (src.position.kind === 'startEnd') return positionsFromStartEnd(src.position.start, src.position.end, n);
+  if (src.position.kind === 'csv') {
+    const name = shownPath(src.position.file);
+    return positionsFromFixes(parsePositionsCsv(await readFile(src.position.file, 'utf8'), name), n, name);
+  }
+  return undefined;
+}
+
+/** Reads a tiles.json manifest. */
+export async function readTilesManifest(path: string): Promise<TilesManifest> {
+  const file = path.endsWith('.json') ? path : join(path, 'tiles.json');
+  let m: unknown;
+  try {
+    m = JSON.parse(await readFile(file, 'utf8'));
+  } catch (e) {
+    throw new InputError(shownPath(file), `expected a tiles.json manifest, found ${e instanceof SyntaxError ? 'invalid JSON' : 'no readable file'}`);
+  }
+  if (typeof m !== 'object' || m === null || (m as { version?: unknown }).version !== 1 || !Array.isArray((m as { tiles?: unknown }).tiles)) {
+    throw new InputError(shownPath(file), 'expected a tiles.json manifest of version 1 with a "tiles" array', { field: 'version' });
+  }
+  return m as TilesManifest;
+}
+
+export const manifestDir = (path: string): string => (path.endsWith('.json') ? dirname(path) : path);
