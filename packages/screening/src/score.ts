@@ -13,6 +13,8 @@ export interface ScoreTruth {
   metresPerUnit: number;
   buried: { id: string; kind: string; utility?: string; from?: XYZ; to?: XYZ; center?: XYZ; radiusM: number }[];
   aboveGround: { id: string; planFeatureId?: string; kind: string; from?: XY | XYZ; to?: XY | XYZ; center?: XY | XYZ; heightM?: number }[];
+  /** Written by the simulator; the pulse length widens the locus band. */
+  antenna?: { frequencyMHz?: number };
 }
 
 export interface ScoreOptions {
@@ -24,7 +26,8 @@ export interface ScoreOptions {
   depthFraction?: number;
   /** Sampling step along a utility, m. @default 0.1 */
   stepM?: number;
-  /** Base tolerance on a locus, m (plus half the band a slice window covers). @default 0.5 */
+  /** Tolerance on a locus beyond the band [r(top), r(bottom)] of the slice window, m.
+   * @default 0.25 m (position) + c T / 4 (half the pulse's radial extent, T = 1 / antenna frequency), or 0.5 m without a frequency */
   locusToleranceM?: number;
 }
 
@@ -150,7 +153,7 @@ function num(v: unknown, file: string, field: string): number {
  * Above-ground flags: reflector R's locus at depth z is the set of points at r(z) = c t(z) / 2 from
  * R (t from the truth soil; R a segment from -> to, or a point). A slice member of an anomaly is on
  * the locus when the median distance of its outline's vertices (its centroid when it has no outline)
- * to R is within locusToleranceM + (c/v) (bottomM - topM) / 2 of r(z). An anomaly is an air-wave
+ * to R lies in [r(topM) - tol, r(bottomM) + tol], tol = locusToleranceM. An anomaly is an air-wave
  * reflection of R when at least half its members are on R's locus; an anomaly that is also within
  * the plan and depth tolerance of a buried target is ambiguous and left out of precision and recall.
  * Precision = flagged reflections / flagged; recall = flagged reflections / reflections.
@@ -169,9 +172,9 @@ export function scoreRun(
   const dTol = options.depthToleranceM ?? 0.25;
   const dFrac = options.depthFraction ?? 0.25;
   const step = options.stepM ?? 0.1;
-  const locTol = options.locusToleranceM ?? 0.5;
+  const f = truth.antenna?.frequencyMHz;
+  const locTol = options.locusToleranceM ?? (f && f > 0 ? 0.25 + (0.2998 * (1000 / f)) / 4 : 0.5);
   const model = truthModel(truth);
-  const rate = 0.2998 / model.layers[0]!.velocityMPerNs;
 
   interface Obj {
     id: string;
@@ -250,7 +253,7 @@ export function scoreRun(
     if (pts.length === 0) return false;
     const d = median(pts.map((p) => segDist(p[0], p[1], segs) * mpu));
     const r0 = airRadiusM(top, model), r1 = airRadiusM(bottom, model);
-    const tol = locTol + (rate * (bottom - top)) / 2;
+    const tol = locTol;
     return d >= Math.min(r0, r1) - tol && d <= Math.max(r0, r1) + tol;
   };
   const reflectorOf = (o: Obj): string | null => {
@@ -308,7 +311,7 @@ export function scoreRun(
     anomalies: anomalyRows,
     definitions: [
       `buried sample covered: a target within ${planTol} m + radius in plan and depth within max(${dTol} m, ${dFrac} x depth) of its range`,
-      `air-wave member: median outline-vertex distance to the reflector within ${locTol} m + (c/v)(thickness)/2 of r(z) = c t(z)/2 (truth soil)`,
+      `air-wave member: median outline-vertex distance to the reflector in [r(top) - ${locTol.toFixed(2)} m, r(bottom) + ${locTol.toFixed(2)} m], r(z) = c t(z)/2 (truth soil)`,
       'air-wave anomaly: at least half of its members on one reflector locus; also near a buried target = ambiguous (not counted)',
     ],
   };
