@@ -63,7 +63,7 @@ export function targetsGeoJson(targets: Target[], ctx: ExportContext): string {
       type: 'Feature',
       id: t.id,
       geometry: t.wgs84,
-      properties: { ...targetProperties(t, ctx), centroid: t.centroidLonLat },
+      properties: { ...targetProperties(t, ctx), centroid: t.centroidLonLat, ...(t.outlineWgs84 ? { outline: t.outlineWgs84 } : {}) },
     })),
   };
   return JSON.stringify(fc, null, 1) + '\n';

@@ -41,6 +41,8 @@ export interface Target {
   reviewedBy: string | null;
   wgs84: Geometry;
   site: Geometry;
+  /** Plan outline of the anomaly (WGS84), when the plan geometry is something else (a centreline). */
+  outlineWgs84: Geometry | null;
   /** Centroid in the site CRS and WGS84. */
   centroidXY: [number, number];
   centroidLonLat: [number, number];
@@ -207,6 +209,7 @@ export function buildTargets(
       reviewedBy: d?.by ?? null,
       wgs84,
       site,
+      outlineWgs84: kind === 'linear' && outline ? outline : null,
       centroidXY,
       centroidLonLat,
       lengthM: kind === 'linear' ? round(polylineLength((site as { coordinates: number[][] }).coordinates) * crs.metresPerUnit, 3) : null,

@@ -30,10 +30,18 @@ export async function sliceThumbnails(outDir: string, info: SlicesInfo, options:
     throw e;
   }
   const tiff = await fromArrayBuffer(buf.buffer.slice(buf.byteOffset, buf.byteOffset + buf.byteLength) as ArrayBuffer);
-  const image = await tiff.getImage(0);
+  const full = await tiff.getImage(0);
+  if (full.getWidth() !== info.width || full.getHeight() !== info.height) {
+    throw new InputError(file, `expected ${info.width} x ${info.height} cells (slices.json), found ${full.getWidth()} x ${full.getHeight()}`);
+  }
+  // The smallest overview (a COG carries them) still at least maxSize on its long side: far less to decode.
+  let image = full;
+  for (let i = 1, n = await tiff.getImageCount(); i < n; i++) {
+    const o = await tiff.getImage(i);
+    if (Math.max(o.getWidth(), o.getHeight()) >= Math.min(maxSize, Math.max(info.width, info.height))) image = o;
+  }
   const w = image.getWidth();
   const h = image.getHeight();
-  if (w !== info.width || h !== info.height) throw new InputError(file, `expected ${info.width} x ${info.height} cells (slices.json), found ${w} x ${h}`);
   const bands = (await image.readRasters({ interleave: false })) as unknown as ArrayLike<number>[];
   const step = Math.max(1, Math.ceil(Math.max(w, h) / maxSize));
   const tw = Math.ceil(w / step);
