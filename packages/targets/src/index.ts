@@ -16,7 +16,7 @@ export {
   type AnchoredAnomaly,
 } from './review';
 export { exportTargets, targetsGpkg, EXPORT_FILES, CUSTOM_SRS_ID, type ExportOptions, type ExportResult } from './export';
-export { buildTargets, pointAlong, polylineLength, envelope, FOOT_M, type Target, type Dropped, type Geometry } from './targets';
+export { buildTargets, rightHandRule, pointAlong, polylineLength, envelope, FOOT_M, type Target, type Dropped, type Geometry } from './targets';
 export { readRun, readAnomalies, readVelocity, readSlicesInfo, type RunInfo, type AnomalyFeature, type EvidenceItem, type VelocityInfo, type SlicesInfo, type SliceInfo } from './folder';
 export { TARGET_FIELDS, CSV_COLUMNS, targetProperties, targetsGeoJson, targetsCsv, targetsDxf, dxfLayer, geometryWkt, type ExportContext } from './formats';
 export { writeGpkg, gpkgGeometry, wkb, type GpkgSrs, type GpkgLayer, type GpkgFieldType, type GpkgValue } from './gpkg';

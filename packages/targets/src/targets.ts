@@ -72,14 +72,29 @@ function mapGeometry(g: Geometry, f: (p: number[]) => number[]): Geometry {
   }
 }
 
+const ringArea = (r: number[][]) => {
+  let a = 0;
+  for (let i = 0; i + 1 < r.length; i++) a += r[i]![0]! * r[i + 1]![1]! - r[i + 1]![0]! * r[i]![1]!;
+  return a / 2;
+};
+const orient = (r: number[][], ccw: boolean) => ((ringArea(r) > 0) === ccw ? r : [...r].reverse());
+
+/** RFC 7946 section 3.1.6 right-hand rule: exterior rings counterclockwise, holes clockwise. */
+export function rightHandRule(g: Geometry): Geometry {
+  const poly = (p: number[][][]) => p.map((r, i) => orient(r, i === 0));
+  if (g.type === 'Polygon') return { type: 'Polygon', coordinates: poly(g.coordinates) };
+  if (g.type === 'MultiPolygon') return { type: 'MultiPolygon', coordinates: g.coordinates.map(poly) };
+  return g;
+}
+
 function asGeometry(v: unknown): Geometry | undefined {
   if (typeof v !== 'object' || v === null) return undefined;
   const g = v as { type?: unknown; coordinates?: unknown };
   const c = g.coordinates;
   if (g.type === 'Point' && Array.isArray(c) && typeof c[0] === 'number' && typeof c[1] === 'number') return { type: 'Point', coordinates: c as number[] };
   if (g.type === 'LineString' && isPositions(c) && c.length >= 2) return { type: 'LineString', coordinates: c };
-  if (g.type === 'Polygon' && Array.isArray(c) && c.length > 0 && c.every(isPositions)) return { type: 'Polygon', coordinates: c as number[][][] };
-  if (g.type === 'MultiPolygon' && Array.isArray(c) && c.length > 0 && c.every((pl) => Array.isArray(pl) && pl.every(isPositions))) return { type: 'MultiPolygon', coordinates: c as number[][][][] };
+  if (g.type === 'Polygon' && Array.isArray(c) && c.length > 0 && c.every(isPositions)) return rightHandRule({ type: 'Polygon', coordinates: c as number[][][] });
+  if (g.type === 'MultiPolygon' && Array.isArray(c) && c.length > 0 && c.every((pl) => Array.isArray(pl) && pl.every(isPositions))) return rightHandRule({ type: 'MultiPolygon', coordinates: c as number[][][][] });
   return undefined;
 }
 
