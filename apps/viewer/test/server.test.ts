@@ -231,6 +231,16 @@ describe('review API', () => {
     }
   });
 
+  it('passes a basemap style URL to the page only when one is set', async () => {
+    const s = await startViewerServer(out, { distDir: dist, basemap: 'https://tiles.example/style.json' });
+    try {
+      const c = JSON.parse((await raw(s.port, '/api/config')).body.toString());
+      expect(c.basemap).toBe('https://tiles.example/style.json');
+    } finally {
+      await s.close();
+    }
+  });
+
   it('offers the cautions and no basemap unless one is set', async () => {
     const c = JSON.parse((await raw(srv.port, '/api/config')).body.toString());
     expect(c.basemap).toBeNull();

@@ -33,7 +33,8 @@ export interface ViewerState {
   exaggeration: number;
   selectedAnomaly: string | null;
   visible: Record<string, boolean>;
-  timings: { firstSliceMs?: number; lastSwitchMs?: number };
+  /** ms: first slice from navigation start; last switch; and its parts (band read, colour map, render + idle). */
+  timings: { firstSliceMs?: number; lastSwitchMs?: number; bandMs?: number; imageMs?: number; renderMs?: number; mapLoadMs?: number };
   errors: string[];
 }
 
@@ -170,6 +171,7 @@ async function main(): Promise<void> {
     (map.getSource('targets') as GeoJSONSource | undefined)?.setData(targets as never);
   };
   await new Promise<void>((ok) => map.once('load', () => ok()));
+  state.timings.mapLoadMs = performance.now() - t0;
   setData();
 
   const applyBasemap = (url: string) => {
@@ -242,7 +244,11 @@ async function main(): Promise<void> {
         const s = current()!;
         const r = await source.band(sampleOf(s));
         if (seq !== drawSeq) return;
-        layers.push(new BitmapLayer({ id: `slice`, beforeId: SLICE_BEFORE_ID, image: imageOf(s, r), bounds: corners as never, opacity: state.opacity, textureParameters: { minFilter: 'nearest', magFilter: 'nearest' } } as never));
+        const tb = performance.now();
+        state.timings.bandMs = tb - started;
+        const image = imageOf(s, r);
+        state.timings.imageMs = performance.now() - tb;
+        layers.push(new BitmapLayer({ id: `slice`, beforeId: SLICE_BEFORE_ID, image, bounds: corners as never, opacity: state.opacity, textureParameters: { minFilter: 'nearest', magFilter: 'nearest' } } as never));
       } else {
         const idx = stackSamples();
         const rasters = await Promise.all(idx.map((i) => source.band(sampleOf(slices[i]!))));
@@ -269,6 +275,7 @@ async function main(): Promise<void> {
     }
     overlay.setProps({ layers });
     drawColourBar();
+    const tr = performance.now();
     await new Promise<void>((ok) => {
       afterRender.push(ok);
       map.triggerRepaint();
@@ -279,6 +286,7 @@ async function main(): Promise<void> {
       map.triggerRepaint();
     });
     if (seq !== drawSeq) return;
+    state.timings.renderMs = performance.now() - tr;
     state.drawnSlice = state.sliceIndex;
     const ms = performance.now() - started;
     if (state.timings.firstSliceMs === undefined) state.timings.firstSliceMs = performance.now() - t0;
