@@ -63,7 +63,7 @@ export function targetsGeoJson(targets: Target[], ctx: ExportContext): string {
       type: 'Feature',
       id: t.id,
       geometry: t.wgs84,
-      properties: { ...targetProperties(t, ctx), centroid: t.centroidLonLat, ...(t.outlineWgs84 ? { outline: t.outlineWgs84 } : {}) },
+      properties: { ...targetProperties(t, ctx), centroid: t.centroidLonLat, ...(t.outlineWgs84 ? { outline: t.outlineWgs84 } : {}), ...(t.vertexDepthsM ? { vertexDepthsM: t.vertexDepthsM } : {}) },
     })),
   };
   return JSON.stringify(fc, null, 1) + '\n';
@@ -122,7 +122,8 @@ export function dxfLayer(t: Target): string {
 /**
  * R12 DXF in the site CRS: one layer per utility type, a 3D POLYLINE (VERTEX ... SEQEND) along each
  * linear target's centreline, a POINT at each compact target's centroid, and a TEXT label with the depth.
- * Z is the negative depth of the top (the ground surface is Z = 0), in the site CRS's unit.
+ * Z is the negative depth of the top (the ground surface is Z = 0), in the site CRS's unit; polyline
+ * vertices carry their own depth (`Target.vertexDepthsM`), so a sloping pipe slopes.
  */
 export function targetsDxf(targets: Target[], ctx: ExportContext): string {
   const mpu = ctx.crs.metresPerUnit;
@@ -146,9 +147,10 @@ export function targetsDxf(targets: Target[], ctx: ExportContext): string {
     const z = -t.depthTopM / mpu;
     if (t.kind === 'linear' && t.site.type === 'LineString') {
       g(0, 'POLYLINE'); g(8, layer); g(62, colour); g(66, 1); g(10, 0); g(20, 0); g(30, z); g(70, 8);
-      for (const p of t.site.coordinates) {
-        g(0, 'VERTEX'); g(8, layer); g(10, p[0]!); g(20, p[1]!); g(30, z); g(70, 32);
-      }
+      t.site.coordinates.forEach((p, i) => {
+        const zi = -(t.vertexDepthsM?.[i] ?? t.depthTopM) / mpu;
+        g(0, 'VERTEX'); g(8, layer); g(10, p[0]!); g(20, p[1]!); g(30, zi); g(70, 32);
+      });
       g(0, 'SEQEND'); g(8, layer);
     } else {
       g(0, 'POINT'); g(8, layer); g(62, colour); g(10, t.centroidXY[0]); g(20, t.centroidXY[1]); g(30, z);

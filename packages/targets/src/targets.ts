@@ -46,6 +46,11 @@ export interface Target {
   /** Centroid in the site CRS and WGS84. */
   centroidXY: [number, number];
   centroidLonLat: [number, number];
+  /**
+   * Depth of the top at each centreline vertex (linear targets), m: the shallowest slice member whose
+   * outline holds the vertex, else the target's top. A sloping pipe gets a sloping profile.
+   */
+  vertexDepthsM: number[] | null;
   /** Plan length of the centreline (linear targets), m. */
   lengthM: number | null;
 }
@@ -225,12 +230,42 @@ export function buildTargets(
       wgs84,
       site,
       outlineWgs84: kind === 'linear' && outline ? outline : null,
+      vertexDepthsM: kind === 'linear' && wgs84.type === 'LineString' ? vertexDepths(wgs84.coordinates, p.members, p.depthTopM) : null,
       centroidXY,
       centroidLonLat,
       lengthM: kind === 'linear' ? round(polylineLength((site as { coordinates: number[][] }).coordinates) * crs.metresPerUnit, 3) : null,
     });
   }
   return { targets, dropped };
+}
+
+/** Even-odd point in polygon over all rings (holes included). */
+function inside(p: number[], g: Geometry): boolean {
+  const rings = g.type === 'Polygon' ? g.coordinates : g.type === 'MultiPolygon' ? g.coordinates.flat() : [];
+  let odd = false;
+  for (const r of rings) {
+    for (let i = 0, j = r.length - 1; i < r.length; j = i++) {
+      const [xi, yi] = r[i] as [number, number];
+      const [xj, yj] = r[j] as [number, number];
+      if (yi > p[1]! !== yj > p[1]! && p[0]! < ((xj - xi) * (p[1]! - yi)) / (yj - yi) + xi) odd = !odd;
+    }
+  }
+  return odd;
+}
+
+function vertexDepths(line: number[][], members: unknown, fallback: number): number[] {
+  const ms = Array.isArray(members)
+    ? members.flatMap((m) => {
+        const o = typeof m === 'object' && m !== null ? (m as { topM?: unknown; outline?: unknown }) : {};
+        const g = asGeometry(o.outline);
+        return typeof o.topM === 'number' && g ? [{ topM: o.topM, g }] : [];
+      })
+    : [];
+  return line.map((p) => {
+    let best = Infinity;
+    for (const m of ms) if (m.topM < best && inside(p, m.g)) best = m.topM;
+    return Number.isFinite(best) ? best : fallback;
+  });
 }
 
 /** Envelope [minX, minY, maxX, maxY] of geometries. */

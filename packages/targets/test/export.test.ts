@@ -39,7 +39,7 @@ l = x.GetLayer(0)
 out['dxf'] = []
 for f in l:
     geom = f.GetGeometryRef()
-    out['dxf'].append({'layer': f.GetField('Layer'), 'type': geom.GetGeometryName(), 'z': geom.GetZ(0), 'n': geom.GetPointCount(), 'x': geom.GetX(0), 'y': geom.GetY(0), 'text': f.GetField('Text')})
+    out['dxf'].append({'layer': f.GetField('Layer'), 'type': geom.GetGeometryName(), 'z': geom.GetZ(0), 'zs': [geom.GetZ(i) for i in range(geom.GetPointCount())], 'n': geom.GetPointCount(), 'x': geom.GetX(0), 'y': geom.GetY(0), 'text': f.GetField('Text')})
 j = ogr.Open(d + '/targets.geojson')
 l = j.GetLayer(0)
 out['geojson'] = {'count': l.GetFeatureCount(), 'auth': l.GetSpatialRef().GetAuthorityCode(None)}
@@ -134,6 +134,8 @@ describe('exportTargets on an EPSG:32617 (metre) folder', () => {
     const line = dump.dxf.find((e: { layer: string; type: string }) => e.layer === 'LAMINA_WATER' && e.type === 'LINESTRING');
     expect(line.n).toBe(3);
     expect(line.z).toBeCloseTo(-1.0, 6);
+    expect(line.zs[1]).toBeCloseTo(-1.0, 6); // in both members: the shallower
+    expect(line.zs[2]).toBeCloseTo(-1.1, 6); // east half seen from 1.1 m only
     expect(line.x).toBeCloseTo(431251, 3);
     const pt = dump.dxf.find((e: { layer: string; type: string }) => e.layer === 'LAMINA_UNKNOWN' && e.type === 'POINT');
     expect(pt.z).toBeCloseTo(-0.8, 6);
@@ -218,6 +220,7 @@ describe('exportTargets on US-survey-foot sites', () => {
     expect(d.gpkg.targets.toMeter).toBeCloseTo(1200 / 3937, 12);
     const line = d.dxf.find((e: { layer: string; type: string }) => e.layer === 'LAMINA_WATER' && e.type === 'LINESTRING');
     expect(line.z).toBeCloseTo(-1.0 / (1200 / 3937), 6);
+    expect(line.zs[2]).toBeCloseTo(-1.1 / (1200 / 3937), 6);
     expect(line.x).toBeCloseTo(2100000 + 1 / (1200 / 3937), 3);
     const fc = JSON.parse(await readFile(join(fx.dir, 'targets.geojson'), 'utf8'));
     const w = fc.features.find((f: { properties: { id: string } }) => f.properties.id === 'W');

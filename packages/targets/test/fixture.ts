@@ -49,7 +49,14 @@ export async function makeFolder(o: FixtureOptions): Promise<Fixture> {
   });
   const features = [
     // W: a pipe along x at 1.0-1.2 m; E: a cable along y; C: a compact target; G: a fence reflection.
-    feature('W', 'linear', 'subsurface', 1.0, 1.2, box(1, 4.8, 19, 5.2), { centreline: { type: 'LineString', coordinates: [ll(1, 5), ll(10, 5), ll(19, 5)] } }),
+    feature('W', 'linear', 'subsurface', 1.0, 1.2, box(1, 4.8, 19, 5.2), {
+      centreline: { type: 'LineString', coordinates: [ll(1, 5), ll(10, 5), ll(19, 5)] },
+      // Sloping: seen from 1.0 m in the west half, from 1.1 m in the east half.
+      members: [
+        { slice: 3, topM: 1.0, bottomM: 1.1, centroid: ll(5.5, 5), outline: box(0.5, 4.5, 10.5, 5.5) },
+        { slice: 4, topM: 1.1, bottomM: 1.2, centroid: ll(14.5, 5), outline: box(9.5, 4.5, 19.5, 5.5) },
+      ],
+    }),
     feature('E', 'linear', 'subsurface', 0.5, 0.62, box(14.8, 1, 15.2, 14), { centreline: { type: 'LineString', coordinates: [ll(15, 1), ll(15, 14)] } }),
     feature('C', 'compact', 'subsurface', 0.8, 1.1, box(4, 10, 5, 11), { centroid: ll(4.5, 10.5) }),
     feature('G', 'linear', 'above-ground', 0.3, 0.9, box(1, 13.8, 19, 14.2), { centreline: { type: 'LineString', coordinates: [ll(1, 14), ll(19, 14)] } }),
