@@ -147,6 +147,7 @@ describe('viewer on a synthetic output folder', () => {
     await b.page.mouse.click(box.x + p!.x, box.y + p!.y);
     await b.page.waitForFunction(() => (document.getElementById('radargram-note')?.textContent ?? '') !== '', null, { polling: 50 });
     await expect(b.page.locator('#panel h2').textContent()).resolves.toBe('Anomaly a1');
+    expect(await b.page.locator('#radargram-note').textContent()).toMatch(/^Line L2, nearest trace/);
     expect(await b.page.locator('table.evidence tr.passed, table.evidence tr.failed').count()).toBe(4); // 2 items + 2 detail rows
     const canvas = b.page.locator('#radargram');
     expect(await canvas.getAttribute('data-line')).toBe('L2');
@@ -287,6 +288,7 @@ describe.runIf(existsSync(join(YARD, 'site.json')))('viewer on the processed sam
     const id = String(anomalies[0]!.properties.id);
     await b.page.evaluate((i) => window.__lamina.selectAnomaly(i), id);
     await b.page.waitForFunction(() => (document.getElementById('radargram-note')?.textContent ?? '') !== '', null, { polling: 50 });
+    expect(await b.page.locator('#radargram-note').textContent()).toMatch(/^Line .* nearest trace/);
     await shot(b, 'yard-anomaly');
     await b.page.click('#review-accept');
     await expect.poll(() => b.page.locator('#review-msg').textContent()).toBe('saved to review.json');

@@ -126,7 +126,7 @@ export async function writeFixture(dir: string, options: FixtureOptions = {}): P
     }
     await writeFile(join(dir, 'radargrams', `${id}.f32`), new Uint8Array(data.buffer));
     const lonlat = xs.map((x) => ll(x, y));
-    rgLines.push({ id, file: `${id}.f32`, nTraces: nT, nSamples, dtNs, timeZeroNs, traceStep, x: xs, y: xs.map(() => y), lon: lonlat.map((p) => p[0]), lat: lonlat.map((p) => p[1]) });
+    rgLines.push({ id, file: `radargrams/${id}.f32`, nTraces: nT, nSamples, dtNs, timeZeroNs, traceStep, x: xs, y: xs.map(() => y), lon: lonlat.map((p) => p[0]), lat: lonlat.map((p) => p[1]) });
     lineFeatures.push({ type: 'Feature', id, properties: { id, traces: nT * traceStep, lengthM: (nT - 1) * 0.5, file: `lines/${id}.sgy` }, geometry: { type: 'LineString', coordinates: lonlat } });
     if (id === 'L2') {
       hyperbolas.push({ line: id, trace: apexT * traceStep, x: xs[apexT]!, y, t0Ns: t0, velocityMPerNs: FIXTURE.velocity, permittivity: (0.2998 / FIXTURE.velocity) ** 2, depthM: (FIXTURE.velocity * t0) / 2, uncertaintyMPerNs: 0.004, origin: 'subsurface' });

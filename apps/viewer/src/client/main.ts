@@ -426,7 +426,8 @@ async function main(): Promise<void> {
   const radargramOf = (l: RadargramLine) => {
     let p = rgCache.get(l.id);
     if (!p) {
-      p = getBytes(`radargrams/${l.file}`).then((b) => (b ? new Float32Array(b) : undefined));
+      // `file` is relative to the output folder (radargrams/<line>.f32); a bare name is taken inside radargrams/
+      p = getBytes(l.file.includes('/') ? l.file : `radargrams/${l.file}`).then((b) => (b ? new Float32Array(b) : undefined));
       rgCache.set(l.id, p);
     }
     return p;
@@ -464,7 +465,7 @@ async function main(): Promise<void> {
     const line = rgIndex.lines[hit[0]]!;
     const data = await radargramOf(line);
     if (!data || data.length < line.nTraces * line.nSamples) {
-      radargramNote.textContent = `radargrams/${line.file} is missing or shorter than ${line.nTraces} x ${line.nSamples} samples.`;
+      radargramNote.textContent = `${line.file} is missing or shorter than ${line.nTraces} x ${line.nSamples} samples.`;
       return;
     }
     const hyps = (velocity.hyperbolas ?? []).filter((x) => x.line === line.id && !(x.flags && x.flags.length));
