@@ -4,8 +4,8 @@
 // by the CLI binary under `/usr/bin/time -v` (peak RSS of the whole process, worker threads included),
 // and deleted afterwards. Figures: traces/s, MB/s of SEG-Y, peak RSS in MB and per GB of input.
 // Usage: pnpm bench scale
-//   LAMINA_BENCH_SCALE_GB=0.05,0.1   input sizes in GiB (comma list; default 0.02,0.04)
-//   LAMINA_BENCH_SCALE_SPEEDUP=0.02  size for the threads 1 vs 2 comparison (0 skips it)
+//   LAMINA_BENCH_SCALE_GB=0.05,0.1   input sizes in GiB (comma list; default 0.01,0.03)
+//   LAMINA_BENCH_SCALE_SPEEDUP=0.01  size for the threads 1 vs 2 comparison (0 skips it)
 //   LAMINA_BENCH_SCALE_KEEP=1        keep the generated sites
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, rmSync, writeFileSync } from 'node:fs';
@@ -23,8 +23,8 @@ const TRACES = Math.round(LINE_M / SPACING_M) + 1;
 const TRACE_BYTES = 240 + NS * 4;
 const E0 = 500000;
 const N0 = 3900000;
-const sizes = (process.env.LAMINA_BENCH_SCALE_GB ?? '0.02,0.04').split(',').map(Number).filter((v) => v > 0);
-const speedupGb = Number(process.env.LAMINA_BENCH_SCALE_SPEEDUP ?? 0.02);
+const sizes = (process.env.LAMINA_BENCH_SCALE_GB ?? '0.01,0.03').split(',').map(Number).filter((v) => v > 0);
+const speedupGb = Number(process.env.LAMINA_BENCH_SCALE_SPEEDUP ?? 0.01);
 const keep = process.env.LAMINA_BENCH_SCALE_KEEP === '1';
 
 function mulberry32(seed: number): () => number {
