@@ -39,6 +39,10 @@ export interface ScreenOptions extends ExtractOptions, ToleranceOptions {
   parallelToleranceDeg?: number;
   /** Relative tolerance on a move-out rate against c / v. @default 0.25 (common practice, no source) */
   rateTolerance?: number;
+  /** Also screen linear anomalies along the survey lines found only before background removal. @default true */
+  alongLineFromBeforeBackground?: boolean;
+  /** Shortest such anomaly, m. @default 2 */
+  minAlongLineLengthM?: number;
   /** Split an above-ground anomaly's off-locus members into their own anomaly when they span this many slices. @default 2 */
   splitMinSlices?: number;
 }
@@ -169,10 +173,47 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     screened.push(strip(s));
   };
   for (const a of linked) screenOne(a, 0);
+  // Background removal takes out a utility running along the survey lines (a flat event on its line).
+  // Linear anomalies of the stack made before it, within parallelToleranceDeg of the survey direction,
+  // at least minAlongLineLengthM long and sharing no more than 20 % of their cells with an anomaly of the
+  // main stack in the same slice, are screened too and marked `source: before-background`.
+  const fromBefore = new Set<Anomaly3D>();
+  if (bb && beforeScores && (options.alongLineFromBeforeBackground ?? true)) {
+    const dir = surveyDirection(lines);
+    const ex2 = extractAnomalies(bb, { ...options, metresPerUnit: mpu });
+    const taken = new Map<number, Set<number>>();
+    for (const m of members) {
+      const t = taken.get(m.slice) ?? new Set<number>();
+      for (const c of m.cells) t.add(c);
+      taken.set(m.slice, t);
+    }
+    const minLen = options.minAlongLineLengthM ?? 2;
+    let nextId = members.length;
+    for (const a of ex2.anomalies) {
+      if (!Number.isFinite(dir) || a.shape.kind !== 'linear' || a.shape.lengthM < minLen) continue;
+      const d = Math.abs(a.shape.directionDeg - dir) % 180;
+      if (Math.min(d, 180 - d) > ctx.parallelToleranceDeg) continue;
+      let shared = 0, total = 0;
+      for (const m of a.members) {
+        const t = taken.get(m.slice);
+        total += m.cells.length;
+        if (t) for (const c of m.cells) if (t.has(c)) shared++;
+      }
+      if (shared > 0.2 * total) continue;
+      for (const m of a.members) m.id = nextId++;
+      const before = screened.length;
+      screenOne(a, 0);
+      for (let i = before; i < screened.length; i++) fromBefore.add(screened[i]!.anomaly);
+    }
+  }
   screened.sort((p, q) => p.anomaly.depthTopM - q.anomaly.depthTopM || p.anomaly.members[0]!.x - q.anomaly.members[0]!.x);
   screened.forEach((s, i) => (s.anomaly.id = `A${String(i + 1).padStart(4, '0')}`));
 
-  const features = screened.map((s) => anomalyFeature(s, grid, toWgs84, mpu));
+  const features = screened.map((s) => {
+    const f = anomalyFeature(s, grid, toWgs84, mpu);
+    f.properties.source = fromBefore.has(s.anomaly) ? 'before-background' : 'slices';
+    return f;
+  });
   const forecast = forecastLoci(plan, velocity, lines, mpu, toWgs84, {
     grid,
     surveyed: mask,
@@ -201,6 +242,21 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     summary,
     screened,
   };
+}
+
+/** Median azimuth of the lines' end-to-end chords, degrees in [0, 180); NaN without lines. */
+function surveyDirection(lines: ScreenInput['lines']): number {
+  const az: number[] = [];
+  for (const l of lines) {
+    const n = l.x.length;
+    if (n < 2) continue;
+    const dx = l.x[n - 1]! - l.x[0]!, dy = l.y[n - 1]! - l.y[0]!;
+    if (dx === 0 && dy === 0) continue;
+    az.push(((((Math.atan2(dx, dy) * 180) / Math.PI) % 180) + 180) % 180);
+  }
+  if (az.length === 0) return NaN;
+  az.sort((p, q) => p - q);
+  return az[az.length >> 1]!;
 }
 
 function strip(s: ScreenedAnomaly & { mo?: MoveOutResult }): ScreenedAnomaly {
