@@ -7,7 +7,7 @@ import { buildVelocityReport, velocityJson, type VelocityReport } from '@lamina/
 import { defaultWindows, gridPoints, writeSlices, type SliceStack, type SliceWindow } from '@lamina/slices';
 import type { Recipe, RecipeLogEntry } from '@lamina/processing';
 import { screenSite } from '@lamina/screening';
-import { matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
+import { exportTargets, matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
 import { createPool, defaultThreads, type Pool, type SerialisedError } from './pool';
 import { pass1, pass2, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
 import { extents, linesGeoJson, planGeoJson, siteSummary } from './outputs';
@@ -40,6 +40,7 @@ export interface ProcessSummary {
   slices: number;
   anomalies: number;
   aboveGround: number;
+  targets: number;
   files: string[];
 }
 
@@ -162,6 +163,10 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     await writeJson(stage.path, 'forecast.geojson', screened.forecast);
     await carryReview(join(stage.path, 'review.json'), identity, screened.anomalies);
 
+    progress('targets', 0, 1);
+    const exported = await exportTargets(stage.path);
+    progress('targets', 1, 1);
+
     if (options.failAfter === 'outputs') throw new Error('stopped before commit (failAfter)');
     await stage.commit();
     return {
@@ -173,7 +178,8 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       slices: stack.slices.length,
       anomalies: screened.summary.anomalies,
       aboveGround: screened.summary.aboveGround,
-      files: ['run.json', 'lines.geojson', 'plan.geojson', 'velocity.json', 'slices.tif', 'slices.json', 'radargrams/index.json', 'anomalies.geojson', 'forecast.geojson', 'review.json'],
+      targets: exported.targets,
+      files: ['run.json', 'lines.geojson', 'plan.geojson', 'velocity.json', 'slices.tif', 'slices.json', 'radargrams/index.json', 'anomalies.geojson', 'forecast.geojson', 'review.json', ...exported.files.filter((f) => !f.includes('review'))],
     };
   } catch (e) {
     await exec.close().catch(() => {});
