@@ -27,6 +27,8 @@ export interface ProcessOptions {
   /** Line-level levelling of slice values. @default false */
   level?: boolean;
   onProgress?: (stage: string, done: number, total: number) => void;
+  /** The run's time stamp (run.json, export date); fixed in tests for reproducible outputs. @default now */
+  now?: Date;
   /** Stop after this stage (for tests of interruption). */
   failAfter?: string;
 }
@@ -91,6 +93,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   const site = await loadSite(siteDir);
   const recipe: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
   const progress = options.onProgress ?? (() => {});
+  const now = options.now ?? new Date();
   const threads = Math.min(options.threads ?? defaultThreads(), site.lines.length);
   const stage = await stageFolder(outDir, { keep: ['review.json'] });
   const exec = runner(threads);
@@ -139,7 +142,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     const identity = { name: site.name, crs: site.crs.input, extent: ext.wgs84 };
     await writeJson(stage.path, 'run.json', {
       tool: { name: 'lamina', version: VERSION },
-      createdAt: new Date().toISOString(),
+      createdAt: now.toISOString(),
       site: { ...siteSummary(site), extentWgs84: ext.wgs84, extentSite: ext.site },
       identity,
       recipe,
@@ -157,14 +160,14 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       metresPerUnit: site.crs.metresPerUnit,
       toWgs84,
       beforeBackgroundStack: stackBeforeBackground,
-    });
+    }, { antennaFrequencyMHz: site.antenna.frequencyMHz, antennaSeparationM: site.antenna.separationM });
     progress('air-wave screening', 1, 1);
     await writeJson(stage.path, 'anomalies.geojson', screened.anomalies);
     await writeJson(stage.path, 'forecast.geojson', screened.forecast);
     await carryReview(join(stage.path, 'review.json'), identity, screened.anomalies);
 
     progress('targets', 0, 1);
-    const exported = await exportTargets(stage.path);
+    const exported = await exportTargets(stage.path, { now });
     progress('targets', 1, 1);
 
     if (options.failAfter === 'outputs') throw new Error('stopped before commit (failAfter)');
