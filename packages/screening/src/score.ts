@@ -29,6 +29,12 @@ export interface ScoreOptions {
   /** Tolerance on a locus beyond the band [r(top), r(bottom)] of the slice window, m.
    * @default 0.25 m (position) + c T / 4 (half the pulse's radial extent, T = 1 / antenna frequency), or 0.5 m without a frequency */
   locusToleranceM?: number;
+  /**
+   * The velocity model the run converted time to depth with (its velocity.json). An anomaly's depth is a
+   * label given by that model, so the two-way time it was seen at (and so the air-wave radius c t / 2)
+   * follows from the same model. @default the truth soil
+   */
+  runModel?: VelocityModel;
 }
 
 export interface BuriedScore {
@@ -175,6 +181,7 @@ export function scoreRun(
   const f = truth.antenna?.frequencyMHz;
   const locTol = options.locusToleranceM ?? (f && f > 0 ? 0.25 + (0.2998 * (1000 / f)) / 4 : 0.5);
   const model = truthModel(truth);
+  const airModel = options.runModel ?? model;
 
   interface Obj {
     id: string;
@@ -252,7 +259,7 @@ export function scoreRun(
   const onLocus = (pts: XY[], top: number, bottom: number, segs: number[]) => {
     if (pts.length === 0) return false;
     const d = median(pts.map((p) => segDist(p[0], p[1], segs) * mpu));
-    const r0 = airRadiusM(top, model), r1 = airRadiusM(bottom, model);
+    const r0 = airRadiusM(top, airModel), r1 = airRadiusM(bottom, airModel);
     const tol = locTol;
     return d >= Math.min(r0, r1) - tol && d <= Math.max(r0, r1) + tol;
   };
@@ -311,7 +318,7 @@ export function scoreRun(
     anomalies: anomalyRows,
     definitions: [
       `buried sample covered: a target within ${planTol} m + radius in plan and depth within max(${dTol} m, ${dFrac} x depth) of its range`,
-      `air-wave member: median outline-vertex distance to the reflector in [r(top) - ${locTol.toFixed(2)} m, r(bottom) + ${locTol.toFixed(2)} m], r(z) = c t(z)/2 (truth soil)`,
+      `air-wave member: median outline-vertex distance to the reflector in [r(top) - ${locTol.toFixed(2)} m, r(bottom) + ${locTol.toFixed(2)} m], r(z) = c t(z)/2 (t from the run's velocity model when given, else the truth soil)`,
       'air-wave anomaly: at least half of its members on one reflector locus; also near a buried target = ambiguous (not counted)',
     ],
   };

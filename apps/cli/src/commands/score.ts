@@ -2,6 +2,7 @@ import { existsSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { Command } from 'commander';
 import { InputError } from '@lamina/errors';
+import type { VelocityModel } from '@lamina/velocity';
 import { scoreRun, type FeatureCollection, type ScoreTruth } from '@lamina/screening';
 import { pointFromWgs84, resolveCrs } from '@lamina/site';
 import { action } from '../run';
@@ -62,9 +63,12 @@ export function register(program: Command): void {
         if (!existsSync(aFile)) throw new InputError(aFile, 'expected the anomalies of a processed folder, found no file');
         const anomalies = collection(aFile);
         const targets = existsSync(tFile) ? collection(tFile) : undefined;
+        const vFile = join(outDir, 'velocity.json');
+        const runModel = existsSync(vFile) ? (readJson(vFile) as { model?: VelocityModel }).model : undefined;
         const report = scoreRun(targets, anomalies, truth, (lon, lat) => pointFromWgs84(crs, lon, lat), {
           planToleranceM: Number(opts.planTolerance),
           depthToleranceM: Number(opts.depthTolerance),
+          ...(runModel ? { runModel } : {}),
         });
         if (opts.json) {
           process.stdout.write(JSON.stringify({ ...report, targetsFile: targets ? tFile : null }, null, 2) + '\n');
