@@ -9,6 +9,7 @@ export default defineConfig({
       'apps/*/test/**/*.test.ts',
       'test/**/*.test.ts',
     ],
+    globalSetup: ['test/global-setup.ts'],
     testTimeout: 120_000,
     hookTimeout: 300_000,
     pool: 'forks',
