@@ -138,8 +138,17 @@ describe('viewer on a synthetic output folder', () => {
     await shot(b, 'fixture-slice-1');
   });
 
-  it('opens an anomaly panel with its evidence and the radargram with the fitted hyperbola', async () => {
+  it('shows only the forecast air-wave loci of the current slice', async () => {
     await hideOverlays(b, false);
+    const slices = await b.page.evaluate(() => {
+      const m = window.__lamina.map!;
+      return { current: window.__lamina.state.sliceIndex, shown: m.queryRenderedFeatures({ layers: ['forecast-line'] }).map((f) => Number(f.properties.slice)) };
+    });
+    expect(slices.shown.length).toBeGreaterThan(0);
+    expect(new Set(slices.shown)).toEqual(new Set([slices.current]));
+  });
+
+  it('opens an anomaly panel with its evidence and the radargram with the fitted hyperbola', async () => {
     const hb = FIXTURE.hot(0);
     const [centre] = toLonLat(FIXTURE.crs, [cellXY((hb.col0 + hb.col1) / 2, hb.row0 + 3)]);
     const p = await b.page.evaluate(([lon, lat]) => window.__lamina.project(lon!, lat!), centre!);

@@ -42,7 +42,11 @@ export function register(program: Command): void {
           if (!u || !/^https?:$/.test(u.protocol)) throw new InputError('--basemap', `expected an http(s) URL of a style JSON, found "${opts.basemap}"`);
         }
         await ensureViewerBuilt({ force: opts.rebuild === true, log: (s) => process.stderr.write(`${s}\n`) });
-        const srv = await startViewerServer(dir, { port, host: opts.host, ...(opts.basemap ? { basemap: opts.basemap } : {}) });
+        const srv = await startViewerServer(dir, { port, host: opts.host, ...(opts.basemap ? { basemap: opts.basemap } : {}) }).catch((e: NodeJS.ErrnoException) => {
+          if (e.code === 'EADDRINUSE') throw new InputError('--port', `expected a free port, found ${port} in use on ${opts.host} (try --port 0 for any free port)`);
+          if (e.code === 'EADDRNOTAVAIL' || e.code === 'ENOTFOUND') throw new InputError('--host', `expected an address of this machine, found "${opts.host}"`);
+          throw e;
+        });
         process.stdout.write(`Lamina viewer: ${srv.url}\n`);
         if (srv.host !== '127.0.0.1' && srv.host !== 'localhost' && srv.host !== '::1') {
           process.stderr.write(`warning: bound to ${srv.host}: anyone who can reach this address can read the folder and change review.json\n`);

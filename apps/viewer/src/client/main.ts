@@ -280,11 +280,8 @@ async function main(): Promise<void> {
       afterRender.push(ok);
       map.triggerRepaint();
     });
-    await new Promise<void>((ok) => {
-      if (map.loaded() && !map.isMoving()) map.once('idle', () => ok());
-      else map.once('idle', () => ok());
-      map.triggerRepaint();
-    });
+    // the frame that drew the layers is enough when the map has nothing else to load
+    if (!map.loaded()) await new Promise<void>((ok) => map.once('idle', () => ok()));
     if (seq !== drawSeq) return;
     state.timings.renderMs = performance.now() - tr;
     state.drawnSlice = state.sliceIndex;
@@ -301,7 +298,7 @@ async function main(): Promise<void> {
     map.setPaintProperty('anomalies-fill', 'fill-opacity', anomalyOpacity(s.topM, s.bottomM, 0.3));
     map.setPaintProperty('anomalies-line', 'line-opacity', anomalyOpacity(s.topM, s.bottomM, 1));
     map.setPaintProperty('anomalies-point', 'circle-opacity', anomalyOpacity(s.topM, s.bottomM, 1));
-    const ff = forecastFilter(state.sliceIndex, s.band, s.topM, s.bottomM);
+    const ff = forecastFilter(s.index ?? state.sliceIndex, s.band, s.topM, s.bottomM);
     map.setFilter('forecast-line', ['all', ['in', ['geometry-type'], ['literal', ['LineString', 'MultiLineString', 'Polygon', 'MultiPolygon']]], ff]);
     map.setFilter('forecast-point', ['all', ['in', ['geometry-type'], ['literal', ['Point', 'MultiPoint']]], ff]);
   };

@@ -78,12 +78,10 @@ export function renderPanel(
   const status = h('div', { id: 'decision-status', class: 'decision' }, `Decision: ${current?.decision ?? 'undecided'}${current?.updatedAt ? ` (${current.updatedAt})` : ''}`);
   root.append(status);
 
-  const ev = Array.isArray(p.evidence) ? (p.evidence as Evidence[]) : typeof p.evidence === 'string' ? (JSON.parse(p.evidence) as Evidence[]) : [];
-  root.append(h('h3', {}, `Screening evidence (${ev.length})`), ev.length ? evidenceTable(ev) : h('p', {}, 'No screening evidence recorded.'));
-
   const canvas = h('canvas', { id: 'radargram', width: '360', height: '260' });
   const radargramNote = h('div', { id: 'radargram-note' });
   root.append(h('h3', {}, 'Radargram of the nearest line'), canvas, radargramNote);
+
 
   // review form
   const utility = h('select', { id: 'review-utility' }, h('option', { value: '' }, '(not set)'), ...config.utilityTypes.map((u) => h('option', { value: u }, `${u} (${config.apwa[u]?.name ?? ''})`)));
@@ -122,5 +120,9 @@ export function renderPanel(
     btn('review-save', 'Save labels and note', act()),
     msg,
   );
+
+  const ev = Array.isArray(p.evidence) ? (p.evidence as Evidence[]) : typeof p.evidence === 'string' ? (JSON.parse(p.evidence) as Evidence[]) : [];
+  const passed = ev.filter((e) => e.passed).length;
+  root.append(h('h3', {}, `Screening evidence (${ev.length} items, ${passed} passed)`), ev.length ? evidenceTable(ev) : h('p', {}, 'No screening evidence recorded.'));
   return { canvas, radargramNote };
 }
