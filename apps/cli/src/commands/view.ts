@@ -4,7 +4,7 @@ import { join, resolve } from 'node:path';
 import { InputError } from '@lamina/errors';
 import { action } from '../run';
 // Relative until apps/cli/package.json lists "@lamina/viewer": "workspace:*" (owned by the CLI's lead).
-import { CAUTIONS, ensureViewerBuilt, startViewerServer } from '../../../viewer/src/index';
+import { CAUTIONS, ensureViewerBuilt, startViewerServer } from '@lamina/viewer';
 
 interface ViewOptions {
   port: string;
