@@ -6,3 +6,4 @@ export { forecastLoci, surveyGrid, CAUTION, type ForecastOptions, type ForecastS
 export { outlineToWgs84, type FeatureCollection, type GeoJsonFeature, type GeoJsonGeometry, type ToWgs84 } from './geojson';
 export { screenSite, anomalyFeature, type ScreenInput, type ScreenOptions, type ScreenResult, type ScreenSummary, type ScreenedAnomaly } from './screen';
 export { scoreRun, type ScoreTruth, type ScoreOptions, type ScoreReport, type BuriedScore } from './score';
+export { scoreFolder, readScoreTruth, type FolderScore } from './score-folder';

@@ -153,7 +153,8 @@ function num(v: unknown, file: string, field: string): number {
  *
  * Buried recall: each pipe or cable is sampled every `stepM` along from -> to; a sample is covered
  * when a target (properties.origin not `above-ground`) lies within planToleranceM + radiusM in plan
- * (inside its polygon, or near its outline, centreline or point) and its depth range widened by
+ * (inside its polygon or its `properties.outline`, the plan extent a linear target keeps beside its
+ * centreline, or near its outline, centreline or point) and its depth range widened by
  * max(depthToleranceM, depthFraction * depth) holds the sample's depth. Compact targets: found or not.
  *
  * Above-ground flags: reflector R's locus at depth z is the set of points at r(z) = c t(z) / 2 from
@@ -199,6 +200,13 @@ export function scoreRun(
       const shape = shapeOf(f.geometry as Geo, fromWgs84);
       const cl = p.centreline as Geo | undefined;
       if (cl && cl.type === 'LineString') shape.segs.push(...shapeOf(cl, fromWgs84).segs);
+      // a linear target's plan extent: targets.geojson keeps the anomaly outline beside the centreline
+      const ol = p.outline as Geo | undefined;
+      if (ol && (ol.type === 'Polygon' || ol.type === 'MultiPolygon')) {
+        const o = shapeOf(ol, fromWgs84);
+        shape.segs.push(...o.segs);
+        shape.rings.push(...o.rings);
+      }
       const ms = Array.isArray(p.members) ? (p.members as Record<string, unknown>[]) : [];
       const outlinePts = flatPoints(f.geometry as Geo).map((q) => fromWgs84(q[0], q[1]));
       const members = ms.length

@@ -3,6 +3,7 @@ import type { PlanFeature } from '@lamina/site';
 import type { SliceGrid, SliceStack } from '@lamina/slices';
 import type { VelocityReport } from '@lamina/velocity';
 import { separateCrossings } from './surgery';
+import { alongLineMembers, nearestLineLabels } from './along-line';
 import { lineSpacingM, sliceLoci, surveyedMask, type Line, type ToleranceOptions } from './context';
 import { combine, type Evidence, type Verdict } from './evidence';
 import { CAUTION, forecastLoci } from './forecast';
@@ -174,35 +175,31 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   };
   for (const a of linked) screenOne(a, 0);
   // Background removal takes out a utility running along the survey lines (a flat event on its line).
-  // Linear anomalies of the stack made before it, within parallelToleranceDeg of the survey direction,
-  // at least minAlongLineLengthM long and sharing no more than 20 % of their cells with an anomaly of the
-  // main stack in the same slice, are screened too and marked `source: before-background`.
+  // Strips of the stack made before it, line by line and slice by slice, that no main member holds,
+  // linear and along their line (alongLineMembers), are linked across depth, screened too and marked
+  // `source: before-background`.
   const fromBefore = new Set<Anomaly3D>();
   if (bb && beforeScores && (options.alongLineFromBeforeBackground ?? true)) {
-    const dir = surveyDirection(lines);
-    const ex2 = extractAnomalies(bb, { ...options, metresPerUnit: mpu });
     const taken = new Map<number, Set<number>>();
     for (const m of members) {
       const t = taken.get(m.slice) ?? new Set<number>();
       for (const c of m.cells) t.add(c);
       taken.set(m.slice, t);
     }
-    const minLen = options.minAlongLineLengthM ?? 2;
-    let nextId = members.length;
-    for (const a of ex2.anomalies) {
-      if (!Number.isFinite(dir) || a.shape.kind !== 'linear' || a.shape.lengthM < minLen) continue;
-      const d = Math.abs(a.shape.directionDeg - dir) % 180;
-      if (Math.min(d, 180 - d) > ctx.parallelToleranceDeg) continue;
-      let shared = 0, total = 0;
-      for (const m of a.members) {
-        const t = taken.get(m.slice);
-        total += m.cells.length;
-        if (t) for (const c of m.cells) if (t.has(c)) shared++;
-      }
-      if (shared > 0.2 * total) continue;
-      for (const m of a.members) m.id = nextId++;
+    const reach = Number.isFinite(spacing) ? Math.max(1, Math.ceil((0.5 * spacing) / cellM)) : 1;
+    const labels = nearestLineLabels(grid, lines, reach);
+    const strips = alongLineMembers(bb, beforeScores, taken, lines, labels, {
+      threshold: options.threshold ?? 5,
+      lowThreshold: options.lowThreshold ?? 3,
+      minCells: options.minCells ?? 6,
+      minLengthM: options.minAlongLineLengthM ?? 2,
+      parallelToleranceDeg: ctx.parallelToleranceDeg,
+      metresPerUnit: mpu,
+      firstId: members.length,
+    });
+    for (const g of relink(strips, grid.width * grid.height, grid.cellSize, options)) {
       const before = screened.length;
-      screenOne(a, 0);
+      screenOne(buildAnomaly('A', g, bb, { ...options, metresPerUnit: mpu }), 0);
       for (let i = before; i < screened.length; i++) fromBefore.add(screened[i]!.anomaly);
     }
   }
@@ -242,21 +239,6 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     summary,
     screened,
   };
-}
-
-/** Median azimuth of the lines' end-to-end chords, degrees in [0, 180); NaN without lines. */
-function surveyDirection(lines: ScreenInput['lines']): number {
-  const az: number[] = [];
-  for (const l of lines) {
-    const n = l.x.length;
-    if (n < 2) continue;
-    const dx = l.x[n - 1]! - l.x[0]!, dy = l.y[n - 1]! - l.y[0]!;
-    if (dx === 0 && dy === 0) continue;
-    az.push(((((Math.atan2(dx, dy) * 180) / Math.PI) % 180) + 180) % 180);
-  }
-  if (az.length === 0) return NaN;
-  az.sort((p, q) => p - q);
-  return az[az.length >> 1]!;
 }
 
 function strip(s: ScreenedAnomaly & { mo?: MoveOutResult }): ScreenedAnomaly {

@@ -1,0 +1,123 @@
+import { makeMember, type Member } from '@lamina/anomalies';
+import type { SliceStack } from '@lamina/slices';
+import type { Line } from './context';
+
+export interface AlongLineOptions {
+  /** Robust z a strip must reach somewhere. */
+  threshold: number;
+  /** Robust z down to which it grows. */
+  lowThreshold: number;
+  minCells: number;
+  /** Shortest strip, m. */
+  minLengthM: number;
+  /** Largest angle between a strip and its survey line, degrees. */
+  parallelToleranceDeg: number;
+  metresPerUnit: number;
+  /** Id of the first member made (members of the main stack keep theirs). */
+  firstId: number;
+}
+
+/**
+ * Label of the nearest survey line for every grid cell (-1 when no line is within `reachCells`):
+ * a multi-source breadth-first sweep (8-neighbour steps) from the cells under each line's traces.
+ */
+export function nearestLineLabels(grid: SliceStack['grid'], lines: Line[], reachCells: number): Int32Array {
+  const { width, height, originX, originY, cellSize } = grid;
+  const label = new Int32Array(width * height).fill(-1);
+  const dist = new Int32Array(width * height).fill(-1);
+  const queue = new Int32Array(width * height);
+  let head = 0, tail = 0;
+  lines.forEach((l, li) => {
+    for (let i = 0; i < l.x.length; i++) {
+      const c = Math.floor((l.x[i]! - originX) / cellSize), r = Math.floor((originY - l.y[i]!) / cellSize);
+      if (c < 0 || r < 0 || c >= width || r >= height) continue;
+      const k = r * width + c;
+      if (dist[k]! >= 0) continue;
+      dist[k] = 0;
+      label[k] = li;
+      queue[tail++] = k;
+    }
+  });
+  while (head < tail) {
+    const k = queue[head++]!;
+    const d = dist[k]!;
+    if (d >= reachCells) continue;
+    const r = (k / width) | 0, c = k - r * width;
+    for (let dr = -1; dr <= 1; dr++)
+      for (let dc = -1; dc <= 1; dc++) {
+        const rr = r + dr, cc = c + dc;
+        if ((dr === 0 && dc === 0) || rr < 0 || cc < 0 || rr >= height || cc >= width) continue;
+        const q = rr * width + cc;
+        if (dist[q]! >= 0) continue;
+        dist[q] = d + 1;
+        label[q] = label[k]!;
+        queue[tail++] = q;
+      }
+  }
+  return label;
+}
+
+function lineAzimuth(l: Line): number {
+  const n = l.x.length;
+  if (n < 2) return NaN;
+  const dx = l.x[n - 1]! - l.x[0]!, dy = l.y[n - 1]! - l.y[0]!;
+  if (dx === 0 && dy === 0) return NaN;
+  return ((((Math.atan2(dx, dy) * 180) / Math.PI) % 180) + 180) % 180;
+}
+
+/**
+ * Strips of the stack made before background removal that the main stack lacks: per slice, cells
+ * scoring >= lowThreshold there and in no member of the main stack (`taken`), grouped 8-connected
+ * but only among cells nearest to the same survey line, so that a utility on one line does not merge
+ * with a flat air-wave band or another utility on the next line. A strip holding a cell >= threshold,
+ * of at least minCells, linear, minLengthM long and within parallelToleranceDeg of its line is kept.
+ *
+ * Why: background removal subtracts each line's mean trace, so an event as long as the line (a
+ * utility under it, or the air wave of a wall parallel to it) is taken out of the main stack. It
+ * survives in the stack before background removal, but there it sits among the other flat events of
+ * the same slice and, linked across depth as one blob, is neither linear nor new; taken line by line
+ * and slice by slice it is both.
+ */
+export function alongLineMembers(before: SliceStack, scores: Float32Array[], taken: Map<number, Set<number>>, lines: Line[], labels: Int32Array, options: AlongLineOptions): Member[] {
+  const { width, height } = before.grid;
+  const az = lines.map(lineAzimuth);
+  const out: Member[] = [];
+  const seen = new Uint8Array(width * height);
+  const queue = new Int32Array(width * height);
+  for (let si = 0; si < before.slices.length; si++) {
+    const z = scores[si];
+    if (!z) continue;
+    const t = taken.get(si);
+    seen.fill(0);
+    for (let start = 0; start < width * height; start++) {
+      const li = labels[start]!;
+      if (seen[start] || li < 0 || !(z[start]! >= options.lowThreshold) || t?.has(start)) continue;
+      let head = 0, tail = 0, peak = -Infinity;
+      queue[tail++] = start;
+      seen[start] = 1;
+      while (head < tail) {
+        const k = queue[head++]!;
+        peak = Math.max(peak, z[k]!);
+        const r = (k / width) | 0, c = k - r * width;
+        for (let dr = -1; dr <= 1; dr++)
+          for (let dc = -1; dc <= 1; dc++) {
+            const rr = r + dr, cc = c + dc;
+            if (rr < 0 || cc < 0 || rr >= height || cc >= width) continue;
+            const q = rr * width + cc;
+            if (seen[q] || labels[q] !== li || !(z[q]! >= options.lowThreshold) || t?.has(q)) continue;
+            seen[q] = 1;
+            queue[tail++] = q;
+          }
+      }
+      if (tail < options.minCells || peak < options.threshold) continue;
+      const cells = queue.slice(0, tail).sort();
+      const m = makeMember(options.firstId + out.length, si, cells, before, z, { metresPerUnit: options.metresPerUnit });
+      if (m.shape.kind !== 'linear' || m.shape.lengthM < options.minLengthM) continue;
+      const a = az[li]!;
+      const d = Math.abs(m.shape.directionDeg - a) % 180;
+      if (!(Math.min(d, 180 - d) <= options.parallelToleranceDeg)) continue;
+      out.push(m);
+    }
+  }
+  return out;
+}
