@@ -142,9 +142,7 @@ describe('review.json of another site', () => {
     expect(readFileSync(join(out, 'review.json'), 'utf8')).toBe(review);
     expect(readdirSync(dirname(out))).toEqual(['out']);
   });
-  // Known fault: the pipeline reads the staged copy, so the message names `.lamina-stage-*/review.json`
-  // instead of the user's file. Flip to `it` when packages/pipeline reads `<out>/review.json` itself.
-  it.fails('names the user\'s review.json, not the staged copy', () => {
+  it('names the user\'s review.json, not the staged copy', () => {
     expect(m).toBe(c.error.replaceAll('<out>', shownPath(out)));
   });
 });

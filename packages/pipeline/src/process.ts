@@ -95,7 +95,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   const progress = options.onProgress ?? (() => {});
   const now = options.now ?? new Date();
   const threads = Math.min(options.threads ?? defaultThreads(), site.lines.length);
-  const stage = await stageFolder(outDir, { keep: ['review.json'] });
+  const stage = await stageFolder(outDir);
   const exec = runner(threads);
   try {
     const n = site.lines.length;
@@ -164,7 +164,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     progress('air-wave screening', 1, 1);
     await writeJson(stage.path, 'anomalies.geojson', screened.anomalies);
     await writeJson(stage.path, 'forecast.geojson', screened.forecast);
-    await carryReview(join(stage.path, 'review.json'), identity, screened.anomalies);
+    await carryReview(join(outDir, 'review.json'), join(stage.path, 'review.json'), identity, screened.anomalies);
 
     progress('targets', 0, 1);
     const exported = await exportTargets(stage.path, { now });
@@ -193,15 +193,20 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
 }
 
 /** Re-match the decisions of an earlier review.json to this run's anomalies (kept when unmatched). */
-async function carryReview(path: string, identity: Review['site'], anomalies: { features: { properties?: Record<string, unknown> | null; geometry?: unknown }[] }): Promise<void> {
-  const review = await readReview(path, identity);
+async function carryReview(
+  from: string,
+  to: string,
+  identity: Review['site'],
+  anomalies: { features: { properties?: Record<string, unknown> | null; geometry?: unknown }[] },
+): Promise<void> {
+  const review = await readReview(shownPath(from), identity);
   const anchored = anomalies.features.flatMap((f) => {
     const p = f.properties ?? {};
     const c = anchorOf(p, f.geometry);
     return typeof p.id === 'string' && c ? [{ id: p.id, lon: c[0], lat: c[1], depthTopM: Number(p.depthTopM), depthBottomM: Number(p.depthBottomM) }] : [];
   });
   const { matched, unmatched } = matchDecisions(review.decisions, anchored);
-  await writeReview(path, { ...review, site: identity, decisions: [...matched, ...unmatched] });
+  await writeReview(to, { ...review, site: identity, decisions: [...matched, ...unmatched] });
 }
 
 /** A plan point for an anomaly: its `anchor` property if screening gave one, else the mean of its outline vertices. */
