@@ -35,7 +35,8 @@ export interface Evidence {
  * - prior -1 (P = 0.27): an anomaly is a candidate target unless evidence says air;
  * - move-out: 2 (2f - 1) for the fraction f of members on the best feature's locus;
  * - slope dr/dz matching c/v: +2; a stationary anomaly where move-out was measurable: -3;
- * - edge alignment +1, post spacing +1, air hyperbola +2, soil hyperbola -1,
+ * - edge alignment +1, post spacing +1, air hyperbola +2 when a plan feature stands at c t0 / 2 from
+ *   its apex (+0.75 when none does: alone it leaves a candidate a target), soil hyperbola -1,
  *   unsurveyed obstruction +2.5 (needs move-out at the air rate over at least three slices),
  *   energy on the locus before background removal +0.5.
  */
@@ -47,6 +48,7 @@ export const WEIGHTS = {
   edge: 1,
   postSpacing: 1,
   airHyperbola: 2,
+  airHyperbolaUnexplained: 0.75,
   soilHyperbola: -1,
   unsurveyed: 2.5,
   beforeBackground: 0.5,

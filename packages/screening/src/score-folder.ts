@@ -53,9 +53,10 @@ export interface FolderScore {
 /**
  * Scores the output folder of `lamina process` against a truth.json, as `lamina score` does:
  * targets.geojson and anomalies.geojson (WGS84) brought into the truth's CRS, and the folder's own
- * velocity.json model as `runModel` (the air-wave radius of a depth label follows the model that gave it).
+ * velocity.json model as `runModel` (the air-wave radius of a depth label follows the model that gave it),
+ * and lines.geojson as the survey (buried recall over the surveyed length, full length beside it).
  */
-export function scoreFolder(outDir: string, truthFile: string, options: Omit<ScoreOptions, 'runModel'> = {}): FolderScore {
+export function scoreFolder(outDir: string, truthFile: string, options: Omit<ScoreOptions, 'runModel' | 'survey'> = {}): FolderScore {
   const truth = readScoreTruth(truthFile);
   const crs = resolveCrs(truth.crs, { file: truthFile, field: 'crs' });
   const aFile = join(outDir, 'anomalies.geojson');
@@ -65,6 +66,14 @@ export function scoreFolder(outDir: string, truthFile: string, options: Omit<Sco
   const targets = existsSync(tFile) ? collection(tFile) : undefined;
   const vFile = join(outDir, 'velocity.json');
   const runModel = existsSync(vFile) ? (readJson(vFile) as { model?: VelocityModel }).model : undefined;
-  const report = scoreRun(targets, anomalies, truth, (lon, lat) => pointFromWgs84(crs, lon, lat), { ...options, ...(runModel ? { runModel } : {}) });
+  const from = (lon: number, lat: number) => pointFromWgs84(crs, lon, lat);
+  const lFile = join(outDir, 'lines.geojson');
+  const lines = existsSync(lFile)
+    ? collection(lFile).features.flatMap((f) => {
+        const g = f.geometry as { type?: string; coordinates?: unknown } | null;
+        return g?.type === 'LineString' && Array.isArray(g.coordinates) ? [(g.coordinates as number[][]).map((c) => from(c[0]!, c[1]!))] : [];
+      })
+    : [];
+  const report = scoreRun(targets, anomalies, truth, from, { ...options, ...(runModel ? { runModel } : {}), ...(lines.length ? { survey: { lines } } : {}) });
   return { report, truth, targetsFile: targets ? tFile : null };
 }

@@ -35,21 +35,33 @@ export interface ScoreOptions {
    * follows from the same model. @default the truth soil
    */
   runModel?: VelocityModel;
+  /**
+   * The survey lines (site CRS vertices). A radar sees only what it passed over: buried recall is then
+   * also reported over each utility's surveyed part, the samples within `coverM` of a line.
+   */
+  survey?: { lines: XY[][]; coverM?: number };
 }
 
 export interface BuriedScore {
   id: string;
   kind: string;
   lengthM: number;
-  /** Fraction of the length (compact: 0 or 1) covered by targets. */
+  /**
+   * Fraction of the surveyed length (compact: 0 or 1) covered by targets; without `survey`, of the
+   * whole length.
+   */
   recall: number;
+  /** Fraction of the whole length from -> to covered by targets. */
+  recallFullLength: number;
+  /** Length within the survey's cover, m (the whole length without `survey`). */
+  surveyedLengthM: number;
   targets: string[];
 }
 
 export interface ScoreReport {
   buried: BuriedScore[];
-  /** Length-weighted recall of pipes and cables, and the fraction of compact targets found. */
-  buriedRecall: { linear: number; compact: number; minimum: number };
+  /** Length-weighted recall of pipes and cables (over their surveyed length), and the fraction of compact targets found. */
+  buriedRecall: { linear: number; compact: number; minimum: number; linearFullLength: number; minimumFullLength: number };
   targets: { id: string; matches: string; kind: 'buried' | 'air' | 'unmatched' }[];
   /** Fraction of targets that are air-wave reflections (on a reflector's locus, matching no buried target). */
   targetAirFraction: number;
@@ -131,6 +143,29 @@ function inside(x: number, y: number, rings: XY[][]): boolean {
 function shapeDist(x: number, y: number, s: Shape): number {
   if (s.rings.length && inside(x, y, s.rings)) return 0;
   return segDist(x, y, s.segs);
+}
+
+/** Median distance from each line's middle vertex to the nearest other line, m. */
+function surveySpacingM(lines: XY[][], mpu: number): number {
+  const d: number[] = [];
+  for (let i = 0; i < lines.length; i++) {
+    const a = lines[i]!;
+    if (a.length === 0) continue;
+    const [mx, my] = a[a.length >> 1]!;
+    let best = Infinity;
+    for (let j = 0; j < lines.length; j++) {
+      if (j === i) continue;
+      const b = lines[j]!;
+      const segs: number[] = [];
+      for (let k = 0; k + 1 < b.length; k++) segs.push(b[k]![0], b[k]![1], b[k + 1]![0], b[k + 1]![1]);
+      if (b.length === 1) segs.push(b[0]![0], b[0]![1], b[0]![0], b[0]![1]);
+      best = Math.min(best, segDist(mx, my, segs));
+    }
+    if (Number.isFinite(best)) d.push(best * mpu);
+  }
+  if (d.length === 0) return 0;
+  d.sort((p, q) => p - q);
+  return d[d.length >> 1]!;
 }
 
 function truthModel(t: ScoreTruth): VelocityModel {
@@ -227,17 +262,24 @@ export function scoreRun(
   };
   const near = (x: number, y: number, z: number, radiusM: number, o: Obj) => depthOk(z, o) && shapeDist(x, y, o.shape) * mpu <= planTol + radiusM;
 
+  // the survey's cover: within coverM (default half the median line spacing, at least 0.25 m) of a line
+  const surveySegs: number[] = [];
+  for (const l of options.survey?.lines ?? []) for (let i = 0; i + 1 < l.length; i++) surveySegs.push(l[i]![0], l[i]![1], l[i + 1]![0], l[i + 1]![1]);
+  const coverM = options.survey?.coverM ?? Math.max(0.25, 0.5 * surveySpacingM(options.survey?.lines ?? [], mpu));
+  const surveyed = (x: number, y: number) => surveySegs.length === 0 || segDist(x, y, surveySegs) * mpu <= coverM;
+
   const buried: BuriedScore[] = truth.buried.map((b) => {
     const hit = new Set<string>();
     if (b.center) {
       const [x, y, z] = b.center;
       for (const t of tgs) if (near(x, y, z, b.radiusM, t)) hit.add(t.id);
-      return { id: b.id, kind: b.kind, lengthM: 0, recall: hit.size ? 1 : 0, targets: [...hit] };
+      const r = hit.size ? 1 : 0;
+      return { id: b.id, kind: b.kind, lengthM: 0, recall: r, recallFullLength: r, surveyedLengthM: 0, targets: [...hit] };
     }
     const f = b.from!, t2 = b.to!;
     const lengthM = Math.hypot(t2[0] - f[0], t2[1] - f[1]) * mpu;
     const n = Math.max(1, Math.round(lengthM / step));
-    let covered = 0;
+    let covered = 0, inside = 0, coveredInside = 0;
     for (let i = 0; i <= n; i++) {
       const s = i / n;
       const x = f[0] + s * (t2[0] - f[0]), y = f[1] + s * (t2[1] - f[1]), z = f[2] + s * (t2[2] - f[2]);
@@ -247,13 +289,27 @@ export function scoreRun(
           c = true;
           hit.add(t.id);
         }
+      const sv = surveyed(x, y);
       if (c) covered++;
+      if (sv) inside++;
+      if (c && sv) coveredInside++;
     }
-    return { id: b.id, kind: b.kind, lengthM, recall: covered / (n + 1), targets: [...hit] };
+    const full = covered / (n + 1);
+    return {
+      id: b.id,
+      kind: b.kind,
+      lengthM,
+      recall: inside > 0 ? coveredInside / inside : 1,
+      recallFullLength: full,
+      surveyedLengthM: (lengthM * inside) / (n + 1),
+      targets: [...hit],
+    };
   });
   const lin = buried.filter((b) => b.lengthM > 0);
   const cmp = buried.filter((b) => b.lengthM === 0);
-  const linRecall = lin.length ? lin.reduce((s, b) => s + b.recall * b.lengthM, 0) / lin.reduce((s, b) => s + b.lengthM, 0) : 1;
+  const linSurveyed = lin.reduce((s, b) => s + b.surveyedLengthM, 0);
+  const linRecall = lin.length && linSurveyed > 0 ? lin.reduce((s, b) => s + b.recall * b.surveyedLengthM, 0) / linSurveyed : 1;
+  const linFull = lin.length ? lin.reduce((s, b) => s + b.recallFullLength * b.lengthM, 0) / lin.reduce((s, b) => s + b.lengthM, 0) : 1;
   const cmpRecall = cmp.length ? cmp.reduce((s, b) => s + b.recall, 0) / cmp.length : 1;
 
   const refl = truth.aboveGround.map((a) => ({
@@ -312,7 +368,7 @@ export function scoreRun(
   });
   return {
     buried,
-    buriedRecall: { linear: linRecall, compact: cmpRecall, minimum: Math.min(1, ...lin.map((b) => b.recall)) },
+    buriedRecall: { linear: linRecall, compact: cmpRecall, minimum: Math.min(1, ...lin.map((b) => b.recall)), linearFullLength: linFull, minimumFullLength: Math.min(1, ...lin.map((b) => b.recallFullLength)) },
     targets: targetRows,
     targetAirFraction: targetRows.length ? targetRows.filter((t) => t.kind === 'air').length / targetRows.length : 0,
     aboveGround: {
@@ -325,6 +381,9 @@ export function scoreRun(
     },
     anomalies: anomalyRows,
     definitions: [
+      surveySegs.length
+        ? `buried recall over the surveyed length: samples within ${coverM.toFixed(2)} m of a survey line (full-length recall reported beside it)`
+        : 'buried recall over the whole length (no survey lines given)',
       `buried sample covered: a target within ${planTol} m + radius in plan and depth within max(${dTol} m, ${dFrac} x depth) of its range`,
       `air-wave member: median outline-vertex distance to the reflector in [r(top) - ${locTol.toFixed(2)} m, r(bottom) + ${locTol.toFixed(2)} m], r(z) = c t(z)/2 (t from the run's velocity model when given, else the truth soil)`,
       'air-wave anomaly: at least half of its members on one reflector locus; also near a buried target = ambiguous (not counted)',

@@ -3,6 +3,7 @@ import type { SliceGrid } from '@lamina/slices';
 import type { HyperbolaFit, VelocityModel } from '@lamina/velocity';
 import type { SliceLocus } from './context';
 import { WEIGHTS, type Evidence } from './evidence';
+import { C_M_PER_NS } from '@lamina/velocity';
 import { depthAtTimeNs } from './physics';
 import { cellResidual } from './surgery';
 import { alongDistance, distanceTo, nearestSegmentAzimuth, type Reflector } from './reflectors';
@@ -284,14 +285,27 @@ export function postEvidence(a: Anomaly3D, hits: Map<number, PostTrainHit>): Evi
   };
 }
 
-/** Test 4: members that coincide with a fitted hyperbola's apex in the slice of its depth. */
-export function hyperbolaHits(members: Member[], hyperbolas: HyperbolaFit[], model: VelocityModel, ctx: ScreenContext): Map<number, Evidence> {
+/**
+ * Test 4: members that coincide with a fitted hyperbola's apex in the slice of its depth.
+ *
+ * An above-ground object at horizontal distance r from a line draws t(x) = 2 sqrt(r^2 + x^2) / c on
+ * it: a hyperbola of velocity c (K = 1) with apex time t0 = 2 r / c at the trace nearest the object.
+ * So a fit counts as an air-wave hyperbola only when its velocity is c within
+ * max(airVelocityTolerance x c, 2 sigma_v): a fit faster than light, or between air and soil, is the
+ * misfit of a flat or flat-topped event (a slab, a pier top), not air, and gives no evidence. It weighs
+ * `airHyperbola` when a plan reflector stands at r = c t0 / 2 from the apex within the slice's locus
+ * tolerance, and only `airHyperbolaUnexplained` when none does (an unsurveyed object, or a misfit:
+ * by itself not enough to call a candidate target air).
+ */
+export function hyperbolaHits(members: Member[], hyperbolas: HyperbolaFit[], model: VelocityModel, ctx: ScreenContext, airVelocityTolerance = 0.1): Map<number, Evidence> {
   const out = new Map<number, Evidence>();
   const g = ctx.grid;
   const tolM = Math.max(2 * g.cellSize * ctx.metresPerUnit, ctx.positionM);
   for (const h of hyperbolas) {
     if (h.flags && h.flags.length > 0 && h.origin !== 'above-ground') continue;
-    const air = h.origin === 'above-ground' || h.permittivity < 2;
+    const airLike = h.origin === 'above-ground' || h.permittivity < 2;
+    const vTol = Math.max(airVelocityTolerance * C_M_PER_NS, 2 * (h.uncertaintyMPerNs ?? 0));
+    if (airLike && !(Math.abs(h.velocityMPerNs - C_M_PER_NS) <= vTol)) continue;
     const z = depthAtTimeNs(h.t0Ns, model);
     let k = ctx.loci.findIndex((l) => z >= l.topM && z <= l.bottomM);
     if (k < 0) {
@@ -302,6 +316,21 @@ export function hyperbolaHits(members: Member[], hyperbolas: HyperbolaFit[], mod
           k = i;
         }
       });
+    }
+    // the reflector an air-wave hyperbola points at: r = c t0 / 2 from its apex
+    let explainedBy: string | null = null;
+    if (airLike) {
+      const r = (C_M_PER_NS * h.t0Ns) / 2;
+      const tol = ctx.loci[k]?.toleranceM ?? ctx.positionM;
+      let bestMiss = Infinity;
+      for (let i = 0; i < ctx.reflectors.length; i++) {
+        if (!ctx.fields[i]) continue;
+        const miss = Math.abs(distanceTo(ctx.reflectors[i]!, h.x, h.y) * ctx.metresPerUnit - r);
+        if (miss <= tol && miss < bestMiss) {
+          bestMiss = miss;
+          explainedBy = ctx.reflectors[i]!.featureId;
+        }
+      }
     }
     for (const m of members) {
       if (Math.abs(m.slice - k) > 1) continue;
@@ -314,19 +343,21 @@ export function hyperbolaHits(members: Member[], hyperbolas: HyperbolaFit[], mod
       }
       if (dmin > tolM) continue;
       const e: Evidence = {
-        test: air ? 'air-hyperbola' : 'soil-hyperbola',
-        featureId: null,
+        test: airLike ? 'air-hyperbola' : 'soil-hyperbola',
+        featureId: explainedBy,
         measured: dmin,
         expected: 0,
         tolerance: tolM,
         units: 'm',
         passed: true,
-        weight: air ? WEIGHTS.airHyperbola : WEIGHTS.soilHyperbola,
+        weight: !airLike ? WEIGHTS.soilHyperbola : explainedBy ? WEIGHTS.airHyperbola : WEIGHTS.airHyperbolaUnexplained,
         slice: m.slice,
-        detail: `hyperbola on line ${h.line} trace ${h.trace} (K ${h.permittivity.toFixed(2)}, ${h.origin}) apex ${dmin.toFixed(2)} m from slice ${m.slice} member`,
+        detail:
+          `hyperbola on line ${h.line} trace ${h.trace} (K ${h.permittivity.toFixed(2)}, ${h.origin}) apex ${dmin.toFixed(2)} m from slice ${m.slice} member` +
+          (airLike ? (explainedBy ? `; ${explainedBy} stands at c t0/2 = ${((C_M_PER_NS * h.t0Ns) / 2).toFixed(2)} m from the apex` : `; no plan feature at c t0/2 = ${((C_M_PER_NS * h.t0Ns) / 2).toFixed(2)} m from the apex`) : ''),
       };
       const prev = out.get(m.id);
-      if (!prev || (air && prev.test !== 'air-hyperbola')) out.set(m.id, e);
+      if (!prev || e.weight > prev.weight) out.set(m.id, e);
     }
   }
   return out;

@@ -24,9 +24,11 @@ export function register(program: Command): void {
         }
         const out: string[] = [];
         if (!targetsFile) out.push(`note: ${tFile} not found; buried recall counts no targets`);
-        out.push('buried utilities (fraction of length covered by targets.geojson):');
-        for (const b of report.buried) out.push(`  ${b.id.padEnd(16)} ${b.kind.padEnd(8)} ${b.lengthM ? `${b.lengthM.toFixed(1)} m` : 'compact'}  ${pct(b.recall)}  ${b.targets.join(' ')}`);
-        out.push(`  recall: linear ${pct(report.buriedRecall.linear)} (lowest ${pct(report.buriedRecall.minimum)}), compact ${pct(report.buriedRecall.compact)}`);
+        out.push('buried utilities (fraction of the surveyed length covered by targets.geojson):');
+        for (const b of report.buried)
+          out.push(`  ${b.id.padEnd(16)} ${b.kind.padEnd(8)} ${b.lengthM ? `${b.lengthM.toFixed(1)} m (${b.surveyedLengthM.toFixed(1)} m surveyed)` : 'compact'}  ${pct(b.recall)}${b.lengthM ? ` (full length ${pct(b.recallFullLength)})` : ''}  ${b.targets.join(' ')}`);
+        const br = report.buriedRecall;
+        out.push(`  recall over the surveyed length: linear ${pct(br.linear)} (lowest ${pct(br.minimum)}), compact ${pct(br.compact)}; over the full length: linear ${pct(br.linearFullLength)} (lowest ${pct(br.minimumFullLength)})`);
         const ag = report.aboveGround;
         out.push(`above-ground flags: precision ${pct(ag.precision)}, recall ${pct(ag.recall)} (TP ${ag.truePositive}, FP ${ag.falsePositive}, FN ${ag.falseNegative}, ambiguous ${ag.ambiguous})`);
         out.push(`targets that are air-wave reflections: ${pct(report.targetAirFraction)} of ${report.targets.length}`);
