@@ -12,7 +12,17 @@ export interface ScoreTruth {
   crs: string;
   metresPerUnit: number;
   buried: { id: string; kind: string; utility?: string; from?: XYZ; to?: XYZ; center?: XYZ; radiusM: number }[];
-  aboveGround: { id: string; planFeatureId?: string; kind: string; from?: XY | XYZ; to?: XY | XYZ; center?: XY | XYZ; heightM?: number }[];
+  aboveGround: {
+    id: string;
+    planFeatureId?: string;
+    kind: string;
+    from?: XY | XYZ;
+    to?: XY | XYZ;
+    center?: XY | XYZ;
+    heightM?: number;
+    /** The simulator's record of the air wave it drew (traces: on how many traces). */
+    airWave?: { traces?: number };
+  }[];
   /** Written by the simulator; the pulse length widens the locus band. */
   antenna?: { frequencyMHz?: number };
 }
@@ -312,24 +322,28 @@ export function scoreRun(
   const linFull = lin.length ? lin.reduce((s, b) => s + b.recallFullLength * b.lengthM, 0) / lin.reduce((s, b) => s + b.lengthM, 0) : 1;
   const cmpRecall = cmp.length ? cmp.reduce((s, b) => s + b.recall, 0) / cmp.length : 1;
 
-  const refl = truth.aboveGround.map((a) => ({
-    id: a.id,
-    segs: a.center ? [a.center[0], a.center[1], a.center[0], a.center[1]] : [a.from![0], a.from![1], a.to![0], a.to![1]],
-  }));
+  // A reflector whose air wave the simulator drew on no trace (airWave.traces 0) makes no reflection.
+  // (Its distanceMinM..distanceMaxM is an amplitude summary, not a limit: it is not used.)
+  const refl = truth.aboveGround
+    .filter((a) => a.airWave?.traces === undefined || a.airWave.traces > 0)
+    .map((a) => ({
+      id: a.id,
+      segs: a.center ? [a.center[0], a.center[1], a.center[0], a.center[1]] : [a.from![0], a.from![1], a.to![0], a.to![1]],
+    }));
   const median = (v: number[]) => {
     const s = [...v].sort((p, q) => p - q);
     return s.length ? s[s.length >> 1]! : NaN;
   };
-  const onLocus = (pts: XY[], top: number, bottom: number, segs: number[]) => {
+  const onLocus = (pts: XY[], top: number, bottom: number, r: (typeof refl)[number]) => {
     if (pts.length === 0) return false;
-    const d = median(pts.map((p) => segDist(p[0], p[1], segs) * mpu));
+    const d = median(pts.map((p) => segDist(p[0], p[1], r.segs) * mpu));
     const r0 = airRadiusM(top, airModel), r1 = airRadiusM(bottom, airModel);
     const tol = locTol;
     return d >= Math.min(r0, r1) - tol && d <= Math.max(r0, r1) + tol;
   };
   const reflectorOf = (o: Obj): string | null => {
     for (const r of refl) {
-      const on = o.members.filter((m) => onLocus(m.pts, m.top, m.bottom, r.segs)).length;
+      const on = o.members.filter((m) => onLocus(m.pts, m.top, m.bottom, r)).length;
       if (on >= 0.5 * o.members.length && on > 0) return r.id;
     }
     return null;
@@ -386,6 +400,7 @@ export function scoreRun(
         : 'buried recall over the whole length (no survey lines given)',
       `buried sample covered: a target within ${planTol} m + radius in plan and depth within max(${dTol} m, ${dFrac} x depth) of its range`,
       `air-wave member: median outline-vertex distance to the reflector in [r(top) - ${locTol.toFixed(2)} m, r(bottom) + ${locTol.toFixed(2)} m], r(z) = c t(z)/2 (t from the run's velocity model when given, else the truth soil)`,
+      'reflectors: all above-ground objects of truth.json except those whose air wave it records on no trace (airWave.traces 0)',
       'air-wave anomaly: at least half of its members on one reflector locus; also near a buried target = ambiguous (not counted)',
     ],
   };
