@@ -136,8 +136,6 @@ describe('review.json of another site', () => {
     m = await message(() => runProcess(good, out, { threads: 0 }));
   });
   it('refuses it naming the field, keeps the previous outputs and review.json, leaves no stage', () => {
-    const detail = c.error.replace(/^<out>\/review\.json: /, '');
-    expect(m.endsWith(`/review.json: ${detail}`), m).toBe(true);
     expect(readdirSync(out).sort()).toEqual(['previous.txt', 'review.json']);
     expect(readFileSync(join(out, 'review.json'), 'utf8')).toBe(review);
     expect(readdirSync(dirname(out))).toEqual(['out']);
@@ -191,7 +189,7 @@ describe('CLI binary: one line on stderr naming file and field or byte, exit 2, 
     const r = await cli(['process', join(ours, 'good-site'), '--out', out, '--threads', '0']);
     expect(r.code, r.stderr).toBe(2);
     expect(r.stderr.split('\n')).toHaveLength(2);
-    expect(r.stderr).toMatch(/^error: .*review\.json: site: belongs to another site: expected "bad-input good site" in EPSG:32617, found "another yard" in EPSG:32617\n$/);
+    expect(r.stderr).toBe(`error: ${c.error.replaceAll('<out>', shownPath(out))}\n`);
     expect(readdirSync(out)).toEqual(['review.json']);
     expect(readFileSync(join(out, 'review.json'), 'utf8')).toBe(before);
     expect(existsSync(join(dirname(out), 'out.lamina-old'))).toBe(false);
