@@ -9,6 +9,7 @@ import { combine, type Evidence, type Verdict } from './evidence';
 import { CAUTION, forecastLoci } from './forecast';
 import { lineToWgs84, outlineToWgs84, pointToWgs84, type FeatureCollection, type GeoJsonFeature, type ToWgs84 } from './geojson';
 import { airRadiusM } from './physics';
+import { C_M_PER_NS } from '@lamina/velocity';
 import { distanceField, reflectorsOf } from './reflectors';
 import {
   beforeBackgroundEvidence,
@@ -44,6 +45,12 @@ export interface ScreenOptions extends ExtractOptions, ToleranceOptions {
   alongLineFromBeforeBackground?: boolean;
   /** Shortest such anomaly, m. @default 2 */
   minAlongLineLengthM?: number;
+  /**
+   * The velocity the stack was migrated with along the lines (m/ns), when it was: migration moves air
+   * waves towards their objects (see cellResidual); the stack before background removal is taken as
+   * unmigrated. @default undefined (not migrated)
+   */
+  migrationVelocityMPerNs?: number;
   /** Split an above-ground anomaly's off-locus members into their own anomaly when they span this many slices. @default 2 */
   splitMinSlices?: number;
 }
@@ -115,6 +122,14 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     rateTolerance: options.rateTolerance ?? 0.25,
     ...(beforeScores ? { beforeScores } : {}),
   };
+  // the stack before background removal is never migrated: its strips are screened on the plain loci
+  const ctxUnmigrated: ScreenContext = { ...ctx };
+  const vMig = options.migrationVelocityMPerNs;
+  const dir = surveyDirection(lines);
+  if (vMig !== undefined && vMig > 0 && vMig < C_M_PER_NS && Number.isFinite(dir)) {
+    const az = (dir * Math.PI) / 180;
+    ctx.migration = { k2: (vMig / C_M_PER_NS) ** 2, ux: Math.sin(az), uy: Math.cos(az) };
+  }
   // cut buried targets out of the air-wave bands they cross, then link again
   const sep = separateCrossings(extraction.members, stack, extraction.scores, ctx, options.minCells ?? 6, mpu);
   const members = sep.members;
@@ -124,17 +139,17 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
       : linkMembers(members, grid.width * grid.height, grid.cellSize, options).map((g) => buildAnomaly('A', g.map((i) => members[i]!), stack, { ...options, metresPerUnit: mpu }));
   const trains = postTrains(members, ctx);
   const hyper = hyperbolaHits(members, velocity.hyperbolas ?? [], velocity.model, ctx);
-  const evaluate = (a: Anomaly3D): ScreenedAnomaly & { mo?: MoveOutResult } => {
+  const evaluate = (a: Anomaly3D, c: ScreenContext = ctx): ScreenedAnomaly & { mo?: MoveOutResult } => {
     const evidence: Evidence[] = [];
-    const mo = bestMoveOut(a, ctx);
+    const mo = bestMoveOut(a, c);
     if (mo) {
-      evidence.push(...moveOutEvidence(mo, ctx));
+      evidence.push(...moveOutEvidence(mo, c));
       if (mo.fraction > 0) {
-        const s = slopeEvidence(mo, ctx);
+        const s = slopeEvidence(mo, c);
         if (s) evidence.push(s);
-        const e = edgeEvidence(mo, ctx);
+        const e = edgeEvidence(mo, c);
         if (e) evidence.push(e);
-        const b = beforeBackgroundEvidence(mo, ctx, options.lowThreshold ?? 3);
+        const b = beforeBackgroundEvidence(mo, c, options.lowThreshold ?? 3);
         if (b) evidence.push(b);
       }
     }
@@ -145,7 +160,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     if (air) evidence.push(air);
     else if (hs[0]) evidence.push(hs[0]);
     if (!mo || mo.fraction < 0.5) {
-      const u = unsurveyedEvidence(a, ctx);
+      const u = unsurveyedEvidence(a, c);
       if (u) evidence.push(u);
     }
     return { anomaly: a, evidence, verdict: combine(evidence), ...(mo ? { mo } : {}) };
@@ -156,17 +171,17 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   // Linking can join objects whose loci cross (two rings, an air band over a buried pipe). When the
   // members on the best locus make an above-ground anomaly by themselves and the rest span at least
   // splitMin slices, the rest are relinked and screened on their own (twice at most).
-  const screenOne = (a: Anomaly3D, depth: number) => {
-    const s = evaluate(a);
+  const screenOne = (a: Anomaly3D, depth: number, c: ScreenContext = ctx) => {
+    const s = evaluate(a, c);
     const explained = s.evidence.some((e) => e.test === 'unsurveyed-obstruction' && e.passed);
     if (depth < 3 && s.mo && !explained) {
       const off = s.mo.fits.filter((f) => !f.passed).map((f) => f.member);
       const on = s.mo.fits.filter((f) => f.passed).map((f) => f.member);
       if (on.length > 0 && off.length > 0 && new Set(off.map((m) => m.slice)).size >= splitMin) {
-        const onPart = evaluate(build(on));
+        const onPart = evaluate(build(on), c);
         if (onPart.verdict.origin === 'above-ground') {
           screened.push(strip(onPart));
-          for (const g of relink(off, grid.width * grid.height, grid.cellSize, options)) screenOne(build(g), depth + 1);
+          for (const g of relink(off, grid.width * grid.height, grid.cellSize, options)) screenOne(build(g), depth + 1, c);
           return;
         }
       }
@@ -199,7 +214,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     });
     for (const g of relink(strips, grid.width * grid.height, grid.cellSize, options)) {
       const before = screened.length;
-      screenOne(buildAnomaly('A', g, bb, { ...options, metresPerUnit: mpu }), 0);
+      screenOne(buildAnomaly('A', g, bb, { ...options, metresPerUnit: mpu }), 0, ctxUnmigrated);
       for (let i = before; i < screened.length; i++) fromBefore.add(screened[i]!.anomaly);
     }
   }
@@ -239,6 +254,21 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     summary,
     screened,
   };
+}
+
+/** Median azimuth of the lines' end-to-end chords, degrees in [0, 180); NaN without lines. */
+function surveyDirection(lines: ScreenInput['lines']): number {
+  const az: number[] = [];
+  for (const l of lines) {
+    const n = l.x.length;
+    if (n < 2) continue;
+    const dx = l.x[n - 1]! - l.x[0]!, dy = l.y[n - 1]! - l.y[0]!;
+    if (dx === 0 && dy === 0) continue;
+    az.push(((((Math.atan2(dx, dy) * 180) / Math.PI) % 180) + 180) % 180);
+  }
+  if (az.length === 0) return NaN;
+  az.sort((p, q) => p - q);
+  return az[az.length >> 1]!;
 }
 
 function strip(s: ScreenedAnomaly & { mo?: MoveOutResult }): ScreenedAnomaly {

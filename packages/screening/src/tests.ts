@@ -23,6 +23,11 @@ export interface ScreenContext {
   parallelToleranceDeg: number;
   /** Relative tolerance on a move-out rate. */
   rateTolerance: number;
+  /**
+   * Set when the stack was migrated along the lines: k2 = (v / c)^2 of the migration velocity and the
+   * survey direction (unit vector, site CRS axes). The air-wave loci then lie nearer their objects (cellResidual).
+   */
+  migration?: { k2: number; ux: number; uy: number };
 }
 
 export interface MemberFit {
