@@ -7,3 +7,5 @@ export { outlineToWgs84, type FeatureCollection, type GeoJsonFeature, type GeoJs
 export { screenSite, anomalyFeature, type ScreenInput, type ScreenOptions, type ScreenResult, type ScreenSummary, type ScreenedAnomaly } from './screen';
 export { scoreRun, type ScoreTruth, type ScoreOptions, type ScoreReport, type BuriedScore } from './score';
 export { scoreFolder, readScoreTruth, type FolderScore } from './score-folder';
+export { cellResidual } from './surgery';
+export { alongLineMembers, nearestLineLabels, type AlongLineOptions } from './along-line';
