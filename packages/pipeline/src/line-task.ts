@@ -104,7 +104,7 @@ export async function pass2(task: Pass2Task): Promise<Pass2Result> {
   const { line, before, log } = runRecipe(raw, task.recipe, context(s, task.velocityMPerNs), { keepBefore: 'backgroundRemoval' });
   const sep = s.antenna.separationM;
   const values = sliceValues(line, task, sep);
-  const valuesBeforeBackground = before && before !== line ? sliceValues(before, task, sep) : values.slice();
+  const valuesBeforeBackground = before && before !== line ? sliceValues(before, task, sep) : values;
   return { x: line.x, y: line.y, values, valuesBeforeBackground, log };
 }
 

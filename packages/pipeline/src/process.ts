@@ -4,8 +4,8 @@ import { InputError, isInputError } from '@lamina/errors';
 import { stageFolder } from '@lamina/atomic';
 import { checkPlanNearSurvey, loadSite, pointToWgs84, shownPath, type Site } from '@lamina/site';
 import { buildVelocityReport, velocityJson, type VelocityReport } from '@lamina/velocity';
-import { defaultWindows, gridPoints, writeSlices, type SliceStack, type SliceWindow } from '@lamina/slices';
-import type { Recipe, RecipeLogEntry } from '@lamina/processing';
+import { defaultWindows, gridPoints, writeSlices, type SliceWindow } from '@lamina/slices';
+import type { Recipe } from '@lamina/processing';
 import { screenSite } from '@lamina/screening';
 import { exportTargets, matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
 import { createPool, defaultThreads, type Pool, type SerialisedError } from './pool';
@@ -118,11 +118,34 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
 
     const windows = sliceWindowsFor(site, p1, velocity, options);
     progress('depth slices', 0, n);
-    const p2 = (await inOrder(
+    // Each line's per-trace slice values go straight into site-wide arrays, laid out by line order
+    // (so the result does not depend on which worker finished first), and the line is dropped.
+    const starts = new Int32Array(n + 1);
+    for (let i = 0; i < n; i++) starts[i + 1] = starts[i]! + summaries[i]!.traces;
+    const total = starts[n]!;
+    const nw = windows.length;
+    const coords = new Float64Array(2 * total);
+    const values = new Float32Array(total * nw);
+    const valuesBeforeBackground = new Float32Array(total * nw);
+    const linePositions: { id: string; x: Float64Array; y: Float64Array }[] = new Array(n);
+    let log: Pass2Result['log'] = [];
+    await inOrder(
       n,
-      (i) => exec.run({ kind: 'pass2', siteDir: site.dir, line: i, recipe, model: velocity.model, velocityMPerNs: velocity.site.velocityMPerNs, windows }),
+      (i) =>
+        exec.run({ kind: 'pass2', siteDir: site.dir, line: i, recipe, model: velocity.model, velocityMPerNs: velocity.site.velocityMPerNs, windows }).then((res) => {
+          const r = res as Pass2Result;
+          const k = starts[i]!;
+          for (let t = 0; t < r.x.length; t++) {
+            coords[2 * (k + t)] = r.x[t]!;
+            coords[2 * (k + t) + 1] = r.y[t]!;
+          }
+          values.set(r.values, k * nw);
+          valuesBeforeBackground.set(r.valuesBeforeBackground, k * nw);
+          linePositions[i] = { id: summaries[i]!.id, x: r.x, y: r.y };
+          if (i === 0) log = r.log;
+        }),
       (d) => progress('depth slices', d, n),
-    )) as Pass2Result[];
+    );
     await exec.close();
 
     const gridOptions = {
@@ -132,8 +155,8 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       level: options.level ?? false,
       ...(options.cellSizeM !== undefined ? { cellSizeM: options.cellSizeM } : {}),
     };
-    const stack = grid(p2, windows, gridOptions, 'values');
-    const stackBeforeBackground = grid(p2, windows, gridOptions, 'valuesBeforeBackground');
+    const stack = gridPoints(coords, values, starts, windows, gridOptions, 'mean-square');
+    const stackBeforeBackground = gridPoints(coords, valuesBeforeBackground, starts, windows, gridOptions, 'mean-square');
     await writeSlices(stack, stage.path);
 
     await writeJson(stage.path, 'lines.geojson', linesGeoJson(summaries, toWgs84));
@@ -146,7 +169,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       site: { ...siteSummary(site), extentWgs84: ext.wgs84, extentSite: ext.site },
       identity,
       recipe,
-      log: logOf(p1[0]?.log, p2[0]?.log),
+      log,
       threads,
       lines: summaries.map((l) => ({ id: l.id, file: l.file, traces: l.traces, samples: l.samples, dtNs: l.dtNs, lengthM: l.lengthM })),
     });
@@ -156,7 +179,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       stack,
       plan: site.plan,
       velocity,
-      lines: p2.map((r, i) => ({ id: summaries[i]!.id, x: r.x, y: r.y })),
+      lines: linePositions,
       metresPerUnit: site.crs.metresPerUnit,
       toWgs84,
       beforeBackgroundStack: stackBeforeBackground,
@@ -246,29 +269,6 @@ function sliceWindowsFor(site: Site, p1: Pass1Result[], velocity: VelocityReport
     ...(options.sliceThicknessM !== undefined ? { thicknessM: options.sliceThicknessM } : {}),
     ...(options.sliceOverlap !== undefined ? { overlap: options.sliceOverlap } : {}),
   });
-}
-
-function grid(p2: Pass2Result[], windows: SliceWindow[], options: Parameters<typeof gridPoints>[4], key: 'values' | 'valuesBeforeBackground'): SliceStack {
-  const total = p2.reduce((a, r) => a + r.x.length, 0);
-  const coords = new Float64Array(2 * total);
-  const values = new Float32Array(total * windows.length);
-  const starts = new Int32Array(p2.length + 1);
-  let k = 0;
-  p2.forEach((r, i) => {
-    starts[i] = k;
-    for (let t = 0; t < r.x.length; t++) {
-      coords[2 * (k + t)] = r.x[t]!;
-      coords[2 * (k + t) + 1] = r.y[t]!;
-    }
-    values.set(r[key], k * windows.length);
-    k += r.x.length;
-  });
-  starts[p2.length] = k;
-  return gridPoints(coords, values, starts, windows, options, 'mean-square');
-}
-
-function logOf(a: RecipeLogEntry[] | undefined, b: RecipeLogEntry[] | undefined): RecipeLogEntry[] {
-  return (b ?? a ?? []).map((e) => e);
 }
 
 async function writeJson(dir: string, name: string, obj: unknown): Promise<void> {
