@@ -13,6 +13,7 @@ import { fileURLToPath } from 'node:url';
 import type { RadarLine } from '../packages/radar-data/src/index';
 import { createProcessingPool, defaultRecipe, migrate, runRecipe, type Recipe } from '../packages/processing/src/index';
 import { loadSite, readLine } from '../packages/site/src/index';
+import { mulberry32 } from '../packages/random/src/index';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const N_LINES = Number(process.env.LAMINA_BENCH_LINES ?? 40);
@@ -22,16 +23,6 @@ const DT = 0.1;
 const SPACING = 0.025;
 const RUNS = 3;
 
-function mulberry32(seed: number): () => number {
-  let s = seed >>> 0;
-  return () => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 function ricker(t: number): number {
   const a = (Math.PI * F * 1e-3 * t) ** 2;
   return (1 - 2 * a) * Math.exp(-a);

@@ -12,6 +12,7 @@ import { existsSync, mkdirSync, rmSync, writeFileSync } from 'node:fs';
 import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { writeSegy } from '../packages/radar-data/src/index';
+import { mulberry32 } from '../packages/random/src/index';
 
 const GIB = 2 ** 30;
 const NS = 512;
@@ -27,16 +28,6 @@ const sizes = (process.env.LAMINA_BENCH_SCALE_GB ?? '0.01,0.03').split(',').map(
 const speedupGb = Number(process.env.LAMINA_BENCH_SCALE_SPEEDUP ?? 0.01);
 const keep = process.env.LAMINA_BENCH_SCALE_KEEP === '1';
 
-function mulberry32(seed: number): () => number {
-  let s = seed >>> 0;
-  return () => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 // Ricker wavelet, the usual formula (1 - 2 pi^2 f^2 t^2) exp(-pi^2 f^2 t^2), f in GHz, t in ns.
 const ricker = (t: number, fGHz: number): number => {

@@ -9,6 +9,7 @@ import { open } from 'node:fs/promises';
 import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { BLOCK_BYTES, openSegy, openSegyWriter, type SampleFormat } from '../packages/radar-data/src/index';
+import { mulberry32 } from '../packages/random/src/index';
 
 const MB = 2 ** 20;
 const TARGET_MB = Number(process.env.LAMINA_BENCH_SEGY_MB ?? 256);
@@ -16,16 +17,6 @@ const RUNS = Number(process.env.LAMINA_BENCH_RUNS ?? 3);
 const NS = 1024;
 const DT = 0.1;
 
-function mulberry32(seed: number): () => number {
-  let s = seed >>> 0;
-  return () => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 async function makeFile(path: string, format: SampleFormat, littleEndian: boolean): Promise<{ bytes: number; traces: number }> {
   const bps = format === 3 ? 2 : 4;

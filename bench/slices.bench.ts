@@ -12,6 +12,7 @@ import { constantModel, sliceWindows, SliceBuilder, writeSlices, type LineInput,
 import { buildIndex, idwGrid, searchFrame } from '../packages/slices/src/idw';
 import { idwGridParallel } from '../packages/slices/src/idw-parallel';
 import { availableParallelism } from 'node:os';
+import { mulberry32 } from '../packages/random/src/index';
 
 const small = process.env.SLICES_BENCH_SMALL === '1';
 const N_LINES = small ? 80 : 250;
@@ -26,15 +27,6 @@ const CELL = 0.125;
 const RADIUS = 0.5;
 const MAX_POINTS = 12;
 
-function mulberry32(seed: number) {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = Math.imul(a ^ (a >>> 15), a | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /** One synthetic processed line at a time (envelope with a few reflectors over noise): the stream. */
 function* lines(): Generator<LineInput> {

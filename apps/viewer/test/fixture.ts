@@ -8,6 +8,7 @@ import { mkdir, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import proj4 from 'proj4';
 import { writeSlices } from '@lamina/slices';
+import { mulberry32 } from '@lamina/random';
 
 export const FIXTURE_PROJ4 = '+proj=utm +zone=17 +datum=WGS84 +units=m +no_defs';
 export const FIXTURE = {
@@ -32,16 +33,6 @@ export function cellXY(col: number, row: number): [number, number] {
   return [FIXTURE.originX + (col + 0.5) * FIXTURE.cellSize, FIXTURE.originY - (row + 0.5) * FIXTURE.cellSize];
 }
 
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 export interface FixtureOptions {
   seed?: number;

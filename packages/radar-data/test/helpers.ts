@@ -3,6 +3,8 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
+export { mulberry32 as rng } from '@lamina/random';
+import { mulberry32 as rng } from '@lamina/random';
 
 export const DATA = join(dirname(fileURLToPath(import.meta.url)), 'data');
 
@@ -22,14 +24,3 @@ export function tempDir(prefix = 'lamina-segy-'): { dir: string; remove(): void 
   return { dir, remove: () => rmSync(dir, { recursive: true, force: true }) };
 }
 
-/** Deterministic pseudo-random numbers (mulberry32). */
-export function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}

@@ -3,6 +3,8 @@ import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+export { mulberry32 as rng } from '@lamina/random';
+import { mulberry32 as rng } from '@lamina/random';
 
 export const GDAL_ENV = { ...process.env, GDAL_PAM_ENABLED: 'NO' };
 
@@ -100,14 +102,3 @@ export function validateCog(path: string): { ok: boolean; output: string } {
   }
 }
 
-/** Seeded generator (mulberry32) so fixtures are the same every run. */
-export function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}

@@ -1,17 +1,8 @@
 // Synthetic common-offset radargrams for the tests: Ricker wavelets at exact bistatic travel times.
 import type { RadarLine } from '@lamina/radar-data';
+export { mulberry32 as rng } from '@lamina/random';
+import { mulberry32 as rng } from '@lamina/random';
 
-/** Seeded uniform generator (mulberry32). */
-export function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 export function gauss(u: () => number): () => number {
   return () => Math.sqrt(-2 * Math.log(1 - u())) * Math.cos(2 * Math.PI * u());

@@ -1,0 +1,1 @@
+export { mulberry32, gaussian } from './mulberry32';
