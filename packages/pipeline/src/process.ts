@@ -175,6 +175,8 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     });
 
     progress('air-wave screening', 0, 1);
+    const mig = recipe.steps.find((st) => st.step === 'migration');
+    const migrationVelocity = mig && mig.step === 'migration' ? (mig.velocityMPerNs ?? velocity.site.velocityMPerNs) : undefined;
     const screened = screenSite({
       stack,
       plan: site.plan,
@@ -183,7 +185,12 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       metresPerUnit: site.crs.metresPerUnit,
       toWgs84,
       beforeBackgroundStack: stackBeforeBackground,
-    }, { antennaFrequencyMHz: site.antenna.frequencyMHz, antennaSeparationM: site.antenna.separationM });
+    }, {
+      antennaFrequencyMHz: site.antenna.frequencyMHz,
+      antennaSeparationM: site.antenna.separationM,
+      // The slices are of migrated lines when the recipe migrates, which pulls a wall's air band towards it.
+      ...(migrationVelocity !== undefined ? { migrationVelocityMPerNs: migrationVelocity } : {}),
+    });
     progress('air-wave screening', 1, 1);
     await writeJson(stage.path, 'anomalies.geojson', screened.anomalies);
     await writeJson(stage.path, 'forecast.geojson', screened.forecast);
