@@ -1,17 +1,8 @@
 import { execFileSync } from 'node:child_process';
 import type { SliceGrid, SliceStack } from '@lamina/slices';
 
-/** Seeded generator (mulberry32), so fixtures are the same every run. */
-export function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+import { mulberry32 as rng } from '@lamina/random';
+export { rng };
 
 /** Debian's python with numpy/scipy/GDAL (not the python3 first on PATH). */
 export function py(script: string, input: string): string {
