@@ -194,10 +194,17 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     progress('air-wave screening', 1, 1);
     await writeJson(stage.path, 'anomalies.geojson', screened.anomalies);
     await writeJson(stage.path, 'forecast.geojson', screened.forecast);
-    await carryReview(join(outDir, 'review.json'), join(stage.path, 'review.json'), identity, screened.anomalies);
+    const reviewFile = join(outDir, 'review.json');
+    const reviewRead = await readText(reviewFile);
+    await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screened.anomalies);
 
     progress('targets', 0, 1);
-    const exported = await exportTargets(stage.path, { now });
+    let exported = await exportTargets(stage.path, { now });
+    // The viewer may have saved decisions into the old folder while this run worked: take them along.
+    if ((await readText(reviewFile)) !== reviewRead) {
+      await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screened.anomalies);
+      exported = await exportTargets(stage.path, { now });
+    }
     progress('targets', 1, 1);
 
     if (options.failAfter === 'outputs') throw new Error('stopped before commit (failAfter)');
@@ -223,6 +230,11 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
 }
 
 /** Re-match the decisions of an earlier review.json to this run's anomalies (kept when unmatched). */
+async function readText(path: string): Promise<string | undefined> {
+  const { readFile } = await import('node:fs/promises');
+  return readFile(path, 'utf8').catch(() => undefined);
+}
+
 async function carryReview(
   from: string,
   to: string,
