@@ -84,17 +84,22 @@ export function reflectorsOf(plan: PlanFeature[], metresPerUnit: number): Reflec
   return out;
 }
 
+/** Distance from (x, y) to the segment at `s[i..i+3]` (ax, ay, bx, by). */
+function segmentDistance(s: Float64Array | number[], i: number, x: number, y: number): number {
+  const ax = s[i]!, ay = s[i + 1]!, bx = s[i + 2]!, by = s[i + 3]!;
+  const dx = bx - ax, dy = by - ay;
+  const l2 = dx * dx + dy * dy;
+  let t = l2 > 0 ? ((x - ax) * dx + (y - ay) * dy) / l2 : 0;
+  t = t < 0 ? 0 : t > 1 ? 1 : t;
+  return Math.hypot(x - ax - t * dx, y - ay - t * dy);
+}
+
 /** Distance from (x, y) to a reflector, site CRS units. */
 export function distanceTo(r: Reflector, x: number, y: number): number {
   let best = Infinity;
   const s = r.segments;
   for (let i = 0; i < s.length; i += 4) {
-    const ax = s[i]!, ay = s[i + 1]!, bx = s[i + 2]!, by = s[i + 3]!;
-    const dx = bx - ax, dy = by - ay;
-    const l2 = dx * dx + dy * dy;
-    let t = l2 > 0 ? ((x - ax) * dx + (y - ay) * dy) / l2 : 0;
-    t = t < 0 ? 0 : t > 1 ? 1 : t;
-    const d = Math.hypot(x - ax - t * dx, y - ay - t * dy);
+    const d = segmentDistance(s, i, x, y);
     if (d < best) best = d;
   }
   const p = r.points;
@@ -111,15 +116,10 @@ export function nearestSegmentAzimuth(r: Reflector, x: number, y: number): numbe
   let az = NaN;
   const s = r.segments;
   for (let i = 0; i < s.length; i += 4) {
-    const ax = s[i]!, ay = s[i + 1]!, bx = s[i + 2]!, by = s[i + 3]!;
-    const dx = bx - ax, dy = by - ay;
-    const l2 = dx * dx + dy * dy;
-    let t = l2 > 0 ? ((x - ax) * dx + (y - ay) * dy) / l2 : 0;
-    t = t < 0 ? 0 : t > 1 ? 1 : t;
-    const d = Math.hypot(x - ax - t * dx, y - ay - t * dy);
+    const d = segmentDistance(s, i, x, y);
     if (d < best) {
       best = d;
-      az = ((((Math.atan2(dx, dy) * 180) / Math.PI) % 180) + 180) % 180;
+      az = ((((Math.atan2(s[i + 2]! - s[i]!, s[i + 3]! - s[i + 1]!) * 180) / Math.PI) % 180) + 180) % 180;
     }
   }
   return az;
