@@ -1,5 +1,6 @@
 import { availableParallelism } from 'node:os';
 import { Worker } from 'node:worker_threads';
+import type KDBush from 'kdbush';
 import { buildIndex, hasNaN, idwGrid, searchFrame, type IdwOptions } from './idw';
 import type { IdwJob } from './idw-worker';
 import type { SliceGrid } from './stack';
@@ -22,39 +23,77 @@ export async function idwGridParallel(
   if (values.length !== n * nBands) throw new Error(`expected ${n * nBands} values (${n} points x ${nBands} bands), found ${values.length}`);
   const cells = grid.width * grid.height;
   if (threads <= 1 || cells * Math.max(1, nBands) < 2e6) return idwGrid(coords, values, nBands, grid, options);
-  const tree = buildIndex(coords, searchFrame(options), true);
-  const sharedValues = values.buffer instanceof SharedArrayBuffer && values.byteOffset === 0 && values.byteLength === values.buffer.byteLength
-    ? values.buffer
-    : (() => {
-        const sab = new SharedArrayBuffer(values.byteLength);
-        new Float32Array(sab).set(values);
-        return sab;
-      })();
   const out = new SharedArrayBuffer(cells * nBands * 4);
-  const anyNaN = hasNaN(values);
-  const block = Math.max(1, Math.ceil(grid.height / (threads * 8)));
-  let nextRow = 0;
-  const workers = Array.from({ length: Math.min(threads, Math.ceil(grid.height / block)) }, () => new Worker(new URL('./idw-worker-boot.mjs', import.meta.url)));
+  const workers = idwWorkers(Math.min(threads, grid.height));
   try {
-    await Promise.all(
-      workers.map(
-        (w) =>
-          new Promise<void>((resolve, reject) => {
-            const send = () => {
-              if (nextRow >= grid.height) return resolve();
-              const rowStart = nextRow;
-              nextRow = Math.min(grid.height, nextRow + block);
-              const job: IdwJob = { index: tree.data as SharedArrayBuffer, n, values: sharedValues, nBands, grid, options, out, rowStart, rowEnd: nextRow, anyNaN };
-              w.postMessage(job);
-            };
-            w.on('message', (m: { ok: boolean; error?: string }) => (m.ok ? send() : reject(new Error(`gridding worker: ${m.error}`))));
-            w.on('error', reject);
-            send();
-          }),
-      ),
-    );
+    await workers.rows(buildIndex(coords, searchFrame(options), true), n, shared(values), nBands, grid, options, 0, grid.height, out, hasNaN(values));
   } finally {
-    await Promise.all(workers.map((w) => w.terminate()));
+    await workers.close();
   }
   return Array.from({ length: nBands }, (_, b) => new Float32Array(out, b * cells * 4, cells));
+}
+
+/** `values` in a SharedArrayBuffer (itself when it already is one, whole). */
+export function shared(values: Float32Array): SharedArrayBuffer {
+  if (values.buffer instanceof SharedArrayBuffer && values.byteOffset === 0 && values.byteLength === values.buffer.byteLength) return values.buffer;
+  const sab = new SharedArrayBuffer(values.byteLength);
+  new Float32Array(sab).set(values);
+  return sab;
+}
+
+export interface IdwWorkers {
+  /**
+   * Grid rows [rowStart, rowEnd) into `out` (band b at byte offset b * cells * 4), the tree built with
+   * `buildIndex(..., shared = true)`, on the workers.
+   */
+  rows(tree: KDBush, n: number, values: SharedArrayBuffer, nBands: number, grid: SliceGrid, options: IdwOptions, rowStart: number, rowEnd: number, out: SharedArrayBuffer, anyNaN: boolean): Promise<void>;
+  close(): Promise<void>;
+}
+
+/** Gridding workers kept for several calls (one row band after another). */
+export function idwWorkers(threads: number): IdwWorkers {
+  const workers = Array.from({ length: Math.max(1, threads) }, () => new Worker(new URL('./idw-worker-boot.mjs', import.meta.url)));
+  return {
+    rows: async (tree, n, values, nBands, grid, options, rowStart, rowEnd, out, anyNaN) => {
+      const height = rowEnd - rowStart;
+      const block = Math.max(1, Math.ceil(height / (workers.length * 8)));
+      let nextRow = rowStart;
+      await Promise.all(
+        workers.map(
+          (w) =>
+            new Promise<void>((resolve, reject) => {
+              const onMessage = (m: { ok: boolean; error?: string }) => {
+                if (m.ok) return send();
+                done();
+                reject(new Error(`gridding worker: ${m.error}`));
+              };
+              const onError = (e: Error) => {
+                done();
+                reject(e);
+              };
+              const done = () => {
+                w.off('message', onMessage);
+                w.off('error', onError);
+              };
+              const send = () => {
+                if (nextRow >= rowEnd) {
+                  done();
+                  return resolve();
+                }
+                const start = nextRow;
+                nextRow = Math.min(rowEnd, nextRow + block);
+                const job: IdwJob = { index: tree.data as SharedArrayBuffer, n, values, nBands, grid, options, out, rowStart: start, rowEnd: nextRow, anyNaN };
+                w.postMessage(job);
+              };
+              w.on('message', onMessage);
+              w.on('error', onError);
+              send();
+            }),
+        ),
+      );
+    },
+    close: async () => {
+      await Promise.all(workers.map((w) => w.terminate()));
+    },
+  };
 }

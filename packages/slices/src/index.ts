@@ -2,16 +2,14 @@ export { type SliceGrid, type Slice, type SliceStack, type GriddingInfo, cellCen
 export { bistaticDepth, timeToDepth, depthToTime, sampleDepths, verticalTimeNs, averageVelocity, constantModel } from './depth';
 export { type SliceWindow, type WindowOptions, type SliceMode, defaultThicknessM, sliceWindows, traceSliceValues } from './windows';
 export { type IdwOptions, type SearchFrame, searchFrame, buildIndex, nearestWithin, idwGrid, idwRows, hasNaN } from './idw';
-export { levelLines, quantileOf } from './levelling';
-export { type SurveyGeometry, surveyGeometry, median } from './survey';
+export { levelLines, levelFactors, quantileOf } from './levelling';
+export { type SurveyGeometry, type LinePositions, surveyGeometry, surveyGeometryOf, median } from './survey';
 export { type SliceStats, sliceStats, percentile } from './stats';
 export {
   type LineInput,
   type SliceBuilderOptions,
-  type GridOptions,
   type DefaultWindowOptions,
   SliceBuilder,
-  resolveGrid,
   gridPoints,
   gridPointsAsync,
   buildSlices,
@@ -19,3 +17,6 @@ export {
 } from './builder';
 export { type SlicesJson, type WriteSlicesOptions, SLICES_TIF, SLICES_JSON, epsgOf, writeSlices, readSlices, readSlicesJson } from './io';
 export { idwGridParallel } from './idw-parallel';
+export { type GridOptions, resolveGrid } from './grid-options';
+export { PointSpill } from './spill';
+export { type SpillGridOptions, gridSpill, gridSpillSync } from './bands';

@@ -51,6 +51,8 @@ export interface GriddingInfo {
   traceCount: number;
   lineSpacing: number;
   traceSpacing: number;
+  /** Row bands the grid was filled in (points read back from disk one band at a time). @default 1 */
+  rowBands?: number;
 }
 
 export interface SliceStack {

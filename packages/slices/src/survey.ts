@@ -1,5 +1,3 @@
-import KDBush from 'kdbush';
-
 /** What the trace positions say about the survey pattern (site CRS units). */
 export interface SurveyGeometry {
   /** Median distance between consecutive traces of a line. */
@@ -13,105 +11,139 @@ export interface SurveyGeometry {
   bounds: [number, number, number, number];
 }
 
+/** Trace positions line by line: `line(l)` gives `[x0, y0, ...]` of line l (read from memory or disk). */
+export interface LinePositions {
+  lineStarts: Int32Array;
+  line(l: number): Float64Array;
+}
+
 /**
  * Estimate trace spacing, line spacing and survey direction from positions `[x0, y0, ...]` split into
  * lines by `lineStarts` (first trace of each line, plus the total at the end). Directions are axial
  * (a line walked back and forth counts once): their doubled angles are averaged.
  */
 export function surveyGeometry(coords: Float64Array, lineStarts: Int32Array): SurveyGeometry {
+  return surveyGeometryOf({ lineStarts, line: (l) => coords.subarray(2 * lineStarts[l]!, 2 * lineStarts[l + 1]!) });
+}
+
+/** `surveyGeometry` over positions read one line at a time (memory holds one line). */
+export function surveyGeometryOf(source: LinePositions): SurveyGeometry {
+  const { lineStarts } = source;
   const nLines = lineStarts.length - 1;
-  const n = coords.length / 2;
-  if (n === 0) throw new Error('no trace positions to grid');
+  if (lineStarts[nLines]! === 0) throw new Error('no trace positions to grid');
   const steps: number[] = [];
   let c2 = 0;
   let s2 = 0;
+  let totalLen = 0;
   let minX = Infinity;
   let minY = Infinity;
   let maxX = -Infinity;
   let maxY = -Infinity;
-  for (let i = 0; i < n; i++) {
-    const x = coords[2 * i]!;
-    const y = coords[2 * i + 1]!;
-    if (x < minX) minX = x;
-    if (x > maxX) maxX = x;
-    if (y < minY) minY = y;
-    if (y > maxY) maxY = y;
-  }
   for (let l = 0; l < nLines; l++) {
-    const a = lineStarts[l]!;
-    const b = lineStarts[l + 1]! - 1;
-    if (b <= a) continue;
+    const c = source.line(l);
+    const m = c.length / 2;
+    for (let i = 0; i < m; i++) {
+      const x = c[2 * i]!;
+      const y = c[2 * i + 1]!;
+      if (x < minX) minX = x;
+      if (x > maxX) maxX = x;
+      if (y < minY) minY = y;
+      if (y > maxY) maxY = y;
+    }
+    const b = m - 1;
+    if (b <= 0) continue;
     // Subsample long lines: 200 steps per line are plenty for a median.
-    const stride = Math.max(1, Math.floor((b - a) / 200));
-    for (let i = a; i + stride <= b; i += stride) {
-      const d = Math.hypot(coords[2 * (i + stride)]! - coords[2 * i]!, coords[2 * (i + stride) + 1]! - coords[2 * i + 1]!) / stride;
+    const stride = Math.max(1, Math.floor(b / 200));
+    for (let i = 0; i + stride <= b; i += stride) {
+      const d = Math.hypot(c[2 * (i + stride)]! - c[2 * i]!, c[2 * (i + stride) + 1]! - c[2 * i + 1]!) / stride;
       if (d > 0) steps.push(d);
     }
-    const dx = coords[2 * b]! - coords[2 * a]!;
-    const dy = coords[2 * b + 1]! - coords[2 * a + 1]!;
+    const dx = c[2 * b]! - c[0]!;
+    const dy = c[2 * b + 1]! - c[1]!;
     const len = Math.hypot(dx, dy);
     if (len > 0) {
       const th = 2 * Math.atan2(dy, dx);
       c2 += len * Math.cos(th);
       s2 += len * Math.sin(th);
+      totalLen += len;
     }
-  }
-  let totalLen = 0;
-  for (let l = 0; l < nLines; l++) {
-    const a = lineStarts[l]!;
-    const b = lineStarts[l + 1]! - 1;
-    if (b > a) totalLen += Math.hypot(coords[2 * b]! - coords[2 * a]!, coords[2 * b + 1]! - coords[2 * a + 1]!);
   }
   const traceSpacing = median(steps);
   let directionDeg = ((Math.atan2(s2, c2) / 2) * 180) / Math.PI;
   if (directionDeg < 0) directionDeg += 180;
   if (directionDeg > 180 - 1e-9) directionDeg = 0;
   const parallelism = totalLen > 0 ? Math.hypot(c2, s2) / totalLen : 0;
-  const lineSpacing = nLines > 1 ? estimateLineSpacing(coords, lineStarts, traceSpacing) : Number.NaN;
-  return { traceSpacing, lineSpacing, directionDeg, parallelism, bounds: [minX, minY, maxX, maxY] };
+  const bounds: [number, number, number, number] = [minX, minY, maxX, maxY];
+  const lineSpacing = nLines > 1 ? estimateLineSpacing(source, traceSpacing, bounds) : Number.NaN;
+  return { traceSpacing, lineSpacing, directionDeg, parallelism, bounds };
 }
 
-function estimateLineSpacing(coords: Float64Array, lineStarts: Int32Array, traceSpacing: number): number {
-  const n = coords.length / 2;
+/**
+ * Median over the points a quarter, half and three quarters along each line of the distance to the
+ * nearest trace of another line. Exact nearest distances, found by streaming every line past a hash of
+ * the query points: a search radius starting at four trace spacings, doubled for the queries that found
+ * nothing within it, so memory holds the queries and one line, never all positions.
+ */
+function estimateLineSpacing(source: LinePositions, traceSpacing: number, bounds: [number, number, number, number]): number {
+  const { lineStarts } = source;
   const nLines = lineStarts.length - 1;
-  const index = new KDBush(n, 32);
-  for (let i = 0; i < n; i++) index.add(coords[2 * i]!, coords[2 * i + 1]!);
-  index.finish();
-  const lineOf = new Int32Array(n);
-  for (let l = 0; l < nLines; l++) lineOf.fill(l, lineStarts[l]!, lineStarts[l + 1]!);
-  const [minX, minY, maxX, maxY] = [0, 1, 2, 3].map((k) => {
-    let v = k < 2 ? Infinity : -Infinity;
-    for (let i = 0; i < n; i++) {
-      const c = coords[2 * i + (k % 2)]!;
-      v = k < 2 ? Math.min(v, c) : Math.max(v, c);
-    }
-    return v;
-  }) as [number, number, number, number];
-  const maxR = Math.hypot(maxX - minX, maxY - minY) + 1;
-  const found: number[] = [];
+  const qx: number[] = [];
+  const qy: number[] = [];
+  const qLine: number[] = [];
   for (let l = 0; l < nLines; l++) {
-    const a = lineStarts[l]!;
-    const b = lineStarts[l + 1]!;
-    if (b <= a) continue;
+    const m = lineStarts[l + 1]! - lineStarts[l]!;
+    if (m <= 0) continue;
+    const c = source.line(l);
     for (const f of [0.25, 0.5, 0.75]) {
-      const i = a + Math.floor((b - a - 1) * f);
-      const x = coords[2 * i]!;
-      const y = coords[2 * i + 1]!;
-      let r = Math.max(traceSpacing, 1e-9) * 4;
-      for (;;) {
-        let best = Infinity;
-        for (const j of index.within(x, y, r)) {
-          if (lineOf[j] === l) continue;
-          best = Math.min(best, Math.hypot(coords[2 * j]! - x, coords[2 * j + 1]! - y));
+      const i = Math.floor((m - 1) * f);
+      qx.push(c[2 * i]!);
+      qy.push(c[2 * i + 1]!);
+      qLine.push(l);
+    }
+  }
+  const [minX, minY, maxX, maxY] = bounds;
+  const maxR = Math.hypot(maxX - minX, maxY - minY) + 1;
+  const best = new Float64Array(qx.length).fill(Infinity);
+  const found: number[] = [];
+  let pending = qx.map((_, q) => q);
+  let r = Math.max(traceSpacing, 1e-9) * 4;
+  while (pending.length > 0) {
+    const rows = Math.floor((maxY - minY) / r) + 3;
+    const key = (cx: number, cy: number) => cx * rows + cy;
+    const hash = new Map<number, number[]>();
+    for (const q of pending) {
+      const k = key(Math.floor((qx[q]! - minX) / r), Math.floor((qy[q]! - minY) / r));
+      const list = hash.get(k);
+      if (list) list.push(q);
+      else hash.set(k, [q]);
+    }
+    for (let l = 0; l < nLines; l++) {
+      const c = source.line(l);
+      for (let i = 0; i < c.length; i += 2) {
+        const x = c[i]!;
+        const y = c[i + 1]!;
+        const cx = Math.floor((x - minX) / r);
+        const cy = Math.floor((y - minY) / r);
+        for (let ax = cx - 1; ax <= cx + 1; ax++) {
+          for (let ay = cy - 1; ay <= cy + 1; ay++) {
+            const list = hash.get(key(ax, ay));
+            if (!list) continue;
+            for (const q of list) {
+              if (qLine[q] === l) continue;
+              const d = Math.hypot(x - qx[q]!, y - qy[q]!);
+              if (d <= r && d < best[q]!) best[q] = d;
+            }
+          }
         }
-        if (best <= r) {
-          found.push(best);
-          break;
-        }
-        if (r > maxR) break;
-        r *= 2;
       }
     }
+    const next: number[] = [];
+    for (const q of pending) {
+      if (best[q]! <= r) found.push(best[q]!);
+      else if (r <= maxR) next.push(q);
+    }
+    pending = next;
+    r *= 2;
   }
   return found.length > 0 ? median(found) : Number.NaN;
 }

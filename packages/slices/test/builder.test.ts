@@ -148,12 +148,4 @@ describe('slices of a buried pipe (synthetic survey)', () => {
       expect((s[4]! + s[5]!) / 2).toBeCloseTo(2 * 1.45, 5);
     }
   });
-
-  it('memory: the builder keeps 2 doubles and nSlices floats per trace, not the samples', () => {
-    const b = new SliceBuilder(opts);
-    for (const l of survey()) b.add(l);
-    const p = b.points();
-    expect(p.values.length).toBe(b.traceCount * windows.length);
-    expect(p.coords.length).toBe(2 * b.traceCount);
-  });
 });

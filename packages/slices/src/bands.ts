@@ -1,0 +1,176 @@
+import { buildIndex, idwRows, searchFrame, type IdwOptions } from './idw';
+import { idwWorkers, type IdwWorkers } from './idw-parallel';
+import { levelFactors } from './levelling';
+import type { GriddingInfo, SliceGrid, SliceStack } from './stack';
+import type { PointSpill } from './spill';
+import { surveyGeometryOf, type SurveyGeometry } from './survey';
+import type { SliceMode, SliceWindow } from './windows';
+import { resolveGrid, type GridOptions } from './grid-options';
+
+export interface SpillGridOptions extends GridOptions {
+  /**
+   * Bytes of points (positions, values and kd-tree) held at once; the grid is cut into row bands to keep
+   * under it. @default 128 MiB
+   */
+  bandBytes?: number;
+}
+
+/** The plan of a banded gridding: grid, parameters, row bands. */
+interface BandPlan {
+  grid: SliceGrid;
+  idw: Required<IdwOptions>;
+  geometry: SurveyGeometry;
+  bands: [number, number][];
+  /** Rows of margin around a band: every point within the search radius of its cell centres. */
+  marginRows: number;
+  factors: Float64Array | undefined;
+  lineStarts: Int32Array;
+}
+
+/**
+ * Grids the points of a `PointSpill` one row band at a time: a band's points (those within the search
+ * radius of its rows, read back from disk) get their own kd-tree and fill the band's rows of the output.
+ * Memory: the output grid (4 bytes per cell per value) plus one band of points, whatever the number of
+ * lines. Every cell sees the same points within its search radius as in `gridPoints`, so the result is
+ * the same except for the order among points at exactly equal distances.
+ *
+ * The spill's values per trace may hold several stacks side by side (`nValues = stacks * windows.length`,
+ * e.g. after and before a processing step): one neighbour search per cell serves all; one stack each is returned.
+ */
+export async function gridSpill(spill: PointSpill, windows: SliceWindow[], options: SpillGridOptions, mode: SliceMode = 'mean-square'): Promise<SliceStack[]> {
+  const plan = planBands(spill, windows, options);
+  const threads = options.threads ?? 1;
+  const nValues = spill.nValues;
+  const cells = plan.grid.width * plan.grid.height;
+  const parallel = threads > 1 && cells * nValues >= 2e6;
+  const buffer = parallel ? new SharedArrayBuffer(cells * nValues * 4) : new ArrayBuffer(cells * nValues * 4);
+  const out = bandsOf(buffer, nValues, cells);
+  let workers: IdwWorkers | undefined;
+  try {
+    if (parallel) workers = idwWorkers(threads);
+    for (const [r0, r1] of plan.bands) {
+      const band = loadBand(spill, plan, r0, r1, parallel);
+      const tree = buildIndex(band.coords, searchFrame(plan.idw), parallel);
+      if (workers) await workers.rows(tree, band.n, band.values.buffer as SharedArrayBuffer, nValues, plan.grid, plan.idw, r0, r1, buffer as SharedArrayBuffer, spill.hasNaN);
+      else idwRows(tree, band.n, band.values, nValues, plan.grid, plan.idw, r0, r1, out, spill.hasNaN);
+    }
+  } finally {
+    await workers?.close();
+  }
+  return stacksOf(out, plan, windows, options, mode, spill);
+}
+
+/** `gridSpill` on the calling thread. */
+export function gridSpillSync(spill: PointSpill, windows: SliceWindow[], options: SpillGridOptions, mode: SliceMode = 'mean-square'): SliceStack[] {
+  const plan = planBands(spill, windows, options);
+  const cells = plan.grid.width * plan.grid.height;
+  const out = bandsOf(new ArrayBuffer(cells * spill.nValues * 4), spill.nValues, cells);
+  for (const [r0, r1] of plan.bands) {
+    const band = loadBand(spill, plan, r0, r1, false);
+    idwRows(buildIndex(band.coords, searchFrame(plan.idw)), band.n, band.values, spill.nValues, plan.grid, plan.idw, r0, r1, out, spill.hasNaN);
+  }
+  return stacksOf(out, plan, windows, options, mode, spill);
+}
+
+function bandsOf(buffer: ArrayBufferLike, nValues: number, cells: number): Float32Array[] {
+  return Array.from({ length: nValues }, (_, b) => new Float32Array(buffer, b * cells * 4, cells));
+}
+
+function planBands(spill: PointSpill, windows: SliceWindow[], options: SpillGridOptions): BandPlan {
+  const ns = windows.length;
+  if (ns === 0 || spill.nValues % ns !== 0) throw new Error(`expected a multiple of ${ns} values per point, found ${spill.nValues}`);
+  const lineStarts = spill.lineStarts();
+  const geometry = surveyGeometryOf({ lineStarts, line: (l) => spill.readCoords(lineStarts[l]!, lineStarts[l + 1]!) });
+  const { grid, idw } = resolveGrid(geometry, options);
+  const factors = options.level ? levelFactors(spill.nValues, lineStarts, (l) => spill.readValues(lineStarts[l]!, lineStarts[l + 1]!)) : undefined;
+  // A point is within the search ellipse of a cell centre only if it is within the larger semi-axis in y.
+  const reach = Math.max(idw.radius, idw.radiusAcross);
+  const marginRows = Math.ceil(reach / grid.cellSize) + 2;
+  const { height, originY, cellSize } = grid;
+  // Points per row (clamped into the grid; points beyond any band's margin are never read).
+  const perRow = new Float64Array(height);
+  spill.forEachChunk((_, c) => {
+    for (let i = 1; i < c.length; i += 2) {
+      const r = Math.floor((originY - c[i]!) / cellSize);
+      if (r < -marginRows || r >= height + marginRows) continue;
+      perRow[Math.min(height - 1, Math.max(0, r))]! += 1;
+    }
+  });
+  const prefix = new Float64Array(height + 1);
+  for (let r = 0; r < height; r++) prefix[r + 1] = prefix[r]! + perRow[r]!;
+  const held = (r0: number, r1: number) => prefix[Math.min(height, r1 + marginRows)]! - prefix[Math.max(0, r0 - marginRows)]!;
+  // per point: 16 B position, 4 B per value, the kd-tree's 16 B position and 4 B id
+  const budget = Math.max(1, Math.floor((options.bandBytes ?? 128 * 2 ** 20) / (36 + 4 * spill.nValues)));
+  const bands: [number, number][] = [];
+  for (let r0 = 0; r0 < height; ) {
+    let r1 = r0 + 1;
+    while (r1 < height && held(r0, r1 + 1) <= budget) r1++;
+    bands.push([r0, r1]);
+    r0 = r1;
+  }
+  return { grid, idw, geometry, bands, marginRows, factors, lineStarts };
+}
+
+/** The points of rows [r0, r1) plus the margin, in spill order, levelled if asked. */
+function loadBand(spill: PointSpill, plan: BandPlan, r0: number, r1: number, sharedMemory: boolean): { n: number; coords: Float64Array; values: Float32Array } {
+  const { grid, marginRows, factors, lineStarts } = plan;
+  const nv = spill.nValues;
+  const yTop = grid.originY - (r0 - marginRows) * grid.cellSize;
+  const yBottom = grid.originY - (r1 + marginRows) * grid.cellSize;
+  let n = 0;
+  spill.forEachChunk((_, c) => {
+    for (let i = 1; i < c.length; i += 2) if (c[i]! <= yTop && c[i]! >= yBottom) n++;
+  });
+  const coords = new Float64Array(2 * n);
+  const values = new Float32Array(sharedMemory ? new SharedArrayBuffer(Math.max(4, 4 * n * nv)) : new ArrayBuffer(Math.max(4, 4 * n * nv)), 0, n * nv);
+  let k = 0;
+  let line = 0;
+  spill.forEachChunk(
+    (first, c, v) => {
+      const m = c.length / 2;
+      for (let t = 0; t < m; t++) {
+        const y = c[2 * t + 1]!;
+        if (!(y <= yTop && y >= yBottom)) continue;
+        coords[2 * k] = c[2 * t]!;
+        coords[2 * k + 1] = y;
+        values.set(v!.subarray(t * nv, (t + 1) * nv), k * nv);
+        if (factors) {
+          while (lineStarts[line + 1]! <= first + t) line++;
+          for (let b = 0; b < nv; b++) values[k * nv + b] = values[k * nv + b]! * factors[line * nv + b]!;
+        }
+        k++;
+      }
+    },
+    { values: true },
+  );
+  return { n, coords, values };
+}
+
+function stacksOf(out: Float32Array[], plan: BandPlan, windows: SliceWindow[], options: GridOptions, mode: SliceMode, spill: PointSpill): SliceStack[] {
+  const ns = windows.length;
+  const gridding = { ...griddingInfo(plan.geometry, plan.idw, options, mode, spill.lineCount, spill.traceCount), rowBands: plan.bands.length };
+  return Array.from({ length: spill.nValues / ns }, (_, s) => ({
+    grid: { ...plan.grid },
+    slices: windows.map((w, k) => ({ index: w.index, topM: w.topM, bottomM: w.bottomM, values: out[s * ns + k]! })),
+    gridding: { ...gridding },
+  }));
+}
+
+/** What slices.json records of the gridding. */
+export function griddingInfo(geometry: SurveyGeometry, idw: Required<IdwOptions>, options: GridOptions, mode: SliceMode, lineCount: number, traceCount: number): GriddingInfo {
+  return {
+    method: 'idw',
+    power: idw.power,
+    maxPoints: idw.maxPoints,
+    minPoints: idw.minPoints,
+    radius: idw.radius,
+    radiusAcross: idw.radiusAcross,
+    directionDeg: idw.directionDeg,
+    mode,
+    levelled: options.level ?? false,
+    lineCount,
+    traceCount,
+    lineSpacing: geometry.lineSpacing,
+    traceSpacing: geometry.traceSpacing,
+  };
+}
