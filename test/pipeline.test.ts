@@ -43,6 +43,9 @@ describe('process pipeline', () => {
     expect(Object.keys(a).sort()).toEqual(Object.keys(b).sort());
     expect(b).toEqual(a);
     expect(await hashTree(siteDir)).toEqual(before);
+    // the per-trace point spill and the radargram index parts are gone (lamina's own temporaries)
+    expect(Object.keys(a).filter((f) => f.includes('lamina-points-') || f.endsWith('.entry.json'))).toEqual([]);
+    expect(Object.keys(a)).toContain('radargrams/index.json');
   });
 
   it('writes nothing when an input is bad, and names the file', async () => {

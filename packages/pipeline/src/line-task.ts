@@ -3,7 +3,7 @@ import { loadSite, readLine, pointToWgs84, type Site } from '@lamina/site';
 import { defaultRecipe, envelope, parseRecipe, runRecipe, type Recipe, type RecipeLogEntry } from '@lamina/processing';
 import { lineDirection, lineHyperbolas, recipeForVelocity, type HyperbolaFit, type VelocityModel } from '@lamina/velocity';
 import { sampleDepths, traceSliceValues, type SliceWindow } from '@lamina/slices';
-import { summariseLine, writeRadargram, type LineSummary, type RadargramEntry } from './outputs';
+import { summariseLine, writeRadargram, type LineSummary } from './outputs';
 
 /**
  * The work done on one line, in two passes so that memory holds one line at a time:
@@ -22,7 +22,8 @@ export interface Pass1Result {
   summary: LineSummary;
   fits: HyperbolaFit[];
   log: RecipeLogEntry[];
-  radargram: RadargramEntry;
+  /** The line's radargrams/index.json entry, written beside its radargram (see `writeRadargramIndex`). */
+  radargramEntry: string;
   direction: [number, number];
   timeZeroNs: number;
   nSamples: number;
@@ -41,10 +42,11 @@ export interface Pass2Task {
 export interface Pass2Result {
   x: Float64Array;
   y: Float64Array;
-  /** Trace-major `nTraces * windows.length`: slice values of the processed (migrated) envelope. */
+  /**
+   * Trace-major `nTraces * 2 * windows.length`: for each trace the slice values of the processed
+   * (migrated) envelope, then the same before background removal (for air-wave screening).
+   */
   values: Float32Array;
-  /** The same before background removal (for air-wave screening). */
-  valuesBeforeBackground: Float32Array;
   log: RecipeLogEntry[];
 }
 
@@ -84,12 +86,12 @@ export async function pass1(task: Pass1Task): Promise<Pass1Result> {
     metresPerUnit: s.crs.metresPerUnit,
     frequencyMHz: s.antenna.frequencyMHz,
   });
-  const radargram = await writeRadargram(task.stageDir, line, (x, y) => pointToWgs84(s.crs, x, y));
+  const radargramEntry = await writeRadargram(task.stageDir, line, (x, y) => pointToWgs84(s.crs, x, y));
   return {
     summary: summariseLine(line, src.relFile, s.crs.metresPerUnit),
     fits,
     log,
-    radargram,
+    radargramEntry,
     direction: lineDirection(line),
     timeZeroNs: line.timeZeroNs,
     nSamples: line.nSamples,
@@ -103,9 +105,15 @@ export async function pass2(task: Pass2Task): Promise<Pass2Result> {
   const raw = await readLine(s, src);
   const { line, before, log } = runRecipe(raw, task.recipe, context(s, task.velocityMPerNs), { keepBefore: 'backgroundRemoval' });
   const sep = s.antenna.separationM;
-  const values = sliceValues(line, task, sep);
-  const valuesBeforeBackground = before && before !== line ? sliceValues(before, task, sep) : values;
-  return { x: line.x, y: line.y, values, valuesBeforeBackground, log };
+  const after = sliceValues(line, task, sep);
+  const beforeBackground = before && before !== line ? sliceValues(before, task, sep) : after;
+  const nw = task.windows.length;
+  const values = new Float32Array(2 * after.length);
+  for (let t = 0; t < line.nTraces; t++) {
+    values.set(after.subarray(t * nw, (t + 1) * nw), 2 * t * nw);
+    values.set(beforeBackground.subarray(t * nw, (t + 1) * nw), (2 * t + 1) * nw);
+  }
+  return { x: line.x, y: line.y, values, log };
 }
 
 function sliceValues(line: RadarLine, task: Pass2Task, separationM: number): Float32Array {

@@ -5,7 +5,7 @@ import { pass1, pass2, type Pass1Task, type Pass2Task, type Pass1Result, type Pa
 await serveTasks<Pass1Task | Pass2Task, Pass1Result | Pass2Result>(async (task) => {
   if (task.kind === 'pass1') return { result: await pass1(task) };
   const r = await pass2(task);
-  const transfer = [r.values.buffer, r.valuesBeforeBackground.buffer, r.x.buffer, r.y.buffer].filter(
+  const transfer = [r.values.buffer, r.x.buffer, r.y.buffer].filter(
     (b, i, all): b is ArrayBuffer => b instanceof ArrayBuffer && all.indexOf(b) === i,
   );
   return { result: r, transfer };

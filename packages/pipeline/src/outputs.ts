@@ -1,4 +1,4 @@
-import { mkdir, writeFile } from 'node:fs/promises';
+import { mkdir, open, readFile, rm, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { RadarLine } from '@lamina/radar-data';
 import type { Geometry, PlanFeature, Site } from '@lamina/site';
@@ -89,8 +89,12 @@ export interface RadargramEntry {
   lat: number[];
 }
 
-/** Write a display radargram: little-endian Float32, trace-major, every `traceStep`-th trace. */
-export async function writeRadargram(dir: string, line: RadarLine, toWgs84: ToWgs84, maxTraces = 1500): Promise<RadargramEntry> {
+/**
+ * Write a display radargram: little-endian Float32, trace-major, every `traceStep`-th trace, and its
+ * index entry (positions of the kept traces) as JSON beside it; returns the entry's file, relative to
+ * `dir`, for `writeRadargramIndex`. Entries go to disk so that no per-trace data waits in memory.
+ */
+export async function writeRadargram(dir: string, line: RadarLine, toWgs84: ToWgs84, maxTraces = 1500): Promise<string> {
   await mkdir(join(dir, 'radargrams'), { recursive: true });
   const step = Math.max(1, Math.ceil(line.nTraces / maxTraces));
   const n = Math.ceil(line.nTraces / step);
@@ -109,7 +113,50 @@ export async function writeRadargram(dir: string, line: RadarLine, toWgs84: ToWg
   if (!littleEndianHost()) throw new Error('big-endian hosts are not supported for radargram output');
   const file = `radargrams/${safeName(line.id)}.f32`;
   await writeFile(join(dir, file), bytes);
-  return { id: line.id, file, nTraces: n, nSamples: line.nSamples, dtNs: line.dtNs, timeZeroNs: line.timeZeroNs, traceStep: step, x, y, lon, lat };
+  const entry: RadargramEntry = { id: line.id, file, nTraces: n, nSamples: line.nSamples, dtNs: line.dtNs, timeZeroNs: line.timeZeroNs, traceStep: step, x, y, lon, lat };
+  const entryFile = `radargrams/${safeName(line.id)}.entry.json`;
+  await writeFile(join(dir, entryFile), JSON.stringify(entry));
+  return entryFile;
+}
+
+/** `radargrams/index.json` (`{ lines: RadargramEntry[] }`) from the entry files, in order, streamed; the entry files are deleted. */
+export async function writeRadargramIndex(dir: string, entryFiles: string[]): Promise<void> {
+  await mkdir(join(dir, 'radargrams'), { recursive: true });
+  const out = await textFile(join(dir, 'radargrams', 'index.json'));
+  try {
+    await out.write('{"lines":[');
+    for (let i = 0; i < entryFiles.length; i++) await out.write((i > 0 ? ',\n' : '\n') + (await readFile(join(dir, entryFiles[i]!), 'utf8')));
+    await out.write('\n]}\n');
+  } finally {
+    await out.close();
+  }
+  await Promise.all(entryFiles.map((f) => rm(join(dir, f), { force: true })));
+}
+
+/** A text file written in pieces, buffered to about 1 MB per write. */
+async function textFile(path: string): Promise<{ write(text: string): Promise<void>; close(): Promise<void> }> {
+  const handle = await open(path, 'w');
+  let pending: string[] = [];
+  let size = 0;
+  const flush = async () => {
+    if (pending.length > 0) await handle.write(pending.join(''));
+    pending = [];
+    size = 0;
+  };
+  return {
+    write: async (text) => {
+      pending.push(text);
+      size += text.length;
+      if (size >= 1 << 20) await flush();
+    },
+    close: async () => {
+      try {
+        await flush();
+      } finally {
+        await handle.close();
+      }
+    },
+  };
 }
 
 export function safeName(id: string): string {
@@ -132,4 +179,21 @@ export function siteSummary(site: Site) {
     crs: { input: site.crs.input, ...(site.crs.code ? { code: site.crs.code } : {}), proj4: site.crs.proj4, units: site.crs.units, metresPerUnit: site.crs.metresPerUnit },
     antenna: site.antenna,
   };
+}
+
+/**
+ * A GeoJSON FeatureCollection written feature by feature (one per line), so that no string of the whole
+ * collection is ever built: its other members first, then `features`.
+ */
+export async function writeFeatureCollection(path: string, fc: { features: unknown[] } & Record<string, unknown>): Promise<void> {
+  const { features, ...rest } = fc;
+  const head = JSON.stringify(rest);
+  const out = await textFile(path);
+  try {
+    await out.write(`${head.slice(0, -1)}${head.length > 2 ? ',' : ''}"features":[`);
+    for (let i = 0; i < features.length; i++) await out.write((i > 0 ? ',\n' : '\n') + JSON.stringify(features[i]));
+    await out.write('\n]}\n');
+  } finally {
+    await out.close();
+  }
 }

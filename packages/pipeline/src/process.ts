@@ -4,13 +4,13 @@ import { InputError, isInputError } from '@lamina/errors';
 import { stageFolder } from '@lamina/atomic';
 import { checkPlanNearSurvey, loadSite, pointToWgs84, shownPath, type Site } from '@lamina/site';
 import { buildVelocityReport, velocityJson, type VelocityReport } from '@lamina/velocity';
-import { defaultWindows, gridPoints, writeSlices, type SliceWindow } from '@lamina/slices';
+import { defaultWindows, gridSpill, PointSpill, writeSlices, type SliceWindow } from '@lamina/slices';
 import type { Recipe } from '@lamina/processing';
-import { screenSite } from '@lamina/screening';
+import { lineSpacingOfM, screenSite, type Line } from '@lamina/screening';
 import { exportTargets, matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
 import { createPool, defaultThreads, type Pool, type SerialisedError } from './pool';
 import { pass1, pass2, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
-import { extents, linesGeoJson, planGeoJson, siteSummary } from './outputs';
+import { extents, linesGeoJson, planGeoJson, siteSummary, writeFeatureCollection, writeRadargramIndex } from './outputs';
 
 export interface ProcessOptions {
   /** Worker threads; 0 runs every line on the calling thread. @default LAMINA_THREADS or the core count */
@@ -118,50 +118,37 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
 
     const windows = sliceWindowsFor(site, p1, velocity, options);
     progress('depth slices', 0, n);
-    // Each line's per-trace slice values go straight into site-wide arrays, laid out by line order
-    // (so the result does not depend on which worker finished first), and the line is dropped.
-    const starts = new Int32Array(n + 1);
-    for (let i = 0; i < n; i++) starts[i + 1] = starts[i]! + summaries[i]!.traces;
-    const total = starts[n]!;
-    const nw = windows.length;
-    const coords = new Float64Array(2 * total);
-    const values = new Float32Array(total * nw);
-    const valuesBeforeBackground = new Float32Array(total * nw);
-    const linePositions: { id: string; x: Float64Array; y: Float64Array }[] = new Array(n);
+    // Each line's per-trace slice values (after and before background removal, side by side) go to a
+    // point spill on disk in line order (so the result does not depend on which worker finished first),
+    // and the line is dropped: memory does not grow with the number of lines.
+    const spill = new PointSpill(2 * windows.length, stage.path);
+    const waiting = new Map<number, Pass2Result>();
+    let next = 0;
     let log: Pass2Result['log'] = [];
-    await inOrder(
-      n,
-      (i) =>
-        exec.run({ kind: 'pass2', siteDir: site.dir, line: i, recipe, model: velocity.model, velocityMPerNs: velocity.site.velocityMPerNs, windows }).then((res) => {
-          const r = res as Pass2Result;
-          const k = starts[i]!;
-          for (let t = 0; t < r.x.length; t++) {
-            coords[2 * (k + t)] = r.x[t]!;
-            coords[2 * (k + t) + 1] = r.y[t]!;
-          }
-          values.set(r.values, k * nw);
-          valuesBeforeBackground.set(r.valuesBeforeBackground, k * nw);
-          linePositions[i] = { id: summaries[i]!.id, x: r.x, y: r.y };
-          if (i === 0) log = r.log;
-        }),
-      (d) => progress('depth slices', d, n),
-    );
-    await exec.close();
-
-    const gridOptions = {
-      crs: site.crs.code ?? site.crs.proj4,
-      metresPerUnit: site.crs.metresPerUnit,
-      isGeographic: site.crs.isGeographic,
-      level: options.level ?? false,
-      ...(options.cellSizeM !== undefined ? { cellSizeM: options.cellSizeM } : {}),
-    };
-    const stack = gridPoints(coords, values, starts, windows, gridOptions, 'mean-square');
-    const stackBeforeBackground = gridPoints(coords, valuesBeforeBackground, starts, windows, gridOptions, 'mean-square');
-    await writeSlices(stack, stage.path);
+    let screening: Screening;
+    try {
+      await inOrder(
+        n,
+        (i) =>
+          exec.run({ kind: 'pass2', siteDir: site.dir, line: i, recipe, model: velocity.model, velocityMPerNs: velocity.site.velocityMPerNs, windows }).then((res) => {
+            waiting.set(i, res as Pass2Result);
+            for (let r = waiting.get(next); r; r = waiting.get(next)) {
+              spill.addLine(r.x, r.y, r.values);
+              if (next === 0) log = r.log;
+              waiting.delete(next++);
+            }
+          }),
+        (d) => progress('depth slices', d, n),
+      );
+      await exec.close();
+      screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress }, Math.max(1, threads));
+    } finally {
+      spill.remove();
+    }
 
     await writeJson(stage.path, 'lines.geojson', linesGeoJson(summaries, toWgs84));
     await writeJson(stage.path, 'plan.geojson', planGeoJson(site.plan));
-    await writeJson(stage.path, 'radargrams/index.json', { lines: p1.map((r) => r.radargram) });
+    await writeRadargramIndex(stage.path, p1.map((r) => r.radargramEntry));
     const identity = { name: site.name, crs: site.crs.input, extent: ext.wgs84 };
     await writeJson(stage.path, 'run.json', {
       tool: { name: 'lamina', version: VERSION },
@@ -174,35 +161,15 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       lines: summaries.map((l) => ({ id: l.id, file: l.file, traces: l.traces, samples: l.samples, dtNs: l.dtNs, lengthM: l.lengthM })),
     });
 
-    progress('air-wave screening', 0, 1);
-    const mig = recipe.steps.find((st) => st.step === 'migration');
-    const migrationVelocity = mig && mig.step === 'migration' ? (mig.velocityMPerNs ?? velocity.site.velocityMPerNs) : undefined;
-    const screened = screenSite({
-      stack,
-      plan: site.plan,
-      velocity,
-      lines: linePositions,
-      metresPerUnit: site.crs.metresPerUnit,
-      toWgs84,
-      beforeBackgroundStack: stackBeforeBackground,
-    }, {
-      antennaFrequencyMHz: site.antenna.frequencyMHz,
-      antennaSeparationM: site.antenna.separationM,
-      // The slices are of migrated lines when the recipe migrates, which pulls a wall's air band towards it.
-      ...(migrationVelocity !== undefined ? { migrationVelocityMPerNs: migrationVelocity } : {}),
-    });
-    progress('air-wave screening', 1, 1);
-    await writeJson(stage.path, 'anomalies.geojson', screened.anomalies);
-    await writeJson(stage.path, 'forecast.geojson', screened.forecast);
     const reviewFile = join(outDir, 'review.json');
     const reviewRead = await readText(reviewFile);
-    await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screened.anomalies);
+    await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screening.anchored);
 
     progress('targets', 0, 1);
     let exported = await exportTargets(stage.path, { now });
     // The viewer may have saved decisions into the old folder while this run worked: take them along.
     if ((await readText(reviewFile)) !== reviewRead) {
-      await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screened.anomalies);
+      await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screening.anchored);
       exported = await exportTargets(stage.path, { now });
     }
     progress('targets', 1, 1);
@@ -215,9 +182,9 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       lines: n,
       traces: summaries.reduce((a, l) => a + l.traces, 0),
       velocity: velocity.site,
-      slices: stack.slices.length,
-      anomalies: screened.summary.anomalies,
-      aboveGround: screened.summary.aboveGround,
+      slices: windows.length,
+      anomalies: screening.anomalies,
+      aboveGround: screening.aboveGround,
       targets: exported.targets,
       files: ['run.json', 'lines.geojson', 'plan.geojson', 'velocity.json', 'slices.tif', 'slices.json', 'radargrams/index.json', 'anomalies.geojson', 'forecast.geojson', 'review.json', ...exported.files.filter((f) => !f.includes('review'))],
     };
@@ -239,16 +206,22 @@ async function carryReview(
   from: string,
   to: string,
   identity: Review['site'],
-  anomalies: { features: { properties?: Record<string, unknown> | null; geometry?: unknown }[] },
+  anchored: Anchored[],
 ): Promise<void> {
   const review = await readReview(shownPath(from), identity);
-  const anchored = anomalies.features.flatMap((f) => {
+  const { matched, unmatched } = matchDecisions(review.decisions, anchored);
+  await writeReview(to, { ...review, site: identity, decisions: [...matched, ...unmatched] });
+}
+
+type Anchored = { id: string; lon: number; lat: number; depthTopM: number; depthBottomM: number };
+
+/** The anomalies' ids, plan points and depth ranges, for re-matching review decisions. */
+function anchorsOf(anomalies: { features: { properties?: Record<string, unknown> | null; geometry?: unknown }[] }): Anchored[] {
+  return anomalies.features.flatMap((f) => {
     const p = f.properties ?? {};
     const c = anchorOf(p, f.geometry);
     return typeof p.id === 'string' && c ? [{ id: p.id, lon: c[0], lat: c[1], depthTopM: Number(p.depthTopM), depthBottomM: Number(p.depthBottomM) }] : [];
   });
-  const { matched, unmatched } = matchDecisions(review.decisions, anchored);
-  await writeReview(to, { ...review, site: identity, decisions: [...matched, ...unmatched] });
 }
 
 /** A plan point for an anomaly: its `anchor` property if screening gave one, else the mean of its outline vertices. */
@@ -263,6 +236,86 @@ export function anchorOf(p: Record<string, unknown>, geometry: unknown): [number
   walk((geometry as { coordinates?: unknown } | undefined)?.coordinates);
   if (pts.length === 0) return undefined;
   return [pts.reduce((s, q) => s + q[0]!, 0) / pts.length, pts.reduce((s, q) => s + q[1]!, 0) / pts.length];
+}
+
+interface Screening {
+  anchored: Anchored[];
+  anomalies: number;
+  aboveGround: number;
+}
+
+/**
+ * Grids the spilled points into the final stack and the stack before background removal, writes
+ * slices.tif, screens the stacks and writes anomalies.geojson and forecast.geojson. The stacks and
+ * the screened anomalies live only in here, so they are gone before the targets are exported.
+ */
+async function sliceAndScreen(
+  site: Site,
+  stageDir: string,
+  spill: PointSpill,
+  ids: string[],
+  windows: SliceWindow[],
+  velocity: VelocityReport,
+  recipe: Recipe,
+  options: ProcessOptions & { onProgress: NonNullable<ProcessOptions['onProgress']> },
+  threads: number,
+): Promise<Screening> {
+  const [stack, stackBeforeBackground] = await gridSpill(spill, windows, {
+    crs: site.crs.code ?? site.crs.proj4,
+    metresPerUnit: site.crs.metresPerUnit,
+    isGeographic: site.crs.isGeographic,
+    level: options.level ?? false,
+    threads,
+    ...(options.cellSizeM !== undefined ? { cellSizeM: options.cellSizeM } : {}),
+  });
+  await writeSlices(stack!, stageDir);
+  // Screening's view of the lines: positions thinned to one trace per grid cell (first and last kept),
+  // and the line spacing from every trace, read back from the spill one line at a time.
+  const starts = spill.lineStarts();
+  const positions = { lineStarts: starts, line: (l: number) => spill.readCoords(starts[l]!, starts[l + 1]!) };
+  const { originX, originY, cellSize } = stack!.grid;
+  const lines: Line[] = ids.map((id, l) => {
+    const c = positions.line(l);
+    const m = c.length / 2;
+    const x: number[] = [];
+    const y: number[] = [];
+    let last = NaN;
+    for (let t = 0; t < m; t++) {
+      const cell = Math.floor((c[2 * t]! - originX) / cellSize) * 1e9 + Math.floor((originY - c[2 * t + 1]!) / cellSize);
+      if (cell !== last || t === m - 1) {
+        x.push(c[2 * t]!);
+        y.push(c[2 * t + 1]!);
+      }
+      last = cell;
+    }
+    return { id, x: Float64Array.from(x), y: Float64Array.from(y) };
+  });
+
+  options.onProgress('air-wave screening', 0, 1);
+  const mig = recipe.steps.find((st) => st.step === 'migration');
+  const migrationVelocity = mig && mig.step === 'migration' ? (mig.velocityMPerNs ?? velocity.site.velocityMPerNs) : undefined;
+  const screened = screenSite(
+    {
+      stack: stack!,
+      plan: site.plan,
+      velocity,
+      lines,
+      lineSpacingM: lineSpacingOfM(positions, site.crs.metresPerUnit),
+      metresPerUnit: site.crs.metresPerUnit,
+      toWgs84: (x, y) => pointToWgs84(site.crs, x, y),
+      beforeBackgroundStack: stackBeforeBackground!,
+    },
+    {
+      antennaFrequencyMHz: site.antenna.frequencyMHz,
+      antennaSeparationM: site.antenna.separationM,
+      // The slices are of migrated lines when the recipe migrates, which pulls a wall's air band towards it.
+      ...(migrationVelocity !== undefined ? { migrationVelocityMPerNs: migrationVelocity } : {}),
+    },
+  );
+  options.onProgress('air-wave screening', 1, 1);
+  await writeFeatureCollection(join(stageDir, 'anomalies.geojson'), screened.anomalies);
+  await writeFeatureCollection(join(stageDir, 'forecast.geojson'), screened.forecast);
+  return { anchored: anchorsOf(screened.anomalies), anomalies: screened.summary.anomalies, aboveGround: screened.summary.aboveGround };
 }
 
 function sliceWindowsFor(site: Site, p1: Pass1Result[], velocity: VelocityReport, options: ProcessOptions): SliceWindow[] {

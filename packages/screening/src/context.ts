@@ -1,5 +1,5 @@
 import { C_M_PER_NS, type VelocityReport } from '@lamina/velocity';
-import type { SliceStack } from '@lamina/slices';
+import { nearestOtherLine, type LinePositions, type LineQueries, type SliceStack } from '@lamina/slices';
 import { airRadiusM, airRate } from './physics';
 
 export interface Line {
@@ -35,21 +35,57 @@ export interface SliceLocus {
 
 /** Median spacing between neighbouring survey lines, metres (distance from each line's middle trace to the nearest other line). */
 export function lineSpacingM(lines: Line[], metresPerUnit: number): number {
-  const d: number[] = [];
-  for (let i = 0; i < lines.length; i++) {
-    const a = lines[i]!;
-    const n = a.x.length;
+  const lineStarts = new Int32Array(lines.length + 1);
+  lines.forEach((l, i) => (lineStarts[i + 1] = lineStarts[i]! + l.x.length));
+  return lineSpacingOfM(
+    {
+      lineStarts,
+      line: (i) => {
+        const l = lines[i]!;
+        const c = new Float64Array(2 * l.x.length);
+        for (let t = 0; t < l.x.length; t++) {
+          c[2 * t] = l.x[t]!;
+          c[2 * t + 1] = l.y[t]!;
+        }
+        return c;
+      },
+    },
+    metresPerUnit,
+  );
+}
+
+/**
+ * `lineSpacingM` over positions read one line at a time (so a caller can stream them from disk): the
+ * exact distance from each line's middle trace to the nearest trace of another line, every
+ * max(1, n / 2000)-th trace of a line of n traces taken.
+ */
+export function lineSpacingOfM(source: LinePositions, metresPerUnit: number): number {
+  const { lineStarts } = source;
+  const nLines = lineStarts.length - 1;
+  const queries: LineQueries = { x: [], y: [], line: [] };
+  let minX = Infinity, minY = Infinity, maxX = -Infinity, maxY = -Infinity;
+  for (let l = 0; l < nLines; l++) {
+    const c = source.line(l);
+    const n = c.length / 2;
     if (n === 0) continue;
-    const mx = a.x[n >> 1]!, my = a.y[n >> 1]!;
-    let best = Infinity;
-    for (let j = 0; j < lines.length; j++) {
-      if (j === i) continue;
-      const b = lines[j]!;
-      const step = Math.max(1, Math.floor(b.x.length / 2000));
-      for (let k = 0; k < b.x.length; k += step) best = Math.min(best, Math.hypot(b.x[k]! - mx, b.y[k]! - my));
+    for (let i = 0; i < c.length; i += 2) {
+      minX = Math.min(minX, c[i]!);
+      maxX = Math.max(maxX, c[i]!);
+      minY = Math.min(minY, c[i + 1]!);
+      maxY = Math.max(maxY, c[i + 1]!);
     }
-    if (Number.isFinite(best)) d.push(best * metresPerUnit);
+    queries.x.push(c[2 * (n >> 1)]!);
+    queries.y.push(c[2 * (n >> 1) + 1]!);
+    queries.line.push(l);
   }
+  if (queries.x.length === 0) return NaN;
+  const extent = Math.max(maxX - minX, maxY - minY);
+  const best = nearestOtherLine(source, queries, {
+    startRadius: Math.max(extent / 256, 1e-9),
+    bounds: [minX, minY, maxX, maxY],
+    stride: (l) => Math.max(1, Math.floor((lineStarts[l + 1]! - lineStarts[l]!) / 2000)),
+  });
+  const d = Array.from(best).filter((v) => v < Infinity).map((v) => v * metresPerUnit);
   if (d.length === 0) return NaN;
   d.sort((p, q) => p - q);
   return d[d.length >> 1]!;

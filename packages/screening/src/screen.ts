@@ -30,6 +30,8 @@ export interface ScreenInput {
   plan: PlanFeature[];
   velocity: VelocityReport;
   lines: Line[];
+  /** Median line spacing, m, as `lineSpacingM` gives it (for callers holding the lines thinned). @default lineSpacingM(lines) */
+  lineSpacingM?: number;
   metresPerUnit: number;
   toWgs84: ToWgs84;
   /** Same grid, made before background removal: optional evidence for flat air events. */
@@ -93,7 +95,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   const { stack, plan, velocity, lines, metresPerUnit: mpu, toWgs84 } = input;
   const grid = stack.grid;
   const cellM = grid.cellSize * mpu;
-  const spacing = lineSpacingM(lines, mpu);
+  const spacing = input.lineSpacingM ?? lineSpacingM(lines, mpu);
   const positionM = options.positionToleranceM ?? Math.max(cellM, Number.isFinite(spacing) ? 0.5 * spacing : 0);
   const loci = sliceLoci(stack, velocity, positionM, options);
   const reflectors = reflectorsOf(plan, mpu);

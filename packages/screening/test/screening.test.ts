@@ -198,3 +198,34 @@ describe('forecast from lines only', () => {
     }
   });
 });
+
+describe('line spacing', () => {
+  it('lineSpacingM is the upper median over lines of the distance from the middle trace to the nearest other line (brute force)', async () => {
+    const { lineSpacingM, lineSpacingOfM } = await import('../src');
+    const { mulberry32 } = await import('@lamina/random');
+    const r = mulberry32(9);
+    // 7 wandering lines of our own, one longer than 2000 traces (every 2nd trace taken from it)
+    const lines = Array.from({ length: 7 }, (_, j) => {
+      const n = j === 3 ? 4500 : 300 + 40 * j;
+      const x = Float64Array.from({ length: n }, (_, t) => t * 0.02 + 0.01 * r());
+      const y = Float64Array.from({ length: n }, (_, t) => j * 0.55 + 0.15 * Math.sin(t / 50 + j) + 0.01 * r());
+      return { id: `L${j}`, x, y };
+    });
+    const d: number[] = [];
+    lines.forEach((a, i) => {
+      const m = a.x.length >> 1;
+      let best = Infinity;
+      lines.forEach((b, j) => {
+        if (j === i) return;
+        const step = Math.max(1, Math.floor(b.x.length / 2000));
+        for (let k = 0; k < b.x.length; k += step) best = Math.min(best, Math.hypot(b.x[k]! - a.x[m]!, b.y[k]! - a.y[m]!));
+      });
+      d.push(best * 0.3048);
+    });
+    d.sort((p, q) => p - q);
+    expect(lineSpacingM(lines, 0.3048)).toBe(d[d.length >> 1]);
+    const starts = Int32Array.from([0, ...lines.map((l) => l.x.length)].map((_, i, a) => a.slice(0, i + 1).reduce((s, v) => s + v, 0)));
+    const coords = (l: number) => Float64Array.from({ length: 2 * lines[l]!.x.length }, (_, k) => (k % 2 ? lines[l]!.y[k >> 1]! : lines[l]!.x[k >> 1]!));
+    expect(lineSpacingOfM({ lineStarts: starts, line: coords }, 0.3048)).toBe(d[d.length >> 1]);
+  });
+});

@@ -80,33 +80,55 @@ export function surveyGeometryOf(source: LinePositions): SurveyGeometry {
 
 /**
  * Median over the points a quarter, half and three quarters along each line of the distance to the
- * nearest trace of another line. Exact nearest distances, found by streaming every line past a hash of
- * the query points: a search radius starting at four trace spacings, doubled for the queries that found
- * nothing within it, so memory holds the queries and one line, never all positions.
+ * nearest trace of another line (`nearestOtherLine`).
  */
 function estimateLineSpacing(source: LinePositions, traceSpacing: number, bounds: [number, number, number, number]): number {
   const { lineStarts } = source;
   const nLines = lineStarts.length - 1;
-  const qx: number[] = [];
-  const qy: number[] = [];
-  const qLine: number[] = [];
+  const queries: LineQueries = { x: [], y: [], line: [] };
   for (let l = 0; l < nLines; l++) {
     const m = lineStarts[l + 1]! - lineStarts[l]!;
     if (m <= 0) continue;
     const c = source.line(l);
     for (const f of [0.25, 0.5, 0.75]) {
       const i = Math.floor((m - 1) * f);
-      qx.push(c[2 * i]!);
-      qy.push(c[2 * i + 1]!);
-      qLine.push(l);
+      queries.x.push(c[2 * i]!);
+      queries.y.push(c[2 * i + 1]!);
+      queries.line.push(l);
     }
   }
-  const [minX, minY, maxX, maxY] = bounds;
+  const best = nearestOtherLine(source, queries, { startRadius: Math.max(traceSpacing, 1e-9) * 4, bounds });
+  return median(Array.from(best).filter((d) => d < Infinity));
+}
+
+/** Query points, each on a line (its index). */
+export interface LineQueries {
+  x: number[];
+  y: number[];
+  line: number[];
+}
+
+/**
+ * For each query, the exact distance to the nearest trace of another line (Infinity when there is
+ * none), found by streaming every line past a hash of the query points: a search radius starting at
+ * `startRadius`, doubled for the queries that found nothing within it, up to the extent of `bounds`.
+ * Memory holds the queries and one line, never all positions. `stride(l)` takes every stride-th trace
+ * of line l only (from its first). @default stride 1
+ */
+export function nearestOtherLine(
+  source: LinePositions,
+  queries: LineQueries,
+  options: { startRadius: number; bounds: [number, number, number, number]; stride?: (line: number) => number },
+): Float64Array {
+  const { lineStarts } = source;
+  const nLines = lineStarts.length - 1;
+  const { x: qx, y: qy, line: qLine } = queries;
+  const [minX, minY, maxX, maxY] = options.bounds;
   const maxR = Math.hypot(maxX - minX, maxY - minY) + 1;
   const best = new Float64Array(qx.length).fill(Infinity);
-  const found: number[] = [];
+  const resolved = new Float64Array(qx.length).fill(Infinity);
   let pending = qx.map((_, q) => q);
-  let r = Math.max(traceSpacing, 1e-9) * 4;
+  let r = options.startRadius;
   while (pending.length > 0) {
     const rows = Math.floor((maxY - minY) / r) + 3;
     const key = (cx: number, cy: number) => cx * rows + cy;
@@ -119,7 +141,8 @@ function estimateLineSpacing(source: LinePositions, traceSpacing: number, bounds
     }
     for (let l = 0; l < nLines; l++) {
       const c = source.line(l);
-      for (let i = 0; i < c.length; i += 2) {
+      const step = 2 * Math.max(1, options.stride?.(l) ?? 1);
+      for (let i = 0; i < c.length; i += step) {
         const x = c[i]!;
         const y = c[i + 1]!;
         const cx = Math.floor((x - minX) / r);
@@ -139,13 +162,13 @@ function estimateLineSpacing(source: LinePositions, traceSpacing: number, bounds
     }
     const next: number[] = [];
     for (const q of pending) {
-      if (best[q]! <= r) found.push(best[q]!);
+      if (best[q]! <= r) resolved[q] = best[q]!;
       else if (r <= maxR) next.push(q);
     }
     pending = next;
     r *= 2;
   }
-  return found.length > 0 ? median(found) : Number.NaN;
+  return resolved;
 }
 
 export function median(values: ArrayLike<number>): number {
