@@ -1,6 +1,6 @@
-import { readFile } from 'node:fs/promises';
+import { access } from 'node:fs/promises';
 import { join } from 'node:path';
-import { fromArrayBuffer } from 'geotiff';
+import { fromFile } from 'geotiff';
 import { InputError } from '@lamina/errors';
 import type { SlicesInfo } from './folder';
 import { encodePng, pngDataUri } from './png';
@@ -22,27 +22,33 @@ export interface Thumbnail {
 export async function sliceThumbnails(outDir: string, info: SlicesInfo, options: { maxSize?: number } = {}): Promise<Thumbnail[]> {
   const maxSize = options.maxSize ?? 240;
   const file = join(outDir, info.file);
-  let buf: Buffer;
   try {
-    buf = await readFile(file);
+    await access(file);
   } catch (e) {
     if ((e as NodeJS.ErrnoException).code === 'ENOENT') return [];
     throw e;
   }
-  const tiff = await fromArrayBuffer(buf.buffer.slice(buf.byteOffset, buf.byteOffset + buf.byteLength) as ArrayBuffer);
-  const full = await tiff.getImage(0);
-  if (full.getWidth() !== info.width || full.getHeight() !== info.height) {
-    throw new InputError(file, `expected ${info.width} x ${info.height} cells (slices.json), found ${full.getWidth()} x ${full.getHeight()}`);
-  }
-  // The smallest overview (a COG carries them) still at least maxSize on its long side: far less to decode.
-  let image = full;
-  for (let i = 1, n = await tiff.getImageCount(); i < n; i++) {
-    const o = await tiff.getImage(i);
-    if (Math.max(o.getWidth(), o.getHeight()) >= Math.min(maxSize, Math.max(info.width, info.height))) image = o;
+  // Read from the file as needed (headers and the overview's tiles), not the whole stack into memory.
+  const tiff = await fromFile(file);
+  let image: Awaited<ReturnType<typeof tiff.getImage>>;
+  let bands: ArrayLike<number>[];
+  try {
+    const full = await tiff.getImage(0);
+    if (full.getWidth() !== info.width || full.getHeight() !== info.height) {
+      throw new InputError(file, `expected ${info.width} x ${info.height} cells (slices.json), found ${full.getWidth()} x ${full.getHeight()}`);
+    }
+    // The smallest overview (a COG carries them) still at least maxSize on its long side: far less to decode.
+    image = full;
+    for (let i = 1, n = await tiff.getImageCount(); i < n; i++) {
+      const o = await tiff.getImage(i);
+      if (Math.max(o.getWidth(), o.getHeight()) >= Math.min(maxSize, Math.max(info.width, info.height))) image = o;
+    }
+    bands = (await image.readRasters({ interleave: false })) as unknown as ArrayLike<number>[];
+  } finally {
+    await tiff.close();
   }
   const w = image.getWidth();
   const h = image.getHeight();
-  const bands = (await image.readRasters({ interleave: false })) as unknown as ArrayLike<number>[];
   const step = Math.max(1, Math.ceil(Math.max(w, h) / maxSize));
   const tw = Math.ceil(w / step);
   const th = Math.ceil(h / step);
