@@ -1,5 +1,6 @@
 // Depth-slice gridding: our kNN IDW (one neighbour search per cell, weights reused for every slice)
 // side by side with GDAL's `gdal_grid -a invdistnn` (Debian gdal-bin) on the same points and parameters.
+// Last, peak memory against the number of lines on one grid (bench/slices-memory.ts, child processes).
 // A synthetic site of our own: 250 parallel lines 0.5 m apart, 4000 traces each 1/32 m apart (1 million
 // positions), 40 slices, a 1000 x 1000 grid of 0.125 m cells. Seeded; prints figures, asserts nothing.
 //   pnpm bench slices            (SLICES_BENCH_SMALL=1 for a 10x smaller quick run)
@@ -160,6 +161,17 @@ console.log(`writeSlices (${json.slices.length} bands, COG + stats): ${fmt((perf
   const a = performance.now();
   const st = b.grid({ crs: 'EPSG:32617' });
   console.log(`sample-site scale (grid(), 1 thread, incl. survey geometry): ${b.traceCount} traces, ${st.slices.length} slices, ${st.grid.width} x ${st.grid.height} cells: ${fmt((performance.now() - a) / 1000)} s`);
+}
+
+// 6. Memory against the number of lines, same grid: each size in its own process (peak RSS by getrusage).
+if (!small) {
+  console.log('memory against the number of lines (same 1000 x 1000 x 40 grid over 125 m x 125 m; a child process each):');
+  console.log('  lines  positions  row bands  stream s  grid s  peak RSS MiB  (output grid MiB)');
+  for (const nl of [125, 250, 500]) {
+    const out = execFileSync(process.execPath, ['--import', 'tsx', join(import.meta.dirname, 'slices-memory.ts'), String(nl)], { encoding: 'utf8', cwd: join(import.meta.dirname, '..') });
+    const m = JSON.parse(out.trim().split('\n').pop()!) as { lines: number; positions: number; rowBands: number; streamS: number; gridS: number; peakRssMiB: number; gridMiB: number };
+    console.log(`  ${String(m.lines).padStart(5)} ${String(m.positions).padStart(10)} ${String(m.rowBands).padStart(10)} ${m.streamS.toFixed(1).padStart(9)} ${m.gridS.toFixed(1).padStart(7)} ${m.peakRssMiB.toFixed(0).padStart(13)}  (${m.gridMiB.toFixed(0)})`);
+  }
 }
 
 clearInterval(sampler);

@@ -183,15 +183,24 @@ export function siteSummary(site: Site) {
 
 /**
  * A GeoJSON FeatureCollection written feature by feature (one per line), so that no string of the whole
- * collection is ever built: its other members first, then `features`.
+ * collection is ever built: its other members first, then `features` (any iterable: a generator keeps
+ * only one feature in memory). `onFeature` sees each feature as it is written.
  */
-export async function writeFeatureCollection(path: string, fc: { features: unknown[] } & Record<string, unknown>): Promise<void> {
+export async function writeFeatureCollection<F>(
+  path: string,
+  fc: { features: Iterable<F> } & Record<string, unknown>,
+  onFeature: (f: F) => void = () => {},
+): Promise<void> {
   const { features, ...rest } = fc;
   const head = JSON.stringify(rest);
   const out = await textFile(path);
   try {
     await out.write(`${head.slice(0, -1)}${head.length > 2 ? ',' : ''}"features":[`);
-    for (let i = 0; i < features.length; i++) await out.write((i > 0 ? ',\n' : '\n') + JSON.stringify(features[i]));
+    let i = 0;
+    for (const f of features) {
+      await out.write((i++ > 0 ? ',\n' : '\n') + JSON.stringify(f));
+      onFeature(f);
+    }
     await out.write('\n]}\n');
   } finally {
     await out.close();

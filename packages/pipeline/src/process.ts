@@ -6,7 +6,7 @@ import { checkPlanNearSurvey, loadSite, pointToWgs84, shownPath, type Site } fro
 import { buildVelocityReport, velocityJson, type VelocityReport } from '@lamina/velocity';
 import { defaultWindows, gridSpill, PointSpill, writeSlices, type SliceWindow } from '@lamina/slices';
 import type { Recipe } from '@lamina/processing';
-import { lineSpacingOfM, screenSite, type Line } from '@lamina/screening';
+import { CAUTION, lineSpacingOfM, screenSite, type Line } from '@lamina/screening';
 import { exportTargets, matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
 import { createPool, defaultThreads, type Pool, type SerialisedError } from './pool';
 import { pass1, pass2, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
@@ -215,13 +215,11 @@ async function carryReview(
 
 type Anchored = { id: string; lon: number; lat: number; depthTopM: number; depthBottomM: number };
 
-/** The anomalies' ids, plan points and depth ranges, for re-matching review decisions. */
-function anchorsOf(anomalies: { features: { properties?: Record<string, unknown> | null; geometry?: unknown }[] }): Anchored[] {
-  return anomalies.features.flatMap((f) => {
-    const p = f.properties ?? {};
-    const c = anchorOf(p, f.geometry);
-    return typeof p.id === 'string' && c ? [{ id: p.id, lon: c[0], lat: c[1], depthTopM: Number(p.depthTopM), depthBottomM: Number(p.depthBottomM) }] : [];
-  });
+/** An anomaly's id, plan point and depth range, for re-matching review decisions. */
+function anchoredOf(f: { properties?: Record<string, unknown> | null; geometry?: unknown }): Anchored | undefined {
+  const p = f.properties ?? {};
+  const c = anchorOf(p, f.geometry);
+  return typeof p.id === 'string' && c ? { id: p.id, lon: c[0], lat: c[1], depthTopM: Number(p.depthTopM), depthBottomM: Number(p.depthBottomM) } : undefined;
 }
 
 /** A plan point for an anomaly: its `anchor` property if screening gave one, else the mean of its outline vertices. */
@@ -313,9 +311,13 @@ async function sliceAndScreen(
     },
   );
   options.onProgress('air-wave screening', 1, 1);
-  await writeFeatureCollection(join(stageDir, 'anomalies.geojson'), screened.anomalies);
+  const anchored: Anchored[] = [];
+  await writeFeatureCollection(join(stageDir, 'anomalies.geojson'), { type: 'FeatureCollection', features: screened.anomalyFeatures(), caution: CAUTION }, (f) => {
+    const a = anchoredOf(f);
+    if (a) anchored.push(a);
+  });
   await writeFeatureCollection(join(stageDir, 'forecast.geojson'), screened.forecast);
-  return { anchored: anchorsOf(screened.anomalies), anomalies: screened.summary.anomalies, aboveGround: screened.summary.aboveGround };
+  return { anchored, anomalies: screened.summary.anomalies, aboveGround: screened.summary.aboveGround };
 }
 
 function sliceWindowsFor(site: Site, p1: Pass1Result[], velocity: VelocityReport, options: ProcessOptions): SliceWindow[] {

@@ -79,7 +79,13 @@ export interface ScreenSummary {
 }
 
 export interface ScreenResult {
-  anomalies: FeatureCollection;
+  /** anomalies.geojson (WGS84), built on first use. */
+  readonly anomalies: FeatureCollection;
+  /**
+   * The same features one at a time, built as they are taken, in the same order: for writing a large
+   * collection to disk without holding it (its `caution` member is `CAUTION`).
+   */
+  anomalyFeatures(): Generator<GeoJsonFeature>;
   forecast: FeatureCollection;
   summary: ScreenSummary;
   /** The screened anomalies in the site CRS (for the targets package and tests). */
@@ -223,11 +229,13 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   screened.sort((p, q) => p.anomaly.depthTopM - q.anomaly.depthTopM || p.anomaly.members[0]!.x - q.anomaly.members[0]!.x);
   screened.forEach((s, i) => (s.anomaly.id = `A${String(i + 1).padStart(4, '0')}`));
 
-  const features = screened.map((s) => {
-    const f = anomalyFeature(s, grid, toWgs84, mpu);
-    f.properties.source = fromBefore.has(s.anomaly) ? 'before-background' : 'slices';
-    return f;
-  });
+  function* features(): Generator<GeoJsonFeature> {
+    for (const sa of screened) {
+      const f = anomalyFeature(sa, grid, toWgs84, mpu);
+      f.properties.source = fromBefore.has(sa.anomaly) ? 'before-background' : 'slices';
+      yield f;
+    }
+  }
   const forecast = forecastLoci(plan, velocity, lines, mpu, toWgs84, {
     grid,
     surveyed: mask,
@@ -250,8 +258,13 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     crossingsCut: sep.cut,
     elapsedMs: performance.now() - t0,
   };
+  let collection: FeatureCollection | undefined;
   return {
-    anomalies: { type: 'FeatureCollection', features, caution: CAUTION },
+    get anomalies(): FeatureCollection {
+      collection ??= { type: 'FeatureCollection', features: [...features()], caution: CAUTION };
+      return collection;
+    },
+    anomalyFeatures: features,
     forecast,
     summary,
     screened,

@@ -10,7 +10,7 @@ import { resolveGrid, type GridOptions } from './grid-options';
 export interface SpillGridOptions extends GridOptions {
   /**
    * Bytes of points (positions, values and kd-tree) held at once; the grid is cut into row bands to keep
-   * under it. @default 128 MiB
+   * under it. @default 64 MiB
    */
   bandBytes?: number;
 }
@@ -21,6 +21,8 @@ interface BandPlan {
   idw: Required<IdwOptions>;
   geometry: SurveyGeometry;
   bands: [number, number][];
+  /** Points the largest band holds (from the row histogram: an estimate). */
+  largestBand: number;
   /** Rows of margin around a band: every point within the search radius of its cell centres. */
   marginRows: number;
   factors: Float64Array | undefined;
@@ -48,11 +50,13 @@ export async function gridSpill(spill: PointSpill, windows: SliceWindow[], optio
   let workers: IdwWorkers | undefined;
   try {
     if (parallel) workers = idwWorkers(threads);
+    const buf = new BandBuffers(nValues, parallel);
+    buf.reserve(plan.largestBand);
     for (const [r0, r1] of plan.bands) {
-      const band = loadBand(spill, plan, r0, r1, parallel);
-      const tree = buildIndex(band.coords, searchFrame(plan.idw), parallel);
-      if (workers) await workers.rows(tree, band.n, band.values.buffer as SharedArrayBuffer, nValues, plan.grid, plan.idw, r0, r1, buffer as SharedArrayBuffer, spill.hasNaN);
-      else idwRows(tree, band.n, band.values, nValues, plan.grid, plan.idw, r0, r1, out, spill.hasNaN);
+      const n = loadBand(spill, plan, r0, r1, buf);
+      const tree = buildIndex(buf.coords.subarray(0, 2 * n), searchFrame(plan.idw), parallel);
+      if (workers) await workers.rows(tree, n, buf.values.buffer as unknown as SharedArrayBuffer, nValues, plan.grid, plan.idw, r0, r1, buffer as SharedArrayBuffer, spill.hasNaN);
+      else idwRows(tree, n, buf.values, nValues, plan.grid, plan.idw, r0, r1, out, spill.hasNaN);
     }
   } finally {
     await workers?.close();
@@ -65,9 +69,11 @@ export function gridSpillSync(spill: PointSpill, windows: SliceWindow[], options
   const plan = planBands(spill, windows, options);
   const cells = plan.grid.width * plan.grid.height;
   const out = bandsOf(new ArrayBuffer(cells * spill.nValues * 4), spill.nValues, cells);
+  const buf = new BandBuffers(spill.nValues, false);
+  buf.reserve(plan.largestBand);
   for (const [r0, r1] of plan.bands) {
-    const band = loadBand(spill, plan, r0, r1, false);
-    idwRows(buildIndex(band.coords, searchFrame(plan.idw)), band.n, band.values, spill.nValues, plan.grid, plan.idw, r0, r1, out, spill.hasNaN);
+    const n = loadBand(spill, plan, r0, r1, buf);
+    idwRows(buildIndex(buf.coords.subarray(0, 2 * n), searchFrame(plan.idw)), n, buf.values, spill.nValues, plan.grid, plan.idw, r0, r1, out, spill.hasNaN);
   }
   return stacksOf(out, plan, windows, options, mode, spill);
 }
@@ -100,7 +106,7 @@ function planBands(spill: PointSpill, windows: SliceWindow[], options: SpillGrid
   for (let r = 0; r < height; r++) prefix[r + 1] = prefix[r]! + perRow[r]!;
   const held = (r0: number, r1: number) => prefix[Math.min(height, r1 + marginRows)]! - prefix[Math.max(0, r0 - marginRows)]!;
   // per point: 16 B position, 4 B per value, the kd-tree's 16 B position and 4 B id
-  const budget = Math.max(1, Math.floor((options.bandBytes ?? 128 * 2 ** 20) / (36 + 4 * spill.nValues)));
+  const budget = Math.max(1, Math.floor((options.bandBytes ?? 64 * 2 ** 20) / (36 + 4 * spill.nValues)));
   const bands: [number, number][] = [];
   for (let r0 = 0; r0 < height; ) {
     let r1 = r0 + 1;
@@ -108,21 +114,36 @@ function planBands(spill: PointSpill, windows: SliceWindow[], options: SpillGrid
     bands.push([r0, r1]);
     r0 = r1;
   }
-  return { grid, idw, geometry, bands, marginRows, factors, lineStarts };
+  const largestBand = Math.max(0, ...bands.map(([r0, r1]) => held(r0, r1)));
+  return { grid, idw, geometry, bands, largestBand, marginRows, factors, lineStarts };
 }
 
-/** The points of rows [r0, r1) plus the margin, in spill order, levelled if asked. */
-function loadBand(spill: PointSpill, plan: BandPlan, r0: number, r1: number, sharedMemory: boolean): { n: number; coords: Float64Array; values: Float32Array } {
+/** Buffers for one band of points, reused from band to band (grown when a band holds more). */
+class BandBuffers {
+  coords = new Float64Array(0);
+  values: Float32Array<ArrayBufferLike> = new Float32Array(0);
+  constructor(
+    readonly nValues: number,
+    readonly sharedMemory: boolean,
+  ) {}
+  reserve(n: number): void {
+    if (n <= this.coords.length / 2) return;
+    const cap = Math.ceil(n * 1.1) + 1024;
+    const old = { coords: this.coords, values: this.values };
+    this.coords = new Float64Array(2 * cap);
+    const bytes = 4 * cap * this.nValues;
+    this.values = new Float32Array(this.sharedMemory ? new SharedArrayBuffer(bytes) : new ArrayBuffer(bytes));
+    this.coords.set(old.coords);
+    this.values.set(old.values);
+  }
+}
+
+/** The points of rows [r0, r1) plus the margin, in spill order, levelled if asked, into `buf` (n of them). */
+function loadBand(spill: PointSpill, plan: BandPlan, r0: number, r1: number, buf: BandBuffers): number {
   const { grid, marginRows, factors, lineStarts } = plan;
   const nv = spill.nValues;
   const yTop = grid.originY - (r0 - marginRows) * grid.cellSize;
   const yBottom = grid.originY - (r1 + marginRows) * grid.cellSize;
-  let n = 0;
-  spill.forEachChunk((_, c) => {
-    for (let i = 1; i < c.length; i += 2) if (c[i]! <= yTop && c[i]! >= yBottom) n++;
-  });
-  const coords = new Float64Array(2 * n);
-  const values = new Float32Array(sharedMemory ? new SharedArrayBuffer(Math.max(4, 4 * n * nv)) : new ArrayBuffer(Math.max(4, 4 * n * nv)), 0, n * nv);
   let k = 0;
   let line = 0;
   spill.forEachChunk(
@@ -131,6 +152,8 @@ function loadBand(spill: PointSpill, plan: BandPlan, r0: number, r1: number, sha
       for (let t = 0; t < m; t++) {
         const y = c[2 * t + 1]!;
         if (!(y <= yTop && y >= yBottom)) continue;
+        buf.reserve(k + 1);
+        const { coords, values } = buf;
         coords[2 * k] = c[2 * t]!;
         coords[2 * k + 1] = y;
         values.set(v!.subarray(t * nv, (t + 1) * nv), k * nv);
@@ -143,7 +166,7 @@ function loadBand(spill: PointSpill, plan: BandPlan, r0: number, r1: number, sha
     },
     { values: true },
   );
-  return { n, coords, values };
+  return k;
 }
 
 function stacksOf(out: Float32Array[], plan: BandPlan, windows: SliceWindow[], options: GridOptions, mode: SliceMode, spill: PointSpill): SliceStack[] {
