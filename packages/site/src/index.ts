@@ -17,7 +17,7 @@ export {
   type CheckPositionsOptions,
 } from './positions';
 export { lineGeometry, type LineGeometry } from './geometry';
-export { loadSite, readLine, lineChunks, linePositions, summarizeLine, shownPath, type ReadLineOptions, type LineChunk, type LineChunksOptions, type LineSummary } from './load';
+export { loadSite, readLine, lineChunks, linePositions, lineTraces, summarizeLine, shownPath, type ReadLineOptions, type LineChunk, type LineChunksOptions, type LineSummary } from './load';
 export { InputProblems, jsonPath, type Problem } from './problems';
 export { defaultOpenSegy, type SegyReaderLike, type OpenSegy } from './segy';
 export { summarizeSite, type SiteSummary, type LineInfo, type SummarizeOptions } from './summary';

@@ -93,7 +93,7 @@ export async function loadSite(dir: string): Promise<Site> {
     } else if (l.start && l.end) {
       position = { kind: 'startEnd', start: l.start, end: l.end };
     }
-    lines.push({ id, file, relFile: l.file, position, index: i });
+    lines.push({ id, file, relFile: l.file, position, ...(l.traces ? { traces: [l.traces[0], l.traces[1]] as [number, number] } : {}), index: i });
   }
   let planFile: string | undefined;
   if (json.plan !== undefined) {
@@ -132,8 +132,34 @@ async function openReader(site: Site, src: LineSource, options: ReadLineOptions)
   return await open(src.file, { name: shownPath(src.file), ...(dt !== undefined ? { sampleIntervalNs: dt } : {}) });
 }
 
-/** Trace positions of a line (site CRS units, antenna midpoints) from its source, checked. */
+/**
+ * The traces of its file a line uses: all of them, or site.json `traces` [first, last], checked against
+ * the file's trace count.
+ */
+export function lineTraces(site: Site, src: LineSource, fileTraces: number): { first: number; count: number } {
+  if (!src.traces) return { first: 0, count: fileTraces };
+  const [a, b] = src.traces;
+  if (b >= fileTraces) {
+    throw new InputError(shownPath(join(site.dir, 'site.json')), `expected trace indices within 0..${fileTraces - 1} (${shownPath(src.file)} has ${fileTraces} traces), found [${a}, ${b}]`, {
+      field: `lines[${src.index ?? site.lines.indexOf(src)}].traces`,
+    });
+  }
+  return { first: a, count: b - a + 1 };
+}
+
+/**
+ * Trace positions of a line (site CRS units, antenna midpoints) from its source, checked. With a
+ * `traces` range they are worked out for the whole file (start/end and CSV trace numbers refer to it)
+ * and then cut to the range.
+ */
 export async function linePositions(site: Site, src: LineSource, reader: Pick<SegyReaderLike, 'nTraces' | 'readTraceHeaders'>): Promise<TracePositions> {
+  const whole = await fileLinePositions(site, src, reader);
+  if (!src.traces) return whole;
+  const { first, count } = lineTraces(site, src, reader.nTraces);
+  return { x: whole.x.slice(first, first + count), y: whole.y.slice(first, first + count) };
+}
+
+async function fileLinePositions(site: Site, src: LineSource, reader: Pick<SegyReaderLike, 'nTraces' | 'readTraceHeaders'>): Promise<TracePositions> {
   const n = reader.nTraces;
   const segyName = shownPath(src.file);
   const field = `lines[${src.index ?? site.lines.indexOf(src)}]`;
@@ -172,8 +198,9 @@ export async function readLine(site: Site, src: LineSource, options: ReadLineOpt
   const reader = await openReader(site, src, options);
   try {
     const { x, y } = await linePositions(site, src, reader);
-    const data = await reader.readTraces(0, reader.nTraces);
-    return { id: src.id, nSamples: reader.nSamples, nTraces: reader.nTraces, dtNs: reader.dtNs, data, x, y, timeZeroNs: 0 };
+    const { first, count } = lineTraces(site, src, reader.nTraces);
+    const data = await reader.readTraces(first, count);
+    return { id: src.id, nSamples: reader.nSamples, nTraces: count, dtNs: reader.dtNs, data, x, y, timeZeroNs: 0 };
   } finally {
     await reader.close();
   }
@@ -206,10 +233,11 @@ export async function* lineChunks(site: Site, src: LineSource, options: LineChun
   const reader = await openReader(site, src, options);
   try {
     const { x, y } = await linePositions(site, src, reader);
-    const n = reader.nTraces;
+    const range = lineTraces(site, src, reader.nTraces);
+    const n = range.count;
     for (let first = 0; first < n; first += step) {
       const count = Math.min(step, n - first);
-      const data = await reader.readTraces(first, count);
+      const data = await reader.readTraces(range.first + first, count);
       yield { id: src.id, first, count, nTraces: n, nSamples: reader.nSamples, dtNs: reader.dtNs, data, x: x.subarray(first, first + count), y: y.subarray(first, first + count) };
     }
   } finally {
@@ -237,7 +265,7 @@ export async function summarizeLine(site: Site, src: LineSource, options: ReadLi
     return {
       id: src.id,
       file: src.relFile,
-      nTraces: reader.nTraces,
+      nTraces: x.length,
       nSamples: reader.nSamples,
       dtNs: reader.dtNs,
       positionSource: src.position.kind,

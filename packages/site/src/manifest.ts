@@ -15,6 +15,11 @@ const xy = z.tuple([finite('a number (x in CRS units)'), finite('a number (y in 
   error: (iss) => `expected [x, y] in site CRS units, found ${describe(iss.input)}`,
 });
 
+const traceIndex = z
+  .number({ error: (iss) => `expected a trace index (a whole number >= 0), found ${describe(iss.input)}` })
+  .int({ error: (iss) => `expected a trace index (a whole number >= 0), found ${describe(iss.input)}` })
+  .nonnegative({ error: (iss) => `expected a trace index (a whole number >= 0), found ${describe(iss.input)}` });
+
 export const gpsOffsetSchema = z.strictObject({
   /** How far the position fix is ahead of the antenna midpoint, in the direction of travel (m). */
   alongM: finite('a number of metres').default(0),
@@ -34,6 +39,10 @@ export const lineSchema = z.strictObject({
     start: xy.optional(),
     end: xy.optional(),
     positions: text('the path of a positions CSV (trace,x,y)').optional(),
+    traces: z
+      .tuple([traceIndex, traceIndex], { error: (iss) => `expected [first, last] trace indices of the file (0-based, inclusive), found ${describe(iss.input)}` })
+      .refine(([a, b]) => b > a, { error: (iss) => `expected last > first (a line needs at least 2 traces), found ${JSON.stringify(iss.input)}` })
+      .optional(),
   });
 
 export const siteSchema = z.strictObject({

@@ -48,6 +48,11 @@ export interface LineSource {
   /** The path as written in site.json (for messages). */
   relFile: string;
   position: LinePositionSource;
+  /**
+   * Only traces [first, last] of the file (0-based, inclusive): a piece of a longer line, e.g. a tile's.
+   * Positions from start/end or a CSV still refer to the whole file's traces. @default the whole file
+   */
+  traces?: [number, number];
   /** Index of the line in site.json `lines` (for JSON paths in messages). */
   index?: number;
 }

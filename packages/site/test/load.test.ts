@@ -117,3 +117,22 @@ describe('loadSite and readLine', () => {
     expect(lat[N - 1]! > lat[0]!).toBe(true);
   });
 });
+
+describe('a piece of a line: site.json "traces"', () => {
+  it('reads only traces [first, last] of the file, with the positions of the whole file cut to them', async () => {
+    // every position source: headers (with the GPS offset), start/end and CSV refer to the whole file
+    for (const [k, src] of site.lines.entries()) {
+      const whole = await readLine(site, src);
+      const piece = { ...src, traces: [3, 12] as [number, number] };
+      const part = await readLine(site, piece);
+      expect(part.nTraces, `line ${k}`).toBe(10);
+      expect(part.data).toEqual(whole.data.subarray(3 * NS, 13 * NS));
+      expect(Array.from(part.x)).toEqual(Array.from(whole.x.subarray(3, 13)));
+      expect(Array.from(part.y)).toEqual(Array.from(whole.y.subarray(3, 13)));
+      const chunks: number[] = [];
+      for await (const c of lineChunks(site, piece, { tracesPerChunk: 4 })) chunks.push(c.first, c.count, c.data[0]!);
+      expect(chunks).toEqual([0, 4, part.data[0], 4, 4, part.data[4 * NS], 8, 2, part.data[8 * NS]]);
+      expect((await summarizeLine(site, piece)).nTraces).toBe(10);
+    }
+  });
+});

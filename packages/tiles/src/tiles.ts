@@ -2,8 +2,8 @@
  * Split a site into independent tile sites on a square grid in the site CRS. A tile holds the lines, or
  * line pieces, whose traces fall in its square grown by the overlap; each trace's own square ("core")
  * decides which tile owns results there. Whole lines are referenced in place; a line that leaves the
- * tile is cut into pieces, each a byte copy of its traces (file and trace headers kept) with its
- * positions carried over. The plan keeps every feature near enough to echo into the tile's record.
+ * tile is cut into pieces, each referencing the same file with a `traces` range (site.json), so no
+ * samples are copied. The plan keeps every feature near enough to echo into the tile's record.
  */
 import { open, readFile, mkdir, writeFile } from 'node:fs/promises';
 import { dirname, join, relative, resolve } from 'node:path';
@@ -50,8 +50,8 @@ export interface TileLine {
   /** First and last trace of the original line (0-based, inclusive). */
   first: number;
   last: number;
-  /** True when the traces were copied into the tile (a line piece); false when the original is referenced. */
-  copied: boolean;
+  /** For a piece: the `traces` range of the file written into the tile's site.json (0-based, inclusive). */
+  traces?: [number, number];
 }
 
 export interface TileEntry {
@@ -148,42 +148,6 @@ async function openLine(site: Site, src: LineSource): Promise<SegyReader> {
   return openSegy(src.file, { name: shownPath(src.file), ...(site.sampleIntervalNs !== undefined ? { sampleIntervalNs: site.sampleIntervalNs } : {}) });
 }
 
-/** Byte copy of traces [first, last] of a SEG-Y file, its trace count (rev 2) patched and trailer dropped. */
-async function copyTraces(reader: SegyReader, first: number, last: number, to: string): Promise<void> {
-  const src = await open(reader.path, 'r');
-  const dst = await open(to, 'w');
-  try {
-    const head = new Uint8Array(reader.dataOffset);
-    await readFully(src, head, 0);
-    if (reader.revision.major >= 2 && head.length >= TRAILER_OFFSET + 4) {
-      const view = new DataView(head.buffer);
-      if (view.getBigUint64(TRACE_COUNT_OFFSET, reader.littleEndian) !== 0n) view.setBigUint64(TRACE_COUNT_OFFSET, BigInt(last - first + 1), reader.littleEndian);
-      view.setInt32(TRAILER_OFFSET, 0, reader.littleEndian);
-    }
-    await dst.write(head, 0, head.length, 0);
-    const total = (last - first + 1) * reader.traceBytes;
-    const from = reader.dataOffset + first * reader.traceBytes;
-    const buf = new Uint8Array(Math.min(COPY_BYTES, total));
-    for (let done = 0; done < total; ) {
-      const n = Math.min(buf.length, total - done);
-      await readFully(src, buf.subarray(0, n), from + done);
-      await dst.write(buf, 0, n, head.length + done);
-      done += n;
-    }
-  } finally {
-    await src.close();
-    await dst.close();
-  }
-}
-
-async function readFully(fh: Awaited<ReturnType<typeof open>>, buf: Uint8Array, at: number): Promise<void> {
-  for (let got = 0; got < buf.length; ) {
-    const { bytesRead } = await fh.read(buf, got, buf.length - got, at + got);
-    if (bytesRead === 0) throw new Error(`unexpected end of file at byte ${at + got}`);
-    got += bytesRead;
-  }
-}
-
 function planJson(features: PlanFeature[]): string {
   return JSON.stringify(
     {
@@ -211,8 +175,8 @@ function checkOptions(options: TileOptions): { sizeM: number; overlapM: number }
 
 /**
  * `lamina tiles`: writes `outDir/tiles.json` and one site folder per tile (`outDir/<tile id>/site.json`,
- * `plan.geojson`, `lines/` for line pieces). Staged and renamed into place, so an error writes nothing.
- * Reads only headers to place traces; copies the samples of line pieces only.
+ * `plan.geojson`). Staged and renamed into place, so an error writes nothing. Reads only headers to
+ * place traces; copies no samples (tiles reference the original SEG-Y files).
  */
 export async function writeTiles(siteDir: string, outDir: string, options: TileOptions): Promise<TilesManifest> {
   const { sizeM, overlapM } = checkOptions(options);
@@ -277,44 +241,31 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
     const tileLines = new Map<TileAcc, (TileLine & { position: Record<string, unknown> })[]>();
     for (const t of live) {
       tileLines.set(t, []);
-      await mkdir(join(stage.path, tileId(t.col, t.row), 'lines'), { recursive: true });
+      await mkdir(join(stage.path, tileId(t.col, t.row)), { recursive: true });
     }
-    // Pass 2: per line, reference it whole or copy its pieces.
+    // Pass 2: every tile references the original files: a whole line as it is, a piece of a line with
+    // a `traces` range of its file (positions from start/end or a CSV still refer to the whole file).
     for (let li = 0; li < site.lines.length; li++) {
       const src = site.lines[li]!;
       const pieces = byLine.get(li) ?? [];
       const n = nTraces[li]!;
-      const cut = pieces.filter((p) => !(p.first === 0 && p.last === n - 1));
-      const reader = cut.length ? await openLine(site, src) : undefined;
-      try {
-        const raw = cut.length ? await rawPositions(site, src, n) : undefined;
-        for (const p of pieces) {
-          const tid = tileId(p.tile.col, p.tile.row);
-          const finalDir = join(finalOut, tid);
-          const ref = (abs: string): string => (options.absolutePaths ? abs : relative(finalDir, abs));
-          const whole = p.first === 0 && p.last === n - 1;
-          const entry = { source: src.id, first: p.first, last: p.last };
-          if (whole) {
-            const position: Record<string, unknown> =
-              src.position.kind === 'startEnd' ? { start: src.position.start, end: src.position.end } : src.position.kind === 'csv' ? { positions: ref(src.position.file) } : {};
-            tileLines.get(p.tile)!.push({ ...entry, id: src.id, file: ref(src.file), copied: false, position });
-            continue;
-          }
-          const id = `${src.id}.p${p.k}`;
-          await copyTraces(reader!, p.first, p.last, join(stage.path, tid, 'lines', `${id}.sgy`));
-          let position: Record<string, unknown> = {};
-          if (src.position.kind === 'startEnd') {
-            position = { start: [raw!.x[p.first], raw!.y[p.first]], end: [raw!.x[p.last], raw!.y[p.last]] };
-          } else if (src.position.kind === 'csv') {
-            const rows = ['trace,x,y'];
-            for (let i = p.first; i <= p.last; i++) rows.push(`${i - p.first + 1},${raw!.x[i]},${raw!.y[i]}`);
-            await writeFile(join(stage.path, tid, 'lines', `${id}.csv`), rows.join('\n') + '\n');
-            position = { positions: `lines/${id}.csv` };
-          }
-          tileLines.get(p.tile)!.push({ ...entry, id, file: `lines/${id}.sgy`, copied: true, position });
-        }
-      } finally {
-        await reader?.close();
+      const offset = src.traces?.[0] ?? 0;
+      for (const p of pieces) {
+        const finalDir = join(finalOut, tileId(p.tile.col, p.tile.row));
+        const ref = (abs: string): string => (options.absolutePaths ? abs : relative(finalDir, abs));
+        const whole = p.first === 0 && p.last === n - 1;
+        const position: Record<string, unknown> =
+          src.position.kind === 'startEnd' ? { start: src.position.start, end: src.position.end } : src.position.kind === 'csv' ? { positions: ref(src.position.file) } : {};
+        const traces: [number, number] | undefined = whole ? src.traces : [offset + p.first, offset + p.last];
+        tileLines.get(p.tile)!.push({
+          source: src.id,
+          first: p.first,
+          last: p.last,
+          id: whole ? src.id : `${src.id}.p${p.k}`,
+          file: ref(src.file),
+          ...(traces ? { traces } : {}),
+          position,
+        });
       }
       options.onLine?.(site.lines.length + li + 1, site.lines.length * 2);
     }
@@ -335,7 +286,7 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
         ...(site.sampleIntervalNs !== undefined ? { sampleIntervalNs: site.sampleIntervalNs } : {}),
         ...(plan.length ? { plan: 'plan.geojson' } : {}),
         ...(site.recipe !== undefined ? { recipe: site.recipe } : {}),
-        lines: lines.map((l) => ({ id: l.id, file: l.file, ...l.position })),
+        lines: lines.map((l) => ({ id: l.id, file: l.file, ...(l.traces ? { traces: l.traces } : {}), ...l.position })),
       };
       const dir = join(stage.path, tid);
       await writeFile(join(dir, 'site.json'), JSON.stringify(json, null, 2) + '\n');
@@ -373,15 +324,6 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
 }
 
 /** Positions before the GPS offset, as the tile's site.json must give them (the tile applies the offset again). */
-async function rawPositions(site: Site, src: LineSource, n: number): Promise<{ x: Float64Array; y: Float64Array } | undefined> {
-  if (src.position.kind === 'startEnd') return positionsFromStartEnd(src.position.start, src.position.end, n);
-  if (src.position.kind === 'csv') {
-    const name = shownPath(src.position.file);
-    return positionsFromFixes(parsePositionsCsv(await readFile(src.position.file, 'utf8'), name), n, name);
-  }
-  return undefined;
-}
-
 /** Reads a tiles.json manifest. */
 export async function readTilesManifest(path: string): Promise<TilesManifest> {
   const file = path.endsWith('.json') ? path : join(path, 'tiles.json');

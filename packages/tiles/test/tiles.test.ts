@@ -110,12 +110,13 @@ describe('writeTiles', () => {
         expect(piece.nTraces).toBe(entry.last - entry.first + 1);
         expect(piece.data).toEqual(orig.data.subarray(entry.first * orig.nSamples, (entry.last + 1) * orig.nSamples));
         for (let i = 0; i < piece.nTraces; i++) {
-          // positions carried over (GPS offset applied once): 1e-6 m, below the millimetre header scalar
-          expect(Math.abs(piece.x[i]! - orig.x[entry.first + i]!)).toBeLessThan(2e-3);
-          expect(Math.abs(piece.y[i]! - orig.y[entry.first + i]!)).toBeLessThan(2e-3);
+          // positions worked out for the whole file, then cut: the same numbers
+          expect(piece.x[i]).toBe(orig.x[entry.first + i]);
+          expect(piece.y[i]).toBe(orig.y[entry.first + i]);
           covered.get(entry.source)![entry.first + i] = 1;
         }
-        expect(entry.copied).toBe(!(entry.first === 0 && entry.last === orig.nTraces - 1));
+        const whole = entry.first === 0 && entry.last === orig.nTraces - 1;
+        expect(entry.traces).toEqual(whole ? undefined : [entry.first, entry.last]);
       }
     }
     for (const [id, c] of covered) expect(c.every((v) => v === 1), `line ${id}`).toBe(true);
@@ -148,30 +149,27 @@ describe('writeTiles', () => {
     expect(manifest.tiles.some((t) => t.planFeatures === 1)).toBe(true);
   });
 
-  it('writes line pieces that segyio reads with the same trace count and samples', () => {
-    // Reference: Debian's python3-segyio (1.8) reading the copied bytes.
-    const t = manifest.tiles.find((x) => x.lines.some((l) => l.copied))!;
-    const e = t.lines.find((l) => l.copied)!;
+  it('a piece is a trace range of the original file: segyio reads the same samples there', () => {
+    // Reference: Debian's python3-segyio (1.8) reading the original file at the piece's first trace.
+    const t = manifest.tiles.find((x) => x.lines.some((l) => l.traces))!;
+    const e = t.lines.find((l) => l.traces)!;
     const file = join(outDir, t.dir, e.file);
-    const py = 'import segyio,sys\nwith segyio.open(sys.argv[1], ignore_geometry=True) as f:\n  print(f.tracecount, float(f.trace[0][5]))';
-    const r = spawnSync('/usr/bin/python3', ['-c', py, file], { encoding: 'utf8' });
+    const py = 'import segyio,sys\nwith segyio.open(sys.argv[1], ignore_geometry=True) as f:\n  print(f.tracecount, float(f.trace[int(sys.argv[2])][5]))';
+    const r = spawnSync('/usr/bin/python3', ['-c', py, file, String(e.traces![0])], { encoding: 'utf8' });
     expect(r.status, r.stderr).toBe(0);
     const [count, s5] = r.stdout.trim().split(' ').map(Number);
     const orig = originals.get(e.source)!;
-    expect(count).toBe(e.last - e.first + 1);
+    expect(count).toBe(orig.nTraces);
     expect(s5).toBeCloseTo(orig.data[e.first * orig.nSamples + 5]!, 3);
   });
 
-  it('refers to the original files for whole lines, relative to the tile', async () => {
-    const whole = manifest.tiles.flatMap((t) => t.lines.filter((l) => !l.copied).map((l) => ({ t, l })));
-    for (const { t, l } of whole) {
-      expect(l.file.startsWith('..')).toBe(true);
-      expect(existsSync(join(outDir, t.dir, l.file))).toBe(true);
-    }
-    // no SEG-Y copied for a whole line
+  it('refers to the original files for every line and piece, relative to the tile, and copies no SEG-Y', async () => {
     for (const t of manifest.tiles) {
-      const copied = readdirSync(join(outDir, t.dir, 'lines')).filter((f) => f.endsWith('.sgy'));
-      expect(copied.length).toBe(t.lines.filter((l) => l.copied).length);
+      for (const l of t.lines) {
+        expect(l.file.startsWith('..')).toBe(true);
+        expect(existsSync(join(outDir, t.dir, l.file))).toBe(true);
+      }
+      expect(readdirSync(join(outDir, t.dir), { recursive: true }).filter((f) => String(f).endsWith('.sgy'))).toEqual([]);
     }
   });
 

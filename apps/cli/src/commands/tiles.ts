@@ -15,8 +15,9 @@ export function register(program: Command): void {
     .option('--json', 'print the manifest as JSON')
     .addHelpText(
       'after',
-      '\nLines wholly inside a tile (plus overlap) are referenced in place; lines that leave it are cut into pieces\n' +
-        'whose traces are copied into <tile>/lines/. Then run, per tile, from the --out folder:\n' +
+      '\nLines wholly inside a tile (plus overlap) are referenced in place; lines that leave it are cut into pieces,\n' +
+        'each the same file with a "traces" range in the tile\'s site.json (nothing is copied). Then run, per tile,\n' +
+        'from the --out folder:\n' +
         '  lamina process <tile> --out <tile>-out\n' +
         'Merging the tiles\' targets: docs/large-surveys.md.\nExample:\n  pnpm lamina tiles sample-sites/yard/site --size 10 --overlap 2 --out /tmp/yard-tiles',
     )
@@ -39,8 +40,8 @@ export function register(program: Command): void {
           process.stdout.write(JSON.stringify(m, null, 2) + '\n');
           return;
         }
-        const pieces = m.tiles.reduce((s, t) => s + t.lines.filter((l) => l.copied).length, 0);
-        const out: string[] = [`${m.tiles.length} tile${m.tiles.length === 1 ? '' : 's'} of ${m.sizeM} m (overlap ${m.overlapM} m, plan margin ${m.planMarginM.toFixed(1)} m) for ${m.traces} traces; ${pieces} line piece${pieces === 1 ? '' : 's'} copied`, `manifest  ${opts.out}/tiles.json`, 'run each tile (from the --out folder):'];
+        const pieces = m.tiles.reduce((s, t) => s + t.lines.filter((l) => l.traces !== undefined).length, 0);
+        const out: string[] = [`${m.tiles.length} tile${m.tiles.length === 1 ? '' : 's'} of ${m.sizeM} m (overlap ${m.overlapM} m, plan margin ${m.planMarginM.toFixed(1)} m) for ${m.traces} traces; ${pieces} line piece${pieces === 1 ? '' : 's'} (trace ranges of the original files, nothing copied)`, `manifest  ${opts.out}/tiles.json`, 'run each tile (from the --out folder):'];
         for (const t of m.tiles) out.push(`  ${t.command}    # ${t.lines.length} lines, ${t.traces} traces, ${t.planFeatures} plan features`);
         process.stdout.write(out.join('\n') + '\n');
       }),
