@@ -74,7 +74,7 @@ const tStream = (performance.now() - t0) / 1000;
 const { coords, values, lineStarts } = builder.points();
 const n = coords.length / 2;
 console.log(`site: ${N_LINES} lines x ${N_TRACES} traces = ${n} positions, ${windows.length} slices, ${NS} samples/trace`);
-console.log(`stream: ${fmt(tStream)} s incl. synthesis; builder.add (depths + slice values): ${fmt(tAdd)} s (${Math.round(n / tAdd)} traces/s); kept ${mb(coords.byteLength + values.byteLength)}`);
+console.log(`stream: ${fmt(tStream)} s incl. synthesis; builder.add (depths + slice values): ${fmt(tAdd)} s (${Math.round(n / tAdd)} traces/s); spilled to disk ${mb(coords.byteLength + values.byteLength)} (read back into memory here only for the gdal_grid comparison)`);
 
 // 2. Our gridding: same isotropic parameters as gdal_grid, all slices in one pass.
 const width = Math.round((N_TRACES * TRACE_STEP) / CELL);

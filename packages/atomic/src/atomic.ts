@@ -3,22 +3,51 @@ import { dirname, basename, join, resolve } from 'node:path';
 
 /** Write a file so that readers see the old content or the new, never a part: temp file + fsync + rename. */
 export async function writeFileAtomic(path: string, data: string | Uint8Array): Promise<void> {
+  await (await stageFile(path, data)).commit();
+}
+
+export interface StagedFile {
+  /** Rename the written temp file into place. */
+  commit(): Promise<void>;
+  /** Delete the temp file (safe after commit). */
+  abort(): Promise<void>;
+}
+
+/**
+ * Write `data` to a temp file beside `path` (fsync'd) and return how to rename it into place: several
+ * files can be written one after another (each dropped from memory once written) and committed together.
+ */
+export async function stageFile(path: string, data: string | Uint8Array): Promise<StagedFile> {
   const dir = dirname(resolve(path));
   await mkdir(dir, { recursive: true });
   const tmp = join(dir, `.${basename(path)}.${process.pid}.${Date.now()}.${Math.random().toString(36).slice(2)}.tmp`);
-  const fh = await open(tmp, 'w');
   try {
-    await fh.writeFile(data);
-    await fh.sync();
-  } finally {
-    await fh.close();
-  }
-  try {
-    await rename(tmp, path);
+    const fh = await open(tmp, 'w');
+    try {
+      await fh.writeFile(data);
+      await fh.sync();
+    } finally {
+      await fh.close();
+    }
   } catch (e) {
     await rm(tmp, { force: true });
     throw e;
   }
+  let done = false;
+  return {
+    commit: async () => {
+      try {
+        await rename(tmp, path);
+        done = true;
+      } catch (e) {
+        await rm(tmp, { force: true });
+        throw e;
+      }
+    },
+    abort: async () => {
+      if (!done) await rm(tmp, { force: true });
+    },
+  };
 }
 
 export interface StagedFolder {

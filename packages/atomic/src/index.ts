@@ -1,1 +1,1 @@
-export { writeFileAtomic, stageFolder, type StagedFolder } from './atomic';
+export { writeFileAtomic, stageFile, stageFolder, type StagedFile, type StagedFolder } from './atomic';

@@ -1,5 +1,5 @@
 import { join } from 'node:path';
-import { writeFileAtomic } from '@lamina/atomic';
+import { stageFile, type StagedFile } from '@lamina/atomic';
 import { readAnomalies, readRun, readSlicesInfo, readVelocity } from './folder';
 import { TARGET_FIELDS, targetProperties, targetsCsv, targetsDxf, targetsGeoJson, type ExportContext } from './formats';
 import { writeGpkg, type GpkgLayer, type GpkgSrs } from './gpkg';
@@ -61,14 +61,22 @@ export async function exportTargets(outDir: string, options: ExportOptions = {})
   };
   const thumbs = slices && (options.thumbnailSize ?? 240) > 0 ? await sliceThumbnails(outDir, slices, { maxSize: options.thumbnailSize ?? 240 }) : [];
 
-  const contents: [string, string | Uint8Array][] = [
-    ['targets.geojson', targetsGeoJson(targets, ctx)],
-    ['targets.gpkg', await targetsGpkg(targets, ctx)],
-    ['targets.csv', targetsCsv(targets, ctx)],
-    ['targets.dxf', targetsDxf(targets, ctx)],
-    ['report.html', reportHtml({ run, velocity, targets, dropped, anomalies, thumbnails: thumbs, ctx, unmatchedDecisions })],
+  // Each file is built and written to a temp file in turn (only one in memory), then all are renamed.
+  const contents: [string, () => string | Uint8Array | Promise<Uint8Array>][] = [
+    ['targets.geojson', () => targetsGeoJson(targets, ctx)],
+    ['targets.gpkg', () => targetsGpkg(targets, ctx)],
+    ['targets.csv', () => targetsCsv(targets, ctx)],
+    ['targets.dxf', () => targetsDxf(targets, ctx)],
+    ['report.html', () => reportHtml({ run, velocity, targets, dropped, anomalies, thumbnails: thumbs, ctx, unmatchedDecisions })],
   ];
-  for (const [name, data] of contents) await writeFileAtomic(join(outDir, name), data);
+  const staged: StagedFile[] = [];
+  try {
+    for (const [name, build] of contents) staged.push(await stageFile(join(outDir, name), await build()));
+    for (const s of staged) await s.commit();
+  } catch (e) {
+    await Promise.all(staged.map((s) => s.abort()));
+    throw e;
+  }
   return {
     files: contents.map(([n]) => n),
     targets: targets.length,

@@ -1,4 +1,6 @@
+import { createReadStream } from 'node:fs';
 import { readFile } from 'node:fs/promises';
+import { createInterface } from 'node:readline';
 import { join } from 'node:path';
 import { InputError } from '@lamina/errors';
 import { resolveCrs } from '@lamina/site';
@@ -146,9 +148,39 @@ export async function readRun(outDir: string): Promise<RunInfo> {
   };
 }
 
+/**
+ * A FeatureCollection laid out one feature per line, as the pipeline writes it (`{"type":...,"features":[`,
+ * then a feature per line, then `]}`), parsed a line at a time so the file's text is never held whole;
+ * undefined when the file is laid out otherwise (or missing): read it whole then.
+ */
+async function readFeatureLines(file: string): Promise<{ type: unknown; features: unknown[] } | undefined> {
+  const lines = createInterface({ input: createReadStream(file, { encoding: 'utf8' }), crlfDelay: Infinity });
+  let head: Record<string, unknown> | undefined;
+  const features: unknown[] = [];
+  let ended = false;
+  try {
+    for await (const line of lines) {
+      if (ended) {
+        if (line.trim() !== '') return undefined;
+      } else if (!head) {
+        if (!line.startsWith('{') || !line.endsWith('"features":[')) return undefined;
+        const h: unknown = JSON.parse(line + ']}');
+        if (!isObj(h)) return undefined;
+        head = h;
+      } else if (line === ']}') ended = true;
+      else features.push(JSON.parse(line.endsWith(',') ? line.slice(0, -1) : line));
+    }
+  } catch {
+    return undefined;
+  } finally {
+    lines.close();
+  }
+  return head && ended ? { type: head.type, features } : undefined;
+}
+
 export async function readAnomalies(outDir: string): Promise<AnomalyFeature[]> {
   const file = join(outDir, 'anomalies.geojson');
-  const j = await readJsonFile(file);
+  const j = (await readFeatureLines(file)) ?? (await readJsonFile(file));
   if (!isObj(j) || j.type !== 'FeatureCollection' || !Array.isArray(j.features)) {
     throw new InputError(file, `expected a GeoJSON FeatureCollection, found ${JSON.stringify(isObj(j) ? j.type : typeof j)}`, { field: 'type' });
   }

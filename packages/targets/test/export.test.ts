@@ -3,7 +3,7 @@ import { readFile, readdir, stat, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { lookupEpsg } from '@lamina/site';
-import { APWA_COLOURS, CAUTIONS, CSV_COLUMNS, TARGET_FIELDS, exportTargets, type ExportResult } from '../src';
+import { APWA_COLOURS, CAUTIONS, CSV_COLUMNS, TARGET_FIELDS, exportTargets, readAnomalies, type ExportResult } from '../src';
 import { makeFolder, py, standardDecisions, type Fixture } from './fixture';
 
 const NOW = new Date('2026-12-01T12:00:00.000Z');
@@ -269,6 +269,22 @@ describe('exportTargets inputs', () => {
     await expect(exportTargets(fx.dir)).rejects.toThrow(/anomalies\.geojson: features\[2\]\.properties\.depthTopM: expected a depth in metres, found "deep"/);
     await writeFile(join(fx.dir, 'anomalies.geojson'), '');
     await expect(exportTargets(fx.dir)).rejects.toThrow(/anomalies\.geojson: expected JSON/);
+  });
+
+  it('reads anomalies.geojson laid out one feature per line (as the pipeline writes it) as it reads it whole', async () => {
+    const fx = await makeFolder({ crs: 'EPSG:32617', origin: [431250, 4429800], decisions: standardDecisions });
+    const a = JSON.parse(await readFile(join(fx.dir, 'anomalies.geojson'), 'utf8'));
+    await writeFile(join(fx.dir, 'anomalies.geojson'), JSON.stringify(a, null, 2));
+    const whole = await readAnomalies(fx.dir);
+    const { features, ...rest } = a;
+    const head = JSON.stringify(rest);
+    await writeFile(join(fx.dir, 'anomalies.geojson'), `${head.slice(0, -1)},"features":[\n${features.map((f: unknown) => JSON.stringify(f)).join(',\n')}\n]}\n`);
+    expect(await readAnomalies(fx.dir)).toEqual(whole);
+    expect(whole.length).toBe(a.features.length);
+    // a bad feature on its own line gives the same message as when read whole
+    features[1].properties.depthTopM = 'deep';
+    await writeFile(join(fx.dir, 'anomalies.geojson'), `${head.slice(0, -1)},"features":[\n${features.map((f: unknown) => JSON.stringify(f)).join(',\n')}\n]}\n`);
+    await expect(readAnomalies(fx.dir)).rejects.toThrow(/anomalies\.geojson: features\[1\]\.properties\.depthTopM: expected a depth in metres, found "deep"/);
   });
 
   it('reruns replace the files (a later rejection removes the target)', async () => {
