@@ -7,6 +7,9 @@
 //   LAMINA_BENCH_SCALE_GB=0.05,0.1   input sizes in GiB (comma list; default 0.01,0.03)
 //   LAMINA_BENCH_SCALE_SPEEDUP=0.01  size for the threads 1 vs 2 comparison (0 skips it)
 //   LAMINA_BENCH_SCALE_KEEP=1        keep the generated sites
+//   LAMINA_BENCH_SCALE_CLUTTER=1     lines walked back keep the template's trace order, so their pipes sit
+//                                    mirrored: every crossing is an anomaly of its own (a cluttered site,
+//                                    about 1.4 anomalies per m2); by default the pipes run continuous
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, rmSync, writeFileSync } from 'node:fs';
 import { availableParallelism, loadavg, tmpdir } from 'node:os';
@@ -27,6 +30,14 @@ const N0 = 3900000;
 const sizes = (process.env.LAMINA_BENCH_SCALE_GB ?? '0.01,0.03').split(',').map(Number).filter((v) => v > 0);
 const speedupGb = Number(process.env.LAMINA_BENCH_SCALE_SPEEDUP ?? 0.01);
 const keep = process.env.LAMINA_BENCH_SCALE_KEEP === '1';
+const clutter = process.env.LAMINA_BENCH_SCALE_CLUTTER === '1';
+
+/** A radargram with its traces in reverse order (a line walked the other way). */
+function reversed(data: Float32Array): Float32Array {
+  const out = new Float32Array(data.length);
+  for (let t = 0; t < TRACES; t++) out.set(data.subarray((TRACES - 1 - t) * NS, (TRACES - t) * NS), t * NS);
+  return out;
+}
 
 
 // Ricker wavelet, the usual formula (1 - 2 pi^2 f^2 t^2) exp(-pi^2 f^2 t^2), f in GHz, t in ns.
@@ -67,6 +78,8 @@ async function makeSite(dir: string, gib: number): Promise<{ lines: number; trac
   mkdirSync(join(dir, 'lines'), { recursive: true });
   const nLines = Math.max(2, Math.round((gib * GIB) / (3600 + TRACES * TRACE_BYTES)));
   const tpl = templates(4, 20261201);
+  // Templates are along-line; a line walked back (west) has its first trace at the east end.
+  const back = clutter ? tpl : tpl.map(reversed);
   const lines: { file: string }[] = [];
   let bytes = 0;
   for (let i = 0; i < nLines; i++) {
@@ -74,7 +87,7 @@ async function makeSite(dir: string, gib: number): Promise<{ lines: number; trac
     const y = N0 + i * LINE_GAP_M;
     const x = Float64Array.from({ length: TRACES }, (_, t) => E0 + (forward ? t : TRACES - 1 - t) * SPACING_M);
     const file = `lines/l${String(i + 1).padStart(5, '0')}.sgy`;
-    const r = await writeSegy(join(dir, file), { nSamples: NS, dtNs: DT, traces: { data: tpl[i % tpl.length]!, x, y: new Float64Array(TRACES).fill(y) } });
+    const r = await writeSegy(join(dir, file), { nSamples: NS, dtNs: DT, traces: { data: (forward ? tpl : back)[i % tpl.length]!, x, y: new Float64Array(TRACES).fill(y) } });
     bytes += r.bytes;
     lines.push({ file });
   }
@@ -101,7 +114,7 @@ if (!existsSync('/usr/bin/time')) {
   console.log('scale: /usr/bin/time not found (Debian package "time"); skipped');
 } else {
   const root = join(tmpdir(), `lamina-scale-${process.pid}`);
-  console.log(`cores ${availableParallelism()}, load ${loadavg().map((l) => l.toFixed(2)).join(' ')}; lines ${LINE_M} m of ${TRACES} traces x ${NS} samples (${TRACE_BYTES} B/trace), ${LINE_GAP_M} m apart`);
+  console.log(`cores ${availableParallelism()}, load ${loadavg().map((l) => l.toFixed(2)).join(' ')}; lines ${LINE_M} m of ${TRACES} traces x ${NS} samples (${TRACE_BYTES} B/trace), ${LINE_GAP_M} m apart; ${clutter ? 'cluttered (pipes mirrored on lines walked back)' : 'pipes continuous across the lines'}`);
   try {
     console.log('\npeak RSS against input (2 threads)');
     console.log('  input GiB   lines    traces   wall s  traces/s   MB/s   peak RSS MB   RSS MB per GiB');
