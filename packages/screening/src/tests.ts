@@ -337,10 +337,16 @@ export function hyperbolaHits(members: Member[], hyperbolas: HyperbolaFit[], mod
         }
       }
     }
+    // Only rows within tolM of the apex can hold a cell within tolM (cells are row-major, ascending):
+    // the scan is cut to them, which gives the same dmin whenever dmin <= tolM.
+    const rowFrom = Math.floor((g.originY - h.y) / g.cellSize - 0.5 - tolM / (g.cellSize * ctx.metresPerUnit)) - 1;
+    const rowTo = Math.ceil((g.originY - h.y) / g.cellSize - 0.5 + tolM / (g.cellSize * ctx.metresPerUnit)) + 1;
     for (const m of members) {
       if (Math.abs(m.slice - k) > 1) continue;
       let dmin = Infinity;
-      for (let i = 0; i < m.cells.length; i++) {
+      const asc = ascending(m.cells);
+      const end = asc ? lowerBound(m.cells, (rowTo + 1) * g.width) : m.cells.length;
+      for (let i = asc ? lowerBound(m.cells, rowFrom * g.width) : 0; i < end; i++) {
         const c = m.cells[i]!;
         const row = (c / g.width) | 0;
         const x = g.originX + (c - row * g.width + 0.5) * g.cellSize, y = g.originY - (row + 0.5) * g.cellSize;
@@ -366,6 +372,29 @@ export function hyperbolaHits(members: Member[], hyperbolas: HyperbolaFit[], mod
     }
   }
   return out;
+}
+
+const sortedCells = new WeakMap<Int32Array, boolean>();
+/** True if the cells are in ascending order (members from extraction are; pieces cut out may not be). */
+function ascending(cells: Int32Array): boolean {
+  let r = sortedCells.get(cells);
+  if (r === undefined) {
+    r = true;
+    for (let i = 1; i < cells.length && r; i++) if (cells[i]! < cells[i - 1]!) r = false;
+    sortedCells.set(cells, r);
+  }
+  return r;
+}
+
+/** First index of ascending `a` whose value is >= v (a.length when none). */
+function lowerBound(a: Int32Array, v: number): number {
+  let lo = 0, hi = a.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >> 1;
+    if (a[mid]! < v) lo = mid + 1;
+    else hi = mid;
+  }
+  return lo;
 }
 
 /** Cell centres of a member (site CRS), subsampled to at most MAX_SAMPLES. */
