@@ -1,4 +1,4 @@
-import { mkdir, mkdtemp, rename, rm, writeFile, open, readdir, cp, stat } from 'node:fs/promises';
+import { mkdir, mkdtemp, rename, rm, open, readdir, cp, stat } from 'node:fs/promises';
 import { dirname, basename, join, resolve } from 'node:path';
 
 /** Write a file so that readers see the old content or the new, never a part: temp file + fsync + rename. */

@@ -1,4 +1,4 @@
-import { writeFile } from 'node:fs/promises';
+import { readFile, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { InputError, isInputError } from '@lamina/errors';
 import { stageFolder } from '@lamina/atomic';
@@ -196,12 +196,12 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   }
 }
 
-/** Re-match the decisions of an earlier review.json to this run's anomalies (kept when unmatched). */
+/** A file's text, or undefined when it cannot be read (no review.json yet). */
 async function readText(path: string): Promise<string | undefined> {
-  const { readFile } = await import('node:fs/promises');
   return readFile(path, 'utf8').catch(() => undefined);
 }
 
+/** Re-match the decisions of an earlier review.json to this run's anomalies (kept when unmatched). */
 async function carryReview(
   from: string,
   to: string,

@@ -4,7 +4,6 @@ import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 export { mulberry32 as rng } from '@lamina/random';
-import { mulberry32 as rng } from '@lamina/random';
 
 export const DATA = join(dirname(fileURLToPath(import.meta.url)), 'data');
 

@@ -8,7 +8,6 @@ import { lineSpacingM, sliceLoci, surveyedMask, type Line, type ToleranceOptions
 import { combine, type Evidence, type Verdict } from './evidence';
 import { CAUTION, forecastLoci } from './forecast';
 import { lineToWgs84, outlineToWgs84, pointToWgs84, type FeatureCollection, type GeoJsonFeature, type ToWgs84 } from './geojson';
-import { airRadiusM } from './physics';
 import { C_M_PER_NS } from '@lamina/velocity';
 import { distanceField, reflectorsOf } from './reflectors';
 import {

@@ -344,9 +344,8 @@ export function hyperbolaHits(members: Member[], hyperbolas: HyperbolaFit[], mod
     for (const m of members) {
       if (Math.abs(m.slice - k) > 1) continue;
       let dmin = Infinity;
-      const asc = ascending(m.cells);
-      const end = asc ? lowerBound(m.cells, (rowTo + 1) * g.width) : m.cells.length;
-      for (let i = asc ? lowerBound(m.cells, rowFrom * g.width) : 0; i < end; i++) {
+      const end = lowerBound(m.cells, (rowTo + 1) * g.width);
+      for (let i = lowerBound(m.cells, rowFrom * g.width); i < end; i++) {
         const c = m.cells[i]!;
         const row = (c / g.width) | 0;
         const x = g.originX + (c - row * g.width + 0.5) * g.cellSize, y = g.originY - (row + 0.5) * g.cellSize;
@@ -372,18 +371,6 @@ export function hyperbolaHits(members: Member[], hyperbolas: HyperbolaFit[], mod
     }
   }
   return out;
-}
-
-const sortedCells = new WeakMap<Int32Array, boolean>();
-/** True if the cells are in ascending order (members from extraction are; pieces cut out may not be). */
-function ascending(cells: Int32Array): boolean {
-  let r = sortedCells.get(cells);
-  if (r === undefined) {
-    r = true;
-    for (let i = 1; i < cells.length && r; i++) if (cells[i]! < cells[i - 1]!) r = false;
-    sortedCells.set(cells, r);
-  }
-  return r;
 }
 
 /** First index of ascending `a` whose value is >= v (a.length when none). */

@@ -44,29 +44,30 @@ export async function gridSpill(spill: PointSpill, windows: SliceWindow[], optio
   const threads = options.threads ?? 1;
   const nValues = spill.nValues;
   const cells = plan.grid.width * plan.grid.height;
-  const parallel = threads > 1 && cells * nValues >= 2e6;
-  const buffer = parallel ? new SharedArrayBuffer(cells * nValues * 4) : new ArrayBuffer(cells * nValues * 4);
-  const out = bandsOf(buffer, nValues, cells);
-  let workers: IdwWorkers | undefined;
+  // Small grids are not worth the workers.
+  if (threads <= 1 || cells * nValues < 2e6) return gridPlanned(spill, plan, windows, options, mode);
+  const buffer = new SharedArrayBuffer(cells * nValues * 4);
+  const workers: IdwWorkers = idwWorkers(threads);
   try {
-    if (parallel) workers = idwWorkers(threads);
-    const buf = new BandBuffers(nValues, parallel);
+    const buf = new BandBuffers(nValues, true);
     buf.reserve(plan.largestBand);
     for (const [r0, r1] of plan.bands) {
       const n = loadBand(spill, plan, r0, r1, buf);
-      const tree = buildIndex(buf.coords.subarray(0, 2 * n), searchFrame(plan.idw), parallel);
-      if (workers) await workers.rows(tree, n, buf.values.buffer as unknown as SharedArrayBuffer, nValues, plan.grid, plan.idw, r0, r1, buffer as SharedArrayBuffer, spill.hasNaN);
-      else idwRows(tree, n, buf.values, nValues, plan.grid, plan.idw, r0, r1, out, spill.hasNaN);
+      const tree = buildIndex(buf.coords.subarray(0, 2 * n), searchFrame(plan.idw), true);
+      await workers.rows(tree, n, buf.values.buffer as unknown as SharedArrayBuffer, nValues, plan.grid, plan.idw, r0, r1, buffer, spill.hasNaN);
     }
   } finally {
-    await workers?.close();
+    await workers.close();
   }
-  return stacksOf(out, plan, windows, options, mode, spill);
+  return stacksOf(bandsOf(buffer, nValues, cells), plan, windows, options, mode, spill);
 }
 
 /** `gridSpill` on the calling thread. */
 export function gridSpillSync(spill: PointSpill, windows: SliceWindow[], options: SpillGridOptions, mode: SliceMode = 'mean-square'): SliceStack[] {
-  const plan = planBands(spill, windows, options);
+  return gridPlanned(spill, planBands(spill, windows, options), windows, options, mode);
+}
+
+function gridPlanned(spill: PointSpill, plan: BandPlan, windows: SliceWindow[], options: SpillGridOptions, mode: SliceMode): SliceStack[] {
   const cells = plan.grid.width * plan.grid.height;
   const out = bandsOf(new ArrayBuffer(cells * spill.nValues * 4), spill.nValues, cells);
   const buf = new BandBuffers(spill.nValues, false);

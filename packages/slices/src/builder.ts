@@ -36,8 +36,8 @@ export interface SliceBuilderOptions {
  * Collects per-trace slice values line by line, then grids them. The traces are never kept: each
  * line is reduced to its positions and nSlices floats per trace, which go to a `PointSpill` on disk.
  * Memory holds one line while adding, and the output grid (4 bytes per cell per slice) plus one row
- * band of points while gridding (`gridSpill`), whatever the number of lines. Call `dispose` (or grid
- * with `dispose: true`) to delete the spill.
+ * band of points while gridding (`gridSpill`), whatever the number of lines. Call `dispose` to
+ * delete the spill.
  */
 export class SliceBuilder {
   readonly windows: SliceWindow[];

@@ -125,8 +125,8 @@ export function nearestOtherLine(
   const { x: qx, y: qy, line: qLine } = queries;
   const [minX, minY, maxX, maxY] = options.bounds;
   const maxR = Math.hypot(maxX - minX, maxY - minY) + 1;
+  // best[q] is only ever set to a distance within the radius of its pass, so it is final once set.
   const best = new Float64Array(qx.length).fill(Infinity);
-  const resolved = new Float64Array(qx.length).fill(Infinity);
   let pending = qx.map((_, q) => q);
   let r = options.startRadius;
   while (pending.length > 0) {
@@ -160,15 +160,10 @@ export function nearestOtherLine(
         }
       }
     }
-    const next: number[] = [];
-    for (const q of pending) {
-      if (best[q]! <= r) resolved[q] = best[q]!;
-      else if (r <= maxR) next.push(q);
-    }
-    pending = next;
+    pending = r <= maxR ? pending.filter((q) => best[q] === Infinity) : [];
     r *= 2;
   }
-  return resolved;
+  return best;
 }
 
 export function median(values: ArrayLike<number>): number {

@@ -4,7 +4,6 @@ import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 export { mulberry32 as rng } from '@lamina/random';
-import { mulberry32 as rng } from '@lamina/random';
 
 export const GDAL_ENV = { ...process.env, GDAL_PAM_ENABLED: 'NO' };
 

@@ -5,19 +5,15 @@
  * tile is cut into pieces, each referencing the same file with a `traces` range (site.json), so no
  * samples are copied. The plan keeps every feature near enough to echo into the tile's record.
  */
-import { open, readFile, mkdir, writeFile } from 'node:fs/promises';
+import { readFile, mkdir, writeFile } from 'node:fs/promises';
 import { dirname, join, relative, resolve } from 'node:path';
 import { InputError } from '@lamina/errors';
 import { stageFolder } from '@lamina/atomic';
 import { openSegy, type SegyReader } from '@lamina/radar-data';
-import { linePositions, loadSite, parsePositionsCsv, positionsFromFixes, positionsFromStartEnd, shownPath, type Geometry, type LineSource, type PlanFeature, type Site } from '@lamina/site';
+import { linePositions, loadSite, shownPath, type Geometry, type LineSource, type PlanFeature, type Site } from '@lamina/site';
 
 /** Speed of light in air, m/ns (the project's constant). */
 const C = 0.2998;
-/** SEG-Y rev 2 binary header: bytes 3513-3520 number of traces (u64), 3529-3532 trailer stanzas (i32). */
-const TRACE_COUNT_OFFSET = 3512;
-const TRAILER_OFFSET = 3528;
-const COPY_BYTES = 8 * 2 ** 20;
 
 export type Box = [number, number, number, number];
 
