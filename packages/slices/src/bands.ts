@@ -15,14 +15,15 @@ export interface SpillGridOptions extends GridOptions {
   bandBytes?: number;
 }
 
-/** The plan of a banded gridding: grid, parameters, row bands. */
+/** The plan of a banded gridding: grid, parameters, the points each row band would hold. */
 interface BandPlan {
   grid: SliceGrid;
   idw: Required<IdwOptions>;
   geometry: SurveyGeometry;
-  bands: [number, number][];
-  /** Points the largest band holds (from the row histogram: an estimate). */
-  largestBand: number;
+  /** Points (at most) that rows [r0, r1) and their margin hold, from the row histogram. */
+  held: (r0: number, r1: number) => number;
+  /** Points a band may hold. */
+  budget: number;
   /** Rows of margin around a band: every point within the search radius of its cell centres. */
   marginRows: number;
   factors: Float64Array | undefined;
@@ -40,47 +41,126 @@ interface BandPlan {
  * e.g. after and before a processing step): one neighbour search per cell serves all; one stack each is returned.
  */
 export async function gridSpill(spill: PointSpill, windows: SliceWindow[], options: SpillGridOptions, mode: SliceMode = 'mean-square'): Promise<SliceStack[]> {
-  const plan = planBands(spill, windows, options);
-  const threads = options.threads ?? 1;
-  const nValues = spill.nValues;
-  const cells = plan.grid.width * plan.grid.height;
-  // Small grids are not worth the workers.
-  if (threads <= 1 || cells * nValues < 2e6) return gridPlanned(spill, plan, windows, options, mode);
-  const buffer = new SharedArrayBuffer(cells * nValues * 4);
-  const workers: IdwWorkers = idwWorkers(threads);
+  const gridder = SpillGridder.open(spill, windows, options, mode);
   try {
-    const buf = new BandBuffers(nValues, true);
-    buf.reserve(plan.largestBand);
-    for (const [r0, r1] of plan.bands) {
-      const n = loadBand(spill, plan, r0, r1, buf);
-      const tree = buildIndex(buf.coords.subarray(0, 2 * n), searchFrame(plan.idw), true);
-      await workers.rows(tree, n, buf.values.buffer as unknown as SharedArrayBuffer, nValues, plan.grid, plan.idw, r0, r1, buffer, spill.hasNaN);
-    }
+    return await gridder.rows(0, gridder.grid.height);
   } finally {
-    await workers.close();
+    await gridder.close();
   }
-  return stacksOf(bandsOf(buffer, nValues, cells), plan, windows, options, mode, spill);
 }
 
 /** `gridSpill` on the calling thread. */
 export function gridSpillSync(spill: PointSpill, windows: SliceWindow[], options: SpillGridOptions, mode: SliceMode = 'mean-square'): SliceStack[] {
-  return gridPlanned(spill, planBands(spill, windows, options), windows, options, mode);
+  const gridder = SpillGridder.open(spill, windows, { ...options, threads: 1 }, mode);
+  return gridder.rowsSync(0, gridder.grid.height);
 }
 
-function gridPlanned(spill: PointSpill, plan: BandPlan, windows: SliceWindow[], options: SpillGridOptions, mode: SliceMode): SliceStack[] {
-  const cells = plan.grid.width * plan.grid.height;
-  const out = bandsOf(new ArrayBuffer(cells * spill.nValues * 4), spill.nValues, cells);
-  const buf = new BandBuffers(spill.nValues, false);
-  buf.reserve(plan.largestBand);
-  for (const [r0, r1] of plan.bands) {
-    const n = loadBand(spill, plan, r0, r1, buf);
-    idwRows(buildIndex(buf.coords.subarray(0, 2 * n), searchFrame(plan.idw)), n, buf.values, spill.nValues, plan.grid, plan.idw, r0, r1, out, spill.hasNaN);
+/**
+ * A banded gridding kept open to fill any rows of the grid, one call at a time: `rows(r0, r1)` returns
+ * the stacks of rows [r0, r1) on their own sub-grid (the grid's origin moved down r0 rows), with the
+ * cells the whole grid would have there. The grid, the levelling factors and the point histogram are
+ * worked out once; the gridding workers live until `close()`. Memory: the rows asked for plus one band
+ * of points.
+ */
+export class SpillGridder {
+  private workers: IdwWorkers | undefined;
+  private readonly buffers: { shared?: BandBuffers; local?: BandBuffers } = {};
+  /** Point bands filled so far, over all calls. */
+  pointBands = 0;
+
+  private constructor(
+    private readonly spill: PointSpill,
+    private readonly plan: BandPlan,
+    private readonly windows: SliceWindow[],
+    private readonly options: SpillGridOptions,
+    private readonly mode: SliceMode,
+  ) {}
+
+  static open(spill: PointSpill, windows: SliceWindow[], options: SpillGridOptions, mode: SliceMode = 'mean-square'): SpillGridder {
+    return new SpillGridder(spill, planBands(spill, windows, options), windows, options, mode);
   }
-  return stacksOf(out, plan, windows, options, mode, spill);
+
+  /** The whole output grid. */
+  get grid(): SliceGrid {
+    return { ...this.plan.grid };
+  }
+
+  /** What slices.json records of the gridding (`rowBands`: the point bands filled so far). */
+  get gridding(): GriddingInfo {
+    const { plan, spill, options, mode } = this;
+    return { ...griddingInfo(plan.geometry, plan.idw, options, mode, spill.lineCount, spill.traceCount), rowBands: this.pointBands };
+  }
+
+  async rows(r0: number, r1: number): Promise<SliceStack[]> {
+    const { spill, plan } = this;
+    const threads = this.options.threads ?? 1;
+    const outRows = r1 - r0;
+    const cells = plan.grid.width * outRows;
+    const nValues = spill.nValues;
+    // Small grids are not worth the workers.
+    if (threads <= 1 || cells * nValues < 2e6) return this.rowsSync(r0, r1);
+    const buffer = new SharedArrayBuffer(cells * nValues * 4);
+    this.workers ??= idwWorkers(threads);
+    const buf = (this.buffers.shared ??= new BandBuffers(nValues, true));
+    for (const [b0, b1] of pointBands(plan, r0, r1)) {
+      buf.reserve(plan.held(b0, b1));
+      const n = loadBand(spill, plan, b0, b1, buf);
+      const tree = buildIndex(buf.coords.subarray(0, 2 * n), searchFrame(plan.idw), true);
+      await this.workers.rows(tree, n, buf.values.buffer as unknown as SharedArrayBuffer, nValues, plan.grid, plan.idw, b0, b1, buffer, spill.hasNaN, r0, outRows);
+      this.pointBands++;
+    }
+    return this.stacksOf(bandsOf(buffer, nValues, cells), r0, r1);
+  }
+
+  /** `rows` on the calling thread. */
+  rowsSync(r0: number, r1: number): SliceStack[] {
+    const { spill, plan } = this;
+    const cells = plan.grid.width * (r1 - r0);
+    const out = bandsOf(new ArrayBuffer(cells * spill.nValues * 4), spill.nValues, cells);
+    const buf = (this.buffers.local ??= new BandBuffers(spill.nValues, false));
+    for (const [b0, b1] of pointBands(plan, r0, r1)) {
+      buf.reserve(plan.held(b0, b1));
+      const n = loadBand(spill, plan, b0, b1, buf);
+      idwRows(buildIndex(buf.coords.subarray(0, 2 * n), searchFrame(plan.idw)), n, buf.values, spill.nValues, plan.grid, plan.idw, b0, b1, out, spill.hasNaN, r0);
+      this.pointBands++;
+    }
+    return this.stacksOf(out, r0, r1);
+  }
+
+  async close(): Promise<void> {
+    const w = this.workers;
+    this.workers = undefined;
+    if (w) await w.close();
+  }
+
+  private stacksOf(out: Float32Array[], r0: number, r1: number): SliceStack[] {
+    const { windows } = this;
+    const ns = windows.length;
+    const g = this.plan.grid;
+    const grid: SliceGrid = r0 === 0 && r1 === g.height ? { ...g } : { ...g, originY: g.originY - r0 * g.cellSize, height: r1 - r0 };
+    const gridding = this.gridding;
+    return Array.from({ length: this.spill.nValues / ns }, (_, s) => ({
+      grid: { ...grid },
+      slices: windows.map((w, k) => ({ index: w.index, topM: w.topM, bottomM: w.bottomM, values: out[s * ns + k]! })),
+      gridding: { ...gridding },
+    }));
+  }
 }
 
 function bandsOf(buffer: ArrayBufferLike, nValues: number, cells: number): Float32Array[] {
   return Array.from({ length: nValues }, (_, b) => new Float32Array(buffer, b * cells * 4, cells));
+}
+
+/** Rows [r0, r1) cut greedily into bands whose points fit the plan's budget (at least one row each). */
+function pointBands(plan: BandPlan, r0: number, r1: number): [number, number][] {
+  const bands: [number, number][] = [];
+  for (let a = r0; a < r1; ) {
+    let b = a + 1;
+    while (b < r1 && plan.held(a, b + 1) <= plan.budget) b++;
+    bands.push([a, b]);
+    a = b;
+  }
+  return bands;
 }
 
 function planBands(spill: PointSpill, windows: SliceWindow[], options: SpillGridOptions): BandPlan {
@@ -108,15 +188,7 @@ function planBands(spill: PointSpill, windows: SliceWindow[], options: SpillGrid
   const held = (r0: number, r1: number) => prefix[Math.min(height, r1 + marginRows)]! - prefix[Math.max(0, r0 - marginRows)]!;
   // per point: 16 B position, 4 B per value, the kd-tree's 16 B position and 4 B id
   const budget = Math.max(1, Math.floor((options.bandBytes ?? 64 * 2 ** 20) / (36 + 4 * spill.nValues)));
-  const bands: [number, number][] = [];
-  for (let r0 = 0; r0 < height; ) {
-    let r1 = r0 + 1;
-    while (r1 < height && held(r0, r1 + 1) <= budget) r1++;
-    bands.push([r0, r1]);
-    r0 = r1;
-  }
-  const largestBand = Math.max(0, ...bands.map(([r0, r1]) => held(r0, r1)));
-  return { grid, idw, geometry, bands, largestBand, marginRows, factors, lineStarts };
+  return { grid, idw, geometry, held, budget, marginRows, factors, lineStarts };
 }
 
 /** Buffers for one band of points, reused from band to band (grown when a band holds more). */
@@ -168,16 +240,6 @@ function loadBand(spill: PointSpill, plan: BandPlan, r0: number, r1: number, buf
     { values: true },
   );
   return k;
-}
-
-function stacksOf(out: Float32Array[], plan: BandPlan, windows: SliceWindow[], options: GridOptions, mode: SliceMode, spill: PointSpill): SliceStack[] {
-  const ns = windows.length;
-  const gridding = { ...griddingInfo(plan.geometry, plan.idw, options, mode, spill.lineCount, spill.traceCount), rowBands: plan.bands.length };
-  return Array.from({ length: spill.nValues / ns }, (_, s) => ({
-    grid: { ...plan.grid },
-    slices: windows.map((w, k) => ({ index: w.index, topM: w.topM, bottomM: w.bottomM, values: out[s * ns + k]! })),
-    gridding: { ...gridding },
-  }));
 }
 
 /** What slices.json records of the gridding. */

@@ -44,9 +44,23 @@ export function shared(values: Float32Array): SharedArrayBuffer {
 export interface IdwWorkers {
   /**
    * Grid rows [rowStart, rowEnd) into `out` (band b at byte offset b * cells * 4), the tree built with
-   * `buildIndex(..., shared = true)`, on the workers.
+   * `buildIndex(..., shared = true)`, on the workers. `out` may hold only the grid's rows
+   * [outRow0, outRow0 + outRows) (band b at byte offset b * width * outRows * 4).
    */
-  rows(tree: KDBush, n: number, values: SharedArrayBuffer, nBands: number, grid: SliceGrid, options: IdwOptions, rowStart: number, rowEnd: number, out: SharedArrayBuffer, anyNaN: boolean): Promise<void>;
+  rows(
+    tree: KDBush,
+    n: number,
+    values: SharedArrayBuffer,
+    nBands: number,
+    grid: SliceGrid,
+    options: IdwOptions,
+    rowStart: number,
+    rowEnd: number,
+    out: SharedArrayBuffer,
+    anyNaN: boolean,
+    outRow0?: number,
+    outRows?: number,
+  ): Promise<void>;
   close(): Promise<void>;
 }
 
@@ -54,7 +68,7 @@ export interface IdwWorkers {
 export function idwWorkers(threads: number): IdwWorkers {
   const workers = Array.from({ length: Math.max(1, threads) }, () => new Worker(new URL('./idw-worker-boot.mjs', import.meta.url)));
   return {
-    rows: async (tree, n, values, nBands, grid, options, rowStart, rowEnd, out, anyNaN) => {
+    rows: async (tree, n, values, nBands, grid, options, rowStart, rowEnd, out, anyNaN, outRow0 = 0, outRows = grid.height) => {
       const height = rowEnd - rowStart;
       const block = Math.max(1, Math.ceil(height / (workers.length * 8)));
       let nextRow = rowStart;
@@ -82,7 +96,7 @@ export function idwWorkers(threads: number): IdwWorkers {
                 }
                 const start = nextRow;
                 nextRow = Math.min(rowEnd, nextRow + block);
-                const job: IdwJob = { index: tree.data as SharedArrayBuffer, n, values, nBands, grid, options, out, rowStart: start, rowEnd: nextRow, anyNaN };
+                const job: IdwJob = { index: tree.data as SharedArrayBuffer, n, values, nBands, grid, options, out, rowStart: start, rowEnd: nextRow, anyNaN, outRow0, outRows };
                 w.postMessage(job);
               };
               w.on('message', onMessage);

@@ -15,15 +15,18 @@ export interface IdwJob {
   rowStart: number;
   rowEnd: number;
   anyNaN: boolean;
+  /** `out` holds rows [outRow0, outRow0 + outRows) of the grid. */
+  outRow0: number;
+  outRows: number;
 }
 
 parentPort!.on('message', (job: IdwJob) => {
   try {
     const tree = KDBush.from(job.index);
     const values = new Float32Array(job.values);
-    const cells = job.grid.width * job.grid.height;
+    const cells = job.grid.width * job.outRows;
     const out = Array.from({ length: job.nBands }, (_, b) => new Float32Array(job.out, b * cells * 4, cells));
-    idwRows(tree, job.n, values, job.nBands, job.grid, job.options, job.rowStart, job.rowEnd, out, job.anyNaN);
+    idwRows(tree, job.n, values, job.nBands, job.grid, job.options, job.rowStart, job.rowEnd, out, job.anyNaN, job.outRow0);
     parentPort!.postMessage({ ok: true });
   } catch (e) {
     parentPort!.postMessage({ ok: false, error: e instanceof Error ? e.message : String(e) });

@@ -176,7 +176,11 @@ export function hasNaN(values: Float32Array): boolean {
   return false;
 }
 
-/** The kernel of `idwGrid` for rows [rowStart, rowEnd) into preallocated `out` bands (also run by workers). */
+/**
+ * The kernel of `idwGrid` for rows [rowStart, rowEnd) into preallocated `out` bands (also run by workers).
+ * `out` holds the grid's rows from `outRow0` on (row r at (r - outRow0) * width): a band of a grid is
+ * gridded at the grid's own cell centres, so its cells equal the whole grid's.
+ */
 export function idwRows(
   tree: KDBush,
   n: number,
@@ -188,6 +192,7 @@ export function idwRows(
   rowEnd: number,
   out: Float32Array[],
   anyNaN = hasNaN(values),
+  outRow0 = 0,
 ): void {
   const frame = searchFrame(options);
   const power = options.power ?? 2;
@@ -208,7 +213,7 @@ export function idwRows(
       const x = grid.originX + (col + 0.5) * cellSize;
       const qx = x * frame.ex + y * frame.ey;
       const qy = x * frame.nx + y * frame.ny;
-      const cell = row * width + col;
+      const cell = (row - outRow0) * width + col;
       const found = n === 0 ? 0 : nearestWithin(tree, qx, qy, r, k, ids, d2, stack);
       if (found < minPoints || found === 0) {
         for (let b = 0; b < nBands; b++) out[b]![cell] = nodata;

@@ -19,4 +19,4 @@ export { type SlicesJson, type WriteSlicesOptions, SLICES_TIF, SLICES_JSON, epsg
 export { idwGridParallel } from './idw-parallel';
 export { type GridOptions, resolveGrid } from './grid-options';
 export { PointSpill } from './spill';
-export { type SpillGridOptions, gridSpill, gridSpillSync } from './bands';
+export { type SpillGridOptions, SpillGridder, gridSpill, gridSpillSync } from './bands';

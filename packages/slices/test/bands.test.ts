@@ -5,7 +5,7 @@
 import { existsSync, readdirSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { gridPoints, gridSpill, gridSpillSync, PointSpill, sliceWindows, surveyGeometry, surveyGeometryOf, SliceBuilder, constantModel } from '../src';
+import { gridPoints, gridSpill, gridSpillSync, PointSpill, SpillGridder, sliceWindows, surveyGeometry, surveyGeometryOf, SliceBuilder, constantModel } from '../src';
 import { rng, tempDir } from './gdal';
 
 /** Wiggly, unevenly spaced lines of our own (GPS-like jitter), values per trace with some NaN. */
@@ -111,6 +111,31 @@ describe('gridding in row bands from a point spill', () => {
       expect(one.grid.width * one.grid.height * 40).toBeGreaterThan(2e6);
       expect(two.gridding!.rowBands).toBeGreaterThan(1);
       for (let k = 0; k < 40; k += 7) expect(Buffer.from(two.slices[k]!.values.buffer, two.slices[k]!.values.byteOffset, two.slices[k]!.values.byteLength).equals(Buffer.from(one.slices[k]!.values.buffer, one.slices[k]!.values.byteOffset, one.slices[k]!.values.byteLength))).toBe(true);
+    } finally {
+      spill.remove();
+    }
+  });
+
+  it('any rows, asked for one band at a time (overlapping, 1 and 2 threads), equal the same rows of the whole grid', async () => {
+    const lines = survey(40, 400, 40, 3);
+    const w40 = sliceWindows(0, 2, { thicknessM: 0.05 }).slice(0, 40);
+    const spill = spillOf(lines, 40);
+    try {
+      const opts = { crs, cellSizeM: 0.05, bandBytes: 400000 };
+      const whole = gridSpillSync(spill, w40, opts)[0]!;
+      const { width, height, originY, cellSize } = whole.grid;
+      for (const threads of [1, 2]) {
+        const gridder = SpillGridder.open(spill, w40, { ...opts, threads });
+        try {
+          for (const [r0, r1] of [[0, 37], [20, Math.floor(height / 2)], [Math.floor(height / 2) - 5, height], [height - 1, height]] as const) {
+            const band = (await gridder.rows(r0, r1))[0]!;
+            expect(band.grid).toEqual({ ...whole.grid, originY: originY - r0 * cellSize, height: r1 - r0 });
+            for (let k = 0; k < 40; k += 13) expect(Array.from(band.slices[k]!.values)).toEqual(Array.from(whole.slices[k]!.values.subarray(r0 * width, r1 * width)));
+          }
+        } finally {
+          await gridder.close();
+        }
+      }
     } finally {
       spill.remove();
     }
