@@ -40,10 +40,18 @@ export interface CogOptions {
   overviews?: boolean;
 }
 
-interface Level {
+/** Width and height of one level of the pyramid (full resolution first). */
+export interface LevelSize {
   width: number;
   height: number;
-  bands: Float32Array[];
+}
+
+/** The options that shape the bytes, with their defaults applied once. */
+export interface CogSettings {
+  tileSize: number;
+  predictor: 1 | 3;
+  level: number;
+  nodata: number;
 }
 
 // TIFF field types
@@ -62,36 +70,74 @@ interface Tag {
  * Encode Float32 bands (row-major, `width * height` each) as a cloud-optimised GeoTIFF: little-endian
  * classic TIFF, pixel-interleaved tiles, DEFLATE, internal overviews, all IFDs before the data, tiles of the
  * smallest overview first, and GDAL's structural metadata (block leader and trailer) so GDAL's COG
- * validator can check the layout in full.
+ * validator can check the layout in full. `encodeCogFile` writes the same bytes from rows on disk.
  */
 export async function encodeCog(bands: Float32Array[], width: number, height: number, options: CogOptions): Promise<Uint8Array> {
-  const nBands = bands.length;
-  if (nBands === 0) throw new Error('encodeCog: expected at least one band, found none');
-  if (nBands > 65535) throw new Error(`encodeCog: expected at most 65535 bands, found ${nBands}`);
+  checkBandCount(bands.length, 'encodeCog');
   for (const [i, b] of bands.entries()) {
     if (b.length !== width * height) throw new Error(`encodeCog: band ${i} has ${b.length} values, expected ${width * height}`);
   }
-  const tileSize = options.tileSize ?? 256;
-  if (tileSize % 16 !== 0 || tileSize <= 0) throw new Error(`encodeCog: tileSize must be a positive multiple of 16, found ${tileSize}`);
-  const predictor = options.predictor ?? 3;
-  const level = options.level ?? 6;
-  const nodata = options.nodata ?? Number.NaN;
-
-  const levels: Level[] = [{ width, height, bands }];
-  if (options.overviews ?? true) {
-    let last = levels[0]!;
-    while (last.width > tileSize || last.height > tileSize) {
-      last = downsample(last, nodata);
-      levels.push(last);
-    }
+  const s = cogSettings(options, 'encodeCog');
+  const sizes = levelSizes(width, height, s.tileSize, options);
+  const levels: Float32Array[][] = [bands];
+  for (let li = 1; li < sizes.length; li++) {
+    const up = sizes[li - 1]!;
+    levels.push(levels[li - 1]!.map((b) => downsampleStrip(b, up.width, up.height, s.nodata)));
   }
 
   // Compress every tile of every level (zlib runs on the libuv pool, so tiles go in parallel).
   const tiles: Uint8Array[][] = [];
-  for (const lv of levels) tiles.push(await encodeLevel(lv, tileSize, nodata, predictor, level));
+  for (const [li, lv] of levels.entries()) {
+    const { width: w, height: h } = sizes[li]!;
+    const jobs: (() => Promise<Uint8Array>)[] = [];
+    for (let r0 = 0; r0 < h; r0 += s.tileSize) {
+      const r1 = Math.min(h, r0 + s.tileSize);
+      jobs.push(...tileJobs(lv.map((b) => b.subarray(r0 * w, r1 * w)), w, r1 - r0, s));
+    }
+    const done: Uint8Array[] = [];
+    await inOrder(jobs, (t) => done.push(t));
+    tiles.push(done);
+  }
 
+  const { header, total } = cogHeader(sizes, tiles.map((ts) => ts.map((t) => t.length)), bands.length, s, options, 'encodeCog');
+  const out = new Uint8Array(total);
+  out.set(header);
+  let pos = header.length;
+  for (let li = levels.length - 1; li >= 0; li--) for (const t of tiles[li]!) pos = putRecord(out, pos, t);
+  return out;
+}
+
+export function checkBandCount(nBands: number, fn: string): void {
+  if (nBands === 0) throw new Error(`${fn}: expected at least one band, found none`);
+  if (nBands > 65535) throw new Error(`${fn}: expected at most 65535 bands, found ${nBands}`);
+}
+
+export function cogSettings(o: CogOptions, fn: string): CogSettings {
+  const tileSize = o.tileSize ?? 256;
+  if (tileSize % 16 !== 0 || tileSize <= 0) throw new Error(`${fn}: tileSize must be a positive multiple of 16, found ${tileSize}`);
+  return { tileSize, predictor: o.predictor ?? 3, level: o.level ?? 6, nodata: o.nodata ?? Number.NaN };
+}
+
+/** Full resolution, then halved (rounding up) until the image fits one tile, as GDAL's COG driver does. */
+export function levelSizes(width: number, height: number, tileSize: number, o: CogOptions): LevelSize[] {
+  const sizes: LevelSize[] = [{ width, height }];
+  if (!(o.overviews ?? true)) return sizes;
+  let last = sizes[0]!;
+  while (last.width > tileSize || last.height > tileSize) {
+    last = { width: Math.ceil(last.width / 2), height: Math.ceil(last.height / 2) };
+    sizes.push(last);
+  }
+  return sizes;
+}
+
+/**
+ * Header, GDAL's structural metadata, every IFD and the out-of-line tag data: all the file before the
+ * first tile. Tiles follow as records (`putRecord`), smallest overview first, each level's in row-major
+ * order; `tileBytes[level][tile]` are their compressed sizes. `total` is the size of the whole file.
+ */
+export function cogHeader(sizes: LevelSize[], tileBytes: number[][], nBands: number, s: CogSettings, o: CogOptions, fn: string): { header: Uint8Array; total: number } {
   const ghost = structuralMetadata();
-  const ifdTags = levels.map((lv, i) => levelTags(lv, i, nBands, tileSize, predictor, options, nodata));
+  const ifdTags = sizes.map((lv, i) => levelTags(lv, i, nBands, s, o));
 
   // Layout: header | ghost | IFD0 .. IFDn | out-of-line tag data | tiles (smallest overview first).
   let pos = 8 + ghost.length;
@@ -105,24 +151,25 @@ export async function encodeCog(bands: Float32Array[], width: number, height: nu
   // First pass with placeholder offsets to size the out-of-line data.
   let extraSize = 0;
   for (const tags of ifdTags) for (const t of tags) extraSize += padEven(outOfLineSize(t));
-  let dataPos = extraStart + extraSize;
+  const dataStart = extraStart + extraSize;
+  let dataPos = dataStart;
   // Tile offsets: each tile has a 4-byte leader (its size) and a 4-byte trailer (its last 4 bytes again).
-  const tileOffsets: number[][] = levels.map(() => []);
-  for (let li = levels.length - 1; li >= 0; li--) {
-    for (const t of tiles[li]!) {
+  const tileOffsets: number[][] = sizes.map(() => []);
+  for (let li = sizes.length - 1; li >= 0; li--) {
+    for (const n of tileBytes[li]!) {
       dataPos += 4;
       tileOffsets[li]!.push(dataPos);
-      dataPos += t.length + 4;
+      dataPos += n + 4;
     }
   }
   const total = dataPos;
-  if (total > 0xffffffff) throw new Error(`encodeCog: ${total} bytes exceed the 4 GiB of a classic TIFF`);
+  if (total > 0xffffffff) throw new Error(`${fn}: ${total} bytes exceed the 4 GiB of a classic TIFF`);
   for (const [li, tags] of ifdTags.entries()) {
     setTag(tags, 324, tileOffsets[li]!);
-    setTag(tags, 325, tiles[li]!.map((t) => t.length));
+    setTag(tags, 325, tileBytes[li]!);
   }
 
-  const out = new Uint8Array(total);
+  const out = new Uint8Array(dataStart);
   const dv = new DataView(out.buffer);
   out[0] = 0x49;
   out[1] = 0x49;
@@ -150,16 +197,15 @@ export async function encodeCog(bands: Float32Array[], width: number, height: nu
     }
     dv.setUint32(p, li + 1 < ifdTags.length ? ifdOffsets[li + 1]! : 0, true);
   }
-  for (let li = levels.length - 1; li >= 0; li--) {
-    const ts = tiles[li]!;
-    for (const [k, t] of ts.entries()) {
-      const off = tileOffsets[li]![k]!;
-      dv.setUint32(off - 4, t.length, true);
-      out.set(t, off);
-      out.set(t.subarray(t.length - 4), off + t.length);
-    }
-  }
-  return out;
+  return { header: out, total };
+}
+
+/** Writes one tile's record at `at` (leader: its size; the tile; trailer: its last 4 bytes again); returns the end. */
+export function putRecord(out: Uint8Array, at: number, tile: Uint8Array): number {
+  new DataView(out.buffer, out.byteOffset, out.byteLength).setUint32(at, tile.length, true);
+  out.set(tile, at + 4);
+  out.set(tile.subarray(tile.length - 4), at + 4 + tile.length);
+  return at + tile.length + 8;
 }
 
 function structuralMetadata(): Uint8Array {
@@ -170,7 +216,8 @@ function structuralMetadata(): Uint8Array {
   return new TextEncoder().encode(head + body);
 }
 
-function levelTags(lv: Level, index: number, nBands: number, tileSize: number, predictor: number, o: CogOptions, nodata: number): Tag[] {
+function levelTags(lv: LevelSize, index: number, nBands: number, s: CogSettings, o: CogOptions): Tag[] {
+  const { tileSize, predictor, nodata } = s;
   const nTiles = Math.ceil(lv.width / tileSize) * Math.ceil(lv.height / tileSize);
   const tags: Tag[] = [
     { code: 254, type: LONG, values: [index === 0 ? 0 : 1] },
@@ -296,75 +343,85 @@ function padEven(n: number): number {
   return n + (n % 2);
 }
 
-/** Halve a level: each output pixel is the mean of the valid pixels of its 2x2 block, else nodata. */
-function downsample(lv: Level, nodata: number): Level {
-  const w = Math.ceil(lv.width / 2);
-  const h = Math.ceil(lv.height / 2);
+/**
+ * Halve `rows` rows of one band (a strip starting at an even row of its level): each output pixel is the
+ * mean of the valid pixels of its 2x2 block, else nodata. Output is `ceil(width / 2) * ceil(rows / 2)`.
+ */
+export function downsampleStrip(src: Float32Array, width: number, rows: number, nodata: number, out?: Float32Array): Float32Array {
+  const w = Math.ceil(width / 2);
+  const h = Math.ceil(rows / 2);
+  const dst = out ? out.subarray(0, w * h) : new Float32Array(w * h);
   const nanNodata = Number.isNaN(nodata);
-  const bands = lv.bands.map((src) => {
-    const dst = new Float32Array(w * h);
-    for (let r = 0; r < h; r++) {
-      for (let c = 0; c < w; c++) {
-        let sum = 0;
-        let n = 0;
-        for (let dr = 0; dr < 2; dr++) {
-          const sr = 2 * r + dr;
-          if (sr >= lv.height) continue;
-          for (let dc = 0; dc < 2; dc++) {
-            const sc = 2 * c + dc;
-            if (sc >= lv.width) continue;
-            const v = src[sr * lv.width + sc]!;
-            if (nanNodata ? Number.isNaN(v) : v === nodata || Number.isNaN(v)) continue;
-            sum += v;
-            n++;
-          }
+  for (let r = 0; r < h; r++) {
+    for (let c = 0; c < w; c++) {
+      let sum = 0;
+      let n = 0;
+      for (let dr = 0; dr < 2; dr++) {
+        const sr = 2 * r + dr;
+        if (sr >= rows) continue;
+        for (let dc = 0; dc < 2; dc++) {
+          const sc = 2 * c + dc;
+          if (sc >= width) continue;
+          const v = src[sr * width + sc]!;
+          if (nanNodata ? Number.isNaN(v) : v === nodata || Number.isNaN(v)) continue;
+          sum += v;
+          n++;
         }
-        dst[r * w + c] = n > 0 ? sum / n : nodata;
       }
-    }
-    return dst;
-  });
-  return { width: w, height: h, bands };
-}
-
-async function encodeLevel(lv: Level, ts: number, nodata: number, predictor: number, level: number): Promise<Uint8Array[]> {
-  const nb = lv.bands.length;
-  const across = Math.ceil(lv.width / ts);
-  const down = Math.ceil(lv.height / ts);
-  const jobs: (() => Promise<Uint8Array>)[] = [];
-  for (let ty = 0; ty < down; ty++) {
-    for (let tx = 0; tx < across; tx++) {
-      jobs.push(async () => {
-        const tile = new Float32Array(ts * ts * nb).fill(nodata);
-        for (let r = 0; r < ts; r++) {
-          const sr = ty * ts + r;
-          if (sr >= lv.height) break;
-          const c1 = Math.min(ts, lv.width - tx * ts);
-          for (let b = 0; b < nb; b++) {
-            const src = lv.bands[b]!;
-            const base = sr * lv.width + tx * ts;
-            let o = r * ts * nb + b;
-            for (let c = 0; c < c1; c++, o += nb) tile[o] = src[base + c]!;
-          }
-        }
-        let bytes: Uint8Array = new Uint8Array(tile.buffer);
-        if (predictor === 3) bytes = floatPredict(bytes, ts, ts * nb, nb);
-        const z = await deflateAsync(bytes, { level });
-        return new Uint8Array(z.buffer, z.byteOffset, z.length);
-      });
+      dst[r * w + c] = n > 0 ? sum / n : nodata;
     }
   }
-  // A few tiles in flight keep both cores busy without holding every uncompressed tile at once.
-  const out: Uint8Array[] = new Array<Uint8Array>(jobs.length);
+  return dst;
+}
+
+/**
+ * One row of tiles: `strip[b]` holds `rows` (at most tileSize) rows of band b, `width` wide. Each job packs
+ * its tile when it runs (pixel-interleaved, padded with nodata), applies the predictor and deflates it.
+ */
+export function tileJobs(strip: Float32Array[], width: number, rows: number, s: CogSettings): (() => Promise<Uint8Array>)[] {
+  const { tileSize: ts, nodata, predictor, level } = s;
+  const nb = strip.length;
+  const jobs: (() => Promise<Uint8Array>)[] = [];
+  for (let x0 = 0; x0 < width; x0 += ts) {
+    jobs.push(async () => {
+      const tile = new Float32Array(ts * ts * nb).fill(nodata);
+      const c1 = Math.min(ts, width - x0);
+      for (let r = 0; r < rows; r++) {
+        for (let b = 0; b < nb; b++) {
+          const src = strip[b]!;
+          const base = r * width + x0;
+          let o = r * ts * nb + b;
+          for (let c = 0; c < c1; c++, o += nb) tile[o] = src[base + c]!;
+        }
+      }
+      let bytes: Uint8Array = new Uint8Array(tile.buffer);
+      if (predictor === 3) bytes = floatPredict(bytes, ts, ts * nb, nb);
+      const z = await deflateAsync(bytes, { level });
+      return new Uint8Array(z.buffer, z.byteOffset, z.length);
+    });
+  }
+  return jobs;
+}
+
+/**
+ * Runs the jobs a few at a time (enough to keep the cores busy without every uncompressed tile at once)
+ * and hands each result to `consume` in job order as soon as it and those before it are done.
+ */
+export async function inOrder<T>(jobs: (() => Promise<T>)[], consume: (value: T, i: number) => void, n = 4): Promise<void> {
+  const done = new Map<number, T>();
   let next = 0;
+  let emit = 0;
   const worker = async () => {
     while (next < jobs.length) {
       const i = next++;
-      out[i] = await jobs[i]!();
+      done.set(i, await jobs[i]!());
+      for (let v = done.get(emit); v !== undefined; v = done.get(emit)) {
+        done.delete(emit);
+        consume(v, emit++);
+      }
     }
   };
-  await Promise.all([worker(), worker(), worker(), worker()]);
-  return out;
+  await Promise.all(Array.from({ length: n }, worker));
 }
 
 /**

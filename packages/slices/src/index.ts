@@ -20,3 +20,4 @@ export { idwGridParallel } from './idw-parallel';
 export { type GridOptions, resolveGrid } from './grid-options';
 export { PointSpill } from './spill';
 export { type SpillGridOptions, SpillGridder, gridSpill, gridSpillSync } from './bands';
+export { DiskStack, writeSlicesFromDisk } from './disk-stack';

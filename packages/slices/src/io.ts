@@ -1,8 +1,8 @@
 import { mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
-import { encodeCog, readGeoTiff, type CogCrs } from '@lamina/cog';
+import { encodeCog, readGeoTiff, type CogCrs, type CogOptions } from '@lamina/cog';
 import { InputError } from '@lamina/errors';
-import type { GriddingInfo, SliceGrid, SliceStack } from './stack';
+import type { GriddingInfo, Slice, SliceGrid, SliceStack } from './stack';
 import { sliceStats, type SliceStats } from './stats';
 
 /** The content of slices.json (a contract: the anomalies, screening and viewer packages read it). */
@@ -61,27 +61,43 @@ function describe(topM: number, bottomM: number): string {
 /** Write `slices.tif` (multi-band Float32 COG) and `slices.json` into `outDir`, each via a temporary file and rename. */
 export async function writeSlices(stack: SliceStack, outDir: string, options: WriteSlicesOptions = {}): Promise<SlicesJson> {
   const g = stack.grid;
-  if (!Number.isFinite(g.nodata)) throw new Error(`nodata must be a finite number (JSON has no NaN), found ${g.nodata}`);
+  checkNodata(g);
   const scratch = new Float32Array(g.width * g.height);
   const stats = stack.slices.map((s) => s.stats ?? sliceStats(s.values, g.nodata, scratch));
   const tif = await encodeCog(
     stack.slices.map((s) => s.values),
     g.width,
     g.height,
-    {
-      originX: g.originX,
-      originY: g.originY,
-      pixelSize: g.cellSize,
-      crs: cogCrs(g),
-      nodata: g.nodata,
-      descriptions: stack.slices.map((s) => describe(s.topM, s.bottomM)),
-      bandMetadata: stack.slices.map((s) => ({ TOP_M: String(s.topM), BOTTOM_M: String(s.bottomM) })),
-      metadata: { SLICE_VALUE: stack.gridding?.mode ?? 'mean-square', DEPTH_UNIT: 'metre' },
-      tileSize: options.tileSize ?? 256,
-      level: options.level ?? 1,
-    },
+    slicesCogOptions(g, stack.slices, stack.gridding, options),
   );
-  const json: SlicesJson = {
+  return writeSlicesFiles(outDir, slicesJsonOf(g, stack.slices, stats, stack.gridding), (tmp) => writeFile(tmp, tif));
+}
+
+/** What slices.tif and slices.json say of a slice besides its values. */
+export type SliceDepth = Pick<Slice, 'index' | 'topM' | 'bottomM'>;
+
+export function checkNodata(g: SliceGrid): void {
+  if (!Number.isFinite(g.nodata)) throw new Error(`nodata must be a finite number (JSON has no NaN), found ${g.nodata}`);
+}
+
+/** The COG options of slices.tif: grid, CRS, band descriptions and metadata. */
+export function slicesCogOptions(g: SliceGrid, slices: SliceDepth[], gridding: GriddingInfo | undefined, options: WriteSlicesOptions): CogOptions {
+  return {
+    originX: g.originX,
+    originY: g.originY,
+    pixelSize: g.cellSize,
+    crs: cogCrs(g),
+    nodata: g.nodata,
+    descriptions: slices.map((s) => describe(s.topM, s.bottomM)),
+    bandMetadata: slices.map((s) => ({ TOP_M: String(s.topM), BOTTOM_M: String(s.bottomM) })),
+    metadata: { SLICE_VALUE: gridding?.mode ?? 'mean-square', DEPTH_UNIT: 'metre' },
+    tileSize: options.tileSize ?? 256,
+    level: options.level ?? 1,
+  };
+}
+
+export function slicesJsonOf(g: SliceGrid, slices: SliceDepth[], stats: SliceStats[], gridding: GriddingInfo | undefined): SlicesJson {
+  return {
     version: 1,
     file: SLICES_TIF,
     crs: g.crs,
@@ -94,8 +110,8 @@ export async function writeSlices(stack: SliceStack, outDir: string, options: Wr
     width: g.width,
     height: g.height,
     nodata: g.nodata,
-    gridding: stack.gridding ?? null,
-    slices: stack.slices.map((s, k) => ({
+    gridding: gridding ?? null,
+    slices: slices.map((s, k) => ({
       index: s.index,
       band: k + 1,
       topM: s.topM,
@@ -103,9 +119,13 @@ export async function writeSlices(stack: SliceStack, outDir: string, options: Wr
       stats: nullable(stats[k]!),
     })),
   };
+}
+
+/** slices.tif (written by `writeTif` to the temporary name it is given), then slices.json; each renamed into place. */
+export async function writeSlicesFiles(outDir: string, json: SlicesJson, writeTif: (tmp: string) => Promise<unknown>): Promise<SlicesJson> {
   await mkdir(outDir, { recursive: true });
-  await writeReplace(join(outDir, SLICES_TIF), tif);
-  await writeReplace(join(outDir, SLICES_JSON), `${JSON.stringify(json, null, 2)}\n`);
+  await replaceWith(join(outDir, SLICES_TIF), writeTif);
+  await replaceWith(join(outDir, SLICES_JSON), (tmp) => writeFile(tmp, `${JSON.stringify(json, null, 2)}\n`));
   return json;
 }
 
@@ -115,10 +135,10 @@ function nullable(s: SliceStats): NullableStats {
   return out;
 }
 
-async function writeReplace(path: string, data: string | Uint8Array) {
+async function replaceWith(path: string, write: (tmp: string) => Promise<unknown>) {
   const tmp = `${path}.${process.pid}.tmp`;
   try {
-    await writeFile(tmp, data);
+    await write(tmp);
     await rename(tmp, path);
   } catch (e) {
     await rm(tmp, { force: true });
