@@ -57,15 +57,18 @@ export function extractAnomalies(stack: SliceStack, options: ExtractOptions = {}
 
 /** A member (one slice's component) from its cells and the slice's robust scores. */
 export function makeMember(id: number, si: number, cells: Int32Array, stack: SliceStack, z: Float32Array, options: ShapeOptions = {}): Member {
+  return memberOf(id, si, cells, Float32Array.from(cells, (k) => z[k]!), stack, options);
+}
+
+/** A member from its cells and each cell's robust score (same order as `cells`, ascending). */
+export function memberOf(id: number, si: number, cells: Int32Array, scores: Float32Array, stack: SliceStack, options: ShapeOptions = {}): Member {
   const { grid } = stack;
   const slice = stack.slices[si]!;
   const mpu = options.metresPerUnit ?? 1;
-  const sc = new Float32Array(cells.length);
   let sw = 0, sx = 0, sy = 0, peakValue = -Infinity, peakScore = -Infinity;
   for (let i = 0; i < cells.length; i++) {
     const k = cells[i]!;
-    const s = z[k]!;
-    sc[i] = s;
+    const s = scores[i]!;
     const r = (k / grid.width) | 0;
     const w = Math.max(s, 1e-6);
     sw += w;
@@ -80,7 +83,7 @@ export function makeMember(id: number, si: number, cells: Int32Array, stack: Sli
     topM: slice.topM,
     bottomM: slice.bottomM,
     cells,
-    scores: sc,
+    scores,
     x: sx / sw,
     y: sy / sw,
     areaM2: cells.length * (grid.cellSize * mpu) ** 2,

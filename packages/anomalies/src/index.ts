@@ -4,4 +4,4 @@ export { components } from './components';
 export { traceOutline, ringArea, pointInRing, outlineArea } from './outline';
 export { cellShape, moments, centreline, type ShapeOptions } from './shape';
 export { linkMembers, type LinkOptions } from './link';
-export { extractAnomalies, buildAnomaly, makeMember, type ExtractOptions, type Extraction } from './extract';
+export { extractAnomalies, buildAnomaly, makeMember, memberOf, type ExtractOptions, type Extraction } from './extract';

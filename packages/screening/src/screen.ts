@@ -54,6 +54,8 @@ export interface ScreenOptions extends ExtractOptions, ToleranceOptions {
   migrationVelocityMPerNs?: number;
   /** Split an above-ground anomaly's off-locus members into their own anomaly when they span this many slices. @default 2 */
   splitMinSlices?: number;
+  /** Forecast the loci (`forecast` of the result); false leaves it empty (a caller screening in bands forecasts once). @default true */
+  forecast?: boolean;
 }
 
 export interface ScreenedAnomaly {
@@ -235,13 +237,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
       yield f;
     }
   }
-  const forecast = forecastLoci(plan, velocity, lines, mpu, toWgs84, {
-    grid,
-    surveyed: mask,
-    slices: stack.slices.map((s, i) => ({ index: i, topM: s.topM, bottomM: s.bottomM })),
-    ...(options.antennaFrequencyMHz ? { antennaFrequencyMHz: options.antennaFrequencyMHz } : {}),
-    ...(options.antennaSeparationM ? { antennaSeparationM: options.antennaSeparationM } : {}),
-  });
+  const forecast: FeatureCollection = options.forecast === false ? { type: 'FeatureCollection', features: [], caution: CAUTION } : siteForecast(plan, velocity, lines, stack, mask, toWgs84, mpu, options);
   const passedByTest: Record<string, number> = {};
   for (const s of screened) for (const t of new Set(s.evidence.filter((e) => e.passed).map((e) => e.test))) passedByTest[t] = (passedByTest[t] ?? 0) + 1;
   const aboveGround = screened.filter((s) => s.verdict.origin === 'above-ground').length;
@@ -268,6 +264,26 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     summary,
     screened,
   };
+}
+
+/** The forecast of the loci over a stack's grid, clipped to its surveyed cells (as `screenSite` gives it). */
+export function siteForecast(
+  plan: PlanFeature[],
+  velocity: VelocityReport,
+  lines: Line[],
+  stack: { grid: SliceGrid; slices: { topM: number; bottomM: number }[] },
+  surveyed: Uint8Array,
+  toWgs84: ToWgs84,
+  metresPerUnit: number,
+  options: Pick<ScreenOptions, 'antennaFrequencyMHz' | 'antennaSeparationM'> = {},
+): FeatureCollection {
+  return forecastLoci(plan, velocity, lines, metresPerUnit, toWgs84, {
+    grid: stack.grid,
+    surveyed,
+    slices: stack.slices.map((s, i) => ({ index: i, topM: s.topM, bottomM: s.bottomM })),
+    ...(options.antennaFrequencyMHz ? { antennaFrequencyMHz: options.antennaFrequencyMHz } : {}),
+    ...(options.antennaSeparationM ? { antennaSeparationM: options.antennaSeparationM } : {}),
+  });
 }
 
 /** Median azimuth of the lines' end-to-end chords, degrees in [0, 180); NaN without lines. */
