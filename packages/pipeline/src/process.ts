@@ -4,13 +4,13 @@ import { InputError, isInputError } from '@lamina/errors';
 import { stageFolder } from '@lamina/atomic';
 import { checkPlanNearSurvey, loadSite, pointToWgs84, shownPath, type Site } from '@lamina/site';
 import { buildVelocityReport, velocityJson, type VelocityReport } from '@lamina/velocity';
-import { defaultWindows, gridSpill, PointSpill, writeSlices, type SliceWindow } from '@lamina/slices';
+import { defaultWindows, PointSpill, type SliceWindow } from '@lamina/slices';
 import type { Recipe } from '@lamina/processing';
-import { CAUTION, lineSpacingOfM, screenSite, type Line } from '@lamina/screening';
 import { exportTargets, matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
 import { createPool, defaultThreads, type Pool, type SerialisedError } from './pool';
 import { pass1, pass2, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
-import { extents, linesGeoJson, planGeoJson, siteSummary, writeFeatureCollection, writeRadargramIndex } from './outputs';
+import { extents, linesGeoJson, planGeoJson, siteSummary, writeRadargramIndex } from './outputs';
+import { sliceAndScreen, type Anchored, type Screening } from './slice-and-screen';
 
 export interface ProcessOptions {
   /** Worker threads; 0 runs every line on the calling thread. @default LAMINA_THREADS or the core count */
@@ -26,6 +26,10 @@ export interface ProcessOptions {
   cellSizeM?: number;
   /** Line-level levelling of slice values. @default false */
   level?: boolean;
+  /** Memory for one band of the grid while it is screened; a larger grid is done in overlapping row bands. @default 384 MiB */
+  screenBandBytes?: number;
+  /** How far a screening band reaches past its core, m. @default max(20 m, 2.5 x the deepest air-wave radius) */
+  bandOverlapM?: number;
   onProgress?: (stage: string, done: number, total: number) => void;
   /** The run's time stamp (run.json, export date); fixed in tests for reproducible outputs. @default now */
   now?: Date;
@@ -43,6 +47,8 @@ export interface ProcessSummary {
   anomalies: number;
   aboveGround: number;
   targets: number;
+  /** Row bands the grid was screened in (1 when it fitted `screenBandBytes`). */
+  screeningBands: number;
   files: string[];
 }
 
@@ -114,6 +120,10 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       lineDirections: Object.fromEntries(p1.map((r) => [r.summary.id, r.direction])),
     });
     await writeFile(join(stage.path, 'velocity.json'), velocityJson(velocity));
+    // The picks are for the viewer (in velocity.json now); screening needs only the fits. They grow
+    // with the number of lines, so they are let go here.
+    for (const h of velocity.hyperbolas ?? []) delete h.picks;
+    for (const r of p1) r.fits = [];
     if (options.failAfter === 'velocity') throw new Error('stopped after velocity (failAfter)');
 
     const windows = sliceWindowsFor(site, p1, velocity, options);
@@ -141,7 +151,23 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
         (d) => progress('depth slices', d, n),
       );
       await exec.close();
-      screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress }, Math.max(1, threads));
+      screening = await sliceAndScreen(
+        site,
+        stage.path,
+        spill,
+        summaries.map((l) => l.id),
+        windows,
+        velocity,
+        recipe,
+        {
+          onProgress: progress,
+          ...(options.level !== undefined ? { level: options.level } : {}),
+          ...(options.cellSizeM !== undefined ? { cellSizeM: options.cellSizeM } : {}),
+          ...(options.screenBandBytes !== undefined ? { screenBandBytes: options.screenBandBytes } : {}),
+          ...(options.bandOverlapM !== undefined ? { bandOverlapM: options.bandOverlapM } : {}),
+        },
+        Math.max(1, threads),
+      );
     } finally {
       spill.remove();
     }
@@ -186,6 +212,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       anomalies: screening.anomalies,
       aboveGround: screening.aboveGround,
       targets: exported.targets,
+      screeningBands: screening.bands,
       files: ['run.json', 'lines.geojson', 'plan.geojson', 'velocity.json', 'slices.tif', 'slices.json', 'radargrams/index.json', 'anomalies.geojson', 'forecast.geojson', 'review.json', ...exported.files.filter((f) => !f.includes('review'))],
     };
   } catch (e) {
@@ -211,113 +238,6 @@ async function carryReview(
   const review = await readReview(shownPath(from), identity);
   const { matched, unmatched } = matchDecisions(review.decisions, anchored);
   await writeReview(to, { ...review, site: identity, decisions: [...matched, ...unmatched] });
-}
-
-type Anchored = { id: string; lon: number; lat: number; depthTopM: number; depthBottomM: number };
-
-/** An anomaly's id, plan point and depth range, for re-matching review decisions. */
-function anchoredOf(f: { properties?: Record<string, unknown> | null; geometry?: unknown }): Anchored | undefined {
-  const p = f.properties ?? {};
-  const c = anchorOf(p, f.geometry);
-  return typeof p.id === 'string' && c ? { id: p.id, lon: c[0], lat: c[1], depthTopM: Number(p.depthTopM), depthBottomM: Number(p.depthBottomM) } : undefined;
-}
-
-/** A plan point for an anomaly: its `anchor` property if screening gave one, else the mean of its outline vertices. */
-export function anchorOf(p: Record<string, unknown>, geometry: unknown): [number, number] | undefined {
-  const a = p.anchor;
-  if (Array.isArray(a) && typeof a[0] === 'number' && typeof a[1] === 'number') return [a[0], a[1]];
-  const pts: number[][] = [];
-  const walk = (c: unknown) => {
-    if (Array.isArray(c) && typeof c[0] === 'number') pts.push(c as number[]);
-    else if (Array.isArray(c)) c.forEach(walk);
-  };
-  walk((geometry as { coordinates?: unknown } | undefined)?.coordinates);
-  if (pts.length === 0) return undefined;
-  return [pts.reduce((s, q) => s + q[0]!, 0) / pts.length, pts.reduce((s, q) => s + q[1]!, 0) / pts.length];
-}
-
-interface Screening {
-  anchored: Anchored[];
-  anomalies: number;
-  aboveGround: number;
-}
-
-/**
- * Grids the spilled points into the final stack and the stack before background removal, writes
- * slices.tif, screens the stacks and writes anomalies.geojson and forecast.geojson. The stacks and
- * the screened anomalies live only in here, so they are gone before the targets are exported.
- */
-async function sliceAndScreen(
-  site: Site,
-  stageDir: string,
-  spill: PointSpill,
-  ids: string[],
-  windows: SliceWindow[],
-  velocity: VelocityReport,
-  recipe: Recipe,
-  options: ProcessOptions & { onProgress: NonNullable<ProcessOptions['onProgress']> },
-  threads: number,
-): Promise<Screening> {
-  const [stack, stackBeforeBackground] = await gridSpill(spill, windows, {
-    crs: site.crs.code ?? site.crs.proj4,
-    metresPerUnit: site.crs.metresPerUnit,
-    isGeographic: site.crs.isGeographic,
-    level: options.level ?? false,
-    threads,
-    ...(options.cellSizeM !== undefined ? { cellSizeM: options.cellSizeM } : {}),
-  });
-  await writeSlices(stack!, stageDir);
-  // Screening's view of the lines: positions thinned to one trace per grid cell (first and last kept),
-  // and the line spacing from every trace, read back from the spill one line at a time.
-  const starts = spill.lineStarts();
-  const positions = { lineStarts: starts, line: (l: number) => spill.readCoords(starts[l]!, starts[l + 1]!) };
-  const { originX, originY, cellSize } = stack!.grid;
-  const lines: Line[] = ids.map((id, l) => {
-    const c = positions.line(l);
-    const m = c.length / 2;
-    const x: number[] = [];
-    const y: number[] = [];
-    let last = NaN;
-    for (let t = 0; t < m; t++) {
-      const cell = Math.floor((c[2 * t]! - originX) / cellSize) * 1e9 + Math.floor((originY - c[2 * t + 1]!) / cellSize);
-      if (cell !== last || t === m - 1) {
-        x.push(c[2 * t]!);
-        y.push(c[2 * t + 1]!);
-      }
-      last = cell;
-    }
-    return { id, x: Float64Array.from(x), y: Float64Array.from(y) };
-  });
-
-  options.onProgress('air-wave screening', 0, 1);
-  const mig = recipe.steps.find((st) => st.step === 'migration');
-  const migrationVelocity = mig && mig.step === 'migration' ? (mig.velocityMPerNs ?? velocity.site.velocityMPerNs) : undefined;
-  const screened = screenSite(
-    {
-      stack: stack!,
-      plan: site.plan,
-      velocity,
-      lines,
-      lineSpacingM: lineSpacingOfM(positions, site.crs.metresPerUnit),
-      metresPerUnit: site.crs.metresPerUnit,
-      toWgs84: (x, y) => pointToWgs84(site.crs, x, y),
-      beforeBackgroundStack: stackBeforeBackground!,
-    },
-    {
-      antennaFrequencyMHz: site.antenna.frequencyMHz,
-      antennaSeparationM: site.antenna.separationM,
-      // The slices are of migrated lines when the recipe migrates, which pulls a wall's air band towards it.
-      ...(migrationVelocity !== undefined ? { migrationVelocityMPerNs: migrationVelocity } : {}),
-    },
-  );
-  options.onProgress('air-wave screening', 1, 1);
-  const anchored: Anchored[] = [];
-  await writeFeatureCollection(join(stageDir, 'anomalies.geojson'), { type: 'FeatureCollection', features: screened.anomalyFeatures(), caution: CAUTION }, (f) => {
-    const a = anchoredOf(f);
-    if (a) anchored.push(a);
-  });
-  await writeFeatureCollection(join(stageDir, 'forecast.geojson'), screened.forecast);
-  return { anchored, anomalies: screened.summary.anomalies, aboveGround: screened.summary.aboveGround };
 }
 
 function sliceWindowsFor(site: Site, p1: Pass1Result[], velocity: VelocityReport, options: ProcessOptions): SliceWindow[] {

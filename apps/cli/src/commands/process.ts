@@ -17,9 +17,11 @@ export function register(program: Command): void {
     .option('--max-depth <m>', 'deepest slice bottom in metres', Number.parseFloat)
     .option('--cell-size <m>', 'grid cell size in metres', Number.parseFloat)
     .option('--level', 'level line-to-line gain differences before gridding')
+    .option('--band-memory <MiB>', 'memory for one band of the grid while it is screened; a larger grid is done in overlapping row bands (default 384)', Number.parseFloat)
+    .option('--band-overlap <m>', 'how far a screening band reaches past its core, metres (default: 20 or 2.5 x the deepest air-wave radius)', Number.parseFloat)
     .option('--json', 'print the summary as JSON')
     .action(
-      action(async (siteDir: string, opts: { out: string; recipe?: string; threads?: number; sliceThickness?: number; sliceOverlap?: number; maxDepth?: number; cellSize?: number; level?: boolean; json?: boolean }) => {
+      action(async (siteDir: string, opts: { out: string; recipe?: string; threads?: number; sliceThickness?: number; sliceOverlap?: number; maxDepth?: number; cellSize?: number; level?: boolean; bandMemory?: number; bandOverlap?: number; json?: boolean }) => {
         const options: ProcessOptions = {};
         if (opts.recipe) {
           let text: string;
@@ -35,7 +37,7 @@ export function register(program: Command): void {
           }
           options.recipeFile = opts.recipe;
         }
-        for (const [k, v] of Object.entries({ threads: opts.threads, sliceThickness: opts.sliceThickness, sliceOverlap: opts.sliceOverlap, maxDepth: opts.maxDepth, cellSize: opts.cellSize })) {
+        for (const [k, v] of Object.entries({ threads: opts.threads, sliceThickness: opts.sliceThickness, sliceOverlap: opts.sliceOverlap, maxDepth: opts.maxDepth, cellSize: opts.cellSize, bandMemory: opts.bandMemory, bandOverlap: opts.bandOverlap })) {
           if (v !== undefined && !Number.isFinite(v)) throw new InputError('command line', `--${k.replace(/[A-Z]/g, (c) => '-' + c.toLowerCase())} must be a number`);
         }
         if (opts.threads !== undefined) options.threads = opts.threads;
@@ -44,6 +46,14 @@ export function register(program: Command): void {
         if (opts.maxDepth !== undefined) options.maxDepthM = opts.maxDepth;
         if (opts.cellSize !== undefined) options.cellSizeM = opts.cellSize;
         if (opts.level) options.level = true;
+        if (opts.bandMemory !== undefined) {
+          if (!(opts.bandMemory > 0)) throw new InputError('command line', '--band-memory must be a positive number of MiB');
+          options.screenBandBytes = opts.bandMemory * 2 ** 20;
+        }
+        if (opts.bandOverlap !== undefined) {
+          if (!(opts.bandOverlap >= 0)) throw new InputError('command line', '--band-overlap must be zero or more metres');
+          options.bandOverlapM = opts.bandOverlap;
+        }
         const bar = progress();
         let current = '';
         options.onProgress = (stage, done, total) => {

@@ -1,0 +1,191 @@
+import { join } from 'node:path';
+import type { Site } from '@lamina/site';
+import { pointToWgs84 } from '@lamina/site';
+import type { VelocityReport } from '@lamina/velocity';
+import { DiskStack, SpillGridder, writeSlicesFromDisk, type PointSpill, type SliceWindow } from '@lamina/slices';
+import type { Recipe } from '@lamina/processing';
+import { airRadiusM, BandJoin, CAUTION, linesInRows, lineSpacingOfM, screenBands, screenSite, siteForecast, surveyedMask, type GeoJsonFeature, type Line } from '@lamina/screening';
+import { FeatureSpill } from './feature-spill';
+import { writeFeatureCollection } from './outputs';
+
+export interface SliceAndScreenOptions {
+  level?: boolean;
+  cellSizeM?: number;
+  /**
+   * Memory for one band of the grid while it is screened (its two stacks and the screening's work
+   * arrays, about 40 bytes per cell per slice): a grid larger than this is gridded and screened in
+   * overlapping row bands. @default 384 MiB
+   */
+  screenBandBytes?: number;
+  /** Rows a band reaches past its core on each side, metres. @default max(20 m, 2.5 x the deepest slice's air-wave radius) */
+  bandOverlapM?: number;
+  onProgress: (stage: string, done: number, total: number) => void;
+}
+
+export type Anchored = { id: string; lon: number; lat: number; depthTopM: number; depthBottomM: number };
+
+export interface Screening {
+  anchored: Anchored[];
+  anomalies: number;
+  aboveGround: number;
+  /** Row bands the grid was screened in. */
+  bands: number;
+}
+
+/** Bytes a screened band holds per cell and slice: two stacks, two score arrays, extraction's work (measured, about). */
+const BYTES_PER_CELL_SLICE = 40;
+
+/**
+ * Grids the spilled points into the final stack and the stack before background removal, screens them
+ * and writes slices.tif / slices.json, anomalies.geojson and forecast.geojson. A grid too large for
+ * `screenBandBytes` is done in overlapping row bands: each band is gridded (both stacks), its core rows
+ * go to a stack on disk, it is screened, and `BandJoin` keeps each object once (cut at core edges where
+ * it runs on). The screened anomalies wait on disk (`FeatureSpill`) and are numbered in depth order at
+ * the end, as one band numbers them; slices.tif is written from the disk stack. So memory is set by the
+ * band, not by the site's area (the surveyed mask for the forecast keeps 1 byte a cell).
+ */
+export async function sliceAndScreen(
+  site: Site,
+  stageDir: string,
+  spill: PointSpill,
+  ids: string[],
+  windows: SliceWindow[],
+  velocity: VelocityReport,
+  recipe: Recipe,
+  options: SliceAndScreenOptions,
+  threads: number,
+): Promise<Screening> {
+  const mpu = site.crs.metresPerUnit;
+  const toWgs84 = (x: number, y: number) => pointToWgs84(site.crs, x, y);
+  const gridder = SpillGridder.open(spill, windows, {
+    crs: site.crs.code ?? site.crs.proj4,
+    metresPerUnit: mpu,
+    isGeographic: site.crs.isGeographic,
+    level: options.level ?? false,
+    threads,
+    ...(options.cellSizeM !== undefined ? { cellSizeM: options.cellSizeM } : {}),
+  });
+  const grid = gridder.grid;
+  const { width, height, originX, originY, cellSize } = grid;
+  const cellM = cellSize * mpu;
+
+  // Screening's view of the lines: positions thinned to one trace per grid cell (first and last kept),
+  // and the line spacing from every trace, read back from the spill one line at a time.
+  const starts = spill.lineStarts();
+  const positions = { lineStarts: starts, line: (l: number) => spill.readCoords(starts[l]!, starts[l + 1]!) };
+  const lines: Line[] = ids.map((id, l) => {
+    const c = positions.line(l);
+    const m = c.length / 2;
+    const x: number[] = [];
+    const y: number[] = [];
+    let last = NaN;
+    for (let t = 0; t < m; t++) {
+      const cell = Math.floor((c[2 * t]! - originX) / cellSize) * 1e9 + Math.floor((originY - c[2 * t + 1]!) / cellSize);
+      if (cell !== last || t === m - 1) {
+        x.push(c[2 * t]!);
+        y.push(c[2 * t + 1]!);
+      }
+      last = cell;
+    }
+    return { id, x: Float64Array.from(x), y: Float64Array.from(y) };
+  });
+  const lineSpacingM = lineSpacingOfM(positions, mpu);
+
+  const mig = recipe.steps.find((st) => st.step === 'migration');
+  const migrationVelocity = mig && mig.step === 'migration' ? (mig.velocityMPerNs ?? velocity.site.velocityMPerNs) : undefined;
+  const screenOptions = {
+    antennaFrequencyMHz: site.antenna.frequencyMHz,
+    antennaSeparationM: site.antenna.separationM,
+    // The slices are of migrated lines when the recipe migrates, which pulls a wall's air band towards it.
+    ...(migrationVelocity !== undefined ? { migrationVelocityMPerNs: migrationVelocity } : {}),
+    forecast: false,
+  };
+
+  const deepest = Math.max(0, ...windows.map((w) => w.bottomM));
+  const overlapM = options.bandOverlapM ?? Math.max(20, 2.5 * airRadiusM(deepest, velocity.model, site.antenna.separationM));
+  const overlap = Math.ceil(overlapM / cellM);
+  const maxRows = Math.max(1, Math.floor((options.screenBandBytes ?? 384 * 2 ** 20) / (BYTES_PER_CELL_SLICE * width * Math.max(1, windows.length))));
+  const bands = screenBands(height, maxRows, overlap);
+
+  const disk = DiskStack.create(join(stageDir, `.slices-${process.pid}.raw`), grid, windows);
+  const kept = new FeatureSpill<GeoJsonFeature>(stageDir);
+  const surveyed = new Uint8Array(width * height);
+  const joiner = new BandJoin({ toWgs84, metresPerUnit: mpu });
+  // lines reach this far past a band for the along-line search (half a line spacing, a margin)
+  const lineMargin = (Number.isFinite(lineSpacingM) ? lineSpacingM : 0) / mpu + 4 * cellSize;
+  let counts = { anomalies: 0, aboveGround: 0 };
+  try {
+    for (const [b, band] of bands.entries()) {
+      options.onProgress('air-wave screening', b, bands.length);
+      const [stack, before] = await gridder.rows(band.first, band.last);
+      const c0 = (band.coreFirst - band.first) * width, c1 = (band.coreLast - band.first) * width;
+      disk.writeRows(band.coreFirst, stack!.slices.map((s) => s.values.subarray(c0, c1)));
+      surveyed.set(surveyedMask(stack!).subarray(c0, c1), band.coreFirst * width);
+      const screened = screenSite(
+        {
+          stack: stack!,
+          plan: site.plan,
+          velocity,
+          lines: bands.length === 1 ? lines : linesInRows(lines, originY, cellSize, band.first, band.last, lineMargin),
+          lineSpacingM,
+          metresPerUnit: mpu,
+          toWgs84,
+          beforeBackgroundStack: before!,
+        },
+        screenOptions,
+      );
+      for (const j of joiner.take(screened, band, height, { main: stack!, before: before! })) {
+        kept.add(j.feature, j.depthTopM, j.x);
+        counts.anomalies++;
+        if (j.feature.properties.origin === 'above-ground') counts.aboveGround++;
+      }
+    }
+    options.onProgress('air-wave screening', bands.length, bands.length);
+    await gridder.close();
+    await writeSlicesFromDisk(disk, stageDir, { ...gridder.gridding });
+    disk.remove();
+
+    const anchored: Anchored[] = [];
+    let i = 0;
+    const numbered = (function* () {
+      for (const f of kept.sorted()) {
+        const id = `A${String(++i).padStart(4, '0')}`;
+        f.id = id;
+        f.properties.id = id;
+        yield f;
+      }
+    })();
+    await writeFeatureCollection(join(stageDir, 'anomalies.geojson'), { type: 'FeatureCollection', features: numbered, caution: CAUTION }, (f) => {
+      const a = anchoredOf(f);
+      if (a) anchored.push(a);
+    });
+    const forecast = siteForecast(site.plan, velocity, lines, { grid, slices: windows }, surveyed, toWgs84, mpu, screenOptions);
+    await writeFeatureCollection(join(stageDir, 'forecast.geojson'), forecast);
+    return { anchored, ...counts, bands: bands.length };
+  } finally {
+    await gridder.close();
+    disk.remove();
+    kept.remove();
+  }
+}
+
+/** An anomaly's id, plan point and depth range, for re-matching review decisions. */
+function anchoredOf(f: { properties?: Record<string, unknown> | null; geometry?: unknown }): Anchored | undefined {
+  const p = f.properties ?? {};
+  const c = anchorOf(p, f.geometry);
+  return typeof p.id === 'string' && c ? { id: p.id, lon: c[0], lat: c[1], depthTopM: Number(p.depthTopM), depthBottomM: Number(p.depthBottomM) } : undefined;
+}
+
+/** A plan point for an anomaly: its `anchor` property if screening gave one, else the mean of its outline vertices. */
+export function anchorOf(p: Record<string, unknown>, geometry: unknown): [number, number] | undefined {
+  const a = p.anchor;
+  if (Array.isArray(a) && typeof a[0] === 'number' && typeof a[1] === 'number') return [a[0], a[1]];
+  const pts: number[][] = [];
+  const walk = (c: unknown) => {
+    if (Array.isArray(c) && typeof c[0] === 'number') pts.push(c as number[]);
+    else if (Array.isArray(c)) c.forEach(walk);
+  };
+  walk((geometry as { coordinates?: unknown } | undefined)?.coordinates);
+  if (pts.length === 0) return undefined;
+  return [pts.reduce((s, q) => s + q[0]!, 0) / pts.length, pts.reduce((s, q) => s + q[1]!, 0) / pts.length];
+}
