@@ -70,10 +70,11 @@ export async function sliceAndScreen(
   const cellM = cellSize * mpu;
 
   // Screening's view of the lines: positions thinned to one trace per grid cell (first and last kept),
-  // and the line spacing from every trace, read back from the spill one line at a time.
+  // read back from the spill one line at a time for each band (only the band's pieces are held), and the
+  // line spacing from every trace.
   const starts = spill.lineStarts();
   const positions = { lineStarts: starts, line: (l: number) => spill.readCoords(starts[l]!, starts[l + 1]!) };
-  const lines: Line[] = ids.map((id, l) => {
+  const thinned = (l: number): Line => {
     const c = positions.line(l);
     const m = c.length / 2;
     const x: number[] = [];
@@ -87,8 +88,8 @@ export async function sliceAndScreen(
       }
       last = cell;
     }
-    return { id, x: Float64Array.from(x), y: Float64Array.from(y) };
-  });
+    return { id: ids[l]!, x: Float64Array.from(x), y: Float64Array.from(y) };
+  };
   const lineSpacingM = lineSpacingOfM(positions, mpu);
 
   const mig = recipe.steps.find((st) => st.step === 'migration');
@@ -126,7 +127,7 @@ export async function sliceAndScreen(
           stack: stack!,
           plan: site.plan,
           velocity,
-          lines: bands.length === 1 ? lines : linesInRows(lines, originY, cellSize, band.first, band.last, lineMargin),
+          lines: bands.length === 1 ? ids.map((_, l) => thinned(l)) : ids.flatMap((_, l) => linesInRows([thinned(l)], originY, cellSize, band.first, band.last, lineMargin)),
           lineSpacingM,
           metresPerUnit: mpu,
           toWgs84,
@@ -159,7 +160,8 @@ export async function sliceAndScreen(
       const a = anchoredOf(f);
       if (a) anchored.push(a);
     });
-    const forecast = siteForecast(site.plan, velocity, lines, { grid, slices: windows }, surveyed, toWgs84, mpu, screenOptions);
+    // (the forecast takes the lines only to make a grid of its own; it is given the slices' grid)
+    const forecast = siteForecast(site.plan, velocity, [], { grid, slices: windows }, surveyed, toWgs84, mpu, screenOptions);
     await writeFeatureCollection(join(stageDir, 'forecast.geojson'), forecast);
     return { anchored, ...counts, bands: bands.length };
   } finally {
