@@ -42,7 +42,7 @@ const BYTES_PER_CELL_SLICE = 40;
  * go to a stack on disk, it is screened, and `BandJoin` keeps each object once (cut at core edges where
  * it runs on). The screened anomalies wait on disk (`FeatureSpill`) and are numbered in depth order at
  * the end, as one band numbers them; slices.tif is written from the disk stack. So memory is set by the
- * band, not by the site's area (the surveyed mask for the forecast keeps 1 byte a cell).
+ * band, not by the site's area (the forecast keeps 5 bytes a cell: its surveyed mask and distance field).
  */
 export async function sliceAndScreen(
   site: Site,
