@@ -18,9 +18,7 @@ export interface StagedFile {
  * files can be written one after another (each dropped from memory once written) and committed together.
  */
 export async function stageFile(path: string, data: string | Uint8Array): Promise<StagedFile> {
-  const dir = dirname(resolve(path));
-  await mkdir(dir, { recursive: true });
-  const tmp = join(dir, `.${basename(path)}.${process.pid}.${Date.now()}.${Math.random().toString(36).slice(2)}.tmp`);
+  const tmp = await tempBeside(path);
   try {
     const fh = await open(tmp, 'w');
     try {
@@ -48,6 +46,72 @@ export async function stageFile(path: string, data: string | Uint8Array): Promis
       if (!done) await rm(tmp, { force: true });
     },
   };
+}
+
+export interface StagedStream extends StagedFile {
+  /** Append to the temp file (buffered; call in order, awaiting each). */
+  write(chunk: string | Uint8Array): Promise<void>;
+}
+
+/** Bytes gathered before a write to the temp file: few syscalls for many small chunks. */
+const STREAM_BUFFER = 1 << 16;
+
+/**
+ * A temp file beside `path` written in chunks, so a large output is never whole in memory; `commit()`
+ * flushes, fsyncs and renames it into place, `abort()` deletes it. Same temp naming as `stageFile`.
+ */
+export async function stageStream(path: string): Promise<StagedStream> {
+  const tmp = await tempBeside(path);
+  const fh = await open(tmp, 'w');
+  let parts: Uint8Array[] = [];
+  let held = 0;
+  let closed = false;
+  let done = false;
+  const flush = async () => {
+    if (!held) return;
+    const data = parts.length === 1 ? parts[0]! : Buffer.concat(parts, held);
+    parts = [];
+    held = 0;
+    await fh.write(data);
+  };
+  const close = async () => {
+    if (closed) return;
+    closed = true;
+    await fh.close();
+  };
+  return {
+    async write(chunk) {
+      if (closed) throw new Error(`stageStream ${path}: write after commit or abort`);
+      const b = typeof chunk === 'string' ? Buffer.from(chunk, 'utf8') : chunk;
+      parts.push(b);
+      held += b.length;
+      if (held >= STREAM_BUFFER) await flush();
+    },
+    async commit() {
+      try {
+        await flush();
+        await fh.sync();
+        await close();
+        await rename(tmp, path);
+        done = true;
+      } catch (e) {
+        await close().catch(() => {});
+        await rm(tmp, { force: true });
+        throw e;
+      }
+    },
+    async abort() {
+      if (done) return;
+      await close().catch(() => {});
+      await rm(tmp, { force: true });
+    },
+  };
+}
+
+async function tempBeside(path: string): Promise<string> {
+  const dir = dirname(resolve(path));
+  await mkdir(dir, { recursive: true });
+  return join(dir, `.${basename(path)}.${process.pid}.${Date.now()}.${Math.random().toString(36).slice(2)}.tmp`);
 }
 
 export interface StagedFolder {

@@ -1,1 +1,1 @@
-export { writeFileAtomic, stageFile, stageFolder, type StagedFile, type StagedFolder } from './atomic';
+export { writeFileAtomic, stageFile, stageStream, stageFolder, type StagedFile, type StagedStream, type StagedFolder } from './atomic';

@@ -1,13 +1,11 @@
 import { join } from 'node:path';
-import { stageFile, type StagedFile } from '@lamina/atomic';
-import { readAnomalies, readRun, readSlicesInfo, readVelocity } from './folder';
-import { TARGET_FIELDS, targetProperties, targetsCsv, targetsDxf, targetsGeoJson, type ExportContext } from './formats';
-import { writeGpkg, type GpkgLayer, type GpkgSrs } from './gpkg';
-import { reportHtml } from './report';
+import type { StagedFile } from '@lamina/atomic';
+import { readRun, readSlicesInfo, readVelocity, streamAnomalies } from './folder';
+import type { ExportContext } from './formats';
 import { readReview } from './review';
-import { buildTargets, type Target } from './targets';
+import { decisionsById, isDropped, targetOf } from './targets';
 import { sliceThumbnails } from './thumbnails';
-import { crsToWkt, WGS84_WKT } from './wkt';
+import { csvWriter, dxfWriter, geoJsonWriter, gpkgWriter, reportWriter, type TargetFileWriter } from './writers';
 
 export interface ExportOptions {
   /** Export time written into the files. @default new Date() */
@@ -31,88 +29,69 @@ export interface ExportResult {
 
 export const EXPORT_FILES = ['targets.geojson', 'targets.gpkg', 'targets.csv', 'targets.dxf', 'report.html'] as const;
 
-/** srs_id for a site CRS without an EPSG code (GeoPackage user-defined range). */
-export const CUSTOM_SRS_ID = 100000;
-
 /**
  * Export the target layer of a processed output folder: reads run.json, anomalies.geojson, review.json
  * (missing: no decisions), velocity.json and slices.json/slices.tif, and writes targets.geojson,
- * targets.gpkg, targets.csv, targets.dxf and report.html, each atomically, after all of them have been
- * built (an input error writes nothing).
+ * targets.gpkg, targets.csv, targets.dxf and report.html, each staged beside its path and all renamed
+ * into place at the end (an input error writes nothing). Anomalies are read, turned into targets and
+ * appended to the files one at a time; what stays per anomaly is its id, its report row, and (in sql.js)
+ * the GeoPackage being built.
  */
 export async function exportTargets(outDir: string, options: ExportOptions = {}): Promise<ExportResult> {
   const now = options.now ?? new Date();
   const run = await readRun(outDir);
-  const anomalies = await readAnomalies(outDir);
-  const velocity = await readVelocity(outDir);
-  const review = await readReview(join(outDir, 'review.json'), run.identity);
-  const slices = await readSlicesInfo(outDir);
-  const { targets, dropped } = buildTargets(anomalies, review.decisions, velocity, run.site.crs);
-  const ids = new Set(anomalies.map((a) => a.properties.id));
-  const unmatchedDecisions = review.decisions.filter((d) => !ids.has(d.anomalyId)).length;
-
-  const freq = run.site.antenna?.frequencyMHz;
-  const ctx: ExportContext = {
-    siteName: run.site.name,
-    crs: run.site.crs,
-    method: `GPR, ${freq !== undefined ? `${freq} MHz, ` : ''}depth slices`,
-    surveyDate: run.site.surveyDate ?? null,
-    exportDate: now.toISOString(),
-  };
-  const thumbs = slices && (options.thumbnailSize ?? 240) > 0 ? await sliceThumbnails(outDir, slices, { maxSize: options.thumbnailSize ?? 240 }) : [];
-
-  // Each file is built and written to a temp file in turn (only one in memory), then all are renamed.
-  const contents: [string, () => string | Uint8Array | Promise<Uint8Array>][] = [
-    ['targets.geojson', () => targetsGeoJson(targets, ctx)],
-    ['targets.gpkg', () => targetsGpkg(targets, ctx)],
-    ['targets.csv', () => targetsCsv(targets, ctx)],
-    ['targets.dxf', () => targetsDxf(targets, ctx)],
-    ['report.html', () => reportHtml({ run, velocity, targets, dropped, anomalies, thumbnails: thumbs, ctx, unmatchedDecisions })],
-  ];
+  const anomalies = streamAnomalies(outDir);
+  const writers: TargetFileWriter[] = [];
   const staged: StagedFile[] = [];
   try {
-    for (const [name, build] of contents) staged.push(await stageFile(join(outDir, name), await build()));
-    for (const s of staged) await s.commit();
-  } catch (e) {
-    await Promise.all(staged.map((s) => s.abort()));
-    throw e;
-  }
-  return {
-    files: contents.map(([n]) => n),
-    targets: targets.length,
-    aboveGround: dropped.filter((d) => d.reason !== 'rejected').length,
-    rejected: dropped.filter((d) => d.reason === 'rejected').length,
-    unmatchedDecisions,
-  };
-}
+    // The first step checks the whole file (every input error of anomalies.geojson is thrown here, before
+    // velocity.json and the rest are read, as when it was read whole).
+    const first = await anomalies.next();
+    const velocity = await readVelocity(outDir);
+    const review = await readReview(join(outDir, 'review.json'), run.identity);
+    const slices = await readSlicesInfo(outDir);
+    const freq = run.site.antenna?.frequencyMHz;
+    const ctx: ExportContext = {
+      siteName: run.site.name,
+      crs: run.site.crs,
+      method: `GPR, ${freq !== undefined ? `${freq} MHz, ` : ''}depth slices`,
+      surveyDate: run.site.surveyDate ?? null,
+      exportDate: now.toISOString(),
+    };
+    const thumbs = slices && (options.thumbnailSize ?? 240) > 0 ? await sliceThumbnails(outDir, slices, { maxSize: options.thumbnailSize ?? 240 }) : [];
 
-/** targets.gpkg: layer `targets` in the site CRS and `targets_wgs84` in EPSG:4326, same attributes. */
-export async function targetsGpkg(targets: Target[], ctx: ExportContext): Promise<Uint8Array> {
-  const code = ctx.crs.code ? /^EPSG:(\d+)$/i.exec(ctx.crs.code)?.[1] : undefined;
-  const siteSrs: GpkgSrs = code
-    ? { srsId: Number(code), name: ctx.crs.code!, organization: 'EPSG', organizationId: Number(code), definition: crsToWkt(ctx.crs), description: ctx.crs.proj4 }
-    : { srsId: CUSTOM_SRS_ID, name: 'Lamina site CRS', organization: 'NONE', organizationId: CUSTOM_SRS_ID, definition: crsToWkt(ctx.crs), description: ctx.crs.proj4 };
-  const wgs: GpkgSrs = { srsId: 4326, name: 'WGS 84 geodetic', organization: 'EPSG', organizationId: 4326, definition: WGS84_WKT, description: 'longitude/latitude coordinates in decimal degrees on the WGS 84 spheroid' };
-  const fields = TARGET_FIELDS.map(([name, type]) => ({ name, type }));
-  const names = TARGET_FIELDS.map(([name]) => name);
-  const rows = targets.map((t) => {
-    const p = targetProperties(t, ctx);
-    return names.map((n) => p[n] ?? null);
-  });
-  const layer = (name: string, srsId: number, geom: (t: Target) => Target['site'], description: string): GpkgLayer => ({
-    name,
-    srsId,
-    description,
-    geometryType: 'GEOMETRY',
-    fields,
-    features: targets.map((t, i) => ({ geometry: geom(t), values: rows[i]! })),
-  });
-  return writeGpkg(
-    [wgs, siteSrs],
-    [
-      layer('targets', siteSrs.srsId, (t) => t.site, `GPR targets of ${ctx.siteName} in the site CRS (radar finds are not a locate)`),
-      layer('targets_wgs84', 4326, (t) => t.wgs84, `GPR targets of ${ctx.siteName} in WGS 84 (radar finds are not a locate)`),
-    ],
-    { timestamp: ctx.exportDate },
-  );
+    const byId = decisionsById(review.decisions);
+    const matched = new Set<string>();
+    const counts = { anomalies: 0, targets: 0, aboveGround: 0, rejected: 0 };
+    // Same order as EXPORT_FILES; the report comes last.
+    const makers = [geoJsonWriter, gpkgWriter, csvWriter, dxfWriter] as const;
+    for (let i = 0; i < makers.length; i++) writers.push(await makers[i]!(join(outDir, EXPORT_FILES[i]!), ctx));
+    const report = reportWriter(join(outDir, 'report.html'));
+    for (let step = first; !step.done; step = await anomalies.next()) {
+      const a = step.value;
+      counts.anomalies++;
+      if (byId.has(a.properties.id)) matched.add(a.properties.id);
+      const r = targetOf(a, byId, velocity, run.site.crs);
+      if (r === null) continue;
+      report.add(r);
+      if (isDropped(r)) {
+        if (r.reason === 'rejected') counts.rejected++;
+        else counts.aboveGround++;
+        continue;
+      }
+      counts.targets++;
+      for (const w of writers) await w.add(r);
+    }
+    const unmatchedDecisions = review.decisions.filter((d) => !matched.has(d.anomalyId)).length;
+    for (const w of writers) staged.push(await w.finish());
+    writers.length = 0;
+    staged.push(await report.finish({ run, velocity, thumbnails: thumbs, ctx, unmatchedDecisions }, counts.anomalies));
+    for (const s of staged) await s.commit();
+    return { files: [...EXPORT_FILES], targets: counts.targets, aboveGround: counts.aboveGround, rejected: counts.rejected, unmatchedDecisions };
+  } catch (e) {
+    await Promise.all([...writers.map((w) => w.abort()), ...staged.map((s) => s.abort())]);
+    throw e;
+  } finally {
+    await anomalies.return();
+  }
 }

@@ -149,59 +149,111 @@ export async function readRun(outDir: string): Promise<RunInfo> {
 }
 
 /**
- * A FeatureCollection laid out one feature per line, as the pipeline writes it (`{"type":...,"features":[`,
- * then a feature per line, then `]}`), parsed a line at a time so the file's text is never held whole;
- * undefined when the file is laid out otherwise (or missing): read it whole then.
+ * The parsed lines of a FeatureCollection laid out one feature per line, as the pipeline writes it
+ * (`{"type":...,"features":[`, then a feature per line, then `]}`): first the head object, then each
+ * feature; returns false (after yielding what it could) when the file is laid out otherwise, is not
+ * JSON line by line, or is missing. The file's text is never held whole.
  */
-async function readFeatureLines(file: string): Promise<{ type: unknown; features: unknown[] } | undefined> {
+async function* featureLines(file: string): AsyncGenerator<{ head: Record<string, unknown> } | { feature: unknown }, boolean> {
   const lines = createInterface({ input: createReadStream(file, { encoding: 'utf8' }), crlfDelay: Infinity });
-  let head: Record<string, unknown> | undefined;
-  const features: unknown[] = [];
+  let head = false;
   let ended = false;
   try {
     for await (const line of lines) {
       if (ended) {
-        if (line.trim() !== '') return undefined;
+        if (line.trim() !== '') return false;
       } else if (!head) {
-        if (!line.startsWith('{') || !line.endsWith('"features":[')) return undefined;
+        if (!line.startsWith('{') || !line.endsWith('"features":[')) return false;
         const h: unknown = JSON.parse(line + ']}');
-        if (!isObj(h)) return undefined;
-        head = h;
+        if (!isObj(h)) return false;
+        head = true;
+        yield { head: h };
       } else if (line === ']}') ended = true;
-      else features.push(JSON.parse(line.endsWith(',') ? line.slice(0, -1) : line));
+      else yield { feature: JSON.parse(line.endsWith(',') ? line.slice(0, -1) : line) };
     }
   } catch {
-    return undefined;
+    return false;
   } finally {
     lines.close();
   }
-  return head && ended ? { type: head.type, features } : undefined;
+  return head && ended;
 }
 
-export async function readAnomalies(outDir: string): Promise<AnomalyFeature[]> {
+/** Checks one feature of anomalies.geojson (index `i`; `ids` the ids before it) as readAnomalies does. */
+function anomalyOf(file: string, f: unknown, i: number, ids: Set<string>): AnomalyFeature {
+  const at = `features[${i}]`;
+  if (!isObj(f) || !isObj(f.properties)) throw new InputError(file, 'expected a Feature with properties', { field: at });
+  const p = f.properties;
+  const id = need(file, `${at}.properties.id`, typeof p.id === 'string' && p.id.length > 0 ? p.id : undefined, 'a non-empty string', p.id);
+  if (ids.has(id)) throw new InputError(file, `expected unique anomaly ids, found "${id}" twice`, { field: `${at}.properties.id` });
+  ids.add(id);
+  const top = need(file, `${at}.properties.depthTopM`, num(p.depthTopM), 'a depth in metres', p.depthTopM);
+  const bottom = need(file, `${at}.properties.depthBottomM`, num(p.depthBottomM), 'a depth in metres', p.depthBottomM);
+  if (bottom < top) throw new InputError(file, `expected depthBottomM >= depthTopM (${top}), found ${bottom}`, { field: `${at}.properties.depthBottomM` });
+  const origin = p.origin === 'subsurface' || p.origin === 'above-ground' ? p.origin : undefined;
+  need(file, `${at}.properties.origin`, origin, '"subsurface" or "above-ground"', p.origin);
+  const confidence = need(file, `${at}.properties.confidence`, num(p.confidence), 'a number in 0..1', p.confidence);
+  const evidence = Array.isArray(p.evidence) ? (p.evidence.filter(isObj) as EvidenceItem[]) : [];
+  const geometry = isObj(f.geometry) && typeof f.geometry.type === 'string' ? (f.geometry as AnomalyFeature['geometry']) : null;
+  return { type: 'Feature', geometry, properties: { ...p, id, depthTopM: top, depthBottomM: bottom, origin: origin!, confidence, evidence } };
+}
+
+const collectionError = (file: string, j: unknown) =>
+  new InputError(file, `expected a GeoJSON FeatureCollection, found ${JSON.stringify(isObj(j) ? j.type : typeof j)}`, { field: 'type' });
+
+/**
+ * The anomalies of anomalies.geojson one at a time, checked as `readAnomalies` checks them (same errors,
+ * same order). A file laid out a feature per line is read twice, a line at a time: the first pass checks
+ * the layout and every feature (so every input error is thrown before the first anomaly is yielded, and
+ * a layout that breaks late still falls back to the whole-file read as before), the second yields.
+ * Held: one feature and the set of ids (for uniqueness). Other layouts are read whole.
+ */
+export async function* streamAnomalies(outDir: string): AsyncGenerator<AnomalyFeature, void> {
   const file = join(outDir, 'anomalies.geojson');
-  const j = (await readFeatureLines(file)) ?? (await readJsonFile(file));
-  if (!isObj(j) || j.type !== 'FeatureCollection' || !Array.isArray(j.features)) {
-    throw new InputError(file, `expected a GeoJSON FeatureCollection, found ${JSON.stringify(isObj(j) ? j.type : typeof j)}`, { field: 'type' });
-  }
+  let headType: unknown;
+  let firstError: unknown;
+  let n = 0;
   const ids = new Set<string>();
-  return j.features.map((f, i) => {
-    const at = `features[${i}]`;
-    if (!isObj(f) || !isObj(f.properties)) throw new InputError(file, 'expected a Feature with properties', { field: at });
-    const p = f.properties;
-    const id = need(file, `${at}.properties.id`, typeof p.id === 'string' && p.id.length > 0 ? p.id : undefined, 'a non-empty string', p.id);
-    if (ids.has(id)) throw new InputError(file, `expected unique anomaly ids, found "${id}" twice`, { field: `${at}.properties.id` });
-    ids.add(id);
-    const top = need(file, `${at}.properties.depthTopM`, num(p.depthTopM), 'a depth in metres', p.depthTopM);
-    const bottom = need(file, `${at}.properties.depthBottomM`, num(p.depthBottomM), 'a depth in metres', p.depthBottomM);
-    if (bottom < top) throw new InputError(file, `expected depthBottomM >= depthTopM (${top}), found ${bottom}`, { field: `${at}.properties.depthBottomM` });
-    const origin = p.origin === 'subsurface' || p.origin === 'above-ground' ? p.origin : undefined;
-    need(file, `${at}.properties.origin`, origin, '"subsurface" or "above-ground"', p.origin);
-    const confidence = need(file, `${at}.properties.confidence`, num(p.confidence), 'a number in 0..1', p.confidence);
-    const evidence = Array.isArray(p.evidence) ? (p.evidence.filter(isObj) as EvidenceItem[]) : [];
-    const geometry = isObj(f.geometry) && typeof f.geometry.type === 'string' ? (f.geometry as AnomalyFeature['geometry']) : null;
-    return { type: 'Feature', geometry, properties: { ...p, id, depthTopM: top, depthBottomM: bottom, origin: origin!, confidence, evidence } };
-  });
+  const scan = featureLines(file);
+  let step = await scan.next();
+  for (; !step.done; step = await scan.next()) {
+    const v = step.value;
+    if ('head' in v) headType = v.head.type;
+    else if (firstError === undefined) {
+      try {
+        anomalyOf(file, v.feature, n++, ids);
+      } catch (e) {
+        firstError = e;
+      }
+    }
+  }
+  if (!step.value) {
+    const j = await readJsonFile(file);
+    if (!isObj(j) || j.type !== 'FeatureCollection' || !Array.isArray(j.features)) throw collectionError(file, j);
+    // Whole in memory already: check every feature before yielding the first, as for the line layout.
+    const seen = new Set<string>();
+    yield* j.features.map((f, i) => anomalyOf(file, f, i, seen));
+    return;
+  }
+  if (headType !== 'FeatureCollection') throw collectionError(file, { type: headType });
+  if (firstError !== undefined) throw firstError;
+  ids.clear();
+  let i = 0;
+  const again = featureLines(file);
+  try {
+    let s = await again.next();
+    for (; !s.done; s = await again.next()) if ('feature' in s.value) yield anomalyOf(file, s.value.feature, i++, ids);
+    if (!s.value || i !== n) throw new InputError(file, `expected the file unchanged while it was read, found ${i} features where there were ${n}`);
+  } finally {
+    await again.return(false); // closes the file when the caller stops early
+  }
+}
+
+/** Every anomaly of anomalies.geojson (see streamAnomalies for the checks). */
+export async function readAnomalies(outDir: string): Promise<AnomalyFeature[]> {
+  const out: AnomalyFeature[] = [];
+  for await (const a of streamAnomalies(outDir)) out.push(a);
+  return out;
 }
 
 /** velocity.json; a missing file is an error (depths and their uncertainty come from it). */

@@ -55,18 +55,30 @@ export function targetProperties(t: Target, ctx: ExportContext): Record<string, 
   };
 }
 
+// ---------- GeoJSON (RFC 7946) ----------
+// The file is JSON.stringify(collection, null, 1) + '\n', written in parts: a feature sits two levels deep,
+// so its own indented text gets two more spaces per line (JSON escapes every newline inside strings).
+
+/** Start of targets.geojson, up to the features. */
+export const GEOJSON_HEAD = '{\n "type": "FeatureCollection",\n "features": [';
+
+/** The text of feature `index` in targets.geojson (with its leading comma after the first). */
+export function geoJsonFeature(t: Target, ctx: ExportContext, index: number): string {
+  const f = {
+    type: 'Feature',
+    id: t.id,
+    geometry: t.wgs84,
+    properties: { ...targetProperties(t, ctx), centroid: t.centroidLonLat, ...(t.outlineWgs84 ? { outline: t.outlineWgs84 } : {}), ...(t.vertexDepthsM ? { vertexDepthsM: t.vertexDepthsM } : {}) },
+  };
+  return `${index > 0 ? ',' : ''}\n  ${JSON.stringify(f, null, 1).replace(/\n/g, '\n  ')}`;
+}
+
+/** End of targets.geojson after `count` features. */
+export const geoJsonTail = (count: number): string => `${count > 0 ? '\n ' : ''}]\n}\n`;
+
 /** RFC 7946 FeatureCollection (WGS84 lon/lat, no crs member). */
 export function targetsGeoJson(targets: Target[], ctx: ExportContext): string {
-  const fc = {
-    type: 'FeatureCollection',
-    features: targets.map((t) => ({
-      type: 'Feature',
-      id: t.id,
-      geometry: t.wgs84,
-      properties: { ...targetProperties(t, ctx), centroid: t.centroidLonLat, ...(t.outlineWgs84 ? { outline: t.outlineWgs84 } : {}), ...(t.vertexDepthsM ? { vertexDepthsM: t.vertexDepthsM } : {}) },
-    })),
-  };
-  return JSON.stringify(fc, null, 1) + '\n';
+  return GEOJSON_HEAD + targets.map((t, i) => geoJsonFeature(t, ctx, i)).join('') + geoJsonTail(targets.length);
 }
 
 // ---------- WKT geometry (site CRS) ----------
@@ -98,16 +110,23 @@ const csvCell = (v: string | number | null): string => {
   return /[",\r\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
 };
 
-export function targetsCsv(targets: Target[], ctx: ExportContext): string {
+/** The header line of targets.csv (CRLF-terminated, as every row). */
+export const csvHead = (): string => CSV_COLUMNS.join(',') + '\r\n';
+
+/** One row of targets.csv. */
+export function csvRow(t: Target, ctx: ExportContext): string {
   const crsName = ctx.crs.code ?? ctx.crs.proj4;
-  const rows = targets.map((t) =>
+  return (
     [
       t.id, t.kind, t.utilityType, t.apwaColour, t.depthTopM, t.depthBottomM, ft(t.depthTopM), ft(t.depthBottomM),
       t.depthUncertaintyM, ft(t.depthUncertaintyM), t.confidence, fmt(t.centroidXY[0]), fmt(t.centroidXY[1]),
       round8(t.centroidLonLat[0]), round8(t.centroidLonLat[1]), t.lengthM, 'B', t.decision, t.note, crsName, geometryWkt(t.site),
-    ].map(csvCell).join(','),
+    ].map(csvCell).join(',') + '\r\n'
   );
-  return [CSV_COLUMNS.join(','), ...rows].join('\r\n') + '\r\n';
+}
+
+export function targetsCsv(targets: Target[], ctx: ExportContext): string {
+  return csvHead() + targets.map((t) => csvRow(t, ctx)).join('');
 }
 const round8 = (v: number) => Math.round(v * 1e8) / 1e8;
 
@@ -119,32 +138,39 @@ export function dxfLayer(t: Target): string {
   return `LAMINA_${(t.utilityType ?? 'unknown').toUpperCase().replace(/[^A-Z0-9]+/g, '_')}`;
 }
 
-/**
- * R12 DXF in the site CRS: one layer per utility type, a 3D POLYLINE (VERTEX ... SEQEND) along each
- * linear target's centreline, a POINT at each compact target's centroid, and a TEXT label with the depth.
- * Z is the negative depth of the top (the ground surface is Z = 0), in the site CRS's unit; polyline
- * vertices carry their own depth (`Target.vertexDepthsM`), so a sloping pipe slopes.
- */
-export function targetsDxf(targets: Target[], ctx: ExportContext): string {
-  const mpu = ctx.crs.metresPerUnit;
+/** AutoCAD colour index of a target's layer (a function of the utility type, as the layer name is). */
+export const dxfColour = (t: Target): number => ACI[t.apwaColourName ?? 'grey'] ?? 8;
+
+/** DXF group lines (code, value), each CRLF-terminated. */
+function dxfGroups(emit: (g: (code: number, value: string | number) => void) => void): string {
   const out: string[] = [];
-  const g = (code: number, value: string | number) => out.push(String(code), typeof value === 'number' ? num(value) : value);
-  const layers = new Map<string, number>();
-  for (const t of targets) layers.set(dxfLayer(t), ACI[t.apwaColourName ?? 'grey'] ?? 8);
-  g(0, 'SECTION'); g(2, 'HEADER'); g(9, '$ACADVER'); g(1, 'AC1009');
-  g(9, '$INSUNITS'); g(70, ctx.crs.units === 'm' ? 6 : 2);
-  g(0, 'ENDSEC');
-  g(0, 'SECTION'); g(2, 'TABLES'); g(0, 'TABLE'); g(2, 'LAYER'); g(70, layers.size);
-  for (const [name, colour] of layers) {
-    g(0, 'LAYER'); g(2, name); g(70, 0); g(62, colour); g(6, 'CONTINUOUS');
-  }
-  g(0, 'ENDTAB'); g(0, 'ENDSEC');
-  g(0, 'SECTION'); g(2, 'ENTITIES');
+  emit((code, value) => out.push(String(code), typeof value === 'number' ? num(value) : value));
+  return out.join('\r\n') + '\r\n';
+}
+
+/** HEADER and TABLES sections (the LAYER table: name to colour, in order of first use) and the ENTITIES start. */
+export function dxfHead(layers: ReadonlyMap<string, number>, ctx: ExportContext): string {
+  return dxfGroups((g) => {
+    g(0, 'SECTION'); g(2, 'HEADER'); g(9, '$ACADVER'); g(1, 'AC1009');
+    g(9, '$INSUNITS'); g(70, ctx.crs.units === 'm' ? 6 : 2);
+    g(0, 'ENDSEC');
+    g(0, 'SECTION'); g(2, 'TABLES'); g(0, 'TABLE'); g(2, 'LAYER'); g(70, layers.size);
+    for (const [name, colour] of layers) {
+      g(0, 'LAYER'); g(2, name); g(70, 0); g(62, colour); g(6, 'CONTINUOUS');
+    }
+    g(0, 'ENDTAB'); g(0, 'ENDSEC');
+    g(0, 'SECTION'); g(2, 'ENTITIES');
+  });
+}
+
+/** The entities of one target: its POLYLINE or POINT and its TEXT label. */
+export function dxfEntities(t: Target, ctx: ExportContext): string {
+  const mpu = ctx.crs.metresPerUnit;
   const textH = 0.25 / mpu;
-  for (const t of targets) {
-    const layer = dxfLayer(t);
-    const colour = layers.get(layer)!;
-    const z = -t.depthTopM / mpu;
+  const layer = dxfLayer(t);
+  const colour = dxfColour(t);
+  const z = -t.depthTopM / mpu;
+  return dxfGroups((g) => {
     if (t.kind === 'linear' && t.site.type === 'LineString') {
       g(0, 'POLYLINE'); g(8, layer); g(62, colour); g(66, 1); g(10, 0); g(20, 0); g(30, z); g(70, 8);
       t.site.coordinates.forEach((p, i) => {
@@ -158,9 +184,30 @@ export function targetsDxf(targets: Target[], ctx: ExportContext): string {
     const at = t.kind === 'linear' && t.site.type === 'LineString' ? pointAlong(t.site.coordinates, 0.5) : t.centroidXY;
     const label = `${t.id} ${t.utilityType ?? 'unknown'} top ${t.depthTopM.toFixed(2)} m (${(t.depthTopM / FOOT_M).toFixed(2)} ft)${t.depthUncertaintyM !== null ? ` +-${t.depthUncertaintyM.toFixed(2)} m` : ''}`;
     g(0, 'TEXT'); g(8, layer); g(62, colour); g(10, at[0] + textH / 2); g(20, at[1] + textH / 2); g(30, z); g(40, textH); g(1, label);
-  }
+  });
+}
+
+/** End of the ENTITIES section and of the file. */
+export const dxfTail = (): string => dxfGroups((g) => {
   g(0, 'ENDSEC'); g(0, 'EOF');
-  return out.join('\r\n') + '\r\n';
+});
+
+/** Adds a target's layer to `layers` (name to colour, in order of first use). */
+export function addDxfLayer(layers: Map<string, number>, t: Target): void {
+  const name = dxfLayer(t);
+  if (!layers.has(name)) layers.set(name, dxfColour(t));
+}
+
+/**
+ * R12 DXF in the site CRS: one layer per utility type, a 3D POLYLINE (VERTEX ... SEQEND) along each
+ * linear target's centreline, a POINT at each compact target's centroid, and a TEXT label with the depth.
+ * Z is the negative depth of the top (the ground surface is Z = 0), in the site CRS's unit; polyline
+ * vertices carry their own depth (`Target.vertexDepthsM`), so a sloping pipe slopes.
+ */
+export function targetsDxf(targets: Target[], ctx: ExportContext): string {
+  const layers = new Map<string, number>();
+  for (const t of targets) addDxfLayer(layers, t);
+  return dxfHead(layers, ctx) + targets.map((t) => dxfEntities(t, ctx)).join('') + dxfTail();
 }
 
 const num = (v: number) => {

@@ -114,11 +114,31 @@ function sqlJs(): ReturnType<typeof initSqlJs> {
   return sqlPromise;
 }
 
-/** Build a GeoPackage in memory; returns the file bytes. */
-export async function writeGpkg(srs: GpkgSrs[], layers: GpkgLayer[], options: { timestamp?: string } = {}): Promise<Uint8Array> {
+/** A feature table's definition: a GpkgLayer without its features. */
+export type GpkgLayerDef = Omit<GpkgLayer, 'features'>;
+
+/**
+ * A GeoPackage built in sql.js one feature at a time: `beginLayer`, `add` each feature (or `addBlob`, a
+ * geometry already in GeoPackage binary), `endLayer` (writes the gpkg_contents row with the envelope
+ * accumulated from the features' headers), then `export` once. The database lives in sql.js memory, so it
+ * holds the whole file (the layers' size) until exported; layers are written one after the other.
+ */
+export interface GpkgWriter {
+  beginLayer(layer: GpkgLayerDef): void;
+  add(geometry: Geometry, values: GpkgValue[]): void;
+  addBlob(geometry: Uint8Array, values: GpkgValue[]): void;
+  endLayer(): void;
+  /** The file bytes. */
+  export(): Uint8Array;
+  close(): void;
+}
+
+/** Open a GeoPackage writer with the required metadata tables and the given SRSs registered. */
+export async function openGpkg(srs: GpkgSrs[], options: { timestamp?: string } = {}): Promise<GpkgWriter> {
   const SQL = await sqlJs();
   const db = new SQL.Database();
   const now = options.timestamp ?? new Date().toISOString();
+  const seen = new Set<number>();
   try {
     db.run(`PRAGMA application_id = ${0x47504b47}; PRAGMA user_version = 10300;`);
     db.run(`CREATE TABLE gpkg_spatial_ref_sys (srs_name TEXT NOT NULL, srs_id INTEGER PRIMARY KEY, organization TEXT NOT NULL,
@@ -137,40 +157,91 @@ export async function writeGpkg(srs: GpkgSrs[], layers: GpkgLayer[], options: { 
       { srsId: -1, name: 'Undefined cartesian SRS', organization: 'NONE', organizationId: -1, definition: 'undefined', description: 'undefined cartesian coordinate reference system' },
       { srsId: 0, name: 'Undefined geographic SRS', organization: 'NONE', organizationId: 0, definition: 'undefined', description: 'undefined geographic coordinate reference system' },
     ];
-    const seen = new Set<number>();
     for (const s of [...base, ...srs]) {
       if (seen.has(s.srsId)) continue;
       seen.add(s.srsId);
       ins.run([s.name, s.srsId, s.organization, s.organizationId, s.definition, s.description ?? null]);
     }
     ins.free();
-    for (const layer of layers) {
-      if (!seen.has(layer.srsId)) throw new Error(`layer ${layer.name}: srs_id ${layer.srsId} is not registered`);
-      const cols = layer.fields.map((f) => `${ident(f.name)} ${f.type}`).join(', ');
-      db.run(`CREATE TABLE ${ident(layer.name)} (fid INTEGER PRIMARY KEY AUTOINCREMENT NOT NULL, geom ${layer.geometryType}${cols ? ', ' + cols : ''})`);
-      const env = envelope(layer.features.map((f) => f.geometry));
+  } catch (e) {
+    db.close();
+    throw e;
+  }
+
+  let layer: GpkgLayerDef | undefined;
+  let stmt: ReturnType<typeof db.prepare> | undefined;
+  let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
+  const open = (): [GpkgLayerDef, NonNullable<typeof stmt>] => {
+    if (!layer || !stmt) throw new Error('GeoPackage writer: add() outside beginLayer() ... endLayer()');
+    return [layer, stmt];
+  };
+  const writer: GpkgWriter = {
+    beginLayer(l) {
+      if (layer) throw new Error(`layer ${l.name}: layer ${layer.name} is not ended`);
+      if (!seen.has(l.srsId)) throw new Error(`layer ${l.name}: srs_id ${l.srsId} is not registered`);
+      const cols = l.fields.map((f) => `${ident(f.name)} ${f.type}`).join(', ');
+      db.run(`CREATE TABLE ${ident(l.name)} (fid INTEGER PRIMARY KEY AUTOINCREMENT NOT NULL, geom ${l.geometryType}${cols ? ', ' + cols : ''})`);
+      // gpkg_contents (with the envelope) is written at endLayer: each metadata table has its own page, so
+      // the file's bytes do not depend on when its row goes in.
+      db.run('INSERT INTO gpkg_geometry_columns VALUES (?, ?, ?, ?, 0, 0)', [l.name, 'geom', l.geometryType, l.srsId]);
+      stmt = db.prepare(`INSERT INTO ${ident(l.name)} (geom${l.fields.map((f) => ', ' + ident(f.name)).join('')}) VALUES (?${', ?'.repeat(l.fields.length)})`);
+      layer = l;
+      x0 = y0 = Infinity;
+      x1 = y1 = -Infinity;
+    },
+    add(geometry, values) {
+      writer.addBlob(gpkgGeometry(geometry, open()[0].srsId), values);
+    },
+    addBlob(geometry, values) {
+      const [l, st] = open();
+      if (values.length !== l.fields.length) throw new Error(`layer ${l.name}: ${values.length} values for ${l.fields.length} fields`);
+      // The header's envelope [minx, maxx, miny, maxy] (written by gpkgGeometry); min/max do not depend on order.
+      const v = new DataView(geometry.buffer, geometry.byteOffset, geometry.byteLength);
+      x0 = Math.min(x0, v.getFloat64(8, true));
+      x1 = Math.max(x1, v.getFloat64(16, true));
+      y0 = Math.min(y0, v.getFloat64(24, true));
+      y1 = Math.max(y1, v.getFloat64(32, true));
+      st.run([geometry, ...values]);
+    },
+    endLayer() {
+      const [l, st] = open();
+      st.free();
+      stmt = undefined;
+      layer = undefined;
+      const env = x0 <= x1 ? [x0, y0, x1, y1] : undefined;
       db.run('INSERT INTO gpkg_contents (table_name, data_type, identifier, description, last_change, min_x, min_y, max_x, max_y, srs_id) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)', [
-        layer.name,
+        l.name,
         'features',
-        layer.name,
-        layer.description ?? '',
+        l.name,
+        l.description ?? '',
         now,
         env?.[0] ?? null,
         env?.[1] ?? null,
         env?.[2] ?? null,
         env?.[3] ?? null,
-        layer.srsId,
+        l.srsId,
       ]);
-      db.run('INSERT INTO gpkg_geometry_columns VALUES (?, ?, ?, ?, 0, 0)', [layer.name, 'geom', layer.geometryType, layer.srsId]);
-      const stmt = db.prepare(`INSERT INTO ${ident(layer.name)} (geom${layer.fields.map((f) => ', ' + ident(f.name)).join('')}) VALUES (?${', ?'.repeat(layer.fields.length)})`);
-      for (const f of layer.features) {
-        if (f.values.length !== layer.fields.length) throw new Error(`layer ${layer.name}: ${f.values.length} values for ${layer.fields.length} fields`);
-        stmt.run([gpkgGeometry(f.geometry, layer.srsId), ...f.values]);
-      }
-      stmt.free();
+    },
+    export: () => db.export(),
+    close() {
+      stmt?.free();
+      db.close();
+    },
+  };
+  return writer;
+}
+
+/** Build a GeoPackage in memory; returns the file bytes. */
+export async function writeGpkg(srs: GpkgSrs[], layers: GpkgLayer[], options: { timestamp?: string } = {}): Promise<Uint8Array> {
+  const w = await openGpkg(srs, options);
+  try {
+    for (const { features, ...def } of layers) {
+      w.beginLayer(def);
+      for (const f of features) w.add(f.geometry, f.values);
+      w.endLayer();
     }
-    return db.export();
+    return w.export();
   } finally {
-    db.close();
+    w.close();
   }
 }

@@ -49,8 +49,37 @@ function evidenceRows(a: AnomalyFeature): string {
   );
 }
 
-export function reportHtml(r: ReportInput): string {
-  const { run, velocity, targets, dropped, thumbnails, ctx } = r;
+/** What report.html needs besides the per-target rows. */
+export type ReportPage = Omit<ReportInput, 'targets' | 'dropped' | 'anomalies'>;
+
+/**
+ * The per-target parts of report.html, built as targets and dropped anomalies pass: the rows (HTML, or
+ * any encoding of it such as UTF-8 bytes, `R`) of the targets sorted by `byTargetId` and of the anomalies
+ * flagged above-ground in input order, the ids of the rejected ones and the number of anomalies.
+ */
+export interface ReportRows<R> {
+  targets: R[];
+  flagged: R[];
+  rejectedIds: string[];
+  anomalyCount: number;
+}
+
+/** Order of the target table. */
+export const byTargetId = (a: { id: string }, b: { id: string }): number => a.id.localeCompare(b.id);
+
+/** The row of a target in the target table. */
+export function reportTargetRow(t: Target): string {
+  return `<tr><td>${esc(t.id)}</td><td>${t.kind}</td><td>${t.apwaColour ? `<span class="swatch" style="background:${t.apwaColour}"></span> ${esc(t.utilityType)} (${esc(t.apwaColourName)})` : esc(t.utilityType ?? '–')}</td><td class="n">${f(t.depthTopM)} (${f(t.depthTopM / FOOT_M)})</td><td class="n">${f(t.depthBottomM)} (${f(t.depthBottomM / FOOT_M)})</td><td class="n">${f(t.depthUncertaintyM)}</td><td class="n">${f(t.lengthM, 1)}</td><td class="n">${f(t.confidence)}</td><td class="n">${f(t.centroidXY[0], 2)}, ${f(t.centroidXY[1], 2)}</td><td>${t.decision}${t.screenedOrigin !== t.origin ? ' (relabelled subsurface)' : ''}${t.label ? `; ${esc(t.label)}` : ''}${t.note ? `; ${esc(t.note)}` : ''}</td></tr>`;
+}
+
+/** The row of an anomaly flagged above-ground (by screening or in review), with its evidence. */
+export function reportFlaggedRow(d: Dropped): string {
+  return `<tr><td>${esc(d.id)}</td><td class="n">${f(d.anomaly.properties.depthTopM)}–${f(d.anomaly.properties.depthBottomM)}</td><td class="n">${f(d.anomaly.properties.confidence)}</td><td>${d.reason === 'relabelled above-ground' ? '<b>relabelled above-ground in review</b>' : ''}${evidenceRows(d.anomaly)}</td></tr>`;
+}
+
+/** report.html in order, page parts as strings and rows as given (joined, they are the file). */
+export function* reportParts<R>(page: ReportPage, rows: ReportRows<R>): Generator<string | R> {
+  const { run, velocity, thumbnails, ctx } = page;
   const s = run.site;
   const traces = run.lines.reduce((a, l) => a + (l.traces ?? 0), 0);
   const lengthM = run.lines.reduce((a, l) => a + (l.lengthM ?? 0), 0);
@@ -62,13 +91,10 @@ export function reportHtml(r: ReportInput): string {
   const model = isObj(vr.model) ? vr.model : {};
   const layers = Array.isArray(model.layers) ? model.layers.filter(isObj) : [];
   const moisture = isObj(vr.site) && isObj(vr.site.moisture) ? vr.site.moisture : undefined;
-  const sorted = [...targets].sort((a, b) => a.id.localeCompare(b.id));
-  const flagged = dropped.filter((d) => d.reason !== 'rejected');
-  const rejected = dropped.filter((d) => d.reason === 'rejected');
   const num = (v: unknown, d = 3) => (typeof v === 'number' ? f(v, d) : '–');
 
   const cautions = `<section class="cautions"><h2>Cautions</h2><ul>${CAUTIONS.map((c) => `<li>${esc(c)}</li>`).join('')}</ul></section>`;
-  return `<!doctype html>
+  yield `<!doctype html>
 <html lang="en"><head><meta charset="utf-8"><title>Lamina report: ${esc(s.name)}</title>
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <style>
@@ -105,20 +131,41 @@ ${layers.length ? `<table><tr><th>Layer top (m)</th><th>bottom (m)</th><th>v (m/
 ${hyper.length ? `<table><tr><th>Line</th><th>Trace</th><th>t0 (ns)</th><th>Depth (m)</th><th>v (m/ns)</th><th>± (m/ns)</th><th>K</th><th>Origin</th></tr>${hyper.map((h) => `<tr><td>${esc(h.line)}</td><td class="n">${esc(h.trace)}</td><td class="n">${num(h.t0Ns, 2)}</td><td class="n">${num(h.depthM, 2)}</td><td class="n">${num(h.velocityMPerNs, 4)}</td><td class="n">${num(h.uncertaintyMPerNs, 4)}</td><td class="n">${num(h.permittivity, 2)}</td><td>${esc(h.origin)}</td></tr>`).join('')}</table>` : '<p>No hyperbola fits.</p>'}
 <h2>Depth slices</h2>
 ${thumbnails.length ? `<p>Grey levels from each slice's 2nd (black) to 98th (white) percentile; north up; checkered = no data.</p><div class="thumbs">${thumbnails.map((t) => `<figure><img src="${t.dataUri}" width="${t.width}" height="${t.height}" alt="slice ${t.band}"><figcaption>${f(t.topM)}–${f(t.bottomM)} m</figcaption></figure>`).join('')}</div>` : '<p>No slices.tif in the folder.</p>'}
-<h2>Targets (${targets.length})</h2>
+<h2>Targets (${rows.targets.length})</h2>
 <p>Subsurface anomalies not rejected in review. Depth ft = m / 0.3048 (international foot). Uncertainty: dz = z · dv / v from the velocity spread.</p>
 <table><tr><th>Id</th><th>Kind</th><th>Utility (APWA)</th><th>Top m (ft)</th><th>Bottom m (ft)</th><th>± m</th><th>Length m</th><th>Confidence</th><th>Position (${esc(unit)})</th><th>Review</th></tr>
-${sorted.map((t) => `<tr><td>${esc(t.id)}</td><td>${t.kind}</td><td>${t.apwaColour ? `<span class="swatch" style="background:${t.apwaColour}"></span> ${esc(t.utilityType)} (${esc(t.apwaColourName)})` : esc(t.utilityType ?? '–')}</td><td class="n">${f(t.depthTopM)} (${f(t.depthTopM / FOOT_M)})</td><td class="n">${f(t.depthBottomM)} (${f(t.depthBottomM / FOOT_M)})</td><td class="n">${f(t.depthUncertaintyM)}</td><td class="n">${f(t.lengthM, 1)}</td><td class="n">${f(t.confidence)}</td><td class="n">${f(t.centroidXY[0], 2)}, ${f(t.centroidXY[1], 2)}</td><td>${t.decision}${t.screenedOrigin !== t.origin ? ' (relabelled subsurface)' : ''}${t.label ? `; ${esc(t.label)}` : ''}${t.note ? `; ${esc(t.note)}` : ''}</td></tr>`).join('\n')}
+`;
+  yield* joined(rows.targets);
+  yield `
 </table>
-<h2>Flagged as above-ground (${flagged.length})</h2>
+<h2>Flagged as above-ground (${rows.flagged.length})</h2>
 <p>Anomalies the air-wave screening (or the reviewer) attributes to reflections from objects above the ground; they are not in the target files.</p>
 <table><tr><th>Id</th><th>Depth m</th><th>Confidence</th><th>Why</th></tr>
-${flagged.map((d) => `<tr><td>${esc(d.id)}</td><td class="n">${f(d.anomaly.properties.depthTopM)}–${f(d.anomaly.properties.depthBottomM)}</td><td class="n">${f(d.anomaly.properties.confidence)}</td><td>${d.reason === 'relabelled above-ground' ? '<b>relabelled above-ground in review</b>' : ''}${evidenceRows(d.anomaly)}</td></tr>`).join('\n')}
+`;
+  yield* joined(rows.flagged);
+  yield `
 </table>
-${rejected.length ? `<h2>Rejected in review (${rejected.length})</h2><p>${rejected.map((d) => esc(d.id)).join(', ')}</p>` : ''}
-${r.unmatchedDecisions ? `<p>${r.unmatchedDecisions} review decision(s) match no anomaly of this run and were not applied.</p>` : ''}
+${rows.rejectedIds.length ? `<h2>Rejected in review (${rows.rejectedIds.length})</h2><p>${rows.rejectedIds.map(esc).join(', ')}</p>` : ''}
+${page.unmatchedDecisions ? `<p>${page.unmatchedDecisions} review decision(s) match no anomaly of this run and were not applied.</p>` : ''}
 ${cautions}
-<p class="detail">Generated by Lamina${run.toolVersion ? ` ${esc(run.toolVersion)}` : ''}. ${r.anomalies.length} anomalies screened.</p>
+<p class="detail">Generated by Lamina${run.toolVersion ? ` ${esc(run.toolVersion)}` : ''}. ${rows.anomalyCount} anomalies screened.</p>
 </body></html>
 `;
+}
+
+function* joined<R>(rows: R[]): Generator<string | R> {
+  for (let i = 0; i < rows.length; i++) {
+    if (i > 0) yield '\n';
+    yield rows[i]!;
+  }
+}
+
+export function reportHtml(r: ReportInput): string {
+  const rows: ReportRows<string> = {
+    targets: [...r.targets].sort(byTargetId).map(reportTargetRow),
+    flagged: r.dropped.filter((d) => d.reason !== 'rejected').map(reportFlaggedRow),
+    rejectedIds: r.dropped.filter((d) => d.reason === 'rejected').map((d) => d.id),
+    anomalyCount: r.anomalies.length,
+  };
+  return [...reportParts(r, rows)].join('');
 }

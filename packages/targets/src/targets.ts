@@ -159,82 +159,94 @@ export function polylineLength(c: number[][]): number {
 
 const round = (v: number, d: number) => Math.round(v * 10 ** d) / 10 ** d;
 
+/** Review decisions keyed by anomaly id (a later decision for the same id wins). */
+export function decisionsById(decisions: Decision[]): Map<string, Decision> {
+  return new Map(decisions.map((d) => [d.anomalyId, d]));
+}
+
+export const isDropped = (r: Target | Dropped): r is Dropped => 'reason' in r;
+
 /**
- * Split anomalies into targets and dropped ones. A target is an anomaly whose origin (the user's relabel
- * if any, else the screening's) is subsurface and whose decision is not `reject`. Decisions are looked
- * up by anomaly id (the pipeline re-keys review.json to the current ids on every run).
+ * One anomaly as a target, or why it is dropped; null when it has no plan position at all (nothing a
+ * map or CAD file could show). A target is an anomaly whose origin (the user's relabel if any, else the
+ * screening's) is subsurface and whose decision is not `reject`. Decisions are looked up by anomaly id
+ * (the pipeline re-keys review.json to the current ids on every run).
  */
+export function targetOf(a: AnomalyFeature, decisions: Map<string, Decision>, velocity: VelocityInfo, crs: Crs): Target | Dropped | null {
+  const rel = velocity.spreadMPerNs !== undefined ? velocity.spreadMPerNs / velocity.velocityMPerNs : undefined;
+  const toSite = (p: number[]) => pointFromWgs84(crs, p[0]!, p[1]!) as number[];
+  const p = a.properties;
+  const d = decisions.get(p.id);
+  const origin = d?.origin ?? p.origin;
+  if (d?.decision === 'reject') return { id: p.id, reason: 'rejected', anomaly: a };
+  if (origin === 'above-ground') {
+    return { id: p.id, reason: d?.origin === 'above-ground' && p.origin !== 'above-ground' ? 'relabelled above-ground' : 'above-ground', anomaly: a };
+  }
+  const centreline = asGeometry(p.centreline);
+  const outline = asGeometry(a.geometry);
+  const kind: Target['kind'] = p.kind === 'linear' && centreline?.type === 'LineString' ? 'linear' : 'compact';
+  let wgs84: Geometry | undefined = kind === 'linear' ? centreline : outline;
+  if (!wgs84) {
+    const c = Array.isArray(p.centroid) && typeof p.centroid[0] === 'number' && typeof p.centroid[1] === 'number' ? (p.centroid as number[]) : undefined;
+    if (!c) return null;
+    wgs84 = { type: 'Point', coordinates: c };
+  }
+  const site = mapGeometry(wgs84, toSite);
+  const given = Array.isArray(p.centroid) && typeof p.centroid[0] === 'number' && typeof p.centroid[1] === 'number' ? (p.centroid as [number, number]) : undefined;
+  let centroidXY: [number, number];
+  let centroidLonLat: [number, number];
+  if (kind === 'compact' && given) {
+    centroidLonLat = [given[0], given[1]];
+    centroidXY = toSite(given) as [number, number];
+  } else {
+    centroidXY = kind === 'linear' ? pointAlong((site as { coordinates: number[][] }).coordinates, 0.5) : centroidOf(site);
+    centroidLonLat = pointToWgs84(crs, centroidXY[0], centroidXY[1]);
+  }
+  const ut = d?.utilityType ?? null;
+  const colour = ut ? APWA_COLOURS[ut] : null;
+  return {
+    id: p.id,
+    kind,
+    origin: 'subsurface',
+    screenedOrigin: p.origin,
+    confidence: p.confidence,
+    depthTopM: p.depthTopM,
+    depthBottomM: p.depthBottomM,
+    depthUncertaintyM: rel !== undefined ? round(p.depthTopM * rel, 4) : null,
+    depthBottomUncertaintyM: rel !== undefined ? round(p.depthBottomM * rel, 4) : null,
+    utilityType: ut,
+    apwaColour: colour?.hex ?? null,
+    apwaColourName: colour?.name ?? null,
+    label: d?.label ?? null,
+    decision: d?.decision === 'accept' ? 'accept' : 'undecided',
+    note: d?.note ?? null,
+    reviewedAt: d?.updatedAt ?? null,
+    reviewedBy: d?.by ?? null,
+    wgs84,
+    site,
+    outlineWgs84: kind === 'linear' && outline ? outline : null,
+    vertexDepthsM: kind === 'linear' && wgs84.type === 'LineString' ? vertexDepths(wgs84.coordinates, p.members, p.depthTopM) : null,
+    centroidXY,
+    centroidLonLat,
+    lengthM: kind === 'linear' ? round(polylineLength((site as { coordinates: number[][] }).coordinates) * crs.metresPerUnit, 3) : null,
+  };
+}
+
+/** Split anomalies into targets and dropped ones (`targetOf` for each; those without position are left out). */
 export function buildTargets(
   anomalies: AnomalyFeature[],
   decisions: Decision[],
   velocity: VelocityInfo,
   crs: Crs,
 ): { targets: Target[]; dropped: Dropped[] } {
-  const byId = new Map(decisions.map((d) => [d.anomalyId, d]));
-  const rel = velocity.spreadMPerNs !== undefined ? velocity.spreadMPerNs / velocity.velocityMPerNs : undefined;
+  const byId = decisionsById(decisions);
   const targets: Target[] = [];
   const dropped: Dropped[] = [];
-  const toSite = (p: number[]) => pointFromWgs84(crs, p[0]!, p[1]!) as number[];
   for (const a of anomalies) {
-    const p = a.properties;
-    const d = byId.get(p.id);
-    const origin = d?.origin ?? p.origin;
-    if (d?.decision === 'reject') {
-      dropped.push({ id: p.id, reason: 'rejected', anomaly: a });
-      continue;
-    }
-    if (origin === 'above-ground') {
-      dropped.push({ id: p.id, reason: d?.origin === 'above-ground' && p.origin !== 'above-ground' ? 'relabelled above-ground' : 'above-ground', anomaly: a });
-      continue;
-    }
-    const centreline = asGeometry(p.centreline);
-    const outline = asGeometry(a.geometry);
-    const kind: Target['kind'] = p.kind === 'linear' && centreline?.type === 'LineString' ? 'linear' : 'compact';
-    let wgs84: Geometry | undefined = kind === 'linear' ? centreline : outline;
-    if (!wgs84) {
-      const c = Array.isArray(p.centroid) && typeof p.centroid[0] === 'number' && typeof p.centroid[1] === 'number' ? (p.centroid as number[]) : undefined;
-      if (!c) continue; // no plan position at all: nothing a map or CAD file could show
-      wgs84 = { type: 'Point', coordinates: c };
-    }
-    const site = mapGeometry(wgs84, toSite);
-    const given = Array.isArray(p.centroid) && typeof p.centroid[0] === 'number' && typeof p.centroid[1] === 'number' ? (p.centroid as [number, number]) : undefined;
-    let centroidXY: [number, number];
-    let centroidLonLat: [number, number];
-    if (kind === 'compact' && given) {
-      centroidLonLat = [given[0], given[1]];
-      centroidXY = toSite(given) as [number, number];
-    } else {
-      centroidXY = kind === 'linear' ? pointAlong((site as { coordinates: number[][] }).coordinates, 0.5) : centroidOf(site);
-      centroidLonLat = pointToWgs84(crs, centroidXY[0], centroidXY[1]);
-    }
-    const ut = d?.utilityType ?? null;
-    const colour = ut ? APWA_COLOURS[ut] : null;
-    targets.push({
-      id: p.id,
-      kind,
-      origin: 'subsurface',
-      screenedOrigin: p.origin,
-      confidence: p.confidence,
-      depthTopM: p.depthTopM,
-      depthBottomM: p.depthBottomM,
-      depthUncertaintyM: rel !== undefined ? round(p.depthTopM * rel, 4) : null,
-      depthBottomUncertaintyM: rel !== undefined ? round(p.depthBottomM * rel, 4) : null,
-      utilityType: ut,
-      apwaColour: colour?.hex ?? null,
-      apwaColourName: colour?.name ?? null,
-      label: d?.label ?? null,
-      decision: d?.decision === 'accept' ? 'accept' : 'undecided',
-      note: d?.note ?? null,
-      reviewedAt: d?.updatedAt ?? null,
-      reviewedBy: d?.by ?? null,
-      wgs84,
-      site,
-      outlineWgs84: kind === 'linear' && outline ? outline : null,
-      vertexDepthsM: kind === 'linear' && wgs84.type === 'LineString' ? vertexDepths(wgs84.coordinates, p.members, p.depthTopM) : null,
-      centroidXY,
-      centroidLonLat,
-      lengthM: kind === 'linear' ? round(polylineLength((site as { coordinates: number[][] }).coordinates) * crs.metresPerUnit, 3) : null,
-    });
+    const r = targetOf(a, byId, velocity, crs);
+    if (r === null) continue;
+    if (isDropped(r)) dropped.push(r);
+    else targets.push(r);
   }
   return { targets, dropped };
 }
@@ -268,18 +280,33 @@ function vertexDepths(line: number[][], members: unknown, fallback: number): num
   });
 }
 
+/** An envelope grown one geometry at a time (`extend`), read with `bounds()`. */
+export interface EnvelopeAcc {
+  extend(g: Geometry): void;
+  /** [minX, minY, maxX, maxY], undefined before any position. */
+  bounds(): [number, number, number, number] | undefined;
+}
+
+export function envelopeAcc(): EnvelopeAcc {
+  let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
+  return {
+    extend(g) {
+      for (const p of allPositions(g)) {
+        x0 = Math.min(x0, p[0]!);
+        y0 = Math.min(y0, p[1]!);
+        x1 = Math.max(x1, p[0]!);
+        y1 = Math.max(y1, p[1]!);
+      }
+    },
+    bounds: () => (x0 <= x1 ? [x0, y0, x1, y1] : undefined),
+  };
+}
+
 /** Envelope [minX, minY, maxX, maxY] of geometries. */
 export function envelope(gs: Geometry[]): [number, number, number, number] | undefined {
-  let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
-  for (const g of gs) {
-    for (const p of allPositions(g)) {
-      x0 = Math.min(x0, p[0]!);
-      y0 = Math.min(y0, p[1]!);
-      x1 = Math.max(x1, p[0]!);
-      y1 = Math.max(y1, p[1]!);
-    }
-  }
-  return x0 <= x1 ? [x0, y0, x1, y1] : undefined;
+  const acc = envelopeAcc();
+  for (const g of gs) acc.extend(g);
+  return acc.bounds();
 }
 
 export { allPositions };
