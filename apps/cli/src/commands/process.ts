@@ -56,14 +56,29 @@ export function register(program: Command): void {
         }
         const bar = progress();
         let current = '';
+        // LAMINA_STAGE_RSS=1: peak resident memory of the process (worker threads included) per stage,
+        // sampled every 100 ms and printed to stderr at the end (for benchmarks).
+        const peaks = new Map<string, number>();
+        const sample = () => peaks.set(current || 'start', Math.max(peaks.get(current || 'start') ?? 0, process.memoryUsage.rss()));
+        const sampler = process.env.LAMINA_STAGE_RSS === '1' ? setInterval(sample, 100) : undefined;
         options.onProgress = (stage, done, total) => {
           if (stage !== current) {
+            if (sampler) sample();
             bar.start(stage, total);
             current = stage;
           }
           bar.update(done);
         };
-        const summary = await runProcess(siteDir, opts.out, options);
+        let summary: Awaited<ReturnType<typeof runProcess>>;
+        try {
+          summary = await runProcess(siteDir, opts.out, options);
+        } finally {
+          if (sampler) {
+            clearInterval(sampler);
+            sample();
+            process.stderr.write(`stage peak RSS MB: ${JSON.stringify(Object.fromEntries([...peaks].map(([k, v]) => [k, Math.round(v / 2 ** 20)])))}\n`);
+          }
+        }
         bar.stop();
         if (opts.json) {
           process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
