@@ -7,6 +7,7 @@
 //   LAMINA_BENCH_SCALE_GB=0.05,0.1   input sizes in GiB (comma list; default 0.01,0.03)
 //   LAMINA_BENCH_SCALE_SPEEDUP=0.01  size for the threads 1 vs 2 comparison (0 skips it)
 //   LAMINA_BENCH_SCALE_KEEP=1        keep the generated sites
+//   LAMINA_BENCH_SCALE_BAND_MB=384   --band-memory of the runs (MiB; default: the CLI's)
 //   LAMINA_BENCH_SCALE_CLUTTER=1     lines walked back keep the template's trace order, so their pipes sit
 //                                    mirrored: every crossing is an anomaly of its own (a cluttered site,
 //                                    about 1.4 anomalies per m2); by default the pipes run continuous
@@ -31,6 +32,7 @@ const sizes = (process.env.LAMINA_BENCH_SCALE_GB ?? '0.01,0.03').split(',').map(
 const speedupGb = Number(process.env.LAMINA_BENCH_SCALE_SPEEDUP ?? 0.01);
 const keep = process.env.LAMINA_BENCH_SCALE_KEEP === '1';
 const clutter = process.env.LAMINA_BENCH_SCALE_CLUTTER === '1';
+const bandMb = process.env.LAMINA_BENCH_SCALE_BAND_MB;
 
 /** A radargram with its traces in reverse order (a line walked the other way). */
 function reversed(data: Float32Array): Float32Array {
@@ -95,19 +97,27 @@ async function makeSite(dir: string, gib: number): Promise<{ lines: number; trac
   return { lines: nLines, traces: nLines * TRACES, bytes };
 }
 
-interface Run { wallS: number; rssMb: number; ok: boolean; stderr: string }
+interface Run { wallS: number; rssMb: number; ok: boolean; stderr: string; stages: string; bands: number }
 
 function processSite(site: string, out: string, threads: number): Run {
   rmSync(out, { recursive: true, force: true });
   const t0 = performance.now();
-  const r = spawnSync('/usr/bin/time', ['-v', process.execPath, '--import', 'tsx', 'apps/cli/src/main.ts', 'process', site, '--out', out, '--threads', String(threads), '--json'], {
+  const r = spawnSync('/usr/bin/time', ['-v', process.execPath, '--import', 'tsx', 'apps/cli/src/main.ts', 'process', site, '--out', out, '--threads', String(threads), '--json', ...(bandMb ? ['--band-memory', bandMb] : [])], {
     cwd: join(import.meta.dirname, '..'),
     encoding: 'utf8',
     maxBuffer: 64 * 2 ** 20,
+    env: { ...process.env, LAMINA_STAGE_RSS: '1' },
   });
   const wallS = (performance.now() - t0) / 1000;
   const m = /Maximum resident set size \(kbytes\): (\d+)/.exec(r.stderr);
-  return { wallS, rssMb: m ? Number(m[1]) / 1024 : NaN, ok: r.status === 0, stderr: r.stderr.split('\n').slice(0, 3).join(' | ') };
+  const stages = /stage peak RSS MB: (.*)/.exec(r.stderr)?.[1] ?? '';
+  let bands = NaN;
+  try {
+    bands = (JSON.parse(r.stdout) as { screeningBands?: number }).screeningBands ?? NaN;
+  } catch {
+    // not JSON: the run failed
+  }
+  return { wallS, rssMb: m ? Number(m[1]) / 1024 : NaN, ok: r.status === 0, stderr: r.stderr.split('\n').slice(0, 3).join(' | '), stages, bands };
 }
 
 if (!existsSync('/usr/bin/time')) {
@@ -127,6 +137,7 @@ if (!existsSync('/usr/bin/time')) {
       const inGib = s.bytes / GIB;
       if (!r.ok) console.log(`  ${inGib.toFixed(3)}: process failed: ${r.stderr}`);
       else console.log(`  ${inGib.toFixed(3).padStart(9)} ${String(s.lines).padStart(7)} ${String(s.traces).padStart(9)} ${r.wallS.toFixed(1).padStart(8)} ${(s.traces / r.wallS).toFixed(0).padStart(9)} ${(s.bytes / 2 ** 20 / r.wallS).toFixed(2).padStart(6)} ${r.rssMb.toFixed(0).padStart(13)} ${(r.rssMb / inGib).toFixed(0).padStart(16)}   (generated in ${genS.toFixed(1)} s)`);
+      if (r.ok) console.log(`            screened in ${r.bands} row band(s); peak RSS per stage, MB: ${r.stages}`);
       if (!keep) rmSync(dir, { recursive: true, force: true });
       rmSync(join(root, `out-${gib}`), { recursive: true, force: true });
     }
