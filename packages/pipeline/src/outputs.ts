@@ -134,6 +134,16 @@ export async function writeRadargramIndex(dir: string, entryFiles: string[]): Pr
 }
 
 /** A text file written in pieces, buffered to about 1 MB per write. */
+/** Writes text given in pieces (joined in 1 MiB writes), without joining all of it first. */
+export async function writeChunks(path: string, chunks: Iterable<string>): Promise<void> {
+  const out = await textFile(path);
+  try {
+    for (const c of chunks) await out.write(c);
+  } finally {
+    await out.close();
+  }
+}
+
 async function textFile(path: string): Promise<{ write(text: string): Promise<void>; close(): Promise<void> }> {
   const handle = await open(path, 'w');
   let pending: string[] = [];

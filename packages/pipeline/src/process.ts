@@ -3,13 +3,13 @@ import { join } from 'node:path';
 import { InputError, isInputError } from '@lamina/errors';
 import { stageFolder } from '@lamina/atomic';
 import { checkPlanNearSurvey, loadSite, pointToWgs84, shownPath, type Site } from '@lamina/site';
-import { buildVelocityReport, velocityJson, type VelocityReport } from '@lamina/velocity';
+import { buildVelocityReport, velocityJsonChunks, type VelocityReport } from '@lamina/velocity';
 import { defaultWindows, PointSpill, type SliceWindow } from '@lamina/slices';
 import type { Recipe } from '@lamina/processing';
 import { exportTargets, matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
 import { createPool, defaultThreads, type Pool, type SerialisedError } from './pool';
 import { pass1, pass2, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
-import { extents, linesGeoJson, planGeoJson, siteSummary, writeRadargramIndex } from './outputs';
+import { extents, linesGeoJson, planGeoJson, siteSummary, writeChunks, writeRadargramIndex } from './outputs';
 import { sliceAndScreen, type Anchored, type Screening } from './slice-and-screen';
 
 export interface ProcessOptions {
@@ -119,7 +119,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       metresPerUnit: site.crs.metresPerUnit,
       lineDirections: Object.fromEntries(p1.map((r) => [r.summary.id, r.direction])),
     });
-    await writeFile(join(stage.path, 'velocity.json'), velocityJson(velocity));
+    await writeChunks(join(stage.path, 'velocity.json'), velocityJsonChunks(velocity));
     // The picks are for the viewer (in velocity.json now); screening needs only the fits. They grow
     // with the number of lines, so they are let go here.
     for (const h of velocity.hyperbolas ?? []) delete h.picks;

@@ -25,7 +25,7 @@ export {
   siteVelocityModel,
   type SiteModelOptions,
 } from './site-model';
-export { toHyperbolaFit, lineHyperbolas, buildVelocityReport, velocityJson, writeVelocityJson, type ReportOptions } from './report';
+export { toHyperbolaFit, lineHyperbolas, buildVelocityReport, velocityJson, velocityJsonChunks, writeVelocityJson, type ReportOptions } from './report';
 export { parsePicks, fitManualPicks, type PicksFile, type ManualHyperbola } from './picks';
 export { lineDirection, correctObliqueCrossings, type ObliqueOptions } from './oblique';
 export { recipeForVelocity } from './recipe';

@@ -75,9 +75,30 @@ export function buildVelocityReport(fits: HyperbolaFit[], options: ReportOptions
   };
 }
 
+const finite = (_k: string, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v);
+
 /** JSON text of a report; non-finite numbers (never expected) become null rather than invalid JSON. */
 export function velocityJson(report: VelocityReport): string {
-  return JSON.stringify(report, (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v), 2) + '\n';
+  return JSON.stringify(report, finite, 2) + '\n';
+}
+
+/**
+ * `velocityJson` in pieces, a hyperbola at a time (the same text when joined), so a report with many
+ * fits and their picks is written without building one string of all of it.
+ */
+export function* velocityJsonChunks(report: VelocityReport): Generator<string> {
+  const indent = (text: string, by: string) => text.replace(/\n/g, `\n${by}`);
+  const entries = Object.entries(report).filter(([, v]) => v !== undefined && typeof v !== 'function');
+  yield '{';
+  for (const [i, [k, v]] of entries.entries()) {
+    yield `${i > 0 ? ',' : ''}\n  ${JSON.stringify(k)}: `;
+    if (k === 'hyperbolas' && Array.isArray(v) && v.length > 0) {
+      yield '[';
+      for (const [j, h] of (v as unknown[]).entries()) yield `${j > 0 ? ',' : ''}\n    ${indent(JSON.stringify(h, finite, 2) ?? 'null', '    ')}`;
+      yield '\n  ]';
+    } else yield indent(JSON.stringify(v, finite, 2), '  ');
+  }
+  yield entries.length > 0 ? '\n}\n' : '}\n';
 }
 
 /** Write velocity.json atomically. */

@@ -3,7 +3,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { isInputError } from '@lamina/errors';
-import { buildVelocityReport, fitManualPicks, lineHyperbolas, parsePicks, writeVelocityJson } from '../src';
+import { buildVelocityReport, fitManualPicks, lineHyperbolas, parsePicks, velocityJson, velocityJsonChunks, writeVelocityJson } from '../src';
 import { bistatic, synthLine } from './synth';
 
 const line = synthLine('L7', [{ x0: 4, z: 0.9, v: 0.11, amp: 1 }], { nTraces: 200, nSamples: 512, dtNs: 0.1, fMHz: 400 });
@@ -77,4 +77,17 @@ describe('velocity.json', () => {
     expect(j.hyperbolas[0].line).toBe('L7');
     expect(j.site.velocityMPerNs).toBeCloseTo(0.11, 3);
   });
+
+  it('written in pieces (velocityJsonChunks) is the same text as JSON.stringify(report, null-for-non-finite, 2)', () => {
+    const fits = lineHyperbolas(line, { separationM: 0.15, frequencyMHz: 400 });
+    const report = buildVelocityReport([...fits, ...fits.map((f) => ({ ...f, trace: f.trace + 1, rmsNs: Number.NaN }))], { separationM: 0.15 });
+    expect(report.hyperbolas[0]!.picks!.offsetM.length).toBeGreaterThan(3);
+    for (const r of [report, { ...report, hyperbolas: [] }, { ...report, site: { ...report.site, note: undefined } }]) {
+      // JSON.stringify is the reference (ECMA-262, JSON.stringify with a replacer and an indent of 2)
+      const want = JSON.stringify(r, (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v), 2) + '\n';
+      expect([...velocityJsonChunks(r)].join('')).toBe(want);
+      expect(velocityJson(r)).toBe(want);
+    }
+  });
 });
+
