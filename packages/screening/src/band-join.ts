@@ -23,8 +23,9 @@ export interface BandRows {
  */
 export function screenBands(height: number, maxRows: number, overlap: number): BandRows[] {
   if (height <= maxRows) return [{ first: 0, last: height, coreFirst: 0, coreLast: height }];
+  // as many bands as keep each within maxRows, but no core under 2 x overlap
   const core = Math.max(2 * overlap, maxRows - 2 * overlap, 1);
-  const n = Math.max(1, Math.floor(height / core));
+  const n = Math.max(1, Math.min(Math.ceil(height / core), Math.floor(height / Math.max(1, 2 * overlap))));
   const out: BandRows[] = [];
   for (let i = 0; i < n; i++) {
     const coreFirst = Math.round((i * height) / n), coreLast = Math.round(((i + 1) * height) / n);

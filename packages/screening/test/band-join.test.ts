@@ -86,6 +86,12 @@ describe('screening in row bands', () => {
       expect(b.coreLast - b.coreFirst).toBeGreaterThanOrEqual(60);
     }
     expect(screenBands(400, 400, 30)).toEqual([{ first: 0, last: 400, coreFirst: 0, coreLast: 400 }]);
+    // a grid a little over one band is two bands (each within maxRows + its overlap), not one
+    const two = screenBands(1872, 1321, 160);
+    expect(two.length).toBe(2);
+    for (const b of two) expect(b.last - b.first).toBeLessThanOrEqual(1321);
+    // cores never under 2 x overlap: a short grid with a small budget gets fewer, taller bands
+    expect(screenBands(500, 100, 100).length).toBe(2);
   });
 
   it('one band keeps every anomaly of the whole-grid screening as it is', () => {
