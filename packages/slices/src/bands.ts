@@ -1,5 +1,5 @@
 import { buildIndex, idwRows, searchFrame, type IdwOptions } from './idw';
-import { idwWorkers, type IdwWorkers } from './idw-parallel';
+import { idwWorkers } from './idw-parallel';
 import { levelFactors } from './levelling';
 import type { GriddingInfo, SliceGrid, SliceStack } from './stack';
 import type { PointSpill } from './spill';
@@ -59,11 +59,10 @@ export function gridSpillSync(spill: PointSpill, windows: SliceWindow[], options
  * A banded gridding kept open to fill any rows of the grid, one call at a time: `rows(r0, r1)` returns
  * the stacks of rows [r0, r1) on their own sub-grid (the grid's origin moved down r0 rows), with the
  * cells the whole grid would have there. The grid, the levelling factors and the point histogram are
- * worked out once; the gridding workers live until `close()`. Memory: the rows asked for plus one band
- * of points.
+ * worked out once; each call starts and ends its own gridding workers. Memory: the rows asked for plus
+ * one band of points.
  */
 export class SpillGridder {
-  private workers: IdwWorkers | undefined;
   private readonly buffers: { shared?: BandBuffers; local?: BandBuffers } = {};
   /** Point bands filled so far, over all calls. */
   pointBands = 0;
@@ -100,14 +99,20 @@ export class SpillGridder {
     // Small grids are not worth the workers.
     if (threads <= 1 || cells * nValues < 2e6) return this.rowsSync(r0, r1);
     const buffer = new SharedArrayBuffer(cells * nValues * 4);
-    this.workers ??= idwWorkers(threads);
+    const workers = idwWorkers(threads);
     const buf = (this.buffers.shared ??= new BandBuffers(nValues, true));
-    for (const [b0, b1] of pointBands(plan, r0, r1)) {
-      buf.reserve(plan.held(b0, b1));
-      const n = loadBand(spill, plan, b0, b1, buf);
-      const tree = buildIndex(buf.coords.subarray(0, 2 * n), searchFrame(plan.idw), true);
-      await this.workers.rows(tree, n, buf.values.buffer as unknown as SharedArrayBuffer, nValues, plan.grid, plan.idw, b0, b1, buffer, spill.hasNaN, r0, outRows);
-      this.pointBands++;
+    try {
+      for (const [b0, b1] of pointBands(plan, r0, r1)) {
+        buf.reserve(plan.held(b0, b1));
+        const n = loadBand(spill, plan, b0, b1, buf);
+        const tree = buildIndex(buf.coords.subarray(0, 2 * n), searchFrame(plan.idw), true);
+        await workers.rows(tree, n, buf.values.buffer as unknown as SharedArrayBuffer, nValues, plan.grid, plan.idw, b0, b1, buffer, spill.hasNaN, r0, outRows);
+        this.pointBands++;
+      }
+    } finally {
+      // Idle workers keep the shared buffers they were sent (their isolates have no reason to collect),
+      // so each call's workers go with it: a site gridded in many bands would otherwise hold every band.
+      await workers.close();
     }
     return this.stacksOf(bandsOf(buffer, nValues, cells), r0, r1);
   }
@@ -127,11 +132,8 @@ export class SpillGridder {
     return this.stacksOf(out, r0, r1);
   }
 
-  async close(): Promise<void> {
-    const w = this.workers;
-    this.workers = undefined;
-    if (w) await w.close();
-  }
+  /** Ends the gridding (nothing is held between calls: the workers of a call end with it). */
+  async close(): Promise<void> {}
 
   private stacksOf(out: Float32Array[], r0: number, r1: number): SliceStack[] {
     const { windows } = this;
