@@ -12,8 +12,8 @@ export interface SliceAndScreenOptions {
   level?: boolean;
   cellSizeM?: number;
   /**
-   * Memory for one band of the grid while it is screened (its two stacks and the screening's work
-   * arrays, about 40 bytes per cell per slice): a grid larger than this is gridded and screened in
+   * Memory for one band of the grid while it is screened (its two stacks, the screening's work arrays
+   * and its anomalies, about 70 bytes per cell per slice): a grid larger than this is gridded and screened in
    * overlapping row bands. @default 384 MiB
    */
   screenBandBytes?: number;
@@ -32,8 +32,12 @@ export interface Screening {
   bands: number;
 }
 
-/** Bytes a screened band holds per cell and slice: two stacks, two score arrays, extraction's work (measured, about). */
-const BYTES_PER_CELL_SLICE = 40;
+/**
+ * Bytes a screened band holds per cell and slice: two stacks, two score arrays, extraction's work, the
+ * band's anomalies and features (measured on the 4 GiB `pnpm bench scale` site: about 70 above the
+ * process's baseline).
+ */
+const BYTES_PER_CELL_SLICE = 70;
 
 /**
  * Grids the spilled points into the final stack and the stack before background removal, screens them

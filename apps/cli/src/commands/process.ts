@@ -59,13 +59,23 @@ export function register(program: Command): void {
         // LAMINA_STAGE_RSS=1: peak resident memory of the process (worker threads included) per stage,
         // sampled every 100 ms and printed to stderr at the end (for benchmarks).
         const peaks = new Map<string, number>();
-        const sample = () => peaks.set(current || 'start', Math.max(peaks.get(current || 'start') ?? 0, process.memoryUsage.rss()));
+        let band = '';
+        const sample = () => {
+          const k = (current || 'start') + band;
+          peaks.set(k, Math.max(peaks.get(k) ?? 0, process.memoryUsage.rss()));
+        };
         const sampler = process.env.LAMINA_STAGE_RSS === '1' ? setInterval(sample, 100) : undefined;
         options.onProgress = (stage, done, total) => {
           if (stage !== current) {
             if (sampler) sample();
             bar.start(stage, total);
             current = stage;
+            band = '';
+          }
+          // screening reports one step per row band: each band's peak of its own
+          if (sampler && stage === 'air-wave screening' && done < total) {
+            sample();
+            band = ` ${done + 1}/${total}`;
           }
           bar.update(done);
         };
