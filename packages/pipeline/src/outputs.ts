@@ -133,7 +133,6 @@ export async function writeRadargramIndex(dir: string, entryFiles: string[]): Pr
   await Promise.all(entryFiles.map((f) => rm(join(dir, f), { force: true })));
 }
 
-/** A text file written in pieces, buffered to about 1 MB per write. */
 /** Writes text given in pieces (joined in 1 MiB writes), without joining all of it first. */
 export async function writeChunks(path: string, chunks: Iterable<string>): Promise<void> {
   const out = await textFile(path);
@@ -144,6 +143,7 @@ export async function writeChunks(path: string, chunks: Iterable<string>): Promi
   }
 }
 
+/** A text file written in pieces, buffered to about 1 MB per write. */
 async function textFile(path: string): Promise<{ write(text: string): Promise<void>; close(): Promise<void> }> {
   const handle = await open(path, 'w');
   let pending: string[] = [];

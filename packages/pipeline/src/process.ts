@@ -151,23 +151,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
         (d) => progress('depth slices', d, n),
       );
       await exec.close();
-      screening = await sliceAndScreen(
-        site,
-        stage.path,
-        spill,
-        summaries.map((l) => l.id),
-        windows,
-        velocity,
-        recipe,
-        {
-          onProgress: progress,
-          ...(options.level !== undefined ? { level: options.level } : {}),
-          ...(options.cellSizeM !== undefined ? { cellSizeM: options.cellSizeM } : {}),
-          ...(options.screenBandBytes !== undefined ? { screenBandBytes: options.screenBandBytes } : {}),
-          ...(options.bandOverlapM !== undefined ? { bandOverlapM: options.bandOverlapM } : {}),
-        },
-        Math.max(1, threads),
-      );
+      screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress }, Math.max(1, threads));
     } finally {
       spill.remove();
     }

@@ -118,7 +118,7 @@ export async function sliceAndScreen(
   const joiner = new BandJoin({ toWgs84, metresPerUnit: mpu });
   // lines reach this far past a band for the along-line search (half a line spacing, a margin)
   const lineMargin = (Number.isFinite(lineSpacingM) ? lineSpacingM : 0) / mpu + 4 * cellSize;
-  let counts = { anomalies: 0, aboveGround: 0 };
+  const counts = { anomalies: 0, aboveGround: 0 };
   try {
     for (const [b, band] of bands.entries()) {
       options.onProgress('air-wave screening', b, bands.length);
@@ -146,8 +146,7 @@ export async function sliceAndScreen(
       }
     }
     options.onProgress('air-wave screening', bands.length, bands.length);
-    await gridder.close();
-    await writeSlicesFromDisk(disk, stageDir, { ...gridder.gridding });
+    await writeSlicesFromDisk(disk, stageDir, gridder.gridding);
     disk.remove();
 
     const anchored: Anchored[] = [];
@@ -169,7 +168,6 @@ export async function sliceAndScreen(
     await writeFeatureCollection(join(stageDir, 'forecast.geojson'), forecast);
     return { anchored, ...counts, bands: bands.length };
   } finally {
-    await gridder.close();
     disk.remove();
     kept.remove();
   }

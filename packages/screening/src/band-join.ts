@@ -1,8 +1,8 @@
-import { buildAnomaly, memberOf, type Anomaly3D, type ExtractOptions, type Member } from '@lamina/anomalies';
+import { buildAnomaly, memberOf, type ExtractOptions, type Member } from '@lamina/anomalies';
 import type { SliceStack } from '@lamina/slices';
 import type { Line } from './context';
 import type { GeoJsonFeature, ToWgs84 } from './geojson';
-import { anomalyFeature, type ScreenResult } from './screen';
+import { anomalyFeature, centroidOf, type ScreenResult } from './screen';
 
 /**
  * Rows of one band of a site screened band by band, in the rows of the whole grid: the band's stacks
@@ -124,8 +124,10 @@ export class BandJoin {
         if (r > bottom) bottom = r;
       }
       const goesOn = !isLast && bottom === rows - 1;
-      const anchorRow = Math.floor((originY - anchorY(a)) / cellSize);
+      // the anchor: the cell-weighted centroid decides which band owns the anomaly
+      const anchorRow = Math.floor((originY - centroidOf(a)[1]) / cellSize);
       if (!goesOn && anchorRow >= coreEnd && top >= nextFirst) continue;
+      const stack = f.properties.source === 'before-background' && stacks.before ? stacks.before : stacks.main;
       let changed = false;
       const members: Member[] = [];
       for (const m of a.members) {
@@ -140,7 +142,6 @@ export class BandJoin {
         else {
           changed = true;
           if (keep.length < minCells) continue;
-          const stack = f.properties.source === 'before-background' && stacks.before ? stacks.before : stacks.main;
           members.push(memberOf(m.id, m.slice, Int32Array.from(keep, (i) => m.cells[i]!), Float32Array.from(keep, (i) => m.scores[i]!), stack, this.options));
         }
       }
@@ -148,7 +149,6 @@ export class BandJoin {
       let feature = f;
       let kept = a;
       if (changed) {
-        const stack = f.properties.source === 'before-background' && stacks.before ? stacks.before : stacks.main;
         kept = buildAnomaly(a.id, members, stack, this.options);
         feature = anomalyFeature({ anomaly: kept, evidence: sa.evidence, verdict: sa.verdict }, grid, this.options.toWgs84, this.options.metresPerUnit);
         feature.properties.source = f.properties.source;
@@ -171,14 +171,4 @@ export class BandJoin {
     this.claimsBelow = band.last;
     return out;
   }
-}
-
-/** Cell-weighted centroid y of an anomaly's members (the plan point that decides which band owns it). */
-function anchorY(a: Anomaly3D): number {
-  let w = 0, y = 0;
-  for (const m of a.members) {
-    w += m.cells.length;
-    y += m.cells.length * m.y;
-  }
-  return y / w;
 }

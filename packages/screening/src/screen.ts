@@ -360,7 +360,8 @@ export function anomalyFeature(s: ScreenedAnomaly, grid: SliceGrid, toWgs84: ToW
   };
 }
 
-function centroidOf(a: Anomaly3D): [number, number] {
+/** Cell-weighted centroid of an anomaly's members, site CRS. */
+export function centroidOf(a: Anomaly3D): [number, number] {
   let w = 0, x = 0, y = 0;
   for (const m of a.members) {
     w += m.cells.length;

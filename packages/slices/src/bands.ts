@@ -42,11 +42,7 @@ interface BandPlan {
  */
 export async function gridSpill(spill: PointSpill, windows: SliceWindow[], options: SpillGridOptions, mode: SliceMode = 'mean-square'): Promise<SliceStack[]> {
   const gridder = SpillGridder.open(spill, windows, options, mode);
-  try {
-    return await gridder.rows(0, gridder.grid.height);
-  } finally {
-    await gridder.close();
-  }
+  return gridder.rows(0, gridder.grid.height);
 }
 
 /** `gridSpill` on the calling thread. */
@@ -101,9 +97,10 @@ export class SpillGridder {
     const buffer = new SharedArrayBuffer(cells * nValues * 4);
     const workers = idwWorkers(threads);
     const buf = (this.buffers.shared ??= new BandBuffers(nValues, true));
+    const bands = pointBands(plan, r0, r1);
+    buf.reserve(Math.max(0, ...bands.map(([b0, b1]) => plan.held(b0, b1))));
     try {
-      for (const [b0, b1] of pointBands(plan, r0, r1)) {
-        buf.reserve(plan.held(b0, b1));
+      for (const [b0, b1] of bands) {
         const n = loadBand(spill, plan, b0, b1, buf);
         const tree = buildIndex(buf.coords.subarray(0, 2 * n), searchFrame(plan.idw), true);
         await workers.rows(tree, n, buf.values.buffer as unknown as SharedArrayBuffer, nValues, plan.grid, plan.idw, b0, b1, buffer, spill.hasNaN, r0, outRows);
@@ -123,8 +120,9 @@ export class SpillGridder {
     const cells = plan.grid.width * (r1 - r0);
     const out = bandsOf(new ArrayBuffer(cells * spill.nValues * 4), spill.nValues, cells);
     const buf = (this.buffers.local ??= new BandBuffers(spill.nValues, false));
-    for (const [b0, b1] of pointBands(plan, r0, r1)) {
-      buf.reserve(plan.held(b0, b1));
+    const bands = pointBands(plan, r0, r1);
+    buf.reserve(Math.max(0, ...bands.map(([b0, b1]) => plan.held(b0, b1))));
+    for (const [b0, b1] of bands) {
       const n = loadBand(spill, plan, b0, b1, buf);
       idwRows(buildIndex(buf.coords.subarray(0, 2 * n), searchFrame(plan.idw)), n, buf.values, spill.nValues, plan.grid, plan.idw, b0, b1, out, spill.hasNaN, r0);
       this.pointBands++;
@@ -132,14 +130,11 @@ export class SpillGridder {
     return this.stacksOf(out, r0, r1);
   }
 
-  /** Ends the gridding (nothing is held between calls: the workers of a call end with it). */
-  async close(): Promise<void> {}
-
   private stacksOf(out: Float32Array[], r0: number, r1: number): SliceStack[] {
     const { windows } = this;
     const ns = windows.length;
     const g = this.plan.grid;
-    const grid: SliceGrid = r0 === 0 && r1 === g.height ? { ...g } : { ...g, originY: g.originY - r0 * g.cellSize, height: r1 - r0 };
+    const grid: SliceGrid = { ...g, originY: g.originY - r0 * g.cellSize, height: r1 - r0 };
     const gridding = this.gridding;
     return Array.from({ length: this.spill.nValues / ns }, (_, s) => ({
       grid: { ...grid },
