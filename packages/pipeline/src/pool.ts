@@ -1,4 +1,5 @@
-import { Worker } from 'node:worker_threads';
+import type { Worker } from 'node:worker_threads';
+import { startWorker } from '@lamina/runtime-files';
 import { availableParallelism } from 'node:os';
 
 /**
@@ -30,7 +31,6 @@ export function defaultThreads(): number {
 }
 
 export function createPool<T, R>(entry: URL, size: number, revive: (e: SerialisedError) => Error): Pool<T, R> {
-  const boot = new URL('./worker-boot.mjs', import.meta.url);
   const pending = new Map<number, { resolve: (r: R) => void; reject: (e: Error) => void }>();
   const queue: { id: number; task: T; transfer: ArrayBuffer[] }[] = [];
   const idle: Worker[] = [];
@@ -49,7 +49,7 @@ export function createPool<T, R>(entry: URL, size: number, revive: (e: Serialise
 
   const workers: Worker[] = [];
   for (let i = 0; i < size; i++) {
-    const w = new Worker(boot, { workerData: { entry: entry.href } });
+    const w = startWorker(entry);
     w.on('message', (m: { id: number; result?: R; error?: SerialisedError }) => {
       const p = pending.get(m.id);
       pending.delete(m.id);

@@ -1,5 +1,6 @@
 import { availableParallelism } from 'node:os';
-import { Worker } from 'node:worker_threads';
+import type { Worker } from 'node:worker_threads';
+import { startWorker } from '@lamina/runtime-files';
 import { InputError } from '@lamina/errors';
 import type { RadarLine } from '@lamina/radar-data';
 import { runRecipe, type Recipe, type RecipeContext, type RecipeResult, type RunOptions } from './recipe';
@@ -55,7 +56,7 @@ export function createProcessingPool(options: PoolOptions = {}): ProcessingPool 
   };
 
   for (let i = 0; i < size; i++) {
-    const w = new Worker(new URL('./worker-boot.mjs', import.meta.url));
+    const w = startWorker(new URL('./worker.ts', import.meta.url));
     w.on('message', (msg: WorkerReply) => {
       const p = pending.get(msg.id);
       if (!p) return;

@@ -1,5 +1,6 @@
 import { availableParallelism } from 'node:os';
-import { Worker } from 'node:worker_threads';
+import type { Worker } from 'node:worker_threads';
+import { startWorker } from '@lamina/runtime-files';
 import type KDBush from 'kdbush';
 import { buildIndex, hasNaN, idwGrid, searchFrame, type IdwOptions } from './idw';
 import type { IdwJob } from './idw-worker';
@@ -66,7 +67,7 @@ export interface IdwWorkers {
 
 /** Gridding workers kept for several calls (one row band after another). */
 export function idwWorkers(threads: number): IdwWorkers {
-  const workers = Array.from({ length: Math.max(1, threads) }, () => new Worker(new URL('./idw-worker-boot.mjs', import.meta.url)));
+  const workers = Array.from({ length: Math.max(1, threads) }, () => startWorker(new URL('./idw-worker.ts', import.meta.url)));
   return {
     rows: async (tree, n, values, nBands, grid, options, rowStart, rowEnd, out, anyNaN, outRow0 = 0, outRows = grid.height) => {
       const height = rowEnd - rowStart;

@@ -1,6 +1,7 @@
 import { createRequire } from 'node:module';
 import { dirname, join } from 'node:path';
 import initSqlJs from 'sql.js';
+import { bundled, bundleDir } from '@lamina/runtime-files';
 import type { Geometry } from './targets';
 import { envelope } from './targets';
 
@@ -107,8 +108,8 @@ const ident = (s: string) => `"${s.replace(/"/g, '""')}"`;
 let sqlPromise: ReturnType<typeof initSqlJs> | undefined;
 function sqlJs(): ReturnType<typeof initSqlJs> {
   if (!sqlPromise) {
-    const require = createRequire(import.meta.url);
-    const dir = dirname(require.resolve('sql.js'));
+    // the CLI build copies sql.js's wasm beside the bundle
+    const dir = bundled ? bundleDir() : dirname(createRequire(import.meta.url).resolve('sql.js'));
     sqlPromise = initSqlJs({ locateFile: (f: string) => join(dir, f) });
   }
   return sqlPromise;

@@ -1,0 +1,1 @@
+export { bundled, bundleDir, bundledWorkerName, startWorker, workerFile } from './runtime-files';
