@@ -2,8 +2,8 @@ import type { Command } from 'commander';
 import { stat } from 'node:fs/promises';
 import { join, resolve } from 'node:path';
 import { InputError } from '@lamina/errors';
+import { bundleDir, bundled } from '@lamina/runtime-files';
 import { action } from '../run';
-// Relative until apps/cli/package.json lists "@lamina/viewer": "workspace:*" (owned by the CLI's lead).
 import { CAUTIONS, ensureViewerBuilt, startViewerServer } from '@lamina/viewer';
 
 interface ViewOptions {
@@ -41,8 +41,10 @@ export function register(program: Command): void {
           }
           if (!u || !/^https?:$/.test(u.protocol)) throw new InputError('--basemap', `expected an http(s) URL of a style JSON, found "${opts.basemap}"`);
         }
-        await ensureViewerBuilt({ force: opts.rebuild === true, log: (s) => process.stderr.write(`${s}\n`) });
-        const srv = await startViewerServer(dir, { port, host: opts.host, ...(opts.basemap ? { basemap: opts.basemap } : {}) }).catch((e: NodeJS.ErrnoException) => {
+        // The built CLI carries the viewer's assets (apps/cli/build.mjs); from source they are built on demand.
+        if (bundled && opts.rebuild) throw new InputError('--rebuild', 'the built CLI carries a prebuilt viewer; rebuild the CLI instead (node apps/cli/build.mjs --force)');
+        const distDir = bundled ? join(bundleDir(), 'viewer') : await ensureViewerBuilt({ force: opts.rebuild === true, log: (s) => process.stderr.write(`${s}\n`) });
+        const srv = await startViewerServer(dir, { port, host: opts.host, distDir, ...(opts.basemap ? { basemap: opts.basemap } : {}) }).catch((e: NodeJS.ErrnoException) => {
           if (e.code === 'EADDRINUSE') throw new InputError('--port', `expected a free port, found ${port} in use on ${opts.host} (try --port 0 for any free port)`);
           if (e.code === 'EADDRNOTAVAIL' || e.code === 'ENOTFOUND') throw new InputError('--host', `expected an address of this machine, found "${opts.host}"`);
           throw e;
