@@ -4,6 +4,7 @@ import { defaultRecipe, envelope, parseRecipe, runRecipe, type Recipe, type Reci
 import { lineDirection, lineHyperbolas, recipeForVelocity, type HyperbolaFit, type VelocityModel } from '@lamina/velocity';
 import { sampleDepths, traceSliceValues, type SliceWindow } from '@lamina/slices';
 import { summariseLine, writeRadargram, type LineSummary } from './outputs';
+import { timed, type PartTimes } from './timings';
 
 /**
  * The work done on one line, in two passes so that memory holds one line at a time:
@@ -28,6 +29,8 @@ export interface Pass1Result {
   timeZeroNs: number;
   nSamples: number;
   dtNs: number;
+  /** Milliseconds of each part of this line's work (`ProcessTimings.lineWork`). */
+  times: PartTimes;
 }
 
 export interface Pass2Task {
@@ -48,6 +51,8 @@ export interface Pass2Result {
    */
   values: Float32Array;
   log: RecipeLogEntry[];
+  /** Milliseconds of each part of this line's work (`ProcessTimings.lineWork`). */
+  times: PartTimes;
 }
 
 const sites = new Map<string, Promise<Site>>();
@@ -76,18 +81,28 @@ function context(s: Site, velocityMPerNs?: number) {
   };
 }
 
+/** `runRecipe`'s per-step times added to `times` as `<pass> processing: <step>`. */
+const stepTimes = (times: PartTimes, pass: string) => (step: string, ms: number) => {
+  const k = `${pass} processing: ${step}`;
+  times[k] = (times[k] ?? 0) + ms;
+};
+
 export async function pass1(task: Pass1Task): Promise<Pass1Result> {
+  const times: PartTimes = {};
   const s = await site(task.siteDir);
   const src = s.lines[task.line]!;
-  const raw = await readLine(s, src);
-  const { line, log } = runRecipe(raw, recipeForVelocity(task.recipe), context(s));
-  const fits = lineHyperbolas(line, {
-    separationM: s.antenna.separationM,
-    metresPerUnit: s.crs.metresPerUnit,
-    frequencyMHz: s.antenna.frequencyMHz,
-  });
-  const radargramEntry = await writeRadargram(task.stageDir, line, (x, y) => pointToWgs84(s.crs, x, y));
+  const raw = await timed(times, 'pass 1 read line', () => readLine(s, src));
+  const { line, log } = runRecipe(raw, recipeForVelocity(task.recipe), context(s), { onStep: stepTimes(times, 'pass 1') });
+  const fits = timed(times, 'pass 1 hyperbolas', () =>
+    lineHyperbolas(line, {
+      separationM: s.antenna.separationM,
+      metresPerUnit: s.crs.metresPerUnit,
+      frequencyMHz: s.antenna.frequencyMHz,
+    }),
+  );
+  const radargramEntry = await timed(times, 'pass 1 radargram', () => writeRadargram(task.stageDir, line, (x, y) => pointToWgs84(s.crs, x, y)));
   return {
+    times,
     summary: summariseLine(line, src.relFile, s.crs.metresPerUnit),
     fits,
     log,
@@ -100,20 +115,21 @@ export async function pass1(task: Pass1Task): Promise<Pass1Result> {
 }
 
 export async function pass2(task: Pass2Task): Promise<Pass2Result> {
+  const times: PartTimes = {};
   const s = await site(task.siteDir);
   const src = s.lines[task.line]!;
-  const raw = await readLine(s, src);
-  const { line, before, log } = runRecipe(raw, task.recipe, context(s, task.velocityMPerNs), { keepBefore: 'backgroundRemoval' });
+  const raw = await timed(times, 'pass 2 read line', () => readLine(s, src));
+  const { line, before, log } = runRecipe(raw, task.recipe, context(s, task.velocityMPerNs), { keepBefore: 'backgroundRemoval', onStep: stepTimes(times, 'pass 2') });
   const sep = s.antenna.separationM;
-  const after = sliceValues(line, task, sep);
-  const beforeBackground = before && before !== line ? sliceValues(before, task, sep) : after;
+  const after = timed(times, 'pass 2 envelope + slice values', () => sliceValues(line, task, sep));
+  const beforeBackground = before && before !== line ? timed(times, 'pass 2 envelope + slice values', () => sliceValues(before, task, sep)) : after;
   const nw = task.windows.length;
   const values = new Float32Array(2 * after.length);
   for (let t = 0; t < line.nTraces; t++) {
     values.set(after.subarray(t * nw, (t + 1) * nw), 2 * t * nw);
     values.set(beforeBackground.subarray(t * nw, (t + 1) * nw), (2 * t + 1) * nw);
   }
-  return { x: line.x, y: line.y, values, log };
+  return { x: line.x, y: line.y, values, log, times };
 }
 
 function sliceValues(line: RadarLine, task: Pass2Task, separationM: number): Float32Array {

@@ -11,6 +11,7 @@ import { createPool, defaultThreads, type Pool, type SerialisedError } from './p
 import { pass1, pass2, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
 import { extents, linesGeoJson, planGeoJson, siteSummary, writeChunks, writeRadargramIndex } from './outputs';
 import { sliceAndScreen, type Anchored, type Screening } from './slice-and-screen';
+import { addParts, StageTimer, type ProcessTimings } from './timings';
 
 export interface ProcessOptions {
   /** Worker threads; 0 runs every line on the calling thread. @default LAMINA_THREADS or the core count */
@@ -50,6 +51,8 @@ export interface ProcessSummary {
   /** Row bands the grid was screened in (1 when it fitted `screenBandBytes`). */
   screeningBands: number;
   files: string[];
+  /** The pipeline's stage timers (`lamina process --timings`). */
+  timings: ProcessTimings;
 }
 
 const VERSION = '0.1.0';
@@ -96,7 +99,8 @@ async function inOrder<T>(n: number, start: (i: number) => Promise<T>, onDone: (
  * only read. An existing review.json in `outDir` is carried over and its decisions re-matched.
  */
 export async function runProcess(siteDir: string, outDir: string, options: ProcessOptions = {}): Promise<ProcessSummary> {
-  const site = await loadSite(siteDir);
+  const timer = new StageTimer();
+  const site = await timer.time('load site', () => loadSite(siteDir));
   const recipe: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
   const progress = options.onProgress ?? (() => {});
   const now = options.now ?? new Date();
@@ -106,7 +110,10 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   try {
     const n = site.lines.length;
     progress('processing lines', 0, n);
-    const p1 = (await inOrder(n, (i) => exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path }), (d) => progress('processing lines', d, n))) as Pass1Result[];
+    const p1 = (await timer.time('pass 1: process lines, hyperbolas', () =>
+      inOrder(n, (i) => exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path }), (d) => progress('processing lines', d, n)),
+    )) as Pass1Result[];
+    for (const r of p1) addParts(timer.lineMs, r.times);
 
     const toWgs84 = (x: number, y: number) => pointToWgs84(site.crs, x, y);
     const summaries = p1.map((r) => r.summary);
@@ -114,12 +121,14 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     checkPlanNearSurvey(site.plan, ext.site, site.crs.metresPerUnit, shownPath(site.planFile ?? join(site.dir, 'plan.geojson')));
 
     const fits = p1.flatMap((r) => r.fits);
-    const velocity = buildVelocityReport(fits, {
-      separationM: site.antenna.separationM,
-      metresPerUnit: site.crs.metresPerUnit,
-      lineDirections: Object.fromEntries(p1.map((r) => [r.summary.id, r.direction])),
-    });
-    await writeChunks(join(stage.path, 'velocity.json'), velocityJsonChunks(velocity));
+    const velocity = timer.time('velocity model', () =>
+      buildVelocityReport(fits, {
+        separationM: site.antenna.separationM,
+        metresPerUnit: site.crs.metresPerUnit,
+        lineDirections: Object.fromEntries(p1.map((r) => [r.summary.id, r.direction])),
+      }),
+    );
+    await timer.time('velocity model', () => writeChunks(join(stage.path, 'velocity.json'), velocityJsonChunks(velocity)));
     // The picks are for the viewer (in velocity.json now); screening needs only the fits. They grow
     // with the number of lines, so they are let go here.
     for (const h of velocity.hyperbolas ?? []) delete h.picks;
@@ -137,29 +146,33 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     let log: Pass2Result['log'] = [];
     let screening: Screening;
     try {
-      await inOrder(
-        n,
-        (i) =>
-          exec.run({ kind: 'pass2', siteDir: site.dir, line: i, recipe, model: velocity.model, velocityMPerNs: velocity.site.velocityMPerNs, windows }).then((res) => {
-            waiting.set(i, res as Pass2Result);
-            for (let r = waiting.get(next); r; r = waiting.get(next)) {
-              spill.addLine(r.x, r.y, r.values);
-              if (next === 0) log = r.log;
-              waiting.delete(next++);
-            }
-          }),
-        (d) => progress('depth slices', d, n),
+      await timer.time('pass 2: process lines, slice values', () =>
+        inOrder(
+          n,
+          (i) =>
+            exec.run({ kind: 'pass2', siteDir: site.dir, line: i, recipe, model: velocity.model, velocityMPerNs: velocity.site.velocityMPerNs, windows }).then((res) => {
+              waiting.set(i, res as Pass2Result);
+              addParts(timer.lineMs, (res as Pass2Result).times);
+              for (let r = waiting.get(next); r; r = waiting.get(next)) {
+                spill.addLine(r.x, r.y, r.values);
+                if (next === 0) log = r.log;
+                waiting.delete(next++);
+              }
+            }),
+          (d) => progress('depth slices', d, n),
+        ),
       );
-      await exec.close();
-      screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress }, Math.max(1, threads));
+      await timer.time('pass 2: process lines, slice values', () => exec.close());
+      screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress, timer }, Math.max(1, threads));
     } finally {
       spill.remove();
     }
 
+    const identity = { name: site.name, crs: site.crs.input, extent: ext.wgs84 };
+    const outputsDone = timer.start('outputs: run.json, lines, radargrams, review');
     await writeJson(stage.path, 'lines.geojson', linesGeoJson(summaries, toWgs84));
     await writeJson(stage.path, 'plan.geojson', planGeoJson(site.plan));
     await writeRadargramIndex(stage.path, p1.map((r) => r.radargramEntry));
-    const identity = { name: site.name, crs: site.crs.input, extent: ext.wgs84 };
     await writeJson(stage.path, 'run.json', {
       tool: { name: 'lamina', version: VERSION },
       createdAt: now.toISOString(),
@@ -174,19 +187,21 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     const reviewFile = join(outDir, 'review.json');
     const reviewRead = await readText(reviewFile);
     await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screening.anchored);
+    outputsDone();
 
     progress('targets', 0, 1);
-    let exported = await exportTargets(stage.path, { now });
+    let exported = await timer.time('targets export', () => exportTargets(stage.path, { now }));
     // The viewer may have saved decisions into the old folder while this run worked: take them along.
     if ((await readText(reviewFile)) !== reviewRead) {
       await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screening.anchored);
-      exported = await exportTargets(stage.path, { now });
+      exported = await timer.time('targets export', () => exportTargets(stage.path, { now }));
     }
     progress('targets', 1, 1);
 
     if (options.failAfter === 'outputs') throw new Error('stopped before commit (failAfter)');
-    await stage.commit();
+    await timer.time('commit', () => stage.commit());
     return {
+      timings: timer.result(threads),
       site: site.name,
       outDir,
       lines: n,

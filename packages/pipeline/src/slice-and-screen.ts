@@ -7,6 +7,7 @@ import type { Recipe } from '@lamina/processing';
 import { airRadiusM, BandJoin, CAUTION, linesInRows, lineSpacingOfM, screenBands, screenSite, siteForecast, surveyedMask, type GeoJsonFeature, type Line } from '@lamina/screening';
 import { FeatureSpill } from './feature-spill';
 import { writeFeatureCollection } from './outputs';
+import { StageTimer } from './timings';
 
 export interface SliceAndScreenOptions {
   level?: boolean;
@@ -20,6 +21,8 @@ export interface SliceAndScreenOptions {
   /** Rows a band reaches past its core on each side, metres. @default max(20 m, 2.5 x the deepest slice's air-wave radius) */
   bandOverlapM?: number;
   onProgress: (stage: string, done: number, total: number) => void;
+  /** The run's stage timers (gridding, screening, writing are timed apart). @default a timer of its own */
+  timer?: StageTimer;
 }
 
 export type Anchored = { id: string; lon: number; lat: number; depthTopM: number; depthBottomM: number };
@@ -60,7 +63,9 @@ export async function sliceAndScreen(
   threads: number,
 ): Promise<Screening> {
   const mpu = site.crs.metresPerUnit;
+  const timer = options.timer ?? new StageTimer();
   const toWgs84 = (x: number, y: number) => pointToWgs84(site.crs, x, y);
+  const gridPlanned = timer.start('gridding');
   const gridder = SpillGridder.open(spill, windows, {
     crs: site.crs.code ?? site.crs.proj4,
     metresPerUnit: mpu,
@@ -95,6 +100,7 @@ export async function sliceAndScreen(
     return { id: ids[l]!, x: Float64Array.from(x), y: Float64Array.from(y) };
   };
   const lineSpacingM = lineSpacingOfM(positions, mpu);
+  gridPlanned();
 
   const mig = recipe.steps.find((st) => st.step === 'migration');
   const migrationVelocity = mig && mig.step === 'migration' ? (mig.velocityMPerNs ?? velocity.site.velocityMPerNs) : undefined;
@@ -122,9 +128,10 @@ export async function sliceAndScreen(
   try {
     for (const [b, band] of bands.entries()) {
       options.onProgress('air-wave screening', b, bands.length);
-      const [stack, before] = await gridder.rows(band.first, band.last);
+      const [stack, before] = await timer.time('gridding', () => gridder.rows(band.first, band.last));
       const c0 = (band.coreFirst - band.first) * width, c1 = (band.coreLast - band.first) * width;
-      disk.writeRows(band.coreFirst, stack!.slices.map((s) => s.values.subarray(c0, c1)));
+      timer.time('slices.tif', () => disk.writeRows(band.coreFirst, stack!.slices.map((s) => s.values.subarray(c0, c1))));
+      const screeningDone = timer.start('air-wave screening');
       surveyed.set(surveyedMask(stack!).subarray(c0, c1), band.coreFirst * width);
       const screened = screenSite(
         {
@@ -144,10 +151,12 @@ export async function sliceAndScreen(
         counts.anomalies++;
         if (j.feature.properties.origin === 'above-ground') counts.aboveGround++;
       }
+      screeningDone();
     }
     options.onProgress('air-wave screening', bands.length, bands.length);
-    await writeSlicesFromDisk(disk, stageDir, gridder.gridding);
+    await timer.time('slices.tif', () => writeSlicesFromDisk(disk, stageDir, gridder.gridding));
     disk.remove();
+    const featuresDone = timer.start('anomalies.geojson, forecast');
 
     const anchored: Anchored[] = [];
     let i = 0;
@@ -166,6 +175,7 @@ export async function sliceAndScreen(
     // (the forecast takes the lines only to make a grid of its own; it is given the slices' grid)
     const forecast = siteForecast(site.plan, velocity, [], { grid, slices: windows }, surveyed, toWgs84, mpu, screenOptions);
     await writeFeatureCollection(join(stageDir, 'forecast.geojson'), forecast);
+    featuresDone();
     return { anchored, ...counts, bands: bands.length };
   } finally {
     disk.remove();

@@ -168,6 +168,8 @@ export interface RecipeResult {
 export interface RunOptions {
   /** Keep a copy of the line as it was just before the first step of this name. */
   keepBefore?: StepName;
+  /** Called after each step with its wall time in ms (the pipeline's stage timers). */
+  onStep?: (step: StepName, ms: number) => void;
 }
 
 const round = (x: number, d = 4): number => Math.round(x * 10 ** d) / 10 ** d || 0; // no -0 in logs
@@ -291,7 +293,9 @@ export function runRecipe(line: RadarLine, recipe: Recipe, ctx: RecipeContext, o
   let before: RadarLine | undefined;
   for (const step of recipe.steps) {
     if (options.keepBefore === step.step && before === undefined) before = cur === line ? { ...line, data: line.data.slice() } : cur;
+    const t0 = options.onStep ? performance.now() : 0;
     const r = runStep(cur, step, ctx);
+    options.onStep?.(step.step, performance.now() - t0);
     cur = r.line;
     log.push(r.entry);
   }

@@ -1,7 +1,7 @@
 import type { Command } from 'commander';
 import { readFile } from 'node:fs/promises';
 import { InputError } from '@lamina/errors';
-import { runProcess, type ProcessOptions } from '@lamina/pipeline';
+import { formatTimings, runProcess, type ProcessOptions } from '@lamina/pipeline';
 import { action, progress } from '../run';
 
 export function register(program: Command): void {
@@ -20,8 +20,9 @@ export function register(program: Command): void {
     .option('--band-memory <MiB>', 'memory for one band of the grid while it is screened; a larger grid is done in overlapping row bands (default 384)', Number.parseFloat)
     .option('--band-overlap <m>', 'how far a screening band reaches past its core, metres (default: 20 or 2.5 x the deepest air-wave radius)', Number.parseFloat)
     .option('--json', 'print the summary as JSON')
+    .option('--timings', 'print the time of each stage (seconds and share of the run) on stderr')
     .action(
-      action(async (siteDir: string, opts: { out: string; recipe?: string; threads?: number; sliceThickness?: number; sliceOverlap?: number; maxDepth?: number; cellSize?: number; level?: boolean; bandMemory?: number; bandOverlap?: number; json?: boolean }) => {
+      action(async (siteDir: string, opts: { out: string; recipe?: string; threads?: number; sliceThickness?: number; sliceOverlap?: number; maxDepth?: number; cellSize?: number; level?: boolean; bandMemory?: number; bandOverlap?: number; json?: boolean; timings?: boolean }) => {
         const options: ProcessOptions = {};
         if (opts.recipe) {
           let text: string;
@@ -90,6 +91,7 @@ export function register(program: Command): void {
           }
         }
         bar.stop();
+        if (opts.timings) process.stderr.write(`${formatTimings(summary.timings)}\n`);
         if (opts.json) {
           process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
           return;
