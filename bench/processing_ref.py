@@ -84,7 +84,8 @@ def dewow(d, dt, p):
     return d - (cum[:, b] - cum[:, a]) / (b - a)
 
 
-def process(d, meta):
+def process(d, meta, with_time_zero=False):
+    """The chain of meta["recipe"] on one line (traces x samples); with_time_zero: also its time-zero (ns)."""
     dt, f, sep = meta["dtNs"], meta["frequencyMHz"], meta["separationM"]
     d = d.astype(np.float64)
     tz = 0.0
@@ -107,7 +108,7 @@ def process(d, meta):
             d = d - d.mean(axis=0, keepdims=True)
         elif s == "envelope":
             d = np.abs(signal.hilbert(d, N=next_pow2(d.shape[1]), axis=1))[:, : d.shape[1]]
-    return d.astype(np.float32)
+    return (d.astype(np.float32), tz) if with_time_zero else d.astype(np.float32)
 
 
 _data = None
