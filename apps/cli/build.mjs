@@ -3,12 +3,13 @@
 // folder runs on its own (`npm pack`, `npm i -g`). Plain JavaScript so that `pnpm lamina` can check
 // staleness without loading a TypeScript loader or esbuild.
 //
-//   node apps/cli/build.mjs            build when stale
-//   node apps/cli/build.mjs --force    build anyway
+//   node apps/cli/build.mjs                  build apps/cli/dist when stale
+//   node apps/cli/build.mjs --force          build anyway
+//   node apps/cli/build.mjs --out <dir>      build into another folder (tests)
 import { cp, mkdir, rename, rm, writeFile } from 'node:fs/promises';
 import { readdirSync, readFileSync, statSync } from 'node:fs';
 import { createRequire } from 'node:module';
-import { dirname, join, relative } from 'node:path';
+import { dirname, join, relative, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
 export const CLI_ROOT = dirname(fileURLToPath(import.meta.url));
@@ -171,6 +172,8 @@ export async function ensureBuilt(options = {}) {
 }
 
 if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) {
-  const force = process.argv.includes('--force');
-  await ensureBuilt({ force, log: (s) => process.stderr.write(`${s}\n`) });
+  const args = process.argv.slice(2);
+  const out = args.indexOf('--out');
+  if (out >= 0 && !args[out + 1]) throw new Error('Expected a folder after --out.');
+  await ensureBuilt({ force: args.includes('--force'), log: (s) => process.stderr.write(`${s}\n`), ...(out >= 0 ? { outDir: resolve(args[out + 1]) } : {}) });
 }

@@ -168,7 +168,7 @@ export interface RecipeResult {
 export interface RunOptions {
   /** Keep a copy of the line as it was just before the first step of this name. */
   keepBefore?: StepName;
-  /** Called after each step with its wall time in ms (the pipeline's stage timers). */
+  /** Called after each step with its wall time in ms (the pipeline's stage timers); calling thread only, not through a processing pool (a function cannot cross to a worker). */
   onStep?: (step: StepName, ms: number) => void;
 }
 
