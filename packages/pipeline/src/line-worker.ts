@@ -1,4 +1,4 @@
-// Worker-thread task module for the process pipeline (loaded through worker-boot.mjs).
+// Worker-thread task module for the process pipeline (started by `startWorker`, @lamina/runtime-files).
 import { serveTasks } from './pool';
 import { pass1, pass2, type Pass1Task, type Pass2Task, type Pass1Result, type Pass2Result } from './line-task';
 
