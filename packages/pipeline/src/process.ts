@@ -100,7 +100,9 @@ async function inOrder<T>(n: number, start: (i: number) => Promise<T>, onDone: (
  */
 export async function runProcess(siteDir: string, outDir: string, options: ProcessOptions = {}): Promise<ProcessSummary> {
   const timer = new StageTimer();
-  const site = await timer.time('load site', () => loadSite(siteDir));
+  const siteLoaded = timer.start('load site');
+  const site = await loadSite(siteDir);
+  siteLoaded();
   const recipe: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
   const progress = options.onProgress ?? (() => {});
   const now = options.now ?? new Date();
@@ -110,9 +112,9 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   try {
     const n = site.lines.length;
     progress('processing lines', 0, n);
-    const p1 = (await timer.time('pass 1: process lines, hyperbolas', () =>
-      inOrder(n, (i) => exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path }), (d) => progress('processing lines', d, n)),
-    )) as Pass1Result[];
+    const pass1Done = timer.start('pass 1: process lines, hyperbolas');
+    const p1 = (await inOrder(n, (i) => exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path }), (d) => progress('processing lines', d, n))) as Pass1Result[];
+    pass1Done();
     for (const r of p1) addParts(timer.lineMs, r.times);
 
     const toWgs84 = (x: number, y: number) => pointToWgs84(site.crs, x, y);
@@ -120,15 +122,15 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     const ext = extents(summaries, toWgs84);
     checkPlanNearSurvey(site.plan, ext.site, site.crs.metresPerUnit, shownPath(site.planFile ?? join(site.dir, 'plan.geojson')));
 
+    const velocityDone = timer.start('velocity model');
     const fits = p1.flatMap((r) => r.fits);
-    const velocity = timer.time('velocity model', () =>
-      buildVelocityReport(fits, {
-        separationM: site.antenna.separationM,
-        metresPerUnit: site.crs.metresPerUnit,
-        lineDirections: Object.fromEntries(p1.map((r) => [r.summary.id, r.direction])),
-      }),
-    );
-    await timer.time('velocity model', () => writeChunks(join(stage.path, 'velocity.json'), velocityJsonChunks(velocity)));
+    const velocity = buildVelocityReport(fits, {
+      separationM: site.antenna.separationM,
+      metresPerUnit: site.crs.metresPerUnit,
+      lineDirections: Object.fromEntries(p1.map((r) => [r.summary.id, r.direction])),
+    });
+    await writeChunks(join(stage.path, 'velocity.json'), velocityJsonChunks(velocity));
+    velocityDone();
     // The picks are for the viewer (in velocity.json now); screening needs only the fits. They grow
     // with the number of lines, so they are let go here.
     for (const h of velocity.hyperbolas ?? []) delete h.picks;
@@ -145,34 +147,34 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     let next = 0;
     let log: Pass2Result['log'] = [];
     let screening: Screening;
+    const pass2Done = timer.start('pass 2: process lines, slice values');
     try {
-      await timer.time('pass 2: process lines, slice values', () =>
-        inOrder(
-          n,
-          (i) =>
-            exec.run({ kind: 'pass2', siteDir: site.dir, line: i, recipe, model: velocity.model, velocityMPerNs: velocity.site.velocityMPerNs, windows }).then((res) => {
-              waiting.set(i, res as Pass2Result);
-              addParts(timer.lineMs, (res as Pass2Result).times);
-              for (let r = waiting.get(next); r; r = waiting.get(next)) {
-                spill.addLine(r.x, r.y, r.values);
-                if (next === 0) log = r.log;
-                waiting.delete(next++);
-              }
-            }),
-          (d) => progress('depth slices', d, n),
-        ),
+      await inOrder(
+        n,
+        (i) =>
+          exec.run({ kind: 'pass2', siteDir: site.dir, line: i, recipe, model: velocity.model, velocityMPerNs: velocity.site.velocityMPerNs, windows }).then((res) => {
+            waiting.set(i, res as Pass2Result);
+            addParts(timer.lineMs, (res as Pass2Result).times);
+            for (let r = waiting.get(next); r; r = waiting.get(next)) {
+              spill.addLine(r.x, r.y, r.values);
+              if (next === 0) log = r.log;
+              waiting.delete(next++);
+            }
+          }),
+        (d) => progress('depth slices', d, n),
       );
-      await timer.time('pass 2: process lines, slice values', () => exec.close());
+      await exec.close();
+      pass2Done();
       screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress, timer }, Math.max(1, threads));
     } finally {
       spill.remove();
     }
 
-    const identity = { name: site.name, crs: site.crs.input, extent: ext.wgs84 };
     const outputsDone = timer.start('outputs: run.json, lines, radargrams, review');
     await writeJson(stage.path, 'lines.geojson', linesGeoJson(summaries, toWgs84));
     await writeJson(stage.path, 'plan.geojson', planGeoJson(site.plan));
     await writeRadargramIndex(stage.path, p1.map((r) => r.radargramEntry));
+    const identity = { name: site.name, crs: site.crs.input, extent: ext.wgs84 };
     await writeJson(stage.path, 'run.json', {
       tool: { name: 'lamina', version: VERSION },
       createdAt: now.toISOString(),
@@ -190,18 +192,21 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     outputsDone();
 
     progress('targets', 0, 1);
-    let exported = await timer.time('targets export', () => exportTargets(stage.path, { now }));
+    const exportDone = timer.start('targets export');
+    let exported = await exportTargets(stage.path, { now });
     // The viewer may have saved decisions into the old folder while this run worked: take them along.
     if ((await readText(reviewFile)) !== reviewRead) {
       await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screening.anchored);
-      exported = await timer.time('targets export', () => exportTargets(stage.path, { now }));
+      exported = await exportTargets(stage.path, { now });
     }
+    exportDone();
     progress('targets', 1, 1);
 
     if (options.failAfter === 'outputs') throw new Error('stopped before commit (failAfter)');
-    await timer.time('commit', () => stage.commit());
+    const commitDone = timer.start('commit');
+    await stage.commit();
+    commitDone();
     return {
-      timings: timer.result(threads),
       site: site.name,
       outDir,
       lines: n,
@@ -212,6 +217,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       aboveGround: screening.aboveGround,
       targets: exported.targets,
       screeningBands: screening.bands,
+      timings: timer.result(threads),
       files: ['run.json', 'lines.geojson', 'plan.geojson', 'velocity.json', 'slices.tif', 'slices.json', 'radargrams/index.json', 'anomalies.geojson', 'forecast.geojson', 'review.json', ...exported.files.filter((f) => !f.includes('review'))],
     };
   } catch (e) {
