@@ -12,6 +12,7 @@ import { Worker } from 'node:worker_threads';
 import { runProcess } from '@lamina/pipeline';
 import { defaultRecipe, runRecipe, type WorkerReply } from '@lamina/processing';
 import { loadSite, readLine } from '@lamina/site';
+import { isStale, workerEntries } from '../build.mjs';
 
 const run = promisify(execFile);
 const cliRoot = resolve(dirname(fileURLToPath(import.meta.url)), '..');
@@ -68,8 +69,25 @@ describe('the built CLI', () => {
     expect((await readFile(join(built, 'targets.gpkg'))).subarray(0, 16).toString('latin1')).toBe('SQLite format 3\0');
   });
 
+  it('is stale only when a source is newer than the start of the build', async () => {
+    expect(isStale(dist)).toBe(false);
+    const stamp = join(dist, 'build.json');
+    const text = await readFile(stamp, 'utf8');
+    try {
+      await writeFile(stamp, JSON.stringify({ ...JSON.parse(text), startedAt: 0 }));
+      expect(isStale(dist)).toBe(true);
+      await writeFile(stamp, '');
+      expect(isStale(dist)).toBe(true);
+    } finally {
+      await writeFile(stamp, text);
+    }
+    expect(isStale(dist)).toBe(false);
+    expect(isStale(join(work, 'no-build'))).toBe(true);
+  });
+
   it('carries a working bundle of every worker entry the sources name (the processing pool too)', async () => {
     const stamp = JSON.parse(await readFile(join(dist, 'build.json'), 'utf8')) as { workers: string[] };
+    expect(stamp.workers.sort()).toEqual([...workerEntries().keys()].map((w) => `${w}.mjs`).sort());
     expect(stamp.workers.sort()).toEqual(['idw-worker.mjs', 'line-worker.mjs', 'worker.mjs']);
     for (const w of stamp.workers) expect((await stat(join(dist, w))).isFile()).toBe(true);
     // the processing pool's worker is not used by any command: run one recipe through it by hand

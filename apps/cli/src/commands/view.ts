@@ -21,7 +21,7 @@ export function register(program: Command): void {
     .option('--port <n>', 'port to listen on (0: any free port)', '8737')
     .option('--host <address>', 'address to bind; anything but loopback exposes the review API to the network', '127.0.0.1')
     .option('--basemap <url>', 'basemap style URL (maplibre style JSON); without it the viewer makes no request outside this machine')
-    .option('--rebuild', 'rebuild the viewer even if the build is up to date')
+    .option('--rebuild', 'rebuild the viewer even if the build is up to date (from source; the built CLI carries its viewer)')
     .action(
       action(async (outDir: string, opts: ViewOptions) => {
         const dir = resolve(outDir);
