@@ -128,18 +128,18 @@ export async function build(options = {}) {
       platform: 'node',
       format: 'esm',
       target: 'node20',
-      // @lamina/runtime-files: workers and assets are looked up beside the bundle
-      define: { __LAMINA_BUNDLE__: 'true' },
-      // CommonJS dependencies call require() for Node's built-ins, and sql.js reads __dirname (the
-      // bundle's folder, where its wasm is copied)
+      // @lamina/runtime-files: workers and assets are looked up beside the bundle. CommonJS dependencies
+      // call require() for Node's built-ins, and sql.js reads __dirname (the bundle's folder, where its
+      // wasm is copied); `define` replaces only free uses, so a module's own __dirname stays its own.
+      define: { __LAMINA_BUNDLE__: 'true', __dirname: '__laminaBundleDir', __filename: '__laminaBundleFile' },
       banner: {
         js: [
           "import { createRequire as __laminaCreateRequire } from 'node:module';",
           "import { dirname as __laminaDirname } from 'node:path';",
           "import { fileURLToPath as __laminaFileURLToPath } from 'node:url';",
           'const require = __laminaCreateRequire(import.meta.url);',
-          'const __filename = __laminaFileURLToPath(import.meta.url);',
-          'const __dirname = __laminaDirname(__filename);',
+          'const __laminaBundleFile = __laminaFileURLToPath(import.meta.url);',
+          'const __laminaBundleDir = __laminaDirname(__laminaBundleFile);',
         ].join('\n'),
       },
       // only `ensureViewerBuilt` imports vite, and the built CLI serves the viewer assets it carries
