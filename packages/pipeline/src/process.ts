@@ -11,6 +11,7 @@ import { createPool, defaultThreads, type Pool, type SerialisedError } from './p
 import { pass1, pass2, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
 import { extents, linesGeoJson, planGeoJson, siteSummary, writeChunks, writeRadargramIndex } from './outputs';
 import { sliceAndScreen, type Anchored, type Screening } from './slice-and-screen';
+import { preflight } from './preflight';
 
 export interface ProcessOptions {
   /** Worker threads; 0 runs every line on the calling thread. @default LAMINA_THREADS or the core count */
@@ -33,6 +34,12 @@ export interface ProcessOptions {
   onProgress?: (stage: string, done: number, total: number) => void;
   /** The run's time stamp (run.json, export date); fixed in tests for reproducible outputs. @default now */
   now?: Date;
+  /** Memory the run may use (checked before pass 1), bytes. @default the machine's total memory */
+  memoryBytes?: number;
+  /** Free bytes on the output folder's filesystem (checked before pass 1). @default measured with statfs */
+  freeBytes?: number;
+  /** Warnings (plan features left out for lying far from the survey). @default one `warning:` line on stderr */
+  onWarning?: (message: string) => void;
   /** Stop after this stage (for tests of interruption). */
   failAfter?: string;
 }
@@ -96,7 +103,11 @@ async function inOrder<T>(n: number, start: (i: number) => Promise<T>, onDone: (
  * only read. An existing review.json in `outDir` is carried over and its decisions re-matched.
  */
 export async function runProcess(siteDir: string, outDir: string, options: ProcessOptions = {}): Promise<ProcessSummary> {
-  const site = await loadSite(siteDir);
+  const loaded = await loadSite(siteDir);
+  // What the positions mean and whether the run fits, from headers only, before any trace is read.
+  const { survey } = await preflight(loaded, outDir, options);
+  for (const w of survey.warnings) (options.onWarning ?? ((m) => process.stderr.write(`warning: ${m}\n`)))(w);
+  const site: Site = { ...loaded, plan: survey.plan };
   const recipe: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
   const progress = options.onProgress ?? (() => {});
   const now = options.now ?? new Date();

@@ -168,7 +168,7 @@ function* vertices(f: PlanFeature): Generator<Position> {
 /**
  * Check what the positions of a site mean, from its trace headers, CSVs and site.json only (no samples),
  * before any processing: every trace inside the area of use of the site CRS, a trace spacing a radar can
- * use (median at most half a wavelength in air at the antenna frequency; no step over `maxStepM`), every
+ * use (median at most one wavelength in air at the antenna frequency; no step over `maxStepM`), every
  * line within `maxGapM` of the rest of the survey and the plan near it. Each failure is an `InputError`
  * naming the file, the traces and the likely cause. Plan features far from the survey are dropped from
  * the returned plan with a warning; a plan with none near is refused (a wrong CRS or lon/lat order).
@@ -182,9 +182,11 @@ export async function checkSurvey(site: Site, options: SurveyCheckOptions = {}):
   const area = areaOfUse(site.crs);
   const open = options.open ?? defaultOpenSegy();
   const dt = options.sampleIntervalNs ?? site.sampleIntervalNs;
-  // Half a wavelength in air: spatial Nyquist for the steepest event at the speed of light; any event in
-  // the ground (slower) needs finer sampling, so a coarser median spacing cannot image anything.
-  const maxMedianM = C_M_PER_NS / (2 * (site.antenna.frequencyMHz / 1000));
+  // One wavelength in air. Zero-offset data alias a dip theta unless the spacing is below v / (4 f sin theta)
+  // (spatial Nyquist for two-way paths); at c / f even events at the speed of light alias above 14.5
+  // degrees, and events in the ground (v < c) at less: every hyperbola flank a velocity fit or migration
+  // needs is aliased, so the positions are more likely wrong than the survey that coarse.
+  const maxMedianM = C_M_PER_NS / (site.antenna.frequencyMHz / 1000);
   const areaText = area ? `lon ${area[0]}..${area[2]}, lat ${area[1]}..${area[3]}` : '';
   const inArea = (x: number, y: number): boolean => {
     if (!area) return true;
@@ -250,7 +252,7 @@ export async function checkSurvey(site: Site, options: SurveyCheckOptions = {}):
       const hint = s.median * 0.3048 <= maxMedianM && site.crs.units === 'm' ? '; feet read as metres?' : s.median / 10 <= maxMedianM ? '; a coordinate scalar applied wrongly?' : '';
       throw new InputError(
         where.file,
-        `expected a trace spacing of at most half a wavelength in air at ${site.antenna.frequencyMHz} MHz (${fmt(maxMedianM, 3)} m; coarser sampling images nothing), found a median of ${fmt(s.median, 3)} m over ${traces(0, n - 1)}${hint}`,
+        `expected a median trace spacing of at most one wavelength in air at ${site.antenna.frequencyMHz} MHz (${fmt(maxMedianM, 3)} m; coarser sampling aliases every hyperbola flank steeper than 15 degrees), found a median of ${fmt(s.median, 3)} m over ${traces(0, n - 1)}${hint}`,
         whereOpt,
       );
     }
@@ -355,7 +357,8 @@ export async function checkSurvey(site: Site, options: SurveyCheckOptions = {}):
       const nearest = Math.min(...gaps);
       throw new InputError(
         planName,
-        `expected plan features near the survey lines (within ${km(maxGap * mpu)}), found the nearest ${Number.isFinite(nearest) ? km(nearest * mpu) : 'at an unmeasurable distance'} away; is the plan in WGS84 lon/lat order (RFC 7946), and is the site CRS (${site.crs.code ?? site.crs.proj4}) the one of the lines?`,
+        // the wording of checkPlanNearSurvey (lamina info)
+        `expected plan features near the survey lines (within ${maxGap * mpu} m), found the nearest ${Number.isFinite(nearest) ? `${((nearest * mpu) / 1000).toFixed(1)} km` : 'an unmeasurable distance'} away; is the plan in WGS84 lon/lat order (RFC 7946)?`,
       );
     }
     const far = site.plan.filter((_, i) => (gaps[i] as number) > maxGap);
