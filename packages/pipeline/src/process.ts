@@ -87,7 +87,9 @@ function runner(threads: number): { run: (t: Task) => Promise<Result>; close: ()
 
 async function inOrder<T>(n: number, start: (i: number) => Promise<T>, onDone: (done: number) => void): Promise<T[]> {
   let done = 0;
-  return Promise.all(
+  // Every task settles before the first failure is thrown: a task still writing into the stage folder
+  // after it was removed would leave a partial one behind.
+  const settled = await Promise.allSettled(
     Array.from({ length: n }, (_, i) =>
       start(i).then((r) => {
         onDone(++done);
@@ -95,6 +97,9 @@ async function inOrder<T>(n: number, start: (i: number) => Promise<T>, onDone: (
       }),
     ),
   );
+  const failed = settled.find((s) => s.status === 'rejected');
+  if (failed) throw failed.reason;
+  return settled.map((s) => (s as PromiseFulfilledResult<T>).value);
 }
 
 /**
