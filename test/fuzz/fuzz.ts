@@ -168,7 +168,7 @@ export async function runFuzz(options: FuzzOptions): Promise<FuzzReport> {
         mkdirSync(out);
         const review = { version: 1, site: { name: 'fuzz', crs: 'EPSG:32617', extent: [-81.81, 40.01, -81.80, 40.02] }, decisions: [] };
         const doc = r() < 0.5 ? mutateJson(review, r).doc : review;
-        writeFileSync(join(out, 'review.json'), JSON.stringify(doc));
+        writeFileSync(join(out, 'review.json'), JSON.stringify(doc) ?? '');
         mutations.push('review.json in the output folder');
         kinds.push('review.json');
       }
@@ -181,6 +181,7 @@ export async function runFuzz(options: FuzzOptions): Promise<FuzzReport> {
       };
       report.cases++;
       let processed = false;
+      const t0 = performance.now();
       try {
         const summary = await runProcess(dir, out, { threads: 0, now: new Date('2026-12-01T12:00:00Z'), onWarning: () => {}, ...opts });
         processed = true;
@@ -232,6 +233,7 @@ export async function runFuzz(options: FuzzOptions): Promise<FuzzReport> {
           fail('viewer', `${(e as Error)?.name}: ${(e as Error)?.message}`);
         }
       }
+      if (process.env.FUZZ_TIMING) log(`case ${c}: ${processed ? 'ok' : 'refused'} in ${(performance.now() - t0).toFixed(0)} ms`);
       if (options.cliEvery && c % options.cliEvery === 0) {
         report.cliRuns++;
         const cliOut = join(work, `cli-${c}`);

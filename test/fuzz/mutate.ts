@@ -33,9 +33,9 @@ export function mutateJson(doc: unknown, r: Rand): { doc: unknown; path: string 
   const path: string[] = [];
   // walk down a random number of levels
   for (let depth = 0; depth < 8; depth++) {
-    const v = (node as Record<string, unknown>)[key as string];
+    const v: unknown = (node as Record<string, unknown>)[key as string];
     if (v === null || typeof v !== 'object' || r() < 0.2) break;
-    const keys = Array.isArray(v) ? v.map((_, i) => i) : Object.keys(v);
+    const keys: (string | number)[] = Array.isArray(v) ? v.map((_, i) => i) : Object.keys(v);
     if (keys.length === 0) break;
     node = v as Record<string, unknown>;
     key = pick(r, keys);
@@ -57,7 +57,7 @@ function jsonFile(file: string, r: Rand): string {
     return `${file}: not JSON, left`;
   }
   const m = mutateJson(doc, r);
-  writeFileSync(file, JSON.stringify(m.doc));
+  writeFileSync(file, JSON.stringify(m.doc) ?? '');
   return `set ${m.path}`;
 }
 
@@ -123,7 +123,7 @@ export const SITE_MUTATIONS: Mutation[] = [
       const fc = JSON.parse(text) as { features: { geometry: { coordinates: unknown } }[] };
       const map = (c: unknown, fn: (p: number[]) => number[]): unknown => (Array.isArray(c) && typeof c[0] === 'number' ? fn(c as number[]) : Array.isArray(c) ? c.map((x) => map(x, fn)) : c);
       const fn = how === 'swap lon/lat' ? (p: number[]) => [p[1]!, p[0]!] : how === 'projected' ? (p: number[]) => [431250 + p[0]!, 4429815 + p[1]!] : (p: number[]) => [p[0]! + 0.3, p[1]!];
-      if (how === 'one far feature') fc.features.push({ ...structuredClone(fc.features[0]!), geometry: { ...fc.features[0]!.geometry, coordinates: map(fc.features[0]!.geometry.coordinates, fn) } } as never);
+      if (how === 'one far feature') fc.features.push({ ...structuredClone(fc.features[0]!), id: 'far-feature', properties: { ...(fc.features[0] as { properties?: object }).properties, id: 'far-feature' }, geometry: { ...fc.features[0]!.geometry, coordinates: map(fc.features[0]!.geometry.coordinates, fn) } } as never);
       else for (const ft of fc.features) ft.geometry.coordinates = map(ft.geometry.coordinates, fn);
       writeFileSync(f, JSON.stringify(fc));
       return how;
