@@ -123,6 +123,11 @@ export async function preflight(site: Site, outDir: string, options: PreflightOp
   if (cells > MAX_CELLS) {
     throw new InputError(siteFile, `expected a grid of at most ${MAX_CELLS.toExponential(0)} cells, found that the lines need ${grid} (${cells.toExponential(2)} cells); choose a larger --cell-size or split the site with \`lamina tiles\``);
   }
+  const samples = Math.max(0, ...survey.lines.map((l) => l.nSamples));
+  if (size.slices > samples) {
+    // a slice thinner than a sample holds no new data; such a count is a typo in the thickness
+    throw new InputError('command line', `expected slices at least one sample deep (at most ${samples} slices from records of ${samples} samples), found ${size.slices} slices; choose a thicker --slice-thickness or a smaller --slice-overlap`, { field: '--slice-thickness' });
+  }
   const memory = options.memoryBytes ?? totalmem();
   if (size.memoryBytes > memory) {
     throw new InputError(siteFile, `expected a run that fits in memory (${gib(memory)}), found that ${grid} and ${size.slices} slices need about ${gib(size.memoryBytes)}; choose a larger --cell-size, a smaller --max-depth, or split the site with \`lamina tiles\``);
