@@ -64,6 +64,8 @@ describe('lamina process: checks before pass 1', () => {
 
   it('a run that cannot fit is refused at once with the numbers and the option to change', async () => {
     expect(await refused(site, { cellSizeM: 1e-4 })).toMatch(/site\.json: expected a grid of at most 4e\+8 cells, found that the lines need a grid of \d+ x \d+ cells of 0\.0001 m .*choose a larger --cell-size or split the site with `lamina tiles`$/);
+    expect(await refused(site, { cellSizeM: -1 })).toBe('command line: --cell-size: expected a positive number of metres, found -1');
+    expect(await refused(site, { sliceOverlap: 1 })).toBe('command line: --slice-overlap: expected a fraction from 0 to 0.9, found 1');
     expect(await refused(site, { sliceThicknessM: 1e-4 })).toMatch(/^command line: --slice-thickness: expected slices at least one sample deep \(at most 320 slices from records of 320 samples\), found \d+ slices; choose a thicker --slice-thickness/);
     expect(await refused(site, { memoryBytes: 2 ** 20 })).toMatch(/site\.json: expected a run that fits in memory \(1 MiB\), found that a grid of .* and \d+ slices need about .*; choose a larger --cell-size/);
     expect(await refused(site, { freeBytes: 1000 })).toMatch(/out: expected room for the run's files \(up to .* for \d+ traces, a grid of .* and \d+ slices\), found 1 KiB free on its filesystem; free space, write elsewhere/);

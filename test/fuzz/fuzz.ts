@@ -129,7 +129,7 @@ async function viewerApi(out: string, r: Rand): Promise<string | undefined> {
 /** Random process options (what the command line passes), mostly none. */
 function processOptions(r: Rand): ProcessOptions {
   if (r() > 0.15) return {};
-  return pick(r, [{ cellSizeM: pick(r, [0.05, 0.3, 1e-5, 1000]) }, { maxDepthM: pick(r, [0.2, 0.01, 100]) }, { sliceThicknessM: pick(r, [0.05, 0.5, 1e-4]) }, { sliceOverlap: pick(r, [0.5, 0.9]) }, { level: true }] as ProcessOptions[]);
+  return pick(r, [{ cellSizeM: pick(r, [0.05, 0.3, 1e-5, 1000, -1, 0]) }, { maxDepthM: pick(r, [0.2, 0.01, 100, 0, -2]) }, { sliceThicknessM: pick(r, [0.05, 0.5, 1e-4, 0]) }, { sliceOverlap: pick(r, [0.5, 0.9, 1, -0.5]) }, { level: true }] as ProcessOptions[]);
 }
 
 export async function runFuzz(options: FuzzOptions): Promise<FuzzReport> {

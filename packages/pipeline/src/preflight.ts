@@ -115,6 +115,16 @@ export function estimateSize(site: Site, survey: SurveyCheck, options: Preflight
  * with the numbers and the option to change.
  */
 export async function preflight(site: Site, outDir: string, options: PreflightOptions = {}): Promise<{ survey: SurveyCheck; size: SizeEstimate }> {
+  const numbers: [keyof PreflightOptions, string, (v: number) => boolean, string][] = [
+    ['cellSizeM', '--cell-size', (v) => v > 0, 'a positive number of metres'],
+    ['sliceThicknessM', '--slice-thickness', (v) => v > 0, 'a positive number of metres'],
+    ['maxDepthM', '--max-depth', (v) => v > 0, 'a positive number of metres'],
+    ['sliceOverlap', '--slice-overlap', (v) => v >= 0 && v <= 0.9, 'a fraction from 0 to 0.9'],
+  ];
+  for (const [key, flag, ok, what] of numbers) {
+    const v = options[key];
+    if (v !== undefined && !(Number.isFinite(v) && ok(v))) throw new InputError('command line', `expected ${what}, found ${v}`, { field: flag });
+  }
   const survey = await checkSurvey(site);
   const size = estimateSize(site, survey, options);
   const siteFile = shownPath(join(site.dir, 'site.json'));
