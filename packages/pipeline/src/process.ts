@@ -252,6 +252,11 @@ function sliceWindowsFor(site: Site, p1: Pass1Result[], velocity: VelocityReport
       timeZeroNs = r.timeZeroNs;
     }
   }
+  const reaches = reach * velocity.site.velocityMPerNs > site.antenna.separationM;
+  if (!reaches) {
+    // bistatic depth sqrt((v t / 2)^2 - (s / 2)^2) needs v t > s: the record ends before any echo from below the surface
+    throw new InputError(shownPath(join(site.dir, 'site.json')), `expected a separation the record reaches past: at the fitted ${velocity.site.velocityMPerNs.toFixed(3)} m/ns the ${Number(reach.toFixed(3))} ns after time-zero (${nSamples} samples of ${dtNs} ns) cover ${Number((reach * velocity.site.velocityMPerNs).toFixed(3))} m, less than the separation of ${site.antenna.separationM} m; check it is in metres`, { field: 'antenna.separationM' });
+  }
   return defaultWindows({
     model: velocity.model,
     separationM: site.antenna.separationM,

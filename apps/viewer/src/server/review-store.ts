@@ -75,7 +75,13 @@ export class ReviewStore {
 
   private async anomaly(id: string): Promise<FeatureLike> {
     const file = join(this.outDir, 'anomalies.geojson');
-    const fc = JSON.parse(await readFile(file, 'utf8')) as { features?: FeatureLike[] };
+    let fc: { features?: FeatureLike[] };
+    try {
+      fc = JSON.parse(await readFile(file, 'utf8')) as { features?: FeatureLike[] };
+    } catch (e) {
+      throw new InputError(file, `expected the anomalies.geojson of a processed output folder, found ${(e as Error).message}`);
+    }
+    if (!Array.isArray(fc?.features)) throw new InputError(file, 'expected a FeatureCollection with a features array', { field: 'features' });
     const f = (fc.features ?? []).find((x) => String(x.properties?.id ?? (x as { id?: unknown }).id) === id);
     if (!f) throw new HttpError(404, `anomaly "${id}" is not in anomalies.geojson`);
     return f;
