@@ -56,6 +56,7 @@ export function errorKind(message: string): string {
   if (/area of use|within .* of the rest of the survey|look(s)? like degrees|trace spacing|consecutive traces|plan features near/.test(m)) return 'positions: what they mean';
   if (/expected (a grid of at most|a run that fits|room for)/.test(m)) return 'size before work';
   if (/review\.json/.test(m.split(': ')[0] ?? '')) return 'review.json';
+  if (m.startsWith('command line: ')) return 'command-line options';
   const file = m.split(': ')[0] ?? '';
   if (file.endsWith('site.json')) return 'site.json';
   if (file.endsWith('plan.geojson')) return 'plan.geojson';
