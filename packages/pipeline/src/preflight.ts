@@ -23,7 +23,7 @@ export interface SizeEstimate {
   cellSizeM: number;
   slices: number;
   traces: number;
-  /** Peak disk use of the run in the stage folder (point spill + raw slice stack + slices.tif with overviews, uncompressed), bytes. */
+  /** Peak disk use of the run in the stage folder (point spill + raw slice stack + slices.tif with overviews, uncompressed + radargrams undecimated + 1 MiB for the other files), bytes. */
   diskBytes: number;
   /** Grid-wide memory (5 bytes a cell for the forecast) plus the smallest screening band, bytes. */
   memoryBytes: number;
@@ -33,6 +33,8 @@ export interface SizeEstimate {
 const MAX_CELLS = 4e8;
 /** Bytes per cell and slice of a screened band (packages/pipeline slice-and-screen.ts). */
 const BAND_BYTES_PER_CELL_SLICE = 70;
+/** The JSON, GeoPackage, DXF, CSV and report files of a small site with filesystem blocks (measured: about 300 KB), with room to spare. */
+const FIXED_OUTPUT_BYTES = 2 ** 20;
 /** Smallest band overlap, m (slice-and-screen.ts: max(20 m, ...)); a band is at least four overlaps tall. */
 const MIN_OVERLAP_M = 20;
 
@@ -95,6 +97,7 @@ export function estimateSize(site: Site, survey: SurveyCheck, options: Preflight
     slices = 0; // a record too short for any slice is refused later, with its own message
   }
   const traces = survey.lines.reduce((a, l) => a + l.nTraces, 0);
+  const radargramBytes = survey.lines.reduce((a, l) => a + 4 * l.nTraces * l.nSamples, 0);
   const cells = grid.width * grid.height;
   const cellM = grid.cellSize * mpu;
   const bandRows = Math.min(grid.height, 4 * Math.ceil(MIN_OVERLAP_M / cellM));
@@ -104,7 +107,7 @@ export function estimateSize(site: Site, survey: SurveyCheck, options: Preflight
     cellSizeM: cellM,
     slices,
     traces,
-    diskBytes: traces * (16 + 8 * slices) + cells * slices * 4 * (1 + 4 / 3),
+    diskBytes: traces * (16 + 8 * slices) + cells * slices * 4 * (1 + 4 / 3) + radargramBytes + FIXED_OUTPUT_BYTES,
     memoryBytes: 5 * cells + grid.width * bandRows * BAND_BYTES_PER_CELL_SLICE * Math.max(1, slices),
   };
 }

@@ -219,6 +219,12 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     await exec.close().catch(() => {});
     await stage.abort().catch(() => {});
     if (isInputError(e)) throw e;
+    // A filesystem that fills during the run (the estimate before pass 1 is checked against free space
+    // then): the stage is gone, the previous outputs stay; say so on one line naming the folder.
+    const err = e as NodeJS.ErrnoException | undefined;
+    if (err?.code === 'ENOSPC' || err?.code === 'EDQUOT' || /^(ENOSPC|EDQUOT)\b/.test(err?.message ?? '')) {
+      throw new InputError(shownPath(outDir), `expected room for the run's files, found its filesystem full while writing them (${err?.message}); the previous outputs are kept: free space or write elsewhere`);
+    }
     throw e;
   }
 }
