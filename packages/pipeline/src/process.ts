@@ -1,7 +1,7 @@
 import { readFile, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { InputError, isInputError } from '@lamina/errors';
-import { stageFolder } from '@lamina/atomic';
+import { lockFolder, stageFolder, type FolderLock } from '@lamina/atomic';
 import { checkPlanNearSurvey, loadSite, pointToWgs84, shownPath, type Site } from '@lamina/site';
 import { buildVelocityReport, velocityJsonChunks, type VelocityReport } from '@lamina/velocity';
 import { defaultWindows, PointSpill, type SliceWindow } from '@lamina/slices';
@@ -117,7 +117,13 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   const progress = options.onProgress ?? (() => {});
   const now = options.now ?? new Date();
   const threads = Math.min(options.threads ?? defaultThreads(), site.lines.length);
-  const stage = await stageFolder(outDir);
+  // One process per output folder: a second one would remove this one's stage (stageFolder clears stale ones).
+  const runLock = await lockFolder(outDir, { kind: 'run', what: 'lamina process', shown: shownPath(outDir) });
+  let writeLock: FolderLock | undefined;
+  const stage = await stageFolder(outDir).catch(async (e: unknown) => {
+    await runLock.release();
+    throw e;
+  });
   const exec = runner(threads);
   try {
     const n = site.lines.length;
@@ -187,21 +193,26 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       lines: summaries.map((l) => ({ id: l.id, file: l.file, traces: l.traces, samples: l.samples, dtNs: l.dtNs, lengthM: l.lengthM })),
     });
 
+    // From the last read of review.json to the commit, no review save may land in the old folder (it
+    // would be lost): the viewer and export wait for this lock.
+    writeLock = await lockFolder(outDir, { what: 'lamina process', waitMs: 120_000, shown: shownPath(outDir) });
     const reviewFile = join(outDir, 'review.json');
     const reviewRead = await readText(reviewFile);
     await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screening.anchored);
 
     progress('targets', 0, 1);
-    let exported = await exportTargets(stage.path, { now });
+    let exported = await exportTargets(stage.path, { now, lock: false });
     // The viewer may have saved decisions into the old folder while this run worked: take them along.
     if ((await readText(reviewFile)) !== reviewRead) {
       await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screening.anchored);
-      exported = await exportTargets(stage.path, { now });
+      exported = await exportTargets(stage.path, { now, lock: false });
     }
     progress('targets', 1, 1);
 
     if (options.failAfter === 'outputs') throw new Error('stopped before commit (failAfter)');
     await stage.commit();
+    await writeLock.release();
+    await runLock.release();
     return {
       site: site.name,
       outDir,
@@ -218,6 +229,8 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   } catch (e) {
     await exec.close().catch(() => {});
     await stage.abort().catch(() => {});
+    await writeLock?.release();
+    await runLock.release();
     if (isInputError(e)) throw e;
     // A filesystem that fills during the run (the estimate before pass 1 is checked against free space
     // then): the stage is gone, the previous outputs stay; say so on one line naming the folder.
