@@ -62,6 +62,7 @@ export function errorKind(message: string): string {
   if (file.endsWith('plan.geojson')) return 'plan.geojson';
   if (file.endsWith('.csv')) return 'CSV positions';
   if (file.endsWith('.sgy')) {
+    if (/expected sample values|expected a finite sample value/.test(m)) return 'SEG-Y samples';
     if (/binary header/.test(m)) return 'SEG-Y binary header';
     if (/trace header|coordinates|positions/.test(m)) return 'SEG-Y trace header positions';
     return 'SEG-Y traces and size';
@@ -190,7 +191,7 @@ export async function runFuzz(options: FuzzOptions): Promise<FuzzReport> {
         if (missing.length) fail('process', `succeeded without ${missing.join(', ')}`);
       } catch (e) {
         const bad = badInputError(e);
-        if (!isInputError(e)) fail('process', `${(e as Error)?.name}: ${(e as Error)?.message ?? String(e)} ${(e as Error)?.stack?.split('\n')[1]?.trim() ?? ''}`);
+        if (!isInputError(e)) fail('process', `${(e as Error)?.name}: ${(e as Error)?.message ?? String(e)} ${(e as Error)?.stack?.split('\n').slice(1, process.env.FUZZ_STACK ? 12 : 2).map((l) => l.trim()).join(' <- ') ?? ''}`);
         else if (bad) fail('process', `${bad}: ${e.message}`);
         else {
           const kind = errorKind(e.message);
@@ -246,6 +247,10 @@ export async function runFuzz(options: FuzzOptions): Promise<FuzzReport> {
           if (existsSync(cliOut)) fail('cli', 'a failed run left an output folder');
         } else fail('cli', `exit ${res.code} (in-process ${processed ? 'succeeded' : 'refused'}): ${res.stderr.trim().slice(0, 400)}`);
         rmSync(cliOut, { recursive: true, force: true });
+      }
+      if (process.env.FUZZ_KEEP) {
+        cpSync(dir, process.env.FUZZ_KEEP, { recursive: true });
+        log(`case ${c}: site kept in ${process.env.FUZZ_KEEP}`);
       }
       rmSync(dir, { recursive: true, force: true });
       rmSync(parent, { recursive: true, force: true });
