@@ -22,6 +22,8 @@ export class InputError extends Error {
   readonly detail: string;
 
   constructor(file: string, detail: string, where: InputErrorWhere = {}) {
+    // one line whatever the detail quotes (a JSON parser's snippet of a file can hold line breaks)
+    detail = detail.replace(/\s*[\r\n]+\s*/g, ' ');
     const parts = [file];
     if (where.field !== undefined) parts.push(where.field);
     if (where.offset !== undefined) parts.push(`byte offset ${where.offset}`);

@@ -11,4 +11,7 @@ describe('InputError', () => {
     expect(new InputError('b.sgy', 'truncated', { offset: 3600 }).message).toBe('b.sgy: byte offset 3600: truncated');
     expect(formatError(new Error('boom'))).toBe('internal error: boom');
   });
+  it('is one line whatever the detail quotes', () => {
+    expect(new InputError('plan.geojson', 'expected valid JSON, found (Unexpected token "trace,x,y\n1,2")', { line: 1 }).message).toBe('plan.geojson: line 1: expected valid JSON, found (Unexpected token "trace,x,y 1,2")');
+  });
 });

@@ -1,5 +1,6 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { loadSite, readLine, pointToWgs84, type Site } from '@lamina/site';
+import { InputError } from '@lamina/errors';
+import { loadSite, readLine, pointToWgs84, shownPath, type Site } from '@lamina/site';
 import { defaultRecipe, envelope, parseRecipe, runRecipe, type Recipe, type RecipeLogEntry } from '@lamina/processing';
 import { lineDirection, lineHyperbolas, recipeForVelocity, type HyperbolaFit, type VelocityModel } from '@lamina/velocity';
 import { sampleDepths, traceSliceValues, type SliceWindow } from '@lamina/slices';
@@ -124,6 +125,14 @@ export async function pass2(task: Pass2Task): Promise<Pass2Result> {
   const after = timed(times, 'pass 2 envelope + slice values', () => sliceValues(line, task, sep));
   const beforeBackground = before && before !== line ? timed(times, 'pass 2 envelope + slice values', () => sliceValues(before, task, sep)) : after;
   const nw = task.windows.length;
+  // Finite samples so large that their energy overflows Float32 (damaged bytes, a wrong format) would
+  // reach the grid as infinities; name the trace instead.
+  const inf = after.findIndex((v) => v === Infinity || v === -Infinity);
+  if (inf >= 0) {
+    const t = Math.floor(inf / nw);
+    const peak = raw.data.subarray(t * raw.nSamples, (t + 1) * raw.nSamples).reduce((m, v) => Math.max(m, Math.abs(v)), 0);
+    throw new InputError(shownPath(src.file), `trace ${(src.traces?.[0] ?? 0) + t + 1}: expected sample values a receiver records, found values up to ${peak.toExponential(2)} whose energy overflows 32-bit floats; the samples are damaged or not in the format the binary header names`);
+  }
   const values = new Float32Array(2 * after.length);
   for (let t = 0; t < line.nTraces; t++) {
     values.set(after.subarray(t * nw, (t + 1) * nw), 2 * t * nw);

@@ -1,7 +1,7 @@
 import { readFile, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { InputError, isInputError } from '@lamina/errors';
-import { stageFolder } from '@lamina/atomic';
+import { lockFolder, stageFolder, type FolderLock } from '@lamina/atomic';
 import { checkPlanNearSurvey, loadSite, pointToWgs84, shownPath, type Site } from '@lamina/site';
 import { buildVelocityReport, velocityJsonChunks, type VelocityReport } from '@lamina/velocity';
 import { defaultWindows, PointSpill, type SliceWindow } from '@lamina/slices';
@@ -12,6 +12,7 @@ import { pass1, pass2, siteRecipe, type Pass1Result, type Pass1Task, type Pass2R
 import { extents, linesGeoJson, planGeoJson, siteSummary, writeChunks, writeRadargramIndex } from './outputs';
 import { sliceAndScreen, type Anchored, type Screening } from './slice-and-screen';
 import { addParts, StageTimer, type ProcessTimings } from './timings';
+import { preflight } from './preflight';
 
 export interface ProcessOptions {
   /** Worker threads; 0 runs every line on the calling thread. @default LAMINA_THREADS or the core count */
@@ -34,6 +35,12 @@ export interface ProcessOptions {
   onProgress?: (stage: string, done: number, total: number) => void;
   /** The run's time stamp (run.json, export date); fixed in tests for reproducible outputs. @default now */
   now?: Date;
+  /** Memory the run may use (checked before pass 1), bytes. @default the machine's total memory */
+  memoryBytes?: number;
+  /** Free bytes on the output folder's filesystem (checked before pass 1). @default measured with statfs */
+  freeBytes?: number;
+  /** Warnings (plan features left out for lying far from the survey). @default one `warning:` line on stderr */
+  onWarning?: (message: string) => void;
   /** Stop after this stage (for tests of interruption). */
   failAfter?: string;
 }
@@ -83,7 +90,9 @@ function runner(threads: number): { run: (t: Task) => Promise<Result>; close: ()
 
 async function inOrder<T>(n: number, start: (i: number) => Promise<T>, onDone: (done: number) => void): Promise<T[]> {
   let done = 0;
-  return Promise.all(
+  // Every task settles before the first failure is thrown: a task still writing into the stage folder
+  // after it was removed would leave a partial one behind.
+  const settled = await Promise.allSettled(
     Array.from({ length: n }, (_, i) =>
       start(i).then((r) => {
         onDone(++done);
@@ -91,6 +100,9 @@ async function inOrder<T>(n: number, start: (i: number) => Promise<T>, onDone: (
       }),
     ),
   );
+  const failed = settled.find((s) => s.status === 'rejected');
+  if (failed) throw failed.reason;
+  return settled.map((s) => (s as PromiseFulfilledResult<T>).value);
 }
 
 /**
@@ -101,13 +113,23 @@ async function inOrder<T>(n: number, start: (i: number) => Promise<T>, onDone: (
 export async function runProcess(siteDir: string, outDir: string, options: ProcessOptions = {}): Promise<ProcessSummary> {
   const timer = new StageTimer();
   const siteLoaded = timer.start('load site');
-  const site = await loadSite(siteDir);
+  const loaded = await loadSite(siteDir);
+  // What the positions mean and whether the run fits, from headers only, before any trace is read.
+  const { survey } = await preflight(loaded, outDir, options);
+  for (const w of survey.warnings) (options.onWarning ?? ((m) => process.stderr.write(`warning: ${m}\n`)))(w);
+  const site: Site = { ...loaded, plan: survey.plan };
   siteLoaded();
   const recipe: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
   const progress = options.onProgress ?? (() => {});
   const now = options.now ?? new Date();
   const threads = Math.min(options.threads ?? defaultThreads(), site.lines.length);
-  const stage = await stageFolder(outDir);
+  // One process per output folder: a second one would remove this one's stage (stageFolder clears stale ones).
+  const runLock = await lockFolder(outDir, { kind: 'run', what: 'lamina process', shown: shownPath(outDir) });
+  let writeLock: FolderLock | undefined;
+  const stage = await stageFolder(outDir).catch(async (e: unknown) => {
+    await runLock.release();
+    throw e;
+  });
   const exec = runner(threads);
   try {
     const n = site.lines.length;
@@ -186,6 +208,9 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       lines: summaries.map((l) => ({ id: l.id, file: l.file, traces: l.traces, samples: l.samples, dtNs: l.dtNs, lengthM: l.lengthM })),
     });
 
+    // From the last read of review.json to the commit, no review save may land in the old folder (it
+    // would be lost): the viewer and export wait for this lock.
+    writeLock = await lockFolder(outDir, { what: 'lamina process', waitMs: 120_000, shown: shownPath(outDir) });
     const reviewFile = join(outDir, 'review.json');
     const reviewRead = await readText(reviewFile);
     await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screening.anchored);
@@ -193,11 +218,11 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
 
     progress('targets', 0, 1);
     const exportDone = timer.start('targets export');
-    let exported = await exportTargets(stage.path, { now });
+    let exported = await exportTargets(stage.path, { now, lock: false });
     // The viewer may have saved decisions into the old folder while this run worked: take them along.
     if ((await readText(reviewFile)) !== reviewRead) {
       await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screening.anchored);
-      exported = await exportTargets(stage.path, { now });
+      exported = await exportTargets(stage.path, { now, lock: false });
     }
     exportDone();
     progress('targets', 1, 1);
@@ -206,6 +231,8 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     const commitDone = timer.start('commit');
     await stage.commit();
     commitDone();
+    await writeLock.release();
+    await runLock.release();
     return {
       site: site.name,
       outDir,
@@ -223,7 +250,15 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   } catch (e) {
     await exec.close().catch(() => {});
     await stage.abort().catch(() => {});
+    await writeLock?.release();
+    await runLock.release();
     if (isInputError(e)) throw e;
+    // A filesystem that fills during the run (the estimate before pass 1 is checked against free space
+    // then): the stage is gone, the previous outputs stay; say so on one line naming the folder.
+    const err = e as NodeJS.ErrnoException | undefined;
+    if (err?.code === 'ENOSPC' || err?.code === 'EDQUOT' || /^(ENOSPC|EDQUOT)\b/.test(err?.message ?? '')) {
+      throw new InputError(shownPath(outDir), `expected room for the run's files, found its filesystem full while writing them (${err?.message}); the previous outputs are kept: free space or write elsewhere`);
+    }
     throw e;
   }
 }
@@ -256,6 +291,11 @@ function sliceWindowsFor(site: Site, p1: Pass1Result[], velocity: VelocityReport
       dtNs = r.dtNs;
       timeZeroNs = r.timeZeroNs;
     }
+  }
+  const reaches = reach * velocity.site.velocityMPerNs > site.antenna.separationM;
+  if (!reaches) {
+    // bistatic depth sqrt((v t / 2)^2 - (s / 2)^2) needs v t > s: the record ends before any echo from below the surface
+    throw new InputError(shownPath(join(site.dir, 'site.json')), `expected a separation the record reaches past: at the fitted ${velocity.site.velocityMPerNs.toFixed(3)} m/ns the ${Number(reach.toFixed(3))} ns after time-zero (${nSamples} samples of ${dtNs} ns) cover ${Number((reach * velocity.site.velocityMPerNs).toFixed(3))} m, less than the separation of ${site.antenna.separationM} m; check it is in metres`, { field: 'antenna.separationM' });
   }
   return defaultWindows({
     model: velocity.model,

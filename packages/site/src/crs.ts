@@ -25,6 +25,11 @@ export function lookupEpsg(code: number | string): string | undefined {
   return (proj4List as Record<string, [string, string] | undefined>)[key]?.[1]?.trim() ?? extraDefs[key];
 }
 
+/** The EPSG codes the registry resolves, as numbers. */
+export function registryCodes(): number[] {
+  return [...Object.keys(proj4List), ...Object.keys(extraDefs)].map((k) => Number(k.replace(/^EPSG:/, ''))).filter((c) => Number.isInteger(c));
+}
+
 /** Number of EPSG codes the registry resolves (for `lamina info --help` style summaries and tests). */
 export function registrySize(): number {
   return Object.keys(proj4List).length + Object.keys(extraDefs).length;

@@ -1,5 +1,5 @@
 export type * from './types';
-export { resolveCrs, lookupEpsg, registrySize, toWgs84, fromWgs84, pointToWgs84, pointFromWgs84, US_SURVEY_FOOT_M, INTERNATIONAL_FOOT_M, type ResolveCrsOptions, type LonLat, type Xy } from './crs';
+export { resolveCrs, lookupEpsg, registrySize, registryCodes, toWgs84, fromWgs84, pointToWgs84, pointFromWgs84, US_SURVEY_FOOT_M, INTERNATIONAL_FOOT_M, type ResolveCrsOptions, type LonLat, type Xy } from './crs';
 export { siteSchema, lineSchema, antennaSchema, checkSiteJson, LINE_ID, type SiteJson, type SiteJsonLine } from './manifest';
 export { parsePlan, readPlan, checkPlanNearSurvey, PLAN_KINDS, KIND_GEOMETRY, type ParsePlanOptions, type PlanNearOptions } from './plan';
 export {
@@ -21,3 +21,4 @@ export { loadSite, readLine, lineChunks, linePositions, lineTraces, summarizeLin
 export { InputProblems, jsonPath, type Problem } from './problems';
 export { defaultOpenSegy, type SegyReaderLike, type OpenSegy } from './segy';
 export { summarizeSite, type SiteSummary, type LineInfo, type SummarizeOptions } from './summary';
+export { checkSurvey, likelyCause, areaOfUse, insideArea, type SurveyCheck, type SurveyCheckOptions, type LineFacts } from './survey-check';

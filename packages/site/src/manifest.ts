@@ -2,7 +2,8 @@ import { z } from 'zod';
 import { describe, type Problem, zodProblems } from './problems';
 
 /** Line ids become file names (`radargrams/<id>.f32`), so they are kept to a portable set. */
-export const LINE_ID = /^[A-Za-z0-9][A-Za-z0-9._-]*$/;
+/** A line id becomes file names (`radargrams/<id>.f32`): at most 100 characters, well inside 255-byte names. */
+export const LINE_ID = /^[A-Za-z0-9][A-Za-z0-9._-]{0,99}$/;
 
 const finite = (what: string) =>
   z.number({ error: (iss) => (iss.input === undefined ? `missing: expected ${what}` : `expected ${what}, found ${describe(iss.input)}`) });
@@ -35,7 +36,7 @@ export const antennaSchema = z.strictObject({
 
 export const lineSchema = z.strictObject({
     file: text('the path of a SEG-Y file'),
-    id: text('a line id').regex(LINE_ID, { error: (iss) => `expected a line id of letters, digits, ".", "_" or "-" (it becomes a file name), found ${describe(iss.input)}` }).optional(),
+    id: text('a line id').regex(LINE_ID, { error: (iss) => `expected a line id of at most 100 letters, digits, ".", "_" or "-" (it becomes a file name), found ${describe(iss.input)}` }).optional(),
     start: xy.optional(),
     end: xy.optional(),
     positions: text('the path of a positions CSV (trace,x,y)').optional(),

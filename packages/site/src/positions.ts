@@ -271,7 +271,7 @@ export function checkPositions(p: TracePositions, crs: Crs, file: string, option
     // A survey line in a projected CRS spans metres; one in degrees spans ~1e-4..1e-2 within lon/lat range.
     const inRange = minX >= -180 && maxX <= 180 && minY >= -90 && maxY <= 90;
     if (inRange && span < 0.05) {
-      throw new InputError(file, `expected ${what} in the projected site CRS ${crs.code ?? crs.proj4} (${crs.units}), found values that look like degrees (x ${minX}..${maxX}, y ${minY}..${maxY}); reproject them`, where);
+      throw new InputError(file, `expected ${what} in the projected site CRS ${crs.code ?? crs.proj4} (${crs.units}), found values that look like degrees (x ${minX}..${maxX}, y ${minY}..${maxY}) at traces 1..${n}; reproject them`, where);
     }
   }
   if (!crs.isGeographic) {

@@ -1,5 +1,5 @@
 import { join } from 'node:path';
-import type { StagedFile } from '@lamina/atomic';
+import { lockFolder, type StagedFile } from '@lamina/atomic';
 import { readRun, readSlicesInfo, readVelocity, streamAnomalies } from './folder';
 import type { ExportContext } from './formats';
 import { readReview } from './review';
@@ -12,6 +12,11 @@ export interface ExportOptions {
   now?: Date;
   /** Long side of the slice thumbnails in report.html, pixels; 0 leaves them out. @default 240 */
   thumbnailSize?: number;
+  /**
+   * Hold the folder's write lock (shared with `process` and the viewer's review saves) while exporting;
+   * `process` exports into its own stage and passes false. @default true
+   */
+  lock?: boolean;
 }
 
 export interface ExportResult {
@@ -38,6 +43,16 @@ export const EXPORT_FILES = ['targets.geojson', 'targets.gpkg', 'targets.csv', '
  * the GeoPackage being built.
  */
 export async function exportTargets(outDir: string, options: ExportOptions = {}): Promise<ExportResult> {
+  if (options.lock === false) return exportUnlocked(outDir, options);
+  const lock = await lockFolder(outDir, { what: 'lamina export', waitMs: 120_000 });
+  try {
+    return await exportUnlocked(outDir, options);
+  } finally {
+    await lock.release();
+  }
+}
+
+async function exportUnlocked(outDir: string, options: ExportOptions): Promise<ExportResult> {
   const now = options.now ?? new Date();
   const run = await readRun(outDir);
   const anomalies = streamAnomalies(outDir);

@@ -29,7 +29,12 @@ export async function sliceThumbnails(outDir: string, info: SlicesInfo, options:
     throw e;
   }
   // Read from the file as needed (headers and the overview's tiles), not the whole stack into memory.
-  const tiff = await fromFile(file);
+  // A damaged file makes the decoder throw plain errors ("buffer error" from inflate): name the file.
+  const damaged = (e: unknown): never => {
+    if (e instanceof InputError) throw e;
+    throw new InputError(file, `expected the GeoTIFF slices.json describes, found one that cannot be decoded (${e instanceof Error ? e.message : String(e)})`);
+  };
+  const tiff = await fromFile(file).catch(damaged);
   let image: Awaited<ReturnType<typeof tiff.getImage>>;
   let bands: ArrayLike<number>[];
   try {
@@ -44,6 +49,9 @@ export async function sliceThumbnails(outDir: string, info: SlicesInfo, options:
       if (Math.max(o.getWidth(), o.getHeight()) >= Math.min(maxSize, Math.max(info.width, info.height))) image = o;
     }
     bands = (await image.readRasters({ interleave: false })) as unknown as ArrayLike<number>[];
+  } catch (e) {
+    damaged(e);
+    throw e;
   } finally {
     await tiff.close();
   }

@@ -4,6 +4,7 @@ import { z } from 'zod';
 import * as targets from '@lamina/targets';
 import { decisionSchema, readReview, writeReview, upsertDecision, siteIdentitySchema, UTILITY_TYPES, type Decision, type Review, type SiteIdentity } from '@lamina/targets';
 import { InputError } from '@lamina/errors';
+import { lockFolder } from '@lamina/atomic';
 import { SerialQueue } from './queue';
 import { anomalyAnchorLonLat, type FeatureLike } from './anchor';
 
@@ -75,7 +76,13 @@ export class ReviewStore {
 
   private async anomaly(id: string): Promise<FeatureLike> {
     const file = join(this.outDir, 'anomalies.geojson');
-    const fc = JSON.parse(await readFile(file, 'utf8')) as { features?: FeatureLike[] };
+    let fc: { features?: FeatureLike[] };
+    try {
+      fc = JSON.parse(await readFile(file, 'utf8')) as { features?: FeatureLike[] };
+    } catch (e) {
+      throw new InputError(file, `expected the anomalies.geojson of a processed output folder, found ${(e as Error).message}`);
+    }
+    if (!Array.isArray(fc?.features)) throw new InputError(file, 'expected a FeatureCollection with a features array', { field: 'features' });
     const f = (fc.features ?? []).find((x) => String(x.properties?.id ?? (x as { id?: unknown }).id) === id);
     if (!f) throw new HttpError(404, `anomaly "${id}" is not in anomalies.geojson`);
     return f;
@@ -84,33 +91,44 @@ export class ReviewStore {
   /** Merge `input` into the decision for its anomaly and save review.json. */
   apply(input: DecisionInput, now: () => Date = () => new Date()): Promise<{ decision: Decision; review: Review }> {
     return this.queue.run(async () => {
-      const site = await this.identity();
-      const review = await readReview(this.reviewPath, site);
-      const f = await this.anomaly(input.anomalyId);
-      const lonLat = anomalyAnchorLonLat(f);
-      const p = f.properties ?? {};
-      const top = Number(p.depthTopM);
-      const bottom = Number(p.depthBottomM);
-      if (!lonLat || !Number.isFinite(top) || !Number.isFinite(bottom)) {
-        throw new HttpError(422, `anomaly "${input.anomalyId}" has no plan position or depth range to anchor a decision`);
+      // the folder's write lock: a `process` about to replace the folder finishes first, and then this
+      // save lands in the new folder rather than in the old one it is about to drop
+      const lock = await lockFolder(this.outDir, { what: 'lamina view (a review save)', waitMs: 120_000 });
+      try {
+        return await this.applyLocked(input, now);
+      } finally {
+        await lock.release();
       }
-      const prev = review.decisions.find((d) => d.anomalyId === input.anomalyId);
-      const merged: Record<string, unknown> = {
-        ...(prev ?? { decision: 'undecided' }),
-        anomalyId: input.anomalyId,
-        anchor: { lon: lonLat[0], lat: lonLat[1], depthTopM: top, depthBottomM: bottom },
-        updatedAt: now().toISOString(),
-      };
-      for (const k of ['decision', 'origin', 'utilityType', 'label', 'note', 'by'] as const) {
-        const v = input[k];
-        if (v === null) delete merged[k];
-        else if (v !== undefined) merged[k] = v;
-      }
-      const decision = decisionSchema.parse(merged);
-      const next = upsertDecision(review, decision);
-      await writeReview(this.reviewPath, next);
-      return { decision, review: next };
     });
+  }
+
+  private async applyLocked(input: DecisionInput, now: () => Date): Promise<{ decision: Decision; review: Review }> {
+    const site = await this.identity();
+    const review = await readReview(this.reviewPath, site);
+    const f = await this.anomaly(input.anomalyId);
+    const lonLat = anomalyAnchorLonLat(f);
+    const p = f.properties ?? {};
+    const top = Number(p.depthTopM);
+    const bottom = Number(p.depthBottomM);
+    if (!lonLat || !Number.isFinite(top) || !Number.isFinite(bottom)) {
+      throw new HttpError(422, `anomaly "${input.anomalyId}" has no plan position or depth range to anchor a decision`);
+    }
+    const prev = review.decisions.find((d) => d.anomalyId === input.anomalyId);
+    const merged: Record<string, unknown> = {
+      ...(prev ?? { decision: 'undecided' }),
+      anomalyId: input.anomalyId,
+      anchor: { lon: lonLat[0], lat: lonLat[1], depthTopM: top, depthBottomM: bottom },
+      updatedAt: now().toISOString(),
+    };
+    for (const k of ['decision', 'origin', 'utilityType', 'label', 'note', 'by'] as const) {
+      const v = input[k];
+      if (v === null) delete merged[k];
+      else if (v !== undefined) merged[k] = v;
+    }
+    const decision = decisionSchema.parse(merged);
+    const next = upsertDecision(review, decision);
+    await writeReview(this.reviewPath, next);
+    return { decision, review: next };
   }
 
   /** Run exportTargets(outDir) after every queued write has landed. */

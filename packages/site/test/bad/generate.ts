@@ -76,7 +76,7 @@ const cases: Case[] = [
   { name: 'site-traces-reversed', kind: 'site', files: { 'site.json': site({ lines: [{ file: '../_shared/l01.sgy', traces: [7, 7] }] }) }, error: '<dir>/site.json: lines[0].traces: expected last > first (a line needs at least 2 traces), found [7,7]' },
   { name: 'line-traces-beyond-file', kind: 'line', files: { 'site.json': site({ lines: [{ file: 'l.sgy', traces: [10, 20] }] }), 'l.sgy': segy(ramp(20, E0, 0.5), new Array<number>(20).fill(N0)) }, error: '<dir>/site.json: lines[0].traces: expected trace indices within 0..19 (<dir>/l.sgy has 20 traces), found [10, 20]' },
   { name: 'site-duplicate-line-id', kind: 'site', files: { 'site.json': site({ lines: [{ file: '../_shared/l01.sgy', id: 'a' }, { file: '../_shared/l01.sgy', id: 'a' }] }) }, error: '<dir>/site.json: lines[1].id: expected a unique line id, found "a" again (as lines[0]); set "id"' },
-  { name: 'site-bad-line-id', kind: 'site', files: { 'site.json': site({ lines: [{ file: '../_shared/l01.sgy', id: 'line 1/a' }] }) }, error: '<dir>/site.json: lines[0].id: expected a line id of letters, digits, ".", "_" or "-" (it becomes a file name), found "line 1/a"' },
+  { name: 'site-bad-line-id', kind: 'site', files: { 'site.json': site({ lines: [{ file: '../_shared/l01.sgy', id: 'line 1/a' }] }) }, error: '<dir>/site.json: lines[0].id: expected a line id of at most 100 letters, digits, ".", "_" or "-" (it becomes a file name), found "line 1/a"' },
   { name: 'site-unknown-crs', kind: 'site', files: { 'site.json': site({ crs: 'EPSG:999999' }) }, error: '<dir>/site.json: crs: unknown CRS EPSG:999999: not in the bundled EPSG registry (proj4-list); give its proj4 string instead (e.g. from `projinfo EPSG:999999 -o PROJ -q`)' },
   { name: 'site-geographic-crs', kind: 'site', files: { 'site.json': site({ crs: 'EPSG:4326' }) }, error: '<dir>/site.json: crs: expected a projected CRS (trace positions are gridded in metres or feet), found the geographic CRS EPSG:4326; use e.g. the UTM zone of the site' },
   { name: 'site-crs-number', kind: 'site', files: { 'site.json': site({ crs: 32617 }) }, error: '<dir>/site.json: crs: expected an EPSG code ("EPSG:32617") or a proj4 string, found 32617' },
@@ -144,7 +144,7 @@ const cases: Case[] = [
   { name: 'csv-bad-header', kind: 'csv', nTraces: 20, files: { 'positions.csv': `a,b,c\n1,${E0},${N0}\n` }, error: '<dir>/positions.csv: line 1: expected a header naming columns trace, x and y (or rows of numbers trace,x,y), found "a,b,c"' },
   { name: 'csv-short-row', kind: 'csv', nTraces: 20, files: { 'positions.csv': `trace,x,y\n1,${E0},${N0}\n20,${E0 + 10}\n` }, error: '<dir>/positions.csv: line 3: expected 3 columns (trace,x,y), found 2' },
   { name: 'csv-empty', kind: 'csv', nTraces: 20, files: { 'positions.csv': 'trace,x,y\n' }, error: '<dir>/positions.csv: expected rows of trace,x,y, found none' },
-  { name: 'csv-degrees', kind: 'csv', nTraces: 20, files: { 'positions.csv': `trace,x,y\n1,-80.84312,35.22101\n20,-80.84301,35.22103\n` }, error: '<dir>/positions.csv: expected CSV positions in the projected site CRS EPSG:32617 (m), found values that look like degrees (x -80.84312..-80.84301, y 35.22101..35.22103); reproject them' },
+  { name: 'csv-degrees', kind: 'csv', nTraces: 20, files: { 'positions.csv': `trace,x,y\n1,-80.84312,35.22101\n20,-80.84301,35.22103\n` }, error: '<dir>/positions.csv: expected CSV positions in the projected site CRS EPSG:32617 (m), found values that look like degrees (x -80.84312..-80.84301, y 35.22101..35.22103) at traces 1..20; reproject them' },
   { name: 'csv-constant', kind: 'csv', nTraces: 20, files: { 'positions.csv': `trace,x,y\n1,${E0},${N0}\n20,${E0},${N0}\n` }, error: `<dir>/positions.csv: expected CSV positions that move along the line, found all 20 traces at (${E0}, ${N0})` },
   { name: 'csv-off-the-globe', kind: 'csv', nTraces: 20, files: { 'positions.csv': `trace,x,y\n1,50000000,${N0}\n20,50000010,${N0}\n` }, error: `<dir>/positions.csv: expected CSV positions inside the site CRS EPSG:32617, found (50000000, ${N0}) at trace 1, which has no longitude/latitude there; check the CRS` },
   { name: 'csv-single-fix', kind: 'csv', nTraces: 20, files: { 'positions.csv': `7,${E0},${N0}\n` }, error: `<dir>/positions.csv: expected CSV positions that move along the line, found all 20 traces at (${E0}, ${N0})` },
@@ -164,7 +164,7 @@ cases.push(
   lineCase(
     'line-degree-coordinates',
     segy(ramp(20, -80.8431, 0.0001), new Array<number>(20).fill(35.221), { scalar: -10000 }),
-    '<dir>/l01.sgy: trace header bytes 73-80 (source X/Y): expected trace header source X/Y coordinates in the projected site CRS EPSG:32617 (m), found values that look like degrees (x -80.8431..-80.8412, y 35.221..35.221); reproject them',
+    '<dir>/l01.sgy: trace header bytes 73-80 (source X/Y): expected trace header source X/Y coordinates in the projected site CRS EPSG:32617 (m), found values that look like degrees (x -80.8431..-80.8412, y 35.221..35.221) at traces 1..20; reproject them',
   ),
   lineCase('line-angular-units', segy(ramp(20, E0, 0.5), new Array<number>(20).fill(N0), { coordUnits: 3 }), '<dir>/l01.sgy: trace header bytes 89-90 (coordinate units): expected trace coordinates in the projected site CRS (coordinate units 1 = length), found coordinate units 3 (decimal degrees) at trace 1; reproject the positions or give a positions CSV'),
   lineCase('line-one-trace', segy([E0], [N0]), '<dir>/l01.sgy: expected a line of at least 2 traces, found 1'),
@@ -173,8 +173,8 @@ cases.push(
     segy(Array.from({ length: 60 }, (_, i) => E0 + Math.floor(i / 20) * 10), new Array<number>(60).fill(N0)),
     '<dir>/l01.sgy: trace header bytes 73-80 (source X/Y): expected trace header source X/Y coordinates that change from trace to trace, found 57 of 60 traces repeating the previous position (longest run 20 traces, 1..20); give the real fixes in a "positions" CSV (interpolated by trace number) or "start"/"end"',
   ),
-  lineCase('line-cdp-only-degrees', segy(z20, z20, { cdpX: ramp(20, -80.8431, 0.0001), cdpY: new Array<number>(20).fill(35.221), scalar: -10000 }), '<dir>/l01.sgy: trace header bytes 181-188 (CDP X/Y): expected trace header CDP X/Y coordinates in the projected site CRS EPSG:32617 (m), found values that look like degrees (x -80.8431..-80.8412, y 35.221..35.221); reproject them'),
-  lineCase('line-start-end-degrees', segy(z20, z20), '<dir>/site.json: lines[0]: expected start/end positions in the projected site CRS EPSG:32617 (m), found values that look like degrees (x -80.8431..-80.843, y 35.221..35.2211); reproject them', { start: [-80.8431, 35.221], end: [-80.843, 35.2211] }),
+  lineCase('line-cdp-only-degrees', segy(z20, z20, { cdpX: ramp(20, -80.8431, 0.0001), cdpY: new Array<number>(20).fill(35.221), scalar: -10000 }), '<dir>/l01.sgy: trace header bytes 181-188 (CDP X/Y): expected trace header CDP X/Y coordinates in the projected site CRS EPSG:32617 (m), found values that look like degrees (x -80.8431..-80.8412, y 35.221..35.221) at traces 1..20; reproject them'),
+  lineCase('line-start-end-degrees', segy(z20, z20), '<dir>/site.json: lines[0]: expected start/end positions in the projected site CRS EPSG:32617 (m), found values that look like degrees (x -80.8431..-80.843, y 35.221..35.2211) at traces 1..20; reproject them', { start: [-80.8431, 35.221], end: [-80.843, 35.2211] }),
 );
 
 // --- whole-site summary (lamina info) ---
