@@ -1,0 +1,264 @@
+// Shared pieces of the frequency-domain migrations (stolt.ts, phase-shift.ts): the padded 2D transform of a
+// line, the dip limit, the trace-slot rule and the bistatic-to-zero-offset time map.
+import type { RadarLine } from '@lamina/radar-data';
+import { fftOfSize, nextPow2 } from './fft';
+import { alongTrackM } from './line-util';
+import { keys } from './time-zero';
+
+/** An interval-velocity layer by depth (m, m/ns); the last layer extends to any depth. */
+export interface MigrationLayer {
+  topM: number;
+  velocityMPerNs: number;
+}
+
+/**
+ * Forward 2D transform of `nTraces` traces of `nSamples` (trace-major), zero-padded to `nx` traces and
+ * `nt` samples: real FFT in time (e^{-i omega t}, bins m = 0..nt/2), then complex FFT across traces.
+ * Result: `spec[2 * (ix * (nt/2 + 1) + m)]` (re, im), kx-major so that a row is one wavenumber.
+ */
+export function fk2d(data: ArrayLike<number>, nTraces: number, nSamples: number, nx: number, nt: number, out?: Float64Array): Float64Array {
+  const nw = nt / 2 + 1;
+  const spec = out ?? new Float64Array(2 * nx * nw);
+  spec.fill(0);
+  const ft = fftOfSize(nt);
+  const real = new Float64Array(nt);
+  const cplx = new Float64Array(2 * nt);
+  for (let i = 0; i < nTraces; i++) {
+    real.fill(0);
+    for (let k = 0; k < nSamples; k++) real[k] = data[i * nSamples + k] as number;
+    ft.realTransform(cplx, real);
+    spec.set(cplx.subarray(0, 2 * nw), 2 * i * nw);
+  }
+  acrossTraces(spec, nx, nw, false);
+  return spec;
+}
+
+/** Inverse of `fk2d`: the first `nTraces` x `nSamples` of the real line (trace-major) into `out`. */
+export function ifk2d(spec: Float64Array, nTraces: number, nSamples: number, nx: number, nt: number, out: Float32Array): Float32Array {
+  const nw = nt / 2 + 1;
+  acrossTraces(spec, nx, nw, true);
+  const ft = fftOfSize(nt);
+  const full = new Float64Array(2 * nt);
+  const back = new Float64Array(2 * nt);
+  for (let i = 0; i < nTraces; i++) {
+    const o = 2 * i * nw;
+    for (let m = 0; m < nw; m++) {
+      full[2 * m] = spec[o + 2 * m] as number;
+      full[2 * m + 1] = spec[o + 2 * m + 1] as number;
+    }
+    // a real trace: the DC and Nyquist bins are real, negative frequencies are conjugates
+    full[1] = 0;
+    full[2 * (nw - 1) + 1] = 0;
+    for (let m = 1; m < nw - 1; m++) {
+      full[2 * (nt - m)] = full[2 * m] as number;
+      full[2 * (nt - m) + 1] = -(full[2 * m + 1] as number);
+    }
+    ft.inverseTransform(back, full);
+    for (let k = 0; k < nSamples; k++) out[i * nSamples + k] = back[2 * k] as number;
+  }
+  return out;
+}
+
+function acrossTraces(spec: Float64Array, nx: number, nw: number, inverse: boolean): void {
+  const fx = fftOfSize(nx);
+  const col = new Float64Array(2 * nx);
+  const res = new Float64Array(2 * nx);
+  for (let m = 0; m < nw; m++) {
+    for (let i = 0; i < nx; i++) {
+      col[2 * i] = spec[2 * (i * nw + m)] as number;
+      col[2 * i + 1] = spec[2 * (i * nw + m) + 1] as number;
+    }
+    if (inverse) fx.inverseTransform(res, col);
+    else fx.transform(res, col);
+    for (let i = 0; i < nx; i++) {
+      spec[2 * (i * nw + m)] = res[2 * i] as number;
+      spec[2 * (i * nw + m) + 1] = res[2 * i + 1] as number;
+    }
+  }
+}
+
+/** Horizontal wavenumber (rad/m) of row `ix` of an `nx`-point transform at spacing `dxM`. */
+export function kxOf(ix: number, nx: number, dxM: number): number {
+  return (2 * Math.PI * (ix < nx / 2 ? ix : ix - nx)) / (nx * dxM);
+}
+
+/** Multiplies every row of a spectrum by e^{i omega_m shiftNs} (a shift of the traces `shiftNs` earlier). */
+export function shiftSpectrum(spec: Float64Array, nx: number, nt: number, dtNs: number, shiftNs: number): void {
+  const nw = nt / 2 + 1;
+  const dw = (2 * Math.PI) / (nt * dtNs);
+  const c = new Float64Array(nw);
+  const s = new Float64Array(nw);
+  for (let m = 0; m < nw; m++) {
+    c[m] = Math.cos(m * dw * shiftNs);
+    s[m] = Math.sin(m * dw * shiftNs);
+  }
+  for (let i = 0; i < nx; i++) {
+    for (let m = 0; m < nw; m++) {
+      const o = 2 * (i * nw + m);
+      const re = spec[o] as number;
+      const im = spec[o + 1] as number;
+      spec[o] = re * (c[m] as number) - im * (s[m] as number);
+      spec[o + 1] = re * (s[m] as number) + im * (c[m] as number);
+    }
+  }
+}
+
+/**
+ * Dip limit as a weight of sin(theta) = v_e |kx| / omega (theta the propagation angle from the vertical):
+ * 1 up to theta1 = maxAngle (1 - taper), a cosine taper to 0 at maxAngle, 0 beyond. The f-k form of the
+ * Kirchhoff step's angle limit and aperture-edge taper.
+ */
+export function dipWeight(sinTheta: number, maxAngleDeg: number, taper: number): number {
+  if (!(sinTheta >= 0) || sinTheta >= 1) return sinTheta === 0 ? 1 : 0;
+  const th = Math.asin(sinTheta);
+  const thMax = (maxAngleDeg * Math.PI) / 180;
+  const th1 = thMax * (1 - taper);
+  if (th <= th1) return 1;
+  if (th >= thMax) return 0;
+  return 0.5 * (1 + Math.cos((Math.PI * (th - th1)) / (thMax - th1)));
+}
+
+/** Regular trace slots of a line: mean spacing (least squares of along-track distance on trace index) and the largest deviation from it. */
+export interface TraceSlots {
+  /** Spacing of the regular grid the f-k methods assume, m. */
+  spacingM: number;
+  /** Largest |along-track distance - regular slot| over the traces, m. */
+  maxDeviationM: number;
+}
+
+export function traceSlots(line: RadarLine, metresPerUnit = 1): TraceSlots {
+  const s = alongTrackM(line, metresPerUnit);
+  const n = s.length;
+  if (n < 2) return { spacingM: 1, maxDeviationM: 0 };
+  let si = 0;
+  let ss = 0;
+  let sii = 0;
+  let sis = 0;
+  for (let i = 0; i < n; i++) {
+    const v = s[i] as number;
+    si += i;
+    ss += v;
+    sii += i * i;
+    sis += i * v;
+  }
+  const slope = (n * sis - si * ss) / (n * sii - si * si);
+  const icpt = (ss - slope * si) / n;
+  let dev = 0;
+  for (let i = 0; i < n; i++) dev = Math.max(dev, Math.abs((s[i] as number) - icpt - slope * i));
+  return { spacingM: slope > 0 ? slope : 1, maxDeviationM: dev };
+}
+
+/**
+ * Padded transform sizes: time to a power of two >= `timeFactor` x nSamples; distance to a power of two
+ * >= nTraces plus the widest lateral reach of the migration operator, z_max tan(maxAngle) (at most
+ * nTraces), so that what migration moves past one end does not wrap onto the other.
+ */
+export function paddedSizes(
+  nTraces: number,
+  nSamples: number,
+  dtNs: number,
+  dxM: number,
+  maxHalfVelocity: number,
+  maxAngleDeg: number,
+  timeFactor: number,
+): { nx: number; nt: number } {
+  const zMax = maxHalfVelocity * nSamples * dtNs;
+  const reach = zMax * Math.tan((Math.min(maxAngleDeg, 89) * Math.PI) / 180);
+  const pad = Math.min(nTraces, Math.ceil(reach / dxM));
+  return { nx: nextPow2(nTraces + pad), nt: nextPow2(Math.ceil(timeFactor * nSamples)) };
+}
+
+/**
+ * Bistatic two-way time (ns after time-zero) of the reflector whose zero-offset vertical two-way time is
+ * `tauNs`, through layered interval velocities: straight rays with the time-averaged velocity, as the
+ * slices' time-to-depth (t = tau sqrt(z^2 + h^2) / z). Exact at the apex of a point diffraction; away from
+ * it the bistatic and zero-offset hyperbolas differ by O(h^2 / r^2), which is why the f-k methods handle the
+ * antenna separation only approximately (Kirchhoff sums along the exact bistatic curve).
+ */
+export function bistaticTime(tauNs: number, layers: readonly MigrationLayer[], separationM: number): number {
+  const h = separationM / 2;
+  const v1 = (layers[0] as MigrationLayer).velocityMPerNs;
+  if (tauNs <= 0) return h > 0 ? (2 * h) / v1 : 0;
+  if (h === 0) return tauNs;
+  let z = 0;
+  let left = tauNs;
+  for (let i = 0; i < layers.length; i++) {
+    const l = layers[i] as MigrationLayer;
+    const next = layers[i + 1];
+    const thick = next ? next.topM - l.topM : Infinity;
+    const tThick = (2 * thick) / l.velocityMPerNs;
+    if (left <= tThick) {
+      z += (left * l.velocityMPerNs) / 2;
+      left = 0;
+      break;
+    }
+    z += thick;
+    left -= tThick;
+  }
+  return (tauNs * Math.hypot(z, h)) / z;
+}
+
+function cubicAt(x: ArrayLike<number>, u: number, from: number, to: number): number {
+  const i0 = Math.floor(u);
+  const f = u - i0;
+  if (f === 0) return i0 >= from && i0 < to ? (x[i0] as number) : 0;
+  let acc = 0;
+  for (let k = i0 - 1; k <= i0 + 2; k++) if (k >= from && k < to) acc += (x[k] as number) * keys(u - k);
+  return acc;
+}
+
+/**
+ * Trace-major line resampled from bistatic time to zero-offset vertical two-way time (`toZeroOffset`), or
+ * back. Sample k is at k dt - timeZeroNs on both axes; zero-offset samples at or before time-zero are zero,
+ * and bistatic samples before the ground wave (t <= s / v1) are left 0 on the way back (the caller passes
+ * the input through there). Keys cubic interpolation.
+ */
+export function bistaticResample(
+  data: ArrayLike<number>,
+  nTraces: number,
+  nSamples: number,
+  dtNs: number,
+  timeZeroNs: number,
+  layers: readonly MigrationLayer[],
+  separationM: number,
+  toZeroOffset: boolean,
+  out: Float64Array | Float32Array,
+): void {
+  // source sample position of every output sample, shared by all traces
+  const src = new Float64Array(nSamples).fill(-1);
+  const tMin = bistaticTime(0, layers, separationM);
+  for (let k = 0; k < nSamples; k++) {
+    const t = k * dtNs - timeZeroNs;
+    if (t <= 0) continue;
+    if (toZeroOffset) {
+      src[k] = (bistaticTime(t, layers, separationM) + timeZeroNs) / dtNs;
+    } else if (t > tMin) {
+      // bistatic time grows with tau and tau <= t: bisection
+      let lo = 0;
+      let hi = t;
+      for (let it = 0; it < 50; it++) {
+        const mid = 0.5 * (lo + hi);
+        if (bistaticTime(mid, layers, separationM) < t) lo = mid;
+        else hi = mid;
+      }
+      src[k] = (0.5 * (lo + hi) + timeZeroNs) / dtNs;
+    }
+  }
+  for (let i = 0; i < nTraces; i++) {
+    const o = i * nSamples;
+    for (let k = 0; k < nSamples; k++) {
+      const u = src[k] as number;
+      out[o + k] = u < 0 ? 0 : cubicAt(data, o + u, o, o + nSamples);
+    }
+  }
+}
+
+/** Layers sorted from the surface, checked (velocity > 0, the first at 0 m). */
+export function checkLayers(layers: readonly MigrationLayer[]): MigrationLayer[] {
+  if (layers.length === 0) throw new Error('migration: no velocity layer given');
+  const sorted = [...layers].sort((a, b) => a.topM - b.topM);
+  for (const l of sorted) {
+    if (!(l.velocityMPerNs > 0)) throw new Error(`migration: velocity must be > 0 m/ns, found ${l.velocityMPerNs}`);
+  }
+  return sorted.map((l, i) => ({ topM: i === 0 ? 0 : l.topM, velocityMPerNs: l.velocityMPerNs }));
+}

@@ -1,0 +1,195 @@
+import type { RadarLine } from '@lamina/radar-data';
+import { bistaticResample, dipWeight, fk2d, ifk2d, kxOf, paddedSizes, shiftSpectrum, traceSlots } from './fk';
+import { outputFor, withData } from './line-util';
+
+export interface StoltOptions {
+  /** Constant velocity of the ground, m/ns. */
+  velocityMPerNs: number;
+  /** Antenna separation along the line, m: bistatic times are mapped to zero offset and back (see `bistaticTime`). @default 0 */
+  separationM?: number;
+  /** Dip limit: components with v |kx| / (2 omega) > sin(maxAngleDeg) are dropped. @default 60 */
+  maxAngleDeg?: number;
+  /** Fraction of the angle range below maxAngleDeg tapered by a cosine. @default 0.2 */
+  taper?: number;
+  /** Metres per CRS unit of `line.x/y`. @default 1 */
+  metresPerUnit?: number;
+}
+
+/** Options of the flat kernel. */
+export interface StoltKernelOptions {
+  /** @default 60 */
+  maxAngleDeg?: number;
+  /** @default 0.2 */
+  taper?: number;
+  /** Run the inverse (Stolt modelling, demigration). @default false */
+  inverse?: boolean;
+}
+
+const HALF_TAPS = 4;
+let ipRe = 0;
+let ipIm = 0;
+
+/**
+ * Windowed-sinc interpolation along omega of row `row` of a centred spectrum at fractional bin `u`: 8 taps,
+ * Hann window, weights normalised to sum 1. Negative bins are conjugates of the row of -kx (`rowc`), bins
+ * past Nyquist zero. The spectrum was centred (traces shifted so their support is [-T/4, T/4] of the padded
+ * length T), so along omega it is oversampled twice and 8 taps interpolate it to about 1e-3.
+ */
+function interpolate(spec: Float64Array, row: number, rowc: number, nw: number, u: number): void {
+  const i0 = Math.floor(u);
+  const f = u - i0;
+  if (f === 0) {
+    fetch(spec, row, rowc, nw, i0);
+    return;
+  }
+  let re = 0;
+  let im = 0;
+  let ws = 0;
+  for (let n = i0 - HALF_TAPS + 1; n <= i0 + HALF_TAPS; n++) {
+    const d = u - n;
+    const w = (Math.sin(Math.PI * d) / (Math.PI * d)) * 0.5 * (1 + Math.cos((Math.PI * d) / HALF_TAPS));
+    ws += w;
+    fetch(spec, row, rowc, nw, n);
+    re += w * ipRe;
+    im += w * ipIm;
+  }
+  ipRe = re / ws;
+  ipIm = im / ws;
+}
+
+function fetch(spec: Float64Array, row: number, rowc: number, nw: number, n: number): void {
+  if (n >= nw) {
+    ipRe = 0;
+    ipIm = 0;
+  } else if (n >= 0) {
+    ipRe = spec[row + 2 * n] as number;
+    ipIm = spec[row + 2 * n + 1] as number;
+  } else {
+    ipRe = spec[rowc - 2 * n] as number;
+    ipIm = -(spec[rowc - 2 * n + 1] as number);
+  }
+}
+
+/**
+ * Stolt (1978) f-k migration of a zero-offset section, or with `inverse` its modelling (demigration), for
+ * a constant velocity v in the exploding-reflector model (v/2 for two-way time). Traces at a regular
+ * spacing `dxM`; sample k at k dt - timeZeroNs after time-zero on both axes.
+ *
+ * Migration: M(kx, w_tau) = cos(theta) P(kx, w), w = sqrt(w_tau^2 + (v kx / 2)^2), cos(theta) = w_tau / w
+ * (the Jacobian dw / dw_tau of the change of variable, the obliquity factor), sin(theta) = v |kx| / (2 w) limited by
+ * `dipWeight`. Modelling: P(kx, w) = M(kx, w_tau) / cos(theta), w_tau = sqrt(w^2 - (v kx / 2)^2), with the
+ * same dip limit, so modelling inverts migration inside the dip limit. Padding by `paddedSizes` (twice the
+ * samples in time); interpolation along the frequency axis by `interpolate`.
+ */
+export function stoltKernel(
+  data: ArrayLike<number>,
+  nTraces: number,
+  nSamples: number,
+  dtNs: number,
+  dxM: number,
+  timeZeroNs: number,
+  velocityMPerNs: number,
+  options: StoltKernelOptions = {},
+  out: Float32Array = new Float32Array(nTraces * nSamples),
+): Float32Array {
+  const v = velocityMPerNs;
+  if (!(v > 0)) throw new Error(`migration: velocity must be > 0 m/ns, found ${v}`);
+  const maxAngleDeg = options.maxAngleDeg ?? 60;
+  const taper = Math.min(1, Math.max(0, options.taper ?? 0.2));
+  const inverse = options.inverse ?? false;
+  const ve = v / 2;
+  const { nx, nt } = paddedSizes(nTraces, nSamples, dtNs, dxM, ve, maxAngleDeg, 2);
+  const nw = nt / 2 + 1;
+  const dw = (2 * Math.PI) / (nt * dtNs);
+  const tc = (nt * dtNs) / 4;
+  const spec = fk2d(data, nTraces, nSamples, nx, nt);
+  shiftSpectrum(spec, nx, nt, dtNs, timeZeroNs + tc);
+  const res = new Float64Array(spec.length);
+  for (let ix = 0; ix < nx; ix++) {
+    const a = ve * Math.abs(kxOf(ix, nx, dxM));
+    const row = 2 * ix * nw;
+    const rowc = 2 * ((nx - ix) % nx) * nw;
+    for (let j = 0; j < nw; j++) {
+      const wj = j * dw;
+      let u: number;
+      let factor: number;
+      let phase: number;
+      if (!inverse) {
+        const w = Math.sqrt(wj * wj + a * a);
+        u = w / dw;
+        if (w === 0) {
+          factor = 1;
+        } else {
+          factor = dipWeight(a / w, maxAngleDeg, taper) * (wj / w);
+        }
+        phase = -w * tc;
+      } else {
+        if (wj <= a && a > 0) continue;
+        const wt = Math.sqrt(wj * wj - a * a);
+        u = wt / dw;
+        factor = wj === 0 ? 1 : dipWeight(a / wj, maxAngleDeg, taper) / (wt / wj);
+        phase = -wt * tc;
+      }
+      if (factor === 0 || u > nw - 1) continue;
+      interpolate(spec, row, rowc, nw, u);
+      const c = Math.cos(phase) * factor;
+      const s = Math.sin(phase) * factor;
+      res[row + 2 * j] = ipRe * c - ipIm * s;
+      res[row + 2 * j + 1] = ipRe * s + ipIm * c;
+    }
+  }
+  shiftSpectrum(res, nx, nt, dtNs, -timeZeroNs);
+  return ifk2d(res, nTraces, nSamples, nx, nt, out);
+}
+
+/**
+ * Stolt migration of a common-offset line (or with `inverse`, its modelling): the line is resampled from
+ * bistatic to zero-offset time, migrated by `stoltKernel` on regular slots of its mean trace spacing, and
+ * resampled back, so the output keeps the input's time axis (a point images at its bistatic apex time, as
+ * with Kirchhoff). Samples before the ground wave (t <= s / v after time-zero) pass through unchanged.
+ * `out` may be `line.data`.
+ */
+export function stoltMigrate(line: RadarLine, options: StoltOptions, out?: Float32Array): RadarLine {
+  return stoltLine(line, options, false, out);
+}
+
+/** Stolt modelling (demigration): the inverse of `stoltMigrate` inside the dip limit. */
+export function stoltModel(line: RadarLine, options: StoltOptions, out?: Float32Array): RadarLine {
+  return stoltLine(line, options, true, out);
+}
+
+function stoltLine(line: RadarLine, options: StoltOptions, inverse: boolean, out?: Float32Array): RadarLine {
+  const v = options.velocityMPerNs;
+  if (!(v > 0)) throw new Error(`migration: velocity must be > 0 m/ns, found ${v}`);
+  const sep = options.separationM ?? 0;
+  const { nSamples: ns, nTraces: nt, dtNs: dt, timeZeroNs: tz } = line;
+  const { src, dst } = outputFor(line, out);
+  const layers = [{ topM: 0, velocityMPerNs: v }];
+  const zo = new Float64Array(src.length);
+  bistaticResample(src, nt, ns, dt, tz, layers, sep, true, zo);
+  const { spacingM } = traceSlots(line, options.metresPerUnit ?? 1);
+  const img = stoltKernel(zo, nt, ns, dt, spacingM, tz, v, { maxAngleDeg: options.maxAngleDeg ?? 60, taper: options.taper ?? 0.2, inverse });
+  passThroughBack(img, src, dst, nt, ns, dt, tz, layers, sep);
+  return withData(line, dst);
+}
+
+/** Back to bistatic time into `dst`; samples before the ground wave (t <= s / v1 after time-zero) from `src`. */
+export function passThroughBack(
+  img: Float32Array,
+  src: Float32Array,
+  dst: Float32Array,
+  nTraces: number,
+  nSamples: number,
+  dtNs: number,
+  timeZeroNs: number,
+  layers: readonly { topM: number; velocityMPerNs: number }[],
+  separationM: number,
+): void {
+  const back = new Float32Array(img.length);
+  bistaticResample(img, nTraces, nSamples, dtNs, timeZeroNs, layers, separationM, false, back);
+  const tMin = separationM / (layers[0] as { velocityMPerNs: number }).velocityMPerNs;
+  for (let k = 0; k < nSamples; k++) {
+    const keep = k * dtNs - timeZeroNs <= tMin;
+    for (let i = 0; i < nTraces; i++) dst[i * nSamples + k] = keep ? (src[i * nSamples + k] as number) : (back[i * nSamples + k] as number);
+  }
+}
