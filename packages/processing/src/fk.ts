@@ -15,34 +15,80 @@ export interface MigrationLayer {
  * Forward 2D transform of `nTraces` traces of `nSamples` (trace-major), zero-padded to `nx` traces and
  * `nt` samples: real FFT in time (e^{-i omega t}, bins m = 0..nt/2), then complex FFT across traces.
  * Result: `spec[2 * (ix * (nt/2 + 1) + m)]` (re, im), kx-major so that a row is one wavenumber.
+ * Only the bins [lo, hi] of `band(power, energyTolerance)` are transformed across traces; the others are
+ * zero (with `energyTolerance` 0, every bin with energy).
  */
-export function fk2d(data: ArrayLike<number>, nTraces: number, nSamples: number, nx: number, nt: number, out?: Float64Array): Float64Array {
+export function fk2d(
+  data: ArrayLike<number>,
+  nTraces: number,
+  nSamples: number,
+  nx: number,
+  nt: number,
+  energyTolerance = 0,
+): { spec: Float64Array; lo: number; hi: number } {
   const nw = nt / 2 + 1;
-  const spec = out ?? new Float64Array(2 * nx * nw);
-  spec.fill(0);
+  const spec = new Float64Array(2 * nx * nw);
   const ft = fftOfSize(nt);
   const real = new Float64Array(nt);
   const cplx = new Float64Array(2 * nt);
+  const power = new Float64Array(nw);
   for (let i = 0; i < nTraces; i++) {
     real.fill(0);
     for (let k = 0; k < nSamples; k++) real[k] = data[i * nSamples + k] as number;
     ft.realTransform(cplx, real);
     spec.set(cplx.subarray(0, 2 * nw), 2 * i * nw);
+    for (let m = 0; m < nw; m++) power[m] = (power[m] as number) + (cplx[2 * m] as number) ** 2 + (cplx[2 * m + 1] as number) ** 2;
   }
-  acrossTraces(spec, nx, nw, false);
-  return spec;
+  const [lo, hi] = band(power, energyTolerance);
+  for (let i = 0; i < nTraces; i++) {
+    for (let m = 0; m < nw; m++) {
+      if (m >= lo && m <= hi) continue;
+      spec[2 * (i * nw + m)] = 0;
+      spec[2 * (i * nw + m) + 1] = 0;
+    }
+  }
+  acrossTraces(spec, nx, nw, false, lo, hi);
+  return { spec, lo, hi };
 }
 
-/** Inverse of `fk2d`: the first `nTraces` x `nSamples` of the real line (trace-major) into `out`. */
-export function ifk2d(spec: Float64Array, nTraces: number, nSamples: number, nx: number, nt: number, out: Float32Array): Float32Array {
+/**
+ * Smallest bin range [lo, hi] of a power spectrum whose two cut-off tails each hold at most tol / 2 of the
+ * energy ([0, -1] when there is none). A precision bound: dropping them changes a result by about
+ * sqrt(tol) of its RMS.
+ */
+export function band(power: ArrayLike<number>, tol: number): [number, number] {
+  let total = 0;
+  for (let m = 0; m < power.length; m++) total += power[m] as number;
+  if (!(total > 0)) return [0, -1];
+  let lo = 0;
+  let acc = 0;
+  while (lo < power.length - 1 && acc + (power[lo] as number) <= (tol / 2) * total) acc += power[lo++] as number;
+  let hi = power.length - 1;
+  acc = 0;
+  while (hi > lo && acc + (power[hi] as number) <= (tol / 2) * total) acc += power[hi--] as number;
+  return [lo, hi];
+}
+
+/** Inverse of `fk2d` (bins outside [lo, hi] taken as zero): the first `nTraces` x `nSamples` of the real line (trace-major) into `out`. */
+export function ifk2d(
+  spec: Float64Array,
+  nTraces: number,
+  nSamples: number,
+  nx: number,
+  nt: number,
+  out: Float32Array,
+  lo = 0,
+  hi = nt / 2,
+): Float32Array {
   const nw = nt / 2 + 1;
-  acrossTraces(spec, nx, nw, true);
+  acrossTraces(spec, nx, nw, true, lo, hi);
   const ft = fftOfSize(nt);
   const full = new Float64Array(2 * nt);
   const back = new Float64Array(2 * nt);
   for (let i = 0; i < nTraces; i++) {
     const o = 2 * i * nw;
-    for (let m = 0; m < nw; m++) {
+    full.fill(0);
+    for (let m = Math.max(0, lo); m <= Math.min(hi, nw - 1); m++) {
       full[2 * m] = spec[o + 2 * m] as number;
       full[2 * m + 1] = spec[o + 2 * m + 1] as number;
     }
@@ -59,11 +105,11 @@ export function ifk2d(spec: Float64Array, nTraces: number, nSamples: number, nx:
   return out;
 }
 
-function acrossTraces(spec: Float64Array, nx: number, nw: number, inverse: boolean): void {
+function acrossTraces(spec: Float64Array, nx: number, nw: number, inverse: boolean, lo = 0, hi = nw - 1): void {
   const fx = fftOfSize(nx);
   const col = new Float64Array(2 * nx);
   const res = new Float64Array(2 * nx);
-  for (let m = 0; m < nw; m++) {
+  for (let m = Math.max(0, lo); m <= Math.min(hi, nw - 1); m++) {
     for (let i = 0; i < nx; i++) {
       col[2 * i] = spec[2 * (i * nw + m)] as number;
       col[2 * i + 1] = spec[2 * (i * nw + m) + 1] as number;
@@ -83,8 +129,10 @@ export function kxOf(ix: number, nx: number, dxM: number): number {
 }
 
 /** Multiplies every row of a spectrum by e^{i omega_m shiftNs} (a shift of the traces `shiftNs` earlier). */
-export function shiftSpectrum(spec: Float64Array, nx: number, nt: number, dtNs: number, shiftNs: number): void {
+export function shiftSpectrum(spec: Float64Array, nx: number, nt: number, dtNs: number, shiftNs: number, lo = 0, hi = nt / 2): void {
   const nw = nt / 2 + 1;
+  const m0 = Math.max(0, lo);
+  const m1 = Math.min(nw - 1, hi);
   const dw = (2 * Math.PI) / (nt * dtNs);
   const c = new Float64Array(nw);
   const s = new Float64Array(nw);
@@ -93,7 +141,7 @@ export function shiftSpectrum(spec: Float64Array, nx: number, nt: number, dtNs: 
     s[m] = Math.sin(m * dw * shiftNs);
   }
   for (let i = 0; i < nx; i++) {
-    for (let m = 0; m < nw; m++) {
+    for (let m = m0; m <= m1; m++) {
       const o = 2 * (i * nw + m);
       const re = spec[o] as number;
       const im = spec[o + 1] as number;
@@ -110,9 +158,11 @@ export function shiftSpectrum(spec: Float64Array, nx: number, nt: number, dtNs: 
  */
 export function dipWeight(sinTheta: number, maxAngleDeg: number, taper: number): number {
   if (!(sinTheta >= 0) || sinTheta >= 1) return sinTheta === 0 ? 1 : 0;
-  const th = Math.asin(sinTheta);
   const thMax = (maxAngleDeg * Math.PI) / 180;
   const th1 = thMax * (1 - taper);
+  if (sinTheta <= Math.sin(th1)) return 1;
+  if (sinTheta >= Math.sin(thMax)) return 0;
+  const th = Math.asin(sinTheta);
   if (th <= th1) return 1;
   if (th >= thMax) return 0;
   return 0.5 * (1 + Math.cos((Math.PI * (th - th1)) / (thMax - th1)));
@@ -261,4 +311,70 @@ export function checkLayers(layers: readonly MigrationLayer[]): MigrationLayer[]
     if (!(l.velocityMPerNs > 0)) throw new Error(`migration: velocity must be > 0 m/ns, found ${l.velocityMPerNs}`);
   }
   return sorted.map((l, i) => ({ topM: i === 0 ? 0 : l.topM, velocityMPerNs: l.velocityMPerNs }));
+}
+
+/**
+ * Multiplies bins [lo, hi] of every row by the half-derivative (|omega|^{1/2} e^{-i pi/4}, `order` 0.5) or
+ * the half-integral (|omega|^{-1/2} e^{+i pi/4}, `order` -0.5), omega in rad/ns, zero at omega = 0: the
+ * filter `halfDerivative` (kirchhoff.ts) applies per trace, here on a spectrum. 2D migration of a
+ * diffraction made of the source wavelet at ray times (a 3D point seen along a line, and ray-based
+ * synthetics) focuses zero-phase after the half-integral; a reflector keeps its wavelet without it.
+ */
+export function halfOrderFilter(spec: Float64Array, nx: number, nt: number, dtNs: number, order: 0.5 | -0.5, lo = 0, hi = nt / 2): void {
+  const nw = nt / 2 + 1;
+  const dw = (2 * Math.PI) / (nt * dtNs);
+  const c = Math.SQRT1_2;
+  for (let m = Math.max(0, lo); m <= Math.min(nw - 1, hi); m++) {
+    const a = m === 0 ? 0 : Math.pow(m * dw, order) * c;
+    // e^{-i pi/4} for the derivative, e^{+i pi/4} for the integral
+    const si = order > 0 ? -a : a;
+    for (let i = 0; i < nx; i++) {
+      const o = 2 * (i * nw + m);
+      const re = spec[o] as number;
+      const im = spec[o + 1] as number;
+      spec[o] = a * re - si * im;
+      spec[o + 1] = si * re + a * im;
+    }
+  }
+}
+
+/**
+ * Period (ns) of the power-weighted mean frequency of a line (the mean power spectrum of at most 64 traces
+ * spread along it), or 0 when the line is silent.
+ */
+export function dominantPeriodNs(data: ArrayLike<number>, nTraces: number, nSamples: number, dtNs: number): number {
+  const n = nextPow2(nSamples);
+  const ft = fftOfSize(n);
+  const real = new Float64Array(n);
+  const cplx = new Float64Array(2 * n);
+  const step = Math.max(1, Math.floor(nTraces / 64));
+  let sp = 0;
+  let sfp = 0;
+  for (let i = 0; i < nTraces; i += step) {
+    real.fill(0);
+    for (let k = 0; k < nSamples; k++) real[k] = data[i * nSamples + k] as number;
+    ft.realTransform(cplx, real);
+    for (let m = 1; m <= n / 2; m++) {
+      const p = (cplx[2 * m] as number) ** 2 + (cplx[2 * m + 1] as number) ** 2;
+      sp += p;
+      sfp += p * (m / (n * dtNs));
+    }
+  }
+  return sp > 0 && sfp > 0 ? sp / sfp : 0;
+}
+
+/**
+ * Half-cosine taper over the last `lengthNs` of every trace, in place. The record ends where the signal
+ * does not: without it the cut is a step whose energy spreads over every frequency (and the f-k band,
+ * see `band`, is the whole spectrum) and migrates into smiles. One dominant period is common practice
+ * (no source).
+ */
+export function taperTraceEnds(data: Float64Array | Float32Array, nTraces: number, nSamples: number, dtNs: number, lengthNs: number): void {
+  const n = Math.min(nSamples, Math.round(lengthNs / dtNs));
+  if (n < 2) return;
+  for (let q = 0; q < n; q++) {
+    const w = 0.5 * (1 - Math.cos((Math.PI * q) / n)); // 0 at the last sample
+    const k = nSamples - 1 - q;
+    for (let i = 0; i < nTraces; i++) data[i * nSamples + k] = (data[i * nSamples + k] as number) * w;
+  }
 }

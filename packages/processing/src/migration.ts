@@ -23,7 +23,10 @@ export interface MigrationOptions {
   maxAngleDeg?: number;
   /** Kirchhoff: tapered fraction of the aperture; f-k: of the angle range. @default 0.2 */
   taper?: number;
-  /** Kirchhoff only: half-derivative filter first (see `kirchhoffMigrate`). @default false */
+  /**
+   * Kirchhoff: the half-derivative filter first (see `kirchhoffMigrate`); f-k: the plain wave-equation
+   * result, else the half-integral with it, which gives Kirchhoff's default result (see `StoltOptions`). @default false
+   */
   halfDerivative?: boolean;
   /** Metres per CRS unit of `line.x/y`. @default 1 */
   metresPerUnit?: number;
@@ -78,6 +81,7 @@ export function migrate(line: RadarLine, options: MigrationOptions, out?: Float3
     separationM: options.separationM ?? 0,
     maxAngleDeg: options.maxAngleDeg ?? 60,
     taper: options.taper ?? 0.2,
+    halfDerivative: options.halfDerivative ?? false,
     metresPerUnit: options.metresPerUnit ?? 1,
   };
   switch (method) {
@@ -88,6 +92,6 @@ export function migrate(line: RadarLine, options: MigrationOptions, out?: Float3
       return phaseShiftMigrate(line, { ...common, layers }, out);
     }
     case 'kirchhoff':
-      return kirchhoffMigrate(line, { ...common, velocityMPerNs: v, apertureM: options.apertureM ?? 2, halfDerivative: options.halfDerivative ?? false }, out);
+      return kirchhoffMigrate(line, { ...common, velocityMPerNs: v, apertureM: options.apertureM ?? 2 }, out);
   }
 }

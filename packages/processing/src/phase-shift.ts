@@ -1,6 +1,6 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { fftOfSize } from './fft';
-import { bistaticResample, checkLayers, dipWeight, fk2d, ifk2d, kxOf, paddedSizes, shiftSpectrum, traceSlots, type MigrationLayer } from './fk';
+import { band, bistaticResample, dominantPeriodNs, taperTraceEnds, checkLayers, dipWeight, fk2d, halfOrderFilter, ifk2d, kxOf, paddedSizes, shiftSpectrum, traceSlots, type MigrationLayer } from './fk';
 import { outputFor, withData } from './line-util';
 import { passThroughBack } from './stolt';
 
@@ -13,6 +13,8 @@ export interface PhaseShiftOptions {
   maxAngleDeg?: number;
   /** Fraction of the angle range below maxAngleDeg tapered by a cosine. @default 0.2 */
   taper?: number;
+  /** As `StoltOptions.halfDerivative`. @default false */
+  halfDerivative?: boolean;
   /**
    * Frequencies are skipped from either end of the spectrum while their summed energy stays within this
    * fraction of the whole (a precision bound: the result changes by about its square root, relative RMS).
@@ -30,22 +32,10 @@ export interface PhaseShiftKernelOptions {
   taper?: number;
   /** Run the inverse (phase-shift modelling, demigration). @default false */
   inverse?: boolean;
+  /** Half-integral of the input before migration (half-derivative of the output after modelling). @default false */
+  halfIntegral?: boolean;
   /** @default 1e-6 */
   energyTolerance?: number;
-}
-
-/** Smallest bin range [lo, hi] of a power spectrum whose two cut-off tails each hold at most tol / 2 of the energy. */
-function band(power: Float64Array, tol: number): [number, number] {
-  let total = 0;
-  for (let m = 0; m < power.length; m++) total += power[m] as number;
-  if (!(total > 0)) return [0, -1];
-  let lo = 0;
-  let acc = 0;
-  while (lo < power.length - 1 && acc + (power[lo] as number) <= (tol / 2) * total) acc += power[lo++] as number;
-  let hi = power.length - 1;
-  acc = 0;
-  while (hi > lo && acc + (power[hi] as number) <= (tol / 2) * total) acc += power[hi--] as number;
-  return [lo, hi];
 }
 
 /**
@@ -124,11 +114,9 @@ export function phaseShiftKernel(
   const rotIm = new Float64Array(nl);
 
   if (!options.inverse) {
-    const spec = fk2d(data, nTraces, nSamples, nx, nt);
-    shiftSpectrum(spec, nx, nt, dtNs, timeZeroNs);
-    const power = new Float64Array(nw);
-    for (let ix = 0; ix < nx; ix++) for (let m = 0; m < nw; m++) power[m] = (power[m] as number) + (spec[2 * (ix * nw + m)] as number) ** 2 + (spec[2 * (ix * nw + m) + 1] as number) ** 2;
-    const [lo, hi] = band(power, tol);
+    const { spec, lo, hi } = fk2d(data, nTraces, nSamples, nx, nt, tol);
+    if (options.halfIntegral) halfOrderFilter(spec, nx, nt, dtNs, -0.5, lo, hi);
+    shiftSpectrum(spec, nx, nt, dtNs, timeZeroNs, lo, hi);
     // S[ix][k]: the image at step k of wavenumber row ix, summed over omega
     const img = new Float64Array(2 * nx * nk);
     for (let ix = 0; ix < nx; ix++) {
@@ -263,8 +251,9 @@ export function phaseShiftKernel(
       spec[0] = s0;
     }
   }
-  shiftSpectrum(spec, nx, nt, dtNs, -timeZeroNs);
-  return ifk2d(spec, nTraces, nSamples, nx, nt, out);
+  shiftSpectrum(spec, nx, nt, dtNs, -timeZeroNs, lo, hi);
+  if (options.halfIntegral) halfOrderFilter(spec, nx, nt, dtNs, 0.5, lo, hi);
+  return ifk2d(spec, nTraces, nSamples, nx, nt, out, lo, hi);
 }
 
 /** Per layer: cos(theta) (-1 when evanescent), dip weight and the one-sample rotation e^{i omega dt cos}. False when nothing propagates in the first layer. */
@@ -320,12 +309,14 @@ function phaseShiftLine(line: RadarLine, options: PhaseShiftOptions, inverse: bo
   const { src, dst } = outputFor(line, out);
   const zo = new Float64Array(src.length);
   bistaticResample(src, nt, ns, dt, tz, layers, sep, true, zo);
+  taperTraceEnds(zo, nt, ns, dt, dominantPeriodNs(zo, nt, ns, dt));
   const { spacingM } = traceSlots(line, options.metresPerUnit ?? 1);
   const img = phaseShiftKernel(zo, nt, ns, dt, spacingM, tz, layers, {
     maxAngleDeg: options.maxAngleDeg ?? 60,
     taper: options.taper ?? 0.2,
     energyTolerance: options.energyTolerance ?? 1e-6,
     inverse,
+    halfIntegral: !(options.halfDerivative ?? false),
   });
   passThroughBack(img, src, dst, nt, ns, dt, tz, layers, sep);
   return withData(line, dst);

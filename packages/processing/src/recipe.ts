@@ -289,7 +289,6 @@ export function runStep(line: RadarLine, step: Step, ctx: RecipeContext): { line
       const options = { ...params, velocityMPerNs: v, metresPerUnit: mpu };
       const choice = chooseMigration(line, options);
       if (choice.method !== 'kirchhoff') {
-        if (params.halfDerivative) notes.push('halfDerivative applies to Kirchhoff only (f-k migration is a wave-equation migration: reflectors stay zero-phase)');
         notes.push('apertureM applies to Kirchhoff only; the f-k methods are limited by maxAngleDeg');
       }
       return {

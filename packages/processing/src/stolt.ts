@@ -1,5 +1,5 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { bistaticResample, dipWeight, fk2d, ifk2d, kxOf, paddedSizes, shiftSpectrum, traceSlots } from './fk';
+import { bistaticResample, dipWeight, dominantPeriodNs, taperTraceEnds, fk2d, halfOrderFilter, ifk2d, kxOf, paddedSizes, shiftSpectrum, traceSlots } from './fk';
 import { outputFor, withData } from './line-util';
 
 export interface StoltOptions {
@@ -11,6 +11,15 @@ export interface StoltOptions {
   maxAngleDeg?: number;
   /** Fraction of the angle range below maxAngleDeg tapered by a cosine. @default 0.2 */
   taper?: number;
+  /**
+   * As Kirchhoff's option: false runs the half-integral with the migration (`halfOrderFilter`), so that a
+   * diffraction made of the source wavelet at ray times focuses zero-phase and the output matches
+   * Kirchhoff's default; true gives the plain wave-equation result (Kirchhoff with the half-derivative).
+   * @default false
+   */
+  halfDerivative?: boolean;
+  /** Band kept: see `band` (fk.ts). @default 1e-6 */
+  energyTolerance?: number;
   /** Metres per CRS unit of `line.x/y`. @default 1 */
   metresPerUnit?: number;
 }
@@ -23,6 +32,10 @@ export interface StoltKernelOptions {
   taper?: number;
   /** Run the inverse (Stolt modelling, demigration). @default false */
   inverse?: boolean;
+  /** Half-integral of the input before migration (half-derivative of the output after modelling). @default false */
+  halfIntegral?: boolean;
+  /** Frequencies holding this fraction of the energy are dropped from the ends of the band (`band`, fk.ts). @default 0 */
+  energyTolerance?: number;
 }
 
 const HALF_TAPS = 4;
@@ -42,20 +55,29 @@ function interpolate(spec: Float64Array, row: number, rowc: number, nw: number, 
     fetch(spec, row, rowc, nw, i0);
     return;
   }
+  // d = f + q for the taps n = i0 - q: sin(pi d) = (-1)^q sin(pi f); the Hann term by angle addition
+  const sf = Math.sin(Math.PI * f);
+  const cf4 = Math.cos((Math.PI * f) / HALF_TAPS);
+  const sf4 = Math.sin((Math.PI * f) / HALF_TAPS);
   let re = 0;
   let im = 0;
   let ws = 0;
-  for (let n = i0 - HALF_TAPS + 1; n <= i0 + HALF_TAPS; n++) {
-    const d = u - n;
-    const w = (Math.sin(Math.PI * d) / (Math.PI * d)) * 0.5 * (1 + Math.cos((Math.PI * d) / HALF_TAPS));
+  for (let q = -HALF_TAPS; q < HALF_TAPS; q++) {
+    const d = f + q;
+    const sinc = ((q & 1 ? -sf : sf) / (Math.PI * d));
+    const hann = 0.5 * (1 + cf4 * (COS_Q[q + HALF_TAPS] as number) - sf4 * (SIN_Q[q + HALF_TAPS] as number));
+    const w = sinc * hann;
     ws += w;
-    fetch(spec, row, rowc, nw, n);
+    fetch(spec, row, rowc, nw, i0 - q);
     re += w * ipRe;
     im += w * ipIm;
   }
   ipRe = re / ws;
   ipIm = im / ws;
 }
+
+const COS_Q = Float64Array.from({ length: 2 * HALF_TAPS }, (_, i) => Math.cos((Math.PI * (i - HALF_TAPS)) / HALF_TAPS));
+const SIN_Q = Float64Array.from({ length: 2 * HALF_TAPS }, (_, i) => Math.sin((Math.PI * (i - HALF_TAPS)) / HALF_TAPS));
 
 function fetch(spec: Float64Array, row: number, rowc: number, nw: number, n: number): void {
   if (n >= nw) {
@@ -102,9 +124,14 @@ export function stoltKernel(
   const nw = nt / 2 + 1;
   const dw = (2 * Math.PI) / (nt * dtNs);
   const tc = (nt * dtNs) / 4;
-  const spec = fk2d(data, nTraces, nSamples, nx, nt);
-  shiftSpectrum(spec, nx, nt, dtNs, timeZeroNs + tc);
+  const { spec, lo, hi } = fk2d(data, nTraces, nSamples, nx, nt, options.energyTolerance ?? 0);
+  if (hi < lo) return out.fill(0);
+  if (options.halfIntegral && !inverse) halfOrderFilter(spec, nx, nt, dtNs, -0.5, lo, hi);
+  shiftSpectrum(spec, nx, nt, dtNs, timeZeroNs + tc, lo, hi);
+  // bins the interpolation can reach from [lo, hi] (negative bins mirror positive ones)
+  const reach = (u: number) => u - HALF_TAPS <= hi && (u + HALF_TAPS >= lo || HALF_TAPS - u >= lo);
   const res = new Float64Array(spec.length);
+  let jHi = 0;
   for (let ix = 0; ix < nx; ix++) {
     const a = ve * Math.abs(kxOf(ix, nx, dxM));
     const row = 2 * ix * nw;
@@ -117,6 +144,7 @@ export function stoltKernel(
       if (!inverse) {
         const w = Math.sqrt(wj * wj + a * a);
         u = w / dw;
+        if (u - HALF_TAPS > hi) break; // u grows with j
         if (w === 0) {
           factor = 1;
         } else {
@@ -127,19 +155,22 @@ export function stoltKernel(
         if (wj <= a && a > 0) continue;
         const wt = Math.sqrt(wj * wj - a * a);
         u = wt / dw;
+        if (u - HALF_TAPS > hi) break;
         factor = wj === 0 ? 1 : dipWeight(a / wj, maxAngleDeg, taper) / (wt / wj);
         phase = -wt * tc;
       }
-      if (factor === 0 || u > nw - 1) continue;
+      if (factor === 0 || u > nw - 1 || !reach(u)) continue;
       interpolate(spec, row, rowc, nw, u);
       const c = Math.cos(phase) * factor;
       const s = Math.sin(phase) * factor;
       res[row + 2 * j] = ipRe * c - ipIm * s;
       res[row + 2 * j + 1] = ipRe * s + ipIm * c;
+      if (j > jHi) jHi = j;
     }
   }
-  shiftSpectrum(res, nx, nt, dtNs, -timeZeroNs);
-  return ifk2d(res, nTraces, nSamples, nx, nt, out);
+  shiftSpectrum(res, nx, nt, dtNs, -timeZeroNs, 0, jHi);
+  if (options.halfIntegral && inverse) halfOrderFilter(res, nx, nt, dtNs, 0.5, 0, jHi);
+  return ifk2d(res, nTraces, nSamples, nx, nt, out, 0, jHi);
 }
 
 /**
@@ -167,8 +198,15 @@ function stoltLine(line: RadarLine, options: StoltOptions, inverse: boolean, out
   const layers = [{ topM: 0, velocityMPerNs: v }];
   const zo = new Float64Array(src.length);
   bistaticResample(src, nt, ns, dt, tz, layers, sep, true, zo);
+  taperTraceEnds(zo, nt, ns, dt, dominantPeriodNs(zo, nt, ns, dt));
   const { spacingM } = traceSlots(line, options.metresPerUnit ?? 1);
-  const img = stoltKernel(zo, nt, ns, dt, spacingM, tz, v, { maxAngleDeg: options.maxAngleDeg ?? 60, taper: options.taper ?? 0.2, inverse });
+  const img = stoltKernel(zo, nt, ns, dt, spacingM, tz, v, {
+    maxAngleDeg: options.maxAngleDeg ?? 60,
+    taper: options.taper ?? 0.2,
+    inverse,
+    halfIntegral: !(options.halfDerivative ?? false),
+    energyTolerance: options.energyTolerance ?? 1e-6,
+  });
   passThroughBack(img, src, dst, nt, ns, dt, tz, layers, sep);
   return withData(line, dst);
 }
