@@ -1,6 +1,6 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { fftOfSize } from './fft';
-import { band, bistaticResample, dominantPeriodNs, taperTraceEnds, checkLayers, dipWeight, fk2d, halfOrderFilter, ifk2d, kxOf, paddedSizes, shiftSpectrum, traceSlots, type MigrationLayer } from './fk';
+import { band, bistaticResample, dominantPeriodNs, taperTraceEnds, checkLayers, fk2d, halfOrderFilter, ifk2d, kxOf, paddedSizes, shiftSpectrum, traceSlots, type MigrationLayer } from './fk';
 import { outputFor, withData } from './line-util';
 import { passThroughBack } from './stolt';
 
@@ -11,6 +11,11 @@ export interface PhaseShiftOptions {
   separationM?: number;
   /** Dip limit (local angle of each layer). @default 60 */
   maxAngleDeg?: number;
+  /**
+   * Kirchhoff's half-aperture as a dip limit: at depth z the angle is limited to min(maxAngleDeg,
+   * atan(apertureM / z)), the angle Kirchhoff's summation reaches there. @default Infinity
+   */
+  apertureM?: number;
   /** Fraction of the angle range below maxAngleDeg tapered by a cosine. @default 0.2 */
   taper?: number;
   /** As `StoltOptions.halfDerivative`. @default false */
@@ -28,6 +33,8 @@ export interface PhaseShiftOptions {
 export interface PhaseShiftKernelOptions {
   /** @default 60 */
   maxAngleDeg?: number;
+  /** @default Infinity */
+  apertureM?: number;
   /** @default 0.2 */
   taper?: number;
   /** Run the inverse (phase-shift modelling, demigration). @default false */
@@ -108,8 +115,29 @@ export function phaseShiftKernel(
     if (uniform && last && last.uniform && last.layer === layer && last.to === k) last.to = k + 1;
     else runs.push({ from: k, to: k + 1, layer, uniform });
   });
+  // the angle limit of each step: min(maxAngle, atan(aperture / z)) at the step's depth
+  const aperture = options.apertureM ?? Infinity;
+  const thMax = (Math.min(maxAngleDeg, 90) * Math.PI) / 180;
+  const sin1 = new Float64Array(nk);
+  const sinM = new Float64Array(nk);
+  const th1 = new Float64Array(nk);
+  const thM = new Float64Array(nk);
+  for (let k = 0; k < nk; k++) {
+    const z = depthAt((first + k) * dtNs - timeZeroNs, layers);
+    const t = Math.min(thMax, z > 0 ? Math.atan(aperture / z) : thMax);
+    thM[k] = t;
+    th1[k] = t * (1 - taper);
+    sinM[k] = Math.sin(t);
+    sin1[k] = Math.sin(t * (1 - taper));
+  }
+  const weight = (k: number, s: number, th: number): number => {
+    if (s <= (sin1[k] as number)) return 1;
+    if (s >= (sinM[k] as number)) return 0;
+    return 0.5 * (1 + Math.cos((Math.PI * (th - (th1[k] as number))) / ((thM[k] as number) - (th1[k] as number))));
+  };
   const cosL = new Float64Array(nl);
-  const wgtL = new Float64Array(nl);
+  const sinL = new Float64Array(nl);
+  const thL = new Float64Array(nl);
   const rotRe = new Float64Array(nl);
   const rotIm = new Float64Array(nl);
 
@@ -124,7 +152,8 @@ export function phaseShiftKernel(
       const o = 2 * ix * nk;
       for (let m = Math.max(lo, 1); m <= hi; m++) {
         const w = m * dw;
-        if (!layerTerms(w, kx, ve, dtNs, maxAngleDeg, taper, cosL, wgtL, rotRe, rotIm)) continue;
+        if (!layerTerms(w, kx, ve, dtNs, cosL, sinL, thL, rotRe, rotIm)) continue;
+        if ((sinL[0] as number) >= (sinM[0] as number) && nl === 1) continue; // past the dip limit everywhere
         const half = m === nw - 1 ? 0.5 : 1;
         let pr = spec[2 * (ix * nw + m)] as number;
         let pi = spec[2 * (ix * nw + m) + 1] as number;
@@ -132,7 +161,8 @@ export function phaseShiftKernel(
           const l = run.layer;
           const c = cosL[l] as number;
           if (c < 0) break; // evanescent from here down
-          const g = half * (wgtL[l] as number);
+          const sl = sinL[l] as number;
+          const tl = thL[l] as number;
           let k = run.from;
           if (!run.uniform) {
             let ph = 0;
@@ -142,18 +172,43 @@ export function phaseShiftKernel(
             const nr = pr * rr - pi * ri;
             pi = pr * ri + pi * rr;
             pr = nr;
+            const g = half * weight(k, sl, tl);
             img[o + 2 * k] = (img[o + 2 * k] as number) + g * pr;
             img[o + 2 * k + 1] = (img[o + 2 * k + 1] as number) + g * pi;
             continue;
           }
           const rr = rotRe[l] as number;
           const ri = rotIm[l] as number;
+          // the limit only narrows with depth: full weight up to kFull, tapered up to kZero, nothing after
+          let kFull = run.to;
+          if (sl > (sin1[run.to - 1] as number)) {
+            kFull = k;
+            while (kFull < run.to && sl <= (sin1[kFull] as number)) kFull++;
+          }
+          for (; k < kFull; k++) {
+            const nr = pr * rr - pi * ri;
+            pi = pr * ri + pi * rr;
+            pr = nr;
+            img[o + 2 * k] = (img[o + 2 * k] as number) + half * pr;
+            img[o + 2 * k + 1] = (img[o + 2 * k + 1] as number) + half * pi;
+          }
           for (; k < run.to; k++) {
+            const g = half * weight(k, sl, tl);
+            if (g === 0) break;
             const nr = pr * rr - pi * ri;
             pi = pr * ri + pi * rr;
             pr = nr;
             img[o + 2 * k] = (img[o + 2 * k] as number) + g * pr;
             img[o + 2 * k + 1] = (img[o + 2 * k + 1] as number) + g * pi;
+          }
+          if (k < run.to) {
+            // the rest of this layer images nothing: advance the phase over it at once
+            const ph = w * dtNs * c * (run.to - k);
+            const cr = Math.cos(ph);
+            const ci = Math.sin(ph);
+            const nr = pr * cr - pi * ci;
+            pi = pr * ci + pi * cr;
+            pr = nr;
           }
         }
       }
@@ -213,7 +268,8 @@ export function phaseShiftKernel(
     const o = 2 * ix * nk;
     for (let m = Math.max(lo, 1); m <= hi; m++) {
       const w = m * dw;
-      if (!layerTerms(w, kx, ve, dtNs, maxAngleDeg, taper, cosL, wgtL, rotRe, rotIm)) continue;
+      if (!layerTerms(w, kx, ve, dtNs, cosL, sinL, thL, rotRe, rotIm)) continue;
+      if ((sinL[0] as number) >= (sinM[0] as number) && nl === 1) continue;
       // phase e^{-i phi}: rotate by the conjugates
       let pr = 1;
       let pi = 0;
@@ -223,7 +279,8 @@ export function phaseShiftKernel(
         const l = run.layer;
         const c = cosL[l] as number;
         if (c < 0) break;
-        const g = (wgtL[l] as number) / c;
+        const sl = sinL[l] as number;
+        const tl = thL[l] as number;
         let rr = rotRe[l] as number;
         let ri = -(rotIm[l] as number);
         for (let k = run.from; k < run.to; k++) {
@@ -236,10 +293,12 @@ export function phaseShiftKernel(
           const nr = pr * rr - pi * ri;
           pi = pr * ri + pi * rr;
           pr = nr;
+          const g = weight(k, sl, tl);
+          if (g === 0) continue;
           const ir = img[o + 2 * k] as number;
           const ii = img[o + 2 * k + 1] as number;
-          sr += g * (ir * pr - ii * pi);
-          si += g * (ir * pi + ii * pr);
+          sr += (g / c) * (ir * pr - ii * pi);
+          si += (g / c) * (ir * pi + ii * pr);
         }
       }
       spec[2 * (ix * nw + m)] = sr;
@@ -256,16 +315,15 @@ export function phaseShiftKernel(
   return ifk2d(spec, nTraces, nSamples, nx, nt, out, lo, hi);
 }
 
-/** Per layer: cos(theta) (-1 when evanescent), dip weight and the one-sample rotation e^{i omega dt cos}. False when nothing propagates in the first layer. */
+/** Per layer: cos(theta) (-1 when evanescent), sin and angle, and the one-sample rotation e^{i omega dt cos}. False when nothing propagates in the first layer. */
 function layerTerms(
   w: number,
   kx: number,
   ve: readonly number[],
   dtNs: number,
-  maxAngleDeg: number,
-  taper: number,
   cosL: Float64Array,
-  wgtL: Float64Array,
+  sinL: Float64Array,
+  thL: Float64Array,
   rotRe: Float64Array,
   rotIm: Float64Array,
 ): boolean {
@@ -280,12 +338,28 @@ function layerTerms(
     }
     const c = Math.sqrt(1 - s * s);
     cosL[l] = c;
-    wgtL[l] = dipWeight(s, maxAngleDeg, taper);
+    sinL[l] = s;
+    thL[l] = Math.asin(s);
     rotRe[l] = Math.cos(w * dtNs * c);
     rotIm[l] = Math.sin(w * dtNs * c);
     if (l === 0) any = true;
   }
   return any;
+}
+
+/** Depth (m) at vertical two-way time tau (ns) through the layers. */
+function depthAt(tauNs: number, layers: readonly MigrationLayer[]): number {
+  let z = 0;
+  let left = tauNs;
+  for (let i = 0; i < layers.length; i++) {
+    const l = layers[i] as MigrationLayer;
+    const next = layers[i + 1];
+    const tThick = next ? (2 * (next.topM - l.topM)) / l.velocityMPerNs : Infinity;
+    if (left <= tThick) return z + (left * l.velocityMPerNs) / 2;
+    z = next ? next.topM : z;
+    left -= tThick;
+  }
+  return z;
 }
 
 /**
@@ -313,6 +387,7 @@ function phaseShiftLine(line: RadarLine, options: PhaseShiftOptions, inverse: bo
   const { spacingM } = traceSlots(line, options.metresPerUnit ?? 1);
   const img = phaseShiftKernel(zo, nt, ns, dt, spacingM, tz, layers, {
     maxAngleDeg: options.maxAngleDeg ?? 60,
+    apertureM: options.apertureM ?? Infinity,
     taper: options.taper ?? 0.2,
     energyTolerance: options.energyTolerance ?? 1e-6,
     inverse,

@@ -4,7 +4,7 @@ of src/stolt.ts and src/phase-shift.ts (Stolt 1978, Gazdag 1978) without sharing
 Usage: stolt_ref.py <params.json> <in.f32> <out.f32>
 params: {"method": "stolt" | "phase-shift", "nTraces", "nSamples", "dtNs", "dxM", "timeZeroNs",
          "velocityMPerNs" | "layers": [{"topM", "velocityMPerNs"}], "maxAngleDeg", "taper", "inverse",
-         "halfIntegral",
+         "halfIntegral", "apertureM" (phase-shift),
          "repeat" (timing runs, default 1)}
 in/out: little-endian float32, trace-major nTraces x nSamples. Prints {"seconds": [...]} (the kernel alone,
 without file input/output) on stdout.
@@ -120,7 +120,17 @@ def phase_shift(d, p):
         s = np.where(w[None, None, :] > 0, ve[:, None, None] * kx[None] / w[None, None, :], np.where(kx[None] == 0, 0, 2))
     alive = np.cumprod(s < 1, axis=0).astype(bool)  # dropped from the first evanescent layer down
     cos = np.where(alive, np.sqrt(np.clip(1 - s ** 2, 0, 1)), 0)
-    wgt = np.where(alive, dip_weight(np.clip(s, 0, 1), max_angle, taper), 0)
+    aperture = p.get("apertureM", np.inf)
+
+    def depth(tau):
+        z, left = 0.0, tau
+        for i, l in enumerate(layers):
+            nxt = layers[i + 1] if i + 1 < len(layers) else None
+            tt = 2 * (nxt["topM"] - l["topM"]) / l["velocityMPerNs"] if nxt else np.inf
+            if left <= tt:
+                return z + left * l["velocityMPerNs"] / 2
+            z, left = nxt["topM"], left - tt
+        return z
     half = np.ones(nw)
     half[0] = half[-1] = 0.5
     if not inverse:
@@ -142,12 +152,15 @@ def phase_shift(d, p):
                 phi = phi + w[None, :] * (b - a) * cos[l]
                 lay = l
         prev = tau
+        z = depth(tau)
+        angle = min(max_angle, math.degrees(math.atan(aperture / z))) if z > 0 else max_angle
+        wgt_k = np.where(alive[lay], dip_weight(np.clip(s[lay], 0, 1), angle, taper), 0)
         if not inverse:
-            S = (half[None, :] * wgt[lay] * P * np.exp(1j * phi)).sum(axis=1)
+            S = (half[None, :] * wgt_k * P * np.exp(1j * phi)).sum(axis=1)
             img[k] = (2 / nt) * np.real(np.fft.ifft(S))[:ntr]
         else:
             with np.errstate(divide="ignore", invalid="ignore"):
-                g = np.where(alive[lay], wgt[lay] / cos[lay], 0)
+                g = np.where(alive[lay], wgt_k / cos[lay], 0)
             P += g * I[:, k - first][:, None] * np.exp(-1j * phi)
     if not inverse:
         return img.T
