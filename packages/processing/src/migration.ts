@@ -17,7 +17,7 @@ export interface MigrationOptions {
   method?: MigrationMethodOption;
   /** Antenna separation along the line, m. @default 0 */
   separationM?: number;
-  /** Kirchhoff: largest half-aperture, m. @default 2 */
+  /** Largest half-aperture, m: Kirchhoff's summation; the f-k methods' dip limit min(maxAngle, atan(apertureM / z)) at depth z. @default 2 */
   apertureM?: number;
   /** Largest angle from the vertical: Kirchhoff's summation angle, the f-k methods' dip limit. @default 60 */
   maxAngleDeg?: number;
@@ -82,6 +82,7 @@ export function migrate(line: RadarLine, options: MigrationOptions, out?: Float3
     maxAngleDeg: options.maxAngleDeg ?? 60,
     taper: options.taper ?? 0.2,
     halfDerivative: options.halfDerivative ?? false,
+    apertureM: options.apertureM ?? 2,
     metresPerUnit: options.metresPerUnit ?? 1,
   };
   switch (method) {
@@ -92,6 +93,6 @@ export function migrate(line: RadarLine, options: MigrationOptions, out?: Float3
       return phaseShiftMigrate(line, { ...common, layers }, out);
     }
     case 'kirchhoff':
-      return kirchhoffMigrate(line, { ...common, velocityMPerNs: v, apertureM: options.apertureM ?? 2 }, out);
+      return kirchhoffMigrate(line, { ...common, velocityMPerNs: v }, out);
   }
 }

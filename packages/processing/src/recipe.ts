@@ -288,9 +288,6 @@ export function runStep(line: RadarLine, step: Step, ctx: RecipeContext): { line
       if (v === undefined) return { line, entry: { step: 'migration', params, skipped: 'no velocity given (run after the velocity fit)' } };
       const options = { ...params, velocityMPerNs: v, metresPerUnit: mpu };
       const choice = chooseMigration(line, options);
-      if (choice.method !== 'kirchhoff') {
-        notes.push('apertureM applies to Kirchhoff only; the f-k methods are limited by maxAngleDeg');
-      }
       return {
         line: migrate(line, { ...options, method: choice.method }),
         entry: { step: 'migration', params, notes, result: { ...choice } },

@@ -9,6 +9,11 @@ export interface StoltOptions {
   separationM?: number;
   /** Dip limit: components with v |kx| / (2 omega) > sin(maxAngleDeg) are dropped. @default 60 */
   maxAngleDeg?: number;
+  /**
+   * Kirchhoff's half-aperture, m, as a dip limit: at depth z the angle is limited to min(maxAngleDeg,
+   * atan(apertureM / z)). @default Infinity
+   */
+  apertureM?: number;
   /** Fraction of the angle range below maxAngleDeg tapered by a cosine. @default 0.2 */
   taper?: number;
   /**
@@ -32,6 +37,8 @@ export interface StoltKernelOptions {
   taper?: number;
   /** Run the inverse (Stolt modelling, demigration). @default false */
   inverse?: boolean;
+  /** Kirchhoff's half-aperture as a depth-dependent dip limit (see `apertureNodes`). @default Infinity */
+  apertureM?: number;
   /** Half-integral of the input before migration (half-derivative of the output after modelling). @default false */
   halfIntegral?: boolean;
   /** Frequencies holding this fraction of the energy are dropped from the ends of the band (`band`, fk.ts). @default 0 */
@@ -117,20 +124,89 @@ export function stoltKernel(
   const v = velocityMPerNs;
   if (!(v > 0)) throw new Error(`migration: velocity must be > 0 m/ns, found ${v}`);
   const maxAngleDeg = options.maxAngleDeg ?? 60;
+  const nodes = apertureNodes(nSamples, dtNs, timeZeroNs, v / 2, maxAngleDeg, options.apertureM ?? Infinity);
+  if (nodes.angles.length === 1) return stoltMaps(data, nTraces, nSamples, dtNs, dxM, timeZeroNs, v, options, nodes.angles, [out])[0] as Float32Array;
+  const n = nodes.angles.length;
+  if (!options.inverse) {
+    const imgs = stoltMaps(data, nTraces, nSamples, dtNs, dxM, timeZeroNs, v, options, nodes.angles, nodes.angles.map(() => new Float32Array(nTraces * nSamples)));
+    out.fill(0);
+    for (let w = 0; w < n; w++) {
+      const b = nodes.blend[w] as Float64Array;
+      const img = imgs[w] as Float32Array;
+      for (let i = 0; i < nTraces; i++) for (let k = 0; k < nSamples; k++) out[i * nSamples + k] = (out[i * nSamples + k] as number) + (b[k] as number) * (img[i * nSamples + k] as number);
+    }
+    return out;
+  }
+  // modelling: each depth range of the image through the dip limit of its node, summed
+  out.fill(0);
+  const part = new Float64Array(nTraces * nSamples);
+  for (let w = 0; w < n; w++) {
+    const b = nodes.blend[w] as Float64Array;
+    for (let i = 0; i < nTraces; i++) for (let k = 0; k < nSamples; k++) part[i * nSamples + k] = (b[k] as number) * (data[i * nSamples + k] as number);
+    const img = stoltMaps(part, nTraces, nSamples, dtNs, dxM, timeZeroNs, v, options, [nodes.angles[w] as number], [new Float32Array(nTraces * nSamples)])[0] as Float32Array;
+    for (let q = 0; q < out.length; q++) out[q] = (out[q] as number) + (img[q] as number);
+  }
+  return out;
+}
+
+/**
+ * Kirchhoff's aperture as a dip limit for Stolt, whose operator cannot vary with depth: the limit at
+ * vertical time tau is min(maxAngle, atan(apertureM / z)), z = v tau / 2 (the angle Kirchhoff's summation
+ * reaches there). Images are made for a few limits (nodes no more than 0.1 apart in sin(theta), below the
+ * width of the default taper) and blended along tau, linearly in sin(theta). One node when the aperture
+ * never binds.
+ */
+function apertureNodes(nSamples: number, dtNs: number, timeZeroNs: number, ve: number, maxAngleDeg: number, apertureM: number): { angles: number[]; blend: Float64Array[] } {
+  const thMax = (maxAngleDeg * Math.PI) / 180;
+  const sinAt = (k: number) => {
+    const z = ve * (k * dtNs - timeZeroNs);
+    return Math.sin(z > 0 ? Math.min(thMax, Math.atan(apertureM / z)) : thMax);
+  };
+  const sMax = Math.sin(thMax);
+  const sMin = sinAt(nSamples - 1);
+  if (!(sMax - sMin > 1e-6)) return { angles: [maxAngleDeg], blend: [new Float64Array(nSamples).fill(1)] };
+  const n = Math.ceil((sMax - sMin) / 0.1) + 1;
+  const sins = Array.from({ length: n }, (_, w) => sMax - ((sMax - sMin) * w) / (n - 1));
+  const blend = sins.map(() => new Float64Array(nSamples));
+  for (let k = 0; k < nSamples; k++) {
+    const s = sinAt(k);
+    const f = Math.min(n - 1, Math.max(0, ((sMax - s) / (sMax - sMin)) * (n - 1)));
+    const w0 = Math.min(n - 2, Math.floor(f));
+    (blend[w0] as Float64Array)[k] = 1 - (f - w0);
+    (blend[w0 + 1] as Float64Array)[k] = f - w0;
+  }
+  return { angles: sins.map((x) => (Math.asin(x) * 180) / Math.PI), blend };
+}
+
+/** The Stolt map with one dip limit per output (the interpolation shared), each into its `outs` entry. */
+function stoltMaps(
+  data: ArrayLike<number>,
+  nTraces: number,
+  nSamples: number,
+  dtNs: number,
+  dxM: number,
+  timeZeroNs: number,
+  v: number,
+  options: StoltKernelOptions,
+  anglesDeg: readonly number[],
+  outs: Float32Array[],
+): Float32Array[] {
   const taper = Math.min(1, Math.max(0, options.taper ?? 0.2));
   const inverse = options.inverse ?? false;
   const ve = v / 2;
-  const { nx, nt } = paddedSizes(nTraces, nSamples, dtNs, dxM, ve, maxAngleDeg, 2);
+  const { nx, nt } = paddedSizes(nTraces, nSamples, dtNs, dxM, ve, Math.max(...anglesDeg), 2);
   const nw = nt / 2 + 1;
   const dw = (2 * Math.PI) / (nt * dtNs);
   const tc = (nt * dtNs) / 4;
   const { spec, lo, hi } = fk2d(data, nTraces, nSamples, nx, nt, options.energyTolerance ?? 0);
-  if (hi < lo) return out.fill(0);
+  if (hi < lo) return outs.map((o) => o.fill(0));
   if (options.halfIntegral && !inverse) halfOrderFilter(spec, nx, nt, dtNs, -0.5, lo, hi);
   shiftSpectrum(spec, nx, nt, dtNs, timeZeroNs + tc, lo, hi);
   // bins the interpolation can reach from [lo, hi] (negative bins mirror positive ones)
   const reach = (u: number) => u - HALF_TAPS <= hi && (u + HALF_TAPS >= lo || HALF_TAPS - u >= lo);
-  const res = new Float64Array(spec.length);
+  const na = anglesDeg.length;
+  const res = anglesDeg.map(() => new Float64Array(spec.length));
+  const wts = new Float64Array(na);
   let jHi = 0;
   for (let ix = 0; ix < nx; ix++) {
     const a = ve * Math.abs(kxOf(ix, nx, dxM));
@@ -139,38 +215,52 @@ export function stoltKernel(
     for (let j = 0; j < nw; j++) {
       const wj = j * dw;
       let u: number;
-      let factor: number;
+      let jac: number;
+      let sin: number;
       let phase: number;
       if (!inverse) {
         const w = Math.sqrt(wj * wj + a * a);
         u = w / dw;
         if (u - HALF_TAPS > hi) break; // u grows with j
-        if (w === 0) {
-          factor = 1;
-        } else {
-          factor = dipWeight(a / w, maxAngleDeg, taper) * (wj / w);
-        }
+        jac = w === 0 ? 1 : wj / w;
+        sin = w === 0 ? 0 : a / w;
         phase = -w * tc;
       } else {
         if (wj <= a && a > 0) continue;
         const wt = Math.sqrt(wj * wj - a * a);
         u = wt / dw;
         if (u - HALF_TAPS > hi) break;
-        factor = wj === 0 ? 1 : dipWeight(a / wj, maxAngleDeg, taper) / (wt / wj);
+        jac = wj === 0 ? 1 : wj / wt;
+        sin = wj === 0 ? 0 : a / wj;
         phase = -wt * tc;
       }
-      if (factor === 0 || u > nw - 1 || !reach(u)) continue;
+      if (jac === 0 || u > nw - 1 || !reach(u)) continue;
+      let any = false;
+      for (let q = 0; q < na; q++) {
+        wts[q] = dipWeight(sin, anglesDeg[q] as number, taper) * jac;
+        if (wts[q] !== 0) any = true;
+      }
+      if (!any) continue;
       interpolate(spec, row, rowc, nw, u);
-      const c = Math.cos(phase) * factor;
-      const s = Math.sin(phase) * factor;
-      res[row + 2 * j] = ipRe * c - ipIm * s;
-      res[row + 2 * j + 1] = ipRe * s + ipIm * c;
+      const c = Math.cos(phase);
+      const s = Math.sin(phase);
+      const re = ipRe * c - ipIm * s;
+      const im = ipRe * s + ipIm * c;
+      for (let q = 0; q < na; q++) {
+        const r = res[q] as Float64Array;
+        r[row + 2 * j] = re * (wts[q] as number);
+        r[row + 2 * j + 1] = im * (wts[q] as number);
+      }
       if (j > jHi) jHi = j;
     }
   }
-  shiftSpectrum(res, nx, nt, dtNs, -timeZeroNs, 0, jHi);
-  if (options.halfIntegral && inverse) halfOrderFilter(res, nx, nt, dtNs, 0.5, 0, jHi);
-  return ifk2d(res, nTraces, nSamples, nx, nt, out, 0, jHi);
+  for (let q = 0; q < na; q++) {
+    const r = res[q] as Float64Array;
+    shiftSpectrum(r, nx, nt, dtNs, -timeZeroNs, 0, jHi);
+    if (options.halfIntegral && inverse) halfOrderFilter(r, nx, nt, dtNs, 0.5, 0, jHi);
+    ifk2d(r, nTraces, nSamples, nx, nt, outs[q] as Float32Array, 0, jHi);
+  }
+  return outs;
 }
 
 /**
@@ -202,6 +292,7 @@ function stoltLine(line: RadarLine, options: StoltOptions, inverse: boolean, out
   const { spacingM } = traceSlots(line, options.metresPerUnit ?? 1);
   const img = stoltKernel(zo, nt, ns, dt, spacingM, tz, v, {
     maxAngleDeg: options.maxAngleDeg ?? 60,
+    apertureM: options.apertureM ?? Infinity,
     taper: options.taper ?? 0.2,
     inverse,
     halfIntegral: !(options.halfDerivative ?? false),
