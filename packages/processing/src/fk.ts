@@ -85,40 +85,64 @@ export function ifk2d(
   const ft = fftOfSize(nt);
   const full = new Float64Array(2 * nt);
   const back = new Float64Array(2 * nt);
-  for (let i = 0; i < nTraces; i++) {
-    const o = 2 * i * nw;
+  const m0 = Math.max(0, lo);
+  const m1 = Math.min(hi, nw - 1);
+  // two real traces per complex inverse: ifft(A + iB) = a + ib for Hermitian A, B
+  for (let i = 0; i < nTraces; i += 2) {
+    const oa = 2 * i * nw;
+    const ob = i + 1 < nTraces ? 2 * (i + 1) * nw : -1;
     full.fill(0);
-    for (let m = Math.max(0, lo); m <= Math.min(hi, nw - 1); m++) {
-      full[2 * m] = spec[o + 2 * m] as number;
-      full[2 * m + 1] = spec[o + 2 * m + 1] as number;
-    }
-    // a real trace: the DC and Nyquist bins are real, negative frequencies are conjugates
-    full[1] = 0;
-    full[2 * (nw - 1) + 1] = 0;
-    for (let m = 1; m < nw - 1; m++) {
-      full[2 * (nt - m)] = full[2 * m] as number;
-      full[2 * (nt - m) + 1] = -(full[2 * m + 1] as number);
+    for (let m = m0; m <= m1; m++) {
+      // the DC and Nyquist bins of a real trace are real
+      const edge = m === 0 || m === nw - 1;
+      const ar = spec[oa + 2 * m] as number;
+      const ai = edge ? 0 : (spec[oa + 2 * m + 1] as number);
+      const br = ob < 0 ? 0 : (spec[ob + 2 * m] as number);
+      const bi = ob < 0 || edge ? 0 : (spec[ob + 2 * m + 1] as number);
+      full[2 * m] = ar - bi;
+      full[2 * m + 1] = ai + br;
+      if (!edge) {
+        // bin nt - m: conj(A) + i conj(B)
+        full[2 * (nt - m)] = ar + bi;
+        full[2 * (nt - m) + 1] = -ai + br;
+      }
     }
     ft.inverseTransform(back, full);
     for (let k = 0; k < nSamples; k++) out[i * nSamples + k] = back[2 * k] as number;
+    if (ob >= 0) for (let k = 0; k < nSamples; k++) out[(i + 1) * nSamples + k] = back[2 * k + 1] as number;
   }
   return out;
 }
 
 function acrossTraces(spec: Float64Array, nx: number, nw: number, inverse: boolean, lo = 0, hi = nw - 1): void {
   const fx = fftOfSize(nx);
-  const col = new Float64Array(2 * nx);
+  const B = 4; // columns per pass: neighbouring bins share cache lines
+  const cols = Array.from({ length: B }, () => new Float64Array(2 * nx));
   const res = new Float64Array(2 * nx);
-  for (let m = Math.max(0, lo); m <= Math.min(hi, nw - 1); m++) {
+  const m1 = Math.min(hi, nw - 1);
+  for (let m0 = Math.max(0, lo); m0 <= m1; m0 += B) {
+    const nb = Math.min(B, m1 - m0 + 1);
     for (let i = 0; i < nx; i++) {
-      col[2 * i] = spec[2 * (i * nw + m)] as number;
-      col[2 * i + 1] = spec[2 * (i * nw + m) + 1] as number;
+      const o = 2 * (i * nw + m0);
+      for (let b = 0; b < nb; b++) {
+        const col = cols[b] as Float64Array;
+        col[2 * i] = spec[o + 2 * b] as number;
+        col[2 * i + 1] = spec[o + 2 * b + 1] as number;
+      }
     }
-    if (inverse) fx.inverseTransform(res, col);
-    else fx.transform(res, col);
+    for (let b = 0; b < nb; b++) {
+      const col = cols[b] as Float64Array;
+      if (inverse) fx.inverseTransform(res, col);
+      else fx.transform(res, col);
+      col.set(res);
+    }
     for (let i = 0; i < nx; i++) {
-      spec[2 * (i * nw + m)] = res[2 * i] as number;
-      spec[2 * (i * nw + m) + 1] = res[2 * i + 1] as number;
+      const o = 2 * (i * nw + m0);
+      for (let b = 0; b < nb; b++) {
+        const col = cols[b] as Float64Array;
+        spec[o + 2 * b] = col[2 * i] as number;
+        spec[o + 2 * b + 1] = col[2 * i + 1] as number;
+      }
     }
   }
 }
