@@ -53,7 +53,7 @@ let ipIm = 0;
  * Windowed-sinc interpolation along omega of row `row` of a centred spectrum at fractional bin `u`: 8 taps,
  * Hann window, weights normalised to sum 1. Negative bins are conjugates of the row of -kx (`rowc`), bins
  * past Nyquist zero. The spectrum was centred (traces shifted so their support is [-T/4, T/4] of the padded
- * length T), so along omega it is oversampled twice and 8 taps interpolate it to about 1e-3.
+ * length T), so along omega it is oversampled twice (round trips in the tests: below 1 % RMS).
  */
 function interpolate(spec: Float64Array, row: number, rowc: number, nw: number, u: number): void {
   const i0 = Math.floor(u);
