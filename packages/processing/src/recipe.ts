@@ -134,10 +134,11 @@ export function defaultRecipe(frequencyMHz: number): Recipe {
       { step: 'bandpass', lowMHz: 0.25 * frequencyMHz, highMHz: 2 * frequencyMHz, order: 4 },
       { step: 'gain', kind: 'divergence', power: 1, alphaPerNs: 0, startNs: T, maxGainDb: 60 },
       { step: 'backgroundRemoval', method: 'mean' },
-      // Kirchhoff until air-wave screening is validated on f-k output: with `auto` (Stolt on the sample
-      // sites) the anomalies change (65-82 % of slice members within one cell) and the above-ground recall
-      // of two sites falls below the 90 % of test/screening-sites.test.ts (yard 89.8 %, warehouse 84 %).
-      // `method: 'auto'` in a recipe (or removing this line) gives the f-k methods, 2-4x faster.
+      // Kirchhoff until the f-k output is validated on held-out scenes: on the three sample sites, `auto`
+      // (Stolt) keeps 60-80 % of the slice anomalies within one cell, not all. With halfDerivative false
+      // (the half-integral) the above-ground recall of yard and warehouse falls below the 90 % of
+      // test/screening-sites.test.ts (89.8 %, 84.0 %); with halfDerivative true every sample-site score
+      // holds or improves. `{ method: 'auto', halfDerivative: true }` here makes the f-k methods the default.
       { step: 'migration', method: 'kirchhoff', apertureM: 2, maxAngleDeg: 60 },
     ],
   };
