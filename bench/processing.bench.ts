@@ -11,7 +11,7 @@ import { availableParallelism, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import type { RadarLine } from '../packages/radar-data/src/index';
-import { createProcessingPool, defaultRecipe, migrate, runRecipe, type Recipe } from '../packages/processing/src/index';
+import { createProcessingPool, defaultRecipe, kirchhoffMigrate as migrate, runRecipe, type Recipe } from '../packages/processing/src/index';
 import { loadSite, readLine } from '../packages/site/src/index';
 import { mulberry32 } from '../packages/random/src/index';
 

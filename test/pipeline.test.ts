@@ -48,6 +48,19 @@ describe('process pipeline', () => {
     expect(Object.keys(a)).toContain('radargrams/index.json');
   });
 
+  it('runs the f-k migration the recipe asks for and records per line which method ran', async () => {
+    const { defaultRecipe } = await import('@lamina/processing');
+    const site = JSON.parse(await readFile(join(siteDir, 'site.json'), 'utf8')) as { antenna: { frequencyMHz: number } };
+    const base = defaultRecipe(site.antenna.frequencyMHz);
+    const recipe = { steps: base.steps.map((st) => (st.step === 'migration' ? { ...st, method: 'auto' as const } : st)) };
+    await runProcess(siteDir, join(work, 'fk'), { threads: 0, recipe });
+    const run = JSON.parse(await readFile(join(work, 'fk', 'run.json'), 'utf8')) as { log: { step: string; result?: Record<string, unknown> }[]; lines: unknown[] };
+    const mig = run.log.find((e) => e.step === 'migration');
+    expect(['stolt', 'phase-shift', 'kirchhoff']).toContain(mig?.result?.method);
+    const byMethod = mig?.result?.linesByMethod as Record<string, number>;
+    expect(Object.values(byMethod).reduce((a, b) => a + b, 0)).toBe(run.lines.length);
+  });
+
   it('writes nothing when an input is bad, and names the file', async () => {
     const bad = join(work, 'bad-site');
     await cp(siteDir, bad, { recursive: true });

@@ -73,12 +73,14 @@ export function siteRecipe(s: Site, override?: unknown, overrideFile = 'recipe')
   return defaultRecipe(s.antenna.frequencyMHz);
 }
 
-function context(s: Site, velocityMPerNs?: number) {
+function context(s: Site, velocityMPerNs?: number, model?: VelocityModel) {
   return {
     frequencyMHz: s.antenna.frequencyMHz,
     separationM: s.antenna.separationM,
     metresPerUnit: s.crs.metresPerUnit,
     ...(velocityMPerNs !== undefined ? { velocityMPerNs } : {}),
+    // a layered model makes `auto` migration phase-shift through its interval velocities
+    ...(model && model.kind === 'layered' ? { velocityLayers: model.layers } : {}),
   };
 }
 
@@ -120,7 +122,7 @@ export async function pass2(task: Pass2Task): Promise<Pass2Result> {
   const s = await site(task.siteDir);
   const src = s.lines[task.line]!;
   const raw = await timed(times, 'pass 2 read line', () => readLine(s, src));
-  const { line, before, log } = runRecipe(raw, task.recipe, context(s, task.velocityMPerNs), { keepBefore: 'backgroundRemoval', onStep: stepTimes(times, 'pass 2') });
+  const { line, before, log } = runRecipe(raw, task.recipe, context(s, task.velocityMPerNs, task.model), { keepBefore: 'backgroundRemoval', onStep: stepTimes(times, 'pass 2') });
   const sep = s.antenna.separationM;
   const after = timed(times, 'pass 2 envelope + slice values', () => sliceValues(line, task, sep));
   const beforeBackground = before && before !== line ? timed(times, 'pass 2 envelope + slice values', () => sliceValues(before, task, sep)) : after;

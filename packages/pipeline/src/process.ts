@@ -168,6 +168,8 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     const waiting = new Map<number, Pass2Result>();
     let next = 0;
     let log: Pass2Result['log'] = [];
+    // the migration method is chosen per line (irregular spacing takes Kirchhoff): count them for the log
+    const methods = new Map<string, number>();
     let screening: Screening;
     const pass2Done = timer.start('pass 2: process lines, slice values');
     try {
@@ -180,6 +182,8 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
             for (let r = waiting.get(next); r; r = waiting.get(next)) {
               spill.addLine(r.x, r.y, r.values);
               if (next === 0) log = r.log;
+              const ran = r.log.find((e) => e.step === 'migration')?.result?.method;
+              if (typeof ran === 'string') methods.set(ran, (methods.get(ran) ?? 0) + 1);
               waiting.delete(next++);
             }
           }),
@@ -187,6 +191,8 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       );
       await exec.close();
       pass2Done();
+      const mig = log.find((e) => e.step === 'migration');
+      if (mig && methods.size > 0) mig.result = { ...mig.result, linesByMethod: Object.fromEntries([...methods].sort()) };
       screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress, timer }, Math.max(1, threads));
     } finally {
       spill.remove();

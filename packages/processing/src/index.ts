@@ -30,7 +30,19 @@ export {
   shiftTrace,
   timeZero,
 } from './time-zero';
-export { type MigrationOptions, halfDerivative, migrate } from './migration';
+export {
+  MIGRATION_METHODS,
+  type MigrationMethod,
+  type MigrationMethodOption,
+  type MigrationOptions,
+  type MigrationChoice,
+  chooseMigration,
+  migrate,
+} from './migration';
+export { type KirchhoffOptions, halfDerivative, kirchhoffMigrate } from './kirchhoff';
+export { type StoltOptions, type StoltKernelOptions, stoltKernel, stoltMigrate, stoltModel } from './stolt';
+export { type PhaseShiftOptions, type PhaseShiftKernelOptions, phaseShiftKernel, phaseShiftMigrate, phaseShiftModel } from './phase-shift';
+export { type MigrationLayer, type TraceSlots, traceSlots, bistaticTime, dipWeight } from './fk';
 export {
   STEP_NAMES,
   type StepName,

@@ -125,7 +125,7 @@ export function pickFirstArrival(
 }
 
 /** Keys cubic convolution weight (a = -0.5). */
-function keys(x: number): number {
+export function keys(x: number): number {
   const ax = Math.abs(x);
   if (ax < 1) return 1.5 * ax * ax * ax - 2.5 * ax * ax + 1;
   if (ax < 2) return -0.5 * ax * ax * ax + 2.5 * ax * ax - 4 * ax + 2;

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { envelope, migrate } from '../src';
+import { envelope, kirchhoffMigrate as migrate } from '../src';
 import { addDiffraction, addNoise, addRicker, argmaxAbs, makeLine, rng, trace } from './synth';
 
 const F = 400;

@@ -1,0 +1,404 @@
+// Shared pieces of the frequency-domain migrations (stolt.ts, phase-shift.ts): the padded 2D transform of a
+// line, the dip limit, the trace-slot rule and the bistatic-to-zero-offset time map.
+import type { RadarLine } from '@lamina/radar-data';
+import { fftOfSize, nextPow2 } from './fft';
+import { alongTrackM } from './line-util';
+import { keys } from './time-zero';
+
+/** An interval-velocity layer by depth (m, m/ns); the last layer extends to any depth. */
+export interface MigrationLayer {
+  topM: number;
+  velocityMPerNs: number;
+}
+
+/**
+ * Forward 2D transform of `nTraces` traces of `nSamples` (trace-major), zero-padded to `nx` traces and
+ * `nt` samples: real FFT in time (e^{-i omega t}, bins m = 0..nt/2), then complex FFT across traces.
+ * Result: `spec[2 * (ix * (nt/2 + 1) + m)]` (re, im), kx-major so that a row is one wavenumber.
+ * Only the bins [lo, hi] of `band(power, energyTolerance)` are transformed across traces; the others are
+ * zero (with `energyTolerance` 0, every bin with energy).
+ */
+export function fk2d(
+  data: ArrayLike<number>,
+  nTraces: number,
+  nSamples: number,
+  nx: number,
+  nt: number,
+  energyTolerance = 0,
+): { spec: Float64Array; lo: number; hi: number } {
+  const nw = nt / 2 + 1;
+  const spec = new Float64Array(2 * nx * nw);
+  const ft = fftOfSize(nt);
+  const real = new Float64Array(nt);
+  const cplx = new Float64Array(2 * nt);
+  const power = new Float64Array(nw);
+  for (let i = 0; i < nTraces; i++) {
+    real.fill(0);
+    for (let k = 0; k < nSamples; k++) real[k] = data[i * nSamples + k] as number;
+    ft.realTransform(cplx, real);
+    spec.set(cplx.subarray(0, 2 * nw), 2 * i * nw);
+    for (let m = 0; m < nw; m++) power[m] = (power[m] as number) + (cplx[2 * m] as number) ** 2 + (cplx[2 * m + 1] as number) ** 2;
+  }
+  const [lo, hi] = band(power, energyTolerance);
+  for (let i = 0; i < nTraces; i++) {
+    for (let m = 0; m < nw; m++) {
+      if (m >= lo && m <= hi) continue;
+      spec[2 * (i * nw + m)] = 0;
+      spec[2 * (i * nw + m) + 1] = 0;
+    }
+  }
+  acrossTraces(spec, nx, nw, false, lo, hi);
+  return { spec, lo, hi };
+}
+
+/**
+ * Smallest bin range [lo, hi] of a power spectrum whose two cut-off tails each hold at most tol / 2 of the
+ * energy ([0, -1] when there is none). A precision bound: dropping them changes a result by about
+ * sqrt(tol) of its RMS.
+ */
+export function band(power: ArrayLike<number>, tol: number): [number, number] {
+  let total = 0;
+  for (let m = 0; m < power.length; m++) total += power[m] as number;
+  if (!(total > 0)) return [0, -1];
+  let lo = 0;
+  let acc = 0;
+  while (lo < power.length - 1 && acc + (power[lo] as number) <= (tol / 2) * total) acc += power[lo++] as number;
+  let hi = power.length - 1;
+  acc = 0;
+  while (hi > lo && acc + (power[hi] as number) <= (tol / 2) * total) acc += power[hi--] as number;
+  return [lo, hi];
+}
+
+/** Inverse of `fk2d` (bins outside [lo, hi] taken as zero): the first `nTraces` x `nSamples` of the real line (trace-major) into `out`. */
+export function ifk2d(
+  spec: Float64Array,
+  nTraces: number,
+  nSamples: number,
+  nx: number,
+  nt: number,
+  out: Float32Array,
+  lo = 0,
+  hi = nt / 2,
+): Float32Array {
+  const nw = nt / 2 + 1;
+  acrossTraces(spec, nx, nw, true, lo, hi);
+  const ft = fftOfSize(nt);
+  const full = new Float64Array(2 * nt);
+  const back = new Float64Array(2 * nt);
+  const m0 = Math.max(0, lo);
+  const m1 = Math.min(hi, nw - 1);
+  // two real traces per complex inverse: ifft(A + iB) = a + ib for Hermitian A, B
+  for (let i = 0; i < nTraces; i += 2) {
+    const oa = 2 * i * nw;
+    const ob = i + 1 < nTraces ? 2 * (i + 1) * nw : -1;
+    full.fill(0);
+    for (let m = m0; m <= m1; m++) {
+      // the DC and Nyquist bins of a real trace are real
+      const edge = m === 0 || m === nw - 1;
+      const ar = spec[oa + 2 * m] as number;
+      const ai = edge ? 0 : (spec[oa + 2 * m + 1] as number);
+      const br = ob < 0 ? 0 : (spec[ob + 2 * m] as number);
+      const bi = ob < 0 || edge ? 0 : (spec[ob + 2 * m + 1] as number);
+      full[2 * m] = ar - bi;
+      full[2 * m + 1] = ai + br;
+      if (!edge) {
+        // bin nt - m: conj(A) + i conj(B)
+        full[2 * (nt - m)] = ar + bi;
+        full[2 * (nt - m) + 1] = -ai + br;
+      }
+    }
+    ft.inverseTransform(back, full);
+    for (let k = 0; k < nSamples; k++) out[i * nSamples + k] = back[2 * k] as number;
+    if (ob >= 0) for (let k = 0; k < nSamples; k++) out[(i + 1) * nSamples + k] = back[2 * k + 1] as number;
+  }
+  return out;
+}
+
+function acrossTraces(spec: Float64Array, nx: number, nw: number, inverse: boolean, lo = 0, hi = nw - 1): void {
+  const fx = fftOfSize(nx);
+  const B = 4; // columns per pass: neighbouring bins share cache lines
+  const cols = Array.from({ length: B }, () => new Float64Array(2 * nx));
+  const res = new Float64Array(2 * nx);
+  const m1 = Math.min(hi, nw - 1);
+  for (let m0 = Math.max(0, lo); m0 <= m1; m0 += B) {
+    const nb = Math.min(B, m1 - m0 + 1);
+    for (let i = 0; i < nx; i++) {
+      const o = 2 * (i * nw + m0);
+      for (let b = 0; b < nb; b++) {
+        const col = cols[b] as Float64Array;
+        col[2 * i] = spec[o + 2 * b] as number;
+        col[2 * i + 1] = spec[o + 2 * b + 1] as number;
+      }
+    }
+    for (let b = 0; b < nb; b++) {
+      const col = cols[b] as Float64Array;
+      if (inverse) fx.inverseTransform(res, col);
+      else fx.transform(res, col);
+      col.set(res);
+    }
+    for (let i = 0; i < nx; i++) {
+      const o = 2 * (i * nw + m0);
+      for (let b = 0; b < nb; b++) {
+        const col = cols[b] as Float64Array;
+        spec[o + 2 * b] = col[2 * i] as number;
+        spec[o + 2 * b + 1] = col[2 * i + 1] as number;
+      }
+    }
+  }
+}
+
+/** Horizontal wavenumber (rad/m) of row `ix` of an `nx`-point transform at spacing `dxM`. */
+export function kxOf(ix: number, nx: number, dxM: number): number {
+  return (2 * Math.PI * (ix < nx / 2 ? ix : ix - nx)) / (nx * dxM);
+}
+
+/** Multiplies every row of a spectrum by e^{i omega_m shiftNs} (a shift of the traces `shiftNs` earlier). */
+export function shiftSpectrum(spec: Float64Array, nx: number, nt: number, dtNs: number, shiftNs: number, lo = 0, hi = nt / 2): void {
+  const nw = nt / 2 + 1;
+  const m0 = Math.max(0, lo);
+  const m1 = Math.min(nw - 1, hi);
+  const dw = (2 * Math.PI) / (nt * dtNs);
+  const c = new Float64Array(nw);
+  const s = new Float64Array(nw);
+  for (let m = 0; m < nw; m++) {
+    c[m] = Math.cos(m * dw * shiftNs);
+    s[m] = Math.sin(m * dw * shiftNs);
+  }
+  for (let i = 0; i < nx; i++) {
+    for (let m = m0; m <= m1; m++) {
+      const o = 2 * (i * nw + m);
+      const re = spec[o] as number;
+      const im = spec[o + 1] as number;
+      spec[o] = re * (c[m] as number) - im * (s[m] as number);
+      spec[o + 1] = re * (s[m] as number) + im * (c[m] as number);
+    }
+  }
+}
+
+/**
+ * Dip limit as a weight of sin(theta) = v_e |kx| / omega (theta the propagation angle from the vertical):
+ * 1 up to theta1 = maxAngle (1 - taper), a cosine taper to 0 at maxAngle, 0 beyond. The f-k form of the
+ * Kirchhoff step's angle limit and aperture-edge taper.
+ */
+export function dipWeight(sinTheta: number, maxAngleDeg: number, taper: number): number {
+  if (!(sinTheta >= 0) || sinTheta >= 1) return sinTheta === 0 ? 1 : 0;
+  const thMax = (maxAngleDeg * Math.PI) / 180;
+  const th1 = thMax * (1 - taper);
+  if (sinTheta <= Math.sin(th1)) return 1;
+  if (sinTheta >= Math.sin(thMax)) return 0;
+  const th = Math.asin(sinTheta);
+  if (th <= th1) return 1;
+  if (th >= thMax) return 0;
+  return 0.5 * (1 + Math.cos((Math.PI * (th - th1)) / (thMax - th1)));
+}
+
+/** Regular trace slots of a line: mean spacing (least squares of along-track distance on trace index) and the largest deviation from it. */
+export interface TraceSlots {
+  /** Spacing of the regular grid the f-k methods assume, m. */
+  spacingM: number;
+  /** Largest |along-track distance - regular slot| over the traces, m. */
+  maxDeviationM: number;
+}
+
+export function traceSlots(line: RadarLine, metresPerUnit = 1): TraceSlots {
+  const s = alongTrackM(line, metresPerUnit);
+  const n = s.length;
+  if (n < 2) return { spacingM: 1, maxDeviationM: 0 };
+  let si = 0;
+  let ss = 0;
+  let sii = 0;
+  let sis = 0;
+  for (let i = 0; i < n; i++) {
+    const v = s[i] as number;
+    si += i;
+    ss += v;
+    sii += i * i;
+    sis += i * v;
+  }
+  const slope = (n * sis - si * ss) / (n * sii - si * si);
+  const icpt = (ss - slope * si) / n;
+  let dev = 0;
+  for (let i = 0; i < n; i++) dev = Math.max(dev, Math.abs((s[i] as number) - icpt - slope * i));
+  return { spacingM: slope > 0 ? slope : 1, maxDeviationM: dev };
+}
+
+/**
+ * Padded transform sizes: time to a power of two >= `timeFactor` x nSamples; distance to a power of two
+ * >= nTraces plus the widest lateral reach of the migration operator, z_max tan(maxAngle) (at most
+ * nTraces), so that what migration moves past one end does not wrap onto the other.
+ */
+export function paddedSizes(
+  nTraces: number,
+  nSamples: number,
+  dtNs: number,
+  dxM: number,
+  maxHalfVelocity: number,
+  maxAngleDeg: number,
+  timeFactor: number,
+): { nx: number; nt: number } {
+  const zMax = maxHalfVelocity * nSamples * dtNs;
+  const reach = zMax * Math.tan((Math.min(maxAngleDeg, 89) * Math.PI) / 180);
+  const pad = Math.min(nTraces, Math.ceil(reach / dxM));
+  return { nx: nextPow2(nTraces + pad), nt: nextPow2(Math.ceil(timeFactor * nSamples)) };
+}
+
+/**
+ * Bistatic two-way time (ns after time-zero) of the reflector whose zero-offset vertical two-way time is
+ * `tauNs`, through layered interval velocities: straight rays with the time-averaged velocity, as the
+ * slices' time-to-depth (t = tau sqrt(z^2 + h^2) / z). Exact at the apex of a point diffraction; away from
+ * it the bistatic and zero-offset hyperbolas differ by O(h^2 / r^2), which is why the f-k methods handle the
+ * antenna separation only approximately (Kirchhoff sums along the exact bistatic curve).
+ */
+export function bistaticTime(tauNs: number, layers: readonly MigrationLayer[], separationM: number): number {
+  const h = separationM / 2;
+  const v1 = (layers[0] as MigrationLayer).velocityMPerNs;
+  if (tauNs <= 0) return h > 0 ? (2 * h) / v1 : 0;
+  if (h === 0) return tauNs;
+  let z = 0;
+  let left = tauNs;
+  for (let i = 0; i < layers.length; i++) {
+    const l = layers[i] as MigrationLayer;
+    const next = layers[i + 1];
+    const thick = next ? next.topM - l.topM : Infinity;
+    const tThick = (2 * thick) / l.velocityMPerNs;
+    if (left <= tThick) {
+      z += (left * l.velocityMPerNs) / 2;
+      left = 0;
+      break;
+    }
+    z += thick;
+    left -= tThick;
+  }
+  return (tauNs * Math.hypot(z, h)) / z;
+}
+
+function cubicAt(x: ArrayLike<number>, u: number, from: number, to: number): number {
+  const i0 = Math.floor(u);
+  const f = u - i0;
+  if (f === 0) return i0 >= from && i0 < to ? (x[i0] as number) : 0;
+  let acc = 0;
+  for (let k = i0 - 1; k <= i0 + 2; k++) if (k >= from && k < to) acc += (x[k] as number) * keys(u - k);
+  return acc;
+}
+
+/**
+ * Trace-major line resampled from bistatic time to zero-offset vertical two-way time (`toZeroOffset`), or
+ * back. Sample k is at k dt - timeZeroNs on both axes; zero-offset samples at or before time-zero are zero,
+ * and bistatic samples before the ground wave (t <= s / v1) are left 0 on the way back (the caller passes
+ * the input through there). Keys cubic interpolation.
+ */
+export function bistaticResample(
+  data: ArrayLike<number>,
+  nTraces: number,
+  nSamples: number,
+  dtNs: number,
+  timeZeroNs: number,
+  layers: readonly MigrationLayer[],
+  separationM: number,
+  toZeroOffset: boolean,
+  out: Float64Array | Float32Array,
+): void {
+  // source sample position of every output sample, shared by all traces
+  const src = new Float64Array(nSamples).fill(-1);
+  const tMin = bistaticTime(0, layers, separationM);
+  for (let k = 0; k < nSamples; k++) {
+    const t = k * dtNs - timeZeroNs;
+    if (t <= 0) continue;
+    if (toZeroOffset) {
+      src[k] = (bistaticTime(t, layers, separationM) + timeZeroNs) / dtNs;
+    } else if (t > tMin) {
+      // bistatic time grows with tau and tau <= t: bisection
+      let lo = 0;
+      let hi = t;
+      for (let it = 0; it < 50; it++) {
+        const mid = 0.5 * (lo + hi);
+        if (bistaticTime(mid, layers, separationM) < t) lo = mid;
+        else hi = mid;
+      }
+      src[k] = (0.5 * (lo + hi) + timeZeroNs) / dtNs;
+    }
+  }
+  for (let i = 0; i < nTraces; i++) {
+    const o = i * nSamples;
+    for (let k = 0; k < nSamples; k++) {
+      const u = src[k] as number;
+      out[o + k] = u < 0 ? 0 : cubicAt(data, o + u, o, o + nSamples);
+    }
+  }
+}
+
+/** Layers sorted from the surface, checked (velocity > 0, the first at 0 m). */
+export function checkLayers(layers: readonly MigrationLayer[]): MigrationLayer[] {
+  if (layers.length === 0) throw new Error('migration: no velocity layer given');
+  const sorted = [...layers].sort((a, b) => a.topM - b.topM);
+  for (const l of sorted) {
+    if (!(l.velocityMPerNs > 0)) throw new Error(`migration: velocity must be > 0 m/ns, found ${l.velocityMPerNs}`);
+  }
+  return sorted.map((l, i) => ({ topM: i === 0 ? 0 : l.topM, velocityMPerNs: l.velocityMPerNs }));
+}
+
+/**
+ * Multiplies bins [lo, hi] of every row by the half-derivative (|omega|^{1/2} e^{-i pi/4}, `order` 0.5) or
+ * the half-integral (|omega|^{-1/2} e^{+i pi/4}, `order` -0.5), omega in rad/ns, zero at omega = 0: the
+ * filter `halfDerivative` (kirchhoff.ts) applies per trace, here on a spectrum. 2D migration of a
+ * diffraction made of the source wavelet at ray times (a 3D point seen along a line, and ray-based
+ * synthetics) focuses zero-phase after the half-integral; a reflector keeps its wavelet without it.
+ */
+export function halfOrderFilter(spec: Float64Array, nx: number, nt: number, dtNs: number, order: 0.5 | -0.5, lo = 0, hi = nt / 2): void {
+  const nw = nt / 2 + 1;
+  const dw = (2 * Math.PI) / (nt * dtNs);
+  const c = Math.SQRT1_2;
+  for (let m = Math.max(0, lo); m <= Math.min(nw - 1, hi); m++) {
+    const a = m === 0 ? 0 : Math.pow(m * dw, order) * c;
+    // e^{-i pi/4} for the derivative, e^{+i pi/4} for the integral
+    const si = order > 0 ? -a : a;
+    for (let i = 0; i < nx; i++) {
+      const o = 2 * (i * nw + m);
+      const re = spec[o] as number;
+      const im = spec[o + 1] as number;
+      spec[o] = a * re - si * im;
+      spec[o + 1] = si * re + a * im;
+    }
+  }
+}
+
+/**
+ * Period (ns) of the power-weighted mean frequency of a line (the mean power spectrum of at most 64 traces
+ * spread along it), or 0 when the line is silent.
+ */
+export function dominantPeriodNs(data: ArrayLike<number>, nTraces: number, nSamples: number, dtNs: number): number {
+  const n = nextPow2(nSamples);
+  const ft = fftOfSize(n);
+  const real = new Float64Array(n);
+  const cplx = new Float64Array(2 * n);
+  const step = Math.max(1, Math.floor(nTraces / 64));
+  let sp = 0;
+  let sfp = 0;
+  for (let i = 0; i < nTraces; i += step) {
+    real.fill(0);
+    for (let k = 0; k < nSamples; k++) real[k] = data[i * nSamples + k] as number;
+    ft.realTransform(cplx, real);
+    for (let m = 1; m <= n / 2; m++) {
+      const p = (cplx[2 * m] as number) ** 2 + (cplx[2 * m + 1] as number) ** 2;
+      sp += p;
+      sfp += p * (m / (n * dtNs));
+    }
+  }
+  return sp > 0 && sfp > 0 ? sp / sfp : 0;
+}
+
+/**
+ * Half-cosine taper over the last `lengthNs` of every trace, in place. The record ends where the signal
+ * does not: without it the cut is a step whose energy spreads over every frequency (and the f-k band,
+ * see `band`, is the whole spectrum) and migrates into smiles. One dominant period is common practice
+ * (no source).
+ */
+export function taperTraceEnds(data: Float64Array | Float32Array, nTraces: number, nSamples: number, dtNs: number, lengthNs: number): void {
+  const n = Math.min(nSamples, Math.round(lengthNs / dtNs));
+  if (n < 2) return;
+  for (let q = 0; q < n; q++) {
+    const w = 0.5 * (1 - Math.cos((Math.PI * q) / n)); // 0 at the last sample
+    const k = nSamples - 1 - q;
+    for (let i = 0; i < nTraces; i++) data[i * nSamples + k] = (data[i * nSamples + k] as number) * w;
+  }
+}
