@@ -12,9 +12,8 @@ export {
   constantModel,
   dixInterval,
 } from './physics';
-export { fitHyperbola, hyperbolaTime, apexDistance, type PointFit, type FitOptions } from './fit';
-export { envelopeTraces, dominantFrequencyMHz } from './envelope';
-export { detectHyperbolas, alongLine, pointAlong, removeBackground, envelopeLevel, type DetectOptions, type DetectedHyperbola } from './detect';
+export { fitHyperbola, linearisedFit, hyperbolaTime, apexDistance, type PointFit, type FitOptions } from './fit';
+export { detectHyperbolas, alongLine, pointAlong, envelopeLevel, type DetectOptions, type DetectedHyperbola } from './detect';
 export {
   ABOVE_GROUND_MAX_PERMITTIVITY,
   MAX_SOIL_PERMITTIVITY,

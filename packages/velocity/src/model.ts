@@ -15,8 +15,17 @@ export interface HyperbolaFit {
   t0Ns: number;
   velocityMPerNs: number;
   permittivity: number;
-  /** Apex depth, m (for an above-ground fit: the horizontal distance to the reflector, m). */
+  /** Depth of the target's top, m (for an above-ground fit: the horizontal distance to the reflector, m). */
   depthM: number;
+  /**
+   * Fitted radius of the target, m: 0 for a point, or when the picks do not resolve it
+   * (`radiusResolved` false; the fit is then the point fit). Absent in files written before radii were fitted.
+   */
+  radiusM?: number;
+  /** One standard deviation of the radius from the four-parameter fit, m (also when not resolved). */
+  radiusUncertaintyM?: number;
+  /** True when the fit resolved a radius > 0 (R above twice its standard deviation and a significant misfit reduction). */
+  radiusResolved?: boolean;
   /** One standard deviation of the velocity, m/ns. */
   uncertaintyMPerNs: number;
   origin: Origin;
