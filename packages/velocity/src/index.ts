@@ -18,6 +18,7 @@ export {
   ABOVE_GROUND_MAX_PERMITTIVITY,
   MAX_SOIL_PERMITTIVITY,
   classifyVelocity,
+  objectGroups,
   usableForSite,
   weightedMedian,
   robustCentre,

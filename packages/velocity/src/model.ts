@@ -1,7 +1,12 @@
 /** Speed of light in vacuum, m/ns. */
 export const C_M_PER_NS = 0.2998;
 
-export type Origin = 'subsurface' | 'above-ground';
+/**
+ * `subsurface`: a buried reflector; `above-ground`: an air-wave reflection (K below 2, common practice);
+ * `implausible`: a fit whose permittivity no soil has (K above `MAX_SOIL_PERMITTIVITY`): a misfit, not a
+ * measurement (crossing events, ringing, a flank picked on another event); listed, never used.
+ */
+export type Origin = 'subsurface' | 'above-ground' | 'implausible';
 
 /** One fitted diffraction hyperbola (an entry of velocity.json `hyperbolas[]`). */
 export interface HyperbolaFit {
@@ -74,6 +79,11 @@ export interface VelocityReport {
     permittivity: number;
     spreadMPerNs: number;
     fitCount: number;
+    /**
+     * Independent objects among the fits that count: fits of one object on neighbouring lines (apexes
+     * within 1.5 m, t0 and v within 10 %) are one sample of the soil, weighted as one.
+     */
+    objectCount?: number;
     moisture?: { volumetricWaterContent: number; method: string; caution: string };
     /** Why the site velocity is what it is when it does not come from fits (e.g. no usable fit). */
     note?: string;
