@@ -17,6 +17,8 @@ export interface Pass1Task {
   line: number;
   recipe: Recipe;
   stageDir: string;
+  /** Detect and fit hyperbolas on this line (false once the site has enough fits: `enoughFits`). @default true */
+  detect?: boolean;
 }
 export interface Pass1Result {
   summary: LineSummary;
@@ -81,11 +83,14 @@ export async function pass1(task: Pass1Task): Promise<Pass1Result> {
   const src = s.lines[task.line]!;
   const raw = await readLine(s, src);
   const { line, log } = runRecipe(raw, recipeForVelocity(task.recipe), context(s));
-  const fits = lineHyperbolas(line, {
-    separationM: s.antenna.separationM,
-    metresPerUnit: s.crs.metresPerUnit,
-    frequencyMHz: s.antenna.frequencyMHz,
-  });
+  const fits =
+    task.detect === false
+      ? []
+      : lineHyperbolas(line, {
+          separationM: s.antenna.separationM,
+          metresPerUnit: s.crs.metresPerUnit,
+          frequencyMHz: s.antenna.frequencyMHz,
+        });
   const radargramEntry = await writeRadargram(task.stageDir, line, (x, y) => pointToWgs84(s.crs, x, y));
   return {
     summary: summariseLine(line, src.relFile, s.crs.metresPerUnit),

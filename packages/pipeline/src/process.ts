@@ -3,7 +3,7 @@ import { join } from 'node:path';
 import { InputError, isInputError } from '@lamina/errors';
 import { stageFolder } from '@lamina/atomic';
 import { checkPlanNearSurvey, loadSite, pointToWgs84, shownPath, type Site } from '@lamina/site';
-import { buildVelocityReport, velocityJsonChunks, type VelocityReport } from '@lamina/velocity';
+import { buildVelocityReport, enoughFits, spreadOrder, velocityJsonChunks, type HyperbolaFit, type VelocityReport } from '@lamina/velocity';
 import { defaultWindows, PointSpill, type SliceWindow } from '@lamina/slices';
 import type { Recipe } from '@lamina/processing';
 import { exportTargets, matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
@@ -91,6 +91,43 @@ async function inOrder<T>(n: number, start: (i: number) => Promise<T>, onDone: (
 }
 
 /**
+ * Pass 1 over all lines in `spreadOrder`, `inFlight` at a time; lines started after `enoughFits` holds
+ * for the lines finished so far are processed without hyperbola detection (see @lamina/velocity's
+ * sampling.ts for the rule and what screening loses). Results in line order.
+ */
+async function pass1Sampled(
+  n: number,
+  inFlight: number,
+  start: (i: number, detect: boolean) => Promise<Pass1Result>,
+  metresPerUnit: number,
+  onDone: (done: number) => void,
+): Promise<Pass1Result[]> {
+  const order = spreadOrder(n);
+  const out: Pass1Result[] = new Array(n);
+  const fits: HyperbolaFit[] = [];
+  let fitted = 0;
+  let enough = false;
+  let next = 0;
+  let done = 0;
+  const worker = async (): Promise<void> => {
+    while (next < n) {
+      const i = order[next++]!;
+      const detect = !enough;
+      const r = await start(i, detect);
+      out[i] = r;
+      if (detect) {
+        fitted++;
+        fits.push(...r.fits);
+        enough = enough || enoughFits(fits, fitted, n, { metresPerUnit });
+      }
+      onDone(++done);
+    }
+  };
+  await Promise.all(Array.from({ length: Math.min(inFlight, n) }, worker));
+  return out;
+}
+
+/**
  * `lamina process`: lines -> processed -> velocity -> slices -> anomalies -> targets, written into a
  * staging folder beside `outDir` and renamed into place only when everything succeeded. Input files are
  * only read. An existing review.json in `outDir` is carried over and its decisions re-matched.
@@ -106,7 +143,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   try {
     const n = site.lines.length;
     progress('processing lines', 0, n);
-    const p1 = (await inOrder(n, (i) => exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path }), (d) => progress('processing lines', d, n))) as Pass1Result[];
+    const p1 = await pass1Sampled(n, Math.max(1, threads), (i, detect) => exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path, detect }) as Promise<Pass1Result>, site.crs.metresPerUnit, (d) => progress('processing lines', d, n));
 
     const toWgs84 = (x: number, y: number) => pointToWgs84(site.crs, x, y);
     const summaries = p1.map((r) => r.summary);

@@ -29,3 +29,4 @@ export { toHyperbolaFit, lineHyperbolas, buildVelocityReport, velocityJson, velo
 export { parsePicks, fitManualPicks, type PicksFile, type ManualHyperbola } from './picks';
 export { lineDirection, correctObliqueCrossings, type ObliqueOptions } from './oblique';
 export { recipeForVelocity } from './recipe';
+export { spreadOrder, enoughFits, type SamplingOptions } from './sampling';
