@@ -29,6 +29,11 @@ export interface PointFit {
   sigmaRadiusM: number;
   /** True when the four-parameter fit resolved R > 0; false when the point model is reported. */
   radiusResolved: boolean;
+  /**
+   * One standard deviation of v with the radius free (from the four-parameter fit): the velocity's
+   * uncertainty when the radius is not known. Equals `sigmaVelocity` for a resolved or a point-only fit.
+   */
+  sigmaVelocityRadiusFree: number;
   /** One standard deviation of v, x0 and t0 from the weighted Jacobian and residual variance. */
   sigmaVelocity: number;
   sigmaX0M: number;
@@ -219,7 +224,8 @@ export function fitHyperbola(offsetM: ArrayLike<number>, timeNs: ArrayLike<numbe
   // usual effective-sample-size correction) widens sigma(R) and shrinks F accordingly.
   const kappa = correlationInflation(x, t, best.w, best.p, s);
   if (radial.radiusM > 0 && Number.isFinite(radial.sigmaRadiusM) && radial.radiusM > k * radial.sigmaRadiusM * Math.sqrt(kappa) && f / kappa > F_99) return radial;
-  return { ...pointFit, sigmaRadiusM: radial.sigmaRadiusM };
+  const free = Number.isFinite(radial.sigmaVelocity) ? Math.max(radial.sigmaVelocity, pointFit.sigmaVelocity) : pointFit.sigmaVelocity;
+  return { ...pointFit, sigmaRadiusM: radial.sigmaRadiusM, sigmaVelocityRadiusFree: free };
 }
 
 /** (1 + rho) / (1 - rho), rho the lag-one autocorrelation of the weighted residuals in offset order (1 if rho <= 0). */
@@ -603,6 +609,7 @@ function summarise(x: Float64Array, t: Float64Array, w: Float64Array, p: Params,
     sigmaRadiusM: sr,
     radiusResolved: np === 4,
     sigmaVelocity: sv,
+    sigmaVelocityRadiusFree: sv,
     sigmaX0M: sx,
     sigmaT0Ns: st,
     rmsNs: sw > 0 ? Math.sqrt(swr / sw) : Number.NaN,

@@ -27,7 +27,8 @@ export function toHyperbolaFit(
     radiusM: fit.radiusM,
     radiusUncertaintyM: fit.sigmaRadiusM,
     radiusResolved: fit.radiusResolved,
-    uncertaintyMPerNs: fit.sigmaVelocity,
+    // With the radius unresolved the velocity is uncertain by the whole R-v trade-off.
+    uncertaintyMPerNs: fit.sigmaVelocityRadiusFree ?? fit.sigmaVelocity,
     origin,
     source,
     x0M: fit.x0M,
