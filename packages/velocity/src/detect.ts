@@ -58,9 +58,9 @@ export interface DetectOptions {
   /** Picks needed on each side of the apex. @default 3 */
   minPicksPerSide?: number;
   /**
-   * Share of the traces of each flank's aperture (beyond the apex zone, up to the aperture or the line's
-   * end) that must hold a retained pick: picks that follow the event, not a few lucky noise peaks.
-   * @default 0.5
+   * Share of the traces of the inner half of each flank (beyond the apex zone, half-way to the aperture,
+   * within the line) that must hold a retained pick: picks that follow the event, not a few lucky noise
+   * peaks. @default 0.5
    */
   minFlankCoverage?: number;
   /**
@@ -392,10 +392,19 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
     }
     if (n[0]! < minSide || n[1]! < minSide) return false;
     if (maxMoveout < periodNs / 2) return false;
-    // Coverage: traces of each flank between the apex zone and the aperture (or the line's end).
-    const lTraces = Math.max(1, Math.round((Math.min(ap, fit.x0M - along[0]!) - side) / spacing));
-    const rTraces = Math.max(1, Math.round((Math.min(ap, length - fit.x0M) - side) / spacing));
-    if (n[0]! / lTraces < minCover || n[1]! / rTraces < minCover) return false;
+    // Coverage of the inner half of each flank (from the apex zone to half-way to the aperture, within
+    // the line): amplitude falls with angle (spreading, beam pattern, shielding of air waves), so the
+    // outer flank of a weaker event may fade into the noise, but the inner flank must be followed.
+    const inner = side + (ap - side) / 2;
+    const nIn = [0, 0];
+    for (let i = 0; i < picks.off.length; i++) {
+      if (fit.weights[i]! <= 0) continue;
+      const d = picks.off[i]! - fit.x0M;
+      if (Math.abs(d) > side && Math.abs(d) <= inner) nIn[d < 0 ? 0 : 1]!++;
+    }
+    const lTraces = Math.max(1, Math.round((Math.min(inner, fit.x0M - along[0]!) - side) / spacing));
+    const rTraces = Math.max(1, Math.round((Math.min(inner, length - fit.x0M) - side) / spacing));
+    if (nIn[0]! / lTraces < minCover || nIn[1]! / rTraces < minCover) return false;
     for (let k = 0; k < 2; k++) if (!(Math.sqrt(swr[k]! / sw[k]!) <= maxRms)) return false;
     const ml = median(Float32Array.from(amps[0]));
     const mr = median(Float32Array.from(amps[1]));
