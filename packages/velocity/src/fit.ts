@@ -93,8 +93,8 @@ function specularPath(dx: number, zc: number, R: number, h: number, grad: Float6
       const pz = zc - R * cos;
       const ax = px + h;
       const bx = px - h;
-      const d1 = Math.hypot(ax, pz);
-      const d2 = Math.hypot(bx, pz);
+      const d1 = Math.sqrt(ax * ax + pz * pz);
+      const d2 = Math.sqrt(bx * bx + pz * pz);
       // P' = R (cos, sin), P'' = R (-sin, cos); u = (P - antenna) / d.
       const g1 = (ax * R * cos + pz * R * sin) / d1;
       const g2 = (bx * R * cos + pz * R * sin) / d2;
@@ -112,8 +112,8 @@ function specularPath(dx: number, zc: number, R: number, h: number, grad: Float6
   const pz = zc - R * cos;
   const ax = px + h;
   const bx = px - h;
-  const d1 = Math.max(Math.hypot(ax, pz), 1e-12);
-  const d2 = Math.max(Math.hypot(bx, pz), 1e-12);
+  const d1 = Math.max(Math.sqrt(ax * ax + pz * pz), 1e-12);
+  const d2 = Math.max(Math.sqrt(bx * bx + pz * pz), 1e-12);
   if (grad) {
     grad[0] = ax / d1 + bx / d2;
     grad[1] = pz / d1 + pz / d2;
@@ -351,10 +351,15 @@ function jacobian(xi: number, p: Params, s: number, zc: number, out: Float64Arra
   return tt;
 }
 
+// Scratch for normalEquations (one fit at a time per thread; its results are read before the next call).
+const scratchA = [new Float64Array(0), new Float64Array(0), new Float64Array(0), new Float64Array(9), new Float64Array(16)];
+const scratchG = [new Float64Array(0), new Float64Array(0), new Float64Array(0), new Float64Array(3), new Float64Array(4)];
+const scratchJ = new Float64Array(4);
+
 function normalEquations(x: Float64Array, t: Float64Array, w: Float64Array, p: Params, s: number, np: number) {
-  const A = new Float64Array(np * np);
-  const g = new Float64Array(np);
-  const j = new Float64Array(4);
+  const A = scratchA[np]!.fill(0);
+  const g = scratchG[np]!.fill(0);
+  const j = scratchJ;
   const zc = axisDepth(p, s);
   let cost = 0;
   for (let i = 0; i < x.length; i++) {
