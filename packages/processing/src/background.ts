@@ -60,9 +60,9 @@ export function backgroundRemoval(line: RadarLine, options: BackgroundOptions = 
 
 /**
  * Subtract the median trace of a window of `w` traces, computed at window centres every w/4 traces
- * and interpolated linearly between them (a median per sample at every trace would cost w times more),
- * over at most 48 traces spread evenly through the window (a median of 48 samples is within about
- * 0.18 standard deviations of the window's for Gaussian values: 1.2533 / sqrt(48)).
+ * and interpolated linearly between them (a median per sample at every trace would cost w times more).
+ * Every trace of the window counts: the background's own noise is subtracted from every trace, so a
+ * median of fewer traces adds noise that is coherent along the line.
  */
 function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: number, out: Float32Array): void {
   const win = Math.max(3, Math.min(w, nTraces));
@@ -70,7 +70,7 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
   const centres: number[] = [];
   for (let c = 0; c < nTraces; c += step) centres.push(c);
   if (centres[centres.length - 1] !== nTraces - 1) centres.push(nTraces - 1);
-  const every = Math.max(1, Math.ceil(win / 48));
+  const every = 1;
   const col = new Float32Array(win);
   const bg = centres.map((c) => {
     const a = Math.max(0, Math.min(nTraces - win, c - Math.floor(win / 2)));
