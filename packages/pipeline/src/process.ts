@@ -35,6 +35,12 @@ export interface ProcessOptions {
   now?: Date;
   /** Stop after this stage (for tests of interruption). */
   failAfter?: string;
+  /**
+   * Fit hyperbolas only until the site velocity is known well (`enoughFits` of @lamina/velocity, lines
+   * in `spreadOrder`); later lines carry no fits, so screening's hyperbola evidence covers fewer lines.
+   * @default false
+   */
+  sampleVelocityLines?: boolean;
 }
 
 export interface ProcessSummary {
@@ -91,18 +97,18 @@ async function inOrder<T>(n: number, start: (i: number) => Promise<T>, onDone: (
 }
 
 /**
- * Pass 1 over all lines in `spreadOrder`, `inFlight` at a time; lines started after `enoughFits` holds
- * for the lines finished so far are processed without hyperbola detection (see @lamina/velocity's
- * sampling.ts for the rule and what screening loses). Results in line order.
+ * Pass 1 over all lines, `inFlight` at a time. With `sampling`, lines go in `spreadOrder` and those
+ * started after `enoughFits` holds for the lines finished so far are processed without hyperbola
+ * detection (see @lamina/velocity's sampling.ts for the rule and what screening loses). Results in line order.
  */
 async function pass1Sampled(
   n: number,
   inFlight: number,
   start: (i: number, detect: boolean) => Promise<Pass1Result>,
-  metresPerUnit: number,
+  sampling: { metresPerUnit: number } | null,
   onDone: (done: number) => void,
 ): Promise<Pass1Result[]> {
-  const order = spreadOrder(n);
+  const order = sampling ? spreadOrder(n) : Array.from({ length: n }, (_, i) => i);
   const out: Pass1Result[] = new Array(n);
   const fits: HyperbolaFit[] = [];
   let fitted = 0;
@@ -118,7 +124,7 @@ async function pass1Sampled(
       if (detect) {
         fitted++;
         fits.push(...r.fits);
-        enough = enough || enoughFits(fits, fitted, n, { metresPerUnit });
+        enough = enough || (sampling !== null && enoughFits(fits, fitted, n, sampling));
       }
       onDone(++done);
     }
@@ -143,7 +149,13 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   try {
     const n = site.lines.length;
     progress('processing lines', 0, n);
-    const p1 = await pass1Sampled(n, Math.max(1, threads), (i, detect) => exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path, detect }) as Promise<Pass1Result>, site.crs.metresPerUnit, (d) => progress('processing lines', d, n));
+    const p1 = await pass1Sampled(
+      n,
+      Math.max(1, threads),
+      (i, detect) => exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path, detect }) as Promise<Pass1Result>,
+      options.sampleVelocityLines ? { metresPerUnit: site.crs.metresPerUnit } : null,
+      (d) => progress('processing lines', d, n),
+    );
 
     const toWgs84 = (x: number, y: number) => pointToWgs84(site.crs, x, y);
     const summaries = p1.map((r) => r.summary);
