@@ -3,9 +3,9 @@ import { objectGroups, robustCentre, usableForSite } from './site-model';
 
 /**
  * Which lines a large site needs fitted for its velocity model. Fitting every candidate on every line
- * of a large site buys nothing once the site velocity is known well: `lamina process` takes lines in
- * `spreadOrder` (so the first few already span the site) and stops detecting hyperbolas on new lines
- * once `enoughFits` holds. The lines after that are still processed, gridded and screened; they only
+ * of a large site buys nothing once the site velocity is known well: with `sampleVelocityLines` (off by
+ * default) `lamina process` takes lines in `spreadOrder` (so the first few already span the site) and
+ * stops detecting hyperbolas on new lines once `enoughFits` holds. The lines after that are still processed, gridded and screened; they only
  * carry no fits.
  *
  * What screening loses: its hyperbola evidence (`hyperbolaHits`: above-ground fits pointing at plan
