@@ -53,7 +53,7 @@ export interface HyperbolaFit {
    * `correctObliqueCrossings`): velocity and depth above are corrected by sin(angle); the apparent
    * values of the hyperbola are kept here.
    */
-  crossing?: { feature: string; angleDeg: number; apparentVelocityMPerNs: number; apparentDepthM: number; lines: number };
+  crossing?: { feature: string; angleDeg: number; apparentVelocityMPerNs: number; apparentDepthM: number; apparentRadiusM?: number; lines: number };
   /** Unit direction of the fit's line (first to last trace) in the site CRS; lets the report find oblique crossings. */
   lineDirection?: [number, number];
 }
