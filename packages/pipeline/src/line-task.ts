@@ -19,6 +19,8 @@ export interface Pass1Task {
   line: number;
   recipe: Recipe;
   stageDir: string;
+  /** Detect and fit hyperbolas on this line (false once the site has enough fits: `enoughFits`). @default true */
+  detect?: boolean;
 }
 export interface Pass1Result {
   summary: LineSummary;
@@ -97,11 +99,14 @@ export async function pass1(task: Pass1Task): Promise<Pass1Result> {
   const raw = await timed(times, 'pass 1 read line', () => readLine(s, src));
   const { line, log } = runRecipe(raw, recipeForVelocity(task.recipe), context(s), { onStep: stepTimes(times, 'pass 1') });
   const t0 = performance.now();
-  const fits = lineHyperbolas(line, {
-    separationM: s.antenna.separationM,
-    metresPerUnit: s.crs.metresPerUnit,
-    frequencyMHz: s.antenna.frequencyMHz,
-  });
+  const fits =
+    task.detect === false
+      ? []
+      : lineHyperbolas(line, {
+          separationM: s.antenna.separationM,
+          metresPerUnit: s.crs.metresPerUnit,
+          frequencyMHz: s.antenna.frequencyMHz,
+        });
   times['pass 1 hyperbolas'] = performance.now() - t0;
   const radargramEntry = await timed(times, 'pass 1 radargram', () => writeRadargram(task.stageDir, line, (x, y) => pointToWgs84(s.crs, x, y)));
   return {

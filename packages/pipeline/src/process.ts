@@ -3,7 +3,7 @@ import { join } from 'node:path';
 import { InputError, isInputError } from '@lamina/errors';
 import { lockFolder, stageFolder, type FolderLock } from '@lamina/atomic';
 import { checkPlanNearSurvey, loadSite, pointToWgs84, shownPath, type Site } from '@lamina/site';
-import { buildVelocityReport, velocityJsonChunks, type VelocityReport } from '@lamina/velocity';
+import { buildVelocityReport, enoughFits, spreadOrder, velocityJsonChunks, type HyperbolaFit, type VelocityReport } from '@lamina/velocity';
 import { defaultWindows, PointSpill, type SliceWindow } from '@lamina/slices';
 import type { Recipe } from '@lamina/processing';
 import { exportTargets, matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
@@ -43,6 +43,12 @@ export interface ProcessOptions {
   onWarning?: (message: string) => void;
   /** Stop after this stage (for tests of interruption). */
   failAfter?: string;
+  /**
+   * Fit hyperbolas only until the site velocity is known well (`enoughFits` of @lamina/velocity, lines
+   * in `spreadOrder`); later lines carry no fits, so screening's hyperbola evidence covers fewer lines.
+   * @default false
+   */
+  sampleVelocityLines?: boolean;
 }
 
 export interface ProcessSummary {
@@ -106,6 +112,54 @@ async function inOrder<T>(n: number, start: (i: number) => Promise<T>, onDone: (
 }
 
 /**
+ * Pass 1 over all lines, `inFlight` at a time. With `sampling`, lines go in `spreadOrder` and those
+ * started after `enoughFits` holds for the lines finished so far are processed without hyperbola
+ * detection (see @lamina/velocity's sampling.ts for the rule and what screening loses). Results in line order.
+ */
+async function pass1Sampled(
+  n: number,
+  inFlight: number,
+  start: (i: number, detect: boolean) => Promise<Pass1Result>,
+  sampling: { metresPerUnit: number } | null,
+  onDone: (done: number) => void,
+): Promise<Pass1Result[]> {
+  const order = sampling ? spreadOrder(n) : Array.from({ length: n }, (_, i) => i);
+  const out: Pass1Result[] = new Array(n);
+  const fits: HyperbolaFit[] = [];
+  let fitted = 0;
+  let enough = false;
+  let next = 0;
+  let done = 0;
+  let failed = false;
+  const worker = async (): Promise<void> => {
+    while (next < n && !failed) {
+      const i = order[next++]!;
+      const detect = !enough;
+      const r = await start(i, detect);
+      out[i] = r;
+      if (detect) {
+        fitted++;
+        fits.push(...r.fits);
+        enough = enough || (sampling !== null && enoughFits(fits, fitted, n, sampling));
+      }
+      onDone(++done);
+    }
+  };
+  // every task settles before an error goes up, so nothing writes into a stage being removed
+  const settled = await Promise.allSettled(
+    Array.from({ length: Math.min(inFlight, n) }, () =>
+      worker().catch((e: unknown) => {
+        failed = true;
+        throw e;
+      }),
+    ),
+  );
+  const err = settled.find((r): r is PromiseRejectedResult => r.status === 'rejected');
+  if (err) throw err.reason;
+  return out;
+}
+
+/**
  * `lamina process`: lines -> processed -> velocity -> slices -> anomalies -> targets, written into a
  * staging folder beside `outDir` and renamed into place only when everything succeeded. Input files are
  * only read. An existing review.json in `outDir` is carried over and its decisions re-matched.
@@ -135,7 +189,10 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     const n = site.lines.length;
     progress('processing lines', 0, n);
     const pass1Done = timer.start('pass 1: process lines, hyperbolas');
-    const p1 = (await inOrder(n, (i) => exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path }), (d) => progress('processing lines', d, n))) as Pass1Result[];
+    const run1 = (i: number, detect: boolean) => exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path, detect }) as Promise<Pass1Result>;
+    const p1 = options.sampleVelocityLines
+      ? await pass1Sampled(n, Math.max(1, threads), run1, { metresPerUnit: site.crs.metresPerUnit }, (d) => progress('processing lines', d, n))
+      : ((await inOrder(n, (i) => run1(i, true), (d) => progress('processing lines', d, n))) as Pass1Result[]);
     pass1Done();
     for (const r of p1) addParts(timer.lineMs, r.times);
 

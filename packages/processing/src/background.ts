@@ -2,8 +2,12 @@ import type { RadarLine } from '@lamina/radar-data';
 import { alongTrackM, outputFor, withData } from './line-util';
 
 export interface BackgroundOptions {
-  /** `mean`: subtract the whole-line mean trace; `movingMean`: the mean of the traces within `windowM`. @default 'mean' */
-  method?: 'mean' | 'movingMean';
+  /**
+   * `mean`: subtract the whole-line mean trace; `movingMean`: the mean of the traces within `windowM`;
+   * `movingMedian`: their median (sampled at window centres every quarter window, linear between), which
+   * leaves no ghost of a hyperbola in the other traces of the window. @default 'mean'
+   */
+  method?: 'mean' | 'movingMean' | 'movingMedian';
   /** Moving window length along the track, metres (traces within +-windowM/2). @default 10 */
   windowM?: number;
   /** Metres per CRS unit of `line.x/y`. @default 1 */
@@ -29,6 +33,11 @@ export function backgroundRemoval(line: RadarLine, options: BackgroundOptions = 
   const windowM = options.windowM ?? 10;
   if (!(windowM > 0)) throw new Error(`backgroundRemoval: windowM must be > 0, found ${windowM}`);
   const s = alongTrackM(line, options.metresPerUnit ?? 1);
+  if (method === 'movingMedian') {
+    const spacing = nt > 1 ? (s[nt - 1] as number) / (nt - 1) : 1;
+    movingMedian(src, nt, ns, spacing > 0 ? Math.round(windowM / spacing) : nt, dst);
+    return withData(line, dst);
+  }
   const half = windowM / 2;
   // Two pointers over the along-track distance keep a running sum of the traces inside the window.
   let lo = 0;
@@ -47,4 +56,73 @@ export function backgroundRemoval(line: RadarLine, options: BackgroundOptions = 
     for (let i = 0; i < ns; i++) dst[t * ns + i] = (src[t * ns + i] as number) - (sum[i] as number) * inv;
   }
   return withData(line, dst);
+}
+
+/**
+ * Subtract the median trace of a window of `w` traces, computed at window centres every w/4 traces
+ * and interpolated linearly between them (a median per sample at every trace would cost w times more).
+ * Every trace of the window counts: the background's own noise is subtracted from every trace, so a
+ * median of fewer traces adds noise that is coherent along the line.
+ */
+function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: number, out: Float32Array): void {
+  const win = Math.max(3, Math.min(w, nTraces));
+  const step = Math.max(1, Math.floor(win / 4));
+  const centres: number[] = [];
+  for (let c = 0; c < nTraces; c += step) centres.push(c);
+  if (centres[centres.length - 1] !== nTraces - 1) centres.push(nTraces - 1);
+  const every = 1;
+  const col = new Float32Array(win);
+  const bg = centres.map((c) => {
+    const a = Math.max(0, Math.min(nTraces - win, c - Math.floor(win / 2)));
+    const b = Math.min(nTraces, a + win);
+    const trace = new Float32Array(nSamples);
+    for (let s = 0; s < nSamples; s++) {
+      let m = 0;
+      for (let t = a; t < b; t += every) col[m++] = data[t * nSamples + s] as number;
+      trace[s] = medianInPlace(col.subarray(0, m));
+    }
+    return trace;
+  });
+  let k = 0;
+  for (let t = 0; t < nTraces; t++) {
+    while (k < centres.length - 2 && (centres[k + 1] as number) <= t) k++;
+    const c0 = centres[k] as number;
+    const c1 = centres[Math.min(k + 1, centres.length - 1)] as number;
+    const f = c1 > c0 ? (t - c0) / (c1 - c0) : 0;
+    const b0 = bg[k] as Float32Array;
+    const b1 = bg[Math.min(k + 1, centres.length - 1)] as Float32Array;
+    for (let s = 0; s < nSamples; s++) out[t * nSamples + s] = (data[t * nSamples + s] as number) - ((b0[s] as number) + f * ((b1[s] as number) - (b0[s] as number)));
+  }
+}
+
+/** Median of `a` (reordered in place) by quickselect; mean of the two middle values for even length. */
+function medianInPlace(a: Float32Array): number {
+  const n = a.length;
+  const k = n >> 1;
+  let l = 0;
+  let r = n - 1;
+  while (l < r) {
+    const x = a[(l + r) >> 1] as number;
+    let i = l;
+    let j = r;
+    while (i <= j) {
+      while ((a[i] as number) < x) i++;
+      while ((a[j] as number) > x) j--;
+      if (i <= j) {
+        const tmp = a[i] as number;
+        a[i] = a[j] as number;
+        a[j] = tmp;
+        i++;
+        j--;
+      }
+    }
+    if (k <= j) r = j;
+    else if (k >= i) l = i;
+    else break;
+  }
+  const hi = a[k] as number;
+  if (n % 2) return hi;
+  let lo = -Infinity;
+  for (let i = 0; i < k; i++) if ((a[i] as number) > lo) lo = a[i] as number;
+  return 0.5 * (lo + hi);
 }

@@ -1,4 +1,5 @@
 export { nextPow2 } from './fft';
+export { spectralCentroidMHz } from './spectrum';
 export { alongTrackM, medianOf, periodNs, withData } from './line-util';
 export {
   type HilbertWorkspace,

@@ -1,18 +1,27 @@
+import { alongTrackM, backgroundRemoval, envelope, spectralCentroidMHz } from '@lamina/processing';
 import type { RadarLine } from '@lamina/radar-data';
-import { dominantFrequencyMHz, envelopeTraces } from './envelope';
-import { apexDistance, fitHyperbola, hyperbolaTime, type PointFit } from './fit';
+import { apexDistance, fitHyperbola, hyperbolaTime, linearisedFit, type PointFit } from './fit';
 
 /**
  * Automatic diffraction-hyperbola detection on one processed line:
- * 1. background removal (moving median trace) so flat reflections and the direct wave do not dominate;
- * 2. Hilbert envelope, divided by its median across traces at each time (a time-varying noise level);
- * 3. apex candidates: local maxima of that normalised envelope above `candidateThreshold`;
+ * 1. background removal (`backgroundRemoval` of @lamina/processing, a moving median over
+ *    `backgroundWindowM`) so flat reflections and the direct wave do not dominate;
+ * 2. Hilbert envelope (`envelope` of @lamina/processing), divided by its median across traces at each
+ *    time (a time-varying noise level);
+ * 3. apex candidates (the cheap pre-scan): local maxima of that normalised envelope above
+ *    `candidateThreshold`, strongest first, skipping those on an already accepted curve;
  * 4. per candidate, a scan over velocity (geometric grid from `minVelocityMPerNs` to beyond c) and
  *    apex position scoring the predicted bistatic curve within `apertureAngleDeg` of vertical by the
- *    smaller of its two flanks' medians of the normalised envelope;
- * 5. flank picks (envelope peak within half a period of the predicted curve, trace by trace), a robust
- *    fit (see `fitHyperbola`), re-picking around the fitted curve and a second fit;
- * 6. acceptance: enough picks on both flanks, small residuals, bounded uncertainty.
+ *    smaller of its two flanks' medians of the normalised envelope; hopeless candidates (no curve
+ *    scoring above half the pick threshold on both flanks) stop here;
+ * 5. flank picks (envelope peak within half a period of the predicted curve, trace by trace), the
+ *    linearised fit t^2 = a + b x + c x^2 of those picks as a check of the scan's start, a point fit
+ *    polished by LM (see `fitHyperbola`), re-picking around it; candidates whose picks miss a flank or
+ *    whose residuals are far beyond the limit stop here; then two rounds of re-picking and the fit with
+ *    the target's radius;
+ * 6. acceptance: the picks follow the event on both flanks (enough picks, coverage of each flank's
+ *    aperture, each flank's own residual, comparable flank amplitudes), small residuals, bounded
+ *    uncertainty.
  */
 export interface DetectOptions {
   /** Transmitter-receiver separation, m. @default 0 */
@@ -31,7 +40,10 @@ export interface DetectOptions {
   apertureAngleDeg?: number;
   /** Upper bound of the half-aperture, m. @default 4 */
   maxApertureM?: number;
-  /** Moving-median background window, m (0: none, Infinity: the whole line). @default 10 */
+  /**
+   * Moving-median background window, m (0: none, Infinity: the whole line's mean trace). A median, unlike
+   * a mean, leaves no ghost of a hyperbola in the other traces of the window. @default 10
+   */
   backgroundWindowM?: number;
   /** Apex candidates need a normalised envelope above this. @default 5 */
   candidateThreshold?: number;
@@ -45,10 +57,23 @@ export interface DetectOptions {
   minPicks?: number;
   /** Picks needed on each side of the apex. @default 3 */
   minPicksPerSide?: number;
-  /** Largest accepted weighted RMS residual, in periods of the centre frequency. @default 0.12 */
+  /**
+   * Share of the traces of the inner half of each flank (beyond the apex zone, half-way to the aperture,
+   * within the line) that must hold a retained pick: picks that follow the event, not a few lucky noise
+   * peaks. @default 0.5
+   */
+  minFlankCoverage?: number;
+  /**
+   * Smallest ratio of the weaker flank's median pick amplitude to the stronger's (a diffraction is
+   * near symmetric; a much stronger flank is another event crossing it). @default 0.25
+   */
+  minFlankBalance?: number;
+  /** Largest accepted weighted RMS residual, overall and on each flank, in periods of the centre frequency. @default 0.12 */
   maxRmsPeriods?: number;
   /** Largest accepted sigma(v) / v. @default 0.1 */
   maxRelativeUncertainty?: number;
+  /** Fit the target radius in the final fit (`fitHyperbola`'s `radius`). @default 'fit' */
+  radius?: 'fit' | 'point';
 }
 
 export interface DetectedHyperbola extends PointFit {
@@ -64,13 +89,9 @@ export interface DetectedHyperbola extends PointFit {
   score: number;
 }
 
-/** Distance along the line from trace 0, m. */
+/** Distance along the line from trace 0, m (`alongTrackM` of @lamina/processing). */
 export function alongLine(line: RadarLine, metresPerUnit = 1): Float64Array {
-  const d = new Float64Array(line.nTraces);
-  for (let i = 1; i < line.nTraces; i++) {
-    d[i] = d[i - 1]! + Math.hypot(line.x[i]! - line.x[i - 1]!, line.y[i]! - line.y[i - 1]!) * metresPerUnit;
-  }
-  return d;
+  return alongTrackM(line, metresPerUnit);
 }
 
 /** Position (site CRS) and nearest trace at distance `offsetM` along the line (linear between traces, extrapolated at the ends). */
@@ -128,53 +149,19 @@ function select(a: Float32Array, k: number): number {
 }
 
 /**
- * Subtract a background trace: the median over a window of `w` traces, computed at window centres
- * every w/4 traces and interpolated linearly between them. A median, unlike a mean, leaves no negative
- * ghost of a hyperbola in every trace of the window.
- */
-export function removeBackground(data: Float32Array, nTraces: number, nSamples: number, w: number, out?: Float32Array): Float32Array {
-  const res = out ?? new Float32Array(data.length);
-  const win = Math.max(3, Math.min(w, nTraces));
-  const step = Math.max(1, Math.floor(win / 4));
-  const centres: number[] = [];
-  for (let c = 0; c < nTraces; c += step) centres.push(c);
-  if (centres[centres.length - 1] !== nTraces - 1) centres.push(nTraces - 1);
-  const bg = centres.map((c) => {
-    const a = Math.max(0, Math.min(nTraces - win, c - Math.floor(win / 2)));
-    const b = Math.min(nTraces, a + win);
-    const col = new Float32Array(b - a);
-    const trace = new Float32Array(nSamples);
-    for (let s = 0; s < nSamples; s++) {
-      for (let t = a; t < b; t++) col[t - a] = data[t * nSamples + s]!;
-      trace[s] = median(col);
-    }
-    return trace;
-  });
-  let k = 0;
-  for (let t = 0; t < nTraces; t++) {
-    while (k < centres.length - 2 && centres[k + 1]! <= t) k++;
-    const c0 = centres[k]!;
-    const c1 = centres[Math.min(k + 1, centres.length - 1)]!;
-    const f = c1 > c0 ? (t - c0) / (c1 - c0) : 0;
-    const b0 = bg[k]!;
-    const b1 = bg[Math.min(k + 1, centres.length - 1)]!;
-    for (let s = 0; s < nSamples; s++) res[t * nSamples + s] = data[t * nSamples + s]! - (b0[s]! + f * (b1[s]! - b0[s]!));
-  }
-  return res;
-}
-
-/**
  * Noise level per sample: the median of the envelope across traces, smoothed over `smooth` samples
  * either side, and never below `floorFraction` of the envelope's maximum (noise-free data would
  * otherwise divide by zero).
  */
 export function envelopeLevel(env: Float32Array, nTraces: number, nSamples: number, smooth: number, floorFraction = 1e-3): Float64Array {
   const level = new Float64Array(nSamples);
-  const col = new Float32Array(nTraces);
+  // At most 128 traces spread over the line: a median of 128 is within 0.11 standard deviations of the line's.
+  const every = Math.max(1, Math.ceil(nTraces / 128));
+  const col = new Float32Array(Math.ceil(nTraces / every));
   let max = 0;
   for (let i = 0; i < env.length; i++) if (env[i]! > max) max = env[i]!;
   for (let s = 0; s < nSamples; s++) {
-    for (let t = 0; t < nTraces; t++) col[t] = env[t * nSamples + s]!;
+    for (let t = 0, m = 0; t < nTraces; t += every) col[m++] = env[t * nSamples + s]!;
     level[s] = median(col);
   }
   const out = new Float64Array(nSamples);
@@ -207,24 +194,37 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   const maxCand = options.maxCandidates ?? 400;
   const minPicks = options.minPicks ?? 8;
   const minSide = options.minPicksPerSide ?? 3;
+  const minCover = options.minFlankCoverage ?? 0.5;
+  const minBalance = options.minFlankBalance ?? 0.25;
   const maxRmsP = options.maxRmsPeriods ?? 0.12;
   const maxRel = options.maxRelativeUncertainty ?? 0.1;
+  const radiusMode = options.radius ?? 'fit';
 
   const along = alongLine(line, mpu);
   const length = along[nTraces - 1]!;
   if (!(length > 0)) return [];
   const spacing = length / (nTraces - 1);
-  const fMHz = options.frequencyMHz ?? dominantFrequencyMHz(line.data, nTraces, nSamples, dtNs);
+  const fMHz = options.frequencyMHz ?? spectralCentroidMHz(line.data, nTraces, nSamples, dtNs);
   const periodNs = Number.isFinite(fMHz) && fMHz > 0 ? 1000 / fMHz : 10 * dtNs;
   const halfPeriodS = Math.max(1, Math.round(periodNs / 2 / dtNs));
+  const maxRms = maxRmsP * periodNs;
 
-  const w = bgM <= 0 ? 0 : Math.round(bgM / spacing);
-  const clean = w > 0 ? removeBackground(line.data, nTraces, nSamples, Math.max(w, 3)) : line.data;
-  const E = envelopeTraces(clean, nTraces, nSamples);
+  const clean =
+    bgM <= 0
+      ? line
+      : Number.isFinite(bgM)
+        ? backgroundRemoval(line, { method: 'movingMedian', windowM: Math.max(bgM, 3 * spacing), metresPerUnit: mpu })
+        : backgroundRemoval(line, { method: 'mean' });
+  // The background-removed copy is ours: its envelope may overwrite it.
+  const E = envelope(clean, {}, clean === line ? undefined : clean.data).data;
   const level = envelopeLevel(E, nTraces, nSamples, halfPeriodS, options.levelFloor ?? 3e-3);
   // Normalised envelope: thresholds and scores. Pick times come from E itself, whose peak is not shifted by the level.
   const N = new Float32Array(E.length);
-  for (let t = 0; t < nTraces; t++) for (let s = 0; s < nSamples; s++) N[t * nSamples + s] = E[t * nSamples + s]! / level[s]!;
+  const inv = Float32Array.from(level, (l) => 1 / l);
+  for (let t = 0; t < nTraces; t++) {
+    const o = t * nSamples;
+    for (let s = 0; s < nSamples; s++) N[o + s] = E[o + s]! * inv[s]!;
+  }
   const at = (t: number, sf: number): number => {
     if (sf < 0 || sf > nSamples - 1) return 0;
     const s0 = Math.floor(sf);
@@ -298,13 +298,18 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
     return Math.min(median(left.subarray(0, nl)), median(right.subarray(0, nr)));
   };
 
-  const pick = (x0: number, z: number, v: number, ap: number, windowNs: number) => {
+  interface Picks {
+    off: number[];
+    tim: number[];
+    /** Normalised envelope at each pick. */
+    amp: number[];
+  }
+  const pick = (x0: number, z: number, v: number, R: number, ap: number, windowNs: number): Picks => {
     const [a, b] = traceRange(x0, ap);
-    const off: number[] = [];
-    const tim: number[] = [];
+    const out: Picks = { off: [], tim: [], amp: [] };
     const win = Math.max(1, Math.round(windowNs / dtNs));
     for (let j = a; j <= b; j++) {
-      const sc = Math.round(sampleOf(hyperbolaTime(along[j]!, x0, z, v, sep)));
+      const sc = Math.round(sampleOf(hyperbolaTime(along[j]!, x0, z, v, sep, R)));
       let best = -1;
       let bestV = 0;
       for (let s = Math.max(1, sc - win); s <= Math.min(nSamples - 1 - halfPeriodS, sc + win); s++) {
@@ -321,10 +326,29 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
       const y2 = E[j * nSamples + best + 1]!;
       const den = y0 - 2 * y1 + y2;
       const frac = den < 0 ? (0.5 * (y0 - y2)) / den : 0;
-      off.push(along[j]!);
-      tim.push((best + Math.max(-0.5, Math.min(0.5, frac))) * dtNs - timeZeroNs);
+      out.off.push(along[j]!);
+      out.tim.push((best + Math.max(-0.5, Math.min(0.5, frac))) * dtNs - timeZeroNs);
+      out.amp.push(N[j * nSamples + best]!);
     }
-    return { off, tim };
+    return out;
+  };
+
+  /** Picks on each flank beyond the apex zone (0.3 z or two traces), for the early and final checks. */
+  const flankCounts = (off: number[], x0: number, z: number): [number, number] => {
+    const side = Math.max(2 * spacing, 0.3 * z);
+    let l = 0;
+    let r = 0;
+    for (const o of off) {
+      if (o - x0 < -side) l++;
+      else if (o - x0 > side) r++;
+    }
+    return [l, r];
+  };
+
+  const misfit = new Float32Array(nTraces);
+  const medianMisfit = (p: Picks, x0: number, z: number, v: number): number => {
+    for (let i = 0; i < p.off.length; i++) misfit[i] = Math.abs(p.tim[i]! - hyperbolaTime(p.off[i]!, x0, z, v, sep));
+    return median(misfit.subarray(0, p.off.length));
   };
 
   const accepted: DetectedHyperbola[] = [];
@@ -332,44 +356,96 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
     const x = along[tr]!;
     const tNs = s * dtNs - timeZeroNs;
     for (const h of accepted) {
-      if (Math.abs(hyperbolaTime(x, h.x0M, h.zM, h.velocityMPerNs, sep) - tNs) < periodNs) return true;
+      if (Math.abs(hyperbolaTime(x, h.x0M, h.zM, h.velocityMPerNs, sep, h.radiusM) - tNs) < periodNs) return true;
     }
     return false;
   };
 
-  /** Picks, fit and acceptance from one start; the accepted fit or null. */
-  const tryStart = (start: { x0M: number; t0Ns: number; velocityMPerNs: number }): DetectedHyperbola | null => {
-    let fit: PointFit | null = null;
-    let picks = { off: [] as number[], tim: [] as number[] };
-    let guess = start;
-    for (let pass = 0; pass < 3; pass++) {
-      const z = apexDistance(guess.t0Ns, guess.velocityMPerNs, sep);
-      picks = pick(guess.x0M, z, guess.velocityMPerNs, apertureOf(z), pass === 0 ? periodNs / 2 : periodNs / 3);
-      if (picks.off.length < minPicks) return null;
-      fit = fitHyperbola(picks.off, picks.tim, { separationM: sep, initial: guess });
-      if (!fit) return null;
-      guess = { x0M: fit.x0M, t0Ns: fit.t0Ns, velocityMPerNs: fit.velocityMPerNs };
-    }
-    if (!fit) return null;
-    let left = 0;
-    let right = 0;
-    let maxMoveout = 0;
-    // Flank picks count beyond 0.3 z (or two traces) from the apex, so a one-sided fit is not accepted.
+  /**
+   * Final test of a fit to its picks: both flanks followed (counts, coverage of each flank's aperture,
+   * each flank's residual, amplitude balance), residual, uncertainty, move-out and position.
+   */
+  const acceptable = (fit: PointFit, picks: Picks): boolean => {
+    if (fit.inliers < minPicks) return false;
+    if (!(fit.rmsNs <= maxRms)) return false;
+    if (!(fit.sigmaVelocity <= maxRel * fit.velocityMPerNs)) return false;
+    if (fit.velocityMPerNs < vMin * 0.9 || fit.velocityMPerNs > vMax * 1.1) return false;
+    if (fit.x0M < along[0]! - spacing || fit.x0M > length + spacing) return false;
+    if (fit.t0Ns <= 0) return false;
     const side = Math.max(2 * spacing, 0.3 * fit.zM);
+    const ap = apertureOf(fit.zM);
+    const n = [0, 0];
+    const swr = [0, 0];
+    const sw = [0, 0];
+    const amps: [number[], number[]] = [[], []];
+    let maxMoveout = 0;
+    for (let i = 0; i < picks.off.length; i++) {
+      const w = fit.weights[i]!;
+      if (w <= 0) continue;
+      const d = picks.off[i]! - fit.x0M;
+      maxMoveout = Math.max(maxMoveout, picks.tim[i]! - fit.t0Ns);
+      if (Math.abs(d) <= side) continue;
+      const k = d < 0 ? 0 : 1;
+      const r = picks.tim[i]! - hyperbolaTime(picks.off[i]!, fit.x0M, fit.zM, fit.velocityMPerNs, sep, fit.radiusM);
+      n[k]!++;
+      swr[k]! += w * r * r;
+      sw[k]! += w;
+      amps[k].push(picks.amp[i]!);
+    }
+    if (n[0]! < minSide || n[1]! < minSide) return false;
+    if (maxMoveout < periodNs / 2) return false;
+    // Coverage of the inner half of each flank (from the apex zone to half-way to the aperture, within
+    // the line): amplitude falls with angle (spreading, beam pattern, shielding of air waves), so the
+    // outer flank of a weaker event may fade into the noise, but the inner flank must be followed.
+    const inner = side + (ap - side) / 2;
+    const nIn = [0, 0];
     for (let i = 0; i < picks.off.length; i++) {
       if (fit.weights[i]! <= 0) continue;
       const d = picks.off[i]! - fit.x0M;
-      if (d < -side) left++;
-      else if (d > side) right++;
-      maxMoveout = Math.max(maxMoveout, picks.tim[i]! - fit.t0Ns);
+      if (Math.abs(d) > side && Math.abs(d) <= inner) nIn[d < 0 ? 0 : 1]!++;
     }
-    if (fit.inliers < minPicks || left < minSide || right < minSide) return null;
-    if (!(fit.rmsNs <= maxRmsP * periodNs)) return null;
-    if (!(fit.sigmaVelocity <= maxRel * fit.velocityMPerNs)) return null;
-    if (maxMoveout < periodNs / 2) return null;
-    if (fit.velocityMPerNs < vMin * 0.9 || fit.velocityMPerNs > vMax * 1.1) return null;
-    if (fit.x0M < along[0]! - spacing || fit.x0M > length + spacing) return null;
-    if (fit.t0Ns <= 0) return null;
+    const lTraces = Math.max(1, Math.round((Math.min(inner, fit.x0M - along[0]!) - side) / spacing));
+    const rTraces = Math.max(1, Math.round((Math.min(inner, length - fit.x0M) - side) / spacing));
+    if (nIn[0]! / lTraces < minCover || nIn[1]! / rTraces < minCover) return false;
+    for (let k = 0; k < 2; k++) if (!(Math.sqrt(swr[k]! / sw[k]!) <= maxRms)) return false;
+    const ml = median(Float32Array.from(amps[0]));
+    const mr = median(Float32Array.from(amps[1]));
+    if (Math.min(ml, mr) < minBalance * Math.max(ml, mr)) return false;
+    return true;
+  };
+
+  /** Picks, fits and acceptance from one start; the accepted fit or null. */
+  const tryStart = (start: { x0M: number; t0Ns: number; velocityMPerNs: number }): DetectedHyperbola | null => {
+    let guess = { ...start, radiusM: 0 };
+    let fit: PointFit | null = null;
+    let picks: Picks = { off: [], tim: [], amp: [] };
+    for (let pass = 0; pass < 4; pass++) {
+      const z = apexDistance(guess.t0Ns, guess.velocityMPerNs, sep);
+      picks = pick(guess.x0M, z, guess.velocityMPerNs, guess.radiusM, apertureOf(z), pass === 0 ? periodNs / 2 : periodNs / 3);
+      if (picks.off.length < minPicks) return null;
+      // Early rejection: a candidate whose picks leave a flank empty never passes the final test.
+      const [l, r] = flankCounts(picks.off, guess.x0M, z);
+      if (l < minSide || r < minSide) return null;
+      if (pass === 0) {
+        // The linearised fit of the picks (closed form) replaces the scan's start when it explains the
+        // picks better (median absolute residual): LM then only polishes.
+        const lin = linearisedFit(picks.off, picks.tim);
+        if (lin && lin.velocityMPerNs > vMin && lin.velocityMPerNs < vMax && Math.abs(lin.x0M - guess.x0M) < apertureOf(z)) {
+          const zl = apexDistance(lin.t0Ns, lin.velocityMPerNs, sep);
+          if (medianMisfit(picks, lin.x0M, zl, lin.velocityMPerNs) < medianMisfit(picks, guess.x0M, z, guess.velocityMPerNs)) guess = { ...lin, radiusM: 0 };
+        }
+      }
+      // Points first (cheap, and the start for R); the radius only in the last round.
+      const withRadius = pass === 3 && radiusMode === 'fit';
+      // A pick's time error scales as 1 / SNR (the normalised envelope): weights SNR^2.
+      fit = fitHyperbola(picks.off, picks.tim, { separationM: sep, initial: guess, radius: withRadius ? 'fit' : 'point', pickWeights: picks.amp.map((a) => a * a) });
+      if (!fit) return null;
+      // Hopeless: residuals far beyond the limit after the first re-pick do not come down by re-picking.
+      if (pass >= 1 && !(fit.rmsNs <= 2 * maxRms && fit.sigmaVelocity <= 2 * maxRel * fit.velocityMPerNs)) return null;
+      guess = { x0M: fit.x0M, t0Ns: fit.t0Ns, velocityMPerNs: fit.velocityMPerNs, radiusM: fit.radiusM };
+      if (pass === 2 && radiusMode === 'point') break;
+    }
+    if (!fit || !acceptable(fit, picks)) return null;
     const p = pointAlong(line, along, fit.x0M);
     return {
       ...fit,
@@ -378,7 +454,7 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
       y: p.y,
       offsetM: Float64Array.from(picks.off),
       timeNs: Float64Array.from(picks.tim),
-      score: curveScore(fit.x0M, fit.zM, fit.velocityMPerNs, apertureOf(fit.zM)),
+      score: curveScore(fit.x0M, fit.zM + fit.radiusM, fit.velocityMPerNs, apertureOf(fit.zM)),
     };
   };
 

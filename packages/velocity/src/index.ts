@@ -12,13 +12,13 @@ export {
   constantModel,
   dixInterval,
 } from './physics';
-export { fitHyperbola, hyperbolaTime, apexDistance, type PointFit, type FitOptions } from './fit';
-export { envelopeTraces, dominantFrequencyMHz } from './envelope';
-export { detectHyperbolas, alongLine, pointAlong, removeBackground, envelopeLevel, type DetectOptions, type DetectedHyperbola } from './detect';
+export { fitHyperbola, linearisedFit, hyperbolaTime, apexDistance, type PointFit, type FitOptions } from './fit';
+export { detectHyperbolas, alongLine, pointAlong, envelopeLevel, type DetectOptions, type DetectedHyperbola } from './detect';
 export {
   ABOVE_GROUND_MAX_PERMITTIVITY,
   MAX_SOIL_PERMITTIVITY,
   classifyVelocity,
+  objectGroups,
   usableForSite,
   weightedMedian,
   robustCentre,
@@ -29,3 +29,4 @@ export { toHyperbolaFit, lineHyperbolas, buildVelocityReport, velocityJson, velo
 export { parsePicks, fitManualPicks, type PicksFile, type ManualHyperbola } from './picks';
 export { lineDirection, correctObliqueCrossings, type ObliqueOptions } from './oblique';
 export { recipeForVelocity } from './recipe';
+export { spreadOrder, enoughFits, type SamplingOptions } from './sampling';

@@ -1,7 +1,12 @@
 /** Speed of light in vacuum, m/ns. */
 export const C_M_PER_NS = 0.2998;
 
-export type Origin = 'subsurface' | 'above-ground';
+/**
+ * `subsurface`: a buried reflector; `above-ground`: an air-wave reflection (K below 2, common practice);
+ * `implausible`: a fit whose permittivity no soil has (K above `MAX_SOIL_PERMITTIVITY`): a misfit, not a
+ * measurement (crossing events, ringing, a flank picked on another event); listed, never used.
+ */
+export type Origin = 'subsurface' | 'above-ground' | 'implausible';
 
 /** One fitted diffraction hyperbola (an entry of velocity.json `hyperbolas[]`). */
 export interface HyperbolaFit {
@@ -15,8 +20,17 @@ export interface HyperbolaFit {
   t0Ns: number;
   velocityMPerNs: number;
   permittivity: number;
-  /** Apex depth, m (for an above-ground fit: the horizontal distance to the reflector, m). */
+  /** Depth of the target's top, m (for an above-ground fit: the horizontal distance to the reflector, m). */
   depthM: number;
+  /**
+   * Fitted radius of the target, m: 0 for a point, or when the picks do not resolve it
+   * (`radiusResolved` false; the fit is then the point fit). Absent in files written before radii were fitted.
+   */
+  radiusM?: number;
+  /** One standard deviation of the radius from the four-parameter fit, m (also when not resolved). */
+  radiusUncertaintyM?: number;
+  /** True when the fit resolved a radius > 0 (R above twice its standard deviation and a significant misfit reduction). */
+  radiusResolved?: boolean;
   /** One standard deviation of the velocity, m/ns. */
   uncertaintyMPerNs: number;
   origin: Origin;
@@ -39,7 +53,7 @@ export interface HyperbolaFit {
    * `correctObliqueCrossings`): velocity and depth above are corrected by sin(angle); the apparent
    * values of the hyperbola are kept here.
    */
-  crossing?: { feature: string; angleDeg: number; apparentVelocityMPerNs: number; apparentDepthM: number; lines: number };
+  crossing?: { feature: string; angleDeg: number; apparentVelocityMPerNs: number; apparentDepthM: number; apparentRadiusM?: number; lines: number };
   /** Unit direction of the fit's line (first to last trace) in the site CRS; lets the report find oblique crossings. */
   lineDirection?: [number, number];
 }
@@ -65,6 +79,11 @@ export interface VelocityReport {
     permittivity: number;
     spreadMPerNs: number;
     fitCount: number;
+    /**
+     * Independent objects among the fits that count: fits of one object on neighbouring lines (apexes
+     * within 1.5 m, t0 and v within 10 %) are one sample of the soil, weighted as one.
+     */
+    objectCount?: number;
     moisture?: { volumetricWaterContent: number; method: string; caution: string };
     /** Why the site velocity is what it is when it does not come from fits (e.g. no usable fit). */
     note?: string;

@@ -9,7 +9,7 @@ import { classifyVelocity } from './site-model';
  * crossing, so its hyperbola is that of a point at z / sin(beta) seen with v / sin(beta): a pipe at 27
  * degrees in soil of K 7.5 reads K 1.5 and would pass for an air wave. The same pipe crosses the
  * neighbouring lines, and its apexes line up along its strike; from that strike beta follows and the fit
- * is corrected: v = v_apparent sin(beta), depth = z_apparent sin(beta) (t0 unchanged).
+ * is corrected: v = v_apparent sin(beta), depth = z_apparent sin(beta), radius = R_apparent sin(beta) (t0 unchanged).
  */
 export interface ObliqueOptions {
   /** Metres per site CRS unit. @default 1 */
@@ -118,6 +118,10 @@ export function correctObliqueCrossings(fits: HyperbolaFit[], directions: Record
         velocityMPerNs: v,
         permittivity: permittivityFromVelocity(v),
         depthM: f.depthM * sinB,
+        // The line cuts the pipe's circle at beta: its apparent radius is R / sin(beta) as its axis depth
+        // is zc / sin(beta), so the same factor gives R back.
+        ...(f.radiusM !== undefined ? { radiusM: f.radiusM * sinB } : {}),
+        ...(f.radiusUncertaintyM !== undefined ? { radiusUncertaintyM: f.radiusUncertaintyM * sinB } : {}),
         uncertaintyMPerNs: sigma,
         origin,
         crossing: {
@@ -125,6 +129,7 @@ export function correctObliqueCrossings(fits: HyperbolaFit[], directions: Record
           angleDeg: (Math.asin(sinB) * 180) / Math.PI,
           apparentVelocityMPerNs: f.velocityMPerNs,
           apparentDepthM: f.depthM,
+          ...(f.radiusM !== undefined ? { apparentRadiusM: f.radiusM } : {}),
           lines: idx.length,
         },
       };

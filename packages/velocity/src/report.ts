@@ -24,7 +24,11 @@ export function toHyperbolaFit(
     velocityMPerNs: fit.velocityMPerNs,
     permittivity: permittivityFromVelocity(fit.velocityMPerNs),
     depthM: fit.zM,
-    uncertaintyMPerNs: fit.sigmaVelocity,
+    radiusM: fit.radiusM,
+    radiusUncertaintyM: fit.sigmaRadiusM,
+    radiusResolved: fit.radiusResolved,
+    // With the radius unresolved the velocity is uncertain by the whole R-v trade-off.
+    uncertaintyMPerNs: fit.sigmaVelocityRadiusFree ?? fit.sigmaVelocity,
     origin,
     source,
     x0M: fit.x0M,

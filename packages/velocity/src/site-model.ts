@@ -1,12 +1,13 @@
 import { C_M_PER_NS, type HyperbolaFit, type Origin, type VelocityModel, type VelocityReport } from './model';
-import { permittivityFromVelocity, dixInterval, TOPP_CAUTION, TOPP_METHOD, toppMoisture } from './physics';
+import { permittivityFromVelocity, TOPP_CAUTION, TOPP_METHOD, toppMoisture } from './physics';
 
 /** Fits whose permittivity is below this are above-ground (air-wave) reflections. Common practice, no source. @default 2 */
 export const ABOVE_GROUND_MAX_PERMITTIVITY = 2;
 
 /**
- * Fits above this permittivity are flagged and left out of the site model: the wettest soils of the
- * Davis & Annan (1989) table (clay) reach K 40; beyond that only water (K 80). @default 40
+ * Fits above this permittivity are `implausible`, flagged and left out of the site model: the wettest
+ * soils of the Davis & Annan (1989) table (saturated clay) reach K 40; beyond that only water (K 80).
+ * @default 40
  */
 export const MAX_SOIL_PERMITTIVITY = 40;
 
@@ -19,8 +20,58 @@ export function classifyVelocity(
   const flags: string[] = [];
   if (velocityMPerNs > C_M_PER_NS) flags.push('v > c');
   const kMax = options.maxSoilPermittivity ?? MAX_SOIL_PERMITTIVITY;
-  if (k > kMax) flags.push(`K > ${kMax}`);
+  if (k > kMax) {
+    flags.push(`K > ${kMax}`);
+    return { origin: 'implausible', flags };
+  }
   return { origin: k < (options.aboveGroundMaxPermittivity ?? ABOVE_GROUND_MAX_PERMITTIVITY) ? 'above-ground' : 'subsurface', flags };
+}
+
+/**
+ * Groups of fits that are one object seen on several lines (single linkage: apexes within `linkM`
+ * metres in plan, apex times and velocities within `tolerance` of each other). Returns each fit's
+ * group index and the groups' sizes. A pipe crossing 17 lines is one sample of the soil, not 17.
+ */
+export function objectGroups(
+  fits: HyperbolaFit[],
+  options: { metresPerUnit?: number; linkM?: number; tolerance?: number } = {},
+): { group: Int32Array; sizes: number[] } {
+  const mpu = options.metresPerUnit ?? 1;
+  const link = options.linkM ?? 1.5;
+  const tol = options.tolerance ?? 0.1;
+  const n = fits.length;
+  const parent = Int32Array.from({ length: n }, (_, i) => i);
+  const root = (i: number): number => {
+    while (parent[i] !== i) i = parent[i] = parent[parent[i]!]!;
+    return i;
+  };
+  const close = (a: number, b: number, rel: number) => Math.abs(a - b) <= rel * Math.max(Math.abs(a), Math.abs(b));
+  for (let i = 0; i < n; i++) {
+    const a = fits[i]!;
+    for (let j = i + 1; j < n; j++) {
+      const b = fits[j]!;
+      if (Math.hypot(a.x - b.x, a.y - b.y) * mpu > link) continue;
+      if (!close(a.t0Ns, b.t0Ns, tol) || !close(a.velocityMPerNs, b.velocityMPerNs, tol)) continue;
+      const ra = root(i);
+      const rb = root(j);
+      if (ra !== rb) parent[ra] = rb;
+    }
+  }
+  const index = new Map<number, number>();
+  const group = new Int32Array(n);
+  const sizes: number[] = [];
+  for (let i = 0; i < n; i++) {
+    const r = root(i);
+    let g = index.get(r);
+    if (g === undefined) {
+      g = sizes.length;
+      index.set(r, g);
+      sizes.push(0);
+    }
+    group[i] = g;
+    sizes[g]!++;
+  }
+  return { group, sizes };
 }
 
 /** A fit counts in the site model when it is subsurface, not flagged, with a finite uncertainty. */
@@ -52,32 +103,41 @@ export function robustCentre(values: ArrayLike<number>, weights: ArrayLike<numbe
 export interface SiteModelOptions {
   /** Velocity used when no fit qualifies (K about 9, common practice for moist soil, no source). @default 0.1 */
   fallbackVelocityMPerNs?: number;
+  /** Metres per site CRS unit of the fits' x, y (for `objectGroups`). @default 1 */
+  metresPerUnit?: number;
   /** Weights are 1 / max(sigma, floor * median v)^2, so no single near-exact fit outweighs the rest. @default 0.02 */
   uncertaintyFloor?: number;
   /** Try a two-layer (Dix) model. @default true */
   layered?: boolean;
-  /** Fits needed in each depth group of a layered model. @default 4 */
+  /** Independent objects (see `objectGroups`) needed in each depth group of a layered model. @default 4 */
   minFitsPerLayer?: number;
-  /** Difference of the group velocities, in combined standard errors, that calls for layers. @default 3 */
-  layerSignificance?: number;
-  /** Systematic error of a group velocity, as a fraction of it, added to its standard error. @default 0.02 */
+  /**
+   * Smallest difference of the two layers' velocities worth a layer, as a fraction of the shallow one:
+   * below it a layer is within the systematic error of a fit (time-zero, radius, oblique crossings).
+   * @default 0.02
+   */
   layerSystematic?: number;
 }
 
 /**
- * Site velocity from the usable fits: weighted median (weights 1/sigma^2) with a 1.4826 x weighted-MAD
- * spread. A layered model is chosen when the fits, split by apex time into a shallow and a deep group,
- * differ by more than `layerSignificance` standard errors: the group medians are RMS velocities, at the
- * shallow group's deepest zero-offset time t1 and the deep group's median time t2; the first layer ends
- * at z1 = v1 t1 / 2 and the interval velocity below it follows Dix (1955):
- * v_int^2 = (v2^2 t2 - v1^2 t1) / (t2 - t1).
+ * Site velocity from the usable fits: weighted median with a 1.4826 x weighted-MAD spread; weights
+ * 1/sigma^2 shared among the fits of one object (`objectGroups`), so each object counts once.
+ * A layered model is chosen only when it beats the constant one by the Bayesian information criterion
+ * (Schwarz 1978), BIC = n ln(WRSS / sum w) + k ln n with n the number of objects, k = 1 for a constant
+ * velocity and 3 for two layers (v1, v2, the interface time): the fits' velocities are RMS velocities at
+ * their zero-offset times t, v_rms(t)^2 = (v1^2 t1 + v2^2 (t - t1)) / t below t1 (Dix 1955); each
+ * group needs `minFitsPerLayer` objects, v2 must be real and below c, the layers must differ by more than
+ * `layerSystematic`, and the deep group's median time must lie a tenth beyond t1. The first layer ends
+ * at z1 = v1 t1 / 2.
  */
 export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOptions = {}): Pick<VelocityReport, 'site' | 'model'> {
   const usable = fits.filter(usableForSite);
   const sortedV = usable.map((f) => f.velocityMPerNs).sort((a, b) => a - b);
   const plainMedian = sortedV.length > 0 ? sortedV[sortedV.length >> 1]! : 0.1;
   const floor = (options.uncertaintyFloor ?? 0.02) * plainMedian;
-  const weightOf = (f: HyperbolaFit) => 1 / Math.max(f.uncertaintyMPerNs, floor) ** 2;
+  const { group, sizes } = objectGroups(usable, { metresPerUnit: options.metresPerUnit ?? 1 });
+  const objectOf = new Map<HyperbolaFit, number>(usable.map((f, i) => [f, group[i]!]));
+  const weightOf = (f: HyperbolaFit) => 1 / Math.max(f.uncertaintyMPerNs, floor) ** 2 / sizes[objectOf.get(f)!]!;
   const deepest = usable.reduce((m, f) => Math.max(m, f.depthM), 0);
   const bottom = Math.max(deepest, 1);
   if (usable.length === 0) {
@@ -92,10 +152,17 @@ export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOption
     usable.map(weightOf),
   );
   const k = permittivityFromVelocity(centre);
-  const site: VelocityReport['site'] = { velocityMPerNs: centre, permittivity: k, spreadMPerNs: spread, fitCount: usable.length, ...moisture(k, false) };
+  const site: VelocityReport['site'] = {
+    velocityMPerNs: centre,
+    permittivity: k,
+    spreadMPerNs: spread,
+    fitCount: usable.length,
+    objectCount: sizes.length,
+    ...moisture(k, false),
+  };
   const constant: VelocityModel = { kind: 'constant', layers: [{ topM: 0, bottomM: bottom, velocityMPerNs: centre, permittivity: k }] };
   if (options.layered === false) return { site, model: constant };
-  const layered = twoLayer(usable, weightOf, options, bottom);
+  const layered = twoLayer(usable, weightOf, (f) => objectOf.get(f)!, options, bottom);
   return { site, model: layered ?? constant };
 }
 
@@ -104,54 +171,77 @@ function moisture(k: number, assumed: boolean): { moisture?: VelocityReport['sit
   return { moisture: { volumetricWaterContent: toppMoisture(k), method: TOPP_METHOD, caution: TOPP_CAUTION } };
 }
 
-function twoLayer(usable: HyperbolaFit[], weightOf: (f: HyperbolaFit) => number, options: SiteModelOptions, bottom: number): VelocityModel | null {
+function twoLayer(
+  usable: HyperbolaFit[],
+  weightOf: (f: HyperbolaFit) => number,
+  objectOf: (f: HyperbolaFit) => number,
+  options: SiteModelOptions,
+  bottom: number,
+): VelocityModel | null {
   const minN = options.minFitsPerLayer ?? 4;
-  const sig = options.layerSignificance ?? 3;
   const systematic = options.layerSystematic ?? 0.02;
   // Zero-offset two-way time of each fit's apex.
-  const sorted = usable.map((f) => ({ f, tzo: (2 * f.depthM) / f.velocityMPerNs, w: weightOf(f) })).sort((a, b) => a.tzo - b.tzo);
-  if (sorted.length < 2 * minN) return null;
-  let best: { stat: number; k: number } | null = null;
-  const group = (g: typeof sorted, deep: boolean) => {
-    const { centre, spread } = robustCentre(
-      g.map((e) => e.f.velocityMPerNs),
-      g.map((e) => e.w),
-    );
-    const meanSigma = g.reduce((m, e) => m + e.f.uncertaintyMPerNs, 0) / g.length;
-    // Standard error of a median, 1.2533 sigma / sqrt(n), plus a systematic part that more fits do not
-    // reduce (time-zero error, target radius, oblique crossings): `layerSystematic` of v.
-    const se = Math.hypot((1.2533 * Math.max(spread, meanSigma)) / Math.sqrt(g.length), systematic * centre);
-    // The shallow velocity holds down to the group's deepest fit; the deep group sits at its median time.
-    const t = deep
-      ? weightedMedian(
-          g.map((e) => e.tzo),
-          g.map(() => 1),
-        )
-      : g[g.length - 1]!.tzo;
-    return { v: centre, se, t };
-  };
-  // The best split by significance among those giving a real Dix interval velocity over a time gap of
-  // at least a tenth of the deeper time.
-  let chosen: { a: ReturnType<typeof group>; b: ReturnType<typeof group>; vInt: number } | null = null;
-  for (let k = minN; k <= sorted.length - minN; k++) {
-    if (sorted[k]!.tzo === sorted[k - 1]!.tzo) continue;
-    const a = group(sorted.slice(0, k), false);
-    const b = group(sorted.slice(k), true);
-    const stat = Math.abs(a.v - b.v) / Math.hypot(a.se, b.se);
-    if (!(stat > sig) || (best && stat <= best.stat)) continue;
-    if (!(b.t - a.t >= 0.1 * b.t)) continue;
-    const vInt = dixInterval(a.v, a.t, b.v, b.t);
-    if (!Number.isFinite(vInt) || vInt <= 0 || vInt > C_M_PER_NS) continue;
-    best = { stat, k };
-    chosen = { a, b, vInt };
+  const all = usable
+    .map((f) => ({ v: f.velocityMPerNs, t: (2 * f.depthM) / f.velocityMPerNs, w: weightOf(f), o: objectOf(f) }))
+    .sort((a, b) => a.t - b.t);
+  const objects = new Set(all.map((e) => e.o)).size;
+  if (objects < 2 * minN) return null;
+  let sw = 0;
+  let swv = 0;
+  for (const e of all) {
+    sw += e.w;
+    swv += e.w * e.v;
   }
-  if (!chosen) return null;
-  const { a, vInt } = chosen;
-  const z1 = (a.v * a.t) / 2;
+  const v0 = swv / sw;
+  let rss0 = 0;
+  for (const e of all) rss0 += e.w * (e.v - v0) ** 2;
+  const bic = (rss: number, k: number) => objects * Math.log(Math.max(rss / sw, 1e-300)) + k * Math.log(objects);
+  const bic0 = bic(rss0, 1);
+  let best: { bic: number; v1: number; vInt: number; t1: number } | null = null;
+  for (let k = 1; k < all.length; k++) {
+    if (all[k]!.t === all[k - 1]!.t) continue;
+    const shallow = all.slice(0, k);
+    const deep = all.slice(k);
+    if (new Set(shallow.map((e) => e.o)).size < minN || new Set(deep.map((e) => e.o)).size < minN) continue;
+    // The shallow velocity holds down to the shallow group's deepest fit.
+    const t1 = shallow[shallow.length - 1]!.t;
+    let a = 0;
+    let b = 0;
+    for (const e of shallow) {
+      a += e.w * e.v;
+      b += e.w;
+    }
+    const v1 = a / b;
+    // v2^2 by weighted least squares of v^2 t - v1^2 t1 = v2^2 (t - t1) over the deep fits.
+    let num = 0;
+    let den = 0;
+    for (const e of deep) {
+      const dt = e.t - t1;
+      num += e.w * (e.v * e.v * e.t - v1 * v1 * t1) * dt;
+      den += e.w * dt * dt;
+    }
+    const v22 = num / den;
+    if (!(v22 > 0)) continue;
+    const vInt = Math.sqrt(v22);
+    if (vInt > C_M_PER_NS || Math.abs(vInt / v1 - 1) <= systematic) continue;
+    const tDeep = weightedMedian(
+      deep.map((e) => e.t),
+      deep.map(() => 1),
+    );
+    if (!(tDeep - t1 >= 0.1 * tDeep)) continue;
+    let rss = 0;
+    for (const e of shallow) rss += e.w * (e.v - v1) ** 2;
+    for (const e of deep) rss += e.w * (e.v - Math.sqrt((v1 * v1 * t1 + v22 * (e.t - t1)) / e.t)) ** 2;
+    const score = bic(rss, 3);
+    if (!best || score < best.bic) best = { bic: score, v1, vInt, t1 };
+  }
+  if (!best || !(best.bic < bic0)) return null;
+  const { v1, vInt, t1 } = best;
+  const z1 = (v1 * t1) / 2;
   return {
     kind: 'layered',
     layers: [
-      { topM: 0, bottomM: z1, velocityMPerNs: a.v, permittivity: permittivityFromVelocity(a.v) },
+      { topM: 0, bottomM: z1, velocityMPerNs: v1, permittivity: permittivityFromVelocity(v1) },
       { topM: z1, bottomM: Math.max(bottom, z1), velocityMPerNs: vInt, permittivity: permittivityFromVelocity(vInt) },
     ],
   };

@@ -60,8 +60,9 @@ describe('siteVelocityModel', () => {
     };
     const g = gauss(rng(4));
     const fits: HyperbolaFit[] = [];
-    for (let i = 0; i < 8; i++) fits.push(fit(v1 * (1 + 0.003 * g()), 0.3 + 0.06 * i, 0.0015));
-    for (let i = 0; i < 8; i++) fits.push(fit(vrmsAt(1.8) * (1 + 0.003 * g()), 1.8, 0.0015));
+    // Sixteen separate objects (3 m apart): fits of one object on several lines would count once.
+    for (let i = 0; i < 8; i++) fits.push(fit(v1 * (1 + 0.003 * g()), 0.3 + 0.06 * i, 0.0015, { x: 3 * i }));
+    for (let i = 0; i < 8; i++) fits.push(fit(vrmsAt(1.8) * (1 + 0.003 * g()), 1.8, 0.0015, { x: 3 * i, y: 10 }));
     const { model } = siteVelocityModel(fits);
     expect(model.kind).toBe('layered');
     expect(model.layers.length).toBe(2);

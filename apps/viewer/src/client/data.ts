@@ -43,6 +43,8 @@ export interface Hyperbola {
   t0Ns: number;
   velocityMPerNs: number;
   depthM?: number;
+  /** Fitted radius of the target, m (0 or absent: a point). */
+  radiusM?: number;
   origin?: string;
   picks?: { offsetM: number[]; timeNs: number[] };
   flags?: string[];

@@ -40,15 +40,19 @@ export function depthToTime(dM: number, layers: Layer[], fallbackV: number): num
  * Two-way travel time of a point diffractor at apex time `t0Ns` (zero-offset, after time-zero) seen
  * from antenna midpoints at along-line offsets `xM` from the apex, for velocity `v` and transmitter-
  * receiver separation `sepM`: t = (sqrt(d^2 + (x - s/2)^2) + sqrt(d^2 + (x + s/2)^2)) / v, with the
- * depth d chosen so that t(0) = t0 (the standard common-offset diffraction move-out).
+ * depth d chosen so that t(0) = t0 (the standard common-offset diffraction move-out). For a target of
+ * radius `radiusM` (velocity.json `radiusM`) each leg ends on the circle around the axis at d + R:
+ * t = (sqrt((d + R)^2 + (x - s/2)^2) + sqrt((d + R)^2 + (x + s/2)^2) - 2R) / v (for drawing; the fit in
+ * @lamina/velocity uses the exact specular point, which differs by a second-order term).
  */
-export function hyperbolaTimes(xM: ArrayLike<number>, t0Ns: number, v: number, sepM = 0, out = new Float64Array(xM.length)): Float64Array {
+export function hyperbolaTimes(xM: ArrayLike<number>, t0Ns: number, v: number, sepM = 0, out = new Float64Array(xM.length), radiusM = 0): Float64Array {
   const h = sepM / 2;
   const half = (v * t0Ns) / 2;
-  const d = Math.sqrt(Math.max(0, half * half - h * h));
+  const d = Math.sqrt(Math.max(0, half * half - h * h)) + radiusM;
+  const r0 = Math.sqrt(d * d + h * h) - half; // makes t(0) = t0 with the radius
   for (let i = 0; i < xM.length; i++) {
     const x = xM[i]!;
-    out[i] = (Math.sqrt(d * d + (x - h) * (x - h)) + Math.sqrt(d * d + (x + h) * (x + h))) / v;
+    out[i] = (Math.sqrt(d * d + (x - h) * (x - h)) + Math.sqrt(d * d + (x + h) * (x + h)) - 2 * r0) / v;
   }
   return out;
 }

@@ -82,7 +82,7 @@ export function drawRadargram(canvas: HTMLCanvasElement, v: RadargramView): void
   for (const h of v.hyperbolas) {
     const apex = Math.min(nTraces - 1, Math.max(0, Math.round(h.trace / traceStep)));
     const xs = Float64Array.from(dist, (d) => d - dist[apex]!);
-    const ts = hyperbolaTimes(xs, h.t0Ns, h.velocityMPerNs, h.origin === 'above-ground' ? 0 : v.separationM);
+    const ts = hyperbolaTimes(xs, h.t0Ns, h.velocityMPerNs, h.origin === 'above-ground' ? 0 : v.separationM, undefined, h.radiusM ?? 0);
     ctx.strokeStyle = h.origin === 'above-ground' ? '#d01c8b' : '#00a0d0';
     ctx.lineWidth = 2;
     ctx.beginPath();
