@@ -1,6 +1,6 @@
 import { join } from 'node:path';
 import type { Command } from 'commander';
-import { scoreFolder } from '@lamina/screening';
+import { scoreFolder } from '@lamina/scoring';
 import { action } from '../run';
 
 const pct = (v: number) => `${(100 * v).toFixed(1)} %`;

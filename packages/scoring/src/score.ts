@@ -1,7 +1,6 @@
 import { InputError } from '@lamina/errors';
 import type { VelocityModel } from '@lamina/velocity';
-import { airRadiusM } from './physics';
-import type { FeatureCollection } from './geojson';
+import { airRadiusM, type FeatureCollection } from '@lamina/screening';
 
 type XY = [number, number];
 type XYZ = [number, number, number];

@@ -3,7 +3,7 @@ import { join } from 'node:path';
 import { InputError } from '@lamina/errors';
 import { pointFromWgs84, resolveCrs } from '@lamina/site';
 import type { VelocityModel } from '@lamina/velocity';
-import type { FeatureCollection } from './geojson';
+import type { FeatureCollection } from '@lamina/screening';
 import { scoreRun, type ScoreOptions, type ScoreReport, type ScoreTruth } from './score';
 
 function readJson(file: string): unknown {
