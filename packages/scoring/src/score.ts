@@ -370,6 +370,8 @@ export function scoreRun(
     .map((a) => ({
       id: a.id,
       segs: a.center ? [a.center[0], a.center[1], a.center[0], a.center[1]] : [a.from![0], a.from![1], a.to![0], a.to![1]],
+      // an overhead reflector's air wave travels the slant distance: plan distance sqrt(r^2 - h^2)
+      overheadM: a.kind === 'overhead' ? (a.heightM ?? 0) : 0,
     }));
   const median = (v: number[]) => {
     const s = [...v].sort((p, q) => p - q);
@@ -378,7 +380,11 @@ export function scoreRun(
   const onLocus = (pts: XY[], top: number, bottom: number, r: (typeof refl)[number]) => {
     if (pts.length === 0) return false;
     const d = median(pts.map((p) => segDist(p[0], p[1], r.segs) * mpu));
-    const r0 = airRadiusM(top, airModel), r1 = airRadiusM(bottom, airModel);
+    const h2 = r.overheadM * r.overheadM;
+    const plan = (q: number) => (h2 > 0 ? Math.sqrt(Math.max(0, q * q - h2)) : q);
+    const ra = airRadiusM(top, airModel), rb = airRadiusM(bottom, airModel);
+    if (h2 > 0 && Math.max(ra, rb) < r.overheadM - locTol) return false;
+    const r0 = plan(ra), r1 = plan(rb);
     const tol = locTol;
     return d >= Math.min(r0, r1) - tol && d <= Math.max(r0, r1) + tol;
   };
@@ -501,6 +507,7 @@ export function scoreRun(
       `buried sample covered: a target within ${planTol} m + radius in plan and depth within max(${dTol} m, ${dFrac} x depth) of its range`,
       `air-wave member: median outline-vertex distance to the reflector in [r(top) - ${locTol.toFixed(2)} m, r(bottom) + ${locTol.toFixed(2)} m], r(z) = c t(z)/2 (t from the run's velocity model when given, else the truth soil)`,
       'reflectors: all above-ground objects of truth.json except those whose air wave it records on no trace (airWave.traces 0)',
+      'overhead reflector (kind overhead, height h): its locus lies at plan distance sqrt(r^2 - h^2); none while r(bottom) < h - tol',
       'air-wave anomaly: at least half of its members on one reflector locus; also near a buried target = ambiguous (not counted)',
       'target precision by count: targets covering a buried object (the buried-sample rule: pipes/cables sampled along the axis, compact objects at their centre) / targets; by area: their plan area / the plan area of all targets',
       `clutter targets: covering no buried object and on no reflector locus; per 100 m2 of surveyed area (cells within ${coverM.toFixed(2)} m of a line)`,
