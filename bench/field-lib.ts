@@ -46,6 +46,8 @@ export interface FieldRow {
   largestDepthExtentM: number;
   simulateS: number;
   processS: number;
+  /** Anomalies by `properties.class` (`none` when absent) against their truth match (scoring's class table). */
+  classes: Record<string, { buried: number; air: number; ambiguous: number; unmatched: number }>;
 }
 
 export interface SceneRunOptions {
@@ -61,7 +63,7 @@ function emptyRow(name: string, half: FieldRow['half'], seed: number | null): Fi
     targets: 0, buriedTargets: 0, airTargets: 0, clutterTargets: 0, areaM2: 0, buriedAreaM2: 0, surveyedAreaM2: 0,
     utilitySurveyedM: 0, utilityCoveredM: 0, utilities: 0, piecesSum: 0, piecesUtilities: 0, piecesMax: 0,
     compactFound: 0, compacts: 0, onLocus: 0, onLocusFlagged: 0, real: 0, realFlagged: 0,
-    largestAreaM2: 0, largestDepthExtentM: 0, simulateS: 0, processS: 0,
+    largestAreaM2: 0, largestDepthExtentM: 0, simulateS: 0, processS: 0, classes: {},
   };
 }
 
@@ -108,6 +110,7 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
       realFlagged: pr.airFlags.realFlagged,
       largestAreaM2: pr.largest?.areaM2 ?? 0,
       largestDepthExtentM: pr.largest?.depthExtentM ?? 0,
+      classes: pr.classes,
     });
   } catch (e) {
     row.error = (e as Error).message;
@@ -140,6 +143,7 @@ export interface Pooled {
   realFlaggedShare: number | null;
   largestAreaM2: number;
   largestDepthExtentM: number;
+  classes: FieldRow['classes'];
 }
 
 const ratio = (a: number, b: number): number | null => (b > 0 ? a / b : null);
@@ -167,7 +171,28 @@ export function pool(name: string, rows: FieldRow[]): Pooled {
     realFlaggedShare: ratio(sum('realFlagged'), sum('real')),
     largestAreaM2: Math.max(0, ...ok.map((r) => r.largestAreaM2)),
     largestDepthExtentM: Math.max(0, ...ok.map((r) => r.largestDepthExtentM)),
+    classes: sumClasses(ok),
   };
+}
+
+function sumClasses(rows: FieldRow[]): FieldRow['classes'] {
+  const out: FieldRow['classes'] = {};
+  for (const r of rows)
+    for (const [c, v] of Object.entries(r.classes)) {
+      const o = (out[c] ??= { buried: 0, air: 0, ambiguous: 0, unmatched: 0 });
+      o.buried += v.buried;
+      o.air += v.air;
+      o.ambiguous += v.ambiguous;
+      o.unmatched += v.unmatched;
+    }
+  return out;
+}
+
+/** The class table of a pooled row: one line per class that has anomalies. */
+export function classLines(p: Pooled): string[] {
+  return Object.entries(p.classes)
+    .filter(([, v]) => v.buried + v.air + v.ambiguous + v.unmatched > 0)
+    .map(([c, v]) => `  ${c.padEnd(13)} buried ${String(v.buried).padStart(5)}  air ${String(v.air).padStart(5)}  ambiguous ${String(v.ambiguous).padStart(4)}  unmatched ${String(v.unmatched).padStart(5)}`);
 }
 
 /** A row as a pooled row of one scene (same columns in the table). */

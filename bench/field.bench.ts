@@ -14,7 +14,7 @@ import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { parseScenario, randomScenario } from '../packages/simulate/src/index';
-import { formatTable, parseSeeds, pool, runScene, single, tableLine, type FieldRow } from './field-lib';
+import { classLines, formatTable, parseSeeds, pool, runScene, single, tableLine, type FieldRow } from './field-lib';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const root = resolve(here, '..');
@@ -67,6 +67,7 @@ utility found (mean; pcsMax the most); cmp% = compact objects found; airflag% = 
 locus that are flagged; realflag% = real anomalies (on a buried object, on no locus) wrongly flagged;
 largest = the largest target's plan area and depth extent. Pooled rows sum counts, areas and lengths.
 Wall time ${((performance.now() - t0) / 1000).toFixed(0)} s.`);
+for (const p of [tune, held]) console.log(`\nanomaly class (properties.class; none = absent) vs truth match, ${p.name}:\n${classLines(p).join('\n')}`);
 
 const outDir = join(here, 'out');
 mkdirSync(outDir, { recursive: true });
