@@ -21,6 +21,11 @@ export interface FieldRow {
   kTruth: number;
   kFitted: number | null;
   kRelError: number | null;
+  /** Layered truth: |interval K error| at each buried object's depth (scoring's siteK.atObjects), summed, and their number. */
+  kObjAbsErrorSum: number;
+  kObjects: number;
+  /** Buried objects the raw data shows on no trace (truth.json response.traces 0): still scored, listed for context. */
+  invisible: number;
   targets: number;
   buriedTargets: number;
   airTargets: number;
@@ -59,7 +64,7 @@ export interface SceneRunOptions {
 
 function emptyRow(name: string, half: FieldRow['half'], seed: number | null): FieldRow {
   return {
-    name, half, seed, error: null, kTruth: NaN, kFitted: null, kRelError: null,
+    name, half, seed, error: null, kTruth: NaN, kFitted: null, kRelError: null, kObjAbsErrorSum: 0, kObjects: 0, invisible: 0,
     targets: 0, buriedTargets: 0, airTargets: 0, clutterTargets: 0, areaM2: 0, buriedAreaM2: 0, surveyedAreaM2: 0,
     utilitySurveyedM: 0, utilityCoveredM: 0, utilities: 0, piecesSum: 0, piecesUtilities: 0, piecesMax: 0,
     compactFound: 0, compacts: 0, onLocus: 0, onLocusFlagged: 0, real: 0, realFlagged: 0,
@@ -81,7 +86,7 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
     const p = spawnSync(tsx, [join(ROOT, 'apps/cli/src/main.ts'), 'process', siteDir, '--out', outDir, '--threads', String(options.threads ?? 2)], { encoding: 'utf8', maxBuffer: 64 << 20 });
     row.processS = (performance.now() - t) / 1000;
     if (p.status !== 0) throw new Error(`lamina process exited ${p.status}: ${(p.stderr || p.stdout).trim().split('\n').slice(-3).join(' | ')}`);
-    const { report } = scoreFolder(outDir, join(siteDir, 'truth.json'));
+    const { report, truth } = scoreFolder(outDir, join(siteDir, 'truth.json'));
     const pr = report.precision;
     const lin = report.buried.filter((b) => b.lengthM > 0);
     const cmp = report.buried.filter((b) => b.lengthM === 0);
@@ -89,6 +94,9 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
       kTruth: pr.siteK.truth,
       kFitted: pr.siteK.fitted,
       kRelError: pr.siteK.relError,
+      kObjAbsErrorSum: pr.siteK.atObjects.reduce((s, o) => s + Math.abs(o.relError), 0),
+      kObjects: pr.siteK.atObjects.length,
+      invisible: (truth.buried as { response?: { traces?: number } }[]).filter((b) => b.response?.traces === 0).length,
       targets: pr.targets,
       buriedTargets: pr.buriedTargets,
       airTargets: pr.airTargets,
@@ -130,6 +138,9 @@ export interface Pooled {
   failed: number;
   kAbsErrorMean: number | null;
   kAbsErrorMax: number | null;
+  /** Mean |interval K error| over the buried objects of layered truths. */
+  kObjAbsErrorMean: number | null;
+  invisible: number;
   targets: number;
   precisionByCount: number | null;
   precisionByArea: number | null;
@@ -158,6 +169,8 @@ export function pool(name: string, rows: FieldRow[]): Pooled {
     failed: rows.length - ok.length,
     kAbsErrorMean: kErr.length ? kErr.reduce((a, b) => a + b, 0) / kErr.length : null,
     kAbsErrorMax: kErr.length ? Math.max(...kErr) : null,
+    kObjAbsErrorMean: ratio(sum('kObjAbsErrorSum'), sum('kObjects')),
+    invisible: sum('invisible'),
     targets: sum('targets'),
     precisionByCount: ratio(sum('buriedTargets'), sum('targets')),
     precisionByArea: ratio(sum('buriedAreaM2'), sum('areaM2')),
@@ -204,7 +217,7 @@ const pct = (v: number | null) => (v === null ? '-' : `${(100 * v).toFixed(1)}`)
 const fx = (v: number | null, d = 1) => (v === null || !Number.isFinite(v) ? '-' : v.toFixed(d));
 
 export const TABLE_HEADER = [
-  'scene', 'K true', 'K fit', 'K err%', 'tgts', 'prec#%', 'precA%', 'clut/100m2', 'air%', 'util%', 'pcs', 'pcsMax', 'cmp%', 'airflag%', 'realflag%', 'largest m2', 'largest dz', 'sim s', 'proc s',
+  'scene', 'K true', 'K fit', 'K err%', 'Kobj|err|%', 'invis', 'tgts', 'prec#%', 'precA%', 'clut/100m2', 'air%', 'util%', 'pcs', 'pcsMax', 'cmp%', 'airflag%', 'realflag%', 'largest m2', 'largest dz', 'sim s', 'proc s',
 ];
 
 /** One table line: a scene (with its K and times) or a pooled row (K as mean |error|). */
@@ -215,6 +228,8 @@ export function tableLine(p: Pooled, scene?: FieldRow): string[] {
     scene ? fx(scene.kTruth, 2) : '',
     scene ? fx(scene.kFitted, 2) : '',
     scene ? (scene.kRelError === null ? '-' : (100 * scene.kRelError).toFixed(1)) : `|${pct(p.kAbsErrorMean)}|`,
+    pct(p.kObjAbsErrorMean),
+    String(p.invisible),
     String(p.targets),
     pct(p.precisionByCount),
     pct(p.precisionByArea),

@@ -60,7 +60,8 @@ const table = [
 console.log('\n' + formatTable(table));
 console.log(`
 Columns (packages/scoring/README.md, "Frozen definitions"): K err% = fitted site K / truth top-layer K - 1
-(pooled: mean |error|); prec#% / precA% = targets covering a buried object by count / by plan area;
+(pooled: mean |error|); Kobj|err|% = mean |interval K error| at the buried objects' depths (layered truths
+only); invis = buried objects the raw data shows on no trace (still scored); prec#% / precA% = targets covering a buried object by count / by plan area;
 clut/100m2 = targets matching neither a buried object nor an air-wave locus per 100 m2 surveyed; air% =
 air-wave targets; util% = utility recall over the surveyed length (pooled by length); pcs = pieces per
 utility found (mean; pcsMax the most); cmp% = compact objects found; airflag% = anomalies on an air-wave
