@@ -2,6 +2,7 @@ import { makeMember, type Member } from '@lamina/anomalies';
 import type { SliceStack } from '@lamina/slices';
 import type { ScreenContext } from './tests';
 import type { Reflector } from './reflectors';
+import { locusAtHeight } from './context';
 
 /**
  * Signed distance (m) of cell c from a reflector's locus of radius r. Every element of a reflector
@@ -93,13 +94,14 @@ export function separateCrossings(members: Member[], stack: SliceStack, scores: 
   const out: Member[] = [];
   let cut = 0;
   for (const m of members) {
-    const l = ctx.loci[m.slice]!;
-    const band = l.bandHalfM + ctx.positionM;
     let pieces: number[][] | undefined;
     for (let r = 0; r < ctx.reflectors.length && !pieces; r++) {
       const field = ctx.fields[r];
       if (!field) continue;
       const refl = ctx.reflectors[r]!;
+      const l = locusAtHeight(ctx.loci[m.slice]!, refl.heightM);
+      if (!Number.isFinite(l.radiusM)) continue;
+      const band = l.bandHalfM + ctx.positionM;
       let nearest = Infinity;
       for (const c of m.cells) nearest = Math.min(nearest, field[c]!);
       if (nearest > l.radiusM + band) continue;

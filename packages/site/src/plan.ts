@@ -6,7 +6,7 @@ import { pointFromWgs84 } from './crs';
 import { describe, InputProblems, jsonPath, parseJson, type Problem, zodProblems } from './problems';
 import type { Crs, Geometry, PlanFeature, PlanKind, Position } from './types';
 
-export const PLAN_KINDS = ['building', 'wall', 'fence', 'post', 'tree', 'column', 'other'] as const satisfies readonly PlanKind[];
+export const PLAN_KINDS = ['building', 'wall', 'fence', 'post', 'tree', 'column', 'overhead', 'other'] as const satisfies readonly PlanKind[];
 
 /** Geometry types each kind may carry; `other` takes any supported type. */
 export const KIND_GEOMETRY: Record<PlanKind, readonly Geometry['type'][]> = {
@@ -16,6 +16,8 @@ export const KIND_GEOMETRY: Record<PlanKind, readonly Geometry['type'][]> = {
   post: ['Point'],
   tree: ['Point'],
   column: ['Point'],
+  /** A cable, beam, canopy edge or branch at `heightM` above the ground (required). */
+  overhead: ['Point', 'LineString', 'MultiLineString'],
   other: ['Point', 'LineString', 'Polygon', 'MultiLineString', 'MultiPolygon'],
 };
 
@@ -177,6 +179,9 @@ export function parsePlan(value: unknown, file: string, options: ParsePlanOption
     const kind = props.kind;
     if (props.postSpacingM !== undefined && kind !== 'fence') {
       problems.push({ path: jsonPath([...path, 'properties', 'postSpacingM']), message: `expected postSpacingM only on a fence, found it on kind "${kind}"` });
+    }
+    if (kind === 'overhead' && props.heightM === undefined) {
+      problems.push({ path: jsonPath([...path, 'properties', 'heightM']), message: 'expected heightM (height above the ground, m) on an overhead feature, found none' });
     }
     const wgs84 = checkGeometry(r.data.geometry, kind, [...path, 'geometry'], problems);
     if (!wgs84) return;

@@ -47,6 +47,14 @@ describe('plan.geojson', () => {
     expect(plan.map((p) => p.id)).toEqual(['tree-2', 'tree-1']);
   });
 
+  it('an overhead object carries its clearance (heightM required)', () => {
+    const line = { type: 'LineString', coordinates: [[lon, lat], [lon + d, lat]] };
+    const [cable] = parsePlan(fc(f('overhead', line, { heightM: 5.5 })), 'p');
+    expect(cable?.kind).toBe('overhead');
+    expect(cable?.heightM).toBe(5.5);
+    expect(() => parsePlan(fc(f('overhead', line)), 'plan.geojson')).toThrow('plan.geojson: features[0].properties.heightM: expected heightM');
+  });
+
   it('repeated vertices are not a self-intersection; a bow tie is', () => {
     const rep = [[lon, lat], [lon + d, lat], [lon + d, lat], [lon + d, lat + d], [lon, lat + d], [lon, lat]];
     expect(parsePlan(fc(f('building', { type: 'Polygon', coordinates: [rep] })), 'p')).toHaveLength(1);
