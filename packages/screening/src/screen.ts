@@ -131,8 +131,9 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     rateTolerance: options.rateTolerance ?? 0.25,
     ...(beforeScores ? { beforeScores } : {}),
   };
-  // the stack before background removal is never migrated: its strips are screened on the plain loci
-  const ctxUnmigrated: ScreenContext = { ...ctx };
+  // the stack before background removal is never migrated: its strips are screened on the plain loci,
+  // and each of them lies along one line (lineBound)
+  const ctxUnmigrated: ScreenContext = { ...ctx, lineBound: true };
   const vMig = options.migrationVelocityMPerNs;
   const dir = surveyDirection(lines);
   if (vMig !== undefined && vMig > 0 && vMig < C_M_PER_NS && Number.isFinite(dir)) {
@@ -187,10 +188,14 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
       const off = s.mo.fits.filter((f) => !f.passed).map((f) => f.member);
       const on = s.mo.fits.filter((f) => f.passed).map((f) => f.member);
       if (on.length > 0 && off.length > 0 && new Set(off.map((m) => m.slice)).size >= splitMin) {
-        const onPart = evaluate(build(on), c);
-        if (onPart.verdict.origin === 'above-ground') {
+        // Off-locus pieces of one slice each, with the whole anomaly above-ground, are the skirts of
+        // the same air event (the pulse's tails just outside the band): they stay with it.
+        const groups = relink(off, grid.width * grid.height, grid.cellSize, options);
+        const skirtsOnly = groups.every((g) => new Set(g.map((m) => m.slice)).size < splitMin);
+        const onPart = skirtsOnly && s.verdict.origin === 'above-ground' ? undefined : evaluate(build(on), c);
+        if (onPart && onPart.verdict.origin === 'above-ground') {
           screened.push(strip(onPart));
-          for (const g of relink(off, grid.width * grid.height, grid.cellSize, options)) screenOne(build(g), depth + 1, c);
+          for (const g of groups) screenOne(build(g), depth + 1, c);
           return;
         }
       }

@@ -28,6 +28,13 @@ export interface ScreenContext {
    * survey direction (unit vector, site CRS axes). The air-wave loci then lie nearer their objects (cellResidual).
    */
   migration?: { k2: number; ux: number; uy: number };
+  /**
+   * Set for anomalies built line by line (the strips found before background removal): every member
+   * lies along one survey line, so its plan position cannot move from slice to slice by less than a
+   * line spacing, and the move-out slope is only measurable over more depth than one line's air event
+   * spans (see slopeEvidence).
+   */
+  lineBound?: boolean;
 }
 
 export interface MemberFit {
@@ -167,7 +174,10 @@ export function slopeEvidence(mo: MoveOutResult, ctx: ScreenContext): Evidence |
   const fit = slope(zs, ds);
   const se = Number.isFinite(fit.se) ? fit.se : (Math.SQRT2 * ctx.positionM) / (zmax - zmin);
   const tolerance = ctx.rateTolerance * expected + 2 * se;
-  const measurable = expected * (zmax - zmin) >= 2 * ctx.positionM && 2 * se <= 0.5 * expected;
+  // A line-bound strip sits on its line for as long as the line lies within the locus band: an air event
+  // on one line spans the depth over which the band (half-width b) sweeps past it, a shift of 2 (b + position).
+  const band = ctx.lineBound ? 2 * (0.5 * (lmin.bandHalfM + lmax.bandHalfM) + ctx.positionM) : 2 * ctx.positionM;
+  const measurable = expected * (zmax - zmin) >= band && 2 * se <= 0.5 * expected;
   const passed = Math.abs(fit.b - expected) <= tolerance;
   return {
     test: 'move-out-slope',
