@@ -16,8 +16,7 @@ export const KIND_GEOMETRY: Record<PlanKind, readonly Geometry['type'][]> = {
   post: ['Point'],
   tree: ['Point'],
   column: ['Point'],
-  /** A cable, beam, canopy edge or branch at `heightM` above the ground (required). */
-  overhead: ['Point', 'LineString', 'MultiLineString'],
+  overhead: ['LineString', 'Point'],
   other: ['Point', 'LineString', 'Polygon', 'MultiLineString', 'MultiPolygon'],
 };
 
@@ -181,7 +180,7 @@ export function parsePlan(value: unknown, file: string, options: ParsePlanOption
       problems.push({ path: jsonPath([...path, 'properties', 'postSpacingM']), message: `expected postSpacingM only on a fence, found it on kind "${kind}"` });
     }
     if (kind === 'overhead' && props.heightM === undefined) {
-      problems.push({ path: jsonPath([...path, 'properties', 'heightM']), message: 'expected heightM (height above the ground, m) on an overhead feature, found none' });
+      problems.push({ path: jsonPath([...path, 'properties', 'heightM']), message: 'missing: an overhead feature needs heightM, its height above the ground in metres' });
     }
     const wgs84 = checkGeometry(r.data.geometry, kind, [...path, 'geometry'], problems);
     if (!wgs84) return;

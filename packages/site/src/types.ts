@@ -1,5 +1,6 @@
 /** Parsed site: what `loadSite(dir)` returns. Positions and plan geometry are in the site CRS units. */
 
+/** `overhead`: a cable, beam, canopy edge or branch above the ground; it needs `heightM`. */
 export type PlanKind = 'building' | 'wall' | 'fence' | 'post' | 'tree' | 'column' | 'overhead' | 'other';
 
 export type Position = [number, number];
