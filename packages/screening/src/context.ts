@@ -1,5 +1,5 @@
 import { C_M_PER_NS, type VelocityReport } from '@lamina/velocity';
-import { nearestOtherLine, type LinePositions, type LineQueries, type SliceStack } from '@lamina/slices';
+import { axialDeg, directionGroups, nearestOtherLine, type LinePositions, type LineQueries, type SliceStack } from '@lamina/slices';
 import { airRadiusM, airRate } from './physics';
 
 export interface Line {
@@ -89,10 +89,12 @@ export function lineSpacingOfM(source: LinePositions, metresPerUnit: number): nu
   const { lineStarts } = source;
   const nLines = lineStarts.length - 1;
   const queries: LineQueries = { x: [], y: [], line: [] };
+  const axes: number[] = [];
   let minX = Infinity, minY = Infinity, maxX = -Infinity, maxY = -Infinity;
   for (let l = 0; l < nLines; l++) {
     const c = source.line(l);
     const n = c.length / 2;
+    axes.push(axialDeg(c));
     if (n === 0) continue;
     for (let i = 0; i < c.length; i += 2) {
       minX = Math.min(minX, c[i]!);
@@ -110,6 +112,8 @@ export function lineSpacingOfM(source: LinePositions, metresPerUnit: number): nu
     startRadius: Math.max(extent / 256, 1e-9),
     bounds: [minX, minY, maxX, maxY],
     stride: (l) => Math.max(1, Math.floor((lineStarts[l + 1]! - lineStarts[l]!) / 2000)),
+    // a grid in two directions: the spacing within each direction, not the crossings
+    group: directionGroups(axes),
   });
   const d = Array.from(best).filter((v) => v < Infinity).map((v) => v * metresPerUnit);
   if (d.length === 0) return NaN;
