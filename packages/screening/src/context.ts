@@ -1,5 +1,5 @@
 import { C_M_PER_NS, type VelocityReport } from '@lamina/velocity';
-import { nearestOtherLine, type LinePositions, type LineQueries, type SliceStack } from '@lamina/slices';
+import { axialDeg, directionGroups, nearestOtherLine, type LinePositions, type LineQueries, type SliceStack } from '@lamina/slices';
 import { airRadiusM, airRate } from './physics';
 
 export interface Line {
@@ -33,6 +33,32 @@ export interface SliceLocus {
   toleranceM: number;
 }
 
+/**
+ * The locus of a reflector at clearance `heightM` above the ground (an overhead cable, beam, canopy
+ * edge or branch) in a slice whose air-wave slant range is `l.radiusM` = R: the air wave travels the
+ * slant distance, so the plan distance is r = sqrt(R^2 - h^2), and a band of slant half-width b maps to
+ * the plan band [sqrt((R - b)^2 - h^2), sqrt((R + b)^2 - h^2)] (wider than b near the onset, where
+ * dr/dR = R / r grows). The object shows first at R = h, i.e. at slice depth z = h v / c. Returns the
+ * slice's own locus for a standing object (h = 0), and one with `radiusM` NaN where R + b <= h (no
+ * air wave reaches that slice yet).
+ */
+export function locusAtHeight(l: SliceLocus, heightM: number | undefined): SliceLocus {
+  const h = heightM ?? 0;
+  if (!(h > 0)) return l;
+  const R = l.radiusM;
+  const plan = (s: number) => Math.sqrt(Math.max(0, s * s - h * h));
+  const half = (b: number, r: number) => Math.max(plan(R + b) - r, r - plan(Math.max(0, R - b)));
+  if (!(R + l.toleranceM > h)) return { ...l, radiusM: NaN, rate: NaN };
+  const radiusM = plan(R);
+  return {
+    ...l,
+    radiusM,
+    rate: radiusM > 0 ? (l.rate * R) / radiusM : Infinity,
+    bandHalfM: half(l.bandHalfM, radiusM),
+    toleranceM: half(l.toleranceM, radiusM),
+  };
+}
+
 /** Median spacing between neighbouring survey lines, metres (distance from each line's middle trace to the nearest other line). */
 export function lineSpacingM(lines: Line[], metresPerUnit: number): number {
   const lineStarts = new Int32Array(lines.length + 1);
@@ -63,10 +89,12 @@ export function lineSpacingOfM(source: LinePositions, metresPerUnit: number): nu
   const { lineStarts } = source;
   const nLines = lineStarts.length - 1;
   const queries: LineQueries = { x: [], y: [], line: [] };
+  const axes: number[] = [];
   let minX = Infinity, minY = Infinity, maxX = -Infinity, maxY = -Infinity;
   for (let l = 0; l < nLines; l++) {
     const c = source.line(l);
     const n = c.length / 2;
+    axes.push(axialDeg(c));
     if (n === 0) continue;
     for (let i = 0; i < c.length; i += 2) {
       minX = Math.min(minX, c[i]!);
@@ -84,6 +112,8 @@ export function lineSpacingOfM(source: LinePositions, metresPerUnit: number): nu
     startRadius: Math.max(extent / 256, 1e-9),
     bounds: [minX, minY, maxX, maxY],
     stride: (l) => Math.max(1, Math.floor((lineStarts[l + 1]! - lineStarts[l]!) / 2000)),
+    // a grid in two directions: the spacing within each direction, not the crossings
+    group: directionGroups(axes),
   });
   const d = Array.from(best).filter((v) => v < Infinity).map((v) => v * metresPerUnit);
   if (d.length === 0) return NaN;

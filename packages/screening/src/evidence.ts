@@ -8,7 +8,8 @@ export type TestName =
   | 'air-hyperbola'
   | 'soil-hyperbola'
   | 'unsurveyed-obstruction'
-  | 'before-background';
+  | 'before-background'
+  | 'continuity';
 
 /** One piece of screening evidence (a row of the viewer's evidence table). */
 export interface Evidence {
@@ -38,7 +39,9 @@ export interface Evidence {
  * - edge alignment +1, post spacing +1, air hyperbola +2 when a plan feature stands at c t0 / 2 from
  *   its apex (+0.75 when none does: alone it leaves a candidate a target), soil hyperbola -1,
  *   unsurveyed obstruction +2.5 (needs move-out at the air rate over at least three slices),
- *   energy on the locus before background removal +0.5.
+ *   energy on the locus before background removal +0.5;
+ * - continuity -3: a linear object that keeps its position and depth on both sides of an above-ground
+ *   field and through it (bridges.ts) is as stationary as a failed slope says.
  */
 export const WEIGHTS = {
   prior: -1,
@@ -52,6 +55,7 @@ export const WEIGHTS = {
   soilHyperbola: -1,
   unsurveyed: 2.5,
   beforeBackground: 0.5,
+  continuity: -3,
 } as const;
 
 export interface Verdict {

@@ -2,7 +2,8 @@ import { traceOutline } from '@lamina/anomalies';
 import type { PlanFeature } from '@lamina/site';
 import type { SliceGrid } from '@lamina/slices';
 import type { VelocityReport } from '@lamina/velocity';
-import { lineSpacingM, type Line } from './context';
+import { C_M_PER_NS } from '@lamina/velocity';
+import { lineSpacingM, locusAtHeight, type Line } from './context';
 import { outlineToWgs84, type FeatureCollection, type GeoJsonFeature, type ToWgs84 } from './geojson';
 import { airRadiusM, airRate } from './physics';
 import { distanceField, reflectorsOf } from './reflectors';
@@ -92,11 +93,16 @@ export function forecastLoci(plan: PlanFeature[], velocity: VelocityReport, line
     if (near > rMax) continue;
     for (const s of slices) {
       const z = 0.5 * (s.topM + s.bottomM);
-      const radius = airRadiusM(z, velocity.model, options.antennaSeparationM ?? 0);
+      const slant = airRadiusM(z, velocity.model, options.antennaSeparationM ?? 0);
       const rate = airRate(z, velocity.model);
       const thick = s.bottomM - s.topM;
-      const pulse = options.antennaFrequencyMHz ? (0.2998 * (1000 / options.antennaFrequencyMHz)) / 2 : rate * thick;
-      const half = Math.max(0.5 * (rate * thick + pulse), 0.5 * grid.cellSize * metresPerUnit);
+      const pulse = options.antennaFrequencyMHz ? (C_M_PER_NS * (1000 / options.antennaFrequencyMHz)) / 2 : rate * thick;
+      const slantHalf = 0.5 * (rate * thick + pulse);
+      // an overhead object's air wave travels the slant distance (locusAtHeight)
+      const l = locusAtHeight({ index: s.index, depthM: z, topM: s.topM, bottomM: s.bottomM, radiusM: slant, rate, bandHalfM: slantHalf, toleranceM: slantHalf }, r.heightM);
+      if (!Number.isFinite(l.radiusM)) continue;
+      const radius = l.radiusM;
+      const half = Math.max(l.bandHalfM, 0.5 * grid.cellSize * metresPerUnit);
       const cells: number[] = [];
       for (let i = 0; i < field.length; i++) if (mask[i] && Math.abs(field[i]! - radius) <= half) cells.push(i);
       if (cells.length === 0) continue;
@@ -114,6 +120,7 @@ export function forecastLoci(plan: PlanFeature[], velocity: VelocityReport, line
           source: r.source,
           radiusM: radius,
           bandHalfWidthM: half,
+          ...(r.heightM !== undefined ? { heightM: r.heightM } : {}),
         },
       });
     }

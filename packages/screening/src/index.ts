@@ -1,6 +1,6 @@
 export { velocityAt, twoWayTimeNs, depthAtTimeNs, airRadiusM, airRate } from './physics';
 export { reflectorsOf, distanceTo, distanceField, nearestSegmentAzimuth, alongDistance, type Reflector, type ReflectorKind } from './reflectors';
-export { lineSpacingM, lineSpacingOfM, sliceLoci, surveyedMask, type Line, type SliceLocus, type ToleranceOptions } from './context';
+export { lineSpacingM, lineSpacingOfM, locusAtHeight, sliceLoci, surveyedMask, type Line, type SliceLocus, type ToleranceOptions } from './context';
 export { combine, WEIGHTS, type Evidence, type TestName, type Verdict } from './evidence';
 export { forecastLoci, surveyGrid, CAUTION, type ForecastOptions, type ForecastSlice } from './forecast';
 export { outlineToWgs84, type FeatureCollection, type GeoJsonFeature, type GeoJsonGeometry, type ToWgs84 } from './geojson';

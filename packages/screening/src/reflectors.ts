@@ -2,7 +2,7 @@ import type { PlanFeature, Position } from '@lamina/site';
 import type { SliceGrid } from '@lamina/slices';
 
 /** Kinds of reflector a plan feature stands for (truth.json `aboveGround[].kind` uses the same words). */
-export type ReflectorKind = 'wall' | 'building-edge' | 'fence' | 'post' | 'tree' | 'column' | 'other';
+export type ReflectorKind = 'wall' | 'building-edge' | 'fence' | 'post' | 'tree' | 'column' | 'overhead' | 'other';
 
 /** A plan feature as reflecting geometry: segments (flat x0,y0,x1,y1,...) and points (flat x,y,...), site CRS. */
 export interface Reflector {
@@ -13,6 +13,8 @@ export interface Reflector {
   segments: Float64Array;
   points: Float64Array;
   postSpacingM?: number;
+  /** Clearance above the ground of an overhead object, m (its air wave travels the slant distance: locusAtHeight). */
+  heightM?: number;
 }
 
 function ringsOf(f: PlanFeature): Position[][] {
@@ -40,6 +42,7 @@ function kindOf(f: PlanFeature): ReflectorKind {
     case 'post':
     case 'tree':
     case 'column':
+    case 'overhead':
       return f.kind;
     default:
       return 'other';
@@ -55,13 +58,14 @@ export function reflectorsOf(plan: PlanFeature[], metresPerUnit: number): Reflec
   const out: Reflector[] = [];
   for (const f of plan) {
     const kind = kindOf(f);
+    const height = kind === 'overhead' && f.heightM !== undefined ? { heightM: f.heightM } : {};
     if (f.geometry.type === 'Point') {
-      out.push({ featureId: f.id, kind, source: 'point', segments: new Float64Array(0), points: Float64Array.from(f.geometry.coordinates) });
+      out.push({ featureId: f.id, kind, source: 'point', segments: new Float64Array(0), points: Float64Array.from(f.geometry.coordinates), ...height });
       continue;
     }
     const seg: number[] = [];
     for (const r of ringsOf(f)) for (let i = 0; i + 1 < r.length; i++) seg.push(r[i]![0], r[i]![1], r[i + 1]![0], r[i + 1]![1]);
-    out.push({ featureId: f.id, kind, source: 'line', segments: Float64Array.from(seg), points: new Float64Array(0) });
+    out.push({ featureId: f.id, kind, source: 'line', segments: Float64Array.from(seg), points: new Float64Array(0), ...height });
     const spacing = f.postSpacingM;
     if (f.kind === 'fence' && spacing && spacing > 0) {
       const step = spacing / metresPerUnit;

@@ -3,6 +3,7 @@ import type { PlanFeature } from '@lamina/site';
 import type { SliceGrid, SliceStack } from '@lamina/slices';
 import type { VelocityReport } from '@lamina/velocity';
 import { separateCrossings } from './surgery';
+import { bridgeThroughFields } from './bridges';
 import { alongLineMembers, nearestLineLabels } from './along-line';
 import { lineSpacingM, sliceLoci, surveyedMask, type Line, type ToleranceOptions } from './context';
 import { combine, type Evidence, type Verdict } from './evidence';
@@ -76,6 +77,8 @@ export interface ScreenSummary {
   lineSpacingM: number;
   /** Members cut where a target crossed an air-wave band. */
   crossingsCut: number;
+  /** Linear objects joined through an above-ground field (bridges.ts). */
+  bridges: number;
   elapsedMs: number;
 }
 
@@ -131,8 +134,9 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     rateTolerance: options.rateTolerance ?? 0.25,
     ...(beforeScores ? { beforeScores } : {}),
   };
-  // the stack before background removal is never migrated: its strips are screened on the plain loci
-  const ctxUnmigrated: ScreenContext = { ...ctx };
+  // the stack before background removal is never migrated: its strips are screened on the plain loci,
+  // and each of them lies along one line (lineBound)
+  const ctxUnmigrated: ScreenContext = { ...ctx, lineBound: true };
   const vMig = options.migrationVelocityMPerNs;
   const dir = surveyDirection(lines);
   if (vMig !== undefined && vMig > 0 && vMig < C_M_PER_NS && Number.isFinite(dir)) {
@@ -140,7 +144,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     ctx.migration = { k2: (vMig / C_M_PER_NS) ** 2, ux: Math.sin(az), uy: Math.cos(az) };
   }
   // cut buried targets out of the air-wave bands they cross, then link again
-  const sep = separateCrossings(extraction.members, stack, extraction.scores, ctx, options.minCells ?? 6, mpu);
+  const sep = separateCrossings(extraction.members, stack, extraction.scores, ctx, options.minCells ?? 6, mpu, options.threshold ?? 5);
   const members = sep.members;
   const linked =
     sep.cut === 0
@@ -187,10 +191,14 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
       const off = s.mo.fits.filter((f) => !f.passed).map((f) => f.member);
       const on = s.mo.fits.filter((f) => f.passed).map((f) => f.member);
       if (on.length > 0 && off.length > 0 && new Set(off.map((m) => m.slice)).size >= splitMin) {
-        const onPart = evaluate(build(on), c);
-        if (onPart.verdict.origin === 'above-ground') {
+        // Off-locus pieces of one slice each, with the whole anomaly above-ground, are the skirts of
+        // the same air event (the pulse's tails just outside the band): they stay with it.
+        const groups = relink(off, grid.width * grid.height, grid.cellSize, options);
+        const skirtsOnly = groups.every((g) => new Set(g.map((m) => m.slice)).size < splitMin);
+        const onPart = skirtsOnly && s.verdict.origin === 'above-ground' ? undefined : evaluate(build(on), c);
+        if (onPart && onPart.verdict.origin === 'above-ground') {
           screened.push(strip(onPart));
-          for (const g of relink(off, grid.width * grid.height, grid.cellSize, options)) screenOne(build(g), depth + 1, c);
+          for (const g of groups) screenOne(build(g), depth + 1, c);
           return;
         }
       }
@@ -198,6 +206,9 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     screened.push(strip(s));
   };
   for (const a of linked) screenOne(a, 0);
+  // pipes swallowed by ghost fields: collinear pieces on both sides, joined through the field
+  const bridged = bridgeThroughFields(screened, stack, extraction.scores, ctx, { lowThreshold: options.lowThreshold ?? 3 });
+  if (bridged.bridges > 0) screened.splice(0, screened.length, ...bridged.screened);
   // Background removal takes out a utility running along the survey lines (a flat event on its line).
   // Strips of the stack made before it, line by line and slice by slice, that no main member holds,
   // linear and along their line (alongLineMembers), are linked across depth, screened too and marked
@@ -251,6 +262,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     positionToleranceM: positionM,
     lineSpacingM: spacing,
     crossingsCut: sep.cut,
+    bridges: bridged.bridges,
     elapsedMs: performance.now() - t0,
   };
   let collection: FeatureCollection | undefined;

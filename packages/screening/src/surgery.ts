@@ -2,6 +2,7 @@ import { makeMember, type Member } from '@lamina/anomalies';
 import type { SliceStack } from '@lamina/slices';
 import type { ScreenContext } from './tests';
 import type { Reflector } from './reflectors';
+import { locusAtHeight } from './context';
 
 /**
  * Signed distance (m) of cell c from a reflector's locus of radius r. Every element of a reflector
@@ -85,21 +86,23 @@ function subComponents(cells: number[], width: number): number[][] {
 /**
  * A buried target crossing an air-wave band in one slice makes one connected component. Where a
  * member has at least 30 % of its cells in a reflector's locus band (|residual| <= band half-width +
- * position tolerance) and pieces of at least `minCells` cells (and 20 % of it) reaching beyond twice
- * that band, those pieces become members of their own; the rest stays one member. Returns the new
+ * position tolerance) and pieces of at least `minCells` cells reaching beyond twice that band that
+ * are 20 % of it or hold a cell at `seedScore` (a detection by themselves, as a pipe leaving a dense
+ * field of loci is), those pieces become members of their own; the rest stays one member. Returns the new
  * member list (ids renumbered) and how many members were cut.
  */
-export function separateCrossings(members: Member[], stack: SliceStack, scores: Float32Array[], ctx: ScreenContext, minCells: number, metresPerUnit: number): { members: Member[]; cut: number } {
+export function separateCrossings(members: Member[], stack: SliceStack, scores: Float32Array[], ctx: ScreenContext, minCells: number, metresPerUnit: number, seedScore = Infinity): { members: Member[]; cut: number } {
   const out: Member[] = [];
   let cut = 0;
   for (const m of members) {
-    const l = ctx.loci[m.slice]!;
-    const band = l.bandHalfM + ctx.positionM;
     let pieces: number[][] | undefined;
     for (let r = 0; r < ctx.reflectors.length && !pieces; r++) {
       const field = ctx.fields[r];
       if (!field) continue;
       const refl = ctx.reflectors[r]!;
+      const l = locusAtHeight(ctx.loci[m.slice]!, refl.heightM);
+      if (!Number.isFinite(l.radiusM)) continue;
+      const band = l.bandHalfM + ctx.positionM;
       let nearest = Infinity;
       for (const c of m.cells) nearest = Math.min(nearest, field[c]!);
       if (nearest > l.radiusM + band) continue;
@@ -111,8 +114,13 @@ export function separateCrossings(members: Member[], stack: SliceStack, scores: 
         (Math.abs(v) <= band ? inside : off).push(c);
       }
       const n = m.cells.length;
-      if (inside.length < 0.3 * n || off.length < Math.max(minCells, 0.2 * n)) continue;
-      const far = subComponents(off, stack.grid.width).filter((p) => p.length >= Math.max(minCells, 0.2 * n) && p.some((c) => Math.abs(res.get(c)!) >= 2 * band));
+      if (inside.length < 0.3 * n || off.length < minCells) continue;
+      const z = scores[m.slice]!;
+      // a piece is cut when it is a fifth of the member, or a detection by itself (it holds a seed),
+      // so a pipe crossing a dense field of loci is not swallowed by it
+      const far = subComponents(off, stack.grid.width).filter(
+        (p) => p.length >= minCells && (p.length >= 0.2 * n || p.some((c) => z[c]! >= seedScore)) && p.some((c) => Math.abs(res.get(c)!) >= 2 * band),
+      );
       if (far.length === 0) continue;
       const farSet = new Set(far.flat());
       pieces = [m.cells.filter((c) => !farSet.has(c)) as unknown as number[], ...far];

@@ -1,7 +1,7 @@
 import type { Anomaly3D, Member } from '@lamina/anomalies';
 import type { SliceGrid } from '@lamina/slices';
 import type { HyperbolaFit, VelocityModel } from '@lamina/velocity';
-import type { SliceLocus } from './context';
+import { locusAtHeight, type SliceLocus } from './context';
 import { WEIGHTS, type Evidence } from './evidence';
 import { C_M_PER_NS } from '@lamina/velocity';
 import { depthAtTimeNs } from './physics';
@@ -28,6 +28,13 @@ export interface ScreenContext {
    * survey direction (unit vector, site CRS axes). The air-wave loci then lie nearer their objects (cellResidual).
    */
   migration?: { k2: number; ux: number; uy: number };
+  /**
+   * Set for anomalies built line by line (the strips found before background removal): every member
+   * lies along one survey line, so its plan position cannot move from slice to slice by less than a
+   * line spacing, and the move-out slope is only measurable over more depth than one line's air event
+   * spans (see slopeEvidence).
+   */
+  lineBound?: boolean;
 }
 
 export interface MemberFit {
@@ -67,7 +74,8 @@ function memberResiduals(m: Member, refl: Reflector, field: Float32Array, radius
 
 /** Member against one reflector's locus at the member's depth. */
 export function fitMember(m: Member, refl: Reflector, field: Float32Array, ctx: ScreenContext): MemberFit {
-  const locus = ctx.loci[m.slice]!;
+  const locus = locusOf(ctx, refl, m.slice);
+  if (!Number.isFinite(locus.radiusM)) return { member: m, medianM: NaN, iqrM: NaN, residualM: Infinity, passed: false };
   const res = memberResiduals(m, refl, field, locus.radiusM, ctx);
   const residualM = quantile(res, 0.5);
   const medianM = locus.radiusM + residualM;
@@ -75,6 +83,11 @@ export function fitMember(m: Member, refl: Reflector, field: Float32Array, ctx: 
   // on the locus, and shaped like it: the cells keep to the band rather than crossing it
   const passed = Math.abs(residualM) <= locus.toleranceM && iqrM <= 2 * (locus.bandHalfM + ctx.positionM);
   return { member: m, medianM, iqrM, residualM, passed };
+}
+
+/** A reflector's locus in slice k (an overhead object's lies nearer and wider: locusAtHeight). */
+export function locusOf(ctx: ScreenContext, refl: Reflector, k: number): SliceLocus {
+  return locusAtHeight(ctx.loci[k]!, refl.heightM);
 }
 
 /** Test 1 (distance part): the reflector whose locus holds most members of the anomaly. */
@@ -91,7 +104,7 @@ export function bestMoveOut(a: Anomaly3D, ctx: ScreenContext): MoveOutResult | u
     if (near > reach) continue;
     const fits = a.members.map((m) => fitMember(m, ctx.reflectors[r]!, field, ctx));
     const fraction = fits.filter((f) => f.passed).length / fits.length;
-    const residual = fits.reduce((s, f) => s + Math.abs(f.residualM) / ctx.loci[f.member.slice]!.toleranceM, 0) / fits.length;
+    const residual = fits.reduce((s, f) => s + Math.abs(f.residualM) / locusOf(ctx, ctx.reflectors[r]!, f.member.slice).toleranceM, 0) / fits.length;
     if (!best || fraction > best.fraction || (fraction === best.fraction && residual < bestResidual)) {
       best = { reflector: r, fits, fraction };
       bestResidual = residual;
@@ -104,7 +117,7 @@ export function moveOutEvidence(mo: MoveOutResult, ctx: ScreenContext): Evidence
   const refl = ctx.reflectors[mo.reflector]!;
   const n = mo.fits.length;
   return mo.fits.map((f) => {
-    const l = ctx.loci[f.member.slice]!;
+    const l = locusOf(ctx, refl, f.member.slice);
     return {
       test: 'move-out',
       featureId: refl.featureId,
@@ -154,13 +167,17 @@ export function slopeEvidence(mo: MoveOutResult, ctx: ScreenContext): Evidence |
   });
   const zmin = Math.min(...zs), zmax = Math.max(...zs);
   if (zmax - zmin <= 0) return undefined;
-  const lmin = ctx.loci.find((l) => l.depthM === zmin)!, lmax = ctx.loci.find((l) => l.depthM === zmax)!;
-  const expected = (lmax.radiusM - lmin.radiusM) / (zmax - zmin);
   const refl = ctx.reflectors[mo.reflector]!;
+  const lmin = locusOf(ctx, refl, ks[zs.indexOf(zmin)]!), lmax = locusOf(ctx, refl, ks[zs.indexOf(zmax)]!);
+  const expected = (lmax.radiusM - lmin.radiusM) / (zmax - zmin);
+  if (!Number.isFinite(expected)) return undefined;
   const fit = slope(zs, ds);
   const se = Number.isFinite(fit.se) ? fit.se : (Math.SQRT2 * ctx.positionM) / (zmax - zmin);
   const tolerance = ctx.rateTolerance * expected + 2 * se;
-  const measurable = expected * (zmax - zmin) >= 2 * ctx.positionM && 2 * se <= 0.5 * expected;
+  // A line-bound strip sits on its line for as long as the line lies within the locus band: an air event
+  // on one line spans the depth over which the band (half-width b) sweeps past it, a shift of 2 (b + position).
+  const band = ctx.lineBound ? 2 * (0.5 * (lmin.bandHalfM + lmax.bandHalfM) + ctx.positionM) : 2 * ctx.positionM;
+  const measurable = expected * (zmax - zmin) >= band && 2 * se <= 0.5 * expected;
   const passed = Math.abs(fit.b - expected) <= tolerance;
   return {
     test: 'move-out-slope',
@@ -510,7 +527,7 @@ export function beforeBackgroundEvidence(mo: MoveOutResult, ctx: ScreenContext, 
   const g = ctx.grid;
   let best: Evidence | undefined;
   for (const f of mo.fits) {
-    const l = ctx.loci[f.member.slice]!;
+    const l = locusOf(ctx, refl, f.member.slice);
     const sc = ctx.beforeScores[f.member.slice];
     if (!sc || Math.abs(f.residualM) > l.toleranceM) continue;
     // band cells within two metres of the member's cells

@@ -3,7 +3,7 @@ export { bistaticDepth, timeToDepth, depthToTime, sampleDepths, verticalTimeNs, 
 export { type SliceWindow, type WindowOptions, type SliceMode, defaultThicknessM, sliceWindows, traceSliceValues } from './windows';
 export { type IdwOptions, type SearchFrame, searchFrame, buildIndex, nearestWithin, idwGrid, idwRows, hasNaN } from './idw';
 export { levelLines, levelFactors, quantileOf } from './levelling';
-export { type SurveyGeometry, type LinePositions, type LineQueries, surveyGeometry, surveyGeometryOf, nearestOtherLine, median } from './survey';
+export { type SurveyGeometry, type LinePositions, type LineQueries, surveyGeometry, surveyGeometryOf, nearestOtherLine, axialDeg, directionGroups, median } from './survey';
 export { type SliceStats, sliceStats, percentile } from './stats';
 export {
   type LineInput,

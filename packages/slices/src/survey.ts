@@ -2,8 +2,14 @@
 export interface SurveyGeometry {
   /** Median distance between consecutive traces of a line. */
   traceSpacing: number;
-  /** Median distance from points a quarter, half and three quarters along each line to the nearest other line; NaN for one line. */
+  /**
+   * Median distance from points a quarter, half and three quarters along each line to the nearest other
+   * line of the same direction (a grid in two directions has a spacing per direction, not the zero
+   * distance where lines cross); NaN for one line.
+   */
   lineSpacing: number;
+  /** Direction groups: 1 for parallel lines, 2 for a grid surveyed in two directions. */
+  directions: number;
   /** Mean line direction, degrees counter-clockwise from east, in [0, 180). */
   directionDeg: number;
   /** Length of the mean axial direction vector (1: all lines parallel, 0: no preferred direction). */
@@ -32,6 +38,7 @@ export function surveyGeometryOf(source: LinePositions): SurveyGeometry {
   const nLines = lineStarts.length - 1;
   if (lineStarts[nLines]! === 0) throw new Error('no trace positions to grid');
   const steps: number[] = [];
+  const axes: number[] = [];
   let c2 = 0;
   let s2 = 0;
   let totalLen = 0;
@@ -51,6 +58,7 @@ export function surveyGeometryOf(source: LinePositions): SurveyGeometry {
       if (y > maxY) maxY = y;
     }
     const b = m - 1;
+    axes.push(axialDeg(c));
     if (b <= 0) continue;
     // Subsample long lines: 200 steps per line are plenty for a median.
     const stride = Math.max(1, Math.floor(b / 200));
@@ -74,15 +82,50 @@ export function surveyGeometryOf(source: LinePositions): SurveyGeometry {
   if (directionDeg > 180 - 1e-9) directionDeg = 0;
   const parallelism = totalLen > 0 ? Math.hypot(c2, s2) / totalLen : 0;
   const bounds: [number, number, number, number] = [minX, minY, maxX, maxY];
-  const lineSpacing = nLines > 1 ? estimateLineSpacing(source, traceSpacing, bounds) : Number.NaN;
-  return { traceSpacing, lineSpacing, directionDeg, parallelism, bounds };
+  const group = directionGroups(axes);
+  const lineSpacing = nLines > 1 ? estimateLineSpacing(source, traceSpacing, bounds, group) : Number.NaN;
+  return { traceSpacing, lineSpacing, directions: new Set(group).size, directionDeg, parallelism, bounds };
+}
+
+/** Axial direction of a line's end-to-end chord, degrees counter-clockwise from east in [0, 180); NaN for a point. */
+export function axialDeg(c: ArrayLike<number>): number {
+  const n = c.length / 2;
+  if (n < 2) return Number.NaN;
+  const dx = c[2 * (n - 1)]! - c[0]!, dy = c[2 * (n - 1) + 1]! - c[1]!;
+  if (dx === 0 && dy === 0) return Number.NaN;
+  return ((((Math.atan2(dy, dx) * 180) / Math.PI) % 180) + 180) % 180;
+}
+
+/**
+ * Direction group of each line: 0 for lines within 45 degrees of the longest-running direction (the
+ * median axis of the lines, taken on doubled angles), 1 for the lines across it. A zigzag or parallel
+ * survey is one group; a grid surveyed in two directions is two. Lines with no direction join group 0.
+ */
+export function directionGroups(axes: readonly number[]): Int32Array {
+  const valid = axes.filter((a) => Number.isFinite(a));
+  const out = new Int32Array(axes.length);
+  if (valid.length === 0) return out;
+  // reference: the axis most lines lie within 45 degrees of
+  let ref = valid[0]!, bestCount = -1;
+  for (const a of valid) {
+    let n = 0;
+    for (const b of valid) if (angleDiff(a, b) <= 45) n++;
+    if (n > bestCount) [ref, bestCount] = [a, n];
+  }
+  axes.forEach((a, i) => (out[i] = Number.isFinite(a) && angleDiff(a, ref) > 45 ? 1 : 0));
+  return out;
+}
+
+function angleDiff(a: number, b: number): number {
+  const d = Math.abs(a - b) % 180;
+  return Math.min(d, 180 - d);
 }
 
 /**
  * Median over the points a quarter, half and three quarters along each line of the distance to the
  * nearest trace of another line (`nearestOtherLine`).
  */
-function estimateLineSpacing(source: LinePositions, traceSpacing: number, bounds: [number, number, number, number]): number {
+function estimateLineSpacing(source: LinePositions, traceSpacing: number, bounds: [number, number, number, number], group: Int32Array): number {
   const { lineStarts } = source;
   const nLines = lineStarts.length - 1;
   const queries: LineQueries = { x: [], y: [], line: [] };
@@ -97,7 +140,7 @@ function estimateLineSpacing(source: LinePositions, traceSpacing: number, bounds
       queries.line.push(l);
     }
   }
-  const best = nearestOtherLine(source, queries, { startRadius: Math.max(traceSpacing, 1e-9) * 4, bounds });
+  const best = nearestOtherLine(source, queries, { startRadius: Math.max(traceSpacing, 1e-9) * 4, bounds, group });
   return median(Array.from(best).filter((d) => d < Infinity));
 }
 
@@ -113,12 +156,13 @@ export interface LineQueries {
  * none), found by streaming every line past a hash of the query points: a search radius starting at
  * `startRadius`, doubled for the queries that found nothing within it, up to the extent of `bounds`.
  * Memory holds the queries and one line, never all positions. `stride(l)` takes every stride-th trace
- * of line l only (from its first). @default stride 1
+ * of line l only (from its first). With `group` (one value per line) only lines of the query's own
+ * group count. @default stride 1, one group
  */
 export function nearestOtherLine(
   source: LinePositions,
   queries: LineQueries,
-  options: { startRadius: number; bounds: [number, number, number, number]; stride?: (line: number) => number },
+  options: { startRadius: number; bounds: [number, number, number, number]; stride?: (line: number) => number; group?: Int32Array },
 ): Float64Array {
   const { lineStarts } = source;
   const nLines = lineStarts.length - 1;
@@ -152,7 +196,7 @@ export function nearestOtherLine(
             const list = hash.get(key(ax, ay));
             if (!list) continue;
             for (const q of list) {
-              if (qLine[q] === l) continue;
+              if (qLine[q] === l || (options.group && options.group[l] !== options.group[qLine[q]!])) continue;
               const d = Math.hypot(x - qx[q]!, y - qy[q]!);
               if (d <= r && d < best[q]!) best[q] = d;
             }

@@ -87,6 +87,21 @@ describe('survey geometry', () => {
     expect(g.lineSpacing).toBeCloseTo(0.5, 9);
     expect(Math.min(g.directionDeg, 180 - g.directionDeg)).toBeLessThan(1e-6);
     expect(g.parallelism).toBeCloseTo(1, 9);
+    expect(g.directions).toBe(1);
+  });
+
+  it('takes the spacing within each direction of a grid surveyed both ways, not the zero distance at crossings', () => {
+    // 0.5 m lines along x and, across them, 0.8 m lines along y, a trace every 0.05 m (positions only)
+    const xs = Float64Array.from({ length: 201 }, (_, i) => 0.05 * i);
+    const parts: number[][] = [];
+    for (let k = 0; k < 21; k++) parts.push(Array.from(xs, (x) => [x, 0.5 * k]).flat());
+    for (let k = 0; k < 13; k++) parts.push(Array.from(xs, (y) => [0.8 * k, y]).flat());
+    const lineStarts = Int32Array.from([0, ...parts.map((_, i) => parts.slice(0, i + 1).reduce((n, p) => n + p.length / 2, 0))]);
+    const g = surveyGeometry(Float64Array.from(parts.flat()), lineStarts);
+    expect(g.directions).toBe(2);
+    // median over the queries of both groups: 21 x 3 at 0.5 m and 13 x 3 at 0.8 m
+    expect(g.lineSpacing).toBeCloseTo(0.5, 9);
+    expect(g.parallelism).toBeLessThan(0.5);
   });
 });
 

@@ -412,6 +412,7 @@ async function main(): Promise<void> {
     sw(PLAN_COLOURS.fence, 'Fence', true),
     sw(PLAN_COLOURS.tree, 'Tree'),
     sw(PLAN_COLOURS.column, 'Column'),
+    sw(PLAN_COLOURS.overhead, 'Overhead object (height in its properties)', true),
     sw(PLAN_COLOURS.lines, 'Survey line'),
     h('div', {}, 'Accepted targets (APWA colour code):'),
     ...config.utilityTypes.filter((u) => usedTypes.has(u) || u !== 'unknown').map((u) => sw(config.apwa[u]?.hex ?? '#999', `${u} (${config.apwa[u]?.name ?? ''})`)),

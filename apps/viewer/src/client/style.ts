@@ -2,7 +2,7 @@ import type { StyleSpecification, LayerSpecification, SourceSpecification, Expre
 
 /** Colours of our own for the site layers. */
 export const ORIGIN_COLOURS = { subsurface: '#00a6a6', 'above-ground': '#d01c8b' } as const;
-export const PLAN_COLOURS = { building: '#8d99ae', wall: '#3d405b', fence: '#6c757d', post: '#3d405b', tree: '#2d6a4f', column: '#5f0f40', other: '#adb5bd', lines: '#1d3557', forecast: '#d01c8b' };
+export const PLAN_COLOURS = { building: '#8d99ae', wall: '#3d405b', fence: '#6c757d', post: '#3d405b', tree: '#2d6a4f', column: '#5f0f40', overhead: '#e76f51', other: '#adb5bd', lines: '#1d3557', forecast: '#d01c8b' };
 
 /** Layer groups the user toggles, each a set of maplibre layer ids (the slice raster is deck.gl). */
 export const LAYER_GROUPS: { id: string; label: string; layers: string[] }[] = [
@@ -12,6 +12,7 @@ export const LAYER_GROUPS: { id: string; label: string; layers: string[] }[] = [
   { id: 'walls', label: 'Walls', layers: ['plan-walls'] },
   { id: 'fences', label: 'Fences', layers: ['plan-fences'] },
   { id: 'points', label: 'Posts, trees, columns', layers: ['plan-points'] },
+  { id: 'overhead', label: 'Overhead (cables, beams)', layers: ['plan-overhead-line', 'plan-overhead-point'] },
   { id: 'other', label: 'Other plan features', layers: ['plan-other-fill', 'plan-other-line'] },
   { id: 'anomalies', label: 'Anomalies', layers: ['anomalies-fill', 'anomalies-line', 'anomalies-point'] },
   { id: 'forecast', label: 'Air-wave forecast (this depth)', layers: ['forecast-line', 'forecast-point'] },
@@ -70,6 +71,8 @@ export function siteLayers(apwa: Record<string, { hex: string }>): LayerSpecific
     { id: 'targets-point', type: 'circle', source: 'targets', filter: isPoint, paint: { 'circle-color': utilityColour(apwa), 'circle-radius': 6, 'circle-stroke-color': '#000', 'circle-stroke-width': 1.5 } },
     { id: 'plan-walls', type: 'line', source: 'plan', filter: kind('wall'), paint: { 'line-color': PLAN_COLOURS.wall, 'line-width': 4 } },
     { id: 'plan-fences', type: 'line', source: 'plan', filter: kind('fence'), paint: { 'line-color': PLAN_COLOURS.fence, 'line-width': 2, 'line-dasharray': [3, 1.5] } },
+    { id: 'plan-overhead-line', type: 'line', source: 'plan', filter: ['all', kind('overhead'), isLine], paint: { 'line-color': PLAN_COLOURS.overhead, 'line-width': 2, 'line-dasharray': [0.5, 1.5] } },
+    { id: 'plan-overhead-point', type: 'circle', source: 'plan', filter: ['all', kind('overhead'), isPoint], paint: { 'circle-color': 'rgba(0,0,0,0)', 'circle-radius': 5, 'circle-stroke-color': PLAN_COLOURS.overhead, 'circle-stroke-width': 2 } },
     {
       id: 'plan-points',
       type: 'circle',

@@ -1,0 +1,59 @@
+import { describe, expect, it } from 'vitest';
+import type { SliceGrid } from '@lamina/slices';
+import { screenSite } from '../src';
+import { constantVelocity, feature, identity, surveyLines, synthStack } from './synth';
+
+const C = 0.2998;
+
+/**
+ * Lines parallel to a wall: each records the wall's air wave at the constant time 2 d / c (d its
+ * distance from the wall), a flat event that background removal takes out of the main stack. In the
+ * stack before background removal the slice at depth z holds it as a strip along the one line at
+ * d = z c / v. A utility running along a line stays on its line from slice to slice. K 9 (c / v = 3),
+ * lines north-south every 0.5 m, the wall north-south 1 m west of the first line.
+ */
+describe('strips along lines parallel to a wall (before background removal)', () => {
+  const g: SliceGrid = { crs: 'local', originX: 0, originY: 12, cellSize: 0.1, width: 120, height: 120, nodata: -9999 };
+  const depths = Array.from({ length: 16 }, (_, i) => 0.15 + 0.1 * i);
+  const lines = surveyLines(g, 0.5, 0.05); // x = 0.25, 0.75, ...
+  const wallX = -0.75;
+  const gauss = (d: number, s: number) => Math.exp(-(d * d) / (2 * s * s));
+  const nearestLineX = (x: number) => 0.25 + 0.5 * Math.round((x - 0.25) / 0.5);
+  const utilityX = 8.25;
+  const main = synthStack(g, depths, 0.1, () => 0, 1);
+  const before = synthStack(g, depths, 0.1, (x, y, z) => {
+    if (y < 0.5 || y > 11.5) return 0;
+    let v = 0;
+    // the wall's flat event on the line at d = z c / v (within the pulse: a Gaussian in d of 0.2 m)
+    const lx = nearestLineX(x);
+    if (Math.abs(x - lx) < 0.15) v += 30 * gauss(lx - wallX - 3 * z, 0.2);
+    // a utility along the line at x = 8.25, 0.9 m deep
+    if (Math.abs(x - utilityX) < 0.15) v += 30 * gauss(z - 0.9, 0.08);
+    return v;
+  }, 2);
+  const plan = [feature('W', 'wall', { type: 'LineString', coordinates: [[wallX, 0], [wallX, 12]] })];
+  const res = screenSite({ stack: main, beforeBackgroundStack: before, plan, velocity: constantVelocity(C / 3), lines, metresPerUnit: 1, toWgs84: identity, lineSpacingM: 0.5 }, { antennaFrequencyMHz: 400 });
+  const fromBefore = res.anomalies.features.filter((f) => f.properties.source === 'before-background');
+
+  it('finds the strips and the utility in the stack before background removal', () => {
+    expect(fromBefore.length).toBeGreaterThanOrEqual(3);
+  });
+
+  it('flags every strip at z c / v from the wall above-ground and keeps the utility a candidate', () => {
+    const byId = new Map(res.screened.map((s) => [s.anomaly.id, s]));
+    let walls = 0, utility = 0;
+    for (const f of fromBefore) {
+      const s = byId.get(f.properties.id as string)!;
+      const x = s.anomaly.members[0]!.x;
+      if (Math.abs(x - utilityX) < 0.3) {
+        utility++;
+        expect(s.verdict.origin).toBe('subsurface');
+      } else {
+        walls++;
+        expect(s.verdict.origin, `strip at x ${x.toFixed(2)}, ${s.anomaly.depthTopM.toFixed(2)}-${s.anomaly.depthBottomM.toFixed(2)} m: ${s.evidence.map((e) => `${e.test} ${e.passed}`).join(', ')}`).toBe('above-ground');
+      }
+    }
+    expect(walls).toBeGreaterThanOrEqual(2);
+    expect(utility).toBeGreaterThanOrEqual(1);
+  });
+});
