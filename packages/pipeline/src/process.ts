@@ -165,6 +165,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       createdAt: now.toISOString(),
       site: { ...siteSummary(site), extentWgs84: ext.wgs84, extentSite: ext.site },
       identity,
+      nearSurfaceM: Math.round(screening.nearSurfaceM * 1e4) / 1e4,
       recipe,
       log,
       threads,
