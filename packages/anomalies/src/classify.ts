@@ -46,6 +46,14 @@ export function fresnelRadiusM(depthM: number, velocityMPerNs: number, frequency
   return Math.sqrt((lambda * Math.max(depthM, 0)) / 2);
 }
 
+/**
+ * Widest an anomaly seen on a single line may look, m: gridding spreads a line's values halfway to its
+ * neighbours on each side (one line spacing in all), and cells round it up by one cell.
+ */
+export function oneLineWidthM(lineSpacingM: number, cellM: number): number {
+  return lineSpacingM + cellM;
+}
+
 /** Widest a utility at depth z may look, m: its diameter plus the Fresnel zone, plus one line spacing of across-line sampling. */
 export function maxUtilityWidthM(depthM: number, ctx: ClassifyContext, options: ClassifyOptions = {}): number {
   return (options.maxUtilityDiameterM ?? 1.5) + 2 * fresnelRadiusM(depthM, ctx.velocityMPerNs, ctx.frequencyMHz) + ctx.lineSpacingM;
@@ -66,7 +74,7 @@ export function maxStructureExtentM(depthM: number, ctx: ClassifyContext, option
  *   gets `echoOf`;
  * - `layer`: wider than a utility and longer than a structure may be (a laterally extensive reflector);
  * - `utility`: linear and no wider than a utility may be;
- * - `clutter` (point-like): compact, seen across no more than one line spacing, spanning at most two
+ * - `clutter` (point-like): compact, seen on one line only (`oneLineWidthM`), spanning at most two
  *   slices (one pulse) — a stone or a root at the survey's resolution;
  * - `structure`: the other compact anomalies (a footing or a tank is wider than a line spacing, or thick).
  */
@@ -88,7 +96,7 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
       if (a.shape.widthM <= maxUtilityWidthM(z, ctx, options)) return { class: 'utility', reason: 'linear, no wider than a utility' };
       return { class: 'structure', reason: 'linear but wider than a utility' };
     }
-    if (a.shape.widthM <= ctx.lineSpacingM && slices <= 2) return { class: 'clutter', reason: 'point-like: seen on one line, one pulse thick' };
+    if (a.shape.widthM <= oneLineWidthM(ctx.lineSpacingM, ctx.cellM) && slices <= 2) return { class: 'clutter', reason: 'point-like: seen on one line, one pulse thick' };
     return { class: 'structure', reason: 'compact, wider than a line spacing or thicker than a pulse' };
   });
   // echoes: below a stronger object, mostly inside its plan cells

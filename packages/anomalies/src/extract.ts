@@ -5,7 +5,7 @@ import { fitNoiseLaw, noiseMean, noiseScores, normalIsf, type NoiseLaw } from '.
 import { robustScores } from './normalise';
 import { outlineArea, traceOutline } from './outline';
 import { cellShape, centreline, type ShapeOptions } from './shape';
-import type { Anomaly3D, Member } from './types';
+import type { Anomaly3D, Member, Shape } from './types';
 
 export interface ExtractOptions extends ShapeOptions, LinkOptions {
   /**
@@ -28,6 +28,14 @@ export interface ExtractOptions extends ShapeOptions, LinkOptions {
   correlationAreaM2?: number;
   /** Score each slice against its fitted Gamma noise law (`noise`), or by median / MAD (`robust`). @default 'noise' */
   scoring?: 'noise' | 'robust';
+  /**
+   * A component too large for any object at its depth (a laterally extensive reflector) — e.g. wider
+   * than a utility and longer than a structure (`maxUtilityWidthM`, `maxStructureExtentM`). Such a
+   * component is kept as a layer member, and the objects inside it are the parts that stand out from
+   * the layer as the layer stands out from the noise: its cells are scored against a Gamma law fitted
+   * to them and thresholded again. @default never
+   */
+  isLayer?: (shape: Shape, depthM: number) => boolean;
   /** Minimum cells of a component. @default 6 */
   minCells?: number;
   /** Minimum area of a component, m^2 (in addition to minCells). @default 0 */
@@ -85,8 +93,14 @@ export function extractAnomalies(stack: SliceStack, options: ExtractOptions = {}
     noise.push(law);
     const z = law ? noiseScores(slice.values, grid.nodata, law) : robustScores(slice.values, grid.nodata);
     scores.push(z);
-    for (const cells of components(z, grid.width, grid.height, high, low, Math.max(minCells, minCellsByArea))) {
-      members.push(makeMember(members.length, si, cells, stack, z, options, law ? noiseMean(law) : Number.NaN));
+    const min = Math.max(minCells, minCellsByArea);
+    for (const cells of components(z, grid.width, grid.height, high, low, min)) {
+      const m = makeMember(members.length, si, cells, stack, z, options, law ? noiseMean(law) : Number.NaN);
+      members.push(m);
+      if (options.isLayer?.(m.shape, m.bottomM)) {
+        m.layer = true;
+        for (const part of objectsInLayer(cells, slice.values, grid, high, low, min)) members.push(makeMember(members.length, si, part.cells, stack, part.scores, options, part.noiseEnergy));
+      }
     }
   }
   const groups = linkMembers(members, grid.width * grid.height, grid.cellSize, options);
@@ -95,6 +109,17 @@ export function extractAnomalies(stack: SliceStack, options: ExtractOptions = {}
   anomalies.sort((a, b) => a.depthTopM - b.depthTopM || a.members[0]!.x - b.members[0]!.x);
   anomalies.forEach((a, i) => (a.id = `A${String(i + 1).padStart(4, '0')}`));
   return { members, anomalies, scores, noise, threshold: high, lowThreshold: low };
+}
+
+/** Components inside a layer's cells that stand out from the layer's own Gamma law (see `isLayer`). */
+function objectsInLayer(cells: Int32Array, values: Float32Array, grid: SliceStack['grid'], high: number, low: number, minCells: number): { cells: Int32Array; scores: Float32Array; noiseEnergy: number }[] {
+  const inside = Float32Array.from(cells, (k) => values[k]!);
+  const law = fitNoiseLaw(inside, grid.nodata);
+  if (!law) return [];
+  const z = new Float32Array(grid.width * grid.height).fill(Number.NaN);
+  const zs = noiseScores(inside, grid.nodata, law);
+  for (let i = 0; i < cells.length; i++) z[cells[i]!] = zs[i]!;
+  return components(z, grid.width, grid.height, high, low, minCells).map((c) => ({ cells: c, scores: z, noiseEnergy: noiseMean(law) }));
 }
 
 /** A member (one slice's component) from its cells and the slice's robust scores. */

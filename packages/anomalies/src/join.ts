@@ -1,4 +1,5 @@
 import type { SliceGrid } from '@lamina/slices';
+import { oneLineWidthM } from './classify';
 import { cellShape, type ShapeOptions } from './shape';
 import type { Anomaly3D } from './types';
 
@@ -18,7 +19,7 @@ function angleDiff(a: number, b: number): number {
 
 /**
  * Groups pieces of one utility: anomalies that line up in plan and depth across small gaps. Only
- * linear pieces and compact ones no wider than a line spacing take part. Pairs
+ * linear pieces and compact ones seen on one line (`oneLineWidthM`) take part. Pairs
  * are tried nearest first (union-find); two groups join when their depth ranges meet within
  * `maxDepthGapM`, some cells of the two lie within `maxGapM`, their union is linear and no wider than
  * `maxWidthM(depth)` allows, and every linear piece runs along the union. Returns groups of indices
@@ -36,7 +37,7 @@ export function joinAlignedPieces(
   const gapU = (options.maxGapM ?? 2 * lineSpacingM) / mpu;
   // a piece of a utility is linear, or compact and seen on one line only (a pipe crossing the lines
   // at an angle); a compact piece wider than a line spacing is an object of its own (a footing)
-  const joinable = (a: Anomaly3D) => a.shape.kind === 'linear' || a.shape.widthM <= lineSpacingM;
+  const joinable = (a: Anomaly3D) => a.shape.kind === 'linear' || a.shape.widthM <= oneLineWidthM(lineSpacingM, grid.cellSize * mpu);
   const maxAngle = options.maxAngleDeg ?? 20;
   const box = pieces.map((a) => {
     let r0 = Infinity, r1 = -Infinity, c0 = Infinity, c1 = -Infinity;

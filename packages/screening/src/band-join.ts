@@ -142,7 +142,9 @@ export class BandJoin {
         else {
           changed = true;
           if (keep.length < minCells) continue;
-          members.push(memberOf(m.id, m.slice, Int32Array.from(keep, (i) => m.cells[i]!), Float32Array.from(keep, (i) => m.scores[i]!), stack, this.options, m.noiseEnergy));
+          const piece = memberOf(m.id, m.slice, Int32Array.from(keep, (i) => m.cells[i]!), Float32Array.from(keep, (i) => m.scores[i]!), stack, this.options, m.noiseEnergy);
+          if (m.layer) piece.layer = true;
+          members.push(piece);
         }
       }
       if (members.length === 0) continue;

@@ -4,6 +4,7 @@ import {
   extractAnomalies,
   fitNoiseLaw,
   joinAlignedPieces,
+  maxStructureExtentM,
   maxUtilityWidthM,
   noiseMean,
   traceOutline,
@@ -15,6 +16,7 @@ import {
   type ClassifyOptions,
   type ExtractOptions,
   type Member,
+  type Shape,
 } from '@lamina/anomalies';
 import { nearSurfaceDepthM } from '@lamina/slices';
 import type { PlanFeature } from '@lamina/site';
@@ -140,7 +142,16 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     for (let i = 0; i < f.length; i++) if (mask[i] && f[i]! < near) near = f[i]!;
     return near <= deepest ? f : null;
   });
-  const extraction = extractAnomalies(stack, { ...options, metresPerUnit: mpu });
+  const f = options.antennaFrequencyMHz;
+  const classCtx: ClassifyContext = {
+    velocityMPerNs: velocity.site.velocityMPerNs,
+    frequencyMHz: f && f > 0 ? f : Infinity,
+    lineSpacingM: Number.isFinite(spacing) ? spacing : cellM,
+    nearSurfaceM: options.nearSurfaceM ?? (f && f > 0 ? nearSurfaceDepthM(f, options.antennaSeparationM ?? 0, velocity.model) : 0),
+    cellM,
+  };
+  const isLayer = (shape: Shape, z: number) => shape.widthM > maxUtilityWidthM(z, classCtx, options.classes) && shape.lengthM > maxStructureExtentM(z, classCtx, options.classes);
+  const extraction = extractAnomalies(stack, { isLayer, ...options, metresPerUnit: mpu });
   let beforeScores: Float32Array[] | undefined;
   const bb = input.beforeBackgroundStack;
   if (bb && bb.grid.width === grid.width && bb.grid.height === grid.height && bb.slices.length === stack.slices.length) {
@@ -263,14 +274,6 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
       for (let i = before; i < screened.length; i++) fromBefore.add(screened[i]!.anomaly);
     }
   }
-  const f = options.antennaFrequencyMHz;
-  const classCtx: ClassifyContext = {
-    velocityMPerNs: velocity.site.velocityMPerNs,
-    frequencyMHz: f && f > 0 ? f : Infinity,
-    lineSpacingM: Number.isFinite(spacing) ? spacing : cellM,
-    nearSurfaceM: options.nearSurfaceM ?? (f && f > 0 ? nearSurfaceDepthM(f, options.antennaSeparationM ?? 0, velocity.model) : 0),
-    cellM,
-  };
   if (options.joinPieces ?? true) joinPieces(screened, fromBefore, classCtx, grid, stack, options, mpu);
   screened.sort((p, q) => p.anomaly.depthTopM - q.anomaly.depthTopM || p.anomaly.members[0]!.x - q.anomaly.members[0]!.x);
   screened.forEach((s, i) => (s.anomaly.id = `A${String(i + 1).padStart(4, '0')}`));
