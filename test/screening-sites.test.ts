@@ -12,7 +12,7 @@ import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { simulateScenarioFile } from '@lamina/simulate';
 import { runProcess } from '@lamina/pipeline';
-import { scoreFolder, type ScoreReport } from '@lamina/screening';
+import { scoreFolder, type ScoreReport } from '@lamina/scoring';
 
 const SITES = ['yard', 'carpark-ft', 'warehouse'] as const;
 type SiteName = (typeof SITES)[number];

@@ -4,6 +4,8 @@ import { bistaticOnSegment, edgeFactor, projectOnLine, type SegmentHit, type Vec
 import { rayAverages, interfaceDepth, type RayAverages } from './medium';
 import type { LineGeom, Model, Scatterer } from './model';
 import { rng } from './prng';
+import { normalQuantile, pinkNoise, randomField } from './fields';
+import { reflectionCoefficient } from './physics';
 
 /**
  * The forward model of one common-offset line (see README "Physics"). Each trace is a sum of Ricker
@@ -91,6 +93,7 @@ export function simulateLine(m: Model, line: LineGeom): LineResult {
   const ringDecay = 3 * ringPeriod;
   const wowTau = 6 / fGHz;
   const active = reachable(m, line, recordEnd);
+  const extra = lineEffects(m, line);
 
   const record = (s: Scatterer, idx: number, amp: number, halfPath: number, arrival: number): void => {
     if (s.truth < 0) return;
@@ -113,12 +116,19 @@ export function simulateLine(m: Model, line: LineGeom): LineResult {
     rx.x = mx + half * line.dx;
     rx.y = my + half * line.dy;
     const jitter = Math.max(-3, Math.min(3, r.gauss())) * m.timeZeroJitterNs;
-    const t0 = m.timeZeroNs + (n > 1 ? (m.timeZeroDriftNs * j) / (n - 1) : 0) + jitter;
+    const t0 = m.timeZeroNs + (n > 1 ? (m.timeZeroDriftNs * j) / (n - 1) : 0) + jitter + (extra.timeZeroStep ? extra.timeZeroStep[j]! : 0);
     t0s[j] = t0;
+    // Rough ground: the antenna rides an air gap a over the surface; everything in the soil comes 2a/c later.
+    const gap = extra.gap ? extra.gap(mx, my) : 0;
+    const soilDelay = (2 * gap) / C_M_PER_NS;
 
     // Direct air wave and ground wave between the antennas.
     addRicker(trace, dt, t0 + m.separationM / C_M_PER_NS, m.directWave, f);
-    addRicker(trace, dt, t0 + m.separationM / m.medium.v, m.groundWave, f);
+    addRicker(trace, dt, t0 + soilDelay + m.separationM / m.medium.v, m.groundWave, f);
+    if (gap > 0) {
+      const surf = reflectionCoefficient(1, m.medium.k) * ((2 * gap) / (2 * gap + lambdaAir / 4));
+      addRicker(trace, dt, t0 + Math.hypot(m.separationM, 2 * gap) / C_M_PER_NS, surf, f);
+    }
     for (let k = 1; k <= 8; k++) {
       const a = m.ringing * (k % 2 === 0 ? 1 : -1) * Math.exp((-k * ringPeriod) / ringDecay);
       addRicker(trace, dt, t0 + m.separationM / C_M_PER_NS + k * ringPeriod, a, f);
@@ -130,7 +140,8 @@ export function simulateLine(m: Model, line: LineGeom): LineResult {
     }
 
     // Layer interfaces: mirror the transmitter in the (dipping) plane.
-    for (const itf of m.medium.interfaces) {
+    for (let ii = 0; ii < m.medium.interfaces.length; ii++) {
+      const itf = m.medium.interfaces[ii]!;
       const nn = Math.hypot(itf.gx, itf.gy, 1);
       const nx = -itf.gx / nn, ny = -itf.gy / nn, nz = 1 / nn;
       const h = (-itf.gx * tx.x - itf.gy * tx.y - itf.d0) / nn; // signed distance of Tx to the plane (negative: above)
@@ -139,10 +150,12 @@ export function simulateLine(m: Model, line: LineGeom): LineResult {
       const zs = interfaceDepth(itf, mx, my);
       if (zs <= 0) continue;
       rayAverages(m.medium, mx, my, zs * (1 - 1e-9), ray);
-      const arrival = t0 + L * ray.slowness;
+      const arrival = t0 + soilDelay + L * ray.slowness;
       if (arrival > recordEnd) continue;
       const cos = Math.min(1, (2 * Math.abs(h)) / L);
-      const amp = (itf.r * ray.transmission * Math.pow(cos, 2 * beamN) * attenuationFactor(ray.attDbPerM, L)) / Math.max(L, MIN_PATH_M);
+      const patch = extra.patch[ii] ? extra.patch[ii]!(mx, my) : 1;
+      if (patch <= 0) continue;
+      const amp = (patch * itf.r * ray.transmission * Math.pow(cos, 2 * beamN) * attenuationFactor(ray.attDbPerM, L)) / Math.max(L, MIN_PATH_M);
       addRicker(trace, dt, arrival, amp, f);
     }
 
@@ -156,7 +169,7 @@ export function simulateLine(m: Model, line: LineGeom): LineResult {
         // Reached through the air: no soil attenuation, no soil beam; the shield lets little energy out.
         if (s.type === 'segment') {
           if (s.outward && (mx - s.ax) * s.outward[0] + (my - s.ay) * s.outward[1] <= 0) continue;
-          bistaticOnSegment(tx, rx, s.ax, s.ay, 0, s.bx, s.by, 0, hit);
+          bistaticOnSegment(tx, rx, s.ax, s.ay, s.az, s.bx, s.by, s.bz, hit);
           L = hit.sum;
           arrival = t0 + L / C_M_PER_NS;
           if (arrival > recordEnd) continue;
@@ -165,8 +178,9 @@ export function simulateLine(m: Model, line: LineGeom): LineResult {
           const rf = Math.sqrt((lambdaAir * L) / 4);
           amp = (m.shielding * s.r * edgeFactor(Math.min(u, 1 - u) * segLen, rf)) / Math.max(L, MIN_AIR_PATH_M);
         } else if (s.type === 'point') {
-          const d1 = Math.hypot(tx.x - s.x, tx.y - s.y);
-          const d2 = Math.hypot(rx.x - s.x, rx.y - s.y);
+          // s.z: the height of an overhead point (0 for posts, trees and columns standing on the ground)
+          const d1 = s.z === 0 ? Math.hypot(tx.x - s.x, tx.y - s.y) : Math.hypot(tx.x - s.x, tx.y - s.y, s.z);
+          const d2 = s.z === 0 ? Math.hypot(rx.x - s.x, rx.y - s.y) : Math.hypot(rx.x - s.x, rx.y - s.y, s.z);
           L = Math.max(d1 + d2 - 2 * s.radius, 0);
           arrival = t0 + L / C_M_PER_NS;
           if (arrival > recordEnd) continue;
@@ -237,17 +251,27 @@ export function simulateLine(m: Model, line: LineGeom): LineResult {
         const inside = Math.min(s.hl - Math.abs(along), s.hw - Math.abs(across));
         geom = (edgeFactor(inside, rf) * Math.min(1, (4 * s.hl * s.hw) / (Math.PI * rf * rf))) / L;
       }
-      arrival = t0 + L * ray.slowness;
+      arrival = t0 + soilDelay + L * ray.slowness;
       if (arrival > recordEnd) continue;
       const beam = Math.pow(Math.max(0, cosTx) * Math.max(0, cosRx), beamN);
       amp = s.r * ray.transmission * attenuationFactor(ray.attDbPerM, L) * beam * geom;
       if (Math.abs(amp) < 1e-7) continue;
       addRicker(trace, dt, arrival, amp, f);
       record(s, si, amp, L / 2, arrival);
+      if (s.type === 'segment' && s.echoes) for (let k = 1; k <= s.echoes.n; k++) addRicker(trace, dt, arrival + k * s.echoes.dtNs, amp * s.echoes.factor ** k, f);
     }
 
-    // Band-limited random noise.
-    if (m.noiseRms > 0) {
+    // Coupling: a slowly varying amplitude of everything the antenna receives (not of the electronics' noise).
+    if (extra.gain) {
+      const g = extra.gain[j]!;
+      for (let i = 0; i < ns; i++) trace[i] = trace[i]! * g;
+    }
+
+    if (m.noiseRms > 0 && m.noiseColour === 'pink') {
+      pinkNoise(r, ns, white);
+      for (let i = 0; i < ns; i++) trace[i] = trace[i]! + white[i]! * m.noiseRms;
+    } else if (m.noiseRms > 0) {
+      // Band-limited random noise.
       for (let i = 0; i < ns; i++) white[i] = r.gauss() * m.noiseRms;
       for (let i = 0; i < ns; i++) {
         let acc = 0;
@@ -300,4 +324,57 @@ function reachable(m: Model, line: LineGeom, recordEnd: number): Int32Array {
     if (Math.hypot(dx, dy) <= reach) out.push(i);
   });
   return Int32Array.from(out);
+}
+
+interface LineEffects {
+  /** Time-zero offset per trace (ns), steps along the line. */
+  timeZeroStep: Float64Array | null;
+  /** Relative amplitude per trace (coupling). */
+  gain: Float64Array | null;
+  /** Air gap under the antenna (m) at a plan position. */
+  gap: ((x: number, y: number) => number) | null;
+  /** Per interface: share of its reflection kept at a plan position (patchy layers). */
+  patch: (((x: number, y: number) => number) | null)[];
+}
+
+/**
+ * The optional effects of a richer scene, each from its own random stream (so a scene without them
+ * keeps its bytes): steps of time-zero and a slowly varying coupling along the line; the same rough
+ * ground and patches for every line (site-wide streams).
+ */
+function lineEffects(m: Model, line: LineGeom): LineEffects {
+  const n = line.mx.length;
+  const out: LineEffects = { timeZeroStep: null, gain: null, gap: null, patch: m.patches.map(() => null) };
+  if (m.timeZeroStepsPerLine > 0 && m.timeZeroStepNs > 0) {
+    const r = rng(m.scenario.seed, `tzsteps:${line.id}`);
+    const steps = out.timeZeroStep = new Float64Array(n);
+    for (let k = 0; k < m.timeZeroStepsPerLine; k++) {
+      const at = Math.floor(r.next() * n);
+      const d = (2 * r.next() - 1) * m.timeZeroStepNs;
+      for (let j = at; j < n; j++) steps[j] = steps[j]! + d;
+    }
+  }
+  if (m.couplingGainRms > 0) {
+    const r = rng(m.scenario.seed, `coupling:${line.id}`);
+    const field = randomField(r, m.couplingLengthM, 16);
+    const g = out.gain = new Float64Array(n);
+    let along = 0;
+    for (let j = 0; j < n; j++) {
+      if (j > 0) along += Math.hypot(line.mx[j]! - line.mx[j - 1]!, line.my[j]! - line.my[j - 1]!);
+      g[j] = Math.max(0.05, 1 + m.couplingGainRms * field(along, 0));
+    }
+  }
+  if (m.roughness.rmsM > 0) {
+    const field = randomField(rng(m.scenario.seed, 'roughness'), m.roughness.correlationM);
+    const rms = m.roughness.rmsM;
+    out.gap = (x, y) => Math.abs(rms * field(x, y));
+  }
+  m.patches.forEach((p, i) => {
+    if (p.patchiness <= 0) return;
+    const field = randomField(rng(m.scenario.seed, `patches:${i}`), p.sizeM);
+    const threshold = normalQuantile(p.patchiness);
+    // a soft edge a tenth of the field's spread wide, so a patch boundary is not a step in the plan
+    out.patch[i] = (x, y) => Math.max(0, Math.min(1, (field(x, y) - threshold) / 0.2 + 0.5));
+  });
+  return out;
 }

@@ -8,3 +8,4 @@ export { buildModel, lineId, type Model, type Scatterer, type LineGeom, type Tru
 export { simulateLine, newStats, mergeStats, STAT_FIELDS, type LineResult } from './forward';
 export { buildTruth, type Truth } from './truth';
 export { simulateSite, simulateScenarioFile, scenarioCrs, scenarioModel, planGeoJson, INTEGER_SCALE, type SimulateOptions, type SimulatedSite } from './site';
+export { randomScenario, type RandomScenarioOptions } from './random-scene';

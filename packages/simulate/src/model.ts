@@ -1,6 +1,6 @@
-import type { Scenario } from './scenario';
+import { crossSign, surveyGridCounts, type Scenario } from './scenario';
 import { buildMedium, type Medium } from './medium';
-import { MATERIAL_PERMITTIVITY, materialReflection, type Material } from './physics';
+import { C_M_PER_NS, MATERIAL_PERMITTIVITY, materialReflection, type Material } from './physics';
 import { ringArea } from './geometry';
 
 /**
@@ -10,7 +10,7 @@ import { ringArea } from './geometry';
  */
 
 export type Spreading = 'plane' | 'cylinder' | 'sphere';
-export type AboveGroundKind = 'wall' | 'building-edge' | 'fence' | 'post' | 'tree' | 'column';
+export type AboveGroundKind = 'wall' | 'building-edge' | 'fence' | 'post' | 'tree' | 'column' | 'overhead';
 
 export interface SegmentScatterer {
   type: 'segment';
@@ -26,6 +26,8 @@ export interface SegmentScatterer {
   polarised: boolean;
   /** For building edges: only the outward side sees the face. Unit outward normal in plan. */
   outward?: [number, number];
+  /** Echoes below a pipe: count, delay between echoes (ns) and amplitude factor per echo. */
+  echoes?: { n: number; dtNs: number; factor: number };
 }
 
 export interface PointScatterer {
@@ -113,11 +115,22 @@ export interface Model {
   noiseRms: number;
   wow: number;
   ringing: number;
+  noiseColour: 'band' | 'pink';
+  couplingGainRms: number;
+  couplingLengthM: number;
+  timeZeroStepsPerLine: number;
+  timeZeroStepNs: number;
+  /** Rough ground (RMS height and correlation length, m); rms 0 = flat. */
+  roughness: { rmsM: number; correlationM: number };
+  /** Per interface of `medium`: share of the plan without a reflection and the patch size (m). */
+  patches: { patchiness: number; sizeM: number }[];
   scatterers: Scatterer[];
   buried: TruthBuried[];
   above: TruthAbove[];
   /** Clutter points (not targets): [x, y, depthM] in CRS units. */
   clutter: [number, number, number][];
+  /** Roots (not targets): [x0, y0, z0, x1, y1, z1], CRS units and depth m. */
+  roots: [number, number, number, number, number, number][];
   lines: LineGeom[];
 }
 
@@ -157,7 +170,8 @@ export function buildModel(s: Scenario, metresPerUnit: number, clutterRng: () =>
       const k = kAt((ax + bx) / 2, (ay + by) / 2, (az + bz) / 2);
       const r = materialReflection(b.material, k, b.permittivity);
       const t = buried.push({ id: b.id, kind: b.kind, ...(b.utility ? { utility: b.utility } : {}), ...(b.group ? { group: b.group } : {}), from: [...b.from], to: [...b.to], radiusM: b.radiusM, shape: 'cylinder', material: b.material, reflectionCoefficient: r }) - 1;
-      scatterers.push({ type: 'segment', truth: t, medium: 'soil', ax, ay, az, bx, by, bz, radius: b.radiusM, r, spread: 'cylinder', polarised: true });
+      const echoes = b.multiples ? pipeEchoes(b.material, b.radiusM, b.multiples, frequencyOf(s)) : undefined;
+      scatterers.push({ type: 'segment', truth: t, medium: 'soil', ax, ay, az, bx, by, bz, radius: b.radiusM, r, spread: 'cylinder', polarised: true, ...(echoes ? { echoes } : {}) });
     } else if (b.kind === 'compact') {
       const n = b.repeat?.count ?? 1;
       const rep = b.repeat;
@@ -217,7 +231,7 @@ export function buildModel(s: Scenario, metresPerUnit: number, clutterRng: () =>
       const postMaterial = f.postMaterial ?? 'metal';
       const postRadius = f.postRadiusM ?? ABOVE_DEFAULTS.post.radiusM;
       const rPost = airReflection(postMaterial, undefined);
-      const panel = f.panelReflectivity ?? 0.1;
+      const panel = f.panelReflectivity ?? (f.mesh ? 0.9 : 0.1);
       let k = 0;
       const addPost = (X: number, Y: number): void => {
         k++;
@@ -240,6 +254,24 @@ export function buildModel(s: Scenario, metresPerUnit: number, clutterRng: () =>
       }
       const end = f.path[f.path.length - 1]!;
       addPost(end[0], end[1]);
+    } else if (f.kind === 'overhead') {
+      // A cable, beam or branch in the air: its air wave travels the slant distance to the height h.
+      const material = f.material ?? 'metal';
+      const radius = f.radiusM ?? 0.02;
+      const r = airReflection(material, f.permittivity);
+      const h = f.heightM;
+      if (f.path) {
+        for (let i = 0; i + 1 < f.path.length; i++) {
+          const p = f.path[i]!, q = f.path[i + 1]!;
+          const id = f.path.length > 2 ? `${f.id}-seg-${i + 1}` : f.id;
+          const t = above.push({ id, planFeatureId: f.id, kind: 'overhead', from: [p[0], p[1]], to: [q[0], q[1]], heightM: h, radiusM: radius, material, reflectionCoefficient: r }) - 1;
+          scatterers.push({ type: 'segment', truth: t, medium: 'air', ax: lx(p[0]), ay: ly(p[1]), az: h, bx: lx(q[0]), by: ly(q[1]), bz: h, radius, r, spread: 'cylinder', polarised: false });
+        }
+      } else {
+        const at = f.at!;
+        const t = above.push({ id: f.id, planFeatureId: f.id, kind: 'overhead', center: [at[0], at[1]], heightM: h, radiusM: radius, material, reflectionCoefficient: r }) - 1;
+        scatterers.push({ type: 'point', truth: t, medium: 'air', x: lx(at[0]), y: ly(at[1]), z: h, radius, r, spread: 'sphere' });
+      }
     } else {
       const d = ABOVE_DEFAULTS[f.kind];
       const material = f.material ?? d.material;
@@ -255,9 +287,9 @@ export function buildModel(s: Scenario, metresPerUnit: number, clutterRng: () =>
   const az = (sv.azimuthDeg * Math.PI) / 180;
   const ux = Math.sin(az), uy = Math.cos(az);
   const rx = Math.cos(az), ry = -Math.sin(az);
-  const nLines = Math.floor(sv.widthM / sv.lineSpacingM + 1e-9) + 1;
+  const [nLines, nCross] = surveyGridCounts(s);
   const nTraces = Math.floor(sv.lengthM / sv.traceSpacingM + 1e-9) + 1;
-  const ids = Array.from({ length: nLines }, (_, i) => lineId(i, nLines));
+  const ids = Array.from({ length: nLines + nCross }, (_, i) => lineId(i, nLines + nCross));
   const startEnd = new Set(sv.startEndLines ?? (nLines >= 3 ? [ids[1]!] : []));
   const csv = new Set(sv.csvLines ?? (nLines >= 3 ? [ids[2]!] : []));
   const lines: LineGeom[] = [];
@@ -273,6 +305,26 @@ export function buildModel(s: Scenario, metresPerUnit: number, clutterRng: () =>
     const id = ids[i]!;
     lines.push({ id, index: i, mx, my, dx: reverse ? -ux : ux, dy: reverse ? -uy : uy, positionSource: startEnd.has(id) ? 'startEnd' : csv.has(id) ? 'csv' : 'headers' });
   }
+  if (nCross > 0) {
+    // The second grid: lines across the rectangle (along +-r), stepped along u from the origin's edge.
+    const sign = crossSign(sv.azimuthDeg, sv.crossAzimuthDeg!);
+    const step = sv.crossLineSpacingM ?? sv.lineSpacingM;
+    const nT = Math.floor(sv.widthM / sv.traceSpacingM + 1e-9) + 1;
+    for (let i = 0; i < nCross; i++) {
+      const reverse = (sv.pattern ?? 'zigzag') === 'zigzag' && i % 2 === 1;
+      const mx = new Float64Array(nT);
+      const my = new Float64Array(nT);
+      for (let j = 0; j < nT; j++) {
+        const k = reverse ? nT - 1 - j : j;
+        const b = sign > 0 ? k * sv.traceSpacingM : sv.widthM - k * sv.traceSpacingM;
+        mx[j] = i * step * ux + b * rx;
+        my[j] = i * step * uy + b * ry;
+      }
+      const id = ids[nLines + i]!;
+      const d = (reverse ? -1 : 1) * sign;
+      lines.push({ id, index: nLines + i, mx, my, dx: d * rx, dy: d * ry, positionSource: startEnd.has(id) ? 'startEnd' : csv.has(id) ? 'csv' : 'headers' });
+    }
+  }
 
   // Clutter: stones and roots, uniformly over the surveyed rectangle plus a metre around it.
   const density = s.noise?.clutterPerM2 ?? 0.3;
@@ -284,11 +336,31 @@ export function buildModel(s: Scenario, metresPerUnit: number, clutterRng: () =>
     const a = -1 + clutterRng() * (sv.lengthM + 2);
     const b = -1 + clutterRng() * (sv.widthM + 2);
     const z = 0.05 + clutterRng() * (maxDepth - 0.05);
-    const radius = 0.02 + clutterRng() * 0.06;
+    const u = clutterRng();
+    const cr = s.noise?.clutterRadiusM;
+    const radius = cr ? cr[0] * Math.pow(cr[1] / cr[0], u) : 0.02 + u * 0.06;
     const r = (clutterRng() < 0.5 ? -1 : 1) * (0.1 + 0.3 * clutterRng());
     const x = a * ux + b * rx, y = a * uy + b * ry;
     clutter.push([ox + x / mpu, oy + y / mpu, z]);
     scatterers.push({ type: 'point', truth: -1, medium: 'soil', x, y, z, radius, r, spread: 'sphere' });
+  }
+  // Roots: short shallow linear reflectors (wet wood in soil), drawn after the stones so that sites
+  // without roots keep their clutter.
+  const roots: Model['roots'] = [];
+  const nRoots = Math.round((s.noise?.rootsPerM2 ?? 0) * area);
+  for (let i = 0; i < nRoots; i++) {
+    const a = -1 + clutterRng() * (sv.lengthM + 2);
+    const b = -1 + clutterRng() * (sv.widthM + 2);
+    const z0 = 0.05 + clutterRng() * 0.45;
+    const len = 0.3 + clutterRng() * 1.2;
+    const th = clutterRng() * 2 * Math.PI;
+    const z1 = Math.max(0.03, z0 + (clutterRng() - 0.5) * 0.3);
+    const radius = 0.005 + clutterRng() * 0.025;
+    const r = 0.1 + 0.25 * clutterRng();
+    const x0 = a * ux + b * rx, y0 = a * uy + b * ry;
+    const x1 = x0 + len * Math.sin(th), y1 = y0 + len * Math.cos(th);
+    roots.push([ox + x0 / mpu, oy + y0 / mpu, z0, ox + x1 / mpu, oy + y1 / mpu, z1]);
+    scatterers.push({ type: 'segment', truth: -1, medium: 'soil', ax: x0, ay: y0, az: z0, bx: x1, by: y1, bz: z1, radius, r, spread: 'cylinder', polarised: true });
   }
 
   const a = s.antenna;
@@ -312,12 +384,36 @@ export function buildModel(s: Scenario, metresPerUnit: number, clutterRng: () =>
     noiseRms: s.noise?.rms ?? 0.002,
     wow: s.noise?.wow ?? 0.2,
     ringing: s.noise?.ringing ?? 0.02,
+    noiseColour: s.noise?.colour ?? 'band',
+    couplingGainRms: s.noise?.couplingGainRms ?? 0,
+    couplingLengthM: s.noise?.couplingLengthM ?? 5,
+    timeZeroStepsPerLine: s.noise?.timeZeroStepsPerLine ?? 0,
+    timeZeroStepNs: s.noise?.timeZeroStepNs ?? 0,
+    roughness: { rmsM: s.soil.roughness?.rmsM ?? 0, correlationM: s.soil.roughness?.correlationM ?? 1 },
+    patches: (s.soil.layers ?? []).map((l) => ({ patchiness: l.patchiness ?? 0, sizeM: l.patchSizeM ?? 3 })),
     scatterers,
     buried,
     above,
     clutter,
+    roots,
     lines,
   };
+}
+
+function frequencyOf(s: Scenario): number {
+  return s.antenna.frequencyMHz;
+}
+
+/**
+ * Echoes below a pipe (common practice, no source; a kinematic sketch, not a full-wave result): an
+ * air-filled pipe returns its far wall 4 r / c after the near one, with the opposite sign and each echo
+ * weaker (transmission in and out of the wall); a metal pipe rings at about the antenna's period
+ * (surface waves around the pipe and the antenna-pipe reverberation), alternating in sign.
+ */
+export function pipeEchoes(material: Material, radiusM: number, n: number, frequencyMHz: number): { n: number; dtNs: number; factor: number } | undefined {
+  if (material === 'air') return { n, dtNs: (4 * radiusM) / C_M_PER_NS, factor: -0.6 };
+  if (material === 'metal') return { n, dtNs: 1000 / frequencyMHz, factor: -0.5 };
+  return undefined;
 }
 
 /** Permittivity of the layer containing depth z at (x, y). */

@@ -37,12 +37,16 @@ export const planFeatureSchema = z.discriminatedUnion('kind', [
     postSpacingM: pos,
     postRadiusM: pos.optional(),
     postMaterial: material.optional(),
-    /** Amplitude reflectivity of the fence panels between posts (0: invisible mesh). @default 0.1 */
+    /** Amplitude reflectivity of the fence panels between posts (0: invisible mesh). @default 0.1 (0.9 with `mesh`) */
     panelReflectivity: nonneg.optional(),
+    /** A continuous metal mesh between the posts: a strong line reflector. @default false */
+    mesh: z.boolean().optional(),
   }),
   z.strictObject({ kind: z.literal('post'), ...planBase, at: xy, radiusM: pos.optional() }),
   z.strictObject({ kind: z.literal('tree'), ...planBase, at: xy, radiusM: pos.optional() }),
   z.strictObject({ kind: z.literal('column'), ...planBase, at: xy, radiusM: pos.optional() }),
+  /** A cable, beam, canopy edge or branch `heightM` above the ground: a line (`path`) or a point (`at`). */
+  z.strictObject({ kind: z.literal('overhead'), ...planBase, heightM: pos, path: z.array(xy).min(2).optional(), at: xy.optional(), radiusM: pos.optional() }),
 ]);
 
 const repeat = z.strictObject({ count: z.number().int().min(2).max(1000), spacingM: pos, azimuthDeg: num });
@@ -59,6 +63,11 @@ export const buriedSchema = z.discriminatedUnion('kind', [
     radiusM: pos,
     material,
     permittivity: pos.optional(),
+    /**
+     * Echoes below the pipe: ringing of a metal pipe, the far-wall reflection of an air-filled one
+     * (see README, "Big pipes"). @default 0
+     */
+    multiples: z.number().int().min(0).max(8).optional(),
     note: z.string().optional(),
   }),
   z.strictObject({
@@ -89,6 +98,10 @@ export const layerSchema = z.strictObject({
   /** Dip of the interface (degrees from horizontal) and the azimuth it dips towards. @default 0 */
   dipDeg: z.number().min(0).max(30).optional(),
   dipAzimuthDeg: num.optional(),
+  /** Share of the plan where the interface reflects nothing (a laterally discontinuous layer), 0..0.95. @default 0 */
+  patchiness: z.number().min(0).max(0.95).optional(),
+  /** Size of the patches (correlation length of the random field), m. @default 3 */
+  patchSizeM: pos.optional(),
 });
 
 export const scenarioSchema = z.strictObject({
@@ -125,6 +138,8 @@ export const scenarioSchema = z.strictObject({
     permittivity: z.number().min(1).max(81),
     attenuationDbPerM: nonneg,
     layers: z.array(layerSchema).optional(),
+    /** Rough ground: a random surface height field (RMS and correlation length, m); see README "Rough ground". */
+    roughness: z.strictObject({ rmsM: nonneg, correlationM: pos }).optional(),
   }),
   noise: z
     .strictObject({
@@ -137,6 +152,18 @@ export const scenarioSchema = z.strictObject({
       /** Small random scatterers (stones, roots) per square metre of surveyed ground. @default 0.3 */
       clutterPerM2: nonneg.optional(),
       clutterMaxDepthM: pos.optional(),
+      /** Clutter radii drawn log-uniformly in [min, max] (m). @default uniform in [0.02, 0.08] */
+      clutterRadiusM: z.tuple([pos, pos]).optional(),
+      /** Roots: short shallow linear reflectors per square metre. @default 0 */
+      rootsPerM2: nonneg.optional(),
+      /** Spectrum of the random noise: "band" (the wavelet's band) or "pink" (1/f power, broadband). @default "band" */
+      colour: z.enum(['band', 'pink']).optional(),
+      /** Coupling along a line: RMS of a slowly varying relative amplitude, its correlation length (m). @default 0, 5 */
+      couplingGainRms: nonneg.optional(),
+      couplingLengthM: pos.optional(),
+      /** Time-zero steps along a line (antenna lifted, cable moved): count per line and the largest step (ns). @default 0, 0 */
+      timeZeroStepsPerLine: z.number().int().min(0).max(100).optional(),
+      timeZeroStepNs: nonneg.optional(),
     })
     .optional(),
   survey: z.strictObject({
@@ -156,6 +183,13 @@ export const scenarioSchema = z.strictObject({
     /** Lines (ids "l01", "l02", ...) whose positions go in site.json as start/end or in a CSV. @default one each */
     startEndLines: z.array(id).optional(),
     csvLines: z.array(id).optional(),
+    /**
+     * A second grid over the same rectangle, lines at this azimuth (azimuthDeg +- 90), ids continuing
+     * after the first grid's. @default none
+     */
+    crossAzimuthDeg: num.optional(),
+    /** Line spacing of the second grid (m). @default lineSpacingM */
+    crossLineSpacingM: pos.optional(),
   }),
   plan: z.array(planFeatureSchema).default([]),
   buried: z.array(buriedSchema).default([]),
@@ -229,7 +263,7 @@ export function parseScenario(value: unknown, file = 'scenario.json'): Scenario 
   });
   const sv = s.survey;
   const nTraces = Math.floor(sv.lengthM / sv.traceSpacingM + 1e-9) + 1;
-  const nLines = Math.floor(sv.widthM / sv.lineSpacingM + 1e-9) + 1;
+  const nLines = surveyLineCount(s);
   if (nTraces < 2 || nTraces > 1_000_000) throw new InputError(file, `expected 2 to 1000000 traces per line (lengthM / traceSpacingM + 1), found ${nTraces}`, { field: 'survey.traceSpacingM' });
   if (nLines > 100_000) throw new InputError(file, `expected at most 100000 lines (widthM / lineSpacingM + 1), found ${nLines}`, { field: 'survey.lineSpacingM' });
   const ids = new Set(Array.from({ length: nLines }, (_, i) => `l${String(i + 1).padStart(Math.max(2, String(nLines).length), '0')}`));
@@ -238,9 +272,34 @@ export function parseScenario(value: unknown, file = 'scenario.json'): Scenario 
       if (!ids.has(id)) throw new InputError(file, `expected a line id of this survey (l01 ... ${[...ids].pop()}), found "${id}"`, { field: `survey.${key}[${i}]` });
     });
   }
+  if (sv.crossAzimuthDeg !== undefined && crossSign(sv.azimuthDeg, sv.crossAzimuthDeg) === 0) {
+    throw new InputError(file, `expected a cross azimuth at right angles to the lines (${sv.azimuthDeg} +- 90), found ${sv.crossAzimuthDeg}`, { field: 'survey.crossAzimuthDeg' });
+  }
+  s.plan.forEach((f, i) => {
+    if (f.kind === 'overhead' && (f.path === undefined) === (f.at === undefined)) throw new InputError(file, 'expected either "path" (a line) or "at" (a point)', { field: `plan[${i}]` });
+  });
   const t = s.recording;
   if (t.timeZeroNs >= t.samples * t.sampleIntervalNs) {
     throw new InputError(file, `expected time-zero inside the record (< ${t.samples * t.sampleIntervalNs} ns), found ${t.timeZeroNs}`, { field: 'recording.timeZeroNs' });
   }
   return s;
+}
+
+/** +1 when the cross azimuth is the lines' azimuth + 90 degrees, -1 for - 90, 0 otherwise. */
+export function crossSign(azimuthDeg: number, crossAzimuthDeg: number): number {
+  const d = (((crossAzimuthDeg - azimuthDeg) % 360) + 360) % 360;
+  return Math.abs(d - 90) < 1e-9 ? 1 : Math.abs(d - 270) < 1e-9 ? -1 : 0;
+}
+
+/** Lines of the first grid and of the second (0 without `crossAzimuthDeg`). */
+export function surveyGridCounts(s: Scenario): [number, number] {
+  const sv = s.survey;
+  const n = Math.floor(sv.widthM / sv.lineSpacingM + 1e-9) + 1;
+  if (sv.crossAzimuthDeg === undefined) return [n, 0];
+  return [n, Math.floor(sv.lengthM / (sv.crossLineSpacingM ?? sv.lineSpacingM) + 1e-9) + 1];
+}
+
+export function surveyLineCount(s: Scenario): number {
+  const [a, b] = surveyGridCounts(s);
+  return a + b;
 }

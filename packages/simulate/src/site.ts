@@ -178,6 +178,9 @@ export function planGeoJson(s: Scenario, crs: Crs): { type: 'FeatureCollection';
     } else if (f.kind === 'wall' || f.kind === 'fence') {
       if (f.kind === 'fence') properties.postSpacingM = f.postSpacingM;
       geometry = { type: 'LineString', coordinates: f.path.map(ll) };
+    } else if (f.kind === 'overhead') {
+      if (f.radiusM !== undefined) properties.radiusM = f.radiusM;
+      geometry = f.path ? { type: 'LineString', coordinates: f.path.map(ll) } : { type: 'Point', coordinates: ll(f.at!) };
     } else {
       if (f.radiusM !== undefined) properties.radiusM = f.radiusM;
       geometry = { type: 'Point', coordinates: ll(f.at) };

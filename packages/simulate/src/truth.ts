@@ -32,6 +32,8 @@ export interface Truth {
   })[];
   lines: { id: string; file: string; positionSource: string; nTraces: number; start: [number, number]; end: [number, number] }[];
   clutter: [number, number, number][];
+  /** Roots [x0, y0, z0, x1, y1, z1] (only when the scene has any). */
+  roots?: [number, number, number, number, number, number][];
 }
 
 function r6(v: number): number {
@@ -125,5 +127,6 @@ export function buildTruth(m: Model, crs: Crs, stats: Float64Array): Truth {
     aboveGround,
     lines,
     clutter: m.clutter.map((c) => [r6(c[0]), r6(c[1]), r6(c[2])] as [number, number, number]),
+    ...(m.roots.length ? { roots: m.roots.map((c) => c.map(r6) as [number, number, number, number, number, number]) } : {}),
   };
 }

@@ -6,7 +6,7 @@ import { pointFromWgs84 } from './crs';
 import { describe, InputProblems, jsonPath, parseJson, type Problem, zodProblems } from './problems';
 import type { Crs, Geometry, PlanFeature, PlanKind, Position } from './types';
 
-export const PLAN_KINDS = ['building', 'wall', 'fence', 'post', 'tree', 'column', 'other'] as const satisfies readonly PlanKind[];
+export const PLAN_KINDS = ['building', 'wall', 'fence', 'post', 'tree', 'column', 'overhead', 'other'] as const satisfies readonly PlanKind[];
 
 /** Geometry types each kind may carry; `other` takes any supported type. */
 export const KIND_GEOMETRY: Record<PlanKind, readonly Geometry['type'][]> = {
@@ -16,6 +16,7 @@ export const KIND_GEOMETRY: Record<PlanKind, readonly Geometry['type'][]> = {
   post: ['Point'],
   tree: ['Point'],
   column: ['Point'],
+  overhead: ['LineString', 'Point'],
   other: ['Point', 'LineString', 'Polygon', 'MultiLineString', 'MultiPolygon'],
 };
 
@@ -177,6 +178,9 @@ export function parsePlan(value: unknown, file: string, options: ParsePlanOption
     const kind = props.kind;
     if (props.postSpacingM !== undefined && kind !== 'fence') {
       problems.push({ path: jsonPath([...path, 'properties', 'postSpacingM']), message: `expected postSpacingM only on a fence, found it on kind "${kind}"` });
+    }
+    if (kind === 'overhead' && props.heightM === undefined) {
+      problems.push({ path: jsonPath([...path, 'properties', 'heightM']), message: 'missing: an overhead feature needs heightM, its height above the ground in metres' });
     }
     const wgs84 = checkGeometry(r.data.geometry, kind, [...path, 'geometry'], problems);
     if (!wgs84) return;

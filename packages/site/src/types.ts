@@ -1,6 +1,7 @@
 /** Parsed site: what `loadSite(dir)` returns. Positions and plan geometry are in the site CRS units. */
 
-export type PlanKind = 'building' | 'wall' | 'fence' | 'post' | 'tree' | 'column' | 'other';
+/** `overhead`: a cable, beam, canopy edge or branch above the ground; it needs `heightM`. */
+export type PlanKind = 'building' | 'wall' | 'fence' | 'post' | 'tree' | 'column' | 'overhead' | 'other';
 
 export type Position = [number, number];
 export type Geometry =

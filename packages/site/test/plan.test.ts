@@ -42,6 +42,13 @@ describe('plan.geojson', () => {
     expect(post?.properties.kind).toBe('post');
   });
 
+  it('an overhead object is a line or a point with its height; without heightM it is refused', () => {
+    const plan = parsePlan(fc(f('overhead', { type: 'LineString', coordinates: [[lon, lat], [lon + d, lat]] }, { heightM: 5.5 }), f('overhead', { type: 'Point', coordinates: [lon, lat] }, { heightM: 3 })), 'p', { crs });
+    expect(plan.map((p) => [p.id, p.heightM])).toEqual([['overhead-1', 5.5], ['overhead-2', 3]]);
+    expect(() => parsePlan(fc(f('overhead', { type: 'Point', coordinates: [lon, lat] })), 'p.geojson')).toThrow(/^p\.geojson: features\[0\]\.properties\.heightM: missing: an overhead feature needs heightM/);
+    expect(() => parsePlan(fc(f('overhead', { type: 'Polygon', coordinates: [square] }, { heightM: 3 })), 'p.geojson')).toThrow(/expected LineString or Point for kind "overhead"/);
+  });
+
   it('generated ids skip ids the plan already uses', () => {
     const plan = parsePlan(fc(f('tree', { type: 'Point', coordinates: [lon, lat] }), f('tree', { type: 'Point', coordinates: [lon, lat] }, {}, 'tree-1')), 'p');
     expect(plan.map((p) => p.id)).toEqual(['tree-2', 'tree-1']);

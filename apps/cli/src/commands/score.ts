@@ -1,6 +1,6 @@
 import { join } from 'node:path';
 import type { Command } from 'commander';
-import { scoreFolder } from '@lamina/screening';
+import { scoreFolder } from '@lamina/scoring';
 import { action } from '../run';
 
 const pct = (v: number) => `${(100 * v).toFixed(1)} %`;
@@ -32,6 +32,17 @@ export function register(program: Command): void {
         const ag = report.aboveGround;
         out.push(`above-ground flags: precision ${pct(ag.precision)}, recall ${pct(ag.recall)} (TP ${ag.truePositive}, FP ${ag.falsePositive}, FN ${ag.falseNegative}, ambiguous ${ag.ambiguous})`);
         out.push(`targets that are air-wave reflections: ${pct(report.targetAirFraction)} of ${report.targets.length}`);
+        const pr = report.precision;
+        out.push(`target precision: ${pct(pr.byCount)} by count (${pr.buriedTargets} of ${pr.targets} cover a buried object), ${pct(pr.byArea)} by area (${pr.buriedAreaM2.toFixed(1)} of ${pr.areaM2.toFixed(1)} m2)`);
+        out.push(`clutter targets: ${pr.clutterTargets}${pr.clutterPer100M2 === null ? '' : ` (${pr.clutterPer100M2.toFixed(2)} per 100 m2 of ${pr.surveyedAreaM2!.toFixed(0)} m2 surveyed)`}`);
+        out.push(`pieces per utility: mean ${pr.piecesMean === null ? '-' : pr.piecesMean.toFixed(1)}, max ${pr.piecesMax}`);
+        if (pr.largest) out.push(`largest target: ${pr.largest.id}, ${pr.largest.areaM2.toFixed(1)} m2 over ${pr.largest.depthExtentM.toFixed(2)} m of depth`);
+        out.push(`air flags per anomaly: ${pct(pr.airFlags.recall)} of ${pr.airFlags.onLocus} on a locus flagged; ${pct(pr.airFlags.realFlaggedShare)} of ${pr.airFlags.real} real ones flagged`);
+        const k = pr.siteK;
+        out.push(`site K: truth ${k.truth.toFixed(2)}, fitted ${k.fitted === null ? '-' : `${k.fitted.toFixed(2)} (${(100 * k.relError!).toFixed(1)} %)`}`);
+        for (const o of k.atObjects) out.push(`  at ${o.id} (${o.depthM.toFixed(2)} m): truth ${o.truth.toFixed(2)}, fitted ${o.fitted.toFixed(2)} (${(100 * o.relError).toFixed(1)} %)`);
+        const cls = Object.entries(pr.classes).filter(([, v]) => v.buried + v.air + v.ambiguous + v.unmatched > 0);
+        if (cls.length) out.push('anomaly class vs truth (buried / air / ambiguous / unmatched):', ...cls.map(([c, v]) => `  ${c.padEnd(13)} ${v.buried} / ${v.air} / ${v.ambiguous} / ${v.unmatched}`));
         for (const d of report.definitions) out.push(`  (${d})`);
         process.stdout.write(out.join('\n') + '\n');
       }),

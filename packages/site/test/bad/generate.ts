@@ -38,7 +38,7 @@ const ramp = (n: number, a: number, step: number): number[] => Array.from({ leng
 const segy = (x: number[], y: number[], extra: Partial<Parameters<typeof tinySegy>[0]> = {}): Buffer =>
   tinySegy({ nSamples: 16, dtNs: 0.1, sourceX: x, sourceY: y, ...extra });
 
-const KINDS = 'building, wall, fence, post, tree, column, other';
+const KINDS = 'building, wall, fence, post, tree, column, overhead, other';
 const fc = (...features: unknown[]): string => JSON.stringify({ type: 'FeatureCollection', features }, null, 1);
 const feat = (kind: string | undefined, geometry: unknown, props: Record<string, unknown> = {}): unknown => ({
   type: 'Feature',

@@ -1,7 +1,7 @@
 import { InputError } from '@lamina/errors';
 import type { VelocityModel } from '@lamina/velocity';
-import { airRadiusM } from './physics';
-import type { FeatureCollection } from './geojson';
+import { airRadiusM, type FeatureCollection } from '@lamina/screening';
+import { ANOMALY_CLASSES, permittivityAt, ringsArea, surveyedAreaM2, targetPolygons } from './precision';
 
 type XY = [number, number];
 type XYZ = [number, number, number];
@@ -50,6 +50,43 @@ export interface ScoreOptions {
    * also reported over each utility's surveyed part, the samples within `coverM` of a line.
    */
   survey?: { lines: XY[][]; coverM?: number };
+  /** The run's fitted site permittivity (velocity.json `site.permittivity`): scored against the truth soil. */
+  runPermittivity?: number;
+}
+
+/** Counts behind each precision figure, so that scenes pool by summing (see README, "Frozen definitions"). */
+export interface PrecisionReport {
+  /** Targets scored (origin not above-ground), and of them: covering a buried object, air-wave, neither. */
+  targets: number;
+  buriedTargets: number;
+  airTargets: number;
+  clutterTargets: number;
+  /** buriedTargets / targets (1 with no targets). */
+  byCount: number;
+  /** Plan area of all targets and of those covering a buried object, m2; byArea = buried / all (1 with no area). */
+  areaM2: number;
+  buriedAreaM2: number;
+  byArea: number;
+  /** Area within the survey's cover of a line, m2 (null without survey lines); clutter targets per 100 m2 of it. */
+  surveyedAreaM2: number | null;
+  clutterPer100M2: number | null;
+  /** Distinct targets covering each pipe/cable; mean and max over those covered by at least one. */
+  pieces: { id: string; pieces: number }[];
+  piecesMean: number | null;
+  piecesMax: number;
+  /** The target of largest plan area. */
+  largest: { id: string; areaM2: number; depthExtentM: number } | null;
+  /** Air-flag counts per anomaly: on a locus (not ambiguous) and flagged; real (covering a buried object, on no locus) and flagged. */
+  airFlags: { onLocus: number; onLocusFlagged: number; real: number; realFlagged: number; recall: number; realFlaggedShare: number };
+  /** Fitted vs truth permittivity (relative error = fitted / truth - 1); per buried object when the truth soil is layered. */
+  siteK: {
+    truth: number;
+    fitted: number | null;
+    relError: number | null;
+    atObjects: { id: string; depthM: number; truth: number; fitted: number; relError: number }[];
+  };
+  /** Anomalies by `properties.class` (or `none`) against what they match: buried, air, ambiguous (both), unmatched. */
+  classes: Record<string, { buried: number; air: number; ambiguous: number; unmatched: number }>;
 }
 
 export interface BuriedScore {
@@ -77,6 +114,7 @@ export interface ScoreReport {
   targetAirFraction: number;
   aboveGround: { truePositive: number; falsePositive: number; falseNegative: number; ambiguous: number; precision: number; recall: number };
   anomalies: { id: string; origin: string; reflector: string | null; buried: string | null }[];
+  precision: PrecisionReport;
   definitions: string[];
 }
 
@@ -236,6 +274,8 @@ export function scoreRun(
     shape: Shape;
     origin: string;
     members: { top: number; bottom: number; pts: XY[] }[];
+    areaM2: number;
+    cls: string;
   }
   const read = (fc: FeatureCollection | undefined, file: string): Obj[] =>
     (fc?.features ?? []).map((f, i) => {
@@ -261,7 +301,8 @@ export function scoreRun(
             return { top: Number(m.topM ?? top), bottom: Number(m.bottomM ?? bottom), pts: o.length ? o : c };
           })
         : [{ top, bottom, pts: outlinePts }];
-      return { id: str(p.id) || str(f.id) || `#${i}`, top, bottom, shape, origin: str(p.origin) || 'subsurface', members };
+      const areaM2 = ringsArea(targetPolygons(f.geometry as Geo, ol, fromWgs84)) * mpu * mpu;
+      return { id: str(p.id) || str(f.id) || `#${i}`, top, bottom, shape, origin: str(p.origin) || 'subsurface', members, areaM2, cls: str(p.class) || 'none' };
     });
   const tgs = read(targets, 'targets.geojson').filter((t) => t.origin !== 'above-ground');
   const ans = read(anomalies, 'anomalies.geojson');
@@ -329,6 +370,8 @@ export function scoreRun(
     .map((a) => ({
       id: a.id,
       segs: a.center ? [a.center[0], a.center[1], a.center[0], a.center[1]] : [a.from![0], a.from![1], a.to![0], a.to![1]],
+      // an overhead reflector's air wave travels the slant distance: plan distance sqrt(r^2 - h^2)
+      overheadM: a.kind === 'overhead' ? (a.heightM ?? 0) : 0,
     }));
   const median = (v: number[]) => {
     const s = [...v].sort((p, q) => p - q);
@@ -337,7 +380,11 @@ export function scoreRun(
   const onLocus = (pts: XY[], top: number, bottom: number, r: (typeof refl)[number]) => {
     if (pts.length === 0) return false;
     const d = median(pts.map((p) => segDist(p[0], p[1], r.segs) * mpu));
-    const r0 = airRadiusM(top, airModel), r1 = airRadiusM(bottom, airModel);
+    const h2 = r.overheadM * r.overheadM;
+    const plan = (q: number) => (h2 > 0 ? Math.sqrt(Math.max(0, q * q - h2)) : q);
+    const ra = airRadiusM(top, airModel), rb = airRadiusM(bottom, airModel);
+    if (h2 > 0 && Math.max(ra, rb) < r.overheadM - locTol) return false;
+    const r0 = plan(ra), r1 = plan(rb);
     const tol = locTol;
     return d >= Math.min(r0, r1) - tol && d <= Math.max(r0, r1) + tol;
   };
@@ -380,6 +427,64 @@ export function scoreRun(
     const r = reflectorOf({ ...t, members: [{ top: t.top, bottom: t.bottom, pts: t.members.flatMap((m) => m.pts) }] });
     return r ? { id: t.id, matches: r, kind: 'air' as const } : { id: t.id, matches: '', kind: 'unmatched' as const };
   });
+
+  const real = anomalyRows.filter((a) => a.buried && !a.reflector);
+  const classes: PrecisionReport['classes'] = {};
+  for (const c of [...ANOMALY_CLASSES, 'none']) classes[c] = { buried: 0, air: 0, ambiguous: 0, unmatched: 0 };
+  ans.forEach((a, i) => {
+    const row = anomalyRows[i]!;
+    const c = (classes[a.cls] ??= { buried: 0, air: 0, ambiguous: 0, unmatched: 0 });
+    c[row.buried && row.reflector ? 'ambiguous' : row.buried ? 'buried' : row.reflector ? 'air' : 'unmatched']++;
+  });
+  const areaOf = new Map(tgs.map((t) => [t.id, t]));
+  const areaAll = tgs.reduce((s, t) => s + t.areaM2, 0);
+  const areaBuried = targetRows.filter((t) => t.kind === 'buried').reduce((s, t) => s + areaOf.get(t.id)!.areaM2, 0);
+  const nBuried = targetRows.filter((t) => t.kind === 'buried').length;
+  const nAir = targetRows.filter((t) => t.kind === 'air').length;
+  const nClutter = targetRows.length - nBuried - nAir;
+  const surveyArea = surveySegs.length ? surveyedAreaM2(options.survey!.lines, mpu, coverM) : null;
+  const pieces = lin.map((b) => ({ id: b.id, pieces: b.targets.length }));
+  const found = pieces.filter((p) => p.pieces > 0);
+  const largest = tgs.reduce<Obj | null>((m, t) => (!m || t.areaM2 > m.areaM2 ? t : m), null);
+  const truthK = (truth.soil.layers ?? [])[0]?.permittivity ?? truth.soil.permittivity;
+  const fittedK = options.runPermittivity ?? null;
+  const layeredTruth = (truth.soil.layers ?? []).length > 1;
+  const atObjects =
+    layeredTruth && options.runModel
+      ? truth.buried.map((b) => {
+          const z = b.center ? b.center[2] : (b.from![2] + b.to![2]) / 2;
+          const tk = permittivityAt(z, model), fk = permittivityAt(z, options.runModel!);
+          return { id: b.id, depthM: z, truth: tk, fitted: fk, relError: fk / tk - 1 };
+        })
+      : [];
+  const nOnLocus = tp + fn;
+  const realFlagged = real.filter((a) => a.origin === 'above-ground').length;
+  const precision: PrecisionReport = {
+    targets: targetRows.length,
+    buriedTargets: nBuried,
+    airTargets: nAir,
+    clutterTargets: nClutter,
+    byCount: targetRows.length ? nBuried / targetRows.length : 1,
+    areaM2: areaAll,
+    buriedAreaM2: areaBuried,
+    byArea: areaAll > 0 ? areaBuried / areaAll : 1,
+    surveyedAreaM2: surveyArea,
+    clutterPer100M2: surveyArea ? (100 * nClutter) / surveyArea : null,
+    pieces,
+    piecesMean: found.length ? found.reduce((s, p) => s + p.pieces, 0) / found.length : null,
+    piecesMax: Math.max(0, ...pieces.map((p) => p.pieces)),
+    largest: largest ? { id: largest.id, areaM2: largest.areaM2, depthExtentM: largest.bottom - largest.top } : null,
+    airFlags: {
+      onLocus: nOnLocus,
+      onLocusFlagged: tp,
+      real: real.length,
+      realFlagged,
+      recall: nOnLocus ? tp / nOnLocus : 1,
+      realFlaggedShare: real.length ? realFlagged / real.length : 0,
+    },
+    siteK: { truth: truthK, fitted: fittedK, relError: fittedK === null ? null : fittedK / truthK - 1, atObjects },
+    classes,
+  };
   return {
     buried,
     buriedRecall: { linear: linRecall, compact: cmpRecall, minimum: Math.min(1, ...lin.map((b) => b.recall)), linearFullLength: linFull, minimumFullLength: Math.min(1, ...lin.map((b) => b.recallFullLength)) },
@@ -394,6 +499,7 @@ export function scoreRun(
       recall: tp + fn > 0 ? tp / (tp + fn) : 1,
     },
     anomalies: anomalyRows,
+    precision,
     definitions: [
       surveySegs.length
         ? `buried recall over the surveyed length: samples within ${coverM.toFixed(2)} m of a survey line (full-length recall reported beside it)`
@@ -401,7 +507,13 @@ export function scoreRun(
       `buried sample covered: a target within ${planTol} m + radius in plan and depth within max(${dTol} m, ${dFrac} x depth) of its range`,
       `air-wave member: median outline-vertex distance to the reflector in [r(top) - ${locTol.toFixed(2)} m, r(bottom) + ${locTol.toFixed(2)} m], r(z) = c t(z)/2 (t from the run's velocity model when given, else the truth soil)`,
       'reflectors: all above-ground objects of truth.json except those whose air wave it records on no trace (airWave.traces 0)',
+      'overhead reflector (kind overhead, height h): its locus lies at plan distance sqrt(r^2 - h^2); none while r(bottom) < h - tol',
       'air-wave anomaly: at least half of its members on one reflector locus; also near a buried target = ambiguous (not counted)',
+      'target precision by count: targets covering a buried object (the buried-sample rule: pipes/cables sampled along the axis, compact objects at their centre) / targets; by area: their plan area / the plan area of all targets',
+      `clutter targets: covering no buried object and on no reflector locus; per 100 m2 of surveyed area (cells within ${coverM.toFixed(2)} m of a line)`,
+      'pieces per utility: distinct targets covering a pipe/cable anywhere along it; mean and max over the utilities covered at all',
+      'air flags per anomaly: recall = flagged / on a locus (ambiguous left out); real wrongly flagged = flagged / (covering a buried object and on no locus)',
+      'site K error: velocity.json site permittivity / truth top-layer permittivity - 1; layered truth: interval K of the run model / of the truth at each object depth - 1 (interfaces at their nominal depth, dip ignored)',
     ],
   };
 }

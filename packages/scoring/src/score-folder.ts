@@ -3,7 +3,7 @@ import { join } from 'node:path';
 import { InputError } from '@lamina/errors';
 import { pointFromWgs84, resolveCrs } from '@lamina/site';
 import type { VelocityModel } from '@lamina/velocity';
-import type { FeatureCollection } from './geojson';
+import type { FeatureCollection } from '@lamina/screening';
 import { scoreRun, type ScoreOptions, type ScoreReport, type ScoreTruth } from './score';
 
 function readJson(file: string): unknown {
@@ -56,7 +56,7 @@ export interface FolderScore {
  * velocity.json model as `runModel` (the air-wave radius of a depth label follows the model that gave it),
  * and lines.geojson as the survey (buried recall over the surveyed length, full length beside it).
  */
-export function scoreFolder(outDir: string, truthFile: string, options: Omit<ScoreOptions, 'runModel' | 'survey'> = {}): FolderScore {
+export function scoreFolder(outDir: string, truthFile: string, options: Omit<ScoreOptions, 'runModel' | 'survey' | 'runPermittivity'> = {}): FolderScore {
   const truth = readScoreTruth(truthFile);
   const crs = resolveCrs(truth.crs, { file: truthFile, field: 'crs' });
   const aFile = join(outDir, 'anomalies.geojson');
@@ -65,7 +65,9 @@ export function scoreFolder(outDir: string, truthFile: string, options: Omit<Sco
   const anomalies = collection(aFile);
   const targets = existsSync(tFile) ? collection(tFile) : undefined;
   const vFile = join(outDir, 'velocity.json');
-  const runModel = existsSync(vFile) ? (readJson(vFile) as { model?: VelocityModel }).model : undefined;
+  const velocity = existsSync(vFile) ? (readJson(vFile) as { model?: VelocityModel; site?: { permittivity?: unknown } }) : undefined;
+  const runModel = velocity?.model;
+  const runPermittivity = typeof velocity?.site?.permittivity === 'number' ? velocity.site.permittivity : undefined;
   const from = (lon: number, lat: number) => pointFromWgs84(crs, lon, lat);
   const lFile = join(outDir, 'lines.geojson');
   const lines = existsSync(lFile)
@@ -74,6 +76,6 @@ export function scoreFolder(outDir: string, truthFile: string, options: Omit<Sco
         return g?.type === 'LineString' && Array.isArray(g.coordinates) ? [(g.coordinates as number[][]).map((c) => from(c[0]!, c[1]!))] : [];
       })
     : [];
-  const report = scoreRun(targets, anomalies, truth, from, { ...options, ...(runModel ? { runModel } : {}), ...(lines.length ? { survey: { lines } } : {}) });
+  const report = scoreRun(targets, anomalies, truth, from, { ...options, ...(runModel ? { runModel } : {}), ...(runPermittivity !== undefined ? { runPermittivity } : {}), ...(lines.length ? { survey: { lines } } : {}) });
   return { report, truth, targetsFile: targets ? tFile : null };
 }

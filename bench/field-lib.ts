@@ -1,0 +1,253 @@
+// The field benchmark's machinery (bench/field.bench.ts runs it; test/field-bench.test.ts smoke-tests it):
+// simulate a scene, run `lamina process` on it as a user would (the CLI in a child process, so one scene's
+// crash or memory does not take the others with it), score the output folder with @lamina/scoring, and
+// pool rows by summing counts, areas and lengths (never by averaging percentages).
+import { spawnSync } from 'node:child_process';
+import { mkdirSync, rmSync } from 'node:fs';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { scoreFolder } from '../packages/scoring/src/index';
+import { simulateSite, type Scenario } from '../packages/simulate/src/index';
+
+const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');
+
+/** One scene's figures: the counts behind every percentage, so that rows pool by summing. */
+export interface FieldRow {
+  name: string;
+  /** `tune` (odd seeds), `held-out` (even seeds) or `sample` (a sample site). */
+  half: 'tune' | 'held-out' | 'sample';
+  seed: number | null;
+  error: string | null;
+  kTruth: number;
+  kFitted: number | null;
+  kRelError: number | null;
+  targets: number;
+  buriedTargets: number;
+  airTargets: number;
+  clutterTargets: number;
+  areaM2: number;
+  buriedAreaM2: number;
+  surveyedAreaM2: number;
+  /** Pipes/cables: surveyed length and the part of it covered (recall x surveyed length), m. */
+  utilitySurveyedM: number;
+  utilityCoveredM: number;
+  utilities: number;
+  /** Sum of pieces over the utilities covered at all, and their number. */
+  piecesSum: number;
+  piecesUtilities: number;
+  piecesMax: number;
+  compactFound: number;
+  compacts: number;
+  onLocus: number;
+  onLocusFlagged: number;
+  real: number;
+  realFlagged: number;
+  largestAreaM2: number;
+  largestDepthExtentM: number;
+  simulateS: number;
+  processS: number;
+  /** Anomalies by `properties.class` (`none` when absent) against their truth match (scoring's class table). */
+  classes: Record<string, { buried: number; air: number; ambiguous: number; unmatched: number }>;
+}
+
+export interface SceneRunOptions {
+  /** Worker threads of `lamina process`. @default 2 */
+  threads?: number;
+  /** Keep the site and output folders. @default false */
+  keep?: boolean;
+}
+
+function emptyRow(name: string, half: FieldRow['half'], seed: number | null): FieldRow {
+  return {
+    name, half, seed, error: null, kTruth: NaN, kFitted: null, kRelError: null,
+    targets: 0, buriedTargets: 0, airTargets: 0, clutterTargets: 0, areaM2: 0, buriedAreaM2: 0, surveyedAreaM2: 0,
+    utilitySurveyedM: 0, utilityCoveredM: 0, utilities: 0, piecesSum: 0, piecesUtilities: 0, piecesMax: 0,
+    compactFound: 0, compacts: 0, onLocus: 0, onLocusFlagged: 0, real: 0, realFlagged: 0,
+    largestAreaM2: 0, largestDepthExtentM: 0, simulateS: 0, processS: 0, classes: {},
+  };
+}
+
+/** Simulates `scenario` under `workDir`, processes it with the CLI and scores it. */
+export async function runScene(scenario: Scenario, workDir: string, half: FieldRow['half'], seed: number | null, options: SceneRunOptions = {}): Promise<FieldRow> {
+  const row = emptyRow(scenario.name, half, seed);
+  const siteDir = join(workDir, `${scenario.name}-site`), outDir = join(workDir, `${scenario.name}-out`);
+  mkdirSync(workDir, { recursive: true });
+  try {
+    let t = performance.now();
+    await simulateSite(scenario, siteDir);
+    row.simulateS = (performance.now() - t) / 1000;
+    t = performance.now();
+    const tsx = join(ROOT, 'node_modules', '.bin', 'tsx');
+    const p = spawnSync(tsx, [join(ROOT, 'apps/cli/src/main.ts'), 'process', siteDir, '--out', outDir, '--threads', String(options.threads ?? 2)], { encoding: 'utf8', maxBuffer: 64 << 20 });
+    row.processS = (performance.now() - t) / 1000;
+    if (p.status !== 0) throw new Error(`lamina process exited ${p.status}: ${(p.stderr || p.stdout).trim().split('\n').slice(-3).join(' | ')}`);
+    const { report } = scoreFolder(outDir, join(siteDir, 'truth.json'));
+    const pr = report.precision;
+    const lin = report.buried.filter((b) => b.lengthM > 0);
+    const cmp = report.buried.filter((b) => b.lengthM === 0);
+    Object.assign(row, {
+      kTruth: pr.siteK.truth,
+      kFitted: pr.siteK.fitted,
+      kRelError: pr.siteK.relError,
+      targets: pr.targets,
+      buriedTargets: pr.buriedTargets,
+      airTargets: pr.airTargets,
+      clutterTargets: pr.clutterTargets,
+      areaM2: pr.areaM2,
+      buriedAreaM2: pr.buriedAreaM2,
+      surveyedAreaM2: pr.surveyedAreaM2 ?? 0,
+      utilitySurveyedM: lin.reduce((s, b) => s + b.surveyedLengthM, 0),
+      utilityCoveredM: lin.reduce((s, b) => s + b.recall * b.surveyedLengthM, 0),
+      utilities: lin.length,
+      piecesSum: pr.pieces.reduce((s, q) => s + q.pieces, 0),
+      piecesUtilities: pr.pieces.filter((q) => q.pieces > 0).length,
+      piecesMax: pr.piecesMax,
+      compactFound: cmp.filter((b) => b.recall > 0).length,
+      compacts: cmp.length,
+      onLocus: pr.airFlags.onLocus,
+      onLocusFlagged: pr.airFlags.onLocusFlagged,
+      real: pr.airFlags.real,
+      realFlagged: pr.airFlags.realFlagged,
+      largestAreaM2: pr.largest?.areaM2 ?? 0,
+      largestDepthExtentM: pr.largest?.depthExtentM ?? 0,
+      classes: pr.classes,
+    });
+  } catch (e) {
+    row.error = (e as Error).message;
+  } finally {
+    if (!options.keep) {
+      rmSync(siteDir, { recursive: true, force: true });
+      rmSync(outDir, { recursive: true, force: true });
+    }
+  }
+  return row;
+}
+
+/** Pooled figures of a set of rows: sums of counts, areas and lengths; K error as mean and max of |error|. */
+export interface Pooled {
+  name: string;
+  scenes: number;
+  failed: number;
+  kAbsErrorMean: number | null;
+  kAbsErrorMax: number | null;
+  targets: number;
+  precisionByCount: number | null;
+  precisionByArea: number | null;
+  clutterPer100M2: number | null;
+  airTargetShare: number | null;
+  utilityRecall: number | null;
+  piecesMean: number | null;
+  piecesMax: number;
+  compactRecall: number | null;
+  airFlagRecall: number | null;
+  realFlaggedShare: number | null;
+  largestAreaM2: number;
+  largestDepthExtentM: number;
+  classes: FieldRow['classes'];
+}
+
+const ratio = (a: number, b: number): number | null => (b > 0 ? a / b : null);
+
+export function pool(name: string, rows: FieldRow[]): Pooled {
+  const ok = rows.filter((r) => !r.error);
+  const sum = (k: keyof FieldRow) => ok.reduce((s, r) => s + (r[k] as number), 0);
+  const kErr = ok.filter((r) => r.kRelError !== null).map((r) => Math.abs(r.kRelError!));
+  return {
+    name,
+    scenes: rows.length,
+    failed: rows.length - ok.length,
+    kAbsErrorMean: kErr.length ? kErr.reduce((a, b) => a + b, 0) / kErr.length : null,
+    kAbsErrorMax: kErr.length ? Math.max(...kErr) : null,
+    targets: sum('targets'),
+    precisionByCount: ratio(sum('buriedTargets'), sum('targets')),
+    precisionByArea: ratio(sum('buriedAreaM2'), sum('areaM2')),
+    clutterPer100M2: ratio(100 * sum('clutterTargets'), sum('surveyedAreaM2')),
+    airTargetShare: ratio(sum('airTargets'), sum('targets')),
+    utilityRecall: ratio(sum('utilityCoveredM'), sum('utilitySurveyedM')),
+    piecesMean: ratio(sum('piecesSum'), sum('piecesUtilities')),
+    piecesMax: Math.max(0, ...ok.map((r) => r.piecesMax)),
+    compactRecall: ratio(sum('compactFound'), sum('compacts')),
+    airFlagRecall: ratio(sum('onLocusFlagged'), sum('onLocus')),
+    realFlaggedShare: ratio(sum('realFlagged'), sum('real')),
+    largestAreaM2: Math.max(0, ...ok.map((r) => r.largestAreaM2)),
+    largestDepthExtentM: Math.max(0, ...ok.map((r) => r.largestDepthExtentM)),
+    classes: sumClasses(ok),
+  };
+}
+
+function sumClasses(rows: FieldRow[]): FieldRow['classes'] {
+  const out: FieldRow['classes'] = {};
+  for (const r of rows)
+    for (const [c, v] of Object.entries(r.classes)) {
+      const o = (out[c] ??= { buried: 0, air: 0, ambiguous: 0, unmatched: 0 });
+      o.buried += v.buried;
+      o.air += v.air;
+      o.ambiguous += v.ambiguous;
+      o.unmatched += v.unmatched;
+    }
+  return out;
+}
+
+/** The class table of a pooled row: one line per class that has anomalies. */
+export function classLines(p: Pooled): string[] {
+  return Object.entries(p.classes)
+    .filter(([, v]) => v.buried + v.air + v.ambiguous + v.unmatched > 0)
+    .map(([c, v]) => `  ${c.padEnd(13)} buried ${String(v.buried).padStart(5)}  air ${String(v.air).padStart(5)}  ambiguous ${String(v.ambiguous).padStart(4)}  unmatched ${String(v.unmatched).padStart(5)}`);
+}
+
+/** A row as a pooled row of one scene (same columns in the table). */
+export function single(r: FieldRow): Pooled & { kTruth: number; kFitted: number | null; kRelError: number | null } {
+  return { ...pool(r.name, [r]), kTruth: r.kTruth, kFitted: r.kFitted, kRelError: r.kRelError };
+}
+
+const pct = (v: number | null) => (v === null ? '-' : `${(100 * v).toFixed(1)}`);
+const fx = (v: number | null, d = 1) => (v === null || !Number.isFinite(v) ? '-' : v.toFixed(d));
+
+export const TABLE_HEADER = [
+  'scene', 'K true', 'K fit', 'K err%', 'tgts', 'prec#%', 'precA%', 'clut/100m2', 'air%', 'util%', 'pcs', 'pcsMax', 'cmp%', 'airflag%', 'realflag%', 'largest m2', 'largest dz', 'sim s', 'proc s',
+];
+
+/** One table line: a scene (with its K and times) or a pooled row (K as mean |error|). */
+export function tableLine(p: Pooled, scene?: FieldRow): string[] {
+  if (scene?.error) return [scene.name, fx(scene.kTruth), '-', '-', `FAILED: ${scene.error.slice(0, 120)}`];
+  return [
+    p.name,
+    scene ? fx(scene.kTruth, 2) : '',
+    scene ? fx(scene.kFitted, 2) : '',
+    scene ? (scene.kRelError === null ? '-' : (100 * scene.kRelError).toFixed(1)) : `|${pct(p.kAbsErrorMean)}|`,
+    String(p.targets),
+    pct(p.precisionByCount),
+    pct(p.precisionByArea),
+    fx(p.clutterPer100M2, 2),
+    pct(p.airTargetShare),
+    pct(p.utilityRecall),
+    fx(p.piecesMean),
+    String(p.piecesMax),
+    pct(p.compactRecall),
+    pct(p.airFlagRecall),
+    pct(p.realFlaggedShare),
+    fx(p.largestAreaM2),
+    fx(p.largestDepthExtentM, 2),
+    scene ? fx(scene.simulateS) : '',
+    scene ? fx(scene.processS) : '',
+  ];
+}
+
+export function formatTable(lines: string[][]): string {
+  const w = TABLE_HEADER.map((_, i) => Math.max(...[TABLE_HEADER, ...lines].map((l) => (l[i] ?? '').length)));
+  return [TABLE_HEADER, ...lines].map((l) => (l.length < TABLE_HEADER.length ? l.join('  ') : l.map((c, i) => (i === 0 ? c.padEnd(w[i]!) : c.padStart(w[i]!))).join('  '))).join('\n');
+}
+
+/** Parses `1-24`, `2,4,6` or `1-5,9`. */
+export function parseSeeds(spec: string): number[] {
+  const out: number[] = [];
+  for (const part of spec.split(',').map((s) => s.trim()).filter(Boolean)) {
+    const m = /^(\d+)(?:-(\d+))?$/.exec(part);
+    if (!m) throw new Error(`LAMINA_BENCH_FIELD_SEEDS: expected seeds like 1-24 or 2,4,6, found "${part}"`);
+    const a = Number(m[1]), b = m[2] === undefined ? a : Number(m[2]);
+    for (let s = a; s <= b; s++) out.push(s);
+  }
+  return out;
+}
+
+

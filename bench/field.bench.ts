@@ -1,0 +1,77 @@
+// Field benchmark: random scenes of @lamina/simulate's randomScenario, each simulated, processed by
+// `lamina process` and scored by @lamina/scoring (the frozen definitions in packages/scoring/README.md).
+// Seeds split in two halves: TUNE (odd seeds) and HELD-OUT (even seeds); the held-out half is for
+// reporting only. Pooled rows sum counts, areas and lengths. The sample sites' rows are printed too.
+// Usage: pnpm bench field
+//   LAMINA_BENCH_FIELD_SEEDS=1-24      seeds (ranges and comma lists; default 1-24)
+//   LAMINA_BENCH_FIELD_SAMPLES=0       leave out the sample sites (default: yard, carpark-ft, warehouse)
+//   LAMINA_BENCH_FIELD_KEEP=1          keep the site and output folders (printed at the end)
+//   LAMINA_BENCH_FIELD_THREADS=2       worker threads of lamina process
+// Writes bench/out/field.json (git-ignored): every row and the pooled rows, with the code's commit.
+import { execFileSync } from 'node:child_process';
+import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { availableParallelism, loadavg, tmpdir } from 'node:os';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { parseScenario, randomScenario } from '../packages/simulate/src/index';
+import { classLines, formatTable, parseSeeds, pool, runScene, single, tableLine, type FieldRow } from './field-lib';
+
+const here = dirname(fileURLToPath(import.meta.url));
+const root = resolve(here, '..');
+const seeds = parseSeeds(process.env.LAMINA_BENCH_FIELD_SEEDS ?? '1-24');
+const samples = process.env.LAMINA_BENCH_FIELD_SAMPLES === '0' ? [] : ['yard', 'carpark-ft', 'warehouse'];
+const keep = process.env.LAMINA_BENCH_FIELD_KEEP === '1';
+const threads = Number(process.env.LAMINA_BENCH_FIELD_THREADS ?? 2);
+const work = mkdtempSync(join(tmpdir(), 'lamina-bench-field-'));
+
+const commit = (() => {
+  try {
+    return execFileSync('git', ['-C', root, 'rev-parse', 'HEAD'], { encoding: 'utf8' }).trim() + (execFileSync('git', ['-C', root, 'status', '--porcelain'], { encoding: 'utf8' }).trim() ? ' (uncommitted changes)' : '');
+  } catch {
+    return 'unknown';
+  }
+})();
+console.log(`field: ${seeds.length} random scenes (seeds ${process.env.LAMINA_BENCH_FIELD_SEEDS ?? '1-24'}) + ${samples.length} sample sites; ${availableParallelism()} cores, load ${loadavg()[0]!.toFixed(2)}; code ${commit}`);
+
+const rows: FieldRow[] = [];
+const t0 = performance.now();
+for (const seed of seeds) {
+  const row = await runScene(randomScenario(seed), work, seed % 2 === 1 ? 'tune' : 'held-out', seed, { threads, keep });
+  rows.push(row);
+  console.log(`  ${row.name}: ${row.error ? `FAILED ${row.error}` : `${row.targets} targets, ${row.buriedTargets} on buried objects`} (${row.simulateS.toFixed(1)} + ${row.processS.toFixed(1)} s)`);
+}
+for (const name of samples) {
+  const file = join(root, 'sample-sites', name, 'scenario.json');
+  const row = await runScene(parseScenario(JSON.parse(readFileSync(file, 'utf8')), file), work, 'sample', null, { threads, keep });
+  rows.push(row);
+  console.log(`  ${row.name}: ${row.error ? `FAILED ${row.error}` : `${row.targets} targets`} (${row.simulateS.toFixed(1)} + ${row.processS.toFixed(1)} s)`);
+}
+
+const tune = pool('TUNE (odd seeds)', rows.filter((r) => r.half === 'tune'));
+const held = pool('HELD-OUT (even seeds)', rows.filter((r) => r.half === 'held-out'));
+const table = [
+  ...rows.filter((r) => r.half !== 'sample').map((r) => tableLine(single(r), r)),
+  [],
+  tableLine(tune),
+  tableLine(held),
+  [],
+  ...rows.filter((r) => r.half === 'sample').map((r) => tableLine(single(r), r)),
+];
+console.log('\n' + formatTable(table));
+console.log(`
+Columns (packages/scoring/README.md, "Frozen definitions"): K err% = fitted site K / truth top-layer K - 1
+(pooled: mean |error|); prec#% / precA% = targets covering a buried object by count / by plan area;
+clut/100m2 = targets matching neither a buried object nor an air-wave locus per 100 m2 surveyed; air% =
+air-wave targets; util% = utility recall over the surveyed length (pooled by length); pcs = pieces per
+utility found (mean; pcsMax the most); cmp% = compact objects found; airflag% = anomalies on an air-wave
+locus that are flagged; realflag% = real anomalies (on a buried object, on no locus) wrongly flagged;
+largest = the largest target's plan area and depth extent. Pooled rows sum counts, areas and lengths.
+Wall time ${((performance.now() - t0) / 1000).toFixed(0)} s.`);
+for (const p of [tune, held]) console.log(`\nanomaly class (properties.class; none = absent) vs truth match, ${p.name}:\n${classLines(p).join('\n')}`);
+
+const outDir = join(here, 'out');
+mkdirSync(outDir, { recursive: true });
+writeFileSync(join(outDir, 'field.json'), JSON.stringify({ createdAt: new Date().toISOString(), commit, seeds, rows, pooled: { tune, heldOut: held } }, null, 1) + '\n');
+console.log(`wrote ${join(outDir, 'field.json')}`);
+if (keep) console.log(`kept the site and output folders in ${work}`);
+else rmSync(work, { recursive: true, force: true });

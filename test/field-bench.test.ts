@@ -1,0 +1,30 @@
+// Smoke test of the field benchmark's path (bench/field-lib.ts): two tiny random scenes simulated,
+// processed by the CLI and scored; the pooled row sums their counts.
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { randomScenario } from '@lamina/simulate';
+import { parseSeeds, pool, runScene } from '../bench/field-lib';
+
+const work = mkdtempSync(join(tmpdir(), 'lamina-field-smoke-'));
+afterAll(() => rmSync(work, { recursive: true, force: true }));
+
+describe('pnpm bench field (smoke)', () => {
+  it('scores two tiny scenes and pools them by summing', async () => {
+    const rows = [];
+    for (const seed of [1, 2]) rows.push(await runScene(randomScenario(seed, { sideM: [5, 6], maxTraces: 1200 }), work, seed % 2 ? 'tune' : 'held-out', seed, { threads: 1 }));
+    for (const r of rows) {
+      expect(r.error).toBeNull();
+      expect(r.kFitted === null || r.kFitted > 0).toBe(true);
+      expect(r.utilities).toBeGreaterThanOrEqual(1);
+      expect(r.buriedTargets + r.airTargets + r.clutterTargets).toBe(r.targets);
+      expect(r.surveyedAreaM2).toBeGreaterThan(20);
+    }
+    const p = pool('both', rows);
+    expect(p.targets).toBe(rows[0]!.targets + rows[1]!.targets);
+    if (p.targets) expect(p.precisionByCount).toBeCloseTo((rows[0]!.buriedTargets + rows[1]!.buriedTargets) / p.targets, 12);
+    expect(p.utilityRecall).toBeCloseTo((rows[0]!.utilityCoveredM + rows[1]!.utilityCoveredM) / (rows[0]!.utilitySurveyedM + rows[1]!.utilitySurveyedM), 12);
+    expect(parseSeeds('1-3,8')).toEqual([1, 2, 3, 8]);
+  });
+});
