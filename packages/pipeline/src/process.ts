@@ -198,7 +198,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       aboveGround: screening.aboveGround,
       targets: exported.targets,
       screeningBands: screening.bands,
-      files: ['run.json', 'lines.geojson', 'plan.geojson', 'velocity.json', 'slices.tif', 'slices.json', 'radargrams/index.json', 'anomalies.geojson', 'forecast.geojson', 'review.json', ...exported.files.filter((f) => !f.includes('review'))],
+      files: ['run.json', 'lines.geojson', 'plan.geojson', 'velocity.json', 'slices.tif', 'slices.json', 'radargrams/index.json', 'anomalies.geojson', 'interfaces.geojson', 'forecast.geojson', 'review.json', ...exported.files.filter((f) => !f.includes('review'))],
     };
   } catch (e) {
     await exec.close().catch(() => {});

@@ -177,10 +177,13 @@ export async function sliceAndScreen(
         yield f;
       }
     })();
+    const interfaces: GeoJsonFeature[] = [];
     await writeFeatureCollection(join(stageDir, 'anomalies.geojson'), { type: 'FeatureCollection', features: numbered, caution: CAUTION }, (f) => {
       const a = anchoredOf(f);
       if (a) anchored.push(a);
+      if (f.properties.class === 'layer') interfaces.push(...interfaceParts(f));
     });
+    await writeFeatureCollection(join(stageDir, 'interfaces.geojson'), { type: 'FeatureCollection', features: interfaces });
     // (the forecast takes the lines only to make a grid of its own; it is given the slices' grid)
     const forecast = siteForecast(site.plan, velocity, [], { grid, slices: windows }, surveyed, toWgs84, mpu, screenOptions);
     await writeFeatureCollection(join(stageDir, 'forecast.geojson'), forecast);
@@ -189,6 +192,20 @@ export async function sliceAndScreen(
     disk.remove();
     kept.remove();
   }
+}
+
+/**
+ * A layer anomaly as interface parts (interfaces.geojson): one polygon per slice it appears in, with
+ * that slice's depth range and mid depth, so a dipping reflector reads as a depth map of bands.
+ */
+function interfaceParts(f: GeoJsonFeature): GeoJsonFeature[] {
+  const members = Array.isArray(f.properties.members) ? (f.properties.members as Record<string, unknown>[]) : [];
+  return members.flatMap((m) => {
+    const outline = m.outline as GeoJsonFeature['geometry'];
+    const top = Number(m.topM), bottom = Number(m.bottomM);
+    if (!outline) return [];
+    return [{ type: 'Feature' as const, geometry: outline, properties: { anomalyId: f.properties.id, slice: m.slice, depthTopM: top, depthBottomM: bottom, depthM: Math.round(((top + bottom) / 2) * 1e6) / 1e6, areaM2: m.areaM2, strengthDb: m.strengthDb ?? null } }];
+  });
 }
 
 /** An anomaly's id, plan point and depth range, for re-matching review decisions. */
