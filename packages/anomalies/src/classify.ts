@@ -22,7 +22,7 @@ export interface ClassifyOptions {
   maxUtilityDiameterM?: number;
   /** Largest compact structure (footing, tank, vault, grave), m. @default 6 (common practice, no source) */
   maxStructureM?: number;
-  /** An echo lies below its object with at least this fraction of its cells inside the object's. @default 0.6 */
+  /** An echo lies below its object sharing at least this fraction of the smaller one's cells (same plan position). @default 0.6 */
   echoOverlap?: number;
   /** Lines an object in the near-surface zone must cross to be kept (with deeper members). @default 3 */
   nearSurfaceLines?: number;
@@ -69,7 +69,7 @@ export function maxStructureExtentM(depthM: number, ctx: ClassifyContext, option
  * - `above-ground`: the screening's verdict (its evidence stays on the feature);
  * - `clutter` (near surface): every member inside the direct- and ground-wave zone, or members there
  *   and below that cross fewer than `nearSurfaceLines` lines;
- * - echo: at least `echoOverlap` of its cells under a stronger subsurface anomaly that ends above it
+ * - echo: sharing at least `echoOverlap` of the smaller one's cells with a stronger subsurface anomaly that ends above it
  *   (same plan position, later time, weaker: ringing or a multiple): it takes that object's class and
  *   gets `echoOf`;
  * - `layer`: wider than a utility and longer than a structure may be (a laterally extensive reflector);
@@ -121,7 +121,7 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
       const s = setOf(j);
       let inside = 0;
       for (const k of a.cells) if (s.has(k)) inside++;
-      if (inside >= overlap * a.cells.length) {
+      if (inside >= overlap * Math.min(a.cells.length, b.cells.length)) {
         const root = own[j]!.echoOf ?? j;
         own[i] = { class: own[root]!.class, reason: `echo below ${b.id}: same plan position, later, weaker`, echoOf: root };
         break;
