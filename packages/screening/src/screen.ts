@@ -146,7 +146,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   const classCtx: ClassifyContext = {
     velocityMPerNs: velocity.site.velocityMPerNs,
     frequencyMHz: f && f > 0 ? f : Infinity,
-    lineSpacingM: Number.isFinite(spacing) ? spacing : cellM,
+    lineSpacingM: classSpacing(lines, mpu, spacing, cellM),
     nearSurfaceM: options.nearSurfaceM ?? (f && f > 0 ? nearSurfaceDepthM(f, options.antennaSeparationM ?? 0, velocity.model) : 0),
     cellM,
   };
@@ -336,6 +336,36 @@ export function siteForecast(
     ...(options.antennaFrequencyMHz ? { antennaFrequencyMHz: options.antennaFrequencyMHz } : {}),
     ...(options.antennaSeparationM ? { antennaSeparationM: options.antennaSeparationM } : {}),
   });
+}
+
+/**
+ * The spacing the classes judge "one line" by, m: the median distance from each line's middle to the
+ * nearest other line running the same way (chords within 20 degrees, the middle projecting onto it). In a
+ * survey in two directions the nearest line of any direction crosses the middle, so the plain spacing
+ * is near zero; with one direction the two agree. Falls back to `spacing`, then a cell.
+ */
+function classSpacing(lines: ScreenInput['lines'], mpu: number, spacing: number, cellM: number): number {
+  const chords = lines.flatMap((l) => {
+    const n = l.x.length;
+    if (n < 2) return [];
+    const x0 = l.x[0]!, y0 = l.y[0]!, dx = l.x[n - 1]! - x0, dy = l.y[n - 1]! - y0, len = Math.hypot(dx, dy);
+    return len > 0 ? [{ id: l.id, x0, y0, ux: dx / len, uy: dy / len, len, mx: l.x[n >> 1]!, my: l.y[n >> 1]! }] : [];
+  });
+  const cos20 = Math.cos((20 * Math.PI) / 180);
+  const d: number[] = [];
+  for (const a of chords) {
+    let best = Infinity;
+    for (const b of chords) {
+      if (a.id === b.id || Math.abs(a.ux * b.ux + a.uy * b.uy) < cos20) continue;
+      const px = a.mx - b.x0, py = a.my - b.y0, t = px * b.ux + py * b.uy;
+      if (t < 0 || t > b.len) continue;
+      const off = Math.abs(px * b.uy - py * b.ux);
+      if (off > 0 && off < best) best = off;
+    }
+    if (best < Infinity) d.push(best * mpu);
+  }
+  if (d.length > 0) return d.sort((p, q) => p - q)[d.length >> 1]!;
+  return Number.isFinite(spacing) ? spacing : cellM;
 }
 
 /** Median azimuth of the lines' end-to-end chords, degrees in [0, 180); NaN without lines. */
