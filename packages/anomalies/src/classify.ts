@@ -1,4 +1,4 @@
-import type { Anomaly3D } from './types';
+import type { Anomaly3D, Shape } from './types';
 
 /** What an anomaly is taken to be (anomalies.geojson `class`). */
 export type AnomalyClass = 'utility' | 'structure' | 'layer' | 'clutter' | 'above-ground';
@@ -65,6 +65,17 @@ export function maxStructureExtentM(depthM: number, ctx: ClassifyContext, option
 }
 
 /**
+ * Too large for any object at depth z: longer than a structure and wider than a utility, and, when
+ * linear (a band), wider than a structure too: a band a few metres wide along a utility is a utility
+ * with its surroundings, a layer spreads both ways (a gently dipping one crosses a slice in a band as
+ * wide as the slice thickness over the dip, metres).
+ */
+export function isExtensive(shape: Shape, depthM: number, ctx: ClassifyContext, options: ClassifyOptions = {}): boolean {
+  const s = maxStructureExtentM(depthM, ctx, options);
+  return shape.lengthM > s && shape.widthM > maxUtilityWidthM(depthM, ctx, options) && (shape.kind !== 'linear' || shape.widthM > s);
+}
+
+/**
  * The class of each anomaly, in this order of rules:
  * - `above-ground`: the screening's verdict (its evidence stays on the feature);
  * - `clutter` (near surface): every member inside the direct- and ground-wave zone, or members there
@@ -72,7 +83,7 @@ export function maxStructureExtentM(depthM: number, ctx: ClassifyContext, option
  * - echo: sharing at least `echoOverlap` of the smaller one's cells with a stronger subsurface anomaly that ends above it
  *   (same plan position, later time, weaker: ringing or a multiple): it takes that object's class and
  *   gets `echoOf`;
- * - `layer`: wider than a utility and longer than a structure may be (a laterally extensive reflector);
+ * - `layer`: too large for any object (`isExtensive`: a laterally extensive reflector);
  * - `utility`: linear and no wider than a utility may be;
  * - `clutter` (point-like): compact, seen on one line only (`oneLineWidthM`), spanning at most two
  *   slices (one pulse) — a stone or a root at the survey's resolution;
@@ -89,9 +100,7 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
     }
     const z = a.depthBottomM;
     const slices = new Set(a.members.map((m) => m.slice)).size;
-    if (a.shape.widthM > maxUtilityWidthM(z, ctx, options) && a.shape.lengthM > maxStructureExtentM(z, ctx, options)) {
-      return { class: 'layer', reason: 'laterally extensive: wider than a utility and longer than a structure' };
-    }
+    if (isExtensive(a.shape, z, ctx, options)) return { class: 'layer', reason: 'laterally extensive: wider than a utility and longer than a structure' };
     if (a.shape.kind === 'linear') {
       if (a.shape.widthM <= maxUtilityWidthM(z, ctx, options)) return { class: 'utility', reason: 'linear, no wider than a utility' };
       return { class: 'structure', reason: 'linear but wider than a utility' };

@@ -4,7 +4,7 @@ import {
   extractAnomalies,
   fitNoiseLaw,
   joinAlignedPieces,
-  maxStructureExtentM,
+  isExtensive,
   maxUtilityWidthM,
   noiseMean,
   traceOutline,
@@ -150,7 +150,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     nearSurfaceM: options.nearSurfaceM ?? (f && f > 0 ? nearSurfaceDepthM(f, options.antennaSeparationM ?? 0, velocity.model) : 0),
     cellM,
   };
-  const isLayer = (shape: Shape, z: number) => shape.widthM > maxUtilityWidthM(z, classCtx, options.classes) && shape.lengthM > maxStructureExtentM(z, classCtx, options.classes);
+  const isLayer = (shape: Shape, z: number) => isExtensive(shape, z, classCtx, options.classes);
   const extraction = extractAnomalies(stack, { isLayer, ...options, metresPerUnit: mpu });
   let beforeScores: Float32Array[] | undefined;
   const bb = input.beforeBackgroundStack;
