@@ -34,7 +34,7 @@ describe('classes', () => {
     const pipe = anomaly(cellsOf((x, y) => Math.abs(y - 20) < 0.2 && x > 2 && x < 20), 6, 7);
     const footing = anomaly(cellsOf((x, y) => Math.abs(x - 5) < 0.45 && Math.abs(y - 10) < 0.45), 4, 5);
     const stone = anomaly(cellsOf((x, y) => Math.abs(x - 15) < 0.4 && Math.abs(y - 10) < 0.15), 5, 5);
-    const sheet = anomaly(cellsOf((x, y) => x > 1 && x < 24 && y > 1 && y < 8), 8, 9);
+    const sheet = anomaly(cellsOf((x, y) => x > 1 && x < 24 && y > 1 && y < 17), 8, 9);
     const speck = anomaly(cellsOf((x, y) => Math.abs(x - 20) < 0.3 && Math.abs(y - 15) < 0.3), 0, 0);
     const air = anomaly(cellsOf((x, y) => Math.abs(x - 22) < 0.3 && Math.abs(y - 22) < 0.3), 3, 4);
     const c = classifyAnomalies(
@@ -42,6 +42,11 @@ describe('classes', () => {
       ctx,
     );
     expect(c.map((x) => x.class)).toEqual(['utility', 'structure', 'clutter', 'layer', 'clutter', 'above-ground']);
+  });
+
+  it('a band a few metres wide along a line is not a layer (a layer spreads both ways)', () => {
+    const band = anomaly(cellsOf((x, y) => x > 2 && x < 23 && Math.abs(y - 12) < 1.6), 9, 9);
+    expect(classifyAnomalies([{ anomaly: band, aboveGround: false }], ctx)[0]!.class).not.toBe('layer');
   });
 
   it('a weaker copy below a strong object is its echo, a stronger one below is not', () => {
