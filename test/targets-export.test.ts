@@ -51,10 +51,11 @@ describe('target export of a processed US-survey-foot site (carpark-ft)', () => 
     expect(sh('ogrinfo', ['-al', '-so', join(out, 'targets.geojson')]).out).toMatch(new RegExp(`Feature Count: ${n}\\n`));
   });
 
-  it('targets are the subsurface anomalies, and cover buried utilities as well as the anomalies do', async () => {
+  // issue 12: targets are the subsurface anomalies classed utility or structure that are not echoes of another
+  it('targets are the subsurface utilities and structures, and cover buried utilities as well as those anomalies do', async () => {
     const anomalies = await json<FeatureCollection>(join(out, 'anomalies.geojson'));
     const targets = await json<FeatureCollection>(join(out, 'targets.geojson'));
-    const sub = anomalies.features.filter((f) => f.properties.origin === 'subsurface');
+    const sub = anomalies.features.filter((f) => f.properties.origin === 'subsurface' && ['utility', 'structure'].includes(String(f.properties.class)) && f.properties.echoOf === undefined);
     expect(targets.features.map((f) => f.properties.id).sort()).toEqual(sub.map((f) => f.properties.id).sort());
     const truth = await json<ScoreTruth>(join(site, 'truth.json'));
     const crs = resolveCrs(truth.crs);

@@ -4,4 +4,7 @@ export { components } from './components';
 export { traceOutline, ringArea, pointInRing, outlineArea } from './outline';
 export { cellShape, moments, centreline, type ShapeOptions } from './shape';
 export { linkMembers, type LinkOptions } from './link';
-export { extractAnomalies, buildAnomaly, makeMember, memberOf, type ExtractOptions, type Extraction } from './extract';
+export { extractAnomalies, buildAnomaly, correlationArea, makeMember, memberOf, seedThreshold, type ExtractOptions, type Extraction } from './extract';
+export { fitNoiseLaw, gammaQ, gammaQInv, lnGamma, noiseMean, noiseScores, normalIsf, strengthDb, type NoiseLaw } from './noise';
+export { classifyAnomalies, fresnelRadiusM, isExtensive, maxStructureExtentM, maxUtilityWidthM, oneLineWidthM, type AnomalyClass, type ClassifyContext, type ClassifyOptions, type Classified } from './classify';
+export { joinAlignedPieces, type JoinOptions } from './join';

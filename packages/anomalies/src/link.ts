@@ -67,6 +67,8 @@ export function linkMembers(members: Member[], gridCells: number, cellSize: numb
           if (a >= 0) counts.set(a, (counts.get(a) ?? 0) + 1);
         }
         for (const a of here) {
+          // a layer and the objects inside it share cells but are not one thing
+          if ((a.layer ?? false) !== (b.layer ?? false)) continue;
           const shared = counts.get(a.id) ?? 0;
           // two linear members at an angle (crossing utilities at neighbouring depths) need more overlap
           const crossing = a.shape.kind === 'linear' && b.shape.kind === 'linear' && angleDiff(a.shape.directionDeg, b.shape.directionDeg) > crossAngle;

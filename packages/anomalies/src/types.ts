@@ -31,6 +31,12 @@ export interface Member {
   areaM2: number;
   peakValue: number;
   peakScore: number;
+  /** A laterally extensive reflector (see `ExtractOptions.isLayer`): links only with layer members. */
+  layer?: boolean;
+  /** Mean noise energy of the member's slice (NaN when no noise law was fitted). */
+  noiseEnergy: number;
+  /** Peak over the noise: 10 log10(peakValue / noiseEnergy), dB of energy (NaN without a noise law). */
+  strengthDb: number;
   shape: Shape;
 }
 
@@ -51,4 +57,6 @@ export interface Anomaly3D {
   areaM2: number;
   peakValue: number;
   peakScore: number;
+  /** Strongest member's strength, dB over its slice's noise (NaN without a noise law). */
+  strengthDb: number;
 }

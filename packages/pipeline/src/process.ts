@@ -265,6 +265,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       createdAt: now.toISOString(),
       site: { ...siteSummary(site), extentWgs84: ext.wgs84, extentSite: ext.site },
       identity,
+      nearSurfaceM: Math.round(screening.nearSurfaceM * 1e4) / 1e4,
       recipe,
       log,
       threads,
@@ -308,7 +309,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       targets: exported.targets,
       screeningBands: screening.bands,
       timings: timer.result(threads),
-      files: ['run.json', 'lines.geojson', 'plan.geojson', 'velocity.json', 'slices.tif', 'slices.json', 'radargrams/index.json', 'anomalies.geojson', 'forecast.geojson', 'review.json', ...exported.files.filter((f) => !f.includes('review'))],
+      files: ['run.json', 'lines.geojson', 'plan.geojson', 'velocity.json', 'slices.tif', 'slices.json', 'radargrams/index.json', 'anomalies.geojson', 'interfaces.geojson', 'forecast.geojson', 'review.json', ...exported.files.filter((f) => !f.includes('review'))],
     };
   } catch (e) {
     await exec.close().catch(() => {});

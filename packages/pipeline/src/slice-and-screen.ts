@@ -2,7 +2,7 @@ import { join } from 'node:path';
 import type { Site } from '@lamina/site';
 import { pointToWgs84 } from '@lamina/site';
 import type { VelocityReport } from '@lamina/velocity';
-import { DiskStack, SpillGridder, writeSlicesFromDisk, type PointSpill, type SliceWindow } from '@lamina/slices';
+import { DiskStack, nearSurfaceDepthM, SpillGridder, writeSlicesFromDisk, type PointSpill, type SliceWindow } from '@lamina/slices';
 import type { Recipe } from '@lamina/processing';
 import { airRadiusM, BandJoin, CAUTION, linesInRows, lineSpacingOfM, screenBands, screenSite, siteForecast, surveyedMask, type GeoJsonFeature, type Line } from '@lamina/screening';
 import { FeatureSpill } from './feature-spill';
@@ -33,6 +33,8 @@ export interface Screening {
   aboveGround: number;
   /** Row bands the grid was screened in. */
   bands: number;
+  /** Depth of the near-surface (direct- and ground-wave) zone, m: run.json `nearSurfaceM`. */
+  nearSurfaceM: number;
 }
 
 /**
@@ -104,7 +106,9 @@ export async function sliceAndScreen(
 
   const mig = recipe.steps.find((st) => st.step === 'migration');
   const migrationVelocity = mig && mig.step === 'migration' ? (mig.velocityMPerNs ?? velocity.site.velocityMPerNs) : undefined;
+  const nearSurfaceM = nearSurfaceDepthM(site.antenna.frequencyMHz, site.antenna.separationM, velocity.model);
   const screenOptions = {
+    nearSurfaceM,
     antennaFrequencyMHz: site.antenna.frequencyMHz,
     antennaSeparationM: site.antenna.separationM,
     // The slices are of migrated lines when the recipe migrates, which pulls a wall's air band towards it.
@@ -147,6 +151,10 @@ export async function sliceAndScreen(
         screenOptions,
       );
       for (const j of joiner.take(screened, band, height, { main: stack!, before: before! })) {
+        // ids are the band's until numbering: key them by band (an echo names its object by id)
+        const p = j.feature.properties;
+        p.key = `${b}:${String(p.id)}`;
+        if (typeof p.echoOf === 'string') p.echoOf = `${b}:${p.echoOf}`;
         kept.add(j.feature, j.depthTopM, j.x);
         counts.anomalies++;
         if (j.feature.properties.origin === 'above-ground') counts.aboveGround++;
@@ -160,27 +168,54 @@ export async function sliceAndScreen(
 
     const anchored: Anchored[] = [];
     let i = 0;
+    // an echo lies below its object, so its object is numbered first (depth order); an object another
+    // band reported is not there: the echo keeps its class and loses the link
+    const renamed = new Map<string, string>();
     const numbered = (function* () {
       for (const f of kept.sorted()) {
         const id = `A${String(++i).padStart(4, '0')}`;
         f.id = id;
         f.properties.id = id;
+        renamed.set(String(f.properties.key), id);
+        delete f.properties.key;
+        if (typeof f.properties.echoOf === 'string') {
+          const to = renamed.get(f.properties.echoOf);
+          if (to) f.properties.echoOf = to;
+          else delete f.properties.echoOf;
+        }
         yield f;
       }
     })();
+    const interfaces: GeoJsonFeature[] = [];
     await writeFeatureCollection(join(stageDir, 'anomalies.geojson'), { type: 'FeatureCollection', features: numbered, caution: CAUTION }, (f) => {
       const a = anchoredOf(f);
       if (a) anchored.push(a);
+      if (f.properties.class === 'layer') interfaces.push(...interfaceParts(f));
     });
+    await writeFeatureCollection(join(stageDir, 'interfaces.geojson'), { type: 'FeatureCollection', features: interfaces });
     // (the forecast takes the lines only to make a grid of its own; it is given the slices' grid)
     const forecast = siteForecast(site.plan, velocity, [], { grid, slices: windows }, surveyed, toWgs84, mpu, screenOptions);
     await writeFeatureCollection(join(stageDir, 'forecast.geojson'), forecast);
     featuresDone();
-    return { anchored, ...counts, bands: bands.length };
+    return { anchored, ...counts, bands: bands.length, nearSurfaceM };
   } finally {
     disk.remove();
     kept.remove();
   }
+}
+
+/**
+ * A layer anomaly as interface parts (interfaces.geojson): one polygon per slice it appears in, with
+ * that slice's depth range and mid depth, so a dipping reflector reads as a depth map of bands.
+ */
+function interfaceParts(f: GeoJsonFeature): GeoJsonFeature[] {
+  const members = Array.isArray(f.properties.members) ? (f.properties.members as Record<string, unknown>[]) : [];
+  return members.flatMap((m) => {
+    const outline = m.outline as GeoJsonFeature['geometry'];
+    const top = Number(m.topM), bottom = Number(m.bottomM);
+    if (!outline) return [];
+    return [{ type: 'Feature' as const, geometry: outline, properties: { anomalyId: f.properties.id, slice: m.slice, depthTopM: top, depthBottomM: bottom, depthM: Math.round(((top + bottom) / 2) * 1e6) / 1e6, areaM2: m.areaM2, strengthDb: m.strengthDb ?? null } }];
+  });
 }
 
 /** An anomaly's id, plan point and depth range, for re-matching review decisions. */

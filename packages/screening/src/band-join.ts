@@ -142,7 +142,9 @@ export class BandJoin {
         else {
           changed = true;
           if (keep.length < minCells) continue;
-          members.push(memberOf(m.id, m.slice, Int32Array.from(keep, (i) => m.cells[i]!), Float32Array.from(keep, (i) => m.scores[i]!), stack, this.options));
+          const piece = memberOf(m.id, m.slice, Int32Array.from(keep, (i) => m.cells[i]!), Float32Array.from(keep, (i) => m.scores[i]!), stack, this.options, m.noiseEnergy);
+          if (m.layer) piece.layer = true;
+          members.push(piece);
         }
       }
       if (members.length === 0) continue;
@@ -150,7 +152,7 @@ export class BandJoin {
       let kept = a;
       if (changed) {
         kept = buildAnomaly(a.id, members, stack, this.options);
-        feature = anomalyFeature({ anomaly: kept, evidence: sa.evidence, verdict: sa.verdict }, grid, this.options.toWgs84, this.options.metresPerUnit);
+        feature = anomalyFeature({ ...sa, anomaly: kept }, grid, this.options.toWgs84, this.options.metresPerUnit);
         feature.properties.source = f.properties.source;
       }
       for (const m of kept.members) {

@@ -1,4 +1,24 @@
-import { buildAnomaly, extractAnomalies, traceOutline, linkMembers, robustScores, type Anomaly3D, type ExtractOptions, type Member } from '@lamina/anomalies';
+import {
+  buildAnomaly,
+  classifyAnomalies,
+  extractAnomalies,
+  fitNoiseLaw,
+  joinAlignedPieces,
+  isExtensive,
+  maxUtilityWidthM,
+  noiseMean,
+  traceOutline,
+  linkMembers,
+  robustScores,
+  type Anomaly3D,
+  type AnomalyClass,
+  type ClassifyContext,
+  type ClassifyOptions,
+  type ExtractOptions,
+  type Member,
+  type Shape,
+} from '@lamina/anomalies';
+import { nearSurfaceDepthM } from '@lamina/slices';
 import type { PlanFeature } from '@lamina/site';
 import type { SliceGrid, SliceStack } from '@lamina/slices';
 import type { VelocityReport } from '@lamina/velocity';
@@ -57,12 +77,20 @@ export interface ScreenOptions extends ExtractOptions, ToleranceOptions {
   splitMinSlices?: number;
   /** Forecast the loci (`forecast` of the result); false leaves it empty (a caller screening in bands forecasts once). @default true */
   forecast?: boolean;
+  /** Depth of the near-surface zone, m. @default `nearSurfaceDepthM` of the antenna and the velocity model (0 without an antenna frequency) */
+  nearSurfaceM?: number;
+  /** Bounds of the classes (`classifyAnomalies`). */
+  classes?: ClassifyOptions;
+  /** Join subsurface pieces that line up in plan and depth into one anomaly (`joinAlignedPieces`). @default true */
+  joinPieces?: boolean;
 }
 
 export interface ScreenedAnomaly {
   anomaly: Anomaly3D;
   evidence: Evidence[];
   verdict: Verdict;
+  /** The class (`classifyAnomalies`), why, and the id of the object it is an echo of. */
+  classified?: { class: AnomalyClass; reason: string; echoOf?: string };
 }
 
 export interface ScreenSummary {
@@ -117,7 +145,17 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     for (let i = 0; i < f.length; i++) if (mask[i] && f[i]! < near) near = f[i]!;
     return near <= deepest ? f : null;
   });
-  const extraction = extractAnomalies(stack, { ...options, metresPerUnit: mpu });
+  const f = options.antennaFrequencyMHz;
+  const classCtx: ClassifyContext = {
+    velocityMPerNs: velocity.site.velocityMPerNs,
+    frequencyMHz: f && f > 0 ? f : Infinity,
+    // lineSpacingM is taken within each direction of a two-direction grid (context.ts)
+    lineSpacingM: Number.isFinite(spacing) ? spacing : cellM,
+    nearSurfaceM: options.nearSurfaceM ?? (f && f > 0 ? nearSurfaceDepthM(f, options.antennaSeparationM ?? 0, velocity.model) : 0),
+    cellM,
+  };
+  const isLayer = (shape: Shape, z: number) => isExtensive(shape, z, classCtx, options.classes);
+  const extraction = extractAnomalies(stack, { isLayer, ...options, metresPerUnit: mpu });
   let beforeScores: Float32Array[] | undefined;
   const bb = input.beforeBackgroundStack;
   if (bb && bb.grid.width === grid.width && bb.grid.height === grid.height && bb.slices.length === stack.slices.length) {
@@ -232,14 +270,29 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
       metresPerUnit: mpu,
       firstId: members.length,
     });
+    // the strips' strength against the before-background slices' own noise
+    const laws = new Map<number, number>();
+    for (const m of strips) {
+      if (!laws.has(m.slice)) {
+        const law = fitNoiseLaw(bb.slices[m.slice]!.values, bb.grid.nodata);
+        laws.set(m.slice, law ? noiseMean(law) : Number.NaN);
+      }
+      m.noiseEnergy = laws.get(m.slice)!;
+      m.strengthDb = m.noiseEnergy > 0 ? 10 * Math.log10(Math.max(m.peakValue, 1e-300) / m.noiseEnergy) : Number.NaN;
+    }
     for (const g of relink(strips, grid.width * grid.height, grid.cellSize, options)) {
       const before = screened.length;
       screenOne(buildAnomaly('A', g, bb, { ...options, metresPerUnit: mpu }), 0, ctxUnmigrated);
       for (let i = before; i < screened.length; i++) fromBefore.add(screened[i]!.anomaly);
     }
   }
+  if (options.joinPieces ?? true) joinPieces(screened, fromBefore, classCtx, grid, stack, options, mpu);
   screened.sort((p, q) => p.anomaly.depthTopM - q.anomaly.depthTopM || p.anomaly.members[0]!.x - q.anomaly.members[0]!.x);
   screened.forEach((s, i) => (s.anomaly.id = `A${String(i + 1).padStart(4, '0')}`));
+  const classes = classifyAnomalies(screened.map((s) => ({ anomaly: s.anomaly, aboveGround: s.verdict.origin === 'above-ground' })), classCtx, options.classes);
+  classes.forEach((c, i) => {
+    screened[i]!.classified = { class: c.class, reason: c.reason, ...(c.echoOf !== undefined ? { echoOf: screened[c.echoOf]!.anomaly.id } : {}) };
+  });
 
   function* features(): Generator<GeoJsonFeature> {
     for (const sa of screened) {
@@ -298,6 +351,7 @@ export function siteForecast(
   });
 }
 
+
 /** Median azimuth of the lines' end-to-end chords, degrees in [0, 180); NaN without lines. */
 function surveyDirection(lines: ScreenInput['lines']): number {
   const az: number[] = [];
@@ -311,6 +365,28 @@ function surveyDirection(lines: ScreenInput['lines']): number {
   if (az.length === 0) return NaN;
   az.sort((p, q) => p - q);
   return az[az.length >> 1]!;
+}
+
+/**
+ * Joins subsurface anomalies that line up in plan and depth (pieces of one utility) in place: each
+ * group becomes one anomaly of all its members, with the evidence and verdict of its largest piece.
+ */
+function joinPieces(screened: ScreenedAnomaly[], fromBefore: Set<Anomaly3D>, ctx: ClassifyContext, grid: SliceGrid, stack: SliceStack, options: ScreenOptions, mpu: number): void {
+  const idx = screened.map((s, i) => i).filter((i) => screened[i]!.verdict.origin !== 'above-ground' && !fromBefore.has(screened[i]!.anomaly));
+  const groups = joinAlignedPieces(idx.map((i) => screened[i]!.anomaly), grid, ctx.lineSpacingM, (z) => maxUtilityWidthM(z, ctx, options.classes), { ...options, metresPerUnit: mpu });
+  const drop = new Set<number>();
+  for (const g of groups) {
+    if (g.length < 2) continue;
+    const parts = g.map((k) => idx[k]!);
+    const largest = parts.reduce((p, q) => (screened[q]!.anomaly.cells.length > screened[p]!.anomaly.cells.length ? q : p));
+    const members = parts.flatMap((k) => screened[k]!.anomaly.members);
+    screened[largest] = { ...screened[largest]!, anomaly: buildAnomaly('A', members, stack, { ...options, metresPerUnit: mpu }) };
+    for (const k of parts) if (k !== largest) drop.add(k);
+  }
+  if (drop.size === 0) return;
+  const kept = screened.filter((_, i) => !drop.has(i));
+  screened.length = 0;
+  screened.push(...kept);
 }
 
 function strip(s: ScreenedAnomaly & { mo?: MoveOutResult }): ScreenedAnomaly {
@@ -354,6 +430,8 @@ export function anomalyFeature(s: ScreenedAnomaly, grid: SliceGrid, toWgs84: ToW
       slices: [...new Set(a.members.map((m) => m.slice))],
       peakValue: a.peakValue,
       peakScore: round(a.peakScore),
+      strengthDb: Number.isFinite(a.strengthDb) ? Math.round(a.strengthDb * 100) / 100 : null,
+      ...(s.classified ? { class: s.classified.class, classReason: s.classified.reason, ...(s.classified.echoOf ? { echoOf: s.classified.echoOf } : {}) } : {}),
       centroid: toWgs84(...centroidOf(a)),
       ...(a.centreline ? { centreline: lineToWgs84(a.centreline, toWgs84) } : {}),
       members: a.members.map((m) => ({
@@ -366,6 +444,7 @@ export function anomalyFeature(s: ScreenedAnomaly, grid: SliceGrid, toWgs84: ToW
         kind: m.shape.kind,
         directionDeg: round(m.shape.directionDeg),
         peakScore: round(m.peakScore),
+        strengthDb: Number.isFinite(m.strengthDb) ? Math.round(m.strengthDb * 100) / 100 : null,
       })),
       metresPerUnit,
     },

@@ -131,7 +131,12 @@ export function separateCrossings(members: Member[], stack: SliceStack, scores: 
       continue;
     }
     cut++;
-    for (const p of pieces) if (p.length > 0) out.push(makeMember(0, m.slice, Int32Array.from(p), stack, scores[m.slice]!, { metresPerUnit }));
+    for (const p of pieces) {
+      if (p.length === 0) continue;
+      const piece = makeMember(0, m.slice, Int32Array.from(p), stack, scores[m.slice]!, { metresPerUnit }, m.noiseEnergy);
+      if (m.layer) piece.layer = true;
+      out.push(piece);
+    }
   }
   out.forEach((m, i) => (m.id = i));
   return { members: out, cut };

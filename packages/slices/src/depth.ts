@@ -75,3 +75,16 @@ export function sampleDepths(
   for (let i = 0; i < nSamples; i++) out[i] = timeToDepth(i * dtNs - timeZeroNs, model, separationM);
   return out;
 }
+
+/**
+ * Depth (m) of the bottom of the near-surface zone, where the direct air wave and the ground wave
+ * still ring: the ground wave arrives at s / v (time-zero is the transmission), and a pulse lasts about
+ * one period 1 / f after its arrival (common practice, no source), so the zone ends at two-way time
+ * t = s / v_top + 1000 / f ns (f in MHz), converted to depth like any sample. Slices above it hold the
+ * direct and ground waves' residue after background removal.
+ */
+export function nearSurfaceDepthM(frequencyMHz: number, separationM: number, model: VelocityModel): number {
+  const v = model.layers[0]!.velocityMPerNs;
+  const z = timeToDepth(separationM / v + 1000 / frequencyMHz, model, separationM);
+  return Number.isFinite(z) ? z : 0;
+}

@@ -28,6 +28,8 @@ export interface ExportResult {
   aboveGround: number;
   /** Anomalies rejected in review, left out. */
   rejected: number;
+  /** Anomalies left out by their class (clutter, layer) or as echoes of another, unless accepted in review. */
+  notTargetClass: number;
   /** Review decisions whose anomaly id is not in anomalies.geojson (kept in review.json, not applied). */
   unmatchedDecisions: number;
 }
@@ -77,7 +79,7 @@ async function exportUnlocked(outDir: string, options: ExportOptions): Promise<E
 
     const byId = decisionsById(review.decisions);
     const matched = new Set<string>();
-    const counts = { anomalies: 0, targets: 0, aboveGround: 0, rejected: 0 };
+    const counts = { anomalies: 0, targets: 0, aboveGround: 0, rejected: 0, notTargetClass: 0 };
     // Same order as EXPORT_FILES; the report comes last.
     const makers = [geoJsonWriter, gpkgWriter, csvWriter, dxfWriter] as const;
     for (let i = 0; i < makers.length; i++) writers.push(await makers[i]!(join(outDir, EXPORT_FILES[i]!), ctx));
@@ -91,6 +93,7 @@ async function exportUnlocked(outDir: string, options: ExportOptions): Promise<E
       report.add(r);
       if (isDropped(r)) {
         if (r.reason === 'rejected') counts.rejected++;
+        else if (r.reason === 'class') counts.notTargetClass++;
         else counts.aboveGround++;
         continue;
       }
@@ -100,9 +103,9 @@ async function exportUnlocked(outDir: string, options: ExportOptions): Promise<E
     const unmatchedDecisions = review.decisions.filter((d) => !matched.has(d.anomalyId)).length;
     for (const w of writers) staged.push(await w.finish());
     writers.length = 0;
-    staged.push(await report.finish({ run, velocity, thumbnails: thumbs, ctx, unmatchedDecisions }, counts.anomalies));
+    staged.push(await report.finish({ run, velocity, thumbnails: thumbs, ctx, unmatchedDecisions }, counts.anomalies, counts.notTargetClass));
     for (const s of staged) await s.commit();
-    return { files: [...EXPORT_FILES], targets: counts.targets, aboveGround: counts.aboveGround, rejected: counts.rejected, unmatchedDecisions };
+    return { files: [...EXPORT_FILES], targets: counts.targets, aboveGround: counts.aboveGround, rejected: counts.rejected, notTargetClass: counts.notTargetClass, unmatchedDecisions };
   } catch (e) {
     await Promise.all([...writers.map((w) => w.abort()), ...staged.map((s) => s.abort())]);
     throw e;

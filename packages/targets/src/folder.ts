@@ -11,6 +11,8 @@ import type { SiteIdentity } from './review';
 export interface RunInfo {
   createdAt?: string;
   toolVersion?: string;
+  /** Depth of the near-surface (direct- and ground-wave) zone, m (run.json `nearSurfaceM`). */
+  nearSurfaceM?: number;
   site: {
     name: string;
     crs: Crs;
@@ -135,6 +137,7 @@ export async function readRun(outDir: string): Promise<RunInfo> {
   return {
     ...(typeof j.createdAt === 'string' ? { createdAt: j.createdAt } : {}),
     ...(typeof tool.version === 'string' ? { toolVersion: tool.version } : {}),
+    ...(num(j.nearSurfaceM) !== undefined ? { nearSurfaceM: num(j.nearSurfaceM) } : {}),
     site: {
       name,
       crs,

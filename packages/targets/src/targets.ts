@@ -55,12 +55,15 @@ export interface Target {
   lengthM: number | null;
 }
 
-/** Why an anomaly is not a target. */
+/** Why an anomaly is not a target (`class`: its class is clutter or layer, or it is an echo of another). */
 export interface Dropped {
   id: string;
-  reason: 'rejected' | 'above-ground' | 'relabelled above-ground';
+  reason: 'rejected' | 'above-ground' | 'relabelled above-ground' | 'class';
   anomaly: AnomalyFeature;
 }
+
+/** Classes of anomalies.geojson that become targets without review. */
+export const TARGET_CLASSES: readonly string[] = ['utility', 'structure'];
 
 const isPositions = (v: unknown): v is number[][] => Array.isArray(v) && v.every((p) => Array.isArray(p) && typeof p[0] === 'number' && typeof p[1] === 'number');
 
@@ -182,6 +185,10 @@ export function targetOf(a: AnomalyFeature, decisions: Map<string, Decision>, ve
   if (origin === 'above-ground') {
     return { id: p.id, reason: d?.origin === 'above-ground' && p.origin !== 'above-ground' ? 'relabelled above-ground' : 'above-ground', anomaly: a };
   }
+  // a class outside the target classes, or an echo of another anomaly, is a target only when accepted
+  // in review (files without `class` are screened as before)
+  const notTarget = (typeof p.class === 'string' && !TARGET_CLASSES.includes(p.class)) || typeof p.echoOf === 'string';
+  if (notTarget && d?.decision !== 'accept') return { id: p.id, reason: 'class', anomaly: a };
   const centreline = asGeometry(p.centreline);
   const outline = asGeometry(a.geometry);
   const kind: Target['kind'] = p.kind === 'linear' && centreline?.type === 'LineString' ? 'linear' : 'compact';

@@ -246,7 +246,7 @@ export async function gpkgWriter(path: string, ctx: ExportContext): Promise<Targ
  */
 export function reportWriter(path: string): {
   add(r: Target | Dropped): void;
-  finish(page: ReportPage, anomalyCount: number): Promise<StagedFile>;
+  finish(page: ReportPage, anomalyCount: number, notTargetClass?: number): Promise<StagedFile>;
 } {
   const targets: { id: string; row: Uint8Array }[] = [];
   const flagged: Uint8Array[] = [];
@@ -257,13 +257,14 @@ export function reportWriter(path: string): {
     add(r) {
       if (!('reason' in r)) targets.push({ id: r.id, row: utf8.encode(reportTargetRow(r)) });
       else if (r.reason === 'rejected') rejectedIds.push(r.id);
+      else if (r.reason === 'class') return;
       else flagged.push(utf8.encode(reportFlaggedRow(r)));
     },
-    async finish(page, anomalyCount) {
+    async finish(page, anomalyCount, notTargetClass = 0) {
       targets.sort(byTargetId);
       const out = await stageStream(path);
       try {
-        for (const part of reportParts(page, { targets: targets.map((t) => t.row), flagged, rejectedIds, anomalyCount })) await out.write(part);
+        for (const part of reportParts(page, { targets: targets.map((t) => t.row), flagged, rejectedIds, anomalyCount, notTargetClass })) await out.write(part);
       } catch (e) {
         await out.abort();
         throw e;

@@ -1,0 +1,143 @@
+import type { Anomaly3D, Shape } from './types';
+
+/** What an anomaly is taken to be (anomalies.geojson `class`). */
+export type AnomalyClass = 'utility' | 'structure' | 'layer' | 'clutter' | 'above-ground';
+
+/** The survey and soil an anomaly's size is judged against. */
+export interface ClassifyContext {
+  /** Soil velocity, m/ns. */
+  velocityMPerNs: number;
+  /** Antenna centre frequency, MHz. */
+  frequencyMHz: number;
+  /** Median line spacing, m. */
+  lineSpacingM: number;
+  /** Depth of the near-surface (direct and ground wave) zone, m (`nearSurfaceDepthM` of @lamina/slices). */
+  nearSurfaceM: number;
+  /** Grid cell size, m. */
+  cellM: number;
+}
+
+export interface ClassifyOptions {
+  /** Largest utility diameter, m (wider linear objects are culverts or structures). @default 1.5 (common practice, no source) */
+  maxUtilityDiameterM?: number;
+  /** Largest compact structure (footing, tank, vault, grave), m. @default 6 (common practice, no source) */
+  maxStructureM?: number;
+  /** An echo lies below its object sharing at least this fraction of the smaller one's cells (same plan position). @default 0.6 */
+  echoOverlap?: number;
+  /** Lines an object in the near-surface zone must cross to be kept (with deeper members). @default 3 */
+  nearSurfaceLines?: number;
+}
+
+export interface Classified {
+  class: AnomalyClass;
+  /** Why, in words (for the viewer and the report). */
+  reason: string;
+  /** Index of the object this anomaly repeats below itself (ringing, multiples), if one. */
+  echoOf?: number;
+}
+
+/**
+ * First Fresnel zone radius of a normal-incidence reflection at depth z, m: sqrt(lambda z / 2) with
+ * lambda = v / f (from memory: the usual two-way form, e.g. Sheriff and Geldart, Exploration
+ * Seismology). It bounds how wide a reflector's response is before focusing.
+ */
+export function fresnelRadiusM(depthM: number, velocityMPerNs: number, frequencyMHz: number): number {
+  const lambda = (1000 * velocityMPerNs) / frequencyMHz;
+  return Math.sqrt((lambda * Math.max(depthM, 0)) / 2);
+}
+
+/**
+ * Widest an anomaly seen on a single line may look, m: gridding spreads a line's values halfway to its
+ * neighbours on each side (one line spacing in all), and cells round it up by one cell.
+ */
+export function oneLineWidthM(lineSpacingM: number, cellM: number): number {
+  return lineSpacingM + cellM;
+}
+
+/** Widest a utility at depth z may look, m: its diameter plus the Fresnel zone, plus one line spacing of across-line sampling. */
+export function maxUtilityWidthM(depthM: number, ctx: ClassifyContext, options: ClassifyOptions = {}): number {
+  return (options.maxUtilityDiameterM ?? 1.5) + 2 * fresnelRadiusM(depthM, ctx.velocityMPerNs, ctx.frequencyMHz) + ctx.lineSpacingM;
+}
+
+/** Largest a compact structure at depth z may look, m: its size plus the Fresnel zone and one line spacing. */
+export function maxStructureExtentM(depthM: number, ctx: ClassifyContext, options: ClassifyOptions = {}): number {
+  return (options.maxStructureM ?? 6) + 2 * fresnelRadiusM(depthM, ctx.velocityMPerNs, ctx.frequencyMHz) + ctx.lineSpacingM;
+}
+
+/**
+ * Too large for any object at depth z: longer than a structure and wider than a utility, and, when
+ * linear (a band), wider than a structure too: a band a few metres wide along a utility is a utility
+ * with its surroundings, a layer spreads both ways (a gently dipping one crosses a slice in a band as
+ * wide as the slice thickness over the dip, metres).
+ */
+export function isExtensive(shape: Shape, depthM: number, ctx: ClassifyContext, options: ClassifyOptions = {}): boolean {
+  const s = maxStructureExtentM(depthM, ctx, options);
+  return shape.lengthM > s && shape.widthM > maxUtilityWidthM(depthM, ctx, options) && (shape.kind !== 'linear' || shape.widthM > s);
+}
+
+/**
+ * The class of each anomaly, in this order of rules:
+ * - `above-ground`: the screening's verdict (its evidence stays on the feature);
+ * - `clutter` (near surface): every member inside the direct- and ground-wave zone, or members there
+ *   and below that cross fewer than `nearSurfaceLines` lines;
+ * - echo: sharing at least `echoOverlap` of the smaller one's cells with a stronger subsurface anomaly that ends above it
+ *   (same plan position, later time, weaker: ringing or a multiple): it takes that object's class and
+ *   gets `echoOf`;
+ * - `layer`: too large for any object (`isExtensive`: a laterally extensive reflector);
+ * - `utility`: linear and no wider than a utility may be;
+ * - `clutter` (point-like): compact, seen on one line only (`oneLineWidthM`), spanning at most two
+ *   slices (one pulse) — a stone or a root at the survey's resolution;
+ * - `structure`: the other compact anomalies (a footing or a tank is wider than a line spacing, or thick).
+ */
+export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: boolean }[], ctx: ClassifyContext, options: ClassifyOptions = {}): Classified[] {
+  const lines = options.nearSurfaceLines ?? 3;
+  const own = items.map(({ anomaly: a, aboveGround }): Classified => {
+    if (aboveGround) return { class: 'above-ground', reason: 'air-wave screening' };
+    const deep = a.members.filter((m) => m.bottomM > ctx.nearSurfaceM);
+    if (deep.length === 0) return { class: 'clutter', reason: `inside the near-surface zone (top ${round(ctx.nearSurfaceM)} m)` };
+    if (deep.length < a.members.length && a.shape.lengthM < (lines - 1) * ctx.lineSpacingM && a.shape.widthM < (lines - 1) * ctx.lineSpacingM) {
+      return { class: 'clutter', reason: `starts in the near-surface zone and crosses fewer than ${lines} lines` };
+    }
+    const z = a.depthBottomM;
+    const slices = new Set(a.members.map((m) => m.slice)).size;
+    if (isExtensive(a.shape, z, ctx, options)) return { class: 'layer', reason: 'laterally extensive: wider than a utility and longer than a structure' };
+    if (a.shape.kind === 'linear') {
+      if (a.shape.widthM <= maxUtilityWidthM(z, ctx, options)) return { class: 'utility', reason: 'linear, no wider than a utility' };
+      return { class: 'structure', reason: 'linear but wider than a utility' };
+    }
+    if (a.shape.widthM <= oneLineWidthM(ctx.lineSpacingM, ctx.cellM) && slices <= 2) return { class: 'clutter', reason: 'point-like: seen on one line, one pulse thick' };
+    return { class: 'structure', reason: 'compact, wider than a line spacing or thicker than a pulse' };
+  });
+  // echoes: below a stronger object, mostly inside its plan cells
+  const overlap = options.echoOverlap ?? 0.6;
+  const order = items.map((_, i) => i).sort((p, q) => items[p]!.anomaly.depthTopM - items[q]!.anomaly.depthTopM);
+  const cellSets = new Map<number, Set<number>>();
+  const setOf = (i: number) => {
+    let s = cellSets.get(i);
+    if (!s) cellSets.set(i, (s = new Set(items[i]!.anomaly.cells)));
+    return s;
+  };
+  for (const i of order) {
+    const c = own[i]!;
+    if (c.class === 'above-ground' || c.class === 'layer') continue;
+    const a = items[i]!.anomaly;
+    for (const j of order) {
+      const b = items[j]!.anomaly;
+      if (b.depthTopM >= a.depthTopM) break;
+      const cb = own[j]!;
+      if (j === i || cb.class === 'above-ground' || cb.class === 'layer' || cb.class === 'clutter') continue;
+      if (b.depthBottomM > a.depthTopM + 1e-9 || !(b.strengthDb > a.strengthDb)) continue;
+      const s = setOf(j);
+      let inside = 0;
+      for (const k of a.cells) if (s.has(k)) inside++;
+      if (inside >= overlap * Math.min(a.cells.length, b.cells.length)) {
+        const root = own[j]!.echoOf ?? j;
+        own[i] = { class: own[root]!.class, reason: `echo below ${b.id}: same plan position, later, weaker`, echoOf: root };
+        break;
+      }
+    }
+  }
+  return own;
+}
+
+const round = (v: number) => Math.round(v * 100) / 100;

@@ -1,0 +1,109 @@
+import type { SliceGrid } from '@lamina/slices';
+import { oneLineWidthM } from './classify';
+import { cellShape, type ShapeOptions } from './shape';
+import type { Anomaly3D } from './types';
+
+export interface JoinOptions extends ShapeOptions {
+  /** Largest plan gap between two pieces of one utility, m. @default 2 line spacings (a pipe at an angle to the lines is seen once per line) */
+  maxGapM?: number;
+  /** Largest depth gap between the pieces' depth ranges, m. @default 0 (the ranges meet) */
+  maxDepthGapM?: number;
+  /** A linear piece must run within this angle of the joined line, degrees. @default 20 (common practice, no source) */
+  maxAngleDeg?: number;
+}
+
+function angleDiff(a: number, b: number): number {
+  const d = Math.abs(a - b) % 180;
+  return Math.min(d, 180 - d);
+}
+
+/**
+ * Groups pieces of one utility: anomalies that line up in plan and depth across small gaps. Only
+ * linear pieces and compact ones seen on one line (`oneLineWidthM`) take part. Pairs
+ * are tried nearest first (union-find); two groups join when their depth ranges meet within
+ * `maxDepthGapM`, some cells of the two lie within `maxGapM`, their union is linear and no wider than
+ * `maxWidthM(depth)` allows, and every linear piece runs along the union. Returns groups of indices
+ * (singletons included), each ascending.
+ */
+export function joinAlignedPieces(
+  pieces: Anomaly3D[],
+  grid: SliceGrid,
+  lineSpacingM: number,
+  maxWidthM: (depthM: number) => number,
+  options: JoinOptions = {},
+): number[][] {
+  const mpu = options.metresPerUnit ?? 1;
+  const n = pieces.length;
+  const gapU = (options.maxGapM ?? 2 * lineSpacingM) / mpu;
+  // a piece of a utility is linear, or compact and seen on one line only (a pipe crossing the lines
+  // at an angle); a compact piece wider than a line spacing is an object of its own (a footing)
+  const joinable = (a: Anomaly3D) => a.shape.kind === 'linear' || a.shape.widthM <= oneLineWidthM(lineSpacingM, grid.cellSize * mpu);
+  const maxAngle = options.maxAngleDeg ?? 20;
+  const box = pieces.map((a) => {
+    let r0 = Infinity, r1 = -Infinity, c0 = Infinity, c1 = -Infinity;
+    for (const k of a.cells) {
+      const r = (k / grid.width) | 0, c = k - r * grid.width;
+      if (r < r0) r0 = r;
+      if (r > r1) r1 = r;
+      if (c < c0) c0 = c;
+      if (c > c1) c1 = c;
+    }
+    return { r0, r1, c0, c1 };
+  });
+  const gapCells = gapU / grid.cellSize;
+  const pairs: [number, number, number][] = [];
+  for (let i = 0; i < n; i++)
+    for (let j = i + 1; j < n; j++) {
+      const a = pieces[i]!, b = pieces[j]!;
+      const dz = options.maxDepthGapM ?? 0;
+      if (!joinable(a) || !joinable(b)) continue;
+      if (a.depthTopM > b.depthBottomM + dz + 1e-9 || b.depthTopM > a.depthBottomM + dz + 1e-9) continue;
+      const A = box[i]!, B = box[j]!;
+      const br = Math.max(0, A.r0 - B.r1, B.r0 - A.r1), bc = Math.max(0, A.c0 - B.c1, B.c0 - A.c1);
+      if (Math.hypot(br, bc) > gapCells + 1) continue;
+      const d = minCellDistance(a.cells, b.cells, grid.width);
+      if (d <= gapCells + 1) pairs.push([d, i, j]);
+    }
+  pairs.sort((p, q) => p[0] - q[0] || p[1] - q[1] || p[2] - q[2]);
+  const parent = Int32Array.from({ length: n }, (_, i) => i);
+  const find = (a: number): number => {
+    while (parent[a] !== a) a = parent[a] = parent[parent[a]!]!;
+    return a;
+  };
+  const groupOf = new Map<number, number[]>(Array.from({ length: n }, (_, i) => [i, [i]]));
+  for (const [, i, j] of pairs) {
+    const ri = find(i), rj = find(j);
+    if (ri === rj) continue;
+    const members = [...groupOf.get(ri)!, ...groupOf.get(rj)!];
+    const cells = new Set<number>();
+    let bottom = 0;
+    for (const m of members) {
+      for (const k of pieces[m]!.cells) cells.add(k);
+      bottom = Math.max(bottom, pieces[m]!.depthBottomM);
+    }
+    const shape = cellShape(Int32Array.from(cells).sort(), grid, options);
+    if (shape.kind !== 'linear' || shape.widthM > maxWidthM(bottom)) continue;
+    if (members.some((m) => pieces[m]!.shape.kind === 'linear' && angleDiff(pieces[m]!.shape.directionDeg, shape.directionDeg) > maxAngle)) continue;
+    const root = Math.min(ri, rj);
+    parent[ri] = root;
+    parent[rj] = root;
+    groupOf.delete(ri);
+    groupOf.delete(rj);
+    groupOf.set(root, members.sort((p, q) => p - q));
+  }
+  return [...groupOf.values()].sort((p, q) => p[0]! - q[0]!);
+}
+
+/** Smallest distance between cells of two ascending cell lists, in cells (brute force over the smaller's edge). */
+function minCellDistance(a: Int32Array, b: Int32Array, width: number): number {
+  let best = Infinity;
+  for (let i = 0; i < a.length; i++) {
+    const ra = (a[i]! / width) | 0, ca = a[i]! - ra * width;
+    for (let j = 0; j < b.length; j++) {
+      const rb = (b[j]! / width) | 0, cb = b[j]! - rb * width;
+      const d = (ra - rb) ** 2 + (ca - cb) ** 2;
+      if (d < best) best = d;
+    }
+  }
+  return Math.sqrt(best);
+}

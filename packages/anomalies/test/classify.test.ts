@@ -1,0 +1,75 @@
+import { describe, expect, it } from 'vitest';
+import { buildAnomaly, classifyAnomalies, fresnelRadiusM, joinAlignedPieces, makeMember, maxUtilityWidthM, type Anomaly3D, type ClassifyContext } from '../src';
+import { grid } from './helpers';
+
+const g = grid(200, 200, 0.125, 0, 25);
+const stack = { grid: g, slices: Array.from({ length: 12 }, (_, i) => ({ index: i, topM: 0.125 * i, bottomM: 0.125 * (i + 1), values: new Float32Array(200 * 200).fill(1) })) };
+const cellsOf = (test: (x: number, y: number) => boolean): Int32Array => {
+  const out: number[] = [];
+  for (let r = 0; r < g.height; r++)
+    for (let c = 0; c < g.width; c++) if (test(g.originX + (c + 0.5) * g.cellSize, g.originY - (r + 0.5) * g.cellSize)) out.push(r * g.width + c);
+  return Int32Array.from(out);
+};
+/** An anomaly of the given cells on slices [s0, s1], peak energy `peak` over a unit noise. */
+function anomaly(cells: Int32Array, s0: number, s1: number, peak = 10): Anomaly3D {
+  const members = [];
+  for (let s = s0; s <= s1; s++) {
+    for (const k of cells) stack.slices[s]!.values[k] = peak;
+    members.push(makeMember(members.length, s, cells, stack, new Float32Array(g.width * g.height).fill(5), { metresPerUnit: 1 }, 1));
+  }
+  return buildAnomaly('A', members, stack, { metresPerUnit: 1 });
+}
+const ctx: ClassifyContext = { velocityMPerNs: 0.1, frequencyMHz: 400, lineSpacingM: 0.5, nearSurfaceM: 0.19, cellM: 0.125 };
+
+describe('physics of the bounds', () => {
+  it('first Fresnel zone radius sqrt(lambda z / 2) (from memory: Sheriff and Geldart)', () => {
+    // lambda = 0.1 m/ns / 400 MHz = 0.25 m; z = 1 m: sqrt(0.125) = 0.35355 m
+    expect(fresnelRadiusM(1, 0.1, 400)).toBeCloseTo(Math.sqrt(0.125), 12);
+    expect(maxUtilityWidthM(1, ctx)).toBeCloseTo(1.5 + 2 * Math.sqrt(0.125) + 0.5, 12);
+  });
+});
+
+describe('classes', () => {
+  it('a pipe is a utility, a footing a structure, a one-line blob clutter, a site-wide sheet a layer, a near-surface speck clutter', () => {
+    const pipe = anomaly(cellsOf((x, y) => Math.abs(y - 20) < 0.2 && x > 2 && x < 20), 6, 7);
+    const footing = anomaly(cellsOf((x, y) => Math.abs(x - 5) < 0.45 && Math.abs(y - 10) < 0.45), 4, 5);
+    const stone = anomaly(cellsOf((x, y) => Math.abs(x - 15) < 0.4 && Math.abs(y - 10) < 0.15), 5, 5);
+    const sheet = anomaly(cellsOf((x, y) => x > 1 && x < 24 && y > 1 && y < 17), 8, 9);
+    const speck = anomaly(cellsOf((x, y) => Math.abs(x - 20) < 0.3 && Math.abs(y - 15) < 0.3), 0, 0);
+    const air = anomaly(cellsOf((x, y) => Math.abs(x - 22) < 0.3 && Math.abs(y - 22) < 0.3), 3, 4);
+    const c = classifyAnomalies(
+      [pipe, footing, stone, sheet, speck, air].map((a, i) => ({ anomaly: a, aboveGround: i === 5 })),
+      ctx,
+    );
+    expect(c.map((x) => x.class)).toEqual(['utility', 'structure', 'clutter', 'layer', 'clutter', 'above-ground']);
+  });
+
+  it('a band a few metres wide along a line is not a layer (a layer spreads both ways)', () => {
+    const band = anomaly(cellsOf((x, y) => x > 2 && x < 23 && Math.abs(y - 12) < 1.6), 9, 9);
+    expect(classifyAnomalies([{ anomaly: band, aboveGround: false }], ctx)[0]!.class).not.toBe('layer');
+  });
+
+  it('a weaker copy below a strong object is its echo, a stronger one below is not', () => {
+    const pipeCells = cellsOf((x, y) => Math.abs(y - 20) < 0.2 && x > 2 && x < 20);
+    const pipe = anomaly(pipeCells, 4, 5, 100);
+    const ring = anomaly(pipeCells, 8, 8, 20);
+    const deeper = anomaly(cellsOf((x, y) => Math.abs(y - 20) < 0.2 && x > 2 && x < 20), 10, 10, 1000);
+    const c = classifyAnomalies([pipe, ring, deeper].map((a) => ({ anomaly: a, aboveGround: false })), ctx);
+    expect(c[1]!.echoOf).toBe(0);
+    expect(c[1]!.class).toBe('utility');
+    expect(c[2]!.echoOf).toBeUndefined();
+  });
+});
+
+describe('joining pieces of a utility', () => {
+  it('joins pieces along a line across gaps up to two line spacings, not pieces of a row of footings nor pieces at other depths', () => {
+    // a pipe at 30 degrees seen once per line: short pieces 0.8 m apart along its axis
+    const along = (t: number): [number, number] => [3 + t * Math.cos(Math.PI / 6), 12 + t * Math.sin(Math.PI / 6)];
+    const pieces = [0, 1.6, 3.2, 4.8].map((t) => anomaly(cellsOf((x, y) => Math.hypot(x - along(t)[0], y - along(t)[1]) < 0.3), 5, 5));
+    const footings = [0, 2.4, 4.8].map((d) => anomaly(cellsOf((x, y) => Math.abs(x - 3 - d) < 0.45 && Math.abs(y - 4) < 0.45), 5, 5));
+    const deep = anomaly(cellsOf((x, y) => Math.hypot(x - along(6.4)[0], y - along(6.4)[1]) < 0.3), 10, 10);
+    const groups = joinAlignedPieces([...pieces, ...footings, deep], g, 0.5, (z) => maxUtilityWidthM(z, ctx), { metresPerUnit: 1 });
+    expect(groups).toContainEqual([0, 1, 2, 3]);
+    for (const i of [4, 5, 6, 7]) expect(groups).toContainEqual([i]);
+  });
+});
