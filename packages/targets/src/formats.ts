@@ -23,6 +23,13 @@ export const TARGET_FIELDS: readonly (readonly [string, 'TEXT' | 'REAL'])[] = [
   ['reviewedAt', 'TEXT'], ['screenedOrigin', 'TEXT'], ['site', 'TEXT'],
 ];
 
+/**
+ * CI/ASCE 38-22 quality level of a target: "B" (designated by geophysical methods) only once a person
+ * accepted it in review, and then still to be confirmed by the responsible professional; null for a
+ * candidate nobody reviewed.
+ */
+export const qualityLevel = (t: Target): 'B' | null => (t.decision === 'accepted' ? 'B' : null);
+
 /** The properties of one target, keyed as TARGET_FIELDS. */
 export function targetProperties(t: Target, ctx: ExportContext): Record<string, string | number | null> {
   return {
@@ -43,7 +50,7 @@ export function targetProperties(t: Target, ctx: ExportContext): Record<string, 
     apwaColourName: t.apwaColourName,
     label: t.label,
     lengthM: t.lengthM,
-    qualityLevel: 'B',
+    qualityLevel: qualityLevel(t),
     method: ctx.method,
     surveyDate: ctx.surveyDate,
     exportDate: ctx.exportDate,
@@ -120,7 +127,7 @@ export function csvRow(t: Target, ctx: ExportContext): string {
     [
       t.id, t.kind, t.utilityType, t.apwaColour, t.depthTopM, t.depthBottomM, ft(t.depthTopM), ft(t.depthBottomM),
       t.depthUncertaintyM, ft(t.depthUncertaintyM), t.confidence, fmt(t.centroidXY[0]), fmt(t.centroidXY[1]),
-      round8(t.centroidLonLat[0]), round8(t.centroidLonLat[1]), t.lengthM, 'B', t.decision, t.note, crsName, geometryWkt(t.site),
+      round8(t.centroidLonLat[0]), round8(t.centroidLonLat[1]), t.lengthM, qualityLevel(t), t.decision, t.note, crsName, geometryWkt(t.site),
     ].map(csvCell).join(',') + '\r\n'
   );
 }
@@ -135,7 +142,8 @@ const round8 = (v: number) => Math.round(v * 1e8) / 1e8;
 const ACI: Record<string, number> = { red: 1, orange: 30, yellow: 2, blue: 5, purple: 6, green: 3, pink: 221, white: 7, grey: 8 };
 
 export function dxfLayer(t: Target): string {
-  return `LAMINA_${(t.utilityType ?? 'unknown').toUpperCase().replace(/[^A-Z0-9]+/g, '_')}`;
+  const type = (t.utilityType ?? 'unknown').toUpperCase().replace(/[^A-Z0-9]+/g, '_');
+  return t.decision === 'accepted' ? `LAMINA_${type}` : `LAMINA_CANDIDATE_${type}`;
 }
 
 /** AutoCAD colour index of a target's layer (a function of the utility type, as the layer name is). */

@@ -64,6 +64,8 @@ export interface ReportRows<R> {
   anomalyCount: number;
   /** Anomalies left out by class (clutter, layer) or as echoes. @default 0 */
   notTargetClass?: number;
+  /** Targets accepted in review (quality level B); the others are candidates. @default 0 */
+  acceptedCount?: number;
 }
 
 /** Order of the target table. */
@@ -134,7 +136,7 @@ ${hyper.length ? `<table><tr><th>Line</th><th>Trace</th><th>t0 (ns)</th><th>Dept
 <h2>Depth slices</h2>
 ${thumbnails.length ? `<p>Grey levels from each slice's 2nd (black) to 98th (white) percentile; north up; checkered = no data.</p><div class="thumbs">${thumbnails.map((t) => `<figure><img src="${t.dataUri}" width="${t.width}" height="${t.height}" alt="slice ${t.band}"><figcaption>${f(t.topM)}–${f(t.bottomM)} m</figcaption></figure>`).join('')}</div>` : '<p>No slices.tif in the folder.</p>'}
 <h2>Targets (${rows.targets.length})</h2>
-<p>Subsurface anomalies classed utility or structure (or accepted in review), not rejected in review.${rows.notTargetClass ? ` ${rows.notTargetClass} anomalies classed clutter or layer, or echoes below another object, are in anomalies.geojson only.` : ''}${run.nearSurfaceM !== undefined ? ` Slices above ${f(run.nearSurfaceM)} m lie in the direct- and ground-wave zone: what is found only there is not a target unless it crosses several lines and continues deeper.` : ''} Depth ft = m / 0.3048 (international foot). Uncertainty: dz = z · dv / v from the velocity spread.</p>
+<p>Subsurface anomalies classed utility or structure (or accepted in review), not rejected in review.${rows.notTargetClass ? ` ${rows.notTargetClass} anomalies classed clutter or layer, or echoes below another object, are in anomalies.geojson only.` : ''}${run.nearSurfaceM !== undefined ? ` Slices above ${f(run.nearSurfaceM)} m lie in the direct- and ground-wave zone: what is found only there is not a target unless it crosses several lines and continues deeper.` : ''} Depth ft = m / 0.3048 (international foot). Uncertainty: dz = z · dv / v from the velocity spread. ${rows.targets.length - (rows.acceptedCount ?? 0)} of ${rows.targets.length} are candidates nobody has reviewed yet (no quality level); the ${rows.acceptedCount ?? 0} accepted in review carry quality level B in the sense of CI/ASCE 38-22, to be confirmed by the responsible professional.</p>
 <table><tr><th>Id</th><th>Kind</th><th>Utility (APWA)</th><th>Top m (ft)</th><th>Bottom m (ft)</th><th>± m</th><th>Length m</th><th>Confidence</th><th>Position (${esc(unit)})</th><th>Review</th></tr>
 `;
   yield* joined(rows.targets);
@@ -169,6 +171,7 @@ export function reportHtml(r: ReportInput): string {
     rejectedIds: r.dropped.filter((d) => d.reason === 'rejected').map((d) => d.id),
     anomalyCount: r.anomalies.length,
     notTargetClass: r.dropped.filter((d) => d.reason === 'class').length,
+    acceptedCount: r.targets.filter((t) => t.decision === 'accepted').length,
   };
   return [...reportParts(r, rows)].join('');
 }

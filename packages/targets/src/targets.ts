@@ -35,7 +35,11 @@ export interface Target {
   apwaColour: string | null;
   apwaColourName: string | null;
   label: string | null;
-  decision: 'accept' | 'undecided';
+  /**
+   * `accepted` when review.json accepts it; `candidate` otherwise (found and screened, not yet reviewed):
+   * only an accepted target can be quality level B.
+   */
+  decision: 'accepted' | 'candidate';
   note: string | null;
   reviewedAt: string | null;
   reviewedBy: string | null;
@@ -225,7 +229,7 @@ export function targetOf(a: AnomalyFeature, decisions: Map<string, Decision>, ve
     apwaColour: colour?.hex ?? null,
     apwaColourName: colour?.name ?? null,
     label: d?.label ?? null,
-    decision: d?.decision === 'accept' ? 'accept' : 'undecided',
+    decision: d?.decision === 'accept' ? 'accepted' : 'candidate',
     note: d?.note ?? null,
     reviewedAt: d?.updatedAt ?? null,
     reviewedBy: d?.by ?? null,

@@ -251,11 +251,15 @@ export function reportWriter(path: string): {
   const targets: { id: string; row: Uint8Array }[] = [];
   const flagged: Uint8Array[] = [];
   const rejectedIds: string[] = [];
+  let acceptedCount = 0;
   // Each row in its own exact-size buffer: a kept Buffer.from() would pin a whole 8 KiB pool slab.
   const utf8 = new TextEncoder();
   return {
     add(r) {
-      if (!('reason' in r)) targets.push({ id: r.id, row: utf8.encode(reportTargetRow(r)) });
+      if (!('reason' in r)) {
+        targets.push({ id: r.id, row: utf8.encode(reportTargetRow(r)) });
+        if (r.decision === 'accepted') acceptedCount++;
+      }
       else if (r.reason === 'rejected') rejectedIds.push(r.id);
       else if (r.reason === 'class') return;
       else flagged.push(utf8.encode(reportFlaggedRow(r)));
@@ -264,7 +268,7 @@ export function reportWriter(path: string): {
       targets.sort(byTargetId);
       const out = await stageStream(path);
       try {
-        for (const part of reportParts(page, { targets: targets.map((t) => t.row), flagged, rejectedIds, anomalyCount, notTargetClass })) await out.write(part);
+        for (const part of reportParts(page, { targets: targets.map((t) => t.row), flagged, rejectedIds, anomalyCount, notTargetClass, acceptedCount })) await out.write(part);
       } catch (e) {
         await out.abort();
         throw e;

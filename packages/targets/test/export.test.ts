@@ -77,7 +77,8 @@ describe('exportTargets on an EPSG:32617 (metre) folder', () => {
     expect(ids).toEqual(['C', 'E', 'U', 'W']);
     for (const f of fc.features) {
       for (const [name] of TARGET_FIELDS) expect(f.properties).toHaveProperty(name);
-      expect(f.properties.qualityLevel).toBe('B');
+      // CI/ASCE 38-22 quality level B only for what a person accepted in review (issue 14)
+      expect(f.properties.qualityLevel).toBe(f.properties.decision === 'accepted' ? 'B' : null);
       expect(f.properties.origin).toBe('subsurface');
       expect(f.properties.method).toBe('GPR, 400 MHz, depth slices');
       expect(f.properties.exportDate).toBe(NOW.toISOString());
@@ -127,17 +128,18 @@ describe('exportTargets on an EPSG:32617 (metre) folder', () => {
     expect(w.props.depthTopFt).toBeCloseTo(1.0 / 0.3048, 4);
   });
 
-  it('targets.dxf: GDAL reads one geometry and one label per target, layers by utility type, Z = -depth', () => {
+  it('targets.dxf: GDAL reads one geometry and one label per target, layers by review state and utility type, Z = -depth', () => {
     expect(dump.dxf).toHaveLength(8);
     const layers = new Set(dump.dxf.map((e: { layer: string }) => e.layer));
-    expect([...layers].sort()).toEqual(['LAMINA_ELECTRIC', 'LAMINA_SEWER', 'LAMINA_UNKNOWN', 'LAMINA_WATER']);
+    // accepted targets on LAMINA_<type>, candidates nobody reviewed apart on LAMINA_CANDIDATE_<type> (issue 14)
+    expect([...layers].sort()).toEqual(['LAMINA_CANDIDATE_UNKNOWN', 'LAMINA_ELECTRIC', 'LAMINA_SEWER', 'LAMINA_WATER']);
     const line = dump.dxf.find((e: { layer: string; type: string }) => e.layer === 'LAMINA_WATER' && e.type === 'LINESTRING');
     expect(line.n).toBe(3);
     expect(line.z).toBeCloseTo(-1.0, 6);
     expect(line.zs[1]).toBeCloseTo(-1.0, 6); // in both members: the shallower
     expect(line.zs[2]).toBeCloseTo(-1.1, 6); // east half seen from 1.1 m only
     expect(line.x).toBeCloseTo(431251, 3);
-    const pt = dump.dxf.find((e: { layer: string; type: string }) => e.layer === 'LAMINA_UNKNOWN' && e.type === 'POINT');
+    const pt = dump.dxf.find((e: { layer: string; type: string }) => e.layer === 'LAMINA_CANDIDATE_UNKNOWN' && e.type === 'POINT');
     expect(pt.z).toBeCloseTo(-0.8, 6);
     const texts = dump.dxf.filter((e: { text: string | null }) => e.text).map((e: { text: string }) => e.text);
     expect(texts).toHaveLength(4);
@@ -299,5 +301,37 @@ describe('exportTargets inputs', () => {
     expect(fc.features.map((f: { properties: { id: string } }) => f.properties.id)).not.toContain('W');
     expect((await stat(join(fx.dir, 'targets.gpkg'))).size).toBeGreaterThan(0);
     expect((await readdir(fx.dir)).filter((f) => f.endsWith('.tmp'))).toEqual([]);
+  });
+});
+
+describe('quality level follows review (issue 14)', () => {
+  it('a folder nobody reviewed exports no QL-B row in any format; one accepted target is QL-B in all five', async () => {
+    const fresh = await makeFolder({ crs: 'EPSG:32617', origin: [431250, 4429800], name: 'fresh', review: false });
+    await exportTargets(fresh.dir, { now: NOW });
+    const reviewed = await makeFolder({ crs: 'EPSG:32617', origin: [431250, 4429800], name: 'one-accepted', decisions: () => [{ anomalyId: 'W', decision: 'accept', utilityType: 'water' }] });
+    await exportTargets(reviewed.dir, { now: NOW });
+    for (const [fx, acceptedIds] of [[fresh, []], [reviewed, ['W']]] as const) {
+      const fc = JSON.parse(await readFile(join(fx.dir, 'targets.geojson'), 'utf8'));
+      expect(fc.features.length).toBeGreaterThan(0);
+      for (const f of fc.features) {
+        const accepted = (acceptedIds as readonly string[]).includes(f.properties.id);
+        expect(f.properties.decision).toBe(accepted ? 'accepted' : 'candidate');
+        expect(f.properties.qualityLevel).toBe(accepted ? 'B' : null);
+      }
+      const csv = (await readFile(join(fx.dir, 'targets.csv'), 'utf8')).trim().split('\r\n');
+      const col = CSV_COLUMNS.indexOf('quality_level');
+      const idCol = CSV_COLUMNS.indexOf('id');
+      for (const row of csv.slice(1)) {
+        const cells = row.split(',');
+        expect(cells[col]).toBe((acceptedIds as readonly string[]).includes(cells[idCol]!) ? 'B' : '');
+      }
+      // GDAL reads the GeoPackage and the DXF (candidates on their own layers)
+      const d = ogrDump(fx.dir);
+      for (const f of d.gpkg.targets.features) expect(f.props.qualityLevel).toBe((acceptedIds as readonly string[]).includes(f.props.id) ? 'B' : null);
+      for (const e of d.dxf) expect(e.layer.startsWith('LAMINA_CANDIDATE_')).toBe(acceptedIds.length === 0 || !e.layer.endsWith('WATER'));
+      const report = await readFile(join(fx.dir, 'report.html'), 'utf8');
+      expect(report).toContain(`the ${acceptedIds.length} accepted in review carry quality level B`);
+      expect(report).toContain('to be confirmed by the responsible professional');
+    }
   });
 });
