@@ -2,7 +2,7 @@
 // line, the dip limit, the trace-slot rule and the bistatic-to-zero-offset time map.
 import type { RadarLine } from '@lamina/radar-data';
 import { fftOfSize, nextPow2 } from './fft';
-import { alongTrackM } from './line-util';
+import { alongTrackM, outputFor, withData } from './line-util';
 import { keys } from './time-zero';
 
 /** An interval-velocity layer by depth (m, m/ns); the last layer extends to any depth. */
@@ -400,5 +400,94 @@ export function taperTraceEnds(data: Float64Array | Float32Array, nTraces: numbe
     const w = 0.5 * (1 - Math.cos((Math.PI * q) / n)); // 0 at the last sample
     const k = nSamples - 1 - q;
     for (let i = 0; i < nTraces; i++) data[i * nSamples + k] = (data[i * nSamples + k] as number) * w;
+  }
+}
+
+/** What the two frequency-domain migrations of a whole line share (stolt.ts, phase-shift.ts). */
+export interface FkLineOptions {
+  /** Antenna separation along the line, m: bistatic times are mapped to zero offset and back (see `bistaticTime`). @default 0 */
+  separationM?: number;
+  /** Dip limit: components steeper than this (at the local velocity) are dropped. @default 60 */
+  maxAngleDeg?: number;
+  /**
+   * Kirchhoff's half-aperture, m, as a dip limit: at depth z the angle is limited to min(maxAngleDeg,
+   * atan(apertureM / z)), the angle Kirchhoff's summation reaches there. @default Infinity
+   */
+  apertureM?: number;
+  /** Fraction of the angle range below maxAngleDeg tapered by a cosine. @default 0.2 */
+  taper?: number;
+  /**
+   * As Kirchhoff's option: false runs the half-integral with the migration (`halfOrderFilter`), so that a
+   * diffraction made of the source wavelet at ray times focuses zero-phase and the output matches
+   * Kirchhoff's default; true gives the plain wave-equation result (Kirchhoff with the half-derivative).
+   * @default false
+   */
+  halfDerivative?: boolean;
+  /** Band kept: see `band`. @default 1e-6 */
+  energyTolerance?: number;
+  /** Metres per CRS unit of `line.x/y`. @default 1 */
+  metresPerUnit?: number;
+}
+
+/** The kernel options `fkLine` resolves from `FkLineOptions` (defaults written once, here). */
+export interface FkKernelSettings {
+  maxAngleDeg: number;
+  apertureM: number;
+  taper: number;
+  energyTolerance: number;
+  inverse: boolean;
+  halfIntegral: boolean;
+}
+
+/**
+ * A whole line through a frequency-domain kernel: bistatic times to zero offset, the record's end
+ * tapered over one dominant period, the kernel on the regular trace slots, and back to bistatic time
+ * (samples before the ground wave passed through: `passThroughBack`).
+ */
+export function fkLine(
+  line: RadarLine,
+  layers: readonly MigrationLayer[],
+  options: FkLineOptions,
+  inverse: boolean,
+  kernel: (zo: Float64Array, nTraces: number, nSamples: number, dtNs: number, spacingM: number, timeZeroNs: number, settings: FkKernelSettings) => Float32Array,
+  out?: Float32Array,
+): RadarLine {
+  const sep = options.separationM ?? 0;
+  const { nSamples: ns, nTraces: nt, dtNs: dt, timeZeroNs: tz } = line;
+  const { src, dst } = outputFor(line, out);
+  const zo = new Float64Array(src.length);
+  bistaticResample(src, nt, ns, dt, tz, layers, sep, true, zo);
+  taperTraceEnds(zo, nt, ns, dt, dominantPeriodNs(zo, nt, ns, dt));
+  const { spacingM } = traceSlots(line, options.metresPerUnit ?? 1);
+  const img = kernel(zo, nt, ns, dt, spacingM, tz, {
+    maxAngleDeg: options.maxAngleDeg ?? 60,
+    apertureM: options.apertureM ?? Infinity,
+    taper: options.taper ?? 0.2,
+    energyTolerance: options.energyTolerance ?? 1e-6,
+    inverse,
+    halfIntegral: !(options.halfDerivative ?? false),
+  });
+  passThroughBack(img, src, dst, nt, ns, dt, tz, layers, sep);
+  return withData(line, dst);
+}
+
+/** Back to bistatic time into `dst`; samples before the ground wave (t <= s / v1 after time-zero) from `src`. */
+export function passThroughBack(
+  img: Float32Array,
+  src: Float32Array,
+  dst: Float32Array,
+  nTraces: number,
+  nSamples: number,
+  dtNs: number,
+  timeZeroNs: number,
+  layers: readonly { topM: number; velocityMPerNs: number }[],
+  separationM: number,
+): void {
+  const back = new Float32Array(img.length);
+  bistaticResample(img, nTraces, nSamples, dtNs, timeZeroNs, layers, separationM, false, back);
+  const tMin = separationM / (layers[0] as { velocityMPerNs: number }).velocityMPerNs;
+  for (let k = 0; k < nSamples; k++) {
+    const keep = k * dtNs - timeZeroNs <= tMin;
+    for (let i = 0; i < nTraces; i++) dst[i * nSamples + k] = keep ? (src[i * nSamples + k] as number) : (back[i * nSamples + k] as number);
   }
 }

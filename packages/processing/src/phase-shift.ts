@@ -1,33 +1,10 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { fftOfSize } from './fft';
-import { band, bistaticResample, dominantPeriodNs, taperTraceEnds, checkLayers, fk2d, halfOrderFilter, ifk2d, kxOf, paddedSizes, shiftSpectrum, traceSlots, type MigrationLayer } from './fk';
-import { outputFor, withData } from './line-util';
-import { passThroughBack } from './stolt';
+import { band, checkLayers, fk2d, fkLine, halfOrderFilter, ifk2d, kxOf, paddedSizes, shiftSpectrum, type FkLineOptions, type MigrationLayer } from './fk';
 
-export interface PhaseShiftOptions {
+export interface PhaseShiftOptions extends FkLineOptions {
   /** Interval velocities by depth from the surface (m, m/ns); the last layer extends down. */
   layers: readonly MigrationLayer[];
-  /** Antenna separation along the line, m (handled as in `stoltMigrate`). @default 0 */
-  separationM?: number;
-  /** Dip limit (local angle of each layer). @default 60 */
-  maxAngleDeg?: number;
-  /**
-   * Kirchhoff's half-aperture as a dip limit: at depth z the angle is limited to min(maxAngleDeg,
-   * atan(apertureM / z)), the angle Kirchhoff's summation reaches there. @default Infinity
-   */
-  apertureM?: number;
-  /** Fraction of the angle range below maxAngleDeg tapered by a cosine. @default 0.2 */
-  taper?: number;
-  /** As `StoltOptions.halfDerivative`. @default false */
-  halfDerivative?: boolean;
-  /**
-   * Frequencies are skipped from either end of the spectrum while their summed energy stays within this
-   * fraction of the whole (a precision bound: the result changes by about its square root, relative RMS).
-   * @default 1e-6
-   */
-  energyTolerance?: number;
-  /** Metres per CRS unit of `line.x/y`. @default 1 */
-  metresPerUnit?: number;
 }
 
 export interface PhaseShiftKernelOptions {
@@ -378,21 +355,5 @@ export function phaseShiftModel(line: RadarLine, options: PhaseShiftOptions, out
 
 function phaseShiftLine(line: RadarLine, options: PhaseShiftOptions, inverse: boolean, out?: Float32Array): RadarLine {
   const layers = checkLayers(options.layers);
-  const sep = options.separationM ?? 0;
-  const { nSamples: ns, nTraces: nt, dtNs: dt, timeZeroNs: tz } = line;
-  const { src, dst } = outputFor(line, out);
-  const zo = new Float64Array(src.length);
-  bistaticResample(src, nt, ns, dt, tz, layers, sep, true, zo);
-  taperTraceEnds(zo, nt, ns, dt, dominantPeriodNs(zo, nt, ns, dt));
-  const { spacingM } = traceSlots(line, options.metresPerUnit ?? 1);
-  const img = phaseShiftKernel(zo, nt, ns, dt, spacingM, tz, layers, {
-    maxAngleDeg: options.maxAngleDeg ?? 60,
-    apertureM: options.apertureM ?? Infinity,
-    taper: options.taper ?? 0.2,
-    energyTolerance: options.energyTolerance ?? 1e-6,
-    inverse,
-    halfIntegral: !(options.halfDerivative ?? false),
-  });
-  passThroughBack(img, src, dst, nt, ns, dt, tz, layers, sep);
-  return withData(line, dst);
+  return fkLine(line, layers, options, inverse, (zo, nt, ns, dt, dx, tz, settings) => phaseShiftKernel(zo, nt, ns, dt, dx, tz, layers, settings), out);
 }

@@ -1,32 +1,9 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { bistaticResample, dipWeight, dominantPeriodNs, taperTraceEnds, fk2d, halfOrderFilter, ifk2d, kxOf, paddedSizes, shiftSpectrum, traceSlots } from './fk';
-import { outputFor, withData } from './line-util';
+import { dipWeight, fk2d, fkLine, halfOrderFilter, ifk2d, kxOf, paddedSizes, shiftSpectrum, type FkLineOptions } from './fk';
 
-export interface StoltOptions {
+export interface StoltOptions extends FkLineOptions {
   /** Constant velocity of the ground, m/ns. */
   velocityMPerNs: number;
-  /** Antenna separation along the line, m: bistatic times are mapped to zero offset and back (see `bistaticTime`). @default 0 */
-  separationM?: number;
-  /** Dip limit: components with v |kx| / (2 omega) > sin(maxAngleDeg) are dropped. @default 60 */
-  maxAngleDeg?: number;
-  /**
-   * Kirchhoff's half-aperture, m, as a dip limit: at depth z the angle is limited to min(maxAngleDeg,
-   * atan(apertureM / z)). @default Infinity
-   */
-  apertureM?: number;
-  /** Fraction of the angle range below maxAngleDeg tapered by a cosine. @default 0.2 */
-  taper?: number;
-  /**
-   * As Kirchhoff's option: false runs the half-integral with the migration (`halfOrderFilter`), so that a
-   * diffraction made of the source wavelet at ray times focuses zero-phase and the output matches
-   * Kirchhoff's default; true gives the plain wave-equation result (Kirchhoff with the half-derivative).
-   * @default false
-   */
-  halfDerivative?: boolean;
-  /** Band kept: see `band` (fk.ts). @default 1e-6 */
-  energyTolerance?: number;
-  /** Metres per CRS unit of `line.x/y`. @default 1 */
-  metresPerUnit?: number;
 }
 
 /** Options of the flat kernel. */
@@ -282,43 +259,6 @@ export function stoltModel(line: RadarLine, options: StoltOptions, out?: Float32
 function stoltLine(line: RadarLine, options: StoltOptions, inverse: boolean, out?: Float32Array): RadarLine {
   const v = options.velocityMPerNs;
   if (!(v > 0)) throw new Error(`migration: velocity must be > 0 m/ns, found ${v}`);
-  const sep = options.separationM ?? 0;
-  const { nSamples: ns, nTraces: nt, dtNs: dt, timeZeroNs: tz } = line;
-  const { src, dst } = outputFor(line, out);
-  const layers = [{ topM: 0, velocityMPerNs: v }];
-  const zo = new Float64Array(src.length);
-  bistaticResample(src, nt, ns, dt, tz, layers, sep, true, zo);
-  taperTraceEnds(zo, nt, ns, dt, dominantPeriodNs(zo, nt, ns, dt));
-  const { spacingM } = traceSlots(line, options.metresPerUnit ?? 1);
-  const img = stoltKernel(zo, nt, ns, dt, spacingM, tz, v, {
-    maxAngleDeg: options.maxAngleDeg ?? 60,
-    apertureM: options.apertureM ?? Infinity,
-    taper: options.taper ?? 0.2,
-    inverse,
-    halfIntegral: !(options.halfDerivative ?? false),
-    energyTolerance: options.energyTolerance ?? 1e-6,
-  });
-  passThroughBack(img, src, dst, nt, ns, dt, tz, layers, sep);
-  return withData(line, dst);
+  return fkLine(line, [{ topM: 0, velocityMPerNs: v }], options, inverse, (zo, nt, ns, dt, dx, tz, settings) => stoltKernel(zo, nt, ns, dt, dx, tz, v, settings), out);
 }
 
-/** Back to bistatic time into `dst`; samples before the ground wave (t <= s / v1 after time-zero) from `src`. */
-export function passThroughBack(
-  img: Float32Array,
-  src: Float32Array,
-  dst: Float32Array,
-  nTraces: number,
-  nSamples: number,
-  dtNs: number,
-  timeZeroNs: number,
-  layers: readonly { topM: number; velocityMPerNs: number }[],
-  separationM: number,
-): void {
-  const back = new Float32Array(img.length);
-  bistaticResample(img, nTraces, nSamples, dtNs, timeZeroNs, layers, separationM, false, back);
-  const tMin = separationM / (layers[0] as { velocityMPerNs: number }).velocityMPerNs;
-  for (let k = 0; k < nSamples; k++) {
-    const keep = k * dtNs - timeZeroNs <= tMin;
-    for (let i = 0; i < nTraces; i++) dst[i * nSamples + k] = keep ? (src[i * nSamples + k] as number) : (back[i * nSamples + k] as number);
-  }
-}
