@@ -96,9 +96,7 @@ function runner(threads: number): { run: (t: Task) => Promise<Result>; close: ()
 
 async function inOrder<T>(n: number, start: (i: number) => Promise<T>, onDone: (done: number) => void): Promise<T[]> {
   let done = 0;
-  // Every task settles before the first failure is thrown: a task still writing into the stage folder
-  // after it was removed would leave a partial one behind.
-  const settled = await Promise.allSettled(
+  return settleAll(
     Array.from({ length: n }, (_, i) =>
       start(i).then((r) => {
         onDone(++done);
@@ -106,24 +104,32 @@ async function inOrder<T>(n: number, start: (i: number) => Promise<T>, onDone: (
       }),
     ),
   );
-  const failed = settled.find((s) => s.status === 'rejected');
+}
+
+/**
+ * The values of all tasks, once every one has settled; then the first failure is thrown. A task still
+ * writing into the stage folder after it was removed would leave a partial one behind.
+ */
+async function settleAll<T>(tasks: Promise<T>[]): Promise<T[]> {
+  const settled = await Promise.allSettled(tasks);
+  const failed = settled.find((s): s is PromiseRejectedResult => s.status === 'rejected');
   if (failed) throw failed.reason;
   return settled.map((s) => (s as PromiseFulfilledResult<T>).value);
 }
 
 /**
- * Pass 1 over all lines, `inFlight` at a time. With `sampling`, lines go in `spreadOrder` and those
- * started after `enoughFits` holds for the lines finished so far are processed without hyperbola
- * detection (see @lamina/velocity's sampling.ts for the rule and what screening loses). Results in line order.
+ * Pass 1 over all lines, `inFlight` at a time, in `spreadOrder`: lines started after `enoughFits` holds
+ * for the lines finished so far are processed without hyperbola detection (see @lamina/velocity's
+ * sampling.ts for the rule and what screening loses). Results in line order.
  */
 async function pass1Sampled(
   n: number,
   inFlight: number,
   start: (i: number, detect: boolean) => Promise<Pass1Result>,
-  sampling: { metresPerUnit: number } | null,
+  sampling: { metresPerUnit: number },
   onDone: (done: number) => void,
 ): Promise<Pass1Result[]> {
-  const order = sampling ? spreadOrder(n) : Array.from({ length: n }, (_, i) => i);
+  const order = spreadOrder(n);
   const out: Pass1Result[] = new Array(n);
   const fits: HyperbolaFit[] = [];
   let fitted = 0;
@@ -140,13 +146,12 @@ async function pass1Sampled(
       if (detect) {
         fitted++;
         fits.push(...r.fits);
-        enough = enough || (sampling !== null && enoughFits(fits, fitted, n, sampling));
+        enough = enough || enoughFits(fits, fitted, n, sampling);
       }
       onDone(++done);
     }
   };
-  // every task settles before an error goes up, so nothing writes into a stage being removed
-  const settled = await Promise.allSettled(
+  await settleAll(
     Array.from({ length: Math.min(inFlight, n) }, () =>
       worker().catch((e: unknown) => {
         failed = true;
@@ -154,8 +159,6 @@ async function pass1Sampled(
       }),
     ),
   );
-  const err = settled.find((r): r is PromiseRejectedResult => r.status === 'rejected');
-  if (err) throw err.reason;
   return out;
 }
 
