@@ -62,7 +62,8 @@ export function bridgeThroughFields(screened: ScreenedAnomaly[], stack: SliceSta
     if (!found) break;
     bridges++;
     const { a, b, cells, evidence } = found;
-    const taken = (k: number, c: number) => cells.get(k)?.includes(c) ?? false;
+    const takenSets = new Map([...cells].map(([k, cs]) => [k, new Set(cs)]));
+    const taken = (k: number, c: number) => takenSets.get(k)?.has(c) ?? false;
     const next: ScreenedAnomaly[] = [];
     for (const s of list) {
       if (s === a || s === b) continue;
