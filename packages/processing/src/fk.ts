@@ -181,15 +181,24 @@ export function shiftSpectrum(spec: Float64Array, nx: number, nt: number, dtNs: 
  * Kirchhoff step's angle limit and aperture-edge taper.
  */
 export function dipWeight(sinTheta: number, maxAngleDeg: number, taper: number): number {
-  if (!(sinTheta >= 0) || sinTheta >= 1) return sinTheta === 0 ? 1 : 0;
+  return dipWeigher(maxAngleDeg, taper)(sinTheta);
+}
+
+/** `dipWeight` for one limit, its sines computed once (the f-k loops call it per bin). */
+export function dipWeigher(maxAngleDeg: number, taper: number): (sinTheta: number) => number {
   const thMax = (maxAngleDeg * Math.PI) / 180;
   const th1 = thMax * (1 - taper);
-  if (sinTheta <= Math.sin(th1)) return 1;
-  if (sinTheta >= Math.sin(thMax)) return 0;
-  const th = Math.asin(sinTheta);
-  if (th <= th1) return 1;
-  if (th >= thMax) return 0;
-  return 0.5 * (1 + Math.cos((Math.PI * (th - th1)) / (thMax - th1)));
+  const s1 = Math.sin(th1);
+  const sMax = Math.sin(thMax);
+  return (sinTheta) => {
+    if (!(sinTheta >= 0) || sinTheta >= 1) return sinTheta === 0 ? 1 : 0;
+    if (sinTheta <= s1) return 1;
+    if (sinTheta >= sMax) return 0;
+    const th = Math.asin(sinTheta);
+    if (th <= th1) return 1;
+    if (th >= thMax) return 0;
+    return 0.5 * (1 + Math.cos((Math.PI * (th - th1)) / (thMax - th1)));
+  };
 }
 
 /** Regular trace slots of a line: mean spacing (least squares of along-track distance on trace index) and the largest deviation from it. */

@@ -1,5 +1,6 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { dipWeight, fk2d, fkLine, halfOrderFilter, ifk2d, kxOf, paddedSizes, shiftSpectrum, type FkLineOptions } from './fk';
+import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, paddedSizes, shiftSpectrum, type FkLineOptions } from './fk';
+import { fftOfSize } from './fft';
 
 export interface StoltOptions extends FkLineOptions {
   /** Constant velocity of the ground, m/ns. */
@@ -23,58 +24,76 @@ export interface StoltKernelOptions {
 }
 
 const HALF_TAPS = 4;
-let ipRe = 0;
-let ipIm = 0;
 
 /**
  * Windowed-sinc interpolation along omega of row `row` of a centred spectrum at fractional bin `u`: 8 taps,
  * Hann window, weights normalised to sum 1. Negative bins are conjugates of the row of -kx (`rowc`), bins
  * past Nyquist zero. The spectrum was centred (traces shifted so their support is [-T/4, T/4] of the padded
  * length T), so along omega it is oversampled twice (round trips in the tests: below 1 % RMS).
+ * The value is returned in `ip` times e^{-i pi u / 2}, the shift back by T/4 at bin u (Stolt's e^{-i w T/4}).
  */
-function interpolate(spec: Float64Array, row: number, rowc: number, nw: number, u: number): void {
+function interpolate(spec: Float64Array, row: number, rowc: number, nw: number, u: number, ip: Float64Array): void {
   const i0 = Math.floor(u);
   const f = u - i0;
-  if (f === 0) {
-    fetch(spec, row, rowc, nw, i0);
-    return;
-  }
-  // d = f + q for the taps n = i0 - q: sin(pi d) = (-1)^q sin(pi f); the Hann term by angle addition
-  const sf = Math.sin(Math.PI * f);
-  const cf4 = Math.cos((Math.PI * f) / HALF_TAPS);
-  const sf4 = Math.sin((Math.PI * f) / HALF_TAPS);
   let re = 0;
   let im = 0;
-  let ws = 0;
-  for (let q = -HALF_TAPS; q < HALF_TAPS; q++) {
-    const d = f + q;
-    const sinc = ((q & 1 ? -sf : sf) / (Math.PI * d));
-    const hann = 0.5 * (1 + cf4 * (COS_Q[q + HALF_TAPS] as number) - sf4 * (SIN_Q[q + HALF_TAPS] as number));
-    const w = sinc * hann;
-    ws += w;
-    fetch(spec, row, rowc, nw, i0 - q);
-    re += w * ipRe;
-    im += w * ipIm;
+  let c2 = 1;
+  let s2 = 0;
+  if (f === 0) {
+    if (i0 < nw) {
+      re = spec[row + 2 * i0] as number;
+      im = spec[row + 2 * i0 + 1] as number;
+    }
+  } else {
+    // sinc(d) for the taps n = i0 - q, d = f + q, is (-1)^q sin(pi f) / (pi d): the common factor cancels
+    // in the normalisation; the Hann term by angle addition
+    const cf4 = Math.cos((Math.PI * f) / HALF_TAPS);
+    const sf4 = Math.sin((Math.PI * f) / HALF_TAPS);
+    let ws = 0;
+    for (let q = -HALF_TAPS; q < HALF_TAPS; q++) {
+      const hann = 0.5 * (1 + cf4 * (COS_Q[q + HALF_TAPS] as number) - sf4 * (SIN_Q[q + HALF_TAPS] as number));
+      const w = ((q & 1 ? -hann : hann) / (f + q));
+      ws += w;
+      const n = i0 - q;
+      if (n >= nw) continue;
+      if (n >= 0) {
+        re += w * (spec[row + 2 * n] as number);
+        im += w * (spec[row + 2 * n + 1] as number);
+      } else {
+        re += w * (spec[rowc - 2 * n] as number);
+        im -= w * (spec[rowc - 2 * n + 1] as number);
+      }
+    }
+    re /= ws;
+    im /= ws;
+    // e^{-i pi f / 2} from the quarter angle
+    c2 = cf4 * cf4 - sf4 * sf4;
+    s2 = 2 * sf4 * cf4;
   }
-  ipRe = re / ws;
-  ipIm = im / ws;
+  // times (c2 - i s2), then (-i)^i0
+  const r = re * c2 + im * s2;
+  const i = im * c2 - re * s2;
+  switch (i0 & 3) {
+    case 0:
+      ip[0] = r;
+      ip[1] = i;
+      break;
+    case 1:
+      ip[0] = i;
+      ip[1] = -r;
+      break;
+    case 2:
+      ip[0] = -r;
+      ip[1] = -i;
+      break;
+    default:
+      ip[0] = -i;
+      ip[1] = r;
+  }
 }
 
 const COS_Q = Float64Array.from({ length: 2 * HALF_TAPS }, (_, i) => Math.cos((Math.PI * (i - HALF_TAPS)) / HALF_TAPS));
 const SIN_Q = Float64Array.from({ length: 2 * HALF_TAPS }, (_, i) => Math.sin((Math.PI * (i - HALF_TAPS)) / HALF_TAPS));
-
-function fetch(spec: Float64Array, row: number, rowc: number, nw: number, n: number): void {
-  if (n >= nw) {
-    ipRe = 0;
-    ipIm = 0;
-  } else if (n >= 0) {
-    ipRe = spec[row + 2 * n] as number;
-    ipIm = spec[row + 2 * n + 1] as number;
-  } else {
-    ipRe = spec[rowc - 2 * n] as number;
-    ipIm = -(spec[rowc - 2 * n + 1] as number);
-  }
-}
 
 /**
  * Stolt (1978) f-k migration of a zero-offset section, or with `inverse` its modelling (demigration), for
@@ -102,27 +121,20 @@ export function stoltKernel(
   if (!(v > 0)) throw new Error(`migration: velocity must be > 0 m/ns, found ${v}`);
   const maxAngleDeg = options.maxAngleDeg ?? 60;
   const nodes = apertureNodes(nSamples, dtNs, timeZeroNs, v / 2, maxAngleDeg, options.apertureM ?? Infinity);
-  if (nodes.angles.length === 1) return stoltMaps(data, nTraces, nSamples, dtNs, dxM, timeZeroNs, v, options, nodes.angles, [out])[0] as Float32Array;
-  const n = nodes.angles.length;
-  if (!options.inverse) {
-    const imgs = stoltMaps(data, nTraces, nSamples, dtNs, dxM, timeZeroNs, v, options, nodes.angles, nodes.angles.map(() => new Float32Array(nTraces * nSamples)));
-    out.fill(0);
-    for (let w = 0; w < n; w++) {
-      const b = nodes.blend[w] as Float64Array;
-      const img = imgs[w] as Float32Array;
-      for (let i = 0; i < nTraces; i++) for (let k = 0; k < nSamples; k++) out[i * nSamples + k] = (out[i * nSamples + k] as number) + (b[k] as number) * (img[i * nSamples + k] as number);
-    }
-    return out;
-  }
+  if (!options.inverse) return stoltMaps(data, nTraces, nSamples, dtNs, dxM, timeZeroNs, v, options, nodes.angles, nodes.blend, out);
   // modelling: each depth range of the image through the dip limit of its node, summed
-  out.fill(0);
+  if (nodes.angles.length === 1) return stoltMaps(data, nTraces, nSamples, dtNs, dxM, timeZeroNs, v, options, nodes.angles, nodes.blend, out);
+  const ones = [new Float64Array(nSamples).fill(1)];
+  const sum = new Float64Array(nTraces * nSamples);
   const part = new Float64Array(nTraces * nSamples);
-  for (let w = 0; w < n; w++) {
+  const img = new Float32Array(nTraces * nSamples);
+  for (let w = 0; w < nodes.angles.length; w++) {
     const b = nodes.blend[w] as Float64Array;
     for (let i = 0; i < nTraces; i++) for (let k = 0; k < nSamples; k++) part[i * nSamples + k] = (b[k] as number) * (data[i * nSamples + k] as number);
-    const img = stoltMaps(part, nTraces, nSamples, dtNs, dxM, timeZeroNs, v, options, [nodes.angles[w] as number], [new Float32Array(nTraces * nSamples)])[0] as Float32Array;
-    for (let q = 0; q < out.length; q++) out[q] = (out[q] as number) + (img[q] as number);
+    stoltMaps(part, nTraces, nSamples, dtNs, dxM, timeZeroNs, v, options, [nodes.angles[w] as number], ones, img);
+    for (let q = 0; q < sum.length; q++) sum[q] = (sum[q] as number) + (img[q] as number);
   }
+  for (let q = 0; q < sum.length; q++) out[q] = sum[q] as number;
   return out;
 }
 
@@ -155,7 +167,12 @@ function apertureNodes(nSamples: number, dtNs: number, timeZeroNs: number, ve: n
   return { angles: sins.map((x) => (Math.asin(x) * 180) / Math.PI), blend };
 }
 
-/** The Stolt map with one dip limit per output (the interpolation shared), each into its `outs` entry. */
+/**
+ * The Stolt map with one dip limit per node, blended along tau (`blend[w][k]` the weight of node w at
+ * sample k) into `out`. The blend commutes with the transforms, so the interpolation along omega (the
+ * costly part) is done once and kept bin-major with its sin(theta) and Jacobian; each node then weights
+ * it, transforms it back across traces and in time, and adds its tau range to the sum.
+ */
 function stoltMaps(
   data: ArrayLike<number>,
   nTraces: number,
@@ -166,42 +183,62 @@ function stoltMaps(
   v: number,
   options: StoltKernelOptions,
   anglesDeg: readonly number[],
-  outs: Float32Array[],
-): Float32Array[] {
+  blend: readonly Float64Array[],
+  out: Float32Array,
+): Float32Array {
   const taper = Math.min(1, Math.max(0, options.taper ?? 0.2));
   const inverse = options.inverse ?? false;
   const ve = v / 2;
-  const { nx, nt } = paddedSizes(nTraces, nSamples, dtNs, dxM, ve, Math.max(...anglesDeg), 2);
+  const aMax = Math.max(...anglesDeg);
+  const { nx, nt } = paddedSizes(nTraces, nSamples, dtNs, dxM, ve, aMax, 2);
   const nw = nt / 2 + 1;
   const dw = (2 * Math.PI) / (nt * dtNs);
   const tc = (nt * dtNs) / 4;
   const { spec, lo, hi } = fk2d(data, nTraces, nSamples, nx, nt, options.energyTolerance ?? 0);
-  if (hi < lo) return outs.map((o) => o.fill(0));
+  if (hi < lo) return out.fill(0);
   if (options.halfIntegral && !inverse) halfOrderFilter(spec, nx, nt, dtNs, -0.5, lo, hi);
   shiftSpectrum(spec, nx, nt, dtNs, timeZeroNs + tc, lo, hi);
+  // migration reads bin u >= j, so no output bin lies past hi + HALF_TAPS; modelling's can
+  const nb = inverse ? nw : Math.min(nw, hi + HALF_TAPS + 1);
+  // per output bin: back to the record's time axis (e^{-i omega timeZero}), and modelling's half-derivative
+  const fRe = new Float64Array(nb);
+  const fIm = new Float64Array(nb);
+  for (let j = 0; j < nb; j++) {
+    const ph = -j * dw * timeZeroNs;
+    let re = Math.cos(ph);
+    let im = Math.sin(ph);
+    if (options.halfIntegral && inverse) {
+      // halfOrderFilter's half-derivative: |omega|^{1/2} e^{-i pi/4}, zero at omega = 0
+      const a = j === 0 ? 0 : Math.pow(j * dw, 0.5) * Math.SQRT1_2;
+      [re, im] = [a * re + a * im, a * im - a * re];
+    }
+    fRe[j] = re;
+    fIm[j] = im;
+  }
+  // the interpolated spectrum, bin-major (a bin's wavenumbers contiguous for the transform across traces)
+  const val = new Float64Array(2 * nb * nx);
+  const sinT = new Float64Array(nb * nx);
+  const jacT = new Float64Array(nb * nx);
+  const outer = dipWeigher(aMax, taper);
   // bins the interpolation can reach from [lo, hi] (negative bins mirror positive ones)
   const reach = (u: number) => u - HALF_TAPS <= hi && (u + HALF_TAPS >= lo || HALF_TAPS - u >= lo);
-  const na = anglesDeg.length;
-  const res = anglesDeg.map(() => new Float64Array(spec.length));
-  const wts = new Float64Array(na);
-  let jHi = 0;
+  const ip = new Float64Array(2);
+  let jHi = -1;
   for (let ix = 0; ix < nx; ix++) {
     const a = ve * Math.abs(kxOf(ix, nx, dxM));
     const row = 2 * ix * nw;
     const rowc = 2 * ((nx - ix) % nx) * nw;
-    for (let j = 0; j < nw; j++) {
+    for (let j = 0; j < nb; j++) {
       const wj = j * dw;
       let u: number;
       let jac: number;
       let sin: number;
-      let phase: number;
       if (!inverse) {
         const w = Math.sqrt(wj * wj + a * a);
         u = w / dw;
         if (u - HALF_TAPS > hi) break; // u grows with j
         jac = w === 0 ? 1 : wj / w;
         sin = w === 0 ? 0 : a / w;
-        phase = -w * tc;
       } else {
         if (wj <= a && a > 0) continue;
         const wt = Math.sqrt(wj * wj - a * a);
@@ -209,37 +246,74 @@ function stoltMaps(
         if (u - HALF_TAPS > hi) break;
         jac = wj === 0 ? 1 : wj / wt;
         sin = wj === 0 ? 0 : a / wj;
-        phase = -wt * tc;
       }
-      if (jac === 0 || u > nw - 1 || !reach(u)) continue;
-      let any = false;
-      for (let q = 0; q < na; q++) {
-        wts[q] = dipWeight(sin, anglesDeg[q] as number, taper) * jac;
-        if (wts[q] !== 0) any = true;
-      }
-      if (!any) continue;
-      interpolate(spec, row, rowc, nw, u);
-      const c = Math.cos(phase);
-      const s = Math.sin(phase);
-      const re = ipRe * c - ipIm * s;
-      const im = ipRe * s + ipIm * c;
-      for (let q = 0; q < na; q++) {
-        const r = res[q] as Float64Array;
-        r[row + 2 * j] = re * (wts[q] as number);
-        r[row + 2 * j + 1] = im * (wts[q] as number);
-      }
+      // the widest limit passes what any node passes (dipWeight grows with the limit)
+      if (jac === 0 || u > nw - 1 || !reach(u) || outer(sin) === 0) continue;
+      interpolate(spec, row, rowc, nw, u, ip);
+      const re = ip[0] as number;
+      const im = ip[1] as number;
+      const q = j * nx + ix;
+      val[2 * q] = re * (fRe[j] as number) - im * (fIm[j] as number);
+      val[2 * q + 1] = re * (fIm[j] as number) + im * (fRe[j] as number);
+      sinT[q] = sin;
+      jacT[q] = jac;
       if (j > jHi) jHi = j;
     }
   }
-  for (let q = 0; q < na; q++) {
-    const r = res[q] as Float64Array;
-    shiftSpectrum(r, nx, nt, dtNs, -timeZeroNs, 0, jHi);
-    if (options.halfIntegral && inverse) halfOrderFilter(r, nx, nt, dtNs, 0.5, 0, jHi);
-    ifk2d(r, nTraces, nSamples, nx, nt, outs[q] as Float32Array, 0, jHi);
+  const acc = new Float64Array(nTraces * nSamples);
+  const fx = fftOfSize(nx);
+  const ft = fftOfSize(nt);
+  const col = new Float64Array(2 * nx);
+  const hx = new Float64Array(2 * nx * (jHi + 1));
+  const full = new Float64Array(2 * nt);
+  const back = new Float64Array(2 * nt);
+  for (let w = 0; w < anglesDeg.length; w++) {
+    const b = blend[w] as Float64Array;
+    let k0 = 0;
+    while (k0 < nSamples && b[k0] === 0) k0++;
+    let k1 = nSamples - 1;
+    while (k1 >= k0 && b[k1] === 0) k1--;
+    if (k1 < k0 || jHi < 0) continue;
+    const weight = dipWeigher(anglesDeg[w] as number, taper);
+    // across traces, bin by bin
+    for (let m = 0; m <= jHi; m++) {
+      for (let ix = 0; ix < nx; ix++) {
+        const q = m * nx + ix;
+        const g = jacT[q] === 0 ? 0 : weight(sinT[q] as number) * (jacT[q] as number);
+        col[2 * ix] = (val[2 * q] as number) * g;
+        col[2 * ix + 1] = (val[2 * q + 1] as number) * g;
+      }
+      fx.inverseTransform(hx.subarray(2 * m * nx, 2 * (m + 1) * nx), col);
+    }
+    // in time, two real traces per complex inverse: ifft(A + iB) = a + ib for Hermitian A, B
+    for (let i = 0; i < nTraces; i += 2) {
+      const pair = i + 1 < nTraces;
+      full.fill(0);
+      for (let m = 0; m <= jHi; m++) {
+        // the DC and Nyquist bins of a real trace are real
+        const edge = m === 0 || m === nw - 1;
+        const o = 2 * (m * nx + i);
+        const ar = hx[o] as number;
+        const ai = edge ? 0 : (hx[o + 1] as number);
+        const br = pair ? (hx[o + 2] as number) : 0;
+        const bi = !pair || edge ? 0 : (hx[o + 3] as number);
+        full[2 * m] = ar - bi;
+        full[2 * m + 1] = ai + br;
+        if (!edge) {
+          // bin nt - m: conj(A) + i conj(B)
+          full[2 * (nt - m)] = ar + bi;
+          full[2 * (nt - m) + 1] = -ai + br;
+        }
+      }
+      ft.inverseTransform(back, full);
+      const oa = i * nSamples;
+      for (let k = k0; k <= k1; k++) acc[oa + k] = (acc[oa + k] as number) + (b[k] as number) * (back[2 * k] as number);
+      if (pair) for (let k = k0; k <= k1; k++) acc[oa + nSamples + k] = (acc[oa + nSamples + k] as number) + (b[k] as number) * (back[2 * k + 1] as number);
+    }
   }
-  return outs;
+  for (let q = 0; q < acc.length; q++) out[q] = acc[q] as number;
+  return out;
 }
-
 /**
  * Stolt migration of a common-offset line (or with `inverse`, its modelling): the line is resampled from
  * bistatic to zero-offset time, migrated by `stoltKernel` on regular slots of its mean trace spacing, and
