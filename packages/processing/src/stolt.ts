@@ -260,11 +260,32 @@ function stoltMaps(
       if (j > jHi) jHi = j;
     }
   }
+  return blendNodes({ val, sinT, jacT, nx, nt, jHi }, nTraces, nSamples, anglesDeg, blend, taper, out);
+}
+
+/** The interpolated spectrum of `stoltMaps`: bin-major values, sin(theta) and Jacobian, bins 0..jHi. */
+interface StoltSpectrum {
+  val: Float64Array;
+  sinT: Float64Array;
+  jacT: Float64Array;
+  nx: number;
+  nt: number;
+  jHi: number;
+}
+
+/** Each node's dip weights on the spectrum, back across traces and in time, its tau range blended into `out`. */
+function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, anglesDeg: readonly number[], blend: readonly Float64Array[], taper: number, out: Float32Array): Float32Array {
+  const { val, sinT, jacT, nx, nt, jHi } = sp;
+  const nw = nt / 2 + 1;
   const acc = new Float64Array(nTraces * nSamples);
   const fx = fftOfSize(nx);
   const ft = fftOfSize(nt);
-  const col = new Float64Array(2 * nx);
-  const hx = new Float64Array(2 * nx * (jHi + 1));
+  const nm = jHi + 1;
+  // a block of bins across traces at a time, written trace-major (each trace's bins contiguous for its time transform)
+  const B = 8;
+  const cols = Array.from({ length: B }, () => new Float64Array(2 * nx));
+  const res = new Float64Array(2 * nx);
+  const ht = new Float64Array(2 * nTraces * nm);
   const full = new Float64Array(2 * nt);
   const back = new Float64Array(2 * nt);
   for (let w = 0; w < anglesDeg.length; w++) {
@@ -275,28 +296,45 @@ function stoltMaps(
     while (k1 >= k0 && b[k1] === 0) k1--;
     if (k1 < k0 || jHi < 0) continue;
     const weight = dipWeigher(anglesDeg[w] as number, taper);
-    // across traces, bin by bin
-    for (let m = 0; m <= jHi; m++) {
-      for (let ix = 0; ix < nx; ix++) {
-        const q = m * nx + ix;
-        const g = jacT[q] === 0 ? 0 : weight(sinT[q] as number) * (jacT[q] as number);
-        col[2 * ix] = (val[2 * q] as number) * g;
-        col[2 * ix + 1] = (val[2 * q + 1] as number) * g;
+    // dipWeight is 1 up to the taper: only the band between needs the weigher
+    const s1 = Math.sin(((anglesDeg[w] as number) * Math.PI * (1 - taper)) / 180);
+    for (let m0 = 0; m0 < nm; m0 += B) {
+      const nbk = Math.min(B, nm - m0);
+      for (let c = 0; c < nbk; c++) {
+        const col = cols[c] as Float64Array;
+        const base = (m0 + c) * nx;
+        for (let ix = 0; ix < nx; ix++) {
+          const q = base + ix;
+          const jac = jacT[q] as number;
+          const sin = sinT[q] as number;
+          const g = jac === 0 ? 0 : sin <= s1 && sin >= 0 ? jac : weight(sin) * jac;
+          col[2 * ix] = (val[2 * q] as number) * g;
+          col[2 * ix + 1] = (val[2 * q + 1] as number) * g;
+        }
+        fx.inverseTransform(res, col);
+        col.set(res);
       }
-      fx.inverseTransform(hx.subarray(2 * m * nx, 2 * (m + 1) * nx), col);
+      for (let i = 0; i < nTraces; i++) {
+        const o = 2 * (i * nm + m0);
+        for (let c = 0; c < nbk; c++) {
+          const col = cols[c] as Float64Array;
+          ht[o + 2 * c] = col[2 * i] as number;
+          ht[o + 2 * c + 1] = col[2 * i + 1] as number;
+        }
+      }
     }
-    // in time, two real traces per complex inverse: ifft(A + iB) = a + ib for Hermitian A, B
+    // in time, two real traces per complex inverse: ifft(A + iB) = a + ib for Hermitian A, B (bins past jHi stay 0)
     for (let i = 0; i < nTraces; i += 2) {
       const pair = i + 1 < nTraces;
-      full.fill(0);
-      for (let m = 0; m <= jHi; m++) {
+      const oa = 2 * i * nm;
+      const ob = 2 * (i + 1) * nm;
+      for (let m = 0; m < nm; m++) {
         // the DC and Nyquist bins of a real trace are real
         const edge = m === 0 || m === nw - 1;
-        const o = 2 * (m * nx + i);
-        const ar = hx[o] as number;
-        const ai = edge ? 0 : (hx[o + 1] as number);
-        const br = pair ? (hx[o + 2] as number) : 0;
-        const bi = !pair || edge ? 0 : (hx[o + 3] as number);
+        const ar = ht[oa + 2 * m] as number;
+        const ai = edge ? 0 : (ht[oa + 2 * m + 1] as number);
+        const br = pair ? (ht[ob + 2 * m] as number) : 0;
+        const bi = !pair || edge ? 0 : (ht[ob + 2 * m + 1] as number);
         full[2 * m] = ar - bi;
         full[2 * m + 1] = ai + br;
         if (!edge) {
@@ -306,9 +344,9 @@ function stoltMaps(
         }
       }
       ft.inverseTransform(back, full);
-      const oa = i * nSamples;
-      for (let k = k0; k <= k1; k++) acc[oa + k] = (acc[oa + k] as number) + (b[k] as number) * (back[2 * k] as number);
-      if (pair) for (let k = k0; k <= k1; k++) acc[oa + nSamples + k] = (acc[oa + nSamples + k] as number) + (b[k] as number) * (back[2 * k + 1] as number);
+      const o = i * nSamples;
+      for (let k = k0; k <= k1; k++) acc[o + k] = (acc[o + k] as number) + (b[k] as number) * (back[2 * k] as number);
+      if (pair) for (let k = k0; k <= k1; k++) acc[o + nSamples + k] = (acc[o + nSamples + k] as number) + (b[k] as number) * (back[2 * k + 1] as number);
     }
   }
   for (let q = 0; q < acc.length; q++) out[q] = acc[q] as number;
