@@ -35,16 +35,22 @@ describe('process pipeline', () => {
     const now = new Date('2026-12-01T12:00:00Z');
     await runProcess(siteDir, join(work, 'single'), { threads: 0, now });
     await runProcess(siteDir, join(work, 'multi'), { threads: 2, now });
+    // pass 2 from pass 1's kept lines (the default) or processing every line again: the same outputs
+    await runProcess(siteDir, join(work, 'again'), { threads: 2, now, keepLines: false });
     const a = await hashTree(join(work, 'single'));
     const b = await hashTree(join(work, 'multi'));
+    const c = await hashTree(join(work, 'again'));
     // run.json records the thread count; everything else must be byte-identical.
     delete a['run.json'];
     delete b['run.json'];
     expect(Object.keys(a).sort()).toEqual(Object.keys(b).sort());
     expect(b).toEqual(a);
+    expect((await readFile(join(work, 'again', 'run.json'), 'utf8')).replace(/"createdAt".*\n/, '')).toEqual((await readFile(join(work, 'multi', 'run.json'), 'utf8')).replace(/"createdAt".*\n/, ''));
+    delete c['run.json'];
+    expect(c).toEqual(b);
     expect(await hashTree(siteDir)).toEqual(before);
     // the per-trace point spill and the radargram index parts are gone (lamina's own temporaries)
-    expect(Object.keys(a).filter((f) => f.includes('lamina-points-') || f.endsWith('.entry.json'))).toEqual([]);
+    expect(Object.keys(a).filter((f) => f.includes('lamina-points-') || f.endsWith('.entry.json') || f.startsWith('pass1-lines'))).toEqual([]);
     expect(Object.keys(a)).toContain('radargrams/index.json');
   });
 

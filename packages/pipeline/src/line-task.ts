@@ -1,17 +1,20 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { InputError } from '@lamina/errors';
 import { loadSite, readLine, pointToWgs84, shownPath, type Site } from '@lamina/site';
-import { defaultRecipe, envelope, parseRecipe, runRecipe, type Recipe, type RecipeLogEntry } from '@lamina/processing';
+import { defaultRecipe, envelope, parseRecipe, runRecipe, type Recipe, type RecipeLogEntry, type Step } from '@lamina/processing';
 import { lineDirection, lineHyperbolas, recipeForVelocity, type HyperbolaFit, type VelocityModel } from '@lamina/velocity';
 import { sampleDepths, traceSliceValues, type SliceWindow } from '@lamina/slices';
+import { lineSpillPath, readLineSpill, writeLineSpill } from './line-spill';
 import { summariseLine, writeRadargram, type LineSummary } from './outputs';
 import { timed, type PartTimes } from './timings';
 
 /**
  * The work done on one line, in two passes so that memory holds one line at a time:
  * pass 1 processes without migration, fits hyperbolas and writes the display radargram;
- * pass 2 (after the site velocity is known) processes again with migration and reduces the line to
- * per-trace slice values, for the final data and for the data before background removal.
+ * pass 2 (after the site velocity is known) adds migration and reduces the line to per-trace slice
+ * values, for the final data and for the data before background removal. Pass 2 starts from pass 1's
+ * line, kept on disk (`keepLine`, line-spill.ts), when the steps that need the velocity come last
+ * (`pass2Steps`); otherwise it processes the line again from the file.
  */
 export interface Pass1Task {
   kind: 'pass1';
@@ -21,6 +24,8 @@ export interface Pass1Task {
   stageDir: string;
   /** Detect and fit hyperbolas on this line (false once the site has enough fits: `enoughFits`). @default true */
   detect?: boolean;
+  /** Keep the processed line (and the line before background removal) in the stage folder for pass 2. @default false */
+  keepLine?: boolean;
 }
 export interface Pass1Result {
   summary: LineSummary;
@@ -44,6 +49,8 @@ export interface Pass2Task {
   model: VelocityModel;
   velocityMPerNs: number;
   windows: SliceWindow[];
+  /** Start from the line pass 1 kept in this stage folder (pass 1 ran with `keepLine`). @default undefined */
+  keptIn?: string;
 }
 export interface Pass2Result {
   x: Float64Array;
@@ -53,9 +60,23 @@ export interface Pass2Result {
    * (migrated) envelope, then the same before background removal (for air-wave screening).
    */
   values: Float32Array;
+  /** The recipe log (with `keptIn`: of the steps pass 2 ran, after pass 1's). */
   log: RecipeLogEntry[];
   /** Milliseconds of each part of this line's work (`ProcessTimings.lineWork`). */
   times: PartTimes;
+}
+
+/**
+ * The steps pass 2 runs on pass 1's line: pass 1 runs the recipe without migration and envelope
+ * (`recipeForVelocity`), so when those come after every other step, the whole recipe is pass 1's then
+ * these. Undefined when they do not (a step after migration): pass 2 then processes the line again.
+ */
+export function pass2Steps(recipe: Recipe): Step[] | undefined {
+  const late = (s: Step) => s.step === 'migration' || s.step === 'envelope';
+  const first = recipe.steps.findIndex(late);
+  if (first < 0) return [];
+  const tail = recipe.steps.slice(first);
+  return tail.every(late) && recipeForVelocity(recipe).steps.length === first ? tail : undefined;
 }
 
 const sites = new Map<string, Promise<Site>>();
@@ -97,7 +118,9 @@ export async function pass1(task: Pass1Task): Promise<Pass1Result> {
   const s = await site(task.siteDir);
   const src = s.lines[task.line]!;
   const raw = await timed(times, 'pass 1 read line', () => readLine(s, src));
-  const { line, log } = runRecipe(raw, recipeForVelocity(task.recipe), context(s), { onStep: stepTimes(times, 'pass 1') });
+  const keepBefore = task.keepLine && task.recipe.steps.some((st) => st.step === 'backgroundRemoval');
+  const { line, log, before } = runRecipe(raw, recipeForVelocity(task.recipe), context(s), { onStep: stepTimes(times, 'pass 1'), ...(keepBefore ? { keepBefore: 'backgroundRemoval' as const } : {}) });
+  if (task.keepLine) await timed(times, 'pass 1 keep line', () => writeLineSpill(lineSpillPath(task.stageDir, task.line), line, keepBefore ? before : undefined));
   const t0 = performance.now();
   const fits =
     task.detect === false
@@ -126,8 +149,21 @@ export async function pass2(task: Pass2Task): Promise<Pass2Result> {
   const times: PartTimes = {};
   const s = await site(task.siteDir);
   const src = s.lines[task.line]!;
-  const raw = await timed(times, 'pass 2 read line', () => readLine(s, src));
-  const { line, before, log } = runRecipe(raw, task.recipe, context(s, task.velocityMPerNs, task.model), { keepBefore: 'backgroundRemoval', onStep: stepTimes(times, 'pass 2') });
+  let raw: RadarLine | undefined;
+  let line: RadarLine;
+  let before: RadarLine | undefined;
+  let log: RecipeLogEntry[];
+  const ctx = context(s, task.velocityMPerNs, task.model);
+  const steps = task.keptIn !== undefined ? pass2Steps(task.recipe) : undefined;
+  if (task.keptIn !== undefined && steps) {
+    const kept = await timed(times, 'pass 2 read kept line', () => readLineSpill(lineSpillPath(task.keptIn as string, task.line)));
+    ({ line, log } = runRecipe(kept.line, { steps }, ctx, { onStep: stepTimes(times, 'pass 2') }));
+    // without background removal the data "before" it is the final line, as runRecipe's keepBefore gives
+    before = kept.before ?? line;
+  } else {
+    raw = await timed(times, 'pass 2 read line', () => readLine(s, src));
+    ({ line, before, log } = runRecipe(raw, task.recipe, ctx, { keepBefore: 'backgroundRemoval', onStep: stepTimes(times, 'pass 2') }));
+  }
   const sep = s.antenna.separationM;
   const after = timed(times, 'pass 2 envelope + slice values', () => sliceValues(line, task, sep));
   const beforeBackground = before && before !== line ? timed(times, 'pass 2 envelope + slice values', () => sliceValues(before, task, sep)) : after;
@@ -137,6 +173,7 @@ export async function pass2(task: Pass2Task): Promise<Pass2Result> {
   const inf = after.findIndex((v) => v === Infinity || v === -Infinity);
   if (inf >= 0) {
     const t = Math.floor(inf / nw);
+    raw ??= await readLine(s, src);
     const peak = raw.data.subarray(t * raw.nSamples, (t + 1) * raw.nSamples).reduce((m, v) => Math.max(m, Math.abs(v)), 0);
     throw new InputError(shownPath(src.file), `trace ${(src.traces?.[0] ?? 0) + t + 1}: expected sample values a receiver records, found values up to ${peak.toExponential(2)} whose energy overflows 32-bit floats; the samples are damaged or not in the format the binary header names`);
   }

@@ -117,7 +117,7 @@ export function estimateSize(site: Site, survey: SurveyCheck, options: Preflight
  * run fits: cell count, memory and the free space of the output folder's filesystem. Refuses at once,
  * with the numbers and the option to change.
  */
-export async function preflight(site: Site, outDir: string, options: PreflightOptions = {}): Promise<{ survey: SurveyCheck; size: SizeEstimate }> {
+export async function preflight(site: Site, outDir: string, options: PreflightOptions = {}): Promise<{ survey: SurveyCheck; size: SizeEstimate; freeBytes: number }> {
   const numbers: [keyof PreflightOptions, string, (v: number) => boolean, string][] = [
     ['cellSizeM', '--cell-size', (v) => v > 0, 'a positive number of metres'],
     ['sliceThicknessM', '--slice-thickness', (v) => v > 0, 'a positive number of metres'],
@@ -149,5 +149,5 @@ export async function preflight(site: Site, outDir: string, options: PreflightOp
   if (size.diskBytes > free) {
     throw new InputError(shownPath(resolve(outDir)), `expected room for the run's files (up to ${gib(size.diskBytes)} for ${size.traces} traces, ${grid} and ${size.slices} slices), found ${gib(free)} free on its filesystem; free space, write elsewhere, or choose a larger --cell-size or a smaller --max-depth`);
   }
-  return { survey, size };
+  return { survey, size, freeBytes: free };
 }

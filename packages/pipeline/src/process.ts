@@ -8,7 +8,8 @@ import { defaultWindows, PointSpill, type SliceWindow } from '@lamina/slices';
 import type { Recipe } from '@lamina/processing';
 import { exportTargets, matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
 import { createPool, defaultThreads, type Pool, type SerialisedError } from './pool';
-import { pass1, pass2, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
+import { removeLineSpills } from './line-spill';
+import { pass1, pass2, pass2Steps, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
 import { extents, linesGeoJson, planGeoJson, siteSummary, writeChunks, writeRadargramIndex } from './outputs';
 import { sliceAndScreen, type Anchored, type Screening } from './slice-and-screen';
 import { addParts, StageTimer, type ProcessTimings } from './timings';
@@ -49,6 +50,12 @@ export interface ProcessOptions {
    * @default false
    */
   sampleVelocityLines?: boolean;
+  /**
+   * Keep pass 1's processed lines in the stage folder so that pass 2 only migrates them (when the recipe
+   * allows it, `pass2Steps`, and the disk has room); false processes every line again in pass 2. The
+   * outputs are the same either way. @default true
+   */
+  keepLines?: boolean;
 }
 
 export interface ProcessSummary {
@@ -172,7 +179,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   const siteLoaded = timer.start('load site');
   const loaded = await loadSite(siteDir);
   // What the positions mean and whether the run fits, from headers only, before any trace is read.
-  const { survey } = await preflight(loaded, outDir, options);
+  const { survey, size, freeBytes } = await preflight(loaded, outDir, options);
   for (const w of survey.warnings) (options.onWarning ?? ((m) => process.stderr.write(`warning: ${m}\n`)))(w);
   const site: Site = { ...loaded, plan: survey.plan };
   siteLoaded();
@@ -180,6 +187,10 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   const progress = options.onProgress ?? (() => {});
   const now = options.now ?? new Date();
   const threads = Math.min(options.threads ?? defaultThreads(), site.lines.length);
+  // Pass 2 starts from pass 1's lines, kept in the stage folder, when the recipe allows it and the disk
+  // has room for them (two Float32 copies of every line, positions, a header) beside the run's own files.
+  const keptBytes = survey.lines.reduce((a, l) => a + l.nTraces * (8 * l.nSamples + 16) + 256, 0);
+  const keepLines = (options.keepLines ?? true) && pass2Steps(recipe) !== undefined && freeBytes - size.diskBytes >= keptBytes;
   // One process per output folder: a second one would remove this one's stage (stageFolder clears stale ones).
   const runLock = await lockFolder(outDir, { kind: 'run', what: 'lamina process', shown: shownPath(outDir) });
   let writeLock: FolderLock | undefined;
@@ -192,7 +203,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     const n = site.lines.length;
     progress('processing lines', 0, n);
     const pass1Done = timer.start('pass 1: process lines, hyperbolas');
-    const run1 = (i: number, detect: boolean) => exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path, detect }) as Promise<Pass1Result>;
+    const run1 = (i: number, detect: boolean) => exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path, detect, keepLine: keepLines }) as Promise<Pass1Result>;
     const p1 = options.sampleVelocityLines
       ? await pass1Sampled(n, Math.max(1, threads), run1, { metresPerUnit: site.crs.metresPerUnit }, (d) => progress('processing lines', d, n))
       : ((await inOrder(n, (i) => run1(i, true), (d) => progress('processing lines', d, n))) as Pass1Result[]);
@@ -236,12 +247,13 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       await inOrder(
         n,
         (i) =>
-          exec.run({ kind: 'pass2', siteDir: site.dir, line: i, recipe, model: velocity.model, velocityMPerNs: velocity.site.velocityMPerNs, windows }).then((res) => {
+          exec.run({ kind: 'pass2', siteDir: site.dir, line: i, recipe, model: velocity.model, velocityMPerNs: velocity.site.velocityMPerNs, windows, ...(keepLines ? { keptIn: stage.path } : {}) }).then((res) => {
             waiting.set(i, res as Pass2Result);
             addParts(timer.lineMs, (res as Pass2Result).times);
             for (let r = waiting.get(next); r; r = waiting.get(next)) {
               spill.addLine(r.x, r.y, r.values);
-              if (next === 0) log = r.log;
+              // the log of the steps pass 2 ran from pass 1's line follows pass 1's
+              if (next === 0) log = keepLines ? [...(p1[0] as Pass1Result).log, ...r.log] : r.log;
               const ran = r.log.find((e) => e.step === 'migration')?.result?.method;
               if (typeof ran === 'string') methods.set(ran, (methods.get(ran) ?? 0) + 1);
               waiting.delete(next++);
@@ -256,6 +268,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress, timer }, Math.max(1, threads));
     } finally {
       spill.remove();
+      if (keepLines) await removeLineSpills(stage.path);
     }
 
     const outputsDone = timer.start('outputs: run.json, lines, radargrams, review');
