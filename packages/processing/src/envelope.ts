@@ -61,6 +61,62 @@ export function hilbertEnvelope(
 }
 
 /**
+ * Hilbert envelopes of two traces at once (`b` may be undefined), equal to `hilbertEnvelope` of each to
+ * float rounding: the Hilbert transforms of real a and b are real, so one complex transform of a + ib,
+ * times -i sgn(k) (zero at 0 and N/2, scipy's convention), and one inverse give H(a) + i H(b); the
+ * envelope is sqrt(x^2 + H(x)^2). Two complex FFTs per pair of traces instead of a real and a complex
+ * one per trace. `ws` from `hilbertWorkspace`.
+ */
+export function hilbertEnvelopePair(
+  a: ArrayLike<number>,
+  b: ArrayLike<number> | undefined,
+  ws: HilbertWorkspace,
+  outA: Float32Array | Float64Array,
+  outB?: Float32Array | Float64Array,
+): void {
+  const { n, spec, analytic } = ws;
+  const z = analytic;
+  const ma = Math.min(a.length, n);
+  const mb = b ? Math.min(b.length, n) : 0;
+  z.fill(0);
+  for (let i = 0; i < ma; i++) z[2 * i] = a[i] as number;
+  if (b) for (let i = 0; i < mb; i++) z[2 * i + 1] = b[i] as number;
+  const ft = fftOfSize(n);
+  ft.transform(spec, z);
+  const half = n / 2;
+  spec[0] = 0;
+  spec[1] = 0;
+  spec[2 * half] = 0;
+  spec[2 * half + 1] = 0;
+  for (let k = 1; k < n; k++) {
+    if (k === half) continue;
+    const re = spec[2 * k] as number;
+    const im = spec[2 * k + 1] as number;
+    // -i (re + i im) = im - i re for 0 < k < N/2; +i (re + i im) above
+    if (k < half) {
+      spec[2 * k] = im;
+      spec[2 * k + 1] = -re;
+    } else {
+      spec[2 * k] = -im;
+      spec[2 * k + 1] = re;
+    }
+  }
+  ft.inverseTransform(z, spec);
+  for (let i = 0; i < a.length; i++) {
+    const x = a[i] as number;
+    const h = i < n ? (z[2 * i] as number) : 0;
+    outA[i] = Math.sqrt(x * x + h * h);
+  }
+  if (b && outB) {
+    for (let i = 0; i < b.length; i++) {
+      const x = b[i] as number;
+      const h = i < n ? (z[2 * i + 1] as number) : 0;
+      outB[i] = Math.sqrt(x * x + h * h);
+    }
+  }
+}
+
+/**
  * Envelope of every trace of a line. Traces are zero-padded to the next power of two of `nSamples`
  * (at least) before the FFT; `out` may be `line.data`.
  */

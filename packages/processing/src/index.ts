@@ -6,6 +6,7 @@ export {
   hilbertWorkspace,
   analyticSignal,
   hilbertEnvelope,
+  hilbertEnvelopePair,
   envelope,
 } from './envelope';
 export {

@@ -1,6 +1,6 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { InputError } from '@lamina/errors';
-import { hilbertEnvelope, hilbertWorkspace } from './envelope';
+import { hilbertEnvelopePair, hilbertWorkspace } from './envelope';
 import { medianOf, outputFor, withData } from './line-util';
 
 export const C_M_PER_NS = 0.2998;
@@ -145,16 +145,34 @@ export function shiftTrace(x: ArrayLike<number>, shiftSamples: number, out: Floa
     return;
   }
   // source position u = i - shift = (i - whole - 1) + (1 - f)
-  const w = [keys(2 - f), keys(1 - f), keys(f), keys(1 + f)] as const;
-  for (let i = 0; i < n; i++) {
+  const w0 = keys(2 - f);
+  const w1 = keys(1 - f);
+  const w2 = keys(f);
+  const w3 = keys(1 + f);
+  // samples whose four taps all lie inside the trace: k = i - whole - 2 .. i - whole + 1
+  const i0 = Math.min(n, Math.max(0, whole + 2));
+  const i1 = Math.max(i0, Math.min(n, n - 1 + whole));
+  const edge = (i: number) => {
     const j = i - whole - 1;
     let acc = 0;
     for (let m = 0; m < 4; m++) {
       const k = j - 1 + m;
-      if (k >= 0 && k < n) acc += (x[k] as number) * (w[m] as number);
+      if (k >= 0 && k < n) acc += (x[k] as number) * (m === 0 ? w0 : m === 1 ? w1 : m === 2 ? w2 : w3);
     }
     out[i] = acc;
+  };
+  for (let i = 0; i < i0; i++) edge(i);
+  for (let i = i0; i < i1; i++) {
+    const k = i - whole - 2;
+    // the same sum, in the same order, as at the edges
+    let acc = 0;
+    acc += (x[k] as number) * w0;
+    acc += (x[k + 1] as number) * w1;
+    acc += (x[k + 2] as number) * w2;
+    acc += (x[k + 3] as number) * w3;
+    out[i] = acc;
   }
+  for (let i = i1; i < n; i++) edge(i);
 }
 
 /**
@@ -174,11 +192,15 @@ export function timeZero(line: RadarLine, options: TimeZeroOptions, out?: Float3
   const to = options.searchNs ? Math.ceil(options.searchNs[1] / dtNs) : ns;
   const ws = hilbertWorkspace(ns);
   const env = new Float64Array(ns);
+  const envB = new Float64Array(ns);
   const picksNs = new Float64Array(nt);
-  for (let t = 0; t < nt; t++) {
+  const opts = { threshold, pick, periodSamples: period / dtNs, from, to };
+  for (let t = 0; t < nt; t += 2) {
     const tr = line.data.subarray(t * ns, (t + 1) * ns);
-    hilbertEnvelope(tr, { workspace: ws }, env);
-    picksNs[t] = pickFirstArrival(env, { threshold, pick, periodSamples: period / dtNs, from, to, trace: tr }) * dtNs;
+    const trB = t + 1 < nt ? line.data.subarray((t + 1) * ns, (t + 2) * ns) : undefined;
+    hilbertEnvelopePair(tr, trB, ws, env, envB);
+    picksNs[t] = pickFirstArrival(env, { ...opts, trace: tr }) * dtNs;
+    if (trB) picksNs[t + 1] = pickFirstArrival(envB, { ...opts, trace: trB }) * dtNs;
   }
   if (!picksNs.some(Number.isFinite)) {
     throw new InputError(line.id, 'time-zero: expected a direct arrival, found no trace with signal (all traces zero or not finite)');

@@ -1,7 +1,7 @@
 // Checks against scipy.signal (Debian python3-scipy) on committed fixtures made by data/make_fixtures.py.
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { butterworthSos, hilbertEnvelope, sosfiltfilt, sosfiltfiltPadlen, type FilterKind } from '../src';
+import { butterworthSos, hilbertEnvelope, hilbertEnvelopePair, hilbertWorkspace, sosfiltfilt, sosfiltfiltPadlen, type FilterKind } from '../src';
 
 interface Fixture {
   origin: string;
@@ -56,6 +56,22 @@ describe('Hilbert envelope vs scipy.signal.hilbert', () => {
   it('defaults to the next power of two', () => {
     const x = Float32Array.from(fx.signals[1]!);
     expect(maxDiff(hilbertEnvelope(x), hilbertEnvelope(x, { padTo: 512 }))).toBe(0);
+  });
+  it('two traces per transform (hilbertEnvelopePair) give the same envelopes, and one alone too', () => {
+    fx.signals.forEach((x, i) => {
+      const ref = fx.hilbert[i]!;
+      const other = fx.signals[(i + 1) % fx.signals.length]!.slice(0, x.length);
+      const ws = hilbertWorkspace(x.length, ref.N);
+      const a = new Float64Array(x.length);
+      const b = new Float64Array(other.length);
+      hilbertEnvelopePair(Float32Array.from(x), Float32Array.from(other), ws, a, b);
+      expect(maxDiff(a, ref.envelope) / maxAbs(ref.envelope)).toBeLessThan(1e-8);
+      const alone = hilbertEnvelope(Float32Array.from(other), { padTo: ref.N });
+      expect(maxDiff(b, alone) / maxAbs(alone)).toBeLessThan(1e-12);
+      const single = new Float64Array(x.length);
+      hilbertEnvelopePair(Float32Array.from(x), undefined, ws, single);
+      expect(maxDiff(single, ref.envelope) / maxAbs(ref.envelope)).toBeLessThan(1e-8);
+    });
   });
 });
 
