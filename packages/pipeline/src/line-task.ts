@@ -1,7 +1,7 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { InputError } from '@lamina/errors';
 import { loadSite, readLine, pointToWgs84, shownPath, type Site } from '@lamina/site';
-import { defaultRecipe, envelope, parseRecipe, runRecipe, type Recipe, type RecipeLogEntry, type Step } from '@lamina/processing';
+import { defaultRecipe, hilbertEnvelopePair, hilbertWorkspace, parseRecipe, runRecipe, type Recipe, type RecipeLogEntry, type Step } from '@lamina/processing';
 import { lineDirection, lineHyperbolas, recipeForVelocity, type HyperbolaFit, type VelocityModel } from '@lamina/velocity';
 import { sampleDepths, traceSliceValues, type SliceWindow } from '@lamina/slices';
 import { lineSpillPath, readLineSpill, writeLineSpill } from './line-spill';
@@ -186,7 +186,18 @@ export async function pass2(task: Pass2Task): Promise<Pass2Result> {
 }
 
 function sliceValues(line: RadarLine, task: Pass2Task, separationM: number): Float32Array {
-  const env = envelope(line);
-  const depths = sampleDepths(line.nSamples, line.dtNs, line.timeZeroNs, task.model, separationM);
-  return traceSliceValues(env.data, line.nTraces, line.nSamples, depths, task.windows, 'mean-square');
+  const { nTraces: nt, nSamples: ns, data } = line;
+  // `envelope` of @lamina/processing, two traces per transform pair
+  const env = new Float32Array(data.length);
+  const ws = hilbertWorkspace(ns);
+  const a = new Float64Array(ns);
+  const b = new Float64Array(ns);
+  for (let t = 0; t < nt; t += 2) {
+    const pair = t + 1 < nt;
+    hilbertEnvelopePair(data.subarray(t * ns, (t + 1) * ns), pair ? data.subarray((t + 1) * ns, (t + 2) * ns) : undefined, ws, a, b);
+    env.set(a, t * ns);
+    if (pair) env.set(b, (t + 1) * ns);
+  }
+  const depths = sampleDepths(ns, line.dtNs, line.timeZeroNs, task.model, separationM);
+  return traceSliceValues(env, nt, ns, depths, task.windows, 'mean-square');
 }
