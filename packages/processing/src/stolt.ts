@@ -170,7 +170,7 @@ function apertureNodes(nSamples: number, dtNs: number, timeZeroNs: number, ve: n
 /**
  * The Stolt map with one dip limit per node, blended along tau (`blend[w][k]` the weight of node w at
  * sample k) into `out`. The blend commutes with the transforms, so the interpolation along omega (the
- * costly part) is done once and kept bin-major with its sin(theta) and Jacobian; each node then weights
+ * costly part) is done once and kept bin-major, times the Jacobian, with its sin(theta); each node then weights
  * it, transforms it back across traces and in time, and adds its tau range to the sum.
  */
 function stoltMaps(
@@ -215,10 +215,9 @@ function stoltMaps(
     fRe[j] = re;
     fIm[j] = im;
   }
-  // the interpolated spectrum, bin-major (a bin's wavenumbers contiguous for the transform across traces)
+  // the interpolated spectrum times the Jacobian, bin-major (a bin's wavenumbers contiguous for the transform across traces)
   const val = new Float64Array(2 * nb * nx);
   const sinT = new Float64Array(nb * nx);
-  const jacT = new Float64Array(nb * nx);
   const outer = dipWeigher(aMax, taper);
   // bins the interpolation can reach from [lo, hi] (negative bins mirror positive ones)
   const reach = (u: number) => u - HALF_TAPS <= hi && (u + HALF_TAPS >= lo || HALF_TAPS - u >= lo);
@@ -253,21 +252,19 @@ function stoltMaps(
       const re = ip[0] as number;
       const im = ip[1] as number;
       const q = j * nx + ix;
-      val[2 * q] = re * (fRe[j] as number) - im * (fIm[j] as number);
-      val[2 * q + 1] = re * (fIm[j] as number) + im * (fRe[j] as number);
+      val[2 * q] = (re * (fRe[j] as number) - im * (fIm[j] as number)) * jac;
+      val[2 * q + 1] = (re * (fIm[j] as number) + im * (fRe[j] as number)) * jac;
       sinT[q] = sin;
-      jacT[q] = jac;
       if (j > jHi) jHi = j;
     }
   }
-  return blendNodes({ val, sinT, jacT, nx, nt, jHi }, nTraces, nSamples, anglesDeg, blend, taper, out);
+  return blendNodes({ val, sinT, nx, nt, jHi }, nTraces, nSamples, anglesDeg, blend, taper, out);
 }
 
-/** The interpolated spectrum of `stoltMaps`: bin-major values, sin(theta) and Jacobian, bins 0..jHi. */
+/** The interpolated spectrum of `stoltMaps`: bin-major values (times the Jacobian) and sin(theta), bins 0..jHi. */
 interface StoltSpectrum {
   val: Float64Array;
   sinT: Float64Array;
-  jacT: Float64Array;
   nx: number;
   nt: number;
   jHi: number;
@@ -275,7 +272,7 @@ interface StoltSpectrum {
 
 /** Each node's dip weights on the spectrum, back across traces and in time, its tau range blended into `out`. */
 function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, anglesDeg: readonly number[], blend: readonly Float64Array[], taper: number, out: Float32Array): Float32Array {
-  const { val, sinT, jacT, nx, nt, jHi } = sp;
+  const { val, sinT, nx, nt, jHi } = sp;
   const nw = nt / 2 + 1;
   const acc = new Float64Array(nTraces * nSamples);
   const fx = fftOfSize(nx);
@@ -303,13 +300,13 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
       for (let c = 0; c < nbk; c++) {
         const col = cols[c] as Float64Array;
         const base = (m0 + c) * nx;
+        col.set(val.subarray(2 * base, 2 * (base + nx)));
         for (let ix = 0; ix < nx; ix++) {
-          const q = base + ix;
-          const jac = jacT[q] as number;
-          const sin = sinT[q] as number;
-          const g = jac === 0 ? 0 : sin <= s1 && sin >= 0 ? jac : weight(sin) * jac;
-          col[2 * ix] = (val[2 * q] as number) * g;
-          col[2 * ix + 1] = (val[2 * q + 1] as number) * g;
+          const sin = sinT[base + ix] as number;
+          if (sin <= s1) continue;
+          const g = weight(sin);
+          col[2 * ix] = (col[2 * ix] as number) * g;
+          col[2 * ix + 1] = (col[2 * ix + 1] as number) * g;
         }
         fx.inverseTransform(res, col);
         col.set(res);
