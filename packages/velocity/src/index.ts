@@ -24,6 +24,7 @@ export {
   weightedMedian,
   robustCentre,
   siteVelocityModel,
+  radiusAware,
   type SiteModelOptions,
 } from './site-model';
 export { toHyperbolaFit, lineHyperbolas, buildVelocityReport, velocityJson, velocityJsonChunks, writeVelocityJson, type ReportOptions } from './report';

@@ -29,8 +29,10 @@ export function classifyVelocity(
 
 /**
  * Groups of fits that are one object seen on several lines (single linkage: apexes within `linkM`
- * metres in plan, apex times and velocities within `tolerance` of each other). Returns each fit's
- * group index and the groups' sizes. A pipe crossing 17 lines is one sample of the soil, not 17.
+ * metres in plan, apex times within `tolerance` of each other). Returns each fit's group index and the
+ * groups' sizes. A pipe crossing 17 lines is one sample of the soil, not 17. The velocities are not
+ * compared: they are what differs between fits of one object (a point fit of a pipe whose radius a line
+ * does not resolve reads it fast by about sqrt(zc / (zc - R)), a resolved one does not).
  */
 export function objectGroups(
   fits: HyperbolaFit[],
@@ -51,7 +53,7 @@ export function objectGroups(
     for (let j = i + 1; j < n; j++) {
       const b = fits[j]!;
       if (Math.hypot(a.x - b.x, a.y - b.y) * mpu > link) continue;
-      if (!close(a.t0Ns, b.t0Ns, tol) || !close(a.velocityMPerNs, b.velocityMPerNs, tol)) continue;
+      if (!close(a.t0Ns, b.t0Ns, tol)) continue;
       const ra = root(i);
       const rb = root(j);
       if (ra !== rb) parent[ra] = rb;
@@ -131,7 +133,7 @@ export interface SiteModelOptions {
  * at z1 = v1 t1 / 2.
  */
 export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOptions = {}): Pick<VelocityReport, 'site' | 'model'> {
-  const usable = fits.filter(usableForSite);
+  const usable = radiusAware(fits.filter(usableForSite), options.metresPerUnit ?? 1);
   const sortedV = usable.map((f) => f.velocityMPerNs).sort((a, b) => a - b);
   const plainMedian = sortedV.length > 0 ? sortedV[sortedV.length >> 1]! : 0.1;
   const floor = (options.uncertaintyFloor ?? 0.02) * plainMedian;
@@ -164,6 +166,22 @@ export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOption
   if (options.layered === false) return { site, model: constant };
   const layered = twoLayer(usable, weightOf, (f) => objectOf.get(f)!, options, bottom);
   return { site, model: layered ?? constant };
+}
+
+/**
+ * The fits of each object (`objectGroups`) that carry its velocity: where some of an object's fits
+ * resolve its radius, only those. The object then has a radius the data show, and its point fits on
+ * the other lines (flanks too short to resolve it) read the soil fast by about sqrt(zc / (zc - R)),
+ * a bias of one sign. Objects with no resolved fit keep all their fits; fits without `radiusResolved`
+ * (manual picks, older files) count as resolved.
+ */
+export function radiusAware(usable: HyperbolaFit[], metresPerUnit = 1): HyperbolaFit[] {
+  const { group, sizes } = objectGroups(usable, { metresPerUnit });
+  const resolved = new Uint8Array(sizes.length);
+  usable.forEach((f, i) => {
+    if (f.radiusResolved !== false) resolved[group[i]!] = 1;
+  });
+  return usable.filter((f, i) => f.radiusResolved !== false || !resolved[group[i]!]);
 }
 
 function moisture(k: number, assumed: boolean): { moisture?: VelocityReport['site']['moisture'] } {
