@@ -25,6 +25,7 @@ export {
   robustCentre,
   siteVelocityModel,
   radiusAware,
+  siteVelocityOf,
   type SiteModelOptions,
 } from './site-model';
 export { toHyperbolaFit, lineHyperbolas, buildVelocityReport, velocityJson, velocityJsonChunks, writeVelocityJson, type ReportOptions } from './report';

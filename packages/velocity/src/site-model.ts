@@ -119,6 +119,21 @@ export interface SiteModelOptions {
    * @default 0.02
    */
   layerSystematic?: number;
+  /**
+   * Velocity of a fit whose radius is not resolved: `radiusFree`, the fit with the radius free, which
+   * goes with its uncertainty (`siteVelocityOf`); `point`, the point fit (the fast end of the v-R
+   * trade-off). @default 'radiusFree'
+   */
+  unresolvedVelocity?: 'radiusFree' | 'point';
+}
+
+/**
+ * The velocity a fit gives the site model: with its radius unresolved, the radius-free fit's velocity
+ * (`radiusFreeVelocityMPerNs`) that its uncertainty belongs to, otherwise `velocityMPerNs`.
+ */
+export function siteVelocityOf(f: HyperbolaFit): number {
+  const v = f.radiusResolved === false ? f.radiusFreeVelocityMPerNs : undefined;
+  return v !== undefined && v > 0 ? v : f.velocityMPerNs;
 }
 
 /**
@@ -134,12 +149,14 @@ export interface SiteModelOptions {
  */
 export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOptions = {}): Pick<VelocityReport, 'site' | 'model'> {
   const usable = radiusAware(fits.filter(usableForSite), options.metresPerUnit ?? 1);
-  const sortedV = usable.map((f) => f.velocityMPerNs).sort((a, b) => a - b);
+  const vOf = (f: HyperbolaFit) => (options.unresolvedVelocity === 'point' ? f.velocityMPerNs : siteVelocityOf(f));
+  const sortedV = usable.map(vOf).sort((a, b) => a - b);
   const plainMedian = sortedV.length > 0 ? sortedV[sortedV.length >> 1]! : 0.1;
   const floor = (options.uncertaintyFloor ?? 0.02) * plainMedian;
   const { group, sizes } = objectGroups(usable, { metresPerUnit: options.metresPerUnit ?? 1 });
   const objectOf = new Map<HyperbolaFit, number>(usable.map((f, i) => [f, group[i]!]));
-  const weightOf = (f: HyperbolaFit) => 1 / Math.max(f.uncertaintyMPerNs, floor) ** 2 / sizes[objectOf.get(f)!]!;
+  // Relative uncertainty (K's relative error is twice v's): a slow fit is not more certain for being slow.
+  const weightOf = (f: HyperbolaFit) => 1 / Math.max((f.uncertaintyMPerNs / vOf(f)) * plainMedian, floor) ** 2 / sizes[objectOf.get(f)!]!;
   const deepest = usable.reduce((m, f) => Math.max(m, f.depthM), 0);
   const bottom = Math.max(deepest, 1);
   if (usable.length === 0) {
@@ -150,7 +167,7 @@ export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOption
     };
   }
   const { centre, spread } = robustCentre(
-    usable.map((f) => f.velocityMPerNs),
+    usable.map(vOf),
     usable.map(weightOf),
   );
   const k = permittivityFromVelocity(centre);
@@ -164,7 +181,7 @@ export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOption
   };
   const constant: VelocityModel = { kind: 'constant', layers: [{ topM: 0, bottomM: bottom, velocityMPerNs: centre, permittivity: k }] };
   if (options.layered === false) return { site, model: constant };
-  const layered = twoLayer(usable, weightOf, (f) => objectOf.get(f)!, options, bottom);
+  const layered = twoLayer(usable, vOf, weightOf, (f) => objectOf.get(f)!, options, bottom);
   return { site, model: layered ?? constant };
 }
 
@@ -191,6 +208,7 @@ function moisture(k: number, assumed: boolean): { moisture?: VelocityReport['sit
 
 function twoLayer(
   usable: HyperbolaFit[],
+  vOf: (f: HyperbolaFit) => number,
   weightOf: (f: HyperbolaFit) => number,
   objectOf: (f: HyperbolaFit) => number,
   options: SiteModelOptions,
@@ -200,7 +218,7 @@ function twoLayer(
   const systematic = options.layerSystematic ?? 0.02;
   // Zero-offset two-way time of each fit's apex.
   const all = usable
-    .map((f) => ({ v: f.velocityMPerNs, t: (2 * f.depthM) / f.velocityMPerNs, w: weightOf(f), o: objectOf(f) }))
+    .map((f) => ({ v: vOf(f), t: (2 * f.depthM) / f.velocityMPerNs, w: weightOf(f), o: objectOf(f) }))
     .sort((a, b) => a.t - b.t);
   const objects = new Set(all.map((e) => e.o)).size;
   if (objects < 2 * minN) return null;

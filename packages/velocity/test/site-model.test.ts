@@ -97,6 +97,17 @@ describe('siteVelocityModel', () => {
     expect(siteVelocityModel(pipe.map((f) => ({ ...f, radiusResolved: false })), { layered: false }).site.velocityMPerNs).toBeCloseTo(biased, 6);
   });
 
+  it('takes an unresolved fit at its radius-free velocity, and weighs fits by relative uncertainty', () => {
+    // Point fits read a pipe fast (sqrt(zc / (zc - R))); the radius-free fit of the same picks is the estimate its uncertainty belongs to.
+    const v = 0.1;
+    const fits = [0, 1, 2, 3, 4].map((i) => fit(v * 1.1, 0.6 + 0.4 * i, 0.004, { x: 5 * i, radiusResolved: false, radiusFreeVelocityMPerNs: v * (1 + 0.01 * (i - 2)) }));
+    expect(siteVelocityModel(fits, { layered: false }).site.velocityMPerNs).toBeCloseTo(v, 6);
+    expect(siteVelocityModel(fits, { layered: false, unresolvedVelocity: 'point' }).site.velocityMPerNs).toBeCloseTo(v * 1.1, 6);
+    // Two slow fits of nonsense (v 0.01 +- 0.003: 30 %) must not outweigh three fits of 4 % (0.004 at 0.1).
+    const slow = [0, 1].map((i) => fit(0.01, 0.5, 0.003, { x: 40 + 5 * i }));
+    expect(siteVelocityModel([...fits.slice(0, 3), ...slow], { layered: false }).site.velocityMPerNs).toBeGreaterThan(0.09);
+  });
+
   it('falls back to a stated assumption when nothing qualifies', () => {
     const r = buildVelocityReport([fit(0.3, 1, 0.01, { origin: 'above-ground' })]);
     expect(r.site.fitCount).toBe(0);
