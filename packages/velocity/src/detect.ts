@@ -1,5 +1,6 @@
-import { alongTrackM, backgroundRemoval, envelope, spectralCentroidMHz } from '@lamina/processing';
+import { backgroundRemoval, envelope, spectralCentroidMHz } from '@lamina/processing';
 import type { RadarLine } from '@lamina/radar-data';
+import { alongLine } from './along';
 import { apexDistance, fitHyperbola, hyperbolaTime, linearisedFit, type PointFit } from './fit';
 
 /**
@@ -87,11 +88,6 @@ export interface DetectedHyperbola extends PointFit {
   timeNs: Float64Array;
   /** Smaller of the two flanks' medians of the normalised envelope along the fitted curve. */
   score: number;
-}
-
-/** Distance along the line from trace 0, m (`alongTrackM` of @lamina/processing). */
-export function alongLine(line: RadarLine, metresPerUnit = 1): Float64Array {
-  return alongTrackM(line, metresPerUnit);
 }
 
 /** Position (site CRS) and nearest trace at distance `offsetM` along the line (linear between traces, extrapolated at the ends). */

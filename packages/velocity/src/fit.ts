@@ -34,6 +34,11 @@ export interface PointFit {
    * uncertainty when the radius is not known. Equals `sigmaVelocity` for a resolved or a point-only fit.
    */
   sigmaVelocityRadiusFree: number;
+  /**
+   * Velocity of the four-parameter fit (R free, R >= 0), the estimate that goes with
+   * `sigmaVelocityRadiusFree`. Equals `velocityMPerNs` for a resolved or a point-only fit.
+   */
+  velocityRadiusFree: number;
   /** One standard deviation of v, x0 and t0 from the weighted Jacobian and residual variance. */
   sigmaVelocity: number;
   sigmaX0M: number;
@@ -225,7 +230,7 @@ export function fitHyperbola(offsetM: ArrayLike<number>, timeNs: ArrayLike<numbe
   const kappa = correlationInflation(x, t, best.w, best.p, s);
   if (radial.radiusM > 0 && Number.isFinite(radial.sigmaRadiusM) && radial.radiusM > k * radial.sigmaRadiusM * Math.sqrt(kappa) && f / kappa > F_99) return radial;
   const free = Number.isFinite(radial.sigmaVelocity) ? Math.max(radial.sigmaVelocity, pointFit.sigmaVelocity) : pointFit.sigmaVelocity;
-  return { ...pointFit, sigmaRadiusM: radial.sigmaRadiusM, sigmaVelocityRadiusFree: free };
+  return { ...pointFit, sigmaRadiusM: radial.sigmaRadiusM, sigmaVelocityRadiusFree: free, velocityRadiusFree: Number.isFinite(radial.sigmaVelocity) ? radial.velocityMPerNs : pointFit.velocityMPerNs };
 }
 
 /** (1 + rho) / (1 - rho), rho the lag-one autocorrelation of the weighted residuals in offset order (1 if rho <= 0). */
@@ -615,6 +620,7 @@ function summarise(x: Float64Array, t: Float64Array, w: Float64Array, p: Params,
     radiusResolved: np === 4,
     sigmaVelocity: sv,
     sigmaVelocityRadiusFree: sv,
+    velocityRadiusFree: v,
     sigmaX0M: sx,
     sigmaT0Ns: st,
     rmsNs: sw > 0 ? Math.sqrt(swr / sw) : Number.NaN,

@@ -13,7 +13,8 @@ export {
   dixInterval,
 } from './physics';
 export { fitHyperbola, linearisedFit, hyperbolaTime, apexDistance, type PointFit, type FitOptions } from './fit';
-export { detectHyperbolas, alongLine, pointAlong, envelopeLevel, type DetectOptions, type DetectedHyperbola } from './detect';
+export { alongLine, type AlongLineOptions } from './along';
+export { detectHyperbolas, pointAlong, envelopeLevel, type DetectOptions, type DetectedHyperbola } from './detect';
 export {
   ABOVE_GROUND_MAX_PERMITTIVITY,
   MAX_SOIL_PERMITTIVITY,
@@ -23,6 +24,8 @@ export {
   weightedMedian,
   robustCentre,
   siteVelocityModel,
+  radiusAware,
+  siteVelocityOf,
   type SiteModelOptions,
 } from './site-model';
 export { toHyperbolaFit, lineHyperbolas, buildVelocityReport, velocityJson, velocityJsonChunks, writeVelocityJson, type ReportOptions } from './report';

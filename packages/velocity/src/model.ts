@@ -33,6 +33,12 @@ export interface HyperbolaFit {
   radiusResolved?: boolean;
   /** One standard deviation of the velocity, m/ns. */
   uncertaintyMPerNs: number;
+  /**
+   * With the radius unresolved: the velocity of the fit with the radius free (R >= 0), whose
+   * uncertainty is `uncertaintyMPerNs`. The point fit's `velocityMPerNs` is the fast end of the v-R
+   * trade-off. Absent for resolved fits and in older files.
+   */
+  radiusFreeVelocityMPerNs?: number;
   origin: Origin;
   /** Picks used: offsets along the line (m) and two-way times (ns). */
   picks?: { offsetM: number[]; timeNs: number[] };

@@ -121,6 +121,7 @@ export function correctObliqueCrossings(fits: HyperbolaFit[], directions: Record
         // The line cuts the pipe's circle at beta: its apparent radius is R / sin(beta) as its axis depth
         // is zc / sin(beta), so the same factor gives R back.
         ...(f.radiusM !== undefined ? { radiusM: f.radiusM * sinB } : {}),
+        ...(f.radiusFreeVelocityMPerNs !== undefined ? { radiusFreeVelocityMPerNs: f.radiusFreeVelocityMPerNs * sinB } : {}),
         ...(f.radiusUncertaintyM !== undefined ? { radiusUncertaintyM: f.radiusUncertaintyM * sinB } : {}),
         uncertaintyMPerNs: sigma,
         origin,

@@ -1,7 +1,8 @@
 import { InputError } from '@lamina/errors';
 import type { RadarLine } from '@lamina/radar-data';
 import { z } from 'zod';
-import { alongLine, pointAlong } from './detect';
+import { alongLine } from './along';
+import { pointAlong } from './detect';
 import { fitHyperbola, type FitOptions } from './fit';
 import type { HyperbolaFit } from './model';
 import { lineDirection } from './oblique';

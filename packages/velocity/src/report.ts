@@ -29,6 +29,7 @@ export function toHyperbolaFit(
     radiusResolved: fit.radiusResolved,
     // With the radius unresolved the velocity is uncertain by the whole R-v trade-off.
     uncertaintyMPerNs: fit.sigmaVelocityRadiusFree ?? fit.sigmaVelocity,
+    ...(fit.radiusResolved ? {} : { radiusFreeVelocityMPerNs: fit.velocityRadiusFree }),
     origin,
     source,
     x0M: fit.x0M,

@@ -29,8 +29,10 @@ export function classifyVelocity(
 
 /**
  * Groups of fits that are one object seen on several lines (single linkage: apexes within `linkM`
- * metres in plan, apex times and velocities within `tolerance` of each other). Returns each fit's
- * group index and the groups' sizes. A pipe crossing 17 lines is one sample of the soil, not 17.
+ * metres in plan, apex times within `tolerance` of each other). Returns each fit's group index and the
+ * groups' sizes. A pipe crossing 17 lines is one sample of the soil, not 17. The velocities are not
+ * compared: they are what differs between fits of one object (a point fit of a pipe whose radius a line
+ * does not resolve reads it fast by about sqrt(zc / (zc - R)), a resolved one does not).
  */
 export function objectGroups(
   fits: HyperbolaFit[],
@@ -51,7 +53,7 @@ export function objectGroups(
     for (let j = i + 1; j < n; j++) {
       const b = fits[j]!;
       if (Math.hypot(a.x - b.x, a.y - b.y) * mpu > link) continue;
-      if (!close(a.t0Ns, b.t0Ns, tol) || !close(a.velocityMPerNs, b.velocityMPerNs, tol)) continue;
+      if (!close(a.t0Ns, b.t0Ns, tol)) continue;
       const ra = root(i);
       const rb = root(j);
       if (ra !== rb) parent[ra] = rb;
@@ -117,6 +119,21 @@ export interface SiteModelOptions {
    * @default 0.02
    */
   layerSystematic?: number;
+  /**
+   * Velocity of a fit whose radius is not resolved: `radiusFree`, the fit with the radius free, which
+   * goes with its uncertainty (`siteVelocityOf`); `point`, the point fit (the fast end of the v-R
+   * trade-off). @default 'radiusFree'
+   */
+  unresolvedVelocity?: 'radiusFree' | 'point';
+}
+
+/**
+ * The velocity a fit gives the site model: with its radius unresolved, the radius-free fit's velocity
+ * (`radiusFreeVelocityMPerNs`) that its uncertainty belongs to, otherwise `velocityMPerNs`.
+ */
+export function siteVelocityOf(f: HyperbolaFit): number {
+  const v = f.radiusResolved === false ? f.radiusFreeVelocityMPerNs : undefined;
+  return v !== undefined && v > 0 ? v : f.velocityMPerNs;
 }
 
 /**
@@ -131,13 +148,15 @@ export interface SiteModelOptions {
  * at z1 = v1 t1 / 2.
  */
 export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOptions = {}): Pick<VelocityReport, 'site' | 'model'> {
-  const usable = fits.filter(usableForSite);
-  const sortedV = usable.map((f) => f.velocityMPerNs).sort((a, b) => a - b);
+  const usable = radiusAware(fits.filter(usableForSite), options.metresPerUnit ?? 1);
+  const vOf = (f: HyperbolaFit) => (options.unresolvedVelocity === 'point' ? f.velocityMPerNs : siteVelocityOf(f));
+  const sortedV = usable.map(vOf).sort((a, b) => a - b);
   const plainMedian = sortedV.length > 0 ? sortedV[sortedV.length >> 1]! : 0.1;
   const floor = (options.uncertaintyFloor ?? 0.02) * plainMedian;
   const { group, sizes } = objectGroups(usable, { metresPerUnit: options.metresPerUnit ?? 1 });
   const objectOf = new Map<HyperbolaFit, number>(usable.map((f, i) => [f, group[i]!]));
-  const weightOf = (f: HyperbolaFit) => 1 / Math.max(f.uncertaintyMPerNs, floor) ** 2 / sizes[objectOf.get(f)!]!;
+  // Relative uncertainty (K's relative error is twice v's): a slow fit is not more certain for being slow.
+  const weightOf = (f: HyperbolaFit) => 1 / Math.max((f.uncertaintyMPerNs / vOf(f)) * plainMedian, floor) ** 2 / sizes[objectOf.get(f)!]!;
   const deepest = usable.reduce((m, f) => Math.max(m, f.depthM), 0);
   const bottom = Math.max(deepest, 1);
   if (usable.length === 0) {
@@ -148,7 +167,7 @@ export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOption
     };
   }
   const { centre, spread } = robustCentre(
-    usable.map((f) => f.velocityMPerNs),
+    usable.map(vOf),
     usable.map(weightOf),
   );
   const k = permittivityFromVelocity(centre);
@@ -162,8 +181,24 @@ export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOption
   };
   const constant: VelocityModel = { kind: 'constant', layers: [{ topM: 0, bottomM: bottom, velocityMPerNs: centre, permittivity: k }] };
   if (options.layered === false) return { site, model: constant };
-  const layered = twoLayer(usable, weightOf, (f) => objectOf.get(f)!, options, bottom);
+  const layered = twoLayer(usable, vOf, weightOf, (f) => objectOf.get(f)!, options, bottom);
   return { site, model: layered ?? constant };
+}
+
+/**
+ * The fits of each object (`objectGroups`) that carry its velocity: where some of an object's fits
+ * resolve its radius, only those. The object then has a radius the data show, and its point fits on
+ * the other lines (flanks too short to resolve it) read the soil fast by about sqrt(zc / (zc - R)),
+ * a bias of one sign. Objects with no resolved fit keep all their fits; fits without `radiusResolved`
+ * (manual picks, older files) count as resolved.
+ */
+export function radiusAware(usable: HyperbolaFit[], metresPerUnit = 1): HyperbolaFit[] {
+  const { group, sizes } = objectGroups(usable, { metresPerUnit });
+  const resolved = new Uint8Array(sizes.length);
+  usable.forEach((f, i) => {
+    if (f.radiusResolved !== false) resolved[group[i]!] = 1;
+  });
+  return usable.filter((f, i) => f.radiusResolved !== false || !resolved[group[i]!]);
 }
 
 function moisture(k: number, assumed: boolean): { moisture?: VelocityReport['site']['moisture'] } {
@@ -173,6 +208,7 @@ function moisture(k: number, assumed: boolean): { moisture?: VelocityReport['sit
 
 function twoLayer(
   usable: HyperbolaFit[],
+  vOf: (f: HyperbolaFit) => number,
   weightOf: (f: HyperbolaFit) => number,
   objectOf: (f: HyperbolaFit) => number,
   options: SiteModelOptions,
@@ -182,7 +218,7 @@ function twoLayer(
   const systematic = options.layerSystematic ?? 0.02;
   // Zero-offset two-way time of each fit's apex.
   const all = usable
-    .map((f) => ({ v: f.velocityMPerNs, t: (2 * f.depthM) / f.velocityMPerNs, w: weightOf(f), o: objectOf(f) }))
+    .map((f) => ({ v: vOf(f), t: (2 * f.depthM) / f.velocityMPerNs, w: weightOf(f), o: objectOf(f) }))
     .sort((a, b) => a.t - b.t);
   const objects = new Set(all.map((e) => e.o)).size;
   if (objects < 2 * minN) return null;

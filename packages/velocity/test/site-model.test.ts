@@ -75,6 +75,39 @@ describe('siteVelocityModel', () => {
     expect(model.layers[1]!.topM).toBe(model.layers[0]!.bottomM);
   });
 
+  it("takes a pipe's velocity from the lines that resolve its radius, not from its point fits", () => {
+    // A 0.3 m pipe (axis 1.5 m) seen on 8 lines 0.5 m apart: 3 lines resolve R, 5 give point fits
+    // reading v fast by sqrt(zc / (zc - R)) = sqrt(1.5 / 1.2) (the bias of a point fit of a cylinder,
+    // packages/velocity README). Four small stones elsewhere read v itself.
+    const v = 0.08;
+    const biased = v * Math.sqrt(1.5 / 1.2);
+    const fits: HyperbolaFit[] = [];
+    for (let i = 0; i < 8; i++) {
+      const resolved = i % 3 === 0;
+      fits.push(fit(resolved ? v : biased, 1.2, 0.002, { x: 0.5 * i, y: 0, t0Ns: (2 * 1.2) / v, radiusResolved: resolved, radiusM: resolved ? 0.3 : 0 }));
+    }
+    for (let i = 0; i < 4; i++) fits.push(fit(v, 0.5 + 0.3 * i, 0.002, { x: 10 + 3 * i, y: 5, radiusResolved: false, radiusM: 0 }));
+    const { site } = siteVelocityModel(fits, { layered: false });
+    expect(site.velocityMPerNs).toBeCloseTo(v, 6);
+    expect(site.fitCount).toBe(3 + 4);
+    expect(site.objectCount).toBe(5);
+    // The pipe alone: its five point fits would outvote its three resolved ones.
+    const pipe = fits.slice(0, 8);
+    expect(siteVelocityModel(pipe, { layered: false }).site.velocityMPerNs).toBeCloseTo(v, 6);
+    expect(siteVelocityModel(pipe.map((f) => ({ ...f, radiusResolved: false })), { layered: false }).site.velocityMPerNs).toBeCloseTo(biased, 6);
+  });
+
+  it('takes an unresolved fit at its radius-free velocity, and weighs fits by relative uncertainty', () => {
+    // Point fits read a pipe fast (sqrt(zc / (zc - R))); the radius-free fit of the same picks is the estimate its uncertainty belongs to.
+    const v = 0.1;
+    const fits = [0, 1, 2, 3, 4].map((i) => fit(v * 1.1, 0.6 + 0.4 * i, 0.004, { x: 5 * i, radiusResolved: false, radiusFreeVelocityMPerNs: v * (1 + 0.01 * (i - 2)) }));
+    expect(siteVelocityModel(fits, { layered: false }).site.velocityMPerNs).toBeCloseTo(v, 6);
+    expect(siteVelocityModel(fits, { layered: false, unresolvedVelocity: 'point' }).site.velocityMPerNs).toBeCloseTo(v * 1.1, 6);
+    // Two slow fits of nonsense (v 0.01 +- 0.003: 30 %) must not outweigh three fits of 4 % (0.004 at 0.1).
+    const slow = [0, 1].map((i) => fit(0.01, 0.5, 0.003, { x: 40 + 5 * i }));
+    expect(siteVelocityModel([...fits.slice(0, 3), ...slow], { layered: false }).site.velocityMPerNs).toBeGreaterThan(0.09);
+  });
+
   it('falls back to a stated assumption when nothing qualifies', () => {
     const r = buildVelocityReport([fit(0.3, 1, 0.01, { origin: 'above-ground' })]);
     expect(r.site.fitCount).toBe(0);
