@@ -8,3 +8,4 @@ export { extractAnomalies, buildAnomaly, correlationArea, makeMember, memberOf, 
 export { fitNoiseLaw, gammaQ, gammaQInv, lnGamma, noiseMean, noiseScores, normalIsf, strengthDb, type NoiseLaw } from './noise';
 export { classifyAnomalies, fresnelRadiusM, isExtensive, maxStructureExtentM, maxUtilityWidthM, oneLineWidthM, type AnomalyClass, type ClassifyContext, type ClassifyOptions, type Classified } from './classify';
 export { joinAlignedPieces, type JoinOptions } from './join';
+export { thickParts, squaredDistance } from './split';
