@@ -98,7 +98,7 @@ export function isExtensive(shape: Shape, depthM: number, ctx: ClassifyContext, 
  * The class of each anomaly, in this order of rules:
  * - `above-ground`: the screening's verdict (its evidence stays on the feature);
  * - `clutter` (near surface): every member inside the direct- and ground-wave zone, or members there
- *   and below that cross fewer than `nearSurfaceLines` lines, or compact with no member wholly below it;
+ *   and below that cross fewer than `nearSurfaceLines` lines;
  * - echo: sharing at least `echoOverlap` of the smaller one's cells with a stronger subsurface anomaly that ends above it
  *   (same plan position, later time, weaker: ringing or a multiple): it takes that object's class and
  *   gets `echoOf`;
@@ -119,11 +119,6 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
     if (deep.length === 0) return { class: 'clutter', reason: `inside the near-surface zone (top ${round(ctx.nearSurfaceM)} m)` };
     if (deep.length < a.members.length && a.shape.lengthM < (lines - 1) * ctx.lineSpacingM && a.shape.widthM < (lines - 1) * ctx.lineSpacingM) {
       return { class: 'clutter', reason: `starts in the near-surface zone and crosses fewer than ${lines} lines` };
-    }
-    // a compact object must show below the zone on its own: a member straddling the zone's bottom
-    // holds the direct and ground wave's tail, not an object's continuation
-    if (deep.length < a.members.length && a.shape.kind === 'compact' && !a.members.some((m) => m.topM >= ctx.nearSurfaceM - 1e-9)) {
-      return { class: 'clutter', reason: 'compact, with no slice wholly below the near-surface zone' };
     }
     const z = a.depthBottomM;
     const slices = new Set(a.members.map((m) => m.slice)).size;

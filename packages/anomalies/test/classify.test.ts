@@ -75,7 +75,7 @@ describe('joining pieces of a utility', () => {
   });
 });
 
-describe('one line, near surface', () => {
+describe('one line', () => {
   it('the strength one line noise reaches at the false-alarm rate is the exponential quantile (scipy.stats.expon)', () => {
     // p = 1e-4 per m2 x (0.5 m)^2; energy of one envelope sample is exponential (Rayleigh envelope)
     const ref = Number(py('from scipy.stats import expon; import math; print(10*math.log10(expon.isf(1e-4*0.25)))', ''));
@@ -93,14 +93,5 @@ describe('one line, near surface', () => {
     expect(classifyAnomalies([{ anomaly: strong, aboveGround: false }], ctx)[0]!.class).toBe('utility');
     const band = anomaly(cellsOf((x, y) => Math.abs(y - 9) < 0.6 && x > 2 && x < 20), 6, 6, 8);
     expect(classifyAnomalies([{ anomaly: band, aboveGround: false }], ctx)[0]!.class).toBe('utility');
-  });
-
-  it('a compact object straddling the bottom of the near-surface zone is clutter unless a slice lies wholly below it', () => {
-    // ctx.nearSurfaceM 0.19: slice 1 (0.125-0.25) straddles it, slice 2 (0.25-0.375) lies below
-    const box = (x0: number) => cellsOf((x, y) => Math.abs(x - x0) < 0.6 && Math.abs(y - 3) < 0.6);
-    const shallow = anomaly(box(4), 0, 1, 100);
-    const deeper = anomaly(box(8), 0, 2, 100);
-    const c = classifyAnomalies([shallow, deeper].map((a) => ({ anomaly: a, aboveGround: false })), ctx);
-    expect(c.map((x) => x.class)).toEqual(['clutter', 'structure']);
   });
 });
