@@ -39,7 +39,7 @@ export interface ExtractOptions extends ShapeOptions, LinkOptions {
   isLayer?: (shape: Shape, depthM: number) => boolean;
   /**
    * Radius of the disk a layer-sized component is opened with (`thickParts`) before it is called a
-   * layer, m, at a depth: thick parts joined by necks narrower than its diameter are separate
+   * layer, m, at a depth: linear thick parts joined by necks narrower than its diameter are separate
    * objects (a pipe touching a band of air-wave arcs, a pipe inside a patchy layer). @default the
    * first Fresnel zone radius sqrt(lambda z / 2) with lambda = 2 x the slice's thickness (slices are
    * half a wavelength thick by default, @lamina/slices): narrower than a utility's response across
@@ -112,19 +112,23 @@ export function extractAnomalies(stack: SliceStack, options: ExtractOptions = {}
         members.push(m);
         continue;
       }
-      // objects joined to the block by thin necks come out first; what is left is judged again
+      // pipes joined to the block by thin necks come out first; the rest stays one layer member
+      // (compact parts stay in it: the ringing below a big pipe falls apart into many, and objects
+      // inside a layer are what stands out from it, objectsInLayer)
       const radius = (options.splitRadiusM ?? fresnelOfSlice)(m.bottomM, slice.bottomM - slice.topM) / (grid.cellSize * mpu);
-      const objects = thickParts(cells, grid.width, radius).filter((p) => p.length >= min && hasSeed(p, z, high) && !isLayer(cellShape(p, grid, options), m.bottomM));
-      const pieces = objects.length === 0 ? [cells] : residue(cells, objects, z, grid, high, low, min);
+      const objects = thickParts(cells, grid.width, radius).filter((p) => {
+        if (p.length < min || !hasSeed(p, z, high)) return false;
+        const shape = cellShape(p, grid, options);
+        return shape.kind === 'linear' && !isLayer(shape, m.bottomM);
+      });
       for (const p of objects) members.push(makeMember(members.length, si, p, stack, z, options, energy));
-      for (const p of pieces) {
-        const q = p === cells ? m : makeMember(members.length, si, p, stack, z, options, energy);
-        q.id = members.length;
-        members.push(q);
-        if (p !== cells && !isLayer(q.shape, q.bottomM)) continue;
-        q.layer = true;
-        for (const part of objectsInLayer(p, slice.values, grid, high, low, min)) members.push(makeMember(members.length, si, part.cells, stack, part.scores, options, part.noiseEnergy));
-      }
+      const rest = objects.length === 0 ? cells : without(cells, objects);
+      if (rest.length === 0) continue;
+      const q = rest === cells ? m : makeMember(members.length, si, rest, stack, z, options, energy);
+      q.id = members.length;
+      q.layer = true;
+      members.push(q);
+      for (const part of objectsInLayer(rest, slice.values, grid, high, low, min)) members.push(makeMember(members.length, si, part.cells, stack, part.scores, options, part.noiseEnergy));
     }
   }
   const groups = linkMembers(members, grid.width * grid.height, grid.cellSize, options);
@@ -145,12 +149,11 @@ function hasSeed(cells: Int32Array, z: Float32Array, high: number): boolean {
   return false;
 }
 
-/** Components (hysteresis, `minCells`) of a component's cells once the objects' cells are taken out. */
-function residue(cells: Int32Array, objects: Int32Array[], z: Float32Array, grid: SliceStack['grid'], high: number, low: number, minCells: number): Int32Array[] {
-  const rest = new Float32Array(grid.width * grid.height).fill(Number.NaN);
-  for (const k of cells) rest[k] = z[k]!;
-  for (const p of objects) for (const k of p) rest[k] = Number.NaN;
-  return components(rest, grid.width, grid.height, high, low, minCells);
+/** A component's cells without the objects' cells (ascending). */
+function without(cells: Int32Array, objects: Int32Array[]): Int32Array {
+  const taken = new Set<number>();
+  for (const p of objects) for (const k of p) taken.add(k);
+  return cells.filter((k) => !taken.has(k));
 }
 
 /** Components inside a layer's cells that stand out from the layer's own Gamma law (see `isLayer`). */
