@@ -5,6 +5,7 @@ import { fitNoiseLaw, noiseMean, noiseScores, normalIsf, type NoiseLaw } from '.
 import { robustScores } from './normalise';
 import { outlineArea, traceOutline } from './outline';
 import { cellShape, centreline, type ShapeOptions } from './shape';
+import { thickParts } from './split';
 import type { Anomaly3D, Member, Shape } from './types';
 
 export interface ExtractOptions extends ShapeOptions, LinkOptions {
@@ -36,6 +37,15 @@ export interface ExtractOptions extends ShapeOptions, LinkOptions {
    * to them and thresholded again. @default never
    */
   isLayer?: (shape: Shape, depthM: number) => boolean;
+  /**
+   * Radius of the disk a layer-sized component is opened with (`thickParts`) before it is called a
+   * layer, m, at a depth: linear thick parts joined by necks narrower than its diameter are separate
+   * objects (a pipe touching a band of air-wave arcs, a pipe inside a patchy layer). @default the
+   * first Fresnel zone radius sqrt(lambda z / 2) with lambda = 2 x the slice's thickness (slices are
+   * half a wavelength thick by default, @lamina/slices): narrower than a utility's response across
+   * its axis (its diameter plus the Fresnel zone), wider than the rim of a ring or an arc
+   */
+  splitRadiusM?: (depthM: number, thicknessM: number) => number;
   /** Minimum cells of a component. @default 6 */
   minCells?: number;
   /** Minimum area of a component, m^2 (in addition to minCells). @default 0 */
@@ -95,12 +105,30 @@ export function extractAnomalies(stack: SliceStack, options: ExtractOptions = {}
     scores.push(z);
     const min = Math.max(minCells, minCellsByArea);
     for (const cells of components(z, grid.width, grid.height, high, low, min)) {
-      const m = makeMember(members.length, si, cells, stack, z, options, law ? noiseMean(law) : Number.NaN);
-      members.push(m);
-      if (options.isLayer?.(m.shape, m.bottomM)) {
-        m.layer = true;
-        for (const part of objectsInLayer(cells, slice.values, grid, high, low, min)) members.push(makeMember(members.length, si, part.cells, stack, part.scores, options, part.noiseEnergy));
+      const energy = law ? noiseMean(law) : Number.NaN;
+      const m = makeMember(members.length, si, cells, stack, z, options, energy);
+      const isLayer = options.isLayer;
+      if (!isLayer?.(m.shape, m.bottomM)) {
+        members.push(m);
+        continue;
       }
+      // pipes joined to the block by thin necks come out first; the rest stays one layer member
+      // (compact parts stay in it: the ringing below a big pipe falls apart into many, and objects
+      // inside a layer are what stands out from it, objectsInLayer)
+      const radius = (options.splitRadiusM ?? fresnelOfSlice)(m.bottomM, slice.bottomM - slice.topM) / (grid.cellSize * mpu);
+      const objects = thickParts(cells, grid.width, radius).filter((p) => {
+        if (p.length < min || !hasSeed(p, z, high)) return false;
+        const shape = cellShape(p, grid, options);
+        return shape.kind === 'linear' && !isLayer(shape, m.bottomM);
+      });
+      for (const p of objects) members.push(makeMember(members.length, si, p, stack, z, options, energy));
+      const rest = objects.length === 0 ? cells : without(cells, objects);
+      if (rest.length === 0) continue;
+      const q = rest === cells ? m : makeMember(members.length, si, rest, stack, z, options, energy);
+      q.id = members.length;
+      q.layer = true;
+      members.push(q);
+      for (const part of objectsInLayer(rest, slice.values, grid, high, low, min)) members.push(makeMember(members.length, si, part.cells, stack, part.scores, options, part.noiseEnergy));
     }
   }
   const groups = linkMembers(members, grid.width * grid.height, grid.cellSize, options);
@@ -109,6 +137,23 @@ export function extractAnomalies(stack: SliceStack, options: ExtractOptions = {}
   anomalies.sort((a, b) => a.depthTopM - b.depthTopM || a.members[0]!.x - b.members[0]!.x);
   anomalies.forEach((a, i) => (a.id = `A${String(i + 1).padStart(4, '0')}`));
   return { members, anomalies, scores, noise, threshold: high, lowThreshold: low };
+}
+
+/** First Fresnel zone radius at depth z for a slice half a wavelength thick (see `splitRadiusM`). */
+function fresnelOfSlice(depthM: number, thicknessM: number): number {
+  return Math.sqrt(Math.max(depthM, 0) * Math.max(thicknessM, 0));
+}
+
+function hasSeed(cells: Int32Array, z: Float32Array, high: number): boolean {
+  for (const k of cells) if (z[k]! >= high) return true;
+  return false;
+}
+
+/** A component's cells without the objects' cells (ascending). */
+function without(cells: Int32Array, objects: Int32Array[]): Int32Array {
+  const taken = new Set<number>();
+  for (const p of objects) for (const k of p) taken.add(k);
+  return cells.filter((k) => !taken.has(k));
 }
 
 /** Components inside a layer's cells that stand out from the layer's own Gamma law (see `isLayer`). */

@@ -1,0 +1,97 @@
+/**
+ * Thick parts of a component: its morphological opening by a disk of radius `radiusCells` (erosion,
+ * then dilation of what is left, Serra 1982), split into 8-connected parts. Two objects that touch
+ * through a neck narrower than the disk's diameter come out as two parts; a part thinner than the
+ * diameter everywhere (an arc, a fringe) is not in the opening at all. Cells are grid indices
+ * (row * width + col), ascending; the parts are ascending too, largest first.
+ */
+export function thickParts(cells: Int32Array, width: number, radiusCells: number): Int32Array[] {
+  if (cells.length === 0 || !(radiusCells > 0)) return [];
+  let r0 = Infinity, r1 = -Infinity, c0 = Infinity, c1 = -Infinity;
+  for (const k of cells) {
+    const r = (k / width) | 0, c = k - r * width;
+    if (r < r0) r0 = r;
+    if (r > r1) r1 = r;
+    if (c < c0) c0 = c;
+    if (c > c1) c1 = c;
+  }
+  // a one-cell frame of outside cells round the bounding box
+  const w = c1 - c0 + 3, h = r1 - r0 + 3;
+  const inside = new Uint8Array(w * h);
+  for (const k of cells) {
+    const r = (k / width) | 0, c = k - r * width;
+    inside[(r - r0 + 1) * w + (c - c0 + 1)] = 1;
+  }
+  // erosion: cells farther than the radius from every outside cell
+  const dOut = squaredDistance(inside, w, h, 0);
+  const core = new Uint8Array(w * h);
+  const r2 = radiusCells * radiusCells;
+  let any = false;
+  for (let i = 0; i < w * h; i++) if (inside[i] && dOut[i]! > r2) (core[i] = 1), (any = true);
+  if (!any) return [];
+  // dilation of the core by the same disk, inside the component
+  const dCore = squaredDistance(core, w, h, 1);
+  const open = new Uint8Array(w * h);
+  for (let i = 0; i < w * h; i++) if (inside[i] && dCore[i]! <= r2) open[i] = 1;
+  const parts: Int32Array[] = [];
+  const seen = new Uint8Array(w * h);
+  const stack: number[] = [];
+  for (let s = 0; s < w * h; s++) {
+    if (!open[s] || seen[s]) continue;
+    const out: number[] = [];
+    seen[s] = 1;
+    stack.push(s);
+    while (stack.length) {
+      const i = stack.pop()!;
+      const y = (i / w) | 0, x = i - y * w;
+      out.push((y - 1 + r0) * width + (x - 1 + c0));
+      for (let dy = -1; dy <= 1; dy++)
+        for (let dx = -1; dx <= 1; dx++) {
+          const j = (y + dy) * w + (x + dx);
+          if ((dx || dy) && y + dy >= 0 && y + dy < h && x + dx >= 0 && x + dx < w && open[j] && !seen[j]) (seen[j] = 1), stack.push(j);
+        }
+    }
+    parts.push(Int32Array.from(out).sort());
+  }
+  return parts.sort((p, q) => q.length - p.length);
+}
+
+/**
+ * Squared Euclidean distance (in cells) of every cell to the nearest cell whose `mask` equals
+ * `target` (Felzenszwalb and Huttenlocher 2012, the lower envelope of parabolas, by rows then columns).
+ */
+export function squaredDistance(mask: Uint8Array, w: number, h: number, target: 0 | 1): Float64Array {
+  const INF = 1e20;
+  const d = new Float64Array(w * h);
+  for (let i = 0; i < w * h; i++) d[i] = mask[i] === target ? 0 : INF;
+  const n = Math.max(w, h);
+  const f = new Float64Array(n), out = new Float64Array(n), z = new Float64Array(n + 1);
+  const v = new Int32Array(n);
+  const pass = (len: number, get: (i: number) => number, set: (i: number, x: number) => void) => {
+    for (let i = 0; i < len; i++) f[i] = get(i);
+    let k = 0;
+    v[0] = 0;
+    z[0] = -Infinity;
+    z[1] = Infinity;
+    for (let q = 1; q < len; q++) {
+      let s = (f[q]! + q * q - (f[v[k]!]! + v[k]! * v[k]!)) / (2 * q - 2 * v[k]!);
+      while (s <= z[k]!) {
+        k--;
+        s = (f[q]! + q * q - (f[v[k]!]! + v[k]! * v[k]!)) / (2 * q - 2 * v[k]!);
+      }
+      k++;
+      v[k] = q;
+      z[k] = s;
+      z[k + 1] = Infinity;
+    }
+    k = 0;
+    for (let q = 0; q < len; q++) {
+      while (z[k + 1]! < q) k++;
+      out[q] = (q - v[k]!) ** 2 + f[v[k]!]!;
+    }
+    for (let i = 0; i < len; i++) set(i, out[i]!);
+  };
+  for (let y = 0; y < h; y++) pass(w, (x) => d[y * w + x]!, (x, val) => (d[y * w + x] = val));
+  for (let x = 0; x < w; x++) pass(h, (y) => d[y * w + x]!, (y, val) => (d[y * w + x] = val));
+  return d;
+}

@@ -1,0 +1,68 @@
+import { describe, expect, it } from 'vitest';
+import { extractAnomalies, squaredDistance, thickParts } from '../src';
+import { grid, py, rng, synthStack } from './helpers';
+
+describe('thick parts (morphological opening)', () => {
+  it('the squared distance transform agrees with scipy.ndimage.distance_transform_edt', () => {
+    const r = rng(11);
+    const w = 57, h = 43;
+    const mask = Uint8Array.from({ length: w * h }, () => (r() < 0.93 ? 1 : 0));
+    const d = squaredDistance(mask, w, h, 0);
+    const ref = JSON.parse(
+      py(
+        `import sys,json,numpy as np; from scipy import ndimage; m=np.array(json.loads(sys.stdin.read()),dtype=np.uint8).reshape(${h},${w}); print(json.dumps((ndimage.distance_transform_edt(m)**2).ravel().tolist()))`,
+        JSON.stringify(Array.from(mask)),
+      ),
+    ) as number[];
+    for (let i = 0; i < w * h; i++) expect(d[i]).toBeCloseTo(ref[i]!, 9);
+  });
+
+  it('parts agree with scipy.ndimage.binary_opening by a disk, labelled with 8-connectivity', () => {
+    // two blobs joined by a thin neck, a thin arc hanging off one, random bites out of both
+    const w = 80, h = 50, R = 3.4;
+    const r = rng(5);
+    const cells: number[] = [];
+    for (let y = 0; y < h; y++)
+      for (let x = 0; x < w; x++) {
+        const blobA = (x - 18) ** 2 + (y - 25) ** 2 < 14 ** 2;
+        const blobB = Math.abs(x - 60) < 12 && Math.abs(y - 25) < 9;
+        const neck = x >= 30 && x <= 50 && Math.abs(y - 25) <= 1;
+        const arc = Math.abs(Math.hypot(x - 60, y - 25) - 15) < 1 && y < 25;
+        if ((blobA || blobB || neck || arc) && r() > 0.03) cells.push(y * w + x);
+      }
+    const parts = thickParts(Int32Array.from(cells), w, R);
+    const ref = JSON.parse(
+      py(
+        `import sys,json,numpy as np; from scipy import ndimage
+c=json.loads(sys.stdin.read()); m=np.zeros(${w * h},bool); m[c]=True; m=m.reshape(${h},${w})
+yy,xx=np.mgrid[-4:5,-4:5]; disk=(xx**2+yy**2)<=${R}**2
+o=ndimage.binary_opening(m,structure=disk)
+lab,n=ndimage.label(o,structure=np.ones((3,3)))
+print(json.dumps(sorted([sorted(np.flatnonzero(lab.ravel()==i+1).tolist()) for i in range(n)],key=lambda p:-len(p))))`,
+        JSON.stringify(cells),
+      ),
+    ) as number[][];
+    expect(parts.length).toBe(2);
+    expect(parts.map((p) => Array.from(p))).toEqual(ref);
+  });
+
+  it('a pipe joined to a comb of thin arcs comes out of the layer-sized component as an object of its own', () => {
+    // grid 24 x 16 m, 0.1 m cells; a 0.8 m wide pipe along x at y = 1994 m, a comb of 0.2 m arcs above it
+    const g = grid(240, 160, 0.1);
+    const pipe = (x: number, y: number) => x > 1001 && x < 1023 && Math.abs(y - 1994) < 0.4;
+    const comb = (x: number, y: number) => x > 1001 && x < 1023 && y > 1994 && y < 2000 - 1 && (Math.abs(((x - 1000) % 1.5) - 0.75) < 0.1 || Math.abs(y - 1998.5) < 0.1);
+    const stack = synthStack(g, [1], 0.2, (x, y) => (pipe(x, y) || comb(x, y) ? 60 : 0), 3);
+    // a layer here: longer than 8 m and wider than 3 m (the test's own bound)
+    const isLayer = (s: { lengthM: number; widthM: number }) => s.lengthM > 8 && s.widthM > 3;
+    const split = extractAnomalies(stack, { isLayer, splitRadiusM: () => 0.25 });
+    const objects = split.members.filter((m) => !m.layer);
+    const big = objects.reduce((p, q) => (q.cells.length > p.cells.length ? q : p));
+    expect(big.shape.kind).toBe('linear');
+    expect(big.shape.lengthM).toBeGreaterThan(20);
+    expect(big.shape.widthM).toBeLessThan(1.2);
+    expect(Math.abs(big.y - 1994)).toBeLessThan(0.2);
+    // without the opening the whole comb is one layer member and the pipe is not an object
+    const whole = extractAnomalies(stack, { isLayer, splitRadiusM: () => 0 });
+    expect(whole.members.filter((m) => !m.layer && m.shape.lengthM > 20 && m.shape.widthM < 1.2)).toHaveLength(0);
+  });
+});
