@@ -26,7 +26,6 @@ export {
   type TimeZeroOptions,
   type TimeZeroResult,
   type TimeZeroPick,
-  C_M_PER_NS,
   pickFirstArrival,
   shiftTrace,
   timeZero,

@@ -4,7 +4,7 @@ import { C_M_PER_NS, type VelocityModel } from '@lamina/velocity';
  * Air-wave physics.
  *
  * An object above ground at horizontal distance r from the antenna returns energy through the air
- * at two-way time t = 2 r / c (c = 0.2998 m/ns). The slices convert time to depth with the soil
+ * at two-way time t = 2 r / c. The slices convert time to depth with the soil
  * velocity v, so the event appears at depth z = v t / 2 = r v / c = r / sqrt(K) (K = (c / v)^2).
  * Read the other way: in the slice at depth z, the object's reflection lies on the locus of points
  * at distance r(z) = z c / v from it (a ring around a post, a band parallel to a wall or a fence),

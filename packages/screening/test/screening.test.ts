@@ -1,9 +1,10 @@
+import { C_M_PER_NS } from '@lamina/velocity';
 import { describe, expect, it } from 'vitest';
 import type { SliceGrid } from '@lamina/slices';
 import { airRadiusM, airRate, combine, depthAtTimeNs, forecastLoci, reflectorsOf, screenSite, twoWayTimeNs, type ScreenedAnomaly } from '../src';
 import { constantVelocity, feature, identity, segDist, surveyLines, synthStack } from './synth';
 
-const C = 0.2998;
+const C = C_M_PER_NS;
 
 describe('air-wave physics', () => {
   it('z = r v / c: K 9 puts a reflector 3 m away at 1 m depth', () => {

@@ -1,4 +1,5 @@
 import { join } from 'node:path';
+import { C_M_PER_NS } from '@lamina/constants';
 import { InputError } from '@lamina/errors';
 import { pointFromWgs84, pointToWgs84, INTERNATIONAL_FOOT_M, US_SURVEY_FOOT_M } from './crs';
 import { AREA_OF_USE } from './crs-area';
@@ -6,8 +7,6 @@ import { linePositions, lineTraces, shownPath } from './load';
 import { defaultOpenSegy, type OpenSegy } from './segy';
 import type { Crs, LineSource, PlanFeature, Position, Site } from './types';
 
-/** Speed of light in vacuum, m/ns (the same value as @lamina/velocity's C_M_PER_NS; site does not depend on it). */
-const C_M_PER_NS = 0.299792458;
 
 export interface SurveyCheckOptions {
   /**

@@ -7,13 +7,12 @@
  */
 import { readFile, mkdir, writeFile } from 'node:fs/promises';
 import { dirname, join, relative, resolve } from 'node:path';
+import { C_M_PER_NS } from '@lamina/constants';
 import { InputError } from '@lamina/errors';
 import { stageFolder } from '@lamina/atomic';
 import { openSegy, type SegyReader } from '@lamina/radar-data';
 import { linePositions, loadSite, shownPath, type Geometry, type LineSource, type PlanFeature, type Site } from '@lamina/site';
 
-/** Speed of light in air, m/ns (the project's constant). */
-const C = 0.2998;
 
 export type Box = [number, number, number, number];
 
@@ -217,7 +216,7 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
     options.onLine?.(li + 1, site.lines.length * 2);
   }
 
-  const planMarginM = options.planMarginM ?? overlapM + (C * maxRecordNs) / 2;
+  const planMarginM = options.planMarginM ?? overlapM + (C_M_PER_NS * maxRecordNs) / 2;
   const live = [...accs.values()].filter((a) => a.coreTraces > 0).sort((a, b) => a.row - b.row || a.col - b.col);
   const byLine = new Map<number, { tile: TileAcc; first: number; last: number; k: number }[]>();
   for (const t of live) {
