@@ -2,8 +2,8 @@ import type { RadarLine } from '@lamina/radar-data';
 import { InputError } from '@lamina/errors';
 import { loadSite, readLine, pointToWgs84, shownPath, type Site } from '@lamina/site';
 import { defaultRecipe, envelope, parseRecipe, runRecipe, type Recipe, type RecipeLogEntry } from '@lamina/processing';
-import { lineDirection, lineHyperbolas, recipeForVelocity, type HyperbolaFit, type VelocityModel } from '@lamina/velocity';
-import { sampleDepths, traceSliceValues, type SliceWindow } from '@lamina/slices';
+import { lineDirection, lineHyperbolas, recipeForVelocity, sampleDepths, type HyperbolaFit, type VelocityModel } from '@lamina/velocity';
+import { traceSliceValues, type SliceWindow } from '@lamina/slices';
 import { summariseLine, writeRadargram, type LineSummary } from './outputs';
 import { timed, type PartTimes } from './timings';
 

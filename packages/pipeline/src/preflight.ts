@@ -3,7 +3,8 @@ import { totalmem } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { InputError } from '@lamina/errors';
 import { checkSurvey, shownPath, type Site, type SurveyCheck } from '@lamina/site';
-import { constantModel, defaultWindows, resolveGrid, surveyGeometryOf } from '@lamina/slices';
+import { defaultWindows, resolveGrid, surveyGeometryOf } from '@lamina/slices';
+import { constantModel } from '@lamina/velocity';
 
 export interface PreflightOptions {
   cellSizeM?: number;

@@ -18,7 +18,6 @@ import {
   type Member,
   type Shape,
 } from '@lamina/anomalies';
-import { nearSurfaceDepthM } from '@lamina/slices';
 import type { PlanFeature } from '@lamina/site';
 import type { SliceGrid, SliceStack } from '@lamina/slices';
 import type { VelocityReport } from '@lamina/velocity';
@@ -29,7 +28,7 @@ import { lineSpacingM, sliceLoci, surveyedMask, type Line, type ToleranceOptions
 import { combine, type Evidence, type Verdict } from './evidence';
 import { CAUTION, forecastLoci } from './forecast';
 import { lineToWgs84, outlineToWgs84, pointToWgs84, type FeatureCollection, type GeoJsonFeature, type ToWgs84 } from './geojson';
-import { C_M_PER_NS } from '@lamina/velocity';
+import { C_M_PER_NS, nearSurfaceDepthM } from '@lamina/velocity';
 import { distanceField, reflectorsOf } from './reflectors';
 import {
   beforeBackgroundEvidence,

@@ -1,5 +1,4 @@
 export { type SliceGrid, type Slice, type SliceStack, type GriddingInfo, cellCentre } from './stack';
-export { bistaticDepth, timeToDepth, depthToTime, sampleDepths, verticalTimeNs, averageVelocity, constantModel, nearSurfaceDepthM } from './depth';
 export { type SliceWindow, type WindowOptions, type SliceMode, defaultThicknessM, sliceWindows, traceSliceValues } from './windows';
 export { type IdwOptions, type SearchFrame, searchFrame, buildIndex, nearestWithin, idwGrid, idwRows, hasNaN } from './idw';
 export { levelLines, levelFactors, quantileOf } from './levelling';

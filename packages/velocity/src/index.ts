@@ -11,6 +11,15 @@ export {
   depthFromTime,
   constantModel,
   dixInterval,
+  verticalTimeNs,
+  verticalTwoWayTimeNs,
+  depthAtVerticalTimeNs,
+  averageVelocity,
+  sampleDepth,
+  sampleDepths,
+  nearSurfaceDepthM,
+  hyperbolaTimes,
+  type LayerVelocities,
 } from './physics';
 export { fitHyperbola, linearisedFit, hyperbolaTime, apexDistance, type PointFit, type FitOptions } from './fit';
 export { detectHyperbolas, alongLine, pointAlong, envelopeLevel, type DetectOptions, type DetectedHyperbola } from './detect';
