@@ -1,4 +1,4 @@
-export { velocityAt, twoWayTimeNs, depthAtTimeNs, airRadiusM, airRate } from './physics';
+export { airRadiusM, airRate } from './physics';
 export { reflectorsOf, distanceTo, distanceField, nearestSegmentAzimuth, alongDistance, type Reflector, type ReflectorKind } from './reflectors';
 export { lineSpacingM, lineSpacingOfM, locusAtHeight, sliceLoci, surveyedMask, type Line, type SliceLocus, type ToleranceOptions } from './context';
 export { combine, WEIGHTS, type Evidence, type TestName, type Verdict } from './evidence';

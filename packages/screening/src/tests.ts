@@ -3,8 +3,7 @@ import type { SliceGrid } from '@lamina/slices';
 import type { HyperbolaFit, VelocityModel } from '@lamina/velocity';
 import { locusAtHeight, type SliceLocus } from './context';
 import { WEIGHTS, type Evidence } from './evidence';
-import { C_M_PER_NS } from '@lamina/velocity';
-import { depthAtTimeNs } from './physics';
+import { C_M_PER_NS, depthAtVerticalTimeNs } from '@lamina/velocity';
 import { cellResidual } from './surgery';
 import { alongDistance, distanceTo, nearestSegmentAzimuth, type Reflector } from './reflectors';
 
@@ -328,7 +327,7 @@ export function hyperbolaHits(members: Member[], hyperbolas: HyperbolaFit[], mod
     const airLike = h.origin === 'above-ground' || h.permittivity < 2;
     const vTol = Math.max(airVelocityTolerance * C_M_PER_NS, 2 * (h.uncertaintyMPerNs ?? 0));
     if (airLike && !(Math.abs(h.velocityMPerNs - C_M_PER_NS) <= vTol)) continue;
-    const z = depthAtTimeNs(h.t0Ns, model);
+    const z = depthAtVerticalTimeNs(model, h.t0Ns);
     let k = ctx.loci.findIndex((l) => z >= l.topM && z <= l.bottomM);
     if (k < 0) {
       let best = Infinity;
