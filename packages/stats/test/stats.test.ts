@@ -90,3 +90,15 @@ describe('weighted median', () => {
     expect(weightedMedian(vals, w)).toBe(numpy('[np.median(a)]', expanded)[0]);
   });
 });
+
+describe('quantileInPlace on float32 with many ties', () => {
+  it('equals the sorted linear quantile, odd and even sizes', () => {
+    let s = 9;
+    const r = () => (s = (s * 16807) % 2147483647) / 2147483647;
+    for (const n of [1, 2, 3, 10, 101, 5000]) {
+      const v = Float32Array.from({ length: n }, () => Math.fround(Math.floor(r() * 50) / 7));
+      const sorted = Float64Array.from(v).sort();
+      for (const q of [0, 0.02, 0.5, 0.98, 1]) expect(quantileInPlace(v.slice(), q)).toBe(quantileSorted(sorted, q));
+    }
+  });
+});
