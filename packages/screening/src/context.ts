@@ -1,3 +1,4 @@
+import { medianHigh } from '@lamina/stats';
 import { C_M_PER_NS, type VelocityReport } from '@lamina/velocity';
 import { axialDeg, directionGroups, nearestOtherLine, type LinePositions, type LineQueries, type SliceStack } from '@lamina/slices';
 import { airRadiusM, airRate } from './physics';
@@ -117,8 +118,7 @@ export function lineSpacingOfM(source: LinePositions, metresPerUnit: number): nu
   });
   const d = Array.from(best).filter((v) => v < Infinity).map((v) => v * metresPerUnit);
   if (d.length === 0) return NaN;
-  d.sort((p, q) => p - q);
-  return d[d.length >> 1]!;
+  return medianHigh(d);
 }
 
 export function sliceLoci(stack: SliceStack, velocity: VelocityReport, positionM: number, options: ToleranceOptions = {}): SliceLocus[] {

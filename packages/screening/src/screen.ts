@@ -1,3 +1,4 @@
+import { medianHigh } from '@lamina/stats';
 import {
   buildAnomaly,
   classifyAnomalies,
@@ -362,8 +363,7 @@ function surveyDirection(lines: ScreenInput['lines']): number {
     az.push(((((Math.atan2(dx, dy) * 180) / Math.PI) % 180) + 180) % 180);
   }
   if (az.length === 0) return NaN;
-  az.sort((p, q) => p - q);
-  return az[az.length >> 1]!;
+  return medianHigh(az);
 }
 
 /**

@@ -4,6 +4,7 @@ import type { HyperbolaFit, VelocityModel } from '@lamina/velocity';
 import { locusAtHeight, type SliceLocus } from './context';
 import { WEIGHTS, type Evidence } from './evidence';
 import { C_M_PER_NS, depthAtVerticalTimeNs } from '@lamina/velocity';
+import { median, medianHigh, quantileSorted } from '@lamina/stats';
 import { cellResidual } from './surgery';
 import { alongDistance, distanceTo, nearestSegmentAzimuth, type Reflector } from './reflectors';
 
@@ -52,14 +53,6 @@ export interface MoveOutResult {
 
 const MAX_SAMPLES = 400;
 
-function quantile(sorted: Float64Array, q: number): number {
-  if (sorted.length === 0) return NaN;
-  const p = q * (sorted.length - 1);
-  const i = Math.floor(p);
-  const f = p - i;
-  return sorted[i]! + (i + 1 < sorted.length ? f * (sorted[i + 1]! - sorted[i]!) : 0);
-}
-
 /**
  * Signed residuals (m) of a member's cells from a reflector's locus at radius r (see cellResidual).
  */
@@ -76,9 +69,9 @@ export function fitMember(m: Member, refl: Reflector, field: Float32Array, ctx: 
   const locus = locusOf(ctx, refl, m.slice);
   if (!Number.isFinite(locus.radiusM)) return { member: m, medianM: NaN, iqrM: NaN, residualM: Infinity, passed: false };
   const res = memberResiduals(m, refl, field, locus.radiusM, ctx);
-  const residualM = quantile(res, 0.5);
+  const residualM = quantileSorted(res, 0.5);
   const medianM = locus.radiusM + residualM;
-  const iqrM = quantile(res, 0.75) - quantile(res, 0.25);
+  const iqrM = quantileSorted(res, 0.75) - quantileSorted(res, 0.25);
   // on the locus, and shaped like it: the cells keep to the band rather than crossing it
   const passed = Math.abs(residualM) <= locus.toleranceM && iqrM <= 2 * (locus.bandHalfM + ctx.positionM);
   return { member: m, medianM, iqrM, residualM, passed };
@@ -161,8 +154,7 @@ export function slopeEvidence(mo: MoveOutResult, ctx: ScreenContext): Evidence |
   const ks = [...per.keys()].sort((p, q) => p - q);
   const zs = ks.map((k) => ctx.loci[k]!.depthM);
   const ds = ks.map((k) => {
-    const v = per.get(k)!.sort((p, q) => p - q);
-    return v.length % 2 ? v[v.length >> 1]! : 0.5 * (v[v.length / 2 - 1]! + v[v.length / 2]!);
+    return median(per.get(k)!);
   });
   const zmin = Math.min(...zs), zmax = Math.max(...zs);
   if (zmax - zmin <= 0) return undefined;
@@ -204,8 +196,7 @@ export function edgeEvidence(mo: MoveOutResult, ctx: ScreenContext): Evidence | 
   if (lin.length === 0) return undefined;
   const diffs = lin.map((f) => angleDiff(f.member.shape.directionDeg, nearestSegmentAzimuth(refl, f.member.x, f.member.y)));
   const ok = lin.filter((f, i) => f.passed && diffs[i]! <= ctx.parallelToleranceDeg).length;
-  const sorted = [...diffs].sort((p, q) => p - q);
-  const med = sorted[sorted.length >> 1]!;
+  const med = medianHigh(diffs);
   const passed = ok / lin.length >= 0.5;
   return {
     test: 'edge-alignment',
@@ -462,9 +453,8 @@ export function unsurveyedEvidence(a: Anomaly3D, ctx: ScreenContext): Evidence |
         ss += (d - ctx.loci[k]!.radiusM) ** 2;
         n++;
       }
-      v.sort((p, q) => p - q);
       zs.push(ctx.loci[k]!.depthM);
-      ds.push(v[v.length >> 1]!);
+      ds.push(medianHigh(v));
     }
     return { zs, ds, rms: Math.sqrt(ss / n) };
   };
@@ -478,8 +468,7 @@ export function unsurveyedEvidence(a: Anomaly3D, ctx: ScreenContext): Evidence |
     const off = slicesSet.map((k) => {
       const v: number[] = [];
       for (const p of pts) if (p.m.slice === k) for (let i = 0; i < p.x.length; i++) v.push(p.x[i]! * nx + p.y[i]! * ny);
-      v.sort((p, q) => p - q);
-      return v[v.length >> 1]!;
+      return medianHigh(v);
     });
     for (const sgn of [1, -1]) {
       const a0 = off.reduce((s, o, i) => s + o - (sgn * ctx.loci[slicesSet[i]!]!.radiusM) / mpu, 0) / off.length;
@@ -544,8 +533,7 @@ export function beforeBackgroundEvidence(mo: MoveOutResult, ctx: ScreenContext, 
         if (Math.abs(field[k]! - l.radiusM) <= l.bandHalfM && Number.isFinite(sc[k]!)) vals.push(sc[k]!);
       }
     if (vals.length < 4) continue;
-    vals.sort((p, q) => p - q);
-    const med = vals[vals.length >> 1]!;
+    const med = medianHigh(vals);
     const passed = med >= threshold;
     if (!best || (passed && !best.passed)) {
       best = {

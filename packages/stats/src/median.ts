@@ -22,6 +22,21 @@ export function median(values: ArrayLike<number>): number {
 }
 
 /**
+ * The lower of the two middle values for an even count, the middle one for an odd count (Python's
+ * statistics.median_low): always one of the data. NaN ignored; NaN when none.
+ */
+export function medianLow(values: ArrayLike<number>): number {
+  const a = withoutNaN(values);
+  return a.length === 0 ? Number.NaN : selectInPlace(a, (a.length - 1) >> 1);
+}
+
+/** The upper of the two middle values for an even count (Python's statistics.median_high); as `medianLow`. */
+export function medianHigh(values: ArrayLike<number>): number {
+  const a = withoutNaN(values);
+  return a.length === 0 ? Number.NaN : selectInPlace(a, a.length >> 1);
+}
+
+/**
  * Median of |x - centre| over the values that are not NaN: the raw median absolute deviation (times
  * 1.4826 it estimates a normal sigma, Rousseeuw & Croux 1993). @default centre the median of `values`
  */

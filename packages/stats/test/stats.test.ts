@@ -1,6 +1,6 @@
 import { execFileSync } from 'node:child_process';
 import { describe, expect, it } from 'vitest';
-import { median, medianAbsDeviation, medianInPlace, quantile, quantileInPlace, quantileSorted, selectInPlace, weightedMedian } from '../src';
+import { median, medianAbsDeviation, medianHigh, medianInPlace, medianLow, quantile, quantileInPlace, quantileSorted, selectInPlace, weightedMedian } from '../src';
 
 // Reference: numpy 1.24 on Debian's /usr/bin/python3 (not the python3 on PATH).
 const PY = '/usr/bin/python3';
@@ -100,5 +100,22 @@ describe('quantileInPlace on float32 with many ties', () => {
       const sorted = Float64Array.from(v).sort();
       for (const q of [0, 0.02, 0.5, 0.98, 1]) expect(quantileInPlace(v.slice(), q)).toBe(quantileSorted(sorted, q));
     }
+  });
+});
+
+describe('low and high medians against Python statistics.median_low / median_high', () => {
+  for (const n of [1, 2, 7, 8, 500]) {
+    it(`n = ${n}`, () => {
+      const v = Array.from(seeded(n, 3 * n + 1), (x) => Math.round(x * 4) / 4);
+      const ref = JSON.parse(
+        execFileSync(PY, ['-c', 'import sys,json,statistics as s; d=json.load(sys.stdin); print(json.dumps([s.median_low(d), s.median_high(d)]))'], { input: JSON.stringify(v) }).toString(),
+      ) as number[];
+      expect(medianLow(v)).toBe(ref[0]);
+      expect(medianHigh(v)).toBe(ref[1]);
+    });
+  }
+  it('are NaN for nothing', () => {
+    expect(medianLow([])).toBeNaN();
+    expect(medianHigh([NaN])).toBeNaN();
   });
 });
