@@ -1,5 +1,6 @@
 import { join } from 'node:path';
 import { C_M_PER_NS } from '@lamina/constants';
+import { medianHigh } from '@lamina/stats';
 import { InputError } from '@lamina/errors';
 import { pointFromWgs84, pointToWgs84, INTERNATIONAL_FOOT_M, US_SURVEY_FOOT_M } from './crs';
 import { AREA_OF_USE } from './crs-area';
@@ -146,8 +147,7 @@ function steps(x: Float64Array, y: Float64Array, mpu: number): Stepped {
     }
     if (t % stride === 0) sample.push(d);
   }
-  sample.sort((a, b) => a - b);
-  return { median: sample.length ? (sample[sample.length >> 1] as number) : 0, max, at };
+  return { median: sample.length ? medianHigh(sample) : 0, max, at };
 }
 
 function bboxGap(a: readonly number[], b: readonly number[]): number {

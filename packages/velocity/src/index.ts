@@ -29,7 +29,6 @@ export {
   classifyVelocity,
   objectGroups,
   usableForSite,
-  weightedMedian,
   robustCentre,
   siteVelocityModel,
   type SiteModelOptions,
