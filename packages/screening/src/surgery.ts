@@ -1,5 +1,5 @@
 import { makeMember, type Member } from '@lamina/anomalies';
-import type { SliceStack } from '@lamina/slices';
+import { cellCentreX, cellCentreY, type SliceStack } from '@lamina/slices';
 import type { ScreenContext } from './tests';
 import type { Reflector } from './reflectors';
 import { locusAtHeight } from './context';
@@ -27,7 +27,7 @@ export function cellResidual(c: number, refl: Reflector, field: Float32Array, ra
   const g = ctx.grid;
   const mpu = ctx.metresPerUnit;
   const row = (c / g.width) | 0;
-  const x = g.originX + (c - row * g.width + 0.5) * g.cellSize, y = g.originY - (row + 0.5) * g.cellSize;
+  const x = cellCentreX(g, c - row * g.width), y = cellCentreY(g, row);
   const k2 = mig ? mig.k2 : 0, ux = mig ? mig.ux : 0, uy = mig ? mig.uy : 0;
   let best = Infinity;
   for (let k = 0; k < pts.length; k += 2) {

@@ -1,5 +1,5 @@
 import type { Anomaly3D, Member } from '@lamina/anomalies';
-import type { SliceGrid } from '@lamina/slices';
+import { cellCentreX, cellCentreY, type SliceGrid } from '@lamina/slices';
 import type { HyperbolaFit, VelocityModel } from '@lamina/velocity';
 import { locusAtHeight, type SliceLocus } from './context';
 import { WEIGHTS, type Evidence } from './evidence';
@@ -355,7 +355,7 @@ export function hyperbolaHits(members: Member[], hyperbolas: HyperbolaFit[], mod
       for (let i = lowerBound(m.cells, rowFrom * g.width); i < end; i++) {
         const c = m.cells[i]!;
         const row = (c / g.width) | 0;
-        const x = g.originX + (c - row * g.width + 0.5) * g.cellSize, y = g.originY - (row + 0.5) * g.cellSize;
+        const x = cellCentreX(g, c - row * g.width), y = cellCentreY(g, row);
         dmin = Math.min(dmin, Math.hypot(x - h.x, y - h.y) * ctx.metresPerUnit);
       }
       if (dmin > tolM) continue;
@@ -399,8 +399,8 @@ function memberXY(m: Member, g: SliceGrid): { x: Float64Array; y: Float64Array }
   for (let i = 0, j = 0; i < m.cells.length; i += step, j++) {
     const c = m.cells[i]!;
     const row = (c / g.width) | 0;
-    x[j] = g.originX + (c - row * g.width + 0.5) * g.cellSize;
-    y[j] = g.originY - (row + 0.5) * g.cellSize;
+    x[j] = cellCentreX(g, c - row * g.width);
+    y[j] = cellCentreY(g, row);
   }
   return { x, y };
 }

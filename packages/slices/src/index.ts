@@ -1,4 +1,4 @@
-export { type SliceGrid, type Slice, type SliceStack, type GriddingInfo, cellCentre } from './stack';
+export { type SliceGrid, type Slice, type SliceStack, type GriddingInfo, cellCentre, cellCentreX, cellCentreY } from './stack';
 export { type SliceWindow, type WindowOptions, type SliceMode, defaultThicknessM, sliceWindows, traceSliceValues } from './windows';
 export { type IdwOptions, type SearchFrame, searchFrame, buildIndex, nearestWithin, idwGrid, idwRows, hasNaN } from './idw';
 export { levelLines, levelFactors } from './levelling';
