@@ -4,5 +4,4 @@ export { resolveInside, parseRange, type Resolved } from './server/paths';
 export { ReviewStore, HttpError, decisionInputSchema, type DecisionInput } from './server/review-store';
 export { SerialQueue } from './server/queue';
 export { anomalyAnchorLonLat } from './server/anchor';
-export { CAUTIONS } from './server/cautions';
 export { contentType } from './server/mime';

@@ -1,3 +1,4 @@
+import { CAUTION } from '@lamina/constants';
 import { traceOutline } from '@lamina/anomalies';
 import type { PlanFeature } from '@lamina/site';
 import { cellCentreX, cellCentreY, type SliceGrid } from '@lamina/slices';
@@ -131,6 +132,3 @@ export function forecastLoci(plan: PlanFeature[], velocity: VelocityReport, line
     caution: CAUTION,
   };
 }
-
-export const CAUTION =
-  'Radar finds are not a utility locate. Call the one-call centre before digging, verify by potholing, treat every depth as uncertain, and defer to local codes and licensed practice.';

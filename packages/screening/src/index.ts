@@ -2,7 +2,7 @@ export { airRadiusM, airRate } from './physics';
 export { reflectorsOf, distanceTo, distanceField, nearestSegmentAzimuth, alongDistance, type Reflector, type ReflectorKind } from './reflectors';
 export { lineSpacingM, lineSpacingOfM, locusAtHeight, sliceLoci, surveyedMask, type Line, type SliceLocus, type ToleranceOptions } from './context';
 export { combine, WEIGHTS, type Evidence, type TestName, type Verdict } from './evidence';
-export { forecastLoci, surveyGrid, CAUTION, type ForecastOptions, type ForecastSlice } from './forecast';
+export { forecastLoci, surveyGrid, type ForecastOptions, type ForecastSlice } from './forecast';
 export { outlineToWgs84, type FeatureCollection, type GeoJsonFeature, type GeoJsonGeometry, type ToWgs84 } from './geojson';
 export { screenSite, siteForecast, anomalyFeature, type ScreenInput, type ScreenOptions, type ScreenResult, type ScreenSummary, type ScreenedAnomaly } from './screen';
 export { cellResidual } from './surgery';

@@ -7,7 +7,7 @@ import { contentType } from './mime';
 import { parseRange, resolveInside } from './paths';
 import { decisionInputSchema, HttpError, ReviewStore } from './review-store';
 import { DIST_DIR } from './build';
-import { CAUTIONS } from './cautions';
+import { CAUTIONS } from '@lamina/constants';
 
 export interface ViewerServerOptions {
   /** @default 0 (a free port) */
