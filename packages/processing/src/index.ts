@@ -60,8 +60,7 @@ export {
   runRecipe,
 } from './recipe';
 export {
-  type WorkerRequest,
-  type WorkerReply,
+  type RecipeTask,
   type PoolOptions,
   type ProcessingPool,
   createProcessingPool,
