@@ -5,6 +5,6 @@ export { combine, WEIGHTS, type Evidence, type TestName, type Verdict } from './
 export { forecastLoci, surveyGrid, type ForecastOptions, type ForecastSlice } from './forecast';
 export { outlineToWgs84, type FeatureCollection, type GeoJsonFeature, type GeoJsonGeometry, type ToWgs84 } from './geojson';
 export { screenSite, siteForecast, anomalyFeature, type ScreenInput, type ScreenOptions, type ScreenResult, type ScreenSummary, type ScreenedAnomaly } from './screen';
-export { cellResidual } from './surgery';
+export { cellResidual } from './locus-residual';
 export { alongLineMembers, nearestLineLabels, type AlongLineOptions } from './along-line';
 export { BandJoin, screenBands, linesInRows, type BandRows, type BandJoinOptions, type JoinedFeature } from './band-join';

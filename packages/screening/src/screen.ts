@@ -22,7 +22,7 @@ import {
 import type { PlanFeature } from '@lamina/site';
 import type { SliceGrid, SliceStack } from '@lamina/slices';
 import type { VelocityReport } from '@lamina/velocity';
-import { separateCrossings } from './surgery';
+import { separateCrossings } from './crossings';
 import { bridgeThroughFields } from './bridges';
 import { alongLineMembers, nearestLineLabels } from './along-line';
 import { lineSpacingM, sliceLoci, surveyedMask, type Line, type ToleranceOptions } from './context';
@@ -43,8 +43,8 @@ import {
   slopeEvidence,
   unsurveyedEvidence,
   type MoveOutResult,
-  type ScreenContext,
-} from './tests';
+} from './checks';
+import type { ScreenContext } from './context';
 
 export interface ScreenInput {
   stack: SliceStack;

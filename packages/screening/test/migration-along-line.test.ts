@@ -2,7 +2,7 @@ import { C_M_PER_NS } from '@lamina/velocity';
 import { describe, expect, it } from 'vitest';
 import type { SliceGrid } from '@lamina/slices';
 import { alongLineMembers, cellResidual, distanceField, nearestLineLabels, reflectorsOf, sliceLoci, type Line } from '../src';
-import type { ScreenContext } from '../src/tests';
+import type { ScreenContext } from '../src/context';
 import { constantVelocity, feature, synthStack } from './synth';
 
 const C = C_M_PER_NS;
