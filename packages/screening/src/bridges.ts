@@ -1,7 +1,7 @@
 import { buildAnomaly, makeMember, memberOf, type Anomaly3D, type Member } from '@lamina/anomalies';
 import type { SliceStack } from '@lamina/slices';
 import { combine, WEIGHTS, type Evidence } from './evidence';
-import type { ScreenedAnomaly } from './screen';
+import type { ScreenedAnomaly } from './screened';
 import type { ScreenContext } from './context';
 
 export interface BridgeOptions {

@@ -4,7 +4,8 @@ export { lineSpacingM, lineSpacingOfM, locusAtHeight, sliceLoci, surveyedMask, t
 export { combine, WEIGHTS, type Evidence, type TestName, type Verdict } from './evidence';
 export { forecastLoci, surveyGrid, type ForecastOptions, type ForecastSlice } from './forecast';
 export { outlineToWgs84, type FeatureCollection, type GeoJsonFeature, type GeoJsonGeometry, type ToWgs84 } from './geojson';
-export { screenSite, siteForecast, anomalyFeature, type ScreenInput, type ScreenOptions, type ScreenResult, type ScreenSummary, type ScreenedAnomaly } from './screen';
+export { screenSite, siteForecast, anomalyFeature, type ScreenInput, type ScreenOptions, type ScreenResult, type ScreenSummary } from './screen';
+export type { ScreenedAnomaly } from './screened';
 export { cellResidual } from './locus-residual';
 export { alongLineMembers, nearestLineLabels, type AlongLineOptions } from './along-line';
 export { BandJoin, screenBands, linesInRows, type BandRows, type BandJoinOptions, type JoinedFeature } from './band-join';

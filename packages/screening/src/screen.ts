@@ -12,7 +12,6 @@ import {
   linkMembers,
   robustScores,
   type Anomaly3D,
-  type AnomalyClass,
   type ClassifyContext,
   type ClassifyOptions,
   type ExtractOptions,
@@ -26,7 +25,7 @@ import { separateCrossings } from './crossings';
 import { bridgeThroughFields } from './bridges';
 import { alongLineMembers, nearestLineLabels } from './along-line';
 import { lineSpacingM, sliceLoci, surveyedMask, type Line, type ToleranceOptions } from './context';
-import { combine, type Evidence, type Verdict } from './evidence';
+import { combine, type Evidence } from './evidence';
 import { CAUTION } from '@lamina/constants';
 import { forecastLoci } from './forecast';
 import { lineToWgs84, outlineToWgs84, pointToWgs84, type FeatureCollection, type GeoJsonFeature, type ToWgs84 } from './geojson';
@@ -45,6 +44,7 @@ import {
   type MoveOutResult,
 } from './checks';
 import type { ScreenContext } from './context';
+import type { ScreenedAnomaly } from './screened';
 
 export interface ScreenInput {
   stack: SliceStack;
@@ -84,14 +84,6 @@ export interface ScreenOptions extends ExtractOptions, ToleranceOptions {
   classes?: ClassifyOptions;
   /** Join subsurface pieces that line up in plan and depth into one anomaly (`joinAlignedPieces`). @default true */
   joinPieces?: boolean;
-}
-
-export interface ScreenedAnomaly {
-  anomaly: Anomaly3D;
-  evidence: Evidence[];
-  verdict: Verdict;
-  /** The class (`classifyAnomalies`), why, and the id of the object it is an echo of. */
-  classified?: { class: AnomalyClass; reason: string; echoOf?: string };
 }
 
 export interface ScreenSummary {
