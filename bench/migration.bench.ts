@@ -11,6 +11,7 @@ import { fileURLToPath } from 'node:url';
 import type { RadarLine } from '../packages/radar-data/src/index';
 import { defaultRecipe, kirchhoffMigrate, phaseShiftMigrate, runRecipe, stoltKernel, stoltMigrate } from '../packages/processing/src/index';
 import { mulberry32 } from '../packages/random/src/index';
+import { C_M_PER_NS } from '../packages/constants/src/index';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const RUNS = Number(process.env.LAMINA_BENCH_RUNS ?? 5);
@@ -42,7 +43,7 @@ function makeLine(): RadarLine {
   for (let t = 0; t < N_TRACES; t++) {
     x[t] = t * SPACING;
     const o = t * N_SAMPLES;
-    add(o, TZ + SEP / 0.2998, 1);
+    add(o, TZ + SEP / C_M_PER_NS, 1);
     add(o, TZ + 14, 0.15);
     add(o, TZ + 38, -0.08);
     for (const p of points) {

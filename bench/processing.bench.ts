@@ -14,6 +14,7 @@ import type { RadarLine } from '../packages/radar-data/src/index';
 import { createProcessingPool, defaultRecipe, kirchhoffMigrate as migrate, runRecipe, type Recipe } from '../packages/processing/src/index';
 import { loadSite, readLine } from '../packages/site/src/index';
 import { mulberry32 } from '../packages/random/src/index';
+import { C_M_PER_NS } from '../packages/constants/src/index';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const N_LINES = Number(process.env.LAMINA_BENCH_LINES ?? 40);
@@ -47,7 +48,7 @@ function makeLine(k: number): RadarLine {
     y[t] = 4000000 + k * 0.5;
     const o = t * N_SAMPLES;
     const jit = (rnd() - 0.5) * 0.3;
-    addWavelet(data, o, tz + jit + SEP / 0.2998, 1);
+    addWavelet(data, o, tz + jit + SEP / C_M_PER_NS, 1);
     addWavelet(data, o, tz + jit + 12, 0.15);
     addWavelet(data, o, tz + jit + 30, -0.08);
     for (const p of points) {

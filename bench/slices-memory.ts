@@ -5,7 +5,8 @@
 // peak should stay near the output grid (1000 x 1000 x 40 x 4 B = 153 MiB) plus a constant.
 //   node --import tsx bench/slices-memory.ts <nLines>
 import { availableParallelism } from 'node:os';
-import { constantModel, sliceWindows, SliceBuilder } from '../packages/slices/src';
+import { sliceWindows, SliceBuilder } from '../packages/slices/src';
+import { constantModel } from '../packages/velocity/src';
 import { mulberry32 } from '../packages/random/src/index';
 
 const nLines = Number(process.argv[2] ?? 250);

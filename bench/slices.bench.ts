@@ -9,7 +9,8 @@ import { mkdtempSync, readFileSync, rmSync, writeFileSync, createWriteStream } f
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { once } from 'node:events';
-import { constantModel, sliceWindows, SliceBuilder, writeSlices, type LineInput, type SliceGrid } from '../packages/slices/src';
+import { constantModel } from '../packages/velocity/src';
+import { sliceWindows, SliceBuilder, writeSlices, type LineInput, type SliceGrid } from '../packages/slices/src';
 import { buildIndex, idwGrid, searchFrame } from '../packages/slices/src/idw';
 import { idwGridParallel } from '../packages/slices/src/idw-parallel';
 import { availableParallelism } from 'node:os';

@@ -9,10 +9,11 @@ import { fileURLToPath } from 'node:url';
 import { promisify } from 'node:util';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { simulateScenarioFile } from '@lamina/simulate';
+import { C_M_PER_NS } from '@lamina/velocity';
 
 const run = promisify(execFile);
 const root = resolve(dirname(fileURLToPath(import.meta.url)), '..');
-const C = 0.2998;
+const C = C_M_PER_NS;
 type P = [number, number];
 
 interface Fit {

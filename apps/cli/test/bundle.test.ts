@@ -10,7 +10,7 @@ import { fileURLToPath } from 'node:url';
 import { promisify } from 'node:util';
 import { Worker } from 'node:worker_threads';
 import { runProcess } from '@lamina/pipeline';
-import { defaultRecipe, runRecipe, type WorkerReply } from '@lamina/processing';
+import { defaultRecipe, runRecipe, type RecipeResult } from '@lamina/processing';
 import { loadSite, readLine } from '@lamina/site';
 import { isStale, workerEntries } from '../build.mjs';
 
@@ -88,22 +88,23 @@ describe('the built CLI', () => {
   it('carries a working bundle of every worker entry the sources name (the processing pool too)', async () => {
     const stamp = JSON.parse(await readFile(join(dist, 'build.json'), 'utf8')) as { workers: string[] };
     expect(stamp.workers.sort()).toEqual([...workerEntries().keys()].map((w) => `${w}.mjs`).sort());
-    expect(stamp.workers.sort()).toEqual(['idw-worker.mjs', 'line-worker.mjs', 'worker.mjs']);
+    expect(stamp.workers.sort()).toEqual(['idw-worker.mjs', 'line-worker.mjs', 'recipe-worker.mjs']);
     for (const w of stamp.workers) expect((await stat(join(dist, w))).isFile()).toBe(true);
     // the processing pool's worker is not used by any command: run one recipe through it by hand
     const s = await loadSite(site);
     const line = await readLine(s, s.lines[0]!);
     const recipe = defaultRecipe(s.antenna.frequencyMHz);
     const ctx = { frequencyMHz: s.antenna.frequencyMHz, separationM: s.antenna.separationM };
-    const w = new Worker(join(dist, 'worker.mjs'));
+    const w = new Worker(join(dist, 'recipe-worker.mjs'));
     try {
-      const reply = await new Promise<WorkerReply>((ok, fail) => {
+      // the protocol of @lamina/runtime-files' pool: { id, task } in, { id, result } or { id, error } out
+      const reply = await new Promise<{ id: number; result?: RecipeResult; error?: unknown }>((ok, fail) => {
         w.once('message', ok);
         w.once('error', fail);
-        w.postMessage({ id: 1, line, recipe, ctx, options: {} });
+        w.postMessage({ id: 1, task: { line, recipe, ctx, options: {} } });
       });
-      expect(reply.ok).toBe(true);
-      if (reply.ok) expect(reply.result.line.data).toEqual(runRecipe(line, recipe, ctx).line.data);
+      expect(reply.error).toBeUndefined();
+      expect(reply.result!.line.data).toEqual(runRecipe(line, recipe, ctx).line.data);
     } finally {
       await w.terminate();
     }

@@ -1,7 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { execFileSync } from 'node:child_process';
 import { colourise, colourTable, COLOUR_MAP_NAMES, percentiles } from '../src/client/colormaps';
-import { depthToTime, hyperbolaTimes, timeToDepth } from '../src/client/depth';
 import { gridCornersWgs84 } from '../src/client/geo';
 import { anomalyAnchorLonLat, parseRange } from '../src';
 
@@ -37,33 +36,6 @@ describe('colour maps', () => {
     // numpy 1.24 (Debian), default method "linear"
     const ref = JSON.parse(execFileSync(PY, ['-c', `import sys,json,numpy as np; v=np.array(json.load(sys.stdin)); print(json.dumps([float(np.percentile(v,p)) for p in ${JSON.stringify(ps)}]))`], { input: JSON.stringify([...v]) }).toString()) as number[];
     ours.forEach((o, i) => expect(o).toBeCloseTo(ref[i]!, 9));
-  });
-});
-
-describe('time and depth', () => {
-  const layers = [
-    { topM: 0, bottomM: 0.5, velocityMPerNs: 0.12 },
-    { topM: 0.5, bottomM: 1e9, velocityMPerNs: 0.08 },
-  ];
-  it('constant velocity: d = v t / 2 (two-way time)', () => {
-    expect(timeToDepth(20, [], 0.1)).toBeCloseTo(1, 12);
-    expect(depthToTime(1, [], 0.1)).toBeCloseTo(20, 12);
-  });
-  it('layered: adds interval times and round-trips', () => {
-    // 0.5 m at 0.12 m/ns is 8.333 ns two-way; 0.5 m more at 0.08 is 12.5 ns
-    expect(depthToTime(1, layers, 0.1)).toBeCloseTo(2 * (0.5 / 0.12) + 2 * (0.5 / 0.08), 9);
-    for (const d of [0, 0.1, 0.5, 0.9, 3]) expect(timeToDepth(depthToTime(d, layers, 0.1), layers, 0.1)).toBeCloseTo(d, 9);
-  });
-  it('diffraction move-out equals the two-leg path from the antennas to a point target', () => {
-    // Geometry of a common-offset pair over a point: t = (|Tx - P| + |Rx - P|) / v (common practice, no source).
-    const v = 0.1;
-    const sep = 0.2;
-    const depth = 0.6;
-    const t0 = (2 * Math.hypot(depth, sep / 2)) / v;
-    const xs = [-1.5, -0.4, 0, 0.3, 2];
-    const ts = hyperbolaTimes(xs, t0, v, sep);
-    xs.forEach((x, i) => expect(ts[i]).toBeCloseTo((Math.hypot(x - sep / 2, depth) + Math.hypot(x + sep / 2, depth)) / v, 9));
-    expect(hyperbolaTimes([0], 10, 0.1)[0]).toBeCloseTo(10, 12);
   });
 });
 

@@ -9,6 +9,7 @@ import { join } from 'node:path';
 import proj4 from 'proj4';
 import { writeSlices } from '@lamina/slices';
 import { mulberry32 } from '@lamina/random';
+import { C_M_PER_NS } from '@lamina/constants';
 
 export const FIXTURE_PROJ4 = '+proj=utm +zone=17 +datum=WGS84 +units=m +no_defs';
 export const FIXTURE = {
@@ -120,7 +121,7 @@ export async function writeFixture(dir: string, options: FixtureOptions = {}): P
     rgLines.push({ id, file: `radargrams/${id}.f32`, nTraces: nT, nSamples, dtNs, timeZeroNs, traceStep, x: xs, y: xs.map(() => y), lon: lonlat.map((p) => p[0]), lat: lonlat.map((p) => p[1]) });
     lineFeatures.push({ type: 'Feature', id, properties: { id, traces: nT * traceStep, lengthM: (nT - 1) * 0.5, file: `lines/${id}.sgy` }, geometry: { type: 'LineString', coordinates: lonlat } });
     if (id === 'L2') {
-      hyperbolas.push({ line: id, trace: apexT * traceStep, x: xs[apexT]!, y, t0Ns: t0, velocityMPerNs: FIXTURE.velocity, permittivity: (0.2998 / FIXTURE.velocity) ** 2, depthM: (FIXTURE.velocity * t0) / 2, uncertaintyMPerNs: 0.004, origin: 'subsurface' });
+      hyperbolas.push({ line: id, trace: apexT * traceStep, x: xs[apexT]!, y, t0Ns: t0, velocityMPerNs: FIXTURE.velocity, permittivity: (C_M_PER_NS / FIXTURE.velocity) ** 2, depthM: (FIXTURE.velocity * t0) / 2, uncertaintyMPerNs: 0.004, origin: 'subsurface' });
     }
   }
   await writeFile(join(dir, 'radargrams', 'index.json'), JSON.stringify({ lines: rgLines }));
@@ -188,8 +189,8 @@ export async function writeFixture(dir: string, options: FixtureOptions = {}): P
   await writeFile(
     join(dir, 'velocity.json'),
     JSON.stringify({
-      site: { velocityMPerNs: FIXTURE.velocity, permittivity: (0.2998 / FIXTURE.velocity) ** 2, spreadMPerNs: 0.004, fitCount: 1 },
-      model: { kind: 'constant', layers: [{ topM: 0, bottomM: 1e9, velocityMPerNs: FIXTURE.velocity, permittivity: (0.2998 / FIXTURE.velocity) ** 2 }] },
+      site: { velocityMPerNs: FIXTURE.velocity, permittivity: (C_M_PER_NS / FIXTURE.velocity) ** 2, spreadMPerNs: 0.004, fitCount: 1 },
+      model: { kind: 'constant', layers: [{ topM: 0, bottomM: 1e9, velocityMPerNs: FIXTURE.velocity, permittivity: (C_M_PER_NS / FIXTURE.velocity) ** 2 }] },
       hyperbolas,
     }),
   );

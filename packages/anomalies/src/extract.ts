@@ -1,4 +1,4 @@
-import type { SliceStack } from '@lamina/slices';
+import { cellCentreX, cellCentreY, type SliceStack } from '@lamina/slices';
 import { components } from './components';
 import { linkMembers, type LinkOptions } from './link';
 import { fitNoiseLaw, noiseMean, noiseScores, normalIsf, type NoiseLaw } from './noise';
@@ -187,8 +187,8 @@ export function memberOf(id: number, si: number, cells: Int32Array, scores: Floa
     const r = (k / grid.width) | 0;
     const w = Math.max(s, 1e-6);
     sw += w;
-    sx += w * (grid.originX + (k - r * grid.width + 0.5) * grid.cellSize);
-    sy += w * (grid.originY - (r + 0.5) * grid.cellSize);
+    sx += w * cellCentreX(grid, k - r * grid.width);
+    sy += w * cellCentreY(grid, r);
     if (slice.values[k]! > peakValue) peakValue = slice.values[k]!;
     if (s > peakScore) peakScore = s;
   }

@@ -11,6 +11,7 @@
  * shape is not assumed: it is fitted to the lower half of the slice's values (the quartile ratio
  * q25 / q50 of a Gamma law depends on its shape only), where targets are too few to move it.
  */
+import { quantileSorted } from '@lamina/stats';
 
 /** Gamma law of a slice's noise energy. */
 export interface NoiseLaw {
@@ -120,13 +121,6 @@ function erfc(x: number): number {
   return x >= 0 ? r : 2 - r;
 }
 
-function quantile(sorted: Float64Array, q: number): number {
-  const pos = q * (sorted.length - 1);
-  const i = Math.floor(pos);
-  const f = pos - i;
-  return i + 1 < sorted.length ? sorted[i]! * (1 - f) + sorted[i + 1]! * f : sorted[i]!;
-}
-
 /** q25 / q50 of a Gamma(a) law (scale-free). */
 function quartileRatio(a: number): number {
   return gammaQInv(a, 0.75) / gammaQInv(a, 0.5);
@@ -151,7 +145,7 @@ export function fitNoiseLaw(values: Float32Array, nodata: number): NoiseLaw | nu
     if (v !== nodata && Number.isFinite(v)) buf[n++] = v;
   }
   buf.sort();
-  const q25 = quantile(buf, 0.25), q50 = quantile(buf, 0.5);
+  const q25 = quantileSorted(buf, 0.25), q50 = quantileSorted(buf, 0.5);
   if (!(q50 > 0) || !(q25 > 0) || !(q25 < q50)) return null;
   const r = q25 / q50;
   let lo = Math.log(0.05), hi = Math.log(1e4);

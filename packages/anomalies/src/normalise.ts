@@ -1,16 +1,11 @@
+import { medianInPlace } from '@lamina/stats';
+
 /** Median and median absolute deviation of the finite, non-nodata values (one slice). */
 export interface RobustStats {
   median: number;
   /** Raw MAD (not scaled by 1.4826). */
   mad: number;
   count: number;
-}
-
-function median(a: Float64Array): number {
-  if (a.length === 0) return NaN;
-  a.sort();
-  const m = a.length >> 1;
-  return a.length % 2 ? a[m]! : 0.5 * (a[m - 1]! + a[m]!);
 }
 
 export function robustStats(values: Float32Array, nodata: number): RobustStats {
@@ -25,9 +20,9 @@ export function robustStats(values: Float32Array, nodata: number): RobustStats {
     const v = values[i]!;
     if (v !== nodata && Number.isFinite(v)) buf[n++] = v;
   }
-  const med = median(buf);
+  const med = medianInPlace(buf);
   for (let i = 0; i < buf.length; i++) buf[i] = Math.abs(buf[i]! - med);
-  return { median: med, mad: median(buf), count: n };
+  return { median: med, mad: medianInPlace(buf), count: n };
 }
 
 /**

@@ -1,4 +1,4 @@
-import type { SliceGrid } from '@lamina/slices';
+import { cellCentreX, cellCentreY, type SliceGrid } from '@lamina/slices';
 import type { Shape } from './types';
 
 export interface ShapeOptions {
@@ -53,8 +53,8 @@ export function moments(cells: ArrayLike<number>, grid: SliceGrid): { mx: number
   }
   const s2 = grid.cellSize * grid.cellSize;
   return {
-    mx: grid.originX + (mc + 0.5) * grid.cellSize,
-    my: grid.originY - (mr + 0.5) * grid.cellSize,
+    mx: cellCentreX(grid, mc),
+    my: cellCentreY(grid, mr),
     sxx: (cc / n + 1 / 12) * s2,
     syy: (rr / n + 1 / 12) * s2,
     // rows grow southwards: y = -row
@@ -75,8 +75,8 @@ export function centreline(cells: ArrayLike<number>, weights: ArrayLike<number>,
   for (let i = 0; i < n; i++) {
     const k = cells[i]!;
     const r = (k / grid.width) | 0;
-    xs[i] = grid.originX + (k - r * grid.width + 0.5) * grid.cellSize;
-    ys[i] = grid.originY - (r + 0.5) * grid.cellSize;
+    xs[i] = cellCentreX(grid, k - r * grid.width);
+    ys[i] = cellCentreY(grid, r);
     us[i] = xs[i]! * ux + ys[i]! * uy;
     if (us[i]! < umin) umin = us[i]!;
     if (us[i]! > umax) umax = us[i]!;

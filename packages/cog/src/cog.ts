@@ -1,7 +1,11 @@
-import { deflate } from 'node:zlib';
-import { promisify } from 'node:util';
-
-const deflateAsync = promisify(deflate);
+/**
+ * Cloud-optimised GeoTIFF layout: the levels, their IFDs (all before the data) and the tile records.
+ * TIFF fields are in tiff-tags.ts, the GeoTIFF keys and GDAL metadata in georef.ts, the tile bytes in
+ * tile-encode.ts.
+ */
+import { ASCII, DOUBLE, LONG, SHORT, padEven, setTag, tagBytes, tagCount, outOfLineSize, type Tag } from './tiff-tags';
+import { formatNodata, gdalMetadata, geoKeys } from './georef';
+import { downsampleStrip, inOrder, tileJobs } from './tile-encode';
 
 /** How the file's CRS is declared in its GeoKeys. */
 export interface CogCrs {
@@ -52,18 +56,6 @@ export interface CogSettings {
   predictor: 1 | 3;
   level: number;
   nodata: number;
-}
-
-// TIFF field types
-const SHORT = 3;
-const LONG = 4;
-const ASCII = 2;
-const DOUBLE = 12;
-
-interface Tag {
-  code: number;
-  type: number;
-  values: number[] | string;
 }
 
 /**
@@ -247,201 +239,4 @@ function levelTags(lv: LevelSize, index: number, nBands: number, s: CogSettings,
   }
   tags.push({ code: 42113, type: ASCII, values: formatNodata(nodata) });
   return tags;
-}
-
-/** GDAL writes nodata as text; NaN as `nan`. */
-function formatNodata(v: number): string {
-  if (Number.isNaN(v)) return 'nan';
-  return String(v);
-}
-
-function geoKeys(crs: CogCrs): { directory: number[]; ascii: string } {
-  const keys: [number, number, number, number][] = [];
-  let ascii = '';
-  const asciiKey = (id: number, text: string) => {
-    const s = `${text}|`;
-    keys.push([id, 34737, s.length, ascii.length]);
-    ascii += s;
-  };
-  keys.push([1025, 0, 1, 1]); // GTRasterTypeGeoKey: PixelIsArea
-  if (crs.citation) asciiKey(1026, crs.citation);
-  if (crs.epsg !== undefined) {
-    keys.push([1024, 0, 1, crs.geographic ? 2 : 1]); // GTModelTypeGeoKey
-    keys.push([crs.geographic ? 2048 : 3072, 0, 1, crs.epsg]); // GeographicTypeGeoKey / ProjectedCSTypeGeoKey
-  } else if (!crs.geographic) {
-    // No code: a local (engineering) CRS that keeps the linear unit, as GDAL itself writes one;
-    // the full definition travels in the citation and in slices.json.
-    keys.push([3076, 0, 1, linearUnitCode(crs.metresPerUnit ?? 1)]); // ProjLinearUnitsGeoKey
-  } else {
-    keys.push([1024, 0, 1, 2]);
-  }
-  keys.sort((a, b) => a[0] - b[0]);
-  return { directory: [1, 1, 0, keys.length, ...keys.flat()], ascii };
-}
-
-/** EPSG unit-of-measure codes: 9001 metre, 9002 international foot, 9003 US survey foot. */
-function linearUnitCode(metresPerUnit: number): number {
-  if (Math.abs(metresPerUnit - 1200 / 3937) < 1e-12) return 9003;
-  if (Math.abs(metresPerUnit - 0.3048) < 1e-12) return 9002;
-  if (Math.abs(metresPerUnit - 1) < 1e-12) return 9001;
-  throw new Error(`encodeCog: expected metresPerUnit 1, 0.3048 or 1200/3937 for a user-defined CRS, found ${metresPerUnit}`);
-}
-
-function xmlEscape(s: string): string {
-  return s.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;').replace(/"/g, '&quot;');
-}
-
-function gdalMetadata(o: CogOptions): string | undefined {
-  const items: string[] = [];
-  for (const [k, v] of Object.entries(o.metadata ?? {})) items.push(`<Item name="${xmlEscape(k)}">${xmlEscape(v)}</Item>`);
-  for (const [i, d] of (o.descriptions ?? []).entries()) {
-    items.push(`<Item name="DESCRIPTION" sample="${i}" role="description">${xmlEscape(d)}</Item>`);
-  }
-  for (const [i, rec] of (o.bandMetadata ?? []).entries()) {
-    for (const [k, v] of Object.entries(rec)) items.push(`<Item name="${xmlEscape(k)}" sample="${i}">${xmlEscape(v)}</Item>`);
-  }
-  if (items.length === 0) return undefined;
-  return `<GDALMetadata>\n${items.map((s) => `  ${s}\n`).join('')}</GDALMetadata>`;
-}
-
-function setTag(tags: Tag[], code: number, values: number[]) {
-  const t = tags.find((x) => x.code === code);
-  if (!t) throw new Error(`encodeCog: tag ${code} missing`);
-  t.values = values;
-}
-
-function tagCount(t: Tag): number {
-  return typeof t.values === 'string' ? t.values.length + 1 : t.values.length;
-}
-
-function outOfLineSize(t: Tag): number {
-  const n = tagBytesLength(t);
-  return n <= 4 ? 0 : n;
-}
-
-function tagBytesLength(t: Tag): number {
-  const width = t.type === SHORT ? 2 : t.type === LONG ? 4 : t.type === DOUBLE ? 8 : 1;
-  return tagCount(t) * width;
-}
-
-function tagBytes(t: Tag): Uint8Array {
-  const out = new Uint8Array(tagBytesLength(t));
-  const dv = new DataView(out.buffer);
-  if (typeof t.values === 'string') {
-    for (let i = 0; i < t.values.length; i++) out[i] = t.values.charCodeAt(i) & 0xff;
-    return out;
-  }
-  for (const [i, v] of t.values.entries()) {
-    if (t.type === SHORT) dv.setUint16(i * 2, v, true);
-    else if (t.type === LONG) dv.setUint32(i * 4, v, true);
-    else dv.setFloat64(i * 8, v, true);
-  }
-  return out;
-}
-
-function padEven(n: number): number {
-  return n + (n % 2);
-}
-
-/**
- * Halve `rows` rows of one band (a strip starting at an even row of its level): each output pixel is the
- * mean of the valid pixels of its 2x2 block, else nodata. Output is `ceil(width / 2) * ceil(rows / 2)`.
- */
-export function downsampleStrip(src: Float32Array, width: number, rows: number, nodata: number, out?: Float32Array): Float32Array {
-  const w = Math.ceil(width / 2);
-  const h = Math.ceil(rows / 2);
-  const dst = out ? out.subarray(0, w * h) : new Float32Array(w * h);
-  const nanNodata = Number.isNaN(nodata);
-  for (let r = 0; r < h; r++) {
-    for (let c = 0; c < w; c++) {
-      let sum = 0;
-      let n = 0;
-      for (let dr = 0; dr < 2; dr++) {
-        const sr = 2 * r + dr;
-        if (sr >= rows) continue;
-        for (let dc = 0; dc < 2; dc++) {
-          const sc = 2 * c + dc;
-          if (sc >= width) continue;
-          const v = src[sr * width + sc]!;
-          if (nanNodata ? Number.isNaN(v) : v === nodata || Number.isNaN(v)) continue;
-          sum += v;
-          n++;
-        }
-      }
-      dst[r * w + c] = n > 0 ? sum / n : nodata;
-    }
-  }
-  return dst;
-}
-
-/**
- * One row of tiles: `strip[b]` holds `rows` (at most tileSize) rows of band b, `width` wide. Each job packs
- * its tile when it runs (pixel-interleaved, padded with nodata), applies the predictor and deflates it.
- */
-export function tileJobs(strip: Float32Array[], width: number, rows: number, s: CogSettings): (() => Promise<Uint8Array>)[] {
-  const { tileSize: ts, nodata, predictor, level } = s;
-  const nb = strip.length;
-  const jobs: (() => Promise<Uint8Array>)[] = [];
-  for (let x0 = 0; x0 < width; x0 += ts) {
-    jobs.push(async () => {
-      const tile = new Float32Array(ts * ts * nb).fill(nodata);
-      const c1 = Math.min(ts, width - x0);
-      for (let r = 0; r < rows; r++) {
-        for (let b = 0; b < nb; b++) {
-          const src = strip[b]!;
-          const base = r * width + x0;
-          let o = r * ts * nb + b;
-          for (let c = 0; c < c1; c++, o += nb) tile[o] = src[base + c]!;
-        }
-      }
-      let bytes: Uint8Array = new Uint8Array(tile.buffer);
-      if (predictor === 3) bytes = floatPredict(bytes, ts, ts * nb, nb);
-      const z = await deflateAsync(bytes, { level });
-      return new Uint8Array(z.buffer, z.byteOffset, z.length);
-    });
-  }
-  return jobs;
-}
-
-/**
- * Runs the jobs a few at a time (enough to keep the cores busy without every uncompressed tile at once)
- * and hands each result to `consume` in job order as soon as it and those before it are done.
- */
-export async function inOrder<T>(jobs: (() => Promise<T>)[], consume: (value: T, i: number) => void, n = 4): Promise<void> {
-  const done = new Map<number, T>();
-  let next = 0;
-  let emit = 0;
-  const worker = async () => {
-    while (next < jobs.length) {
-      const i = next++;
-      done.set(i, await jobs[i]!());
-      for (let v = done.get(emit); v !== undefined; v = done.get(emit)) {
-        done.delete(emit);
-        consume(v, emit++);
-      }
-    }
-  };
-  await Promise.all(Array.from({ length: n }, worker));
-}
-
-/**
- * TIFF floating-point predictor (Adobe Photoshop TIFF Technical Note 3, predictor 3): per row, the bytes
- * of the row's samples are split into planes, most significant byte first, then byte-wise horizontal
- * differencing with a stride of one pixel (samples per pixel). Input is little-endian Float32.
- */
-function floatPredict(src: Uint8Array, rows: number, samplesPerRow: number, stride: number): Uint8Array {
-  const out = new Uint8Array(src.length);
-  const rowBytes = samplesPerRow * 4;
-  for (let r = 0; r < rows; r++) {
-    const o = r * rowBytes;
-    for (let i = 0; i < samplesPerRow; i++) {
-      const s = o + i * 4;
-      out[o + i] = src[s + 3]!;
-      out[o + samplesPerRow + i] = src[s + 2]!;
-      out[o + 2 * samplesPerRow + i] = src[s + 1]!;
-      out[o + 3 * samplesPerRow + i] = src[s]!;
-    }
-    for (let i = o + rowBytes - 1; i >= o + stride; i--) out[i] = (out[i]! - out[i - stride]!) & 0xff;
-  }
-  return out;
 }

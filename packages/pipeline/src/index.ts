@@ -1,5 +1,4 @@
 export { runProcess, type ProcessOptions, type ProcessSummary } from './process';
-export { createPool, serveTasks, defaultThreads, type Pool } from './pool';
 export { siteRecipe } from './line-task';
 export { formatTimings, type ProcessTimings } from './timings';
 export { preflight, estimateSize, type PreflightOptions, type SizeEstimate } from './preflight';

@@ -1,5 +1,5 @@
 // Worker-thread task module for the process pipeline (started by `startWorker`, @lamina/runtime-files).
-import { serveTasks } from './pool';
+import { serveTasks } from '@lamina/runtime-files';
 import { pass1, pass2, type Pass1Task, type Pass2Task, type Pass1Result, type Pass2Result } from './line-task';
 
 await serveTasks<Pass1Task | Pass2Task, Pass1Result | Pass2Result>(async (task) => {

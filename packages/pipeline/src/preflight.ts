@@ -1,9 +1,11 @@
+import { medianHigh } from '@lamina/stats';
 import { statfs } from 'node:fs/promises';
 import { totalmem } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { InputError } from '@lamina/errors';
 import { checkSurvey, shownPath, type Site, type SurveyCheck } from '@lamina/site';
-import { constantModel, defaultWindows, resolveGrid, surveyGeometryOf } from '@lamina/slices';
+import { defaultWindows, resolveGrid, surveyGeometryOf } from '@lamina/slices';
+import { constantModel } from '@lamina/velocity';
 
 export interface PreflightOptions {
   cellSizeM?: number;
@@ -65,8 +67,8 @@ export function estimateSize(site: Site, survey: SurveyCheck, options: Preflight
   const lineStarts = new Int32Array(survey.lines.length + 1);
   survey.lines.forEach((l, i) => (lineStarts[i + 1] = (lineStarts[i] as number) + l.thinned.length / 2));
   const geometry = surveyGeometryOf({ lineStarts, line: (l) => (survey.lines[l] as SurveyCheck['lines'][number]).thinned });
-  const steps = survey.lines.map((l) => l.stepM).sort((a, b) => a - b);
-  geometry.traceSpacing = (steps[steps.length >> 1] ?? 0) / mpu;
+  const steps = survey.lines.map((l) => l.stepM);
+  geometry.traceSpacing = (steps.length ? medianHigh(steps) : 0) / mpu;
   let grid;
   try {
     ({ grid } = resolveGrid(geometry, { crs: site.crs.input, metresPerUnit: mpu, ...(options.cellSizeM !== undefined ? { cellSizeM: options.cellSizeM } : {}) }));

@@ -7,7 +7,7 @@ import { buildVelocityReport, enoughFits, spreadOrder, velocityJsonChunks, type 
 import { defaultWindows, PointSpill, type SliceWindow } from '@lamina/slices';
 import type { Recipe } from '@lamina/processing';
 import { exportTargets, matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
-import { createPool, defaultThreads, type Pool, type SerialisedError } from './pool';
+import { createPool, defaultThreads, type Pool } from '@lamina/runtime-files';
 import { removeLineSpills } from './line-spill';
 import { pass1, pass2, pass2Steps, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
 import { extents, linesGeoJson, planGeoJson, siteSummary, writeChunks, writeRadargramIndex } from './outputs';
@@ -80,24 +80,10 @@ const VERSION = '0.1.0';
 type Task = Pass1Task | Pass2Task;
 type Result = Pass1Result | Pass2Result;
 
-function revive(e: SerialisedError): Error {
-  if (e.name === 'InputError' && e.file !== undefined && e.detail !== undefined) {
-    const where: { field?: string; offset?: number; line?: number } = {};
-    if (e.field !== undefined) where.field = e.field;
-    if (e.offset !== undefined) where.offset = e.offset;
-    if (e.line !== undefined) where.line = e.line;
-    return new InputError(e.file, e.detail, where);
-  }
-  const err = new Error(e.message);
-  err.name = e.name;
-  if (e.stack) err.stack = e.stack;
-  return err;
-}
-
 /** Runs tasks on worker threads or, with 0 threads, in this thread; results in task order. */
 function runner(threads: number): { run: (t: Task) => Promise<Result>; close: () => Promise<void> } {
   if (threads <= 0) return { run: (t) => (t.kind === 'pass1' ? pass1(t) : pass2(t)), close: async () => {} };
-  const pool: Pool<Task, Result> = createPool(new URL('./line-worker.ts', import.meta.url), threads, revive);
+  const pool: Pool<Task, Result> = createPool(new URL('./line-worker.ts', import.meta.url), threads);
   return { run: (t) => pool.run(t), close: () => pool.close() };
 }
 

@@ -1,10 +1,11 @@
 import { join } from 'node:path';
 import type { Site } from '@lamina/site';
 import { pointToWgs84 } from '@lamina/site';
-import type { VelocityReport } from '@lamina/velocity';
-import { DiskStack, nearSurfaceDepthM, SpillGridder, writeSlicesFromDisk, type PointSpill, type SliceWindow } from '@lamina/slices';
+import { nearSurfaceDepthM, type VelocityReport } from '@lamina/velocity';
+import { DiskStack, SpillGridder, writeSlicesFromDisk, type PointSpill, type SliceWindow } from '@lamina/slices';
 import type { Recipe } from '@lamina/processing';
-import { airRadiusM, BandJoin, CAUTION, linesInRows, lineSpacingOfM, screenBands, screenSite, siteForecast, surveyedMask, type GeoJsonFeature, type Line } from '@lamina/screening';
+import { CAUTION } from '@lamina/constants';
+import { airRadiusM, BandJoin, linesInRows, lineSpacingOfM, screenBands, screenSite, siteForecast, surveyedMask, type GeoJsonFeature, type Line } from '@lamina/screening';
 import { FeatureSpill } from './feature-spill';
 import { writeFeatureCollection } from './outputs';
 import { StageTimer } from './timings';

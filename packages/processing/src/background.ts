@@ -1,4 +1,5 @@
 import type { RadarLine } from '@lamina/radar-data';
+import { medianInPlace } from '@lamina/stats';
 import { alongTrackM, outputFor, withData } from './line-util';
 
 export interface BackgroundOptions {
@@ -93,36 +94,4 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
     const b1 = bg[Math.min(k + 1, centres.length - 1)] as Float32Array;
     for (let s = 0; s < nSamples; s++) out[t * nSamples + s] = (data[t * nSamples + s] as number) - ((b0[s] as number) + f * ((b1[s] as number) - (b0[s] as number)));
   }
-}
-
-/** Median of `a` (reordered in place) by quickselect; mean of the two middle values for even length. */
-function medianInPlace(a: Float32Array): number {
-  const n = a.length;
-  const k = n >> 1;
-  let l = 0;
-  let r = n - 1;
-  while (l < r) {
-    const x = a[(l + r) >> 1] as number;
-    let i = l;
-    let j = r;
-    while (i <= j) {
-      while ((a[i] as number) < x) i++;
-      while ((a[j] as number) > x) j--;
-      if (i <= j) {
-        const tmp = a[i] as number;
-        a[i] = a[j] as number;
-        a[j] = tmp;
-        i++;
-        j--;
-      }
-    }
-    if (k <= j) r = j;
-    else if (k >= i) l = i;
-    else break;
-  }
-  const hi = a[k] as number;
-  if (n % 2) return hi;
-  let lo = -Infinity;
-  for (let i = 0; i < k; i++) if ((a[i] as number) > lo) lo = a[i] as number;
-  return 0.5 * (lo + hi);
 }

@@ -27,7 +27,6 @@ export {
   type TimeZeroOptions,
   type TimeZeroResult,
   type TimeZeroPick,
-  C_M_PER_NS,
   pickFirstArrival,
   shiftTrace,
   timeZero,
@@ -62,8 +61,7 @@ export {
   runRecipe,
 } from './recipe';
 export {
-  type WorkerRequest,
-  type WorkerReply,
+  type RecipeTask,
   type PoolOptions,
   type ProcessingPool,
   createProcessingPool,

@@ -1,4 +1,5 @@
 import type { RadarLine } from '@lamina/radar-data';
+import { medianInPlace } from '@lamina/stats';
 
 /** The same line (positions shared) with other samples. */
 export function withData(line: RadarLine, data: Float32Array, timeZeroNs = line.timeZeroNs): RadarLine {
@@ -43,10 +44,7 @@ export function medianOf(v: ArrayLike<number>, from = 0, to = v.length): number 
     const x = v[i] as number;
     if (Number.isFinite(x)) a.push(x);
   }
-  if (a.length === 0) return Number.NaN;
-  a.sort((p, q) => p - q);
-  const m = a.length >> 1;
-  return a.length % 2 ? (a[m] as number) : ((a[m - 1] as number) + (a[m] as number)) / 2;
+  return medianInPlace(Float64Array.from(a));
 }
 
 /** Period of the antenna centre frequency, ns. */

@@ -9,7 +9,8 @@ import { agc, divergenceGain } from './gain';
 import { periodNs } from './line-util';
 import type { MigrationLayer } from './fk';
 import { MIGRATION_METHODS, chooseMigration, migrate } from './migration';
-import { C_M_PER_NS, timeZero } from './time-zero';
+import { C_M_PER_NS } from '@lamina/constants';
+import { timeZero } from './time-zero';
 
 export const STEP_NAMES = ['timeZero', 'dewow', 'backgroundRemoval', 'gain', 'bandpass', 'envelope', 'migration'] as const;
 export type StepName = (typeof STEP_NAMES)[number];

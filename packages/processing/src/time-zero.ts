@@ -1,9 +1,9 @@
 import type { RadarLine } from '@lamina/radar-data';
+import { C_M_PER_NS } from '@lamina/constants';
 import { InputError } from '@lamina/errors';
 import { hilbertEnvelopePair, hilbertWorkspace } from './envelope';
 import { medianOf, outputFor, withData } from './line-util';
 
-export const C_M_PER_NS = 0.2998;
 
 export type TimeZeroPick = 'peak' | 'firstPeak' | 'onset';
 

@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { isInputError } from '@lamina/errors';
 import { backgroundRemoval, defaultRecipe, parseRecipe, runRecipe, type Recipe } from '../src';
 import { addDiffraction, addNoise, addRicker, makeLine } from './synth';
+import { C_M_PER_NS } from '@lamina/constants';
 
 const F = 400;
 const ctx = { frequencyMHz: F, separationM: 0.16 };
@@ -9,7 +10,7 @@ const ctx = { frequencyMHz: F, separationM: 0.16 };
 function surveyLine() {
   const line = makeLine(120, 400, 0.1, 0.025, 0);
   for (let t = 0; t < line.nTraces; t++) {
-    addRicker(line, t, 4 + 0.16 / 0.2998, 1, F); // direct air wave
+    addRicker(line, t, 4 + 0.16 / C_M_PER_NS, 1, F); // direct air wave
     addRicker(line, t, 15, 0.2, F); // flat reflection from a wall parallel to the line
   }
   line.timeZeroNs = 4;

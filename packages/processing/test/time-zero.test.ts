@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { C_M_PER_NS, envelope, pickFirstArrival, shiftTrace, timeZero } from '../src';
+import { C_M_PER_NS } from '@lamina/constants';
+import { envelope, pickFirstArrival, shiftTrace, timeZero } from '../src';
 import { addNoise, addRicker, makeLine, rng, trace } from './synth';
 
 const F = 400;

@@ -1,5 +1,5 @@
 import { InputError } from '@lamina/errors';
-import type { VelocityModel } from '@lamina/velocity';
+import { C_M_PER_NS, type VelocityModel } from '@lamina/velocity';
 import { airRadiusM, type FeatureCollection } from '@lamina/screening';
 import { ANOMALY_CLASSES, permittivityAt, ringsArea, surveyedAreaM2, targetPolygons } from './precision';
 
@@ -263,7 +263,7 @@ export function scoreRun(
   const dFrac = options.depthFraction ?? 0.25;
   const step = options.stepM ?? 0.1;
   const f = truth.antenna?.frequencyMHz;
-  const locTol = options.locusToleranceM ?? (f && f > 0 ? 0.25 + (0.2998 * (1000 / f)) / 4 : 0.5);
+  const locTol = options.locusToleranceM ?? (f && f > 0 ? 0.25 + (C_M_PER_NS * (1000 / f)) / 4 : 0.5);
   const model = truthModel(truth);
   const airModel = options.runModel ?? model;
 

@@ -1,9 +1,10 @@
+import { C_M_PER_NS } from '@lamina/velocity';
 import { describe, expect, it } from 'vitest';
 import { scoreRun, type ScoreTruth } from '../src';
 import { permittivityAt, ringsArea, surveyedAreaM2 } from '../src/precision';
 
 // Hand-built fixtures: every expected value below is arithmetic on the frozen definitions (README).
-const C = 0.2998;
+const C = C_M_PER_NS;
 const identity = (x: number, y: number): [number, number] => [x, y];
 const feat = (id: string, geometry: unknown, props: Record<string, unknown>) => ({ type: 'Feature' as const, geometry: geometry as never, properties: { id, ...props } });
 const fc = (features: ReturnType<typeof feat>[]) => ({ type: 'FeatureCollection' as const, features });

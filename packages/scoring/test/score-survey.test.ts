@@ -1,3 +1,4 @@
+import { C_M_PER_NS } from '@lamina/velocity';
 import { describe, expect, it } from 'vitest';
 import { scoreRun, type ScoreTruth } from '../src';
 
@@ -8,7 +9,7 @@ const empty = { type: 'FeatureCollection' as const, features: [] };
 describe('scoreRun over the surveyed length', () => {
   // a pipe from x = 0 to 20 m; survey lines cross it at x = 5 .. 15 every 0.5 m (cover = half the spacing)
   const truth: ScoreTruth = {
-    soil: { permittivity: 9, velocityMPerNs: 0.2998 / 3 },
+    soil: { permittivity: 9, velocityMPerNs: C_M_PER_NS / 3 },
     crs: 'local',
     metresPerUnit: 1,
     buried: [{ id: 'pipe', kind: 'pipe', from: [0, 0, 1], to: [20, 0, 1], radiusM: 0.05 }],

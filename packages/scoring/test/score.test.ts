@@ -1,7 +1,8 @@
+import { C_M_PER_NS } from '@lamina/velocity';
 import { describe, expect, it } from 'vitest';
 import { scoreRun, type ScoreTruth } from '../src';
 
-const C = 0.2998;
+const C = C_M_PER_NS;
 const identity = (x: number, y: number): [number, number] => [x, y];
 const truth: ScoreTruth = {
   soil: { permittivity: 9, velocityMPerNs: C / 3 },

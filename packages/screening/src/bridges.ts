@@ -1,8 +1,8 @@
 import { buildAnomaly, makeMember, memberOf, type Anomaly3D, type Member } from '@lamina/anomalies';
 import type { SliceStack } from '@lamina/slices';
 import { combine, WEIGHTS, type Evidence } from './evidence';
-import type { ScreenedAnomaly } from './screen';
-import type { ScreenContext } from './tests';
+import type { ScreenedAnomaly } from './screened';
+import type { ScreenContext } from './context';
 
 export interface BridgeOptions {
   /** Robust score a corridor cell needs to carry the object. */

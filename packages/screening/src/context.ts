@@ -1,6 +1,8 @@
+import { medianHigh } from '@lamina/stats';
 import { C_M_PER_NS, type VelocityReport } from '@lamina/velocity';
-import { axialDeg, directionGroups, nearestOtherLine, type LinePositions, type LineQueries, type SliceStack } from '@lamina/slices';
+import { axialDeg, directionGroups, nearestOtherLine, type LinePositions, type LineQueries, type SliceGrid, type SliceStack } from '@lamina/slices';
 import { airRadiusM, airRate } from './physics';
+import type { Reflector } from './reflectors';
 
 export interface Line {
   id: string;
@@ -117,8 +119,7 @@ export function lineSpacingOfM(source: LinePositions, metresPerUnit: number): nu
   });
   const d = Array.from(best).filter((v) => v < Infinity).map((v) => v * metresPerUnit);
   if (d.length === 0) return NaN;
-  d.sort((p, q) => p - q);
-  return d[d.length >> 1]!;
+  return medianHigh(d);
 }
 
 export function sliceLoci(stack: SliceStack, velocity: VelocityReport, positionM: number, options: ToleranceOptions = {}): SliceLocus[] {
@@ -143,3 +144,38 @@ export function surveyedMask(stack: SliceStack): Uint8Array {
   for (const s of stack.slices) for (let i = 0; i < n; i++) if (s.values[i] !== stack.grid.nodata && Number.isFinite(s.values[i]!)) m[i] = 1;
   return m;
 }
+
+/** What the tests share: grid, loci per slice, reflectors with their distance fields. */
+export interface ScreenContext {
+  grid: SliceGrid;
+  metresPerUnit: number;
+  loci: SliceLocus[];
+  reflectors: Reflector[];
+  /** Distance field (m) per reflector, null where the reflector is too far from the survey to matter. */
+  fields: (Float32Array | null)[];
+  positionM: number;
+  /** Robust scores of the stack made before background removal, per slice (optional evidence). */
+  beforeScores?: Float32Array[];
+  /** Angle within which a linear anomaly is parallel to an edge, degrees. */
+  parallelToleranceDeg: number;
+  /** Relative tolerance on a move-out rate. */
+  rateTolerance: number;
+  /**
+   * Set when the stack was migrated along the lines: k2 = (v / c)^2 of the migration velocity and the
+   * survey direction (unit vector, site CRS axes). The air-wave loci then lie nearer their objects (cellResidual).
+   */
+  migration?: { k2: number; ux: number; uy: number };
+  /**
+   * Set for anomalies built line by line (the strips found before background removal): every member
+   * lies along one survey line, so its plan position cannot move from slice to slice by less than a
+   * line spacing, and the move-out slope is only measurable over more depth than one line's air event
+   * spans (see slopeEvidence).
+   */
+  lineBound?: boolean;
+}
+
+/** A reflector's locus in slice k (an overhead object's lies nearer and wider: locusAtHeight). */
+export function locusOf(ctx: ScreenContext, refl: Reflector, k: number): SliceLocus {
+  return locusAtHeight(ctx.loci[k]!, refl.heightM);
+}
+

@@ -1,6 +1,7 @@
+import { CAUTION } from '@lamina/constants';
 import { traceOutline } from '@lamina/anomalies';
 import type { PlanFeature } from '@lamina/site';
-import type { SliceGrid } from '@lamina/slices';
+import { cellCentreX, cellCentreY, type SliceGrid } from '@lamina/slices';
 import type { VelocityReport } from '@lamina/velocity';
 import { C_M_PER_NS } from '@lamina/velocity';
 import { lineSpacingM, locusAtHeight, type Line } from './context';
@@ -53,7 +54,7 @@ export function surveyGrid(lines: Line[], metresPerUnit: number, cellM: number, 
     for (let rr = Math.max(0, r - reach); rr <= Math.min(height - 1, r + reach); rr++)
       for (let cc = Math.max(0, c - reach); cc <= Math.min(width - 1, c + reach); cc++) {
         if (surveyed[rr * width + cc]) continue;
-        const cx = originX + (cc + 0.5) * cell, cy = originY - (rr + 0.5) * cell;
+        const cx = cellCentreX(grid, cc), cy = cellCentreY(grid, rr);
         if (Math.hypot(cx - l.x[i]!, cy - l.y[i]!) <= cover) surveyed[rr * width + cc] = 1;
       }
   }
@@ -131,6 +132,3 @@ export function forecastLoci(plan: PlanFeature[], velocity: VelocityReport, line
     caution: CAUTION,
   };
 }
-
-export const CAUTION =
-  'Radar finds are not a utility locate. Call the one-call centre before digging, verify by potholing, treat every depth as uncertain, and defer to local codes and licensed practice.';

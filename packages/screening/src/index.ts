@@ -1,10 +1,11 @@
-export { velocityAt, twoWayTimeNs, depthAtTimeNs, airRadiusM, airRate } from './physics';
+export { airRadiusM, airRate } from './physics';
 export { reflectorsOf, distanceTo, distanceField, nearestSegmentAzimuth, alongDistance, type Reflector, type ReflectorKind } from './reflectors';
 export { lineSpacingM, lineSpacingOfM, locusAtHeight, sliceLoci, surveyedMask, type Line, type SliceLocus, type ToleranceOptions } from './context';
 export { combine, WEIGHTS, type Evidence, type TestName, type Verdict } from './evidence';
-export { forecastLoci, surveyGrid, CAUTION, type ForecastOptions, type ForecastSlice } from './forecast';
+export { forecastLoci, surveyGrid, type ForecastOptions, type ForecastSlice } from './forecast';
 export { outlineToWgs84, type FeatureCollection, type GeoJsonFeature, type GeoJsonGeometry, type ToWgs84 } from './geojson';
-export { screenSite, siteForecast, anomalyFeature, type ScreenInput, type ScreenOptions, type ScreenResult, type ScreenSummary, type ScreenedAnomaly } from './screen';
-export { cellResidual } from './surgery';
+export { screenSite, siteForecast, anomalyFeature, type ScreenInput, type ScreenOptions, type ScreenResult, type ScreenSummary } from './screen';
+export type { ScreenedAnomaly } from './screened';
+export { cellResidual } from './locus-residual';
 export { alongLineMembers, nearestLineLabels, type AlongLineOptions } from './along-line';
 export { BandJoin, screenBands, linesInRows, type BandRows, type BandJoinOptions, type JoinedFeature } from './band-join';

@@ -1,5 +1,5 @@
 import type { PlanFeature, Position } from '@lamina/site';
-import type { SliceGrid } from '@lamina/slices';
+import { cellCentreX, cellCentreY, type SliceGrid } from '@lamina/slices';
 
 /** Kinds of reflector a plan feature stands for (truth.json `aboveGround[].kind` uses the same words). */
 export type ReflectorKind = 'wall' | 'building-edge' | 'fence' | 'post' | 'tree' | 'column' | 'overhead' | 'other';
@@ -155,9 +155,9 @@ export function alongDistance(r: Reflector, x: number, y: number): number {
 export function distanceField(r: Reflector, grid: SliceGrid, metresPerUnit: number, out?: Float32Array): Float32Array {
   const f = out ?? new Float32Array(grid.width * grid.height);
   for (let row = 0; row < grid.height; row++) {
-    const y = grid.originY - (row + 0.5) * grid.cellSize;
+    const y = cellCentreY(grid, row);
     for (let col = 0; col < grid.width; col++) {
-      f[row * grid.width + col] = distanceTo(r, grid.originX + (col + 0.5) * grid.cellSize, y) * metresPerUnit;
+      f[row * grid.width + col] = distanceTo(r, cellCentreX(grid, col), y) * metresPerUnit;
     }
   }
   return f;

@@ -1,3 +1,4 @@
+import { medianHigh } from '@lamina/stats';
 import {
   buildAnomaly,
   classifyAnomalies,
@@ -11,25 +12,24 @@ import {
   linkMembers,
   robustScores,
   type Anomaly3D,
-  type AnomalyClass,
   type ClassifyContext,
   type ClassifyOptions,
   type ExtractOptions,
   type Member,
   type Shape,
 } from '@lamina/anomalies';
-import { nearSurfaceDepthM } from '@lamina/slices';
 import type { PlanFeature } from '@lamina/site';
 import type { SliceGrid, SliceStack } from '@lamina/slices';
 import type { VelocityReport } from '@lamina/velocity';
-import { separateCrossings } from './surgery';
+import { separateCrossings } from './crossings';
 import { bridgeThroughFields } from './bridges';
 import { alongLineMembers, nearestLineLabels } from './along-line';
 import { lineSpacingM, sliceLoci, surveyedMask, type Line, type ToleranceOptions } from './context';
-import { combine, type Evidence, type Verdict } from './evidence';
-import { CAUTION, forecastLoci } from './forecast';
+import { combine, type Evidence } from './evidence';
+import { CAUTION } from '@lamina/constants';
+import { forecastLoci } from './forecast';
 import { lineToWgs84, outlineToWgs84, pointToWgs84, type FeatureCollection, type GeoJsonFeature, type ToWgs84 } from './geojson';
-import { C_M_PER_NS } from '@lamina/velocity';
+import { C_M_PER_NS, nearSurfaceDepthM } from '@lamina/velocity';
 import { distanceField, reflectorsOf } from './reflectors';
 import {
   beforeBackgroundEvidence,
@@ -42,8 +42,9 @@ import {
   slopeEvidence,
   unsurveyedEvidence,
   type MoveOutResult,
-  type ScreenContext,
-} from './tests';
+} from './checks';
+import type { ScreenContext } from './context';
+import type { ScreenedAnomaly } from './screened';
 
 export interface ScreenInput {
   stack: SliceStack;
@@ -83,14 +84,6 @@ export interface ScreenOptions extends ExtractOptions, ToleranceOptions {
   classes?: ClassifyOptions;
   /** Join subsurface pieces that line up in plan and depth into one anomaly (`joinAlignedPieces`). @default true */
   joinPieces?: boolean;
-}
-
-export interface ScreenedAnomaly {
-  anomaly: Anomaly3D;
-  evidence: Evidence[];
-  verdict: Verdict;
-  /** The class (`classifyAnomalies`), why, and the id of the object it is an echo of. */
-  classified?: { class: AnomalyClass; reason: string; echoOf?: string };
 }
 
 export interface ScreenSummary {
@@ -363,8 +356,7 @@ function surveyDirection(lines: ScreenInput['lines']): number {
     az.push(((((Math.atan2(dx, dy) * 180) / Math.PI) % 180) + 180) % 180);
   }
   if (az.length === 0) return NaN;
-  az.sort((p, q) => p - q);
-  return az[az.length >> 1]!;
+  return medianHigh(az);
 }
 
 /**

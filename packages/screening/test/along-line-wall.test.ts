@@ -1,9 +1,10 @@
+import { C_M_PER_NS } from '@lamina/velocity';
 import { describe, expect, it } from 'vitest';
 import type { SliceGrid } from '@lamina/slices';
 import { screenSite } from '../src';
 import { constantVelocity, feature, identity, surveyLines, synthStack } from './synth';
 
-const C = 0.2998;
+const C = C_M_PER_NS;
 
 /**
  * Lines parallel to a wall: each records the wall's air wave at the constant time 2 d / c (d its

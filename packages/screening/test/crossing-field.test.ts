@@ -1,9 +1,10 @@
+import { C_M_PER_NS } from '@lamina/velocity';
 import { describe, expect, it } from 'vitest';
 import type { SliceGrid } from '@lamina/slices';
 import { screenSite } from '../src';
 import { constantVelocity, feature, identity, synthStack } from './synth';
 
-const C = 0.2998;
+const C = C_M_PER_NS;
 
 /**
  * A pipe crossing the air-wave band of a row of bollards: K 9 (c / v = 3), bollards every 1.5 m along

@@ -1,10 +1,11 @@
+import { C_M_PER_NS } from '@lamina/velocity';
 import { describe, expect, it } from 'vitest';
 import type { SliceGrid } from '@lamina/slices';
 import { alongLineMembers, cellResidual, distanceField, nearestLineLabels, reflectorsOf, sliceLoci, type Line } from '../src';
-import type { ScreenContext } from '../src/tests';
+import type { ScreenContext } from '../src/context';
 import { constantVelocity, feature, synthStack } from './synth';
 
-const C = 0.2998;
+const C = C_M_PER_NS;
 
 /**
  * Independent kinematics: Kirchhoff (diffraction-summation) migration images a point (xm, zm) where the

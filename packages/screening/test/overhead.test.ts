@@ -1,9 +1,10 @@
+import { C_M_PER_NS } from '@lamina/velocity';
 import { describe, expect, it } from 'vitest';
 import type { SliceGrid } from '@lamina/slices';
 import { locusAtHeight, screenSite, type ScreenedAnomaly, type SliceLocus } from '../src';
 import { constantVelocity, feature, identity, surveyLines, synthStack } from './synth';
 
-const C = 0.2998;
+const C = C_M_PER_NS;
 
 describe('locus of an overhead object', () => {
   const l: SliceLocus = { index: 0, depthM: 1, topM: 0.95, bottomM: 1.05, radiusM: 5, rate: 3, bandHalfM: 0.2, toleranceM: 0.3 };

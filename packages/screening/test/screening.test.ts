@@ -1,9 +1,10 @@
+import { C_M_PER_NS, depthAtVerticalTimeNs, verticalTwoWayTimeNs } from '@lamina/velocity';
 import { describe, expect, it } from 'vitest';
 import type { SliceGrid } from '@lamina/slices';
-import { airRadiusM, airRate, combine, depthAtTimeNs, forecastLoci, reflectorsOf, screenSite, twoWayTimeNs, type ScreenedAnomaly } from '../src';
+import { airRadiusM, airRate, combine, forecastLoci, reflectorsOf, screenSite, type ScreenedAnomaly } from '../src';
 import { constantVelocity, feature, identity, segDist, surveyLines, synthStack } from './synth';
 
-const C = 0.2998;
+const C = C_M_PER_NS;
 
 describe('air-wave physics', () => {
   it('z = r v / c: K 9 puts a reflector 3 m away at 1 m depth', () => {
@@ -25,8 +26,8 @@ describe('air-wave physics', () => {
       ],
     };
     // two-way time through 0.5 m at 0.12 and 0.5 m at 0.08: 2*0.5/0.12 + 2*0.5/0.08 ns
-    expect(twoWayTimeNs(1, model)).toBeCloseTo(1 / 0.12 + 1 / 0.08, 9);
-    for (const z of [0.1, 0.5, 0.9, 2.5, 4]) expect(depthAtTimeNs(twoWayTimeNs(z, model), model)).toBeCloseTo(z, 9);
+    expect(verticalTwoWayTimeNs(model, 1)).toBeCloseTo(1 / 0.12 + 1 / 0.08, 9);
+    for (const z of [0.1, 0.5, 0.9, 2.5, 4]) expect(depthAtVerticalTimeNs(model, verticalTwoWayTimeNs(model, z))).toBeCloseTo(z, 9);
     expect(airRadiusM(1, model)).toBeCloseTo((C * (1 / 0.12 + 1 / 0.08)) / 2, 9);
     expect(airRate(0.7, model)).toBeCloseTo(C / 0.08, 9);
   });

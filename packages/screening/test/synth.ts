@@ -1,12 +1,12 @@
 import type { PlanFeature, Position } from '@lamina/site';
 import type { SliceGrid, SliceStack } from '@lamina/slices';
-import type { VelocityReport } from '@lamina/velocity';
+import { C_M_PER_NS, type VelocityReport } from '@lamina/velocity';
 
 import { mulberry32 as rng } from '@lamina/random';
 export { rng };
 
 export function constantVelocity(v: number, spread = 0.002): VelocityReport {
-  const K = (0.2998 / v) ** 2;
+  const K = (C_M_PER_NS / v) ** 2;
   return {
     site: { velocityMPerNs: v, permittivity: K, spreadMPerNs: spread, fitCount: 5 },
     model: { kind: 'constant', layers: [{ topM: 0, bottomM: 100, velocityMPerNs: v, permittivity: K }] },

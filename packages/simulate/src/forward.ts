@@ -1,5 +1,6 @@
 import { addRicker, ricker, rickerHalfWidthNs } from './wavelet';
-import { C_M_PER_NS, attenuationFactor } from './physics';
+import { C_M_PER_NS } from '@lamina/constants';
+import { attenuationFactor } from './physics';
 import { bistaticOnSegment, edgeFactor, projectOnLine, type SegmentHit, type Vec3 } from './geometry';
 import { rayAverages, interfaceDepth, type RayAverages } from './medium';
 import type { LineGeom, Model, Scatterer } from './model';

@@ -1,5 +1,5 @@
 export { ricker, rickerZeroCrossingNs, rickerHalfWidthNs, rickerSeries, addRicker } from './wavelet';
-export { C_M_PER_NS, velocityOf, reflectionCoefficient, materialReflection, attenuationFactor, MATERIAL_PERMITTIVITY, type Material } from './physics';
+export { velocityOf, reflectionCoefficient, materialReflection, attenuationFactor, MATERIAL_PERMITTIVITY, type Material } from './physics';
 export { bistaticOnSegment, projectOnLine, edgeFactor, type SegmentHit, type Vec3 } from './geometry';
 export { buildMedium, rayAverages, verticalTwoWayTime, depthOfTwoWayTime, type Medium, type Interface, type LayerSpec } from './medium';
 export { rng, hash32, type Rng } from './prng';

@@ -1,3 +1,4 @@
+import { C_M_PER_NS } from '@lamina/constants';
 import { velocityOf, reflectionCoefficient } from './physics';
 
 /**
@@ -102,7 +103,7 @@ export function verticalTwoWayTime(m: Medium, x: number, y: number, z: number): 
 export function depthOfTwoWayTime(m: Medium, x: number, y: number, t: number): number {
   if (t <= 0) return 0;
   let lo = 0;
-  let hi = (t * 0.2998) / 2; // no layer is faster than air
+  let hi = (t * C_M_PER_NS) / 2; // no layer is faster than air
   for (let i = 0; i < 60; i++) {
     const mid = (lo + hi) / 2;
     if (verticalTwoWayTime(m, x, y, mid) < t) lo = mid;

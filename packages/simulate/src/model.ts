@@ -1,6 +1,7 @@
 import { crossSign, surveyGridCounts, type Scenario } from './scenario';
 import { buildMedium, type Medium } from './medium';
-import { C_M_PER_NS, MATERIAL_PERMITTIVITY, materialReflection, type Material } from './physics';
+import { C_M_PER_NS } from '@lamina/constants';
+import { MATERIAL_PERMITTIVITY, materialReflection, type Material } from './physics';
 import { ringArea } from './geometry';
 
 /**

@@ -1,7 +1,6 @@
 /** Electromagnetic facts the forward model rests on (low-loss, non-magnetic media). */
 
-/** Speed of light in vacuum, m/ns. */
-export const C_M_PER_NS = 0.2998;
+import { C_M_PER_NS } from '@lamina/constants';
 
 /** Velocity in a low-loss medium of relative permittivity K: v = c / sqrt(K). */
 export function velocityOf(permittivity: number): number {

@@ -1,4 +1,4 @@
-import { C_M_PER_NS } from './physics';
+import { C_M_PER_NS } from '@lamina/constants';
 import { rng, type Rng } from './prng';
 import { parseScenario, type Scenario } from './scenario';
 

@@ -1,5 +1,6 @@
 import type { Crs } from '@lamina/site';
-import { C_M_PER_NS, velocityOf } from './physics';
+import { C_M_PER_NS } from '@lamina/constants';
+import { velocityOf } from './physics';
 import { depthOfTwoWayTime, verticalTwoWayTime } from './medium';
 import { STAT_FIELDS } from './forward';
 import type { Model, TruthAbove, TruthBuried } from './model';

@@ -1,6 +1,7 @@
 import { execFileSync } from 'node:child_process';
 import { describe, expect, it } from 'vitest';
-import { C_M_PER_NS, buildModel, parseScenario, reflectionCoefficient, rng, simulateLine, velocityOf, type LineGeom } from '../src';
+import { C_M_PER_NS } from '@lamina/constants';
+import { buildModel, parseScenario, reflectionCoefficient, rng, simulateLine, velocityOf, type LineGeom } from '../src';
 import { normalQuantile, pinkNoise, randomField } from '../src/fields';
 import { pickPeak, quietScenario } from './helpers';
 

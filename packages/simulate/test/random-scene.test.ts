@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { C_M_PER_NS, parseScenario, randomScenario } from '../src';
+import { C_M_PER_NS } from '@lamina/constants';
+import { parseScenario, randomScenario } from '../src';
 
 describe('randomScenario', () => {
   it('is deterministic per seed, differs between seeds, and always validates', () => {

@@ -6,6 +6,7 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { openSegy, readSegyLine } from '@lamina/radar-data';
 import { loadSite, readLine } from '@lamina/site';
 import { parseScenario, scenarioCrs, scenarioModel, simulateLine, simulateScenarioFile, simulateSite, type Truth } from '../src';
+import { C_M_PER_NS } from '@lamina/constants';
 
 const ROOT = resolve(__dirname, '../../..');
 const dirs: string[] = [];
@@ -158,7 +159,7 @@ describe('simulated site folder', () => {
     const res = await simulateSite(parseScenario(small()), out);
     const t = res.truth;
     expect(t.soil.permittivity).toBe(8);
-    expect(t.soil.velocityMPerNs).toBeCloseTo(0.2998 / Math.sqrt(8), 6);
+    expect(t.soil.velocityMPerNs).toBeCloseTo(C_M_PER_NS / Math.sqrt(8), 6);
     expect(t.buried.map((b) => b.id)).toEqual(['pipe', 'void-1', 'void-2']);
     expect(t.buried[1]!.group).toBe('void');
     expect(t.buried[2]!.center![0]).toBeCloseTo(431001.5, 9);

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { C_M_PER_NS, bistaticOnSegment, buildModel, reflectionCoefficient, simulateLine, velocityOf, type LineGeom } from '../src';
+import { C_M_PER_NS } from '@lamina/constants';
+import { bistaticOnSegment, buildModel, reflectionCoefficient, simulateLine, velocityOf, type LineGeom } from '../src';
 import { pickPeak, quietScenario } from './helpers';
 
 const E0 = 500000;

@@ -1,3 +1,4 @@
+import { medianInPlace } from '@lamina/stats';
 /** Plan geometry of a positioned line: what slicing, screening and the viewer need about it. */
 export interface LineGeometry {
   nTraces: number;
@@ -46,9 +47,7 @@ export function lineGeometry(line: { x: ArrayLike<number>; y: ArrayLike<number> 
   const chord = Math.hypot(dx, dy);
   const direction: [number, number] = chord > 0 ? [dx / chord, dy / chord] : [Number.NaN, Number.NaN];
   const az = chord > 0 ? ((Math.atan2(dx, dy) * 180) / Math.PI + 360) % 360 : Number.NaN;
-  steps.sort();
-  const m = steps.length;
-  const median = m === 0 ? 0 : m % 2 ? (steps[(m - 1) / 2] as number) : ((steps[m / 2 - 1] as number) + (steps[m / 2] as number)) / 2;
+  const median = steps.length === 0 ? 0 : medianInPlace(steps);
   return {
     nTraces: n,
     lengthM: length * metresPerUnit,

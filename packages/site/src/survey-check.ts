@@ -1,4 +1,6 @@
 import { join } from 'node:path';
+import { C_M_PER_NS } from '@lamina/constants';
+import { medianHigh } from '@lamina/stats';
 import { InputError } from '@lamina/errors';
 import { pointFromWgs84, pointToWgs84, INTERNATIONAL_FOOT_M, US_SURVEY_FOOT_M } from './crs';
 import { AREA_OF_USE } from './crs-area';
@@ -6,8 +8,6 @@ import { linePositions, lineTraces, shownPath } from './load';
 import { defaultOpenSegy, type OpenSegy } from './segy';
 import type { Crs, LineSource, PlanFeature, Position, Site } from './types';
 
-/** Speed of light in vacuum, m/ns (the same value as @lamina/velocity's C_M_PER_NS; site does not depend on it). */
-const C_M_PER_NS = 0.299792458;
 
 export interface SurveyCheckOptions {
   /**
@@ -147,8 +147,7 @@ function steps(x: Float64Array, y: Float64Array, mpu: number): Stepped {
     }
     if (t % stride === 0) sample.push(d);
   }
-  sample.sort((a, b) => a - b);
-  return { median: sample.length ? (sample[sample.length >> 1] as number) : 0, max, at };
+  return { median: sample.length ? medianHigh(sample) : 0, max, at };
 }
 
 function bboxGap(a: readonly number[], b: readonly number[]): number {

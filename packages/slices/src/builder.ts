@@ -1,5 +1,4 @@
-import type { VelocityModel } from '@lamina/velocity';
-import { averageVelocity, sampleDepths, timeToDepth } from './depth';
+import { averageVelocity, sampleDepth, sampleDepths, type VelocityModel } from '@lamina/velocity';
 import { availableParallelism } from 'node:os';
 import { buildIndex, idwGrid, searchFrame } from './idw';
 import { idwGridParallel } from './idw-parallel';
@@ -181,10 +180,10 @@ export interface DefaultWindowOptions {
 
 /** Slice windows for a survey: from the surface to the record's depth, half a wavelength thick. */
 export function defaultWindows(o: DefaultWindowOptions): SliceWindow[] {
-  const maxDepth = timeToDepth((o.nSamples - 1) * o.dtNs - o.timeZeroNs, o.model, o.separationM);
+  const maxDepth = sampleDepth(o.model, (o.nSamples - 1) * o.dtNs - o.timeZeroNs, o.separationM);
   if (!(maxDepth > 0)) throw new Error(`the record (${o.nSamples} samples of ${o.dtNs} ns) reaches no depth below the surface`);
   const top = o.topM ?? 0;
   const bottom = Math.min(o.bottomM ?? maxDepth, maxDepth);
-  const thickness = o.thicknessM ?? defaultThicknessM(averageVelocity((top + bottom) / 2, o.model), o.frequencyMHz);
+  const thickness = o.thicknessM ?? defaultThicknessM(averageVelocity(o.model, (top + bottom) / 2), o.frequencyMHz);
   return sliceWindows(top, bottom, { thicknessM: thickness, overlap: o.overlap ?? 0 });
 }

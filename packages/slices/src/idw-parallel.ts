@@ -1,6 +1,5 @@
 import { availableParallelism } from 'node:os';
-import type { Worker } from 'node:worker_threads';
-import { startWorker } from '@lamina/runtime-files';
+import { createPool } from '@lamina/runtime-files';
 import type KDBush from 'kdbush';
 import { buildIndex, hasNaN, idwGrid, searchFrame, type IdwOptions } from './idw';
 import type { IdwJob } from './idw-worker';
@@ -65,50 +64,22 @@ export interface IdwWorkers {
   close(): Promise<void>;
 }
 
-/** Gridding workers kept for several calls (one row band after another). */
+/** Gridding workers kept for several calls (one row band after another): the worker pool of @lamina/runtime-files. */
 export function idwWorkers(threads: number): IdwWorkers {
-  const workers = Array.from({ length: Math.max(1, threads) }, () => startWorker(new URL('./idw-worker.ts', import.meta.url)));
+  const pool = createPool<IdwJob, null>(new URL('./idw-worker.ts', import.meta.url), Math.max(1, threads));
   return {
     rows: async (tree, n, values, nBands, grid, options, rowStart, rowEnd, out, anyNaN, outRow0 = 0, outRows = grid.height) => {
-      const height = rowEnd - rowStart;
-      const block = Math.max(1, Math.ceil(height / (workers.length * 8)));
-      let nextRow = rowStart;
-      await Promise.all(
-        workers.map(
-          (w) =>
-            new Promise<void>((resolve, reject) => {
-              const onMessage = (m: { ok: boolean; error?: string }) => {
-                if (m.ok) return send();
-                done();
-                reject(new Error(`gridding worker: ${m.error}`));
-              };
-              const onError = (e: Error) => {
-                done();
-                reject(e);
-              };
-              const done = () => {
-                w.off('message', onMessage);
-                w.off('error', onError);
-              };
-              const send = () => {
-                if (nextRow >= rowEnd) {
-                  done();
-                  return resolve();
-                }
-                const start = nextRow;
-                nextRow = Math.min(rowEnd, nextRow + block);
-                const job: IdwJob = { index: tree.data as SharedArrayBuffer, n, values, nBands, grid, options, out, rowStart: start, rowEnd: nextRow, anyNaN, outRow0, outRows };
-                w.postMessage(job);
-              };
-              w.on('message', onMessage);
-              w.on('error', onError);
-              send();
-            }),
-        ),
-      );
+      // blocks of rows handed to workers as they finish, so uneven density balances
+      const block = Math.max(1, Math.ceil((rowEnd - rowStart) / (pool.size * 8)));
+      const jobs: Promise<null>[] = [];
+      for (let start = rowStart; start < rowEnd; start += block) {
+        const job: IdwJob = { index: tree.data as SharedArrayBuffer, n, values, nBands, grid, options, out, rowStart: start, rowEnd: Math.min(rowEnd, start + block), anyNaN, outRow0, outRows };
+        jobs.push(pool.run(job));
+      }
+      const settled = await Promise.allSettled(jobs);
+      const failed = settled.find((s): s is PromiseRejectedResult => s.status === 'rejected');
+      if (failed) throw new Error(`gridding worker: ${(failed.reason as Error).message}`);
     },
-    close: async () => {
-      await Promise.all(workers.map((w) => w.terminate()));
-    },
+    close: () => pool.close(),
   };
 }

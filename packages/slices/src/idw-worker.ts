@@ -1,4 +1,5 @@
-import { parentPort } from 'node:worker_threads';
+// Worker-thread task module: grids one block of rows into shared memory. Started by idw-parallel.ts.
+import { serveTasks } from '@lamina/runtime-files';
 import KDBush from 'kdbush';
 import { idwRows, type IdwOptions } from './idw';
 import type { SliceGrid } from './stack';
@@ -20,15 +21,11 @@ export interface IdwJob {
   outRows: number;
 }
 
-parentPort!.on('message', (job: IdwJob) => {
-  try {
-    const tree = KDBush.from(job.index);
-    const values = new Float32Array(job.values);
-    const cells = job.grid.width * job.outRows;
-    const out = Array.from({ length: job.nBands }, (_, b) => new Float32Array(job.out, b * cells * 4, cells));
-    idwRows(tree, job.n, values, job.nBands, job.grid, job.options, job.rowStart, job.rowEnd, out, job.anyNaN, job.outRow0);
-    parentPort!.postMessage({ ok: true });
-  } catch (e) {
-    parentPort!.postMessage({ ok: false, error: e instanceof Error ? e.message : String(e) });
-  }
+await serveTasks<IdwJob, null>((job) => {
+  const tree = KDBush.from(job.index);
+  const values = new Float32Array(job.values);
+  const cells = job.grid.width * job.outRows;
+  const out = Array.from({ length: job.nBands }, (_, b) => new Float32Array(job.out, b * cells * 4, cells));
+  idwRows(tree, job.n, values, job.nBands, job.grid, job.options, job.rowStart, job.rowEnd, out, job.anyNaN, job.outRow0);
+  return { result: null };
 });

@@ -1,5 +1,5 @@
 import KDBush from 'kdbush';
-import type { SliceGrid } from './stack';
+import { cellCentreX, cellCentreY, type SliceGrid } from './stack';
 
 export interface IdwOptions {
   /** Search radius along the survey direction, site CRS units. */
@@ -208,9 +208,9 @@ export function idwRows(
   const halfPower = power / 2;
   const r = frame.radius;
   for (let row = rowStart; row < rowEnd; row++) {
-    const y = grid.originY - (row + 0.5) * cellSize;
+    const y = cellCentreY(grid, row);
     for (let col = 0; col < width; col++) {
-      const x = grid.originX + (col + 0.5) * cellSize;
+      const x = cellCentreX(grid, col);
       const qx = x * frame.ex + y * frame.ey;
       const qy = x * frame.nx + y * frame.ny;
       const cell = (row - outRow0) * width + col;

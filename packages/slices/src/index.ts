@@ -1,10 +1,9 @@
-export { type SliceGrid, type Slice, type SliceStack, type GriddingInfo, cellCentre } from './stack';
-export { bistaticDepth, timeToDepth, depthToTime, sampleDepths, verticalTimeNs, averageVelocity, constantModel, nearSurfaceDepthM } from './depth';
+export { type SliceGrid, type Slice, type SliceStack, type GriddingInfo, cellCentre, cellCentreX, cellCentreY } from './stack';
 export { type SliceWindow, type WindowOptions, type SliceMode, defaultThicknessM, sliceWindows, traceSliceValues } from './windows';
 export { type IdwOptions, type SearchFrame, searchFrame, buildIndex, nearestWithin, idwGrid, idwRows, hasNaN } from './idw';
-export { levelLines, levelFactors, quantileOf } from './levelling';
-export { type SurveyGeometry, type LinePositions, type LineQueries, surveyGeometry, surveyGeometryOf, nearestOtherLine, axialDeg, directionGroups, median } from './survey';
-export { type SliceStats, sliceStats, percentile } from './stats';
+export { levelLines, levelFactors } from './levelling';
+export { type SurveyGeometry, type LinePositions, type LineQueries, surveyGeometry, surveyGeometryOf, nearestOtherLine, axialDeg, directionGroups } from './survey';
+export { type SliceStats, sliceStats } from './stats';
 export {
   type LineInput,
   type SliceBuilderOptions,

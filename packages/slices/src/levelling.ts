@@ -1,3 +1,4 @@
+import { quantile as quantileOf } from '@lamina/stats';
 /**
  * Line-level levelling: removes stripes that line-to-line gain differences (antenna coupling, operator,
  * soil moisture along a pass) paint across a slice. For each slice, each line's values are scaled so
@@ -53,12 +54,3 @@ export function levelFactors(nSlices: number, lineStarts: Int32Array, lineValues
   return factors;
 }
 
-/** Quantile with linear interpolation between order statistics (numpy's default, "linear"). */
-export function quantileOf(values: number[], p: number): number {
-  if (values.length === 0) return Number.NaN;
-  const a = Float64Array.from(values).sort();
-  const h = (a.length - 1) * p;
-  const lo = Math.floor(h);
-  const hi = Math.min(lo + 1, a.length - 1);
-  return a[lo]! + (h - lo) * (a[hi]! - a[lo]!);
-}

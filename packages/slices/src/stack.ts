@@ -63,5 +63,15 @@ export interface SliceStack {
 
 /** Centre of cell (col, row) in site CRS units. */
 export function cellCentre(grid: SliceGrid, col: number, row: number): [number, number] {
-  return [grid.originX + (col + 0.5) * grid.cellSize, grid.originY - (row + 0.5) * grid.cellSize];
+  return [cellCentreX(grid, col), cellCentreY(grid, row)];
+}
+
+/** x of the centre of column `col`: the origin is the grid's top-left corner, not a cell centre. */
+export function cellCentreX(grid: Pick<SliceGrid, 'originX' | 'cellSize'>, col: number): number {
+  return grid.originX + (col + 0.5) * grid.cellSize;
+}
+
+/** y of the centre of row `row` (rows run south from the top-left corner). */
+export function cellCentreY(grid: Pick<SliceGrid, 'originY' | 'cellSize'>, row: number): number {
+  return grid.originY - (row + 0.5) * grid.cellSize;
 }

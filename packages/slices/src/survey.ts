@@ -1,3 +1,4 @@
+import { median } from '@lamina/stats';
 /** What the trace positions say about the survey pattern (site CRS units). */
 export interface SurveyGeometry {
   /** Median distance between consecutive traces of a line. */
@@ -210,9 +211,3 @@ export function nearestOtherLine(
   return best;
 }
 
-export function median(values: ArrayLike<number>): number {
-  const a = Float64Array.from(values).filter((v) => !Number.isNaN(v)).sort();
-  if (a.length === 0) return Number.NaN;
-  const m = a.length >> 1;
-  return a.length % 2 ? a[m]! : 0.5 * (a[m - 1]! + a[m]!);
-}

@@ -5,7 +5,8 @@
 import { existsSync, readdirSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { gridPoints, gridSpill, gridSpillSync, PointSpill, SpillGridder, sliceWindows, surveyGeometry, surveyGeometryOf, SliceBuilder, constantModel } from '../src';
+import { gridPoints, gridSpill, gridSpillSync, PointSpill, SpillGridder, sliceWindows, surveyGeometry, surveyGeometryOf, SliceBuilder } from '../src';
+import { constantModel } from '@lamina/velocity';
 import { rng, tempDir } from './gdal';
 
 /** Wiggly, unevenly spaced lines of our own (GPS-like jitter), values per trace with some NaN. */

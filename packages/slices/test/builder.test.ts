@@ -2,14 +2,13 @@ import { describe, expect, it } from 'vitest';
 import {
   buildSlices,
   cellCentre,
-  constantModel,
-  depthToTime,
   levelLines,
   sliceWindows,
   surveyGeometry,
   SliceBuilder,
   type LineInput,
 } from '../src';
+import { constantModel, timeFromDepth } from '@lamina/velocity';
 import { rng } from './gdal';
 
 const V = 0.1; // m/ns
@@ -39,7 +38,7 @@ function survey(alongY = false, gains: number[] = []): LineInput[] {
       y[t] = alongY ? along : j * 0.5;
       const u = Math.max(0, Math.min(1, ((x[t]! - ax) * (bx - ax) + (y[t]! - ay) * (by - ay)) / (len * len)));
       const h = Math.hypot(x[t]! - (ax + u * (bx - ax)), y[t]! - (ay + u * (by - ay)));
-      const tt = depthToTime(Math.hypot(h, z), constantModel(V), SEP) + T0;
+      const tt = timeFromDepth(constantModel(V), Math.hypot(h, z), SEP) + T0;
       const amp = Math.exp(-((h / 0.4) ** 2)) * (gains[j] ?? 1);
       for (let s = 0; s < NS; s++) data[t * NS + s] = amp * Math.exp(-(((s * DT - tt) / 1) ** 2)) + 0.02 * r() * (gains[j] ?? 1);
     }

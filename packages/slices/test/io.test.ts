@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { percentile, readSlices, sliceStats, writeSlices, type SliceStack } from '../src';
+import { readSlices, sliceStats, writeSlices, type SliceStack } from '../src';
 import { gdalinfoJson, readRasterPython, rng, tempDir, validateCog } from './gdal';
 
 function syntheticStack(crs: string, width: number, height: number, nSlices: number, metresPerUnit = 1): SliceStack {
@@ -100,21 +100,5 @@ describe('CRS without an EPSG code', () => {
     const info = gdalinfoJson(join(dir, 'slices.tif')) as { coordinateSystem: { wkt: string } };
     expect(info.coordinateSystem.wkt).toMatch(/US survey foot/);
     expect(validateCog(join(dir, 'slices.tif')).ok).toBe(true);
-  });
-});
-
-describe('percentiles by selection', () => {
-  it('equal numpy-style linear percentiles from a sort, with ties and odd sizes', () => {
-    const r = rng(9);
-    for (const n of [1, 2, 3, 10, 101, 5000]) {
-      const v = Float32Array.from({ length: n }, () => Math.fround(Math.floor(r() * 50) / 7));
-      const sorted = Array.from(v).sort((a, b) => a - b);
-      for (const p of [0, 0.02, 0.5, 0.98, 1]) {
-        const h = (n - 1) * p;
-        const lo = Math.floor(h);
-        const want = sorted[lo]! + (h - lo) * (sorted[Math.min(lo + 1, n - 1)]! - sorted[lo]!);
-        expect(percentile(v.slice(), p)).toBeCloseTo(want, 5);
-      }
-    }
   });
 });

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { constantModel, nearSurfaceDepthM } from '../src';
+import { constantModel, nearSurfaceDepthM } from '@lamina/velocity';
 
 describe('near-surface zone', () => {
   it('ends one period after the ground wave, as a bistatic depth', () => {

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { constantModel, defaultThicknessM, defaultWindows, sampleDepths, sliceWindows, traceSliceValues } from '../src';
+import { constantModel, sampleDepths } from '@lamina/velocity';
+import { defaultThicknessM, defaultWindows, sliceWindows, traceSliceValues } from '../src';
 
 describe('slice windows', () => {
   it('default thickness is half the wavelength in the soil (common practice, no source)', () => {

@@ -44,4 +44,4 @@ export { writeGpkg, openGpkg, gpkgGeometry, wkb, type GpkgSrs, type GpkgLayer, t
 export { crsToWkt, parseProj4, WGS84_WKT } from './wkt';
 export { encodePng, pngDataUri, crc32 } from './png';
 export { sliceThumbnails, type Thumbnail } from './thumbnails';
-export { reportHtml, reportParts, reportTargetRow, reportFlaggedRow, byTargetId, CAUTIONS, type ReportInput, type ReportPage, type ReportRows } from './report';
+export { reportHtml, reportParts, reportTargetRow, reportFlaggedRow, byTargetId, type ReportInput, type ReportPage, type ReportRows } from './report';

@@ -1,17 +1,9 @@
+import { CAUTIONS } from '@lamina/constants';
 import type { Dropped, Target } from './targets';
 import { FOOT_M } from './targets';
 import type { ExportContext } from './formats';
 import type { AnomalyFeature, RunInfo, VelocityInfo } from './folder';
 import type { Thumbnail } from './thumbnails';
-
-/** The cautions every output meant for people near utilities carries. */
-export const CAUTIONS = [
-  'Radar finds are not a locate. This report shows reflections interpreted from ground-penetrating radar; it does not establish the presence, absence, position or type of any utility.',
-  'Call the one-call (call-before-you-dig) centre and wait for the utility owners to mark their lines before any digging.',
-  'Verify every target by potholing (vacuum or hand excavation) before excavating nearby with machinery.',
-  'Depths carry uncertainty: they depend on the radar velocity of the soil, which varies across a site and with moisture. The ranges given are from the spread of the measured velocities only; slice thickness and interpretation add to them.',
-  'Defer to local codes, owner requirements and licensed professional practice (quality level B in the sense of CI/ASCE 38-22 is designating by geophysical methods only).',
-];
 
 const esc = (s: unknown) => String(s ?? '').replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
 const f = (v: number | null | undefined, d = 2) => (v === null || v === undefined || !Number.isFinite(v) ? '–' : v.toFixed(d));

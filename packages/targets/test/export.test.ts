@@ -3,7 +3,8 @@ import { readFile, readdir, stat, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { lookupEpsg } from '@lamina/site';
-import { APWA_COLOURS, CAUTIONS, CSV_COLUMNS, TARGET_FIELDS, exportTargets, readAnomalies, type ExportResult } from '../src';
+import { CAUTIONS } from '@lamina/constants';
+import { APWA_COLOURS, CSV_COLUMNS, TARGET_FIELDS, exportTargets, readAnomalies, type ExportResult } from '../src';
 import { makeFolder, py, standardDecisions, type Fixture } from './fixture';
 
 const NOW = new Date('2026-12-01T12:00:00.000Z');

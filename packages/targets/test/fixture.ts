@@ -4,6 +4,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { pointToWgs84, resolveCrs } from '@lamina/site';
 import type { Decision, Review } from '../src';
+import { C_M_PER_NS } from '@lamina/constants';
 
 /**
  * A small processed output folder written by the test itself (nothing committed): run.json,
@@ -87,7 +88,7 @@ export async function makeFolder(o: FixtureOptions): Promise<Fixture> {
   await writeFile(
     join(dir, 'velocity.json'),
     JSON.stringify({
-      site: { velocityMPerNs: 0.1, permittivity: (0.2998 / 0.1) ** 2, spreadMPerNs: o.spreadMPerNs ?? 0.005, fitCount: 2 },
+      site: { velocityMPerNs: 0.1, permittivity: (C_M_PER_NS / 0.1) ** 2, spreadMPerNs: o.spreadMPerNs ?? 0.005, fitCount: 2 },
       model: { kind: 'constant', layers: [{ topM: 0, bottomM: 2, velocityMPerNs: 0.1, permittivity: 8.99 }] },
       hyperbolas: [
         { line: 'l01', trace: 100, x: 0, y: 0, t0Ns: 20, velocityMPerNs: 0.102, permittivity: 8.64, depthM: 1.0, uncertaintyMPerNs: 0.002, origin: 'subsurface' },

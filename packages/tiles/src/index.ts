@@ -1,1 +1,3 @@
-export { writeTiles, readTilesManifest, manifestDir, tracesInBox, tileOf, tileId, ownerTile, type TileOptions, type TileLine, type TileEntry, type TilesManifest, type Box } from './tiles';
+export { writeTiles, type TileOptions } from './write-tiles';
+export { readTilesManifest, manifestDir, ownerTile, type TileLine, type TileEntry, type TilesManifest } from './manifest';
+export { tracesInBox, tileOf, tileId, type Box } from './grid';

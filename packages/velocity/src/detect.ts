@@ -1,5 +1,6 @@
 import { backgroundRemoval, envelope, spectralCentroidMHz } from '@lamina/processing';
 import type { RadarLine } from '@lamina/radar-data';
+import { medianInPlace as median } from '@lamina/stats';
 import { alongLine } from './along';
 import { apexDistance, fitHyperbola, hyperbolaTime, linearisedFit, type PointFit } from './fit';
 
@@ -105,43 +106,6 @@ export function pointAlong(line: RadarLine, along: Float64Array, offsetM: number
   const f = span > 0 ? (offsetM - along[lo]!) / span : 0;
   const trace = Math.min(n - 1, Math.max(0, Math.round(lo + f)));
   return { trace, x: line.x[lo]! + f * (line.x[hi]! - line.x[lo]!), y: line.y[lo]! + f * (line.y[hi]! - line.y[lo]!) };
-}
-
-/** Median of `a` (reordered in place), by quickselect (Hoare), mean of the two middle values for even length. */
-export function median(a: Float32Array): number {
-  const n = a.length;
-  if (n === 0) return Number.NaN;
-  const k = n >> 1;
-  const hi = select(a, k);
-  if (n % 2) return hi;
-  let lo = -Infinity;
-  for (let i = 0; i < k; i++) if (a[i]! > lo) lo = a[i]!;
-  return 0.5 * (lo + hi);
-}
-
-function select(a: Float32Array, k: number): number {
-  let l = 0;
-  let r = a.length - 1;
-  while (l < r) {
-    const x = a[(l + r) >> 1]!;
-    let i = l;
-    let j = r;
-    while (i <= j) {
-      while (a[i]! < x) i++;
-      while (a[j]! > x) j--;
-      if (i <= j) {
-        const t = a[i]!;
-        a[i] = a[j]!;
-        a[j] = t;
-        i++;
-        j--;
-      }
-    }
-    if (k <= j) r = j;
-    else if (k >= i) l = i;
-    else break;
-  }
-  return a[k]!;
 }
 
 /**

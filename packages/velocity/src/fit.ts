@@ -1,3 +1,4 @@
+import { medianHigh, medianLow } from '@lamina/stats';
 /**
  * Least-squares fit of a diffraction hyperbola to picks, for a common-offset antenna pair `s` apart
  * (bistatic), from a cylinder (or sphere) of radius R whose top is at depth z below the line: the
@@ -319,8 +320,7 @@ function priorWeights(given: ArrayLike<number> | undefined, n: number): Float64A
 function updateWeights(r: Float64Array, prior: Float64Array, w: Float64Array, kind: 'tukey' | 'huber' | 'none', minScale: number): void {
   if (kind === 'none') return;
   const u = Float64Array.from(r, (ri, i) => Math.abs(ri) * Math.sqrt(prior[i]!));
-  const sorted = u.slice().sort();
-  const scale = Math.max(1.4826 * sorted[Math.floor((sorted.length - 1) / 2)]!, minScale);
+  const scale = Math.max(1.4826 * medianLow(u), minScale);
   for (let i = 0; i < r.length; i++) {
     const v = u[i]! / scale;
     let robustW: number;
@@ -535,7 +535,7 @@ function lmedsStart(x: Float64Array, t: Float64Array, s: number): Params | null 
     const t0 = Math.max(Math.sqrt(t02), (s + 2e-3) / v);
     const z = apexDistance(t0, v, s);
     for (let m = 0; m < n; m++) res[m] = (t[m]! - hyperbolaTime(x[m]!, x0, z, v, s)) ** 2;
-    const med = res.slice().sort()[Math.floor(n / 2)]!;
+    const med = medianHigh(res);
     if (med < bestMed) {
       bestMed = med;
       best = Float64Array.of(x0, t0, v, 0);

@@ -11,6 +11,15 @@ export {
   depthFromTime,
   constantModel,
   dixInterval,
+  verticalTimeNs,
+  verticalTwoWayTimeNs,
+  depthAtVerticalTimeNs,
+  averageVelocity,
+  sampleDepth,
+  sampleDepths,
+  nearSurfaceDepthM,
+  hyperbolaTimes,
+  type LayerVelocities,
 } from './physics';
 export { fitHyperbola, linearisedFit, hyperbolaTime, apexDistance, type PointFit, type FitOptions } from './fit';
 export { alongLine, type AlongLineOptions } from './along';
@@ -21,7 +30,6 @@ export {
   classifyVelocity,
   objectGroups,
   usableForSite,
-  weightedMedian,
   robustCentre,
   siteVelocityModel,
   radiusAware,

@@ -1,5 +1,4 @@
-/** Speed of light in vacuum, m/ns. */
-export const C_M_PER_NS = 0.2998;
+export { C_M_PER_NS } from '@lamina/constants';
 
 /**
  * `subsurface`: a buried reflector; `above-ground`: an air-wave reflection (K below 2, common practice);

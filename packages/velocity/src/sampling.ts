@@ -1,3 +1,4 @@
+import { medianHigh } from '@lamina/stats';
 import type { HyperbolaFit } from './model';
 import { objectGroups, robustCentre, usableForSite } from './site-model';
 
@@ -63,7 +64,7 @@ export function enoughFits(fits: HyperbolaFit[], linesFitted: number, nLines: nu
   if (sizes.length < (options.minObjects ?? 10)) return false;
   // The site model's weights (`siteVelocityModel`): 1 / max(sigma, 2 % of the median v)^2, shared within an object.
   const v = usable.map((f) => f.velocityMPerNs);
-  const floor = 0.02 * v.slice().sort((a, b) => a - b)[v.length >> 1]!;
+  const floor = 0.02 * medianHigh(v);
   const { centre, spread } = robustCentre(
     v,
     usable.map((f, i) => 1 / Math.max(f.uncertaintyMPerNs, floor) ** 2 / sizes[group[i]!]!),

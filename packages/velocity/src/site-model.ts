@@ -1,4 +1,5 @@
 import { C_M_PER_NS, type HyperbolaFit, type Origin, type VelocityModel, type VelocityReport } from './model';
+import { medianHigh, weightedMedian } from '@lamina/stats';
 import { permittivityFromVelocity, TOPP_CAUTION, TOPP_METHOD, toppMoisture } from './physics';
 
 /** Fits whose permittivity is below this are above-ground (air-wave) reflections. Common practice, no source. @default 2 */
@@ -81,20 +82,6 @@ export function usableForSite(f: HyperbolaFit): boolean {
   return f.origin === 'subsurface' && (f.flags?.length ?? 0) === 0 && Number.isFinite(f.uncertaintyMPerNs) && f.velocityMPerNs > 0;
 }
 
-/** Weighted median (the smallest value whose cumulative weight reaches half the total). */
-export function weightedMedian(values: ArrayLike<number>, weights: ArrayLike<number>): number {
-  const idx = Array.from({ length: values.length }, (_, i) => i).sort((a, b) => values[a]! - values[b]!);
-  let total = 0;
-  for (let i = 0; i < weights.length; i++) total += weights[i]!;
-  if (!(total > 0)) return Number.NaN;
-  let acc = 0;
-  for (const i of idx) {
-    acc += weights[i]!;
-    if (acc >= total / 2) return values[i]!;
-  }
-  return values[idx[idx.length - 1]!]!;
-}
-
 /** Weighted median and spread (1.4826 x weighted median absolute deviation, the normal-consistent scale). */
 export function robustCentre(values: ArrayLike<number>, weights: ArrayLike<number>): { centre: number; spread: number } {
   const centre = weightedMedian(values, weights);
@@ -150,8 +137,7 @@ export function siteVelocityOf(f: HyperbolaFit): number {
 export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOptions = {}): Pick<VelocityReport, 'site' | 'model'> {
   const usable = radiusAware(fits.filter(usableForSite), options.metresPerUnit ?? 1);
   const vOf = (f: HyperbolaFit) => (options.unresolvedVelocity === 'point' ? f.velocityMPerNs : siteVelocityOf(f));
-  const sortedV = usable.map(vOf).sort((a, b) => a - b);
-  const plainMedian = sortedV.length > 0 ? sortedV[sortedV.length >> 1]! : 0.1;
+  const plainMedian = usable.length > 0 ? medianHigh(usable.map(vOf)) : 0.1;
   const floor = (options.uncertaintyFloor ?? 0.02) * plainMedian;
   const { group, sizes } = objectGroups(usable, { metresPerUnit: options.metresPerUnit ?? 1 });
   const objectOf = new Map<HyperbolaFit, number>(usable.map((f, i) => [f, group[i]!]));

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { buildVelocityReport, permittivityFromVelocity, robustCentre, siteVelocityModel, toppMoisture, velocityAt, weightedMedian, type HyperbolaFit } from '../src';
+import { buildVelocityReport, permittivityFromVelocity, robustCentre, siteVelocityModel, toppMoisture, velocityAt, type HyperbolaFit } from '../src';
+import { weightedMedian } from '@lamina/stats';
 import { gauss, rng } from './synth';
 
 function fit(v: number, depthM: number, sigma = 0.002, extra: Partial<HyperbolaFit> = {}): HyperbolaFit {

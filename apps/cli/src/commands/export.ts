@@ -1,3 +1,4 @@
+import { CAUTION } from '@lamina/constants';
 import { stat } from 'node:fs/promises';
 import type { Command } from 'commander';
 import { InputError } from '@lamina/errors';
@@ -14,7 +15,7 @@ export function register(program: Command): void {
       'after',
       '\nRun it after reviewing anomalies in the viewer or editing review.json. Targets are the anomalies that\n' +
         'are subsurface (or relabelled subsurface) and not rejected; each file is replaced atomically.\n' +
-        'Radar finds are not a locate: call the one-call centre before digging and verify by potholing.\n' +
+        `${CAUTION}\n` +
         'Example:\n  pnpm lamina export out/yard',
     )
     .action(
@@ -26,7 +27,7 @@ export function register(program: Command): void {
           `${r.targets} targets (${r.aboveGround} anomalies flagged above-ground and ${r.rejected} rejected left out)`,
           ...(r.unmatchedDecisions ? [`note: ${r.unmatchedDecisions} review decision(s) match no anomaly id in anomalies.geojson and were not applied`] : []),
           `wrote ${outDir}: ${r.files.join(', ')}`,
-          'caution: radar finds are not a locate; call the one-call centre before digging and verify by potholing',
+          `caution: ${CAUTION}`,
         ];
         process.stdout.write(lines.join('\n') + '\n');
       }),

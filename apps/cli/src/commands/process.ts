@@ -1,3 +1,4 @@
+import { CAUTION } from '@lamina/constants';
 import type { Command } from 'commander';
 import { readFile } from 'node:fs/promises';
 import { InputError } from '@lamina/errors';
@@ -103,7 +104,7 @@ export function register(program: Command): void {
             `velocity ${v.velocityMPerNs.toFixed(4)} m/ns (K ${v.permittivity.toFixed(2)}, spread ${v.spreadMPerNs.toFixed(4)} m/ns, ${v.fitCount} fits)`,
             `${summary.slices} depth slices, ${summary.anomalies} anomalies (${summary.aboveGround} flagged above-ground), ${summary.targets} targets`,
             `wrote ${summary.outDir}: ${summary.files.join(', ')}`,
-            'Radar finds are not a locate: call the one-call centre before digging, verify by potholing, treat depths as uncertain, and defer to local codes and licensed practice.',
+            CAUTION,
           ].join('\n') + '\n',
         );
       }),

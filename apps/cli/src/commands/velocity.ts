@@ -1,3 +1,4 @@
+import { CAUTION } from '@lamina/constants';
 import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Command } from 'commander';
@@ -97,8 +98,6 @@ function summary(r: VelocityReport, file: string): string {
   ];
   if (s.note) lines.push(`note: ${s.note}`);
   if (s.moisture) lines.push(`soil moisture about ${(100 * s.moisture.volumetricWaterContent).toFixed(0)} % by volume (${s.moisture.method}); ${s.moisture.caution}`);
-  lines.push(
-    'Depths from this velocity carry its uncertainty. Radar finds are not a utility locate: call the one-call centre before digging, verify by potholing, and follow local codes and licensed practice.',
-  );
+  lines.push(`Depths from this velocity carry its uncertainty. ${CAUTION}`);
   return lines.join('\n') + '\n';
 }

@@ -4,7 +4,8 @@ import { join, resolve } from 'node:path';
 import { InputError } from '@lamina/errors';
 import { bundleDir, bundled } from '@lamina/runtime-files';
 import { action } from '../run';
-import { CAUTIONS, ensureViewerBuilt, startViewerServer } from '@lamina/viewer';
+import { CAUTIONS } from '@lamina/constants';
+import { ensureViewerBuilt, startViewerServer } from '@lamina/viewer';
 
 interface ViewOptions {
   port: string;

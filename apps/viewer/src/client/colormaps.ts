@@ -1,3 +1,5 @@
+import { quantileSorted } from '@lamina/stats';
+
 /** Colour maps for slice amplitudes (our own names and control points), as 256-entry RGB tables. */
 
 type Stop = [position: number, r: number, g: number, b: number];
@@ -86,12 +88,5 @@ export function percentiles(values: ArrayLike<number>, nodata: number | null, ps
   }
   if (buf.length === 0) return ps.map(() => NaN);
   const sorted = Float64Array.from(buf).sort();
-  return ps.map((p) => {
-    const pos = (Math.min(100, Math.max(0, p)) / 100) * (sorted.length - 1);
-    const i = Math.floor(pos);
-    const f = pos - i;
-    const a = sorted[i]!;
-    const b = sorted[Math.min(sorted.length - 1, i + 1)]!;
-    return a + (b - a) * f;
-  });
+  return ps.map((p) => quantileSorted(sorted, Math.min(100, Math.max(0, p)) / 100));
 }

@@ -74,7 +74,6 @@ export interface Config {
   utilityTypes: string[];
   apwa: Record<string, { name: string; hex: string; meaning: string }>;
   cautions: string[];
-  exportAvailable: boolean;
 }
 
 export interface Evidence {

@@ -1,12 +1,12 @@
 import type { Hyperbola, RadargramLine } from './data';
-import { depthToTime, hyperbolaTimes, timeToDepth, type Layer } from './depth';
+import { depthAtVerticalTimeNs, hyperbolaTimes, verticalTwoWayTimeNs, type LayerVelocities } from '@lamina/velocity/physics';
 
 export interface RadargramView {
   line: RadargramLine;
   /** nTraces * nSamples, trace-major. */
   data: Float32Array;
   metresPerUnit: number;
-  layers: Layer[];
+  layers: LayerVelocities['layers'];
   velocity: number;
   separationM: number;
   hyperbolas: Hyperbola[];
@@ -139,11 +139,13 @@ export function drawRadargram(canvas: HTMLCanvasElement, v: RadargramView): void
   ctx.restore();
 
   const unitK = v.unit === 'ft' ? 1 / FT : 1;
-  const dMax = timeToDepth(tMax - t0, v.layers, v.velocity) * unitK;
+  // velocity.json without a model: one layer at the site velocity
+  const model: LayerVelocities = { layers: v.layers.length ? v.layers : [{ topM: 0, bottomM: Infinity, velocityMPerNs: v.velocity }] };
+  const dMax = depthAtVerticalTimeNs(model, tMax - t0) * unitK;
   const dTick = niceStep(dMax / 6);
   ctx.textAlign = 'left';
   for (let d = 0; d <= dMax; d += dTick) {
-    const y = yOfTime(depthToTime(d / unitK, v.layers, v.velocity));
+    const y = yOfTime(verticalTwoWayTimeNs(model, d / unitK));
     ctx.fillText(`${+d.toFixed(2)}`, m.l + pw + 4, y + 3);
     ctx.beginPath();
     ctx.moveTo(m.l + pw, y);

@@ -5,9 +5,9 @@ import { isInputError } from '@lamina/errors';
 import { APWA_COLOURS, UTILITY_TYPES } from '@lamina/targets';
 import { contentType } from './mime';
 import { parseRange, resolveInside } from './paths';
-import { decisionInputSchema, findExportTargets, HttpError, ReviewStore } from './review-store';
+import { decisionInputSchema, HttpError, ReviewStore } from './review-store';
 import { DIST_DIR } from './build';
-import { CAUTIONS } from './cautions';
+import { CAUTIONS } from '@lamina/constants';
 
 export interface ViewerServerOptions {
   /** @default 0 (a free port) */
@@ -127,7 +127,6 @@ export async function startViewerServer(outDir: string, options: ViewerServerOpt
           utilityTypes: UTILITY_TYPES,
           apwa: APWA_COLOURS,
           cautions: CAUTIONS,
-          exportAvailable: findExportTargets() !== undefined,
         });
         return;
       }

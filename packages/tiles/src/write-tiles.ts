@@ -5,17 +5,15 @@
  * tile is cut into pieces, each referencing the same file with a `traces` range (site.json), so no
  * samples are copied. The plan keeps every feature near enough to echo into the tile's record.
  */
-import { readFile, mkdir, writeFile } from 'node:fs/promises';
-import { dirname, join, relative, resolve } from 'node:path';
+import { mkdir, writeFile } from 'node:fs/promises';
+import { join, relative, resolve } from 'node:path';
+import { C_M_PER_NS } from '@lamina/constants';
 import { InputError } from '@lamina/errors';
 import { stageFolder } from '@lamina/atomic';
 import { openSegy, type SegyReader } from '@lamina/radar-data';
-import { linePositions, loadSite, shownPath, type Geometry, type LineSource, type PlanFeature, type Site } from '@lamina/site';
-
-/** Speed of light in air, m/ns (the project's constant). */
-const C = 0.2998;
-
-export type Box = [number, number, number, number];
+import { linePositions, loadSite, shownPath, type LineSource, type PlanFeature, type Site } from '@lamina/site';
+import { geometryBox, near, tileId, tileOf, tracesInBox, type Box } from './grid';
+import type { TileEntry, TileLine, TilesManifest } from './manifest';
 
 export interface TileOptions {
   /** Side of a tile square, m. */
@@ -35,103 +33,6 @@ export interface TileOptions {
   absolutePaths?: boolean;
   onLine?: (done: number, total: number) => void;
 }
-
-export interface TileLine {
-  /** Line id in the tile site. */
-  id: string;
-  /** Line id in the original site. */
-  source: string;
-  /** SEG-Y file as written in the tile site.json. */
-  file: string;
-  /** First and last trace of the original line (0-based, inclusive). */
-  first: number;
-  last: number;
-  /** For a piece: the `traces` range of the file written into the tile's site.json (0-based, inclusive). */
-  traces?: [number, number];
-}
-
-export interface TileEntry {
-  id: string;
-  /** Folder relative to the manifest. */
-  dir: string;
-  col: number;
-  row: number;
-  /** The tile square in site CRS units: results inside it belong to this tile. */
-  core: Box;
-  /** The square grown by the overlap: traces inside it are in the tile. */
-  bounds: Box;
-  traces: number;
-  lines: TileLine[];
-  planFeatures: number;
-  /** The one command that processes the tile (run from the manifest's folder). */
-  command: string;
-}
-
-export interface TilesManifest {
-  version: 1;
-  site: { name: string; dir: string; crs: string; units: string; metresPerUnit: number };
-  sizeM: number;
-  overlapM: number;
-  planMarginM: number;
-  /** Tile (col, row) covers x in [col * size, (col + 1) * size), y likewise, in site CRS units. */
-  sizeUnits: number;
-  traces: number;
-  tiles: TileEntry[];
-}
-
-const num = (v: number): string => (v < 0 ? `m${-v}` : String(v));
-export const tileId = (col: number, row: number): string => `tile_${num(col)}_${num(row)}`;
-
-/** The (col, row) of the tile whose core holds (x, y), in site CRS units. */
-export function tileOf(x: number, y: number, sizeUnits: number): [number, number] {
-  return [Math.floor(x / sizeUnits), Math.floor(y / sizeUnits)];
-}
-
-/** The tile of a manifest that owns a point (site CRS units): use it to keep one copy of an anomaly seen by two tiles. */
-export function ownerTile(manifest: TilesManifest, x: number, y: number): TileEntry | undefined {
-  const [c, r] = tileOf(x, y, manifest.sizeUnits);
-  return manifest.tiles.find((t) => t.col === c && t.row === r);
-}
-
-/**
- * Runs of consecutive traces inside a box, each grown by one trace at both ends (so a piece always spans
- * its boundary and never has a single trace), overlapping runs merged. Inclusive [first, last] pairs.
- */
-export function tracesInBox(x: ArrayLike<number>, y: ArrayLike<number>, box: Box): [number, number][] {
-  const n = x.length;
-  const runs: [number, number][] = [];
-  let start = -1;
-  for (let i = 0; i <= n; i++) {
-    const inside = i < n && x[i]! >= box[0] && x[i]! <= box[2] && y[i]! >= box[1] && y[i]! <= box[3];
-    if (inside && start < 0) start = i;
-    if (!inside && start >= 0) {
-      const a = Math.max(0, start - 1);
-      const b = Math.min(n - 1, i);
-      const prev = runs[runs.length - 1];
-      if (prev && a <= prev[1] + 1) prev[1] = b;
-      else runs.push([a, b]);
-      start = -1;
-    }
-  }
-  return runs;
-}
-
-function geometryBox(g: Geometry): Box {
-  const b: Box = [Infinity, Infinity, -Infinity, -Infinity];
-  const walk = (c: unknown): void => {
-    if (Array.isArray(c) && typeof c[0] === 'number') {
-      const [px, py] = c as number[];
-      b[0] = Math.min(b[0], px!);
-      b[1] = Math.min(b[1], py!);
-      b[2] = Math.max(b[2], px!);
-      b[3] = Math.max(b[3], py!);
-    } else if (Array.isArray(c)) c.forEach(walk);
-  };
-  walk(g.coordinates);
-  return b;
-}
-
-const near = (a: Box, b: Box, margin: number): boolean => a[0] <= b[2] + margin && a[2] >= b[0] - margin && a[1] <= b[3] + margin && a[3] >= b[1] - margin;
 
 interface TileAcc {
   col: number;
@@ -217,7 +118,7 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
     options.onLine?.(li + 1, site.lines.length * 2);
   }
 
-  const planMarginM = options.planMarginM ?? overlapM + (C * maxRecordNs) / 2;
+  const planMarginM = options.planMarginM ?? overlapM + (C_M_PER_NS * maxRecordNs) / 2;
   const live = [...accs.values()].filter((a) => a.coreTraces > 0).sort((a, b) => a.row - b.row || a.col - b.col);
   const byLine = new Map<number, { tile: TileAcc; first: number; last: number; k: number }[]>();
   for (const t of live) {
@@ -318,21 +219,3 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
     throw e;
   }
 }
-
-/** Positions before the GPS offset, as the tile's site.json must give them (the tile applies the offset again). */
-/** Reads a tiles.json manifest. */
-export async function readTilesManifest(path: string): Promise<TilesManifest> {
-  const file = path.endsWith('.json') ? path : join(path, 'tiles.json');
-  let m: unknown;
-  try {
-    m = JSON.parse(await readFile(file, 'utf8'));
-  } catch (e) {
-    throw new InputError(shownPath(file), `expected a tiles.json manifest, found ${e instanceof SyntaxError ? 'invalid JSON' : 'no readable file'}`);
-  }
-  if (typeof m !== 'object' || m === null || (m as { version?: unknown }).version !== 1 || !Array.isArray((m as { tiles?: unknown }).tiles)) {
-    throw new InputError(shownPath(file), 'expected a tiles.json manifest of version 1 with a "tiles" array', { field: 'version' });
-  }
-  return m as TilesManifest;
-}
-
-export const manifestDir = (path: string): string => (path.endsWith('.json') ? dirname(path) : path);

@@ -1,0 +1,2 @@
+export { C_M_PER_NS } from './physics';
+export { CAUTIONS, CAUTION } from './cautions';

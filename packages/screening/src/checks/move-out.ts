@@ -1,0 +1,91 @@
+import type { Anomaly3D, Member } from '@lamina/anomalies';
+import { quantileSorted } from '@lamina/stats';
+import { locusOf, type ScreenContext } from '../context';
+import { WEIGHTS, type Evidence } from '../evidence';
+import { cellResidual } from '../locus-residual';
+import type { Reflector } from '../reflectors';
+
+export interface MemberFit {
+  member: Member;
+  medianM: number;
+  iqrM: number;
+  residualM: number;
+  passed: boolean;
+}
+
+export interface MoveOutResult {
+  reflector: number;
+  fits: MemberFit[];
+  fraction: number;
+}
+
+/** Cells sampled per member, at most (the residual quantiles need no more). */
+export const MAX_SAMPLES = 400;
+
+/**
+ * Signed residuals (m) of a member's cells from a reflector's locus at radius r (see cellResidual).
+ */
+function memberResiduals(m: Member, refl: Reflector, field: Float32Array, radiusM: number, ctx: ScreenContext): Float64Array {
+  const step = Math.max(1, Math.ceil(m.cells.length / MAX_SAMPLES));
+  const out = new Float64Array(Math.ceil(m.cells.length / step));
+  let n = 0;
+  for (let i = 0; i < m.cells.length; i += step) out[n++] = cellResidual(m.cells[i]!, refl, field, radiusM, ctx);
+  return out.subarray(0, n).sort();
+}
+
+/** Member against one reflector's locus at the member's depth. */
+export function fitMember(m: Member, refl: Reflector, field: Float32Array, ctx: ScreenContext): MemberFit {
+  const locus = locusOf(ctx, refl, m.slice);
+  if (!Number.isFinite(locus.radiusM)) return { member: m, medianM: NaN, iqrM: NaN, residualM: Infinity, passed: false };
+  const res = memberResiduals(m, refl, field, locus.radiusM, ctx);
+  const residualM = quantileSorted(res, 0.5);
+  const medianM = locus.radiusM + residualM;
+  const iqrM = quantileSorted(res, 0.75) - quantileSorted(res, 0.25);
+  // on the locus, and shaped like it: the cells keep to the band rather than crossing it
+  const passed = Math.abs(residualM) <= locus.toleranceM && iqrM <= 2 * (locus.bandHalfM + ctx.positionM);
+  return { member: m, medianM, iqrM, residualM, passed };
+}
+
+
+/** Test 1 (distance part): the reflector whose locus holds most members of the anomaly. */
+export function bestMoveOut(a: Anomaly3D, ctx: ScreenContext): MoveOutResult | undefined {
+  let best: MoveOutResult | undefined;
+  let bestResidual = Infinity;
+  let reach = 0;
+  for (const m of a.members) reach = Math.max(reach, ctx.loci[m.slice]!.radiusM + 2 * ctx.loci[m.slice]!.toleranceM);
+  for (let r = 0; r < ctx.reflectors.length; r++) {
+    const field = ctx.fields[r];
+    if (!field) continue;
+    let near = Infinity;
+    for (let i = 0; i < a.cells.length; i++) near = Math.min(near, field[a.cells[i]!]!);
+    if (near > reach) continue;
+    const fits = a.members.map((m) => fitMember(m, ctx.reflectors[r]!, field, ctx));
+    const fraction = fits.filter((f) => f.passed).length / fits.length;
+    const residual = fits.reduce((s, f) => s + Math.abs(f.residualM) / locusOf(ctx, ctx.reflectors[r]!, f.member.slice).toleranceM, 0) / fits.length;
+    if (!best || fraction > best.fraction || (fraction === best.fraction && residual < bestResidual)) {
+      best = { reflector: r, fits, fraction };
+      bestResidual = residual;
+    }
+  }
+  return best;
+}
+
+export function moveOutEvidence(mo: MoveOutResult, ctx: ScreenContext): Evidence[] {
+  const refl = ctx.reflectors[mo.reflector]!;
+  const n = mo.fits.length;
+  return mo.fits.map((f) => {
+    const l = locusOf(ctx, refl, f.member.slice);
+    return {
+      test: 'move-out',
+      featureId: refl.featureId,
+      measured: f.medianM,
+      expected: l.radiusM,
+      tolerance: l.toleranceM,
+      units: 'm',
+      passed: f.passed,
+      weight: ((f.passed ? 1 : -1) * WEIGHTS.moveOut) / n,
+      slice: f.member.slice,
+      detail: `slice ${f.member.slice} (${l.topM.toFixed(2)}-${l.bottomM.toFixed(2)} m): median distance to ${refl.kind}${refl.source === 'posts' ? ' posts' : ''} ${refl.featureId} ${f.medianM.toFixed(2)} m (IQR ${f.iqrM.toFixed(2)} m), locus z c/v ${l.radiusM.toFixed(2)} m`,
+    } satisfies Evidence;
+  });
+}

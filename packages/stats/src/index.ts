@@ -1,0 +1,3 @@
+export { selectInPlace, type NumericArray } from './select';
+export { median, medianInPlace, medianLow, medianHigh, medianAbsDeviation, weightedMedian } from './median';
+export { quantile, quantileSorted, quantileInPlace } from './quantile';
