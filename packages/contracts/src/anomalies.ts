@@ -8,18 +8,18 @@ export type AnomalyClassName = (typeof ANOMALY_CLASSES)[number];
 
 const lonLat = z.tuple([num, num]);
 
-/** One slice's piece of an anomaly. */
+/** One slice's piece of an anomaly (the screening writes every field; hand-made folders may give fewer). */
 export const memberSchema = z.looseObject({
   slice: num,
   topM: num,
   bottomM: num,
-  centroid: lonLat,
-  outline: geometrySchema,
-  areaM2: num,
-  kind: z.string(),
-  directionDeg: num,
-  peakScore: num,
-  strengthDb: num.nullable(),
+  centroid: lonLat.optional(),
+  outline: geometrySchema.optional(),
+  areaM2: num.optional(),
+  kind: z.string().optional(),
+  directionDeg: num.optional(),
+  peakScore: num.optional(),
+  strengthDb: num.nullable().optional(),
 });
 
 /**

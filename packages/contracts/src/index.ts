@@ -8,7 +8,7 @@ export {
   ANOMALY_CLASSES, memberSchema, anomalyPropertiesSchema, anomalyFeatureSchema, anomaliesSchema, interfacePropertiesSchema, interfacesSchema,
   forecastPropertiesSchema, forecastSchema, type AnomalyClassName, type AnomalyProperties, type AnomalyFeature, type InterfaceProperties, type ForecastProperties,
 } from './anomalies';
-export { UTILITY_TYPES, targetPropertiesSchema, targetFeatureSchema, targetsSchema, type UtilityType, type TargetProperties } from './targets';
+export { UTILITY_TYPES, targetFieldsSchema, targetPropertiesSchema, targetFeatureSchema, targetsSchema, type UtilityType, type TargetFields, type TargetProperties } from './targets';
 export { decisionSchema, reviewSchema, type Decision, type Review } from './review';
 export { pickSchema, picksSchema, type PicksFile, type ManualHyperbola } from './picks';
 export { tileLineSchema, tileEntrySchema, tilesSchema, type TileLine, type TileEntry, type TilesManifest } from './tiles';

@@ -19,10 +19,11 @@ const text = z.string().nullable();
 const metres = num.nullable();
 
 /**
- * Properties of a targets.geojson feature (written by @lamina/targets; the GeoPackage table and the CSV
- * carry the same fields, in this order). Depths in metres and US survey feet; null where unknown.
+ * The fixed fields of a target, in order: the attribute table of targets.gpkg, the columns of
+ * targets.csv and the first properties of a targets.geojson feature (written by @lamina/targets).
+ * Depths in metres and feet; null where unknown.
  */
-export const targetPropertiesSchema = z.looseObject({
+export const targetFieldsSchema = z.object({
   id: z.string(),
   depthTopM: num,
   depthBottomM: num,
@@ -51,12 +52,17 @@ export const targetPropertiesSchema = z.looseObject({
   reviewedAt: text,
   screenedOrigin: z.enum(['subsurface', 'above-ground']),
   site: z.string(),
+});
+export type TargetFields = z.infer<typeof targetFieldsSchema>;
+
+/** Properties of a targets.geojson feature: the fields, then the geometry helpers of the map. */
+export const targetPropertiesSchema = targetFieldsSchema.extend({
   centroid: z.tuple([num, num]).optional(),
   /** A linear target's outline (WGS84). */
   outline: geometrySchema.optional(),
   /** Depth of each vertex of a linear target's centreline, m. */
   vertexDepthsM: z.array(num).optional(),
-});
+}).loose();
 export type TargetProperties = z.infer<typeof targetPropertiesSchema>;
 export const targetFeatureSchema = featureOf(targetPropertiesSchema);
 export const targetsSchema = featureCollectionOf(targetFeatureSchema);

@@ -2,6 +2,7 @@ import { spawnSync } from 'node:child_process';
 import { readFile, readdir, stat, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
+import { FOLDER_FILES, checkFolder, targetFieldsSchema } from '@lamina/contracts';
 import { lookupEpsg } from '@lamina/site';
 import { APWA_COLOURS, CAUTIONS, CSV_COLUMNS, TARGET_FIELDS, exportTargets, readAnomalies, type ExportResult } from '../src';
 import { makeFolder, py, standardDecisions, type Fixture } from './fixture';
@@ -97,6 +98,14 @@ describe('exportTargets on an EPSG:32617 (metre) folder', () => {
     expect(byId.U.properties.utilityType).toBe('sewer');
     expect(byId.U.properties.screenedOrigin).toBe('above-ground');
     expect(byId.C.properties.utilityType).toBeNull();
+  });
+
+  // The fixture folder and what export wrote into it keep the contracts of @lamina/contracts; the
+  // GeoPackage's fields are the contract's target fields in order.
+  it('the folder parses with @lamina/contracts and the target fields are the contract\'s', async () => {
+    const names = FOLDER_FILES.map(([n]) => n);
+    expect(await checkFolder(fx.dir)).toEqual(names.filter((n) => ['run.json', 'velocity.json', 'slices.json', 'anomalies.geojson', 'review.json', 'targets.geojson'].includes(n)));
+    expect(TARGET_FIELDS.map(([n]) => n)).toEqual(Object.keys(targetFieldsSchema.shape));
   });
 
   it('targets.gpkg passes GDAL validate_gpkg and opens with both layers, counts, CRS and fields', async () => {
