@@ -9,7 +9,7 @@ export type AnomalyClassName = (typeof ANOMALY_CLASSES)[number];
 const lonLat = z.tuple([num, num]);
 
 /** One slice's piece of an anomaly (the screening writes every field; hand-made folders may give fewer). */
-export const memberSchema = z.looseObject({
+export const memberSchema = z.object({
   slice: num,
   topM: num,
   bottomM: num,
@@ -27,7 +27,7 @@ export const memberSchema = z.looseObject({
  * Required: what every reader needs; the rest is what the current screening writes (absent in older
  * folders). Depths in metres, positions WGS84.
  */
-export const anomalyPropertiesSchema = z.looseObject({
+export const anomalyPropertiesSchema = z.object({
   id: z.string().min(1, { error: 'expected a non-empty string' }),
   depthTopM: z.number({ error: 'expected a depth in metres' }),
   depthBottomM: z.number({ error: 'expected a depth in metres' }),
@@ -65,7 +65,7 @@ export type AnomalyFeature = z.infer<typeof anomalyFeatureSchema>;
 export const anomaliesSchema = featureCollectionOf(anomalyFeatureSchema);
 
 /** interfaces.geojson: each `layer` anomaly as a depth map, one polygon per slice. */
-export const interfacePropertiesSchema = z.looseObject({
+export const interfacePropertiesSchema = z.object({
   anomalyId: z.string(),
   slice: num,
   depthTopM: num,
@@ -79,7 +79,7 @@ export type InterfaceProperties = z.infer<typeof interfacePropertiesSchema>;
 export const interfacesSchema = featureCollectionOf(featureOf(interfacePropertiesSchema));
 
 /** forecast.geojson: predicted air-wave loci per slice (@lamina/screening). */
-export const forecastPropertiesSchema = z.looseObject({
+export const forecastPropertiesSchema = z.object({
   slice: num,
   topM: num,
   bottomM: num,

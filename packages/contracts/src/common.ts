@@ -7,7 +7,7 @@ export const bbox = z.tuple([num, num, num, num], { error: 'expected [west, sout
 export type Box = z.infer<typeof bbox>;
 
 /** A GeoJSON geometry of the types the output folder writes (RFC 7946; coordinates not checked deeply). */
-export const geometrySchema = z.looseObject({
+export const geometrySchema = z.object({
   type: z.enum(['Point', 'MultiPoint', 'LineString', 'MultiLineString', 'Polygon', 'MultiPolygon']),
   coordinates: z.array(z.unknown()),
 });
@@ -15,11 +15,11 @@ export type Geometry = z.infer<typeof geometrySchema>;
 
 /** A FeatureCollection whose features are checked by `feature` (the head's other members are kept). */
 export const featureCollectionOf = <F extends z.ZodType>(feature: F) =>
-  z.looseObject({ type: z.literal('FeatureCollection', { error: 'expected a GeoJSON FeatureCollection' }), features: z.array(feature) });
+  z.object({ type: z.literal('FeatureCollection', { error: 'expected a GeoJSON FeatureCollection' }), features: z.array(feature) });
 
 /** A Feature with the given properties. */
 export const featureOf = <P extends z.ZodType>(properties: P) =>
-  z.looseObject({
+  z.object({
     type: z.literal('Feature'),
     id: z.union([z.string(), z.number()]).optional(),
     geometry: geometrySchema.nullable(),

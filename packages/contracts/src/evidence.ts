@@ -19,7 +19,7 @@ const point = z.object({ type: z.literal('Point'), coordinates: z.tuple([num, nu
 const line = z.object({ type: z.literal('LineString'), coordinates: z.array(z.tuple([num, num])) });
 
 /** One piece of screening evidence, as the screening writes it (a row of the viewer's evidence table). */
-export const evidenceSchema = z.looseObject({
+export const evidenceSchema = z.object({
   test: z.enum(TEST_NAMES),
   /** Plan feature the test was run against; null for a test against no feature (unsurveyed obstruction). */
   featureId: z.string().nullable(),
@@ -42,7 +42,7 @@ export type Evidence = z.infer<typeof evidenceSchema>;
  * An evidence row as readers may rely on it: any object, its fields shown when present (rows of other
  * versions and of hand-made folders are displayed, never computed with).
  */
-export const evidenceRowSchema = z.looseObject({
+export const evidenceRowSchema = z.object({
   test: z.string().optional(),
   featureId: z.string().nullable().optional(),
   measured: z.unknown().optional(),

@@ -10,7 +10,7 @@ export const siteIdentitySchema = z.strictObject({
 });
 export type SiteIdentity = z.infer<typeof siteIdentitySchema>;
 
-export const runCrsSchema = z.looseObject({
+export const runCrsSchema = z.object({
   /** What site.json gave: an EPSG code or a proj4 string. */
   input: z.string().optional(),
   code: z.string().optional(),
@@ -20,7 +20,7 @@ export const runCrsSchema = z.looseObject({
   metresPerUnit: num.positive().optional(),
 }).refine((c) => c.proj4 !== undefined || c.input !== undefined, { error: 'expected a proj4 string', path: ['proj4'] });
 
-export const runLineSchema = z.looseObject({
+export const runLineSchema = z.object({
   id: z.string(),
   file: z.string().optional(),
   traces: num.optional(),
@@ -31,15 +31,15 @@ export const runLineSchema = z.looseObject({
 export type RunLine = z.infer<typeof runLineSchema>;
 
 /** run.json: what the output folder was made from (written by @lamina/pipeline). */
-export const runSchema = z.looseObject({
-  tool: z.looseObject({ name: z.string(), version: z.string() }).optional(),
+export const runSchema = z.object({
+  tool: z.object({ name: z.string(), version: z.string() }).optional(),
   /** ISO time of the run. */
   createdAt: z.string().optional(),
-  site: z.looseObject({
+  site: z.object({
     name: z.string(),
     dir: z.string().optional(),
     crs: runCrsSchema,
-    antenna: z.looseObject({ frequencyMHz: num.optional(), separationM: num.optional() }).optional(),
+    antenna: z.object({ frequencyMHz: num.optional(), separationM: num.optional() }).optional(),
     extentWgs84: bbox.optional(),
     extentSite: bbox.optional(),
     surveyDate: z.string().optional(),
@@ -52,7 +52,7 @@ export const runSchema = z.looseObject({
   /** The processing recipe (schema in @lamina/processing). */
   recipe: z.unknown().optional(),
   /** What ran, step by step. */
-  log: z.array(z.looseObject({ step: z.string() })).optional(),
+  log: z.array(z.object({ step: z.string() })).optional(),
   threads: num.optional(),
   /** Absent in folders of older versions. */
   lines: z.array(runLineSchema).optional(),

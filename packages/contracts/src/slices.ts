@@ -2,7 +2,7 @@ import { z } from 'zod';
 import { num } from './common';
 
 /** How the stack was gridded (slices.json `gridding`). Radii and spacings in site CRS units. */
-export const griddingSchema = z.looseObject({
+export const griddingSchema = z.object({
   method: z.literal('idw'),
   power: num,
   maxPoints: num,
@@ -25,7 +25,7 @@ export const griddingSchema = z.looseObject({
 export type GriddingJson = z.infer<typeof griddingSchema>;
 
 /** Statistics of a slice's valid cells; null where there is none (an empty slice). */
-export const sliceStatsSchema = z.looseObject({
+export const sliceStatsSchema = z.object({
   min: num.nullable(),
   max: num.nullable(),
   mean: num.nullable(),
@@ -37,7 +37,7 @@ export const sliceStatsSchema = z.looseObject({
 });
 export type SliceStatsJson = z.infer<typeof sliceStatsSchema>;
 
-export const sliceEntrySchema = z.looseObject({
+export const sliceEntrySchema = z.object({
   index: num,
   /** 1-based band of slices.tif. */
   band: num,
@@ -48,7 +48,7 @@ export const sliceEntrySchema = z.looseObject({
 export type SliceEntry = z.infer<typeof sliceEntrySchema>;
 
 /** slices.json (written by @lamina/slices beside slices.tif). */
-export const slicesSchema = z.looseObject({
+export const slicesSchema = z.object({
   version: z.literal(1),
   /** The GeoTIFF beside this file; band `slices[k].band` is slice k. */
   file: z.string(),

@@ -62,7 +62,7 @@ export const targetPropertiesSchema = targetFieldsSchema.extend({
   outline: geometrySchema.optional(),
   /** Depth of each vertex of a linear target's centreline, m. */
   vertexDepthsM: z.array(num).optional(),
-}).loose();
+});
 export type TargetProperties = z.infer<typeof targetPropertiesSchema>;
 export const targetFeatureSchema = featureOf(targetPropertiesSchema);
 export const targetsSchema = featureCollectionOf(targetFeatureSchema);

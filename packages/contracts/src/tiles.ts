@@ -1,7 +1,7 @@
 import { z } from 'zod';
 import { bbox, num } from './common';
 
-export const tileLineSchema = z.looseObject({
+export const tileLineSchema = z.object({
   /** Line id in the tile site. */
   id: z.string(),
   /** Line id in the original site. */
@@ -16,7 +16,7 @@ export const tileLineSchema = z.looseObject({
 });
 export type TileLine = z.infer<typeof tileLineSchema>;
 
-export const tileEntrySchema = z.looseObject({
+export const tileEntrySchema = z.object({
   id: z.string(),
   /** Folder relative to the manifest. */
   dir: z.string(),
@@ -35,9 +35,9 @@ export const tileEntrySchema = z.looseObject({
 export type TileEntry = z.infer<typeof tileEntrySchema>;
 
 /** tiles.json: a site split into tile sites (written by @lamina/tiles). */
-export const tilesSchema = z.looseObject({
+export const tilesSchema = z.object({
   version: z.literal(1, { error: 'expected a tiles.json manifest of version 1' }),
-  site: z.looseObject({ name: z.string(), dir: z.string(), crs: z.string(), units: z.string(), metresPerUnit: num }),
+  site: z.object({ name: z.string(), dir: z.string(), crs: z.string(), units: z.string(), metresPerUnit: num }),
   sizeM: num,
   overlapM: num,
   planMarginM: num,

@@ -12,7 +12,7 @@ export type Origin = (typeof ORIGINS)[number];
 const maybe = num.nullable();
 
 /** One fitted diffraction hyperbola (velocity.json `hyperbolas[]`). Units: m, ns, m/ns; x, y in the site CRS. */
-export const hyperbolaSchema = z.looseObject({
+export const hyperbolaSchema = z.object({
   line: z.string(),
   trace: num,
   x: num,
@@ -36,37 +36,37 @@ export const hyperbolaSchema = z.looseObject({
   rmsNs: maybe.optional(),
   inliers: num.optional(),
   crossing: z
-    .looseObject({ feature: z.string(), angleDeg: num, apparentVelocityMPerNs: num, apparentDepthM: num, apparentRadiusM: num.optional(), lines: num })
+    .object({ feature: z.string(), angleDeg: num, apparentVelocityMPerNs: num, apparentDepthM: num, apparentRadiusM: num.optional(), lines: num })
     .optional(),
   lineDirection: z.tuple([num, num]).optional(),
 });
 export type VelocityHyperbola = z.infer<typeof hyperbolaSchema>;
 
 /** Interval velocity layer, depth in metres. */
-export const velocityLayerSchema = z.looseObject({ topM: num, bottomM: num, velocityMPerNs: num, permittivity: maybe.optional() });
+export const velocityLayerSchema = z.object({ topM: num, bottomM: num, velocityMPerNs: num, permittivity: maybe.optional() });
 export type VelocityLayerJson = z.infer<typeof velocityLayerSchema>;
 
-export const velocityModelSchema = z.looseObject({
+export const velocityModelSchema = z.object({
   kind: z.enum(['constant', 'layered']),
   /** Contiguous from 0 m; the last layer extends to any depth below its top. */
   layers: z.array(velocityLayerSchema),
 });
 
 /** velocity.json (written by @lamina/velocity). Only `site.velocityMPerNs` is needed by every reader. */
-export const velocitySchema = z.looseObject({
-  site: z.looseObject({
+export const velocitySchema = z.object({
+  site: z.object({
     velocityMPerNs: num.positive({ error: 'expected a positive velocity in m/ns' }),
     permittivity: maybe.optional(),
     spreadMPerNs: maybe.optional(),
     fitCount: num.optional(),
     /** Independent objects among the fits that count. */
     objectCount: num.optional(),
-    moisture: z.looseObject({ volumetricWaterContent: maybe, method: z.string(), caution: z.string() }).optional(),
+    moisture: z.object({ volumetricWaterContent: maybe, method: z.string(), caution: z.string() }).optional(),
     note: z.string().optional(),
   }, { error: 'expected an object with "site"' }),
   model: velocityModelSchema.optional(),
   hyperbolas: z.array(hyperbolaSchema).optional(),
   /** Antenna separation (m), c (m/ns), the above-ground permittivity limit. */
-  method: z.looseObject({ separationM: num, cMPerNs: num, aboveGroundMaxPermittivity: num }).optional(),
+  method: z.object({ separationM: num, cMPerNs: num, aboveGroundMaxPermittivity: num }).optional(),
 });
 export type VelocityJson = z.infer<typeof velocitySchema>;

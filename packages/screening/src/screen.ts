@@ -19,6 +19,7 @@ import {
   type Shape,
 } from '@lamina/anomalies';
 import { nearSurfaceDepthM } from '@lamina/slices';
+import type { AnomalyProperties } from '@lamina/contracts';
 import type { PlanFeature } from '@lamina/site';
 import type { SliceGrid, SliceStack } from '@lamina/slices';
 import type { VelocityReport } from '@lamina/velocity';
@@ -447,7 +448,7 @@ export function anomalyFeature(s: ScreenedAnomaly, grid: SliceGrid, toWgs84: ToW
         strengthDb: Number.isFinite(m.strengthDb) ? Math.round(m.strengthDb * 100) / 100 : null,
       })),
       metresPerUnit,
-    },
+    } satisfies AnomalyProperties,
   };
 }
 

@@ -6,6 +6,7 @@
  * samples are copied. The plan keeps every feature near enough to echo into the tile's record.
  */
 import { readFile, mkdir, writeFile } from 'node:fs/promises';
+import { checkContract, tilesSchema, type TileEntry, type TileLine, type TilesManifest } from '@lamina/contracts';
 import { dirname, join, relative, resolve } from 'node:path';
 import { InputError } from '@lamina/errors';
 import { stageFolder } from '@lamina/atomic';
@@ -36,48 +37,8 @@ export interface TileOptions {
   onLine?: (done: number, total: number) => void;
 }
 
-export interface TileLine {
-  /** Line id in the tile site. */
-  id: string;
-  /** Line id in the original site. */
-  source: string;
-  /** SEG-Y file as written in the tile site.json. */
-  file: string;
-  /** First and last trace of the original line (0-based, inclusive). */
-  first: number;
-  last: number;
-  /** For a piece: the `traces` range of the file written into the tile's site.json (0-based, inclusive). */
-  traces?: [number, number];
-}
-
-export interface TileEntry {
-  id: string;
-  /** Folder relative to the manifest. */
-  dir: string;
-  col: number;
-  row: number;
-  /** The tile square in site CRS units: results inside it belong to this tile. */
-  core: Box;
-  /** The square grown by the overlap: traces inside it are in the tile. */
-  bounds: Box;
-  traces: number;
-  lines: TileLine[];
-  planFeatures: number;
-  /** The one command that processes the tile (run from the manifest's folder). */
-  command: string;
-}
-
-export interface TilesManifest {
-  version: 1;
-  site: { name: string; dir: string; crs: string; units: string; metresPerUnit: number };
-  sizeM: number;
-  overlapM: number;
-  planMarginM: number;
-  /** Tile (col, row) covers x in [col * size, (col + 1) * size), y likewise, in site CRS units. */
-  sizeUnits: number;
-  traces: number;
-  tiles: TileEntry[];
-}
+// tiles.json and its entries are a contract (tilesSchema in @lamina/contracts).
+export type { TileLine, TileEntry, TilesManifest };
 
 const num = (v: number): string => (v < 0 ? `m${-v}` : String(v));
 export const tileId = (col: number, row: number): string => `tile_${num(col)}_${num(row)}`;
@@ -329,10 +290,7 @@ export async function readTilesManifest(path: string): Promise<TilesManifest> {
   } catch (e) {
     throw new InputError(shownPath(file), `expected a tiles.json manifest, found ${e instanceof SyntaxError ? 'invalid JSON' : 'no readable file'}`);
   }
-  if (typeof m !== 'object' || m === null || (m as { version?: unknown }).version !== 1 || !Array.isArray((m as { tiles?: unknown }).tiles)) {
-    throw new InputError(shownPath(file), 'expected a tiles.json manifest of version 1 with a "tiles" array', { field: 'version' });
-  }
-  return m as TilesManifest;
+  return checkContract(tilesSchema, m, shownPath(file));
 }
 
 export const manifestDir = (path: string): string => (path.endsWith('.json') ? dirname(path) : path);

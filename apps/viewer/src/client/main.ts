@@ -6,7 +6,7 @@ import { MapLibreOverlay } from '@deck.gl/maplibre';
 import { BitmapLayer } from '@deck.gl/layers';
 import type { Layer as DeckLayer } from '@deck.gl/core';
 import { COLOUR_MAP_NAMES, colourise, colourMapLabel, colourTable, percentiles } from './colormaps';
-import { EMPTY_FC, dataUrl, featureId, getBytes, getJson, normaliseIds, type Config, type Feature, type FeatureCollection, type RadargramLine, type RunJson, type SliceInfo, type SlicesJson, type VelocityJson } from './data';
+import { EMPTY_FC, dataUrl, featureId, getBytes, getJson, normaliseIds, type Config, type Feature, type FeatureCollection, type RadargramIndex, type RadargramLine, type RunJson, type SliceInfo, type SlicesJson, type VelocityJson } from './data';
 import { gridCornersWgs84 } from './geo';
 import { SliceSource, type BandRaster } from './slice-source';
 import { LAYER_GROUPS, ORIGIN_COLOURS, PLAN_COLOURS, SLICE_BEFORE_ID, anomalyOpacity, forecastFilter, offlineStyle, overBasemap } from './style';
@@ -109,8 +109,8 @@ async function main(): Promise<void> {
   if (!run) throw new Error('run.json is missing: this is not the output folder of `lamina process`');
   const [slicesJson, velocity, rgIndex, plan, lines, anomaliesRaw, forecast, targets] = await Promise.all([
     getJson<SlicesJson>('slices.json'),
-    getJson<VelocityJson>('velocity.json', {}),
-    getJson<{ lines: RadargramLine[] }>('radargrams/index.json', { lines: [] }),
+    getJson<VelocityJson>('velocity.json'),
+    getJson<RadargramIndex>('radargrams/index.json', { lines: [] }),
     getJson<FeatureCollection>('plan.geojson', EMPTY_FC),
     getJson<FeatureCollection>('lines.geojson', EMPTY_FC),
     getJson<FeatureCollection>('anomalies.geojson', EMPTY_FC),
@@ -130,7 +130,7 @@ async function main(): Promise<void> {
   state.sliceCount = slices.length;
   const source = slices.length ? await SliceSource.open(dataUrl('slices.tif')) : undefined;
   const nodata = source?.nodata ?? (typeof slicesJson?.nodata === 'number' ? slicesJson.nodata : null);
-  const corners = source ? gridCornersWgs84(source.geo, run.site.crs.proj4) : undefined;
+  const corners = source ? gridCornersWgs84(source.geo, run.site.crs.proj4 ?? run.site.crs.input!) : undefined;
 
   // map
   const ext = boundsOf([plan], run.site.extentWgs84 ?? run.identity?.extent);
@@ -466,13 +466,13 @@ async function main(): Promise<void> {
       radargramNote.textContent = `${line.file} is missing or shorter than ${line.nTraces} x ${line.nSamples} samples.`;
       return;
     }
-    const hyps = (velocity.hyperbolas ?? []).filter((x) => x.line === line.id && !(x.flags && x.flags.length));
-    const v = velocity.site?.velocityMPerNs ?? velocity.model?.layers?.[0]?.velocityMPerNs ?? 0.1;
+    const hyps = (velocity?.hyperbolas ?? []).filter((x) => x.line === line.id && !(x.flags && x.flags.length));
+    const v = velocity?.site.velocityMPerNs ?? velocity?.model?.layers[0]?.velocityMPerNs ?? 0.1;
     drawRadargram(canvas, {
       line,
       data,
       metresPerUnit,
-      layers: velocity.model?.layers ?? [],
+      layers: velocity?.model?.layers ?? [],
       velocity: v,
       separationM: run.site.antenna?.separationM ?? 0,
       hyperbolas: hyps,
