@@ -6,7 +6,8 @@ import { existsSync, readdirSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { gridPoints, gridSpill, gridSpillSync, PointSpill, SpillGridder, sliceWindows, surveyGeometry, surveyGeometryOf, SliceBuilder, constantModel } from '../src';
-import { rng, tempDir } from './gdal';
+import { mulberry32 as rng } from '@lamina/random';
+import { tempDir } from '@lamina/test-utils';
 
 /** Wiggly, unevenly spaced lines of our own (GPS-like jitter), values per trace with some NaN. */
 function survey(nLines: number, nTraces: number, nValues: number, seed: number, nanEvery = 0) {

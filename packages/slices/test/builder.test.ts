@@ -10,7 +10,7 @@ import {
   SliceBuilder,
   type LineInput,
 } from '../src';
-import { rng } from './gdal';
+import { mulberry32 as rng } from '@lamina/random';
 
 const V = 0.1; // m/ns
 const SEP = 0.1; // m
