@@ -110,7 +110,7 @@ describe.sequential('issue 5 on the yard screened in row bands', () => {
     const summary = await runProcess(siteDir, outDir, { threads: 2, now: new Date('2026-01-01T00:00:00Z'), screenBandBytes: 2 ** 20, bandOverlapM: 3 });
     expect(summary.screeningBands).toBe(2);
     bands = outDir;
-    r = (await scoreFolder(outDir, join(siteDir, 'truth.json'))).report;
+    r = scoreFolder(outDir, join(siteDir, 'truth.json')).report;
   }, 240_000);
 
   it('gives the same slices.tif as one band', () => {

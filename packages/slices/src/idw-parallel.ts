@@ -1,5 +1,4 @@
 import { availableParallelism } from 'node:os';
-import type { Worker } from 'node:worker_threads';
 import { startWorker } from '@lamina/runtime-files';
 import type KDBush from 'kdbush';
 import { buildIndex, hasNaN, idwGrid, searchFrame, type IdwOptions } from './idw';

@@ -49,11 +49,11 @@ export async function createMap(folder: Folder, t0: number): Promise<MapView> {
   map.addControl(overlay);
 
   const setData = () => {
-    (map.getSource('plan') as GeoJSONSource | undefined)?.setData(plan as never);
-    (map.getSource('lines') as GeoJSONSource | undefined)?.setData(lines as never);
-    (map.getSource('anomalies') as GeoJSONSource | undefined)?.setData(anomalies as never);
-    (map.getSource('forecast') as GeoJSONSource | undefined)?.setData(forecast as never);
-    (map.getSource('targets') as GeoJSONSource | undefined)?.setData(targets as never);
+    void (map.getSource('plan') as GeoJSONSource | undefined)?.setData(plan as never);
+    void (map.getSource('lines') as GeoJSONSource | undefined)?.setData(lines as never);
+    void (map.getSource('anomalies') as GeoJSONSource | undefined)?.setData(anomalies as never);
+    void (map.getSource('forecast') as GeoJSONSource | undefined)?.setData(forecast as never);
+    void (map.getSource('targets') as GeoJSONSource | undefined)?.setData(targets as never);
   };
   await new Promise<void>((ok) => map.once('load', () => ok()));
   state.timings.mapLoadMs = performance.now() - t0;

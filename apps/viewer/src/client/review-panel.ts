@@ -99,7 +99,7 @@ export function wireReview(folder: Folder, view: MapView): { selectAnomaly(id: s
       if (!r.ok) throw new Error(body.error ?? `HTTP ${r.status}`);
       const fresh = await getJson<FeatureCollection>('targets.geojson', EMPTY_FC);
       targets.features = fresh.features;
-      (map.getSource('targets') as GeoJSONSource | undefined)?.setData(targets as never);
+      void (map.getSource('targets') as GeoJSONSource | undefined)?.setData(targets as never);
       out.replaceChildren(
         h('div', { id: 'export-ok' }, `Exported ${fresh.features.length} target(s): targets.geojson, .gpkg, .csv, .dxf and report.html in the output folder.`),
         h('div', { class: 'cautions' }, h('strong', {}, 'Before anyone digs:'), cautionList(config)),
