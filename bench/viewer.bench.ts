@@ -14,7 +14,7 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { ensureViewerBuilt, startViewerServer } from '../apps/viewer/src/index';
 import { writeFixture } from '../apps/viewer/test/fixture';
-import { launch, openViewer } from '../apps/viewer/test/browser';
+import { launch, openViewer } from '../packages/test-utils/src/index';
 import { nodeFirstSliceMs } from '../apps/viewer/test/decode-ref';
 
 const here = dirname(fileURLToPath(import.meta.url));

@@ -13,6 +13,8 @@ import { join, resolve } from 'node:path';
 import { simulateScenarioFile } from '@lamina/simulate';
 import { runProcess } from '@lamina/pipeline';
 import { scoreFolder, type ScoreReport } from '@lamina/scoring';
+import { FOLDER_FILES, checkContract, checkFolder, evidenceSchema } from '@lamina/contracts';
+import { TARGET_FIELDS } from '@lamina/targets';
 
 const SITES = ['yard', 'carpark-ft', 'warehouse'] as const;
 type SiteName = (typeof SITES)[number];
@@ -75,6 +77,17 @@ for (const site of SITES) {
     // Issue 12 classes: a compact object seen on one line only and one pulse thick is point-like at the
     // survey's resolution and classed clutter (in anomalies.geojson, not a target) like a stone; what
     // must hold is that screening leaves it subsurface.
+    // The output folder as code (@lamina/contracts): every JSON file the run wrote parses with its schema,
+    // and every evidence item with the screening's own (stricter) evidence schema.
+    it('every output file parses with its schema in @lamina/contracts', async () => {
+      const outDir = join(root, `${site}-out`);
+      expect(await checkFolder(outDir)).toEqual(FOLDER_FILES.map(([name]) => name));
+      const anomalies = JSON.parse(readFileSync(join(outDir, 'anomalies.geojson'), 'utf8')) as { features: { properties: { evidence: unknown[] } }[] };
+      for (const [i, f] of anomalies.features.entries()) f.properties.evidence.forEach((e, k) => checkContract(evidenceSchema, e, 'anomalies.geojson', { at: `features[${i}].properties.evidence[${k}]` }));
+      const targets = JSON.parse(readFileSync(join(outDir, 'targets.geojson'), 'utf8')) as { features: { properties: object }[] };
+      for (const f of targets.features) expect(Object.keys(f.properties).slice(0, TARGET_FIELDS.length)).toEqual(TARGET_FIELDS.map(([n]) => n));
+    });
+
     it('compact buried targets (the regular row far from the fence among them) stay subsurface anomalies', () => {
       for (const b of r.buried.filter((x) => x.lengthM === 0)) {
         const found = b.recall === 1 || r.anomalies.some((a) => a.buried === b.id && a.origin === 'subsurface');
@@ -97,7 +110,7 @@ describe.sequential('issue 5 on the yard screened in row bands', () => {
     const summary = await runProcess(siteDir, outDir, { threads: 2, now: new Date('2026-01-01T00:00:00Z'), screenBandBytes: 2 ** 20, bandOverlapM: 3 });
     expect(summary.screeningBands).toBe(2);
     bands = outDir;
-    r = (await scoreFolder(outDir, join(siteDir, 'truth.json'))).report;
+    r = scoreFolder(outDir, join(siteDir, 'truth.json')).report;
   }, 240_000);
 
   it('gives the same slices.tif as one band', () => {

@@ -12,8 +12,8 @@ import { fileURLToPath } from 'node:url';
 import { parseReview } from '@lamina/targets';
 import { ensureViewerBuilt, startViewerServer, type ViewerServer } from '../apps/viewer/src/index';
 import { colourTable } from '../apps/viewer/src/client/colormaps';
-import { FIXTURE, cellXY, writeFixture } from '../apps/viewer/test/fixture';
-import { launch, openViewer, type Browser } from '../apps/viewer/test/browser';
+import { FIXTURE, cellXY, writeFixture } from '@lamina/viewer/test-fixture';
+import { PYTHON, launch, openViewer, type Browser } from '@lamina/test-utils';
 
 const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');
 const ARTIFACTS = join(ROOT, 'test-artifacts', 'viewer-e2e');
@@ -264,7 +264,7 @@ describe.runIf(existsSync(join(YARD, 'site.json')))('viewer on the processed sam
     const cells: [number, number][] = [];
     for (let r = 0.2; r < 0.85; r += 0.15) for (let c = 0.2; c < 0.85; c += 0.15) cells.push([Math.floor(c * sj.width), Math.floor(r * sj.height)]);
     const values = JSON.parse(
-      execFileSync('/usr/bin/python3', ['-c', `import sys,json; from osgeo import gdal; d=gdal.Open(sys.argv[1]); a=d.GetRasterBand(${sj.slices[0]!.band}).ReadAsArray(); print(json.dumps([float(a[r][c]) for c,r in json.loads(sys.argv[2])]))`, join(out, 'slices.tif'), JSON.stringify(cells)], { env: { ...process.env, GDAL_PAM_ENABLED: 'NO' } }).toString(),
+      execFileSync(PYTHON, ['-c', `import sys,json; from osgeo import gdal; d=gdal.Open(sys.argv[1]); a=d.GetRasterBand(${sj.slices[0]!.band}).ReadAsArray(); print(json.dumps([float(a[r][c]) for c,r in json.loads(sys.argv[2])]))`, join(out, 'slices.tif'), JSON.stringify(cells)], { env: { ...process.env, GDAL_PAM_ENABLED: 'NO' } }).toString(),
     ) as number[];
     const xy = cells.map(([c, r]) => [sj.originX + (c + 0.5) * sj.cellSize, sj.originY - (r + 0.5) * sj.cellSize] as [number, number]);
     const crs = /^EPSG:\d+$/i.test(sj.crs) ? sj.crs : run.site.crs.proj4;

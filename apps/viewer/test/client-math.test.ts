@@ -4,7 +4,7 @@ import { colourise, colourTable, COLOUR_MAP_NAMES, percentiles } from '../src/cl
 import { gridCornersWgs84 } from '../src/client/geo';
 import { anomalyAnchorLonLat, parseRange } from '../src';
 
-const PY = '/usr/bin/python3';
+import { PYTHON as PY } from '@lamina/test-utils';
 
 describe('colour maps', () => {
   it('has at least two maps, each a 256 x RGB ramp from its first to its last stop', () => {

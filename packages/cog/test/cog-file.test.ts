@@ -4,7 +4,7 @@ import { mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { encodeCog, encodeCogFile, RawBands, type CogOptions, type RowSource } from '../src';
 // GDAL 3.6 (Debian gdal-bin, python3-gdal): gdalinfo and the COG validator, through the slices package's helpers.
-import { GDAL_ENV, gdalinfoJson, tempDir, validateCog } from '../../slices/test/gdal';
+import { GDAL_ENV, gdalinfoJson, tempDir, validateCog, PYTHON } from '@lamina/test-utils';
 
 const dir = tempDir('lamina-cog-file-');
 
@@ -109,7 +109,7 @@ describe('encodeCogFile: a larger file checked by GDAL 3.6 and numpy', () => {
     const raw = join(dir, 'large.b1.f32');
     writeFileSync(raw, bs[0]!);
     const numpyMean = Number(
-      execFileSync('/usr/bin/python3', ['-c', `import numpy as np; a=np.fromfile(${JSON.stringify(raw)}, '<f4').astype('f8'); print(repr(a[a != -9999].mean()))`], {
+      execFileSync(PYTHON, ['-c', `import numpy as np; a=np.fromfile(${JSON.stringify(raw)}, '<f4').astype('f8'); print(repr(a[a != -9999].mean()))`], {
         env: GDAL_ENV,
         encoding: 'utf8',
       }),

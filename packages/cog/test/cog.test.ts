@@ -1,3 +1,4 @@
+import { PYTHON } from '@lamina/test-utils';
 import { describe, expect, it } from 'vitest';
 import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
@@ -27,14 +28,14 @@ async function write(name: string, bs: Float32Array[], w: number, h: number, o: 
 
 function gdalBytes(path: string, band: number): Float32Array {
   const out = `${path}.${band}.f32`;
-  execFileSync('/usr/bin/python3', ['-c',
+  execFileSync(PYTHON, ['-c',
     `from osgeo import gdal; ds=gdal.Open(${JSON.stringify(path)}); ds.GetRasterBand(${band}).ReadAsArray().astype('<f4').tofile(${JSON.stringify(out)})`], { env });
   const b = readFileSync(out);
   return new Float32Array(b.buffer.slice(b.byteOffset, b.byteOffset + b.byteLength));
 }
 
 function validate(path: string): string {
-  return execFileSync('/usr/bin/python3', ['-m', 'osgeo_utils.samples.validate_cloud_optimized_geotiff', '--full-check=yes', path], { env, encoding: 'utf8' });
+  return execFileSync(PYTHON, ['-m', 'osgeo_utils.samples.validate_cloud_optimized_geotiff', '--full-check=yes', path], { env, encoding: 'utf8' });
 }
 
 function same(a: Float32Array, b: Float32Array): boolean {
@@ -76,7 +77,7 @@ describe('encodeCog', () => {
     b[0] = -9999; // cell (0, 0): the first overview cell averages the other three
     const path = await write('ovr.tif', [b], w, h);
     const out = `${path}.ovr.f32`;
-    execFileSync('/usr/bin/python3', ['-c',
+    execFileSync(PYTHON, ['-c',
       `from osgeo import gdal; ds=gdal.Open(${JSON.stringify(path)}); ds.GetRasterBand(1).GetOverview(0).ReadAsArray().astype('<f4').tofile(${JSON.stringify(out)})`], { env });
     const raw = readFileSync(out);
     const o = new Float32Array(raw.buffer.slice(raw.byteOffset, raw.byteOffset + raw.byteLength));

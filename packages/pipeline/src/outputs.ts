@@ -1,5 +1,6 @@
 import { mkdir, open, readFile, rm, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
+import type { LineProperties, RadargramLine } from '@lamina/contracts';
 import type { RadarLine } from '@lamina/radar-data';
 import type { Geometry, PlanFeature, Site } from '@lamina/site';
 
@@ -41,7 +42,7 @@ export function linesGeoJson(lines: LineSummary[], toWgs84: ToWgs84): object {
     features: lines.map((l) => ({
       type: 'Feature',
       id: l.id,
-      properties: { id: l.id, file: l.file, traces: l.traces, lengthM: round(l.lengthM, 3) },
+      properties: { id: l.id, file: l.file, traces: l.traces, lengthM: round(l.lengthM, 3) } satisfies LineProperties,
       geometry: { type: 'LineString', coordinates: l.x.map((x, i) => toWgs84(x, l.y[i]!).map((v) => round(v, 8))) },
     })),
   };
@@ -75,19 +76,8 @@ export function extents(lines: LineSummary[], toWgs84: ToWgs84): { site: [number
   return { site: [minX, minY, maxX, maxY], wgs84: [Math.min(...lons), Math.min(...lats), Math.max(...lons), Math.max(...lats)] };
 }
 
-export interface RadargramEntry {
-  id: string;
-  file: string;
-  nTraces: number;
-  nSamples: number;
-  dtNs: number;
-  timeZeroNs: number;
-  traceStep: number;
-  x: number[];
-  y: number[];
-  lon: number[];
-  lat: number[];
-}
+/** A line of radargrams/index.json (its contract: radargramLineSchema in @lamina/contracts). */
+export type RadargramEntry = RadargramLine;
 
 /**
  * Write a display radargram: little-endian Float32, trace-major, every `traceStep`-th trace, and its

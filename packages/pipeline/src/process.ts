@@ -1,5 +1,6 @@
 import { readFile, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
+import type { RunJson } from '@lamina/contracts';
 import { InputError, isInputError } from '@lamina/errors';
 import { lockFolder, stageFolder, type FolderLock } from '@lamina/atomic';
 import { checkPlanNearSurvey, loadSite, pointToWgs84, shownPath, type Site } from '@lamina/site';
@@ -262,7 +263,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     await writeJson(stage.path, 'plan.geojson', planGeoJson(site.plan));
     await writeRadargramIndex(stage.path, p1.map((r) => r.radargramEntry));
     const identity = { name: site.name, crs: site.crs.input, extent: ext.wgs84 };
-    await writeJson(stage.path, 'run.json', {
+    const run: RunJson = {
       tool: { name: 'lamina', version: VERSION },
       createdAt: now.toISOString(),
       site: { ...siteSummary(site), extentWgs84: ext.wgs84, extentSite: ext.site },
@@ -272,7 +273,8 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       log,
       threads,
       lines: summaries.map((l) => ({ id: l.id, file: l.file, traces: l.traces, samples: l.samples, dtNs: l.dtNs, lengthM: l.lengthM })),
-    });
+    };
+    await writeJson(stage.path, 'run.json', run);
 
     // From the last read of review.json to the commit, no review save may land in the old folder (it
     // would be lost): the viewer and export wait for this lock.

@@ -8,7 +8,8 @@ export { mulberry32 as rng } from '@lamina/random';
 export const DATA = join(dirname(fileURLToPath(import.meta.url)), 'data');
 
 /** Debian's interpreter (numpy, segyio): not the `python3` first on PATH. */
-export const PYTHON = '/usr/bin/python3';
+export { PYTHON } from '@lamina/test-utils';
+import { PYTHON } from '@lamina/test-utils';
 
 export function python(args: string[], input?: string): string {
   return execFileSync(PYTHON, args, { encoding: 'utf8', input, maxBuffer: 256 << 20 });

@@ -1,34 +1,10 @@
-import type { Origin } from '@lamina/velocity';
+import type { AnomalyProperties, Evidence, TestName } from '@lamina/contracts';
 
-export type TestName =
-  | 'move-out'
-  | 'move-out-slope'
-  | 'edge-alignment'
-  | 'post-spacing'
-  | 'air-hyperbola'
-  | 'soil-hyperbola'
-  | 'unsurveyed-obstruction'
-  | 'before-background'
-  | 'continuity';
+type AnomalyOrigin = AnomalyProperties['origin'];
 
-/** One piece of screening evidence (a row of the viewer's evidence table). */
-export interface Evidence {
-  test: TestName;
-  /** Plan feature the test was run against; null for a test against no feature (unsurveyed obstruction). */
-  featureId: string | null;
-  measured: number;
-  expected: number;
-  tolerance: number;
-  units: string;
-  passed: boolean;
-  detail: string;
-  /** Log-odds this item adds for "above-ground" (see `combine`); 0 when inconclusive. */
-  weight: number;
-  /** Slice index the item refers to, when it refers to one. */
-  slice?: number;
-  /** Geometry (WGS84 in anomalies.geojson, site CRS inside the library) where an unsurveyed object must stand. */
-  geometry?: { type: 'Point'; coordinates: [number, number] } | { type: 'LineString'; coordinates: [number, number][] };
-}
+// One piece of screening evidence (a row of the viewer's evidence table) is a contract of
+// anomalies.geojson: its type and the test names live in @lamina/contracts.
+export type { Evidence, TestName };
 
 /**
  * Log-odds weights of the evidence. They express how strongly each observation separates an
@@ -59,7 +35,8 @@ export const WEIGHTS = {
 } as const;
 
 export interface Verdict {
-  origin: Origin;
+  /** An anomaly is one or the other (anomalies.geojson `origin`); `implausible` is for velocity fits only. */
+  origin: AnomalyOrigin;
   /** Probability of the assigned origin, in [0.5, 1]. */
   confidence: number;
   /** Probability of above-ground, in (0, 1). */
@@ -72,6 +49,6 @@ export function combine(evidence: Evidence[]): Verdict {
   let l = WEIGHTS.prior;
   for (const e of evidence) l += e.weight;
   const p = 1 / (1 + Math.exp(-l));
-  const origin: Origin = p >= 0.5 ? 'above-ground' : 'subsurface';
+  const origin: AnomalyOrigin = p >= 0.5 ? 'above-ground' : 'subsurface';
   return { origin, pAboveGround: p, confidence: origin === 'above-ground' ? p : 1 - p, logOdds: l };
 }

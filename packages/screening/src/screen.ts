@@ -18,6 +18,7 @@ import {
   type Member,
   type Shape,
 } from '@lamina/anomalies';
+import type { AnomalyProperties } from '@lamina/contracts';
 import type { PlanFeature } from '@lamina/site';
 import type { SliceGrid, SliceStack } from '@lamina/slices';
 import type { VelocityReport } from '@lamina/velocity';
@@ -364,7 +365,7 @@ function surveyDirection(lines: ScreenInput['lines']): number {
  * group becomes one anomaly of all its members, with the evidence and verdict of its largest piece.
  */
 function joinPieces(screened: ScreenedAnomaly[], fromBefore: Set<Anomaly3D>, ctx: ClassifyContext, grid: SliceGrid, stack: SliceStack, options: ScreenOptions, mpu: number): void {
-  const idx = screened.map((s, i) => i).filter((i) => screened[i]!.verdict.origin !== 'above-ground' && !fromBefore.has(screened[i]!.anomaly));
+  const idx = screened.map((_s, i) => i).filter((i) => screened[i]!.verdict.origin !== 'above-ground' && !fromBefore.has(screened[i]!.anomaly));
   const groups = joinAlignedPieces(idx.map((i) => screened[i]!.anomaly), grid, ctx.lineSpacingM, (z) => maxUtilityWidthM(z, ctx, options.classes), { ...options, metresPerUnit: mpu });
   const drop = new Set<number>();
   for (const g of groups) {
@@ -439,7 +440,7 @@ export function anomalyFeature(s: ScreenedAnomaly, grid: SliceGrid, toWgs84: ToW
         strengthDb: Number.isFinite(m.strengthDb) ? Math.round(m.strengthDb * 100) / 100 : null,
       })),
       metresPerUnit,
-    },
+    } satisfies AnomalyProperties,
   };
 }
 

@@ -2,32 +2,15 @@ import { mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { encodeCog, readGeoTiff, type CogCrs, type CogOptions } from '@lamina/cog';
 import { InputError } from '@lamina/errors';
+import { checkContract, parseJsonText, slicesSchema, type SliceStatsJson, type SlicesJson } from '@lamina/contracts';
 import type { GriddingInfo, Slice, SliceGrid, SliceStack } from './stack';
 import { sliceStats, type SliceStats } from './stats';
 
-/** The content of slices.json (a contract: the anomalies, screening and viewer packages read it). */
-export interface SlicesJson {
-  version: 1;
-  /** The GeoTIFF beside this file; band `slices[k].band` (1-based) is slice k. */
-  file: string;
-  crs: string;
-  /** EPSG code of the CRS when it has one, else null. */
-  epsg: number | null;
-  metresPerUnit: number;
-  isGeographic: boolean;
-  /** Top-left corner of the top-left cell, CRS units; rows run north to south. */
-  originX: number;
-  originY: number;
-  /** CRS units, square cells. */
-  cellSize: number;
-  width: number;
-  height: number;
-  nodata: number;
-  gridding: GriddingInfo | null;
-  slices: { index: number; band: number; topM: number; bottomM: number; stats: NullableStats }[];
-}
+// The content of slices.json is a contract (the anomalies, screening, targets and viewer read it):
+// slicesSchema in @lamina/contracts.
+export type { SlicesJson };
 
-type NullableStats = { [K in keyof SliceStats]: number | null };
+type NullableStats = SliceStatsJson;
 
 export const SLICES_TIF = 'slices.tif';
 export const SLICES_JSON = 'slices.json';
@@ -149,19 +132,13 @@ async function replaceWith(path: string, write: (tmp: string) => Promise<unknown
 /** Read and check slices.json. */
 export async function readSlicesJson(dir: string): Promise<SlicesJson> {
   const path = join(dir, SLICES_JSON);
-  let raw: unknown;
+  let text: string;
   try {
-    raw = JSON.parse(await readFile(path, 'utf8'));
+    text = await readFile(path, 'utf8');
   } catch (e) {
     throw new InputError(path, `expected JSON, found ${(e as Error).message}`);
   }
-  const j = raw as Partial<SlicesJson>;
-  for (const f of ['originX', 'originY', 'cellSize', 'width', 'height', 'nodata'] as const) {
-    if (typeof j[f] !== 'number') throw new InputError(path, `expected a number, found ${JSON.stringify(j[f])}`, { field: f });
-  }
-  if (typeof j.crs !== 'string') throw new InputError(path, `expected a string, found ${JSON.stringify(j.crs)}`, { field: 'crs' });
-  if (!Array.isArray(j.slices)) throw new InputError(path, 'expected an array', { field: 'slices' });
-  return raw as SlicesJson;
+  return checkContract(slicesSchema, parseJsonText(text, path), path);
 }
 
 /** Read slices.json + slices.tif (with the `geotiff` package) back into a stack. */

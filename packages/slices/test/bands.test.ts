@@ -7,7 +7,8 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { gridPoints, gridSpill, gridSpillSync, PointSpill, SpillGridder, sliceWindows, surveyGeometry, surveyGeometryOf, SliceBuilder } from '../src';
 import { constantModel } from '@lamina/velocity';
-import { rng, tempDir } from './gdal';
+import { mulberry32 as rng } from '@lamina/random';
+import { tempDir } from '@lamina/test-utils';
 
 /** Wiggly, unevenly spaced lines of our own (GPS-like jitter), values per trace with some NaN. */
 function survey(nLines: number, nTraces: number, nValues: number, seed: number, nanEvery = 0) {

@@ -9,7 +9,7 @@ import {
   type LineInput,
 } from '../src';
 import { constantModel, timeFromDepth } from '@lamina/velocity';
-import { rng } from './gdal';
+import { mulberry32 as rng } from '@lamina/random';
 
 const V = 0.1; // m/ns
 const SEP = 0.1; // m

@@ -3,7 +3,8 @@ import { execFileSync } from 'node:child_process';
 import { readdirSync, readFileSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { DiskStack, writeSlices, writeSlicesFromDisk, type GriddingInfo, type SliceGrid, type SliceStack } from '../src';
-import { rng, tempDir } from './gdal';
+import { mulberry32 as rng } from '@lamina/random';
+import { tempDir, PYTHON } from '@lamina/test-utils';
 
 const dir = tempDir('lamina-disk-stack-');
 
@@ -49,7 +50,7 @@ describe('DiskStack', () => {
     expect(statSync(path).size).toBe(300 * 200 * 3 * 4);
     for (let k = 0; k < 3; k++) expect(disk.readRows(k, 0, 200).every((v) => v === -9999)).toBe(true);
     // numpy (Debian python3-numpy) reads the raw file as little-endian Float32.
-    const out = execFileSync('/usr/bin/python3', ['-c', `import numpy as np; a=np.fromfile(${JSON.stringify(path)}, '<f4'); print(a.size, int((a == -9999).sum()))`], {
+    const out = execFileSync(PYTHON, ['-c', `import numpy as np; a=np.fromfile(${JSON.stringify(path)}, '<f4'); print(a.size, int((a == -9999).sum()))`], {
       encoding: 'utf8',
     });
     expect(out.trim()).toBe(`${300 * 200 * 3} ${300 * 200 * 3}`);

@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { buildIndex, idwGrid, idwGridParallel, nearestWithin, searchFrame, type SliceGrid } from '../src';
-import { gdalGridInvdistnn, rng } from './gdal';
+import { mulberry32 as rng } from '@lamina/random';
+import { gdalGridInvdistnn } from '@lamina/test-utils';
 
 const NODATA = -9999;
 

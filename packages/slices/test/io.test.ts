@@ -2,7 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { readSlices, sliceStats, writeSlices, type SliceStack } from '../src';
-import { gdalinfoJson, readRasterPython, rng, tempDir, validateCog } from './gdal';
+import { mulberry32 as rng } from '@lamina/random';
+import { gdalinfoJson, readRasterPython, tempDir, validateCog } from '@lamina/test-utils';
 
 function syntheticStack(crs: string, width: number, height: number, nSlices: number, metresPerUnit = 1): SliceStack {
   const r = rng(3);

@@ -1,20 +1,11 @@
+import { UTILITY_TYPES, type UtilityType } from '@lamina/contracts';
+
+export { UTILITY_TYPES, type UtilityType };
+
 /**
  * APWA uniform colour code for marking underground utilities (as adopted in ANSI Z535.1 safety colours;
  * colours from memory of the published chart, hex values our own choice of a clear screen colour).
  */
-export const UTILITY_TYPES = [
-  'electric',
-  'communication',
-  'gas',
-  'water',
-  'reclaimed',
-  'sewer',
-  'temporary-survey',
-  'proposed-excavation',
-  'unknown',
-] as const;
-export type UtilityType = (typeof UTILITY_TYPES)[number];
-
 export const APWA_COLOURS: Record<UtilityType, { name: string; hex: string; meaning: string }> = {
   electric: { name: 'red', hex: '#e41a1c', meaning: 'Electric power lines, cables, conduit and lighting cables' },
   communication: { name: 'orange', hex: '#ff7f00', meaning: 'Communication, alarm or signal lines, cables or conduit' },

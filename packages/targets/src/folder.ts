@@ -5,9 +5,10 @@ import { join } from 'node:path';
 import { InputError } from '@lamina/errors';
 import { resolveCrs } from '@lamina/site';
 import type { Crs } from '@lamina/site';
-import type { SiteIdentity } from './review';
+import { anomaliesSchema, checkContract, runSchema, slicesSchema, velocitySchema } from '@lamina/contracts';
+import type { AnomalyFeature as AnomalyFeatureJson, Box, EvidenceRow, SliceEntry, RunLine, SiteIdentity, SlicesJson, VelocityJson } from '@lamina/contracts';
 
-/** What export needs from run.json (written by the pipeline); other fields are carried but not required. */
+/** What export needs from run.json (its contract: `runSchema` in @lamina/contracts), the CRS resolved. */
 export interface RunInfo {
   createdAt?: string;
   toolVersion?: string;
@@ -17,63 +18,26 @@ export interface RunInfo {
     name: string;
     crs: Crs;
     antenna?: { frequencyMHz?: number; separationM?: number };
-    extentWgs84?: [number, number, number, number];
-    extentSite?: [number, number, number, number];
+    extentWgs84?: Box;
+    extentSite?: Box;
     surveyDate?: string;
   };
   identity: SiteIdentity;
-  lines: { id: string; traces?: number; lengthM?: number }[];
+  lines: RunLine[];
 }
 
-export interface AnomalyFeature {
-  type: 'Feature';
-  geometry: { type: string; coordinates: unknown } | null;
-  properties: Record<string, unknown> & {
-    id: string;
-    depthTopM: number;
-    depthBottomM: number;
-    origin: 'subsurface' | 'above-ground';
-    confidence: number;
-    evidence: EvidenceItem[];
-  };
-}
+export type { EvidenceRow as EvidenceItem, SlicesJson as SlicesInfo, SliceEntry as SliceInfo };
 
-export interface EvidenceItem {
-  test?: string;
-  featureId?: string | null;
-  measured?: unknown;
-  expected?: unknown;
-  tolerance?: unknown;
-  units?: string;
-  passed?: boolean;
-  detail?: string;
-}
+/** An anomaly as read (the contract's feature, `evidence` an empty list where the file has none). */
+export type AnomalyFeature = AnomalyFeatureJson & { properties: { evidence: EvidenceRow[] } };
 
+/** velocity.json's site figures (non-finite ones absent) and the file as it is. */
 export interface VelocityInfo {
   velocityMPerNs: number;
   permittivity?: number;
   spreadMPerNs?: number;
   fitCount?: number;
-  raw: Record<string, unknown>;
-}
-
-export interface SliceInfo {
-  index: number;
-  band: number;
-  topM: number;
-  bottomM: number;
-  stats?: { p2?: number; p98?: number; min?: number; max?: number; validCount?: number };
-}
-
-export interface SlicesInfo {
-  file: string;
-  width: number;
-  height: number;
-  nodata?: number;
-  originX?: number;
-  originY?: number;
-  cellSize?: number;
-  slices: SliceInfo[];
+  raw: VelocityJson;
 }
 
 export async function readJsonFile(file: string, options: { optional?: boolean } = {}): Promise<unknown> {
@@ -95,59 +59,36 @@ export async function readJsonFile(file: string, options: { optional?: boolean }
 }
 
 const isObj = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
-const num = (v: unknown): number | undefined => (typeof v === 'number' && Number.isFinite(v) ? v : undefined);
-
-function need<T>(file: string, field: string, v: T | undefined, expected: string, found: unknown): T {
-  if (v === undefined) throw new InputError(file, `expected ${expected}, found ${JSON.stringify(found) ?? 'nothing'}`, { field });
-  return v;
-}
-
-function bbox(v: unknown): [number, number, number, number] | undefined {
-  return Array.isArray(v) && v.length === 4 && v.every((x) => typeof x === 'number' && Number.isFinite(x)) ? (v as [number, number, number, number]) : undefined;
-}
+const num = (v: number | null | undefined): number | undefined => (typeof v === 'number' && Number.isFinite(v) ? v : undefined);
 
 export async function readRun(outDir: string): Promise<RunInfo> {
   const file = join(outDir, 'run.json');
-  const j = await readJsonFile(file);
-  if (!isObj(j)) throw new InputError(file, 'expected a JSON object', { field: '(root)' });
-  const site = need(file, 'site', isObj(j.site) ? j.site : undefined, 'an object', j.site);
-  const name = need(file, 'site.name', typeof site.name === 'string' ? site.name : undefined, 'a string', site.name);
-  const c = need(file, 'site.crs', isObj(site.crs) ? site.crs : undefined, 'an object', site.crs);
+  const j = checkContract(runSchema, await readJsonFile(file), file);
+  const site = j.site;
+  const c = site.crs;
   // proj4 first (it is what the run actually used); the code names the CRS in outputs.
-  const def = typeof c.proj4 === 'string' ? c.proj4 : typeof c.input === 'string' ? c.input : undefined;
-  need(file, 'site.crs.proj4', def, 'a proj4 string', c.proj4);
-  const resolved = resolveCrs(def!, { file, field: 'site.crs.proj4' });
-  const code = typeof c.code === 'string' ? c.code : undefined;
-  const crs: Crs = { ...resolved, input: typeof c.input === 'string' ? c.input : resolved.input, ...(code ? { code } : {}) };
-  const mpu = num(c.metresPerUnit);
-  if (mpu !== undefined && Math.abs(mpu - crs.metresPerUnit) > 1e-12) {
-    throw new InputError(file, `expected metresPerUnit ${crs.metresPerUnit} from the proj4 definition, found ${mpu}`, { field: 'site.crs.metresPerUnit' });
+  const def = c.proj4 ?? c.input!;
+  const resolved = resolveCrs(def, { file, field: 'site.crs.proj4' });
+  const crs: Crs = { ...resolved, input: c.input ?? resolved.input, ...(c.code ? { code: c.code } : {}) };
+  if (c.metresPerUnit !== undefined && Math.abs(c.metresPerUnit - crs.metresPerUnit) > 1e-12) {
+    throw new InputError(file, `expected metresPerUnit ${crs.metresPerUnit} from the proj4 definition, found ${c.metresPerUnit}`, { field: 'site.crs.metresPerUnit' });
   }
-  const id = need(file, 'identity', isObj(j.identity) ? j.identity : undefined, 'the site identity object', j.identity);
-  const extent = need(file, 'identity.extent', bbox(id.extent), '[west, south, east, north]', id.extent);
-  const identity: SiteIdentity = {
-    name: need(file, 'identity.name', typeof id.name === 'string' ? id.name : undefined, 'a string', id.name),
-    crs: need(file, 'identity.crs', typeof id.crs === 'string' ? id.crs : undefined, 'a string', id.crs),
-    extent,
-  };
-  const antenna = isObj(site.antenna) ? site.antenna : {};
-  const lines = Array.isArray(j.lines) ? j.lines.filter(isObj).map((l) => ({ id: String(l.id), traces: num(l.traces), lengthM: num(l.lengthM) })) : [];
-  const tool = isObj(j.tool) ? j.tool : {};
-  const surveyDate = typeof site.surveyDate === 'string' ? site.surveyDate : typeof site.date === 'string' ? site.date : undefined;
+  const antenna = site.antenna ?? {};
+  const surveyDate = site.surveyDate ?? site.date;
   return {
-    ...(typeof j.createdAt === 'string' ? { createdAt: j.createdAt } : {}),
-    ...(typeof tool.version === 'string' ? { toolVersion: tool.version } : {}),
-    ...(num(j.nearSurfaceM) !== undefined ? { nearSurfaceM: num(j.nearSurfaceM) } : {}),
+    ...(j.createdAt !== undefined ? { createdAt: j.createdAt } : {}),
+    ...(j.tool ? { toolVersion: j.tool.version } : {}),
+    ...(j.nearSurfaceM !== undefined ? { nearSurfaceM: j.nearSurfaceM } : {}),
     site: {
-      name,
+      name: site.name,
       crs,
-      antenna: { ...(num(antenna.frequencyMHz) !== undefined ? { frequencyMHz: num(antenna.frequencyMHz) } : {}), ...(num(antenna.separationM) !== undefined ? { separationM: num(antenna.separationM) } : {}) },
-      ...(bbox(site.extentWgs84) ? { extentWgs84: bbox(site.extentWgs84) } : {}),
-      ...(bbox(site.extentSite) ? { extentSite: bbox(site.extentSite) } : {}),
+      antenna: { ...(antenna.frequencyMHz !== undefined ? { frequencyMHz: antenna.frequencyMHz } : {}), ...(antenna.separationM !== undefined ? { separationM: antenna.separationM } : {}) },
+      ...(site.extentWgs84 ? { extentWgs84: site.extentWgs84 } : {}),
+      ...(site.extentSite ? { extentSite: site.extentSite } : {}),
       ...(surveyDate ? { surveyDate } : {}),
     },
-    identity,
-    lines: lines.map((l) => ({ id: l.id, ...(l.traces !== undefined ? { traces: l.traces } : {}), ...(l.lengthM !== undefined ? { lengthM: l.lengthM } : {}) })),
+    identity: j.identity,
+    lines: (j.lines ?? []).map((l) => ({ id: l.id, ...(l.traces !== undefined ? { traces: l.traces } : {}), ...(l.lengthM !== undefined ? { lengthM: l.lengthM } : {}) })),
   };
 }
 
@@ -182,23 +123,17 @@ async function* featureLines(file: string): AsyncGenerator<{ head: Record<string
   return head && ended;
 }
 
+const featureSchema = anomaliesSchema.shape.features.element;
+
 /** Checks one feature of anomalies.geojson (index `i`; `ids` the ids before it) as readAnomalies does. */
 function anomalyOf(file: string, f: unknown, i: number, ids: Set<string>): AnomalyFeature {
   const at = `features[${i}]`;
-  if (!isObj(f) || !isObj(f.properties)) throw new InputError(file, 'expected a Feature with properties', { field: at });
-  const p = f.properties;
-  const id = need(file, `${at}.properties.id`, typeof p.id === 'string' && p.id.length > 0 ? p.id : undefined, 'a non-empty string', p.id);
-  if (ids.has(id)) throw new InputError(file, `expected unique anomaly ids, found "${id}" twice`, { field: `${at}.properties.id` });
-  ids.add(id);
-  const top = need(file, `${at}.properties.depthTopM`, num(p.depthTopM), 'a depth in metres', p.depthTopM);
-  const bottom = need(file, `${at}.properties.depthBottomM`, num(p.depthBottomM), 'a depth in metres', p.depthBottomM);
-  if (bottom < top) throw new InputError(file, `expected depthBottomM >= depthTopM (${top}), found ${bottom}`, { field: `${at}.properties.depthBottomM` });
-  const origin = p.origin === 'subsurface' || p.origin === 'above-ground' ? p.origin : undefined;
-  need(file, `${at}.properties.origin`, origin, '"subsurface" or "above-ground"', p.origin);
-  const confidence = need(file, `${at}.properties.confidence`, num(p.confidence), 'a number in 0..1', p.confidence);
-  const evidence = Array.isArray(p.evidence) ? (p.evidence.filter(isObj) as EvidenceItem[]) : [];
-  const geometry = isObj(f.geometry) && typeof f.geometry.type === 'string' ? (f.geometry as AnomalyFeature['geometry']) : null;
-  return { type: 'Feature', geometry, properties: { ...p, id, depthTopM: top, depthBottomM: bottom, origin: origin!, confidence, evidence } };
+  const a = checkContract(featureSchema, f, file, { at });
+  const p = a.properties;
+  if (ids.has(p.id)) throw new InputError(file, `expected unique anomaly ids, found "${p.id}" twice`, { field: `${at}.properties.id` });
+  ids.add(p.id);
+  if (p.depthBottomM < p.depthTopM) throw new InputError(file, `expected depthBottomM >= depthTopM (${p.depthTopM}), found ${p.depthBottomM}`, { field: `${at}.properties.depthBottomM` });
+  return { ...a, type: 'Feature', properties: { ...p, evidence: p.evidence ?? [] } };
 }
 
 const collectionError = (file: string, j: unknown) =>
@@ -262,45 +197,16 @@ export async function readAnomalies(outDir: string): Promise<AnomalyFeature[]> {
 /** velocity.json; a missing file is an error (depths and their uncertainty come from it). */
 export async function readVelocity(outDir: string): Promise<VelocityInfo> {
   const file = join(outDir, 'velocity.json');
-  const j = await readJsonFile(file);
-  if (!isObj(j) || !isObj(j.site)) throw new InputError(file, 'expected an object with "site"', { field: 'site' });
-  const v = num(j.site.velocityMPerNs);
-  if (v === undefined || !(v > 0)) throw new InputError(file, `expected a positive velocity in m/ns, found ${JSON.stringify(j.site.velocityMPerNs)}`, { field: 'site.velocityMPerNs' });
+  const j = checkContract(velocitySchema, await readJsonFile(file), file);
   const spread = num(j.site.spreadMPerNs);
   const k = num(j.site.permittivity);
   const n = num(j.site.fitCount);
-  return { velocityMPerNs: v, ...(k !== undefined ? { permittivity: k } : {}), ...(spread !== undefined ? { spreadMPerNs: Math.abs(spread) } : {}), ...(n !== undefined ? { fitCount: n } : {}), raw: j };
+  return { velocityMPerNs: j.site.velocityMPerNs, ...(k !== undefined ? { permittivity: k } : {}), ...(spread !== undefined ? { spreadMPerNs: Math.abs(spread) } : {}), ...(n !== undefined ? { fitCount: n } : {}), raw: j };
 }
 
 /** slices.json; missing is allowed (the report then has no thumbnails). */
-export async function readSlicesInfo(outDir: string): Promise<SlicesInfo | undefined> {
+export async function readSlicesInfo(outDir: string): Promise<SlicesJson | undefined> {
   const file = join(outDir, 'slices.json');
   const j = await readJsonFile(file, { optional: true });
-  if (j === undefined) return undefined;
-  if (!isObj(j) || !Array.isArray(j.slices)) throw new InputError(file, 'expected an object with a "slices" array', { field: 'slices' });
-  const width = need(file, 'width', num(j.width), 'a width in cells', j.width);
-  const height = need(file, 'height', num(j.height), 'a height in cells', j.height);
-  const slices = j.slices.map((s, i): SliceInfo => {
-    if (!isObj(s)) throw new InputError(file, 'expected an object', { field: `slices[${i}]` });
-    const topM = need(file, `slices[${i}].topM`, num(s.topM), 'a depth in metres', s.topM);
-    const bottomM = need(file, `slices[${i}].bottomM`, num(s.bottomM), 'a depth in metres', s.bottomM);
-    const st = isObj(s.stats) ? s.stats : undefined;
-    return {
-      index: num(s.index) ?? i,
-      band: num(s.band) ?? i + 1,
-      topM,
-      bottomM,
-      ...(st ? { stats: { p2: num(st.p2), p98: num(st.p98), min: num(st.min), max: num(st.max), validCount: num(st.validCount) } } : {}),
-    };
-  });
-  return {
-    file: typeof j.file === 'string' ? j.file : 'slices.tif',
-    width,
-    height,
-    ...(num(j.nodata) !== undefined ? { nodata: num(j.nodata) } : {}),
-    ...(num(j.originX) !== undefined ? { originX: num(j.originX) } : {}),
-    ...(num(j.originY) !== undefined ? { originY: num(j.originY) } : {}),
-    ...(num(j.cellSize) !== undefined ? { cellSize: num(j.cellSize) } : {}),
-    slices,
-  };
+  return j === undefined ? undefined : checkContract(slicesSchema, j, file);
 }

@@ -1,3 +1,4 @@
+import type { TargetFields } from '@lamina/contracts';
 import type { Crs } from '@lamina/site';
 import { FOOT_M, pointAlong, type Geometry, type Target } from './targets';
 
@@ -14,7 +15,7 @@ export interface ExportContext {
 const ft = (m: number | null) => (m === null ? null : Math.round((m / FOOT_M) * 1e4) / 1e4);
 
 /** The fixed property set of targets.geojson and the GeoPackage attribute table, with SQLite types. */
-export const TARGET_FIELDS: readonly (readonly [string, 'TEXT' | 'REAL'])[] = [
+export const TARGET_FIELDS: readonly (readonly [keyof TargetFields, 'TEXT' | 'REAL'])[] = [
   ['id', 'TEXT'], ['depthTopM', 'REAL'], ['depthBottomM', 'REAL'], ['origin', 'TEXT'], ['confidence', 'REAL'],
   ['depthTopFt', 'REAL'], ['depthBottomFt', 'REAL'], ['depthUncertaintyM', 'REAL'], ['depthUncertaintyFt', 'REAL'],
   ['depthBottomUncertaintyM', 'REAL'], ['depthBottomUncertaintyFt', 'REAL'], ['kind', 'TEXT'], ['utilityType', 'TEXT'],
@@ -31,7 +32,7 @@ export const TARGET_FIELDS: readonly (readonly [string, 'TEXT' | 'REAL'])[] = [
 export const qualityLevel = (t: Target): 'B' | null => (t.decision === 'accepted' ? 'B' : null);
 
 /** The properties of one target, keyed as TARGET_FIELDS. */
-export function targetProperties(t: Target, ctx: ExportContext): Record<string, string | number | null> {
+export function targetProperties(t: Target, ctx: ExportContext): TargetFields {
   return {
     id: t.id,
     depthTopM: t.depthTopM,

@@ -7,7 +7,6 @@ import type { Thumbnail } from './thumbnails';
 
 const esc = (s: unknown) => String(s ?? '').replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
 const f = (v: number | null | undefined, d = 2) => (v === null || v === undefined || !Number.isFinite(v) ? '–' : v.toFixed(d));
-const isObj = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
 
 export interface ReportInput {
   run: RunInfo;
@@ -83,10 +82,9 @@ export function* reportParts<R>(page: ReportPage, rows: ReportRows<R>): Generato
   const mpu = s.crs.metresPerUnit;
   const unit = s.crs.units === 'm' ? 'm' : s.crs.units === 'us-ft' ? 'US survey ft' : 'ft';
   const vr = velocity.raw;
-  const hyper = Array.isArray(vr.hyperbolas) ? vr.hyperbolas.filter(isObj) : [];
-  const model = isObj(vr.model) ? vr.model : {};
-  const layers = Array.isArray(model.layers) ? model.layers.filter(isObj) : [];
-  const moisture = isObj(vr.site) && isObj(vr.site.moisture) ? vr.site.moisture : undefined;
+  const hyper = vr.hyperbolas ?? [];
+  const layers = vr.model?.layers ?? [];
+  const moisture = vr.site.moisture;
   const num = (v: unknown, d = 3) => (typeof v === 'number' ? f(v, d) : '–');
 
   const cautions = `<section class="cautions"><h2>Cautions</h2><ul>${CAUTIONS.map((c) => `<li>${esc(c)}</li>`).join('')}</ul></section>`;

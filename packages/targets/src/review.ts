@@ -1,55 +1,10 @@
 import { readFile } from 'node:fs/promises';
-import { z } from 'zod';
 import { InputError } from '@lamina/errors';
 import { writeFileAtomic } from '@lamina/atomic';
-import { UTILITY_TYPES } from './apwa';
+import { checkContract, decisionSchema, reviewSchema, siteIdentitySchema, type Decision, type Review, type SiteIdentity } from '@lamina/contracts';
 
-/**
- * review.json: the user's decisions on anomalies, kept across reruns of `process`.
- * Decisions are matched to anomalies by id first, then by geometry (`anchor`), because a rerun with a
- * changed recipe renumbers anomalies.
- */
-export const decisionSchema = z
-  .object({
-    anomalyId: z.string().min(1),
-    anchor: z
-      .object({
-        lon: z.number().min(-180).max(180),
-        lat: z.number().min(-90).max(90),
-        depthTopM: z.number(),
-        depthBottomM: z.number(),
-      })
-      .strict(),
-    decision: z.enum(['accept', 'reject', 'undecided']),
-    /** Relabel: the user's origin when it differs from the screening's. */
-    origin: z.enum(['subsurface', 'above-ground']).optional(),
-    utilityType: z.enum(UTILITY_TYPES).optional(),
-    label: z.string().max(200).optional(),
-    note: z.string().max(4000).optional(),
-    updatedAt: z.string().datetime(),
-    by: z.string().max(200).optional(),
-  })
-  .strict();
-export type Decision = z.infer<typeof decisionSchema>;
-
-export const siteIdentitySchema = z
-  .object({
-    name: z.string(),
-    crs: z.string(),
-    /** WGS84 bounds of the surveyed area: [west, south, east, north]. */
-    extent: z.tuple([z.number(), z.number(), z.number(), z.number()]),
-  })
-  .strict();
-export type SiteIdentity = z.infer<typeof siteIdentitySchema>;
-
-export const reviewSchema = z
-  .object({
-    version: z.literal(1),
-    site: siteIdentitySchema,
-    decisions: z.array(decisionSchema),
-  })
-  .strict();
-export type Review = z.infer<typeof reviewSchema>;
+// review.json's schema lives in @lamina/contracts (the viewer's server writes it too).
+export { decisionSchema, siteIdentitySchema, reviewSchema, type Decision, type SiteIdentity, type Review };
 
 export function emptyReview(site: SiteIdentity): Review {
   return { version: 1, site, decisions: [] };
@@ -57,13 +12,7 @@ export function emptyReview(site: SiteIdentity): Review {
 
 /** Validate parsed JSON as a review; `file` names the source in errors. */
 export function parseReview(json: unknown, file: string): Review {
-  const r = reviewSchema.safeParse(json);
-  if (!r.success) {
-    const issue = r.error.issues[0]!;
-    const path = issue.path.map((p) => (typeof p === 'number' ? `[${p}]` : `.${String(p)}`)).join('').replace(/^\./, '');
-    throw new InputError(file, `${issue.message}${r.error.issues.length > 1 ? ` (and ${r.error.issues.length - 1} more problems)` : ''}`, { field: path || '(root)' });
-  }
-  return r.data;
+  return checkContract(reviewSchema, json, file);
 }
 
 /** True when two site identities describe the same survey (same name and CRS, overlapping extents). */

@@ -67,7 +67,7 @@ export async function sliceThumbnails(outDir: string, info: SlicesInfo, options:
     const valid = (v: number) => Number.isFinite(v) && v !== nodata;
     let lo = s.stats?.p2;
     let hi = s.stats?.p98;
-    if (lo === undefined || hi === undefined) {
+    if (lo == null || hi == null) {
       lo = Infinity;
       hi = -Infinity;
       for (let i = 0; i < values.length; i++) {

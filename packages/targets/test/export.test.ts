@@ -1,7 +1,9 @@
+import { PYTHON } from '@lamina/test-utils';
 import { spawnSync } from 'node:child_process';
 import { readFile, readdir, stat, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
+import { FOLDER_FILES, checkFolder, targetFieldsSchema } from '@lamina/contracts';
 import { lookupEpsg } from '@lamina/site';
 import { CAUTIONS } from '@lamina/constants';
 import { APWA_COLOURS, CSV_COLUMNS, TARGET_FIELDS, exportTargets, readAnomalies, type ExportResult } from '../src';
@@ -100,8 +102,16 @@ describe('exportTargets on an EPSG:32617 (metre) folder', () => {
     expect(byId.C.properties.utilityType).toBeNull();
   });
 
+  // The fixture folder and what export wrote into it keep the contracts of @lamina/contracts; the
+  // GeoPackage's fields are the contract's target fields in order.
+  it('the folder parses with @lamina/contracts and the target fields are the contract\'s', async () => {
+    const names = FOLDER_FILES.map(([n]) => n);
+    expect(await checkFolder(fx.dir)).toEqual(names.filter((n) => ['run.json', 'velocity.json', 'slices.json', 'anomalies.geojson', 'review.json', 'targets.geojson'].includes(n)));
+    expect(TARGET_FIELDS.map(([n]) => n)).toEqual(Object.keys(targetFieldsSchema.shape));
+  });
+
   it('targets.gpkg passes GDAL validate_gpkg and opens with both layers, counts, CRS and fields', async () => {
-    const v = run('/usr/bin/python3', ['-m', 'osgeo_utils.samples.validate_gpkg', join(fx.dir, 'targets.gpkg')]);
+    const v = run(PYTHON, ['-m', 'osgeo_utils.samples.validate_gpkg', join(fx.dir, 'targets.gpkg')]);
     expect(v.out.trim()).toBe('');
     expect(v.code).toBe(0);
     const so = run('ogrinfo', ['-al', '-so', join(fx.dir, 'targets.gpkg')]).out;
@@ -217,7 +227,7 @@ describe('exportTargets on US-survey-foot sites', () => {
     const fx = await makeFolder({ crs: 'EPSG:2264', origin: [2100000, 740000], decisions: standardDecisions });
     await exportTargets(fx.dir, { now: NOW });
     const d = ogrDump(fx.dir);
-    expect(run('/usr/bin/python3', ['-m', 'osgeo_utils.samples.validate_gpkg', join(fx.dir, 'targets.gpkg')]).code).toBe(0);
+    expect(run(PYTHON, ['-m', 'osgeo_utils.samples.validate_gpkg', join(fx.dir, 'targets.gpkg')]).code).toBe(0);
     expect(d.gpkg.targets.auth).toBe('2264');
     // US survey foot = 1200/3937 m (NIST SP 811; EPSG unit 9003).
     expect(d.gpkg.targets.toMeter).toBeCloseTo(1200 / 3937, 12);
@@ -234,7 +244,7 @@ describe('exportTargets on US-survey-foot sites', () => {
     const def = lookupEpsg(2264)!;
     const fx = await makeFolder({ crs: def, origin: [2100000, 740000], decisions: standardDecisions });
     await exportTargets(fx.dir, { now: NOW });
-    expect(run('/usr/bin/python3', ['-m', 'osgeo_utils.samples.validate_gpkg', join(fx.dir, 'targets.gpkg')]).code).toBe(0);
+    expect(run(PYTHON, ['-m', 'osgeo_utils.samples.validate_gpkg', join(fx.dir, 'targets.gpkg')]).code).toBe(0);
     const same = py(
       `
 import sys

@@ -20,7 +20,8 @@ export interface FixtureOptions {
   review?: boolean;
 }
 
-export const PY = '/usr/bin/python3';
+export { PYTHON as PY } from '@lamina/test-utils';
+import { PYTHON as PY } from '@lamina/test-utils';
 
 export function py(script: string, args: string[] = []): string {
   const r = spawnSync(PY, ['-c', script, ...args], { encoding: 'utf8' });

@@ -1,52 +1,12 @@
-/** tiles.json: what `lamina tiles` writes and how a batch engine reads it. */
+/** tiles.json: what `lamina tiles` writes and how a batch engine reads it (tilesSchema in @lamina/contracts). */
 import { readFile } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
+import { checkContract, tilesSchema, type TileEntry, type TileLine, type TilesManifest } from '@lamina/contracts';
 import { InputError } from '@lamina/errors';
 import { shownPath } from '@lamina/site';
-import { tileOf, type Box } from './grid';
+import { tileOf } from './grid';
 
-export interface TileLine {
-  /** Line id in the tile site. */
-  id: string;
-  /** Line id in the original site. */
-  source: string;
-  /** SEG-Y file as written in the tile site.json. */
-  file: string;
-  /** First and last trace of the original line (0-based, inclusive). */
-  first: number;
-  last: number;
-  /** For a piece: the `traces` range of the file written into the tile's site.json (0-based, inclusive). */
-  traces?: [number, number];
-}
-
-export interface TileEntry {
-  id: string;
-  /** Folder relative to the manifest. */
-  dir: string;
-  col: number;
-  row: number;
-  /** The tile square in site CRS units: results inside it belong to this tile. */
-  core: Box;
-  /** The square grown by the overlap: traces inside it are in the tile. */
-  bounds: Box;
-  traces: number;
-  lines: TileLine[];
-  planFeatures: number;
-  /** The one command that processes the tile (run from the manifest's folder). */
-  command: string;
-}
-
-export interface TilesManifest {
-  version: 1;
-  site: { name: string; dir: string; crs: string; units: string; metresPerUnit: number };
-  sizeM: number;
-  overlapM: number;
-  planMarginM: number;
-  /** Tile (col, row) covers x in [col * size, (col + 1) * size), y likewise, in site CRS units. */
-  sizeUnits: number;
-  traces: number;
-  tiles: TileEntry[];
-}
+export type { TileLine, TileEntry, TilesManifest };
 
 /** The tile of a manifest that owns a point (site CRS units): use it to keep one copy of an anomaly seen by two tiles. */
 export function ownerTile(manifest: TilesManifest, x: number, y: number): TileEntry | undefined {
@@ -63,10 +23,7 @@ export async function readTilesManifest(path: string): Promise<TilesManifest> {
   } catch (e) {
     throw new InputError(shownPath(file), `expected a tiles.json manifest, found ${e instanceof SyntaxError ? 'invalid JSON' : 'no readable file'}`);
   }
-  if (typeof m !== 'object' || m === null || (m as { version?: unknown }).version !== 1 || !Array.isArray((m as { tiles?: unknown }).tiles)) {
-    throw new InputError(shownPath(file), 'expected a tiles.json manifest of version 1 with a "tiles" array', { field: 'version' });
-  }
-  return m as TilesManifest;
+  return checkContract(tilesSchema, m, shownPath(file));
 }
 
 export const manifestDir = (path: string): string => (path.endsWith('.json') ? dirname(path) : path);

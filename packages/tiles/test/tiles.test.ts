@@ -1,3 +1,4 @@
+import { PYTHON } from '@lamina/test-utils';
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, mkdtempSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -155,7 +156,7 @@ describe('writeTiles', () => {
     const e = t.lines.find((l) => l.traces)!;
     const file = join(outDir, t.dir, e.file);
     const py = 'import segyio,sys\nwith segyio.open(sys.argv[1], ignore_geometry=True) as f:\n  print(f.tracecount, float(f.trace[int(sys.argv[2])][5]))';
-    const r = spawnSync('/usr/bin/python3', ['-c', py, file, String(e.traces![0])], { encoding: 'utf8' });
+    const r = spawnSync(PYTHON, ['-c', py, file, String(e.traces![0])], { encoding: 'utf8' });
     expect(r.status, r.stderr).toBe(0);
     const [count, s5] = r.stdout.trim().split(' ').map(Number);
     const orig = originals.get(e.source)!;

@@ -1,6 +1,6 @@
 import { InputError } from '@lamina/errors';
 import type { RadarLine } from '@lamina/radar-data';
-import { z } from 'zod';
+import { checkContract, parseJsonText, picksSchema, type ManualHyperbola, type PicksFile } from '@lamina/contracts';
 import { alongLine } from './along';
 import { pointAlong } from './detect';
 import { fitHyperbola, type FitOptions } from './fit';
@@ -8,66 +8,12 @@ import type { HyperbolaFit } from './model';
 import { lineDirection } from './oblique';
 import { toHyperbolaFit } from './report';
 
-/**
- * Manual picks file (JSON):
- * ```
- * { "hyperbolas": [
- *     { "line": "L03", "label": "optional note",
- *       "picks": [ { "trace": 118, "timeNs": 21.4 }, { "offsetM": 6.05, "timeNs": 20.9 }, ... ] } ] }
- * ```
- * Each pick gives either `trace` (0-based index in the line, may be fractional) or `offsetM` (distance
- * along the line from its first trace, m), and `timeNs`, the two-way time after time-zero in ns.
- * At least 5 picks per hyperbola; both flanks should be picked.
- */
-const pickSchema = z
-  .object({
-    trace: z.number().nonnegative().optional(),
-    offsetM: z.number().optional(),
-    timeNs: z.number().positive(),
-  })
-  .strict()
-  .refine((p) => (p.trace === undefined) !== (p.offsetM === undefined), { message: 'give exactly one of "trace" or "offsetM"' });
-
-const picksFileSchema = z
-  .object({
-    hyperbolas: z.array(
-      z
-        .object({
-          line: z.string().min(1),
-          label: z.string().optional(),
-          picks: z.array(pickSchema).min(5),
-        })
-        .strict(),
-    ),
-  })
-  .strict();
-
-export type PicksFile = z.infer<typeof picksFileSchema>;
-export type ManualHyperbola = PicksFile['hyperbolas'][number];
-
-function jsonPath(path: readonly PropertyKey[]): string {
-  let s = '';
-  for (const p of path) s += typeof p === 'number' ? `[${p}]` : s === '' ? String(p) : `.${String(p)}`;
-  return s === '' ? '(root)' : s;
-}
+// The picks file's schema (and its documentation) is a contract: picksSchema in @lamina/contracts.
+export type { PicksFile, ManualHyperbola };
 
 /** Parse and validate a picks file's text; errors name the file and the JSON path. */
 export function parsePicks(text: string, file: string): PicksFile {
-  let raw: unknown;
-  try {
-    raw = JSON.parse(text);
-  } catch (e) {
-    throw new InputError(file, `expected JSON, found a syntax error (${e instanceof Error ? e.message : String(e)})`);
-  }
-  const r = picksFileSchema.safeParse(raw);
-  if (!r.success) {
-    const issue = r.error.issues[0]!;
-    let found: unknown = raw;
-    for (const k of issue.path) found = found !== null && typeof found === 'object' ? (found as Record<PropertyKey, unknown>)[k] : undefined;
-    const shown = found === undefined ? 'nothing' : JSON.stringify(found).slice(0, 60);
-    throw new InputError(file, `${issue.message}, found ${shown}`, { field: jsonPath(issue.path) });
-  }
-  return r.data;
+  return checkContract(picksSchema, parseJsonText(text, file), file);
 }
 
 /**

@@ -1,3 +1,4 @@
+import type { VelocityJson } from '@lamina/contracts';
 import { writeFileAtomic } from '@lamina/atomic';
 import type { RadarLine } from '@lamina/radar-data';
 import { detectHyperbolas, type DetectOptions, type DetectedHyperbola } from './detect';
@@ -84,7 +85,8 @@ const finite = (_k: string, v: unknown) => (typeof v === 'number' && !Number.isF
 
 /** JSON text of a report; non-finite numbers (never expected) become null rather than invalid JSON. */
 export function velocityJson(report: VelocityReport): string {
-  return JSON.stringify(report, finite, 2) + '\n';
+  const json: VelocityJson = report;
+  return JSON.stringify(json, finite, 2) + '\n';
 }
 
 /**
@@ -92,8 +94,9 @@ export function velocityJson(report: VelocityReport): string {
  * fits and their picks is written without building one string of all of it.
  */
 export function* velocityJsonChunks(report: VelocityReport): Generator<string> {
+  const json: VelocityJson = report;
   const indent = (text: string, by: string) => text.replace(/\n/g, `\n${by}`);
-  const entries = Object.entries(report).filter(([, v]) => v !== undefined && typeof v !== 'function');
+  const entries = Object.entries(json).filter(([, v]) => v !== undefined && typeof v !== 'function');
   yield '{';
   for (const [i, [k, v]] of entries.entries()) {
     yield `${i > 0 ? ',' : ''}\n  ${JSON.stringify(k)}: `;

@@ -1,4 +1,4 @@
-/** The output folder as the viewer reads it (contracts in DEVELOPERS.md), fetched from /data/. */
+/** The output folder as the viewer reads it (contracts in @lamina/contracts), fetched from /data/. */
 
 export interface FeatureCollection {
   type: 'FeatureCollection';
@@ -11,80 +11,15 @@ export interface Feature {
   properties: Record<string, unknown> | null;
 }
 
-export interface RunJson {
-  site: {
-    name: string;
-    crs: { input?: string; code?: string; proj4: string; units?: string; metresPerUnit?: number };
-    antenna?: { frequencyMHz?: number; separationM?: number };
-    extentWgs84?: [number, number, number, number];
-    extentSite?: [number, number, number, number];
-  };
-  identity?: { name: string; crs: string; extent: [number, number, number, number] };
-}
-
-export interface SliceInfo {
-  index: number;
-  band: number;
-  topM: number;
-  bottomM: number;
-  stats?: { p2?: number; p98?: number; min?: number; max?: number; mean?: number; [k: string]: number | undefined };
-}
-export interface SlicesJson {
-  slices: SliceInfo[];
-  nodata?: number | null;
-  [k: string]: unknown;
-}
-
-export interface Hyperbola {
-  line: string;
-  trace: number;
-  x: number;
-  y: number;
-  t0Ns: number;
-  velocityMPerNs: number;
-  depthM?: number;
-  /** Fitted radius of the target, m (0 or absent: a point). */
-  radiusM?: number;
-  origin?: string;
-  picks?: { offsetM: number[]; timeNs: number[] };
-  flags?: string[];
-}
-export interface VelocityJson {
-  site?: { velocityMPerNs?: number; permittivity?: number; spreadMPerNs?: number };
-  model?: { kind?: string; layers?: { topM: number; bottomM: number; velocityMPerNs: number }[] };
-  hyperbolas?: Hyperbola[];
-}
-
-export interface RadargramLine {
-  id: string;
-  file: string;
-  nTraces: number;
-  nSamples: number;
-  dtNs: number;
-  timeZeroNs?: number;
-  traceStep?: number;
-  x: number[];
-  y: number[];
-  lon: number[];
-  lat: number[];
-}
+// The files' own shapes are the contracts of @lamina/contracts, imported as types only (no zod in the
+// bundle): the viewer trusts what `lamina process` wrote, the server checks what it changes.
+export type { RunJson, SliceEntry as SliceInfo, SlicesJson, VelocityHyperbola as Hyperbola, VelocityJson, RadargramIndex, RadargramLine, EvidenceRow as Evidence } from '@lamina/contracts';
 
 export interface Config {
   basemap: string | null;
   utilityTypes: string[];
   apwa: Record<string, { name: string; hex: string; meaning: string }>;
   cautions: string[];
-}
-
-export interface Evidence {
-  test?: string;
-  featureId?: string | null;
-  measured?: unknown;
-  expected?: unknown;
-  tolerance?: unknown;
-  units?: string;
-  passed?: boolean;
-  detail?: string;
 }
 
 export const EMPTY_FC: FeatureCollection = { type: 'FeatureCollection', features: [] };

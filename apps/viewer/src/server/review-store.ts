@@ -1,7 +1,8 @@
 import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { z } from 'zod';
-import { decisionSchema, exportTargets, readReview, writeReview, upsertDecision, siteIdentitySchema, UTILITY_TYPES, type Decision, type Review, type SiteIdentity } from '@lamina/targets';
+import { exportTargets, readReview, writeReview, upsertDecision } from '@lamina/targets';
+import { anomaliesSchema, checkContract, decisionSchema, siteIdentitySchema, UTILITY_TYPES, type Decision, type Review, type SiteIdentity } from '@lamina/contracts';
 import { InputError } from '@lamina/errors';
 import { lockFolder } from '@lamina/atomic';
 import { SerialQueue } from './queue';
@@ -34,7 +35,7 @@ export class HttpError extends Error {
 /**
  * review.json of one output folder. Every read-modify-write and every export runs through one
  * in-process queue, so concurrent clients never overwrite each other's decisions; each write is atomic
- * (writeReview: temp file + rename) and validated against the schema of @lamina/targets.
+ * (writeReview: temp file + rename) and validated against the schema of @lamina/contracts.
  */
 export class ReviewStore {
   private readonly queue = new SerialQueue();
@@ -52,9 +53,7 @@ export class ReviewStore {
     } catch (e) {
       throw new InputError(file, `expected the run.json of a processed output folder, found ${(e as Error).message}`);
     }
-    const r = siteIdentitySchema.safeParse((json as { identity?: unknown }).identity);
-    if (!r.success) throw new InputError(file, `expected { name, crs, extent[4] }, found ${JSON.stringify((json as { identity?: unknown }).identity)}`, { field: 'identity' });
-    return r.data;
+    return checkContract(siteIdentitySchema, (json as { identity?: unknown } | null)?.identity, file, { at: 'identity' });
   }
 
   read(): Promise<Review> {
@@ -63,14 +62,14 @@ export class ReviewStore {
 
   private async anomaly(id: string): Promise<FeatureLike> {
     const file = join(this.outDir, 'anomalies.geojson');
-    let fc: { features?: FeatureLike[] };
+    let json: unknown;
     try {
-      fc = JSON.parse(await readFile(file, 'utf8')) as { features?: FeatureLike[] };
+      json = JSON.parse(await readFile(file, 'utf8'));
     } catch (e) {
       throw new InputError(file, `expected the anomalies.geojson of a processed output folder, found ${(e as Error).message}`);
     }
-    if (!Array.isArray(fc?.features)) throw new InputError(file, 'expected a FeatureCollection with a features array', { field: 'features' });
-    const f = (fc.features ?? []).find((x) => String(x.properties?.id ?? (x as { id?: unknown }).id) === id);
+    const fc = checkContract(anomaliesSchema, json, file);
+    const f = fc.features.find((x) => x.properties.id === id);
     if (!f) throw new HttpError(404, `anomaly "${id}" is not in anomalies.geojson`);
     return f;
   }

@@ -1,15 +1,11 @@
 // Helpers that run Debian's GDAL command-line tools (gdal-bin 3.6) on our data, for external checks.
 import { execFileSync } from 'node:child_process';
-import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { readFileSync, writeFileSync } from 'node:fs';
+import { tempDir } from './temp';
 import { join } from 'node:path';
-export { mulberry32 as rng } from '@lamina/random';
+import { PYTHON } from './python';
 
 export const GDAL_ENV = { ...process.env, GDAL_PAM_ENABLED: 'NO' };
-
-export function tempDir(prefix = 'lamina-slices-'): string {
-  return mkdtempSync(join(tmpdir(), prefix));
-}
 
 export interface GdalGridArgs {
   x: ArrayLike<number>;
@@ -72,7 +68,7 @@ export function gdalGridInvdistnn(a: GdalGridArgs, dir = tempDir()): Float64Arra
 export function readRasterPython(path: string, band: number): Float64Array {
   const raw = join(path + `.b${band}.f64`);
   execFileSync(
-    '/usr/bin/python3',
+    PYTHON,
     ['-c', `from osgeo import gdal; import numpy as np; ds=gdal.Open(${JSON.stringify(path)}); a=ds.GetRasterBand(${band}).ReadAsArray().astype('<f8'); a.tofile(${JSON.stringify(raw)})`],
     { env: GDAL_ENV, stdio: 'pipe' },
   );
@@ -89,7 +85,7 @@ export function gdalinfoJson(path: string, stats = false): Record<string, unknow
 /** GDAL's COG validator; returns its output and whether it passed (exit status 0). */
 export function validateCog(path: string): { ok: boolean; output: string } {
   try {
-    const output = execFileSync('/usr/bin/python3', ['-m', 'osgeo_utils.samples.validate_cloud_optimized_geotiff', '--full-check=yes', path], {
+    const output = execFileSync(PYTHON, ['-m', 'osgeo_utils.samples.validate_cloud_optimized_geotiff', '--full-check=yes', path], {
       env: GDAL_ENV,
       encoding: 'utf8',
       stdio: 'pipe',

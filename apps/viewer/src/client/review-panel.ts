@@ -1,0 +1,130 @@
+import type { GeoJSONSource, MapLayerMouseEvent } from 'maplibre-gl';
+import { EMPTY_FC, featureId, getBytes, getJson, type Feature, type FeatureCollection, type RadargramLine } from './data';
+import type { Folder } from './folder';
+import type { MapView } from './map-view';
+import { cautionList, h, renderPanel, type DecisionView } from './panel';
+import { drawRadargram, nearestTrace } from './radargram';
+import { $, depthText, handle, report, state } from './state';
+
+/**
+ * Review: the anomaly panel (evidence, decision, the nearest radargram with its fitted hyperbolas),
+ * opened by a click on an anomaly, and the export button. Returns `selectAnomaly`.
+ */
+export function wireReview(folder: Folder, view: MapView): { selectAnomaly(id: string): Promise<void> } {
+  const { config, run, velocity, rgIndex, anomalies, targets } = folder;
+  const { map } = view;
+  const metresPerUnit = run.site.crs.metresPerUnit ?? 1;
+  const panel = $('panel');
+  const rgCache = new Map<string, Promise<Float32Array | undefined>>();
+  const radargramOf = (l: RadargramLine) => {
+    let p = rgCache.get(l.id);
+    if (!p) {
+      // `file` is relative to the output folder (radargrams/<line>.f32); a bare name is taken inside radargrams/
+      p = getBytes(l.file.includes('/') ? l.file : `radargrams/${l.file}`).then((b) => (b ? new Float32Array(b) : undefined));
+      rgCache.set(l.id, p);
+    }
+    return p;
+  };
+  let selectedNumericId: number | undefined;
+  const selectAnomaly = async (id: string) => {
+    const f = anomalies.features.find((x) => featureId(x) === id);
+    if (!f) throw new Error(`no anomaly "${id}"`);
+    if (selectedNumericId !== undefined) map.setFeatureState({ source: 'anomalies', id: selectedNumericId }, { selected: false });
+    selectedNumericId = Number(f.id);
+    map.setFeatureState({ source: 'anomalies', id: selectedNumericId }, { selected: true });
+    state.selectedAnomaly = id;
+    const decision = folder.review.decisions.find((d) => d.anomalyId === id);
+    const { canvas, radargramNote } = renderPanel(panel, f, config, decision, depthText, {
+      close: () => {
+        panel.hidden = true;
+        state.selectedAnomaly = null;
+        map.resize();
+      },
+      save: async (change) => {
+        const r = await fetch('api/review', { method: 'POST', headers: { 'Content-Type': 'application/json' }, body: JSON.stringify({ anomalyId: id, ...change }) });
+        const body = (await r.json()) as { error?: string; review?: Folder['review']; decision?: DecisionView };
+        if (!r.ok) throw new Error(body.error ?? `HTTP ${r.status}`);
+        folder.review = body.review ?? folder.review;
+        $('decision-status').textContent = `Decision: ${body.decision?.decision ?? 'undecided'} (${body.decision?.updatedAt ?? ''})`;
+      },
+    });
+    map.resize();
+    const anchor = anchorOf(f);
+    const hit = anchor ? nearestTrace(rgIndex.lines, anchor[0], anchor[1]) : undefined;
+    if (!hit) {
+      radargramNote.textContent = 'No radargram in this output folder.';
+      return;
+    }
+    const line = rgIndex.lines[hit[0]]!;
+    const data = await radargramOf(line);
+    if (!data || data.length < line.nTraces * line.nSamples) {
+      radargramNote.textContent = `${line.file} is missing or shorter than ${line.nTraces} x ${line.nSamples} samples.`;
+      return;
+    }
+    const hyps = (velocity?.hyperbolas ?? []).filter((x) => x.line === line.id && !(x.flags && x.flags.length));
+    const v = velocity?.site.velocityMPerNs ?? velocity?.model?.layers[0]?.velocityMPerNs ?? 0.1;
+    drawRadargram(canvas, {
+      line,
+      data,
+      metresPerUnit,
+      layers: velocity?.model?.layers ?? [],
+      velocity: v,
+      separationM: run.site.antenna?.separationM ?? 0,
+      hyperbolas: hyps,
+      markTrace: hit[1],
+      unit: state.unit,
+    });
+    radargramNote.textContent = `Line ${line.id}, nearest trace ${hit[1] * (line.traceStep ?? 1)} at ${hit[2].toFixed(2)} m; ${hyps.length} fitted hyperbola(s) on this line (apex marked).`;
+    canvas.dataset.line = line.id;
+    canvas.dataset.hyperbolas = String(hyps.length);
+  };
+  handle.selectAnomaly = selectAnomaly;
+  for (const id of ['anomalies-fill', 'anomalies-point', 'anomalies-line']) {
+    map.on('click', id, (e: MapLayerMouseEvent) => {
+      const f = e.features?.[0];
+      if (f) void selectAnomaly(String(f.properties?.id)).catch(report);
+    });
+    map.on('mouseenter', id, () => (map.getCanvas().style.cursor = 'pointer'));
+    map.on('mouseleave', id, () => (map.getCanvas().style.cursor = ''));
+  }
+
+  // export
+  const exportBtn = $<HTMLButtonElement>('export-btn');
+  exportBtn.addEventListener('click', async () => {
+    const out = $('export-result');
+    out.replaceChildren('exporting ...');
+    try {
+      const r = await fetch('api/export', { method: 'POST', headers: { 'Content-Type': 'application/json' }, body: '{}' });
+      const body = (await r.json()) as { error?: string; result?: unknown };
+      if (!r.ok) throw new Error(body.error ?? `HTTP ${r.status}`);
+      const fresh = await getJson<FeatureCollection>('targets.geojson', EMPTY_FC);
+      targets.features = fresh.features;
+      void (map.getSource('targets') as GeoJSONSource | undefined)?.setData(targets as never);
+      out.replaceChildren(
+        h('div', { id: 'export-ok' }, `Exported ${fresh.features.length} target(s): targets.geojson, .gpkg, .csv, .dxf and report.html in the output folder.`),
+        h('div', { class: 'cautions' }, h('strong', {}, 'Before anyone digs:'), cautionList(config)),
+      );
+    } catch (e) {
+      out.replaceChildren(h('div', { class: 'err', id: 'export-error' }, (e as Error).message), h('div', { class: 'cautions' }, cautionList(config)));
+    }
+  });
+  return { selectAnomaly };
+}
+
+/** Where an anomaly's radargram is looked for: its lon/lat or centroid property, else the mean of its vertices. */
+function anchorOf(f: Feature): [number, number] | undefined {
+  const g = f.geometry;
+  const p = f.properties ?? {};
+  if (typeof p.lon === 'number' && typeof p.lat === 'number') return [p.lon, p.lat];
+  const c = p.centroid;
+  if (Array.isArray(c) && typeof c[0] === 'number' && typeof c[1] === 'number') return [c[0], c[1]];
+  if (!g) return undefined;
+  const flat: number[][] = [];
+  const walk = (c: unknown) => {
+    if (Array.isArray(c) && typeof c[0] === 'number') flat.push(c as number[]);
+    else if (Array.isArray(c)) for (const x of c) walk(x);
+  };
+  walk(g.coordinates);
+  if (!flat.length) return undefined;
+  return [flat.reduce((s, c) => s + c[0]!, 0) / flat.length, flat.reduce((s, c) => s + c[1]!, 0) / flat.length];
+}

@@ -1,0 +1,4 @@
+export { PYTHON, runPython } from './python';
+export { tempDir } from './temp';
+export { GDAL_ENV, gdalGridInvdistnn, readRasterPython, gdalinfoJson, validateCog, type GdalGridArgs } from './gdal';
+export { CHROMIUM, CHROMIUM_ARGS, launch, openViewer, type Browser } from './browser';
