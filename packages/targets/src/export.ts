@@ -2,6 +2,7 @@ import { join } from 'node:path';
 import { lockFolder, type StagedFile } from '@lamina/atomic';
 import { readRun, readSlicesInfo, readVelocity, streamAnomalies } from './folder';
 import type { ExportContext } from './formats';
+import { readMapBackground } from './report-map';
 import { readReview } from './review';
 import { decisionsById, isDropped, targetOf } from './targets';
 import { sliceThumbnails } from './thumbnails';
@@ -83,7 +84,7 @@ async function exportUnlocked(outDir: string, options: ExportOptions): Promise<E
     // Same order as EXPORT_FILES; the report comes last.
     const makers = [geoJsonWriter, gpkgWriter, csvWriter, dxfWriter] as const;
     for (let i = 0; i < makers.length; i++) writers.push(await makers[i]!(join(outDir, EXPORT_FILES[i]!), ctx));
-    const report = reportWriter(join(outDir, 'report.html'));
+    const report = reportWriter(join(outDir, 'report.html'), run.site.crs);
     for (let step = first; !step.done; step = await anomalies.next()) {
       const a = step.value;
       counts.anomalies++;
@@ -103,7 +104,8 @@ async function exportUnlocked(outDir: string, options: ExportOptions): Promise<E
     const unmatchedDecisions = review.decisions.filter((d) => !matched.has(d.anomalyId)).length;
     for (const w of writers) staged.push(await w.finish());
     writers.length = 0;
-    staged.push(await report.finish({ run, velocity, thumbnails: thumbs, ctx, unmatchedDecisions }, counts.anomalies, counts.notTargetClass));
+    const background = await readMapBackground(outDir, run.site.crs);
+    staged.push(await report.finish({ run, velocity, thumbnails: thumbs, ctx, unmatchedDecisions, ...(slices ? { slices } : {}), background }, counts.anomalies, counts.notTargetClass));
     for (const s of staged) await s.commit();
     return { files: [...EXPORT_FILES], targets: counts.targets, aboveGround: counts.aboveGround, rejected: counts.rejected, notTargetClass: counts.notTargetClass, unmatchedDecisions };
   } catch (e) {

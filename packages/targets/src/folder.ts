@@ -23,6 +23,8 @@ export interface RunInfo {
   };
   identity: SiteIdentity;
   lines: { id: string; traces?: number; lengthM?: number }[];
+  /** The processing steps as run.json records them (step name, parameters, result), for the method statement. */
+  recipeSteps?: { step: string; params: Record<string, unknown>; result?: Record<string, unknown> }[];
 }
 
 export interface AnomalyFeature {
@@ -73,6 +75,8 @@ export interface SlicesInfo {
   originX?: number;
   originY?: number;
   cellSize?: number;
+  /** The gridding parameters slices.json records (method, power, radius, line and trace spacing, ...). */
+  gridding?: Record<string, unknown>;
   slices: SliceInfo[];
 }
 
@@ -148,6 +152,9 @@ export async function readRun(outDir: string): Promise<RunInfo> {
     },
     identity,
     lines: lines.map((l) => ({ id: l.id, ...(l.traces !== undefined ? { traces: l.traces } : {}), ...(l.lengthM !== undefined ? { lengthM: l.lengthM } : {}) })),
+    ...(isObj(j.recipe) && Array.isArray(j.recipe.steps)
+      ? { recipeSteps: j.recipe.steps.filter(isObj).filter((st) => typeof st.step === 'string').map((st) => ({ step: st.step as string, params: isObj(st.params) ? st.params : {}, ...(isObj(st.result) ? { result: st.result } : {}) })) }
+      : {}),
   };
 }
 
@@ -301,6 +308,7 @@ export async function readSlicesInfo(outDir: string): Promise<SlicesInfo | undef
     ...(num(j.originX) !== undefined ? { originX: num(j.originX) } : {}),
     ...(num(j.originY) !== undefined ? { originY: num(j.originY) } : {}),
     ...(num(j.cellSize) !== undefined ? { cellSize: num(j.cellSize) } : {}),
+    ...(isObj(j.gridding) ? { gridding: j.gridding } : {}),
     slices,
   };
 }

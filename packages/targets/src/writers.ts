@@ -4,7 +4,9 @@ import { basename, dirname, join } from 'node:path';
 import { stageFile, stageStream, type StagedFile } from '@lamina/atomic';
 import { GEOJSON_HEAD, TARGET_FIELDS, addDxfLayer, csvHead, csvRow, dxfEntities, dxfHead, dxfTail, geoJsonFeature, geoJsonTail, targetProperties, type ExportContext } from './formats';
 import { gpkgGeometry, openGpkg, writeGpkg, type GpkgLayerDef, type GpkgSrs, type GpkgValue } from './gpkg';
-import { byTargetId, reportFlaggedRow, reportParts, reportTargetRow, type ReportPage } from './report';
+import type { Crs } from '@lamina/site';
+import type { MapFlagged, MapTarget } from './plan-map';
+import { byTargetId, mapFlaggedOf, mapTargetOf, reportFlaggedRow, reportParts, reportTargetRow, type ReportPage } from './report';
 import type { Dropped, Target } from './targets';
 import { crsToWkt, WGS84_WKT } from './wkt';
 
@@ -244,13 +246,16 @@ export async function gpkgWriter(path: string, ctx: ExportContext): Promise<Targ
  * as it passes and kept as UTF-8 bytes (the target rows sorted by id at the end), rejected anomalies as
  * their ids; the page is written at `finish`, when the counts are known.
  */
-export function reportWriter(path: string): {
+export function reportWriter(path: string, crs: Crs): {
   add(r: Target | Dropped): void;
   finish(page: ReportPage, anomalyCount: number, notTargetClass?: number): Promise<StagedFile>;
 } {
   const targets: { id: string; row: Uint8Array }[] = [];
   const flagged: Uint8Array[] = [];
   const rejectedIds: string[] = [];
+  const mapTargets: MapTarget[] = [];
+  const mapFlagged: MapFlagged[] = [];
+  let deepestM = -Infinity;
   let acceptedCount = 0;
   // Each row in its own exact-size buffer: a kept Buffer.from() would pin a whole 8 KiB pool slab.
   const utf8 = new TextEncoder();
@@ -258,17 +263,26 @@ export function reportWriter(path: string): {
     add(r) {
       if (!('reason' in r)) {
         targets.push({ id: r.id, row: utf8.encode(reportTargetRow(r)) });
+        const m = mapTargetOf(r);
+        if (m) mapTargets.push(m);
+        if (r.depthBottomM > deepestM) deepestM = r.depthBottomM;
         if (r.decision === 'accepted') acceptedCount++;
+      } else if (r.reason === 'rejected') rejectedIds.push(r.id);
+      else if (r.reason === 'class') {
+        const b = r.anomaly.properties.depthBottomM;
+        if (Number.isFinite(b) && b > deepestM) deepestM = b;
+      } else {
+        flagged.push(utf8.encode(reportFlaggedRow(r)));
+        const m = mapFlaggedOf(r, crs);
+        if (m) mapFlagged.push(m);
       }
-      else if (r.reason === 'rejected') rejectedIds.push(r.id);
-      else if (r.reason === 'class') return;
-      else flagged.push(utf8.encode(reportFlaggedRow(r)));
     },
     async finish(page, anomalyCount, notTargetClass = 0) {
       targets.sort(byTargetId);
       const out = await stageStream(path);
       try {
-        for (const part of reportParts(page, { targets: targets.map((t) => t.row), flagged, rejectedIds, anomalyCount, notTargetClass, acceptedCount })) await out.write(part);
+        const rows = { targets: targets.map((t) => t.row), flagged, rejectedIds, anomalyCount, notTargetClass, acceptedCount, mapTargets, mapFlagged, ...(deepestM > -Infinity ? { deepestAnomalyM: deepestM } : {}) };
+        for (const part of reportParts(page, rows)) await out.write(part);
       } catch (e) {
         await out.abort();
         throw e;

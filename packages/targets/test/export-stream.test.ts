@@ -26,6 +26,7 @@ import {
   type ExportContext,
 } from '../src';
 import { makeFolder, type Fixture } from './fixture';
+import { readMapBackground } from '../src/report-map';
 
 const NOW = new Date('2026-12-01T12:00:00.000Z');
 const N = 300;
@@ -105,7 +106,7 @@ async function wholeFiles(dir: string): Promise<Record<string, Buffer>> {
     'targets.gpkg': Buffer.from(await targetsGpkg(targets, ctx)),
     'targets.csv': Buffer.from(targetsCsv(targets, ctx)),
     'targets.dxf': Buffer.from(targetsDxf(targets, ctx)),
-    'report.html': Buffer.from(reportHtml({ run, velocity, targets, dropped, anomalies, thumbnails, ctx, unmatchedDecisions })),
+    'report.html': Buffer.from(reportHtml({ run, velocity, targets, dropped, anomalies, thumbnails, ctx, unmatchedDecisions, ...(slices ? { slices } : {}), background: await readMapBackground(dir, run.site.crs) })),
   };
 }
 
