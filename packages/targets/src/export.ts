@@ -2,6 +2,7 @@ import { join } from 'node:path';
 import { lockFolder, type StagedFile } from '@lamina/atomic';
 import { readRun, readSlicesInfo, readVelocity, streamAnomalies } from './folder';
 import type { ExportContext } from './formats';
+import { folderDepthError } from './depth-error';
 import { readMapBackground } from './report-map';
 import { readReview } from './review';
 import { decisionsById, isDropped, targetOf } from './targets';
@@ -79,6 +80,7 @@ async function exportUnlocked(outDir: string, options: ExportOptions): Promise<E
     const thumbs = slices && (options.thumbnailSize ?? 240) > 0 ? await sliceThumbnails(outDir, slices, { maxSize: options.thumbnailSize ?? 240 }) : [];
 
     const byId = decisionsById(review.decisions);
+    const depthError = folderDepthError(velocity, slices, freq);
     const matched = new Set<string>();
     const counts = { anomalies: 0, targets: 0, aboveGround: 0, rejected: 0, notTargetClass: 0 };
     // Same order as EXPORT_FILES; the report comes last.
@@ -89,7 +91,7 @@ async function exportUnlocked(outDir: string, options: ExportOptions): Promise<E
       const a = step.value;
       counts.anomalies++;
       if (byId.has(a.properties.id)) matched.add(a.properties.id);
-      const r = targetOf(a, byId, velocity, run.site.crs);
+      const r = targetOf(a, byId, velocity, run.site.crs, depthError);
       if (r === null) continue;
       report.add(r);
       if (isDropped(r)) {

@@ -15,7 +15,7 @@ const ft = (m: number | null) => (m === null ? null : Math.round((m / FOOT_M) * 
 
 /** The fixed property set of targets.geojson and the GeoPackage attribute table, with SQLite types. */
 export const TARGET_FIELDS: readonly (readonly [string, 'TEXT' | 'REAL'])[] = [
-  ['id', 'TEXT'], ['depthTopM', 'REAL'], ['depthBottomM', 'REAL'], ['origin', 'TEXT'], ['confidence', 'REAL'],
+  ['id', 'TEXT'], ['depthTopM', 'REAL'], ['depthBottomM', 'REAL'], ['origin', 'TEXT'], ['class', 'TEXT'], ['pAboveGround', 'REAL'], ['strengthDb', 'REAL'],
   ['depthTopFt', 'REAL'], ['depthBottomFt', 'REAL'], ['depthUncertaintyM', 'REAL'], ['depthUncertaintyFt', 'REAL'],
   ['depthBottomUncertaintyM', 'REAL'], ['depthBottomUncertaintyFt', 'REAL'], ['kind', 'TEXT'], ['utilityType', 'TEXT'],
   ['apwaColour', 'TEXT'], ['apwaColourName', 'TEXT'], ['label', 'TEXT'], ['lengthM', 'REAL'], ['qualityLevel', 'TEXT'],
@@ -37,7 +37,9 @@ export function targetProperties(t: Target, ctx: ExportContext): Record<string, 
     depthTopM: t.depthTopM,
     depthBottomM: t.depthBottomM,
     origin: t.origin,
-    confidence: t.confidence,
+    class: t.class,
+    pAboveGround: t.pAboveGround,
+    strengthDb: t.strengthDb,
     depthTopFt: ft(t.depthTopM),
     depthBottomFt: ft(t.depthBottomM),
     depthUncertaintyM: t.depthUncertaintyM,
@@ -107,7 +109,7 @@ export function geometryWkt(g: Geometry): string {
 // ---------- CSV (RFC 4180) ----------
 export const CSV_COLUMNS = [
   'id', 'kind', 'utility_type', 'apwa_colour', 'depth_top_m', 'depth_bottom_m', 'depth_top_ft', 'depth_bottom_ft',
-  'depth_uncertainty_m', 'depth_uncertainty_ft', 'confidence', 'x', 'y', 'lon', 'lat', 'length_m', 'quality_level',
+  'depth_uncertainty_m', 'depth_uncertainty_ft', 'class', 'p_above_ground', 'strength_db', 'x', 'y', 'lon', 'lat', 'length_m', 'quality_level',
   'decision', 'note', 'crs', 'wkt',
 ] as const;
 
@@ -126,7 +128,7 @@ export function csvRow(t: Target, ctx: ExportContext): string {
   return (
     [
       t.id, t.kind, t.utilityType, t.apwaColour, t.depthTopM, t.depthBottomM, ft(t.depthTopM), ft(t.depthBottomM),
-      t.depthUncertaintyM, ft(t.depthUncertaintyM), t.confidence, fmt(t.centroidXY[0]), fmt(t.centroidXY[1]),
+      t.depthUncertaintyM, ft(t.depthUncertaintyM), t.class, t.pAboveGround, t.strengthDb, fmt(t.centroidXY[0]), fmt(t.centroidXY[1]),
       round8(t.centroidLonLat[0]), round8(t.centroidLonLat[1]), t.lengthM, qualityLevel(t), t.decision, t.note, crsName, geometryWkt(t.site),
     ].map(csvCell).join(',') + '\r\n'
   );

@@ -118,12 +118,12 @@ export const byTargetId = (a: { id: string }, b: { id: string }): number => a.id
 
 /** The row of a target in the target table. */
 export function reportTargetRow(t: Target): string {
-  return `<tr><td>${esc(t.id)}</td><td>${t.kind}</td><td>${t.apwaColour ? `<span class="swatch" style="background:${t.apwaColour}"></span> ${esc(t.utilityType)} (${esc(t.apwaColourName)})` : esc(t.utilityType ?? '–')}</td><td class="n">${f(t.depthTopM)} (${f(t.depthTopM / FOOT_M)})</td><td class="n">${f(t.depthBottomM)} (${f(t.depthBottomM / FOOT_M)})</td><td class="n">${f(t.depthUncertaintyM)}</td><td class="n">${f(t.lengthM, 1)}</td><td class="n">${f(t.confidence)}</td><td class="n">${f(t.centroidXY[0], 2)}, ${f(t.centroidXY[1], 2)}</td><td>${t.decision}${t.screenedOrigin !== t.origin ? ' (relabelled subsurface)' : ''}${t.label ? `; ${esc(t.label)}` : ''}${t.note ? `; ${esc(t.note)}` : ''}</td></tr>`;
+  return `<tr><td>${esc(t.id)}</td><td>${t.kind}</td><td>${t.apwaColour ? `<span class="swatch" style="background:${t.apwaColour}"></span> ${esc(t.utilityType)} (${esc(t.apwaColourName)})` : esc(t.utilityType ?? '–')}</td><td class="n">${f(t.depthTopM)} (${f(t.depthTopM / FOOT_M)})</td><td class="n">${f(t.depthBottomM)} (${f(t.depthBottomM / FOOT_M)})</td><td class="n">${f(t.depthUncertaintyM)}</td><td class="n">${f(t.lengthM, 1)}</td><td>${esc(t.class ?? '–')}</td><td class="n">${f(t.pAboveGround)}</td><td class="n">${f(t.centroidXY[0], 2)}, ${f(t.centroidXY[1], 2)}</td><td>${t.decision}${t.screenedOrigin !== t.origin ? ' (relabelled subsurface)' : ''}${t.label ? `; ${esc(t.label)}` : ''}${t.note ? `; ${esc(t.note)}` : ''}</td></tr>`;
 }
 
 /** The row of an anomaly flagged above-ground (by screening or in review), with its evidence. */
 export function reportFlaggedRow(d: Dropped): string {
-  return `<tr><td>${esc(d.id)}</td><td class="n">${f(d.anomaly.properties.depthTopM)}–${f(d.anomaly.properties.depthBottomM)}</td><td class="n">${f(d.anomaly.properties.confidence)}</td><td>${d.reason === 'relabelled above-ground' ? '<b>relabelled above-ground in review</b>' : ''}${evidenceRows(d.anomaly)}</td></tr>`;
+  return `<tr><td>${esc(d.id)}</td><td class="n">${f(d.anomaly.properties.depthTopM)}–${f(d.anomaly.properties.depthBottomM)}</td><td class="n">${f(typeof d.anomaly.properties.pAboveGround === 'number' ? d.anomaly.properties.pAboveGround : d.anomaly.properties.confidence)}</td><td>${d.reason === 'relabelled above-ground' ? '<b>relabelled above-ground in review</b>' : ''}${evidenceRows(d.anomaly)}</td></tr>`;
 }
 
 /** report.html in order, page parts as strings and rows as given (joined, they are the file). */
@@ -180,15 +180,15 @@ ${vel.summary}
 <h2>Depth slices</h2>
 ${thumbnails.length ? `<p>Grey levels from each slice's 2nd (black) to 98th (white) percentile; north up; checkered = no data.</p><div class="thumbs">${thumbnails.map((t) => `<figure><img src="${t.dataUri}" width="${t.width}" height="${t.height}" alt="slice ${t.band}"><figcaption>${f(t.topM)}–${f(t.bottomM)} m</figcaption></figure>`).join('')}</div>` : '<p>No slices.tif in the folder.</p>'}
 <h2>Targets (${rows.targets.length})</h2>
-<p>Subsurface anomalies classed utility or structure (or accepted in review), not rejected in review.${rows.notTargetClass ? ` ${rows.notTargetClass} anomalies classed clutter or layer, or echoes below another object, are in anomalies.geojson only.` : ''}${run.nearSurfaceM !== undefined ? ` Slices above ${f(run.nearSurfaceM)} m lie in the direct- and ground-wave zone: what is found only there is not a target unless it crosses several lines and continues deeper.` : ''} Depth ft = m / 0.3048 (international foot). Uncertainty: dz = z · dv / v from the velocity spread. ${rows.targets.length - (rows.acceptedCount ?? 0)} of ${rows.targets.length} are candidates nobody has reviewed yet (no quality level); the ${rows.acceptedCount ?? 0} accepted in review carry quality level B in the sense of CI/ASCE 38-22, to be confirmed by the responsible professional.</p>
-<table><tr><th>Id</th><th>Kind</th><th>Utility (APWA)</th><th>Top m (ft)</th><th>Bottom m (ft)</th><th>± m</th><th>Length m</th><th>Confidence</th><th>Position (${esc(unit)})</th><th>Review</th></tr>
+<p>Subsurface anomalies classed utility or structure (or accepted in review), not rejected in review.${rows.notTargetClass ? ` ${rows.notTargetClass} anomalies classed clutter or layer, or echoes below another object, are in anomalies.geojson only.` : ''}${run.nearSurfaceM !== undefined ? ` Slices above ${f(run.nearSurfaceM)} m lie in the direct- and ground-wave zone: what is found only there is not a target unless it crosses several lines and continues deeper.` : ''} Depth ft = m / 0.3048 (international foot). Uncertainty (±): the velocity spread (z · dv / v), half the slice thickness and a quarter wavelength in the ground, added in quadrature. P(above-ground) is the screening's probability that the anomaly is an air-wave reflection. ${rows.targets.length - (rows.acceptedCount ?? 0)} of ${rows.targets.length} are candidates nobody has reviewed yet (no quality level); the ${rows.acceptedCount ?? 0} accepted in review carry quality level B in the sense of CI/ASCE 38-22, to be confirmed by the responsible professional.</p>
+<table><tr><th>Id</th><th>Kind</th><th>Utility (APWA)</th><th>Top m (ft)</th><th>Bottom m (ft)</th><th>± m</th><th>Length m</th><th>Class</th><th>P(above-ground)</th><th>Position (${esc(unit)})</th><th>Review</th></tr>
 `;
   yield* joined(rows.targets);
   yield `
 </table>
 <h2>Flagged as above-ground (${rows.flagged.length})</h2>
 <p>Anomalies the air-wave screening (or the reviewer) attributes to reflections from objects above the ground; they are not in the target files.</p>
-<table><tr><th>Id</th><th>Depth m</th><th>Confidence</th><th>Why</th></tr>
+<table><tr><th>Id</th><th>Depth m</th><th>P(above-ground)</th><th>Why</th></tr>
 `;
   yield* joined(rows.flagged);
   yield `

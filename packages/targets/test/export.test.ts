@@ -85,9 +85,17 @@ describe('exportTargets on an EPSG:32617 (metre) folder', () => {
       // International foot, 0.3048 m exactly (NIST SP 811, appendix B).
       expect(f.properties.depthTopFt).toBeCloseTo(f.properties.depthTopM / 0.3048, 4);
       expect(f.properties.depthBottomFt).toBeCloseTo(f.properties.depthBottomM / 0.3048, 4);
-      // dz/z = dv/v for z = v t / 2 at a fixed two-way time: 0.005 / 0.1 = 5 %.
-      expect(f.properties.depthUncertaintyM).toBeCloseTo(f.properties.depthTopM * 0.05, 4);
-      expect(f.properties.depthBottomUncertaintyM).toBeCloseTo(f.properties.depthBottomM * 0.05, 4);
+      // Three parts in quadrature: dz/z = dv/v for z = v t / 2 at a fixed two-way time (0.005 / 0.1 = 5 %);
+      // half the slice thickness (0.2 m slices: 0.1 m); a quarter wavelength, v / (4 f) = 0.1 m/ns / (4 x
+      // 400 MHz) = 0.0625 m (the vertical-resolution rule: common practice, no source).
+      const dz = (z: number) => Math.sqrt((z * 0.05) ** 2 + 0.1 ** 2 + 0.0625 ** 2);
+      expect(f.properties.depthUncertaintyM).toBeCloseTo(dz(f.properties.depthTopM), 4);
+      expect(f.properties.depthBottomUncertaintyM).toBeCloseTo(dz(f.properties.depthBottomM), 4);
+      // never "+- 0.00": the floor holds at the surface
+      expect(f.properties.depthUncertaintyM).toBeGreaterThanOrEqual(Math.hypot(0.1, 0.0625) - 1e-4);
+      // P(above-ground) is the screening's probability, not a confidence in the target (issue 14)
+      expect(f.properties).not.toHaveProperty('confidence');
+      expect(f.properties.pAboveGround).toBeCloseTo(f.properties.screenedOrigin === 'above-ground' ? 0.8 : 0.2, 6);
     }
     const byId = Object.fromEntries(fc.features.map((f: { properties: { id: string } }) => [f.properties.id, f]));
     expect(byId.W.geometry.type).toBe('LineString'); // centreline for linear targets
