@@ -61,6 +61,8 @@ export interface ProcessSummary {
   anomalies: number;
   aboveGround: number;
   targets: number;
+  /** Targets accepted in review (the others are candidates). */
+  targetsAccepted: number;
   /** Row bands the grid was screened in (1 when it fitted `screenBandBytes`). */
   screeningBands: number;
   files: string[];
@@ -310,6 +312,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       anomalies: screening.anomalies,
       aboveGround: screening.aboveGround,
       targets: exported.targets,
+      targetsAccepted: exported.accepted,
       screeningBands: screening.bands,
       timings: timer.result(threads),
       files: ['run.json', 'lines.geojson', 'plan.geojson', 'velocity.json', 'slices.tif', 'slices.json', 'radargrams/index.json', 'anomalies.geojson', 'interfaces.geojson', 'forecast.geojson', 'review.json', ...exported.files.filter((f) => !f.includes('review'))],

@@ -26,6 +26,8 @@ export interface ExportResult {
   files: string[];
   /** Number of targets (in every file). */
   targets: number;
+  /** Of them, accepted in review (quality level B); the others are candidates. */
+  accepted: number;
   /** Anomalies flagged above-ground (by screening or relabelled in review), left out. */
   aboveGround: number;
   /** Anomalies rejected in review, left out. */
@@ -82,7 +84,7 @@ async function exportUnlocked(outDir: string, options: ExportOptions): Promise<E
     const byId = decisionsById(review.decisions);
     const depthError = folderDepthError(velocity, slices, freq);
     const matched = new Set<string>();
-    const counts = { anomalies: 0, targets: 0, aboveGround: 0, rejected: 0, notTargetClass: 0 };
+    const counts = { anomalies: 0, targets: 0, accepted: 0, aboveGround: 0, rejected: 0, notTargetClass: 0 };
     // Same order as EXPORT_FILES; the report comes last.
     const makers = [geoJsonWriter, gpkgWriter, csvWriter, dxfWriter] as const;
     for (let i = 0; i < makers.length; i++) writers.push(await makers[i]!(join(outDir, EXPORT_FILES[i]!), ctx));
@@ -101,6 +103,7 @@ async function exportUnlocked(outDir: string, options: ExportOptions): Promise<E
         continue;
       }
       counts.targets++;
+      if (r.decision === 'accepted') counts.accepted++;
       for (const w of writers) await w.add(r);
     }
     const unmatchedDecisions = review.decisions.filter((d) => !matched.has(d.anomalyId)).length;
@@ -109,7 +112,7 @@ async function exportUnlocked(outDir: string, options: ExportOptions): Promise<E
     const background = await readMapBackground(outDir, run.site.crs);
     staged.push(await report.finish({ run, velocity, thumbnails: thumbs, ctx, unmatchedDecisions, ...(slices ? { slices } : {}), background }, counts.anomalies, counts.notTargetClass));
     for (const s of staged) await s.commit();
-    return { files: [...EXPORT_FILES], targets: counts.targets, aboveGround: counts.aboveGround, rejected: counts.rejected, notTargetClass: counts.notTargetClass, unmatchedDecisions };
+    return { files: [...EXPORT_FILES], targets: counts.targets, accepted: counts.accepted, aboveGround: counts.aboveGround, rejected: counts.rejected, notTargetClass: counts.notTargetClass, unmatchedDecisions };
   } catch (e) {
     await Promise.all([...writers.map((w) => w.abort()), ...staged.map((s) => s.abort())]);
     throw e;

@@ -8,11 +8,11 @@ export function register(program: Command): void {
     .description('split a site too large for one machine into independent tile sites (one `lamina process` each) and a tiles.json manifest')
     .argument('<site>', 'site folder (or its site.json); format: docs/site-format.md')
     .requiredOption('--size <m>', 'side of a tile square in metres', Number.parseFloat)
-    .option('--overlap <m>', 'margin around each tile in metres, so edge anomalies are seen whole (default 5)', Number.parseFloat)
+    .option('--overlap <m>', 'margin around each tile in metres, so edge anomalies are seen whole (default: 5)', Number.parseFloat)
     .option('--plan-margin <m>', 'keep plan features this close to a tile in metres (default: overlap + c * record / 2)', Number.parseFloat)
-    .option('--absolute', 'refer to the original SEG-Y and CSV files by absolute path (default: relative)')
+    .option('--absolute', 'refer to the original SEG-Y and CSV files by absolute path (default: off, relative paths)')
     .requiredOption('--out <dir>', 'folder for tiles.json and the tile folders (replaced as a whole)')
-    .option('--json', 'print the manifest as JSON')
+    .option('--json', 'print the manifest as JSON (default: text)')
     .addHelpText(
       'after',
       '\nLines wholly inside a tile (plus overlap) are referenced in place; lines that leave it are cut into pieces,\n' +
