@@ -77,6 +77,7 @@ async function exportUnlocked(outDir: string, options: ExportOptions): Promise<E
       crs: run.site.crs,
       method: `GPR, ${freq !== undefined ? `${freq} MHz, ` : ''}depth slices`,
       surveyDate: run.site.surveyDate ?? null,
+      ...(run.site.survey ? { survey: run.site.survey } : {}),
       exportDate: now.toISOString(),
     };
     const thumbs = slices && (options.thumbnailSize ?? 240) > 0 ? await sliceThumbnails(outDir, slices, { maxSize: options.thumbnailSize ?? 240 }) : [];

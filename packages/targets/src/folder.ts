@@ -20,11 +20,26 @@ export interface RunInfo {
     extentWgs84?: [number, number, number, number];
     extentSite?: [number, number, number, number];
     surveyDate?: string;
+    /** site.json's `survey` block as run.json carries it (checked when site.json was loaded). */
+    survey?: SurveyMeta;
   };
   identity: SiteIdentity;
   lines: { id: string; traces?: number; lengthM?: number }[];
   /** The processing steps as run.json records them (step name, parameters, result), for the method statement. */
   recipeSteps?: { step: string; params: Record<string, unknown>; result?: Record<string, unknown> }[];
+}
+
+/** Survey metadata (site.json `survey`, see @lamina/site's surveySchema). */
+export interface SurveyMeta {
+  date?: string;
+  endDate?: string;
+  operator?: string;
+  client?: string;
+  equipment?: string;
+  antennaSerial?: string;
+  positioning?: { method?: string; accuracyM?: number };
+  groundConditions?: string;
+  notes?: string;
 }
 
 export interface AnomalyFeature {
@@ -137,7 +152,8 @@ export async function readRun(outDir: string): Promise<RunInfo> {
   const antenna = isObj(site.antenna) ? site.antenna : {};
   const lines = Array.isArray(j.lines) ? j.lines.filter(isObj).map((l) => ({ id: String(l.id), traces: num(l.traces), lengthM: num(l.lengthM) })) : [];
   const tool = isObj(j.tool) ? j.tool : {};
-  const surveyDate = typeof site.surveyDate === 'string' ? site.surveyDate : typeof site.date === 'string' ? site.date : undefined;
+  const survey = isObj(site.survey) ? (site.survey as SurveyMeta) : undefined;
+  const surveyDate = typeof survey?.date === 'string' ? survey.date : typeof site.surveyDate === 'string' ? site.surveyDate : typeof site.date === 'string' ? site.date : undefined;
   return {
     ...(typeof j.createdAt === 'string' ? { createdAt: j.createdAt } : {}),
     ...(typeof tool.version === 'string' ? { toolVersion: tool.version } : {}),
@@ -149,6 +165,7 @@ export async function readRun(outDir: string): Promise<RunInfo> {
       ...(bbox(site.extentWgs84) ? { extentWgs84: bbox(site.extentWgs84) } : {}),
       ...(bbox(site.extentSite) ? { extentSite: bbox(site.extentSite) } : {}),
       ...(surveyDate ? { surveyDate } : {}),
+      ...(survey ? { survey } : {}),
     },
     identity,
     lines: lines.map((l) => ({ id: l.id, ...(l.traces !== undefined ? { traces: l.traces } : {}), ...(l.lengthM !== undefined ? { lengthM: l.lengthM } : {}) })),

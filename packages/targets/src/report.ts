@@ -93,6 +93,23 @@ export function mapFlaggedOf(d: Dropped, crs: import('@lamina/site').Crs): MapFl
   return shape ? { id: d.id, shape, depthTopM: d.anomaly.properties.depthTopM, depthBottomM: d.anomaly.properties.depthBottomM } : null;
 }
 
+/** Rows of the site table from site.json's survey block (nothing when it has none). */
+function surveyRows(s: RunInfo['site']['survey'], date: string | null): string {
+  const rows: [string, string | undefined][] = [
+    ['Survey date', date ? `${date}${s?.endDate ? ` to ${s.endDate}` : ''}` : undefined],
+    ['Operator / crew', s?.operator],
+    ['Client', s?.client],
+    ['Equipment', [s?.equipment, s?.antennaSerial ? `antenna s/n ${s.antennaSerial}` : undefined].filter(Boolean).join(', ') || undefined],
+    ['Positioning', s?.positioning?.method ? `${s.positioning.method}${s.positioning.accuracyM !== undefined ? `, stated horizontal accuracy ${s.positioning.accuracyM} m` : ''}` : undefined],
+    ['Ground conditions', s?.groundConditions],
+    ['Notes', s?.notes],
+  ];
+  return rows
+    .filter((r): r is [string, string] => r[1] !== undefined && r[1] !== '')
+    .map(([k, v]) => `<tr><th>${k}</th><td>${esc(v)}</td></tr>`)
+    .join('\n');
+}
+
 /** The plan maps: all depths, then one per depth range of the slices; with the legend. */
 function planMaps(page: ReportPage, rows: ReportRows<unknown>): string {
   const { run, background } = page;
@@ -167,6 +184,7 @@ ${cautions}
 <tr><th>Extent (site CRS)</th><td>${ext ? `${f(ext[0], 2)}, ${f(ext[1], 2)} to ${f(ext[2], 2)}, ${f(ext[3], 2)} ${esc(unit)} (${f((ext[2] - ext[0]) * mpu, 1)} m × ${f((ext[3] - ext[1]) * mpu, 1)} m)` : '–'}</td></tr>
 <tr><th>Extent (WGS84)</th><td>${s.extentWgs84 ? s.extentWgs84.map((v) => v.toFixed(7)).join(', ') + ' (west, south, east, north)' : '–'}</td></tr>
 <tr><th>CRS</th><td>${esc(s.crs.code ?? 'custom')} — <code>${esc(s.crs.proj4)}</code>; plan units ${esc(unit)} (${mpu} m)</td></tr>
+${surveyRows(run.site.survey, ctx.surveyDate)}
 <tr><th>Antenna</th><td>${s.antenna?.frequencyMHz !== undefined ? `${s.antenna.frequencyMHz} MHz` : '–'}${s.antenna?.separationM !== undefined ? `, separation ${f(s.antenna.separationM, 3)} m` : ''}</td></tr>
 </table>
 <h2>Plan</h2>

@@ -17,6 +17,8 @@ export interface FixtureOptions {
   decisions?: (ids: Record<string, string>) => Partial<Decision>[];
   spreadMPerNs?: number;
   review?: boolean;
+  /** site.json's survey block, carried in run.json's site. */
+  survey?: Record<string, unknown>;
 }
 
 export const PY = '/usr/bin/python3';
@@ -76,6 +78,7 @@ export async function makeFolder(o: FixtureOptions): Promise<Fixture> {
       antenna: { frequencyMHz: 400, separationM: 0.16 },
       extentWgs84,
       extentSite: [...xy(0, 0), ...xy(20, 15)],
+      ...(o.survey ? { survey: o.survey } : {}),
     },
     identity,
     recipe: {},

@@ -7,7 +7,7 @@ import { exportTargets } from '../src';
 import { niceStep, planMapSvg } from '../src/plan-map';
 import { mapDepthRanges, trueNorthDeg } from '../src/report-map';
 import { lineDirections } from '../src/report-method';
-import { makeFolder, standardDecisions } from './fixture';
+import { makeFolder, py, standardDecisions } from './fixture';
 
 const NOW = new Date('2026-12-01T12:00:00.000Z');
 
@@ -104,5 +104,46 @@ describe('map pieces', () => {
     const svg = planMapSvg({ bbox: [0, 0, 100, 50], metresPerUnit: 1, unitName: 'm', northDeg: 0 }, { lines: [], plan: [], targets: [], flagged: [] }, null);
     expect(svg).toContain('class="scale-bar" data-length="20"');
     expect(svg).toContain('class="north-arrow"');
+  });
+});
+
+describe('survey metadata in every export (issue 14, part 2)', () => {
+  it('site.json survey block: GeoJSON, GeoPackage and CSV columns, DXF comments GDAL skips, report rows', async () => {
+    const survey = { date: '2026-11-30', operator: 'A. Crew', client: 'Invented Works Ltd', equipment: 'cart radar', antennaSerial: 'SN-0042', positioning: { method: 'RTK GNSS', accuracyM: 0.03 }, groundConditions: 'dry gravel' };
+    const fx = await makeFolder({ crs: 'EPSG:32617', origin: [431250, 4429800], decisions: standardDecisions, survey });
+    await exportTargets(fx.dir, { now: NOW });
+    const fc = JSON.parse(await readFile(join(fx.dir, 'targets.geojson'), 'utf8'));
+    for (const f of fc.features) {
+      expect(f.properties).toMatchObject({ surveyDate: '2026-11-30', operator: 'A. Crew', equipment: 'cart radar, antenna s/n SN-0042', positioning: 'RTK GNSS', positioningAccuracyM: 0.03 });
+    }
+    // read back through GDAL (Debian gdal-bin / python3-gdal): the GeoPackage columns and the DXF, whose
+    // 999 comment groups a DXF reader skips (DXF reference: group code 999 = comment)
+    const out = py(
+      `
+import sys, json
+from osgeo import ogr, gdal
+gdal.UseExceptions()
+g = ogr.Open(sys.argv[1] + '/targets.gpkg')
+l = g.GetLayerByName('targets')
+f = l.GetNextFeature()
+d = ogr.Open(sys.argv[1] + '/targets.dxf')
+print(json.dumps({'operator': f.GetField('operator'), 'acc': f.GetField('positioningAccuracyM'), 'date': f.GetField('surveyDate'), 'dxf': d.GetLayer(0).GetFeatureCount()}))
+`,
+      [fx.dir],
+    );
+    const r = JSON.parse(out);
+    expect(r).toMatchObject({ operator: 'A. Crew', acc: 0.03, date: '2026-11-30' });
+    expect(r.dxf).toBe(2 * fc.features.length); // a geometry and a label per target, as without comments
+    const dxf = await readFile(join(fx.dir, 'targets.dxf'), 'utf8');
+    expect(dxf).toMatch(/^999\r?\nLamina targets of site fixture/);
+    expect(dxf).toContain('positioning: RTK GNSS, stated accuracy 0.03 m');
+    const csv = (await readFile(join(fx.dir, 'targets.csv'), 'utf8')).split('\r\n');
+    const head = csv[0]!.split(',');
+    const row = csv[1]!.split(',');
+    expect(row[head.indexOf('survey_date')]).toBe('2026-11-30');
+    expect(row[head.indexOf('operator')]).toBe('A. Crew');
+    const html = await readFile(join(fx.dir, 'report.html'), 'utf8');
+    expect(html).toContain('<tr><th>Operator / crew</th><td>A. Crew</td></tr>');
+    expect(html).toContain('RTK GNSS, stated horizontal accuracy 0.03 m');
   });
 });
