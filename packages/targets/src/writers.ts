@@ -9,6 +9,7 @@ import type { MapFlagged, MapTarget } from './plan-map';
 import { byTargetId, mapFlaggedOf, mapTargetOf, reportFlaggedRow, reportParts, reportTargetRow, type ReportPage } from './report';
 import type { Dropped, Target } from './targets';
 import { crsToWkt, WGS84_WKT } from './wkt';
+import { LAYER_STYLES_COLUMNS, layerStylesRows } from './styles';
 
 /**
  * One target file written a target at a time into a staged temp file beside its path: `add` each
@@ -132,9 +133,17 @@ export async function targetsGpkg(targets: Target[], ctx: ExportContext): Promis
       { ...site, features: targets.map((t, i) => ({ geometry: t.site, values: values[i]! })) },
       { ...wgs84, features: targets.map((t, i) => ({ geometry: t.wgs84, values: values[i]! })) },
     ],
-    { timestamp: ctx.exportDate },
+    { timestamp: ctx.exportDate, tables: [layerStylesTable([site.name, wgs84.name], ctx)] },
   );
 }
+
+/** The layer_styles table of targets.gpkg (styles.ts): the default style of both layers. */
+const layerStylesTable = (layers: string[], ctx: ExportContext) => ({
+  name: 'layer_styles',
+  description: 'default styles of the target layers (SLD 1.1 and QGIS QML): accepted solid in APWA colours, candidates dashed',
+  columns: LAYER_STYLES_COLUMNS,
+  rows: layerStylesRows(layers, ctx.exportDate),
+});
 
 // A spilled row of the WGS 84 layer: u32 record length, u32 geometry length, the GeoPackage geometry,
 // then per value a tag (0 null, 1 float64, 2 UTF-8 string with u32 length). Little-endian throughout.
@@ -227,6 +236,7 @@ export async function gpkgWriter(path: string, ctx: ExportContext): Promise<Targ
       gp.beginLayer(wgs84);
       for await (const [geometry, values] of decodeRows(rows.read(), wgs84.fields.length)) gp.addBlob(geometry, values);
       gp.endLayer();
+      gp.addTable(layerStylesTable([site.name, wgs84.name], ctx));
       const bytes = gp.export();
       close();
       await rows.remove();
