@@ -3,3 +3,4 @@ export { createPool, serveTasks, defaultThreads, type Pool } from './pool';
 export { siteRecipe } from './line-task';
 export { formatTimings, type ProcessTimings } from './timings';
 export { preflight, estimateSize, type PreflightOptions, type SizeEstimate } from './preflight';
+export { readSurveyVelocity, adoptSurveyVelocity, type SurveyVelocity } from './survey-velocity';

@@ -15,6 +15,7 @@ export function register(program: Command): void {
     .option('--slice-thickness <m>', 'slice thickness in metres (default: half a wavelength in the soil at the antenna frequency)', Number.parseFloat)
     .option('--max-depth <m>', 'deepest slice bottom in metres (default: as deep as the record reaches)', Number.parseFloat)
     .option('--cell-size <m>', 'grid cell size in metres (default: a quarter of the line spacing)', Number.parseFloat)
+    .option('--velocity <file>', "velocity.json of the whole survey (`lamina velocity`): its model gives the depths instead of this run's own fit (default: this run's fit)")
     .option('--json', 'print the summary as JSON (default: text)')
     .option('-q, --quiet', 'no progress bars (default: bars on stderr when it is a terminal)')
     .optionsGroup('Advanced options (tuning; the defaults suit most sites):')
@@ -26,7 +27,7 @@ export function register(program: Command): void {
     .option('--timings', 'print the time of each stage (seconds and share of the run) on stderr (default: off)')
     .addHelpText('after', '\nWrites run.json, velocity.json, slices.tif and slices.json, anomalies.geojson, targets.* and report.html.\nRadar finds are not a locate: call the one-call centre before digging and verify by potholing.\nExample:\n  pnpm lamina process sample-sites/yard/site --out out/yard')
     .action(
-      action(async (siteDir: string, opts: { out: string; recipe?: string; threads?: number; sliceThickness?: number; sliceOverlap?: number; maxDepth?: number; cellSize?: number; level?: boolean; bandMemory?: number; bandOverlap?: number; json?: boolean; quiet?: boolean; timings?: boolean }) => {
+      action(async (siteDir: string, opts: { out: string; recipe?: string; threads?: number; sliceThickness?: number; sliceOverlap?: number; maxDepth?: number; cellSize?: number; level?: boolean; bandMemory?: number; bandOverlap?: number; json?: boolean; quiet?: boolean; timings?: boolean; velocity?: string }) => {
         const options: ProcessOptions = {};
         if (opts.recipe) {
           let text: string;
@@ -51,6 +52,7 @@ export function register(program: Command): void {
         if (opts.maxDepth !== undefined) options.maxDepthM = opts.maxDepth;
         if (opts.cellSize !== undefined) options.cellSizeM = opts.cellSize;
         if (opts.level) options.level = true;
+        if (opts.velocity) options.velocityFile = opts.velocity;
         if (opts.bandMemory !== undefined) {
           if (!(opts.bandMemory > 0)) throw new InputError('command line', '--band-memory must be a positive number of MiB');
           options.screenBandBytes = opts.bandMemory * 2 ** 20;
