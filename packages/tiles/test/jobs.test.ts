@@ -1,6 +1,7 @@
 // Job files of `lamina tiles --emit` and the array index of a task (issue 17, part 2).
 import { execFileSync } from 'node:child_process';
 import { describe, expect, it } from 'vitest';
+import { Job } from 'kubernetes-models/batch/v1/Job';
 import { arrayIndexFromEnv, jobFile, tileMemoryMiB, type TilesManifest } from '../src';
 
 const manifest = {
@@ -48,5 +49,9 @@ describe('job files', () => {
     expect(c.command).toEqual(['lamina', 'process-tile', 'tiles.json', '--threads', '4', '--band-memory', '384']);
     expect(c.resources.requests).toEqual({ cpu: '4', memory: `${tileMemoryMiB(384, 4)}Mi` });
     expect(j.spec.template.spec.restartPolicy).toBe('Never'); // required for backoffLimitPerIndex
+    // the Job schema of the Kubernetes API (JSON schemas generated from its OpenAPI spec, npm
+    // kubernetes-models 5.1.0): no cluster needed; the manifest is untested on a live cluster
+    expect(() => new Job(j).validate()).not.toThrow();
+    expect(() => new Job({ ...j, spec: { ...j.spec, completions: 'seven' } }).validate()).toThrow(/completions must be integer/);
   });
 });
