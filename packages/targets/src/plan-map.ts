@@ -5,6 +5,7 @@
  * included), grid ticks with coordinates and a frame. One function, no I/O: the report gathers the
  * geometry as the targets stream past and calls `planMapSvg` once per depth range.
  */
+import { esc } from './text';
 
 export type Ring = number[][];
 
@@ -191,7 +192,6 @@ function planStyle(kind: string): string {
 }
 
 const fmt = (v: number) => (Number.isInteger(v) ? String(v) : String(Number(v.toPrecision(4))));
-const esc = (s: unknown) => String(s ?? '').replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
 
 /** The legend of the plan maps, as HTML (printed once under the first map). */
 export function planMapLegend(utilityColours: { name: string; hex: string; label: string }[]): string {

@@ -9,11 +9,11 @@ import { pointFromWgs84, pointToWgs84, type Crs } from '@lamina/site';
 import { readJsonFile } from './folder';
 import type { MapFrame, MapPlanFeature, Shape } from './plan-map';
 import type { Geometry } from './targets';
+import { isObj } from './text';
 
 /** Most vertices kept per drawn shape (ring or polyline); more are decimated, ends kept. */
 export const MAX_MAP_VERTICES = 400;
 
-const isObj = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
 const isPos = (p: unknown): p is number[] => Array.isArray(p) && typeof p[0] === 'number' && typeof p[1] === 'number' && Number.isFinite(p[0]) && Number.isFinite(p[1]);
 
 function decimate(path: number[][], max = MAX_MAP_VERTICES): number[][] {

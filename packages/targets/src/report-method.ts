@@ -5,9 +5,8 @@
  * appendix of fits. Everything here is read from the folder; nothing is assumed about the site.
  */
 import type { RunInfo, SlicesInfo, VelocityInfo } from './folder';
+import { esc, isObj } from './text';
 
-const esc = (s: unknown) => String(s ?? '').replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
-const isObj = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
 const n = (v: unknown, d = 2): string => (typeof v === 'number' && Number.isFinite(v) ? String(Number(v.toFixed(d))) : '–');
 
 /** Plain names of the recipe's steps, in the words of the trade. */

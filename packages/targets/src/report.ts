@@ -7,6 +7,7 @@ import { APWA_COLOURS, UTILITY_TYPES } from './apwa';
 import { planMapLegend, planMapSvg, UNTYPED_COLOUR, type MapFlagged, type MapTarget } from './plan-map';
 import { fromWgs84, mapDepthRanges, mapFrame, shapeOf, type MapBackground } from './report-map';
 import { limitations, methodStatement, velocitySummary } from './report-method';
+import { esc, isObj } from './text';
 
 /** The cautions every output meant for people near utilities carries. */
 export const CAUTIONS = [
@@ -17,9 +18,7 @@ export const CAUTIONS = [
   'Defer to local codes, owner requirements and licensed professional practice (quality level B in the sense of CI/ASCE 38-22 is designating by geophysical methods only).',
 ];
 
-const esc = (s: unknown) => String(s ?? '').replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
 const f = (v: number | null | undefined, d = 2) => (v === null || v === undefined || !Number.isFinite(v) ? '–' : v.toFixed(d));
-const isObj = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
 
 export interface ReportInput {
   run: RunInfo;

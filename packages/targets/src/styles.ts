@@ -12,6 +12,7 @@
 import { APWA_COLOURS, UTILITY_TYPES, type UtilityType } from './apwa';
 import type { GpkgValue } from './gpkg';
 import { UNTYPED_COLOUR } from './plan-map';
+import { esc as xml } from './text';
 
 /** The columns of layer_styles, in QGIS's order (from memory of the table QGIS creates). */
 export const LAYER_STYLES_COLUMNS: readonly (readonly [string, 'TEXT' | 'INTEGER'])[] = [
@@ -50,7 +51,6 @@ export function styleRules(): StyleRule[] {
   return rules;
 }
 
-const xml = (s: string) => s.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&apos;' })[c]!);
 
 function sldFilter(r: StyleRule): string {
   const eq = (p: string, v: string) => `<ogc:PropertyIsEqualTo><ogc:PropertyName>${p}</ogc:PropertyName><ogc:Literal>${xml(v)}</ogc:Literal></ogc:PropertyIsEqualTo>`;
