@@ -18,7 +18,7 @@ import { PYTHON, launch, openViewer, type Browser } from '@lamina/test-utils';
 const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');
 const ARTIFACTS = join(ROOT, 'test-artifacts', 'viewer-e2e');
 const BACKGROUND: [number, number, number] = [0xee, 0xf0, 0xea]; // the offline style's plain background
-const OVERLAYS = ['lines', 'anomalies', 'forecast', 'targets', 'buildings', 'walls', 'fences', 'points', 'other'];
+const OVERLAYS = ['lines', 'anomalies', 'forecast', 'targets', 'candidates', 'buildings', 'walls', 'fences', 'points', 'other'];
 
 /** lon/lat of site-CRS points by PROJ's cs2cs (EPSG:4326 prints lat lon). */
 function toLonLat(crs: string, pts: [number, number][]): [number, number][] {

@@ -20,13 +20,16 @@ export interface Progress {
   stop(): void;
 }
 
-/** A progress bar on stderr that appears only once a task has run for a second, and never when stderr is not a TTY unless LAMINA_PROGRESS=1. */
-export function progress(): Progress {
+/**
+ * A progress bar on stderr that appears only once a task has run for a second, and never when stderr is
+ * not a TTY unless LAMINA_PROGRESS=1, nor with `quiet`.
+ */
+export function progress(options: { quiet?: boolean } = {}): Progress {
   let bar: SingleBar | undefined;
   let startedAt = 0;
   let label = '';
   let total = 0;
-  const enabled = process.stderr.isTTY || process.env.LAMINA_PROGRESS === '1';
+  const enabled = !options.quiet && (process.stderr.isTTY || process.env.LAMINA_PROGRESS === '1');
   return {
     start(l, t) {
       this.stop();

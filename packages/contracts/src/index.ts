@@ -14,3 +14,4 @@ export { pickSchema, picksSchema, type PicksFile, type ManualHyperbola } from '.
 export { tileLineSchema, tileEntrySchema, tilesSchema, type TileLine, type TileEntry, type TilesManifest } from './tiles';
 export { radargramLineSchema, radargramIndexSchema, linePropertiesSchema, linesSchema, planPropertiesSchema, planSchema, type RadargramLine, type RadargramIndex, type LineProperties } from './radargrams';
 export { FOLDER_FILES, checkFolder } from './folder';
+export { surveySchema, type SurveyJson } from './survey';

@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { bbox, num } from './common';
+import { surveySchema } from './survey';
 
 /** The survey a review belongs to; review.json must carry the same (run.json `identity`). */
 export const siteIdentitySchema = z.strictObject({
@@ -45,6 +46,8 @@ export const runSchema = z.object({
     surveyDate: z.string().optional(),
     /** Older name of `surveyDate`. */
     date: z.string().optional(),
+    /** site.json's survey block (surveySchema), when it has one. */
+    survey: surveySchema.optional(),
   }),
   identity: siteIdentitySchema,
   /** Bottom of the direct- and ground-wave zone, m. */
@@ -52,7 +55,7 @@ export const runSchema = z.object({
   /** The processing recipe (schema in @lamina/processing). */
   recipe: z.unknown().optional(),
   /** What ran, step by step. */
-  log: z.array(z.object({ step: z.string() })).optional(),
+  log: z.array(z.object({ step: z.string(), params: z.record(z.string(), z.unknown()).optional(), notes: z.array(z.unknown()).optional(), result: z.record(z.string(), z.unknown()).optional() })).optional(),
   threads: num.optional(),
   /** Absent in folders of older versions. */
   lines: z.array(runLineSchema).optional(),

@@ -28,10 +28,15 @@ export const targetFieldsSchema = z.object({
   depthTopM: num,
   depthBottomM: num,
   origin: z.enum(['subsurface', 'above-ground']),
-  confidence: num,
+  /** The detection's class of the anomaly (utility, structure, or another accepted in review); null without classes. */
+  class: text,
+  /** The screening's probability, 0..1, that the anomaly is an above-ground (air-wave) reflection. */
+  pAboveGround: num.nullable(),
+  /** Strength of the anomaly above its slice's noise level, dB. */
+  strengthDb: num.nullable(),
   depthTopFt: metres,
   depthBottomFt: metres,
-  /** Depth uncertainty of the top (dz = z dv / v). */
+  /** Depth uncertainty of the top: velocity spread, half the slice thickness and a quarter wavelength in quadrature. */
   depthUncertaintyM: metres,
   depthUncertaintyFt: metres,
   depthBottomUncertaintyM: metres,
@@ -46,6 +51,11 @@ export const targetFieldsSchema = z.object({
   qualityLevel: z.literal('B').nullable(),
   method: z.string(),
   surveyDate: text,
+  /** From site.json's survey block. */
+  operator: text,
+  equipment: text,
+  positioning: text,
+  positioningAccuracyM: metres,
   exportDate: z.string(),
   decision: z.enum(['accepted', 'candidate']),
   note: text,

@@ -44,6 +44,8 @@ export const tilesSchema = z.object({
   /** Tile (col, row) covers x in [col * size, (col + 1) * size), y likewise, in site CRS units. */
   sizeUnits: num,
   traces: num,
+  /** The survey's velocity.json beside tiles.json, used by every tile (`lamina tiles --velocity`); absent: each tile fits its own. */
+  velocity: z.string().optional(),
   tiles: z.array(tileEntrySchema),
 });
 export type TilesManifest = z.infer<typeof tilesSchema>;

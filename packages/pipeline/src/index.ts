@@ -2,3 +2,4 @@ export { runProcess, type ProcessOptions, type ProcessSummary } from './process'
 export { siteRecipe } from './line-task';
 export { formatTimings, type ProcessTimings } from './timings';
 export { preflight, estimateSize, type PreflightOptions, type SizeEstimate } from './preflight';
+export { readSurveyVelocity, adoptSurveyVelocity, type SurveyVelocity } from './survey-velocity';

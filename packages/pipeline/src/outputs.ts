@@ -178,6 +178,7 @@ export function siteSummary(site: Site) {
     dir: site.dir,
     crs: { input: site.crs.input, ...(site.crs.code ? { code: site.crs.code } : {}), proj4: site.crs.proj4, units: site.crs.units, metresPerUnit: site.crs.metresPerUnit },
     antenna: site.antenna,
+    ...(site.survey ? { survey: site.survey } : {}),
   };
 }
 

@@ -15,6 +15,7 @@ import { extents, linesGeoJson, planGeoJson, siteSummary, writeChunks, writeRada
 import { sliceAndScreen, type Anchored, type Screening } from './slice-and-screen';
 import { addParts, StageTimer, type ProcessTimings } from './timings';
 import { preflight } from './preflight';
+import { adoptSurveyVelocity, readSurveyVelocity } from './survey-velocity';
 
 export interface ProcessOptions {
   /** Worker threads; 0 runs every line on the calling thread. @default LAMINA_THREADS or the core count */
@@ -57,6 +58,11 @@ export interface ProcessOptions {
    * outputs are the same either way. @default true
    */
   keepLines?: boolean;
+  /**
+   * velocity.json of the whole survey (`lamina velocity`, or the tiles' shared model): its site velocity
+   * and model are used for depth and screening instead of this run's own fit. @default none
+   */
+  velocityFile?: string;
 }
 
 export interface ProcessSummary {
@@ -69,6 +75,8 @@ export interface ProcessSummary {
   anomalies: number;
   aboveGround: number;
   targets: number;
+  /** Targets accepted in review (the others are candidates). */
+  targetsAccepted: number;
   /** Row bands the grid was screened in (1 when it fitted `screenBandBytes`). */
   screeningBands: number;
   files: string[];
@@ -169,6 +177,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   const { survey, size, freeBytes } = await preflight(loaded, outDir, options);
   for (const w of survey.warnings) (options.onWarning ?? ((m) => process.stderr.write(`warning: ${m}\n`)))(w);
   const site: Site = { ...loaded, plan: survey.plan };
+  const surveyVelocity = options.velocityFile !== undefined ? await readSurveyVelocity(options.velocityFile) : undefined;
   siteLoaded();
   const recipe: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
   const progress = options.onProgress ?? (() => {});
@@ -204,11 +213,12 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
 
     const velocityDone = timer.start('velocity model');
     const fits = p1.flatMap((r) => r.fits);
-    const velocity = buildVelocityReport(fits, {
+    const own = buildVelocityReport(fits, {
       separationM: site.antenna.separationM,
       metresPerUnit: site.crs.metresPerUnit,
       lineDirections: Object.fromEntries(p1.map((r) => [r.summary.id, r.direction])),
     });
+    const velocity = surveyVelocity ? adoptSurveyVelocity(own, surveyVelocity) : own;
     await writeChunks(join(stage.path, 'velocity.json'), velocityJsonChunks(velocity));
     velocityDone();
     // The picks are for the viewer (in velocity.json now); screening needs only the fits. They grow
@@ -311,6 +321,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       anomalies: screening.anomalies,
       aboveGround: screening.aboveGround,
       targets: exported.targets,
+      targetsAccepted: exported.accepted,
       screeningBands: screening.bands,
       timings: timer.result(threads),
       files: ['run.json', 'lines.geojson', 'plan.geojson', 'velocity.json', 'slices.tif', 'slices.json', 'radargrams/index.json', 'anomalies.geojson', 'interfaces.geojson', 'forecast.geojson', 'review.json', ...exported.files.filter((f) => !f.includes('review'))],

@@ -1,6 +1,6 @@
 export type * from './types';
 export { resolveCrs, lookupEpsg, registrySize, registryCodes, toWgs84, fromWgs84, pointToWgs84, pointFromWgs84, US_SURVEY_FOOT_M, INTERNATIONAL_FOOT_M, type ResolveCrsOptions, type LonLat, type Xy } from './crs';
-export { siteSchema, lineSchema, antennaSchema, checkSiteJson, LINE_ID, type SiteJson, type SiteJsonLine } from './manifest';
+export { siteSchema, lineSchema, antennaSchema, surveySchema, checkSiteJson, LINE_ID, type SiteJson, type SiteJsonLine, type SurveyInfo } from './manifest';
 export { parsePlan, readPlan, checkPlanNearSurvey, PLAN_KINDS, KIND_GEOMETRY, type ParsePlanOptions, type PlanNearOptions } from './plan';
 export {
   positionsFromHeaders,

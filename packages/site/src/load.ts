@@ -116,6 +116,7 @@ export async function loadSite(dir: string): Promise<Site> {
     ...(planFile ? { planFile } : {}),
     lines,
     ...(json.recipe !== undefined ? { recipe: json.recipe } : {}),
+    ...(json.survey !== undefined ? { survey: json.survey } : {}),
   };
 }
 

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { surveySchema } from '@lamina/contracts';
 import { describe, type Problem, zodProblems } from './problems';
 
 /** Line ids become file names (`radargrams/<id>.f32`), so they are kept to a portable set. */
@@ -46,6 +47,9 @@ export const lineSchema = z.strictObject({
       .optional(),
   });
 
+// The survey block is a contract of site.json and run.json alike: its schema lives in @lamina/contracts.
+export { surveySchema, type SurveyJson as SurveyInfo } from '@lamina/contracts';
+
 export const siteSchema = z.strictObject({
   name: text('a site name'),
   description: z.string().optional(),
@@ -55,6 +59,7 @@ export const siteSchema = z.strictObject({
   plan: text('the path of the plan GeoJSON').optional(),
   lines: z.array(lineSchema, { error: (iss) => (iss.input === undefined ? 'missing: expected an array of lines' : `expected an array of lines, found ${describe(iss.input)}`) }).min(1, { error: 'expected at least one line, found none' }),
   recipe: z.unknown().optional(),
+  survey: surveySchema.optional(),
 });
 
 export type SiteJson = z.infer<typeof siteSchema>;

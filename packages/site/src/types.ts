@@ -1,3 +1,4 @@
+import type { SurveyInfo } from './manifest';
 /** Parsed site: what `loadSite(dir)` returns. Positions and plan geometry are in the site CRS units. */
 
 /** `overhead`: a cable, beam, canopy edge or branch above the ground; it needs `heightM`. */
@@ -80,4 +81,6 @@ export interface Site {
   lines: LineSource[];
   /** Processing recipe from site.json, if any (validated by @lamina/processing). */
   recipe?: unknown;
+  /** Survey metadata from site.json's `survey` block (date, operator, equipment, positioning, ...). */
+  survey?: SurveyInfo;
 }

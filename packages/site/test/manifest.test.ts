@@ -46,3 +46,35 @@ describe('site.json schema', () => {
     expect(jsonPath([])).toBe('(top level)');
   });
 });
+
+describe('site.json survey block (issue 14, part 2)', () => {
+  const survey = {
+    date: '2026-11-30',
+    endDate: '2026-12-01T16:30:00+01:00',
+    operator: 'A. Crew',
+    client: 'Invented Works Ltd',
+    equipment: 'cart radar, 400 MHz shielded antenna',
+    antennaSerial: 'SN-0042',
+    positioning: { method: 'RTK GNSS', accuracyM: 0.03 },
+    groundConditions: 'dry gravel, overcast',
+    notes: 'south-east corner blocked by a skip',
+  };
+
+  it('accepts the documented block', () => {
+    const r = checkSiteJson({ ...good, survey });
+    expect(r.problems).toEqual([]);
+    expect(r.value?.survey).toEqual(survey);
+  });
+
+  it('refuses dates that are not ISO 8601 calendar dates, unknown keys and a non-positive accuracy, each with its path', () => {
+    // ISO 8601-1:2019 calendar date YYYY-MM-DD; 2026 is not a leap year, so 2026-02-29 does not exist.
+    for (const date of ['30/11/2026', '2026-11-31', '2026-02-29', '2026-13-01', 'yesterday', '']) {
+      const r = checkSiteJson({ ...good, survey: { ...survey, date } });
+      expect(r.problems.map((p) => p.path), date).toContain('survey.date');
+    }
+    expect(checkSiteJson({ ...good, survey: { ...survey, date: '2024-02-29' } }).problems).toEqual([]); // a leap day
+    const r = checkSiteJson({ ...good, survey: { date: '2026-11-30', crew: 'x', positioning: { method: 'GNSS', accuracyM: 0 } } });
+    expect(r.problems.map((p) => p.path).sort()).toEqual(['survey.crew', 'survey.positioning.accuracyM'].sort());
+    expect(checkSiteJson({ ...good, survey: { operator: 'x' } }).problems.map((p) => p.path)).toEqual(['survey.date']);
+  });
+});

@@ -54,8 +54,9 @@ export class DiskStack {
 export async function writeSlicesFromDisk(disk: DiskStack, outDir: string, gridding: GriddingInfo | undefined, options: WriteSlicesOptions = {}): Promise<SlicesJson> {
   const g = disk.grid;
   checkNodata(g);
-  const json = slicesJsonOf(g, disk.slices, statsOf(disk), gridding);
-  const cog = slicesCogOptions(g, disk.slices, gridding, options);
+  const stats = statsOf(disk);
+  const json = slicesJsonOf(g, disk.slices, stats, gridding);
+  const cog = slicesCogOptions(g, disk.slices, gridding, options, stats);
   return writeSlicesFiles(outDir, json, (tmp) => encodeCogFile(rowsOf(disk), cog, tmp));
 }
 

@@ -37,6 +37,18 @@ function cogCrs(grid: SliceGrid): CogCrs {
   return crs;
 }
 
+/** GDAL's band statistics items; none for a band without valid cells (GDAL then computes nothing either). */
+function gdalStats(s: SliceStats | undefined, cells: number): Record<string, string> {
+  if (!s || !(s.validCount > 0) || ![s.min, s.max, s.mean, s.std].every(Number.isFinite)) return {};
+  return {
+    STATISTICS_MINIMUM: String(s.min),
+    STATISTICS_MAXIMUM: String(s.max),
+    STATISTICS_MEAN: String(s.mean),
+    STATISTICS_STDDEV: String(s.std),
+    STATISTICS_VALID_PERCENT: String((100 * s.validCount) / cells),
+  };
+}
+
 function describe(topM: number, bottomM: number): string {
   return `depth ${topM.toFixed(3)}-${bottomM.toFixed(3)} m`;
 }
@@ -51,7 +63,7 @@ export async function writeSlices(stack: SliceStack, outDir: string, options: Wr
     stack.slices.map((s) => s.values),
     g.width,
     g.height,
-    slicesCogOptions(g, stack.slices, stack.gridding, options),
+    slicesCogOptions(g, stack.slices, stack.gridding, options, stats),
   );
   return writeSlicesFiles(outDir, slicesJsonOf(g, stack.slices, stats, stack.gridding), (tmp) => writeFile(tmp, tif));
 }
@@ -63,8 +75,12 @@ export function checkNodata(g: SliceGrid): void {
   if (!Number.isFinite(g.nodata)) throw new Error(`nodata must be a finite number (JSON has no NaN), found ${g.nodata}`);
 }
 
-/** The COG options of slices.tif: grid, CRS, band descriptions and metadata. */
-export function slicesCogOptions(g: SliceGrid, slices: SliceDepth[], gridding: GriddingInfo | undefined, options: WriteSlicesOptions): CogOptions {
+/**
+ * The COG options of slices.tif: grid, CRS, band descriptions ("depth 0.500-0.625 m", what a GIS lists
+ * instead of "Band 5") and metadata, with each band's statistics under the names GDAL reads as the band's
+ * own (STATISTICS_MINIMUM, ...: gdalinfo shows them and a GIS stretches by them without a scan).
+ */
+export function slicesCogOptions(g: SliceGrid, slices: SliceDepth[], gridding: GriddingInfo | undefined, options: WriteSlicesOptions, stats?: SliceStats[]): CogOptions {
   return {
     originX: g.originX,
     originY: g.originY,
@@ -72,7 +88,7 @@ export function slicesCogOptions(g: SliceGrid, slices: SliceDepth[], gridding: G
     crs: cogCrs(g),
     nodata: g.nodata,
     descriptions: slices.map((s) => describe(s.topM, s.bottomM)),
-    bandMetadata: slices.map((s) => ({ TOP_M: String(s.topM), BOTTOM_M: String(s.bottomM) })),
+    bandMetadata: slices.map((s, k) => ({ TOP_M: String(s.topM), BOTTOM_M: String(s.bottomM), ...gdalStats(stats?.[k], g.width * g.height) })),
     metadata: { SLICE_VALUE: gridding?.mode ?? 'mean-square', DEPTH_UNIT: 'metre' },
     tileSize: options.tileSize ?? 256,
     level: options.level ?? 1,

@@ -2,6 +2,8 @@ import { join } from 'node:path';
 import { lockFolder, type StagedFile } from '@lamina/atomic';
 import { readRun, readSlicesInfo, readVelocity, streamAnomalies } from './folder';
 import type { ExportContext } from './formats';
+import { folderDepthError } from './depth-error';
+import { readMapBackground } from './report-map';
 import { readReview } from './review';
 import { decisionsById, isDropped, targetOf } from './targets';
 import { sliceThumbnails } from './thumbnails';
@@ -24,6 +26,8 @@ export interface ExportResult {
   files: string[];
   /** Number of targets (in every file). */
   targets: number;
+  /** Of them, accepted in review (quality level B); the others are candidates. */
+  accepted: number;
   /** Anomalies flagged above-ground (by screening or relabelled in review), left out. */
   aboveGround: number;
   /** Anomalies rejected in review, left out. */
@@ -73,22 +77,24 @@ async function exportUnlocked(outDir: string, options: ExportOptions): Promise<E
       crs: run.site.crs,
       method: `GPR, ${freq !== undefined ? `${freq} MHz, ` : ''}depth slices`,
       surveyDate: run.site.surveyDate ?? null,
+      ...(run.site.survey ? { survey: run.site.survey } : {}),
       exportDate: now.toISOString(),
     };
     const thumbs = slices && (options.thumbnailSize ?? 240) > 0 ? await sliceThumbnails(outDir, slices, { maxSize: options.thumbnailSize ?? 240 }) : [];
 
     const byId = decisionsById(review.decisions);
+    const depthError = folderDepthError(velocity, slices, freq);
     const matched = new Set<string>();
-    const counts = { anomalies: 0, targets: 0, aboveGround: 0, rejected: 0, notTargetClass: 0 };
+    const counts = { anomalies: 0, targets: 0, accepted: 0, aboveGround: 0, rejected: 0, notTargetClass: 0 };
     // Same order as EXPORT_FILES; the report comes last.
     const makers = [geoJsonWriter, gpkgWriter, csvWriter, dxfWriter] as const;
     for (let i = 0; i < makers.length; i++) writers.push(await makers[i]!(join(outDir, EXPORT_FILES[i]!), ctx));
-    const report = reportWriter(join(outDir, 'report.html'));
+    const report = reportWriter(join(outDir, 'report.html'), run.site.crs);
     for (let step = first; !step.done; step = await anomalies.next()) {
       const a = step.value;
       counts.anomalies++;
       if (byId.has(a.properties.id)) matched.add(a.properties.id);
-      const r = targetOf(a, byId, velocity, run.site.crs);
+      const r = targetOf(a, byId, velocity, run.site.crs, depthError);
       if (r === null) continue;
       report.add(r);
       if (isDropped(r)) {
@@ -98,14 +104,16 @@ async function exportUnlocked(outDir: string, options: ExportOptions): Promise<E
         continue;
       }
       counts.targets++;
+      if (r.decision === 'accepted') counts.accepted++;
       for (const w of writers) await w.add(r);
     }
     const unmatchedDecisions = review.decisions.filter((d) => !matched.has(d.anomalyId)).length;
     for (const w of writers) staged.push(await w.finish());
     writers.length = 0;
-    staged.push(await report.finish({ run, velocity, thumbnails: thumbs, ctx, unmatchedDecisions }, counts.anomalies, counts.notTargetClass));
+    const background = await readMapBackground(outDir, run.site.crs);
+    staged.push(await report.finish({ run, velocity, thumbnails: thumbs, ctx, unmatchedDecisions, ...(slices ? { slices } : {}), background }, counts.anomalies, counts.notTargetClass));
     for (const s of staged) await s.commit();
-    return { files: [...EXPORT_FILES], targets: counts.targets, aboveGround: counts.aboveGround, rejected: counts.rejected, notTargetClass: counts.notTargetClass, unmatchedDecisions };
+    return { files: [...EXPORT_FILES], targets: counts.targets, accepted: counts.accepted, aboveGround: counts.aboveGround, rejected: counts.rejected, notTargetClass: counts.notTargetClass, unmatchedDecisions };
   } catch (e) {
     await Promise.all([...writers.map((w) => w.abort()), ...staged.map((s) => s.abort())]);
     throw e;

@@ -6,7 +6,7 @@ import { InputError } from '@lamina/errors';
 import { resolveCrs } from '@lamina/site';
 import type { Crs } from '@lamina/site';
 import { anomaliesSchema, checkContract, runSchema, slicesSchema, velocitySchema } from '@lamina/contracts';
-import type { AnomalyFeature as AnomalyFeatureJson, Box, EvidenceRow, SliceEntry, RunLine, SiteIdentity, SlicesJson, VelocityJson } from '@lamina/contracts';
+import type { AnomalyFeature as AnomalyFeatureJson, Box, EvidenceRow, SliceEntry, RunLine, SiteIdentity, SlicesJson, SurveyJson, VelocityJson } from '@lamina/contracts';
 
 /** What export needs from run.json (its contract: `runSchema` in @lamina/contracts), the CRS resolved. */
 export interface RunInfo {
@@ -21,10 +21,17 @@ export interface RunInfo {
     extentWgs84?: Box;
     extentSite?: Box;
     surveyDate?: string;
+    /** site.json's `survey` block as run.json carries it (checked when site.json was loaded). */
+    survey?: SurveyMeta;
   };
   identity: SiteIdentity;
   lines: RunLine[];
+  /** What ran, step by step, as run.json's `log` records it (name, parameters, result): the method statement. */
+  recipeSteps?: { step: string; params: Record<string, unknown>; result?: Record<string, unknown> }[];
 }
+
+/** Survey metadata (site.json `survey`, carried in run.json: surveySchema in @lamina/contracts). */
+export type SurveyMeta = SurveyJson;
 
 export type { EvidenceRow as EvidenceItem, SlicesJson as SlicesInfo, SliceEntry as SliceInfo };
 
@@ -74,7 +81,8 @@ export async function readRun(outDir: string): Promise<RunInfo> {
     throw new InputError(file, `expected metresPerUnit ${crs.metresPerUnit} from the proj4 definition, found ${c.metresPerUnit}`, { field: 'site.crs.metresPerUnit' });
   }
   const antenna = site.antenna ?? {};
-  const surveyDate = site.surveyDate ?? site.date;
+  const survey = site.survey;
+  const surveyDate = survey?.date ?? site.surveyDate ?? site.date;
   return {
     ...(j.createdAt !== undefined ? { createdAt: j.createdAt } : {}),
     ...(j.tool ? { toolVersion: j.tool.version } : {}),
@@ -86,9 +94,11 @@ export async function readRun(outDir: string): Promise<RunInfo> {
       ...(site.extentWgs84 ? { extentWgs84: site.extentWgs84 } : {}),
       ...(site.extentSite ? { extentSite: site.extentSite } : {}),
       ...(surveyDate ? { surveyDate } : {}),
+      ...(survey ? { survey } : {}),
     },
     identity: j.identity,
     lines: (j.lines ?? []).map((l) => ({ id: l.id, ...(l.traces !== undefined ? { traces: l.traces } : {}), ...(l.lengthM !== undefined ? { lengthM: l.lengthM } : {}) })),
+    ...(j.log?.length ? { recipeSteps: j.log.map((e) => ({ step: e.step, params: e.params ?? {}, ...(e.result ? { result: e.result } : {}) })) } : {}),
   };
 }
 

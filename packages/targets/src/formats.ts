@@ -1,6 +1,7 @@
 import type { TargetFields } from '@lamina/contracts';
 import type { Crs } from '@lamina/site';
 import { FOOT_M, pointAlong, type Geometry, type Target } from './targets';
+import type { SurveyMeta } from './folder';
 
 /** Context every format writes beside the targets. */
 export interface ExportContext {
@@ -10,17 +11,19 @@ export interface ExportContext {
   method: string;
   surveyDate: string | null;
   exportDate: string;
+  /** The rest of site.json's `survey` block, when given. */
+  survey?: SurveyMeta;
 }
 
 const ft = (m: number | null) => (m === null ? null : Math.round((m / FOOT_M) * 1e4) / 1e4);
 
 /** The fixed property set of targets.geojson and the GeoPackage attribute table, with SQLite types. */
 export const TARGET_FIELDS: readonly (readonly [keyof TargetFields, 'TEXT' | 'REAL'])[] = [
-  ['id', 'TEXT'], ['depthTopM', 'REAL'], ['depthBottomM', 'REAL'], ['origin', 'TEXT'], ['confidence', 'REAL'],
+  ['id', 'TEXT'], ['depthTopM', 'REAL'], ['depthBottomM', 'REAL'], ['origin', 'TEXT'], ['class', 'TEXT'], ['pAboveGround', 'REAL'], ['strengthDb', 'REAL'],
   ['depthTopFt', 'REAL'], ['depthBottomFt', 'REAL'], ['depthUncertaintyM', 'REAL'], ['depthUncertaintyFt', 'REAL'],
   ['depthBottomUncertaintyM', 'REAL'], ['depthBottomUncertaintyFt', 'REAL'], ['kind', 'TEXT'], ['utilityType', 'TEXT'],
   ['apwaColour', 'TEXT'], ['apwaColourName', 'TEXT'], ['label', 'TEXT'], ['lengthM', 'REAL'], ['qualityLevel', 'TEXT'],
-  ['method', 'TEXT'], ['surveyDate', 'TEXT'], ['exportDate', 'TEXT'], ['decision', 'TEXT'], ['note', 'TEXT'],
+  ['method', 'TEXT'], ['surveyDate', 'TEXT'], ['operator', 'TEXT'], ['equipment', 'TEXT'], ['positioning', 'TEXT'], ['positioningAccuracyM', 'REAL'], ['exportDate', 'TEXT'], ['decision', 'TEXT'], ['note', 'TEXT'],
   ['reviewedAt', 'TEXT'], ['screenedOrigin', 'TEXT'], ['site', 'TEXT'],
 ];
 
@@ -31,6 +34,12 @@ export const TARGET_FIELDS: readonly (readonly [keyof TargetFields, 'TEXT' | 'RE
  */
 export const qualityLevel = (t: Target): 'B' | null => (t.decision === 'accepted' ? 'B' : null);
 
+/** Radar system and antenna serial as one text ("GX-1, antenna s/n 123"), null when neither is given. */
+export function equipmentText(s: SurveyMeta | undefined): string | null {
+  const parts = [s?.equipment, s?.antennaSerial ? `antenna s/n ${s.antennaSerial}` : undefined].filter((x): x is string => !!x);
+  return parts.length ? parts.join(', ') : null;
+}
+
 /** The properties of one target, keyed as TARGET_FIELDS. */
 export function targetProperties(t: Target, ctx: ExportContext): TargetFields {
   return {
@@ -38,7 +47,9 @@ export function targetProperties(t: Target, ctx: ExportContext): TargetFields {
     depthTopM: t.depthTopM,
     depthBottomM: t.depthBottomM,
     origin: t.origin,
-    confidence: t.confidence,
+    class: t.class,
+    pAboveGround: t.pAboveGround,
+    strengthDb: t.strengthDb,
     depthTopFt: ft(t.depthTopM),
     depthBottomFt: ft(t.depthBottomM),
     depthUncertaintyM: t.depthUncertaintyM,
@@ -54,6 +65,10 @@ export function targetProperties(t: Target, ctx: ExportContext): TargetFields {
     qualityLevel: qualityLevel(t),
     method: ctx.method,
     surveyDate: ctx.surveyDate,
+    operator: ctx.survey?.operator ?? null,
+    equipment: equipmentText(ctx.survey),
+    positioning: ctx.survey?.positioning?.method ?? null,
+    positioningAccuracyM: ctx.survey?.positioning?.accuracyM ?? null,
     exportDate: ctx.exportDate,
     decision: t.decision,
     note: t.note,
@@ -108,8 +123,8 @@ export function geometryWkt(g: Geometry): string {
 // ---------- CSV (RFC 4180) ----------
 export const CSV_COLUMNS = [
   'id', 'kind', 'utility_type', 'apwa_colour', 'depth_top_m', 'depth_bottom_m', 'depth_top_ft', 'depth_bottom_ft',
-  'depth_uncertainty_m', 'depth_uncertainty_ft', 'confidence', 'x', 'y', 'lon', 'lat', 'length_m', 'quality_level',
-  'decision', 'note', 'crs', 'wkt',
+  'depth_uncertainty_m', 'depth_uncertainty_ft', 'class', 'p_above_ground', 'strength_db', 'x', 'y', 'lon', 'lat', 'length_m', 'quality_level',
+  'decision', 'note', 'survey_date', 'operator', 'positioning_accuracy_m', 'crs', 'wkt',
 ] as const;
 
 const csvCell = (v: string | number | null): string => {
@@ -127,8 +142,8 @@ export function csvRow(t: Target, ctx: ExportContext): string {
   return (
     [
       t.id, t.kind, t.utilityType, t.apwaColour, t.depthTopM, t.depthBottomM, ft(t.depthTopM), ft(t.depthBottomM),
-      t.depthUncertaintyM, ft(t.depthUncertaintyM), t.confidence, fmt(t.centroidXY[0]), fmt(t.centroidXY[1]),
-      round8(t.centroidLonLat[0]), round8(t.centroidLonLat[1]), t.lengthM, qualityLevel(t), t.decision, t.note, crsName, geometryWkt(t.site),
+      t.depthUncertaintyM, ft(t.depthUncertaintyM), t.class, t.pAboveGround, t.strengthDb, fmt(t.centroidXY[0]), fmt(t.centroidXY[1]),
+      round8(t.centroidLonLat[0]), round8(t.centroidLonLat[1]), t.lengthM, qualityLevel(t), t.decision, t.note, ctx.surveyDate, ctx.survey?.operator ?? null, ctx.survey?.positioning?.accuracyM ?? null, crsName, geometryWkt(t.site),
     ].map(csvCell).join(',') + '\r\n'
   );
 }
@@ -160,6 +175,8 @@ function dxfGroups(emit: (g: (code: number, value: string | number) => void) => 
 /** HEADER and TABLES sections (the LAYER table: name to colour, in order of first use) and the ENTITIES start. */
 export function dxfHead(layers: ReadonlyMap<string, number>, ctx: ExportContext): string {
   return dxfGroups((g) => {
+    // 999: DXF comment groups (readers skip them): what the drawing is, and the survey it comes from
+    for (const c of dxfComments(ctx)) g(999, c);
     g(0, 'SECTION'); g(2, 'HEADER'); g(9, '$ACADVER'); g(1, 'AC1009');
     g(9, '$INSUNITS'); g(70, ctx.crs.units === 'm' ? 6 : 2);
     g(0, 'ENDSEC');
@@ -170,6 +187,19 @@ export function dxfHead(layers: ReadonlyMap<string, number>, ctx: ExportContext)
     g(0, 'ENDTAB'); g(0, 'ENDSEC');
     g(0, 'SECTION'); g(2, 'ENTITIES');
   });
+}
+
+/** The comment lines at the top of targets.dxf: site, method, survey metadata, export time. */
+export function dxfComments(ctx: ExportContext): string[] {
+  const s = ctx.survey;
+  const oneLine = (v: string) => v.replace(/[\r\n]+/g, ' ');
+  return [
+    `Lamina targets of site ${ctx.siteName}; ${ctx.method}; exported ${ctx.exportDate}`,
+    ...(ctx.surveyDate ? [`surveyed ${ctx.surveyDate}${s?.endDate ? ` to ${s.endDate}` : ''}${s?.operator ? ` by ${s.operator}` : ''}${s?.client ? ` for ${s.client}` : ''}`] : []),
+    ...(equipmentText(s) ? [`equipment: ${equipmentText(s)}`] : []),
+    ...(s?.positioning?.method ? [`positioning: ${s.positioning.method}${s.positioning.accuracyM !== undefined ? `, stated accuracy ${s.positioning.accuracyM} m` : ''}`] : []),
+    'Candidates (LAMINA_CANDIDATE_*) are not reviewed; radar finds are not a locate.',
+  ].map(oneLine);
 }
 
 /** The entities of one target: its POLYLINE or POINT and its TEXT label. */

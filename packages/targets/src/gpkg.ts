@@ -129,6 +129,11 @@ export interface GpkgWriter {
   add(geometry: Geometry, values: GpkgValue[]): void;
   addBlob(geometry: Uint8Array, values: GpkgValue[]): void;
   endLayer(): void;
+  /**
+   * A table without geometry (`id` primary key, then the columns), registered in gpkg_contents as
+   * `attributes` (GeoPackage 1.3, clause 2.4).
+   */
+  addTable(table: { name: string; description?: string; columns: readonly (readonly [string, GpkgFieldType])[]; rows: GpkgValue[][] }): void;
   /** The file bytes. */
   export(): Uint8Array;
   close(): void;
@@ -223,6 +228,20 @@ export async function openGpkg(srs: GpkgSrs[], options: { timestamp?: string } =
         l.srsId,
       ]);
     },
+    addTable(t) {
+      if (layer) throw new Error(`table ${t.name}: layer ${layer.name} is not ended`);
+      db.run(`CREATE TABLE ${ident(t.name)} (id INTEGER PRIMARY KEY AUTOINCREMENT NOT NULL, ${t.columns.map(([n, ty]) => `${ident(n)} ${ty}`).join(', ')})`);
+      const ins = db.prepare(`INSERT INTO ${ident(t.name)} (${t.columns.map(([n]) => ident(n)).join(', ')}) VALUES (${t.columns.map(() => '?').join(', ')})`);
+      try {
+        for (const r of t.rows) {
+          if (r.length !== t.columns.length) throw new Error(`table ${t.name}: ${r.length} values for ${t.columns.length} columns`);
+          ins.run(r);
+        }
+      } finally {
+        ins.free();
+      }
+      db.run('INSERT INTO gpkg_contents (table_name, data_type, identifier, description, last_change) VALUES (?, ?, ?, ?, ?)', [t.name, 'attributes', t.name, t.description ?? '', now]);
+    },
     export: () => db.export(),
     close() {
       stmt?.free();
@@ -233,7 +252,11 @@ export async function openGpkg(srs: GpkgSrs[], options: { timestamp?: string } =
 }
 
 /** Build a GeoPackage in memory; returns the file bytes. */
-export async function writeGpkg(srs: GpkgSrs[], layers: GpkgLayer[], options: { timestamp?: string } = {}): Promise<Uint8Array> {
+export async function writeGpkg(
+  srs: GpkgSrs[],
+  layers: GpkgLayer[],
+  options: { timestamp?: string; tables?: Parameters<GpkgWriter['addTable']>[0][] } = {},
+): Promise<Uint8Array> {
   const w = await openGpkg(srs, options);
   try {
     for (const { features, ...def } of layers) {
@@ -241,6 +264,7 @@ export async function writeGpkg(srs: GpkgSrs[], layers: GpkgLayer[], options: { 
       for (const f of features) w.add(f.geometry, f.values);
       w.endLayer();
     }
+    for (const t of options.tables ?? []) w.addTable(t);
     return w.export();
   } finally {
     w.close();

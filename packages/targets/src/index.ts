@@ -45,3 +45,5 @@ export { crsToWkt, parseProj4, WGS84_WKT } from './wkt';
 export { encodePng, pngDataUri, crc32 } from './png';
 export { sliceThumbnails, type Thumbnail } from './thumbnails';
 export { reportHtml, reportParts, reportTargetRow, reportFlaggedRow, byTargetId, type ReportInput, type ReportPage, type ReportRows } from './report';
+export { depthErrorModel, depthUncertainty, folderDepthError, type DepthErrorModel } from './depth-error';
+export { planMapSvg, planMapLegend, type MapFrame, type MapLayers, type MapTarget, type MapFlagged } from './plan-map';

@@ -3,6 +3,7 @@ import type { Crs } from '@lamina/site';
 import { APWA_COLOURS, type UtilityType } from './apwa';
 import type { AnomalyFeature, VelocityInfo } from './folder';
 import type { Decision } from './review';
+import { depthErrorModel, depthUncertainty, type DepthErrorModel } from './depth-error';
 
 /**
  * Depths in feet use the international foot (0.3048 m exactly): depths are lengths below the surface,
@@ -24,10 +25,18 @@ export interface Target {
   origin: 'subsurface';
   /** The screening's origin, when the user relabelled it. */
   screenedOrigin: 'subsurface' | 'above-ground';
-  confidence: number;
+  /**
+   * The screening's probability that the anomaly is an above-ground (air-wave) reflection, 0..1 (its
+   * naive-Bayes verdict; anomalies.geojson `pAboveGround`). Low for targets; null when not recorded.
+   */
+  pAboveGround: number | null;
+  /** The detection's class of the anomaly (utility, structure, ...); null in files without classes. */
+  class: string | null;
+  /** Strength of the anomaly above its slice's noise level, dB; null when not recorded. */
+  strengthDb: number | null;
   depthTopM: number;
   depthBottomM: number;
-  /** Depth uncertainty of the top (dz = z dv / v), m; null when velocity.json gives no spread. */
+  /** Depth uncertainty of the top, m (`depthUncertainty`: velocity spread, slice thickness, pulse); null when nothing is known. */
   depthUncertaintyM: number | null;
   /** Same at the bottom of the depth range. */
   depthBottomUncertaintyM: number | null;
@@ -179,8 +188,13 @@ export const isDropped = (r: Target | Dropped): r is Dropped => 'reason' in r;
  * screening's) is subsurface and whose decision is not `reject`. Decisions are looked up by anomaly id
  * (the pipeline re-keys review.json to the current ids on every run).
  */
-export function targetOf(a: AnomalyFeature, decisions: Map<string, Decision>, velocity: VelocityInfo, crs: Crs): Target | Dropped | null {
-  const rel = velocity.spreadMPerNs !== undefined ? velocity.spreadMPerNs / velocity.velocityMPerNs : undefined;
+export function targetOf(
+  a: AnomalyFeature,
+  decisions: Map<string, Decision>,
+  velocity: VelocityInfo,
+  crs: Crs,
+  depthError: DepthErrorModel = depthErrorModel(velocity.velocityMPerNs, velocity.spreadMPerNs, [], undefined),
+): Target | Dropped | null {
   const toSite = (p: number[]) => pointFromWgs84(crs, p[0]!, p[1]!) as number[];
   const p = a.properties;
   const d = decisions.get(p.id);
@@ -220,11 +234,13 @@ export function targetOf(a: AnomalyFeature, decisions: Map<string, Decision>, ve
     kind,
     origin: 'subsurface',
     screenedOrigin: p.origin,
-    confidence: p.confidence,
+    pAboveGround: pAboveGroundOf(p),
+    class: typeof p.class === 'string' ? p.class : null,
+    strengthDb: typeof p.strengthDb === 'number' && Number.isFinite(p.strengthDb) ? p.strengthDb : null,
     depthTopM: p.depthTopM,
     depthBottomM: p.depthBottomM,
-    depthUncertaintyM: rel !== undefined ? round(p.depthTopM * rel, 4) : null,
-    depthBottomUncertaintyM: rel !== undefined ? round(p.depthBottomM * rel, 4) : null,
+    depthUncertaintyM: depthUncertainty(p.depthTopM, depthError),
+    depthBottomUncertaintyM: depthUncertainty(p.depthBottomM, depthError),
     utilityType: ut,
     apwaColour: colour?.hex ?? null,
     apwaColourName: colour?.name ?? null,
@@ -243,18 +259,29 @@ export function targetOf(a: AnomalyFeature, decisions: Map<string, Decision>, ve
   };
 }
 
+/**
+ * P(above-ground) of an anomaly: its `pAboveGround`, else from `confidence` (the probability of the
+ * screened origin) in files written before pAboveGround was.
+ */
+function pAboveGroundOf(p: AnomalyFeature['properties']): number | null {
+  if (typeof p.pAboveGround === 'number' && Number.isFinite(p.pAboveGround)) return p.pAboveGround;
+  if (!Number.isFinite(p.confidence)) return null;
+  return round(p.origin === 'above-ground' ? p.confidence : 1 - p.confidence, 6);
+}
+
 /** Split anomalies into targets and dropped ones (`targetOf` for each; those without position are left out). */
 export function buildTargets(
   anomalies: AnomalyFeature[],
   decisions: Decision[],
   velocity: VelocityInfo,
   crs: Crs,
+  depthError?: DepthErrorModel,
 ): { targets: Target[]; dropped: Dropped[] } {
   const byId = decisionsById(decisions);
   const targets: Target[] = [];
   const dropped: Dropped[] = [];
   for (const a of anomalies) {
-    const r = targetOf(a, byId, velocity, crs);
+    const r = targetOf(a, byId, velocity, crs, depthError);
     if (r === null) continue;
     if (isDropped(r)) dropped.push(r);
     else targets.push(r);

@@ -4,9 +4,12 @@ import { basename, dirname, join } from 'node:path';
 import { stageFile, stageStream, type StagedFile } from '@lamina/atomic';
 import { GEOJSON_HEAD, TARGET_FIELDS, addDxfLayer, csvHead, csvRow, dxfEntities, dxfHead, dxfTail, geoJsonFeature, geoJsonTail, targetProperties, type ExportContext } from './formats';
 import { gpkgGeometry, openGpkg, writeGpkg, type GpkgLayerDef, type GpkgSrs, type GpkgValue } from './gpkg';
-import { byTargetId, reportFlaggedRow, reportParts, reportTargetRow, type ReportPage } from './report';
+import type { Crs } from '@lamina/site';
+import type { MapFlagged, MapTarget } from './plan-map';
+import { byTargetId, mapFlaggedOf, mapTargetOf, reportFlaggedRow, reportParts, reportTargetRow, type ReportPage } from './report';
 import type { Dropped, Target } from './targets';
 import { crsToWkt, WGS84_WKT } from './wkt';
+import { LAYER_STYLES_COLUMNS, layerStylesRows } from './styles';
 
 /**
  * One target file written a target at a time into a staged temp file beside its path: `add` each
@@ -130,9 +133,17 @@ export async function targetsGpkg(targets: Target[], ctx: ExportContext): Promis
       { ...site, features: targets.map((t, i) => ({ geometry: t.site, values: values[i]! })) },
       { ...wgs84, features: targets.map((t, i) => ({ geometry: t.wgs84, values: values[i]! })) },
     ],
-    { timestamp: ctx.exportDate },
+    { timestamp: ctx.exportDate, tables: [layerStylesTable([site.name, wgs84.name], ctx)] },
   );
 }
+
+/** The layer_styles table of targets.gpkg (styles.ts): the default style of both layers. */
+const layerStylesTable = (layers: string[], ctx: ExportContext) => ({
+  name: 'layer_styles',
+  description: 'default styles of the target layers (SLD 1.1 and QGIS QML): accepted solid in APWA colours, candidates dashed',
+  columns: LAYER_STYLES_COLUMNS,
+  rows: layerStylesRows(layers, ctx.exportDate),
+});
 
 // A spilled row of the WGS 84 layer: u32 record length, u32 geometry length, the GeoPackage geometry,
 // then per value a tag (0 null, 1 float64, 2 UTF-8 string with u32 length). Little-endian throughout.
@@ -225,6 +236,7 @@ export async function gpkgWriter(path: string, ctx: ExportContext): Promise<Targ
       gp.beginLayer(wgs84);
       for await (const [geometry, values] of decodeRows(rows.read(), wgs84.fields.length)) gp.addBlob(geometry, values);
       gp.endLayer();
+      gp.addTable(layerStylesTable([site.name, wgs84.name], ctx));
       const bytes = gp.export();
       close();
       await rows.remove();
@@ -244,13 +256,16 @@ export async function gpkgWriter(path: string, ctx: ExportContext): Promise<Targ
  * as it passes and kept as UTF-8 bytes (the target rows sorted by id at the end), rejected anomalies as
  * their ids; the page is written at `finish`, when the counts are known.
  */
-export function reportWriter(path: string): {
+export function reportWriter(path: string, crs: Crs): {
   add(r: Target | Dropped): void;
   finish(page: ReportPage, anomalyCount: number, notTargetClass?: number): Promise<StagedFile>;
 } {
   const targets: { id: string; row: Uint8Array }[] = [];
   const flagged: Uint8Array[] = [];
   const rejectedIds: string[] = [];
+  const mapTargets: MapTarget[] = [];
+  const mapFlagged: MapFlagged[] = [];
+  let deepestM = -Infinity;
   let acceptedCount = 0;
   // Each row in its own exact-size buffer: a kept Buffer.from() would pin a whole 8 KiB pool slab.
   const utf8 = new TextEncoder();
@@ -258,17 +273,26 @@ export function reportWriter(path: string): {
     add(r) {
       if (!('reason' in r)) {
         targets.push({ id: r.id, row: utf8.encode(reportTargetRow(r)) });
+        const m = mapTargetOf(r);
+        if (m) mapTargets.push(m);
+        if (r.depthBottomM > deepestM) deepestM = r.depthBottomM;
         if (r.decision === 'accepted') acceptedCount++;
+      } else if (r.reason === 'rejected') rejectedIds.push(r.id);
+      else if (r.reason === 'class') {
+        const b = r.anomaly.properties.depthBottomM;
+        if (Number.isFinite(b) && b > deepestM) deepestM = b;
+      } else {
+        flagged.push(utf8.encode(reportFlaggedRow(r)));
+        const m = mapFlaggedOf(r, crs);
+        if (m) mapFlagged.push(m);
       }
-      else if (r.reason === 'rejected') rejectedIds.push(r.id);
-      else if (r.reason === 'class') return;
-      else flagged.push(utf8.encode(reportFlaggedRow(r)));
     },
     async finish(page, anomalyCount, notTargetClass = 0) {
       targets.sort(byTargetId);
       const out = await stageStream(path);
       try {
-        for (const part of reportParts(page, { targets: targets.map((t) => t.row), flagged, rejectedIds, anomalyCount, notTargetClass, acceptedCount })) await out.write(part);
+        const rows = { targets: targets.map((t) => t.row), flagged, rejectedIds, anomalyCount, notTargetClass, acceptedCount, mapTargets, mapFlagged, ...(deepestM > -Infinity ? { deepestAnomalyM: deepestM } : {}) };
+        for (const part of reportParts(page, rows)) await out.write(part);
       } catch (e) {
         await out.abort();
         throw e;

@@ -26,6 +26,8 @@ import {
   type ExportContext,
 } from '../src';
 import { makeFolder, type Fixture } from './fixture';
+import { readMapBackground } from '../src/report-map';
+import { folderDepthError } from '../src/depth-error';
 
 const NOW = new Date('2026-12-01T12:00:00.000Z');
 const N = 300;
@@ -95,7 +97,7 @@ async function wholeFiles(dir: string): Promise<Record<string, Buffer>> {
   const velocity = await readVelocity(dir);
   const review = await readReview(join(dir, 'review.json'), run.identity);
   const slices = await readSlicesInfo(dir);
-  const { targets, dropped } = buildTargets(anomalies, review.decisions, velocity, run.site.crs);
+  const { targets, dropped } = buildTargets(anomalies, review.decisions, velocity, run.site.crs, folderDepthError(velocity, slices, run.site.antenna?.frequencyMHz));
   const ids = new Set(anomalies.map((a) => a.properties.id));
   const ctx: ExportContext = { siteName: run.site.name, crs: run.site.crs, method: 'GPR, 400 MHz, depth slices', surveyDate: null, exportDate: NOW.toISOString() };
   const thumbnails = slices ? await sliceThumbnails(dir, slices, { maxSize: 240 }) : [];
@@ -105,7 +107,7 @@ async function wholeFiles(dir: string): Promise<Record<string, Buffer>> {
     'targets.gpkg': Buffer.from(await targetsGpkg(targets, ctx)),
     'targets.csv': Buffer.from(targetsCsv(targets, ctx)),
     'targets.dxf': Buffer.from(targetsDxf(targets, ctx)),
-    'report.html': Buffer.from(reportHtml({ run, velocity, targets, dropped, anomalies, thumbnails, ctx, unmatchedDecisions })),
+    'report.html': Buffer.from(reportHtml({ run, velocity, targets, dropped, anomalies, thumbnails, ctx, unmatchedDecisions, ...(slices ? { slices } : {}), background: await readMapBackground(dir, run.site.crs) })),
   };
 }
 

@@ -31,6 +31,10 @@ for i in range(g.GetLayerCount()):
     l = g.GetLayer(i)
     s = l.GetSpatialRef()
     feats = []
+    if l.GetGeomType() == ogr.wkbNone:
+        # an attributes table (layer_styles): its rows as they are
+        out['gpkg'][l.GetName()] = {'count': l.GetFeatureCount(), 'rows': [json.loads(f.ExportToJson())['properties'] for f in l]}
+        continue
     for f in l:
         geom = f.GetGeometryRef()
         feats.append({'props': json.loads(f.ExportToJson())['properties'], 'type': geom.GetGeometryName(), 'first': list(geom.GetPoint_2D(0)) if geom.GetGeometryName() in ('POINT','LINESTRING') else list(geom.GetGeometryRef(0).GetPoint_2D(0)) if geom.GetGeometryName()=='POLYGON' else None})
@@ -88,9 +92,17 @@ describe('exportTargets on an EPSG:32617 (metre) folder', () => {
       // International foot, 0.3048 m exactly (NIST SP 811, appendix B).
       expect(f.properties.depthTopFt).toBeCloseTo(f.properties.depthTopM / 0.3048, 4);
       expect(f.properties.depthBottomFt).toBeCloseTo(f.properties.depthBottomM / 0.3048, 4);
-      // dz/z = dv/v for z = v t / 2 at a fixed two-way time: 0.005 / 0.1 = 5 %.
-      expect(f.properties.depthUncertaintyM).toBeCloseTo(f.properties.depthTopM * 0.05, 4);
-      expect(f.properties.depthBottomUncertaintyM).toBeCloseTo(f.properties.depthBottomM * 0.05, 4);
+      // Three parts in quadrature: dz/z = dv/v for z = v t / 2 at a fixed two-way time (0.005 / 0.1 = 5 %);
+      // half the slice thickness (0.2 m slices: 0.1 m); a quarter wavelength, v / (4 f) = 0.1 m/ns / (4 x
+      // 400 MHz) = 0.0625 m (the vertical-resolution rule: common practice, no source).
+      const dz = (z: number) => Math.sqrt((z * 0.05) ** 2 + 0.1 ** 2 + 0.0625 ** 2);
+      expect(f.properties.depthUncertaintyM).toBeCloseTo(dz(f.properties.depthTopM), 4);
+      expect(f.properties.depthBottomUncertaintyM).toBeCloseTo(dz(f.properties.depthBottomM), 4);
+      // never "+- 0.00": the floor holds at the surface
+      expect(f.properties.depthUncertaintyM).toBeGreaterThanOrEqual(Math.hypot(0.1, 0.0625) - 1e-4);
+      // P(above-ground) is the screening's probability, not a confidence in the target (issue 14)
+      expect(f.properties).not.toHaveProperty('confidence');
+      expect(f.properties.pAboveGround).toBeCloseTo(f.properties.screenedOrigin === 'above-ground' ? 0.8 : 0.2, 6);
     }
     const byId = Object.fromEntries(fc.features.map((f: { properties: { id: string } }) => [f.properties.id, f]));
     expect(byId.W.geometry.type).toBe('LineString'); // centreline for linear targets
@@ -121,6 +133,36 @@ describe('exportTargets on an EPSG:32617 (metre) folder', () => {
     expect(dump.gpkg.targets.auth).toBe('32617');
     expect(dump.gpkg.targets_wgs84.auth).toBe('4326');
     expect(dump.gpkg.targets.fields).toEqual(TARGET_FIELDS.map(([n]) => n));
+    // issue 14 part 4: the default style of both layers in layer_styles, listed by ogrinfo (it is in
+    // gpkg_contents as an attributes table), the SLD well-formed XML (Python's xml.etree) whose rules give
+    // accepted targets their APWA colour solid and candidates dashed
+    expect(so).toMatch(/Layer name: layer_styles\n/);
+    const styles = dump.gpkg.layer_styles.rows as { f_table_name: string; styleSLD: string; styleQML: string; useAsDefault: number }[];
+    expect(styles.map((r) => r.f_table_name).sort()).toEqual(['targets', 'targets_wgs84']);
+    expect(styles.every((r) => r.useAsDefault === 1)).toBe(true);
+    const sld = JSON.parse(
+      py(
+        `
+import sys, json, xml.etree.ElementTree as ET
+ns = {'se': 'http://www.opengis.net/se', 'ogc': 'http://www.opengis.net/ogc'}
+root = ET.fromstring(sys.argv[1].encode())
+ET.fromstring(sys.argv[2].encode())  # the QML parses too
+rules = []
+for r in root.iter('{http://www.opengis.net/se}Rule'):
+    lits = [l.text for l in r.iter('{http://www.opengis.net/ogc}Literal')]
+    stroke = r.find('se:LineSymbolizer/se:Stroke', ns)
+    params = {p.get('name'): p.text for p in stroke.findall('se:SvgParameter', ns)}
+    rules.append({'literals': lits, 'stroke': params.get('stroke'), 'dash': params.get('stroke-dasharray')})
+print(json.dumps(rules))
+`,
+        [styles[0]!.styleSLD, styles[0]!.styleQML],
+      ),
+    ) as { literals: string[]; stroke: string; dash: string | null }[];
+    const water = sld.find((r) => r.literals.join() === 'accepted,water')!;
+    expect(water.stroke).toBe(APWA_COLOURS.water.hex);
+    expect(water.dash).toBeNull();
+    expect(sld.find((r) => r.literals.join() === 'candidate,water')!.dash).toBeTruthy();
+    expect(sld.filter((r) => r.literals[0] === 'accepted')).toHaveLength(sld.length / 2);
     // The header's first bytes per OGC 12-128r18 section 1.1.1: application_id "GPKG", user_version 10300.
     const bytes = await readFile(join(fx.dir, 'targets.gpkg'));
     expect(bytes.readUInt32BE(68)).toBe(0x47504b47);

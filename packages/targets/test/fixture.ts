@@ -18,6 +18,8 @@ export interface FixtureOptions {
   decisions?: (ids: Record<string, string>) => Partial<Decision>[];
   spreadMPerNs?: number;
   review?: boolean;
+  /** site.json's survey block, carried in run.json's site. */
+  survey?: Record<string, unknown>;
 }
 
 export { PYTHON as PY } from '@lamina/test-utils';
@@ -78,6 +80,7 @@ export async function makeFolder(o: FixtureOptions): Promise<Fixture> {
       antenna: { frequencyMHz: 400, separationM: 0.16 },
       extentWgs84,
       extentSite: [...xy(0, 0), ...xy(20, 15)],
+      ...(o.survey ? { survey: o.survey } : {}),
     },
     identity,
     recipe: {},
@@ -86,6 +89,10 @@ export async function makeFolder(o: FixtureOptions): Promise<Fixture> {
   };
   await writeFile(join(dir, 'run.json'), JSON.stringify(run));
   await writeFile(join(dir, 'anomalies.geojson'), JSON.stringify({ type: 'FeatureCollection', features }));
+  // Survey lines west-east every 5 m, 20 m long; a fence along the north edge (the plan).
+  const lineFeature = (id: string, y: number) => ({ type: 'Feature', id, properties: { id, traces: 400, lengthM: 20 }, geometry: { type: 'LineString', coordinates: [ll(0, y), ll(10, y), ll(20, y)] } });
+  await writeFile(join(dir, 'lines.geojson'), JSON.stringify({ type: 'FeatureCollection', features: [lineFeature('l01', 2.5), lineFeature('l02', 7.5), lineFeature('l03', 12.5)] }));
+  await writeFile(join(dir, 'plan.geojson'), JSON.stringify({ type: 'FeatureCollection', features: [{ type: 'Feature', id: 'fence-1', properties: { id: 'fence-1', kind: 'fence', heightM: 1.8 }, geometry: { type: 'LineString', coordinates: [ll(0, 14.5), ll(20, 14.5)] } }] }));
   await writeFile(
     join(dir, 'velocity.json'),
     JSON.stringify({

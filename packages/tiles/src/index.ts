@@ -1,3 +1,5 @@
 export { writeTiles, type TileOptions } from './write-tiles';
 export { readTilesManifest, manifestDir, ownerTile, type TileLine, type TileEntry, type TilesManifest } from './manifest';
 export { tracesInBox, tileOf, tileId, type Box } from './grid';
+export { SURVEY_VELOCITY } from './write-tiles';
+export { ENGINES, JOB_FILES, ARRAY_INDEX_VARIABLES, arrayIndexFromEnv, jobFile, tileMemoryMiB, type Engine, type JobOptions } from './jobs';

@@ -5,7 +5,7 @@
  * tile is cut into pieces, each referencing the same file with a `traces` range (site.json), so no
  * samples are copied. The plan keeps every feature near enough to echo into the tile's record.
  */
-import { mkdir, writeFile } from 'node:fs/promises';
+import { copyFile, mkdir, writeFile } from 'node:fs/promises';
 import { join, relative, resolve } from 'node:path';
 import { C_M_PER_NS } from '@lamina/constants';
 import { InputError } from '@lamina/errors';
@@ -31,8 +31,17 @@ export interface TileOptions {
   planMarginM?: number;
   /** Write absolute paths to the original files in the tile site.json. @default false (relative) */
   absolutePaths?: boolean;
+  /**
+   * velocity.json of the whole survey (`lamina velocity`), copied beside tiles.json; every tile's command
+   * then processes with that one model (`--velocity`), so slices of neighbouring tiles are cut at the same
+   * depths. @default none: each tile fits its own
+   */
+  velocityFile?: string;
   onLine?: (done: number, total: number) => void;
 }
+
+/** File name of the survey's velocity model beside tiles.json (`TileOptions.velocityFile`). */
+export const SURVEY_VELOCITY = 'velocity.json';
 
 interface TileAcc {
   col: number;
@@ -198,7 +207,7 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
         traces: lines.reduce((s, l) => s + l.last - l.first + 1, 0),
         lines: lines.map(({ position: _p, ...l }) => l),
         planFeatures: plan.length,
-        command: `lamina process ${tid} --out ${tid}-out`,
+        command: `lamina process ${tid} --out ${tid}-out${options.velocityFile ? ` --velocity ${SURVEY_VELOCITY}` : ''}`,
       });
     }
     const manifest: TilesManifest = {
@@ -209,8 +218,10 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
       planMarginM,
       sizeUnits: size,
       traces: nTraces.reduce((a, b) => a + b, 0),
+      ...(options.velocityFile ? { velocity: SURVEY_VELOCITY } : {}),
       tiles,
     };
+    if (options.velocityFile) await copyFile(options.velocityFile, join(stage.path, SURVEY_VELOCITY));
     await writeFile(join(stage.path, 'tiles.json'), JSON.stringify(manifest, null, 1) + '\n');
     await stage.commit();
     return manifest;

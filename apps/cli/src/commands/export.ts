@@ -10,7 +10,7 @@ export function register(program: Command): void {
     .command('export')
     .description('rewrite the target layer of a processed output folder from its review.json: targets.geojson, .gpkg, .csv, .dxf and report.html')
     .argument('<out-dir>', 'output folder of `lamina process` (reads run.json, anomalies.geojson, review.json, velocity.json, slices.json)')
-    .option('--no-thumbnails', 'leave the slice previews out of report.html')
+    .option('--no-thumbnails', 'leave the slice previews out of report.html (default: previews in)')
     .addHelpText(
       'after',
       '\nRun it after reviewing anomalies in the viewer or editing review.json. Targets are the anomalies that\n' +
@@ -24,7 +24,7 @@ export function register(program: Command): void {
         if (!s?.isDirectory()) throw new InputError(outDir, 'expected the output folder of `lamina process`, found no folder');
         const r = await exportTargets(outDir, { ...(opts.thumbnails ? {} : { thumbnailSize: 0 }) });
         const lines = [
-          `${r.targets} targets (${r.aboveGround} anomalies flagged above-ground and ${r.rejected} rejected left out)`,
+          `${r.targets} targets: ${r.accepted} accepted, ${r.targets - r.accepted} candidates to review (${r.aboveGround} anomalies flagged above-ground and ${r.rejected} rejected left out)`,
           ...(r.unmatchedDecisions ? [`note: ${r.unmatchedDecisions} review decision(s) match no anomaly id in anomalies.geojson and were not applied`] : []),
           `wrote ${outDir}: ${r.files.join(', ')}`,
           `caution: ${CAUTION}`,

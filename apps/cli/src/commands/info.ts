@@ -7,7 +7,7 @@ export function register(program: Command): void {
     .command('info')
     .description('summarise a site folder: lines (traces, samples, interval, length), extent in the site CRS and WGS84, plan features by kind')
     .argument('<site>', 'site folder (or its site.json); format: docs/site-format.md')
-    .option('--json', 'print the summary as JSON')
+    .option('--json', 'print the summary as JSON (default: text)')
     .addHelpText('after', '\nReads site.json, the plan and every line\'s headers and positions (no samples); writes nothing.\nExample:\n  pnpm lamina info sample-sites/yard/site --json')
     .action(
       action(async (dir: string, opts: { json?: boolean }) => {

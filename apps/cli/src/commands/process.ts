@@ -4,6 +4,7 @@ import { readFile } from 'node:fs/promises';
 import { InputError } from '@lamina/errors';
 import { formatTimings, runProcess, type ProcessOptions } from '@lamina/pipeline';
 import { action, progress } from '../run';
+import { summaryLines } from '../summary';
 
 export function register(program: Command): void {
   program
@@ -11,19 +12,23 @@ export function register(program: Command): void {
     .description('process a site end to end: lines, velocity, depth slices, air-wave screening, targets')
     .argument('<site>', 'site folder (with site.json) or a site.json file')
     .requiredOption('-o, --out <dir>', 'output folder (written atomically; review.json in it is kept)')
-    .option('--recipe <file>', 'processing recipe JSON, overriding site.json')
-    .option('--threads <n>', 'worker threads (0 = none)', (v) => Number.parseInt(v, 10))
-    .option('--slice-thickness <m>', 'slice thickness in metres', Number.parseFloat)
-    .option('--slice-overlap <fraction>', 'overlap of neighbouring slices, 0..0.9', Number.parseFloat)
-    .option('--max-depth <m>', 'deepest slice bottom in metres', Number.parseFloat)
-    .option('--cell-size <m>', 'grid cell size in metres', Number.parseFloat)
-    .option('--level', 'level line-to-line gain differences before gridding')
-    .option('--band-memory <MiB>', 'memory for one band of the grid while it is screened; a larger grid is done in overlapping row bands (default 384)', Number.parseFloat)
+    .option('--recipe <file>', "processing recipe JSON, overriding site.json (default: site.json's recipe, else the default for the antenna: see `lamina recipe`)")
+    .option('--slice-thickness <m>', 'slice thickness in metres (default: half a wavelength in the soil at the antenna frequency)', Number.parseFloat)
+    .option('--max-depth <m>', 'deepest slice bottom in metres (default: as deep as the record reaches)', Number.parseFloat)
+    .option('--cell-size <m>', 'grid cell size in metres (default: a quarter of the line spacing)', Number.parseFloat)
+    .option('--velocity <file>', "velocity.json of the whole survey (`lamina velocity`): its model gives the depths instead of this run's own fit (default: this run's fit)")
+    .option('--json', 'print the summary as JSON (default: text)')
+    .option('-q, --quiet', 'no progress bars (default: bars on stderr when it is a terminal)')
+    .optionsGroup('Advanced options (tuning; the defaults suit most sites):')
+    .option('--threads <n>', 'worker threads, 0 = none (default: LAMINA_THREADS or the number of cores)', (v) => Number.parseInt(v, 10))
+    .option('--slice-overlap <fraction>', 'overlap of neighbouring slices, 0..0.9 (default: 0)', Number.parseFloat)
+    .option('--level', 'level line-to-line gain differences before gridding (default: off)')
+    .option('--band-memory <MiB>', 'memory for one band of the grid while it is screened; a larger grid is done in overlapping row bands (default: 384)', Number.parseFloat)
     .option('--band-overlap <m>', 'how far a screening band reaches past its core, metres (default: 20 or 2.5 x the deepest air-wave radius)', Number.parseFloat)
-    .option('--json', 'print the summary as JSON')
-    .option('--timings', 'print the time of each stage (seconds and share of the run) on stderr')
+    .option('--timings', 'print the time of each stage (seconds and share of the run) on stderr (default: off)')
+    .addHelpText('after', '\nWrites run.json, velocity.json, slices.tif and slices.json, anomalies.geojson, targets.* and report.html.\nRadar finds are not a locate: call the one-call centre before digging and verify by potholing.\nExample:\n  pnpm lamina process sample-sites/yard/site --out out/yard')
     .action(
-      action(async (siteDir: string, opts: { out: string; recipe?: string; threads?: number; sliceThickness?: number; sliceOverlap?: number; maxDepth?: number; cellSize?: number; level?: boolean; bandMemory?: number; bandOverlap?: number; json?: boolean; timings?: boolean }) => {
+      action(async (siteDir: string, opts: { out: string; recipe?: string; threads?: number; sliceThickness?: number; sliceOverlap?: number; maxDepth?: number; cellSize?: number; level?: boolean; bandMemory?: number; bandOverlap?: number; json?: boolean; quiet?: boolean; timings?: boolean; velocity?: string }) => {
         const options: ProcessOptions = {};
         if (opts.recipe) {
           let text: string;
@@ -48,6 +53,7 @@ export function register(program: Command): void {
         if (opts.maxDepth !== undefined) options.maxDepthM = opts.maxDepth;
         if (opts.cellSize !== undefined) options.cellSizeM = opts.cellSize;
         if (opts.level) options.level = true;
+        if (opts.velocity) options.velocityFile = opts.velocity;
         if (opts.bandMemory !== undefined) {
           if (!(opts.bandMemory > 0)) throw new InputError('command line', '--band-memory must be a positive number of MiB');
           options.screenBandBytes = opts.bandMemory * 2 ** 20;
@@ -56,7 +62,7 @@ export function register(program: Command): void {
           if (!(opts.bandOverlap >= 0)) throw new InputError('command line', '--band-overlap must be zero or more metres');
           options.bandOverlapM = opts.bandOverlap;
         }
-        const bar = progress();
+        const bar = progress({ quiet: opts.quiet === true || opts.json === true });
         let current = '';
         // LAMINA_STAGE_RSS=1: peak resident memory of the process (worker threads included) per stage,
         // sampled every 100 ms and printed to stderr at the end (for benchmarks).
@@ -97,12 +103,9 @@ export function register(program: Command): void {
           process.stdout.write(JSON.stringify(summary, null, 2) + '\n');
           return;
         }
-        const v = summary.velocity;
         process.stdout.write(
           [
-            `site ${summary.site}: ${summary.lines} lines, ${summary.traces} traces`,
-            `velocity ${v.velocityMPerNs.toFixed(4)} m/ns (K ${v.permittivity.toFixed(2)}, spread ${v.spreadMPerNs.toFixed(4)} m/ns, ${v.fitCount} fits)`,
-            `${summary.slices} depth slices, ${summary.anomalies} anomalies (${summary.aboveGround} flagged above-ground), ${summary.targets} targets`,
+            ...summaryLines(summary),
             `wrote ${summary.outDir}: ${summary.files.join(', ')}`,
             CAUTION,
           ].join('\n') + '\n',

@@ -11,9 +11,10 @@ export function register(program: Command): void {
     .description('score a processed output folder against a simulator truth.json: recall of buried utilities, precision/recall of above-ground flags')
     .argument('<out-dir>', 'output folder of `lamina process` (reads targets.geojson and anomalies.geojson, WGS84)')
     .argument('<truth>', 'truth.json written by `lamina simulate` (site CRS)')
-    .option('--json', 'print the full report as JSON')
+    .option('--json', 'print the full report as JSON (default: text)')
     .option('--plan-tolerance <m>', 'plan distance within which a target covers a utility, m (plus its radius)', '0.5')
     .option('--depth-tolerance <m>', 'depth tolerance, m (at least; 25 % of depth when larger)', '0.25')
+    .addHelpText('after', '\nThe definitions are frozen (packages/scoring/README.md).\nExample:\n  pnpm lamina score out/yard sample-sites/yard/site/truth.json --json')
     .action(
       action(async (outDir: string, truthFile: string, opts: { json?: boolean; planTolerance: string; depthTolerance: string }) => {
         const { report, targetsFile } = scoreFolder(outDir, truthFile, { planToleranceM: Number(opts.planTolerance), depthToleranceM: Number(opts.depthTolerance) });

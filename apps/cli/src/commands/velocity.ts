@@ -26,8 +26,8 @@ export function register(program: Command): void {
     .description('fit diffraction hyperbolas on every processed line and write velocity.json (site velocity, permittivity, moisture, hyperbolas)')
     .argument('<site>', 'site folder (or its site.json)')
     .requiredOption('-o, --out <dir>', 'output folder; velocity.json is written atomically inside it')
-    .option('--picks <file>', 'manual hyperbola picks (JSON; format: packages/velocity/README.md), fitted besides the automatic detection')
-    .option('--no-auto', 'fit only the manual picks (no automatic detection)')
+    .option('--picks <file>', 'manual hyperbola picks (JSON; format: packages/velocity/README.md), fitted besides the automatic detection (default: none)')
+    .option('--no-auto', 'fit only the manual picks (no automatic detection) (default: automatic detection on)')
     .addHelpText(
       'after',
       '\nProcesses each line with the site recipe (default recipe from the antenna frequency) minus migration,\n' +

@@ -21,8 +21,9 @@ export function register(program: Command): void {
     .argument('<out-dir>', 'output folder of `lamina process`')
     .option('--port <n>', 'port to listen on (0: any free port)', '8737')
     .option('--host <address>', 'address to bind; anything but loopback exposes the review API to the network', '127.0.0.1')
-    .option('--basemap <url>', 'basemap style URL (maplibre style JSON); without it the viewer makes no request outside this machine')
-    .option('--rebuild', 'rebuild the viewer even if the build is up to date (from source; the built CLI carries its viewer)')
+    .option('--basemap <url>', 'basemap style URL (maplibre style JSON); without it the viewer makes no request outside this machine (default: none, offline)')
+    .addHelpText('after', '\nServes the slices, anomalies and review on this machine; review decisions are saved to review.json.\nExample:\n  pnpm lamina view out/yard --port 8737')
+    .option('--rebuild', 'rebuild the viewer even if the build is up to date (from source; the built CLI carries its viewer) (default: off)')
     .action(
       action(async (outDir: string, opts: ViewOptions) => {
         const dir = resolve(outDir);

@@ -17,6 +17,7 @@ export const LAYER_GROUPS: { id: string; label: string; layers: string[] }[] = [
   { id: 'anomalies', label: 'Anomalies', layers: ['anomalies-fill', 'anomalies-line', 'anomalies-point'] },
   { id: 'forecast', label: 'Air-wave forecast (this depth)', layers: ['forecast-line', 'forecast-point'] },
   { id: 'targets', label: 'Accepted targets', layers: ['targets-line', 'targets-point'] },
+  { id: 'candidates', label: 'Candidate targets (not reviewed)', layers: ['candidates-line', 'candidates-point'] },
 ];
 
 const kind = (k: string | string[]): ExpressionSpecification =>
@@ -24,6 +25,8 @@ const kind = (k: string | string[]): ExpressionSpecification =>
 const isLine: ExpressionSpecification = ['in', ['geometry-type'], ['literal', ['LineString', 'MultiLineString']]];
 const isPoly: ExpressionSpecification = ['in', ['geometry-type'], ['literal', ['Polygon', 'MultiPolygon']]];
 const isPoint: ExpressionSpecification = ['in', ['geometry-type'], ['literal', ['Point', 'MultiPoint']]];
+/** A target accepted in review (targets.geojson `decision`); every other target is a candidate. */
+const accepted: ExpressionSpecification = ['==', ['get', 'decision'], 'accepted'];
 
 /** APWA colour of `utilityType` as a maplibre expression. */
 export function utilityColour(apwa: Record<string, { hex: string }>): ExpressionSpecification {
@@ -67,8 +70,11 @@ export function siteLayers(apwa: Record<string, { hex: string }>): LayerSpecific
     { id: 'anomalies-point', type: 'circle', source: 'anomalies', filter: isPoint, paint: { 'circle-color': originColour, 'circle-radius': 7, 'circle-opacity': anomalyOpacity(-1e9, 1e9, 1), 'circle-stroke-color': '#000', 'circle-stroke-width': ['case', ['boolean', ['feature-state', 'selected'], false], 3, 1] } },
     { id: 'forecast-line', type: 'line', source: 'forecast', filter: isLine, paint: { 'line-color': PLAN_COLOURS.forecast, 'line-width': 2, 'line-dasharray': [2, 2] } },
     { id: 'forecast-point', type: 'circle', source: 'forecast', filter: isPoint, paint: { 'circle-color': 'rgba(0,0,0,0)', 'circle-radius': 6, 'circle-stroke-color': PLAN_COLOURS.forecast, 'circle-stroke-width': 2 } },
-    { id: 'targets-line', type: 'line', source: 'targets', filter: ['any', isLine, isPoly], paint: { 'line-color': utilityColour(apwa), 'line-width': 5 } },
-    { id: 'targets-point', type: 'circle', source: 'targets', filter: isPoint, paint: { 'circle-color': utilityColour(apwa), 'circle-radius': 6, 'circle-stroke-color': '#000', 'circle-stroke-width': 1.5 } },
+    // targets.geojson: accepted in review (solid) apart from candidates nobody reviewed (dashed, thinner)
+    { id: 'targets-line', type: 'line', source: 'targets', filter: ['all', accepted, ['any', isLine, isPoly]], paint: { 'line-color': utilityColour(apwa), 'line-width': 5 } },
+    { id: 'targets-point', type: 'circle', source: 'targets', filter: ['all', accepted, isPoint], paint: { 'circle-color': utilityColour(apwa), 'circle-radius': 6, 'circle-stroke-color': '#000', 'circle-stroke-width': 1.5 } },
+    { id: 'candidates-line', type: 'line', source: 'targets', filter: ['all', ['!', accepted], ['any', isLine, isPoly]], paint: { 'line-color': utilityColour(apwa), 'line-width': 3, 'line-dasharray': [2, 1.5] } },
+    { id: 'candidates-point', type: 'circle', source: 'targets', filter: ['all', ['!', accepted], isPoint], paint: { 'circle-color': 'rgba(0,0,0,0)', 'circle-radius': 6, 'circle-stroke-color': utilityColour(apwa), 'circle-stroke-width': 2 } },
     { id: 'plan-walls', type: 'line', source: 'plan', filter: kind('wall'), paint: { 'line-color': PLAN_COLOURS.wall, 'line-width': 4 } },
     { id: 'plan-fences', type: 'line', source: 'plan', filter: kind('fence'), paint: { 'line-color': PLAN_COLOURS.fence, 'line-width': 2, 'line-dasharray': [3, 1.5] } },
     { id: 'plan-overhead-line', type: 'line', source: 'plan', filter: ['all', kind('overhead'), isLine], paint: { 'line-color': PLAN_COLOURS.overhead, 'line-width': 2, 'line-dasharray': [0.5, 1.5] } },

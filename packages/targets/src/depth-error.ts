@@ -1,0 +1,42 @@
+/**
+ * Depth uncertainty of an exported target. Three independent parts, added in quadrature:
+ * - the velocity: dz = z dv / v, from the spread of the fitted velocities (velocity.json);
+ * - the slice: an anomaly's depth is known to the slice that holds it, +- half the slice thickness;
+ * - the pulse: a reflection's top cannot be placed closer than about a quarter wavelength in the ground,
+ *   v / (4 f) at the antenna's centre frequency (the usual vertical-resolution rule: common practice,
+ *   no source).
+ * The last two are a floor: a target at the surface is not known to "+- 0.00 m".
+ */
+import type { SlicesInfo, VelocityInfo } from './folder';
+export interface DepthErrorModel {
+  /** Relative velocity spread dv / v; undefined when velocity.json gives none. */
+  relativeSpread?: number;
+  /** Median slice thickness, m; undefined without slices.json. */
+  sliceThicknessM?: number;
+  /** Quarter wavelength in the ground, v / (4 f), m; undefined without an antenna frequency. */
+  quarterWavelengthM?: number;
+}
+
+/** The model of one export from the site velocity (m/ns), its spread, the slices and the antenna. */
+export function depthErrorModel(velocityMPerNs: number, spreadMPerNs: number | undefined, sliceThicknessesM: number[], frequencyMHz: number | undefined): DepthErrorModel {
+  const sorted = sliceThicknessesM.filter((t) => t > 0 && Number.isFinite(t)).sort((a, b) => a - b);
+  return {
+    ...(spreadMPerNs !== undefined && velocityMPerNs > 0 ? { relativeSpread: Math.abs(spreadMPerNs) / velocityMPerNs } : {}),
+    ...(sorted.length ? { sliceThicknessM: sorted[sorted.length >> 1]! } : {}),
+    // v in m/ns, f in MHz: wavelength = v / f = (v 1e9 m/s) / (f 1e6 1/s) = 1000 v / f metres
+    ...(frequencyMHz !== undefined && frequencyMHz > 0 && velocityMPerNs > 0 ? { quarterWavelengthM: (1000 * velocityMPerNs) / frequencyMHz / 4 } : {}),
+  };
+}
+
+/** The uncertainty (m) of a depth z under the model; null when the model knows nothing at all. */
+export function depthUncertainty(z: number, m: DepthErrorModel): number | null {
+  if (m.relativeSpread === undefined && m.sliceThicknessM === undefined && m.quarterWavelengthM === undefined) return null;
+  const v = m.relativeSpread !== undefined ? z * m.relativeSpread : 0;
+  const s = m.sliceThicknessM !== undefined ? m.sliceThicknessM / 2 : 0;
+  const q = m.quarterWavelengthM ?? 0;
+  return Math.round(Math.sqrt(v * v + s * s + q * q) * 1e4) / 1e4;
+}
+
+/** The model of an output folder: velocity.json, slices.json and the antenna of run.json. */
+export const folderDepthError = (velocity: VelocityInfo, slices: SlicesInfo | undefined, frequencyMHz: number | undefined): DepthErrorModel =>
+  depthErrorModel(velocity.velocityMPerNs, velocity.spreadMPerNs, slices?.slices.map((s) => s.bottomM - s.topM) ?? [], frequencyMHz);

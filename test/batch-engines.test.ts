@@ -1,0 +1,123 @@
+// Tiles as a job array on real batch engines (issue 17, parts 1-2): a tiny invented site is fitted once
+// (`lamina velocity`), tiled with that model and job files (`lamina tiles --velocity --emit`), and the
+// emitted files are run by GNU parallel and by a single-node Slurm on localhost (Debian's slurm-wlm and
+// munge; the daemons are started and stopped by this test, as root). Every tile must be processed with
+// the survey's one model, and a second submission must skip the finished tiles.
+import { execFile, execFileSync, spawnSync } from 'node:child_process';
+import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { mkdtemp } from 'node:fs/promises';
+import { hostname, tmpdir, cpus } from 'node:os';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { promisify } from 'node:util';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+
+const run = promisify(execFile);
+const root = resolve(dirname(fileURLToPath(import.meta.url)), '..');
+const cli = join(root, 'apps/cli/dist/lamina.mjs');
+const env = { ...process.env, LAMINA_PROGRESS: '0', LAMINA_THREADS: '1' };
+const lamina = (...args: string[]) => run(process.execPath, [cli, ...args], { cwd: root, env, maxBuffer: 1 << 26 });
+
+let work: string;
+
+async function makeTiles(name: string): Promise<string> {
+  const dir = join(work, name);
+  await lamina('tiles', join(work, 'site'), '--size', '3', '--overlap', '1', '--velocity', join(work, 'survey', 'velocity.json'), '--emit', 'slurm,parallel,k8s', '--threads', '1', '--out', dir);
+  return dir;
+}
+
+/** Each tile's output holds a finished run whose depth model is the survey's. */
+function expectTilesDone(dir: string): void {
+  const m = JSON.parse(readFileSync(join(dir, 'tiles.json'), 'utf8'));
+  const survey = JSON.parse(readFileSync(join(work, 'survey', 'velocity.json'), 'utf8'));
+  expect(m.tiles.length).toBeGreaterThan(1);
+  for (const t of m.tiles) {
+    const out = join(dir, `${t.dir}-out`);
+    expect(existsSync(join(out, 'run.json')), t.id).toBe(true);
+    const v = JSON.parse(readFileSync(join(out, 'velocity.json'), 'utf8'));
+    expect(v.model).toEqual(survey.model);
+    expect(v.site.velocityMPerNs).toBe(survey.site.velocityMPerNs);
+    expect(v.site.note).toMatch(/the survey's model/);
+  }
+}
+
+beforeAll(async () => {
+  work = await mkdtemp(join(tmpdir(), 'lamina-batch-'));
+  execFileSync(process.execPath, [join(root, 'apps/cli/build.mjs')], { cwd: root, stdio: 'ignore' });
+  await lamina('simulate', join(root, 'test/fixtures/tiny-scenario.json'), '--out', join(work, 'site'));
+  await lamina('velocity', join(work, 'site'), '--out', join(work, 'survey'));
+}, 600_000);
+
+describe('tiles on GNU parallel (Debian parallel)', () => {
+  it('run-parallel.sh processes every tile with the one model; run again, every tile is skipped', async () => {
+    const dir = await makeTiles('tiles-parallel');
+    const first = spawnSync('bash', [join(dir, 'run-parallel.sh')], { env: { ...env, JOBS: '2' }, encoding: 'utf8' });
+    expect(first.status, first.stderr).toBe(0);
+    expectTilesDone(dir);
+    const again = spawnSync('bash', [join(dir, 'run-parallel.sh')], { env: { ...env, JOBS: '2' }, encoding: 'utf8' });
+    expect(again.status).toBe(0);
+    const log = readFileSync(join(dir, 'parallel.log'), 'utf8').trim().split('\n').slice(1);
+    expect(log.every((l) => l.split('\t')[6] === '0')).toBe(true); // Exitval column of the joblog
+    // the skip message of every tile on the second run
+    const m = JSON.parse(readFileSync(join(dir, 'tiles.json'), 'utf8'));
+    for (let i = 0; i < m.tiles.length; i++) {
+      const r = await lamina('process-tile', join(dir, 'tiles.json'), '--index', String(i));
+      expect(r.stdout).toMatch(/is finished .*: skipped/);
+    }
+  }, 600_000);
+});
+
+// Slurm needs root (its daemons and munge run as root/munge here) and the Debian packages.
+const slurmOk = process.getuid?.() === 0 && existsSync('/usr/sbin/slurmctld') && existsSync('/usr/sbin/munged');
+
+describe.skipIf(!slurmOk)('tiles on a single-node Slurm (Debian slurm-wlm 22.05, munge)', () => {
+  const pids: string[] = ['/run/slurmctld.pid', '/run/slurmd.pid', '/run/munge/munged.pid'];
+  const stop = () => {
+    for (const f of pids) {
+      if (!existsSync(f)) continue;
+      spawnSync('kill', [readFileSync(f, 'utf8').trim()]);
+    }
+  };
+
+  beforeAll(async () => {
+    stop();
+    // munge: the key made at install, the daemon as its own user
+    mkdirSync('/run/munge', { recursive: true });
+    spawnSync('chown', ['munge:munge', '/run/munge']);
+    expect(spawnSync('su', ['-s', '/bin/sh', 'munge', '-c', '/usr/sbin/munged']).status).toBe(0);
+    const host = hostname().split('.')[0]!;
+    for (const d of ['/var/spool/slurmctld', '/var/spool/slurmd', '/etc/slurm']) mkdirSync(d, { recursive: true });
+    writeFileSync(
+      '/etc/slurm/slurm.conf',
+      [
+        'ClusterName=local', `SlurmctldHost=${host}`, 'SlurmUser=root', 'AuthType=auth/munge', 'ProctrackType=proctrack/linuxproc',
+        'TaskPlugin=task/none', 'SelectType=select/cons_tres', 'SelectTypeParameters=CR_Core_Memory', 'ReturnToService=2',
+        'StateSaveLocation=/var/spool/slurmctld', 'SlurmdSpoolDir=/var/spool/slurmd', 'SlurmctldPidFile=/run/slurmctld.pid',
+        'SlurmdPidFile=/run/slurmd.pid', 'JobAcctGatherType=jobacct_gather/none', 'MpiDefault=none',
+        `NodeName=${host} CPUs=${cpus().length} RealMemory=8000 State=UNKNOWN`, `PartitionName=main Nodes=${host} Default=YES MaxTime=INFINITE State=UP`, '',
+      ].join('\n'),
+    );
+    expect(spawnSync('/usr/sbin/slurmctld').status).toBe(0);
+    expect(spawnSync('/usr/sbin/slurmd').status).toBe(0);
+    for (let i = 0; i < 60; i++) {
+      const s = spawnSync('sinfo', ['-h', '-o', '%T'], { encoding: 'utf8' });
+      if (/idle|mixed/.test(s.stdout)) return;
+      await new Promise((r) => setTimeout(r, 500));
+    }
+    throw new Error('the Slurm node did not come up idle within 30 s');
+  }, 120_000);
+
+  afterAll(() => stop());
+
+  it('sbatch --wait run-slurm.sbatch: one array task per tile, each with the one model; resubmitted, every task skips', async () => {
+    const dir = await makeTiles('tiles-slurm');
+    const first = spawnSync('sbatch', ['--wait', 'run-slurm.sbatch'], { cwd: dir, env, encoding: 'utf8', timeout: 900_000 });
+    expect(first.status, `${first.stdout}\n${first.stderr}`).toBe(0);
+    expectTilesDone(dir);
+    const again = spawnSync('sbatch', ['--wait', 'run-slurm.sbatch'], { cwd: dir, env, encoding: 'utf8', timeout: 300_000 });
+    expect(again.status).toBe(0);
+    const job = /Submitted batch job (\d+)/.exec(again.stdout)![1];
+    const m = JSON.parse(readFileSync(join(dir, 'tiles.json'), 'utf8'));
+    for (let i = 0; i < m.tiles.length; i++) expect(readFileSync(join(dir, `slurm-${job}_${i}.out`), 'utf8')).toMatch(/is finished .*: skipped/);
+  }, 1_200_000);
+});
