@@ -118,7 +118,7 @@ describe('exportTargets on an EPSG:32617 (metre) folder', () => {
   // GeoPackage's fields are the contract's target fields in order.
   it('the folder parses with @lamina/contracts and the target fields are the contract\'s', async () => {
     const names = FOLDER_FILES.map(([n]) => n);
-    expect(await checkFolder(fx.dir)).toEqual(names.filter((n) => ['run.json', 'velocity.json', 'slices.json', 'anomalies.geojson', 'review.json', 'targets.geojson'].includes(n)));
+    expect(await checkFolder(fx.dir)).toEqual(names.filter((n) => ['run.json', 'lines.geojson', 'plan.geojson', 'velocity.json', 'slices.json', 'anomalies.geojson', 'review.json', 'targets.geojson'].includes(n)));
     expect(TARGET_FIELDS.map(([n]) => n)).toEqual(Object.keys(targetFieldsSchema.shape));
   });
 

@@ -90,7 +90,7 @@ export async function makeFolder(o: FixtureOptions): Promise<Fixture> {
   await writeFile(join(dir, 'run.json'), JSON.stringify(run));
   await writeFile(join(dir, 'anomalies.geojson'), JSON.stringify({ type: 'FeatureCollection', features }));
   // Survey lines west-east every 5 m, 20 m long; a fence along the north edge (the plan).
-  const lineFeature = (id: string, y: number) => ({ type: 'Feature', id, properties: { id, traces: 400, lengthM: 20 }, geometry: { type: 'LineString', coordinates: [ll(0, y), ll(10, y), ll(20, y)] } });
+  const lineFeature = (id: string, y: number) => ({ type: 'Feature', id, properties: { id, file: `lines/${id}.sgy`, traces: 400, lengthM: 20 }, geometry: { type: 'LineString', coordinates: [ll(0, y), ll(10, y), ll(20, y)] } });
   await writeFile(join(dir, 'lines.geojson'), JSON.stringify({ type: 'FeatureCollection', features: [lineFeature('l01', 2.5), lineFeature('l02', 7.5), lineFeature('l03', 12.5)] }));
   await writeFile(join(dir, 'plan.geojson'), JSON.stringify({ type: 'FeatureCollection', features: [{ type: 'Feature', id: 'fence-1', properties: { id: 'fence-1', kind: 'fence', heightM: 1.8 }, geometry: { type: 'LineString', coordinates: [ll(0, 14.5), ll(20, 14.5)] } }] }));
   await writeFile(
