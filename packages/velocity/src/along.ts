@@ -79,3 +79,20 @@ export function alongLine(line: RadarLine, metresPerUnit = 1, options: AlongLine
   for (let i = 1; i < n; i++) out[i] = out[i - 1]! + Math.hypot(sx[i]! - sx[i - 1]!, sy[i]! - sy[i - 1]!) * metresPerUnit;
   return out;
 }
+
+/** Position (site CRS) and nearest trace at distance `offsetM` along the line (linear between traces, extrapolated at the ends). */
+export function pointAlong(line: RadarLine, along: Float64Array, offsetM: number): { trace: number; x: number; y: number } {
+  const n = line.nTraces;
+  if (n === 1) return { trace: 0, x: line.x[0]!, y: line.y[0]! };
+  let lo = 0;
+  let hi = n - 1;
+  while (hi - lo > 1) {
+    const mid = (lo + hi) >> 1;
+    if (along[mid]! <= offsetM) lo = mid;
+    else hi = mid;
+  }
+  const span = along[hi]! - along[lo]!;
+  const f = span > 0 ? (offsetM - along[lo]!) / span : 0;
+  const trace = Math.min(n - 1, Math.max(0, Math.round(lo + f)));
+  return { trace, x: line.x[lo]! + f * (line.x[hi]! - line.x[lo]!), y: line.y[lo]! + f * (line.y[hi]! - line.y[lo]!) };
+}

@@ -1,7 +1,8 @@
 import { backgroundRemoval, envelope, spectralCentroidMHz } from '@lamina/processing';
 import type { RadarLine } from '@lamina/radar-data';
 import { medianInPlace as median } from '@lamina/stats';
-import { alongLine } from './along';
+import { alongLine, pointAlong } from './along';
+import { envelopeLevel } from './noise-level';
 import { apexDistance, fitHyperbola, hyperbolaTime, linearisedFit, type PointFit } from './fit';
 
 /**
@@ -89,53 +90,6 @@ export interface DetectedHyperbola extends PointFit {
   timeNs: Float64Array;
   /** Smaller of the two flanks' medians of the normalised envelope along the fitted curve. */
   score: number;
-}
-
-/** Position (site CRS) and nearest trace at distance `offsetM` along the line (linear between traces, extrapolated at the ends). */
-export function pointAlong(line: RadarLine, along: Float64Array, offsetM: number): { trace: number; x: number; y: number } {
-  const n = line.nTraces;
-  if (n === 1) return { trace: 0, x: line.x[0]!, y: line.y[0]! };
-  let lo = 0;
-  let hi = n - 1;
-  while (hi - lo > 1) {
-    const mid = (lo + hi) >> 1;
-    if (along[mid]! <= offsetM) lo = mid;
-    else hi = mid;
-  }
-  const span = along[hi]! - along[lo]!;
-  const f = span > 0 ? (offsetM - along[lo]!) / span : 0;
-  const trace = Math.min(n - 1, Math.max(0, Math.round(lo + f)));
-  return { trace, x: line.x[lo]! + f * (line.x[hi]! - line.x[lo]!), y: line.y[lo]! + f * (line.y[hi]! - line.y[lo]!) };
-}
-
-/**
- * Noise level per sample: the median of the envelope across traces, smoothed over `smooth` samples
- * either side, and never below `floorFraction` of the envelope's maximum (noise-free data would
- * otherwise divide by zero).
- */
-export function envelopeLevel(env: Float32Array, nTraces: number, nSamples: number, smooth: number, floorFraction = 1e-3): Float64Array {
-  const level = new Float64Array(nSamples);
-  // At most 128 traces spread over the line: a median of 128 is within 0.11 standard deviations of the line's.
-  const every = Math.max(1, Math.ceil(nTraces / 128));
-  const col = new Float32Array(Math.ceil(nTraces / every));
-  let max = 0;
-  for (let i = 0; i < env.length; i++) if (env[i]! > max) max = env[i]!;
-  for (let s = 0; s < nSamples; s++) {
-    for (let t = 0, m = 0; t < nTraces; t += every) col[m++] = env[t * nSamples + s]!;
-    level[s] = median(col);
-  }
-  const out = new Float64Array(nSamples);
-  const floor = Math.max(max * floorFraction, Number.MIN_VALUE);
-  for (let s = 0; s < nSamples; s++) {
-    let acc = 0;
-    let cnt = 0;
-    for (let k = Math.max(0, s - smooth); k <= Math.min(nSamples - 1, s + smooth); k++) {
-      acc += level[k]!;
-      cnt++;
-    }
-    out[s] = Math.max(acc / cnt, floor);
-  }
-  return out;
 }
 
 export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): DetectedHyperbola[] {

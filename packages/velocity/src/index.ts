@@ -22,8 +22,9 @@ export {
   type LayerVelocities,
 } from './physics';
 export { fitHyperbola, linearisedFit, hyperbolaTime, apexDistance, type PointFit, type FitOptions } from './fit';
-export { alongLine, type AlongLineOptions } from './along';
-export { detectHyperbolas, pointAlong, envelopeLevel, type DetectOptions, type DetectedHyperbola } from './detect';
+export { alongLine, pointAlong, type AlongLineOptions } from './along';
+export { envelopeLevel } from './noise-level';
+export { detectHyperbolas, type DetectOptions, type DetectedHyperbola } from './detect';
 export {
   ABOVE_GROUND_MAX_PERMITTIVITY,
   MAX_SOIL_PERMITTIVITY,

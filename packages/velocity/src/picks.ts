@@ -1,8 +1,7 @@
 import { InputError } from '@lamina/errors';
 import type { RadarLine } from '@lamina/radar-data';
 import { checkContract, parseJsonText, picksSchema, type ManualHyperbola, type PicksFile } from '@lamina/contracts';
-import { alongLine } from './along';
-import { pointAlong } from './detect';
+import { alongLine, pointAlong } from './along';
 import { fitHyperbola, type FitOptions } from './fit';
 import type { HyperbolaFit } from './model';
 import { lineDirection } from './oblique';

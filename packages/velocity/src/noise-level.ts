@@ -1,0 +1,32 @@
+// The noise level of a line's envelope: the median across traces at each time.
+import { medianInPlace as median } from '@lamina/stats';
+
+/**
+ * Noise level per sample: the median of the envelope across traces, smoothed over `smooth` samples
+ * either side, and never below `floorFraction` of the envelope's maximum (noise-free data would
+ * otherwise divide by zero).
+ */
+export function envelopeLevel(env: Float32Array, nTraces: number, nSamples: number, smooth: number, floorFraction = 1e-3): Float64Array {
+  const level = new Float64Array(nSamples);
+  // At most 128 traces spread over the line: a median of 128 is within 0.11 standard deviations of the line's.
+  const every = Math.max(1, Math.ceil(nTraces / 128));
+  const col = new Float32Array(Math.ceil(nTraces / every));
+  let max = 0;
+  for (let i = 0; i < env.length; i++) if (env[i]! > max) max = env[i]!;
+  for (let s = 0; s < nSamples; s++) {
+    for (let t = 0, m = 0; t < nTraces; t += every) col[m++] = env[t * nSamples + s]!;
+    level[s] = median(col);
+  }
+  const out = new Float64Array(nSamples);
+  const floor = Math.max(max * floorFraction, Number.MIN_VALUE);
+  for (let s = 0; s < nSamples; s++) {
+    let acc = 0;
+    let cnt = 0;
+    for (let k = Math.max(0, s - smooth); k <= Math.min(nSamples - 1, s + smooth); k++) {
+      acc += level[k]!;
+      cnt++;
+    }
+    out[s] = Math.max(acc / cnt, floor);
+  }
+  return out;
+}
