@@ -198,7 +198,7 @@ export function idwRows(
   const power = options.power ?? 2;
   const k = Math.max(1, options.maxPoints ?? 12);
   const minPoints = options.minPoints ?? 1;
-  const { width, cellSize, nodata } = grid;
+  const { width, nodata } = grid;
   const ids = new Int32Array(k);
   const d2 = new Float64Array(k);
   const w = new Float64Array(k);
