@@ -1,5 +1,6 @@
 import { closeSync, ftruncateSync, openSync, readSync, rmSync, writeSync } from 'node:fs';
-import { checkBandCount, cogHeader, cogSettings, levelSizes, putRecord, type CogOptions, type CogSettings, type LevelSize } from './cog';
+import { checkBandCount, cogHeader, cogSettings, levelSizes, putRecord } from './cog';
+import type { CogOptions, CogSettings, LevelSize } from './options';
 import { downsampleStrip, inOrder, tileJobs } from './tile-encode';
 
 /** Rows of a multi-band raster, read a strip at a time (from disk, or computed). */

@@ -1,5 +1,5 @@
 /** What makes a TIFF a GeoTIFF here: GeoKeys for the CRS, GDAL's nodata and metadata text. */
-import type { CogCrs, CogOptions } from './cog';
+import type { CogCrs, CogOptions } from './options';
 
 /** GDAL writes nodata as text; NaN as `nan`. */
 export function formatNodata(v: number): string {

@@ -1,3 +1,4 @@
-export { encodeCog, type CogOptions, type CogCrs } from './cog';
+export { encodeCog } from './cog';
+export type { CogOptions, CogCrs } from './options';
 export { encodeCogFile, RawBands, type RowSource } from './cog-file';
 export { readGeoTiff, type GeoTiffRaster } from './read';

@@ -1,7 +1,7 @@
 /** Tile data: overview halving, pixel-interleaved tiles, the floating-point predictor and DEFLATE. */
 import { deflate } from 'node:zlib';
 import { promisify } from 'node:util';
-import type { CogSettings } from './cog';
+import type { CogSettings } from './options';
 
 const deflateAsync = promisify(deflate);
 

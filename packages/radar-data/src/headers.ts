@@ -60,24 +60,32 @@ export function mixedLength(name: string, trace: number, nTraces: number, traceO
   );
 }
 
-/** What the file headers say, checked against the file's size. */
-export interface ParsedHeaders {
+/** What `openSegy` learned from the headers (plain data, printable as JSON). */
+export interface SegyInfo {
+  path: string;
   name: string;
   revision: { major: number; minor: number };
   format: SampleFormat;
+  formatName: string;
   littleEndian: boolean;
   textEncoding: TextEncoding;
-  textHeader: string;
-  extendedTextHeaders: string[];
-  binary: SegyBinaryHeader;
   nSamples: number;
   nTraces: number;
   dtNs: number;
   dtSource: DtSource;
   fileSize: number;
+  /** Bytes per trace including its header(s). */
   traceBytes: number;
+  /** Byte offset of the first trace. */
   dataOffset: number;
   additionalTraceHeaders: number;
+}
+
+/** What the file headers say, checked against the file's size (the reader adds the path and format name). */
+export interface ParsedHeaders extends Omit<SegyInfo, 'path' | 'formatName'> {
+  textHeader: string;
+  extendedTextHeaders: string[];
+  binary: SegyBinaryHeader;
 }
 
 async function readAt(fh: FileHandle, position: number, length: number): Promise<Uint8Array> {

@@ -10,7 +10,7 @@ export {
   binaryFieldLabel,
 } from './layout';
 export { type TextEncoding, detectTextEncoding, decodeText, encodeText, textLines, cardImages } from './text';
-export { type SegyOpenOptions, type DtSource, DT_MIN_NS, DT_MAX_NS, MAX_SAMPLES } from './headers';
-export { type SegyTraceHeaders, type SegyChunk, type SegyInfo, SegyReader, openSegy, emptyTraceHeaders, BLOCK_BYTES } from './reader';
+export { type SegyOpenOptions, type SegyInfo, type DtSource, DT_MIN_NS, DT_MAX_NS, MAX_SAMPLES } from './headers';
+export { type SegyTraceHeaders, type SegyChunk, SegyReader, openSegy, emptyTraceHeaders, BLOCK_BYTES } from './reader';
 export { type SegyWriteSpec, type SegyTraceChunk, SegyWriter, openSegyWriter, writeSegy } from './writer';
 export { type ReadSegyLineOptions, type SegyLine, type CoordinateSource, readSegyLine, writeSegyLine } from './segy-line';

@@ -9,7 +9,7 @@ import { SAMPLE_FORMATS, type SampleFormat } from './formats';
 import { ibmToNumber, ibmWordsToFloat32 } from './ibm';
 import { TRACE, TRACE_HEADER_BYTES, applyScalar, type SegyBinaryHeader } from './layout';
 import type { TextEncoding } from './text';
-import { mixedLength, parseHeaders, type DtSource, type ParsedHeaders, type SegyOpenOptions } from './headers';
+import { mixedLength, parseHeaders, type DtSource, type ParsedHeaders, type SegyInfo, type SegyOpenOptions } from './headers';
 
 const HOST_LE = endianness() === 'LE';
 
@@ -47,27 +47,6 @@ export interface SegyChunk {
   /** `count * nSamples` samples, trace-major. */
   data: Float32Array;
   headers: SegyTraceHeaders;
-}
-
-/** What `openSegy` learned from the headers (plain data, printable as JSON). */
-export interface SegyInfo {
-  path: string;
-  name: string;
-  revision: { major: number; minor: number };
-  format: SampleFormat;
-  formatName: string;
-  littleEndian: boolean;
-  textEncoding: TextEncoding;
-  nSamples: number;
-  nTraces: number;
-  dtNs: number;
-  dtSource: DtSource;
-  fileSize: number;
-  /** Bytes per trace including its header(s). */
-  traceBytes: number;
-  /** Byte offset of the first trace. */
-  dataOffset: number;
-  additionalTraceHeaders: number;
 }
 
 export function emptyTraceHeaders(count: number): SegyTraceHeaders {

@@ -1,8 +1,8 @@
 /** A whole SEG-Y file as a RadarLine, and a RadarLine as a SEG-Y file. */
 import { basename, extname } from 'node:path';
 import type { RadarLine } from './line';
-import type { SegyOpenOptions } from './headers';
-import { openSegy, type SegyInfo, type SegyTraceHeaders } from './reader';
+import type { SegyInfo, SegyOpenOptions } from './headers';
+import { openSegy, type SegyTraceHeaders } from './reader';
 import { writeSegy, type SegyWriteSpec } from './writer';
 
 /** Which trace header coordinates fill `x`/`y`. */
