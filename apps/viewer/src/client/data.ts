@@ -20,7 +20,6 @@ export interface Config {
   utilityTypes: string[];
   apwa: Record<string, { name: string; hex: string; meaning: string }>;
   cautions: string[];
-  exportAvailable: boolean;
 }
 
 export const EMPTY_FC: FeatureCollection = { type: 'FeatureCollection', features: [] };

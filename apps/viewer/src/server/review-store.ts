@@ -1,8 +1,7 @@
 import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { z } from 'zod';
-import * as targets from '@lamina/targets';
-import { readReview, writeReview, upsertDecision } from '@lamina/targets';
+import { exportTargets, readReview, writeReview, upsertDecision } from '@lamina/targets';
 import { anomaliesSchema, checkContract, decisionSchema, siteIdentitySchema, UTILITY_TYPES, type Decision, type Review, type SiteIdentity } from '@lamina/contracts';
 import { InputError } from '@lamina/errors';
 import { lockFolder } from '@lamina/atomic';
@@ -36,13 +35,6 @@ export class HttpError extends Error {
 export interface ExportResult {
   ok: boolean;
   [k: string]: unknown;
-}
-type ExportFn = (outDir: string) => Promise<unknown>;
-
-/** exportTargets from @lamina/targets once it is exported there; until then the viewer answers 501. */
-export function findExportTargets(): ExportFn | undefined {
-  const fn = (targets as Record<string, unknown>).exportTargets;
-  return typeof fn === 'function' ? (fn as ExportFn) : undefined;
 }
 
 /**
@@ -132,10 +124,6 @@ export class ReviewStore {
 
   /** Run exportTargets(outDir) after every queued write has landed. */
   export(): Promise<unknown> {
-    const fn = findExportTargets();
-    if (!fn) {
-      return Promise.reject(new HttpError(501, 'export is not available yet: @lamina/targets does not export exportTargets in this build'));
-    }
-    return this.queue.run(() => fn(this.outDir));
+    return this.queue.run(() => exportTargets(this.outDir));
   }
 }

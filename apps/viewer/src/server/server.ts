@@ -5,7 +5,7 @@ import { isInputError } from '@lamina/errors';
 import { APWA_COLOURS, UTILITY_TYPES } from '@lamina/targets';
 import { contentType } from './mime';
 import { parseRange, resolveInside } from './paths';
-import { decisionInputSchema, findExportTargets, HttpError, ReviewStore } from './review-store';
+import { decisionInputSchema, HttpError, ReviewStore } from './review-store';
 import { DIST_DIR } from './build';
 import { CAUTIONS } from './cautions';
 
@@ -127,7 +127,6 @@ export async function startViewerServer(outDir: string, options: ViewerServerOpt
           utilityTypes: UTILITY_TYPES,
           apwa: APWA_COLOURS,
           cautions: CAUTIONS,
-          exportAvailable: findExportTargets() !== undefined,
         });
         return;
       }
