@@ -3,6 +3,7 @@ import { request } from 'node:http';
 import { mkdtemp, mkdir, readFile, symlink, writeFile } from 'node:fs/promises';
 import { networkInterfaces, tmpdir } from 'node:os';
 import { join } from 'node:path';
+import { FOLDER_FILES, checkFolder } from '@lamina/contracts';
 import { parseReview } from '@lamina/targets';
 import { startViewerServer, type ViewerServer } from '../src';
 import { writeFixture } from './fixture';
@@ -51,6 +52,15 @@ beforeAll(async () => {
 });
 afterAll(async () => {
   await srv?.close();
+});
+
+// The fixture stands for the output of `lamina process`: it keeps the contracts of @lamina/contracts.
+describe('fixture', () => {
+  it('parses with @lamina/contracts', async () => {
+    const found = await checkFolder(out);
+    expect(found.length).toBeGreaterThan(5);
+    expect(FOLDER_FILES.map(([n]) => n)).toEqual(expect.arrayContaining(found));
+  });
 });
 
 describe('binding', () => {

@@ -78,18 +78,21 @@ export const interfacePropertiesSchema = z.object({
 export type InterfaceProperties = z.infer<typeof interfacePropertiesSchema>;
 export const interfacesSchema = featureCollectionOf(featureOf(interfacePropertiesSchema));
 
-/** forecast.geojson: predicted air-wave loci per slice (@lamina/screening). */
+/**
+ * forecast.geojson: predicted air-wave loci per slice (@lamina/screening writes every field; the viewer
+ * needs the slice and its depth range).
+ */
 export const forecastPropertiesSchema = z.object({
   slice: num,
   topM: num,
   bottomM: num,
-  depthM: num,
   featureId: z.string(),
-  featureKind: z.string(),
-  reflector: z.string(),
-  source: z.string(),
-  radiusM: num,
-  bandHalfWidthM: num,
+  depthM: num.optional(),
+  featureKind: z.string().optional(),
+  reflector: z.string().optional(),
+  source: z.string().optional(),
+  radiusM: num.optional(),
+  bandHalfWidthM: num.optional(),
 });
 export type ForecastProperties = z.infer<typeof forecastPropertiesSchema>;
 export const forecastSchema = featureCollectionOf(featureOf(forecastPropertiesSchema));
