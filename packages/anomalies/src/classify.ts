@@ -26,25 +26,6 @@ export interface ClassifyOptions {
   echoOverlap?: number;
   /** Lines an object in the near-surface zone must cross to be kept (with deeper members). @default 3 */
   nearSurfaceLines?: number;
-  /**
-   * False alarms per square metre allowed to an anomaly seen on one line (see `oneLineMinStrengthDb`).
-   * @default 1e-4 (the extraction's `falseAlarmsPerM2`: one per hectare)
-   */
-  falseAlarmsPerM2?: number;
-}
-
-/**
- * Least strength (dB of energy over the slice's mean noise) an anomaly seen on one line must have to be
- * told from that line's noise. A slice's noise law is fitted to all its cells, most of which average
- * traces of two lines; a cell on one line averages fewer independent samples, and the fewest it can hold
- * is one envelope sample, whose energy is exponential (Rayleigh envelope): P(E > e) = exp(-e / mean).
- * With p = falseAlarmsPerM2 x lineSpacing^2 (one line spacing square holds one independent piece of a
- * line's noise), the level is -ln p times the mean: about 10 dB for line spacings of 0.25-1 m. A line
- * noisier than the rest (antenna coupling, ringing) makes strips along itself at this level.
- */
-export function oneLineMinStrengthDb(lineSpacingM: number, options: ClassifyOptions = {}): number {
-  const p = Math.min(0.5, (options.falseAlarmsPerM2 ?? 1e-4) * lineSpacingM * lineSpacingM);
-  return 10 * Math.log10(-Math.log(p));
 }
 
 export interface Classified {
@@ -103,8 +84,6 @@ export function isExtensive(shape: Shape, depthM: number, ctx: ClassifyContext, 
  *   (same plan position, later time, weaker: ringing or a multiple): it takes that object's class and
  *   gets `echoOf`;
  * - `layer`: too large for any object (`isExtensive`: a laterally extensive reflector);
- * - `clutter` (weak, one line): seen on one line only and weaker than that line's noise can make
- *   (`oneLineMinStrengthDb`);
  * - `utility`: linear and no wider than a utility may be;
  * - `clutter` (point-like): compact, seen on one line only (`oneLineWidthM`), spanning at most two
  *   slices (one pulse) — a stone or a root at the survey's resolution;
@@ -112,7 +91,6 @@ export function isExtensive(shape: Shape, depthM: number, ctx: ClassifyContext, 
  */
 export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: boolean }[], ctx: ClassifyContext, options: ClassifyOptions = {}): Classified[] {
   const lines = options.nearSurfaceLines ?? 3;
-  const minDb = oneLineMinStrengthDb(ctx.lineSpacingM, options);
   const own = items.map(({ anomaly: a, aboveGround }): Classified => {
     if (aboveGround) return { class: 'above-ground', reason: 'air-wave screening' };
     const deep = a.members.filter((m) => m.bottomM > ctx.nearSurfaceM);
@@ -123,13 +101,11 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
     const z = a.depthBottomM;
     const slices = new Set(a.members.map((m) => m.slice)).size;
     if (isExtensive(a.shape, z, ctx, options)) return { class: 'layer', reason: 'laterally extensive: wider than a utility and longer than a structure' };
-    const oneLine = a.shape.widthM <= oneLineWidthM(ctx.lineSpacingM, ctx.cellM);
-    if (oneLine && a.strengthDb < minDb) return { class: 'clutter', reason: `seen on one line, weaker than one line's noise can make (${round(a.strengthDb)} < ${round(minDb)} dB)` };
     if (a.shape.kind === 'linear') {
       if (a.shape.widthM <= maxUtilityWidthM(z, ctx, options)) return { class: 'utility', reason: 'linear, no wider than a utility' };
       return { class: 'structure', reason: 'linear but wider than a utility' };
     }
-    if (oneLine && slices <= 2) return { class: 'clutter', reason: 'point-like: seen on one line, one pulse thick' };
+    if (a.shape.widthM <= oneLineWidthM(ctx.lineSpacingM, ctx.cellM) && slices <= 2) return { class: 'clutter', reason: 'point-like: seen on one line, one pulse thick' };
     return { class: 'structure', reason: 'compact, wider than a line spacing or thicker than a pulse' };
   });
   // echoes: below a stronger object, mostly inside its plan cells

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { buildAnomaly, classifyAnomalies, fresnelRadiusM, joinAlignedPieces, makeMember, maxUtilityWidthM, oneLineMinStrengthDb, type Anomaly3D, type ClassifyContext } from '../src';
-import { grid, py } from './helpers';
+import { buildAnomaly, classifyAnomalies, fresnelRadiusM, joinAlignedPieces, makeMember, maxUtilityWidthM, type Anomaly3D, type ClassifyContext } from '../src';
+import { grid } from './helpers';
 
 const g = grid(200, 200, 0.125, 0, 25);
 const stack = { grid: g, slices: Array.from({ length: 12 }, (_, i) => ({ index: i, topM: 0.125 * i, bottomM: 0.125 * (i + 1), values: new Float32Array(200 * 200).fill(1) })) };
@@ -31,7 +31,7 @@ describe('physics of the bounds', () => {
 
 describe('classes', () => {
   it('a pipe is a utility, a footing a structure, a one-line blob clutter, a site-wide sheet a layer, a near-surface speck clutter', () => {
-    // 20 dB over the noise: well above what one line's noise makes (oneLineMinStrengthDb)
+    // 20 dB over the noise
     const pipe = anomaly(cellsOf((x, y) => Math.abs(y - 20) < 0.2 && x > 2 && x < 20), 6, 7, 100);
     const footing = anomaly(cellsOf((x, y) => Math.abs(x - 5) < 0.45 && Math.abs(y - 10) < 0.45), 4, 5);
     const stone = anomaly(cellsOf((x, y) => Math.abs(x - 15) < 0.4 && Math.abs(y - 10) < 0.15), 5, 5);
@@ -72,26 +72,5 @@ describe('joining pieces of a utility', () => {
     const groups = joinAlignedPieces([...pieces, ...footings, deep], g, 0.5, (z) => maxUtilityWidthM(z, ctx), { metresPerUnit: 1 });
     expect(groups).toContainEqual([0, 1, 2, 3]);
     for (const i of [4, 5, 6, 7]) expect(groups).toContainEqual([i]);
-  });
-});
-
-describe('one line', () => {
-  it('the strength one line noise reaches at the false-alarm rate is the exponential quantile (scipy.stats.expon)', () => {
-    // p = 1e-4 per m2 x (0.5 m)^2; energy of one envelope sample is exponential (Rayleigh envelope)
-    const ref = Number(py('from scipy.stats import expon; import math; print(10*math.log10(expon.isf(1e-4*0.25)))', ''));
-    expect(oneLineMinStrengthDb(0.5)).toBeCloseTo(ref, 9);
-    expect(oneLineMinStrengthDb(0.25)).toBeGreaterThan(oneLineMinStrengthDb(1));
-  });
-
-  it('a weak strip on one line is clutter, the same strip strong is a utility, a weak wide band is not judged by one line', () => {
-    const strip = cellsOf((x, y) => Math.abs(y - 5) < 0.2 && x > 2 && x < 20);
-    const weak = anomaly(strip, 6, 6, 8); // 9 dB
-    const c = classifyAnomalies([{ anomaly: weak, aboveGround: false }], ctx);
-    expect(c[0]!.class).toBe('clutter');
-    expect(c[0]!.reason).toMatch(/one line/);
-    const strong = anomaly(cellsOf((x, y) => Math.abs(y - 7) < 0.2 && x > 2 && x < 20), 6, 6, 40);
-    expect(classifyAnomalies([{ anomaly: strong, aboveGround: false }], ctx)[0]!.class).toBe('utility');
-    const band = anomaly(cellsOf((x, y) => Math.abs(y - 9) < 0.6 && x > 2 && x < 20), 6, 6, 8);
-    expect(classifyAnomalies([{ anomaly: band, aboveGround: false }], ctx)[0]!.class).toBe('utility');
   });
 });

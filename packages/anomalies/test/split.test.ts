@@ -54,15 +54,15 @@ print(json.dumps(sorted([sorted(np.flatnonzero(lab.ravel()==i+1).tolist()) for i
     const stack = synthStack(g, [1], 0.2, (x, y) => (pipe(x, y) || comb(x, y) ? 60 : 0), 3);
     // a layer here: longer than 8 m and wider than 3 m (the test's own bound)
     const isLayer = (s: { lengthM: number; widthM: number }) => s.lengthM > 8 && s.widthM > 3;
-    const split = extractAnomalies(stack, { isLayer, splitRadiusM: () => 0.25 });
+    const split = extractAnomalies(stack, { isLayer, splitLayers: true, splitRadiusM: () => 0.25 });
     const objects = split.members.filter((m) => !m.layer);
     const big = objects.reduce((p, q) => (q.cells.length > p.cells.length ? q : p));
     expect(big.shape.kind).toBe('linear');
     expect(big.shape.lengthM).toBeGreaterThan(20);
     expect(big.shape.widthM).toBeLessThan(1.2);
     expect(Math.abs(big.y - 1994)).toBeLessThan(0.2);
-    // without the opening the whole comb is one layer member and the pipe is not an object
-    const whole = extractAnomalies(stack, { isLayer, splitRadiusM: () => 0 });
+    // without the opening (the default) the whole comb is one layer member and the pipe is not an object
+    const whole = extractAnomalies(stack, { isLayer });
     expect(whole.members.filter((m) => !m.layer && m.shape.lengthM > 20 && m.shape.widthM < 1.2)).toHaveLength(0);
   });
 });
