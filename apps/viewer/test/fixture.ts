@@ -195,9 +195,9 @@ export async function writeFixture(dir: string, options: FixtureOptions = {}): P
     }),
   );
   await writeFile(join(dir, 'targets.geojson'), JSON.stringify({ type: 'FeatureCollection', features: [{ type: 'Feature', properties: {
-    id: 't1', depthTopM: 0, depthBottomM: 0.4, origin: 'subsurface', confidence: 0.82, depthTopFt: 0, depthBottomFt: 1.3123, depthUncertaintyM: null, depthUncertaintyFt: null,
+    id: 't1', depthTopM: 0, depthBottomM: 0.4, origin: 'subsurface', class: 'structure', pAboveGround: 0.18, strengthDb: 14.2, depthTopFt: 0, depthBottomFt: 1.3123, depthUncertaintyM: null, depthUncertaintyFt: null,
     depthBottomUncertaintyM: null, depthBottomUncertaintyFt: null, kind: 'compact', utilityType: 'water', apwaColour: '#1f78b4', apwaColourName: 'blue', label: null, lengthM: null,
-    qualityLevel: 'B', method: 'GPR, 500 MHz, depth slices', surveyDate: null, exportDate: '2026-01-01T00:00:00.000Z', decision: 'accepted', note: null,
+    qualityLevel: 'B', method: 'GPR, 500 MHz, depth slices', surveyDate: null, operator: null, equipment: null, positioning: null, positioningAccuracyM: null, exportDate: '2026-01-01T00:00:00.000Z', decision: 'accepted', note: null,
     reviewedAt: '2026-01-01T00:00:00.000Z', screenedOrigin: 'subsurface', site: 'fixture-yard', anomalyId: 'a1',
   }, geometry: { type: 'Point', coordinates: ll((ax0 + ax1) / 2, (ay0 + ay1) / 2) } }] }));
 }
