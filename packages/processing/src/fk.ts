@@ -70,6 +70,29 @@ export function band(power: ArrayLike<number>, tol: number): [number, number] {
 }
 
 /** Inverse of `fk2d` (bins outside [lo, hi] taken as zero): the first `nTraces` x `nSamples` of the real line (trace-major) into `out`. */
+/**
+ * Two real traces in one complex inverse transform: writes bins m0..m1 of the half spectra A (at `oa` in
+ * `spec`) and B (at `ob`; none when ob < 0) into `full` as the full spectrum A + iB, whose inverse is
+ * a + ib for Hermitian A and B. The DC and Nyquist bins of a real trace are real. Other bins of `full`
+ * are left as they are.
+ */
+export function packTracePair(spec: Float64Array, oa: number, ob: number, m0: number, m1: number, nw: number, nt: number, full: Float64Array): void {
+  for (let m = m0; m <= m1; m++) {
+    const edge = m === 0 || m === nw - 1;
+    const ar = spec[oa + 2 * m] as number;
+    const ai = edge ? 0 : (spec[oa + 2 * m + 1] as number);
+    const br = ob < 0 ? 0 : (spec[ob + 2 * m] as number);
+    const bi = ob < 0 || edge ? 0 : (spec[ob + 2 * m + 1] as number);
+    full[2 * m] = ar - bi;
+    full[2 * m + 1] = ai + br;
+    if (!edge) {
+      // bin nt - m: conj(A) + i conj(B)
+      full[2 * (nt - m)] = ar + bi;
+      full[2 * (nt - m) + 1] = -ai + br;
+    }
+  }
+}
+
 export function ifk2d(
   spec: Float64Array,
   nTraces: number,
@@ -92,21 +115,7 @@ export function ifk2d(
     const oa = 2 * i * nw;
     const ob = i + 1 < nTraces ? 2 * (i + 1) * nw : -1;
     full.fill(0);
-    for (let m = m0; m <= m1; m++) {
-      // the DC and Nyquist bins of a real trace are real
-      const edge = m === 0 || m === nw - 1;
-      const ar = spec[oa + 2 * m] as number;
-      const ai = edge ? 0 : (spec[oa + 2 * m + 1] as number);
-      const br = ob < 0 ? 0 : (spec[ob + 2 * m] as number);
-      const bi = ob < 0 || edge ? 0 : (spec[ob + 2 * m + 1] as number);
-      full[2 * m] = ar - bi;
-      full[2 * m + 1] = ai + br;
-      if (!edge) {
-        // bin nt - m: conj(A) + i conj(B)
-        full[2 * (nt - m)] = ar + bi;
-        full[2 * (nt - m) + 1] = -ai + br;
-      }
-    }
+    packTracePair(spec, oa, ob, m0, m1, nw, nt, full);
     ft.inverseTransform(back, full);
     for (let k = 0; k < nSamples; k++) out[i * nSamples + k] = back[2 * k] as number;
     if (ob >= 0) for (let k = 0; k < nSamples; k++) out[(i + 1) * nSamples + k] = back[2 * k + 1] as number;

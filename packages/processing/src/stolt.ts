@@ -1,5 +1,5 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, paddedSizes, shiftSpectrum, type FkLineOptions } from './fk';
+import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, packTracePair, paddedSizes, shiftSpectrum, type FkLineOptions } from './fk';
 import { fftOfSize } from './fft';
 
 export interface StoltOptions extends FkLineOptions {
@@ -325,21 +325,7 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
       const pair = i + 1 < nTraces;
       const oa = 2 * i * nm;
       const ob = 2 * (i + 1) * nm;
-      for (let m = 0; m < nm; m++) {
-        // the DC and Nyquist bins of a real trace are real
-        const edge = m === 0 || m === nw - 1;
-        const ar = ht[oa + 2 * m] as number;
-        const ai = edge ? 0 : (ht[oa + 2 * m + 1] as number);
-        const br = pair ? (ht[ob + 2 * m] as number) : 0;
-        const bi = !pair || edge ? 0 : (ht[ob + 2 * m + 1] as number);
-        full[2 * m] = ar - bi;
-        full[2 * m + 1] = ai + br;
-        if (!edge) {
-          // bin nt - m: conj(A) + i conj(B)
-          full[2 * (nt - m)] = ar + bi;
-          full[2 * (nt - m) + 1] = -ai + br;
-        }
-      }
+      packTracePair(ht, oa, pair ? ob : -1, 0, nm - 1, nw, nt, full);
       ft.inverseTransform(back, full);
       const o = i * nSamples;
       for (let k = k0; k <= k1; k++) acc[o + k] = (acc[o + k] as number) + (b[k] as number) * (back[2 * k] as number);
