@@ -52,6 +52,20 @@ describe('target export of a processed US-survey-foot site (carpark-ft)', () => 
   });
 
   // issue 12: targets are the subsurface anomalies classed utility or structure that are not echoes of another
+  it("report.html's plan map has one symbol per target, and its scale bar is the CRS distance it claims (issue 14)", async () => {
+    const html = await readFile(join(out, 'report.html'), 'utf8');
+    const fc = await json<FeatureCollection>(join(out, 'targets.geojson'));
+    const map = /<svg xmlns="http:\/\/www.w3.org\/2000\/svg" class="plan-map"[\s\S]*?<\/svg>/.exec(html)![0];
+    const ids = [...map.matchAll(/class="target" data-id="([^"]+)"/g)].map((m) => m[1]).sort();
+    expect(ids).toEqual(fc.features.map((f) => String((f.properties as { id: string }).id)).sort());
+    // the bar's drawn length over the map scale is its stated length in US survey feet, and its metres are
+    // feet x 1200/3937 (NIST SP 811)
+    const scale = Number(/data-mm-per-unit="([^"]+)"/.exec(map)![1]);
+    const bar = /<g class="scale-bar" data-length="([^"]+)" data-length-m="([^"]+)">[\s\S]*?<line x1="([^"]+)" y1="[^"]+" x2="([^"]+)"/.exec(map)!;
+    expect((Number(bar[4]) - Number(bar[3])) / scale).toBeCloseTo(Number(bar[1]), 1);
+    expect(Number(bar[2])).toBeCloseTo(Number(bar[1]) * (1200 / 3937), 6);
+  });
+
   it('targets are the subsurface utilities and structures, and cover buried utilities as well as those anomalies do', async () => {
     const anomalies = await json<FeatureCollection>(join(out, 'anomalies.geojson'));
     const targets = await json<FeatureCollection>(join(out, 'targets.geojson'));
