@@ -93,6 +93,8 @@ export const forecastPropertiesSchema = z.object({
   source: z.string().optional(),
   radiusM: num.optional(),
   bandHalfWidthM: num.optional(),
+  /** Height of an overhead reflector above the ground, m. */
+  heightM: num.optional(),
 });
 export type ForecastProperties = z.infer<typeof forecastPropertiesSchema>;
 export const forecastSchema = featureCollectionOf(featureOf(forecastPropertiesSchema));

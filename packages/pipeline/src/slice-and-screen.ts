@@ -5,6 +5,7 @@ import { nearSurfaceDepthM, type VelocityReport } from '@lamina/velocity';
 import { DiskStack, SpillGridder, writeSlicesFromDisk, type PointSpill, type SliceWindow } from '@lamina/slices';
 import type { Recipe } from '@lamina/processing';
 import { CAUTION } from '@lamina/constants';
+import type { InterfaceProperties } from '@lamina/contracts';
 import { airRadiusM, BandJoin, linesInRows, lineSpacingOfM, screenBands, screenSite, siteForecast, surveyedMask, type GeoJsonFeature, type Line } from '@lamina/screening';
 import { FeatureSpill } from './feature-spill';
 import { writeFeatureCollection } from './outputs';
@@ -215,7 +216,16 @@ function interfaceParts(f: GeoJsonFeature): GeoJsonFeature[] {
     const outline = m.outline as GeoJsonFeature['geometry'];
     const top = Number(m.topM), bottom = Number(m.bottomM);
     if (!outline) return [];
-    return [{ type: 'Feature' as const, geometry: outline, properties: { anomalyId: f.properties.id, slice: m.slice, depthTopM: top, depthBottomM: bottom, depthM: Math.round(((top + bottom) / 2) * 1e6) / 1e6, areaM2: m.areaM2, strengthDb: m.strengthDb ?? null } }];
+    const properties: InterfaceProperties = {
+      anomalyId: String(f.properties.id),
+      slice: Number(m.slice),
+      depthTopM: top,
+      depthBottomM: bottom,
+      depthM: Math.round(((top + bottom) / 2) * 1e6) / 1e6,
+      areaM2: Number(m.areaM2),
+      strengthDb: typeof m.strengthDb === 'number' ? m.strengthDb : null,
+    };
+    return [{ type: 'Feature' as const, geometry: outline, properties }];
   });
 }
 

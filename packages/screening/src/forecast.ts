@@ -1,4 +1,5 @@
 import { CAUTION } from '@lamina/constants';
+import type { ForecastProperties } from '@lamina/contracts';
 import { traceOutline } from '@lamina/anomalies';
 import type { PlanFeature } from '@lamina/site';
 import { cellCentreX, cellCentreY, type SliceGrid } from '@lamina/slices';
@@ -122,7 +123,7 @@ export function forecastLoci(plan: PlanFeature[], velocity: VelocityReport, line
           radiusM: radius,
           bandHalfWidthM: half,
           ...(r.heightM !== undefined ? { heightM: r.heightM } : {}),
-        },
+        } satisfies ForecastProperties,
       });
     }
   }
