@@ -36,16 +36,23 @@ export function summariseLine(line: RadarLine, file: string, metresPerUnit: numb
   return { id: line.id, file, traces: line.nTraces, samples: line.nSamples, dtNs: line.dtNs, lengthM: len * metresPerUnit, x, y };
 }
 
-export function linesGeoJson(lines: LineSummary[], toWgs84: ToWgs84): object {
-  return {
-    type: 'FeatureCollection',
-    features: lines.map((l) => ({
-      type: 'Feature',
-      id: l.id,
-      properties: { id: l.id, file: l.file, traces: l.traces, lengthM: round(l.lengthM, 3) } satisfies LineProperties,
-      geometry: { type: 'LineString', coordinates: l.x.map((x, i) => toWgs84(x, l.y[i]!).map((v) => round(v, 8))) },
-    })),
-  };
+/**
+ * lines.geojson as a FeatureCollection whose features are made one at a time (for
+ * `writeFeatureCollection`: a feature per line of the file, so readers can stream it and no text of the
+ * whole survey's positions is ever built).
+ */
+export function linesGeoJson(lines: LineSummary[], toWgs84: ToWgs84): { type: 'FeatureCollection'; features: Iterable<object> } {
+  function* features(): Generator<object> {
+    for (const l of lines) {
+      yield {
+        type: 'Feature',
+        id: l.id,
+        properties: { id: l.id, file: l.file, traces: l.traces, lengthM: round(l.lengthM, 3) } satisfies LineProperties,
+        geometry: { type: 'LineString', coordinates: Array.from(l.x, (x, i) => toWgs84(x, l.y[i]!).map((v) => round(v, 8))) },
+      };
+    }
+  }
+  return { type: 'FeatureCollection', features: features() };
 }
 
 export function planGeoJson(plan: PlanFeature[]): object {

@@ -11,7 +11,7 @@ import { exportTargets, matchDecisions, readReview, writeReview, type Review } f
 import { createPool, defaultThreads, type Pool } from '@lamina/runtime-files';
 import { removeLineSpills } from './line-spill';
 import { pass1, pass2, pass2Steps, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
-import { extents, linesGeoJson, planGeoJson, siteSummary, writeChunks, writeRadargramIndex } from './outputs';
+import { extents, linesGeoJson, planGeoJson, siteSummary, writeChunks, writeFeatureCollection, writeRadargramIndex } from './outputs';
 import { sliceAndScreen, type Anchored, type Screening } from './slice-and-screen';
 import { addParts, StageTimer, type ProcessTimings } from './timings';
 import { preflight } from './preflight';
@@ -269,7 +269,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     }
 
     const outputsDone = timer.start('outputs: run.json, lines, radargrams, review');
-    await writeJson(stage.path, 'lines.geojson', linesGeoJson(summaries, toWgs84));
+    await writeFeatureCollection(join(stage.path, 'lines.geojson'), linesGeoJson(summaries, toWgs84));
     await writeJson(stage.path, 'plan.geojson', planGeoJson(site.plan));
     await writeRadargramIndex(stage.path, p1.map((r) => r.radargramEntry));
     const identity = { name: site.name, crs: site.crs.input, extent: ext.wgs84 };

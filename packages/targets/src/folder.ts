@@ -133,6 +133,27 @@ async function* featureLines(file: string): AsyncGenerator<{ head: Record<string
   return head && ended;
 }
 
+/**
+ * The features of a GeoJSON FeatureCollection one at a time: streamed when the file is laid out a feature
+ * per line (as the pipeline writes lines.geojson and anomalies.geojson), read whole otherwise; nothing for
+ * a missing file. Unchecked: for drawing, not for the contract.
+ */
+export async function* streamFeatures(file: string): AsyncGenerator<unknown, void> {
+  let streamed = 0;
+  const scan = featureLines(file);
+  let step = await scan.next();
+  for (; !step.done; step = await scan.next()) {
+    if ('feature' in step.value) {
+      streamed++;
+      yield step.value.feature;
+    }
+  }
+  if (step.value) return;
+  // another layout (or no file): whole, skipping what was already yielded
+  const j = await readJsonFile(file, { optional: true });
+  if (isObj(j) && Array.isArray(j.features)) yield* j.features.slice(streamed);
+}
+
 const featureSchema = anomaliesSchema.shape.features.element;
 
 /** Checks one feature of anomalies.geojson (index `i`; `ids` the ids before it) as readAnomalies does. */

@@ -6,7 +6,7 @@
  */
 import { join } from 'node:path';
 import { pointFromWgs84, pointToWgs84, type Crs } from '@lamina/site';
-import { readJsonFile } from './folder';
+import { streamFeatures } from './folder';
 import type { MapFrame, MapPlanFeature, Shape } from './plan-map';
 import type { Geometry } from './targets';
 import { isObj } from './text';
@@ -71,17 +71,15 @@ export interface MapBackground {
 /** lines.geojson and plan.geojson of the folder in the site CRS (either may be missing). */
 export async function readMapBackground(outDir: string, crs: Crs): Promise<MapBackground> {
   const to = fromWgs84(crs);
-  const features = async (name: string) => {
-    const j = await readJsonFile(join(outDir, name), { optional: true });
-    return isObj(j) && Array.isArray(j.features) ? j.features.filter(isObj) : [];
-  };
+  // a feature at a time: lines.geojson holds every trace position of the survey
   const lines: number[][][] = [];
-  for (const f of await features('lines.geojson')) {
-    const s = shapeOf(f.geometry, to);
+  for await (const f of streamFeatures(join(outDir, 'lines.geojson'))) {
+    const s = isObj(f) ? shapeOf(f.geometry, to) : null;
     if (s?.type === 'line') lines.push(s.path);
   }
   const plan: MapPlanFeature[] = [];
-  for (const f of await features('plan.geojson')) {
+  for await (const f of streamFeatures(join(outDir, 'plan.geojson'))) {
+    if (!isObj(f)) continue;
     const p = isObj(f.properties) ? f.properties : {};
     const s = shapeOf(f.geometry, to);
     if (s) plan.push({ id: String(p.id ?? f.id ?? ''), kind: String(p.kind ?? 'other'), shape: s });
