@@ -109,7 +109,8 @@ export async function readRun(outDir: string): Promise<RunInfo> {
  * JSON line by line, or is missing. The file's text is never held whole.
  */
 async function* featureLines(file: string): AsyncGenerator<{ head: Record<string, unknown> } | { feature: unknown }, boolean> {
-  const lines = createInterface({ input: createReadStream(file, { encoding: 'utf8' }), crlfDelay: Infinity });
+  const input = createReadStream(file, { encoding: 'utf8' });
+  const lines = createInterface({ input, crlfDelay: Infinity });
   let head = false;
   let ended = false;
   try {
@@ -128,7 +129,10 @@ async function* featureLines(file: string): AsyncGenerator<{ head: Record<string
   } catch {
     return false;
   } finally {
+    // closing readline leaves its input open: destroy it, or an early return keeps the file open (a
+    // mounted output folder then cannot be unmounted)
     lines.close();
+    input.destroy();
   }
   return head && ended;
 }
