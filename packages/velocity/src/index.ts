@@ -28,6 +28,7 @@ export { detectHyperbolas, type DetectOptions, type DetectedHyperbola } from './
 export {
   ABOVE_GROUND_MAX_PERMITTIVITY,
   MAX_SOIL_PERMITTIVITY,
+  MIN_SOIL_PERMITTIVITY,
   classifyVelocity,
   objectGroups,
   usableForSite,
