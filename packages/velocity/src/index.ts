@@ -34,7 +34,6 @@ export {
   usableForSite,
   robustCentre,
   siteVelocityModel,
-  radiusAware,
   siteVelocityOf,
   type SiteModelOptions,
 } from './site-model';

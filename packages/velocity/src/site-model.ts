@@ -146,7 +146,7 @@ export function siteVelocityOf(f: HyperbolaFit): number {
  * at z1 = v1 t1 / 2.
  */
 export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOptions = {}): Pick<VelocityReport, 'site' | 'model'> {
-  const usable = radiusAware(fits.filter(usableForSite), options.metresPerUnit ?? 1);
+  const usable = fits.filter(usableForSite);
   const vOf = (f: HyperbolaFit) => (options.unresolvedVelocity === 'point' ? f.velocityMPerNs : siteVelocityOf(f));
   const plainMedian = usable.length > 0 ? medianHigh(usable.map(vOf)) : 0.1;
   const floor = (options.uncertaintyFloor ?? 0.02) * plainMedian;
@@ -180,22 +180,6 @@ export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOption
   if (options.layered === false) return { site, model: constant };
   const layered = twoLayer(usable, vOf, weightOf, (f) => objectOf.get(f)!, options, bottom);
   return { site, model: layered ?? constant };
-}
-
-/**
- * The fits of each object (`objectGroups`) that carry its velocity: where some of an object's fits
- * resolve its radius, only those. The object then has a radius the data show, and its point fits on
- * the other lines (flanks too short to resolve it) read the soil fast by about sqrt(zc / (zc - R)),
- * a bias of one sign. Objects with no resolved fit keep all their fits; fits without `radiusResolved`
- * (manual picks, older files) count as resolved.
- */
-export function radiusAware(usable: HyperbolaFit[], metresPerUnit = 1): HyperbolaFit[] {
-  const { group, sizes } = objectGroups(usable, { metresPerUnit });
-  const resolved = new Uint8Array(sizes.length);
-  usable.forEach((f, i) => {
-    if (f.radiusResolved !== false) resolved[group[i]!] = 1;
-  });
-  return usable.filter((f, i) => f.radiusResolved !== false || !resolved[group[i]!]);
 }
 
 function moisture(k: number, assumed: boolean): { moisture?: VelocityReport['site']['moisture'] } {
