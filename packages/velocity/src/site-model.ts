@@ -60,8 +60,9 @@ export function objectGroups(
     for (let j = i + 1; j < n; j++) {
       const b = fits[j]!;
       // Fits that `correctObliqueCrossings` put on one straight strike are one linear object, however far
-      // apart their apexes lie (a pipe crossing the lines at 30 degrees moves its apex 1 m per 0.5 m line).
-      const strike = a.crossing !== undefined && a.crossing.feature === b.crossing?.feature;
+      // apart their apexes lie (a pipe crossing the lines at 30 degrees moves its apex 1 m per 0.5 m line;
+      // one crossing lines 2.5 m apart at right angles, 2.5 m per line).
+      const strike = a.strike !== undefined && a.strike === b.strike;
       if (!strike) {
         if (Math.hypot(a.x - b.x, a.y - b.y) * mpu > link) continue;
         if (!close(a.t0Ns, b.t0Ns, tol)) continue;
@@ -281,16 +282,25 @@ interface LayerSplit {
  * the objects allows. Dix's inversion amplifies the error of the deep RMS velocity by t2 / (t2 - t1): a
  * deep group a few percent slower than the shallow one (one big pipe's resolved fits, the radius bias
  * of point fits) turns into an interval of half the velocity, which BIC alone, with the fits' formal
- * errors, accepts. The scatter s is the objects' own (1.4826 x the weighted median absolute residual of
- * the split, at least `systematic` x v1); each group's velocity then has the standard error of a median,
+ * errors, accepts. The scatter s is the objects' own (1.4826 x the median absolute residual of the
+ * objects, each the weighted mean of its fits', at least `systematic` x v1); each group's velocity then has the standard error of a median,
  * 1.2533 s / sqrt(objects); propagated through v_int^2 = (vr2^2 t2 - v1^2 t1) / (t2 - t1) at the deep
  * group's median time t2, the two layers must differ by more than 3 of their combined standard errors
  * (about 0.3 % false layers in Gaussian scatter).
  */
 function significantLayer(all: { v: number; t: number; w: number; o: number }[], split: LayerSplit, systematic: number): boolean {
   const { v1, vInt, t1 } = split;
-  const residual = all.map((e) => Math.abs(e.v - (e.t <= t1 ? v1 : Math.sqrt((v1 * v1 * t1 + vInt * vInt * (e.t - t1)) / e.t))));
-  const s = Math.max(1.4826 * weightedMedian(residual, all.map((e) => e.w)), systematic * v1);
+  // Each object's residual is the weighted mean of its fits' (one object, one sample of the soil).
+  const sum = new Map<number, { r: number; w: number }>();
+  for (const e of all) {
+    const r = e.v - (e.t <= t1 ? v1 : Math.sqrt((v1 * v1 * t1 + vInt * vInt * (e.t - t1)) / e.t));
+    const o = sum.get(e.o) ?? { r: 0, w: 0 };
+    o.r += e.w * r;
+    o.w += e.w;
+    sum.set(e.o, o);
+  }
+  const residual = [...sum.values()].map((o) => Math.abs(o.r / o.w));
+  const s = Math.max(1.4826 * medianHigh(residual), systematic * v1);
   const deepObjects = new Set(all.filter((e) => e.t > t1).map((e) => e.o)).size;
   const t2 = weightedMedian(
     split.deep.map((e) => e.t),

@@ -99,7 +99,7 @@ describe('siteVelocityModel', () => {
     // correctObliqueCrossings says they are one object.
     const v = 0.1;
     const crossing = { feature: 'linear-1', angleDeg: 25, apparentVelocityMPerNs: v / Math.sin((25 * Math.PI) / 180), apparentDepthM: 1, lines: 8 };
-    const pipe = Array.from({ length: 8 }, (_, i) => fit(v, 0.8 + 0.06 * i, 0.002, { x: 2.2 * i, y: 0.5 * i, crossing }));
+    const pipe = Array.from({ length: 8 }, (_, i) => fit(v, 0.8 + 0.06 * i, 0.002, { x: 2.2 * i, y: 0.5 * i, strike: 'linear-1', crossing }));
     const stones = [0, 1, 2].map((i) => fit(v, 0.5, 0.002, { x: 40 + 5 * i, y: 30 }));
     expect(siteVelocityModel([...pipe, ...stones], { layered: false }).site.objectCount).toBe(4);
   });
