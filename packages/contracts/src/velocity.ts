@@ -35,6 +35,7 @@ export const hyperbolaSchema = z.object({
   t0UncertaintyNs: maybe.optional(),
   rmsNs: maybe.optional(),
   inliers: num.optional(),
+  strike: z.string().optional(),
   crossing: z
     .object({ feature: z.string(), angleDeg: num, apparentVelocityMPerNs: num, apparentDepthM: num, apparentRadiusM: num.optional(), lines: num })
     .optional(),

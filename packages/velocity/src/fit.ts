@@ -113,6 +113,21 @@ function specularPath(dx: number, zc: number, R: number, h: number, grad: Float6
     }
     sin = Math.sin(phi);
     cos = Math.cos(phi);
+  } else if (grad) {
+    // A point has no specular point, but dL/dR at R = 0+ does: the circle first grows along the
+    // bisector of the directions to the two antennas. Taking the top of the circle instead made dL/dR
+    // equal -dL/dzc on every trace, so the radius column of the Jacobian vanished at the bound: a fit
+    // that ended at R = 0 had a singular covariance and kept the point fit's velocity uncertainty,
+    // which leaves out the R-v trade-off.
+    const e1x = dx + h;
+    const e2x = dx - h;
+    const n1 = Math.hypot(e1x, zc) || 1;
+    const n2 = Math.hypot(e2x, zc) || 1;
+    const bx = e1x / n1 + e2x / n2;
+    const bz = zc / n1 + zc / n2;
+    const nb = Math.hypot(bx, bz) || 1;
+    sin = bx / nb;
+    cos = bz / nb;
   }
   const px = R * sin - dx;
   const pz = zc - R * cos;
@@ -215,9 +230,9 @@ export function fitHyperbola(offsetM: ArrayLike<number>, timeNs: ArrayLike<numbe
     const cost = weightedCost(x, t, res.w, res.p, s) / Math.max(sumOf(res.w), 1e-300);
     if (!best || cost < best.cost) best = { ...res, cost };
   }
-  if (!best) return pointFit;
+  if (!best) return withTradeOff(pointFit, x, t, point.w, point.p, s);
   const radial = summarise(x, t, best.w, best.p, s, 4);
-  if (!radial) return pointFit;
+  if (!radial) return withTradeOff(pointFit, x, t, point.w, point.p, s);
   const k = options.radiusSignificance ?? 3;
   // Nested models, same weights: the radius must also lower the misfit by more than one extra
   // parameter explains (F(1, n - 4) test at 99 %; 6.63 is its large-n limit, chi-square(1)).
@@ -232,6 +247,18 @@ export function fitHyperbola(offsetM: ArrayLike<number>, timeNs: ArrayLike<numbe
   if (radial.radiusM > 0 && Number.isFinite(radial.sigmaRadiusM) && radial.radiusM > k * radial.sigmaRadiusM * Math.sqrt(kappa) && f / kappa > F_99) return radial;
   const free = Number.isFinite(radial.sigmaVelocity) ? Math.max(radial.sigmaVelocity, pointFit.sigmaVelocity) : pointFit.sigmaVelocity;
   return { ...pointFit, sigmaRadiusM: radial.sigmaRadiusM, sigmaVelocityRadiusFree: free, velocityRadiusFree: Number.isFinite(radial.sigmaVelocity) ? radial.velocityMPerNs : pointFit.velocityMPerNs };
+}
+
+/**
+ * A point fit whose radius fit failed (no LM solution from either start) still has the R-v trade-off:
+ * its velocity uncertainty is taken from the four-parameter covariance at R = 0 (the curvature of the
+ * misfit at the bound), not from the point fit alone, which states the fast end of the valley as if it
+ * were known to a fraction of a percent and so outweighed the fits that did test a radius.
+ */
+function withTradeOff(pointFit: PointFit, x: Float64Array, t: Float64Array, w: Float64Array, p: Params, s: number): PointFit {
+  const atBound = summarise(x, t, w, Float64Array.of(p[0]!, p[1]!, p[2]!, 0), s, 4);
+  if (!atBound || !Number.isFinite(atBound.sigmaVelocity)) return pointFit;
+  return { ...pointFit, sigmaRadiusM: atBound.sigmaRadiusM, sigmaVelocityRadiusFree: Math.max(atBound.sigmaVelocity, pointFit.sigmaVelocity) };
 }
 
 /** (1 + rho) / (1 - rho), rho the lag-one autocorrelation of the weighted residuals in offset order (1 if rho <= 0). */

@@ -28,12 +28,12 @@ export { detectHyperbolas, type DetectOptions, type DetectedHyperbola } from './
 export {
   ABOVE_GROUND_MAX_PERMITTIVITY,
   MAX_SOIL_PERMITTIVITY,
+  MIN_SOIL_PERMITTIVITY,
   classifyVelocity,
   objectGroups,
   usableForSite,
   robustCentre,
   siteVelocityModel,
-  radiusAware,
   siteVelocityOf,
   type SiteModelOptions,
 } from './site-model';

@@ -108,7 +108,11 @@ export function correctObliqueCrossings(fits: HyperbolaFit[], directions: Record
       const d = directions[f.line];
       if (!d) continue;
       const sinB = Math.abs(sx * d[1] - sy * d[0]);
-      if (!(sinB < sinMax) || !(sinB > 0.05)) continue;
+      // On the strike either way: the site model counts a strike's fits as one object.
+      if (!(sinB < sinMax) || !(sinB > 0.05)) {
+        out[i] = { ...f, strike: `linear-${feature}` };
+        continue;
+      }
       const cosB = Math.sqrt(Math.max(0, 1 - sinB * sinB));
       const v = f.velocityMPerNs * sinB;
       const sigma = Math.hypot(f.uncertaintyMPerNs * sinB, f.velocityMPerNs * cosB * sigmaTheta);
@@ -125,6 +129,7 @@ export function correctObliqueCrossings(fits: HyperbolaFit[], directions: Record
         ...(f.radiusUncertaintyM !== undefined ? { radiusUncertaintyM: f.radiusUncertaintyM * sinB } : {}),
         uncertaintyMPerNs: sigma,
         origin,
+        strike: `linear-${feature}`,
         crossing: {
           feature: `linear-${feature}`,
           angleDeg: (Math.asin(sinB) * 180) / Math.PI,

@@ -12,6 +12,12 @@ export const ABOVE_GROUND_MAX_PERMITTIVITY = 2;
  */
 export const MAX_SOIL_PERMITTIVITY = 40;
 
+/**
+ * The driest soils of the Davis & Annan (1989) table (dry sand, K 3-5; from memory): a layer of a
+ * two-layer model slower than this is not soil but an artefact of the Dix inversion. @default 3
+ */
+export const MIN_SOIL_PERMITTIVITY = 3;
+
 /** Origin and flags of a fit from its velocity. */
 export function classifyVelocity(
   velocityMPerNs: number,
@@ -53,8 +59,14 @@ export function objectGroups(
     const a = fits[i]!;
     for (let j = i + 1; j < n; j++) {
       const b = fits[j]!;
-      if (Math.hypot(a.x - b.x, a.y - b.y) * mpu > link) continue;
-      if (!close(a.t0Ns, b.t0Ns, tol)) continue;
+      // Fits that `correctObliqueCrossings` put on one straight strike are one linear object, however far
+      // apart their apexes lie (a pipe crossing the lines at 30 degrees moves its apex 1 m per 0.5 m line;
+      // one crossing lines 2.5 m apart at right angles, 2.5 m per line).
+      const strike = a.strike !== undefined && a.strike === b.strike;
+      if (!strike) {
+        if (Math.hypot(a.x - b.x, a.y - b.y) * mpu > link) continue;
+        if (!close(a.t0Ns, b.t0Ns, tol)) continue;
+      }
       const ra = root(i);
       const rb = root(j);
       if (ra !== rb) parent[ra] = rb;
@@ -135,7 +147,7 @@ export function siteVelocityOf(f: HyperbolaFit): number {
  * at z1 = v1 t1 / 2.
  */
 export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOptions = {}): Pick<VelocityReport, 'site' | 'model'> {
-  const usable = radiusAware(fits.filter(usableForSite), options.metresPerUnit ?? 1);
+  const usable = fits.filter(usableForSite);
   const vOf = (f: HyperbolaFit) => (options.unresolvedVelocity === 'point' ? f.velocityMPerNs : siteVelocityOf(f));
   const plainMedian = usable.length > 0 ? medianHigh(usable.map(vOf)) : 0.1;
   const floor = (options.uncertaintyFloor ?? 0.02) * plainMedian;
@@ -171,22 +183,6 @@ export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOption
   return { site, model: layered ?? constant };
 }
 
-/**
- * The fits of each object (`objectGroups`) that carry its velocity: where some of an object's fits
- * resolve its radius, only those. The object then has a radius the data show, and its point fits on
- * the other lines (flanks too short to resolve it) read the soil fast by about sqrt(zc / (zc - R)),
- * a bias of one sign. Objects with no resolved fit keep all their fits; fits without `radiusResolved`
- * (manual picks, older files) count as resolved.
- */
-export function radiusAware(usable: HyperbolaFit[], metresPerUnit = 1): HyperbolaFit[] {
-  const { group, sizes } = objectGroups(usable, { metresPerUnit });
-  const resolved = new Uint8Array(sizes.length);
-  usable.forEach((f, i) => {
-    if (f.radiusResolved !== false) resolved[group[i]!] = 1;
-  });
-  return usable.filter((f, i) => f.radiusResolved !== false || !resolved[group[i]!]);
-}
-
 function moisture(k: number, assumed: boolean): { moisture?: VelocityReport['site']['moisture'] } {
   if (assumed) return {};
   return { moisture: { volumetricWaterContent: toppMoisture(k), method: TOPP_METHOD, caution: TOPP_CAUTION } };
@@ -219,7 +215,7 @@ function twoLayer(
   for (const e of all) rss0 += e.w * (e.v - v0) ** 2;
   const bic = (rss: number, k: number) => objects * Math.log(Math.max(rss / sw, 1e-300)) + k * Math.log(objects);
   const bic0 = bic(rss0, 1);
-  let best: { bic: number; v1: number; vInt: number; t1: number } | null = null;
+  let best: LayerSplit | null = null;
   for (let k = 1; k < all.length; k++) {
     if (all[k]!.t === all[k - 1]!.t) continue;
     const shallow = all.slice(0, k);
@@ -255,10 +251,13 @@ function twoLayer(
     for (const e of shallow) rss += e.w * (e.v - v1) ** 2;
     for (const e of deep) rss += e.w * (e.v - Math.sqrt((v1 * v1 * t1 + v22 * (e.t - t1)) / e.t)) ** 2;
     const score = bic(rss, 3);
-    if (!best || score < best.bic) best = { bic: score, v1, vInt, t1 };
+    if (!best || score < best.bic) best = { bic: score, v1, vInt, t1, shallowObjects: new Set(shallow.map((e) => e.o)).size, deep: deep.map((e) => ({ v: e.v, t: e.t, w: e.w })) };
   }
   if (!best || !(best.bic < bic0)) return null;
   const { v1, vInt, t1 } = best;
+  const kInt = permittivityFromVelocity(vInt);
+  if (kInt < MIN_SOIL_PERMITTIVITY || kInt > MAX_SOIL_PERMITTIVITY) return null;
+  if (!significantLayer(all, best, systematic)) return null;
   const z1 = (v1 * t1) / 2;
   return {
     kind: 'layered',
@@ -267,4 +266,51 @@ function twoLayer(
       { topM: z1, bottomM: Math.max(bottom, z1), velocityMPerNs: vInt, permittivity: permittivityFromVelocity(vInt) },
     ],
   };
+}
+
+interface LayerSplit {
+  bic: number;
+  v1: number;
+  vInt: number;
+  t1: number;
+  shallowObjects: number;
+  deep: { v: number; t: number; w: number }[];
+}
+
+/**
+ * Whether the interval velocity of a split differs from the first layer's beyond what the scatter of
+ * the objects allows. Dix's inversion amplifies the error of the deep RMS velocity by t2 / (t2 - t1): a
+ * deep group a few percent slower than the shallow one (one big pipe's resolved fits, the radius bias
+ * of point fits) turns into an interval of half the velocity, which BIC alone, with the fits' formal
+ * errors, accepts. The scatter s is the objects' own (1.4826 x the median absolute residual of the
+ * objects, each the weighted mean of its fits', at least `systematic` x v1); each group's velocity then has the standard error of a median,
+ * 1.2533 s / sqrt(objects); propagated through v_int^2 = (vr2^2 t2 - v1^2 t1) / (t2 - t1) at the deep
+ * group's median time t2, the two layers must differ by more than 3 of their combined standard errors
+ * (about 0.3 % false layers in Gaussian scatter).
+ */
+function significantLayer(all: { v: number; t: number; w: number; o: number }[], split: LayerSplit, systematic: number): boolean {
+  const { v1, vInt, t1 } = split;
+  // Each object's residual is the weighted mean of its fits' (one object, one sample of the soil).
+  const sum = new Map<number, { r: number; w: number }>();
+  for (const e of all) {
+    const r = e.v - (e.t <= t1 ? v1 : Math.sqrt((v1 * v1 * t1 + vInt * vInt * (e.t - t1)) / e.t));
+    const o = sum.get(e.o) ?? { r: 0, w: 0 };
+    o.r += e.w * r;
+    o.w += e.w;
+    sum.set(e.o, o);
+  }
+  const residual = [...sum.values()].map((o) => Math.abs(o.r / o.w));
+  const s = Math.max(1.4826 * medianHigh(residual), systematic * v1);
+  const deepObjects = new Set(all.filter((e) => e.t > t1).map((e) => e.o)).size;
+  const t2 = weightedMedian(
+    split.deep.map((e) => e.t),
+    split.deep.map(() => 1),
+  );
+  const vr2 = Math.sqrt((v1 * v1 * t1 + vInt * vInt * (t2 - t1)) / t2);
+  const se1 = (1.2533 * s) / Math.sqrt(split.shallowObjects);
+  const se2 = (1.2533 * s) / Math.sqrt(deepObjects);
+  const dt = t2 - t1;
+  const seInt2 = Math.hypot(((2 * vr2 * t2) / dt) * se2, ((2 * v1 * t1) / dt) * se1);
+  const seInt = seInt2 / (2 * vInt);
+  return Math.abs(vInt - v1) > 3 * Math.hypot(seInt, se1);
 }

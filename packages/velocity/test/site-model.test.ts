@@ -76,26 +76,59 @@ describe('siteVelocityModel', () => {
     expect(model.layers[1]!.topM).toBe(model.layers[0]!.bottomM);
   });
 
-  it("takes a pipe's velocity from the lines that resolve its radius, not from its point fits", () => {
-    // A 0.3 m pipe (axis 1.5 m) seen on 8 lines 0.5 m apart: 3 lines resolve R, 5 give point fits
-    // reading v fast by sqrt(zc / (zc - R)) = sqrt(1.5 / 1.2) (the bias of a point fit of a cylinder,
-    // packages/velocity README). Four small stones elsewhere read v itself.
+  it('keeps a uniform soil uniform when objects scatter by their own biases (false layers in at most 1 of 20 sites)', () => {
+    // Uniform v 0.106 m/ns; 16 objects at 0.3-1.6 m, each read 4 % off at random (radius bias, oblique
+    // crossings, time-zero: the scatter of real fits), 1 % formal errors. Dix's inversion turns a deep
+    // group a few percent slow into an interval of half the velocity; BIC on the formal errors alone
+    // took such splits.
+    const v = 0.106;
+    let layered = 0;
+    for (let seed = 1; seed <= 20; seed++) {
+      const g = gauss(rng(100 + seed));
+      const fits = Array.from({ length: 16 }, (_, i) => fit(v * (1 + 0.04 * g()), 0.3 + (1.3 * i) / 15, 0.001, { x: 3 * i }));
+      const { model, site } = siteVelocityModel(fits);
+      if (model.kind === 'layered') layered++;
+      expect(Math.abs(site.velocityMPerNs / v - 1)).toBeLessThan(0.04);
+    }
+    expect(layered).toBeLessThanOrEqual(1);
+  });
+
+  it('counts the fits of one straight strike (an oblique pipe) as one object however far apart their apexes', () => {
+    // A pipe at 25 degrees to the lines moves its apex about 1.1 m per 0.5 m line: single linkage at
+    // 1.5 m with a 10 % time window joins neighbours only by chance; the strike found by
+    // correctObliqueCrossings says they are one object.
+    const v = 0.1;
+    const crossing = { feature: 'linear-1', angleDeg: 25, apparentVelocityMPerNs: v / Math.sin((25 * Math.PI) / 180), apparentDepthM: 1, lines: 8 };
+    const pipe = Array.from({ length: 8 }, (_, i) => fit(v, 0.8 + 0.06 * i, 0.002, { x: 2.2 * i, y: 0.5 * i, strike: 'linear-1', crossing }));
+    const stones = [0, 1, 2].map((i) => fit(v, 0.5, 0.002, { x: 40 + 5 * i, y: 30 }));
+    expect(siteVelocityModel([...pipe, ...stones], { layered: false }).site.objectCount).toBe(4);
+  });
+
+  it("combines a pipe's resolved fits with its unresolved ones at their radius-free velocities", () => {
+    // A 0.3 m pipe (axis 1.5 m) seen on 8 lines: 3 resolve R; 5 give point fits reading v fast by
+    // sqrt(zc / (zc - R)) = sqrt(1.5 / 1.2) (packages/velocity README), whose radius-free fits scatter
+    // about v with the wide uncertainty of the R-v trade-off. Four small stones elsewhere read v itself.
     const v = 0.08;
     const biased = v * Math.sqrt(1.5 / 1.2);
+    const g = gauss(rng(5));
     const fits: HyperbolaFit[] = [];
     for (let i = 0; i < 8; i++) {
       const resolved = i % 3 === 0;
-      fits.push(fit(resolved ? v : biased, 1.2, 0.002, { x: 0.5 * i, y: 0, t0Ns: (2 * 1.2) / v, radiusResolved: resolved, radiusM: resolved ? 0.3 : 0 }));
+      fits.push(
+        resolved
+          ? fit(v * (1 + 0.01 * g()), 1.2, 0.002, { x: 0.5 * i, y: 0, t0Ns: (2 * 1.2) / v, radiusResolved: true, radiusM: 0.3 })
+          : fit(biased, 1.2, 0.008, { x: 0.5 * i, y: 0, t0Ns: (2 * 1.2) / v, radiusResolved: false, radiusM: 0, radiusFreeVelocityMPerNs: v * (1 + 0.06 * g()) }),
+      );
     }
-    for (let i = 0; i < 4; i++) fits.push(fit(v, 0.5 + 0.3 * i, 0.002, { x: 10 + 3 * i, y: 5, radiusResolved: false, radiusM: 0 }));
+    for (let i = 0; i < 4; i++) fits.push(fit(v * (1 + 0.01 * g()), 0.5 + 0.3 * i, 0.002, { x: 10 + 3 * i, y: 5, radiusResolved: false, radiusM: 0 }));
     const { site } = siteVelocityModel(fits, { layered: false });
-    expect(site.velocityMPerNs).toBeCloseTo(v, 6);
-    expect(site.fitCount).toBe(3 + 4);
+    expect(Math.abs(site.velocityMPerNs / v - 1)).toBeLessThan(0.02);
+    expect(site.fitCount).toBe(12);
     expect(site.objectCount).toBe(5);
-    // The pipe alone: its five point fits would outvote its three resolved ones.
-    const pipe = fits.slice(0, 8);
-    expect(siteVelocityModel(pipe, { layered: false }).site.velocityMPerNs).toBeCloseTo(v, 6);
-    expect(siteVelocityModel(pipe.map((f) => ({ ...f, radiusResolved: false })), { layered: false }).site.velocityMPerNs).toBeCloseTo(biased, 6);
+    // The pipe alone, and its unresolved fits alone: both read v within their scatter, not 12 % fast.
+    expect(Math.abs(siteVelocityModel(fits.slice(0, 8), { layered: false }).site.velocityMPerNs / v - 1)).toBeLessThan(0.02);
+    const unresolved = fits.slice(0, 8).filter((f) => f.radiusResolved === false);
+    expect(Math.abs(siteVelocityModel(unresolved, { layered: false }).site.velocityMPerNs / v - 1)).toBeLessThan(0.06);
   });
 
   it('takes an unresolved fit at its radius-free velocity, and weighs fits by relative uncertainty', () => {
