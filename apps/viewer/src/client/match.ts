@@ -1,0 +1,97 @@
+import { depthFromTime, hyperbolaTimes, permittivityFromVelocity } from '@lamina/velocity/physics';
+import { classifyVelocity } from '@lamina/velocity/site-model';
+
+/**
+ * A hyperbola matched by hand on a radargram: apex at `x0M` along the line and `t0Ns` (two-way time
+ * after time-zero), velocity and object radius. Drawn and read with the physics of @lamina/velocity
+ * (the same bistatic curve and air/soil verdict as the automatic fits).
+ */
+export interface HandMatch {
+  line: string;
+  x0M: number;
+  t0Ns: number;
+  velocityMPerNs: number;
+  radiusM: number;
+}
+
+/** Velocity range a drag may reach, m/ns: slower than any soil, faster than light (so v > c shows). */
+export const MATCH_V_MIN = 0.02;
+export const MATCH_V_MAX = 0.6;
+
+/** Two-way times of a match at along-line offsets `xM` from its apex. */
+export function matchTimes(m: HandMatch, xM: ArrayLike<number>, separationM: number, out?: Float64Array<ArrayBuffer>): Float64Array {
+  return hyperbolaTimes(xM, m.t0Ns, m.velocityMPerNs, separationM, out, m.radiusM);
+}
+
+/**
+ * Velocity of the curve with apex time `t0Ns` that passes through (`offsetM`, `timeNs`): the curve's
+ * time at a fixed offset falls as the velocity grows, so bisection on `hyperbolaTimes` finds it.
+ * Clamped to [MATCH_V_MIN, MATCH_V_MAX]; a point at or above the apex time gives the top of the range.
+ */
+export function velocityThrough(t0Ns: number, offsetM: number, timeNs: number, separationM: number, radiusM = 0): number {
+  const x = [Math.abs(offsetM)];
+  const t = (v: number) => hyperbolaTimes(x, t0Ns, v, separationM, undefined, radiusM)[0]!;
+  if (!(timeNs > t0Ns) || x[0] === 0) return MATCH_V_MAX;
+  let lo = MATCH_V_MIN;
+  let hi = MATCH_V_MAX;
+  if (t(lo) <= timeNs) return lo;
+  if (t(hi) >= timeNs) return hi;
+  for (let i = 0; i < 60; i++) {
+    const mid = Math.sqrt(lo * hi);
+    if (t(mid) > timeNs) lo = mid;
+    else hi = mid;
+  }
+  return Math.sqrt(lo * hi);
+}
+
+export interface MatchReadout {
+  velocityMPerNs: number;
+  permittivity: number;
+  /** Depth of the apex for this velocity (bistatic); for an air event, the distance it stands for. */
+  apexDepthM: number;
+  /** The automatic fits' verdict: above-ground (air-wave), subsurface or implausible. */
+  origin: 'subsurface' | 'above-ground' | 'implausible';
+  flags: string[];
+}
+
+export function matchReadout(m: HandMatch, separationM: number): MatchReadout {
+  const { origin, flags } = classifyVelocity(m.velocityMPerNs);
+  return {
+    velocityMPerNs: m.velocityMPerNs,
+    permittivity: permittivityFromVelocity(m.velocityMPerNs),
+    apexDepthM: depthFromTime({ layers: [{ topM: 0, bottomM: Infinity, velocityMPerNs: m.velocityMPerNs }] }, m.t0Ns, separationM),
+    origin,
+    flags,
+  };
+}
+
+/**
+ * Picks along a match for picks.json (the `lamina velocity --picks` format): `count` points evenly
+ * across the half-aperture `halfApertureM` each side of the apex, inside the line. `along` is the
+ * distance (m) of each stored trace from the line's first; `traceStep` maps them to the line's traces.
+ */
+export function matchPicks(m: HandMatch, along: ArrayLike<number>, traceStep: number, separationM: number, halfApertureM: number, count = 11): { trace: number; timeNs: number }[] {
+  const n = along.length;
+  const end = along[n - 1]!;
+  const a = Math.max(0, m.x0M - halfApertureM);
+  const b = Math.min(end, m.x0M + halfApertureM);
+  const xs = Array.from({ length: count }, (_, i) => a + ((b - a) * i) / (count - 1));
+  const ts = matchTimes(m, xs.map((x) => x - m.x0M), separationM);
+  return xs.map((x, i) => ({ trace: +(traceAt(along, x) * traceStep).toFixed(3), timeNs: +ts[i]!.toFixed(4) }));
+}
+
+/** Fractional index of the stored trace at distance `x` along the line (linear between traces). */
+export function traceAt(along: ArrayLike<number>, x: number): number {
+  const n = along.length;
+  if (x <= along[0]!) return 0;
+  if (x >= along[n - 1]!) return n - 1;
+  let lo = 0;
+  let hi = n - 1;
+  while (hi - lo > 1) {
+    const mid = (lo + hi) >> 1;
+    if (along[mid]! <= x) lo = mid;
+    else hi = mid;
+  }
+  const d = along[hi]! - along[lo]!;
+  return lo + (d > 0 ? (x - along[lo]!) / d : 0);
+}
