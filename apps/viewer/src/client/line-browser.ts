@@ -3,7 +3,7 @@ import { depthAtVerticalTimeNs, verticalTwoWayTimeNs, type LayerVelocities } fro
 import { getBytes, type Hyperbola, type RadargramLine } from './data';
 import type { Folder } from './folder';
 import type { MapView } from './map-view';
-import { matchPicks, matchReadout, matchTimes, traceAt, velocityThrough, type HandMatch, type MatchReadout } from './match';
+import { dataPicks, matchReadout, matchTimes, traceAt, velocityThrough, type HandMatch, type MatchReadout } from './match';
 import { h } from './panel';
 import { alongLine } from './radargram';
 import { $, FT, handle, report, state } from './state';
@@ -520,7 +520,10 @@ export function createLineBrowser(folder: Folder, view: MapView): LineBrowser {
   $('lb-save').addEventListener('click', () => void save().catch((e) => (msg.textContent = (e as Error).message)));
   const save = async () => {
     if (!line || !st.match) throw new Error('no match to save');
-    const picks = matchPicks(st.match, along, line.traceStep ?? 1, sep, Math.max(0.3, Math.abs(flankX ?? 1)));
+    // picks within a quarter period of the curve (half a period is the next lobe of the other polarity)
+    const windowNs = 250 / (run.site.antenna?.frequencyMHz ?? 100);
+    const picks = dataPicks(st.match, { data: data!, nTraces: line.nTraces, nSamples: line.nSamples, dtNs: line.dtNs, timeZeroNs: t0() }, along, line.traceStep ?? 1, sep, Math.max(0.3, Math.abs(flankX ?? 1)), windowNs);
+    if (picks.length < 5) throw new Error(`only ${picks.length} picks under the match: widen it (drag the handle further out)`);
     msg.textContent = 'saving ...';
     const r = await fetch('api/picks', { method: 'POST', headers: { 'Content-Type': 'application/json' }, body: JSON.stringify({ line: line.id, label: `matched in the viewer (${st.match.source})`, picks }) });
     const body = (await r.json()) as { error?: string; count?: number };

@@ -95,3 +95,51 @@ export function traceAt(along: ArrayLike<number>, x: number): number {
   const d = along[hi]! - along[lo]!;
   return lo + (d > 0 ? (x - along[lo]!) / d : 0);
 }
+
+/** A radargram as the picker reads it: trace-major samples, sample i at i * dtNs - timeZeroNs ns after time-zero. */
+export interface PickGrid {
+  data: Float32Array;
+  nTraces: number;
+  nSamples: number;
+  dtNs: number;
+  timeZeroNs: number;
+}
+
+/**
+ * Picks of the event under a match, for picks.json: on traces across `halfApertureM` each side of the
+ * apex (at most `maxPicks`, evenly spread), the time of the largest |amplitude| within `windowNs` of the
+ * curve, refined by a parabola through the peak and its neighbours. The match only guides: the times
+ * are the data's, so the fitter sees the event's own scatter (a curve's own samples would fit with no
+ * residual and claim a precision no data have).
+ */
+export function dataPicks(m: HandMatch, grid: PickGrid, along: ArrayLike<number>, traceStep: number, separationM: number, halfApertureM: number, windowNs: number, maxPicks = 41): { trace: number; timeNs: number }[] {
+  const { data, nTraces, nSamples, dtNs, timeZeroNs } = grid;
+  const a = Math.max(0, Math.ceil(traceAt(along, m.x0M - halfApertureM)));
+  const b = Math.min(nTraces - 1, Math.floor(traceAt(along, m.x0M + halfApertureM)));
+  const every = Math.max(1, Math.ceil((b - a + 1) / maxPicks));
+  const w = Math.max(1, Math.round(windowNs / dtNs));
+  const out: { trace: number; timeNs: number }[] = [];
+  const xs = [0];
+  for (let tr = a; tr <= b; tr += every) {
+    xs[0] = along[tr]! - m.x0M;
+    const t = matchTimes(m, xs, separationM)[0]!;
+    const c = Math.round((t + timeZeroNs) / dtNs);
+    let best = -1;
+    let bestA = -1;
+    for (let s = Math.max(1, c - w); s <= Math.min(nSamples - 2, c + w); s++) {
+      const v = Math.abs(data[tr * nSamples + s]!);
+      if (v > bestA) {
+        bestA = v;
+        best = s;
+      }
+    }
+    if (best < 0 || !(bestA > 0)) continue;
+    const y0 = Math.abs(data[tr * nSamples + best - 1]!);
+    const y2 = Math.abs(data[tr * nSamples + best + 1]!);
+    const den = y0 - 2 * bestA + y2;
+    const frac = den < 0 ? Math.max(-0.5, Math.min(0.5, (0.5 * (y0 - y2)) / den)) : 0;
+    const timeNs = (best + frac) * dtNs - timeZeroNs;
+    if (timeNs > 0) out.push({ trace: tr * traceStep, timeNs: +timeNs.toFixed(4) });
+  }
+  return out;
+}
