@@ -230,7 +230,8 @@ describe.runIf(existsSync(join(YARD, 'site.json')))('the viewer as a workbench, 
     expect(await savePicks()).toMatch(/\(2 match/);
     await b.page.evaluate(() => (document.getElementById('lb-msg')!.textContent = ''));
     await b.page.click('#lb-fit');
-    await b.page.waitForFunction(() => /fit|found|expected/i.test(document.getElementById('lb-msg')?.textContent ?? ''), null, { polling: 50 });
+    await b.page.waitForFunction(() => /automatic fit near|no hyperbola|expected|HTTP/i.test(document.getElementById('lb-msg')?.textContent ?? ''), null, { polling: 50 });
+    await shot(b, 'fit-here-water-main');
     const fit = (await b.page.evaluate(() => window.__lamina.line!.match))!;
     expect(fit.source).toBe('fit');
     expect(Math.abs(fit.permittivity - v.site.permittivity) / v.site.permittivity).toBeLessThan(0.1);

@@ -4,7 +4,7 @@ import type { MapView } from './map-view';
 import { h } from './panel';
 import type { SlicesView } from './slices-view';
 import { $, state } from './state';
-import { LAYER_GROUPS, ORIGIN_COLOURS, PLAN_COLOURS } from './style';
+import { LAYER_GROUPS, ORIGIN_COLOURS, PLAN_COLOURS, SELECTED_COLOUR } from './style';
 
 /**
  * The side bar's controls: depth (slider, buttons, keys), unit, colour map and clip, opacity, 3D and its
@@ -99,6 +99,7 @@ function legend(folder: Folder): void {
   $('legend').replaceChildren(
     sw(ORIGIN_COLOURS.subsurface, 'Anomaly: subsurface (stronger = more confident)'),
     sw(ORIGIN_COLOURS['above-ground'], 'Anomaly: above-ground reflection'),
+    sw(SELECTED_COLOUR, 'Anomaly selected in the queue'),
     sw(PLAN_COLOURS.forecast, 'Forecast air-wave locus at this depth', true),
     sw(PLAN_COLOURS.building, 'Building footprint (extruded by height in 3D)'),
     sw(PLAN_COLOURS.wall, 'Wall / post'),

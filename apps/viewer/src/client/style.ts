@@ -25,6 +25,9 @@ const kind = (k: string | string[]): ExpressionSpecification =>
 const isLine: ExpressionSpecification = ['in', ['geometry-type'], ['literal', ['LineString', 'MultiLineString']]];
 const isPoly: ExpressionSpecification = ['in', ['geometry-type'], ['literal', ['Polygon', 'MultiPolygon']]];
 const isPoint: ExpressionSpecification = ['in', ['geometry-type'], ['literal', ['Point', 'MultiPoint']]];
+/** The anomaly selected in the panel or the queue (maplibre feature state). */
+const selected: ExpressionSpecification = ['boolean', ['feature-state', 'selected'], false];
+export const SELECTED_COLOUR = '#ffb000';
 /** A target accepted in review (targets.geojson `decision`); every other target is a candidate. */
 const accepted: ExpressionSpecification = ['==', ['get', 'decision'], 'accepted'];
 
@@ -38,7 +41,7 @@ export function utilityColour(apwa: Record<string, { hex: string }>): Expression
 export function anomalyOpacity(topM: number, bottomM: number, base: number): ExpressionSpecification {
   const conf: ExpressionSpecification = ['max', 0.15, ['min', 1, ['to-number', ['coalesce', ['get', 'confidence'], 0.5]]]];
   const inDepth: ExpressionSpecification = ['all', ['<=', ['to-number', ['get', 'depthTopM']], bottomM], ['>=', ['to-number', ['get', 'depthBottomM']], topM]];
-  return ['case', inDepth, ['*', base, conf], base * 0.15];
+  return ['case', ['boolean', ['feature-state', 'selected'], false], 1, inDepth, ['*', base, conf], base * 0.15];
 }
 
 /** Forecast loci of the current slice: by `slice`/`band`/`sliceIndex`, else by depth overlap. */
@@ -69,8 +72,8 @@ export function siteLayers(apwa: Record<string, { hex: string }>): LayerSpecific
     { id: 'survey-line-open', type: 'line', source: 'lines', filter: ['==', ['get', 'id'], ''], paint: { 'line-color': '#f4a261', 'line-width': 4 } },
     { id: 'survey-lines-hit', type: 'line', source: 'lines', paint: { 'line-color': '#000', 'line-width': 10, 'line-opacity': 0 } },
     { id: 'anomalies-fill', type: 'fill', source: 'anomalies', filter: isPoly, paint: { 'fill-color': originColour, 'fill-opacity': anomalyOpacity(-1e9, 1e9, 0.3) } },
-    { id: 'anomalies-line', type: 'line', source: 'anomalies', filter: ['any', isPoly, isLine], paint: { 'line-color': originColour, 'line-width': ['case', ['boolean', ['feature-state', 'selected'], false], 4, 2], 'line-opacity': anomalyOpacity(-1e9, 1e9, 1) } },
-    { id: 'anomalies-point', type: 'circle', source: 'anomalies', filter: isPoint, paint: { 'circle-color': originColour, 'circle-radius': 7, 'circle-opacity': anomalyOpacity(-1e9, 1e9, 1), 'circle-stroke-color': '#000', 'circle-stroke-width': ['case', ['boolean', ['feature-state', 'selected'], false], 3, 1] } },
+    { id: 'anomalies-line', type: 'line', source: 'anomalies', filter: ['any', isPoly, isLine], paint: { 'line-color': ['case', selected, SELECTED_COLOUR, originColour], 'line-width': ['case', selected, 4, 2], 'line-opacity': anomalyOpacity(-1e9, 1e9, 1) } },
+    { id: 'anomalies-point', type: 'circle', source: 'anomalies', filter: isPoint, paint: { 'circle-color': originColour, 'circle-radius': 7, 'circle-opacity': anomalyOpacity(-1e9, 1e9, 1), 'circle-stroke-color': ['case', selected, SELECTED_COLOUR, '#000'], 'circle-stroke-width': ['case', selected, 3, 1] } },
     { id: 'forecast-line', type: 'line', source: 'forecast', filter: isLine, paint: { 'line-color': PLAN_COLOURS.forecast, 'line-width': 2, 'line-dasharray': [2, 2] } },
     { id: 'forecast-point', type: 'circle', source: 'forecast', filter: isPoint, paint: { 'circle-color': 'rgba(0,0,0,0)', 'circle-radius': 6, 'circle-stroke-color': PLAN_COLOURS.forecast, 'circle-stroke-width': 2 } },
     // targets.geojson: accepted in review (solid) apart from candidates nobody reviewed (dashed, thinner)
