@@ -63,7 +63,8 @@ export class PicksStore {
         tim.push(p.timeNs);
       }
       const fit = fitHyperbola(off, tim, { separationM: line.separationM });
-      if (!fit || !Number.isFinite(fit.velocityMPerNs)) throw new HttpError(422, `expected picks along a diffraction hyperbola, found ${off.length} picks that do not fit one`);
+      // the test `fitManualPicks` makes when `lamina process` reads the file
+      if (!fit || !Number.isFinite(fit.sigmaVelocity)) throw new HttpError(422, `expected picks along a diffraction hyperbola, found ${off.length} picks that do not fit one`);
       const lock = await lockFolder(this.outDir, { what: 'lamina view (a picks save)', waitMs: 120_000 });
       try {
         const file = await this.load();
