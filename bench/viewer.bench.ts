@@ -107,6 +107,8 @@ async function measureLines(name: string, dir: string): Promise<void> {
     await b.page.evaluate((id) => window.__lamina.openLine(id), pick().id); // warm-up
     const open: number[] = [];
     const ref: number[] = [];
+    const openFetch: number[] = [];
+    const openDraw: number[] = [];
     let bytes = 0;
     for (let i = 0; i < OPENS; i++) {
       const l = pick();
@@ -119,11 +121,14 @@ async function measureLines(name: string, dir: string): Promise<void> {
         if (!(a.length > 0)) throw new Error('empty line');
         return performance.now() - t0;
       }, other.file));
-      open.push(await b.page.evaluate(async (id) => {
+      const o = await b.page.evaluate(async (id) => {
         const t0 = performance.now();
         await window.__lamina.openLine(id);
-        return performance.now() - t0;
-      }, l.id));
+        return { ms: performance.now() - t0, fetch: window.__lamina.line!.timings.fetchMs!, draw: window.__lamina.line!.timings.drawMs! };
+      }, l.id);
+      open.push(o.ms);
+      openFetch.push(o.fetch);
+      openDraw.push(o.draw);
       bytes += l.nTraces * l.nSamples * 4;
     }
     // drag: apex placed at a third of the line, the flank handle swept along a trace
@@ -156,7 +161,7 @@ async function measureLines(name: string, dir: string): Promise<void> {
     const r = stats(ref);
     const f = stats(total);
     console.log(`${name} (line browser): ${index.lines.length} lines (load average ${load()} on ${availableParallelism()} cores); page ready in ${pageMs} ms`);
-    console.log(`  open a line:               ${fmt(o)}; ${((bytes / OPENS / 2 ** 20) / (o.mean / 1e3)).toFixed(0)} MiB/s of samples`);
+    console.log(`  open a line:               ${fmt(o)} (its fetch ${stats(openFetch).mean.toFixed(0)} ms, first draw ${stats(openDraw).mean.toFixed(0)} ms); ${((bytes / OPENS / 2 ** 20) / (o.mean / 1e3)).toFixed(0)} MiB/s of samples`);
     console.log(`  reference, fetch + decode: ${fmt(r)} (same page, no drawing); open / reference = ${(o.mean / r.mean).toFixed(1)}x`);
     console.log(`  drag frame (${frames.width} x ${frames.height} canvas): min ${f.min.toFixed(1)} ms, mean ${f.mean.toFixed(1)} +- ${f.std.toFixed(1)} ms (move handler ${stats(frames.handler).mean.toFixed(1)} ms, redraw ${stats(frames.draw).mean.toFixed(1)} ms); ${(1000 / f.mean).toFixed(0)} frames/s possible; frame / reference = ${(f.mean / r.mean).toFixed(2)}x`);
   } finally {

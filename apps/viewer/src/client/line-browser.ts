@@ -351,10 +351,11 @@ export function createLineBrowser(folder: Folder, view: MapView): LineBrowser {
     }
     st.markedTrace = markTrace ?? null;
     sel.value = id;
-    root.hidden = false;
-    map.resize();
-    const src = map.getSource('lines') ? map : undefined;
-    if (src && map.getLayer('survey-line-open')) map.setFilter('survey-line-open', ['==', ['get', 'id'], id]);
+    if (root.hidden) {
+      root.hidden = false;
+      map.resize(); // the map's box shrank
+    }
+    if (!wasOpen && map.getLayer('survey-line-open')) map.setFilter('survey-line-open', ['==', ['get', 'id'], id]);
     draw();
     st.timings.openMs = performance.now() - started;
   };
