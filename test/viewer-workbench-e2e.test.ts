@@ -228,6 +228,17 @@ describe.runIf(existsSync(join(YARD, 'site.json')))('the viewer as a workbench, 
     expect(m.origin).toBe('subsurface');
     await shot(b, 'match-water-main');
     expect(await savePicks()).toMatch(/\(2 match/);
+    // shift + drag on the flank handle: the object radius at the velocity it has (an earlier flank, a flatter curve, a larger object)
+    const fh = (await b.page.evaluate(() => window.__lamina.flankHandle()))!;
+    await b.page.mouse.move(fh.x, fh.y);
+    await b.page.keyboard.down('Shift');
+    await b.page.mouse.down();
+    await b.page.mouse.move(fh.x, fh.y - 6, { steps: 3 });
+    await b.page.mouse.up();
+    await b.page.keyboard.up('Shift');
+    const widened = (await b.page.evaluate(() => window.__lamina.line!.match))!;
+    expect(widened.radiusM).toBeGreaterThan(0.01);
+    expect(widened.velocityMPerNs).toBe(m.velocityMPerNs);
     await b.page.evaluate(() => (document.getElementById('lb-msg')!.textContent = ''));
     await b.page.click('#lb-fit');
     await b.page.waitForFunction(() => /automatic fit near|no hyperbola|expected|HTTP/i.test(document.getElementById('lb-msg')?.textContent ?? ''), null, { polling: 50 });

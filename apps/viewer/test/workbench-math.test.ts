@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { C_M_PER_NS } from '@lamina/constants';
-import { dataPicks, matchReadout, matchTimes, traceAt, velocityThrough, type HandMatch } from '../src/client/match';
+import { dataPicks, matchReadout, matchTimes, radiusThrough, traceAt, velocityThrough, type HandMatch } from '../src/client/match';
 import { filterQueue, queueCounts, queueItems, stepIndex } from '../src/client/queue';
 import type { Feature } from '../src/client/data';
 
@@ -14,6 +14,14 @@ describe('hand matching maths', () => {
           expect(velocityThrough(20, 1.3, t, sep, r)).toBeCloseTo(v, 6);
           expect(velocityThrough(20, -1.3, t, sep, r)).toBeCloseTo(v, 6); // either flank
         }
+  });
+
+  it('radiusThrough inverts the curve in the radius at a fixed velocity', () => {
+    for (const r of [0, 0.05, 0.3, 0.8]) {
+      const m: HandMatch = { line: 'L', x0M: 0, t0Ns: 25, velocityMPerNs: 0.1, radiusM: r };
+      const t = matchTimes(m, [0.9], 0.16)[0]!;
+      expect(radiusThrough(25, 0.9, t, 0.1, 0.16)).toBeCloseTo(r, 6);
+    }
   });
 
   it('an air event (straight rays at c, monostatic) reads K 1 and above ground; soil of K 9 reads K 9 and subsurface', () => {

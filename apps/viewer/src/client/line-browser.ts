@@ -3,7 +3,7 @@ import { depthAtVerticalTimeNs, verticalTwoWayTimeNs, type LayerVelocities } fro
 import { getBytes, type Hyperbola, type RadargramLine } from './data';
 import type { Folder } from './folder';
 import type { MapView } from './map-view';
-import { dataPicks, matchReadout, matchTimes, traceAt, velocityThrough, type HandMatch, type MatchReadout } from './match';
+import { dataPicks, matchReadout, matchTimes, radiusThrough, traceAt, velocityThrough, type HandMatch, type MatchReadout } from './match';
 import { h } from './panel';
 import { alongLine } from './radargram';
 import { $, FT, handle, report, state } from './state';
@@ -113,23 +113,35 @@ export function createLineBrowser(folder: Folder, view: MapView): LineBrowser {
     ctx.fillRect(0, 0, W, H);
     const { nTraces, nSamples } = line;
     const k = 10 ** (st.gainDb / 20) / clipLevel();
-    const img = ctx.createImageData(pw(), ph());
-    const rowS = new Int32Array(ph());
-    for (let py = 0; py < ph(); py++) rowS[py] = Math.floor(sOfY(M.t + py + 0.5));
-    for (let px = 0; px < pw(); px++) {
+    const PW = pw();
+    const PH = ph();
+    const img = ctx.createImageData(PW, PH);
+    // one 32-bit write per pixel (grey, opaque; byte order of the host, little-endian in browsers)
+    const px32 = new Uint32Array(img.data.buffer);
+    const grey = new Uint32Array(256);
+    for (let g = 0; g < 256; g++) grey[g] = (255 << 24) | (g << 16) | (g << 8) | g;
+    const WHITE = grey[255]!;
+    const colBase = new Int32Array(PW);
+    for (let px = 0; px < PW; px++) {
       const tr = Math.round(trOfX(M.l + px + 0.5));
-      for (let py = 0; py < ph(); py++) {
-        const s = rowS[py]!;
-        const j = (py * pw() + px) * 4;
-        let g = 255;
-        if (tr >= 0 && tr < nTraces && s >= 0 && s < nSamples) {
-          const a = data[tr * nSamples + s]!;
-          g = Number.isFinite(a) ? Math.max(0, Math.min(255, Math.round(128 + a * k * 127))) : 255;
+      colBase[px] = tr >= 0 && tr < nTraces ? tr * nSamples : -1;
+    }
+    for (let py = 0; py < PH; py++) {
+      const s = Math.floor(sOfY(M.t + py + 0.5));
+      const row = py * PW;
+      if (s < 0 || s >= nSamples) {
+        px32.fill(WHITE, row, row + PW);
+        continue;
+      }
+      for (let px = 0; px < PW; px++) {
+        const base = colBase[px]!;
+        if (base < 0) {
+          px32[row + px] = WHITE;
+          continue;
         }
-        img.data[j] = g;
-        img.data[j + 1] = g;
-        img.data[j + 2] = g;
-        img.data[j + 3] = 255;
+        const a = data[base + s]!;
+        const g = a === a ? Math.max(0, Math.min(255, Math.round(128 + a * k * 127))) : 255;
+        px32[row + px] = grey[g]!;
       }
     }
     ctx.putImageData(img, M.l, M.t);
@@ -407,7 +419,7 @@ export function createLineBrowser(folder: Folder, view: MapView): LineBrowser {
     } else if (drag.kind === 'apex' && st.match) {
       placeApex(alongOf(trOfX(x)), timeOfY(y), true);
     } else if (drag.kind === 'flank' && st.match) {
-      dragFlank(alongOf(trOfX(x)) - st.match.x0M, timeOfY(y));
+      dragFlank(alongOf(trOfX(x)) - st.match.x0M, timeOfY(y), e.shiftKey);
     }
     requestDraw();
   });
@@ -435,11 +447,17 @@ export function createLineBrowser(folder: Folder, view: MapView): LineBrowser {
     setMatch({ line: line!.id, x0M, t0Ns: Math.max(line!.dtNs, t0Ns), velocityMPerNs: v, radiusM: Number(radius.value) }, 'hand');
     if (!keepVelocity || flankX === null) flankX = Math.min(1, along[along.length - 1]! / 4);
   };
-  const dragFlank = (offsetM: number, timeNs: number) => {
+  /** The flank handle sets the velocity; with shift held, the radius at the velocity it has. */
+  const dragFlank = (offsetM: number, timeNs: number, radiusToo = false) => {
     const m = st.match!;
     if (Math.abs(offsetM) < 1e-3) return;
     flankX = offsetM;
-    setMatch({ ...m, velocityMPerNs: velocityThrough(m.t0Ns, offsetM, timeNs, sep, m.radiusM) }, 'hand');
+    if (radiusToo) {
+      const r = radiusThrough(m.t0Ns, offsetM, timeNs, m.velocityMPerNs, sep);
+      radius.value = String(Math.min(Number(radius.max), r));
+      $('lb-radius-v').textContent = `${r.toFixed(2)} m`;
+      setMatch({ ...m, radiusM: r }, 'hand');
+    } else setMatch({ ...m, velocityMPerNs: velocityThrough(m.t0Ns, offsetM, timeNs, sep, m.radiusM) }, 'hand');
   };
   radius.addEventListener('input', () => {
     $('lb-radius-v').textContent = `${Number(radius.value).toFixed(2)} m`;
@@ -478,7 +496,7 @@ export function createLineBrowser(folder: Folder, view: MapView): LineBrowser {
   const updateReadout = () => {
     const m = st.match;
     if (!m) {
-      readout.replaceChildren(matchMode.checked ? 'Click on the apex of an event, then drag the white handle onto its flank.' : 'Tick "Match hyperbola" to lay a hyperbola over an event.');
+      readout.replaceChildren(matchMode.checked ? 'Click on the apex of an event, then drag the white handle onto its flank (with shift: the object radius).' : 'Tick "Match hyperbola" to lay a hyperbola over an event.');
       return;
     }
     const unitK = state.unit === 'ft' ? 1 / FT : 1;
@@ -569,6 +587,12 @@ export function createLineBrowser(folder: Folder, view: MapView): LineBrowser {
     return { x: r.left + (xOfTr(trace) * r.width) / canvas.width, y: r.top + (yOfTime(timeNs) * r.height) / canvas.height };
   };
   handle.drawLine = () => draw();
+  handle.flankHandle = () => {
+    const fh = flankHandle();
+    if (!fh) return null;
+    const r = canvas.getBoundingClientRect();
+    return { x: r.left + (fh[0] * r.width) / canvas.width, y: r.top + (fh[1] * r.height) / canvas.height };
+  };
   return browser;
 }
 

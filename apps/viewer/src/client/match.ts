@@ -44,6 +44,29 @@ export function velocityThrough(t0Ns: number, offsetM: number, timeNs: number, s
   return Math.sqrt(lo * hi);
 }
 
+/** Largest radius a drag may set, m. */
+export const MATCH_R_MAX = 1;
+
+/**
+ * Radius of the curve with apex time `t0Ns` and velocity `v` that passes through (`offsetM`, `timeNs`):
+ * at a fixed offset a larger object gives a flatter curve (an earlier time), so bisection finds it.
+ * Clamped to [0, MATCH_R_MAX].
+ */
+export function radiusThrough(t0Ns: number, offsetM: number, timeNs: number, v: number, separationM: number): number {
+  const x = [Math.abs(offsetM)];
+  const t = (r: number) => hyperbolaTimes(x, t0Ns, v, separationM, undefined, r)[0]!;
+  let lo = 0;
+  let hi = MATCH_R_MAX;
+  if (t(lo) <= timeNs) return lo;
+  if (t(hi) >= timeNs) return hi;
+  for (let i = 0; i < 50; i++) {
+    const mid = (lo + hi) / 2;
+    if (t(mid) > timeNs) lo = mid;
+    else hi = mid;
+  }
+  return (lo + hi) / 2;
+}
+
 export interface MatchReadout {
   velocityMPerNs: number;
   permittivity: number;

@@ -45,6 +45,8 @@ export interface LaminaHandle {
   openLine(id: string): Promise<void>;
   lineToCanvas(trace: number, timeNs: number): { x: number; y: number } | null;
   drawLine(): void;
+  /** Page coordinates of the match's flank handle, or null. */
+  flankHandle(): { x: number; y: number } | null;
   /** The review queue: ids of the listed rows in order, and the counts shown. */
   queue?: { rows: string[]; counts: { total: number; reviewed: number; left: number; accepted: number; rejected: number }; saving: number };
   /** Last cursor readout over the map: site CRS and WGS84 coordinates. */
@@ -93,6 +95,7 @@ export const handle: LaminaHandle = {
   openLine: async () => undefined,
   lineToCanvas: () => null,
   drawLine: () => undefined,
+  flankHandle: () => null,
 };
 
 /** The page is ready (or failed for good): tests waiting on `readyPromise` go on. */
