@@ -1,4 +1,4 @@
-import { readFile } from 'node:fs/promises';
+import { readFile, stat } from 'node:fs/promises';
 import { join } from 'node:path';
 import { checkContract, radargramIndexSchema, type RadargramLine } from '@lamina/contracts';
 import type { RadarLine } from '@lamina/radar-data';
@@ -21,10 +21,22 @@ async function json(outDir: string, name: string): Promise<unknown> {
   }
 }
 
+// radargrams/index.json of a large site is tens of MB: parsed once per version of the file
+const indexCache = new Map<string, { mtimeMs: number; size: number; lines: Map<string, RadargramLine> }>();
+async function indexOf(outDir: string): Promise<Map<string, RadargramLine>> {
+  const file = join(outDir, 'radargrams', 'index.json');
+  const st = await stat(file).catch(() => undefined);
+  const hit = indexCache.get(file);
+  if (st && hit && hit.mtimeMs === st.mtimeMs && hit.size === st.size) return hit.lines;
+  const index = checkContract(radargramIndexSchema, await json(outDir, join('radargrams', 'index.json')), 'radargrams/index.json');
+  const lines = new Map(index.lines.map((l) => [l.id, l]));
+  if (st) indexCache.set(file, { mtimeMs: st.mtimeMs, size: st.size, lines });
+  return lines;
+}
+
 /** The entry of radargrams/index.json for `id`, with distances along it (m, as the velocity fitter measures them). */
 export async function radargramLine(outDir: string, id: string): Promise<{ line: ServedLine; along: Float64Array }> {
-  const index = checkContract(radargramIndexSchema, await json(outDir, join('radargrams', 'index.json')), 'radargrams/index.json');
-  const entry = index.lines.find((l) => l.id === id);
+  const entry = (await indexOf(outDir)).get(id);
   if (!entry) throw new HttpError(404, `line "${id}" has no radargram in radargrams/index.json`);
   const run = (await json(outDir, 'run.json')) as { site?: { antenna?: { separationM?: number; frequencyMHz?: number }; crs?: { metresPerUnit?: number } } };
   const line: ServedLine = { ...entry, separationM: run.site?.antenna?.separationM ?? 0, frequencyMHz: run.site?.antenna?.frequencyMHz, metresPerUnit: run.site?.crs?.metresPerUnit ?? 1 };
