@@ -156,6 +156,19 @@ async function measureLines(name: string, dir: string): Promise<void> {
       window.dispatchEvent(new MouseEvent('mouseup', { bubbles: true }));
       return { handler, draw, width: c.width, height: c.height };
     }, DRAG_FRAMES);
+    // the review queue: select the next anomaly (panel, slice, its line opened), as the n key does
+    const steps = await b.page.evaluate(async (n) => {
+      const L = window.__lamina;
+      const rows = L.queue?.rows ?? [];
+      const out: number[] = [];
+      for (let i = 0; i < Math.min(n, rows.length); i++) {
+        const t0 = performance.now();
+        await L.selectAnomaly(rows[i]!);
+        await L.whenDrawn();
+        out.push(performance.now() - t0);
+      }
+      return out;
+    }, 12);
     const total = frames.handler.map((h, i) => h + frames.draw[i]!);
     const o = stats(open);
     const r = stats(ref);
@@ -163,6 +176,7 @@ async function measureLines(name: string, dir: string): Promise<void> {
     console.log(`${name} (line browser): ${index.lines.length} lines (load average ${load()} on ${availableParallelism()} cores); page ready in ${pageMs} ms`);
     console.log(`  open a line:               ${fmt(o)} (its fetch ${stats(openFetch).mean.toFixed(0)} ms, first draw ${stats(openDraw).mean.toFixed(0)} ms); ${((bytes / OPENS / 2 ** 20) / (o.mean / 1e3)).toFixed(0)} MiB/s of samples`);
     console.log(`  reference, fetch + decode: ${fmt(r)} (same page, no drawing); open / reference = ${(o.mean / r.mean).toFixed(1)}x`);
+    if (steps.length) console.log(`  queue step (select, panel, slice, line): ${fmt(stats(steps))} over ${steps.length} anomalies`);
     console.log(`  drag frame (${frames.width} x ${frames.height} canvas): min ${f.min.toFixed(1)} ms, mean ${f.mean.toFixed(1)} +- ${f.std.toFixed(1)} ms (move handler ${stats(frames.handler).mean.toFixed(1)} ms, redraw ${stats(frames.draw).mean.toFixed(1)} ms); ${(1000 / f.mean).toFixed(0)} frames/s possible; frame / reference = ${(f.mean / r.mean).toFixed(2)}x`);
   } finally {
     await b.close();

@@ -32,6 +32,9 @@ export interface LineBrowser {
 }
 
 const M = { l: 48, r: 50, t: 8, b: 30 };
+// one 32-bit write per pixel: grey g, opaque (byte order of the host, little-endian in browsers)
+const GREY = Uint32Array.from({ length: 256 }, (_, g) => ((255 << 24) | (g << 16) | (g << 8) | g) >>> 0);
+const WHITE = GREY[255]!;
 const HANDLE_PX = 8;
 
 /**
@@ -101,6 +104,9 @@ export function createLineBrowser(folder: Folder, view: MapView): LineBrowser {
     return absSorted[Math.min(absSorted.length - 1, Math.floor((absSorted.length * st.clipPercent) / 100))] || 1;
   };
 
+  let frameImg: ImageData | undefined;
+  let framePx: Uint32Array | undefined;
+  let colBase = new Int32Array(0);
   const draw = () => {
     if (!line || !data) return;
     const started = performance.now();
@@ -115,13 +121,14 @@ export function createLineBrowser(folder: Folder, view: MapView): LineBrowser {
     const k = 10 ** (st.gainDb / 20) / clipLevel();
     const PW = pw();
     const PH = ph();
-    const img = ctx.createImageData(PW, PH);
-    // one 32-bit write per pixel (grey, opaque; byte order of the host, little-endian in browsers)
-    const px32 = new Uint32Array(img.data.buffer);
-    const grey = new Uint32Array(256);
-    for (let g = 0; g < 256; g++) grey[g] = (255 << 24) | (g << 16) | (g << 8) | g;
-    const WHITE = grey[255]!;
-    const colBase = new Int32Array(PW);
+    // the image and its 32-bit view are kept between frames (a drag redraws 60 times a second)
+    if (!frameImg || frameImg.width !== PW || frameImg.height !== PH) {
+      frameImg = ctx.createImageData(PW, PH);
+      framePx = new Uint32Array(frameImg.data.buffer);
+      colBase = new Int32Array(PW);
+    }
+    const img = frameImg;
+    const px32 = framePx!;
     for (let px = 0; px < PW; px++) {
       const tr = Math.round(trOfX(M.l + px + 0.5));
       colBase[px] = tr >= 0 && tr < nTraces ? tr * nSamples : -1;
@@ -141,7 +148,7 @@ export function createLineBrowser(folder: Folder, view: MapView): LineBrowser {
         }
         const a = data[base + s]!;
         const g = a === a ? Math.max(0, Math.min(255, Math.round(128 + a * k * 127))) : 255;
-        px32[row + px] = grey[g]!;
+        px32[row + px] = GREY[g]!;
       }
     }
     ctx.putImageData(img, M.l, M.t);
