@@ -172,6 +172,14 @@ export function createLineBrowser(folder: Folder, view: MapView): LineBrowser {
       if (fh) dot(ctx, fh[0], fh[1], '#ffffff');
     }
     if (st.markedTrace !== null) vline(ctx, xOfTr(st.markedTrace), 'rgba(255,80,0,0.9)');
+    if (!st.match && cursor) {
+      const cx = xOfTr(cursor.tr);
+      const cy = yOfS(cursor.s);
+      ctx.strokeStyle = '#ffcc00';
+      ctx.lineWidth = 2;
+      tick(ctx, cx - 6, cy, cx + 6, cy);
+      tick(ctx, cx, cy - 6, cx, cy + 6);
+    }
     ctx.restore();
     axes(ctx);
     st.frames++;
@@ -366,6 +374,7 @@ export function createLineBrowser(folder: Folder, view: MapView): LineBrowser {
       st.match = null;
       st.matchCoherence = null;
       flankX = null;
+      cursor = null;
       updateReadout();
     }
     st.markedTrace = markTrace ?? null;
@@ -387,6 +396,7 @@ export function createLineBrowser(folder: Folder, view: MapView): LineBrowser {
   };
   canvas.addEventListener('mousedown', (e) => {
     if (!line) return;
+    canvas.focus({ preventScroll: true });
     const [x, y] = local(e);
     if (matchMode.checked) {
       const fh = flankHandle();
@@ -401,10 +411,16 @@ export function createLineBrowser(folder: Folder, view: MapView): LineBrowser {
     e.preventDefault();
   });
   window.addEventListener('mouseup', () => (drag = null));
+  // the cursor's last place on the radargram stays (marked with a cross) for "Fit here"
   canvas.addEventListener('mouseleave', () => {
-    cursor = null;
-    cursorEl.textContent = '';
     setCursorOnMap(null);
+    requestDraw();
+  });
+  canvas.addEventListener('keydown', (e) => {
+    if (e.key === 'f') {
+      e.preventDefault();
+      void fitHere().catch((err) => (msg.textContent = (err as Error).message));
+    }
   });
   window.addEventListener('mousemove', (e) => {
     if (!line) return;
@@ -417,6 +433,7 @@ export function createLineBrowser(folder: Folder, view: MapView): LineBrowser {
       const unitK = state.unit === 'ft' ? 1 / FT : 1;
       cursorEl.textContent = `trace ${Math.round(Math.max(0, tr)) * (line.traceStep ?? 1)}, ${dist.toFixed(2)} m along, ${t.toFixed(2)} ns, depth ${(depthAtVerticalTimeNs(model, Math.max(0, t)) * unitK).toFixed(2)} ${state.unit}`;
       setCursorOnMap(tr);
+      if (!st.match && !drag) requestDraw();
     }
     if (!drag) return;
     if (drag.kind === 'pan') {
@@ -526,7 +543,7 @@ export function createLineBrowser(folder: Folder, view: MapView): LineBrowser {
   const fitHere = async () => {
     if (!line) return;
     const at = st.match ? { trace: traceAt(along, st.match.x0M), timeNs: st.match.t0Ns } : cursor ? { trace: cursor.tr, timeNs: cursor.s * line.dtNs - t0() } : null;
-    if (!at) throw new Error('place an apex (match mode) or point at an event first');
+    if (!at) throw new Error('place an apex (match mode) or point at an event on the radargram first');
     msg.textContent = 'fitting ...';
     const r = await fetch('api/fit', { method: 'POST', headers: { 'Content-Type': 'application/json' }, body: JSON.stringify({ line: line.id, trace: at.trace, timeNs: at.timeNs }) });
     const body = (await r.json()) as { error?: string; fit?: { x0M: number; t0Ns: number; velocityMPerNs: number; radiusM: number; halfApertureM: number } | null };

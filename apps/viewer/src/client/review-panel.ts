@@ -56,13 +56,12 @@ export function wireReview(folder: Folder, view: MapView, deps: ReviewDeps = {})
       close: () => {
         panel.hidden = true;
         state.selectedAnomaly = null;
-        map.resize();
       },
       save: async (change) => {
         await save(id, change);
       },
     });
-    map.resize();
+    // the panel sits in the side column beside the queue: the map keeps its size (no resize, no full repaint)
     const anchor = anchorOf(f);
     if (anchor) {
       // bring the anomaly into view when it is off screen
@@ -72,7 +71,7 @@ export function wireReview(folder: Folder, view: MapView, deps: ReviewDeps = {})
     // its slice: the first it was found in, else the slice holding its top
     const p = f.properties ?? {};
     const sl = Array.isArray(p.slices) && typeof p.slices[0] === 'number' ? (p.slices[0] as number) : sliceOfDepth(Number(p.depthTopM));
-    if (sl >= 0 && deps.setSlice) void deps.setSlice(sl).catch(report);
+    if (sl >= 0 && sl !== state.sliceIndex && deps.setSlice) void deps.setSlice(sl).catch(report);
     const hit = anchor ? nearestTrace(rgIndex.lines, anchor[0], anchor[1]) : undefined;
     if (!hit) {
       radargramNote.textContent = 'No radargram in this output folder.';
