@@ -350,7 +350,6 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   }
 }
 
-/** A file's text, or undefined when it cannot be read (no review.json yet). */
 /** picks.json's hyperbolas by the index of their line in the site; an unknown line id is an input error. */
 function picksByLine(text: string, file: string, site: Site): Map<number, { hyperbola: ManualHyperbola; index: number }[]> {
   const parsed = parsePicks(text, file);
@@ -364,6 +363,7 @@ function picksByLine(text: string, file: string, site: Site): Map<number, { hype
   return out;
 }
 
+/** A file's text, or undefined when it cannot be read (no review.json yet). */
 async function readText(path: string): Promise<string | undefined> {
   return readFile(path, 'utf8').catch(() => undefined);
 }
