@@ -68,8 +68,8 @@ export function wireQueue(folder: Folder, deps: QueueDeps): { refresh(): void } 
     handle.queue = { rows: rows.map((q) => q.id), counts: c, saving: handle.queue?.saving ?? 0 };
     scrollToSelected();
   };
-  const scrollToSelected = () => {
-    const el = state.selectedAnomaly ? list.querySelector(`[data-anomaly-id="${CSS.escape(state.selectedAnomaly)}"]`) : null;
+  const scrollToSelected = (id = state.selectedAnomaly) => {
+    const el = id ? list.querySelector(`[data-anomaly-id="${CSS.escape(id)}"]`) : null;
     for (const r of list.querySelectorAll('.q-row.selected')) if (r !== el) r.classList.remove('selected');
     if (el) {
       el.classList.add('selected');
@@ -77,6 +77,8 @@ export function wireQueue(folder: Folder, deps: QueueDeps): { refresh(): void } 
     }
   };
   const go = async (id: string) => {
+    // the row at once; the panel, slice and line follow
+    scrollToSelected(id);
     await deps.select(id).catch(report);
     scrollToSelected();
   };
