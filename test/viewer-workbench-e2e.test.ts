@@ -124,6 +124,11 @@ describe.runIf(existsSync(join(YARD, 'site.json')))('the viewer as a workbench, 
     expect(new Set(rows)).toEqual(new Set(utility.map((f) => f.properties.id)));
     const depths = rows.map((id) => anomalies.find((f) => f.properties.id === id)!.properties.depthTopM);
     for (let i = 1; i < depths.length; i++) expect(depths[i]!).toBeGreaterThanOrEqual(depths[i - 1]!);
+    // after choosing from a filter list the keys still drive the queue, through the filtered rows
+    const prev = await b.page.evaluate(() => window.__lamina.state.selectedAnomaly);
+    await b.page.keyboard.press('n');
+    await b.page.waitForFunction((p) => window.__lamina.state.selectedAnomaly !== p, prev, { polling: 20 });
+    expect(rows).toContain(await b.page.evaluate(() => window.__lamina.state.selectedAnomaly));
     await b.page.selectOption('#q-decision', 'undecided');
     const left = await b.page.evaluate(() => window.__lamina.queue!.counts);
     expect(left.reviewed).toBe(0);

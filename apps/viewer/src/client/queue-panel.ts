@@ -98,7 +98,12 @@ export function wireQueue(folder: Folder, deps: QueueDeps): { refresh(): void } 
   };
   $('q-prev').addEventListener('click', () => step(-1));
   $('q-next').addEventListener('click', () => step(1));
-  for (const el of [fCls, fOrigin, fDecision, sortSel]) el.addEventListener('change', render);
+  // a list chosen from gives the keys back to the queue (a focused select keeps them)
+  for (const el of [fCls, fOrigin, fDecision, sortSel])
+    el.addEventListener('change', () => {
+      render();
+      el.blur();
+    });
   for (const el of [fMin, fMax, fStrength]) el.addEventListener('change', render);
   window.addEventListener('keydown', (e) => {
     const t = e.target as HTMLElement | null;
