@@ -67,6 +67,16 @@ describe('process pipeline', () => {
     expect(Object.values(byMethod).reduce((a, b) => a + b, 0)).toBe(run.lines.length);
   });
 
+  it('takes picks.json from the output folder: a line the site lacks stops the run, naming the file, and leaves the folder as it was', async () => {
+    const out = join(work, 'picks-out');
+    await runProcess(siteDir, out, { threads: 0 });
+    const picks = { hyperbolas: [{ line: 'no-such-line', picks: [1, 2, 3, 4, 5].map((t) => ({ trace: t, timeNs: 10 + t })) }] };
+    await writeFile(join(out, 'picks.json'), JSON.stringify(picks));
+    const before = await hashTree(out);
+    await expect(runProcess(siteDir, out, { threads: 0 })).rejects.toThrow(/picks\.json.*no-such-line/s);
+    expect(await hashTree(out)).toEqual(before);
+  });
+
   it('writes nothing when an input is bad, and names the file', async () => {
     const bad = join(work, 'bad-site');
     await cp(siteDir, bad, { recursive: true });

@@ -255,3 +255,69 @@ describe('review API', () => {
     expect(c.utilityTypes).toContain('gas');
   });
 });
+
+describe('picks and fit-here API', () => {
+  // the fixture's L2 holds one diffraction: apex at stored trace 14 (0.5 m apart), 10 ns, v 0.1 m/ns
+  const v = 0.1;
+  const curve = (k: number) => ({ trace: (14 + k) * 2, timeNs: +((2 * Math.hypot((v * 10) / 2, k * 0.5)) / v).toFixed(4) });
+
+  it('appends a hand match to picks.json in the format `lamina velocity --picks` reads, after fitting it', async () => {
+    const { parsePicks } = await import('@lamina/velocity');
+    const picks = [-4, -3, -2, -1, 0, 1, 2, 3, 4].map(curve);
+    const r = await postJson(srv.port, '/api/picks', { line: 'L2', label: 'test', picks });
+    expect(r.status, r.body.toString()).toBe(200);
+    const body = JSON.parse(r.body.toString()) as { count: number; fit: { velocityMPerNs: number; origin: string } };
+    expect(body.count).toBe(1);
+    // monostatic curve read with the site's 0.1 m separation: within 1 %
+    expect(Math.abs(body.fit.velocityMPerNs - v) / v).toBeLessThan(0.01);
+    expect(body.fit.origin).toBe('subsurface');
+    const file = parsePicks(await readFile(join(out, 'picks.json'), 'utf8'), 'picks.json');
+    expect(file.hyperbolas).toEqual([{ line: 'L2', label: 'test', picks }]);
+    // two clients at once: both land
+    const [a, b] = await Promise.all([postJson(srv.port, '/api/picks', { line: 'L2', picks }), postJson(srv.port, '/api/picks', { line: 'L2', picks })]);
+    expect([a.status, b.status]).toEqual([200, 200]);
+    expect(parsePicks(await readFile(join(out, 'picks.json'), 'utf8'), 'picks.json').hyperbolas).toHaveLength(3);
+    const rm = await postJson(srv.port, '/api/picks/remove', { index: 0 });
+    expect(JSON.parse(rm.body.toString())).toEqual({ count: 2 });
+  });
+
+  it('refuses picks that do not fit a hyperbola, too few picks, and an unknown line', async () => {
+    // times falling away from the middle: no diffraction does that
+    const inverted = [-4, -3, -2, -1, 0, 1, 2, 3, 4].map((k) => ({ trace: (14 + k) * 2, timeNs: 60 - curve(k).timeNs }));
+    const bad = await postJson(srv.port, '/api/picks', { line: 'L2', picks: inverted });
+    expect(bad.status, bad.body.toString()).toBe(422);
+    expect((await postJson(srv.port, '/api/picks', { line: 'L2', picks: [curve(0), curve(1)] })).status).toBe(400);
+    expect((await postJson(srv.port, '/api/picks', { line: 'nope', picks: [-2, -1, 0, 1, 2].map(curve) })).status).toBe(404);
+  });
+
+  it('fit here finds the diffraction near the point asked, and nothing on a line of noise', async () => {
+    // a line sampled as a survey is (0.05 m, 0.1 ns) with one point diffractor 0.6 m deep at 4 m, drawn
+    // with straight rays (t = 2 sqrt(d^2 + x^2) / v, no model of ours) and a Ricker pulse
+    const idx = JSON.parse(await readFile(join(out, 'radargrams', 'index.json'), 'utf8')) as { lines: Record<string, unknown>[] };
+    const nT = 200;
+    const nS = 300;
+    const data = new Float32Array(nT * nS);
+    let seed = 3;
+    const rnd = () => ((seed = (seed * 1103515245 + 12345) % 2 ** 31) / 2 ** 31);
+    for (let t = 0; t < nT; t++)
+      for (let s = 0; s < nS; s++) {
+        const tt = (2 * Math.hypot(0.6, t * 0.05 - 4)) / v + 2;
+        const u = (s * 0.1 - tt) / 0.8;
+        data[t * nS + s] = 0.01 * (rnd() - 0.5) + (1 - 2 * u * u) * Math.exp(-u * u);
+      }
+    await writeFile(join(out, 'radargrams', 'L9.f32'), new Uint8Array(data.buffer));
+    const xs = Array.from({ length: nT }, (_, t) => 631000 + t * 0.05);
+    idx.lines.push({ id: 'L9', file: 'radargrams/L9.f32', nTraces: nT, nSamples: nS, dtNs: 0.1, timeZeroNs: 2, traceStep: 1, x: xs, y: xs.map(() => 3985000), lon: xs.map(() => -79.6), lat: xs.map(() => 36) });
+    await writeFile(join(out, 'radargrams', 'index.json'), JSON.stringify(idx));
+    const r = await postJson(srv.port, '/api/fit', { line: 'L9', trace: 82, timeNs: 12.5 });
+    expect(r.status, r.body.toString()).toBe(200);
+    const { fit } = JSON.parse(r.body.toString()) as { fit: { x0M: number; t0Ns: number; velocityMPerNs: number } | null };
+    expect(fit).not.toBeNull();
+    // the site's 0.1 m antenna separation against a monostatic curve: a few per cent
+    expect(Math.abs(fit!.velocityMPerNs - v) / v).toBeLessThan(0.05);
+    expect(Math.abs(fit!.x0M - 4)).toBeLessThan(0.1);
+    expect(Math.abs(fit!.t0Ns - 12)).toBeLessThan(0.5);
+    const none = JSON.parse((await postJson(srv.port, '/api/fit', { line: 'L4', trace: 15, timeNs: 10 })).body.toString()) as { fit: unknown };
+    expect(none.fit).toBeNull();
+  });
+});

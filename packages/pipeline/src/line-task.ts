@@ -2,7 +2,7 @@ import type { RadarLine } from '@lamina/radar-data';
 import { InputError } from '@lamina/errors';
 import { loadSite, readLine, pointToWgs84, shownPath, type Site } from '@lamina/site';
 import { defaultRecipe, hilbertEnvelopePair, hilbertWorkspace, parseRecipe, runRecipe, type Recipe, type RecipeLogEntry, type Step } from '@lamina/processing';
-import { lineDirection, lineHyperbolas, recipeForVelocity, sampleDepths, type HyperbolaFit, type VelocityModel } from '@lamina/velocity';
+import { fitManualPicks, lineDirection, lineHyperbolas, recipeForVelocity, sampleDepths, type HyperbolaFit, type ManualHyperbola, type VelocityModel } from '@lamina/velocity';
 import { traceSliceValues, type SliceWindow } from '@lamina/slices';
 import { lineSpillPath, readLineSpill, writeLineSpill } from './line-spill';
 import { summariseLine, writeRadargram, type LineSummary } from './outputs';
@@ -26,6 +26,10 @@ export interface Pass1Task {
   detect?: boolean;
   /** Keep the processed line (and the line before background removal) in the stage folder for pass 2. @default false */
   keepLine?: boolean;
+  /** Hand picks of this line from the output folder's picks.json (`index`: place in that file), fitted whatever `detect` says. */
+  picks?: { hyperbola: ManualHyperbola; index: number }[];
+  /** picks.json as shown in messages. */
+  picksFile?: string;
 }
 export interface Pass1Result {
   summary: LineSummary;
@@ -130,6 +134,7 @@ export async function pass1(task: Pass1Task): Promise<Pass1Result> {
           metresPerUnit: s.crs.metresPerUnit,
           frequencyMHz: s.antenna.frequencyMHz,
         });
+  for (const p of task.picks ?? []) fits.push(fitManualPicks(line, p.hyperbola, task.picksFile ?? 'picks.json', p.index, { separationM: s.antenna.separationM, metresPerUnit: s.crs.metresPerUnit }));
   times['pass 1 hyperbolas'] = performance.now() - t0;
   const radargramEntry = await timed(times, 'pass 1 radargram', () => writeRadargram(task.stageDir, line, (x, y) => pointToWgs84(s.crs, x, y)));
   return {

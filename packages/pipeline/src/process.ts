@@ -4,7 +4,7 @@ import type { RunJson } from '@lamina/contracts';
 import { InputError, isInputError } from '@lamina/errors';
 import { lockFolder, stageFolder, type FolderLock } from '@lamina/atomic';
 import { checkPlanNearSurvey, loadSite, pointToWgs84, shownPath, type Site } from '@lamina/site';
-import { buildVelocityReport, enoughFits, spreadOrder, velocityJsonChunks, type HyperbolaFit, type VelocityReport } from '@lamina/velocity';
+import { buildVelocityReport, enoughFits, parsePicks, spreadOrder, velocityJsonChunks, type HyperbolaFit, type ManualHyperbola, type VelocityReport } from '@lamina/velocity';
 import { defaultWindows, PointSpill, type SliceWindow } from '@lamina/slices';
 import type { Recipe } from '@lamina/processing';
 import { exportTargets, matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
@@ -178,6 +178,10 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   for (const w of survey.warnings) (options.onWarning ?? ((m) => process.stderr.write(`warning: ${m}\n`)))(w);
   const site: Site = { ...loaded, plan: survey.plan };
   const surveyVelocity = options.velocityFile !== undefined ? await readSurveyVelocity(options.velocityFile) : undefined;
+  // Hand matches saved by the viewer (picks.json in the output folder) join the automatic fits.
+  const picksFile = join(outDir, 'picks.json');
+  const picksText = await readText(picksFile);
+  const picks = picksText !== undefined ? picksByLine(picksText, shownPath(picksFile), site) : undefined;
   siteLoaded();
   const recipe: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
   const progress = options.onProgress ?? (() => {});
@@ -199,7 +203,8 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     const n = site.lines.length;
     progress('processing lines', 0, n);
     const pass1Done = timer.start('pass 1: process lines, hyperbolas');
-    const run1 = (i: number, detect: boolean) => exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path, detect, keepLine: keepLines }) as Promise<Pass1Result>;
+    const run1 = (i: number, detect: boolean) =>
+      exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path, detect, keepLine: keepLines, ...(picks?.has(i) ? { picks: picks.get(i), picksFile: shownPath(picksFile) } : {}) }) as Promise<Pass1Result>;
     const p1 = options.sampleVelocityLines
       ? await pass1Sampled(n, Math.max(1, threads), run1, { metresPerUnit: site.crs.metresPerUnit }, (d) => progress('processing lines', d, n))
       : ((await inOrder(n, (i) => run1(i, true), (d) => progress('processing lines', d, n))) as Pass1Result[]);
@@ -292,6 +297,9 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     const reviewFile = join(outDir, 'review.json');
     const reviewRead = await readText(reviewFile);
     await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screening.anchored);
+    // picks.json stays with the folder (the newest text: a save while this run worked lands in the next run)
+    const picksNow = await readText(picksFile);
+    if (picksNow !== undefined) await writeFile(join(stage.path, 'picks.json'), picksNow);
     outputsDone();
 
     progress('targets', 0, 1);
@@ -340,6 +348,19 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     }
     throw e;
   }
+}
+
+/** picks.json's hyperbolas by the index of their line in the site; an unknown line id is an input error. */
+function picksByLine(text: string, file: string, site: Site): Map<number, { hyperbola: ManualHyperbola; index: number }[]> {
+  const parsed = parsePicks(text, file);
+  const byId = new Map(site.lines.map((l, i) => [l.id, i]));
+  const out = new Map<number, { hyperbola: ManualHyperbola; index: number }[]>();
+  parsed.hyperbolas.forEach((h, index) => {
+    const i = byId.get(h.line);
+    if (i === undefined) throw new InputError(file, `expected a line id of the site, found ${JSON.stringify(h.line)}`, { field: `hyperbolas[${index}].line` });
+    out.set(i, [...(out.get(i) ?? []), { hyperbola: h, index }]);
+  });
+  return out;
 }
 
 /** A file's text, or undefined when it cannot be read (no review.json yet). */

@@ -4,7 +4,7 @@ import type { MapView } from './map-view';
 import { h } from './panel';
 import type { SlicesView } from './slices-view';
 import { $, state } from './state';
-import { LAYER_GROUPS, ORIGIN_COLOURS, PLAN_COLOURS } from './style';
+import { LAYER_GROUPS, ORIGIN_COLOURS, PLAN_COLOURS, SELECTED_COLOUR } from './style';
 
 /**
  * The side bar's controls: depth (slider, buttons, keys), unit, colour map and clip, opacity, 3D and its
@@ -99,15 +99,19 @@ function legend(folder: Folder): void {
   $('legend').replaceChildren(
     sw(ORIGIN_COLOURS.subsurface, 'Anomaly: subsurface (stronger = more confident)'),
     sw(ORIGIN_COLOURS['above-ground'], 'Anomaly: above-ground reflection'),
+    sw(SELECTED_COLOUR, 'Anomaly selected in the queue'),
     sw(PLAN_COLOURS.forecast, 'Forecast air-wave locus at this depth', true),
-    sw(PLAN_COLOURS.building, 'Building (extruded by height)'),
+    sw(PLAN_COLOURS.building, 'Building footprint (extruded by height in 3D)'),
     sw(PLAN_COLOURS.wall, 'Wall / post'),
     sw(PLAN_COLOURS.fence, 'Fence', true),
     sw(PLAN_COLOURS.tree, 'Tree'),
     sw(PLAN_COLOURS.column, 'Column'),
     sw(PLAN_COLOURS.overhead, 'Overhead object (height in its properties)', true),
-    sw(PLAN_COLOURS.lines, 'Survey line'),
-    h('div', {}, 'Accepted targets (APWA colour code):'),
+    sw(PLAN_COLOURS.lines, 'Survey line (click to open its radargram)'),
+    sw('#f4a261', 'Line open in the line browser; dot: its cursor'),
+    h('div', { id: 'legend-accepted' }, h('span', { class: 'swatch', style: 'background:#555' }), 'Accepted target (solid, APWA colour of its utility)'),
+    h('div', { id: 'legend-candidates' }, h('span', { class: 'swatch', style: 'background:transparent;border:2px dashed #555' }), 'Candidate target, not reviewed (dashed outline)'),
+    h('div', {}, 'APWA colour code:'),
     ...config.utilityTypes.filter((u) => usedTypes.has(u) || u !== 'unknown').map((u) => sw(config.apwa[u]?.hex ?? '#999', `${u} (${config.apwa[u]?.name ?? ''})`)),
   );
 }

@@ -20,6 +20,8 @@ export interface Config {
   utilityTypes: string[];
   apwa: Record<string, { name: string; hex: string; meaning: string }>;
   cautions: string[];
+  /** The cautions in one line (CAUTION of @lamina/constants), always on screen. */
+  caution?: string;
 }
 
 export const EMPTY_FC: FeatureCollection = { type: 'FeatureCollection', features: [] };

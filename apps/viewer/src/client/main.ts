@@ -6,6 +6,9 @@ import { wireControls } from './controls';
 import { loadFolder } from './folder';
 import { createMap, wireBasemap } from './map-view';
 import { cautionList } from './panel';
+import { createLineBrowser } from './line-browser';
+import { wireMapReadout } from './map-readout';
+import { wireQueue } from './queue-panel';
 import { wireReview } from './review-panel';
 import { createSlicesView, openSlices } from './slices-view';
 import { $, handle, markReady, report, state } from './state';
@@ -22,6 +25,7 @@ async function main(): Promise<void> {
   const { config, run } = folder;
   $('site-name').textContent = run.site.name;
   $('cautions').replaceChildren(...cautionList(config).children);
+  $('caution-line').textContent = config.caution ?? config.cautions[0] ?? '';
   $('about-btn').addEventListener('click', () => $<HTMLDialogElement>('about').showModal());
 
   const sliceData = await openSlices(folder);
@@ -39,7 +43,21 @@ async function main(): Promise<void> {
     sv.applyDepthStyling();
     void sv.redraw();
   };
-  selectAnomaly = wireReview(folder, view).selectAnomaly;
+  const lines = createLineBrowser(folder, view);
+  let queue: { refresh(): void } | undefined;
+  const review = wireReview(folder, view, { openLine: (id, tr) => lines.open(id, tr), setSlice: (k) => sv.setSlice(k), onSaved: () => queue?.refresh() });
+  selectAnomaly = async (id) => {
+    await review.selectAnomaly(id);
+    queue?.refresh();
+  };
+  handle.selectAnomaly = selectAnomaly;
+  queue = wireQueue(folder, {
+    select: selectAnomaly,
+    decide: async (id, decision) => {
+      await review.save(id, { decision });
+    },
+  });
+  wireMapReadout(folder, view, sv);
 
   sv.updateDepthLabel();
   sv.applyDepthStyling();

@@ -10,7 +10,16 @@ import { $, depthText, handle, report, state } from './state';
  * Review: the anomaly panel (evidence, decision, the nearest radargram with its fitted hyperbolas),
  * opened by a click on an anomaly, and the export button. Returns `selectAnomaly`.
  */
-export function wireReview(folder: Folder, view: MapView): { selectAnomaly(id: string): Promise<void> } {
+export interface ReviewDeps {
+  /** Opens a line in the line browser with a trace marked. */
+  openLine?(id: string, markTrace: number): Promise<void>;
+  /** Shows the slice of this index. */
+  setSlice?(k: number): Promise<void>;
+  /** Runs after a decision was saved (the queue recounts). */
+  onSaved?(): void;
+}
+
+export function wireReview(folder: Folder, view: MapView, deps: ReviewDeps = {}): { selectAnomaly(id: string): Promise<void>; save(id: string, change: Record<string, unknown>): Promise<DecisionView | undefined> } {
   const { config, run, velocity, rgIndex, anomalies, targets } = folder;
   const { map } = view;
   const metresPerUnit = run.site.crs.metresPerUnit ?? 1;
@@ -25,6 +34,15 @@ export function wireReview(folder: Folder, view: MapView): { selectAnomaly(id: s
     }
     return p;
   };
+  const save = async (id: string, change: Record<string, unknown>): Promise<DecisionView | undefined> => {
+    const r = await fetch('api/review', { method: 'POST', headers: { 'Content-Type': 'application/json' }, body: JSON.stringify({ anomalyId: id, ...change }) });
+    const body = (await r.json()) as { error?: string; review?: Folder['review']; decision?: DecisionView };
+    if (!r.ok) throw new Error(body.error ?? `HTTP ${r.status}`);
+    folder.review = body.review ?? folder.review;
+    if (state.selectedAnomaly === id && document.getElementById('decision-status')) $('decision-status').textContent = `Decision: ${body.decision?.decision ?? 'undecided'} (${body.decision?.updatedAt ?? ''})`;
+    deps.onSaved?.();
+    return body.decision;
+  };
   let selectedNumericId: number | undefined;
   const selectAnomaly = async (id: string) => {
     const f = anomalies.features.find((x) => featureId(x) === id);
@@ -38,18 +56,22 @@ export function wireReview(folder: Folder, view: MapView): { selectAnomaly(id: s
       close: () => {
         panel.hidden = true;
         state.selectedAnomaly = null;
-        map.resize();
       },
       save: async (change) => {
-        const r = await fetch('api/review', { method: 'POST', headers: { 'Content-Type': 'application/json' }, body: JSON.stringify({ anomalyId: id, ...change }) });
-        const body = (await r.json()) as { error?: string; review?: Folder['review']; decision?: DecisionView };
-        if (!r.ok) throw new Error(body.error ?? `HTTP ${r.status}`);
-        folder.review = body.review ?? folder.review;
-        $('decision-status').textContent = `Decision: ${body.decision?.decision ?? 'undecided'} (${body.decision?.updatedAt ?? ''})`;
+        await save(id, change);
       },
     });
-    map.resize();
+    // the panel sits in the side column beside the queue: the map keeps its size (no resize, no full repaint)
     const anchor = anchorOf(f);
+    if (anchor) {
+      // bring the anomaly into view when it is off screen
+      const b = map.getBounds();
+      if (!b.contains(anchor)) map.easeTo({ center: anchor, duration: 0 });
+    }
+    // its slice: the first it was found in, else the slice holding its top
+    const p = f.properties ?? {};
+    const sl = Array.isArray(p.slices) && typeof p.slices[0] === 'number' ? (p.slices[0] as number) : sliceOfDepth(Number(p.depthTopM));
+    if (sl >= 0 && sl !== state.sliceIndex && deps.setSlice) void deps.setSlice(sl).catch(report);
     const hit = anchor ? nearestTrace(rgIndex.lines, anchor[0], anchor[1]) : undefined;
     if (!hit) {
       radargramNote.textContent = 'No radargram in this output folder.';
@@ -77,6 +99,11 @@ export function wireReview(folder: Folder, view: MapView): { selectAnomaly(id: s
     radargramNote.textContent = `Line ${line.id}, nearest trace ${hit[1] * (line.traceStep ?? 1)} at ${hit[2].toFixed(2)} m; ${hyps.length} fitted hyperbola(s) on this line (apex marked).`;
     canvas.dataset.line = line.id;
     canvas.dataset.hyperbolas = String(hyps.length);
+    if (deps.openLine) await deps.openLine(line.id, hit[1]);
+  };
+  const sliceOfDepth = (z: number) => {
+    const slices = (folder.slicesJson?.slices ?? []).slice().sort((a, b) => a.topM - b.topM);
+    return slices.findIndex((s) => z >= s.topM && z < s.bottomM);
   };
   handle.selectAnomaly = selectAnomaly;
   for (const id of ['anomalies-fill', 'anomalies-point', 'anomalies-line']) {
@@ -108,7 +135,7 @@ export function wireReview(folder: Folder, view: MapView): { selectAnomaly(id: s
       out.replaceChildren(h('div', { class: 'err', id: 'export-error' }, (e as Error).message), h('div', { class: 'cautions' }, cautionList(config)));
     }
   });
-  return { selectAnomaly };
+  return { selectAnomaly, save };
 }
 
 /** Where an anomaly's radargram is looked for: its lon/lat or centroid property, else the mean of its vertices. */

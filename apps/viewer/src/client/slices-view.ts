@@ -7,7 +7,7 @@ import { gridCornersWgs84 } from './geo';
 import type { MapView } from './map-view';
 import { SliceSource, type BandRaster } from './slice-source';
 import { $, depthText, handle, report, state } from './state';
-import { SLICE_BEFORE_ID, anomalyOpacity, forecastFilter } from './style';
+import { SLICE_BEFORE_ID, anomalyOpacity, buildingHeight, forecastFilter } from './style';
 
 /** The depth slices on the map: one slice in 2D, a translucent stack in 3D, the colour bar, the depth label. */
 export interface SlicesView {
@@ -32,6 +32,8 @@ export interface SliceData {
   source: SliceSource | undefined;
   nodata: number | null;
   corners: [number, number][] | undefined;
+  /** How cells were gridded (slices.json `gridding.mode`). */
+  mode: string;
 }
 
 export async function openSlices(folder: Folder): Promise<SliceData> {
@@ -43,11 +45,13 @@ export async function openSlices(folder: Folder): Promise<SliceData> {
   const source = slices.length ? await SliceSource.open(dataUrl('slices.tif')) : undefined;
   const nodata = source?.nodata ?? (typeof slicesJson?.nodata === 'number' ? slicesJson.nodata : null);
   const corners = source ? gridCornersWgs84(source.geo, run.site.crs.proj4 ?? run.site.crs.input!) : undefined;
-  return { slices, sampleOf, source, nodata, corners };
+  return { slices, sampleOf, source, nodata, corners, mode: slicesJson?.gridding?.mode ?? 'mean-square' };
 }
 
 export function createSlicesView(data: SliceData, view: MapView, t0: number): SlicesView {
-  const { slices, sampleOf, source, nodata, corners } = data;
+  const { slices, sampleOf, source, nodata, corners, mode } = data;
+  // the value of a cell: the slice window's mean square (or mean absolute) processed amplitude, in the recorded units of the data
+  const sliceUnit = mode === 'mean-abs' ? 'mean |amplitude| in the slice window (data units)' : 'mean square amplitude in the slice window (data units squared)';
   const { map, overlay } = view;
 
   const current = () => slices[state.sliceIndex];
@@ -78,6 +82,7 @@ export function createSlicesView(data: SliceData, view: MapView, t0: number): Sl
       ctx.fillStyle = `rgb(${lut[i * 3]},${lut[i * 3 + 1]},${lut[i * 3 + 2]})`;
       ctx.fillRect(x, 0, 1, c.height);
     }
+    $('cb-unit').textContent = sliceUnit;
     $('cb-lo').textContent = `${+state.clipValues[0].toPrecision(3)} (p${state.clipLo})`;
     $('cb-hi').textContent = `${+state.clipValues[1].toPrecision(3)} (p${state.clipHi})`;
   };
@@ -158,6 +163,7 @@ export function createSlicesView(data: SliceData, view: MapView, t0: number): Sl
     const ff = forecastFilter(s.index ?? state.sliceIndex, s.band, s.topM, s.bottomM);
     map.setFilter('forecast-line', ['all', ['in', ['geometry-type'], ['literal', ['LineString', 'MultiLineString', 'Polygon', 'MultiPolygon']]], ff]);
     map.setFilter('forecast-point', ['all', ['in', ['geometry-type'], ['literal', ['Point', 'MultiPoint']]], ff]);
+    if (map.getLayer('plan-buildings')) map.setPaintProperty('plan-buildings', 'fill-extrusion-height', buildingHeight(state.mode));
   };
 
   const setSlice = async (k: number) => {
@@ -175,6 +181,7 @@ export function createSlicesView(data: SliceData, view: MapView, t0: number): Sl
     state.mode = m;
     mode3d.checked = m === '3d';
     map.easeTo(m === '3d' ? { pitch: 60, bearing: -25, duration: 0 } : { pitch: 0, bearing: 0, duration: 0 });
+    applyDepthStyling();
     requestDraw();
     await drawing;
   };

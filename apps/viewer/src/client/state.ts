@@ -1,6 +1,7 @@
 import type { Map as MlMap } from 'maplibre-gl';
 import { LAYER_GROUPS } from './style';
 import { h } from './panel';
+import type { LineBrowserState } from './line-browser';
 
 /** What the viewer shows; read by the browser tests through `window.__lamina`. */
 export interface ViewerState {
@@ -39,6 +40,17 @@ export interface LaminaHandle {
   /** RGBA of the map canvas at a lon/lat (needs preserveDrawingBuffer, set here). */
   samplePixel(lon: number, lat: number): [number, number, number, number] | null;
   project(lon: number, lat: number): { x: number; y: number } | null;
+  /** The line browser: its state, `openLine(id)`, and page coordinates of (stored trace, ns after time-zero). */
+  line?: LineBrowserState;
+  openLine(id: string): Promise<void>;
+  lineToCanvas(trace: number, timeNs: number): { x: number; y: number } | null;
+  drawLine(): void;
+  /** Page coordinates of the match's flank handle, or null. */
+  flankHandle(): { x: number; y: number } | null;
+  /** The review queue: ids of the listed rows in order, and the counts shown. */
+  queue?: { rows: string[]; counts: { total: number; reviewed: number; left: number; accepted: number; rejected: number }; saving: number };
+  /** Last cursor readout over the map: site CRS and WGS84 coordinates. */
+  cursor?: { x: number; y: number; lon: number; lat: number } | null;
 }
 
 declare global {
@@ -80,6 +92,10 @@ export const handle: LaminaHandle = {
   whenIdle: async () => undefined,
   samplePixel: () => null,
   project: () => null,
+  openLine: async () => undefined,
+  lineToCanvas: () => null,
+  drawLine: () => undefined,
+  flankHandle: () => null,
 };
 
 /** The page is ready (or failed for good): tests waiting on `readyPromise` go on. */

@@ -7,7 +7,7 @@ export const PLAN_COLOURS = { building: '#8d99ae', wall: '#3d405b', fence: '#6c7
 /** Layer groups the user toggles, each a set of maplibre layer ids (the slice raster is deck.gl). */
 export const LAYER_GROUPS: { id: string; label: string; layers: string[] }[] = [
   { id: 'slice', label: 'Depth slice', layers: [] },
-  { id: 'lines', label: 'Survey lines', layers: ['survey-lines'] },
+  { id: 'lines', label: 'Survey lines', layers: ['survey-lines', 'survey-lines-hit', 'survey-line-open'] },
   { id: 'buildings', label: 'Buildings', layers: ['plan-buildings'] },
   { id: 'walls', label: 'Walls', layers: ['plan-walls'] },
   { id: 'fences', label: 'Fences', layers: ['plan-fences'] },
@@ -25,6 +25,9 @@ const kind = (k: string | string[]): ExpressionSpecification =>
 const isLine: ExpressionSpecification = ['in', ['geometry-type'], ['literal', ['LineString', 'MultiLineString']]];
 const isPoly: ExpressionSpecification = ['in', ['geometry-type'], ['literal', ['Polygon', 'MultiPolygon']]];
 const isPoint: ExpressionSpecification = ['in', ['geometry-type'], ['literal', ['Point', 'MultiPoint']]];
+/** The anomaly selected in the panel or the queue (maplibre feature state). */
+const selected: ExpressionSpecification = ['boolean', ['feature-state', 'selected'], false];
+export const SELECTED_COLOUR = '#ffb000';
 /** A target accepted in review (targets.geojson `decision`); every other target is a candidate. */
 const accepted: ExpressionSpecification = ['==', ['get', 'decision'], 'accepted'];
 
@@ -38,7 +41,7 @@ export function utilityColour(apwa: Record<string, { hex: string }>): Expression
 export function anomalyOpacity(topM: number, bottomM: number, base: number): ExpressionSpecification {
   const conf: ExpressionSpecification = ['max', 0.15, ['min', 1, ['to-number', ['coalesce', ['get', 'confidence'], 0.5]]]];
   const inDepth: ExpressionSpecification = ['all', ['<=', ['to-number', ['get', 'depthTopM']], bottomM], ['>=', ['to-number', ['get', 'depthBottomM']], topM]];
-  return ['case', inDepth, ['*', base, conf], base * 0.15];
+  return ['case', ['boolean', ['feature-state', 'selected'], false], 1, inDepth, ['*', base, conf], base * 0.15];
 }
 
 /** Forecast loci of the current slice: by `slice`/`band`/`sliceIndex`, else by depth overlap. */
@@ -56,7 +59,7 @@ export function forecastFilter(index: number, band: number, topM: number, bottom
 
 export function siteSources(): Record<string, SourceSpecification> {
   const src = (): SourceSpecification => ({ type: 'geojson', data: { type: 'FeatureCollection', features: [] } });
-  return { plan: src(), lines: src(), anomalies: src(), forecast: src(), targets: src() };
+  return { plan: src(), lines: src(), anomalies: src(), forecast: src(), targets: src(), cursor: src() };
 }
 
 export function siteLayers(apwa: Record<string, { hex: string }>): LayerSpecification[] {
@@ -65,9 +68,12 @@ export function siteLayers(apwa: Record<string, { hex: string }>): LayerSpecific
     { id: 'plan-other-fill', type: 'fill', source: 'plan', filter: ['all', kind('other'), isPoly], paint: { 'fill-color': PLAN_COLOURS.other, 'fill-opacity': 0.35 } },
     { id: 'plan-other-line', type: 'line', source: 'plan', filter: ['all', kind('other'), isLine], paint: { 'line-color': PLAN_COLOURS.other, 'line-width': 2 } },
     { id: 'survey-lines', type: 'line', source: 'lines', paint: { 'line-color': PLAN_COLOURS.lines, 'line-width': 1, 'line-opacity': 0.7 } },
+    // the line open in the line browser, and a wide invisible copy of the lines to click on
+    { id: 'survey-line-open', type: 'line', source: 'lines', filter: ['==', ['get', 'id'], ''], paint: { 'line-color': '#f4a261', 'line-width': 4 } },
+    { id: 'survey-lines-hit', type: 'line', source: 'lines', paint: { 'line-color': '#000', 'line-width': 10, 'line-opacity': 0 } },
     { id: 'anomalies-fill', type: 'fill', source: 'anomalies', filter: isPoly, paint: { 'fill-color': originColour, 'fill-opacity': anomalyOpacity(-1e9, 1e9, 0.3) } },
-    { id: 'anomalies-line', type: 'line', source: 'anomalies', filter: ['any', isPoly, isLine], paint: { 'line-color': originColour, 'line-width': ['case', ['boolean', ['feature-state', 'selected'], false], 4, 2], 'line-opacity': anomalyOpacity(-1e9, 1e9, 1) } },
-    { id: 'anomalies-point', type: 'circle', source: 'anomalies', filter: isPoint, paint: { 'circle-color': originColour, 'circle-radius': 7, 'circle-opacity': anomalyOpacity(-1e9, 1e9, 1), 'circle-stroke-color': '#000', 'circle-stroke-width': ['case', ['boolean', ['feature-state', 'selected'], false], 3, 1] } },
+    { id: 'anomalies-line', type: 'line', source: 'anomalies', filter: ['any', isPoly, isLine], paint: { 'line-color': ['case', selected, SELECTED_COLOUR, originColour], 'line-width': ['case', selected, 4, 2], 'line-opacity': anomalyOpacity(-1e9, 1e9, 1) } },
+    { id: 'anomalies-point', type: 'circle', source: 'anomalies', filter: isPoint, paint: { 'circle-color': originColour, 'circle-radius': 7, 'circle-opacity': anomalyOpacity(-1e9, 1e9, 1), 'circle-stroke-color': ['case', selected, SELECTED_COLOUR, '#000'], 'circle-stroke-width': ['case', selected, 3, 1] } },
     { id: 'forecast-line', type: 'line', source: 'forecast', filter: isLine, paint: { 'line-color': PLAN_COLOURS.forecast, 'line-width': 2, 'line-dasharray': [2, 2] } },
     { id: 'forecast-point', type: 'circle', source: 'forecast', filter: isPoint, paint: { 'circle-color': 'rgba(0,0,0,0)', 'circle-radius': 6, 'circle-stroke-color': PLAN_COLOURS.forecast, 'circle-stroke-width': 2 } },
     // targets.geojson: accepted in review (solid) apart from candidates nobody reviewed (dashed, thinner)
@@ -91,9 +97,17 @@ export function siteLayers(apwa: Record<string, { hex: string }>): LayerSpecific
       type: 'fill-extrusion',
       source: 'plan',
       filter: kind('building'),
-      paint: { 'fill-extrusion-color': PLAN_COLOURS.building, 'fill-extrusion-height': ['to-number', ['coalesce', ['get', 'heightM'], 3]], 'fill-extrusion-opacity': 0.85 },
+      // flat in 2D (a plan), extruded by `buildingHeight` in 3D
+      paint: { 'fill-extrusion-color': PLAN_COLOURS.building, 'fill-extrusion-height': 0, 'fill-extrusion-opacity': 0.85 },
     },
+    // where the line browser's cursor is on the ground
+    { id: 'cursor-point', type: 'circle', source: 'cursor', paint: { 'circle-color': '#f4a261', 'circle-radius': 6, 'circle-stroke-color': '#000', 'circle-stroke-width': 2 } },
   ];
+}
+
+/** Building extrusion: their height in 3D, none in 2D. */
+export function buildingHeight(mode: '2d' | '3d'): ExpressionSpecification | number {
+  return mode === '3d' ? ['to-number', ['coalesce', ['get', 'heightM'], 3]] : 0;
 }
 
 /** The offline style: a plain background and the site's own layers; no glyphs, sprites or tiles. */

@@ -7,7 +7,19 @@ import { contentType } from './mime';
 import { parseRange, resolveInside } from './paths';
 import { decisionInputSchema, HttpError, ReviewStore } from './review-store';
 import { DIST_DIR } from './build';
-import { CAUTIONS } from '@lamina/constants';
+import { CAUTION, CAUTIONS } from '@lamina/constants';
+import { PicksStore, pickInputSchema } from './picks-store';
+import { fitHere, fitInputSchema } from './fit-here';
+import type { z } from 'zod';
+
+function parseBody<T>(schema: z.ZodType<T>, body: unknown): T {
+  const parsed = schema.safeParse(body);
+  if (!parsed.success) {
+    const i = parsed.error.issues[0]!;
+    throw new HttpError(400, `${i.path.join('.') || '(body)'}: ${i.message}`);
+  }
+  return parsed.data;
+}
 
 export interface ViewerServerOptions {
   /** @default 0 (a free port) */
@@ -26,6 +38,7 @@ export interface ViewerServer {
   port: number;
   server: Server;
   store: ReviewStore;
+  picks: PicksStore;
   close(): Promise<void>;
 }
 
@@ -96,7 +109,8 @@ async function sendFile(req: IncomingMessage, res: ServerResponse, root: string,
 
 /**
  * The local server of `lamina view`: the built viewer at `/`, the output folder (read-only) under
- * `/data/`, and a JSON API: GET /api/config, GET|POST /api/review, POST /api/export.
+ * `/data/`, and a JSON API: GET /api/config, GET|POST /api/review, GET|POST /api/picks (picks.json),
+ * POST /api/picks/remove, POST /api/fit (the automatic fitter near a point of a line), POST /api/export.
  * Binds 127.0.0.1 unless `host` says otherwise; on a loopback bind it answers only requests whose Host
  * header names a loopback address (a guard against DNS rebinding), and POSTs only same-origin JSON.
  */
@@ -105,6 +119,7 @@ export async function startViewerServer(outDir: string, options: ViewerServerOpt
   const dist = resolve(options.distDir ?? DIST_DIR);
   const host = options.host ?? '127.0.0.1';
   const store = new ReviewStore(root);
+  const picks = new PicksStore(root);
   const loopbackBind = LOOPBACK.has(host);
   let port = options.port ?? 0;
 
@@ -127,6 +142,7 @@ export async function startViewerServer(outDir: string, options: ViewerServerOpt
           utilityTypes: UTILITY_TYPES,
           apwa: APWA_COLOURS,
           cautions: CAUTIONS,
+          caution: CAUTION,
         });
         return;
       }
@@ -142,6 +158,24 @@ export async function startViewerServer(outDir: string, options: ViewerServerOpt
           throw new HttpError(400, `${i.path.join('.') || '(body)'}: ${i.message}`);
         }
         sendJson(res, 200, await store.apply(parsed.data));
+        return;
+      }
+      if (path === '/api/picks' && method === 'GET') {
+        sendJson(res, 200, await picks.read());
+        return;
+      }
+      if (path === '/api/picks' && method === 'POST') {
+        sendJson(res, 200, await picks.add(parseBody(pickInputSchema, await readBody(req))));
+        return;
+      }
+      if (path === '/api/picks/remove' && method === 'POST') {
+        const { index } = (await readBody(req)) as { index?: unknown };
+        if (typeof index !== 'number' || !Number.isInteger(index)) throw new HttpError(400, `index: expected an integer, found ${JSON.stringify(index)}`);
+        sendJson(res, 200, await picks.remove(index));
+        return;
+      }
+      if (path === '/api/fit' && method === 'POST') {
+        sendJson(res, 200, { fit: await fitHere(root, parseBody(fitInputSchema, await readBody(req))) });
         return;
       }
       if (path === '/api/export' && method === 'POST') {
@@ -190,6 +224,7 @@ export async function startViewerServer(outDir: string, options: ViewerServerOpt
     port,
     server,
     store,
+    picks,
     close: () =>
       new Promise<void>((ok) => {
         server.closeAllConnections();
