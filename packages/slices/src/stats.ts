@@ -101,7 +101,8 @@ async function orderStatistics(strips: (each: (v: Float32Array) => void) => Prom
     for (let i = 0; i < v.length; i++) {
       const x = v[i]!;
       if (x !== x || x === nodata) continue;
-      high[sortable(b[i]!) >>> 16]++;
+      const h = sortable(b[i]!) >>> 16;
+      high[h] = high[h]! + 1;
     }
   });
   // the high bin of each rank and the rank within it
@@ -122,7 +123,7 @@ async function orderStatistics(strips: (each: (v: Float32Array) => void) => Prom
       if (x !== x || x === nodata) continue;
       const key = sortable(b[i]!);
       const hist = low.get(key >>> 16);
-      if (hist) hist[key & 0xffff]++;
+      if (hist) hist[key & 0xffff] = hist[key & 0xffff]! + 1;
     }
   });
   const f = new Float32Array(1);
