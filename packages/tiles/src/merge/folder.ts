@@ -1,7 +1,7 @@
 /** The rest of a merged output folder: lines, plan, radargrams, velocity.json and run.json. */
 import { copyFile, link, mkdir, open, readFile, writeFile } from 'node:fs/promises';
 import { basename, join } from 'node:path';
-import { checkContract, parseJsonText, planSchema, radargramIndexSchema, type RunJson, type SiteIdentity } from '@lamina/contracts';
+import { checkContract, parseJsonText, planSchema, radargramIndexSchema, velocitySchema, type RunJson, type SiteIdentity } from '@lamina/contracts';
 import { shownPath } from '@lamina/site';
 import { streamFeatures } from '@lamina/targets';
 import { ownerTile } from '../manifest';
@@ -82,18 +82,18 @@ export async function mergePlan(inputs: MergeInputs, stageDir: string): Promise<
  */
 export async function mergeVelocity(inputs: MergeInputs, stageDir: string): Promise<number> {
   const { manifest, tiles } = inputs;
-  const survey = manifest.velocity ? (JSON.parse(await readFile(join(inputs.dir, manifest.velocity), 'utf8')) as Record<string, unknown>) : undefined;
-  const first = tiles[0]!.velocity;
-  const site = { ...(survey?.site as object | undefined ?? first.site), note: `the survey's model${manifest.velocity ? ` (${manifest.velocity} of the tiles)` : ''}; the fits of ${tiles.length} tiles are listed, each where its tile's core holds it` };
+  const survey = manifest.velocity ? (JSON.parse(await readFile(join(inputs.dir, manifest.velocity), 'utf8')) as { site?: object }) : undefined;
+  const read = async (dir: string) => (await readChecked(join(dir, 'velocity.json'), velocitySchema)) as Record<string, unknown> & { hyperbolas?: Record<string, unknown>[] };
+  const first = await read(tiles[0]!.outDir);
+  const site = { ...(survey?.site ?? first.site as object), note: `the survey's model${manifest.velocity ? ` (${manifest.velocity} of the tiles)` : ''}; the fits of ${tiles.length} tiles are listed, each where its tile's core holds it` };
   const fh = await open(join(stageDir, 'velocity.json'), 'w');
   let n = 0;
   try {
-    const { hyperbolas: _, ...head } = { ...first, site, model: first.model } as Record<string, unknown>;
+    const { hyperbolas: _, ...head } = { ...first, site };
     const h = JSON.stringify(head);
     await fh.write(`${h.slice(0, -1)},"hyperbolas":[`);
     for (const t of tiles)
-      for (const hb of t.velocity.hyperbolas ?? []) {
-        const r = hb as Record<string, unknown>;
+      for (const r of (t === tiles[0] ? first : await read(t.outDir)).hyperbolas ?? []) {
         if (typeof r.x !== 'number' || typeof r.y !== 'number' || ownerTile(manifest, r.x, r.y)?.id !== t.entry.id) continue;
         await fh.write((n++ > 0 ? ',\n' : '\n') + JSON.stringify({ ...r, line: `${t.entry.id}/${String(r.line)}` }));
       }

@@ -13,7 +13,8 @@ export interface MergeTile {
   outDir: string;
   run: RunJson;
   slices: SlicesJson;
-  velocity: VelocityJson;
+  /** The site figures and the model of its velocity.json (its fits are read again when written: they grow with the tile). */
+  velocity: Pick<VelocityJson, 'site' | 'model'>;
 }
 
 export interface MergeInputs {
@@ -56,8 +57,8 @@ export async function readMergeInputs(tilesPath: string): Promise<MergeInputs> {
     const name = `${manifest.site.name}-${entry.id}`;
     if (run.site.name !== name) throw new InputError(shownPath(runFile), `expected the output of tile site "${name}", found "${run.site.name}"`, { field: 'site.name' });
     const velocityFile = join(outDir, 'velocity.json');
-    const velocity = checkContract(velocitySchema, await readJson(velocityFile), shownPath(velocityFile));
-    tiles.push({ entry, outDir, run, slices: await readSlicesJson(outDir), velocity });
+    const { site, model } = checkContract(velocitySchema, await readJson(velocityFile), shownPath(velocityFile));
+    tiles.push({ entry, outDir, run, slices: await readSlicesJson(outDir), velocity: { site, model } });
   }
   const first = tiles[0]!;
   const cell = first.slices.cellSize;
