@@ -12,7 +12,7 @@ import { fileURLToPath } from 'node:url';
 import { promisify } from 'node:util';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { FOLDER_FILES, checkFolder } from '@lamina/contracts';
-import { runPython } from '@lamina/test-utils';
+import { runPython, validateCog } from '@lamina/test-utils';
 import { expectMosaicOfCores } from './merge-compare';
 
 const run = promisify(execFile);
@@ -91,6 +91,8 @@ describe('lamina merge', () => {
     expect(await checkFolder(out)).toEqual(FOLDER_FILES.map(([f]) => f));
     for (const f of ['targets.gpkg', 'targets.csv', 'targets.dxf', 'report.html', 'slices.tif']) expect(existsSync(join(out, f)), f).toBe(true);
     expectMosaicOfCores(tiles, out);
+    const cog = validateCog(join(out, 'slices.tif')); // GDAL's COG validator (osgeo_utils), --full-check=yes
+    expect(cog.ok, cog.output).toBe(true);
 
     const run = json<{ site: { name: string }; merge: { tiles: number } }>(join(out, 'run.json'));
     expect(run.site.name).toBe('tiny');
