@@ -1,5 +1,6 @@
 // Peak memory of `lamina merge` against the survey size: a site (LAMINA_BENCH_MERGE_SITES, comma list of
-// site folders, e.g. those `LAMINA_BENCH_SCALE_KEEP=1 pnpm bench scale` keeps) is cut by `lamina tiles`,
+// site folders, e.g. those `LAMINA_BENCH_SCALE_KEEP=1 pnpm bench scale` keeps) is fitted once
+// (`lamina velocity`, the one model every tile must share), cut by `lamina tiles --velocity`,
 // every tile processed by `lamina process-tile` (two at a time, one thread each), and the tiles merged
 // by the built CLI under `/usr/bin/time -v` (peak RSS of the whole process). Figures: tiles, mosaic
 // cells, anomalies, wall s, peak RSS MB; with LAMINA_BENCH_MERGE_UNTILED=1 also the untiled `lamina process`
@@ -53,7 +54,8 @@ for (const site of sites) {
   const work = `${site}-merge-bench`;
   rmSync(work, { recursive: true, force: true });
   const tilesDir = join(work, 'tiles');
-  spawnSync(process.execPath, [cli, 'tiles', site, '--size', size, '--overlap', overlap, '--out', tilesDir], { cwd: root, env, stdio: 'ignore' });
+  spawnSync(process.execPath, [cli, 'velocity', site, '--out', join(work, 'survey'), '--threads', '2'], { cwd: root, env, stdio: 'ignore' });
+  spawnSync(process.execPath, [cli, 'tiles', site, '--size', size, '--overlap', overlap, '--velocity', join(work, 'survey', 'velocity.json'), '--out', tilesDir], { cwd: root, env, stdio: 'ignore' });
   const n = (JSON.parse(readFileSync(join(tilesDir, 'tiles.json'), 'utf8')) as { tiles: unknown[] }).tiles.length;
   const tilesS = await processTiles(tilesDir, n, 2);
   const merge = timed(['merge', tilesDir, '--out', join(work, 'merged'), '-q']);
