@@ -54,8 +54,13 @@ for (const site of sites) {
   const work = `${site}-merge-bench`;
   rmSync(work, { recursive: true, force: true });
   const tilesDir = join(work, 'tiles');
-  spawnSync(process.execPath, [cli, 'velocity', site, '--out', join(work, 'survey'), '--threads', '2'], { cwd: root, env, stdio: 'ignore' });
-  spawnSync(process.execPath, [cli, 'tiles', site, '--size', size, '--overlap', overlap, '--velocity', join(work, 'survey', 'velocity.json'), '--out', tilesDir], { cwd: root, env, stdio: 'ignore' });
+  for (const args of [
+    ['velocity', site, '--out', join(work, 'survey')],
+    ['tiles', site, '--size', size, '--overlap', overlap, '--velocity', join(work, 'survey', 'velocity.json'), '--out', tilesDir],
+  ]) {
+    const r = spawnSync(process.execPath, [cli, ...args], { cwd: root, env: { ...env, LAMINA_THREADS: '2' }, encoding: 'utf8' });
+    if (r.status !== 0) throw new Error(`lamina ${args[0]} failed: ${r.stderr}`);
+  }
   const n = (JSON.parse(readFileSync(join(tilesDir, 'tiles.json'), 'utf8')) as { tiles: unknown[] }).tiles.length;
   const tilesS = await processTiles(tilesDir, n, 2);
   const merge = timed(['merge', tilesDir, '--out', join(work, 'merged'), '-q']);
