@@ -124,7 +124,11 @@ export async function mergeAnomalies(inputs: MergeInputs, stageDir: string): Pro
     const parent = pieces.map((_, i) => i);
     const find = (i: number): number => (parent[i] === i ? i : (parent[i] = find(parent[i]!)));
     const byTile = new Map<string, number[]>();
-    for (const [i, q] of pieces.entries()) byTile.set(q.tile.entry.id, [...(byTile.get(q.tile.entry.id) ?? []), i]);
+    for (const [i, q] of pieces.entries()) {
+      const list = byTile.get(q.tile.entry.id);
+      if (list) list.push(i);
+      else byTile.set(q.tile.entry.id, [i]);
+    }
     for (const [i, p] of pieces.entries())
       for (const s of ['east', 'north'] as const) {
         const ip = p.contacts[s];
@@ -138,7 +142,11 @@ export async function mergeAnomalies(inputs: MergeInputs, stageDir: string): Pro
         }
       }
     const groups = new Map<number, Piece[]>();
-    for (const [i, q] of pieces.entries()) groups.set(find(i), [...(groups.get(find(i)) ?? []), q]);
+    for (const [i, q] of pieces.entries()) {
+      const g = groups.get(find(i));
+      if (g) g.push(q);
+      else groups.set(find(i), [q]);
+    }
     for (const group of groups.values()) {
       if (group.length === 1) {
         await part.add(group[0]!.feature);
