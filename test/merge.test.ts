@@ -42,7 +42,12 @@ beforeAll(async () => {
   tiles = join(work, 'tiles');
   await lamina('tiles', join(work, 'site'), '--size', '3', '--overlap', '1', '--velocity', join(work, 'survey', 'velocity.json'), '--out', tiles);
   manifest = json(join(tiles, 'tiles.json'));
-  for (let i = 0; i < manifest.tiles.length; i++) await lamina('process-tile', join(tiles, 'tiles.json'), '--index', String(i), '-q');
+  // two tiles at a time (one thread each), as `run-parallel.sh` would on two cores
+  let next = 0;
+  const worker = async () => {
+    for (let i = next++; i < manifest.tiles.length; i = next++) await lamina('process-tile', join(tiles, 'tiles.json'), '--index', String(i), '-q');
+  };
+  await Promise.all([worker(), worker()]);
 }, 600_000);
 
 describe('lamina merge', () => {
