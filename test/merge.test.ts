@@ -74,7 +74,7 @@ describe('lamina merge', () => {
     try {
       for (const [field, change] of [
         ['cellSize', (s: Record<string, unknown>) => (s.cellSize = (s.cellSize as number) * 1.5)],
-        ['slices[3]', (s: Record<string, unknown>) => ((s.slices as { topM: number }[])[3]!.topM += 0.01)],
+        ['slices[3]', (s: Record<string, unknown>) => ((s.slices as { topM: number }[])[3]!.topM += 0.05)],
       ] as const) {
         const s = JSON.parse(saved) as Record<string, unknown>;
         change(s);

@@ -40,8 +40,9 @@ async function readJson(file: string): Promise<unknown> {
 
 /**
  * Reads tiles.json and every tile's output folder. Refuses (an InputError naming the tile's file) a tile
- * not processed yet, or one whose CRS, cell size or grid alignment, nodata, depth windows or velocity model
- * differ from the first tile's: the mosaic and the joins across tile edges need all of them the same.
+ * not processed yet, or one whose CRS, cell size or grid alignment, nodata, depth windows (their number,
+ * or an edge more than one sample's depth away) or velocity model differ from the first tile's: the
+ * mosaic and the joins across tile edges need all of them the same.
  */
 export async function readMergeInputs(tilesPath: string): Promise<MergeInputs> {
   const manifest = await readTilesManifest(tilesPath);
@@ -62,6 +63,14 @@ export async function readMergeInputs(tilesPath: string): Promise<MergeInputs> {
   }
   const first = tiles[0]!;
   const cell = first.slices.cellSize;
+  // A tile's windows reach down to its own shallowest record (its lines' time-zero picks), and the default
+  // thickness follows the velocity at mid-depth: so tiles of one model can place the window edges a
+  // fraction of a sample apart. Edges within one sample's depth (v dt / 2, the fastest layer, the finest
+  // sampling) are the same windows as far as the records can tell; the mosaic takes the first tile's.
+  const dts = tiles.flatMap((t) => (t.run.lines ?? []).map((l) => l.dtNs).filter((v): v is number => v !== undefined && v > 0));
+  const vMax = Math.max(first.velocity.site.velocityMPerNs, ...(first.velocity.model?.layers ?? []).map((l) => l.velocityMPerNs));
+  const sampleDepthM = dts.length > 0 && vMax > 0 ? (vMax * Math.min(...dts)) / 2 : 0;
+  const sameDepth = (a: number, b: number): boolean => same(a, b) || Math.abs(a - b) <= sampleDepthM;
   for (const t of tiles) {
     const file = shownPath(join(t.outDir, 'slices.json'));
     const s = t.slices;
@@ -79,7 +88,7 @@ export async function readMergeInputs(tilesPath: string): Promise<MergeInputs> {
     if (s.slices.length !== f.slices.length) differ('slices', `${f.slices.length} depth windows`, `${s.slices.length}`);
     for (const [k, w] of s.slices.entries()) {
       const g = f.slices[k]!;
-      if (!same(w.topM, g.topM) || !same(w.bottomM, g.bottomM)) differ(`slices[${k}]`, [g.topM, g.bottomM], [w.topM, w.bottomM]);
+      if (!sameDepth(w.topM, g.topM) || !sameDepth(w.bottomM, g.bottomM)) differ(`slices[${k}]`, [g.topM, g.bottomM], [w.topM, w.bottomM]);
     }
     if (JSON.stringify(t.velocity.model) !== JSON.stringify(first.velocity.model)) {
       throw new InputError(shownPath(join(t.outDir, 'velocity.json')), `expected the velocity model of tile ${first.entry.id} in tile ${t.entry.id}, found another: process the tiles with the survey's model (lamina tiles --velocity)`, { field: 'model' });
