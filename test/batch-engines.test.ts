@@ -1,8 +1,10 @@
-// Tiles as a job array on real batch engines (issue 17, parts 1-2): a tiny invented site is fitted once
+// Tiles as a job array on real batch engines (issue 17): a tiny invented site is fitted once
 // (`lamina velocity`), tiled with that model and job files (`lamina tiles --velocity --emit`), and the
 // emitted files are run by GNU parallel and by a single-node Slurm on localhost (Debian's slurm-wlm and
 // munge; the daemons are started and stopped by this test, as root). Every tile must be processed with
-// the survey's one model, and a second submission must skip the finished tiles.
+// the survey's one model, and a second submission must skip the finished tiles. Then `lamina merge`
+// joins the tiles and the result is compared with the untiled `lamina process` of the site with the same
+// model (what is compared and why: test/merge-compare.ts).
 import { execFile, execFileSync, spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { mkdtemp } from 'node:fs/promises';
@@ -11,6 +13,8 @@ import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { promisify } from 'node:util';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { FOLDER_FILES, checkFolder } from '@lamina/contracts';
+import { compareWithUntiled, expectMosaicOfCores } from './merge-compare';
 
 const run = promisify(execFile);
 const root = resolve(dirname(fileURLToPath(import.meta.url)), '..');
@@ -20,10 +24,27 @@ const lamina = (...args: string[]) => run(process.execPath, [cli, ...args], { cw
 
 let work: string;
 
+// 5 m tiles with 2 m of overlap on the 6 x 4 m site: the tile that owns most of it holds every line whole
+// (its core must then equal the untiled run), the others hold pieces of lines.
 async function makeTiles(name: string): Promise<string> {
   const dir = join(work, name);
-  await lamina('tiles', join(work, 'site'), '--size', '3', '--overlap', '1', '--velocity', join(work, 'survey', 'velocity.json'), '--emit', 'slurm,parallel,k8s', '--threads', '1', '--out', dir);
+  await lamina('tiles', join(work, 'site'), '--size', '5', '--overlap', '2', '--velocity', join(work, 'survey', 'velocity.json'), '--emit', 'slurm,parallel,k8s', '--threads', '1', '--out', dir);
   return dir;
+}
+
+/** `lamina merge` of the processed tiles: a complete output folder, its mosaic made of the tiles' cores, and it against the untiled run. */
+async function expectMerged(dir: string): Promise<void> {
+  const out = `${dir}-merged`;
+  const r = await lamina('merge', join(dir, 'tiles.json'), '--out', out, '-q');
+  expect(r.stdout).toMatch(/tiles merged/);
+  expect(await checkFolder(out)).toEqual(FOLDER_FILES.map(([f]) => f));
+  const whole = expectMosaicOfCores(dir, out);
+  expect(whole.length).toBeGreaterThan(0);
+  const c = compareWithUntiled(dir, out, join(work, 'untiled'), whole);
+  expect(c.equalCells).toBeGreaterThan(0);
+  expect(c.objects).toBeGreaterThan(0);
+  // `lamina export` works on the merged folder unchanged
+  expect((await lamina('export', out)).stdout).toMatch(/targets/);
 }
 
 /** Each tile's output holds a finished run whose depth model is the survey's. */
@@ -46,10 +67,11 @@ beforeAll(async () => {
   execFileSync(process.execPath, [join(root, 'apps/cli/build.mjs')], { cwd: root, stdio: 'ignore' });
   await lamina('simulate', join(root, 'test/fixtures/tiny-scenario.json'), '--out', join(work, 'site'));
   await lamina('velocity', join(work, 'site'), '--out', join(work, 'survey'));
+  await lamina('process', join(work, 'site'), '--velocity', join(work, 'survey', 'velocity.json'), '--out', join(work, 'untiled'));
 }, 600_000);
 
 describe('tiles on GNU parallel (Debian parallel)', () => {
-  it('run-parallel.sh processes every tile with the one model; run again, every tile is skipped', async () => {
+  it('run-parallel.sh processes every tile with the one model; run again, every tile is skipped; merged, it matches the untiled run', async () => {
     const dir = await makeTiles('tiles-parallel');
     const first = spawnSync('bash', [join(dir, 'run-parallel.sh')], { env: { ...env, JOBS: '2' }, encoding: 'utf8' });
     expect(first.status, first.stderr).toBe(0);
@@ -64,6 +86,7 @@ describe('tiles on GNU parallel (Debian parallel)', () => {
       const r = await lamina('process-tile', join(dir, 'tiles.json'), '--index', String(i));
       expect(r.stdout).toMatch(/is finished .*: skipped/);
     }
+    await expectMerged(dir);
   }, 600_000);
 });
 
@@ -109,7 +132,7 @@ describe.skipIf(!slurmOk)('tiles on a single-node Slurm (Debian slurm-wlm 22.05,
 
   afterAll(() => stop());
 
-  it('sbatch --wait run-slurm.sbatch: one array task per tile, each with the one model; resubmitted, every task skips', async () => {
+  it('sbatch --wait run-slurm.sbatch: one array task per tile, each with the one model; resubmitted, every task skips; merged, it matches the untiled run', async () => {
     const dir = await makeTiles('tiles-slurm');
     const first = spawnSync('sbatch', ['--wait', 'run-slurm.sbatch'], { cwd: dir, env, encoding: 'utf8', timeout: 900_000 });
     expect(first.status, `${first.stdout}\n${first.stderr}`).toBe(0);
@@ -119,5 +142,6 @@ describe.skipIf(!slurmOk)('tiles on a single-node Slurm (Debian slurm-wlm 22.05,
     const job = /Submitted batch job (\d+)/.exec(again.stdout)![1];
     const m = JSON.parse(readFileSync(join(dir, 'tiles.json'), 'utf8'));
     for (let i = 0; i < m.tiles.length; i++) expect(readFileSync(join(dir, `slurm-${job}_${i}.out`), 'utf8')).toMatch(/is finished .*: skipped/);
+    await expectMerged(dir);
   }, 1_200_000);
 });

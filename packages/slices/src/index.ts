@@ -3,7 +3,7 @@ export { type SliceWindow, type WindowOptions, type SliceMode, defaultThicknessM
 export { type IdwOptions, type SearchFrame, searchFrame, buildIndex, nearestWithin, idwGrid, idwRows, hasNaN } from './idw';
 export { levelLines, levelFactors } from './levelling';
 export { type SurveyGeometry, type LinePositions, type LineQueries, surveyGeometry, surveyGeometryOf, nearestOtherLine, axialDeg, directionGroups } from './survey';
-export { type SliceStats, sliceStats } from './stats';
+export { type SliceStats, type SliceRows, sliceStats, sliceStatsOfRows } from './stats';
 export {
   type LineInput,
   type SliceBuilderOptions,
@@ -14,7 +14,7 @@ export {
   buildSlices,
   defaultWindows,
 } from './builder';
-export { type SlicesJson, type WriteSlicesOptions, SLICES_TIF, SLICES_JSON, epsgOf, writeSlices, readSlices, readSlicesJson } from './io';
+export { type SlicesJson, type WriteSlicesOptions, type SliceDepth, SLICES_TIF, SLICES_JSON, epsgOf, writeSlices, readSlices, readSlicesJson, slicesCogOptions, slicesJsonOf, writeSlicesFiles } from './io';
 export { idwGridParallel } from './idw-parallel';
 export { type GridOptions, resolveGrid } from './grid-options';
 export { PointSpill } from './spill';

@@ -33,3 +33,111 @@ export function sliceStats(values: Float32Array, nodata: number, scratch?: Float
   const a = valid.subarray(0, n);
   return { min, max, mean, std: Math.sqrt(ss / n), p2: quantileInPlace(a, 0.02), p98: quantileInPlace(a, 0.98), validCount: n };
 }
+
+/** Rows of one slice read a strip at a time (a RowSource of @lamina/cog fits). */
+export interface SliceRows {
+  width: number;
+  height: number;
+  readRows(band: number, r0: number, r1: number): Float32Array | Promise<Float32Array>;
+}
+
+/**
+ * `sliceStats` of band `band` of a raster read a strip of `stripRows` rows at a time, so that no whole
+ * slice is held: the same numbers (sums in the same cell order; the quantiles are the same order
+ * statistics, found by a radix selection on the float bits in two more passes). @default stripRows 256
+ */
+export async function sliceStatsOfRows(source: SliceRows, band: number, nodata: number, stripRows = 256): Promise<SliceStats> {
+  const { height } = source;
+  const strips = async (each: (v: Float32Array) => void): Promise<void> => {
+    for (let r0 = 0; r0 < height; r0 += stripRows) each(await source.readRows(band, r0, Math.min(height, r0 + stripRows)));
+  };
+  let n = 0, sum = 0, min = Infinity, max = -Infinity;
+  await strips((v) => {
+    for (let i = 0; i < v.length; i++) {
+      const x = v[i]!;
+      if (x !== x || x === nodata) continue;
+      n++;
+      sum += x;
+      if (x < min) min = x;
+      if (x > max) max = x;
+    }
+  });
+  if (n === 0) return { min: Number.NaN, max: Number.NaN, mean: Number.NaN, std: Number.NaN, p2: Number.NaN, p98: Number.NaN, validCount: 0 };
+  const mean = sum / n;
+  let ss = 0;
+  await strips((v) => {
+    for (let i = 0; i < v.length; i++) {
+      const x = v[i]!;
+      if (x !== x || x === nodata) continue;
+      ss += (x - mean) ** 2;
+    }
+  });
+  const ranks = [0.02, 0.98].flatMap((q) => {
+    const h = (n - 1) * q;
+    const lo = Math.floor(h);
+    return [lo, Math.min(n - 1, lo + 1)];
+  });
+  const ordered = await orderStatistics(strips, nodata, ranks);
+  const quantile = (j: number, q: number): number => {
+    const h = (n - 1) * q;
+    const lo = Math.floor(h);
+    const v = ordered[2 * j]!;
+    if (lo + 1 >= n || h === lo) return v;
+    return v + (h - lo) * (ordered[2 * j + 1]! - v);
+  };
+  return { min, max, mean, std: Math.sqrt(ss / n), p2: quantile(0, 0.02), p98: quantile(1, 0.98), validCount: n };
+}
+
+// Float32 bits in an order that sorts as the numbers do (negatives flipped, positives' sign bit set).
+const sortable = (bits: number): number => (bits & 0x80000000 ? ~bits : bits | 0x80000000) >>> 0;
+const unsortable = (key: number): number => (key & 0x80000000 ? key & 0x7fffffff : ~key) >>> 0;
+
+/** The k-th smallest valid values (0-based ranks) by two histogram passes over the 16 high, then 16 low bits. */
+async function orderStatistics(strips: (each: (v: Float32Array) => void) => Promise<void>, nodata: number, ranks: number[]): Promise<number[]> {
+  const high = new Float64Array(65536);
+  const bitsOf = (v: Float32Array): Uint32Array => new Uint32Array(v.buffer, v.byteOffset, v.length);
+  await strips((v) => {
+    const b = bitsOf(v);
+    for (let i = 0; i < v.length; i++) {
+      const x = v[i]!;
+      if (x !== x || x === nodata) continue;
+      const h = sortable(b[i]!) >>> 16;
+      high[h] = high[h]! + 1;
+    }
+  });
+  // the high bin of each rank and the rank within it
+  const bins = ranks.map((k) => {
+    let below = 0;
+    for (let h = 0; h < 65536; h++) {
+      if (below + high[h]! > k) return { bin: h, rest: k - below };
+      below += high[h]!;
+    }
+    throw new Error(`rank ${k} beyond the valid cells`);
+  });
+  const wanted = [...new Set(bins.map((b) => b.bin))];
+  const low = new Map(wanted.map((h) => [h, new Float64Array(65536)]));
+  await strips((v) => {
+    const b = bitsOf(v);
+    for (let i = 0; i < v.length; i++) {
+      const x = v[i]!;
+      if (x !== x || x === nodata) continue;
+      const key = sortable(b[i]!);
+      const hist = low.get(key >>> 16);
+      if (hist) hist[key & 0xffff] = hist[key & 0xffff]! + 1;
+    }
+  });
+  const f = new Float32Array(1);
+  const u = new Uint32Array(f.buffer);
+  return bins.map(({ bin, rest }) => {
+    const hist = low.get(bin)!;
+    let below = 0;
+    for (let l = 0; l < 65536; l++) {
+      if (below + hist[l]! > rest) {
+        u[0] = unsortable(((bin << 16) | l) >>> 0);
+        return f[0]!;
+      }
+      below += hist[l]!;
+    }
+    throw new Error(`rank ${rest} beyond bin ${bin}`);
+  });
+}

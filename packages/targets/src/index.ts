@@ -18,7 +18,7 @@ export {
 export { exportTargets, EXPORT_FILES, type ExportOptions, type ExportResult } from './export';
 export { targetsGpkg, CUSTOM_SRS_ID, geoJsonWriter, csvWriter, dxfWriter, gpkgWriter, reportWriter, type TargetFileWriter } from './writers';
 export { buildTargets, targetOf, decisionsById, isDropped, rightHandRule, pointAlong, polylineLength, envelope, FOOT_M, type Target, type Dropped, type Geometry } from './targets';
-export { readRun, readAnomalies, streamAnomalies, readVelocity, readSlicesInfo, type RunInfo, type AnomalyFeature, type EvidenceItem, type VelocityInfo, type SlicesInfo, type SliceInfo } from './folder';
+export { readRun, readAnomalies, streamAnomalies, streamFeatures, readVelocity, readSlicesInfo, type RunInfo, type AnomalyFeature, type EvidenceItem, type VelocityInfo, type SlicesInfo, type SliceInfo } from './folder';
 export {
   TARGET_FIELDS,
   CSV_COLUMNS,

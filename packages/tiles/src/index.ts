@@ -3,3 +3,4 @@ export { readTilesManifest, manifestDir, ownerTile, type TileLine, type TileEntr
 export { tracesInBox, tileOf, tileId, type Box } from './grid';
 export { SURVEY_VELOCITY } from './write-tiles';
 export { ENGINES, JOB_FILES, ARRAY_INDEX_VARIABLES, arrayIndexFromEnv, jobFile, tileMemoryMiB, type Engine, type JobOptions } from './jobs';
+export { runMerge, type MergeOptions, type MergeSummary } from './merge/merge';
