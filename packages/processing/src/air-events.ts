@@ -1,0 +1,286 @@
+// Suppression of above-ground (air-wave) diffractions before slicing: migrate at the speed of light so
+// that what travelled through the air focuses, mask the focused points where above-ground objects are
+// known to be, demigrate the masked energy with the exact inverse of the same f-k step and subtract it.
+// The published method: Geophysics 75(6), J43-J50 (2010), "Semiautomated suppression of above-surface
+// diffractions in GPR data".
+//
+// How it shares the work with background removal, and the order: a wall parallel to a line returns a
+// flat event (the same time on every trace) that the whole-line mean trace takes out, so background
+// removal runs first and this step only sees what is left: diffractions of posts, trees, columns and
+// overhead objects, the dipping events of walls and fences crossing the line obliquely, wall ends and the
+// part of a parallel wall's event that the mean of a longer line did not reach. Migration at the soil
+// velocity runs after it, on the cleaned line.
+import { C_M_PER_NS } from '@lamina/constants';
+import type { RadarLine } from '@lamina/radar-data';
+import { bistaticResample, dominantPeriodNs, taperTraceEnds, traceSlots } from './fk';
+import { hilbertEnvelope, hilbertWorkspace } from './envelope';
+import { outputFor, periodNs, withData } from './line-util';
+import { stoltKernel } from './stolt';
+
+/**
+ * Above-ground objects as flat typed arrays (positions in site CRS units, heights in metres):
+ * `points` [x, y, heightM, ...] (posts, trees, columns: height 0, they stand on the ground; an overhead
+ * point: its clearance, the air wave travels the slant distance), `segments` [ax, ay, bx, by, heightM, ...]
+ * (walls, fences, building edges at 0; overhead cables and beams at their clearance), and `apexes`
+ * [trace, t0Ns, ...]: apexes of hyperbolas fitted on this line at the air velocity (two-way time after
+ * time-zero, bistatic).
+ */
+export interface AirObjects {
+  points: Float64Array;
+  segments: Float64Array;
+  apexes?: Float64Array;
+}
+
+export interface AirEventOptions {
+  /** Antenna centre frequency, MHz: sets the mask's size (below). */
+  frequencyMHz: number;
+  /** Antenna separation along the line, m (bistatic times are mapped to zero offset and back). @default 0 */
+  separationM?: number;
+  /** Metres per CRS unit of the positions. @default 1 */
+  metresPerUnit?: number;
+  /**
+   * Dip limit of the f-k step at c. Air-wave hyperbolas of objects near the line are steep; what is
+   * steeper than this stays in the data. @default 80
+   */
+  maxAngleDeg?: number;
+  /** Fraction of the angle range tapered by a cosine. @default 0.1 */
+  taper?: number;
+  /**
+   * Half-height of the mask around a focus, ns: one period of the antenna frequency (a migrated wavelet
+   * lasts about two periods; common practice, no source). @default 1000 / frequencyMHz
+   */
+  timeHalfWidthNs?: number;
+  /**
+   * Half-width of the mask along the line, m: one air wavelength c / f (the focus of a migrated
+   * diffraction is narrower, the rest covers plan positions off by a few decimetres). @default C_M_PER_NS * 1000 / frequencyMHz
+   */
+  lateralHalfWidthM?: number;
+  /** Soil velocity, m/ns: what focuses better at it than at c is kept (see `airEventKernel`). @default undefined */
+  soilVelocityMPerNs?: number;
+}
+
+export interface AirEventResult {
+  line: RadarLine;
+  /** Share of the line's energy the step took out. */
+  removedShare: number;
+  /** Foci the mask was built from (object points that project onto the line, and apexes). */
+  foci: number;
+  /** Share of the image samples under the mask (weight > 0). */
+  maskedShare: number;
+}
+
+/** The resolved settings of `AirEventOptions` (defaults written once, here). */
+function settings(o: AirEventOptions) {
+  const T = periodNs(o.frequencyMHz);
+  return {
+    separationM: o.separationM ?? 0,
+    metresPerUnit: o.metresPerUnit ?? 1,
+    maxAngleDeg: o.maxAngleDeg ?? 80,
+    taper: o.taper ?? 0.1,
+    timeHalfWidthNs: o.timeHalfWidthNs ?? T,
+    lateralHalfWidthM: o.lateralHalfWidthM ?? C_M_PER_NS * T,
+  };
+}
+
+/** Cosine edge: 1 up to `full`, falling to 0 at 1.5 `full`. */
+function edge(d: number, full: number): number {
+  const a = Math.abs(d);
+  if (a <= full) return 1;
+  if (a >= 1.5 * full) return 0;
+  return 0.5 * (1 + Math.cos((Math.PI * (a - full)) / (0.5 * full)));
+}
+
+/**
+ * The mask (weights 0..1, trace-major like the line) on the image of a migration at c with vertical
+ * two-way time on the time axis (sample k at k dt - timeZeroNs). An object point P at horizontal distance
+ * r from the line and height h above the antenna focuses under the trace nearest to it at tau = 2
+ * sqrt(r^2 + h^2) / c: each point of a wall seen along a line is a diffraction of its own, at its
+ * along-line position and perpendicular distance, so the points of every segment (sampled at a quarter
+ * of the mask's width) map the wall's image. Points beyond either end of the line focus outside the
+ * record and are left out. An air-velocity fit's apex (bistatic t0) marks tau = sqrt(t0^2 - (s / c)^2).
+ */
+export function airEventMask(line: RadarLine, objects: AirObjects, options: AirEventOptions, out?: Float32Array): { mask: Float32Array; foci: number } {
+  const s = settings(options);
+  const { nTraces: nt, nSamples: ns, dtNs: dt, timeZeroNs: tz, x, y } = line;
+  const mask = out ?? new Float32Array(nt * ns);
+  mask.fill(0);
+  if (nt < 2) return { mask, foci: 0 };
+  const mpu = s.metresPerUnit;
+  const { spacingM } = traceSlots(line, mpu);
+  const aTr = s.lateralHalfWidthM / spacingM;
+  const bS = s.timeHalfWidthNs / dt;
+  const stamp = (i0: number, tauNs: number): void => {
+    const k0 = (tauNs + tz) / dt;
+    const iLo = Math.max(0, Math.ceil(i0 - 1.5 * aTr));
+    const iHi = Math.min(nt - 1, Math.floor(i0 + 1.5 * aTr));
+    const kLo = Math.max(0, Math.ceil(k0 - 1.5 * bS));
+    const kHi = Math.min(ns - 1, Math.floor(k0 + 1.5 * bS));
+    for (let i = iLo; i <= iHi; i++) {
+      const wi = edge(i - i0, aTr);
+      if (wi === 0) continue;
+      for (let k = kLo; k <= kHi; k++) {
+        const w = wi * edge(k - k0, bS);
+        const q = i * ns + k;
+        if (w > (mask[q] as number)) mask[q] = w;
+      }
+    }
+  };
+  let foci = 0;
+  const pointFocus = (px: number, py: number, h: number): void => {
+    let best = Infinity;
+    let ib = 0;
+    for (let i = 0; i < nt; i++) {
+      const d = ((x[i] as number) - px) ** 2 + ((y[i] as number) - py) ** 2;
+      if (d < best) {
+        best = d;
+        ib = i;
+      }
+    }
+    // beyond an end: the projection on the end step falls outside the line
+    if (ib === 0 || ib === nt - 1) {
+      const j = ib === 0 ? 1 : nt - 2;
+      const ex = (x[ib] as number) - (x[j] as number);
+      const ey = (y[ib] as number) - (y[j] as number);
+      const len = Math.hypot(ex, ey);
+      if (len > 0 && ((px - (x[ib] as number)) * ex + (py - (y[ib] as number)) * ey) / len > 0.5 * len) return;
+    }
+    const r = Math.sqrt(best) * mpu;
+    foci++;
+    stamp(ib, (2 * Math.hypot(r, h)) / C_M_PER_NS);
+  };
+  const p = objects.points;
+  for (let q = 0; q + 2 < p.length; q += 3) pointFocus(p[q] as number, p[q + 1] as number, p[q + 2] as number);
+  const sg = objects.segments;
+  const step = Math.max(1e-6, 0.25 * s.lateralHalfWidthM) / mpu;
+  for (let q = 0; q + 4 < sg.length; q += 5) {
+    const ax = sg[q] as number, ay = sg[q + 1] as number, bx = sg[q + 2] as number, by = sg[q + 3] as number;
+    const h = sg[q + 4] as number;
+    const n = Math.max(1, Math.ceil(Math.hypot(bx - ax, by - ay) / step));
+    for (let j = 0; j <= n; j++) pointFocus(ax + ((bx - ax) * j) / n, ay + ((by - ay) * j) / n, h);
+  }
+  const ap = objects.apexes ?? new Float64Array(0);
+  const direct = s.separationM / C_M_PER_NS;
+  for (let q = 0; q + 1 < ap.length; q += 2) {
+    const i0 = ap[q] as number;
+    const t0 = ap[q + 1] as number;
+    if (!(i0 >= 0 && i0 <= nt - 1) || !(t0 > direct)) continue;
+    foci++;
+    stamp(i0, Math.sqrt(t0 * t0 - direct * direct));
+  }
+  return { mask, foci };
+}
+
+/** Options of `airEventKernel`. */
+export interface AirEventKernelOptions {
+  /** @default 80 */
+  maxAngleDeg?: number;
+  /** @default 0.1 */
+  taper?: number;
+  /**
+   * Soil velocity, m/ns: where the line migrated at it focuses more energy than the image at c (Hilbert
+   * envelopes, sample by sample), the mask is let go, so a buried diffractor whose apex falls on an air
+   * focus keeps its apex. @default undefined (no protection)
+   */
+  soilVelocityMPerNs?: number;
+  /** Half-width (traces) of the neighbourhood the two images' envelope peaks are compared over. @default 1 */
+  lateralHalfWidthTraces?: number;
+  /** Half-height (samples) of that neighbourhood. @default 1 */
+  timeHalfWidthSamples?: number;
+}
+
+/** Hilbert envelope of every trace of a trace-major section. */
+function envelopes(data: Float32Array, nTraces: number, nSamples: number): Float32Array {
+  const ws = hilbertWorkspace(nSamples);
+  const e = new Float32Array(data.length);
+  for (let i = 0; i < nTraces; i++) hilbertEnvelope(data.subarray(i * nSamples, (i + 1) * nSamples), { workspace: ws }, e.subarray(i * nSamples, (i + 1) * nSamples));
+  return e;
+}
+
+/**
+ * The f-k pair at c on a zero-offset line (trace-major, sample k at k dt - timeZeroNs of vertical two-way
+ * time): Stolt migration at c, the image times `mask` (weighed down where the soil-velocity image is the
+ * stronger one), Stolt modelling of the masked image (the exact inverse of the same step inside its dip
+ * limit; no half-integral either way, so the pair is the plain wave-equation one). Returns the masked
+ * energy in data space, zero-offset time.
+ */
+export function airEventKernel(
+  zo: ArrayLike<number>,
+  nTraces: number,
+  nSamples: number,
+  dtNs: number,
+  dxM: number,
+  timeZeroNs: number,
+  mask: ArrayLike<number>,
+  options: AirEventKernelOptions = {},
+  out: Float32Array = new Float32Array(nTraces * nSamples),
+): Float32Array {
+  const kernel = { maxAngleDeg: options.maxAngleDeg ?? 80, taper: options.taper ?? 0.1, apertureM: Infinity, energyTolerance: 1e-6, halfIntegral: false };
+  const img = stoltKernel(zo, nTraces, nSamples, dtNs, dxM, timeZeroNs, C_M_PER_NS, { ...kernel, inverse: false });
+  const w = Float32Array.from(mask);
+  const v = options.soilVelocityMPerNs;
+  if (v !== undefined && v > 0 && v < C_M_PER_NS) {
+    const soil = stoltKernel(zo, nTraces, nSamples, dtNs, dxM, timeZeroNs, v, { ...kernel, inverse: false });
+    const ec = envelopes(img, nTraces, nSamples);
+    const es = envelopes(soil, nTraces, nSamples);
+    // Compared over a neighbourhood: a soil diffraction migrated at c is a smile whose flat bottom is
+    // wider than its focus at v, so sample by sample the smile's shoulders would pass for air foci.
+    const ri = Math.max(1, Math.round(1.5 * (options.lateralHalfWidthTraces ?? 1)));
+    const rk = Math.max(1, Math.round(1.5 * (options.timeHalfWidthSamples ?? 1)));
+    for (let i = 0; i < nTraces; i++) {
+      for (let k = 0; k < nSamples; k++) {
+        const q = i * nSamples + k;
+        if (!((w[q] as number) > 0)) continue;
+        let mc = 0;
+        let ms = 0;
+        for (let j = Math.max(0, i - ri); j <= Math.min(nTraces - 1, i + ri); j++) {
+          for (let m = Math.max(0, k - rk); m <= Math.min(nSamples - 1, k + rk); m++) {
+            const c = ec[j * nSamples + m] as number;
+            const s = es[j * nSamples + m] as number;
+            if (c > mc) mc = c;
+            if (s > ms) ms = s;
+          }
+        }
+        if (ms > mc) w[q] = (w[q] as number) * (mc / ms) ** 4;
+      }
+    }
+  }
+  for (let q = 0; q < img.length; q++) img[q] = (img[q] as number) * (w[q] as number);
+  return stoltKernel(img, nTraces, nSamples, dtNs, dxM, timeZeroNs, C_M_PER_NS, { ...kernel, inverse: true }, out);
+}
+
+/**
+ * Takes air-wave events out of a line: bistatic to zero-offset time at c, the record's end tapered
+ * (as the migrations do), `airEventKernel` with `airEventMask`, back to bistatic time, subtracted from
+ * the line. What focuses elsewhere at c, and everything that does not focus at c (what travelled in
+ * the soil), is left as it was; samples before the direct wave are untouched. `out` may be `line.data`.
+ */
+export function removeAirEvents(line: RadarLine, objects: AirObjects, options: AirEventOptions, out?: Float32Array): AirEventResult {
+  const s = settings(options);
+  const { nTraces: nt, nSamples: ns, dtNs: dt, timeZeroNs: tz } = line;
+  const { src, dst } = outputFor(line, out);
+  const { mask, foci } = airEventMask(line, objects, options);
+  let masked = 0;
+  for (let q = 0; q < mask.length; q++) if ((mask[q] as number) > 0) masked++;
+  if (masked === 0) {
+    dst.set(src);
+    return { line: withData(line, dst), removedShare: 0, foci, maskedShare: 0 };
+  }
+  const air = [{ topM: 0, velocityMPerNs: C_M_PER_NS }];
+  const zo = new Float64Array(src.length);
+  bistaticResample(src, nt, ns, dt, tz, air, s.separationM, true, zo);
+  taperTraceEnds(zo, nt, ns, dt, dominantPeriodNs(zo, nt, ns, dt));
+  const { spacingM } = traceSlots(line, s.metresPerUnit);
+  const part = airEventKernel(zo, nt, ns, dt, spacingM, tz, mask, { maxAngleDeg: s.maxAngleDeg, taper: s.taper, ...(options.soilVelocityMPerNs !== undefined ? { soilVelocityMPerNs: options.soilVelocityMPerNs } : {}), lateralHalfWidthTraces: s.lateralHalfWidthM / spacingM, timeHalfWidthSamples: s.timeHalfWidthNs / dt });
+  const back = new Float32Array(part.length);
+  bistaticResample(part, nt, ns, dt, tz, air, s.separationM, false, back);
+  let eIn = 0;
+  let eOut = 0;
+  for (let q = 0; q < dst.length; q++) {
+    const a = src[q] as number;
+    const b = back[q] as number;
+    dst[q] = a - b;
+    eIn += a * a;
+    eOut += b * b;
+  }
+  return { line: withData(line, dst), removedShare: eIn > 0 ? eOut / eIn : 0, foci, maskedShare: masked / mask.length };
+}
