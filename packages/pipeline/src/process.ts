@@ -15,6 +15,7 @@ import { extents, linesGeoJson, planGeoJson, siteSummary, writeChunks, writeFeat
 import { sliceAndScreen, type Anchored, type Screening } from './slice-and-screen';
 import { addParts, StageTimer, type ProcessTimings } from './timings';
 import { preflight } from './preflight';
+import { airObjectsFor, planAirObjects } from './air-objects';
 import { adoptSurveyVelocity, readSurveyVelocity } from './survey-velocity';
 
 export interface ProcessOptions {
@@ -63,6 +64,12 @@ export interface ProcessOptions {
    * and model are used for depth and screening instead of this run's own fit. @default none
    */
   velocityFile?: string;
+  /**
+   * Leave air-wave events in the data: the recipe's `airEvents` step is dropped (by default it runs when
+   * the plan has above-ground objects near a line or the velocity fits found air-velocity hyperbolas).
+   * @default false
+   */
+  keepAirEvents?: boolean;
 }
 
 export interface ProcessSummary {
@@ -179,7 +186,8 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   const site: Site = { ...loaded, plan: survey.plan };
   const surveyVelocity = options.velocityFile !== undefined ? await readSurveyVelocity(options.velocityFile) : undefined;
   siteLoaded();
-  const recipe: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
+  const asGiven: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
+  const recipe: Recipe = options.keepAirEvents ? { ...asGiven, steps: asGiven.steps.filter((s) => s.step !== 'airEvents') } : asGiven;
   const progress = options.onProgress ?? (() => {});
   const now = options.now ?? new Date();
   const threads = Math.min(options.threads ?? defaultThreads(), site.lines.length);
@@ -228,6 +236,11 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     if (options.failAfter === 'velocity') throw new Error('stopped after velocity (failAfter)');
 
     const windows = sliceWindowsFor(site, p1, velocity, options);
+    // the airEvents step's mask: the plan's above-ground objects and the air-velocity fits of each line
+    const cleanAir = recipe.steps.some((st) => st.step === 'airEvents');
+    const planAir = cleanAir ? planAirObjects(site.plan, site.crs.metresPerUnit) : undefined;
+    const airFits = cleanAir ? (velocity.hyperbolas ?? []).filter((h) => h.origin === 'above-ground') : [];
+    const airRuns = { lines: 0, cleaned: 0, foci: 0, apexes: 0, removed: 0, skipped: '' };
     progress('depth slices', 0, n);
     // Each line's per-trace slice values (after and before background removal, side by side) go to a
     // point spill on disk in line order (so the result does not depend on which worker finished first),
@@ -244,7 +257,17 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       await inOrder(
         n,
         (i) =>
-          exec.run({ kind: 'pass2', siteDir: site.dir, line: i, recipe, model: velocity.model, velocityMPerNs: velocity.site.velocityMPerNs, windows, ...(keepLines ? { keptIn: stage.path } : {}) }).then((res) => {
+          exec.run({
+            kind: 'pass2',
+            siteDir: site.dir,
+            line: i,
+            recipe,
+            model: velocity.model,
+            velocityMPerNs: velocity.site.velocityMPerNs,
+            windows,
+            ...(keepLines ? { keptIn: stage.path } : {}),
+            ...(planAir ? { air: airObjectsFor(planAir, summaries[i]!, p1[i]!.timeZeroNs, airFits, site.crs.metresPerUnit) } : {}),
+          }).then((res) => {
             waiting.set(i, res as Pass2Result);
             addParts(timer.lineMs, (res as Pass2Result).times);
             for (let r = waiting.get(next); r; r = waiting.get(next)) {
@@ -253,6 +276,17 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
               if (next === 0) log = keepLines ? [...(p1[0] as Pass1Result).log, ...r.log] : r.log;
               const ran = r.log.find((e) => e.step === 'migration')?.result?.method;
               if (typeof ran === 'string') methods.set(ran, (methods.get(ran) ?? 0) + 1);
+              const air = r.log.find((e) => e.step === 'airEvents');
+              if (air) {
+                airRuns.lines++;
+                if (air.skipped) airRuns.skipped ||= air.skipped;
+                else {
+                  airRuns.cleaned++;
+                  airRuns.foci += Number(air.result?.foci ?? 0);
+                  airRuns.apexes += Number(air.result?.apexes ?? 0);
+                  airRuns.removed += Number(air.result?.removedShare ?? 0);
+                }
+              }
               waiting.delete(next++);
             }
           }),
@@ -262,6 +296,13 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       pass2Done();
       const mig = log.find((e) => e.step === 'migration');
       if (mig && methods.size > 0) mig.result = { ...mig.result, linesByMethod: Object.fromEntries([...methods].sort()) };
+      // run.json records the step for the whole site (the log is the first line's): on how many lines it ran
+      const airEntry = log.find((e) => e.step === 'airEvents');
+      if (airEntry && airRuns.lines > 0) {
+        const { skipped: _, ...rest } = airEntry;
+        const result = { linesCleaned: airRuns.cleaned, lines: airRuns.lines, foci: airRuns.foci, airFitApexes: airRuns.apexes, meanRemovedShare: airRuns.cleaned ? Math.round((airRuns.removed / airRuns.cleaned) * 1e5) / 1e5 : 0 };
+        log = log.map((e) => (e === airEntry ? (airRuns.cleaned > 0 ? { ...rest, result } : { ...rest, skipped: airRuns.skipped, result }) : e));
+      }
       screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress, timer }, Math.max(1, threads));
     } finally {
       spill.remove();

@@ -39,11 +39,12 @@ export interface AirEventOptions {
   /** Metres per CRS unit of the positions. @default 1 */
   metresPerUnit?: number;
   /**
-   * Dip limit of the f-k step at c. Air-wave hyperbolas of objects near the line are steep; what is
-   * steeper than this stays in the data. @default 80
+   * Dip limit of the f-k step at c. The air-wave hyperbola of an object near the line is steep almost
+   * everywhere (at r = 0.25 m it passes 80 degrees 1.4 m from its apex), and what is steeper than the
+   * limit stays in the data; the exact inverse undoes the forward step up to it. @default 88
    */
   maxAngleDeg?: number;
-  /** Fraction of the angle range tapered by a cosine. @default 0.1 */
+  /** Fraction of the angle range tapered by a cosine. @default 0.05 */
   taper?: number;
   /**
    * Half-height of the mask around a focus, ns: one period of the antenna frequency (a migrated wavelet
@@ -51,8 +52,9 @@ export interface AirEventOptions {
    */
   timeHalfWidthNs?: number;
   /**
-   * Half-width of the mask along the line, m: one air wavelength c / f (the focus of a migrated
-   * diffraction is narrower, the rest covers plan positions off by a few decimetres). @default C_M_PER_NS * 1000 / frequencyMHz
+   * Half-width of the mask along the line, m: half an air wavelength c / (2 f) (the focus of a migrated
+   * diffraction is about a quarter wavelength wide; the rest covers plan positions off by a decimetre or
+   * two). @default C_M_PER_NS * 1000 / frequencyMHz / 2
    */
   lateralHalfWidthM?: number;
   /** Soil velocity, m/ns: what focuses better at it than at c is kept (see `airEventKernel`). @default undefined */
@@ -75,10 +77,10 @@ function settings(o: AirEventOptions) {
   return {
     separationM: o.separationM ?? 0,
     metresPerUnit: o.metresPerUnit ?? 1,
-    maxAngleDeg: o.maxAngleDeg ?? 80,
-    taper: o.taper ?? 0.1,
+    maxAngleDeg: o.maxAngleDeg ?? 88,
+    taper: o.taper ?? 0.05,
     timeHalfWidthNs: o.timeHalfWidthNs ?? T,
-    lateralHalfWidthM: o.lateralHalfWidthM ?? C_M_PER_NS * T,
+    lateralHalfWidthM: o.lateralHalfWidthM ?? (C_M_PER_NS * T) / 2,
   };
 }
 
@@ -109,12 +111,14 @@ export function airEventMask(line: RadarLine, objects: AirObjects, options: AirE
   const { spacingM } = traceSlots(line, mpu);
   const aTr = s.lateralHalfWidthM / spacingM;
   const bS = s.timeHalfWidthNs / dt;
-  const stamp = (i0: number, tauNs: number): void => {
+  /** Stamps the mask around a focus; false when the focus lies outside the record. */
+  const stamp = (i0: number, tauNs: number): boolean => {
     const k0 = (tauNs + tz) / dt;
     const iLo = Math.max(0, Math.ceil(i0 - 1.5 * aTr));
     const iHi = Math.min(nt - 1, Math.floor(i0 + 1.5 * aTr));
     const kLo = Math.max(0, Math.ceil(k0 - 1.5 * bS));
     const kHi = Math.min(ns - 1, Math.floor(k0 + 1.5 * bS));
+    if (kLo > kHi || iLo > iHi) return false;
     for (let i = iLo; i <= iHi; i++) {
       const wi = edge(i - i0, aTr);
       if (wi === 0) continue;
@@ -124,6 +128,7 @@ export function airEventMask(line: RadarLine, objects: AirObjects, options: AirE
         if (w > (mask[q] as number)) mask[q] = w;
       }
     }
+    return true;
   };
   let foci = 0;
   const pointFocus = (px: number, py: number, h: number): void => {
@@ -145,8 +150,7 @@ export function airEventMask(line: RadarLine, objects: AirObjects, options: AirE
       if (len > 0 && ((px - (x[ib] as number)) * ex + (py - (y[ib] as number)) * ey) / len > 0.5 * len) return;
     }
     const r = Math.sqrt(best) * mpu;
-    foci++;
-    stamp(ib, (2 * Math.hypot(r, h)) / C_M_PER_NS);
+    if (stamp(ib, (2 * Math.hypot(r, h)) / C_M_PER_NS)) foci++;
   };
   const p = objects.points;
   for (let q = 0; q + 2 < p.length; q += 3) pointFocus(p[q] as number, p[q + 1] as number, p[q + 2] as number);
@@ -164,17 +168,16 @@ export function airEventMask(line: RadarLine, objects: AirObjects, options: AirE
     const i0 = ap[q] as number;
     const t0 = ap[q + 1] as number;
     if (!(i0 >= 0 && i0 <= nt - 1) || !(t0 > direct)) continue;
-    foci++;
-    stamp(i0, Math.sqrt(t0 * t0 - direct * direct));
+    if (stamp(i0, Math.sqrt(t0 * t0 - direct * direct))) foci++;
   }
   return { mask, foci };
 }
 
 /** Options of `airEventKernel`. */
 export interface AirEventKernelOptions {
-  /** @default 80 */
+  /** @default 88 */
   maxAngleDeg?: number;
-  /** @default 0.1 */
+  /** @default 0.05 */
   taper?: number;
   /**
    * Soil velocity, m/ns: where the line migrated at it focuses more energy than the image at c (Hilbert
@@ -214,7 +217,7 @@ export function airEventKernel(
   options: AirEventKernelOptions = {},
   out: Float32Array = new Float32Array(nTraces * nSamples),
 ): Float32Array {
-  const kernel = { maxAngleDeg: options.maxAngleDeg ?? 80, taper: options.taper ?? 0.1, apertureM: Infinity, energyTolerance: 1e-6, halfIntegral: false };
+  const kernel = { maxAngleDeg: options.maxAngleDeg ?? 88, taper: options.taper ?? 0.05, apertureM: Infinity, energyTolerance: 1e-6, halfIntegral: false };
   const img = stoltKernel(zo, nTraces, nSamples, dtNs, dxM, timeZeroNs, C_M_PER_NS, { ...kernel, inverse: false });
   const w = Float32Array.from(mask);
   const v = options.soilVelocityMPerNs;
@@ -256,9 +259,13 @@ export function airEventKernel(
  */
 export function removeAirEvents(line: RadarLine, objects: AirObjects, options: AirEventOptions, out?: Float32Array): AirEventResult {
   const s = settings(options);
-  const { nTraces: nt, nSamples: ns, dtNs: dt, timeZeroNs: tz } = line;
+  const { nTraces: n0, nSamples: ns, dtNs: dt, timeZeroNs: tz } = line;
   const { src, dst } = outputFor(line, out);
-  const { mask, foci } = airEventMask(line, objects, options);
+  // Objects beyond an end focus outside the record: the image is made on the line extended by empty
+  // traces far enough to hold their foci (their hyperbolas' flanks are in the record).
+  const ext = extension(line, objects, s.metresPerUnit, s.lateralHalfWidthM);
+  const nt = n0 + ext.before + ext.after;
+  const { mask, foci } = airEventMask({ ...line, nTraces: nt, x: ext.x, y: ext.y, data: new Float32Array(0) }, shiftApexes(objects, ext.before), options);
   let masked = 0;
   for (let q = 0; q < mask.length; q++) if ((mask[q] as number) > 0) masked++;
   if (masked === 0) {
@@ -266,13 +273,13 @@ export function removeAirEvents(line: RadarLine, objects: AirObjects, options: A
     return { line: withData(line, dst), removedShare: 0, foci, maskedShare: 0 };
   }
   const air = [{ topM: 0, velocityMPerNs: C_M_PER_NS }];
-  const zo = new Float64Array(src.length);
-  bistaticResample(src, nt, ns, dt, tz, air, s.separationM, true, zo);
+  const zo = new Float64Array(nt * ns);
+  bistaticResample(src, n0, ns, dt, tz, air, s.separationM, true, zo.subarray(ext.before * ns, (ext.before + n0) * ns));
   taperTraceEnds(zo, nt, ns, dt, dominantPeriodNs(zo, nt, ns, dt));
   const { spacingM } = traceSlots(line, s.metresPerUnit);
   const part = airEventKernel(zo, nt, ns, dt, spacingM, tz, mask, { maxAngleDeg: s.maxAngleDeg, taper: s.taper, ...(options.soilVelocityMPerNs !== undefined ? { soilVelocityMPerNs: options.soilVelocityMPerNs } : {}), lateralHalfWidthTraces: s.lateralHalfWidthM / spacingM, timeHalfWidthSamples: s.timeHalfWidthNs / dt });
-  const back = new Float32Array(part.length);
-  bistaticResample(part, nt, ns, dt, tz, air, s.separationM, false, back);
+  const back = new Float32Array(n0 * ns);
+  bistaticResample(part.subarray(ext.before * ns, (ext.before + n0) * ns), n0, ns, dt, tz, air, s.separationM, false, back);
   let eIn = 0;
   let eOut = 0;
   for (let q = 0; q < dst.length; q++) {
@@ -283,4 +290,61 @@ export function removeAirEvents(line: RadarLine, objects: AirObjects, options: A
     eOut += b * b;
   }
   return { line: withData(line, dst), removedShare: eIn > 0 ? eOut / eIn : 0, foci, maskedShare: masked / mask.length };
+}
+
+/** Apexes shifted by `by` traces (onto the extended line). */
+function shiftApexes(o: AirObjects, by: number): AirObjects {
+  if (!o.apexes || by === 0) return o;
+  const a = Float64Array.from(o.apexes);
+  for (let q = 0; q < a.length; q += 2) a[q] = (a[q] as number) + by;
+  return { ...o, apexes: a };
+}
+
+/**
+ * Trace positions of the line extended at each end along its end direction (at its mean spacing) by as
+ * many traces as the farthest object beyond that end needs (its distance past the end plus the mask's
+ * reach), at most the line's own length.
+ */
+function extension(line: RadarLine, o: AirObjects, mpu: number, lateralM: number): { x: Float64Array; y: Float64Array; before: number; after: number } {
+  const { nTraces: n, x, y } = line;
+  if (n < 2) return { x, y, before: 0, after: 0 };
+  const { spacingM } = traceSlots(line, mpu);
+  const dir = (from: number, to: number): [number, number] => {
+    const dx = (x[to] as number) - (x[from] as number);
+    const dy = (y[to] as number) - (y[from] as number);
+    const l = Math.hypot(dx, dy);
+    return l > 0 ? [dx / l, dy / l] : [0, 0];
+  };
+  const k = Math.min(n - 1, 10);
+  const u0 = dir(k, 0);
+  const u1 = dir(n - 1 - k, n - 1);
+  let b0 = 0;
+  let b1 = 0;
+  const see = (px: number, py: number) => {
+    b0 = Math.max(b0, ((px - (x[0] as number)) * u0[0] + (py - (y[0] as number)) * u0[1]) * mpu);
+    b1 = Math.max(b1, ((px - (x[n - 1] as number)) * u1[0] + (py - (y[n - 1] as number)) * u1[1]) * mpu);
+  };
+  for (let q = 0; q + 2 < o.points.length; q += 3) see(o.points[q] as number, o.points[q + 1] as number);
+  for (let q = 0; q + 4 < o.segments.length; q += 5) {
+    see(o.segments[q] as number, o.segments[q + 1] as number);
+    see(o.segments[q + 2] as number, o.segments[q + 3] as number);
+  }
+  const traces = (m: number) => (m > 0 ? Math.min(n, Math.ceil((m + 1.5 * lateralM) / spacingM)) : 0);
+  const before = traces(b0);
+  const after = traces(b1);
+  if (before + after === 0) return { x, y, before: 0, after: 0 };
+  const ex = new Float64Array(n + before + after);
+  const ey = new Float64Array(n + before + after);
+  const step = spacingM / mpu;
+  for (let j = 0; j < before; j++) {
+    ex[j] = (x[0] as number) + (before - j) * step * u0[0];
+    ey[j] = (y[0] as number) + (before - j) * step * u0[1];
+  }
+  ex.set(x, before);
+  ey.set(y, before);
+  for (let j = 1; j <= after; j++) {
+    ex[before + n - 1 + j] = (x[n - 1] as number) + j * step * u1[0];
+    ey[before + n - 1 + j] = (y[n - 1] as number) + j * step * u1[1];
+  }
+  return { x: ex, y: ey, before, after };
 }
