@@ -13,7 +13,8 @@
 //   overlapping the slice window; and on no air-wave locus.
 // Each cell's value is divided by the median of its slice's cells (the background); a scene's figure is
 // 10 log10 of the mean of those ratios over its cells (the slice value is an energy, so 10 log10). Pooled:
-// the ratios summed over scenes, over the cells counted.
+// the ratios summed over scenes, over the cells counted. Beside it, the excess on the loci over the mean of
+// the other cells (`excessDb`): the part of the locus figure that air waves make.
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { readGeoTiff } from '../packages/cog/src/index';
@@ -29,9 +30,24 @@ export interface AirMeasure {
   /** The same on buried objects. */
   buriedSum: number;
   buriedCells: number;
+  /** The same on the other cells (on no locus, no buried object within its radius + 1 m): the background's own mean. */
+  restSum: number;
+  restCells: number;
 }
 
-export const emptyAirMeasure = (): AirMeasure => ({ locusSum: 0, locusCells: 0, buriedSum: 0, buriedCells: 0 });
+export const emptyAirMeasure = (): AirMeasure => ({ locusSum: 0, locusCells: 0, buriedSum: 0, buriedCells: 0, restSum: 0, restCells: 0 });
+
+/**
+ * The air-wave energy on the loci above the background's own mean (10 log10 of (locus mean - rest mean),
+ * both over the slice medians); null when the loci are no stronger than the rest. A mean over a median
+ * is above 1 for any skewed background, so the plain locus figure cannot fall below the rest's: this one
+ * says how much of what stands out on the loci is left.
+ */
+export function excessDb(m: AirMeasure): number | null {
+  if (!(m.locusCells > 0 && m.restCells > 0)) return null;
+  const e = m.locusSum / m.locusCells - m.restSum / m.restCells;
+  return e > 0 ? 10 * Math.log10(e) : null;
+}
 
 /** 10 log10 of a mean ratio; null without cells. */
 export function measureDb(sum: number, cells: number): number | null {
@@ -114,6 +130,9 @@ export async function airMeasure(outDir: string, truthFile: string): Promise<Air
       if (buried.some((b, i) => inSlice[i] && dBur[i]![q]! <= b.r + 0.25)) {
         out.buriedSum += v / median;
         out.buriedCells++;
+      } else if (!nearBuried[q]) {
+        out.restSum += v / median;
+        out.restCells++;
       }
     }
   }

@@ -8,7 +8,7 @@ import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { scoreFolder } from '../packages/scoring/src/index';
 import { simulateSite, type Scenario } from '../packages/simulate/src/index';
-import { airMeasure, emptyAirMeasure, measureDb, type AirMeasure } from './air-measure';
+import { airMeasure, emptyAirMeasure, excessDb, measureDb, type AirMeasure } from './air-measure';
 
 const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');
 
@@ -214,15 +214,18 @@ function sumAir(ms: AirMeasure[]): AirMeasure {
     o.locusCells += m.locusCells;
     o.buriedSum += m.buriedSum;
     o.buriedCells += m.buriedCells;
+    o.restSum += m.restSum;
+    o.restCells += m.restCells;
   }
   return o;
 }
 
 /** The air measure's columns: dB over the background on the loci and on buried objects, `before>after` when the before run exists. */
-function airCells(p: Pooled): [string, string] {
-  const db = (m: AirMeasure | null, k: 'locus' | 'buried') => (m ? fx(measureDb(k === 'locus' ? m.locusSum : m.buriedSum, k === 'locus' ? m.locusCells : m.buriedCells)) : null);
-  const cell = (k: 'locus' | 'buried') => (p.airBefore ? `${db(p.airBefore, k)}>${db(p.air, k)}` : (db(p.air, k) ?? '-'));
-  return [cell('locus'), cell('buried')];
+function airCells(p: Pooled): [string, string, string] {
+  const db = (m: AirMeasure | null, k: 'locus' | 'buried' | 'excess') =>
+    m ? fx(k === 'excess' ? excessDb(m) : measureDb(k === 'locus' ? m.locusSum : m.buriedSum, k === 'locus' ? m.locusCells : m.buriedCells)) : null;
+  const cell = (k: 'locus' | 'buried' | 'excess') => (p.airBefore ? `${db(p.airBefore, k)}>${db(p.air, k)}` : (db(p.air, k) ?? '-'));
+  return [cell('locus'), cell('excess'), cell('buried')];
 }
 
 function sumClasses(rows: FieldRow[]): FieldRow['classes'] {
@@ -254,7 +257,7 @@ const pct = (v: number | null) => (v === null ? '-' : `${(100 * v).toFixed(1)}`)
 const fx = (v: number | null, d = 1) => (v === null || !Number.isFinite(v) ? '-' : v.toFixed(d));
 
 export const TABLE_HEADER = [
-  'scene', 'K true', 'K fit', 'K err%', 'Kobj|err|%', 'invis', 'tgts', 'prec#%', 'precA%', 'clut/100m2', 'air%', 'util%', 'pcs', 'pcsMax', 'cmp%', 'airflag%', 'realflag%', 'largest m2', 'largest dz', 'locus dB', 'buried dB', 'sim s', 'proc s',
+  'scene', 'K true', 'K fit', 'K err%', 'Kobj|err|%', 'invis', 'tgts', 'prec#%', 'precA%', 'clut/100m2', 'air%', 'util%', 'pcs', 'pcsMax', 'cmp%', 'airflag%', 'realflag%', 'largest m2', 'largest dz', 'locus dB', 'locus+ dB', 'buried dB', 'sim s', 'proc s',
 ];
 
 /** One table line: a scene (with its K and times) or a pooled row (K as mean |error|). */

@@ -71,7 +71,8 @@ utility found (mean; pcsMax the most); cmp% = compact objects found; airflag% = 
 locus that are flagged; realflag% = real anomalies (on a buried object, on no locus) wrongly flagged;
 largest = the largest target's plan area and depth extent. Pooled rows sum counts, areas and lengths.
 New (issue 18, bench/air-measure.ts, not a scoring definition): locus dB / buried dB = mean slice value on
-the air-wave loci (away from buried objects) / on buried objects, over the slice's median, in dB;
+the air-wave loci (away from buried objects) / on buried objects, over the slice's median, in dB; locus+ dB =
+the locus figure's excess over the mean of the other cells (what air waves add), in dB;
 "before>after" with LAMINA_BENCH_FIELD_AIR_BEFORE=1 (before = lamina process --keep-air-events).
 Wall time ${((performance.now() - t0) / 1000).toFixed(0)} s.`);
 for (const p of [tune, held]) console.log(`\nanomaly class (properties.class; none = absent) vs truth match, ${p.name}:\n${classLines(p).join('\n')}`);
