@@ -7,9 +7,10 @@
 // How it shares the work with background removal, and the order: a wall parallel to a line returns a
 // flat event (the same time on every trace) that the whole-line mean trace takes out, so background
 // removal runs first and this step only sees what is left: diffractions of posts, trees, columns and
-// overhead objects, the dipping events of walls and fences crossing the line obliquely, wall ends and the
-// part of a parallel wall's event that the mean of a longer line did not reach. Migration at the soil
-// velocity runs after it, on the cleaned line.
+// overhead objects, the dipping events of walls and fences crossing the line obliquely and wall ends.
+// Flat events are left to background removal even where a focus lies (`airLikeness`: they are the same at
+// c and at the soil velocity), including what the mean trace leaves of a parallel wall covering part of
+// the line. Migration at the soil velocity runs after this step, on the cleaned line.
 import { C_M_PER_NS } from '@lamina/constants';
 import type { RadarLine } from '@lamina/radar-data';
 import { bistaticResample, dominantPeriodNs, taperTraceEnds, traceSlots } from './fk';
@@ -180,9 +181,9 @@ export interface AirEventKernelOptions {
   /** @default 0.05 */
   taper?: number;
   /**
-   * Soil velocity, m/ns: where the line migrated at it focuses more energy than the image at c (Hilbert
-   * envelopes, sample by sample), the mask is let go, so a buried diffractor whose apex falls on an air
-   * focus keeps its apex. @default undefined (no protection)
+   * Soil velocity, m/ns: the mask is weighed by `airLikeness` of the envelope peaks of the images at c and
+   * at this velocity around each sample, so a buried diffractor whose apex falls on an air focus keeps its
+   * apex, and flat events are left alone. @default undefined (the mask as it is)
    */
   soilVelocityMPerNs?: number;
   /** Half-width (traces) of the neighbourhood the two images' envelope peaks are compared over. @default 1 */
@@ -190,6 +191,24 @@ export interface AirEventKernelOptions {
   /** Half-height (samples) of that neighbourhood. @default 1 */
   timeHalfWidthSamples?: number;
 }
+
+/**
+ * How much a focus at c is an air-wave one, from the envelope peaks of the image at c and at the soil
+ * velocity around it: a diffraction through the air focuses at c and smears at v (a point air diffractor
+ * gives about 5 times the peak at c), a soil diffraction the other way round, and a flat event (a
+ * reflector along the line, a pipe parallel to it) is the same in both (kx = 0 does not move). 0 up to a
+ * ratio of 1.25, 1 from 2, linear in the logarithm between: flat events are left to background removal,
+ * and a cut in them would come back from the inverse as diffractions at c.
+ */
+function airLikeness(peakC: number, peakSoil: number): number {
+  if (!(peakSoil > 0)) return 1;
+  const r = peakC / peakSoil;
+  if (r >= AIR_RATIO_FULL) return 1;
+  if (r <= AIR_RATIO_NONE) return 0;
+  return Math.log(r / AIR_RATIO_NONE) / Math.log(AIR_RATIO_FULL / AIR_RATIO_NONE);
+}
+const AIR_RATIO_NONE = 1.25;
+const AIR_RATIO_FULL = 2;
 
 /** Hilbert envelope of every trace of a trace-major section. */
 function envelopes(data: Float32Array, nTraces: number, nSamples: number): Float32Array {
@@ -243,7 +262,7 @@ export function airEventKernel(
             if (s > ms) ms = s;
           }
         }
-        if (ms > mc) w[q] = (w[q] as number) * (mc / ms) ** 4;
+        w[q] = (w[q] as number) * airLikeness(mc, ms);
       }
     }
   }
