@@ -58,6 +58,14 @@ export interface FieldRow {
   air: AirMeasure;
   /** The same with `--keep-air-events` (the data as it was before the airEvents step), when asked for (`airBefore`). */
   airBefore: AirMeasure | null;
+  /** The scoring's figures of the `--keep-air-events` run, when asked for (`airBefore`). */
+  scoredBefore?: Partial<FieldRow>;
+}
+
+/** The row of a scene as it was with `--keep-air-events` (null without that run). */
+export function beforeRow(r: FieldRow): FieldRow | null {
+  if (!r.scoredBefore || !r.airBefore) return r.error ? r : null;
+  return { ...r, ...r.scoredBefore, name: `${r.name} (kept)`, air: r.airBefore, airBefore: null };
 }
 
 export interface SceneRunOptions {
@@ -93,46 +101,14 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
     const p = spawnSync(tsx, [join(ROOT, 'apps/cli/src/main.ts'), 'process', siteDir, '--out', outDir, '--threads', String(options.threads ?? 2)], { encoding: 'utf8', maxBuffer: 64 << 20 });
     row.processS = (performance.now() - t) / 1000;
     if (p.status !== 0) throw new Error(`lamina process exited ${p.status}: ${(p.stderr || p.stdout).trim().split('\n').slice(-3).join(' | ')}`);
+    Object.assign(row, scored(outDir, join(siteDir, 'truth.json')));
     row.air = await airMeasure(outDir, join(siteDir, 'truth.json'));
     if (options.airBefore) {
       const q = spawnSync(tsx, [join(ROOT, 'apps/cli/src/main.ts'), 'process', siteDir, '--out', keptDir, '--threads', String(options.threads ?? 2), '--keep-air-events'], { encoding: 'utf8', maxBuffer: 64 << 20 });
       if (q.status !== 0) throw new Error(`lamina process --keep-air-events exited ${q.status}: ${(q.stderr || q.stdout).trim().split('\n').slice(-3).join(' | ')}`);
       row.airBefore = await airMeasure(keptDir, join(siteDir, 'truth.json'));
+      row.scoredBefore = scored(keptDir, join(siteDir, 'truth.json'));
     }
-    const { report, truth } = scoreFolder(outDir, join(siteDir, 'truth.json'));
-    const pr = report.precision;
-    const lin = report.buried.filter((b) => b.lengthM > 0);
-    const cmp = report.buried.filter((b) => b.lengthM === 0);
-    Object.assign(row, {
-      kTruth: pr.siteK.truth,
-      kFitted: pr.siteK.fitted,
-      kRelError: pr.siteK.relError,
-      kObjAbsErrorSum: pr.siteK.atObjects.reduce((s, o) => s + Math.abs(o.relError), 0),
-      kObjects: pr.siteK.atObjects.length,
-      invisible: (truth.buried as { response?: { traces?: number } }[]).filter((b) => b.response?.traces === 0).length,
-      targets: pr.targets,
-      buriedTargets: pr.buriedTargets,
-      airTargets: pr.airTargets,
-      clutterTargets: pr.clutterTargets,
-      areaM2: pr.areaM2,
-      buriedAreaM2: pr.buriedAreaM2,
-      surveyedAreaM2: pr.surveyedAreaM2 ?? 0,
-      utilitySurveyedM: lin.reduce((s, b) => s + b.surveyedLengthM, 0),
-      utilityCoveredM: lin.reduce((s, b) => s + b.recall * b.surveyedLengthM, 0),
-      utilities: lin.length,
-      piecesSum: pr.pieces.reduce((s, q) => s + q.pieces, 0),
-      piecesUtilities: pr.pieces.filter((q) => q.pieces > 0).length,
-      piecesMax: pr.piecesMax,
-      compactFound: cmp.filter((b) => b.recall > 0).length,
-      compacts: cmp.length,
-      onLocus: pr.airFlags.onLocus,
-      onLocusFlagged: pr.airFlags.onLocusFlagged,
-      real: pr.airFlags.real,
-      realFlagged: pr.airFlags.realFlagged,
-      largestAreaM2: pr.largest?.areaM2 ?? 0,
-      largestDepthExtentM: pr.largest?.depthExtentM ?? 0,
-      classes: pr.classes,
-    });
   } catch (e) {
     row.error = (e as Error).message;
   } finally {
@@ -143,6 +119,44 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
     }
   }
   return row;
+}
+
+/** The scoring's figures of one output folder (the counts behind the table's columns). */
+function scored(outDir: string, truthFile: string): Partial<FieldRow> {
+  const { report, truth } = scoreFolder(outDir, truthFile);
+  const pr = report.precision;
+  const lin = report.buried.filter((b) => b.lengthM > 0);
+  const cmp = report.buried.filter((b) => b.lengthM === 0);
+  return {
+    kTruth: pr.siteK.truth,
+    kFitted: pr.siteK.fitted,
+    kRelError: pr.siteK.relError,
+    kObjAbsErrorSum: pr.siteK.atObjects.reduce((s, o) => s + Math.abs(o.relError), 0),
+    kObjects: pr.siteK.atObjects.length,
+    invisible: (truth.buried as { response?: { traces?: number } }[]).filter((b) => b.response?.traces === 0).length,
+    targets: pr.targets,
+    buriedTargets: pr.buriedTargets,
+    airTargets: pr.airTargets,
+    clutterTargets: pr.clutterTargets,
+    areaM2: pr.areaM2,
+    buriedAreaM2: pr.buriedAreaM2,
+    surveyedAreaM2: pr.surveyedAreaM2 ?? 0,
+    utilitySurveyedM: lin.reduce((s, b) => s + b.surveyedLengthM, 0),
+    utilityCoveredM: lin.reduce((s, b) => s + b.recall * b.surveyedLengthM, 0),
+    utilities: lin.length,
+    piecesSum: pr.pieces.reduce((s, q) => s + q.pieces, 0),
+    piecesUtilities: pr.pieces.filter((q) => q.pieces > 0).length,
+    piecesMax: pr.piecesMax,
+    compactFound: cmp.filter((b) => b.recall > 0).length,
+    compacts: cmp.length,
+    onLocus: pr.airFlags.onLocus,
+    onLocusFlagged: pr.airFlags.onLocusFlagged,
+    real: pr.airFlags.real,
+    realFlagged: pr.airFlags.realFlagged,
+    largestAreaM2: pr.largest?.areaM2 ?? 0,
+    largestDepthExtentM: pr.largest?.depthExtentM ?? 0,
+    classes: pr.classes,
+  };
 }
 
 /** Pooled figures of a set of rows: sums of counts, areas and lengths; K error as mean and max of |error|. */

@@ -7,8 +7,9 @@
 //   LAMINA_BENCH_FIELD_SAMPLES=0       leave out the sample sites (default: yard, carpark-ft, warehouse)
 //   LAMINA_BENCH_FIELD_KEEP=1          keep the site and output folders (printed at the end)
 //   LAMINA_BENCH_FIELD_THREADS=2       worker threads of lamina process
-//   LAMINA_BENCH_FIELD_AIR_BEFORE=1    also process every scene with --keep-air-events, for the air measure
-//                                      before the airEvents step (twice the time; default: after only)
+//   LAMINA_BENCH_FIELD_AIR_BEFORE=1    also process every scene with --keep-air-events: the air measure
+//                                      before the airEvents step and the pooled rows without it (twice the
+//                                      time; default: after only)
 // Writes bench/out/field.json (git-ignored): every row and the pooled rows, with the code's commit.
 import { execFileSync } from 'node:child_process';
 import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
@@ -16,7 +17,7 @@ import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { parseScenario, randomScenario } from '../packages/simulate/src/index';
-import { classLines, formatTable, parseSeeds, pool, runScene, single, tableLine, type FieldRow } from './field-lib';
+import { beforeRow, classLines, formatTable, parseSeeds, pool, runScene, single, tableLine, type FieldRow } from './field-lib';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const root = resolve(here, '..');
@@ -52,11 +53,17 @@ for (const name of samples) {
 
 const tune = pool('TUNE (odd seeds)', rows.filter((r) => r.half === 'tune'));
 const held = pool('HELD-OUT (even seeds)', rows.filter((r) => r.half === 'held-out'));
+// with LAMINA_BENCH_FIELD_AIR_BEFORE=1: the same scenes processed with --keep-air-events, pooled alike
+const kept = (half: FieldRow['half']) => rows.filter((r) => r.half === half).map(beforeRow).filter((r): r is FieldRow => r !== null);
+const before = airBefore
+  ? [tableLine(pool('TUNE --keep-air-events', kept('tune'))), tableLine(pool('HELD-OUT --keep-air-events', kept('held-out')))]
+  : [];
 const table = [
   ...rows.filter((r) => r.half !== 'sample').map((r) => tableLine(single(r), r)),
   [],
   tableLine(tune),
   tableLine(held),
+  ...before,
   [],
   ...rows.filter((r) => r.half === 'sample').map((r) => tableLine(single(r), r)),
 ];
@@ -79,7 +86,7 @@ for (const p of [tune, held]) console.log(`\nanomaly class (properties.class; no
 
 const outDir = join(here, 'out');
 mkdirSync(outDir, { recursive: true });
-writeFileSync(join(outDir, 'field.json'), JSON.stringify({ createdAt: new Date().toISOString(), commit, seeds, rows, pooled: { tune, heldOut: held } }, null, 1) + '\n');
+writeFileSync(join(outDir, 'field.json'), JSON.stringify({ createdAt: new Date().toISOString(), commit, seeds, rows, pooled: { tune, heldOut: held, ...(airBefore ? { tuneKept: pool('TUNE --keep-air-events', kept('tune')), heldOutKept: pool('HELD-OUT --keep-air-events', kept('held-out')) } : {}) } }, null, 1) + '\n');
 console.log(`wrote ${join(outDir, 'field.json')}`);
 if (keep) console.log(`kept the site and output folders in ${work}`);
 else rmSync(work, { recursive: true, force: true });
