@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { C_M_PER_NS } from '@lamina/constants';
 import type { RadarLine } from '@lamina/radar-data';
-import { airEventMask, removeAirEvents } from '../src';
+import { airEventMask, parseRecipe, removeAirEvents, runRecipe } from '../src';
 import { addDiffraction, addRicker, makeLine } from './synth';
 
 const F = 400;
@@ -104,5 +104,21 @@ describe('removeAirEvents (f-k at c, mask, exact inverse, subtraction)', () => {
     // the wall point (4, 2) is 2 m from the line under x = 4 m
     const k2 = Math.round((2 * 2) / C_M_PER_NS / DT + TZ / DT);
     expect(wall.mask[80 * line.nSamples + k2]).toBe(1);
+  });
+});
+
+describe('the airEvents recipe step', () => {
+  it("runs with the context's objects, logs what it did, and is skipped without them", () => {
+    const line = blank();
+    addDiffraction(line, 8, 2, C_M_PER_NS, S, F);
+    const recipe = parseRecipe({ steps: [{ step: 'airEvents' }] });
+    const ran = runRecipe(line, recipe, { frequencyMHz: F, separationM: S, velocityMPerNs: 0.1, airObjects: post });
+    expect(ran.log[0]?.skipped).toBeUndefined();
+    expect(ran.log[0]?.params).toMatchObject({ maxAngleDeg: 88, taper: 0.05, timeHalfWidthNs: 2.5, keepSoilFoci: true });
+    expect(ran.log[0]?.result?.foci).toBe(1);
+    expect(10 * Math.log10(energy(line.data) / energy(ran.line.data))).toBeGreaterThanOrEqual(10);
+    const skipped = runRecipe(line, recipe, { frequencyMHz: F, separationM: S });
+    expect(skipped.log[0]?.skipped).toMatch(/no above-ground object/);
+    expect(Array.from(skipped.line.data)).toEqual(Array.from(line.data));
   });
 });

@@ -58,8 +58,9 @@ describe('runRecipe', () => {
     const copy = line.data.slice();
     const r = runRecipe(line, defaultRecipe(F), ctx);
     expect(Array.from(line.data)).toEqual(Array.from(copy)); // input untouched
-    expect(r.log.map((e) => e.step)).toEqual(['timeZero', 'dewow', 'bandpass', 'gain', 'backgroundRemoval', 'migration']);
-    expect(r.log[5]?.skipped).toMatch(/no velocity/);
+    expect(r.log.map((e) => e.step)).toEqual(['timeZero', 'dewow', 'bandpass', 'gain', 'backgroundRemoval', 'airEvents', 'migration']);
+    expect(r.log[5]?.skipped).toMatch(/no above-ground object/);
+    expect(r.log[6]?.skipped).toMatch(/no velocity/);
     expect(r.log[1]?.params).toEqual({ method: 'runningMean', windowNs: 2.5 });
     // time-zero: direct wave centre at 4 + s/c ns, so time-zero about 4 ns
     expect(r.line.timeZeroNs).toBeCloseTo(4, 1);
@@ -100,8 +101,8 @@ describe('runRecipe', () => {
   it('runs migration when a velocity is given, from the context or the step', () => {
     const line = surveyLine();
     const a = runRecipe(line, defaultRecipe(F), { ...ctx, velocityMPerNs: 0.1 });
-    expect(a.log[5]?.skipped).toBeUndefined();
-    expect(a.log[5]?.params.velocityMPerNs).toBe(0.1);
+    expect(a.log[6]?.skipped).toBeUndefined();
+    expect(a.log[6]?.params.velocityMPerNs).toBe(0.1);
     const b = runRecipe(line, { steps: [{ step: 'migration', velocityMPerNs: 0.12 }] }, ctx);
     expect(b.log[0]?.params.velocityMPerNs).toBe(0.12);
   });
