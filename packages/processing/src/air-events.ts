@@ -190,6 +190,8 @@ export interface AirEventKernelOptions {
   lateralHalfWidthTraces?: number;
   /** Half-height (samples) of that neighbourhood. @default 1 */
   timeHalfWidthSamples?: number;
+  /** Band kept by the transforms (`band`, fk.ts). @default 1e-6 */
+  energyTolerance?: number;
 }
 
 /**
@@ -236,7 +238,7 @@ export function airEventKernel(
   options: AirEventKernelOptions = {},
   out: Float32Array = new Float32Array(nTraces * nSamples),
 ): Float32Array {
-  const kernel = { maxAngleDeg: options.maxAngleDeg ?? 88, taper: options.taper ?? 0.05, apertureM: Infinity, energyTolerance: 1e-6, halfIntegral: false };
+  const kernel = { maxAngleDeg: options.maxAngleDeg ?? 88, taper: options.taper ?? 0.05, apertureM: Infinity, energyTolerance: options.energyTolerance ?? 1e-6, halfIntegral: false };
   const img = stoltKernel(zo, nTraces, nSamples, dtNs, dxM, timeZeroNs, C_M_PER_NS, { ...kernel, inverse: false });
   const w = Float32Array.from(mask);
   const v = options.soilVelocityMPerNs;
