@@ -8,6 +8,7 @@ import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { scoreFolder } from '../packages/scoring/src/index';
 import { simulateSite, type Scenario } from '../packages/simulate/src/index';
+import { airMeasure, emptyAirMeasure, excessDb, measureDb, type AirMeasure } from './air-measure';
 
 const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');
 
@@ -53,6 +54,18 @@ export interface FieldRow {
   processS: number;
   /** Anomalies by `properties.class` (`none` when absent) against their truth match (scoring's class table). */
   classes: Record<string, { buried: number; air: number; ambiguous: number; unmatched: number }>;
+  /** New (issue 18, not a scoring definition): slice strength on the air-wave loci and on buried objects (bench/air-measure.ts). */
+  air: AirMeasure;
+  /** The same with `--keep-air-events` (the data as it was before the airEvents step), when asked for (`airBefore`). */
+  airBefore: AirMeasure | null;
+  /** The scoring's figures of the `--keep-air-events` run, when asked for (`airBefore`). */
+  scoredBefore?: Partial<FieldRow>;
+}
+
+/** The row of a scene as it was with `--keep-air-events` (null without that run). */
+export function beforeRow(r: FieldRow): FieldRow | null {
+  if (!r.scoredBefore || !r.airBefore) return r.error ? r : null;
+  return { ...r, ...r.scoredBefore, name: `${r.name} (kept)`, air: r.airBefore, airBefore: null };
 }
 
 export interface SceneRunOptions {
@@ -60,6 +73,8 @@ export interface SceneRunOptions {
   threads?: number;
   /** Keep the site and output folders. @default false */
   keep?: boolean;
+  /** Also process with `--keep-air-events` for the air measure before the step (a second run of the scene). @default false */
+  airBefore?: boolean;
 }
 
 function emptyRow(name: string, half: FieldRow['half'], seed: number | null): FieldRow {
@@ -68,14 +83,14 @@ function emptyRow(name: string, half: FieldRow['half'], seed: number | null): Fi
     targets: 0, buriedTargets: 0, airTargets: 0, clutterTargets: 0, areaM2: 0, buriedAreaM2: 0, surveyedAreaM2: 0,
     utilitySurveyedM: 0, utilityCoveredM: 0, utilities: 0, piecesSum: 0, piecesUtilities: 0, piecesMax: 0,
     compactFound: 0, compacts: 0, onLocus: 0, onLocusFlagged: 0, real: 0, realFlagged: 0,
-    largestAreaM2: 0, largestDepthExtentM: 0, simulateS: 0, processS: 0, classes: {},
+    largestAreaM2: 0, largestDepthExtentM: 0, simulateS: 0, processS: 0, classes: {}, air: emptyAirMeasure(), airBefore: null,
   };
 }
 
 /** Simulates `scenario` under `workDir`, processes it with the CLI and scores it. */
 export async function runScene(scenario: Scenario, workDir: string, half: FieldRow['half'], seed: number | null, options: SceneRunOptions = {}): Promise<FieldRow> {
   const row = emptyRow(scenario.name, half, seed);
-  const siteDir = join(workDir, `${scenario.name}-site`), outDir = join(workDir, `${scenario.name}-out`);
+  const siteDir = join(workDir, `${scenario.name}-site`), outDir = join(workDir, `${scenario.name}-out`), keptDir = join(workDir, `${scenario.name}-out-keep-air`);
   mkdirSync(workDir, { recursive: true });
   try {
     let t = performance.now();
@@ -83,52 +98,65 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
     row.simulateS = (performance.now() - t) / 1000;
     t = performance.now();
     const tsx = join(ROOT, 'node_modules', '.bin', 'tsx');
-    const p = spawnSync(tsx, [join(ROOT, 'apps/cli/src/main.ts'), 'process', siteDir, '--out', outDir, '--threads', String(options.threads ?? 2)], { encoding: 'utf8', maxBuffer: 64 << 20 });
+    const p = spawnSync(tsx, [join(ROOT, 'apps/cli/src/main.ts'), 'process', siteDir, '--out', outDir, '--threads', String(options.threads ?? 2), ...(options.airBefore ? ['--remove-air-events'] : [])], { encoding: 'utf8', maxBuffer: 64 << 20 });
     row.processS = (performance.now() - t) / 1000;
     if (p.status !== 0) throw new Error(`lamina process exited ${p.status}: ${(p.stderr || p.stdout).trim().split('\n').slice(-3).join(' | ')}`);
-    const { report, truth } = scoreFolder(outDir, join(siteDir, 'truth.json'));
-    const pr = report.precision;
-    const lin = report.buried.filter((b) => b.lengthM > 0);
-    const cmp = report.buried.filter((b) => b.lengthM === 0);
-    Object.assign(row, {
-      kTruth: pr.siteK.truth,
-      kFitted: pr.siteK.fitted,
-      kRelError: pr.siteK.relError,
-      kObjAbsErrorSum: pr.siteK.atObjects.reduce((s, o) => s + Math.abs(o.relError), 0),
-      kObjects: pr.siteK.atObjects.length,
-      invisible: (truth.buried as { response?: { traces?: number } }[]).filter((b) => b.response?.traces === 0).length,
-      targets: pr.targets,
-      buriedTargets: pr.buriedTargets,
-      airTargets: pr.airTargets,
-      clutterTargets: pr.clutterTargets,
-      areaM2: pr.areaM2,
-      buriedAreaM2: pr.buriedAreaM2,
-      surveyedAreaM2: pr.surveyedAreaM2 ?? 0,
-      utilitySurveyedM: lin.reduce((s, b) => s + b.surveyedLengthM, 0),
-      utilityCoveredM: lin.reduce((s, b) => s + b.recall * b.surveyedLengthM, 0),
-      utilities: lin.length,
-      piecesSum: pr.pieces.reduce((s, q) => s + q.pieces, 0),
-      piecesUtilities: pr.pieces.filter((q) => q.pieces > 0).length,
-      piecesMax: pr.piecesMax,
-      compactFound: cmp.filter((b) => b.recall > 0).length,
-      compacts: cmp.length,
-      onLocus: pr.airFlags.onLocus,
-      onLocusFlagged: pr.airFlags.onLocusFlagged,
-      real: pr.airFlags.real,
-      realFlagged: pr.airFlags.realFlagged,
-      largestAreaM2: pr.largest?.areaM2 ?? 0,
-      largestDepthExtentM: pr.largest?.depthExtentM ?? 0,
-      classes: pr.classes,
-    });
+    Object.assign(row, scored(outDir, join(siteDir, 'truth.json')));
+    row.air = await airMeasure(outDir, join(siteDir, 'truth.json'));
+    if (options.airBefore) {
+      const q = spawnSync(tsx, [join(ROOT, 'apps/cli/src/main.ts'), 'process', siteDir, '--out', keptDir, '--threads', String(options.threads ?? 2), '--keep-air-events'], { encoding: 'utf8', maxBuffer: 64 << 20 });
+      if (q.status !== 0) throw new Error(`lamina process --keep-air-events exited ${q.status}: ${(q.stderr || q.stdout).trim().split('\n').slice(-3).join(' | ')}`);
+      row.airBefore = await airMeasure(keptDir, join(siteDir, 'truth.json'));
+      row.scoredBefore = scored(keptDir, join(siteDir, 'truth.json'));
+    }
   } catch (e) {
     row.error = (e as Error).message;
   } finally {
     if (!options.keep) {
       rmSync(siteDir, { recursive: true, force: true });
       rmSync(outDir, { recursive: true, force: true });
+      rmSync(keptDir, { recursive: true, force: true });
     }
   }
   return row;
+}
+
+/** The scoring's figures of one output folder (the counts behind the table's columns). */
+function scored(outDir: string, truthFile: string): Partial<FieldRow> {
+  const { report, truth } = scoreFolder(outDir, truthFile);
+  const pr = report.precision;
+  const lin = report.buried.filter((b) => b.lengthM > 0);
+  const cmp = report.buried.filter((b) => b.lengthM === 0);
+  return {
+    kTruth: pr.siteK.truth,
+    kFitted: pr.siteK.fitted,
+    kRelError: pr.siteK.relError,
+    kObjAbsErrorSum: pr.siteK.atObjects.reduce((s, o) => s + Math.abs(o.relError), 0),
+    kObjects: pr.siteK.atObjects.length,
+    invisible: (truth.buried as { response?: { traces?: number } }[]).filter((b) => b.response?.traces === 0).length,
+    targets: pr.targets,
+    buriedTargets: pr.buriedTargets,
+    airTargets: pr.airTargets,
+    clutterTargets: pr.clutterTargets,
+    areaM2: pr.areaM2,
+    buriedAreaM2: pr.buriedAreaM2,
+    surveyedAreaM2: pr.surveyedAreaM2 ?? 0,
+    utilitySurveyedM: lin.reduce((s, b) => s + b.surveyedLengthM, 0),
+    utilityCoveredM: lin.reduce((s, b) => s + b.recall * b.surveyedLengthM, 0),
+    utilities: lin.length,
+    piecesSum: pr.pieces.reduce((s, q) => s + q.pieces, 0),
+    piecesUtilities: pr.pieces.filter((q) => q.pieces > 0).length,
+    piecesMax: pr.piecesMax,
+    compactFound: cmp.filter((b) => b.recall > 0).length,
+    compacts: cmp.length,
+    onLocus: pr.airFlags.onLocus,
+    onLocusFlagged: pr.airFlags.onLocusFlagged,
+    real: pr.airFlags.real,
+    realFlagged: pr.airFlags.realFlagged,
+    largestAreaM2: pr.largest?.areaM2 ?? 0,
+    largestDepthExtentM: pr.largest?.depthExtentM ?? 0,
+    classes: pr.classes,
+  };
 }
 
 /** Pooled figures of a set of rows: sums of counts, areas and lengths; K error as mean and max of |error|. */
@@ -155,6 +183,9 @@ export interface Pooled {
   largestAreaM2: number;
   largestDepthExtentM: number;
   classes: FieldRow['classes'];
+  /** New (issue 18): the air measure pooled (sums over the scenes' cells); `airBefore` over the scenes that have it. */
+  air: AirMeasure;
+  airBefore: AirMeasure | null;
 }
 
 const ratio = (a: number, b: number): number | null => (b > 0 ? a / b : null);
@@ -185,7 +216,30 @@ export function pool(name: string, rows: FieldRow[]): Pooled {
     largestAreaM2: Math.max(0, ...ok.map((r) => r.largestAreaM2)),
     largestDepthExtentM: Math.max(0, ...ok.map((r) => r.largestDepthExtentM)),
     classes: sumClasses(ok),
+    air: sumAir(ok.map((r) => r.air)),
+    airBefore: ok.some((r) => r.airBefore) ? sumAir(ok.map((r) => r.airBefore).filter((a): a is AirMeasure => a !== null)) : null,
   };
+}
+
+function sumAir(ms: AirMeasure[]): AirMeasure {
+  const o = emptyAirMeasure();
+  for (const m of ms) {
+    o.locusSum += m.locusSum;
+    o.locusCells += m.locusCells;
+    o.buriedSum += m.buriedSum;
+    o.buriedCells += m.buriedCells;
+    o.restSum += m.restSum;
+    o.restCells += m.restCells;
+  }
+  return o;
+}
+
+/** The air measure's columns: dB over the background on the loci and on buried objects, `before>after` when the before run exists. */
+function airCells(p: Pooled): [string, string, string] {
+  const db = (m: AirMeasure | null, k: 'locus' | 'buried' | 'excess') =>
+    m ? fx(k === 'excess' ? excessDb(m) : measureDb(k === 'locus' ? m.locusSum : m.buriedSum, k === 'locus' ? m.locusCells : m.buriedCells)) : null;
+  const cell = (k: 'locus' | 'buried' | 'excess') => (p.airBefore ? `${db(p.airBefore, k)}>${db(p.air, k)}` : (db(p.air, k) ?? '-'));
+  return [cell('locus'), cell('excess'), cell('buried')];
 }
 
 function sumClasses(rows: FieldRow[]): FieldRow['classes'] {
@@ -217,7 +271,7 @@ const pct = (v: number | null) => (v === null ? '-' : `${(100 * v).toFixed(1)}`)
 const fx = (v: number | null, d = 1) => (v === null || !Number.isFinite(v) ? '-' : v.toFixed(d));
 
 export const TABLE_HEADER = [
-  'scene', 'K true', 'K fit', 'K err%', 'Kobj|err|%', 'invis', 'tgts', 'prec#%', 'precA%', 'clut/100m2', 'air%', 'util%', 'pcs', 'pcsMax', 'cmp%', 'airflag%', 'realflag%', 'largest m2', 'largest dz', 'sim s', 'proc s',
+  'scene', 'K true', 'K fit', 'K err%', 'Kobj|err|%', 'invis', 'tgts', 'prec#%', 'precA%', 'clut/100m2', 'air%', 'util%', 'pcs', 'pcsMax', 'cmp%', 'airflag%', 'realflag%', 'largest m2', 'largest dz', 'locus dB', 'locus+ dB', 'buried dB', 'sim s', 'proc s',
 ];
 
 /** One table line: a scene (with its K and times) or a pooled row (K as mean |error|). */
@@ -243,6 +297,7 @@ export function tableLine(p: Pooled, scene?: FieldRow): string[] {
     pct(p.realFlaggedShare),
     fx(p.largestAreaM2),
     fx(p.largestDepthExtentM, 2),
+    ...airCells(p),
     scene ? fx(scene.simulateS) : '',
     scene ? fx(scene.processS) : '',
   ];

@@ -7,6 +7,9 @@
 //   LAMINA_BENCH_FIELD_SAMPLES=0       leave out the sample sites (default: yard, carpark-ft, warehouse)
 //   LAMINA_BENCH_FIELD_KEEP=1          keep the site and output folders (printed at the end)
 //   LAMINA_BENCH_FIELD_THREADS=2       worker threads of lamina process
+//   LAMINA_BENCH_FIELD_AIR_BEFORE=1    also process every scene with --keep-air-events: the air measure
+//                                      before the airEvents step and the pooled rows without it (twice the
+//                                      time; default: after only)
 // Writes bench/out/field.json (git-ignored): every row and the pooled rows, with the code's commit.
 import { execFileSync } from 'node:child_process';
 import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
@@ -14,7 +17,7 @@ import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { parseScenario, randomScenario } from '../packages/simulate/src/index';
-import { classLines, formatTable, parseSeeds, pool, runScene, single, tableLine, type FieldRow } from './field-lib';
+import { beforeRow, classLines, formatTable, parseSeeds, pool, runScene, single, tableLine, type FieldRow } from './field-lib';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const root = resolve(here, '..');
@@ -22,6 +25,7 @@ const seeds = parseSeeds(process.env.LAMINA_BENCH_FIELD_SEEDS ?? '1-24');
 const samples = process.env.LAMINA_BENCH_FIELD_SAMPLES === '0' ? [] : ['yard', 'carpark-ft', 'warehouse'];
 const keep = process.env.LAMINA_BENCH_FIELD_KEEP === '1';
 const threads = Number(process.env.LAMINA_BENCH_FIELD_THREADS ?? 2);
+const airBefore = process.env.LAMINA_BENCH_FIELD_AIR_BEFORE === '1';
 const work = mkdtempSync(join(tmpdir(), 'lamina-bench-field-'));
 
 const commit = (() => {
@@ -36,24 +40,30 @@ console.log(`field: ${seeds.length} random scenes (seeds ${process.env.LAMINA_BE
 const rows: FieldRow[] = [];
 const t0 = performance.now();
 for (const seed of seeds) {
-  const row = await runScene(randomScenario(seed), work, seed % 2 === 1 ? 'tune' : 'held-out', seed, { threads, keep });
+  const row = await runScene(randomScenario(seed), work, seed % 2 === 1 ? 'tune' : 'held-out', seed, { threads, keep, airBefore });
   rows.push(row);
   console.log(`  ${row.name}: ${row.error ? `FAILED ${row.error}` : `${row.targets} targets, ${row.buriedTargets} on buried objects`} (${row.simulateS.toFixed(1)} + ${row.processS.toFixed(1)} s)`);
 }
 for (const name of samples) {
   const file = join(root, 'sample-sites', name, 'scenario.json');
-  const row = await runScene(parseScenario(JSON.parse(readFileSync(file, 'utf8')), file), work, 'sample', null, { threads, keep });
+  const row = await runScene(parseScenario(JSON.parse(readFileSync(file, 'utf8')), file), work, 'sample', null, { threads, keep, airBefore });
   rows.push(row);
   console.log(`  ${row.name}: ${row.error ? `FAILED ${row.error}` : `${row.targets} targets`} (${row.simulateS.toFixed(1)} + ${row.processS.toFixed(1)} s)`);
 }
 
 const tune = pool('TUNE (odd seeds)', rows.filter((r) => r.half === 'tune'));
 const held = pool('HELD-OUT (even seeds)', rows.filter((r) => r.half === 'held-out'));
+// with LAMINA_BENCH_FIELD_AIR_BEFORE=1: the same scenes processed with --keep-air-events, pooled alike
+const kept = (half: FieldRow['half']) => rows.filter((r) => r.half === half).map(beforeRow).filter((r): r is FieldRow => r !== null);
+const before = airBefore
+  ? [tableLine(pool('TUNE --keep-air-events', kept('tune'))), tableLine(pool('HELD-OUT --keep-air-events', kept('held-out')))]
+  : [];
 const table = [
   ...rows.filter((r) => r.half !== 'sample').map((r) => tableLine(single(r), r)),
   [],
   tableLine(tune),
   tableLine(held),
+  ...before,
   [],
   ...rows.filter((r) => r.half === 'sample').map((r) => tableLine(single(r), r)),
 ];
@@ -67,12 +77,16 @@ air-wave targets; util% = utility recall over the surveyed length (pooled by len
 utility found (mean; pcsMax the most); cmp% = compact objects found; airflag% = anomalies on an air-wave
 locus that are flagged; realflag% = real anomalies (on a buried object, on no locus) wrongly flagged;
 largest = the largest target's plan area and depth extent. Pooled rows sum counts, areas and lengths.
+New (issue 18, bench/air-measure.ts, not a scoring definition): locus dB / buried dB = mean slice value on
+the air-wave loci (away from buried objects) / on buried objects, over the slice's median, in dB; locus+ dB =
+the locus figure's excess over the mean of the other cells (what air waves add), in dB;
+"before>after" with LAMINA_BENCH_FIELD_AIR_BEFORE=1 (before = lamina process --keep-air-events).
 Wall time ${((performance.now() - t0) / 1000).toFixed(0)} s.`);
 for (const p of [tune, held]) console.log(`\nanomaly class (properties.class; none = absent) vs truth match, ${p.name}:\n${classLines(p).join('\n')}`);
 
 const outDir = join(here, 'out');
 mkdirSync(outDir, { recursive: true });
-writeFileSync(join(outDir, 'field.json'), JSON.stringify({ createdAt: new Date().toISOString(), commit, seeds, rows, pooled: { tune, heldOut: held } }, null, 1) + '\n');
+writeFileSync(join(outDir, 'field.json'), JSON.stringify({ createdAt: new Date().toISOString(), commit, seeds, rows, pooled: { tune, heldOut: held, ...(airBefore ? { tuneKept: pool('TUNE --keep-air-events', kept('tune')), heldOutKept: pool('HELD-OUT --keep-air-events', kept('held-out')) } : {}) } }, null, 1) + '\n');
 console.log(`wrote ${join(outDir, 'field.json')}`);
 if (keep) console.log(`kept the site and output folders in ${work}`);
 else rmSync(work, { recursive: true, force: true });

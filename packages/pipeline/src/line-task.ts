@@ -1,7 +1,7 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { InputError } from '@lamina/errors';
 import { loadSite, readLine, pointToWgs84, shownPath, type Site } from '@lamina/site';
-import { defaultRecipe, hilbertEnvelopePair, hilbertWorkspace, parseRecipe, runRecipe, type Recipe, type RecipeLogEntry, type Step } from '@lamina/processing';
+import { defaultRecipe, hilbertEnvelopePair, hilbertWorkspace, parseRecipe, runRecipe, type AirObjects, type Recipe, type RecipeLogEntry, type Step } from '@lamina/processing';
 import { fitManualPicks, lineDirection, lineHyperbolas, recipeForVelocity, sampleDepths, type HyperbolaFit, type ManualHyperbola, type VelocityModel } from '@lamina/velocity';
 import { traceSliceValues, type SliceWindow } from '@lamina/slices';
 import { lineSpillPath, readLineSpill, writeLineSpill } from './line-spill';
@@ -55,6 +55,8 @@ export interface Pass2Task {
   windows: SliceWindow[];
   /** Start from the line pass 1 kept in this stage folder (pass 1 ran with `keepLine`). @default undefined */
   keptIn?: string;
+  /** Above-ground objects of the plan and this line's air-velocity apexes, for the `airEvents` step (`airObjectsFor`). @default undefined */
+  air?: AirObjects;
 }
 export interface Pass2Result {
   x: Float64Array;
@@ -71,16 +73,24 @@ export interface Pass2Result {
 }
 
 /**
- * The steps pass 2 runs on pass 1's line: pass 1 runs the recipe without migration and envelope
- * (`recipeForVelocity`), so when those come after every other step, the whole recipe is pass 1's then
- * these. Undefined when they do not (a step after migration): pass 2 then processes the line again.
+ * The recipe of pass 1: without migration and envelope (`recipeForVelocity`), and without `airEvents`,
+ * whose mask needs pass 1's own air-velocity fits (and whose cleaning would hide them from the fit).
+ */
+export function pass1Recipe(recipe: Recipe): Recipe {
+  return recipeForVelocity({ ...recipe, steps: recipe.steps.filter((s) => s.step !== 'airEvents') });
+}
+
+/**
+ * The steps pass 2 runs on pass 1's line: pass 1 runs the recipe without air-event removal, migration
+ * and envelope (`pass1Recipe`), so when those come after every other step, the whole recipe is pass 1's
+ * then these. Undefined when they do not (a step after migration): pass 2 then processes the line again.
  */
 export function pass2Steps(recipe: Recipe): Step[] | undefined {
-  const late = (s: Step) => s.step === 'migration' || s.step === 'envelope';
+  const late = (s: Step) => s.step === 'airEvents' || s.step === 'migration' || s.step === 'envelope';
   const first = recipe.steps.findIndex(late);
   if (first < 0) return [];
   const tail = recipe.steps.slice(first);
-  return tail.every(late) && recipeForVelocity(recipe).steps.length === first ? tail : undefined;
+  return tail.every(late) && pass1Recipe(recipe).steps.length === first ? tail : undefined;
 }
 
 const sites = new Map<string, Promise<Site>>();
@@ -100,8 +110,9 @@ export function siteRecipe(s: Site, override?: unknown, overrideFile = 'recipe')
   return defaultRecipe(s.antenna.frequencyMHz);
 }
 
-function context(s: Site, velocityMPerNs?: number, model?: VelocityModel) {
+function context(s: Site, velocityMPerNs?: number, model?: VelocityModel, air?: AirObjects) {
   return {
+    ...(air ? { airObjects: air } : {}),
     frequencyMHz: s.antenna.frequencyMHz,
     separationM: s.antenna.separationM,
     metresPerUnit: s.crs.metresPerUnit,
@@ -123,7 +134,7 @@ export async function pass1(task: Pass1Task): Promise<Pass1Result> {
   const src = s.lines[task.line]!;
   const raw = await timed(times, 'pass 1 read line', () => readLine(s, src));
   const keepBefore = task.keepLine && task.recipe.steps.some((st) => st.step === 'backgroundRemoval');
-  const { line, log, before } = runRecipe(raw, recipeForVelocity(task.recipe), context(s), { onStep: stepTimes(times, 'pass 1'), ...(keepBefore ? { keepBefore: 'backgroundRemoval' as const } : {}) });
+  const { line, log, before } = runRecipe(raw, pass1Recipe(task.recipe), context(s), { onStep: stepTimes(times, 'pass 1'), ...(keepBefore ? { keepBefore: 'backgroundRemoval' as const } : {}) });
   if (task.keepLine) await timed(times, 'pass 1 keep line', () => writeLineSpill(lineSpillPath(task.stageDir, task.line), line, keepBefore ? before : undefined));
   const t0 = performance.now();
   const fits =
@@ -158,7 +169,7 @@ export async function pass2(task: Pass2Task): Promise<Pass2Result> {
   let line: RadarLine;
   let before: RadarLine | undefined;
   let log: RecipeLogEntry[];
-  const ctx = context(s, task.velocityMPerNs, task.model);
+  const ctx = context(s, task.velocityMPerNs, task.model, task.air);
   const steps = task.keptIn !== undefined ? pass2Steps(task.recipe) : undefined;
   if (task.keptIn !== undefined && steps) {
     const kept = await timed(times, 'pass 2 read kept line', () => readLineSpill(lineSpillPath(task.keptIn as string, task.line)));

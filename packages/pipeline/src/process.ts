@@ -6,7 +6,7 @@ import { lockFolder, stageFolder, type FolderLock } from '@lamina/atomic';
 import { checkPlanNearSurvey, loadSite, pointToWgs84, shownPath, type Site } from '@lamina/site';
 import { buildVelocityReport, enoughFits, parsePicks, spreadOrder, velocityJsonChunks, type HyperbolaFit, type ManualHyperbola, type VelocityReport } from '@lamina/velocity';
 import { defaultWindows, PointSpill, type SliceWindow } from '@lamina/slices';
-import type { Recipe } from '@lamina/processing';
+import { withAirEvents, type Recipe } from '@lamina/processing';
 import { exportTargets, matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
 import { createPool, defaultThreads, type Pool } from '@lamina/runtime-files';
 import { removeLineSpills } from './line-spill';
@@ -15,6 +15,7 @@ import { extents, linesGeoJson, planGeoJson, siteSummary, writeChunks, writeFeat
 import { sliceAndScreen, type Anchored, type Screening } from './slice-and-screen';
 import { addParts, StageTimer, type ProcessTimings } from './timings';
 import { preflight } from './preflight';
+import { airObjectsFor, planAirObjects } from './air-objects';
 import { adoptSurveyVelocity, readSurveyVelocity } from './survey-velocity';
 
 export interface ProcessOptions {
@@ -63,6 +64,19 @@ export interface ProcessOptions {
    * and model are used for depth and screening instead of this run's own fit. @default none
    */
   velocityFile?: string;
+  /**
+   * Leave air-wave events in the data: a recipe's `airEvents` step is dropped (the default recipe has
+   * none; where a recipe has it, it runs when the plan has above-ground objects near a line or the
+   * velocity fits found air-velocity hyperbolas).
+   * @default false
+   */
+  keepAirEvents?: boolean;
+  /**
+   * Take air-wave events out of the data before slicing: adds the `airEvents` step (AIR_EVENTS_STEP of
+   * @lamina/processing) before migration when the recipe has none. Off by default: see defaultRecipe.
+   * @default false
+   */
+  removeAirEvents?: boolean;
 }
 
 export interface ProcessSummary {
@@ -183,7 +197,12 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   const picksText = await readText(picksFile);
   const picks = picksText !== undefined ? picksByLine(picksText, shownPath(picksFile), site) : undefined;
   siteLoaded();
-  const recipe: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
+  const asGiven: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
+  const recipe: Recipe = options.keepAirEvents
+    ? { ...asGiven, steps: asGiven.steps.filter((s) => s.step !== 'airEvents') }
+    : options.removeAirEvents
+      ? withAirEvents(asGiven)
+      : asGiven;
   const progress = options.onProgress ?? (() => {});
   const now = options.now ?? new Date();
   const threads = Math.min(options.threads ?? defaultThreads(), site.lines.length);
@@ -233,6 +252,11 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     if (options.failAfter === 'velocity') throw new Error('stopped after velocity (failAfter)');
 
     const windows = sliceWindowsFor(site, p1, velocity, options);
+    // the airEvents step's mask: the plan's above-ground objects and the air-velocity fits of each line
+    const cleanAir = recipe.steps.some((st) => st.step === 'airEvents');
+    const planAir = cleanAir ? planAirObjects(site.plan, site.crs.metresPerUnit) : undefined;
+    const airFits = cleanAir ? (velocity.hyperbolas ?? []).filter((h) => h.origin === 'above-ground') : [];
+    const airRuns = { lines: 0, cleaned: 0, foci: 0, apexes: 0, removed: 0, skipped: '' };
     progress('depth slices', 0, n);
     // Each line's per-trace slice values (after and before background removal, side by side) go to a
     // point spill on disk in line order (so the result does not depend on which worker finished first),
@@ -249,7 +273,17 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       await inOrder(
         n,
         (i) =>
-          exec.run({ kind: 'pass2', siteDir: site.dir, line: i, recipe, model: velocity.model, velocityMPerNs: velocity.site.velocityMPerNs, windows, ...(keepLines ? { keptIn: stage.path } : {}) }).then((res) => {
+          exec.run({
+            kind: 'pass2',
+            siteDir: site.dir,
+            line: i,
+            recipe,
+            model: velocity.model,
+            velocityMPerNs: velocity.site.velocityMPerNs,
+            windows,
+            ...(keepLines ? { keptIn: stage.path } : {}),
+            ...(planAir ? { air: airObjectsFor(planAir, summaries[i]!, p1[i]!.timeZeroNs, airFits, site.crs.metresPerUnit) } : {}),
+          }).then((res) => {
             waiting.set(i, res as Pass2Result);
             addParts(timer.lineMs, (res as Pass2Result).times);
             for (let r = waiting.get(next); r; r = waiting.get(next)) {
@@ -258,6 +292,17 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
               if (next === 0) log = keepLines ? [...(p1[0] as Pass1Result).log, ...r.log] : r.log;
               const ran = r.log.find((e) => e.step === 'migration')?.result?.method;
               if (typeof ran === 'string') methods.set(ran, (methods.get(ran) ?? 0) + 1);
+              const air = r.log.find((e) => e.step === 'airEvents');
+              if (air) {
+                airRuns.lines++;
+                if (air.skipped) airRuns.skipped ||= air.skipped;
+                else {
+                  airRuns.cleaned++;
+                  airRuns.foci += Number(air.result?.foci ?? 0);
+                  airRuns.apexes += Number(air.result?.apexes ?? 0);
+                  airRuns.removed += Number(air.result?.removedShare ?? 0);
+                }
+              }
               waiting.delete(next++);
             }
           }),
@@ -267,6 +312,13 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       pass2Done();
       const mig = log.find((e) => e.step === 'migration');
       if (mig && methods.size > 0) mig.result = { ...mig.result, linesByMethod: Object.fromEntries([...methods].sort()) };
+      // run.json records the step for the whole site (the log is the first line's): on how many lines it ran
+      const airEntry = log.find((e) => e.step === 'airEvents');
+      if (airEntry && airRuns.lines > 0) {
+        const { skipped: _, ...rest } = airEntry;
+        const result = { linesCleaned: airRuns.cleaned, lines: airRuns.lines, foci: airRuns.foci, airFitApexes: airRuns.apexes, meanRemovedShare: airRuns.cleaned ? Math.round((airRuns.removed / airRuns.cleaned) * 1e5) / 1e5 : 0 };
+        log = log.map((e) => (e === airEntry ? (airRuns.cleaned > 0 ? { ...rest, result } : { ...rest, skipped: airRuns.skipped, result }) : e));
+      }
       screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress, timer }, Math.max(1, threads));
     } finally {
       spill.remove();

@@ -2,7 +2,7 @@ import { mkdtempSync, readdirSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { defaultRecipe, type Recipe } from '@lamina/processing';
+import { defaultRecipe, withAirEvents, type Recipe } from '@lamina/processing';
 import { lineSpillPath, readLineSpill, removeLineSpills, writeLineSpill } from '../src/line-spill';
 import { pass2Steps } from '../src/line-task';
 
@@ -34,12 +34,15 @@ describe('pass 1 lines kept for pass 2', () => {
   });
 
   it('pass 2 starts from pass 1 only when the steps that need the velocity come last', () => {
-    const base = defaultRecipe(400);
-    expect(pass2Steps(base)?.map((s) => s.step)).toEqual(['migration']);
-    const noMigration: Recipe = { steps: base.steps.filter((s) => s.step !== 'migration') };
+    const base = withAirEvents(defaultRecipe(400));
+    // airEvents needs pass 1's air-velocity fits: pass 2 runs it too
+    expect(pass2Steps(base)?.map((s) => s.step)).toEqual(['airEvents', 'migration']);
+    const noMigration: Recipe = { steps: base.steps.filter((s) => s.step !== 'migration' && s.step !== 'airEvents') };
     expect(pass2Steps(noMigration)).toEqual([]);
     const envelopeLast: Recipe = { steps: [...base.steps, { step: 'envelope' }] };
-    expect(pass2Steps(envelopeLast)?.map((s) => s.step)).toEqual(['migration', 'envelope']);
+    expect(pass2Steps(envelopeLast)?.map((s) => s.step)).toEqual(['airEvents', 'migration', 'envelope']);
+    const airEarly: Recipe = { steps: [base.steps[0]!, { step: 'airEvents' }, ...base.steps.slice(1).filter((s) => s.step !== 'airEvents')] };
+    expect(pass2Steps(airEarly)).toBeUndefined();
     const gainAfter: Recipe = { steps: [...base.steps, { step: 'gain', kind: 'agc' }] };
     expect(pass2Steps(gainAfter)).toBeUndefined();
   });

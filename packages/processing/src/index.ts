@@ -43,6 +43,7 @@ export {
 export { type KirchhoffOptions, halfDerivative, kirchhoffMigrate } from './kirchhoff';
 export { type StoltOptions, type StoltKernelOptions, stoltKernel, stoltMigrate, stoltModel } from './stolt';
 export { type PhaseShiftOptions, type PhaseShiftKernelOptions, phaseShiftKernel, phaseShiftMigrate, phaseShiftModel } from './phase-shift';
+export { type AirObjects, type AirEventOptions, type AirEventResult, type AirEventKernelOptions, airEventMask, airEventKernel, removeAirEvents } from './air-events';
 export { type MigrationLayer, type TraceSlots, traceSlots, bistaticTime, dipWeight } from './fk';
 export {
   STEP_NAMES,
@@ -57,6 +58,8 @@ export {
   recipeSchema,
   parseRecipe,
   defaultRecipe,
+  AIR_EVENTS_STEP,
+  withAirEvents,
   runStep,
   runRecipe,
 } from './recipe';

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { isInputError } from '@lamina/errors';
-import { backgroundRemoval, defaultRecipe, parseRecipe, runRecipe, type Recipe } from '../src';
+import { backgroundRemoval, defaultRecipe, parseRecipe, runRecipe, withAirEvents, type Recipe } from '../src';
 import { addDiffraction, addNoise, addRicker, makeLine } from './synth';
 import { C_M_PER_NS } from '@lamina/constants';
 
@@ -60,6 +60,10 @@ describe('runRecipe', () => {
     expect(Array.from(line.data)).toEqual(Array.from(copy)); // input untouched
     expect(r.log.map((e) => e.step)).toEqual(['timeZero', 'dewow', 'bandpass', 'gain', 'backgroundRemoval', 'migration']);
     expect(r.log[5]?.skipped).toMatch(/no velocity/);
+    // the airEvents step, when asked for, goes before migration and is skipped without objects
+    const air = runRecipe(line, withAirEvents(defaultRecipe(F)), ctx);
+    expect(air.log.map((e) => e.step)).toEqual(['timeZero', 'dewow', 'bandpass', 'gain', 'backgroundRemoval', 'airEvents', 'migration']);
+    expect(air.log[5]?.skipped).toMatch(/no above-ground object/);
     expect(r.log[1]?.params).toEqual({ method: 'runningMean', windowNs: 2.5 });
     // time-zero: direct wave centre at 4 + s/c ns, so time-zero about 4 ns
     expect(r.line.timeZeroNs).toBeCloseTo(4, 1);

@@ -16,6 +16,7 @@ const STEP_NAMES: Record<string, string> = {
   bandpass: 'Band-pass filter',
   gain: 'Gain',
   backgroundRemoval: 'Background removal',
+  airEvents: 'Removal of air-wave (above-ground) events',
   migration: 'Migration',
   envelope: 'Envelope (instantaneous amplitude)',
 };
@@ -43,6 +44,13 @@ function paramText(params: Record<string, unknown>, result?: Record<string, unkn
   const parts = Object.entries(params)
     .filter(([, v]) => v !== undefined && v !== null && typeof v !== 'object')
     .map(([k, v]) => `${esc(k)} ${esc(typeof v === 'number' ? n(v, 4) : v)}`);
+  if (result && typeof result.linesCleaned === 'number' && typeof result.lines === 'number') {
+    parts.push(
+      result.linesCleaned > 0
+        ? `ran on ${n(result.linesCleaned, 0)} of ${n(result.lines, 0)} lines (migration at the speed of light, the foci of ${n(result.foci, 0)} plan points and air-velocity hyperbola apexes masked, demigrated and subtracted before slicing)`
+        : 'did not run (no above-ground object of the plan near a line and no air-velocity hyperbola)',
+    );
+  }
   if (result && typeof result.method === 'string') parts.push(`applied as ${esc(result.method)}${typeof result.reason === 'string' ? ` (${esc(result.reason)})` : ''}`);
   return parts.join(', ');
 }

@@ -25,10 +25,12 @@ export function register(program: Command): void {
     .option('--level', 'level line-to-line gain differences before gridding (default: off)')
     .option('--band-memory <MiB>', 'memory for one band of the grid while it is screened; a larger grid is done in overlapping row bands (default: 384)', Number.parseFloat)
     .option('--band-overlap <m>', 'how far a screening band reaches past its core, metres (default: 20 or 2.5 x the deepest air-wave radius)', Number.parseFloat)
+    .option('--remove-air-events', 'take air-wave (above-ground) events out of the data before slicing: adds the airEvents step (f-k at the speed of light, the diffractions of the plan\'s above-ground objects and of air-velocity hyperbolas masked, modelled back and subtracted) before migration (default: off; packages/processing/README.md says why)')
+    .option('--keep-air-events', 'drop the airEvents step of a recipe file that has one (default: off)')
     .option('--timings', 'print the time of each stage (seconds and share of the run) on stderr (default: off)')
     .addHelpText('after', '\nWrites run.json, velocity.json, slices.tif and slices.json, anomalies.geojson, targets.* and report.html.\nRadar finds are not a locate: call the one-call centre before digging and verify by potholing.\nExample:\n  pnpm lamina process sample-sites/yard/site --out out/yard')
     .action(
-      action(async (siteDir: string, opts: { out: string; recipe?: string; threads?: number; sliceThickness?: number; sliceOverlap?: number; maxDepth?: number; cellSize?: number; level?: boolean; bandMemory?: number; bandOverlap?: number; json?: boolean; quiet?: boolean; timings?: boolean; velocity?: string }) => {
+      action(async (siteDir: string, opts: { out: string; recipe?: string; threads?: number; sliceThickness?: number; sliceOverlap?: number; maxDepth?: number; cellSize?: number; level?: boolean; bandMemory?: number; bandOverlap?: number; json?: boolean; quiet?: boolean; timings?: boolean; velocity?: string; keepAirEvents?: boolean; removeAirEvents?: boolean }) => {
         const options: ProcessOptions = {};
         if (opts.recipe) {
           let text: string;
@@ -54,6 +56,8 @@ export function register(program: Command): void {
         if (opts.cellSize !== undefined) options.cellSizeM = opts.cellSize;
         if (opts.level) options.level = true;
         if (opts.velocity) options.velocityFile = opts.velocity;
+        if (opts.keepAirEvents) options.keepAirEvents = true;
+        if (opts.removeAirEvents) options.removeAirEvents = true;
         if (opts.bandMemory !== undefined) {
           if (!(opts.bandMemory > 0)) throw new InputError('command line', '--band-memory must be a positive number of MiB');
           options.screenBandBytes = opts.bandMemory * 2 ** 20;

@@ -13,7 +13,7 @@ export function register(program: Command): void {
     .addHelpText(
       'after',
       '\nSave the output, edit it and pass it to `lamina process --recipe <file>` to change a step.\n' +
-        'Steps: timeZero, dewow, bandpass, gain, backgroundRemoval, migration (packages/processing/README.md).\n' +
+        'Steps: timeZero, dewow, bandpass, gain, backgroundRemoval, airEvents, migration (packages/processing/README.md).\n' +
         'Examples:\n  pnpm lamina recipe --frequency 400 > recipe.json\n  pnpm lamina recipe sample-sites/yard/site',
     )
     .action(

@@ -1,0 +1,371 @@
+// Suppression of above-ground (air-wave) diffractions before slicing: migrate at the speed of light so
+// that what travelled through the air focuses, mask the focused points where above-ground objects are
+// known to be, demigrate the masked energy with the exact inverse of the same f-k step and subtract it.
+// The published method: Geophysics 75(6), J43-J50 (2010), "Semiautomated suppression of above-surface
+// diffractions in GPR data".
+//
+// How it shares the work with background removal, and the order: a wall parallel to a line returns a
+// flat event (the same time on every trace) that the whole-line mean trace takes out, so background
+// removal runs first and this step only sees what is left: diffractions of posts, trees, columns and
+// overhead objects, the dipping events of walls and fences crossing the line obliquely and wall ends.
+// Flat events are left to background removal even where a focus lies (`airLikeness`: they are the same at
+// c and at the soil velocity), including what the mean trace leaves of a parallel wall covering part of
+// the line. Migration at the soil velocity runs after this step, on the cleaned line.
+import { C_M_PER_NS } from '@lamina/constants';
+import type { RadarLine } from '@lamina/radar-data';
+import { bistaticResample, dominantPeriodNs, taperTraceEnds, traceSlots } from './fk';
+import { hilbertEnvelope, hilbertWorkspace } from './envelope';
+import { outputFor, periodNs, withData } from './line-util';
+import { stoltKernel } from './stolt';
+
+/**
+ * Above-ground objects as flat typed arrays (positions in site CRS units, heights in metres):
+ * `points` [x, y, heightM, ...] (posts, trees, columns: height 0, they stand on the ground; an overhead
+ * point: its clearance, the air wave travels the slant distance), `segments` [ax, ay, bx, by, heightM, ...]
+ * (walls, fences, building edges at 0; overhead cables and beams at their clearance), and `apexes`
+ * [trace, t0Ns, ...]: apexes of hyperbolas fitted on this line at the air velocity (two-way time after
+ * time-zero, bistatic).
+ */
+export interface AirObjects {
+  points: Float64Array;
+  segments: Float64Array;
+  apexes?: Float64Array;
+}
+
+export interface AirEventOptions {
+  /** Antenna centre frequency, MHz: sets the mask's size (below). */
+  frequencyMHz: number;
+  /** Antenna separation along the line, m (bistatic times are mapped to zero offset and back). @default 0 */
+  separationM?: number;
+  /** Metres per CRS unit of the positions. @default 1 */
+  metresPerUnit?: number;
+  /**
+   * Dip limit of the f-k step at c. The air-wave hyperbola of an object near the line is steep almost
+   * everywhere (at r = 0.25 m it passes 80 degrees 1.4 m from its apex), and what is steeper than the
+   * limit stays in the data; the exact inverse undoes the forward step up to it. @default 88
+   */
+  maxAngleDeg?: number;
+  /** Fraction of the angle range tapered by a cosine. @default 0.05 */
+  taper?: number;
+  /**
+   * Half-height of the mask around a focus, ns: one period of the antenna frequency (a migrated wavelet
+   * lasts about two periods; common practice, no source). @default 1000 / frequencyMHz
+   */
+  timeHalfWidthNs?: number;
+  /**
+   * Half-width of the mask along the line, m: half an air wavelength c / (2 f) (the focus of a migrated
+   * diffraction is about a quarter wavelength wide; the rest covers plan positions off by a decimetre or
+   * two). @default C_M_PER_NS * 1000 / frequencyMHz / 2
+   */
+  lateralHalfWidthM?: number;
+  /** Soil velocity, m/ns: what focuses better at it than at c is kept (see `airEventKernel`). @default undefined */
+  soilVelocityMPerNs?: number;
+}
+
+export interface AirEventResult {
+  line: RadarLine;
+  /** Share of the line's energy the step took out. */
+  removedShare: number;
+  /** Foci the mask was built from (object points that project onto the line, and apexes). */
+  foci: number;
+  /** Share of the image samples under the mask (weight > 0). */
+  maskedShare: number;
+}
+
+/** The resolved settings of `AirEventOptions` (defaults written once, here). */
+function settings(o: AirEventOptions) {
+  const T = periodNs(o.frequencyMHz);
+  return {
+    separationM: o.separationM ?? 0,
+    metresPerUnit: o.metresPerUnit ?? 1,
+    maxAngleDeg: o.maxAngleDeg ?? 88,
+    taper: o.taper ?? 0.05,
+    timeHalfWidthNs: o.timeHalfWidthNs ?? T,
+    lateralHalfWidthM: o.lateralHalfWidthM ?? (C_M_PER_NS * T) / 2,
+  };
+}
+
+/** Cosine edge: 1 up to `full`, falling to 0 at 1.5 `full`. */
+function edge(d: number, full: number): number {
+  const a = Math.abs(d);
+  if (a <= full) return 1;
+  if (a >= 1.5 * full) return 0;
+  return 0.5 * (1 + Math.cos((Math.PI * (a - full)) / (0.5 * full)));
+}
+
+/**
+ * The mask (weights 0..1, trace-major like the line) on the image of a migration at c with vertical
+ * two-way time on the time axis (sample k at k dt - timeZeroNs). An object point P at horizontal distance
+ * r from the line and height h above the antenna focuses under the trace nearest to it at tau = 2
+ * sqrt(r^2 + h^2) / c: each point of a wall seen along a line is a diffraction of its own, at its
+ * along-line position and perpendicular distance, so the points of every segment (sampled at a quarter
+ * of the mask's width) map the wall's image. Points beyond either end of the line focus outside the
+ * record and are left out. An air-velocity fit's apex (bistatic t0) marks tau = sqrt(t0^2 - (s / c)^2).
+ */
+export function airEventMask(line: RadarLine, objects: AirObjects, options: AirEventOptions, out?: Float32Array): { mask: Float32Array; foci: number } {
+  const s = settings(options);
+  const { nTraces: nt, nSamples: ns, dtNs: dt, timeZeroNs: tz, x, y } = line;
+  const mask = out ?? new Float32Array(nt * ns);
+  mask.fill(0);
+  if (nt < 2) return { mask, foci: 0 };
+  const mpu = s.metresPerUnit;
+  const { spacingM } = traceSlots(line, mpu);
+  const aTr = s.lateralHalfWidthM / spacingM;
+  const bS = s.timeHalfWidthNs / dt;
+  /** Stamps the mask around a focus; false when the focus lies outside the record. */
+  const stamp = (i0: number, tauNs: number): boolean => {
+    const k0 = (tauNs + tz) / dt;
+    const iLo = Math.max(0, Math.ceil(i0 - 1.5 * aTr));
+    const iHi = Math.min(nt - 1, Math.floor(i0 + 1.5 * aTr));
+    const kLo = Math.max(0, Math.ceil(k0 - 1.5 * bS));
+    const kHi = Math.min(ns - 1, Math.floor(k0 + 1.5 * bS));
+    if (kLo > kHi || iLo > iHi) return false;
+    for (let i = iLo; i <= iHi; i++) {
+      const wi = edge(i - i0, aTr);
+      if (wi === 0) continue;
+      for (let k = kLo; k <= kHi; k++) {
+        const w = wi * edge(k - k0, bS);
+        const q = i * ns + k;
+        if (w > (mask[q] as number)) mask[q] = w;
+      }
+    }
+    return true;
+  };
+  let foci = 0;
+  const pointFocus = (px: number, py: number, h: number): void => {
+    let best = Infinity;
+    let ib = 0;
+    for (let i = 0; i < nt; i++) {
+      const d = ((x[i] as number) - px) ** 2 + ((y[i] as number) - py) ** 2;
+      if (d < best) {
+        best = d;
+        ib = i;
+      }
+    }
+    // beyond an end: the projection on the end step falls outside the line
+    if (ib === 0 || ib === nt - 1) {
+      const j = ib === 0 ? 1 : nt - 2;
+      const ex = (x[ib] as number) - (x[j] as number);
+      const ey = (y[ib] as number) - (y[j] as number);
+      const len = Math.hypot(ex, ey);
+      if (len > 0 && ((px - (x[ib] as number)) * ex + (py - (y[ib] as number)) * ey) / len > 0.5 * len) return;
+    }
+    const r = Math.sqrt(best) * mpu;
+    if (stamp(ib, (2 * Math.hypot(r, h)) / C_M_PER_NS)) foci++;
+  };
+  const p = objects.points;
+  for (let q = 0; q + 2 < p.length; q += 3) pointFocus(p[q] as number, p[q + 1] as number, p[q + 2] as number);
+  const sg = objects.segments;
+  const step = Math.max(1e-6, 0.25 * s.lateralHalfWidthM) / mpu;
+  for (let q = 0; q + 4 < sg.length; q += 5) {
+    const ax = sg[q] as number, ay = sg[q + 1] as number, bx = sg[q + 2] as number, by = sg[q + 3] as number;
+    const h = sg[q + 4] as number;
+    const n = Math.max(1, Math.ceil(Math.hypot(bx - ax, by - ay) / step));
+    for (let j = 0; j <= n; j++) pointFocus(ax + ((bx - ax) * j) / n, ay + ((by - ay) * j) / n, h);
+  }
+  const ap = objects.apexes ?? new Float64Array(0);
+  const direct = s.separationM / C_M_PER_NS;
+  for (let q = 0; q + 1 < ap.length; q += 2) {
+    const i0 = ap[q] as number;
+    const t0 = ap[q + 1] as number;
+    if (!(i0 >= 0 && i0 <= nt - 1) || !(t0 > direct)) continue;
+    if (stamp(i0, Math.sqrt(t0 * t0 - direct * direct))) foci++;
+  }
+  return { mask, foci };
+}
+
+/** Options of `airEventKernel`. */
+export interface AirEventKernelOptions {
+  /** @default 88 */
+  maxAngleDeg?: number;
+  /** @default 0.05 */
+  taper?: number;
+  /**
+   * Soil velocity, m/ns: the mask is weighed by `airLikeness` of the envelope peaks of the images at c and
+   * at this velocity around each sample, so a buried diffractor whose apex falls on an air focus keeps its
+   * apex, and flat events are left alone. @default undefined (the mask as it is)
+   */
+  soilVelocityMPerNs?: number;
+  /** Half-width (traces) of the neighbourhood the two images' envelope peaks are compared over. @default 1 */
+  lateralHalfWidthTraces?: number;
+  /** Half-height (samples) of that neighbourhood. @default 1 */
+  timeHalfWidthSamples?: number;
+  /** Band kept by the transforms (`band`, fk.ts). @default 1e-6 */
+  energyTolerance?: number;
+}
+
+/**
+ * How much a focus at c is an air-wave one, from the envelope peaks of the image at c and at the soil
+ * velocity around it: a diffraction through the air focuses at c and smears at v (a point air diffractor
+ * gives about 5 times the peak at c), a soil diffraction the other way round, and a flat event (a
+ * reflector along the line, a pipe parallel to it) is the same in both (kx = 0 does not move). 0 up to a
+ * ratio of 1.25, 1 from 2, linear in the logarithm between: flat events are left to background removal,
+ * and a cut in them would come back from the inverse as diffractions at c.
+ */
+function airLikeness(peakC: number, peakSoil: number): number {
+  if (!(peakSoil > 0)) return 1;
+  const r = peakC / peakSoil;
+  if (r >= AIR_RATIO_FULL) return 1;
+  if (r <= AIR_RATIO_NONE) return 0;
+  return Math.log(r / AIR_RATIO_NONE) / Math.log(AIR_RATIO_FULL / AIR_RATIO_NONE);
+}
+const AIR_RATIO_NONE = 1.25;
+const AIR_RATIO_FULL = 2;
+
+/** Hilbert envelope of every trace of a trace-major section. */
+function envelopes(data: Float32Array, nTraces: number, nSamples: number): Float32Array {
+  const ws = hilbertWorkspace(nSamples);
+  const e = new Float32Array(data.length);
+  for (let i = 0; i < nTraces; i++) hilbertEnvelope(data.subarray(i * nSamples, (i + 1) * nSamples), { workspace: ws }, e.subarray(i * nSamples, (i + 1) * nSamples));
+  return e;
+}
+
+/**
+ * The f-k pair at c on a zero-offset line (trace-major, sample k at k dt - timeZeroNs of vertical two-way
+ * time): Stolt migration at c, the image times `mask` (weighed down where the soil-velocity image is the
+ * stronger one), Stolt modelling of the masked image (the exact inverse of the same step inside its dip
+ * limit; no half-integral either way, so the pair is the plain wave-equation one). Returns the masked
+ * energy in data space, zero-offset time.
+ */
+export function airEventKernel(
+  zo: ArrayLike<number>,
+  nTraces: number,
+  nSamples: number,
+  dtNs: number,
+  dxM: number,
+  timeZeroNs: number,
+  mask: ArrayLike<number>,
+  options: AirEventKernelOptions = {},
+  out: Float32Array = new Float32Array(nTraces * nSamples),
+): Float32Array {
+  const kernel = { maxAngleDeg: options.maxAngleDeg ?? 88, taper: options.taper ?? 0.05, apertureM: Infinity, energyTolerance: options.energyTolerance ?? 1e-6, halfIntegral: false };
+  const img = stoltKernel(zo, nTraces, nSamples, dtNs, dxM, timeZeroNs, C_M_PER_NS, { ...kernel, inverse: false });
+  const w = Float32Array.from(mask);
+  const v = options.soilVelocityMPerNs;
+  if (v !== undefined && v > 0 && v < C_M_PER_NS) {
+    const soil = stoltKernel(zo, nTraces, nSamples, dtNs, dxM, timeZeroNs, v, { ...kernel, inverse: false });
+    const ec = envelopes(img, nTraces, nSamples);
+    const es = envelopes(soil, nTraces, nSamples);
+    // Compared over a neighbourhood: a soil diffraction migrated at c is a smile whose flat bottom is
+    // wider than its focus at v, so sample by sample the smile's shoulders would pass for air foci.
+    const ri = Math.max(1, Math.round(1.5 * (options.lateralHalfWidthTraces ?? 1)));
+    const rk = Math.max(1, Math.round(1.5 * (options.timeHalfWidthSamples ?? 1)));
+    for (let i = 0; i < nTraces; i++) {
+      for (let k = 0; k < nSamples; k++) {
+        const q = i * nSamples + k;
+        if (!((w[q] as number) > 0)) continue;
+        let mc = 0;
+        let ms = 0;
+        for (let j = Math.max(0, i - ri); j <= Math.min(nTraces - 1, i + ri); j++) {
+          for (let m = Math.max(0, k - rk); m <= Math.min(nSamples - 1, k + rk); m++) {
+            const c = ec[j * nSamples + m] as number;
+            const s = es[j * nSamples + m] as number;
+            if (c > mc) mc = c;
+            if (s > ms) ms = s;
+          }
+        }
+        w[q] = (w[q] as number) * airLikeness(mc, ms);
+      }
+    }
+  }
+  for (let q = 0; q < img.length; q++) img[q] = (img[q] as number) * (w[q] as number);
+  return stoltKernel(img, nTraces, nSamples, dtNs, dxM, timeZeroNs, C_M_PER_NS, { ...kernel, inverse: true }, out);
+}
+
+/**
+ * Takes air-wave events out of a line: bistatic to zero-offset time at c, the record's end tapered
+ * (as the migrations do), `airEventKernel` with `airEventMask`, back to bistatic time, subtracted from
+ * the line. What focuses elsewhere at c, and everything that does not focus at c (what travelled in
+ * the soil), is left as it was; samples before the direct wave are untouched. `out` may be `line.data`.
+ */
+export function removeAirEvents(line: RadarLine, objects: AirObjects, options: AirEventOptions, out?: Float32Array): AirEventResult {
+  const s = settings(options);
+  const { nTraces: n0, nSamples: ns, dtNs: dt, timeZeroNs: tz } = line;
+  const { src, dst } = outputFor(line, out);
+  // Objects beyond an end focus outside the record: the image is made on the line extended by empty
+  // traces far enough to hold their foci (their hyperbolas' flanks are in the record).
+  const ext = extension(line, objects, s.metresPerUnit, s.lateralHalfWidthM);
+  const nt = n0 + ext.before + ext.after;
+  const { mask, foci } = airEventMask({ ...line, nTraces: nt, x: ext.x, y: ext.y, data: new Float32Array(0) }, shiftApexes(objects, ext.before), options);
+  let masked = 0;
+  for (let q = 0; q < mask.length; q++) if ((mask[q] as number) > 0) masked++;
+  if (masked === 0) {
+    dst.set(src);
+    return { line: withData(line, dst), removedShare: 0, foci, maskedShare: 0 };
+  }
+  const air = [{ topM: 0, velocityMPerNs: C_M_PER_NS }];
+  const zo = new Float64Array(nt * ns);
+  bistaticResample(src, n0, ns, dt, tz, air, s.separationM, true, zo.subarray(ext.before * ns, (ext.before + n0) * ns));
+  taperTraceEnds(zo, nt, ns, dt, dominantPeriodNs(zo, nt, ns, dt));
+  const { spacingM } = traceSlots(line, s.metresPerUnit);
+  const part = airEventKernel(zo, nt, ns, dt, spacingM, tz, mask, { maxAngleDeg: s.maxAngleDeg, taper: s.taper, ...(options.soilVelocityMPerNs !== undefined ? { soilVelocityMPerNs: options.soilVelocityMPerNs } : {}), lateralHalfWidthTraces: s.lateralHalfWidthM / spacingM, timeHalfWidthSamples: s.timeHalfWidthNs / dt });
+  const back = new Float32Array(n0 * ns);
+  bistaticResample(part.subarray(ext.before * ns, (ext.before + n0) * ns), n0, ns, dt, tz, air, s.separationM, false, back);
+  let eIn = 0;
+  let eOut = 0;
+  for (let q = 0; q < dst.length; q++) {
+    const a = src[q] as number;
+    const b = back[q] as number;
+    dst[q] = a - b;
+    eIn += a * a;
+    eOut += b * b;
+  }
+  return { line: withData(line, dst), removedShare: eIn > 0 ? eOut / eIn : 0, foci, maskedShare: masked / mask.length };
+}
+
+/** Apexes shifted by `by` traces (onto the extended line). */
+function shiftApexes(o: AirObjects, by: number): AirObjects {
+  if (!o.apexes || by === 0) return o;
+  const a = Float64Array.from(o.apexes);
+  for (let q = 0; q < a.length; q += 2) a[q] = (a[q] as number) + by;
+  return { ...o, apexes: a };
+}
+
+/**
+ * Trace positions of the line extended at each end along its end direction (at its mean spacing) by as
+ * many traces as the farthest object beyond that end needs (its distance past the end plus the mask's
+ * reach), at most the line's own length.
+ */
+function extension(line: RadarLine, o: AirObjects, mpu: number, lateralM: number): { x: Float64Array; y: Float64Array; before: number; after: number } {
+  const { nTraces: n, x, y } = line;
+  if (n < 2) return { x, y, before: 0, after: 0 };
+  const { spacingM } = traceSlots(line, mpu);
+  const dir = (from: number, to: number): [number, number] => {
+    const dx = (x[to] as number) - (x[from] as number);
+    const dy = (y[to] as number) - (y[from] as number);
+    const l = Math.hypot(dx, dy);
+    return l > 0 ? [dx / l, dy / l] : [0, 0];
+  };
+  const k = Math.min(n - 1, 10);
+  const u0 = dir(k, 0);
+  const u1 = dir(n - 1 - k, n - 1);
+  let b0 = 0;
+  let b1 = 0;
+  const see = (px: number, py: number) => {
+    b0 = Math.max(b0, ((px - (x[0] as number)) * u0[0] + (py - (y[0] as number)) * u0[1]) * mpu);
+    b1 = Math.max(b1, ((px - (x[n - 1] as number)) * u1[0] + (py - (y[n - 1] as number)) * u1[1]) * mpu);
+  };
+  for (let q = 0; q + 2 < o.points.length; q += 3) see(o.points[q] as number, o.points[q + 1] as number);
+  for (let q = 0; q + 4 < o.segments.length; q += 5) {
+    see(o.segments[q] as number, o.segments[q + 1] as number);
+    see(o.segments[q + 2] as number, o.segments[q + 3] as number);
+  }
+  const traces = (m: number) => (m > 0 ? Math.min(n, Math.ceil((m + 1.5 * lateralM) / spacingM)) : 0);
+  const before = traces(b0);
+  const after = traces(b1);
+  if (before + after === 0) return { x, y, before: 0, after: 0 };
+  const ex = new Float64Array(n + before + after);
+  const ey = new Float64Array(n + before + after);
+  const step = spacingM / mpu;
+  for (let j = 0; j < before; j++) {
+    ex[j] = (x[0] as number) + (before - j) * step * u0[0];
+    ey[j] = (y[0] as number) + (before - j) * step * u0[1];
+  }
+  ex.set(x, before);
+  ey.set(y, before);
+  for (let j = 1; j <= after; j++) {
+    ex[before + n - 1 + j] = (x[n - 1] as number) + j * step * u1[0];
+    ey[before + n - 1 + j] = (y[n - 1] as number) + j * step * u1[1];
+  }
+  return { x: ex, y: ey, before, after };
+}
