@@ -54,15 +54,15 @@ export interface HyperbolaFit {
   /** Picks retained by the robust fit (weight > 0) of all picks. */
   inliers?: number;
   /**
-   * Set when the fit belongs to a linear reflector crossing several lines obliquely (see
-   * `correctObliqueCrossings`): velocity and depth above are corrected by sin(angle); the apparent
-   * values of the hyperbola are kept here.
-   */
-  /**
    * The straight strike of a linear reflector (`correctObliqueCrossings`) this fit lies on, corrected
    * for the crossing angle or not (near 90 degrees): the site model counts a strike's fits as one object.
    */
   strike?: string;
+  /**
+   * Set when the fit belongs to a linear reflector crossing several lines obliquely (see
+   * `correctObliqueCrossings`): velocity and depth above are corrected by sin(angle); the apparent
+   * values of the hyperbola are kept here.
+   */
   crossing?: { feature: string; angleDeg: number; apparentVelocityMPerNs: number; apparentDepthM: number; apparentRadiusM?: number; lines: number };
   /** Unit direction of the fit's line (first to last trace) in the site CRS; lets the report find oblique crossings. */
   lineDirection?: [number, number];

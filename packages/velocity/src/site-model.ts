@@ -220,7 +220,9 @@ function twoLayer(
     if (all[k]!.t === all[k - 1]!.t) continue;
     const shallow = all.slice(0, k);
     const deep = all.slice(k);
-    if (new Set(shallow.map((e) => e.o)).size < minN || new Set(deep.map((e) => e.o)).size < minN) continue;
+    const shallowObjects = new Set(shallow.map((e) => e.o)).size;
+    const deepObjects = new Set(deep.map((e) => e.o)).size;
+    if (shallowObjects < minN || deepObjects < minN) continue;
     // The shallow velocity holds down to the shallow group's deepest fit.
     const t1 = shallow[shallow.length - 1]!.t;
     let a = 0;
@@ -251,7 +253,7 @@ function twoLayer(
     for (const e of shallow) rss += e.w * (e.v - v1) ** 2;
     for (const e of deep) rss += e.w * (e.v - Math.sqrt((v1 * v1 * t1 + v22 * (e.t - t1)) / e.t)) ** 2;
     const score = bic(rss, 3);
-    if (!best || score < best.bic) best = { bic: score, v1, vInt, t1, shallowObjects: new Set(shallow.map((e) => e.o)).size, deep: deep.map((e) => ({ v: e.v, t: e.t, w: e.w })) };
+    if (!best || score < best.bic) best = { bic: score, v1, vInt, t1, tDeep, shallowObjects, deepObjects };
   }
   if (!best || !(best.bic < bic0)) return null;
   const { v1, vInt, t1 } = best;
@@ -273,8 +275,10 @@ interface LayerSplit {
   v1: number;
   vInt: number;
   t1: number;
+  /** The deep group's median zero-offset time. */
+  tDeep: number;
   shallowObjects: number;
-  deep: { v: number; t: number; w: number }[];
+  deepObjects: number;
 }
 
 /**
@@ -283,8 +287,8 @@ interface LayerSplit {
  * deep group a few percent slower than the shallow one (one big pipe's resolved fits, the radius bias
  * of point fits) turns into an interval of half the velocity, which BIC alone, with the fits' formal
  * errors, accepts. The scatter s is the objects' own (1.4826 x the median absolute residual of the
- * objects, each the weighted mean of its fits', at least `systematic` x v1); each group's velocity then has the standard error of a median,
- * 1.2533 s / sqrt(objects); propagated through v_int^2 = (vr2^2 t2 - v1^2 t1) / (t2 - t1) at the deep
+ * objects, each the weighted mean of its fits', at least `systematic` x v1); each group's velocity then
+ * has the standard error of a median, 1.2533 s / sqrt(objects); propagated through v_int^2 = (vr2^2 t2 - v1^2 t1) / (t2 - t1) at the deep
  * group's median time t2, the two layers must differ by more than 3 of their combined standard errors
  * (about 0.3 % false layers in Gaussian scatter).
  */
@@ -301,14 +305,10 @@ function significantLayer(all: { v: number; t: number; w: number; o: number }[],
   }
   const residual = [...sum.values()].map((o) => Math.abs(o.r / o.w));
   const s = Math.max(1.4826 * medianHigh(residual), systematic * v1);
-  const deepObjects = new Set(all.filter((e) => e.t > t1).map((e) => e.o)).size;
-  const t2 = weightedMedian(
-    split.deep.map((e) => e.t),
-    split.deep.map(() => 1),
-  );
+  const t2 = split.tDeep;
   const vr2 = Math.sqrt((v1 * v1 * t1 + vInt * vInt * (t2 - t1)) / t2);
   const se1 = (1.2533 * s) / Math.sqrt(split.shallowObjects);
-  const se2 = (1.2533 * s) / Math.sqrt(deepObjects);
+  const se2 = (1.2533 * s) / Math.sqrt(split.deepObjects);
   const dt = t2 - t1;
   const seInt2 = Math.hypot(((2 * vr2 * t2) / dt) * se2, ((2 * v1 * t1) / dt) * se1);
   const seInt = seInt2 / (2 * vInt);
