@@ -1,7 +1,7 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { InputError } from '@lamina/errors';
 import { loadSite, readLine, pointToWgs84, shownPath, type Site } from '@lamina/site';
-import { defaultRecipe, hilbertEnvelopePair, hilbertWorkspace, parseRecipe, runRecipe, type AirObjects, type Recipe, type RecipeLogEntry, type Step } from '@lamina/processing';
+import { defaultRecipe, hilbertEnvelopePair, hilbertWorkspace, parseRecipe, runRecipe, withoutAirEvents, type AirObjects, type Recipe, type RecipeLogEntry, type Step } from '@lamina/processing';
 import { fitManualPicks, lineDirection, lineHyperbolas, recipeForVelocity, sampleDepths, type HyperbolaFit, type ManualHyperbola, type VelocityModel } from '@lamina/velocity';
 import { traceSliceValues, type SliceWindow } from '@lamina/slices';
 import { lineSpillPath, readLineSpill, writeLineSpill } from './line-spill';
@@ -77,7 +77,7 @@ export interface Pass2Result {
  * whose mask needs pass 1's own air-velocity fits (and whose cleaning would hide them from the fit).
  */
 export function pass1Recipe(recipe: Recipe): Recipe {
-  return recipeForVelocity({ ...recipe, steps: recipe.steps.filter((s) => s.step !== 'airEvents') });
+  return recipeForVelocity(withoutAirEvents(recipe));
 }
 
 /**

@@ -6,7 +6,7 @@ import { lockFolder, stageFolder, type FolderLock } from '@lamina/atomic';
 import { checkPlanNearSurvey, loadSite, pointToWgs84, shownPath, type Site } from '@lamina/site';
 import { buildVelocityReport, enoughFits, parsePicks, spreadOrder, velocityJsonChunks, type HyperbolaFit, type ManualHyperbola, type VelocityReport } from '@lamina/velocity';
 import { defaultWindows, PointSpill, type SliceWindow } from '@lamina/slices';
-import { withAirEvents, type Recipe } from '@lamina/processing';
+import { withAirEvents, withoutAirEvents, type Recipe } from '@lamina/processing';
 import { exportTargets, matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
 import { createPool, defaultThreads, type Pool } from '@lamina/runtime-files';
 import { removeLineSpills } from './line-spill';
@@ -199,7 +199,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   siteLoaded();
   const asGiven: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
   const recipe: Recipe = options.keepAirEvents
-    ? { ...asGiven, steps: asGiven.steps.filter((s) => s.step !== 'airEvents') }
+    ? withoutAirEvents(asGiven)
     : options.removeAirEvents
       ? withAirEvents(asGiven)
       : asGiven;

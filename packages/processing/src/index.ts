@@ -60,6 +60,7 @@ export {
   defaultRecipe,
   AIR_EVENTS_STEP,
   withAirEvents,
+  withoutAirEvents,
   runStep,
   runRecipe,
 } from './recipe';

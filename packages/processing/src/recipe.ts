@@ -130,16 +130,6 @@ export function parseRecipe(json: unknown, file = 'recipe', options: { pathPrefi
 }
 
 /**
- * The default chain for an antenna of `frequencyMHz` (T = 1000 / f ns, one period):
- * time-zero (main peak of the direct wave minus s/c), dewow (running mean over T), zero-phase
- * Butterworth band-pass 0.25 f - 2 f (order 4), spherical-divergence gain t / T from T (60 dB ceiling),
- * whole-line background removal, and migration when a velocity is known (skipped otherwise; Kirchhoff for
- * now, see the step's comment; a step without `method` runs `auto`).
- * Gain comes before background removal so that the data `keepBefore: 'backgroundRemoval'` returns
- * (for screening and display) is already gained; a gain curve shared by all traces commutes with the
- * mean-trace removal, so the order does not change the result.
- */
-/**
  * The airEvents step as `lamina process --remove-air-events` adds it (before migration): f-k at c, the
  * mask from the plan and the air-velocity fits; skipped, and logged as skipped, on a line with no
  * above-ground object near it. After background removal, which already took out the flat events of
@@ -156,6 +146,21 @@ export function withAirEvents(recipe: Recipe): Recipe {
   return { ...recipe, steps };
 }
 
+/** `recipe` without its airEvents step. */
+export function withoutAirEvents(recipe: Recipe): Recipe {
+  return { ...recipe, steps: recipe.steps.filter((s) => s.step !== 'airEvents') };
+}
+
+/**
+ * The default chain for an antenna of `frequencyMHz` (T = 1000 / f ns, one period):
+ * time-zero (main peak of the direct wave minus s/c), dewow (running mean over T), zero-phase
+ * Butterworth band-pass 0.25 f - 2 f (order 4), spherical-divergence gain t / T from T (60 dB ceiling),
+ * whole-line background removal, and migration when a velocity is known (skipped otherwise; Kirchhoff for
+ * now, see the step's comment; a step without `method` runs `auto`).
+ * Gain comes before background removal so that the data `keepBefore: 'backgroundRemoval'` returns
+ * (for screening and display) is already gained; a gain curve shared by all traces commutes with the
+ * mean-trace removal, so the order does not change the result.
+ */
 export function defaultRecipe(frequencyMHz: number): Recipe {
   if (!(frequencyMHz > 0)) throw new Error(`defaultRecipe: frequency must be > 0 MHz, found ${frequencyMHz}`);
   const T = periodNs(frequencyMHz);
