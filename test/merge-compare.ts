@@ -4,24 +4,11 @@ import { execFileSync } from 'node:child_process';
 import { readFileSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import { expect } from 'vitest';
+import type { SlicesJson, TileEntry, TilesManifest } from '@lamina/contracts';
 import { GDAL_ENV, PYTHON, tempDir } from '@lamina/test-utils';
 
-interface SlicesJson {
-  originX: number;
-  originY: number;
-  cellSize: number;
-  width: number;
-  height: number;
-  nodata: number;
-  metresPerUnit: number;
-  slices: { band: number; topM: number; bottomM: number }[];
-}
-interface Tile {
-  id: string;
-  dir: string;
-  core: [number, number, number, number];
-  lines: { traces?: [number, number] }[];
-}
+/** Whether site-CRS point (x, y) lies in a tile's core (results there belong to the tile). */
+const inCore = (t: TileEntry, x: number, y: number): boolean => x >= t.core[0] && x < t.core[2] && y >= t.core[1] && y < t.core[3];
 type Feature = { properties: Record<string, unknown> & { id: string; depthTopM: number; depthBottomM: number; centroid?: [number, number]; class?: string } };
 
 const json = <T>(file: string): T => JSON.parse(readFileSync(file, 'utf8')) as T;
@@ -53,7 +40,7 @@ const offset = (from: SlicesJson, to: SlicesJson): [number, number] => [Math.rou
  * their core cells must equal the untiled run too.
  */
 export function expectMosaicOfCores(tilesDir: string, mergedDir: string): string[] {
-  const m = json<{ sizeUnits: number; tiles: Tile[] }>(join(tilesDir, 'tiles.json'));
+  const m = json<TilesManifest>(join(tilesDir, 'tiles.json'));
   const merged = json<SlicesJson>(join(mergedDir, 'slices.json'));
   const owned = new Uint8Array(merged.width * merged.height);
   const whole: string[] = [];
@@ -68,7 +55,7 @@ export function expectMosaicOfCores(tilesDir: string, mergedDir: string): string
         for (let c = 0; c < tj.width; c++) {
           const x = tj.originX + (c + 0.5) * tj.cellSize;
           const y = tj.originY - (r + 0.5) * tj.cellSize;
-          if (!(x >= t.core[0] && x < t.core[2] && y >= t.core[1] && y < t.core[3])) continue;
+          if (!inCore(t, x, y)) continue;
           const k = (r + dr) * merged.width + (c + dc);
           expect(mosaic[k], `${t.id} slice ${b} cell ${r},${c}`).toBe(values[r * tj.width + c]);
           owned[k] = 1;
@@ -113,7 +100,7 @@ export function compareWithUntiled(tilesDir: string, mergedDir: string, untiledD
   const u = json<SlicesJson>(join(untiledDir, 'slices.json'));
   for (const k of ['originX', 'originY', 'cellSize', 'width', 'height', 'nodata'] as const) expect(a[k], k).toBe(u[k]);
   expect(a.slices.map((s) => [s.topM, s.bottomM])).toEqual(u.slices.map((s) => [s.topM, s.bottomM]));
-  const m = json<{ tiles: Tile[] }>(join(tilesDir, 'tiles.json'));
+  const m = json<TilesManifest>(join(tilesDir, 'tiles.json'));
   const whole = m.tiles.filter((t) => wholeTiles.includes(t.id));
   let equalCells = 0;
   const rel: number[] = [];
@@ -125,7 +112,7 @@ export function compareWithUntiled(tilesDir: string, mergedDir: string, untiledD
         const k = r * a.width + c;
         const x = a.originX + (c + 0.5) * a.cellSize;
         const y = a.originY - (r + 0.5) * a.cellSize;
-        if (whole.some((t) => x >= t.core[0] && x < t.core[2] && y >= t.core[1] && y < t.core[3])) {
+        if (whole.some((t) => inCore(t, x, y))) {
           expect(A[k], `slice ${s.band} cell ${r},${c}`).toBe(U[k]);
           equalCells++;
         } else if (A[k] !== a.nodata && U[k] !== u.nodata && U[k] !== 0) rel.push(Math.abs(A[k]! - U[k]!) / Math.abs(U[k]!));
