@@ -20,16 +20,18 @@ export function register(program: Command): void {
     .option('--velocity <file>', "the survey's velocity.json (`lamina velocity`): copied beside tiles.json and used by every tile (default: each tile fits its own)")
     .option('--emit <engines>', 'also write job files for batch engines, comma-separated: slurm (run-slurm.sbatch), k8s (job-k8s.yaml), parallel (run-parallel.sh) (default: none)')
     .option('--threads <n>', 'worker threads per tile in the job files (default: 2)', (v) => Number.parseInt(v, 10))
+    .option('--line-context <m>', 'metres of line processed with a piece beyond each end (default: the whole line, so pieces equal the untiled run)', Number.parseFloat)
     .addHelpText(
       'after',
       '\nLines wholly inside a tile (plus overlap) are referenced in place; lines that leave it are cut into pieces,\n' +
-        'each the same file with a "traces" range in the tile\'s site.json (nothing is copied). Then run, per tile,\n' +
+        'each the same file with a "traces" range in the tile\'s site.json (nothing is copied), processed with its\n' +
+        'whole line ("context") and kept alone. Then run, per tile,\n' +
         'from the --out folder:\n' +
         '  lamina process <tile> --out <tile>-out\n' +
         'Merging the tiles\' targets: docs/large-surveys.md.\nExample:\n  pnpm lamina tiles sample-sites/yard/site --size 10 --overlap 2 --out /tmp/yard-tiles',
     )
     .action(
-      action(async (site: string, opts: { size: number; overlap?: number; planMargin?: number; absolute?: boolean; out: string; json?: boolean; velocity?: string; emit?: string; threads?: number }) => {
+      action(async (site: string, opts: { size: number; overlap?: number; planMargin?: number; absolute?: boolean; out: string; json?: boolean; velocity?: string; emit?: string; threads?: number; lineContext?: number }) => {
         const engines = (opts.emit ?? '').split(',').map((e) => e.trim()).filter(Boolean);
         for (const e of engines) if (!(ENGINES as readonly string[]).includes(e)) throw new InputError('command line', `--emit: expected ${ENGINES.join(', ')}, found ${JSON.stringify(e)}`);
         if (opts.threads !== undefined && !(Number.isInteger(opts.threads) && opts.threads >= 1)) throw new InputError('command line', '--threads must be a whole number >= 1');
@@ -44,7 +46,12 @@ export function register(program: Command): void {
         if (opts.overlap !== undefined) options.overlapM = opts.overlap;
         if (opts.planMargin !== undefined) options.planMarginM = opts.planMargin;
         if (opts.absolute) options.absolutePaths = true;
-        if (opts.velocity) options.velocityFile = (await readSurveyVelocity(opts.velocity)).file;
+        if (opts.lineContext !== undefined) options.lineContextM = opts.lineContext;
+        if (opts.velocity) {
+          const v = await readSurveyVelocity(opts.velocity);
+          options.velocityFile = v.file;
+          if (v.windows) options.windowsFile = v.windows.file;
+        }
         const m = await writeTiles(site, opts.out, options);
         // the job files start Lamina as this process was started (the built CLI by its path)
         const lamina = [process.execPath, process.argv[1]!].map((a) => (/^[\w@%+=:,./-]+$/.test(a) ? a : `'${a.replace(/'/g, `'\\''`)}'`)).join(' ');
