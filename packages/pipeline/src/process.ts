@@ -209,7 +209,11 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   const threads = Math.min(options.threads ?? defaultThreads(), site.lines.length);
   // Pass 2 starts from pass 1's lines, kept in the stage folder, when the recipe allows it and the disk
   // has room for them (two Float32 copies of every line, positions, a header) beside the run's own files.
-  const keptBytes = survey.lines.reduce((a, l) => a + l.nTraces * (8 * l.nSamples + 16) + 256, 0);
+  // (a tile's piece keeps its whole processed context: site.json `context`)
+  const keptBytes = survey.lines.reduce((a, l, i) => {
+    const c = site.lines[i]?.context;
+    return a + (c ? c[1] - c[0] + 1 : l.nTraces) * (8 * l.nSamples + 16) + 256;
+  }, 0);
   const keepLines = (options.keepLines ?? true) && pass2Steps(recipe) !== undefined && freeBytes - size.diskBytes >= keptBytes;
   // One process per output folder: a second one would remove this one's stage (stageFolder clears stale ones).
   const runLock = await lockFolder(outDir, { kind: 'run', what: 'lamina process', shown: shownPath(outDir) });
