@@ -55,6 +55,8 @@ export const tilesSchema = z.object({
   windows: z.string().optional(),
   /** Metres of line processed beyond a piece at each end; absent: the whole line (`lamina tiles --line-context`). */
   lineContextM: num.optional(),
+  /** Without `lineContextM`: memory for a line's processing, MiB; a longer line is processed in a stretch of that size around each piece. */
+  lineMemoryMiB: num.optional(),
   tiles: z.array(tileEntrySchema),
 });
 export type TilesManifest = z.infer<typeof tilesSchema>;

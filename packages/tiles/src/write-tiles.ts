@@ -38,18 +38,33 @@ export interface TileOptions {
    */
   velocityFile?: string;
   /**
-   * Metres of line processed with a piece beyond each of its ends (site.json `context`), m. A piece is
-   * processed with its whole line by default, so its time-zero, mean background and migration are those of
-   * the untiled run (exact, at the cost of processing a long line once per tile it crosses); a finite
-   * value bounds that cost and the memory of a tile for lines of kilometres, and makes those steps see
-   * only the context (line-wide statistics then differ from the untiled run's).
-   * @default Infinity (the whole line)
+   * Metres of line processed with a piece beyond each of its ends (site.json `context`), m. By default a
+   * piece is processed with its whole line, so its time-zero, mean background and migration are those of
+   * the untiled run (exact, at the cost of processing a line once per tile it crosses), unless the line
+   * is too large for `lineMemoryMiB`. A finite value bounds the time for lines of kilometres, and makes
+   * those steps see only the context (line-wide statistics then differ from the untiled run's).
+   * @default the whole line, within `lineMemoryMiB`
    */
   lineContextM?: number;
+  /**
+   * Memory for the line a worker thread processes, MiB: a line whose processing needs more
+   * (`LINE_BYTES_PER_SAMPLE`) is processed, for each piece, in the stretch of that size centred on the
+   * piece (approximate, like `lineContextM`). `lamina tiles` gives the band budget over the threads: a
+   * run's line passes and its band screening come one after the other, so a tile's lines then need no
+   * more than its bands. @default 192 (the default 384 MiB band budget over 2 threads)
+   */
+  lineMemoryMiB?: number;
   /** The survey's windows.json (beside its velocity.json), copied beside tiles.json. @default none */
   windowsFile?: string;
   onLine?: (done: number, total: number) => void;
 }
+
+/**
+ * Peak memory of processing a line, bytes per sample (traces x samples): measured with
+ * bench/tile-memory.bench.ts (peak RSS rose by about 62 bytes a sample of the line processed: the
+ * migration's f-k of the line, padded in time and distance, in complex doubles).
+ */
+export const LINE_BYTES_PER_SAMPLE = 64;
 
 /** File name of the survey's velocity model beside tiles.json (`TileOptions.velocityFile`). */
 export const SURVEY_VELOCITY = 'velocity.json';
@@ -80,7 +95,7 @@ function planJson(features: PlanFeature[]): string {
   );
 }
 
-function checkOptions(options: TileOptions): { sizeM: number; overlapM: number; contextM: number } {
+function checkOptions(options: TileOptions): { sizeM: number; overlapM: number; contextM: number; lineMemoryMiB: number } {
   const where = 'tiles options';
   const { sizeM } = options;
   const overlapM = options.overlapM ?? 5;
@@ -89,7 +104,9 @@ function checkOptions(options: TileOptions): { sizeM: number; overlapM: number; 
   if (options.planMarginM !== undefined && !(options.planMarginM >= 0)) throw new InputError(where, `expected a plan margin in m >= 0, found ${options.planMarginM}`, { field: 'planMargin' });
   const contextM = options.lineContextM ?? Infinity;
   if (!(contextM >= 0)) throw new InputError(where, `expected a line context in m >= 0, found ${contextM}`, { field: 'lineContext' });
-  return { sizeM, overlapM, contextM };
+  const lineMemoryMiB = options.lineMemoryMiB ?? 192;
+  if (!(lineMemoryMiB > 0)) throw new InputError(where, `expected a line memory in MiB > 0, found ${lineMemoryMiB}`, { field: 'lineMemory' });
+  return { sizeM, overlapM, contextM, lineMemoryMiB };
 }
 
 /** Cumulative distance along a line, m. */
@@ -99,9 +116,18 @@ function alongTrack(x: Float64Array, y: Float64Array, mpu: number): Float64Array
   return d;
 }
 
-/** The traces within `contextM` of the run [first, last] along the line (all of them without `along`). */
-function contextOf(along: Float64Array | undefined, first: number, last: number, contextM: number): [number, number] {
-  if (!along) return [0, Number.MAX_SAFE_INTEGER];
+/**
+ * The traces processed with the run [first, last] of a line of `n` traces: those within `contextM` of
+ * it along the line (`along`); else the whole line when it has at most `maxTraces`, else the
+ * `maxTraces` centred on the run (never fewer than the run).
+ */
+function contextOf(along: Float64Array | undefined, first: number, last: number, contextM: number, n: number, maxTraces: number): [number, number] {
+  if (!along) {
+    if (n <= maxTraces) return [0, n - 1];
+    const len = Math.max(last - first + 1, maxTraces);
+    const a = Math.max(0, Math.min(first - Math.floor((len - (last - first + 1)) / 2), n - len));
+    return [a, a + len - 1];
+  }
   let a = first;
   while (a > 0 && along[first]! - along[a - 1]! <= contextM) a--;
   let b = last;
@@ -115,7 +141,7 @@ function contextOf(along: Float64Array | undefined, first: number, last: number,
  * place traces; copies no samples (tiles reference the original SEG-Y files).
  */
 export async function writeTiles(siteDir: string, outDir: string, options: TileOptions): Promise<TilesManifest> {
-  const { sizeM, overlapM, contextM } = checkOptions(options);
+  const { sizeM, overlapM, contextM, lineMemoryMiB } = checkOptions(options);
   const site = await loadSite(siteDir);
   const mpu = site.crs.metresPerUnit;
   const size = sizeM / mpu;
@@ -137,6 +163,7 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
     try {
       const { x, y } = await linePositions(site, src, reader);
       const along = Number.isFinite(contextM) ? alongTrack(x, y, mpu) : undefined;
+      const maxTraces = Math.max(2, Math.floor((lineMemoryMiB * 2 ** 20) / (LINE_BYTES_PER_SAMPLE * reader.nSamples)));
       nTraces.push(reader.nTraces);
       maxRecordNs = Math.max(maxRecordNs, reader.nSamples * reader.dtNs);
       const reach = new Set<string>();
@@ -150,7 +177,7 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
       for (const key of reach) {
         const [cc, rr] = key.split(',').map(Number) as [number, number];
         const box: Box = [cc * size - ov, rr * size - ov, (cc + 1) * size + ov, (rr + 1) * size + ov];
-        for (const [first, last] of tracesInBox(x, y, box)) acc(cc, rr).runs.push({ line: li, first, last, context: contextOf(along, first, last, contextM) });
+        for (const [first, last] of tracesInBox(x, y, box)) acc(cc, rr).runs.push({ line: li, first, last, context: contextOf(along, first, last, contextM, x.length, maxTraces) });
       }
     } finally {
       await reader.close();
@@ -255,7 +282,7 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
       traces: nTraces.reduce((a, b) => a + b, 0),
       ...(options.velocityFile ? { velocity: SURVEY_VELOCITY } : {}),
       ...(windows ? { windows: basename(windows) } : {}),
-      ...(Number.isFinite(contextM) ? { lineContextM: contextM } : {}),
+      ...(Number.isFinite(contextM) ? { lineContextM: contextM } : { lineMemoryMiB }),
       tiles,
     };
     if (options.velocityFile) await copyFile(options.velocityFile, join(stage.path, SURVEY_VELOCITY));

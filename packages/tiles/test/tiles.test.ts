@@ -6,7 +6,7 @@ import { dirname, join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { writeSegy, type RadarLine } from '@lamina/radar-data';
 import { loadSite, pointToWgs84, readLine, resolveCrs, type Site } from '@lamina/site';
-import { ownerTile, readTilesManifest, tracesInBox, writeTiles, type TilesManifest } from '../src';
+import { LINE_BYTES_PER_SAMPLE, ownerTile, readTilesManifest, tracesInBox, writeTiles, type TilesManifest } from '../src';
 
 // A small site written here (seeded, no committed fixture): three 30 m lines crossing a 2 x 2 grid of
 // 20 m tiles, one positioned by trace headers, one by start/end, one by a CSV of fixes, with a GPS offset
@@ -161,6 +161,18 @@ describe('writeTiles', () => {
     expect(a.length).toBeGreaterThan(1);
     for (const e of a) expect(e.context).toEqual([Math.max(0, e.first - 29), Math.min(n - 1, e.last + 29)]);
     rmSync(join(root, 'bounded'), { recursive: true, force: true });
+    // a line whose processing needs more than the line memory (LINE_BYTES_PER_SAMPLE x traces x samples)
+    // is processed in that many traces around each piece: 250 traces of 32 samples here
+    const capped = await writeTiles(siteDir, join(root, 'capped'), { sizeM: 20, overlapM: 2, lineMemoryMiB: (250 * LINE_BYTES_PER_SAMPLE * 32) / 2 ** 20 });
+    expect(capped.lineMemoryMiB).toBeCloseTo(0.48828125, 10);
+    for (const e of capped.tiles.flatMap((t) => t.lines.filter((l) => l.traces))) {
+      const [c0, c1] = e.context!;
+      expect(c1 - c0 + 1).toBe(Math.max(250, e.last - e.first + 1));
+      expect(c0 <= e.first && c1 >= e.last && c0 >= 0 && c1 < n).toBe(true);
+      // centred on the piece unless a line end is nearer
+      if (c0 > 0 && c1 < n - 1) expect(Math.abs(e.first - c0 - (c1 - e.last))).toBeLessThanOrEqual(1);
+    }
+    rmSync(join(root, 'capped'), { recursive: true, force: true });
   });
 
   it('keeps plan features near a tile and drops far ones', async () => {
