@@ -20,7 +20,7 @@ export function register(program: Command): void {
     .option('--velocity <file>', "the survey's velocity.json (`lamina velocity`): copied beside tiles.json and used by every tile (default: each tile fits its own)")
     .option('--emit <engines>', 'also write job files for batch engines, comma-separated: slurm (run-slurm.sbatch), k8s (job-k8s.yaml), parallel (run-parallel.sh) (default: none)')
     .option('--threads <n>', 'worker threads per tile in the job files (default: 2)', (v) => Number.parseInt(v, 10))
-    .option('--line-context <m>', 'metres of line processed with a piece beyond each end (default: the whole line, so pieces equal the untiled run, within --line-memory)', Number.parseFloat)
+    .option('--line-context <m>', 'metres of line processed with a piece beyond each end (default: the whole line, so pieces equal the untiled run, within the line memory)', Number.parseFloat)
     .option('--line-memory <MiB>', "memory for one line's processing per worker thread; a longer line is processed in a stretch of that size around each piece (default: 384 / --threads)", Number.parseFloat)
     .addHelpText(
       'after',
