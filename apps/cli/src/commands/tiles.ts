@@ -21,7 +21,7 @@ export function register(program: Command): void {
     .option('--emit <engines>', 'also write job files for batch engines, comma-separated: slurm (run-slurm.sbatch), k8s (job-k8s.yaml), parallel (run-parallel.sh) (default: none)')
     .option('--threads <n>', 'worker threads per tile in the job files (default: 2)', (v) => Number.parseInt(v, 10))
     .option('--line-context <m>', 'metres of line processed with a piece beyond each end (default: the whole line, so pieces equal the untiled run, within the line memory)', Number.parseFloat)
-    .option('--line-memory <MiB>', "memory for one line's processing per worker thread; a longer line is processed in a stretch of that size around each piece (default: 384 / --threads)", Number.parseFloat)
+    .option('--line-memory <MiB>', "memory for one line's processing per worker thread; a longer line is processed in a stretch of that size around each piece (default: 384 over the threads of the job files)", Number.parseFloat)
     .addHelpText(
       'after',
       '\nLines wholly inside a tile (plus overlap) are referenced in place; lines that leave it are cut into pieces,\n' +
