@@ -85,12 +85,12 @@ export function register(program: Command): void {
         // the survey's depth windows, cut once from all its lines: every run with --velocity (every tile) slices at them
         const windows = recordWindows(site, records, report);
         const windowsFile = await writeSurveyWindows(file, windows, report.site.velocityMPerNs);
-        process.stdout.write(summary(report, file) + `${windowsFile}: ${windows.length} depth windows, ${windows[0]!.topM} to ${windows[windows.length - 1]!.bottomM} m, used with the model by \`process --velocity\` and every tile\n`);
+        process.stdout.write(summary(report, file, `${windowsFile}: ${windows.length} depth windows, ${windows[0]!.topM} to ${windows[windows.length - 1]!.bottomM} m, used with the model by \`process --velocity\` and every tile`));
       }),
     );
 }
 
-function summary(r: VelocityReport, file: string): string {
+function summary(r: VelocityReport, file: string, windows: string): string {
   const h = r.hyperbolas;
   const air = h.filter((f) => f.origin === 'above-ground').length;
   const impossible = h.filter((f) => f.flags?.includes('v > c')).length;
@@ -104,6 +104,6 @@ function summary(r: VelocityReport, file: string): string {
   ];
   if (s.note) lines.push(`note: ${s.note}`);
   if (s.moisture) lines.push(`soil moisture about ${(100 * s.moisture.volumetricWaterContent).toFixed(0)} % by volume (${s.moisture.method}); ${s.moisture.caution}`);
-  lines.push(`Depths from this velocity carry its uncertainty. ${CAUTION}`);
+  lines.push(windows, `Depths from this velocity carry its uncertainty. ${CAUTION}`);
   return lines.join('\n') + '\n';
 }
