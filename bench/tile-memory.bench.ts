@@ -10,6 +10,7 @@
 //   LAMINA_BENCH_TILE_SIZE=50       tile size, m (overlap 2 m)
 //   LAMINA_BENCH_TILE_CONTEXT=10    --line-context of the bounded run, m
 //   LAMINA_BENCH_TILE_THREADS=1     --threads of process-tile
+//   LAMINA_BENCH_TILE_KEEP=1        keep the site, tiles and outputs (printed folder)
 import { spawnSync } from 'node:child_process';
 import { mkdirSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { availableParallelism, loadavg, tmpdir } from 'node:os';
@@ -104,5 +105,6 @@ try {
     console.log(`  ${label.padEnd(28)} ${String(m.tiles.length).padStart(6)} ${String(own).padStart(12)} ${String(ctxTraces).padStart(15)} ${r.wallS.toFixed(1).padStart(12)} ${r.rssMb.toFixed(0).padStart(17)}`);
   }
 } finally {
-  rmSync(work, { recursive: true, force: true });
+  if (process.env.LAMINA_BENCH_TILE_KEEP === '1') console.log(`kept ${work}`);
+  else rmSync(work, { recursive: true, force: true });
 }
