@@ -4,7 +4,8 @@
 // munge; the daemons are started and stopped by this test, as root). Every tile must be processed with
 // the survey's one model, and a second submission must skip the finished tiles. Then `lamina merge`
 // joins the tiles and the result is compared with the untiled `lamina process` of the site with the same
-// model (what is compared and why: test/merge-compare.ts).
+// model: equal cell for cell, though every line is cut into pieces (what is compared and why:
+// test/merge-compare.ts).
 import { execFile, execFileSync, spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { mkdtemp } from 'node:fs/promises';
@@ -24,11 +25,11 @@ const lamina = (...args: string[]) => run(process.execPath, [cli, ...args], { cw
 
 let work: string;
 
-// 5 m tiles with 2 m of overlap on the 6 x 4 m site: the tile that owns most of it holds every line whole
-// (its core must then equal the untiled run), the others hold pieces of lines.
+// 3 m tiles with 1 m of overlap on the 6 x 4 m site: every line is cut into pieces (two or three), and
+// the pipe and the post lie on a tile edge; the merge must still equal the untiled run cell for cell.
 async function makeTiles(name: string): Promise<string> {
   const dir = join(work, name);
-  await lamina('tiles', join(work, 'site'), '--size', '5', '--overlap', '2', '--velocity', join(work, 'survey', 'velocity.json'), '--emit', 'slurm,parallel,k8s', '--threads', '1', '--out', dir);
+  await lamina('tiles', join(work, 'site'), '--size', '3', '--overlap', '1', '--velocity', join(work, 'survey', 'velocity.json'), '--emit', 'slurm,parallel,k8s', '--threads', '1', '--out', dir);
   return dir;
 }
 
@@ -38,9 +39,11 @@ async function expectMerged(dir: string): Promise<void> {
   const r = await lamina('merge', join(dir, 'tiles.json'), '--out', out, '-q');
   expect(r.stdout).toMatch(/tiles merged/);
   expect(await checkFolder(out)).toEqual(FOLDER_FILES.map(([f]) => f));
-  const whole = expectMosaicOfCores(dir, out);
-  expect(whole.length).toBeGreaterThan(0);
-  const c = compareWithUntiled(dir, out, join(work, 'untiled'), whole);
+  expect(expectMosaicOfCores(dir, out)).toBeGreaterThan(1);
+  // objects more than one cell (0.125 m) from a core edge must match; nearer, the pipe at a
+  // four-tile corner is joined from pieces (test/merge-compare.ts)
+  const c = compareWithUntiled(out, join(work, 'untiled'), dir, 0.125);
+  process.stdout.write(`merged vs untiled: ${c.equalCells} cells equal; ${c.objects} utilities and targets matched; at edges: ${c.atEdges.join('; ')}; merged ${c.merged}, untiled ${c.untiled}\n`);
   expect(c.equalCells).toBeGreaterThan(0);
   expect(c.objects).toBeGreaterThan(0);
   // `lamina export` works on the merged folder unchanged
@@ -51,6 +54,7 @@ async function expectMerged(dir: string): Promise<void> {
 function expectTilesDone(dir: string): void {
   const m = JSON.parse(readFileSync(join(dir, 'tiles.json'), 'utf8'));
   const survey = JSON.parse(readFileSync(join(work, 'survey', 'velocity.json'), 'utf8'));
+  const windows = JSON.parse(readFileSync(join(work, 'survey', 'windows.json'), 'utf8')).windows;
   expect(m.tiles.length).toBeGreaterThan(1);
   for (const t of m.tiles) {
     const out = join(dir, `${t.dir}-out`);
@@ -59,6 +63,9 @@ function expectTilesDone(dir: string): void {
     expect(v.model).toEqual(survey.model);
     expect(v.site.velocityMPerNs).toBe(survey.site.velocityMPerNs);
     expect(v.site.note).toMatch(/the survey's model/);
+    // the survey's depth windows, exactly (not the tile's own, cut from its shallowest record)
+    const slices = JSON.parse(readFileSync(join(out, 'slices.json'), 'utf8')).slices;
+    expect(slices.map((w: { topM: number; bottomM: number }) => [w.topM, w.bottomM])).toEqual(windows.map((w: { topM: number; bottomM: number }) => [w.topM, w.bottomM]));
   }
 }
 

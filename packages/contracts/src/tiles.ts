@@ -13,6 +13,11 @@ export const tileLineSchema = z.object({
   last: num,
   /** For a piece: the `traces` range of the file written into the tile's site.json (0-based, inclusive). */
   traces: z.tuple([num, num]).optional(),
+  /**
+   * For a piece: the traces of the file processed with it (site.json `context`), so time-zero, background
+   * removal and migration see what the untiled run sees; absent in manifests written before it.
+   */
+  context: z.tuple([num, num]).optional(),
 });
 export type TileLine = z.infer<typeof tileLineSchema>;
 
@@ -46,6 +51,12 @@ export const tilesSchema = z.object({
   traces: num,
   /** The survey's velocity.json beside tiles.json, used by every tile (`lamina tiles --velocity`); absent: each tile fits its own. */
   velocity: z.string().optional(),
+  /** The survey's depth windows beside tiles.json (`lamina velocity` writes them beside velocity.json), used by every tile. */
+  windows: z.string().optional(),
+  /** Metres of line processed beyond a piece at each end; absent: the whole line (`lamina tiles --line-context`). */
+  lineContextM: num.optional(),
+  /** Without `lineContextM`: memory for a line's processing, MiB; a longer line is processed in a stretch of that size around each piece. */
+  lineMemoryMiB: num.optional(),
   tiles: z.array(tileEntrySchema),
 });
 export type TilesManifest = z.infer<typeof tilesSchema>;

@@ -3,3 +3,4 @@ export { siteRecipe } from './line-task';
 export { formatTimings, type ProcessTimings } from './timings';
 export { preflight, estimateSize, type PreflightOptions, type SizeEstimate } from './preflight';
 export { readSurveyVelocity, adoptSurveyVelocity, type SurveyVelocity } from './survey-velocity';
+export { recordWindows, writeSurveyWindows, readSurveyWindows, SURVEY_WINDOWS, type LineRecord, type SurveyWindowsJson } from './windows';

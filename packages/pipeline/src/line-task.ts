@@ -1,7 +1,7 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { InputError } from '@lamina/errors';
-import { loadSite, readLine, pointToWgs84, shownPath, type Site } from '@lamina/site';
-import { defaultRecipe, hilbertEnvelopePair, hilbertWorkspace, parseRecipe, runRecipe, withoutAirEvents, type AirObjects, type Recipe, type RecipeLogEntry, type Step } from '@lamina/processing';
+import { loadSite, readLine, pointToWgs84, shownPath, type LineSource, type Site } from '@lamina/site';
+import { alongTrackM, defaultRecipe, hilbertEnvelopePair, hilbertWorkspace, parseRecipe, runRecipe, withoutAirEvents, type AirObjects, type Recipe, type RecipeLogEntry, type Step } from '@lamina/processing';
 import { fitManualPicks, lineDirection, lineHyperbolas, recipeForVelocity, sampleDepths, type HyperbolaFit, type ManualHyperbola, type VelocityModel } from '@lamina/velocity';
 import { traceSliceValues, type SliceWindow } from '@lamina/slices';
 import { lineSpillPath, readLineSpill, writeLineSpill } from './line-spill';
@@ -128,23 +128,57 @@ const stepTimes = (times: PartTimes, pass: string) => (step: string, ms: number)
   times[k] = (times[k] ?? 0) + ms;
 };
 
+/**
+ * A line with `context` (a tile's piece of a longer line) is read and processed over its context range,
+ * so that steps over the whole line (time-zero's common pick, the mean trace of background removal,
+ * migration) see the traces a run of the whole line sees; `keep` then cuts the result to the piece.
+ */
+function contextSource(src: LineSource): LineSource {
+  return src.context ? { ...src, traces: src.context } : src;
+}
+
+/** The traces of `line` (read over `contextSource(src)`) that belong to `src` itself. */
+function keep(line: RadarLine, src: LineSource): RadarLine {
+  if (!src.context || !src.traces) return line;
+  const from = src.traces[0] - src.context[0];
+  const to = src.traces[1] - src.context[0] + 1;
+  const ns = line.nSamples;
+  return { ...line, nTraces: to - from, data: line.data.subarray(from * ns, to * ns), x: line.x.subarray(from, to), y: line.y.subarray(from, to) };
+}
+
 export async function pass1(task: Pass1Task): Promise<Pass1Result> {
   const times: PartTimes = {};
   const s = await site(task.siteDir);
   const src = s.lines[task.line]!;
-  const raw = await timed(times, 'pass 1 read line', () => readLine(s, src));
+  const raw = await timed(times, 'pass 1 read line', () => readLine(s, contextSource(src)));
   const keepBefore = task.keepLine && task.recipe.steps.some((st) => st.step === 'backgroundRemoval');
-  const { line, log, before } = runRecipe(raw, pass1Recipe(task.recipe), context(s), { onStep: stepTimes(times, 'pass 1'), ...(keepBefore ? { keepBefore: 'backgroundRemoval' as const } : {}) });
-  if (task.keepLine) await timed(times, 'pass 1 keep line', () => writeLineSpill(lineSpillPath(task.stageDir, task.line), line, keepBefore ? before : undefined));
+  const { line: whole, log, before } = runRecipe(raw, pass1Recipe(task.recipe), context(s), { onStep: stepTimes(times, 'pass 1'), ...(keepBefore ? { keepBefore: 'backgroundRemoval' as const } : {}) });
+  // pass 2 migrates the whole context, so that is what is kept for it
+  if (task.keepLine) await timed(times, 'pass 1 keep line', () => writeLineSpill(lineSpillPath(task.stageDir, task.line), whole, keepBefore ? before : undefined));
+  const line = keep(whole, src);
   const t0 = performance.now();
   const fits =
     task.detect === false
       ? []
-      : lineHyperbolas(line, {
+      : // on the whole context, as a run of the whole line fits them (screening's hyperbola evidence)
+        lineHyperbolas(whole, {
           separationM: s.antenna.separationM,
           metresPerUnit: s.crs.metresPerUnit,
           frequencyMHz: s.antenna.frequencyMHz,
         });
+  if (line !== whole) {
+    // fits of the piece, with the trace and along-line offsets of the piece (its radargram)
+    const from = src.traces![0] - src.context![0];
+    const startM = alongTrackM(whole, s.crs.metresPerUnit)[from] as number;
+    const kept = fits.filter((f) => f.trace >= from && f.trace < from + line.nTraces);
+    fits.length = 0;
+    for (const f of kept) {
+      f.trace -= from;
+      if (f.x0M !== undefined) f.x0M -= startM;
+      if (f.picks) f.picks.offsetM = f.picks.offsetM.map((o) => o - startM);
+      fits.push(f);
+    }
+  }
   for (const p of task.picks ?? []) fits.push(fitManualPicks(line, p.hyperbola, task.picksFile ?? 'picks.json', p.index, { separationM: s.antenna.separationM, metresPerUnit: s.crs.metresPerUnit }));
   times['pass 1 hyperbolas'] = performance.now() - t0;
   const radargramEntry = await timed(times, 'pass 1 radargram', () => writeRadargram(task.stageDir, line, (x, y) => pointToWgs84(s.crs, x, y)));
@@ -177,9 +211,12 @@ export async function pass2(task: Pass2Task): Promise<Pass2Result> {
     // without background removal the data "before" it is the final line, as runRecipe's keepBefore gives
     before = kept.before ?? line;
   } else {
-    raw = await timed(times, 'pass 2 read line', () => readLine(s, src));
+    raw = await timed(times, 'pass 2 read line', () => readLine(s, contextSource(src)));
     ({ line, before, log } = runRecipe(raw, task.recipe, ctx, { keepBefore: 'backgroundRemoval', onStep: stepTimes(times, 'pass 2') }));
   }
+  const same = before === line;
+  line = keep(line, src);
+  if (before) before = same ? line : keep(before, src);
   const sep = s.antenna.separationM;
   const after = timed(times, 'pass 2 envelope + slice values', () => sliceValues(line, task, sep));
   const beforeBackground = before && before !== line ? timed(times, 'pass 2 envelope + slice values', () => sliceValues(before, task, sep)) : after;
@@ -189,7 +226,7 @@ export async function pass2(task: Pass2Task): Promise<Pass2Result> {
   const inf = after.findIndex((v) => v === Infinity || v === -Infinity);
   if (inf >= 0) {
     const t = Math.floor(inf / nw);
-    raw ??= await readLine(s, src);
+    raw = await readLine(s, src);
     const peak = raw.data.subarray(t * raw.nSamples, (t + 1) * raw.nSamples).reduce((m, v) => Math.max(m, Math.abs(v)), 0);
     throw new InputError(shownPath(src.file), `trace ${(src.traces?.[0] ?? 0) + t + 1}: expected sample values a receiver records, found values up to ${peak.toExponential(2)} whose energy overflows 32-bit floats; the samples are damaged or not in the format the binary header names`);
   }

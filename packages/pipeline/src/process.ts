@@ -5,7 +5,7 @@ import { InputError, isInputError } from '@lamina/errors';
 import { lockFolder, stageFolder, type FolderLock } from '@lamina/atomic';
 import { checkPlanNearSurvey, loadSite, pointToWgs84, shownPath, type Site } from '@lamina/site';
 import { buildVelocityReport, enoughFits, parsePicks, spreadOrder, velocityJsonChunks, type HyperbolaFit, type ManualHyperbola, type VelocityReport } from '@lamina/velocity';
-import { defaultWindows, PointSpill, type SliceWindow } from '@lamina/slices';
+import { PointSpill, type SliceWindow } from '@lamina/slices';
 import { withAirEvents, withoutAirEvents, type Recipe } from '@lamina/processing';
 import { exportTargets, matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
 import { createPool, defaultThreads, type Pool } from '@lamina/runtime-files';
@@ -16,7 +16,8 @@ import { sliceAndScreen, type Anchored, type Screening } from './slice-and-scree
 import { addParts, StageTimer, type ProcessTimings } from './timings';
 import { preflight } from './preflight';
 import { airObjectsFor, planAirObjects } from './air-objects';
-import { adoptSurveyVelocity, readSurveyVelocity } from './survey-velocity';
+import { adoptSurveyVelocity, readSurveyVelocity, type SurveyVelocity } from './survey-velocity';
+import { checkSurveyWindows, recordWindows } from './windows';
 
 export interface ProcessOptions {
   /** Worker threads; 0 runs every line on the calling thread. @default LAMINA_THREADS or the core count */
@@ -208,7 +209,11 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   const threads = Math.min(options.threads ?? defaultThreads(), site.lines.length);
   // Pass 2 starts from pass 1's lines, kept in the stage folder, when the recipe allows it and the disk
   // has room for them (two Float32 copies of every line, positions, a header) beside the run's own files.
-  const keptBytes = survey.lines.reduce((a, l) => a + l.nTraces * (8 * l.nSamples + 16) + 256, 0);
+  // (a tile's piece keeps its whole processed context: site.json `context`)
+  const keptBytes = survey.lines.reduce((a, l, i) => {
+    const c = site.lines[i]?.context;
+    return a + (c ? c[1] - c[0] + 1 : l.nTraces) * (8 * l.nSamples + 16) + 256;
+  }, 0);
   const keepLines = (options.keepLines ?? true) && pass2Steps(recipe) !== undefined && freeBytes - size.diskBytes >= keptBytes;
   // One process per output folder: a second one would remove this one's stage (stageFolder clears stale ones).
   const runLock = await lockFolder(outDir, { kind: 'run', what: 'lamina process', shown: shownPath(outDir) });
@@ -251,7 +256,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     for (const r of p1) r.fits = [];
     if (options.failAfter === 'velocity') throw new Error('stopped after velocity (failAfter)');
 
-    const windows = sliceWindowsFor(site, p1, velocity, options);
+    const windows = sliceWindowsFor(site, p1, velocity, options, surveyVelocity);
     // the airEvents step's mask: the plan's above-ground objects and the air-velocity fits of each line
     const cleanAir = recipe.steps.some((st) => st.step === 'airEvents');
     const planAir = cleanAir ? planAirObjects(site.plan, site.crs.metresPerUnit) : undefined;
@@ -432,34 +437,11 @@ async function carryReview(
   await writeReview(to, { ...review, site: identity, decisions: [...matched, ...unmatched] });
 }
 
-function sliceWindowsFor(site: Site, p1: Pass1Result[], velocity: VelocityReport, options: ProcessOptions): SliceWindow[] {
-  // The shallowest record bounds the depth range (every trace must reach every slice).
-  let nSamples = Infinity, dtNs = 0, timeZeroNs = 0, reach = Infinity;
-  for (const r of p1) {
-    const t = (r.nSamples - 1) * r.dtNs - r.timeZeroNs;
-    if (t < reach) {
-      reach = t;
-      nSamples = r.nSamples;
-      dtNs = r.dtNs;
-      timeZeroNs = r.timeZeroNs;
-    }
-  }
-  const reaches = reach * velocity.site.velocityMPerNs > site.antenna.separationM;
-  if (!reaches) {
-    // bistatic depth sqrt((v t / 2)^2 - (s / 2)^2) needs v t > s: the record ends before any echo from below the surface
-    throw new InputError(shownPath(join(site.dir, 'site.json')), `expected a separation the record reaches past: at the fitted ${velocity.site.velocityMPerNs.toFixed(3)} m/ns the ${Number(reach.toFixed(3))} ns after time-zero (${nSamples} samples of ${dtNs} ns) cover ${Number((reach * velocity.site.velocityMPerNs).toFixed(3))} m, less than the separation of ${site.antenna.separationM} m; check it is in metres`, { field: 'antenna.separationM' });
-  }
-  return defaultWindows({
-    model: velocity.model,
-    separationM: site.antenna.separationM,
-    frequencyMHz: site.antenna.frequencyMHz,
-    nSamples,
-    dtNs,
-    timeZeroNs,
-    ...(options.maxDepthM !== undefined ? { bottomM: options.maxDepthM } : {}),
-    ...(options.sliceThicknessM !== undefined ? { thicknessM: options.sliceThicknessM } : {}),
-    ...(options.sliceOverlap !== undefined ? { overlap: options.sliceOverlap } : {}),
-  });
+function sliceWindowsFor(site: Site, p1: Pass1Result[], velocity: VelocityReport, options: ProcessOptions, survey: SurveyVelocity | undefined): SliceWindow[] {
+  const own = recordWindows(site, p1, velocity, options);
+  // the survey's windows, unless this run asks for other slices
+  const asks = options.maxDepthM !== undefined || options.sliceThicknessM !== undefined || options.sliceOverlap !== undefined;
+  return survey?.windows && !asks ? checkSurveyWindows(survey.windows, own) : own;
 }
 
 async function writeJson(dir: string, name: string, obj: unknown): Promise<void> {

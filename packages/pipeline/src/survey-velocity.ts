@@ -3,11 +3,14 @@
  * depth (and screens) with the model of that file instead of the one its own lines fit, so the tiles of
  * a survey cut their slices at the same depths and a pipe crossing a tile edge does not step in depth.
  * The run's own fits are still made and listed (the viewer draws them, screening uses the air fits).
+ * The survey's depth windows, written beside its velocity.json (windows.ts), are used too.
  */
 import { readFile } from 'node:fs/promises';
 import { InputError } from '@lamina/errors';
 import { shownPath } from '@lamina/site';
+import type { SliceWindow } from '@lamina/slices';
 import type { VelocityReport } from '@lamina/velocity';
+import { readSurveyWindows } from './windows';
 
 const isObj = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
 const positive = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v) && v > 0;
@@ -17,6 +20,8 @@ export interface SurveyVelocity {
   file: string;
   site: VelocityReport['site'];
   model: VelocityReport['model'];
+  /** The survey's depth windows, from windows.json beside the file (`lamina velocity` writes it). */
+  windows?: { file: string; windows: SliceWindow[] };
 }
 
 export async function readSurveyVelocity(file: string): Promise<SurveyVelocity> {
@@ -37,7 +42,8 @@ export async function readSurveyVelocity(file: string): Promise<SurveyVelocity> 
     }
     top = typeof l.bottomM === 'number' ? l.bottomM : top;
   });
-  return { file, site: j.site as unknown as VelocityReport['site'], model: j.model as unknown as VelocityReport['model'] };
+  const windows = await readSurveyWindows(file, j.site.velocityMPerNs);
+  return { file, site: j.site as unknown as VelocityReport['site'], model: j.model as unknown as VelocityReport['model'], ...(windows ? { windows } : {}) };
 }
 
 /** The run's report with the survey's model in place of its own (its own fits kept, said in `site.note`). */

@@ -93,7 +93,7 @@ export async function loadSite(dir: string): Promise<Site> {
     } else if (l.start && l.end) {
       position = { kind: 'startEnd', start: l.start, end: l.end };
     }
-    lines.push({ id, file, relFile: l.file, position, ...(l.traces ? { traces: [l.traces[0], l.traces[1]] as [number, number] } : {}), index: i });
+    lines.push({ id, file, relFile: l.file, position, ...(l.traces ? { traces: [l.traces[0], l.traces[1]] as [number, number] } : {}), ...(l.context ? { context: [l.context[0], l.context[1]] as [number, number] } : {}), index: i });
   }
   let planFile: string | undefined;
   if (json.plan !== undefined) {

@@ -45,6 +45,14 @@ export const lineSchema = z.strictObject({
       .tuple([traceIndex, traceIndex], { error: (iss) => `expected [first, last] trace indices of the file (0-based, inclusive), found ${describe(iss.input)}` })
       .refine(([a, b]) => b > a, { error: (iss) => `expected last > first (a line needs at least 2 traces), found ${JSON.stringify(iss.input)}` })
       .optional(),
+    context: z
+      .tuple([traceIndex, traceIndex], { error: (iss) => `expected [first, last] trace indices of the file (0-based, inclusive), found ${describe(iss.input)}` })
+      .refine(([a, b]) => b > a, { error: (iss) => `expected last > first, found ${JSON.stringify(iss.input)}` })
+      .optional(),
+  })
+  .refine((l) => !l.context || (l.traces !== undefined && l.context[0] <= l.traces[0] && l.context[1] >= l.traces[1]), {
+    path: ['context'],
+    error: 'expected "context" to contain the "traces" range (and "traces" given)',
   });
 
 // The survey block is a contract of site.json and run.json alike: its schema lives in @lamina/contracts.

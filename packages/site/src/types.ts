@@ -55,6 +55,13 @@ export interface LineSource {
    * Positions from start/end or a CSV still refer to the whole file's traces. @default the whole file
    */
   traces?: [number, number];
+  /**
+   * Traces [first, last] of the file (containing `traces`) that are processed with the piece, so that
+   * steps over the whole line (time-zero's common pick, mean background removal, migration) see what a
+   * run of the whole line sees; results are kept for `traces` only (a tile's piece, `lamina tiles`).
+   * @default `traces`
+   */
+  context?: [number, number];
   /** Index of the line in site.json `lines` (for JSON paths in messages). */
   index?: number;
 }

@@ -30,6 +30,14 @@ describe('site.json schema', () => {
     expect(r.problems.find((p) => p.path === 'lines[1].file')?.message).toBe('missing: expected the path of a SEG-Y file');
   });
 
+  it('a line context must hold the line\'s own traces', () => {
+    const line = (l: object) => checkSiteJson({ ...good, lines: [{ file: 'a.sgy', ...l }] }).problems;
+    expect(line({ traces: [10, 20], context: [0, 40] })).toEqual([]);
+    for (const bad of [{ traces: [10, 20], context: [12, 40] }, { traces: [10, 20], context: [0, 19] }, { context: [0, 40] }]) {
+      expect(line(bad).map((p) => p.path), JSON.stringify(bad)).toEqual(['lines[0].context']);
+    }
+  });
+
   it('thrown as one InputError naming file, first path and the count', () => {
     const r = checkSiteJson({ name: 'x' });
     const e = new InputProblems('site/site.json', r.problems);

@@ -6,7 +6,7 @@
  * samples are copied. The plan keeps every feature near enough to echo into the tile's record.
  */
 import { copyFile, mkdir, writeFile } from 'node:fs/promises';
-import { join, relative, resolve } from 'node:path';
+import { basename, join, relative, resolve } from 'node:path';
 import { C_M_PER_NS } from '@lamina/constants';
 import { InputError } from '@lamina/errors';
 import { stageFolder } from '@lamina/atomic';
@@ -37,8 +37,34 @@ export interface TileOptions {
    * depths. @default none: each tile fits its own
    */
   velocityFile?: string;
+  /**
+   * Metres of line processed with a piece beyond each of its ends (site.json `context`), m. By default a
+   * piece is processed with its whole line, so its time-zero, mean background and migration are those of
+   * the untiled run (exact, at the cost of processing a line once per tile it crosses), unless the line
+   * is too large for `lineMemoryMiB`. A finite value bounds the time for lines of kilometres, and makes
+   * those steps see only the context (line-wide statistics then differ from the untiled run's).
+   * @default the whole line, within `lineMemoryMiB`
+   */
+  lineContextM?: number;
+  /**
+   * Memory for the line a worker thread processes, MiB: a line whose processing needs more
+   * (`LINE_BYTES_PER_SAMPLE`) is processed, for each piece, in the stretch of that size centred on the
+   * piece (approximate, like `lineContextM`). `lamina tiles` gives the band budget over the threads: a
+   * run's line passes and its band screening come one after the other, so a tile's lines then need no
+   * more than its bands. @default 192 (the default 384 MiB band budget over 2 threads)
+   */
+  lineMemoryMiB?: number;
+  /** The survey's windows.json (beside its velocity.json), copied beside tiles.json. @default none */
+  windowsFile?: string;
   onLine?: (done: number, total: number) => void;
 }
+
+/**
+ * Peak memory of processing a line, bytes per sample (traces x samples): measured with
+ * bench/tile-memory.bench.ts (peak RSS rose by about 62 bytes a sample of the line processed: the
+ * migration's f-k of the line, padded in time and distance, in complex doubles).
+ */
+export const LINE_BYTES_PER_SAMPLE = 64;
 
 /** File name of the survey's velocity model beside tiles.json (`TileOptions.velocityFile`). */
 export const SURVEY_VELOCITY = 'velocity.json';
@@ -47,7 +73,7 @@ interface TileAcc {
   col: number;
   row: number;
   coreTraces: number;
-  runs: { line: number; first: number; last: number }[];
+  runs: { line: number; first: number; last: number; context: [number, number] }[];
 }
 
 async function openLine(site: Site, src: LineSource): Promise<SegyReader> {
@@ -69,14 +95,44 @@ function planJson(features: PlanFeature[]): string {
   );
 }
 
-function checkOptions(options: TileOptions): { sizeM: number; overlapM: number } {
+function checkOptions(options: TileOptions): { sizeM: number; overlapM: number; contextM: number; lineMemoryMiB: number } {
   const where = 'tiles options';
   const { sizeM } = options;
   const overlapM = options.overlapM ?? 5;
   if (!Number.isFinite(sizeM) || sizeM <= 0) throw new InputError(where, `expected a tile size in m > 0, found ${sizeM}`, { field: 'size' });
   if (!Number.isFinite(overlapM) || overlapM < 0 || overlapM >= sizeM / 2) throw new InputError(where, `expected an overlap in m >= 0 and below half the tile size (${sizeM / 2}), found ${overlapM}`, { field: 'overlap' });
   if (options.planMarginM !== undefined && !(options.planMarginM >= 0)) throw new InputError(where, `expected a plan margin in m >= 0, found ${options.planMarginM}`, { field: 'planMargin' });
-  return { sizeM, overlapM };
+  const contextM = options.lineContextM ?? Infinity;
+  if (!(contextM >= 0)) throw new InputError(where, `expected a line context in m >= 0, found ${contextM}`, { field: 'lineContext' });
+  const lineMemoryMiB = options.lineMemoryMiB ?? 192;
+  if (!(lineMemoryMiB > 0)) throw new InputError(where, `expected a line memory in MiB > 0, found ${lineMemoryMiB}`, { field: 'lineMemory' });
+  return { sizeM, overlapM, contextM, lineMemoryMiB };
+}
+
+/** Cumulative distance along a line, m. */
+function alongTrack(x: Float64Array, y: Float64Array, mpu: number): Float64Array {
+  const d = new Float64Array(x.length);
+  for (let i = 1; i < x.length; i++) d[i] = d[i - 1]! + Math.hypot(x[i]! - x[i - 1]!, y[i]! - y[i - 1]!) * mpu;
+  return d;
+}
+
+/**
+ * The traces processed with the run [first, last] of a line of `n` traces: those within `contextM` of
+ * it along the line (`along`); else the whole line when it has at most `maxTraces`, else the
+ * `maxTraces` centred on the run (never fewer than the run).
+ */
+function contextOf(along: Float64Array | undefined, first: number, last: number, contextM: number, n: number, maxTraces: number): [number, number] {
+  if (!along) {
+    if (n <= maxTraces) return [0, n - 1];
+    const len = Math.max(last - first + 1, maxTraces);
+    const a = Math.max(0, Math.min(first - Math.floor((len - (last - first + 1)) / 2), n - len));
+    return [a, a + len - 1];
+  }
+  let a = first;
+  while (a > 0 && along[first]! - along[a - 1]! <= contextM) a--;
+  let b = last;
+  while (b < along.length - 1 && along[b + 1]! - along[last]! <= contextM) b++;
+  return [a, b];
 }
 
 /**
@@ -85,7 +141,7 @@ function checkOptions(options: TileOptions): { sizeM: number; overlapM: number }
  * place traces; copies no samples (tiles reference the original SEG-Y files).
  */
 export async function writeTiles(siteDir: string, outDir: string, options: TileOptions): Promise<TilesManifest> {
-  const { sizeM, overlapM } = checkOptions(options);
+  const { sizeM, overlapM, contextM, lineMemoryMiB } = checkOptions(options);
   const site = await loadSite(siteDir);
   const mpu = site.crs.metresPerUnit;
   const size = sizeM / mpu;
@@ -106,6 +162,8 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
     const reader = await openLine(site, src);
     try {
       const { x, y } = await linePositions(site, src, reader);
+      const along = Number.isFinite(contextM) ? alongTrack(x, y, mpu) : undefined;
+      const maxTraces = Math.max(2, Math.floor((lineMemoryMiB * 2 ** 20) / (LINE_BYTES_PER_SAMPLE * reader.nSamples)));
       nTraces.push(reader.nTraces);
       maxRecordNs = Math.max(maxRecordNs, reader.nSamples * reader.dtNs);
       const reach = new Set<string>();
@@ -119,7 +177,7 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
       for (const key of reach) {
         const [cc, rr] = key.split(',').map(Number) as [number, number];
         const box: Box = [cc * size - ov, rr * size - ov, (cc + 1) * size + ov, (rr + 1) * size + ov];
-        for (const [first, last] of tracesInBox(x, y, box)) acc(cc, rr).runs.push({ line: li, first, last });
+        for (const [first, last] of tracesInBox(x, y, box)) acc(cc, rr).runs.push({ line: li, first, last, context: contextOf(along, first, last, contextM, x.length, maxTraces) });
       }
     } finally {
       await reader.close();
@@ -127,16 +185,17 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
     options.onLine?.(li + 1, site.lines.length * 2);
   }
 
+  const windows = options.velocityFile ? options.windowsFile : undefined;
   const planMarginM = options.planMarginM ?? overlapM + (C_M_PER_NS * maxRecordNs) / 2;
   const live = [...accs.values()].filter((a) => a.coreTraces > 0).sort((a, b) => a.row - b.row || a.col - b.col);
-  const byLine = new Map<number, { tile: TileAcc; first: number; last: number; k: number }[]>();
+  const byLine = new Map<number, { tile: TileAcc; first: number; last: number; context: [number, number]; k: number }[]>();
   for (const t of live) {
     const count = new Map<number, number>();
     for (const r of t.runs) {
       const k = (count.get(r.line) ?? 0) + 1;
       count.set(r.line, k);
       const list = byLine.get(r.line) ?? [];
-      list.push({ tile: t, first: r.first, last: r.last, k });
+      list.push({ tile: t, first: r.first, last: r.last, context: r.context, k });
       byLine.set(r.line, list);
     }
   }
@@ -163,6 +222,8 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
         const position: Record<string, unknown> =
           src.position.kind === 'startEnd' ? { start: src.position.start, end: src.position.end } : src.position.kind === 'csv' ? { positions: ref(src.position.file) } : {};
         const traces: [number, number] | undefined = whole ? src.traces : [offset + p.first, offset + p.last];
+        // a piece is processed with its line's traces around it (`context`), and kept alone
+        const context: [number, number] | undefined = whole ? undefined : [offset + p.context[0], offset + Math.min(n - 1, p.context[1])];
         tileLines.get(p.tile)!.push({
           source: src.id,
           first: p.first,
@@ -170,6 +231,7 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
           id: whole ? src.id : `${src.id}.p${p.k}`,
           file: ref(src.file),
           ...(traces ? { traces } : {}),
+          ...(context ? { context } : {}),
           position,
         });
       }
@@ -192,7 +254,7 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
         ...(site.sampleIntervalNs !== undefined ? { sampleIntervalNs: site.sampleIntervalNs } : {}),
         ...(plan.length ? { plan: 'plan.geojson' } : {}),
         ...(site.recipe !== undefined ? { recipe: site.recipe } : {}),
-        lines: lines.map((l) => ({ id: l.id, file: l.file, ...(l.traces ? { traces: l.traces } : {}), ...l.position })),
+        lines: lines.map((l) => ({ id: l.id, file: l.file, ...(l.traces ? { traces: l.traces } : {}), ...(l.context ? { context: l.context } : {}), ...l.position })),
       };
       const dir = join(stage.path, tid);
       await writeFile(join(dir, 'site.json'), JSON.stringify(json, null, 2) + '\n');
@@ -219,9 +281,13 @@ export async function writeTiles(siteDir: string, outDir: string, options: TileO
       sizeUnits: size,
       traces: nTraces.reduce((a, b) => a + b, 0),
       ...(options.velocityFile ? { velocity: SURVEY_VELOCITY } : {}),
+      ...(windows ? { windows: basename(windows) } : {}),
+      ...(Number.isFinite(contextM) ? { lineContextM: contextM } : { lineMemoryMiB }),
       tiles,
     };
     if (options.velocityFile) await copyFile(options.velocityFile, join(stage.path, SURVEY_VELOCITY));
+    // beside the copied velocity.json, where `process --velocity` looks for it
+    if (windows) await copyFile(windows, join(stage.path, basename(windows)));
     await writeFile(join(stage.path, 'tiles.json'), JSON.stringify(manifest, null, 1) + '\n');
     await stage.commit();
     return manifest;

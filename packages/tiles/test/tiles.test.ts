@@ -6,7 +6,7 @@ import { dirname, join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { writeSegy, type RadarLine } from '@lamina/radar-data';
 import { loadSite, pointToWgs84, readLine, resolveCrs, type Site } from '@lamina/site';
-import { ownerTile, readTilesManifest, tracesInBox, writeTiles, type TilesManifest } from '../src';
+import { LINE_BYTES_PER_SAMPLE, ownerTile, readTilesManifest, tracesInBox, writeTiles, type TilesManifest } from '../src';
 
 // A small site written here (seeded, no committed fixture): three 30 m lines crossing a 2 x 2 grid of
 // 20 m tiles, one positioned by trace headers, one by start/end, one by a CSV of fixes, with a GPS offset
@@ -141,6 +141,40 @@ describe('writeTiles', () => {
     }
   });
 
+  it('processes a piece with its whole line by default; with a line context, with the traces that close along it', async () => {
+    // whole: the line as the site uses it, so line-wide steps (time-zero, mean background, migration) are the untiled run's
+    let pieces = 0;
+    for (const t of manifest.tiles) {
+      for (const e of t.lines.filter((l) => l.traces)) {
+        expect(e.context).toEqual([0, originals.get(e.source)!.nTraces - 1]);
+        pieces++;
+      }
+      const s = await loadSite(join(outDir, t.dir));
+      for (const l of s.lines) expect(l.context).toEqual(t.lines.find((e) => e.id === l.id)!.context);
+    }
+    expect(pieces).toBeGreaterThan(0);
+    // line a runs east at 0.1 m a trace: 2.95 m of context is 29 traces beyond each end (less at the line's ends)
+    const bounded = await writeTiles(siteDir, join(root, 'bounded'), { sizeM: 20, overlapM: 2, lineContextM: 2.95 });
+    expect(bounded.lineContextM).toBe(2.95);
+    const n = originals.get('a')!.nTraces;
+    const a = bounded.tiles.flatMap((t) => t.lines.filter((l) => l.source === 'a' && l.traces));
+    expect(a.length).toBeGreaterThan(1);
+    for (const e of a) expect(e.context).toEqual([Math.max(0, e.first - 29), Math.min(n - 1, e.last + 29)]);
+    rmSync(join(root, 'bounded'), { recursive: true, force: true });
+    // a line whose processing needs more than the line memory (LINE_BYTES_PER_SAMPLE x traces x samples)
+    // is processed in that many traces around each piece: 250 traces of 32 samples here
+    const capped = await writeTiles(siteDir, join(root, 'capped'), { sizeM: 20, overlapM: 2, lineMemoryMiB: (250 * LINE_BYTES_PER_SAMPLE * 32) / 2 ** 20 });
+    expect(capped.lineMemoryMiB).toBeCloseTo(0.48828125, 10);
+    for (const e of capped.tiles.flatMap((t) => t.lines.filter((l) => l.traces))) {
+      const [c0, c1] = e.context!;
+      expect(c1 - c0 + 1).toBe(Math.max(250, e.last - e.first + 1));
+      expect(c0 <= e.first && c1 >= e.last && c0 >= 0 && c1 < n).toBe(true);
+      // centred on the piece unless a line end is nearer
+      if (c0 > 0 && c1 < n - 1) expect(Math.abs(e.first - c0 - (c1 - e.last))).toBeLessThanOrEqual(1);
+    }
+    rmSync(join(root, 'capped'), { recursive: true, force: true });
+  });
+
   it('keeps plan features near a tile and drops far ones', async () => {
     for (const t of manifest.tiles) {
       const s = await loadSite(join(outDir, t.dir));
@@ -178,6 +212,7 @@ describe('writeTiles', () => {
     const out = join(root, 'refused');
     await expect(writeTiles(siteDir, out, { sizeM: 0 })).rejects.toThrow('tiles options: size: expected a tile size in m > 0, found 0');
     await expect(writeTiles(siteDir, out, { sizeM: 10, overlapM: 6 })).rejects.toThrow('tiles options: overlap: expected an overlap in m >= 0 and below half the tile size (5), found 6');
+    await expect(writeTiles(siteDir, out, { sizeM: 20, lineContextM: -1 })).rejects.toThrow('tiles options: lineContext: expected a line context in m >= 0, found -1');
     expect(existsSync(out)).toBe(false);
     expect(readdirSync(dirname(out)).some((f) => f.startsWith('.lamina-stage'))).toBe(false);
   });

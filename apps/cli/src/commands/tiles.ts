@@ -20,16 +20,19 @@ export function register(program: Command): void {
     .option('--velocity <file>', "the survey's velocity.json (`lamina velocity`): copied beside tiles.json and used by every tile (default: each tile fits its own)")
     .option('--emit <engines>', 'also write job files for batch engines, comma-separated: slurm (run-slurm.sbatch), k8s (job-k8s.yaml), parallel (run-parallel.sh) (default: none)')
     .option('--threads <n>', 'worker threads per tile in the job files (default: 2)', (v) => Number.parseInt(v, 10))
+    .option('--line-context <m>', 'metres of line processed with a piece beyond each end (default: the whole line, so pieces equal the untiled run, within the line memory)', Number.parseFloat)
+    .option('--line-memory <MiB>', "memory for one line's processing per worker thread; a longer line is processed in a stretch of that size around each piece (default: 384 over the threads of the job files)", Number.parseFloat)
     .addHelpText(
       'after',
       '\nLines wholly inside a tile (plus overlap) are referenced in place; lines that leave it are cut into pieces,\n' +
-        'each the same file with a "traces" range in the tile\'s site.json (nothing is copied). Then run, per tile,\n' +
+        'each the same file with a "traces" range in the tile\'s site.json (nothing is copied), processed with its\n' +
+        'whole line ("context") and kept alone. Then run, per tile,\n' +
         'from the --out folder:\n' +
         '  lamina process <tile> --out <tile>-out\n' +
         'Merging the tiles\' targets: docs/large-surveys.md.\nExample:\n  pnpm lamina tiles sample-sites/yard/site --size 10 --overlap 2 --out /tmp/yard-tiles',
     )
     .action(
-      action(async (site: string, opts: { size: number; overlap?: number; planMargin?: number; absolute?: boolean; out: string; json?: boolean; velocity?: string; emit?: string; threads?: number }) => {
+      action(async (site: string, opts: { size: number; overlap?: number; planMargin?: number; absolute?: boolean; out: string; json?: boolean; velocity?: string; emit?: string; threads?: number; lineContext?: number; lineMemory?: number }) => {
         const engines = (opts.emit ?? '').split(',').map((e) => e.trim()).filter(Boolean);
         for (const e of engines) if (!(ENGINES as readonly string[]).includes(e)) throw new InputError('command line', `--emit: expected ${ENGINES.join(', ')}, found ${JSON.stringify(e)}`);
         if (opts.threads !== undefined && !(Number.isInteger(opts.threads) && opts.threads >= 1)) throw new InputError('command line', '--threads must be a whole number >= 1');
@@ -44,7 +47,14 @@ export function register(program: Command): void {
         if (opts.overlap !== undefined) options.overlapM = opts.overlap;
         if (opts.planMargin !== undefined) options.planMarginM = opts.planMargin;
         if (opts.absolute) options.absolutePaths = true;
-        if (opts.velocity) options.velocityFile = (await readSurveyVelocity(opts.velocity)).file;
+        if (opts.lineContext !== undefined) options.lineContextM = opts.lineContext;
+        // a tile's line passes then need no more memory than its bands (the job files' --mem holds both)
+        options.lineMemoryMiB = opts.lineMemory ?? 384 / (opts.threads ?? 2);
+        if (opts.velocity) {
+          const v = await readSurveyVelocity(opts.velocity);
+          options.velocityFile = v.file;
+          if (v.windows) options.windowsFile = v.windows.file;
+        }
         const m = await writeTiles(site, opts.out, options);
         // the job files start Lamina as this process was started (the built CLI by its path)
         const lamina = [process.execPath, process.argv[1]!].map((a) => (/^[\w@%+=:,./-]+$/.test(a) ? a : `'${a.replace(/'/g, `'\\''`)}'`)).join(' ');
@@ -58,7 +68,7 @@ export function register(program: Command): void {
           return;
         }
         const pieces = m.tiles.reduce((s, t) => s + t.lines.filter((l) => l.traces !== undefined).length, 0);
-        const out: string[] = [`${m.tiles.length} tile${m.tiles.length === 1 ? '' : 's'} of ${m.sizeM} m (overlap ${m.overlapM} m, plan margin ${m.planMarginM.toFixed(1)} m) for ${m.traces} traces; ${pieces} line piece${pieces === 1 ? '' : 's'} (trace ranges of the original files, nothing copied)`, `manifest  ${opts.out}/tiles.json`, 'run each tile (from the --out folder):'];
+        const out: string[] = [`${m.tiles.length} tile${m.tiles.length === 1 ? '' : 's'} of ${m.sizeM} m (overlap ${m.overlapM} m, plan margin ${m.planMarginM.toFixed(1)} m) for ${m.traces} traces; ${pieces} line piece${pieces === 1 ? '' : 's'} (trace ranges of the original files, nothing copied), each processed with ${m.lineContextM !== undefined ? `${m.lineContextM} m of its line on each side` : `its whole line (at most ${m.lineMemoryMiB?.toFixed(0)} MiB of line work, else that much around it)`}`, `manifest  ${opts.out}/tiles.json`, 'run each tile (from the --out folder):'];
         for (const t of m.tiles) out.push(`  ${t.command}    # ${t.lines.length} lines, ${t.traces} traces, ${t.planFeatures} plan features`);
         for (const e of engines as Engine[]) out.push(`job file  ${join(opts.out, JOB_FILES[e])}`);
         process.stdout.write(out.join('\n') + '\n');

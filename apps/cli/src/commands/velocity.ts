@@ -6,6 +6,7 @@ import { InputError } from '@lamina/errors';
 import { defaultRecipe, parseRecipe, runRecipe } from '@lamina/processing';
 import type { RadarLine } from '@lamina/radar-data';
 import { loadSite, readLine } from '@lamina/site';
+import { recordWindows, writeSurveyWindows, type LineRecord } from '@lamina/pipeline';
 import {
   buildVelocityReport,
   fitManualPicks,
@@ -25,7 +26,7 @@ export function register(program: Command): void {
     .command('velocity')
     .description('fit diffraction hyperbolas on every processed line and write velocity.json (site velocity, permittivity, moisture, hyperbolas)')
     .argument('<site>', 'site folder (or its site.json)')
-    .requiredOption('-o, --out <dir>', 'output folder; velocity.json is written atomically inside it')
+    .requiredOption('-o, --out <dir>', 'output folder; velocity.json and windows.json (the depth windows of the survey) are written atomically inside it')
     .option('--picks <file>', 'manual hyperbola picks (JSON; format: packages/velocity/README.md), fitted besides the automatic detection (default: none)')
     .option('--no-auto', 'fit only the manual picks (no automatic detection) (default: automatic detection on)')
     .addHelpText(
@@ -62,12 +63,14 @@ export function register(program: Command): void {
         const fits: HyperbolaFit[] = [];
         const directions: Record<string, [number, number]> = {};
         const kept = new Map<string, RadarLine>();
+        const records: LineRecord[] = [];
         const bar = progress();
         bar.start('fitting hyperbolas', site.lines.length);
         let done = 0;
         for (const src of site.lines) {
           const line = runRecipe(await readLine(site, src), recipe, ctx).line;
           directions[line.id] = lineDirection(line);
+          records.push({ nSamples: line.nSamples, dtNs: line.dtNs, timeZeroNs: line.timeZeroNs });
           if (opts.auto) fits.push(...lineHyperbolas(line, detect));
           if (picked.has(line.id)) kept.set(line.id, line);
           bar.update(++done);
@@ -79,12 +82,15 @@ export function register(program: Command): void {
         const report = buildVelocityReport(fits, { separationM: site.antenna.separationM, lineDirections: directions, metresPerUnit: site.crs.metresPerUnit });
         const file = join(opts.out, 'velocity.json');
         await writeVelocityJson(file, report);
-        process.stdout.write(summary(report, file));
+        // the survey's depth windows, cut once from all its lines: every run with --velocity (every tile) slices at them
+        const windows = recordWindows(site, records, report);
+        const windowsFile = await writeSurveyWindows(file, windows, report.site.velocityMPerNs);
+        process.stdout.write(summary(report, file, `${windowsFile}: ${windows.length} depth windows, ${windows[0]!.topM} to ${windows[windows.length - 1]!.bottomM} m, used with the model by \`process --velocity\` and every tile`));
       }),
     );
 }
 
-function summary(r: VelocityReport, file: string): string {
+function summary(r: VelocityReport, file: string, windows: string): string {
   const h = r.hyperbolas;
   const air = h.filter((f) => f.origin === 'above-ground').length;
   const impossible = h.filter((f) => f.flags?.includes('v > c')).length;
@@ -98,6 +104,6 @@ function summary(r: VelocityReport, file: string): string {
   ];
   if (s.note) lines.push(`note: ${s.note}`);
   if (s.moisture) lines.push(`soil moisture about ${(100 * s.moisture.volumetricWaterContent).toFixed(0)} % by volume (${s.moisture.method}); ${s.moisture.caution}`);
-  lines.push(`Depths from this velocity carry its uncertainty. ${CAUTION}`);
+  lines.push(windows, `Depths from this velocity carry its uncertainty. ${CAUTION}`);
   return lines.join('\n') + '\n';
 }
