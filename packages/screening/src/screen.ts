@@ -147,6 +147,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     lineSpacingM: Number.isFinite(spacing) ? spacing : cellM,
     nearSurfaceM: options.nearSurfaceM ?? (f && f > 0 ? nearSurfaceDepthM(f, options.antennaSeparationM ?? 0, velocity.model) : 0),
     cellM,
+    lineAzimuthsDeg: lineAzimuths(lines),
   };
   const isLayer = (shape: Shape, z: number) => isExtensive(shape, z, classCtx, options.classes);
   const extraction = extractAnomalies(stack, { isLayer, ...options, metresPerUnit: mpu });
@@ -346,8 +347,8 @@ export function siteForecast(
 }
 
 
-/** Median azimuth of the lines' end-to-end chords, degrees in [0, 180); NaN without lines. */
-function surveyDirection(lines: ScreenInput['lines']): number {
+/** Azimuth of each line's end-to-end chord, degrees clockwise from grid north in [0, 180) (lines of one point left out). */
+function chordAzimuths(lines: ScreenInput['lines']): number[] {
   const az: number[] = [];
   for (const l of lines) {
     const n = l.x.length;
@@ -356,8 +357,18 @@ function surveyDirection(lines: ScreenInput['lines']): number {
     if (dx === 0 && dy === 0) continue;
     az.push(((((Math.atan2(dx, dy) * 180) / Math.PI) % 180) + 180) % 180);
   }
-  if (az.length === 0) return NaN;
-  return medianHigh(az);
+  return az;
+}
+
+/** Median azimuth of the lines' end-to-end chords, degrees in [0, 180); NaN without lines. */
+function surveyDirection(lines: ScreenInput['lines']): number {
+  const az = chordAzimuths(lines);
+  return az.length === 0 ? NaN : medianHigh(az);
+}
+
+/** The lines' chord azimuths to the whole degree, each once (`ClassifyContext.lineAzimuthsDeg`). */
+function lineAzimuths(lines: ScreenInput['lines']): number[] {
+  return [...new Set(chordAzimuths(lines).map((a) => Math.round(a) % 180))];
 }
 
 /**
