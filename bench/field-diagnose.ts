@@ -76,6 +76,7 @@ for (const scene of scenes) {
     const members = a.members as { topM: number; bottomM: number }[];
     const fired: string[] = [];
     if (!members.some((m) => m.topM >= nearSurfaceM - 1e-9)) fired.push('nearSurfaceStrict');
+    for (const fr of [0.1, 0.2, 0.3, 0.4, 0.5]) if (a.depthTopM < nearSurfaceM && !members.some((m) => m.topM >= nearSurfaceM - fr * (m.bottomM - m.topM))) fired.push(`ns${fr}`);
     const below = members.filter((m) => m.topM >= nearSurfaceM - 1e-3).length;
     if (a.depthTopM < nearSurfaceM && a.kind !== 'linear' && below < 2) fired.push('nsCompact2');
     if (a.depthTopM < nearSurfaceM && a.kind !== 'linear' && below < 1) fired.push('nsCompact1');
