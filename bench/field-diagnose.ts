@@ -1,13 +1,15 @@
 // Why targets match nothing: for each kept scene folder of `pnpm bench field` (LAMINA_BENCH_FIELD_KEEP=1),
 // each target that covers no buried object and lies on no air-wave locus (scoring's `unmatched`) is put
 // in the first cause that fits, from the simulator's truth (never used by the pipeline):
-//   near-surface  its top lies inside the near-surface zone (run.json nearSurfaceM)
+//   near-surface  its top lies inside the near-surface zone (run.json nearSurfaceM); ns-stone with a stone there
 //   echo          over a buried object in plan, deeper than it (ringing, multiples)
 //   near-object   within 1.5 m + radius of a buried object in plan, at its depth (a piece off the axis)
 //   layer         its depth range holds a truth interface's depth (with dip over the site)
 //   stone / root  a clutter point / root within 0.5 m in plan and at its depth
 //   other
-// Usage: tsx bench/field-diagnose.ts <kept-dir> [scene ...]. A diagnostic, not a score: the frozen
+// Also counts the targets that candidate rules would drop (buried / unmatched / air), to weigh a rule
+// before building it. Usage: tsx bench/field-diagnose.ts <kept-dir> [scene ...] (VERBOSE=1 lists the
+// unmatched targets, RULE=<name> those a rule drops). A diagnostic, not a score: the frozen
 // definitions stay in packages/scoring.
 import { existsSync, readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
@@ -75,18 +77,13 @@ for (const scene of scenes) {
     if (!a) continue;
     const members = a.members as { topM: number; bottomM: number }[];
     const fired: string[] = [];
-    if (!members.some((m) => m.topM >= nearSurfaceM - 1e-9)) fired.push('nearSurfaceStrict');
-    for (const fr of [0.1, 0.2, 0.3, 0.4, 0.5]) if (a.depthTopM < nearSurfaceM && !members.some((m) => m.topM >= nearSurfaceM - fr * (m.bottomM - m.topM))) fired.push(`ns${fr}`);
-    const below = members.filter((m) => m.topM >= nearSurfaceM - 1e-3).length;
-    if (a.depthTopM < nearSurfaceM && a.kind !== 'linear' && below < 2) fired.push('nsCompact2');
-    if (a.depthTopM < nearSurfaceM && a.kind !== 'linear' && below < 1) fired.push('nsCompact1');
-    if (a.depthTopM < nearSurfaceM && below < 2) fired.push('nsAll2');
+    // the near-surface rule with a stricter share of a slice inside the zone (the classifier takes half)
+    for (const fr of [0, 0.25]) if (a.depthTopM < nearSurfaceM && !members.some((m) => m.topM >= nearSurfaceM - fr * (m.bottomM - m.topM))) fired.push(`nearSurface${fr}`);
     const angle = Math.min(...azs.map((az) => { const d = Math.abs((((a.directionDeg - az) % 180) + 180) % 180); return Math.min(d, 180 - d); }));
-    const rf = fresnel(a.depthBottomM, v, f);
-    if (a.kind === 'linear' && angle < 15 && a.widthM <= spacing && 2 * rf - spacing > a.widthM) fired.push('oneLineStrip');
-    if (a.kind === 'linear' && a.widthM <= spacing && 2 * rf - spacing > a.widthM) fired.push('narrowAnyDir');
+    const rf = fresnel(0.5 * (a.depthTopM + a.depthBottomM), v, f);
+    if (a.kind === 'linear' && a.widthM <= spacing && 2 * rf - spacing > a.widthM) fired.push('narrowStripAnyDirection');
     if (a.widthM < rf) fired.push('narrowerThanFresnel');
-    if (a.strengthDb < 10) fired.push('weak10');
+    if (a.strengthDb < 10) fired.push('weakerThan10dB');
     if (process.env.RULE && fired.includes(process.env.RULE)) console.log(`    ${process.env.RULE} ${r.kind} ${r.kind === 'buried' ? r.matches : ''} ${r.id} ${a.class} z ${a.depthTopM.toFixed(2)}-${a.depthBottomM.toFixed(2)} L ${a.lengthM?.toFixed(1)} W ${a.widthM?.toFixed(2)} angle ${angle.toFixed(0)} rF ${rf.toFixed(2)} s ${spacing.toFixed(2)} ${a.strengthDb} dB`);
     for (const k of fired) { const q = (rules[k] ??= { buried: 0, unmatched: 0, air: 0 }); q[r.kind]++; }
   }
@@ -94,12 +91,13 @@ for (const scene of scenes) {
   for (const r of report.targets) {
     if (r.kind !== 'unmatched') continue;
     const p = props.get(r.id)!;
-    const anom = JSON.parse(readFileSync(join(out, 'anomalies.geojson'), 'utf8')).features.find((f: any) => f.properties.id === r.id)?.properties ?? p;
+    const anom = anomalyProps.get(r.id) ?? p;
     const [x, y] = from(p.centroid[0], p.centroid[1]);
     const top = p.depthTopM as number, bottom = p.depthBottomM as number;
     const tol = (z: number) => Math.max(0.25, 0.25 * z);
     let cause = 'other';
-    if (top < nearSurfaceM) cause = 'near-surface';
+    const stoneNear = t.clutter.some((c: number[]) => Math.hypot(c[0]! - x, c[1]! - y) < 0.5 && c[2]! >= top - tol(c[2]!) && c[2]! <= bottom + tol(c[2]!));
+    if (top < nearSurfaceM) cause = stoneNear ? 'ns-stone' : 'near-surface';
     else {
       for (const b of t.buried) {
         const { d, z } = b.center ? { d: Math.hypot(x - b.center[0], y - b.center[1]), z: b.center[2] } : (() => { const s = segDist(x, y, b.from, b.to); return { d: s.d, z: b.from[2] + s.t * (b.to[2] - b.from[2]) }; })();
