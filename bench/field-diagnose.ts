@@ -83,6 +83,11 @@ for (const scene of scenes) {
     const rf = fresnel(0.5 * (a.depthTopM + a.depthBottomM), v, f);
     if (a.kind === 'linear' && a.widthM <= spacing && 2 * rf - spacing > a.widthM) fired.push('narrowStripAnyDirection');
     if (a.widthM < rf) fired.push('narrowerThanFresnel');
+    const nSl = new Set(members.map((m: any) => m.slice ?? m.topM)).size;
+    const pointSize = 2 * rf + spacing + 0.1;
+    if (a.kind !== 'linear' && a.lengthM <= pointSize && nSl <= 2) fired.push('pointSized2');
+    if (a.kind !== 'linear' && a.lengthM <= pointSize && nSl <= 3) fired.push('pointSized3');
+    if (a.kind !== 'linear' && a.lengthM <= pointSize) fired.push('pointSizedAny');
     if (a.strengthDb < 10) fired.push('weakerThan10dB');
     if (process.env.RULE && fired.includes(process.env.RULE)) console.log(`    ${process.env.RULE} ${r.kind} ${r.kind === 'buried' ? r.matches : ''} ${r.id} ${a.class} z ${a.depthTopM.toFixed(2)}-${a.depthBottomM.toFixed(2)} L ${a.lengthM?.toFixed(1)} W ${a.widthM?.toFixed(2)} angle ${angle.toFixed(0)} rF ${rf.toFixed(2)} s ${spacing.toFixed(2)} ${a.strengthDb} dB`);
     for (const k of fired) { const q = (rules[k] ??= { buried: 0, unmatched: 0, air: 0 }); q[r.kind]++; }
