@@ -67,7 +67,7 @@ describe.runIf(existsSync(join(YARD, 'site.json')))('the viewer as a workbench, 
     expect(await b.page.locator('#caution-line').isVisible()).toBe(true);
   });
 
-  it('walks every anomaly of the queue by keyboard; the counts add up and the decisions reach review.json', async () => {
+  it('walks the queue by keyboard; the counts add up and the decisions reach review.json', async () => {
     const anomalies = (await json<{ features: { properties: { id: string; class: string; slices?: number[]; depthTopM: number } }[] }>(join(OUT, 'anomalies.geojson'))).features;
     const n = anomalies.length;
     expect(n).toBeGreaterThan(20);
@@ -76,7 +76,11 @@ describe.runIf(existsSync(join(YARD, 'site.json')))('the viewer as a workbench, 
     const keys = ['a', 'r', 'u'] as const;
     const want = new Map<string, string>();
     const seen: string[] = [];
-    for (let i = 0; i < n; i++) {
+    // the first 24 rows (each step redraws the slice, the line and the panel in software WebGL, ~0.7 s
+    // on two busy cores: walking all ~90 took most of the suite's time); the queue's order and filters
+    // are unit-tested in apps/viewer/test
+    const steps = Math.min(n, 24);
+    for (let i = 0; i < steps; i++) {
       await b.page.keyboard.press('n');
       await b.page.waitForFunction((prev) => window.__lamina.state.selectedAnomaly !== prev, seen[seen.length - 1] ?? null, { polling: 20 });
       const id = (await b.page.evaluate(() => window.__lamina.state.selectedAnomaly))!;
@@ -107,7 +111,7 @@ describe.runIf(existsSync(join(YARD, 'site.json')))('the viewer as a workbench, 
         await shot(b, 'queue-selected');
       }
     }
-    expect(new Set(seen).size).toBe(n);
+    expect(new Set(seen).size).toBe(steps);
     await b.page.waitForFunction(() => window.__lamina.queue?.saving === 0, null, { polling: 50 });
     const c = await b.page.evaluate(() => window.__lamina.queue!.counts);
     const accepted = [...want.values()].filter((d) => d === 'accept').length;
@@ -135,7 +139,7 @@ describe.runIf(existsSync(join(YARD, 'site.json')))('the viewer as a workbench, 
     await shot(b, 'queue-filtered');
     await b.page.selectOption('#q-class', '');
     await b.page.selectOption('#q-decision', '');
-  }, 900_000); // 94 steps: about a minute on a quiet machine, several on two busy cores
+  }, 600_000);
 
   it('opens a line by clicking it on the map; the radargram cursor marks the map and the map hover marks the trace', async () => {
     await b.page.click('#toggle-anomalies'); // the line, not an anomaly over it

@@ -15,6 +15,11 @@ export interface ClassifyContext {
   nearSurfaceM: number;
   /** Grid cell size, m. */
   cellM: number;
+  /**
+   * Azimuths of the survey's lines, degrees clockwise from grid north in [0, 180) (one per direction is
+   * enough; a two-direction grid has two). @default none: no along-line strip is recognised
+   */
+  lineAzimuthsDeg?: readonly number[];
 }
 
 export interface ClassifyOptions {
@@ -26,6 +31,15 @@ export interface ClassifyOptions {
   echoOverlap?: number;
   /** Lines an object in the near-surface zone must cross to be kept (with deeper members). @default 3 */
   nearSurfaceLines?: number;
+  /**
+   * A slice counts as below the near-surface zone when no more than this fraction of its thickness lies
+   * inside the zone. Half (its mid-depth below the zone): on the TUNE half of the field bench
+   * (2026-12-03) a tenth took 45 near-surface targets that matched nothing, but also a 100 MHz scene's
+   * sewer 0.35-0.63 m deep, whose slice reached a third into the zone. @default 0.5
+   */
+  nearSurfaceOverlap?: number;
+  /** Largest angle between a strip and a survey line for the strip to run along that line, degrees. @default 15 */
+  alongLineDeg?: number;
 }
 
 export interface Classified {
@@ -75,32 +89,70 @@ export function isExtensive(shape: Shape, depthM: number, ctx: ClassifyContext, 
   return shape.lengthM > s && shape.widthM > maxUtilityWidthM(depthM, ctx, options) && (shape.kind !== 'linear' || shape.widthM > s);
 }
 
+/** Smallest angle between an azimuth and any of `azimuths` (all modulo 180 degrees), degrees. */
+function axisAngleDeg(az: number, azimuths: readonly number[]): number {
+  let best = Infinity;
+  for (const b of azimuths) {
+    const d = Math.abs((((az - b) % 180) + 180) % 180);
+    best = Math.min(best, d, 180 - d);
+  }
+  return best;
+}
+
+/**
+ * A linear anomaly that runs along one survey line and is no wider than the line spacing, at a depth
+ * where anything buried would be seen on the neighbouring lines too: in a slice half a wavelength thick
+ * a point object shows on the lines within its first Fresnel zone radius (beyond it its diffraction
+ * arrives more than a quarter period late and falls in the next slice), so its response is at least
+ * 2 rF wide, less one line spacing lost to the sampling across lines. A strip narrower than that is a
+ * per-line artefact: a layer edge or a patchy layer left by that line's background removal, a change of
+ * coupling or of time-zero along the line.
+ */
+export function isOneLineStrip(a: Anomaly3D, ctx: ClassifyContext, options: ClassifyOptions = {}): boolean {
+  const azimuths = ctx.lineAzimuthsDeg ?? [];
+  if (a.shape.kind !== 'linear' || azimuths.length === 0 || !(ctx.lineSpacingM > 0)) return false;
+  if (a.shape.widthM > ctx.lineSpacingM) return false;
+  if (axisAngleDeg(a.shape.directionDeg, azimuths) > (options.alongLineDeg ?? 15)) return false;
+  const rF = fresnelRadiusM(0.5 * (a.depthTopM + a.depthBottomM), ctx.velocityMPerNs, ctx.frequencyMHz);
+  return 2 * rF - ctx.lineSpacingM > a.shape.widthM;
+}
+
 /**
  * The class of each anomaly, in this order of rules:
  * - `above-ground`: the screening's verdict (its evidence stays on the feature);
- * - `clutter` (near surface): every member inside the direct- and ground-wave zone, or members there
- *   and below that cross fewer than `nearSurfaceLines` lines;
+ * - `clutter` (near surface): no member in a slice below the direct- and ground-wave zone (a slice
+ *   reaching into the zone by more than `nearSurfaceOverlap` of its thickness is inside it), or members
+ *   there and below that cross fewer than `nearSurfaceLines` lines;
+ * - `layer` (planar): flat along its line (found before background removal) and part of a group of
+ *   such strips on neighbouring lines too large for any object (the caller's `planar`);
  * - echo: sharing at least `echoOverlap` of the smaller one's cells with a stronger subsurface anomaly that ends above it
  *   (same plan position, later time, weaker: ringing or a multiple): it takes that object's class and
  *   gets `echoOf`;
  * - `layer`: too large for any object (`isExtensive`: a laterally extensive reflector);
+ * - `clutter` (one-line strip): linear along a survey line, narrower than a buried object's response
+ *   at its depth (`isOneLineStrip`);
  * - `utility`: linear and no wider than a utility may be;
  * - `clutter` (point-like): compact, seen on one line only (`oneLineWidthM`), spanning at most two
  *   slices (one pulse) — a stone or a root at the survey's resolution;
  * - `structure`: the other compact anomalies (a footing or a tank is wider than a line spacing, or thick).
  */
-export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: boolean }[], ctx: ClassifyContext, options: ClassifyOptions = {}): Classified[] {
+export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: boolean; planar?: boolean }[], ctx: ClassifyContext, options: ClassifyOptions = {}): Classified[] {
   const lines = options.nearSurfaceLines ?? 3;
-  const own = items.map(({ anomaly: a, aboveGround }): Classified => {
+  const own = items.map(({ anomaly: a, aboveGround, planar }): Classified => {
     if (aboveGround) return { class: 'above-ground', reason: 'air-wave screening' };
-    const deep = a.members.filter((m) => m.bottomM > ctx.nearSurfaceM);
-    if (deep.length === 0) return { class: 'clutter', reason: `inside the near-surface zone (top ${round(ctx.nearSurfaceM)} m)` };
+    const slack = options.nearSurfaceOverlap ?? 0.5;
+    const deep = a.members.filter((m) => m.topM >= ctx.nearSurfaceM - slack * (m.bottomM - m.topM));
+    if (deep.length === 0) return { class: 'clutter', reason: `inside the near-surface zone (top ${round(ctx.nearSurfaceM)} m): no slice below it` };
     if (deep.length < a.members.length && a.shape.lengthM < (lines - 1) * ctx.lineSpacingM && a.shape.widthM < (lines - 1) * ctx.lineSpacingM) {
       return { class: 'clutter', reason: `starts in the near-surface zone and crosses fewer than ${lines} lines` };
     }
+    if (planar) return { class: 'layer', reason: 'flat along its line and beside such strips on the neighbouring lines: a planar reflector that background removal takes out of the slices' };
     const z = a.depthBottomM;
     const slices = new Set(a.members.map((m) => m.slice)).size;
     if (isExtensive(a.shape, z, ctx, options)) return { class: 'layer', reason: 'laterally extensive: wider than a utility and longer than a structure' };
+    if (a.shape.kind === 'linear' && isOneLineStrip(a, ctx, options)) {
+      return { class: 'clutter', reason: `a strip along one line where a buried object would show on the next lines too (Fresnel zone ${round(fresnelRadiusM(0.5 * (a.depthTopM + a.depthBottomM), ctx.velocityMPerNs, ctx.frequencyMHz))} m, lines ${round(ctx.lineSpacingM)} m apart)` };
+    }
     if (a.shape.kind === 'linear') {
       if (a.shape.widthM <= maxUtilityWidthM(z, ctx, options)) return { class: 'utility', reason: 'linear, no wider than a utility' };
       return { class: 'structure', reason: 'linear but wider than a utility' };

@@ -62,6 +62,42 @@ describe('classes', () => {
   });
 });
 
+describe('artefacts of the survey, not objects', () => {
+  // lines run east-west (azimuth 90), 0.25 m apart; 400 MHz at 0.1 m/ns: lambda 0.25 m
+  const lines: ClassifyContext = { ...ctx, lineSpacingM: 0.25, lineAzimuthsDeg: [90] };
+
+  it('a strip one line wide along a line, deeper than where the Fresnel zone passes the line spacing, is clutter; across the lines or wider it is a utility', () => {
+    // slices 8-9: 1.0-1.25 m, rF(1.125 m) = sqrt(0.25 x 1.125 / 2) = 0.375 m: a buried object spans
+    // at least 2 rF - s = 0.5 m across the lines; the strip is 0.125 m wide
+    const strip = anomaly(cellsOf((x, y) => Math.abs(y - 6.06) < 0.07 && x > 3 && x < 9), 8, 9);
+    const across = anomaly(cellsOf((x, y) => Math.abs(x - 12.06) < 0.07 && y > 3 && y < 9), 8, 9);
+    const wide = anomaly(cellsOf((x, y) => Math.abs(y - 16) < 0.45 && x > 3 && x < 9), 8, 9);
+    const c = classifyAnomalies([strip, across, wide].map((a) => ({ anomaly: a, aboveGround: false })), lines);
+    expect(c.map((x) => x.class)).toEqual(['clutter', 'utility', 'utility']);
+    expect(c[0]!.reason).toMatch(/along one line/);
+    // at 0.1 m (slice 0-1: rF 0.08 m) a line's neighbours need not see it: no verdict from the width
+    const shallow = anomaly(cellsOf((x, y) => Math.abs(y - 6.06) < 0.07 && x > 3 && x < 9), 1, 2);
+    expect(classifyAnomalies([{ anomaly: shallow, aboveGround: false }], lines)[0]!.class).toBe('utility');
+  });
+
+  it('a blob in the near-surface zone and the slice mostly inside it is clutter; one reaching a slice below is kept', () => {
+    // zone 0.19 m: slice 1 (0.125-0.25) lies 52 % inside it, slice 2 (0.25-0.375) below it
+    const z: ClassifyContext = { ...ctx, nearSurfaceM: 0.19 };
+    const speck = anomaly(cellsOf((x, y) => Math.abs(x - 5) < 0.9 && Math.abs(y - 5) < 0.9), 0, 1);
+    const deeper = anomaly(cellsOf((x, y) => Math.abs(x - 15) < 0.9 && Math.abs(y - 5) < 0.9), 0, 2);
+    const c = classifyAnomalies([speck, deeper].map((a) => ({ anomaly: a, aboveGround: false })), z);
+    expect(c.map((x) => x.class)).toEqual(['clutter', 'structure']);
+    // a slice reaching into the zone by under half its thickness counts as below it (zone 0.18 m: 44 %)
+    const edge = classifyAnomalies([{ anomaly: anomaly(cellsOf((x, y) => Math.abs(x - 5) < 0.9 && Math.abs(y - 15) < 0.9), 0, 1), aboveGround: false }], { ...ctx, nearSurfaceM: 0.18 });
+    expect(edge[0]!.class).toBe('structure');
+  });
+
+  it('a strip the caller found to be part of a planar reflector is a layer', () => {
+    const strip = anomaly(cellsOf((x, y) => Math.abs(y - 8.06) < 0.07 && x > 3 && x < 20), 3, 3);
+    expect(classifyAnomalies([{ anomaly: strip, aboveGround: false, planar: true }], lines)[0]!.class).toBe('layer');
+  });
+});
+
 describe('joining pieces of a utility', () => {
   it('joins pieces along a line across gaps up to two line spacings, not pieces of a row of footings nor pieces at other depths', () => {
     // a pipe at 30 degrees seen once per line: short pieces 0.8 m apart along its axis

@@ -1,5 +1,5 @@
 import { makeMember, type Member } from '@lamina/anomalies';
-import type { SliceStack } from '@lamina/slices';
+import { cellCentreX, cellCentreY, type SliceStack } from '@lamina/slices';
 import type { Line } from './context';
 
 export interface AlongLineOptions {
@@ -117,6 +117,73 @@ export function alongLineMembers(before: SliceStack, scores: Float32Array[], tak
       const d = Math.abs(m.shape.directionDeg - a) % 180;
       if (!(Math.min(d, 180 - d) <= options.parallelToleranceDeg)) continue;
       out.push(m);
+    }
+  }
+  return out;
+}
+
+/**
+ * Strips that belong to a planar reflector: per slice, the strips within `reachCells` of one another
+ * (a line spacing: strips on neighbouring lines) are grouped, and a group that spans more across the
+ * lines than any utility may (`tooWide(acrossM, depthM)`, e.g. `maxUtilityWidthM`) is a flat reflector
+ * crossing many lines (a layer, or the ground wave), not a utility along one line: a utility parallel
+ * to the lines shows on the few lines within its footprint only. Every strip is long along its line
+ * (background removal takes out only what runs along most of it), so the width across decides.
+ * Returns the ids of the strips in such groups.
+ */
+export function planarStrips(strips: readonly Member[], grid: SliceStack['grid'], reachCells: number, tooWide: (acrossM: number, depthM: number) => boolean, metresPerUnit = 1): Set<number> {
+  const out = new Set<number>();
+  const { width, height } = grid;
+  const r = Math.max(1, Math.round(reachCells));
+  const bySlice = new Map<number, Member[]>();
+  for (const m of strips) bySlice.set(m.slice, [...(bySlice.get(m.slice) ?? []), m]);
+  for (const ms of bySlice.values()) {
+    if (ms.length < 2) continue;
+    // owner of each strip cell, then union-find over strips whose cells lie within r cells (Chebyshev)
+    const owner = new Map<number, number>();
+    ms.forEach((m, i) => m.cells.forEach((k) => owner.set(k, i)));
+    const parent = ms.map((_, i) => i);
+    const find = (i: number): number => (parent[i] === i ? i : (parent[i] = find(parent[i]!)));
+    ms.forEach((m, i) => {
+      for (const k of m.cells) {
+        const y = (k / width) | 0, x = k - y * width;
+        for (let dy = -r; dy <= r; dy++) {
+          const yy = y + dy;
+          if (yy < 0 || yy >= height) continue;
+          for (let dx = -r; dx <= r; dx++) {
+            const xx = x + dx;
+            if (xx < 0 || xx >= width) continue;
+            const j = owner.get(yy * width + xx);
+            if (j !== undefined && j !== i) parent[find(j)] = find(i);
+          }
+        }
+      }
+    });
+    const groups = new Map<number, number[]>();
+    ms.forEach((_, i) => groups.set(find(i), [...(groups.get(find(i)) ?? []), i]));
+    for (const g of groups.values()) {
+      if (g.length < 2) continue;
+      // across-line axis: perpendicular to the strips' mean axis (doubled angles)
+      let c = 0, s = 0;
+      for (const i of g) {
+        const a = (2 * ms[i]!.shape.directionDeg * Math.PI) / 180;
+        c += Math.cos(a);
+        s += Math.sin(a);
+      }
+      const az = 0.5 * Math.atan2(s, c);
+      const ax = Math.cos(az), ay = -Math.sin(az); // unit vector across (azimuth + 90 degrees)
+      let lo = Infinity, hi = -Infinity;
+      for (const i of g) {
+        const m = ms[i]!;
+        for (const k of m.cells) {
+          const yy = (k / width) | 0;
+          const p = (cellCentreX(grid, k - yy * width) * ax + cellCentreY(grid, yy) * ay) * metresPerUnit;
+          lo = Math.min(lo, p);
+          hi = Math.max(hi, p);
+        }
+      }
+      const acrossM = hi - lo + grid.cellSize * metresPerUnit;
+      if (tooWide(acrossM, ms[g[0]!]!.bottomM)) for (const i of g) out.add(ms[i]!.id);
     }
   }
   return out;

@@ -24,7 +24,7 @@ import type { SliceGrid, SliceStack } from '@lamina/slices';
 import type { VelocityReport } from '@lamina/velocity';
 import { separateCrossings } from './crossings';
 import { bridgeThroughFields } from './bridges';
-import { alongLineMembers, nearestLineLabels } from './along-line';
+import { alongLineMembers, nearestLineLabels, planarStrips } from './along-line';
 import { lineSpacingM, sliceLoci, surveyedMask, type Line, type ToleranceOptions } from './context';
 import { combine, type Evidence } from './evidence';
 import { CAUTION } from '@lamina/constants';
@@ -147,6 +147,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     lineSpacingM: Number.isFinite(spacing) ? spacing : cellM,
     nearSurfaceM: options.nearSurfaceM ?? (f && f > 0 ? nearSurfaceDepthM(f, options.antennaSeparationM ?? 0, velocity.model) : 0),
     cellM,
+    lineAzimuthsDeg: lineAzimuths(lines),
   };
   const isLayer = (shape: Shape, z: number) => isExtensive(shape, z, classCtx, options.classes);
   const extraction = extractAnomalies(stack, { isLayer, ...options, metresPerUnit: mpu });
@@ -246,6 +247,8 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   // linear and along their line (alongLineMembers), are linked across depth, screened too and marked
   // `source: before-background`.
   const fromBefore = new Set<Anomaly3D>();
+  // ids of before-background strips that together with their neighbours make a planar reflector
+  const planar = new Set<number>();
   if (bb && beforeScores && (options.alongLineFromBeforeBackground ?? true)) {
     const taken = new Map<number, Set<number>>();
     for (const m of members) {
@@ -274,6 +277,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
       m.noiseEnergy = laws.get(m.slice)!;
       m.strengthDb = m.noiseEnergy > 0 ? 10 * Math.log10(Math.max(m.peakValue, 1e-300) / m.noiseEnergy) : Number.NaN;
     }
+    for (const id of planarStrips(strips, grid, Number.isFinite(spacing) ? spacing / cellM : 1, (acrossM, z) => acrossM > maxUtilityWidthM(z, classCtx, options.classes), mpu)) planar.add(id);
     for (const g of relink(strips, grid.width * grid.height, grid.cellSize, options)) {
       const before = screened.length;
       screenOne(buildAnomaly('A', g, bb, { ...options, metresPerUnit: mpu }), 0, ctxUnmigrated);
@@ -283,7 +287,11 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   if (options.joinPieces ?? true) joinPieces(screened, fromBefore, classCtx, grid, stack, options, mpu);
   screened.sort((p, q) => p.anomaly.depthTopM - q.anomaly.depthTopM || p.anomaly.members[0]!.x - q.anomaly.members[0]!.x);
   screened.forEach((s, i) => (s.anomaly.id = `A${String(i + 1).padStart(4, '0')}`));
-  const classes = classifyAnomalies(screened.map((s) => ({ anomaly: s.anomaly, aboveGround: s.verdict.origin === 'above-ground' })), classCtx, options.classes);
+  const classes = classifyAnomalies(
+    screened.map((s) => ({ anomaly: s.anomaly, aboveGround: s.verdict.origin === 'above-ground', planar: planar.size > 0 && 2 * s.anomaly.members.filter((m) => planar.has(m.id)).length >= s.anomaly.members.length })),
+    classCtx,
+    options.classes,
+  );
   classes.forEach((c, i) => {
     screened[i]!.classified = { class: c.class, reason: c.reason, ...(c.echoOf !== undefined ? { echoOf: screened[c.echoOf]!.anomaly.id } : {}) };
   });
@@ -346,8 +354,8 @@ export function siteForecast(
 }
 
 
-/** Median azimuth of the lines' end-to-end chords, degrees in [0, 180); NaN without lines. */
-function surveyDirection(lines: ScreenInput['lines']): number {
+/** Azimuth of each line's end-to-end chord, degrees clockwise from grid north in [0, 180) (lines of one point left out). */
+function chordAzimuths(lines: ScreenInput['lines']): number[] {
   const az: number[] = [];
   for (const l of lines) {
     const n = l.x.length;
@@ -356,8 +364,18 @@ function surveyDirection(lines: ScreenInput['lines']): number {
     if (dx === 0 && dy === 0) continue;
     az.push(((((Math.atan2(dx, dy) * 180) / Math.PI) % 180) + 180) % 180);
   }
-  if (az.length === 0) return NaN;
-  return medianHigh(az);
+  return az;
+}
+
+/** Median azimuth of the lines' end-to-end chords, degrees in [0, 180); NaN without lines. */
+function surveyDirection(lines: ScreenInput['lines']): number {
+  const az = chordAzimuths(lines);
+  return az.length === 0 ? NaN : medianHigh(az);
+}
+
+/** The lines' chord azimuths to the whole degree, each once (`ClassifyContext.lineAzimuthsDeg`). */
+function lineAzimuths(lines: ScreenInput['lines']): number[] {
+  return [...new Set(chordAzimuths(lines).map((a) => Math.round(a) % 180))];
 }
 
 /**

@@ -58,3 +58,38 @@ describe('strips along lines parallel to a wall (before background removal)', ()
     expect(utility).toBeGreaterThanOrEqual(1);
   });
 });
+
+/**
+ * A flat layer under half the site: every line records it at one time, so background removal takes it
+ * out of the main stack and each line keeps a strip of it before removal. Strips on ten neighbouring
+ * lines together are wider than any utility: a planar reflector (class layer, reported as an interface),
+ * while a utility along one line, three lines' footprint wide at most, stays a utility.
+ */
+describe('strips of a flat layer on many lines are a layer, a utility along a line stays a utility', () => {
+  const g: SliceGrid = { crs: 'local', originX: 0, originY: 12, cellSize: 0.1, width: 120, height: 120, nodata: -9999 };
+  const depths = Array.from({ length: 16 }, (_, i) => 0.15 + 0.1 * i);
+  const lines = surveyLines(g, 0.5, 0.05);
+  const gauss = (d: number, s: number) => Math.exp(-(d * d) / (2 * s * s));
+  const nearestLineX = (x: number) => 0.25 + 0.5 * Math.round((x - 0.25) / 0.5);
+  const utilityX = 9.25;
+  const main = synthStack(g, depths, 0.1, () => 0, 1);
+  const before = synthStack(g, depths, 0.1, (x, y, z) => {
+    if (y < 0.5 || y > 11.5 || Math.abs(x - nearestLineX(x)) >= 0.15) return 0;
+    let v = 0;
+    if (x < 5.5) v += 30 * gauss(z - 1.2, 0.08);
+    if (Math.abs(x - utilityX) < 0.15) v += 30 * gauss(z - 0.9, 0.08);
+    return v;
+  }, 2);
+  const res = screenSite({ stack: main, beforeBackgroundStack: before, plan: [], velocity: constantVelocity(C / 3), lines, metresPerUnit: 1, toWgs84: identity, lineSpacingM: 0.5 }, { antennaFrequencyMHz: 400 });
+  const fromBefore = res.anomalies.features.filter((f) => f.properties.source === 'before-background');
+
+  it('classes the layer strips layer and the utility utility', () => {
+    const x = (f: (typeof fromBefore)[number]) => (f.properties.centroid as number[])[0]!;
+    const layer = fromBefore.filter((f) => x(f) < 6);
+    const utility = fromBefore.filter((f) => Math.abs(x(f) - utilityX) < 0.5);
+    expect(layer.length).toBeGreaterThanOrEqual(5);
+    expect(utility.length).toBeGreaterThanOrEqual(1);
+    for (const f of layer) expect(f.properties.class, String(f.properties.classReason)).toBe('layer');
+    for (const f of utility) expect(f.properties.class, String(f.properties.classReason)).toBe('utility');
+  });
+});

@@ -136,7 +136,8 @@ export function siteVelocityOf(f: HyperbolaFit): number {
 }
 
 /**
- * Site velocity from the usable fits: weighted median with a 1.4826 x weighted-MAD spread; weights
+ * Site velocity from the usable fits: weighted median with a 1.4826 x weighted-MAD spread (at least the
+ * `uncertaintyFloor`); weights
  * 1/sigma^2 shared among the fits of one object (`objectGroups`), so each object counts once.
  * A layered model is chosen only when it beats the constant one by the Bayesian information criterion
  * (Schwarz 1978), BIC = n ln(WRSS / sum w) + k ln n with n the number of objects, k = 1 for a constant
@@ -172,7 +173,9 @@ export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOption
   const site: VelocityReport['site'] = {
     velocityMPerNs: centre,
     permittivity: k,
-    spreadMPerNs: spread,
+    // the weighted MAD is 0 when one object holds over half the weight with one velocity; no fit is
+    // taken as more certain than the floor, so neither is the site
+    spreadMPerNs: Math.max(spread, floor),
     fitCount: usable.length,
     objectCount: sizes.length,
     ...moisture(k, false),

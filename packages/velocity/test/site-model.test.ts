@@ -49,6 +49,12 @@ describe('siteVelocityModel', () => {
     expect(site.moisture?.caution).toMatch(/mineral soils/);
   });
 
+  it('states at least the uncertainty floor as spread when one object holds the weight (its weighted MAD is 0)', () => {
+    const { site } = siteVelocityModel([fit(0.1, 0.8), fit(0.1, 0.8), fit(0.1, 0.8)]);
+    expect(site.velocityMPerNs).toBeCloseTo(0.1, 12);
+    expect(site.spreadMPerNs).toBeCloseTo(0.02 * 0.1, 12);
+  });
+
   it('chooses a layered model with the Dix interval velocity when shallow and deep fits disagree', () => {
     // Layer 1: 0-0.8 m at 0.12 m/ns; below, 0.07 m/ns. Fits report RMS velocities (Dix 1955).
     const v1 = 0.12;

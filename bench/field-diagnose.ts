@@ -1,0 +1,134 @@
+// Why targets match nothing: for each kept scene folder of `pnpm bench field` (LAMINA_BENCH_FIELD_KEEP=1),
+// each target that covers no buried object and lies on no air-wave locus (scoring's `unmatched`) is put
+// in the first cause that fits, from the simulator's truth (never used by the pipeline):
+//   near-surface  its top lies inside the near-surface zone (run.json nearSurfaceM); ns-stone with a stone there
+//   echo          over a buried object in plan, deeper than it (ringing, multiples)
+//   near-object   within 1.5 m + radius of a buried object in plan, at its depth (a piece off the axis)
+//   layer         its depth range holds a truth interface's depth (with dip over the site)
+//   stone / root  a clutter point / root within 0.5 m in plan and at its depth
+//   other
+// Also counts the targets that candidate rules would drop (buried / unmatched / air), to weigh a rule
+// before building it. Usage: tsx bench/field-diagnose.ts <kept-dir> [scene ...] (VERBOSE=1 lists the
+// unmatched targets, RULE=<name> those a rule drops). A diagnostic, not a score: the frozen
+// definitions stay in packages/scoring.
+import { existsSync, readdirSync, readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { scoreFolder } from '../packages/scoring/src/index';
+import { pointFromWgs84, resolveCrs } from '../packages/site/src/index';
+
+type XY = [number, number];
+const dir = process.argv[2]!;
+const only = process.argv.slice(3);
+const scenes = readdirSync(dir).filter((d) => d.endsWith('-out') && !d.endsWith('-keep-air')).map((d) => d.slice(0, -4)).filter((s) => !only.length || only.includes(s));
+
+const segDist = (x: number, y: number, a: number[], b: number[]) => {
+  const dx = b[0]! - a[0]!, dy = b[1]! - a[1]!, l2 = dx * dx + dy * dy;
+  const t = l2 > 0 ? Math.max(0, Math.min(1, ((x - a[0]!) * dx + (y - a[1]!) * dy) / l2)) : 0;
+  return { d: Math.hypot(x - a[0]! - t * dx, y - a[1]! - t * dy), t };
+};
+
+const totals: Record<string, number> = {};
+// candidate rules: how many targets each would drop, of those covering a buried object and of the unmatched
+const rules: Record<string, { buried: number; unmatched: number; air: number }> = {};
+const fresnel = (z: number, v: number, f: number) => Math.sqrt(((1000 * v) / f) * Math.max(z, 0) / 2);
+const byClass: Record<string, Record<string, number>> = {};
+const strengths: Record<string, number[]> = { buried: [], unmatched: [] };
+for (const scene of scenes) {
+  const out = join(dir, `${scene}-out`), site = join(dir, `${scene}-site`);
+  const truthFile = join(site, 'truth.json');
+  if (!existsSync(truthFile) || !existsSync(join(out, 'targets.geojson'))) continue;
+  const { report, truth } = scoreFolder(out, truthFile);
+  const t = JSON.parse(readFileSync(truthFile, 'utf8'));
+  const run = JSON.parse(readFileSync(join(out, 'run.json'), 'utf8'));
+  const nearSurfaceM: number = run.screening?.nearSurfaceM ?? run.nearSurfaceM ?? 0;
+  const crs = resolveCrs(truth.crs, { file: truthFile, field: 'crs' });
+  const from = (lon: number, lat: number) => pointFromWgs84(crs, lon, lat) as XY;
+  const tg = JSON.parse(readFileSync(join(out, 'targets.geojson'), 'utf8'));
+  const props = new Map<string, Record<string, any>>(tg.features.map((f: any) => [String(f.properties.id), f.properties]));
+  const kinds = new Map(report.targets.map((r) => [r.id, r.kind]));
+  for (const [id, kind] of kinds) {
+    const p = props.get(id);
+    if (p && (kind === 'buried' || kind === 'unmatched')) strengths[kind]!.push(p.strengthDb ?? NaN);
+  }
+  const xs = t.lines.flatMap((l: any) => [l.start[0], l.end[0]]), ys = t.lines.flatMap((l: any) => [l.start[1], l.end[1]]);
+  const span = Math.hypot(Math.max(...xs) - Math.min(...xs), Math.max(...ys) - Math.min(...ys));
+  const rows: string[] = [];
+  const vel = JSON.parse(readFileSync(join(out, 'velocity.json'), 'utf8'));
+  const v: number = vel.site.velocityMPerNs, f: number = t.antenna.frequencyMHz;
+  const azs: number[] = t.lines.map((l: any) => Math.atan2(l.end[0] - l.start[0], l.end[1] - l.start[1]) * 180 / Math.PI);
+  // line spacing: median distance from each line's midpoint to the nearest other line of its direction
+  const mids = t.lines.map((l: any) => [(l.start[0] + l.end[0]) / 2, (l.start[1] + l.end[1]) / 2]);
+  const sp: number[] = [];
+  t.lines.forEach((_l: any, i: number) => {
+    let best = Infinity;
+    t.lines.forEach((m: any, j: number) => {
+      if (i === j) return;
+      const da = Math.abs((((azs[i]! - azs[j]!) % 180) + 180) % 180);
+      if (Math.min(da, 180 - da) > 10) return;
+      best = Math.min(best, segDist(mids[i]![0], mids[i]![1], m.start, m.end).d);
+    });
+    if (Number.isFinite(best)) sp.push(best);
+  });
+  sp.sort((a, b) => a - b);
+  const spacing = sp[Math.floor(sp.length / 2)] ?? 1;
+  const anomalyProps = new Map<string, any>(JSON.parse(readFileSync(join(out, 'anomalies.geojson'), 'utf8')).features.map((q: any) => [String(q.properties.id), q.properties]));
+  for (const r of report.targets) {
+    const a = anomalyProps.get(r.id);
+    if (!a) continue;
+    const members = a.members as { topM: number; bottomM: number }[];
+    const fired: string[] = [];
+    // the near-surface rule with a stricter share of a slice inside the zone (the classifier takes half)
+    for (const fr of [0, 0.25]) if (a.depthTopM < nearSurfaceM && !members.some((m) => m.topM >= nearSurfaceM - fr * (m.bottomM - m.topM))) fired.push(`nearSurface${fr}`);
+    const angle = Math.min(...azs.map((az) => { const d = Math.abs((((a.directionDeg - az) % 180) + 180) % 180); return Math.min(d, 180 - d); }));
+    const rf = fresnel(0.5 * (a.depthTopM + a.depthBottomM), v, f);
+    if (a.kind === 'linear' && a.widthM <= spacing && 2 * rf - spacing > a.widthM) fired.push('narrowStripAnyDirection');
+    if (a.widthM < rf) fired.push('narrowerThanFresnel');
+    const nSl = new Set(members.map((m: any) => m.slice ?? m.topM)).size;
+    const pointSize = 2 * rf + spacing + 0.1;
+    if (a.kind !== 'linear' && a.lengthM <= pointSize && nSl <= 2) fired.push('pointSized2');
+    if (a.kind !== 'linear' && a.lengthM <= pointSize && nSl <= 3) fired.push('pointSized3');
+    if (a.kind !== 'linear' && a.lengthM <= pointSize) fired.push('pointSizedAny');
+    if (a.strengthDb < 10) fired.push('weakerThan10dB');
+    if (process.env.RULE && fired.includes(process.env.RULE)) console.log(`    ${process.env.RULE} ${r.kind} ${r.kind === 'buried' ? r.matches : ''} ${r.id} ${a.class} z ${a.depthTopM.toFixed(2)}-${a.depthBottomM.toFixed(2)} L ${a.lengthM?.toFixed(1)} W ${a.widthM?.toFixed(2)} angle ${angle.toFixed(0)} rF ${rf.toFixed(2)} s ${spacing.toFixed(2)} ${a.strengthDb} dB`);
+    for (const k of fired) { const q = (rules[k] ??= { buried: 0, unmatched: 0, air: 0 }); q[r.kind]++; }
+  }
+  const count: Record<string, number> = {};
+  for (const r of report.targets) {
+    if (r.kind !== 'unmatched') continue;
+    const p = props.get(r.id)!;
+    const anom = anomalyProps.get(r.id) ?? p;
+    const [x, y] = from(p.centroid[0], p.centroid[1]);
+    const top = p.depthTopM as number, bottom = p.depthBottomM as number;
+    const tol = (z: number) => Math.max(0.25, 0.25 * z);
+    let cause = 'other';
+    const stoneNear = t.clutter.some((c: number[]) => Math.hypot(c[0]! - x, c[1]! - y) < 0.5 && c[2]! >= top - tol(c[2]!) && c[2]! <= bottom + tol(c[2]!));
+    if (top < nearSurfaceM) cause = stoneNear ? 'ns-stone' : 'near-surface';
+    else {
+      for (const b of t.buried) {
+        const { d, z } = b.center ? { d: Math.hypot(x - b.center[0], y - b.center[1]), z: b.center[2] } : (() => { const s = segDist(x, y, b.from, b.to); return { d: s.d, z: b.from[2] + s.t * (b.to[2] - b.from[2]) }; })();
+        const half = b.sizeM ? Math.max(...b.sizeM) / 2 : b.radiusM;
+        if (d <= 0.5 + half && top > b.bottomDepthM + tol(z) * 0) { cause = cause === 'other' ? 'echo' : cause; }
+        else if (d <= 1.5 + half && top <= z + tol(z) && bottom >= z - tol(z)) cause = cause === 'other' ? 'near-object' : cause;
+      }
+      if (cause === 'other')
+        for (const l of t.soil.layers.slice(1)) {
+          const dz = Math.tan((l.dipDeg * Math.PI) / 180) * span;
+          if (top <= l.topM + dz + tol(l.topM) && bottom >= l.topM - dz - tol(l.topM)) cause = 'layer';
+        }
+      if (cause === 'other' && t.clutter.some((c: number[]) => Math.hypot(c[0]! - x, c[1]! - y) < 0.5 && c[2]! >= top - tol(c[2]!) && c[2]! <= bottom + tol(c[2]!))) cause = 'stone';
+      if (cause === 'other' && (t.roots ?? []).some((q: number[]) => segDist(x, y, q.slice(0, 2), q.slice(3, 5)).d < 0.5)) cause = 'root';
+    }
+    count[cause] = (count[cause] ?? 0) + 1;
+    totals[cause] = (totals[cause] ?? 0) + 1;
+    (byClass[p.class ?? 'none'] ??= {})[cause] = (byClass[p.class ?? 'none']![cause] ?? 0) + 1;
+    rows.push(`  ${r.id} ${String(p.class).padEnd(9)} ${cause.padEnd(12)} z ${top.toFixed(2)}-${bottom.toFixed(2)} sl ${(anom.slices ?? []).length} ${String(anom.kind).padEnd(7)} L ${Number(anom.lengthM ?? 0).toFixed(1)} W ${Number(anom.widthM ?? 0).toFixed(1)} A ${Number(anom.areaM2 ?? 0).toFixed(1)} ${Number(p.strengthDb).toFixed(1)} dB score ${Number(anom.peakScore).toFixed(1)}`);
+  }
+  const nT = report.targets.length;
+  console.log(`${scene}: ${nT} targets, ${report.targets.filter((q) => q.kind === 'buried').length} buried, ${rows.length} unmatched: ${JSON.stringify(count)} (near-surface ${nearSurfaceM.toFixed(2)} m, K ${t.soil.permittivity}, ${t.antenna.frequencyMHz} MHz, clutter ${t.clutter.length}, layers ${t.soil.layers.length - 1})`);
+  if (process.env.VERBOSE) console.log(rows.join('\n'));
+}
+console.log('rules (targets each would drop):', JSON.stringify(rules));
+console.log('unmatched targets by cause:', JSON.stringify(totals));
+for (const [c, v] of Object.entries(byClass)) console.log(`  ${c}: ${JSON.stringify(v)}`);
+const q = (a: number[], f: number) => { const s = a.filter(Number.isFinite).sort((p, r) => p - r); return s[Math.floor(f * (s.length - 1))]?.toFixed(1); };
+for (const k of ['buried', 'unmatched']) console.log(`strengthDb of ${k} targets: n ${strengths[k]!.length}, q10 ${q(strengths[k]!, 0.1)} q25 ${q(strengths[k]!, 0.25)} q50 ${q(strengths[k]!, 0.5)} q75 ${q(strengths[k]!, 0.75)} q90 ${q(strengths[k]!, 0.9)}`);
