@@ -181,11 +181,25 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   const velocities = new Float64Array(nV);
   for (let k = 0; k < nV; k++) velocities[k] = vMin * (vMax / vMin) ** (k / (nV - 1));
 
+  // Traces within x0 -+ ap: the first at or past x0 - ap (at most the last), the last at or before x0 + ap
+  // (at least the first). `along` never decreases, so by bisection (the scan calls this for every curve).
   const traceRange = (x0: number, ap: number): [number, number] => {
+    const lo = x0 - ap;
     let a = 0;
-    while (a < nTraces - 1 && along[a]! < x0 - ap) a++;
+    let r = nTraces - 1;
+    while (a < r) {
+      const m = (a + r) >> 1;
+      if (along[m]! < lo) a = m + 1;
+      else r = m;
+    }
+    const hi = x0 + ap;
+    let l = 0;
     let b = nTraces - 1;
-    while (b > 0 && along[b]! > x0 + ap) b--;
+    while (l < b) {
+      const m = (l + b + 1) >> 1;
+      if (along[m]! > hi) b = m - 1;
+      else l = m;
+    }
     return [a, b];
   };
   const apertureOf = (z: number) => Math.min(maxAp, Math.max(5 * spacing, z * tanA));
