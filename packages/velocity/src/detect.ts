@@ -209,20 +209,31 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   // weaker flank favours curves that follow both flanks of a real hyperbola.
   const left = new Float32Array(nTraces);
   const right = new Float32Array(nTraces);
-  const curveScore = (x0: number, z: number, v: number, ap: number): number => {
+  // With `floor`, a score that cannot exceed it is returned as `floor` itself, decided by counting the
+  // values above it (the median of n values is <= floor when fewer than n / 2 exceed it, and > floor when
+  // more than n / 2 do), without the selections: the scan only needs the scores above its threshold.
+  const curveScore = (x0: number, z: number, v: number, ap: number, floor = -Infinity): number => {
     const [a, b] = traceRange(x0, ap);
     const stride = Math.max(1, Math.ceil((b - a + 1) / 120));
     const skip = 1.5 * spacing;
     let nl = 0;
     let nr = 0;
+    let al = 0;
+    let ar = 0;
     for (let j = a; j <= b; j += stride) {
       const d = along[j]! - x0;
       if (Math.abs(d) < skip) continue;
       const u = at(j, sampleOf(hyperbolaTime(along[j]!, x0, z, v, sep)));
-      if (d < 0) left[nl++] = u;
-      else right[nr++] = u;
+      if (d < 0) {
+        left[nl++] = u;
+        if (u > floor) al++;
+      } else {
+        right[nr++] = u;
+        if (u > floor) ar++;
+      }
     }
     if (nl < 2 || nr < 2) return 0;
+    if (2 * al < nl || 2 * ar < nr) return floor;
     return Math.min(median(left.subarray(0, nl)), median(right.subarray(0, nr)));
   };
 
@@ -403,7 +414,8 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
         const v = velocities[k]!;
         const z = apexDistance(t0, v, sep);
         if (!(z > 0)) continue;
-        const sc = curveScore(along[j]!, z, v, apertureOf(z));
+        // only scores above pickTh / 2 make starts (and a lower one never outranks them): `floor`
+        const sc = curveScore(along[j]!, z, v, apertureOf(z), pickTh / 2);
         if (sc > scoreV[k]!) {
           scoreV[k] = sc;
           xV[k] = along[j]!;
