@@ -1,5 +1,5 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { medianInPlace, selectInPlace } from '@lamina/stats';
+import { selectInPlace } from '@lamina/stats';
 import { alongTrackM, outputFor, withData } from './line-util';
 
 export interface BackgroundOptions {
