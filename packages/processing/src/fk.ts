@@ -456,9 +456,8 @@ export interface FkLineOptions {
   /** Dip limit: components steeper than this (at the local velocity) are dropped. @default 60 */
   maxAngleDeg?: number;
   /**
-   * Kirchhoff's half-aperture, m, as a dip limit: the angle is limited to min(maxAngleDeg, atan(apertureM
-   * / z)), the angle Kirchhoff's summation reaches at depth z; phase-shift at each depth, Stolt at
-   * mid-record depth (`stoltDipLimit`). @default Infinity
+   * Kirchhoff's half-aperture, m, as a dip limit: at depth z the angle is limited to min(maxAngleDeg,
+   * atan(apertureM / z)), the angle Kirchhoff's summation reaches there. @default Infinity
    */
   apertureM?: number;
   /** Fraction of the angle range below maxAngleDeg tapered by a cosine. @default 0.2 */

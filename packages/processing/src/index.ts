@@ -41,7 +41,7 @@ export {
   migrate,
 } from './migration';
 export { type KirchhoffOptions, halfDerivative, kirchhoffMigrate } from './kirchhoff';
-export { type StoltOptions, type StoltKernelOptions, stoltDipLimit, stoltKernel, stoltMigrate, stoltModel } from './stolt';
+export { type StoltOptions, type StoltKernelOptions, stoltKernel, stoltMigrate, stoltModel } from './stolt';
 export { type PhaseShiftOptions, type PhaseShiftKernelOptions, phaseShiftKernel, phaseShiftMigrate, phaseShiftModel } from './phase-shift';
 export { type AirObjects, type AirEventOptions, type AirEventResult, type AirEventKernelOptions, airEventMask, airEventKernel, removeAirEvents } from './air-events';
 export { type MigrationLayer, type TraceSlots, traceSlots, bistaticTime, dipWeight } from './fk';

@@ -17,11 +17,7 @@ export interface MigrationOptions {
   method?: MigrationMethodOption;
   /** Antenna separation along the line, m. @default 0 */
   separationM?: number;
-  /**
-   * Largest half-aperture, m: Kirchhoff's summation; as a dip limit min(maxAngle, atan(apertureM / z)),
-   * phase-shift's at each depth z, Stolt's at mid-record depth for the whole line (`stoltDipLimit`).
-   * @default 2
-   */
+  /** Largest half-aperture, m: Kirchhoff's summation; the f-k methods' dip limit min(maxAngle, atan(apertureM / z)) at depth z. @default 2 */
   apertureM?: number;
   /** Largest angle from the vertical: Kirchhoff's summation angle, the f-k methods' dip limit. @default 60 */
   maxAngleDeg?: number;

@@ -1,5 +1,6 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { dipWeigher, fk2d, fkLine, halfOrderFilter, ifk2d, kxOf, paddedSizes, shiftSpectrum, type FkLineOptions } from './fk';
+import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, packTracePair, paddedSizes, shiftSpectrum, type FkLineOptions } from './fk';
+import { fftOfSize } from './fft';
 
 export interface StoltOptions extends FkLineOptions {
   /** Constant velocity of the ground, m/ns. */
@@ -14,7 +15,7 @@ export interface StoltKernelOptions {
   taper?: number;
   /** Run the inverse (Stolt modelling, demigration). @default false */
   inverse?: boolean;
-  /** Kirchhoff's half-aperture, m, as one dip limit for the line (see `stoltDipLimit`). @default Infinity */
+  /** Kirchhoff's half-aperture as a depth-dependent dip limit (see `apertureNodes`). @default Infinity */
   apertureM?: number;
   /** Half-integral of the input before migration (half-derivative of the output after modelling). @default false */
   halfIntegral?: boolean;
@@ -118,28 +119,61 @@ export function stoltKernel(
 ): Float32Array {
   const v = velocityMPerNs;
   if (!(v > 0)) throw new Error(`migration: velocity must be > 0 m/ns, found ${v}`);
-  const angle = stoltDipLimit(nSamples, dtNs, timeZeroNs, v / 2, options.maxAngleDeg ?? 60, options.apertureM ?? Infinity);
-  return stoltMap(data, nTraces, nSamples, dtNs, dxM, timeZeroNs, v, options, angle, out);
+  const maxAngleDeg = options.maxAngleDeg ?? 60;
+  const nodes = apertureNodes(nSamples, dtNs, timeZeroNs, v / 2, maxAngleDeg, options.apertureM ?? Infinity);
+  if (!options.inverse) return stoltMaps(data, nTraces, nSamples, dtNs, dxM, timeZeroNs, v, options, nodes.angles, nodes.blend, out);
+  // modelling: each depth range of the image through the dip limit of its node, summed
+  if (nodes.angles.length === 1) return stoltMaps(data, nTraces, nSamples, dtNs, dxM, timeZeroNs, v, options, nodes.angles, nodes.blend, out);
+  const ones = [new Float64Array(nSamples).fill(1)];
+  const sum = new Float64Array(nTraces * nSamples);
+  const part = new Float64Array(nTraces * nSamples);
+  const img = new Float32Array(nTraces * nSamples);
+  for (let w = 0; w < nodes.angles.length; w++) {
+    const b = nodes.blend[w] as Float64Array;
+    for (let i = 0; i < nTraces; i++) for (let k = 0; k < nSamples; k++) part[i * nSamples + k] = (b[k] as number) * (data[i * nSamples + k] as number);
+    stoltMaps(part, nTraces, nSamples, dtNs, dxM, timeZeroNs, v, options, [nodes.angles[w] as number], ones, img);
+    for (let q = 0; q < sum.length; q++) sum[q] = (sum[q] as number) + (img[q] as number);
+  }
+  for (let q = 0; q < sum.length; q++) out[q] = sum[q] as number;
+  return out;
 }
 
 /**
- * Kirchhoff's aperture as Stolt's one dip limit, degrees. Stolt's operator cannot vary with depth, so a
- * line gets the angle Kirchhoff's summation reaches half-way down the record, min(maxAngle,
- * atan(apertureM / z_mid)), z_mid = v_e (t_end - timeZero) / 2: shallower it passes a little less than
- * Kirchhoff, deeper a little more (phase-shift applies the depth-dependent limit exactly, at no extra cost).
- * One limit, not a blend of several, because each limit costs a full inverse transform.
+ * Kirchhoff's aperture as a dip limit for Stolt, whose operator cannot vary with depth: the limit at
+ * vertical time tau is min(maxAngle, atan(apertureM / z)), z = v tau / 2 (the angle Kirchhoff's summation
+ * reaches there). Images are made for a few limits (nodes no more than 0.1 apart in sin(theta), below the
+ * width of the default taper) and blended along tau, linearly in sin(theta). One node when the aperture
+ * never binds.
  */
-export function stoltDipLimit(nSamples: number, dtNs: number, timeZeroNs: number, ve: number, maxAngleDeg: number, apertureM: number): number {
-  const zMid = (ve * ((nSamples - 1) * dtNs - timeZeroNs)) / 2;
-  if (!(zMid > 0) || !Number.isFinite(apertureM)) return maxAngleDeg;
-  return Math.min(maxAngleDeg, (Math.atan(apertureM / zMid) * 180) / Math.PI);
+function apertureNodes(nSamples: number, dtNs: number, timeZeroNs: number, ve: number, maxAngleDeg: number, apertureM: number): { angles: number[]; blend: Float64Array[] } {
+  const thMax = (maxAngleDeg * Math.PI) / 180;
+  const sinAt = (k: number) => {
+    const z = ve * (k * dtNs - timeZeroNs);
+    return Math.sin(z > 0 ? Math.min(thMax, Math.atan(apertureM / z)) : thMax);
+  };
+  const sMax = Math.sin(thMax);
+  const sMin = sinAt(nSamples - 1);
+  if (!(sMax - sMin > 1e-6)) return { angles: [maxAngleDeg], blend: [new Float64Array(nSamples).fill(1)] };
+  const n = Math.ceil((sMax - sMin) / 0.1) + 1;
+  const sins = Array.from({ length: n }, (_, w) => sMax - ((sMax - sMin) * w) / (n - 1));
+  const blend = sins.map(() => new Float64Array(nSamples));
+  for (let k = 0; k < nSamples; k++) {
+    const s = sinAt(k);
+    const f = Math.min(n - 1, Math.max(0, ((sMax - s) / (sMax - sMin)) * (n - 1)));
+    const w0 = Math.min(n - 2, Math.floor(f));
+    (blend[w0] as Float64Array)[k] = 1 - (f - w0);
+    (blend[w0 + 1] as Float64Array)[k] = f - w0;
+  }
+  return { angles: sins.map((x) => (Math.asin(x) * 180) / Math.PI), blend };
 }
 
 /**
- * The Stolt map with the dip limit `angleDeg` into `out`: the spectrum interpolated along omega, times
- * the Jacobian and the dip weight, back across traces and in time (`ifk2d`).
+ * The Stolt map with one dip limit per node, blended along tau (`blend[w][k]` the weight of node w at
+ * sample k) into `out`. The blend commutes with the transforms, so the interpolation along omega (the
+ * costly part) is done once and kept bin-major, times the Jacobian, with its sin(theta); each node then weights
+ * it, transforms it back across traces and in time, and adds its tau range to the sum.
  */
-function stoltMap(
+function stoltMaps(
   data: ArrayLike<number>,
   nTraces: number,
   nSamples: number,
@@ -148,13 +182,15 @@ function stoltMap(
   timeZeroNs: number,
   v: number,
   options: StoltKernelOptions,
-  angleDeg: number,
+  anglesDeg: readonly number[],
+  blend: readonly Float64Array[],
   out: Float32Array,
 ): Float32Array {
   const taper = Math.min(1, Math.max(0, options.taper ?? 0.2));
   const inverse = options.inverse ?? false;
   const ve = v / 2;
-  const { nx, nt } = paddedSizes(nTraces, nSamples, dtNs, dxM, ve, angleDeg, 2);
+  const aMax = Math.max(...anglesDeg);
+  const { nx, nt } = paddedSizes(nTraces, nSamples, dtNs, dxM, ve, aMax, 2);
   const nw = nt / 2 + 1;
   const dw = (2 * Math.PI) / (nt * dtNs);
   const tc = (nt * dtNs) / 4;
@@ -179,11 +215,10 @@ function stoltMap(
     fRe[j] = re;
     fIm[j] = im;
   }
-  // the interpolated spectrum times the Jacobian and the dip weight, kx-major as `fk2d` gives it
-  const val = new Float64Array(2 * nx * nw);
-  const weight = dipWeigher(angleDeg, taper);
-  // dipWeight is 1 up to the taper: only the band between needs the weigher
-  const s1 = Math.sin((angleDeg * Math.PI * (1 - taper)) / 180);
+  // the interpolated spectrum times the Jacobian, bin-major (a bin's wavenumbers contiguous for the transform across traces)
+  const val = new Float64Array(2 * nb * nx);
+  const sinT = new Float64Array(nb * nx);
+  const outer = dipWeigher(aMax, taper);
   // bins the interpolation can reach from [lo, hi] (negative bins mirror positive ones)
   const reach = (u: number) => u - HALF_TAPS <= hi && (u + HALF_TAPS >= lo || HALF_TAPS - u >= lo);
   const ip = new Float64Array(2);
@@ -211,22 +246,95 @@ function stoltMap(
         jac = wj === 0 ? 1 : wj / wt;
         sin = wj === 0 ? 0 : a / wj;
       }
-      if (jac === 0 || u > nw - 1 || !reach(u)) continue;
-      const g = sin <= s1 ? jac : jac * weight(sin);
-      if (g === 0) continue;
+      // the widest limit passes what any node passes (dipWeight grows with the limit)
+      if (jac === 0 || u > nw - 1 || !reach(u) || outer(sin) === 0) continue;
       interpolate(spec, row, rowc, nw, u, ip);
       const re = ip[0] as number;
       const im = ip[1] as number;
-      const q = row + 2 * j;
-      val[q] = (re * (fRe[j] as number) - im * (fIm[j] as number)) * g;
-      val[q + 1] = (re * (fIm[j] as number) + im * (fRe[j] as number)) * g;
+      const q = j * nx + ix;
+      val[2 * q] = (re * (fRe[j] as number) - im * (fIm[j] as number)) * jac;
+      val[2 * q + 1] = (re * (fIm[j] as number) + im * (fRe[j] as number)) * jac;
+      sinT[q] = sin;
       if (j > jHi) jHi = j;
     }
   }
-  if (jHi < 0) return out.fill(0);
-  return ifk2d(val, nTraces, nSamples, nx, nt, out, 0, jHi);
+  return blendNodes({ val, sinT, nx, nt, jHi }, nTraces, nSamples, anglesDeg, blend, taper, out);
 }
 
+/** The interpolated spectrum of `stoltMaps`: bin-major values (times the Jacobian) and sin(theta), bins 0..jHi. */
+interface StoltSpectrum {
+  val: Float64Array;
+  sinT: Float64Array;
+  nx: number;
+  nt: number;
+  jHi: number;
+}
+
+/** Each node's dip weights on the spectrum, back across traces and in time, its tau range blended into `out`. */
+function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, anglesDeg: readonly number[], blend: readonly Float64Array[], taper: number, out: Float32Array): Float32Array {
+  const { val, sinT, nx, nt, jHi } = sp;
+  const nw = nt / 2 + 1;
+  const acc = new Float64Array(nTraces * nSamples);
+  const fx = fftOfSize(nx);
+  const ft = fftOfSize(nt);
+  const nm = jHi + 1;
+  // a block of bins across traces at a time, written trace-major (each trace's bins contiguous for its time transform)
+  const B = 8;
+  const cols = Array.from({ length: B }, () => new Float64Array(2 * nx));
+  const res = new Float64Array(2 * nx);
+  const ht = new Float64Array(2 * nTraces * nm);
+  const full = new Float64Array(2 * nt);
+  const back = new Float64Array(2 * nt);
+  for (let w = 0; w < anglesDeg.length; w++) {
+    const b = blend[w] as Float64Array;
+    let k0 = 0;
+    while (k0 < nSamples && b[k0] === 0) k0++;
+    let k1 = nSamples - 1;
+    while (k1 >= k0 && b[k1] === 0) k1--;
+    if (k1 < k0 || jHi < 0) continue;
+    const weight = dipWeigher(anglesDeg[w] as number, taper);
+    // dipWeight is 1 up to the taper: only the band between needs the weigher
+    const s1 = Math.sin(((anglesDeg[w] as number) * Math.PI * (1 - taper)) / 180);
+    for (let m0 = 0; m0 < nm; m0 += B) {
+      const nbk = Math.min(B, nm - m0);
+      for (let c = 0; c < nbk; c++) {
+        const col = cols[c] as Float64Array;
+        const base = (m0 + c) * nx;
+        col.set(val.subarray(2 * base, 2 * (base + nx)));
+        for (let ix = 0; ix < nx; ix++) {
+          const sin = sinT[base + ix] as number;
+          if (sin <= s1) continue;
+          const g = weight(sin);
+          col[2 * ix] = (col[2 * ix] as number) * g;
+          col[2 * ix + 1] = (col[2 * ix + 1] as number) * g;
+        }
+        fx.inverseTransform(res, col);
+        col.set(res);
+      }
+      for (let i = 0; i < nTraces; i++) {
+        const o = 2 * (i * nm + m0);
+        for (let c = 0; c < nbk; c++) {
+          const col = cols[c] as Float64Array;
+          ht[o + 2 * c] = col[2 * i] as number;
+          ht[o + 2 * c + 1] = col[2 * i + 1] as number;
+        }
+      }
+    }
+    // in time, two real traces per complex inverse: ifft(A + iB) = a + ib for Hermitian A, B (bins past jHi stay 0)
+    for (let i = 0; i < nTraces; i += 2) {
+      const pair = i + 1 < nTraces;
+      const oa = 2 * i * nm;
+      const ob = 2 * (i + 1) * nm;
+      packTracePair(ht, oa, pair ? ob : -1, 0, nm - 1, nw, nt, full);
+      ft.inverseTransform(back, full);
+      const o = i * nSamples;
+      for (let k = k0; k <= k1; k++) acc[o + k] = (acc[o + k] as number) + (b[k] as number) * (back[2 * k] as number);
+      if (pair) for (let k = k0; k <= k1; k++) acc[o + nSamples + k] = (acc[o + nSamples + k] as number) + (b[k] as number) * (back[2 * k + 1] as number);
+    }
+  }
+  for (let q = 0; q < acc.length; q++) out[q] = acc[q] as number;
+  return out;
+}
 /**
  * Stolt migration of a common-offset line (or with `inverse`, its modelling): the line is resampled from
  * bistatic to zero-offset time, migrated by `stoltKernel` on regular slots of its mean trace spacing, and

@@ -15,7 +15,6 @@ import {
   phaseShiftMigrate,
   phaseShiftModel,
   runRecipe,
-  stoltDipLimit,
   stoltKernel,
   stoltMigrate,
   stoltModel,
@@ -137,38 +136,22 @@ describe('focusing depends on the velocity: soil against air (issue #18)', () =>
   });
 });
 
-describe('the aperture as a dip limit: one per line for Stolt, per depth step for phase-shift', () => {
-  const line = makeLine(301, 600, DT, 0.02, TZ);
-  for (const [x, z] of [
-    [1, 0.4],
-    [3, 1.5],
-    [4.5, 2.5],
-  ] as const)
-    addDiffraction(line, x, z, V, S, F);
-  const layers = [{ topM: 0, velocityMPerNs: V }];
-  // Kirchhoff's angle half-way down the record: atan(aperture / z_mid), z_mid = (v / 2) (t_end - t0) / 2
-  const zMid = ((V / 2) * ((600 - 1) * DT - TZ)) / 2;
-  const angleDeg = (Math.atan(1 / zMid) * 180) / Math.PI;
-
-  it("Stolt's aperture is the constant dip limit of Kirchhoff's angle at mid-record depth (phase-shift with that limit within 1 % RMS)", () => {
-    expect(stoltDipLimit(600, DT, TZ, V / 2, 60, 1)).toBeCloseTo(angleDeg, 10);
-    expect(stoltDipLimit(600, DT, TZ, V / 2, 30, 1)).toBe(30);
-    expect(stoltDipLimit(600, DT, TZ, V / 2, 60, Infinity)).toBe(60);
-    const st = stoltMigrate(line, { velocityMPerNs: V, separationM: S, apertureM: 1 });
-    const ps = phaseShiftMigrate(line, { layers, separationM: S, maxAngleDeg: angleDeg });
-    // the same continuous operator (as without an aperture, below 1 %)
-    expect(relRms(st.data, ps.data)).toBeLessThan(0.01);
-  });
-
-  it('both narrow the image; Stolt\'s one limit stays within 35 % RMS of the exact per-depth limit', () => {
+describe('the aperture as a depth-dependent dip limit', () => {
+  it("Stolt's blend of limits agrees with phase-shift's exact per-step limit within 10 % RMS; both narrow the image", () => {
+    const line = makeLine(301, 600, DT, 0.02, TZ);
+    for (const [x, z] of [
+      [1, 0.4],
+      [3, 1.5],
+      [4.5, 2.5],
+    ] as const)
+      addDiffraction(line, x, z, V, S, F);
+    const layers = [{ topM: 0, velocityMPerNs: V }];
     const st = stoltMigrate(line, { velocityMPerNs: V, separationM: S, apertureM: 1 });
     const ps = phaseShiftMigrate(line, { layers, separationM: S, apertureM: 1 });
     const wide = stoltMigrate(line, { velocityMPerNs: V, separationM: S });
-    const psWide = phaseShiftMigrate(line, { layers, separationM: S });
+    // measured here: 5 % (the blend is linear in sin(theta) between limits 0.1 apart)
+    expect(relRms(st.data, ps.data)).toBeLessThan(0.1);
     expect(relRms(st.data, wide.data)).toBeGreaterThan(0.1);
-    expect(relRms(ps.data, psWide.data)).toBeGreaterThan(0.1);
-    // measured here: 32 % (the shallow point loses dips beyond 36 degrees, the deep one keeps some past 22)
-    expect(relRms(st.data, ps.data)).toBeLessThan(0.35);
   });
 });
 
