@@ -1,5 +1,5 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { medianInPlace } from '@lamina/stats';
+import { selectInPlace } from '@lamina/stats';
 import { alongTrackM, outputFor, withData } from './line-util';
 
 export interface BackgroundOptions {
@@ -71,16 +71,27 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
   const centres: number[] = [];
   for (let c = 0; c < nTraces; c += step) centres.push(c);
   if (centres[centres.length - 1] !== nTraces - 1) centres.push(nTraces - 1);
-  const every = 1;
-  const col = new Float32Array(win);
+  // the window transposed (sample-major), read trace by trace; each sample's median selected in its
+  // contiguous column by index range (medianInPlace's rule, without a subarray per sample)
+  const block = new Float64Array(win * nSamples);
   const bg = centres.map((c) => {
     const a = Math.max(0, Math.min(nTraces - win, c - Math.floor(win / 2)));
     const b = Math.min(nTraces, a + win);
+    const m = b - a;
+    for (let t = a; t < b; t++) {
+      const o = t * nSamples;
+      for (let s = 0; s < nSamples; s++) block[s * m + t - a] = data[o + s] as number;
+    }
     const trace = new Float32Array(nSamples);
     for (let s = 0; s < nSamples; s++) {
-      let m = 0;
-      for (let t = a; t < b; t += every) col[m++] = data[t * nSamples + s] as number;
-      trace[s] = medianInPlace(col.subarray(0, m));
+      const lo = s * m;
+      const hi = selectInPlace(block, lo + (m >> 1), lo, lo + m - 1);
+      if (m % 2) trace[s] = hi;
+      else {
+        let below = -Infinity;
+        for (let i = lo; i < lo + (m >> 1); i++) if ((block[i] as number) > below) below = block[i] as number;
+        trace[s] = 0.5 * (below + hi);
+      }
     }
     return trace;
   });

@@ -118,17 +118,23 @@ export function hilbertEnvelopePair(
 
 /**
  * Envelope of every trace of a line. Traces are zero-padded to the next power of two of `nSamples`
- * (at least) before the FFT; `out` may be `line.data`.
+ * (at least) before the FFT, two per transform (`hilbertEnvelopePair`, equal to `hilbertEnvelope` to
+ * float rounding); `out` may be `line.data`.
  */
 export function envelope(line: RadarLine, options: { padTo?: number } = {}, out?: Float32Array): RadarLine {
   const { nSamples, nTraces } = line;
   const res = out ?? new Float32Array(line.data.length);
   const ws = hilbertWorkspace(nSamples, options.padTo);
-  const env = new Float64Array(nSamples);
-  for (let t = 0; t < nTraces; t++) {
-    const tr = line.data.subarray(t * nSamples, (t + 1) * nSamples);
-    hilbertEnvelope(tr, { workspace: ws }, env);
-    res.set(env, t * nSamples);
+  const ea = new Float64Array(nSamples);
+  const eb = new Float64Array(nSamples);
+  // two traces per transform pair (`hilbertEnvelopePair`); `out` may be `line.data`: each pair is read before it is written
+  for (let t = 0; t < nTraces; t += 2) {
+    const two = t + 1 < nTraces;
+    const a = line.data.subarray(t * nSamples, (t + 1) * nSamples);
+    const b = two ? line.data.subarray((t + 1) * nSamples, (t + 2) * nSamples) : undefined;
+    hilbertEnvelopePair(a, b, ws, ea, eb);
+    res.set(ea, t * nSamples);
+    if (two) res.set(eb, (t + 1) * nSamples);
   }
   return withData(line, res);
 }

@@ -1,7 +1,7 @@
 // Shared pieces of the frequency-domain migrations (stolt.ts, phase-shift.ts): the padded 2D transform of a
 // line, the dip limit, the trace-slot rule and the bistatic-to-zero-offset time map.
 import type { RadarLine } from '@lamina/radar-data';
-import { fftOfSize, nextPow2 } from './fft';
+import { fftOfSize, nextFastSize, nextPow2 } from './fft';
 import { alongTrackM, outputFor, withData } from './line-util';
 import { keys } from './time-zero';
 
@@ -13,7 +13,8 @@ export interface MigrationLayer {
 
 /**
  * Forward 2D transform of `nTraces` traces of `nSamples` (trace-major), zero-padded to `nx` traces and
- * `nt` samples: real FFT in time (e^{-i omega t}, bins m = 0..nt/2), then complex FFT across traces.
+ * `nt` samples (`nt` even): FFT in time (e^{-i omega t}, bins m = 0..nt/2; two real traces per complex
+ * transform), then complex FFT across traces.
  * Result: `spec[2 * (ix * (nt/2 + 1) + m)]` (re, im), kx-major so that a row is one wavenumber.
  * Only the bins [lo, hi] of `band(power, energyTolerance)` are transformed across traces; the others are
  * zero (with `energyTolerance` 0, every bin with energy).
@@ -29,15 +30,34 @@ export function fk2d(
   const nw = nt / 2 + 1;
   const spec = new Float64Array(2 * nx * nw);
   const ft = fftOfSize(nt);
-  const real = new Float64Array(nt);
+  const pair = new Float64Array(2 * nt);
   const cplx = new Float64Array(2 * nt);
   const power = new Float64Array(nw);
-  for (let i = 0; i < nTraces; i++) {
-    real.fill(0);
-    for (let k = 0; k < nSamples; k++) real[k] = data[i * nSamples + k] as number;
-    ft.realTransform(cplx, real);
-    spec.set(cplx.subarray(0, 2 * nw), 2 * i * nw);
-    for (let m = 0; m < nw; m++) power[m] = (power[m] as number) + (cplx[2 * m] as number) ** 2 + (cplx[2 * m + 1] as number) ** 2;
+  // two real traces a, b per complex transform Z of a + ib: A[m] = (Z[m] + conj Z[-m]) / 2, B[m] = (Z[m] - conj Z[-m]) / 2i
+  for (let i = 0; i < nTraces; i += 2) {
+    const two = i + 1 < nTraces;
+    pair.fill(0);
+    for (let k = 0; k < nSamples; k++) pair[2 * k] = data[i * nSamples + k] as number;
+    if (two) for (let k = 0; k < nSamples; k++) pair[2 * k + 1] = data[(i + 1) * nSamples + k] as number;
+    ft.transform(cplx, pair);
+    const oa = 2 * i * nw;
+    const ob = oa + 2 * nw;
+    for (let m = 0; m < nw; m++) {
+      const c = 2 * ((nt - m) % nt);
+      const zr = cplx[2 * m] as number, zi = cplx[2 * m + 1] as number;
+      const cr = cplx[c] as number, ci = cplx[c + 1] as number;
+      const ar = 0.5 * (zr + cr), ai = 0.5 * (zi - ci);
+      spec[oa + 2 * m] = ar;
+      spec[oa + 2 * m + 1] = ai;
+      let p = ar * ar + ai * ai;
+      if (two) {
+        const br = 0.5 * (zi + ci), bi = -0.5 * (zr - cr);
+        spec[ob + 2 * m] = br;
+        spec[ob + 2 * m + 1] = bi;
+        p += br * br + bi * bi;
+      }
+      power[m] = (power[m] as number) + p;
+    }
   }
   const [lo, hi] = band(power, energyTolerance);
   for (let i = 0; i < nTraces; i++) {
@@ -241,9 +261,11 @@ export function traceSlots(line: RadarLine, metresPerUnit = 1): TraceSlots {
 }
 
 /**
- * Padded transform sizes: time to a power of two >= `timeFactor` x nSamples; distance to a power of two
- * >= nTraces plus the widest lateral reach of the migration operator, z_max tan(maxAngle) (at most
- * nTraces), so that what migration moves past one end does not wrap onto the other.
+ * Padded transform sizes (`sizeOf`, by default the smallest even size with prime factors 2, 3, 5:
+ * `evenFastSize`): time >= `timeFactor` x nSamples; distance >= nTraces plus the widest lateral reach of
+ * the migration operator, z_max tan(maxAngle) (at most nTraces), so that what migration moves past one
+ * end does not wrap onto the other. Phase-shift keeps powers of two (`nextPow2`): with its time factor 1
+ * they are its only time padding.
  */
 export function paddedSizes(
   nTraces: number,
@@ -253,11 +275,17 @@ export function paddedSizes(
   maxHalfVelocity: number,
   maxAngleDeg: number,
   timeFactor: number,
+  sizeOf: (n: number) => number = evenFastSize,
 ): { nx: number; nt: number } {
   const zMax = maxHalfVelocity * nSamples * dtNs;
   const reach = zMax * Math.tan((Math.min(maxAngleDeg, 89) * Math.PI) / 180);
   const pad = Math.min(nTraces, Math.ceil(reach / dxM));
-  return { nx: nextPow2(nTraces + pad), nt: nextPow2(Math.ceil(timeFactor * nSamples)) };
+  return { nx: sizeOf(nTraces + pad), nt: sizeOf(Math.ceil(timeFactor * nSamples)) };
+}
+
+/** Smallest even size >= n with prime factors 2, 3, 5 (the half spectra, nt / 2 + 1 bins, need it even). */
+export function evenFastSize(n: number): number {
+  return 2 * nextFastSize(Math.ceil(n / 2));
 }
 
 /**

@@ -1,5 +1,5 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { fftOfSize } from './fft';
+import { fftOfSize, nextPow2 } from './fft';
 import { band, checkLayers, fk2d, fkLine, halfOrderFilter, ifk2d, kxOf, paddedSizes, shiftSpectrum, type FkLineOptions, type MigrationLayer } from './fk';
 
 export interface PhaseShiftOptions extends FkLineOptions {
@@ -78,7 +78,7 @@ export function phaseShiftKernel(
   const tol = options.energyTolerance ?? 1e-6;
   const nl = layers.length;
   const ve = layers.map((l) => l.velocityMPerNs / 2);
-  const { nx, nt } = paddedSizes(nTraces, nSamples, dtNs, dxM, Math.max(...ve), maxAngleDeg, 1);
+  const { nx, nt } = paddedSizes(nTraces, nSamples, dtNs, dxM, Math.max(...ve), maxAngleDeg, 1, nextPow2);
   const nw = nt / 2 + 1;
   const dw = (2 * Math.PI) / (nt * dtNs);
   const { first, steps } = stepSegments(nSamples, dtNs, timeZeroNs, layers);

@@ -24,10 +24,23 @@ def next_pow2(n):
     return p
 
 
-def padded_sizes(ntr, ns, dt, dx, ve, max_angle, time_factor):
+def next_even_5smooth(n):
+    """Smallest even m >= n whose prime factors are 2, 3, 5 (Stolt's padding)."""
+    m = max(2, n + (n % 2))
+    while True:
+        r = m
+        for p in (2, 3, 5):
+            while r % p == 0:
+                r //= p
+        if r == 1:
+            return m
+        m += 2
+
+
+def padded_sizes(ntr, ns, dt, dx, ve, max_angle, time_factor, size_of=next_pow2):
     reach = ve * ns * dt * math.tan(math.radians(min(max_angle, 89)))
     pad = min(ntr, math.ceil(reach / dx))
-    return next_pow2(ntr + pad), next_pow2(math.ceil(time_factor * ns))
+    return size_of(ntr + pad), size_of(math.ceil(time_factor * ns))
 
 
 def dip_weight(s, max_angle, taper):
@@ -66,7 +79,7 @@ def stolt(d, p):
     ntr, ns, dt, dx, tz = p["nTraces"], p["nSamples"], p["dtNs"], p["dxM"], p["timeZeroNs"]
     ve = p["velocityMPerNs"] / 2
     max_angle, taper, inverse = p.get("maxAngleDeg", 60), p.get("taper", 0.2), p.get("inverse", False)
-    nx, nt = padded_sizes(ntr, ns, dt, dx, ve, max_angle, 2)
+    nx, nt = padded_sizes(ntr, ns, dt, dx, ve, max_angle, 2, next_even_5smooth)
     nw = nt // 2 + 1
     dw = 2 * np.pi / (nt * dt)
     tc = nt * dt / 4

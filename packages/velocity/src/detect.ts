@@ -181,11 +181,25 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   const velocities = new Float64Array(nV);
   for (let k = 0; k < nV; k++) velocities[k] = vMin * (vMax / vMin) ** (k / (nV - 1));
 
+  // Traces within x0 -+ ap: the first at or past x0 - ap (at most the last), the last at or before x0 + ap
+  // (at least the first). `along` never decreases, so by bisection (the scan calls this for every curve).
   const traceRange = (x0: number, ap: number): [number, number] => {
+    const lo = x0 - ap;
     let a = 0;
-    while (a < nTraces - 1 && along[a]! < x0 - ap) a++;
+    let r = nTraces - 1;
+    while (a < r) {
+      const m = (a + r) >> 1;
+      if (along[m]! < lo) a = m + 1;
+      else r = m;
+    }
+    const hi = x0 + ap;
+    let l = 0;
     let b = nTraces - 1;
-    while (b > 0 && along[b]! > x0 + ap) b--;
+    while (l < b) {
+      const m = (l + b + 1) >> 1;
+      if (along[m]! > hi) b = m - 1;
+      else l = m;
+    }
     return [a, b];
   };
   const apertureOf = (z: number) => Math.min(maxAp, Math.max(5 * spacing, z * tanA));
@@ -195,20 +209,31 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   // weaker flank favours curves that follow both flanks of a real hyperbola.
   const left = new Float32Array(nTraces);
   const right = new Float32Array(nTraces);
-  const curveScore = (x0: number, z: number, v: number, ap: number): number => {
+  // With `floor`, a score that cannot exceed it is returned as `floor` itself, decided by counting the
+  // values above it (the median of n values is <= floor when fewer than n / 2 exceed it, and > floor when
+  // more than n / 2 do), without the selections: the scan only needs the scores above its threshold.
+  const curveScore = (x0: number, z: number, v: number, ap: number, floor = -Infinity): number => {
     const [a, b] = traceRange(x0, ap);
     const stride = Math.max(1, Math.ceil((b - a + 1) / 120));
     const skip = 1.5 * spacing;
     let nl = 0;
     let nr = 0;
+    let al = 0;
+    let ar = 0;
     for (let j = a; j <= b; j += stride) {
       const d = along[j]! - x0;
       if (Math.abs(d) < skip) continue;
       const u = at(j, sampleOf(hyperbolaTime(along[j]!, x0, z, v, sep)));
-      if (d < 0) left[nl++] = u;
-      else right[nr++] = u;
+      if (d < 0) {
+        left[nl++] = u;
+        if (u > floor) al++;
+      } else {
+        right[nr++] = u;
+        if (u > floor) ar++;
+      }
     }
     if (nl < 2 || nr < 2) return 0;
+    if (2 * al < nl || 2 * ar < nr) return floor;
     return Math.min(median(left.subarray(0, nl)), median(right.subarray(0, nr)));
   };
 
@@ -389,7 +414,8 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
         const v = velocities[k]!;
         const z = apexDistance(t0, v, sep);
         if (!(z > 0)) continue;
-        const sc = curveScore(along[j]!, z, v, apertureOf(z));
+        // only scores above pickTh / 2 make starts (and a lower one never outranks them): `floor`
+        const sc = curveScore(along[j]!, z, v, apertureOf(z), pickTh / 2);
         if (sc > scoreV[k]!) {
           scoreV[k] = sc;
           xV[k] = along[j]!;
