@@ -13,6 +13,7 @@
 // definitions stay in packages/scoring.
 import { existsSync, readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
+import { fresnelRadiusM } from '../packages/anomalies/src/index';
 import { scoreFolder } from '../packages/scoring/src/index';
 import { pointFromWgs84, resolveCrs } from '../packages/site/src/index';
 
@@ -30,7 +31,6 @@ const segDist = (x: number, y: number, a: number[], b: number[]) => {
 const totals: Record<string, number> = {};
 // candidate rules: how many targets each would drop, of those covering a buried object and of the unmatched
 const rules: Record<string, { buried: number; unmatched: number; air: number }> = {};
-const fresnel = (z: number, v: number, f: number) => Math.sqrt(((1000 * v) / f) * Math.max(z, 0) / 2);
 const byClass: Record<string, Record<string, number>> = {};
 const strengths: Record<string, number[]> = { buried: [], unmatched: [] };
 for (const scene of scenes) {
@@ -80,7 +80,7 @@ for (const scene of scenes) {
     // the near-surface rule with a stricter share of a slice inside the zone (the classifier takes half)
     for (const fr of [0, 0.25]) if (a.depthTopM < nearSurfaceM && !members.some((m) => m.topM >= nearSurfaceM - fr * (m.bottomM - m.topM))) fired.push(`nearSurface${fr}`);
     const angle = Math.min(...azs.map((az) => { const d = Math.abs((((a.directionDeg - az) % 180) + 180) % 180); return Math.min(d, 180 - d); }));
-    const rf = fresnel(0.5 * (a.depthTopM + a.depthBottomM), v, f);
+    const rf = fresnelRadiusM(0.5 * (a.depthTopM + a.depthBottomM), v, f);
     if (a.kind === 'linear' && a.widthM <= spacing && 2 * rf - spacing > a.widthM) fired.push('narrowStripAnyDirection');
     if (a.widthM < rf) fired.push('narrowerThanFresnel');
     const nSl = new Set(members.map((m: any) => m.slice ?? m.topM)).size;

@@ -136,7 +136,11 @@ export function planarStrips(strips: readonly Member[], grid: SliceStack['grid']
   const { width, height } = grid;
   const r = Math.max(1, Math.round(reachCells));
   const bySlice = new Map<number, Member[]>();
-  for (const m of strips) bySlice.set(m.slice, [...(bySlice.get(m.slice) ?? []), m]);
+  for (const m of strips) {
+    const list = bySlice.get(m.slice);
+    if (list) list.push(m);
+    else bySlice.set(m.slice, [m]);
+  }
   for (const ms of bySlice.values()) {
     if (ms.length < 2) continue;
     // owner of each strip cell, then union-find over strips whose cells lie within r cells (Chebyshev)
@@ -160,7 +164,12 @@ export function planarStrips(strips: readonly Member[], grid: SliceStack['grid']
       }
     });
     const groups = new Map<number, number[]>();
-    ms.forEach((_, i) => groups.set(find(i), [...(groups.get(find(i)) ?? []), i]));
+    ms.forEach((_, i) => {
+      const root = find(i);
+      const list = groups.get(root);
+      if (list) list.push(i);
+      else groups.set(root, [i]);
+    });
     for (const g of groups.values()) {
       if (g.length < 2) continue;
       // across-line axis: perpendicular to the strips' mean axis (doubled angles)

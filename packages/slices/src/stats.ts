@@ -12,25 +12,49 @@ export interface SliceStats {
   validCount: number;
 }
 
-export function sliceStats(values: Float32Array, nodata: number, scratch?: Float32Array): SliceStats {
-  const valid = scratch && scratch.length >= values.length ? scratch : new Float32Array(values.length);
-  let n = 0;
-  let sum = 0;
-  let min = Infinity;
-  let max = -Infinity;
+/** Count, sum, min and max of the valid cells seen so far (`addValid`). */
+interface ValidSums {
+  n: number;
+  sum: number;
+  min: number;
+  max: number;
+}
+
+const NO_STATS: SliceStats = { min: Number.NaN, max: Number.NaN, mean: Number.NaN, std: Number.NaN, p2: Number.NaN, p98: Number.NaN, validCount: 0 };
+
+/** Adds the valid cells of `values` to `acc`; with `keep`, also copies them to `keep` from index acc.n on. */
+function addValid(values: Float32Array, nodata: number, acc: ValidSums, keep?: Float32Array): void {
   for (let i = 0; i < values.length; i++) {
     const v = values[i]!;
     if (v !== v || v === nodata) continue;
-    valid[n++] = v;
-    sum += v;
-    if (v < min) min = v;
-    if (v > max) max = v;
+    if (keep) keep[acc.n] = v;
+    acc.n++;
+    acc.sum += v;
+    if (v < acc.min) acc.min = v;
+    if (v > acc.max) acc.max = v;
   }
-  if (n === 0) return { min: Number.NaN, max: Number.NaN, mean: Number.NaN, std: Number.NaN, p2: Number.NaN, p98: Number.NaN, validCount: 0 };
+}
+
+/** `from` plus the squared deviations from `mean` of the valid cells of `values`, added in cell order. */
+function squaredDeviations(values: Float32Array, nodata: number, mean: number, from = 0): number {
+  let ss = from;
+  for (let i = 0; i < values.length; i++) {
+    const v = values[i]!;
+    if (v !== v || v === nodata) continue;
+    ss += (v - mean) ** 2;
+  }
+  return ss;
+}
+
+export function sliceStats(values: Float32Array, nodata: number, scratch?: Float32Array): SliceStats {
+  const valid = scratch && scratch.length >= values.length ? scratch : new Float32Array(values.length);
+  const acc: ValidSums = { n: 0, sum: 0, min: Infinity, max: -Infinity };
+  addValid(values, nodata, acc, valid);
+  const { n, sum, min, max } = acc;
+  if (n === 0) return { ...NO_STATS };
   const mean = sum / n;
-  let ss = 0;
-  for (let i = 0; i < n; i++) ss += (valid[i]! - mean) ** 2;
   const a = valid.subarray(0, n);
+  const ss = squaredDeviations(a, nodata, mean);
   return { min, max, mean, std: Math.sqrt(ss / n), p2: quantileInPlace(a, 0.02), p98: quantileInPlace(a, 0.98), validCount: n };
 }
 
@@ -51,26 +75,14 @@ export async function sliceStatsOfRows(source: SliceRows, band: number, nodata: 
   const strips = async (each: (v: Float32Array) => void): Promise<void> => {
     for (let r0 = 0; r0 < height; r0 += stripRows) each(await source.readRows(band, r0, Math.min(height, r0 + stripRows)));
   };
-  let n = 0, sum = 0, min = Infinity, max = -Infinity;
-  await strips((v) => {
-    for (let i = 0; i < v.length; i++) {
-      const x = v[i]!;
-      if (x !== x || x === nodata) continue;
-      n++;
-      sum += x;
-      if (x < min) min = x;
-      if (x > max) max = x;
-    }
-  });
-  if (n === 0) return { min: Number.NaN, max: Number.NaN, mean: Number.NaN, std: Number.NaN, p2: Number.NaN, p98: Number.NaN, validCount: 0 };
+  const acc: ValidSums = { n: 0, sum: 0, min: Infinity, max: -Infinity };
+  await strips((v) => addValid(v, nodata, acc));
+  const { n, sum, min, max } = acc;
+  if (n === 0) return { ...NO_STATS };
   const mean = sum / n;
   let ss = 0;
   await strips((v) => {
-    for (let i = 0; i < v.length; i++) {
-      const x = v[i]!;
-      if (x !== x || x === nodata) continue;
-      ss += (x - mean) ** 2;
-    }
+    ss = squaredDeviations(v, nodata, mean, ss);
   });
   const ranks = [0.02, 0.98].flatMap((q) => {
     const h = (n - 1) * q;
