@@ -17,7 +17,8 @@ export interface MigrationLayer {
  * transform), then complex FFT across traces.
  * Result: `spec[2 * (ix * (nt/2 + 1) + m)]` (re, im), kx-major so that a row is one wavenumber.
  * Only the bins [lo, hi] of `band(power, energyTolerance)` are transformed across traces; the others are
- * zero (with `energyTolerance` 0, every bin with energy).
+ * zero (with `energyTolerance` 0, every bin with energy). `into` (at least `2 * nx * (nt/2 + 1)` long)
+ * is used for the result instead of a new array.
  */
 export function fk2d(
   data: ArrayLike<number>,
@@ -26,9 +27,11 @@ export function fk2d(
   nx: number,
   nt: number,
   energyTolerance = 0,
+  into?: Float64Array,
 ): { spec: Float64Array; lo: number; hi: number } {
   const nw = nt / 2 + 1;
-  const spec = new Float64Array(2 * nx * nw);
+  // the padding rows (traces nTraces..nx) must be zero; the others are all written below
+  const spec = into ? into.fill(0, 2 * nTraces * nw, 2 * nx * nw) : new Float64Array(2 * nx * nw);
   const ft = fftOfSize(nt);
   const pair = new Float64Array(2 * nt);
   const cplx = new Float64Array(2 * nt);
@@ -536,4 +539,21 @@ export function passThroughBack(
     const keep = k * dtNs - timeZeroNs <= tMin;
     for (let i = 0; i < nTraces; i++) dst[i * nSamples + k] = keep ? (src[i * nSamples + k] as number) : (back[i * nSamples + k] as number);
   }
+}
+
+const scratchPool = new Map<string, Float64Array>();
+
+/**
+ * A work array of at least `length` numbers kept between calls under `name` (its content is whatever the
+ * last user left): the migrations of a run's lines take arrays of a few MB of the same sizes, and fresh
+ * ones cost page faults and garbage collection each line. Only for arrays that do not outlive the call
+ * that takes them (JavaScript is single-threaded here; each worker has its own pool).
+ */
+export function scratch(name: string, length: number): Float64Array {
+  let a = scratchPool.get(name);
+  if (!a || a.length < length) {
+    a = new Float64Array(length);
+    scratchPool.set(name, a);
+  }
+  return a.length === length ? a : a.subarray(0, length);
 }

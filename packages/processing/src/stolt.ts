@@ -1,5 +1,5 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, packTracePair, paddedSizes, shiftSpectrum, type FkLineOptions } from './fk';
+import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, packTracePair, paddedSizes, scratch, shiftSpectrum, type FkLineOptions } from './fk';
 import { fftOfSize } from './fft';
 
 export interface StoltOptions extends FkLineOptions {
@@ -194,7 +194,7 @@ function stoltMaps(
   const nw = nt / 2 + 1;
   const dw = (2 * Math.PI) / (nt * dtNs);
   const tc = (nt * dtNs) / 4;
-  const { spec, lo, hi } = fk2d(data, nTraces, nSamples, nx, nt, options.energyTolerance ?? 0);
+  const { spec, lo, hi } = fk2d(data, nTraces, nSamples, nx, nt, options.energyTolerance ?? 0, scratch('stolt spec', 2 * nx * nw));
   if (hi < lo) return out.fill(0);
   if (options.halfIntegral && !inverse) halfOrderFilter(spec, nx, nt, dtNs, -0.5, lo, hi);
   shiftSpectrum(spec, nx, nt, dtNs, timeZeroNs + tc, lo, hi);
@@ -216,8 +216,8 @@ function stoltMaps(
     fIm[j] = im;
   }
   // the interpolated spectrum times the Jacobian, bin-major (a bin's wavenumbers contiguous for the transform across traces)
-  const val = new Float64Array(2 * nb * nx);
-  const sinT = new Float64Array(nb * nx);
+  const val = scratch('stolt val', 2 * nb * nx).fill(0);
+  const sinT = scratch('stolt sin', nb * nx).fill(0);
   const outer = dipWeigher(aMax, taper);
   // bins the interpolation can reach from [lo, hi] (negative bins mirror positive ones)
   const reach = (u: number) => u - HALF_TAPS <= hi && (u + HALF_TAPS >= lo || HALF_TAPS - u >= lo);
@@ -274,15 +274,16 @@ interface StoltSpectrum {
 function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, anglesDeg: readonly number[], blend: readonly Float64Array[], taper: number, out: Float32Array): Float32Array {
   const { val, sinT, nx, nt, jHi } = sp;
   const nw = nt / 2 + 1;
-  const acc = new Float64Array(nTraces * nSamples);
+  const acc = scratch('stolt acc', nTraces * nSamples).fill(0);
   const fx = fftOfSize(nx);
   const ft = fftOfSize(nt);
   const nm = jHi + 1;
-  // a block of bins across traces at a time, written trace-major (each trace's bins contiguous for its time transform)
-  const B = 8;
+  // a block of bins across traces at a time, written trace-major (each trace's bins contiguous for its
+  // time transform); blocks of 16 bins write 256 contiguous bytes per trace
+  const B = 16;
   const cols = Array.from({ length: B }, () => new Float64Array(2 * nx));
   const res = new Float64Array(2 * nx);
-  const ht = new Float64Array(2 * nTraces * nm);
+  const ht = scratch('stolt ht', 2 * nTraces * nm);
   const full = new Float64Array(2 * nt);
   const back = new Float64Array(2 * nt);
   for (let w = 0; w < anglesDeg.length; w++) {
@@ -300,13 +301,11 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
       for (let c = 0; c < nbk; c++) {
         const col = cols[c] as Float64Array;
         const base = (m0 + c) * nx;
-        col.set(val.subarray(2 * base, 2 * (base + nx)));
         for (let ix = 0; ix < nx; ix++) {
           const sin = sinT[base + ix] as number;
-          if (sin <= s1) continue;
-          const g = weight(sin);
-          col[2 * ix] = (col[2 * ix] as number) * g;
-          col[2 * ix + 1] = (col[2 * ix + 1] as number) * g;
+          const g = sin <= s1 ? 1 : weight(sin);
+          col[2 * ix] = (val[2 * (base + ix)] as number) * g;
+          col[2 * ix + 1] = (val[2 * (base + ix) + 1] as number) * g;
         }
         fx.inverseTransform(res, col);
         col.set(res);
