@@ -367,9 +367,27 @@ export function bistaticResample(
       src[k] = (0.5 * (lo + hi) + timeZeroNs) / dtNs;
     }
   }
+  // the four Keys weights of every output sample whose taps all lie inside the trace, shared by all
+  // traces (`cubicAt` for the others: exact positions, the ends)
+  const tap = new Int32Array(nSamples).fill(-1);
+  const wt = new Float64Array(4 * nSamples);
+  for (let k = 0; k < nSamples; k++) {
+    const u = src[k] as number;
+    const i0 = Math.floor(u);
+    if (u < 0 || u === i0 || i0 - 1 < 0 || i0 + 2 >= nSamples) continue;
+    tap[k] = i0 - 1;
+    for (let j = 0; j < 4; j++) wt[4 * k + j] = keys(u - (i0 - 1 + j));
+  }
   for (let i = 0; i < nTraces; i++) {
     const o = i * nSamples;
     for (let k = 0; k < nSamples; k++) {
+      const t = tap[k] as number;
+      if (t >= 0) {
+        const q = o + t;
+        const w = 4 * k;
+        out[o + k] = (data[q] as number) * (wt[w] as number) + (data[q + 1] as number) * (wt[w + 1] as number) + (data[q + 2] as number) * (wt[w + 2] as number) + (data[q + 3] as number) * (wt[w + 3] as number);
+        continue;
+      }
       const u = src[k] as number;
       out[o + k] = u < 0 ? 0 : cubicAt(data, o + u, o, o + nSamples);
     }
