@@ -1,6 +1,6 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, packTracePair, paddedSizes, scratch, shiftSpectrum, type FkLineOptions } from './fk';
-import { fftOfSize } from './fft';
+import { fftOfSize, inverseUnscaled } from './fft';
 
 export interface StoltOptions extends FkLineOptions {
   /** Constant velocity of the ground, m/ns. */
@@ -286,6 +286,9 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
   const ht = scratch('stolt ht', 2 * nTraces * nm);
   const full = new Float64Array(2 * nt);
   const back = new Float64Array(2 * nt);
+  const bs = new Float64Array(nSamples);
+  const rx = 1 / nx;
+  const rt = 1 / nt;
   for (let w = 0; w < anglesDeg.length; w++) {
     const b = blend[w] as Float64Array;
     let k0 = 0;
@@ -294,6 +297,8 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
     while (k1 >= k0 && b[k1] === 0) k1--;
     if (k1 < k0 || jHi < 0) continue;
     const weight = dipWeigher(anglesDeg[w] as number, taper);
+    // the blend weights with the time inverse's 1 / nt
+    for (let k = k0; k <= k1; k++) bs[k] = (b[k] as number) * rt;
     // dipWeight is 1 up to the taper: only the band between needs the weigher
     const s1 = Math.sin(((anglesDeg[w] as number) * Math.PI * (1 - taper)) / 180);
     for (let m0 = 0; m0 < nm; m0 += B) {
@@ -303,11 +308,12 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
         const base = (m0 + c) * nx;
         for (let ix = 0; ix < nx; ix++) {
           const sin = sinT[base + ix] as number;
-          const g = sin <= s1 ? 1 : weight(sin);
+          // the inverse's 1 / nx with the weight
+          const g = (sin <= s1 ? 1 : weight(sin)) * rx;
           col[2 * ix] = (val[2 * (base + ix)] as number) * g;
           col[2 * ix + 1] = (val[2 * (base + ix) + 1] as number) * g;
         }
-        fx.inverseTransform(res, col);
+        inverseUnscaled(fx, res, col);
         col.set(res);
       }
       for (let i = 0; i < nTraces; i++) {
@@ -325,10 +331,10 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
       const oa = 2 * i * nm;
       const ob = 2 * (i + 1) * nm;
       packTracePair(ht, oa, pair ? ob : -1, 0, nm - 1, nw, nt, full);
-      ft.inverseTransform(back, full);
+      inverseUnscaled(ft, back, full);
       const o = i * nSamples;
-      for (let k = k0; k <= k1; k++) acc[o + k] = (acc[o + k] as number) + (b[k] as number) * (back[2 * k] as number);
-      if (pair) for (let k = k0; k <= k1; k++) acc[o + nSamples + k] = (acc[o + nSamples + k] as number) + (b[k] as number) * (back[2 * k + 1] as number);
+      for (let k = k0; k <= k1; k++) acc[o + k] = (acc[o + k] as number) + (bs[k] as number) * (back[2 * k] as number);
+      if (pair) for (let k = k0; k <= k1; k++) acc[o + nSamples + k] = (acc[o + nSamples + k] as number) + (bs[k] as number) * (back[2 * k + 1] as number);
     }
   }
   for (let q = 0; q < acc.length; q++) out[q] = acc[q] as number;
