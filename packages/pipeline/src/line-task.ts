@@ -181,21 +181,11 @@ export async function pass1(task: Pass1Task): Promise<Pass1Result> {
   const raw = await timed(times, 'pass 1 read line', () => readLine(s, contextSource(src)));
   const keepBefore = task.keepLine && task.recipe.steps.some((st) => st.step === 'backgroundRemoval');
   const { line: whole, log, before } = runRecipe(raw, pass1Recipe(task.recipe), context(s), { onStep: stepTimes(times, 'pass 1'), ...(keepBefore ? { keepBefore: 'backgroundRemoval' as const } : {}) });
-  // pass 2 migrates the whole context, so that is what is kept for it; the file is written while the
-  // hyperbolas are fitted (nothing below changes the arrays), and 'pass 1 keep line' is the wait for it
-  if (task.keepLine && task.keepInMemory) {
-    const r = await pass1Rest(task, s, src, whole, log, times);
-    return { ...r, kept: ownKept(whole, keepBefore ? before : undefined) };
-  }
-  const keeping = task.keepLine ? writeLineSpill(lineSpillPath(task.stageDir, task.line), whole, keepBefore ? before : undefined) : undefined;
-  // its failure is taken up below (this only keeps it from counting as unhandled meanwhile)
-  keeping?.catch(() => {});
-  try {
-    return await pass1Rest(task, s, src, whole, log, times);
-  } finally {
-    // settled before the task is: a write still going after a failure could outlive the stage folder
-    if (keeping) await timed(times, 'pass 1 keep line', () => keeping);
-  }
+  // pass 2 migrates the whole context, so that is what is kept for it
+  const keptBefore = keepBefore ? before : undefined;
+  if (task.keepLine && !task.keepInMemory) await timed(times, 'pass 1 keep line', () => writeLineSpill(lineSpillPath(task.stageDir, task.line), whole, keptBefore));
+  const r = await pass1Rest(task, s, src, whole, log, times);
+  return task.keepLine && task.keepInMemory ? { ...r, kept: ownKept(whole, keptBefore) } : r;
 }
 
 async function pass1Rest(task: Pass1Task, s: Site, src: LineSource, whole: RadarLine, log: RecipeLogEntry[], times: PartTimes): Promise<Pass1Result> {
