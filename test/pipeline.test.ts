@@ -37,6 +37,8 @@ describe('process pipeline', () => {
     await runProcess(siteDir, join(work, 'multi'), { threads: 2, now });
     // pass 2 from pass 1's kept lines (the default) or processing every line again: the same outputs
     await runProcess(siteDir, join(work, 'again'), { threads: 2, now, keepLines: false });
+    // the kept lines in the stage folder (a site too large to keep them in memory) instead of in memory
+    await runProcess(siteDir, join(work, 'disk'), { threads: 2, now, keepLinesInMemoryBytes: 0 });
     const a = await hashTree(join(work, 'single'));
     const b = await hashTree(join(work, 'multi'));
     const c = await hashTree(join(work, 'again'));
@@ -48,6 +50,9 @@ describe('process pipeline', () => {
     expect((await readFile(join(work, 'again', 'run.json'), 'utf8')).replace(/"createdAt".*\n/, '')).toEqual((await readFile(join(work, 'multi', 'run.json'), 'utf8')).replace(/"createdAt".*\n/, ''));
     delete c['run.json'];
     expect(c).toEqual(b);
+    const d = await hashTree(join(work, 'disk'));
+    delete d['run.json'];
+    expect(d).toEqual(b);
     expect(await hashTree(siteDir)).toEqual(before);
     // the per-trace point spill and the radargram index parts are gone (lamina's own temporaries)
     expect(Object.keys(a).filter((f) => f.includes('lamina-points-') || f.endsWith('.entry.json') || f.startsWith('pass1-lines'))).toEqual([]);

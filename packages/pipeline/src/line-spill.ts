@@ -1,4 +1,5 @@
-import { mkdir, readFile, rm, writeFile } from 'node:fs/promises';
+import { mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { rm } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
 import type { RadarLine } from '@lamina/radar-data';
 
@@ -24,14 +25,15 @@ export async function writeLineSpill(path: string, line: RadarLine, before: Rada
   len.writeUInt32LE(Buffer.byteLength(json));
   const parts: Uint8Array[] = [len, Buffer.from(json), bytes(line.x), bytes(line.y), bytes(line.data)];
   if (before) parts.push(bytes(before.data));
-  await mkdir(dirname(path), { recursive: true });
-  await writeFile(path, parts);
+  // synchronous, on a line worker with nothing else to do meanwhile (as the radargram, outputs.ts)
+  mkdirSync(dirname(path), { recursive: true });
+  writeFileSync(path, Buffer.concat(parts));
 }
 
 /** The line and its copy before background removal (undefined when none was kept); the file is removed. */
 export async function readLineSpill(path: string): Promise<{ line: RadarLine; before: RadarLine | undefined }> {
-  const buf = await readFile(path);
-  await rm(path, { force: true });
+  const buf = readFileSync(path);
+  rmSync(path, { force: true });
   const n = buf.readUInt32LE(0);
   const head = JSON.parse(buf.subarray(4, 4 + n).toString('utf8')) as { id: string; nSamples: number; nTraces: number; dtNs: number; timeZeroNs: number; before: boolean };
   let o = 4 + n;

@@ -26,6 +26,8 @@ export interface Pass1Task {
   detect?: boolean;
   /** Keep the processed line (and the line before background removal) in the stage folder for pass 2. @default false */
   keepLine?: boolean;
+  /** With `keepLine`: return the kept line in the result (`Pass1Result.kept`) instead of writing it. @default false */
+  keepInMemory?: boolean;
   /** Hand picks of this line from the output folder's picks.json (`index`: place in that file), fitted whatever `detect` says. */
   picks?: { hyperbola: ManualHyperbola; index: number }[];
   /** picks.json as shown in messages. */
@@ -43,6 +45,30 @@ export interface Pass1Result {
   dtNs: number;
   /** Milliseconds of each part of this line's work (`ProcessTimings.lineWork`). */
   times: PartTimes;
+  /** The kept line (`keepInMemory`), for `Pass2Task.kept`. */
+  kept?: KeptLine;
+}
+
+/** Pass 1's processed line and the line before background removal (undefined when the recipe has none). */
+export interface KeptLine {
+  line: RadarLine;
+  before: RadarLine | undefined;
+}
+
+/** The buffers of a kept line to move (not copy) between threads: its sample arrays (positions are copies). */
+export function keptBuffers(kept: KeptLine | undefined): ArrayBuffer[] {
+  if (!kept) return [];
+  const all = [kept.line.data.buffer, kept.before?.data.buffer, kept.line.x.buffer, kept.line.y.buffer];
+  return all.filter((b, i): b is ArrayBuffer => b instanceof ArrayBuffer && all.indexOf(b) === i);
+}
+
+/** A kept line whose arrays own their buffers (whole copies of views), so that moving them takes nothing else along. */
+function ownKept(line: RadarLine, before: RadarLine | undefined): KeptLine {
+  const own = <A extends Float32Array | Float64Array>(a: A): A => (a.byteOffset === 0 && a.byteLength === a.buffer.byteLength ? a : (a.slice() as A));
+  const data = own(line.data);
+  const kept: RadarLine = { id: line.id, nSamples: line.nSamples, nTraces: line.nTraces, dtNs: line.dtNs, timeZeroNs: line.timeZeroNs, x: line.x.slice(), y: line.y.slice(), data };
+  const b = before && before !== line ? own(before.data) : undefined;
+  return { line: kept, before: b ? { ...kept, data: b === data ? b.slice() : b } : undefined };
 }
 
 export interface Pass2Task {
@@ -55,6 +81,8 @@ export interface Pass2Task {
   windows: SliceWindow[];
   /** Start from the line pass 1 kept in this stage folder (pass 1 ran with `keepLine`). @default undefined */
   keptIn?: string;
+  /** Start from the line pass 1 kept in memory (pass 1 ran with `keepInMemory`; moved to the worker). @default undefined */
+  kept?: KeptLine;
   /** Above-ground objects of the plan and this line's air-velocity apexes, for the `airEvents` step (`airObjectsFor`). @default undefined */
   air?: AirObjects;
 }
@@ -154,7 +182,13 @@ export async function pass1(task: Pass1Task): Promise<Pass1Result> {
   const keepBefore = task.keepLine && task.recipe.steps.some((st) => st.step === 'backgroundRemoval');
   const { line: whole, log, before } = runRecipe(raw, pass1Recipe(task.recipe), context(s), { onStep: stepTimes(times, 'pass 1'), ...(keepBefore ? { keepBefore: 'backgroundRemoval' as const } : {}) });
   // pass 2 migrates the whole context, so that is what is kept for it
-  if (task.keepLine) await timed(times, 'pass 1 keep line', () => writeLineSpill(lineSpillPath(task.stageDir, task.line), whole, keepBefore ? before : undefined));
+  const keptBefore = keepBefore ? before : undefined;
+  if (task.keepLine && !task.keepInMemory) await timed(times, 'pass 1 keep line', () => writeLineSpill(lineSpillPath(task.stageDir, task.line), whole, keptBefore));
+  const r = await pass1Rest(task, s, src, whole, log, times);
+  return task.keepLine && task.keepInMemory ? { ...r, kept: ownKept(whole, keptBefore) } : r;
+}
+
+async function pass1Rest(task: Pass1Task, s: Site, src: LineSource, whole: RadarLine, log: RecipeLogEntry[], times: PartTimes): Promise<Pass1Result> {
   const line = keep(whole, src);
   const t0 = performance.now();
   const fits =
@@ -204,9 +238,9 @@ export async function pass2(task: Pass2Task): Promise<Pass2Result> {
   let before: RadarLine | undefined;
   let log: RecipeLogEntry[];
   const ctx = context(s, task.velocityMPerNs, task.model, task.air);
-  const steps = task.keptIn !== undefined ? pass2Steps(task.recipe) : undefined;
-  if (task.keptIn !== undefined && steps) {
-    const kept = await timed(times, 'pass 2 read kept line', () => readLineSpill(lineSpillPath(task.keptIn as string, task.line)));
+  const steps = task.keptIn !== undefined || task.kept ? pass2Steps(task.recipe) : undefined;
+  if ((task.keptIn !== undefined || task.kept) && steps) {
+    const kept = task.kept ?? (await timed(times, 'pass 2 read kept line', () => readLineSpill(lineSpillPath(task.keptIn as string, task.line))));
     ({ line, log } = runRecipe(kept.line, { steps }, ctx, { onStep: stepTimes(times, 'pass 2') }));
     // without background removal the data "before" it is the final line, as runRecipe's keepBefore gives
     before = kept.before ?? line;

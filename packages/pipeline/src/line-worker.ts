@@ -1,9 +1,12 @@
 // Worker-thread task module for the process pipeline (started by `startWorker`, @lamina/runtime-files).
 import { serveTasks } from '@lamina/runtime-files';
-import { pass1, pass2, type Pass1Task, type Pass2Task, type Pass1Result, type Pass2Result } from './line-task';
+import { keptBuffers, pass1, pass2, type Pass1Task, type Pass2Task, type Pass1Result, type Pass2Result } from './line-task';
 
 await serveTasks<Pass1Task | Pass2Task, Pass1Result | Pass2Result>(async (task) => {
-  if (task.kind === 'pass1') return { result: await pass1(task) };
+  if (task.kind === 'pass1') {
+    const r = await pass1(task);
+    return { result: r, transfer: keptBuffers(r.kept) };
+  }
   const r = await pass2(task);
   const transfer = [r.values.buffer, r.x.buffer, r.y.buffer].filter(
     (b, i, all): b is ArrayBuffer => b instanceof ArrayBuffer && all.indexOf(b) === i,

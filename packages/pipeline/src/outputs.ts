@@ -1,4 +1,5 @@
-import { mkdir, open, readFile, rm, writeFile } from 'node:fs/promises';
+import { mkdirSync, writeFileSync } from 'node:fs';
+import { mkdir, open, readFile, rm } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { LineProperties, RadargramLine } from '@lamina/contracts';
 import type { RadarLine } from '@lamina/radar-data';
@@ -92,7 +93,10 @@ export type RadargramEntry = RadargramLine;
  * `dir`, for `writeRadargramIndex`. Entries go to disk so that no per-trace data waits in memory.
  */
 export async function writeRadargram(dir: string, line: RadarLine, toWgs84: ToWgs84, maxTraces = 1500): Promise<string> {
-  await mkdir(join(dir, 'radargrams'), { recursive: true });
+  // Synchronous writes: this runs on a line worker, which has nothing else to do meanwhile, and each step
+  // of an asynchronous write waits for a turn of the process-wide file thread pool (measured: most of
+  // the part's time when the cores are busy).
+  mkdirSync(join(dir, 'radargrams'), { recursive: true });
   const step = Math.max(1, Math.ceil(line.nTraces / maxTraces));
   const n = Math.ceil(line.nTraces / step);
   const out = new Float32Array(n * line.nSamples);
@@ -109,10 +113,10 @@ export async function writeRadargram(dir: string, line: RadarLine, toWgs84: ToWg
   const bytes = new Uint8Array(out.buffer);
   if (!littleEndianHost()) throw new Error('big-endian hosts are not supported for radargram output');
   const file = `radargrams/${safeName(line.id)}.f32`;
-  await writeFile(join(dir, file), bytes);
+  writeFileSync(join(dir, file), bytes);
   const entry: RadargramEntry = { id: line.id, file, nTraces: n, nSamples: line.nSamples, dtNs: line.dtNs, timeZeroNs: line.timeZeroNs, traceStep: step, x, y, lon, lat };
   const entryFile = `radargrams/${safeName(line.id)}.entry.json`;
-  await writeFile(join(dir, entryFile), JSON.stringify(entry));
+  writeFileSync(join(dir, entryFile), JSON.stringify(entry));
   return entryFile;
 }
 

@@ -10,7 +10,7 @@ import { withAirEvents, withoutAirEvents, type Recipe } from '@lamina/processing
 import { exportTargets, matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
 import { createPool, defaultThreads, type Pool } from '@lamina/runtime-files';
 import { removeLineSpills } from './line-spill';
-import { pass1, pass2, pass2Steps, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
+import { keptBuffers, pass1, pass2, pass2Steps, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
 import { extents, linesGeoJson, planGeoJson, siteSummary, writeChunks, writeFeatureCollection, writeRadargramIndex } from './outputs';
 import { sliceAndScreen, type Anchored, type Screening } from './slice-and-screen';
 import { addParts, StageTimer, type ProcessTimings } from './timings';
@@ -61,6 +61,12 @@ export interface ProcessOptions {
    */
   keepLines?: boolean;
   /**
+   * Pass 1's kept lines (`keepLines`) stay in memory, moved between the threads, when together they take
+   * at most this many bytes (two Float32 copies of every line and its positions); larger sites keep them
+   * in the stage folder, so that memory does not grow with the site. @default 256 MiB
+   */
+  keepLinesInMemoryBytes?: number;
+  /**
    * velocity.json of the whole survey (`lamina velocity`, or the tiles' shared model): its site velocity
    * and model are used for depth and screening instead of this run's own fit. @default none
    */
@@ -105,10 +111,10 @@ type Task = Pass1Task | Pass2Task;
 type Result = Pass1Result | Pass2Result;
 
 /** Runs tasks on worker threads or, with 0 threads, in this thread; results in task order. */
-function runner(threads: number): { run: (t: Task) => Promise<Result>; close: () => Promise<void> } {
+function runner(threads: number): { run: (t: Task, transfer?: ArrayBuffer[]) => Promise<Result>; close: () => Promise<void> } {
   if (threads <= 0) return { run: (t) => (t.kind === 'pass1' ? pass1(t) : pass2(t)), close: async () => {} };
   const pool: Pool<Task, Result> = createPool(new URL('./line-worker.ts', import.meta.url), threads);
-  return { run: (t) => pool.run(t), close: () => pool.close() };
+  return { run: (t, transfer) => pool.run(t, transfer), close: () => pool.close() };
 }
 
 async function inOrder<T>(n: number, start: (i: number) => Promise<T>, onDone: (done: number) => void): Promise<T[]> {
@@ -214,7 +220,8 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     const c = site.lines[i]?.context;
     return a + (c ? c[1] - c[0] + 1 : l.nTraces) * (8 * l.nSamples + 16) + 256;
   }, 0);
-  const keepLines = (options.keepLines ?? true) && pass2Steps(recipe) !== undefined && freeBytes - size.diskBytes >= keptBytes;
+  const keepInMemory = keptBytes <= (options.keepLinesInMemoryBytes ?? 256 * 2 ** 20);
+  const keepLines = (options.keepLines ?? true) && pass2Steps(recipe) !== undefined && (keepInMemory || freeBytes - size.diskBytes >= keptBytes);
   // One process per output folder: a second one would remove this one's stage (stageFolder clears stale ones).
   const runLock = await lockFolder(outDir, { kind: 'run', what: 'lamina process', shown: shownPath(outDir) });
   let writeLock: FolderLock | undefined;
@@ -228,7 +235,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     progress('processing lines', 0, n);
     const pass1Done = timer.start('pass 1: process lines, hyperbolas');
     const run1 = (i: number, detect: boolean) =>
-      exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path, detect, keepLine: keepLines, ...(picks?.has(i) ? { picks: picks.get(i), picksFile: shownPath(picksFile) } : {}) }) as Promise<Pass1Result>;
+      exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path, detect, keepLine: keepLines, keepInMemory, ...(picks?.has(i) ? { picks: picks.get(i), picksFile: shownPath(picksFile) } : {}) }) as Promise<Pass1Result>;
     const p1 = options.sampleVelocityLines
       ? await pass1Sampled(n, Math.max(1, threads), run1, { metresPerUnit: site.crs.metresPerUnit }, (d) => progress('processing lines', d, n))
       : ((await inOrder(n, (i) => run1(i, true), (d) => progress('processing lines', d, n))) as Pass1Result[]);
@@ -277,8 +284,11 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     try {
       await inOrder(
         n,
-        (i) =>
-          exec.run({
+        (i) => {
+          // a line kept in memory moves to the worker (and is let go here)
+          const kept = p1[i]!.kept;
+          p1[i]!.kept = undefined;
+          return exec.run({
             kind: 'pass2',
             siteDir: site.dir,
             line: i,
@@ -286,9 +296,9 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
             model: velocity.model,
             velocityMPerNs: velocity.site.velocityMPerNs,
             windows,
-            ...(keepLines ? { keptIn: stage.path } : {}),
+            ...(keepLines ? (kept ? { kept } : { keptIn: stage.path }) : {}),
             ...(planAir ? { air: airObjectsFor(planAir, summaries[i]!, p1[i]!.timeZeroNs, airFits, site.crs.metresPerUnit) } : {}),
-          }).then((res) => {
+          }, keptBuffers(kept)).then((res) => {
             waiting.set(i, res as Pass2Result);
             addParts(timer.lineMs, (res as Pass2Result).times);
             for (let r = waiting.get(next); r; r = waiting.get(next)) {
@@ -310,7 +320,8 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
               }
               waiting.delete(next++);
             }
-          }),
+          });
+        },
         (d) => progress('depth slices', d, n),
       );
       await exec.close();

@@ -35,6 +35,20 @@ export interface Transform {
 }
 
 /**
+ * The inverse DFT of `f` into `out` without the 1/n factor, for callers that fold it into a weight they
+ * apply anyway (`MixedRadixFFT` skips a pass over the result; other transforms are rescaled).
+ */
+export function inverseUnscaled(f: Transform, out: Float64Array, data: Float64Array): void {
+  if (f instanceof MixedRadixFFT) {
+    f.inverseUnscaled(out, data);
+    return;
+  }
+  f.inverseTransform(out, data);
+  const n = f.size;
+  for (let i = 0; i < 2 * n; i++) out[i] = (out[i] as number) * n;
+}
+
+/**
  * Complex FFT of a size with prime factors 2, 3 and 5 (Stockham autosort: each stage reads one array
  * and writes the other in order, no bit reversal), radix 4 where it can. For sizes that are not powers of
  * two, where fft.js is used.
@@ -88,6 +102,11 @@ export class MixedRadixFFT implements Transform {
     this.run(out, data, true);
     const s = 1 / this.size;
     for (let i = 0; i < 2 * this.size; i++) out[i] = (out[i] as number) * s;
+  }
+
+  /** `inverseTransform` without the 1/n factor. */
+  inverseUnscaled(out: Float64Array, data: Float64Array): void {
+    this.run(out, data, true);
   }
 
   realTransform(out: Float64Array, data: Float64Array): void {

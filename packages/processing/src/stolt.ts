@@ -1,6 +1,6 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, packTracePair, paddedSizes, shiftSpectrum, type FkLineOptions } from './fk';
-import { fftOfSize } from './fft';
+import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, packTracePair, paddedSizes, scratch, shiftSpectrum, type FkLineOptions } from './fk';
+import { fftOfSize, inverseUnscaled } from './fft';
 
 export interface StoltOptions extends FkLineOptions {
   /** Constant velocity of the ground, m/ns. */
@@ -194,7 +194,7 @@ function stoltMaps(
   const nw = nt / 2 + 1;
   const dw = (2 * Math.PI) / (nt * dtNs);
   const tc = (nt * dtNs) / 4;
-  const { spec, lo, hi } = fk2d(data, nTraces, nSamples, nx, nt, options.energyTolerance ?? 0);
+  const { spec, lo, hi } = fk2d(data, nTraces, nSamples, nx, nt, options.energyTolerance ?? 0, scratch('stolt spec', 2 * nx * nw));
   if (hi < lo) return out.fill(0);
   if (options.halfIntegral && !inverse) halfOrderFilter(spec, nx, nt, dtNs, -0.5, lo, hi);
   shiftSpectrum(spec, nx, nt, dtNs, timeZeroNs + tc, lo, hi);
@@ -216,8 +216,8 @@ function stoltMaps(
     fIm[j] = im;
   }
   // the interpolated spectrum times the Jacobian, bin-major (a bin's wavenumbers contiguous for the transform across traces)
-  const val = new Float64Array(2 * nb * nx);
-  const sinT = new Float64Array(nb * nx);
+  const val = scratch('stolt val', 2 * nb * nx).fill(0);
+  const sinT = scratch('stolt sin', nb * nx).fill(0);
   const outer = dipWeigher(aMax, taper);
   // bins the interpolation can reach from [lo, hi] (negative bins mirror positive ones)
   const reach = (u: number) => u - HALF_TAPS <= hi && (u + HALF_TAPS >= lo || HALF_TAPS - u >= lo);
@@ -274,17 +274,21 @@ interface StoltSpectrum {
 function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, anglesDeg: readonly number[], blend: readonly Float64Array[], taper: number, out: Float32Array): Float32Array {
   const { val, sinT, nx, nt, jHi } = sp;
   const nw = nt / 2 + 1;
-  const acc = new Float64Array(nTraces * nSamples);
+  const acc = scratch('stolt acc', nTraces * nSamples).fill(0);
   const fx = fftOfSize(nx);
   const ft = fftOfSize(nt);
   const nm = jHi + 1;
-  // a block of bins across traces at a time, written trace-major (each trace's bins contiguous for its time transform)
-  const B = 8;
+  // a block of bins across traces at a time, written trace-major (each trace's bins contiguous for its
+  // time transform); blocks of 16 bins write 256 contiguous bytes per trace
+  const B = 16;
   const cols = Array.from({ length: B }, () => new Float64Array(2 * nx));
   const res = new Float64Array(2 * nx);
-  const ht = new Float64Array(2 * nTraces * nm);
+  const ht = scratch('stolt ht', 2 * nTraces * nm);
   const full = new Float64Array(2 * nt);
   const back = new Float64Array(2 * nt);
+  const bs = new Float64Array(nSamples);
+  const rx = 1 / nx;
+  const rt = 1 / nt;
   for (let w = 0; w < anglesDeg.length; w++) {
     const b = blend[w] as Float64Array;
     let k0 = 0;
@@ -293,6 +297,8 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
     while (k1 >= k0 && b[k1] === 0) k1--;
     if (k1 < k0 || jHi < 0) continue;
     const weight = dipWeigher(anglesDeg[w] as number, taper);
+    // the blend weights with the time inverse's 1 / nt
+    for (let k = k0; k <= k1; k++) bs[k] = (b[k] as number) * rt;
     // dipWeight is 1 up to the taper: only the band between needs the weigher
     const s1 = Math.sin(((anglesDeg[w] as number) * Math.PI * (1 - taper)) / 180);
     for (let m0 = 0; m0 < nm; m0 += B) {
@@ -300,15 +306,14 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
       for (let c = 0; c < nbk; c++) {
         const col = cols[c] as Float64Array;
         const base = (m0 + c) * nx;
-        col.set(val.subarray(2 * base, 2 * (base + nx)));
         for (let ix = 0; ix < nx; ix++) {
           const sin = sinT[base + ix] as number;
-          if (sin <= s1) continue;
-          const g = weight(sin);
-          col[2 * ix] = (col[2 * ix] as number) * g;
-          col[2 * ix + 1] = (col[2 * ix + 1] as number) * g;
+          // the inverse's 1 / nx with the weight
+          const g = (sin <= s1 ? 1 : weight(sin)) * rx;
+          col[2 * ix] = (val[2 * (base + ix)] as number) * g;
+          col[2 * ix + 1] = (val[2 * (base + ix) + 1] as number) * g;
         }
-        fx.inverseTransform(res, col);
+        inverseUnscaled(fx, res, col);
         col.set(res);
       }
       for (let i = 0; i < nTraces; i++) {
@@ -326,10 +331,10 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
       const oa = 2 * i * nm;
       const ob = 2 * (i + 1) * nm;
       packTracePair(ht, oa, pair ? ob : -1, 0, nm - 1, nw, nt, full);
-      ft.inverseTransform(back, full);
+      inverseUnscaled(ft, back, full);
       const o = i * nSamples;
-      for (let k = k0; k <= k1; k++) acc[o + k] = (acc[o + k] as number) + (b[k] as number) * (back[2 * k] as number);
-      if (pair) for (let k = k0; k <= k1; k++) acc[o + nSamples + k] = (acc[o + nSamples + k] as number) + (b[k] as number) * (back[2 * k + 1] as number);
+      for (let k = k0; k <= k1; k++) acc[o + k] = (acc[o + k] as number) + (bs[k] as number) * (back[2 * k] as number);
+      if (pair) for (let k = k0; k <= k1; k++) acc[o + nSamples + k] = (acc[o + nSamples + k] as number) + (bs[k] as number) * (back[2 * k + 1] as number);
     }
   }
   for (let q = 0; q < acc.length; q++) out[q] = acc[q] as number;
