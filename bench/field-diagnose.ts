@@ -9,7 +9,7 @@
 //   other
 // Also counts the targets that candidate rules would drop (buried / unmatched / air), to weigh a rule
 // before building it. Usage: tsx bench/field-diagnose.ts <kept-dir> [scene ...] (VERBOSE=1 lists the
-// unmatched targets, RULE=<name> those a rule drops). A diagnostic, not a score: the frozen
+// unmatched targets, RULE=<name> those a rule drops, with each member's slice:strength dB). A diagnostic, not a score: the frozen
 // definitions stay in packages/scoring.
 import { existsSync, readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
@@ -79,6 +79,17 @@ for (const scene of scenes) {
     const fired: string[] = [];
     // the near-surface rule with a stricter share of a slice inside the zone (the classifier takes half)
     for (const fr of [0, 0.25]) if (a.depthTopM < nearSurfaceM && !members.some((m) => m.topM >= nearSurfaceM - fr * (m.bottomM - m.topM))) fired.push(`nearSurface${fr}`);
+    // candidates for the near-surface zone: no member wholly below it (every slice reaches into it), compact,
+    // and (Narrow) narrower than two line spacings or (Across) crossing fewer than three lines
+    const inTransition = a.depthTopM < nearSurfaceM + 1e-9 && !members.some((m) => m.topM >= nearSurfaceM);
+    if (a.kind !== 'linear' && inTransition) fired.push('nsTransitionCompact');
+    if (a.kind !== 'linear' && inTransition && a.widthM < 2 * spacing) fired.push('nsTransitionCompactNarrow');
+    {
+      // extent across the survey lines of a box L x W at the anomaly's angle to the nearest line direction
+      const dd = Math.min(...azs.map((az) => { const d = Math.abs((((a.directionDeg - az) % 180) + 180) % 180); return Math.min(d, 180 - d); })) * Math.PI / 180;
+      const across = a.lengthM * Math.abs(Math.sin(dd)) + a.widthM * Math.abs(Math.cos(dd));
+      if (a.depthTopM < nearSurfaceM + 1e-9 && !members.some((m) => m.topM >= nearSurfaceM) && across < 2 * spacing) fired.push('nsTransitionAcross');
+    }
     const angle = Math.min(...azs.map((az) => { const d = Math.abs((((a.directionDeg - az) % 180) + 180) % 180); return Math.min(d, 180 - d); }));
     const rf = fresnelRadiusM(0.5 * (a.depthTopM + a.depthBottomM), v, f);
     if (a.kind === 'linear' && a.widthM <= spacing && 2 * rf - spacing > a.widthM) fired.push('narrowStripAnyDirection');
@@ -89,7 +100,7 @@ for (const scene of scenes) {
     if (a.kind !== 'linear' && a.lengthM <= pointSize && nSl <= 3) fired.push('pointSized3');
     if (a.kind !== 'linear' && a.lengthM <= pointSize) fired.push('pointSizedAny');
     if (a.strengthDb < 10) fired.push('weakerThan10dB');
-    if (process.env.RULE && fired.includes(process.env.RULE)) console.log(`    ${process.env.RULE} ${r.kind} ${r.kind === 'buried' ? r.matches : ''} ${r.id} ${a.class} z ${a.depthTopM.toFixed(2)}-${a.depthBottomM.toFixed(2)} L ${a.lengthM?.toFixed(1)} W ${a.widthM?.toFixed(2)} angle ${angle.toFixed(0)} rF ${rf.toFixed(2)} s ${spacing.toFixed(2)} ${a.strengthDb} dB`);
+    if (process.env.RULE && fired.includes(process.env.RULE)) console.log(`[${(a.members as any[]).map((m) => `${m.slice}:${m.strengthDb}`).join(' ')}] `+`    ${process.env.RULE} ${r.kind} ${r.kind === 'buried' ? r.matches : ''} ${r.id} ${a.class} z ${a.depthTopM.toFixed(2)}-${a.depthBottomM.toFixed(2)} L ${a.lengthM?.toFixed(1)} W ${a.widthM?.toFixed(2)} angle ${angle.toFixed(0)} rF ${rf.toFixed(2)} s ${spacing.toFixed(2)} ${a.strengthDb} dB`);
     for (const k of fired) { const q = (rules[k] ??= { buried: 0, unmatched: 0, air: 0 }); q[r.kind]++; }
   }
   const count: Record<string, number> = {};
