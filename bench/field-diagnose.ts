@@ -35,6 +35,8 @@ const rules: Record<string, { buried: number; unmatched: number; air: number }> 
 const byClass: Record<string, Record<string, number>> = {};
 // real anomalies (on a buried object, on no locus) flagged above-ground, by the evidence that passed
 const realFlagged: Record<string, number> = {};
+// anomalies whose unsurveyed-obstruction test passed, by what they match (air / real / ambiguous / none)
+const unsurveyedPasses: Record<string, number> = {};
 const strengths: Record<string, number[]> = { buried: [], unmatched: [] };
 for (const scene of scenes) {
   const out = join(dir, `${scene}-out`), site = join(dir, `${scene}-site`);
@@ -107,6 +109,11 @@ for (const scene of scenes) {
     for (const k of fired) { const q = (rules[k] ??= { buried: 0, unmatched: 0, air: 0 }); q[r.kind]++; }
   }
   for (const row of report.anomalies) {
+    const ev = (anomalyProps.get(row.id)?.evidence ?? []) as any[];
+    if (ev.some((e) => e.test === 'unsurveyed-obstruction' && e.passed)) {
+      const k = row.buried && row.reflector ? 'ambiguous' : row.reflector ? 'air' : row.buried ? 'real' : 'none';
+      unsurveyedPasses[k] = (unsurveyedPasses[k] ?? 0) + 1;
+    }
     if (!row.buried || row.reflector || row.origin !== 'above-ground') continue;
     const a = anomalyProps.get(row.id);
     const tests = [...new Set(((a?.evidence ?? []) as any[]).filter((e) => e.passed && e.weight > 0).map((e) => e.test as string))].sort().join('+') || 'none';
@@ -151,6 +158,7 @@ for (const scene of scenes) {
 console.log('rules (targets each would drop):', JSON.stringify(rules));
 console.log('unmatched targets by cause:', JSON.stringify(totals));
 console.log('real anomalies flagged above-ground, by the evidence that passed:', JSON.stringify(realFlagged));
+console.log('unsurveyed-obstruction passed on anomalies matching:', JSON.stringify(unsurveyedPasses));
 for (const [c, v] of Object.entries(byClass)) console.log(`  ${c}: ${JSON.stringify(v)}`);
 const q = (a: number[], f: number) => { const s = a.filter(Number.isFinite).sort((p, r) => p - r); return s[Math.floor(f * (s.length - 1))]?.toFixed(1); };
 for (const k of ['buried', 'unmatched']) console.log(`strengthDb of ${k} targets: n ${strengths[k]!.length}, q10 ${q(strengths[k]!, 0.1)} q25 ${q(strengths[k]!, 0.25)} q50 ${q(strengths[k]!, 0.5)} q75 ${q(strengths[k]!, 0.75)} q90 ${q(strengths[k]!, 0.9)}`);
