@@ -7,9 +7,10 @@
 //   layer         its depth range holds a truth interface's depth (with dip over the site)
 //   stone / root  a clutter point / root within 0.5 m in plan and at its depth
 //   other
-// Also counts the targets that candidate rules would drop (buried / unmatched / air), to weigh a rule
+// Also lists the real anomalies (on a buried object, on no air-wave locus) flagged above-ground, by the
+// tests that passed. Also counts the targets that candidate rules would drop (buried / unmatched / air), to weigh a rule
 // before building it. Usage: tsx bench/field-diagnose.ts <kept-dir> [scene ...] (VERBOSE=1 lists the
-// unmatched targets, RULE=<name> those a rule drops). A diagnostic, not a score: the frozen
+// unmatched targets, RULE=<name> those a rule drops, with each member's slice:strength dB). A diagnostic, not a score: the frozen
 // definitions stay in packages/scoring.
 import { existsSync, readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
@@ -32,6 +33,10 @@ const totals: Record<string, number> = {};
 // candidate rules: how many targets each would drop, of those covering a buried object and of the unmatched
 const rules: Record<string, { buried: number; unmatched: number; air: number }> = {};
 const byClass: Record<string, Record<string, number>> = {};
+// real anomalies (on a buried object, on no locus) flagged above-ground, by the evidence that passed
+const realFlagged: Record<string, number> = {};
+// anomalies whose unsurveyed-obstruction test passed, by what they match (air / real / ambiguous / none)
+const unsurveyedPasses: Record<string, number> = {};
 const strengths: Record<string, number[]> = { buried: [], unmatched: [] };
 for (const scene of scenes) {
   const out = join(dir, `${scene}-out`), site = join(dir, `${scene}-site`);
@@ -79,6 +84,17 @@ for (const scene of scenes) {
     const fired: string[] = [];
     // the near-surface rule with a stricter share of a slice inside the zone (the classifier takes half)
     for (const fr of [0, 0.25]) if (a.depthTopM < nearSurfaceM && !members.some((m) => m.topM >= nearSurfaceM - fr * (m.bottomM - m.topM))) fired.push(`nearSurface${fr}`);
+    // candidates for the near-surface zone: no member wholly below it (every slice reaches into it), compact,
+    // and (Narrow) narrower than two line spacings or (Across) crossing fewer than three lines
+    const inTransition = a.depthTopM < nearSurfaceM + 1e-9 && !members.some((m) => m.topM >= nearSurfaceM);
+    if (a.kind !== 'linear' && inTransition) fired.push('nsTransitionCompact');
+    if (a.kind !== 'linear' && inTransition && a.widthM < 2 * spacing) fired.push('nsTransitionCompactNarrow');
+    {
+      // extent across the survey lines of a box L x W at the anomaly's angle to the nearest line direction
+      const dd = Math.min(...azs.map((az) => { const d = Math.abs((((a.directionDeg - az) % 180) + 180) % 180); return Math.min(d, 180 - d); })) * Math.PI / 180;
+      const across = a.lengthM * Math.abs(Math.sin(dd)) + a.widthM * Math.abs(Math.cos(dd));
+      if (a.depthTopM < nearSurfaceM + 1e-9 && !members.some((m) => m.topM >= nearSurfaceM) && across < 2 * spacing) fired.push('nsTransitionAcross');
+    }
     const angle = Math.min(...azs.map((az) => { const d = Math.abs((((a.directionDeg - az) % 180) + 180) % 180); return Math.min(d, 180 - d); }));
     const rf = fresnelRadiusM(0.5 * (a.depthTopM + a.depthBottomM), v, f);
     if (a.kind === 'linear' && a.widthM <= spacing && 2 * rf - spacing > a.widthM) fired.push('narrowStripAnyDirection');
@@ -89,8 +105,20 @@ for (const scene of scenes) {
     if (a.kind !== 'linear' && a.lengthM <= pointSize && nSl <= 3) fired.push('pointSized3');
     if (a.kind !== 'linear' && a.lengthM <= pointSize) fired.push('pointSizedAny');
     if (a.strengthDb < 10) fired.push('weakerThan10dB');
-    if (process.env.RULE && fired.includes(process.env.RULE)) console.log(`    ${process.env.RULE} ${r.kind} ${r.kind === 'buried' ? r.matches : ''} ${r.id} ${a.class} z ${a.depthTopM.toFixed(2)}-${a.depthBottomM.toFixed(2)} L ${a.lengthM?.toFixed(1)} W ${a.widthM?.toFixed(2)} angle ${angle.toFixed(0)} rF ${rf.toFixed(2)} s ${spacing.toFixed(2)} ${a.strengthDb} dB`);
+    if (process.env.RULE && fired.includes(process.env.RULE)) console.log(`[${(a.members as any[]).map((m) => `${m.slice}:${m.strengthDb}`).join(' ')}] `+`    ${process.env.RULE} ${r.kind} ${r.kind === 'buried' ? r.matches : ''} ${r.id} ${a.class} z ${a.depthTopM.toFixed(2)}-${a.depthBottomM.toFixed(2)} L ${a.lengthM?.toFixed(1)} W ${a.widthM?.toFixed(2)} angle ${angle.toFixed(0)} rF ${rf.toFixed(2)} s ${spacing.toFixed(2)} ${a.strengthDb} dB`);
     for (const k of fired) { const q = (rules[k] ??= { buried: 0, unmatched: 0, air: 0 }); q[r.kind]++; }
+  }
+  for (const row of report.anomalies) {
+    const ev = (anomalyProps.get(row.id)?.evidence ?? []) as any[];
+    if (ev.some((e) => e.test === 'unsurveyed-obstruction' && e.passed)) {
+      const k = row.buried && row.reflector ? 'ambiguous' : row.reflector ? 'air' : row.buried ? 'real' : 'none';
+      unsurveyedPasses[k] = (unsurveyedPasses[k] ?? 0) + 1;
+    }
+    if (!row.buried || row.reflector || row.origin !== 'above-ground') continue;
+    const a = anomalyProps.get(row.id);
+    const tests = [...new Set(((a?.evidence ?? []) as any[]).filter((e) => e.passed && e.weight > 0).map((e) => e.test as string))].sort().join('+') || 'none';
+    realFlagged[tests] = (realFlagged[tests] ?? 0) + 1;
+    if (process.env.VERBOSE) rows.push(`  flagged ${row.id} on ${row.buried} z ${a.depthTopM.toFixed(2)}-${a.depthBottomM.toFixed(2)} ${a.kind} L ${a.lengthM.toFixed(1)} W ${a.widthM.toFixed(1)} slices ${a.slices.length} P ${a.pAboveGround.toFixed(2)} by ${tests}`);
   }
   const count: Record<string, number> = {};
   for (const r of report.targets) {
@@ -129,6 +157,8 @@ for (const scene of scenes) {
 }
 console.log('rules (targets each would drop):', JSON.stringify(rules));
 console.log('unmatched targets by cause:', JSON.stringify(totals));
+console.log('real anomalies flagged above-ground, by the evidence that passed:', JSON.stringify(realFlagged));
+console.log('unsurveyed-obstruction passed on anomalies matching:', JSON.stringify(unsurveyedPasses));
 for (const [c, v] of Object.entries(byClass)) console.log(`  ${c}: ${JSON.stringify(v)}`);
 const q = (a: number[], f: number) => { const s = a.filter(Number.isFinite).sort((p, r) => p - r); return s[Math.floor(f * (s.length - 1))]?.toFixed(1); };
 for (const k of ['buried', 'unmatched']) console.log(`strengthDb of ${k} targets: n ${strengths[k]!.length}, q10 ${q(strengths[k]!, 0.1)} q25 ${q(strengths[k]!, 0.25)} q50 ${q(strengths[k]!, 0.5)} q75 ${q(strengths[k]!, 0.75)} q90 ${q(strengths[k]!, 0.9)}`);

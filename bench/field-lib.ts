@@ -3,11 +3,11 @@
 // crash or memory does not take the others with it), score the output folder with @lamina/scoring, and
 // pool rows by summing counts, areas and lengths (never by averaging percentages).
 import { spawnSync } from 'node:child_process';
-import { mkdirSync, rmSync } from 'node:fs';
+import { mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { scoreFolder } from '../packages/scoring/src/index';
-import { simulateSite, type Scenario } from '../packages/simulate/src/index';
+import { rng, simulateSite, type Scenario } from '../packages/simulate/src/index';
 import { airMeasure, emptyAirMeasure, excessDb, measureDb, type AirMeasure } from './air-measure';
 
 const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');
@@ -58,6 +58,8 @@ export interface FieldRow {
   air: AirMeasure;
   /** The same with `--keep-air-events` (the data as it was before the airEvents step), when asked for (`airBefore`). */
   airBefore: AirMeasure | null;
+  /** Plan features left out of the site's plan (`unsurveyedShare`), by id. */
+  unsurveyed?: string[];
   /** The scoring's figures of the `--keep-air-events` run, when asked for (`airBefore`). */
   scoredBefore?: Partial<FieldRow>;
 }
@@ -75,6 +77,30 @@ export interface SceneRunOptions {
   keep?: boolean;
   /** Also process with `--keep-air-events` for the air measure before the step (a second run of the scene). @default false */
   airBefore?: boolean;
+  /**
+   * Share of the plan's features left out of the site's plan.geojson (seeded by the scene's seed): objects
+   * that stand on site but that nobody surveyed, as on real sites. They stay in truth.json, so their
+   * air-wave loci are still scored. @default 0 (the plan is complete)
+   */
+  unsurveyedShare?: number;
+}
+
+/**
+ * Leaves each feature of a site's plan.geojson out with probability `share` (a stream of its own, so
+ * the scene is otherwise unchanged). Returns the ids left out.
+ */
+export function leaveOutOfPlan(siteDir: string, seed: number, share: number): string[] {
+  const file = join(siteDir, 'plan.geojson');
+  const plan = JSON.parse(readFileSync(file, 'utf8')) as { features: { properties?: { id?: string } }[] };
+  const r = rng(seed, 'field-bench:unsurveyed');
+  const out: string[] = [];
+  plan.features = plan.features.filter((f) => {
+    const keep = r.next() >= share;
+    if (!keep) out.push(String(f.properties?.id ?? '?'));
+    return keep;
+  });
+  writeFileSync(file, JSON.stringify(plan) + '\n');
+  return out;
 }
 
 function emptyRow(name: string, half: FieldRow['half'], seed: number | null): FieldRow {
@@ -95,6 +121,7 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
   try {
     let t = performance.now();
     await simulateSite(scenario, siteDir);
+    if (options.unsurveyedShare && seed !== null) row.unsurveyed = leaveOutOfPlan(siteDir, seed, options.unsurveyedShare);
     row.simulateS = (performance.now() - t) / 1000;
     t = performance.now();
     const tsx = join(ROOT, 'node_modules', '.bin', 'tsx');

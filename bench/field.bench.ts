@@ -10,6 +10,8 @@
 //   LAMINA_BENCH_FIELD_AIR_BEFORE=1    also process every scene with --keep-air-events: the air measure
 //                                      before the airEvents step and the pooled rows without it (twice the
 //                                      time; default: after only)
+//   LAMINA_BENCH_FIELD_UNSURVEYED=0.3  leave this share of each random scene's plan features out of its
+//                                      plan.geojson (objects nobody surveyed; still scored; default 0)
 // Writes bench/out/field.json (git-ignored): every row and the pooled rows, with the code's commit.
 import { execFileSync } from 'node:child_process';
 import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
@@ -26,6 +28,7 @@ const samples = process.env.LAMINA_BENCH_FIELD_SAMPLES === '0' ? [] : ['yard', '
 const keep = process.env.LAMINA_BENCH_FIELD_KEEP === '1';
 const threads = Number(process.env.LAMINA_BENCH_FIELD_THREADS ?? 2);
 const airBefore = process.env.LAMINA_BENCH_FIELD_AIR_BEFORE === '1';
+const unsurveyedShare = Number(process.env.LAMINA_BENCH_FIELD_UNSURVEYED ?? 0);
 const work = mkdtempSync(join(tmpdir(), 'lamina-bench-field-'));
 
 const commit = (() => {
@@ -40,9 +43,9 @@ console.log(`field: ${seeds.length} random scenes (seeds ${process.env.LAMINA_BE
 const rows: FieldRow[] = [];
 const t0 = performance.now();
 for (const seed of seeds) {
-  const row = await runScene(randomScenario(seed), work, seed % 2 === 1 ? 'tune' : 'held-out', seed, { threads, keep, airBefore });
+  const row = await runScene(randomScenario(seed), work, seed % 2 === 1 ? 'tune' : 'held-out', seed, { threads, keep, airBefore, unsurveyedShare });
   rows.push(row);
-  console.log(`  ${row.name}: ${row.error ? `FAILED ${row.error}` : `${row.targets} targets, ${row.buriedTargets} on buried objects`} (${row.simulateS.toFixed(1)} + ${row.processS.toFixed(1)} s)`);
+  console.log(`  ${row.name}: ${row.error ? `FAILED ${row.error}` : `${row.targets} targets, ${row.buriedTargets} on buried objects`} (${row.simulateS.toFixed(1)} + ${row.processS.toFixed(1)} s)${row.unsurveyed?.length ? `; left out of the plan: ${row.unsurveyed.join(', ')}` : ''}`);
 }
 for (const name of samples) {
   const file = join(root, 'sample-sites', name, 'scenario.json');

@@ -14,7 +14,8 @@ export type { Evidence, TestName };
  * - slope dr/dz matching c/v: +2; a stationary anomaly where move-out was measurable: -3;
  * - edge alignment +1, post spacing +1, air hyperbola +2 when a plan feature stands at c t0 / 2 from
  *   its apex (+0.75 when none does: alone it leaves a candidate a target), soil hyperbola -1,
- *   unsurveyed obstruction +2.5 (needs move-out at the air rate over at least three slices),
+ *   unsurveyed obstruction +2.5 (needs move-out at the air rate over at least three slices; counted only
+ *   with the screening's `countUnsurveyed`, off by default),
  *   energy on the locus before background removal +0.5;
  * - continuity -3: a linear object that keeps its position and depth on both sides of an above-ground
  *   field and through it (bridges.ts) is as stationary as a failed slope says.

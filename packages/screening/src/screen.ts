@@ -65,6 +65,16 @@ export interface ScreenOptions extends ExtractOptions, ToleranceOptions {
   parallelToleranceDeg?: number;
   /** Relative tolerance on a move-out rate against c / v. @default 0.25 (common practice, no source) */
   rateTolerance?: number;
+  /**
+   * Let the unsurveyed-obstruction test (an anomaly no plan feature explains that moves out at the air
+   * rate about a point or a line of its own) count towards the verdict. Off by default: on the TUNE half
+   * of the field bench with every plan feature left out of the plans (LAMINA_BENCH_FIELD_UNSURVEYED=1,
+   * 34 above-ground objects nobody surveyed, 2026-12-03) it passed on no air-wave anomaly and on 16
+   * anomalies of buried pipes (their pieces drift across thin slices), and with complete plans it passed
+   * only on buried objects too. Its result stays in the evidence, with no weight, for the reviewer.
+   * @default false
+   */
+  countUnsurveyed?: boolean;
   /** Also screen linear anomalies along the survey lines found only before background removal. @default true */
   alongLineFromBeforeBackground?: boolean;
   /** Shortest such anomaly, m. @default 2 */
@@ -207,6 +217,10 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     else if (hs[0]) evidence.push(hs[0]);
     if (!mo || mo.fraction < 0.5) {
       const u = unsurveyedEvidence(a, c);
+      if (u && u.passed && !options.countUnsurveyed) {
+        u.weight = 0;
+        u.detail += ' (information only: this test is not counted, see countUnsurveyed)';
+      }
       if (u) evidence.push(u);
     }
     return { anomaly: a, evidence, verdict: combine(evidence), ...(mo ? { mo } : {}) };
@@ -219,7 +233,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   // splitMin slices, the rest are relinked and screened on their own (twice at most).
   const screenOne = (a: Anomaly3D, depth: number, c: ScreenContext = ctx) => {
     const s = evaluate(a, c);
-    const explained = s.evidence.some((e) => e.test === 'unsurveyed-obstruction' && e.passed);
+    const explained = s.evidence.some((e) => e.test === 'unsurveyed-obstruction' && e.passed && e.weight > 0);
     if (depth < 3 && s.mo && !explained) {
       const off = s.mo.fits.filter((f) => !f.passed).map((f) => f.member);
       const on = s.mo.fits.filter((f) => f.passed).map((f) => f.member);

@@ -160,6 +160,17 @@ for (const mpu of [1, 1200 / 3937]) {
       expect(d).toBeLessThan(0.5);
     });
 
+    it('reports the unsurveyed-obstruction test without weight unless countUnsurveyed (0 of 34 unsurveyed objects caught on the field bench)', () => {
+      const ev = sc.flatMap((a) => a.evidence.filter((e) => e.test === 'unsurveyed-obstruction' && e.passed));
+      expect(ev.length).toBeGreaterThan(0);
+      for (const e of ev) expect(e.weight).toBe(0);
+      const counted = screenSite({ stack: s.stack, plan: s.plan, velocity: s.velocity, lines: s.lines, metresPerUnit: mpu, toWgs84: identity }, { countUnsurveyed: true }).screened;
+      const hits = counted.filter((a) => a.evidence.some((e) => e.test === 'unsurveyed-obstruction' && e.passed));
+      expect(hits.length).toBeGreaterThan(0);
+      for (const a of hits) expect(a.evidence.find((e) => e.test === 'unsurveyed-obstruction')!.weight).toBeGreaterThan(0);
+      expect(hits.some((a) => a.verdict.origin === 'above-ground')).toBe(true);
+    });
+
     it('writes the fixed GeoJSON properties', () => {
       for (const f of res.anomalies.features) {
         for (const k of ['id', 'depthTopM', 'depthBottomM', 'origin', 'confidence', 'evidence', 'kind', 'areaM2', 'directionDeg', 'slices', 'peakValue'])
