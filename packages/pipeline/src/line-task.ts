@@ -30,6 +30,12 @@ export interface Pass1Task {
   picks?: { hyperbola: ManualHyperbola; index: number }[];
   /** picks.json as shown in messages. */
   picksFile?: string;
+  /**
+   * Number each fit by its place in the list of its whole line (the context's, for a piece): velocity.json
+   * `lineOrder`, so that a merge of tiles lists the fits of a line in the order a run of the whole line
+   * gives them (screening takes the first of equally near fits). @default false
+   */
+  fitOrder?: boolean;
 }
 export interface Pass1Result {
   summary: LineSummary;
@@ -166,6 +172,7 @@ export async function pass1(task: Pass1Task): Promise<Pass1Result> {
           metresPerUnit: s.crs.metresPerUnit,
           frequencyMHz: s.antenna.frequencyMHz,
         });
+  if (task.fitOrder) fits.forEach((f, k) => ((f as HyperbolaFit & { lineOrder?: number }).lineOrder = k));
   if (line !== whole) {
     // fits of the piece, with the trace and along-line offsets of the piece (its radargram)
     const from = src.traces![0] - src.context![0];

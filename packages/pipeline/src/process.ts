@@ -61,6 +61,11 @@ export interface ProcessOptions {
    */
   keepLines?: boolean;
   /**
+   * Also write what `lamina merge` needs to screen the whole survey again (a tile's run; `SCREEN_INPUTS`
+   * of slice-and-screen.ts: the stack before background removal and the lines' trace positions). @default false
+   */
+  keepScreenInputs?: boolean;
+  /**
    * velocity.json of the whole survey (`lamina velocity`, or the tiles' shared model): its site velocity
    * and model are used for depth and screening instead of this run's own fit. @default none
    */
@@ -228,7 +233,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     progress('processing lines', 0, n);
     const pass1Done = timer.start('pass 1: process lines, hyperbolas');
     const run1 = (i: number, detect: boolean) =>
-      exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path, detect, keepLine: keepLines, ...(picks?.has(i) ? { picks: picks.get(i), picksFile: shownPath(picksFile) } : {}) }) as Promise<Pass1Result>;
+      exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path, detect, keepLine: keepLines, ...(options.keepScreenInputs ? { fitOrder: true } : {}), ...(picks?.has(i) ? { picks: picks.get(i), picksFile: shownPath(picksFile) } : {}) }) as Promise<Pass1Result>;
     const p1 = options.sampleVelocityLines
       ? await pass1Sampled(n, Math.max(1, threads), run1, { metresPerUnit: site.crs.metresPerUnit }, (d) => progress('processing lines', d, n))
       : ((await inOrder(n, (i) => run1(i, true), (d) => progress('processing lines', d, n))) as Pass1Result[]);

@@ -7,6 +7,7 @@ import type { SlicesJson } from '@lamina/contracts';
 import { InputError } from '@lamina/errors';
 import { shownPath } from '@lamina/site';
 import { sliceStatsOfRows, slicesCogOptions, slicesJsonOf, writeSlicesFiles, type SliceStats } from '@lamina/slices';
+import { SCREEN_INPUTS } from '@lamina/pipeline';
 import { tileOf } from '../grid';
 import type { MergeInputs, MergeTile } from './inputs';
 
@@ -47,6 +48,27 @@ export interface MosaicResult {
   json: SlicesJson;
   /** Cells of the mosaic (width x height) and how many the tiles' cores filled. */
   cells: number;
+  /**
+   * With `keep`: the mosaic's raw band-sequential files, left for the caller to read and remove: the
+   * slices, and the slices before background removal when every tile wrote them (`SCREEN_INPUTS.before`).
+   */
+  raw?: { slices: RawBands; before?: RawBands };
+}
+
+export interface MosaicOptions {
+  /** Keep the raw mosaic (and mosaic the tiles' stacks before background removal too): `MosaicResult.raw`. @default false */
+  keep?: boolean;
+}
+
+/** A tile's stack before background removal as it wrote it (band-sequential raw Float32 of its grid), or undefined when it has none. */
+async function readBefore(tile: MergeTile, bands: number): Promise<Float32Array[] | undefined> {
+  const file = join(tile.outDir, SCREEN_INPUTS.before);
+  const b = await readFile(file).catch(() => undefined);
+  if (!b) return undefined;
+  const cells = tile.slices.width * tile.slices.height;
+  if (b.byteLength !== cells * bands * 4) throw new InputError(shownPath(file), `expected ${cells * bands * 4} bytes (${tile.slices.width} x ${tile.slices.height} cells, ${bands} slices: slices.json), found ${b.byteLength}`);
+  const all = new Float32Array(b.buffer.slice(b.byteOffset, b.byteOffset + b.byteLength));
+  return Array.from({ length: bands }, (_, k) => all.subarray(k * cells, (k + 1) * cells));
 }
 
 /**
@@ -56,7 +78,7 @@ export interface MosaicResult {
  * that file a strip of rows at a time (`encodeCogFile`). Held: one tile's raster while it is copied, then
  * one COG tile row of the mosaic. Cells no core covers are nodata.
  */
-export async function writeMosaic(inputs: MergeInputs, outDir: string, scratchDir: string): Promise<MosaicResult> {
+export async function writeMosaic(inputs: MergeInputs, outDir: string, scratchDir: string, options: MosaicOptions = {}): Promise<MosaicResult> {
   const first = inputs.tiles[0]!.slices;
   const cell = first.cellSize;
   const cores = inputs.tiles.map((t) => coreCells(t, inputs.manifest.sizeUnits)).filter((c) => c.c1 > c.c0 && c.r1 > c.r0);
@@ -69,28 +91,43 @@ export async function writeMosaic(inputs: MergeInputs, outDir: string, scratchDi
   const height = top - bottom;
   const bands = first.slices.length;
   const raw = RawBands.create(join(scratchDir, 'mosaic.f32'), width, height, bands, first.nodata);
-  try {
-    const fd = openSync(raw.path, 'r+');
+  let before: RawBands | undefined = options.keep ? RawBands.create(join(scratchDir, 'mosaic-before.f32'), width, height, bands, first.nodata) : undefined;
+  let kept = false;
+  /** Copies a tile's core cells of every band (values[k]: slice k of the tile's grid) into a raw mosaic. */
+  const copy = (to: RawBands, c: CoreCells, values: (k: number) => Float32Array) => {
+    const fd = openSync(to.path, 'r+');
     try {
-      for (const c of cores) {
-        const file = join(c.tile.outDir, c.tile.slices.file);
-        const r = await readGeoTiff(new Uint8Array(await readFile(file)));
-        const s = c.tile.slices;
-        if (r.width !== s.width || r.height !== s.height || r.bands.length < bands) {
-          throw new InputError(shownPath(file), `expected ${s.width} x ${s.height} cells and ${bands} bands (slices.json), found ${r.width} x ${r.height} and ${r.bands.length}`);
-        }
-        const col = c.gx + c.c0 - left;
-        for (let b = 0; b < bands; b++) {
-          const values = r.bands[s.slices[b]!.band - 1]!;
-          for (let row = c.r0; row < c.r1; row++) {
-            const span = values.subarray(row * s.width + c.c0, row * s.width + c.c1);
-            const at = ((b * height + (top - (c.gy - row))) * width + col) * 4;
-            writeSync(fd, new Uint8Array(span.buffer, span.byteOffset, span.byteLength), 0, span.byteLength, at);
-          }
+      const s = c.tile.slices;
+      const col = c.gx + c.c0 - left;
+      for (let b = 0; b < bands; b++) {
+        const v = values(b);
+        for (let row = c.r0; row < c.r1; row++) {
+          const span = v.subarray(row * s.width + c.c0, row * s.width + c.c1);
+          const at = ((b * height + (top - (c.gy - row))) * width + col) * 4;
+          writeSync(fd, new Uint8Array(span.buffer, span.byteOffset, span.byteLength), 0, span.byteLength, at);
         }
       }
     } finally {
       closeSync(fd);
+    }
+  };
+  try {
+    for (const c of cores) {
+      const file = join(c.tile.outDir, c.tile.slices.file);
+      const r = await readGeoTiff(new Uint8Array(await readFile(file)));
+      const s = c.tile.slices;
+      if (r.width !== s.width || r.height !== s.height || r.bands.length < bands) {
+        throw new InputError(shownPath(file), `expected ${s.width} x ${s.height} cells and ${bands} bands (slices.json), found ${r.width} x ${r.height} and ${r.bands.length}`);
+      }
+      copy(raw, c, (b) => r.bands[s.slices[b]!.band - 1]!);
+      if (!before) continue;
+      // a tile without the stack before background removal (processed by `lamina process`): no second mosaic
+      const bb = await readBefore(c.tile, bands);
+      if (bb) copy(before, c, (b) => bb[b]!);
+      else {
+        before.remove();
+        before = undefined;
+      }
     }
     const grid = { crs: first.crs, originX: left * cell, originY: top * cell, cellSize: cell, width, height, nodata: first.nodata, metresPerUnit: first.metresPerUnit, isGeographic: first.isGeographic };
     const stats: SliceStats[] = [];
@@ -100,8 +137,12 @@ export async function writeMosaic(inputs: MergeInputs, outDir: string, scratchDi
     const cog = slicesCogOptions(grid, depths, gridding, {}, stats);
     const json = slicesJsonOf(grid, depths, stats, gridding);
     await writeSlicesFiles(outDir, json, (tmp) => encodeCogFile(raw, cog, tmp));
-    return { json, cells: width * height };
+    kept = options.keep === true;
+    return { json, cells: width * height, ...(kept ? { raw: { slices: raw, ...(before ? { before } : {}) } } : {}) };
   } finally {
-    raw.remove();
+    if (!kept) {
+      raw.remove();
+      before?.remove();
+    }
   }
 }
