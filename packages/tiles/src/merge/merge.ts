@@ -47,8 +47,10 @@ export interface MergeSummary {
   height: number;
   slices: number;
   anomalies: number;
-  /** Objects joined from pieces of two or more tiles. */
+  /** Objects joined from pieces of two or more tiles (0 when screened again). */
   joined: number;
+  /** The merged survey was screened again as one run (`MergeOptions.rescreen`). */
+  rescreened: boolean;
   decisions: number;
   unmatchedDecisions: number;
   exported: ExportResult;
@@ -131,6 +133,7 @@ export async function runMerge(tilesPath: string, outDir: string, options: Merge
       slices: mosaic.json.slices.length,
       anomalies: anomalies.count,
       joined: anomalies.joined,
+      rescreened: nearSurfaceM !== undefined,
       decisions: review.decisions,
       unmatchedDecisions: review.unmatched,
       exported,

@@ -83,7 +83,7 @@ type Fit = NonNullable<VelocityReport['hyperbolas']>[number] & { lineOrder?: num
  * screening's hyperbola evidence takes the first of equally near fits.
  */
 function asUntiled(inputs: MergeInputs, fits: Fit[], siteLines: { id: string; traces?: [number, number] }[]): Fit[] {
-  const pieces = new Map(inputs.tiles.flatMap((t) => t.entry.lines.map((l) => [`${t.entry.id}/${l.id}`, l] as const)));
+  const pieces = new Map<string, MergeInputs['tiles'][number]['entry']['lines'][number]>(inputs.tiles.flatMap((t) => t.entry.lines.map((l) => [`${t.entry.id}/${l.id}`, l] as const)));
   const lineIndex = new Map(siteLines.map((l, i) => [l.id, i]));
   const siteFirst = new Map(siteLines.map((l) => [l.id, l.traces?.[0] ?? 0]));
   const out = fits.map((f) => {
