@@ -292,7 +292,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
             velocityMPerNs: velocity.site.velocityMPerNs,
             windows,
             ...(keepLines ? { keptIn: stage.path } : {}),
-            ...(planAir ? { air: airObjectsFor(planAir, summaries[i]!, p1[i]!.timeZeroNs, airFits, site.crs.metresPerUnit) } : {}),
+            ...(planAir ? { air: airObjectsFor(planAir, summaries[i]!, p1[i]!.timeZeroNs, airFits, site.crs.metresPerUnit, p1[i]!.context) } : {}),
           }).then((res) => {
             waiting.set(i, res as Pass2Result);
             addParts(timer.lineMs, (res as Pass2Result).times);
