@@ -12,6 +12,7 @@ export function register(program: Command): void {
     .requiredOption('--out <dir>', 'output folder for the whole survey (replaced as a whole; its review.json is carried over)')
     .option('--tile-anomalies', "keep the tiles' own anomalies (each once, pieces joined at core edges) instead of screening the merged survey again as one run")
     .option('--band-memory <MiB>', 'memory for one screened band, as `lamina process --band-memory` (the same value gives the untiled run\'s bands)', Number.parseFloat)
+    .option('--band-overlap <m>', 'how far a screened band reaches past its core, as `lamina process --band-overlap`', Number.parseFloat)
     .option('-q, --quiet', 'no step names (default: each step on stderr)')
     .addHelpText(
       'after',
@@ -26,12 +27,14 @@ export function register(program: Command): void {
         'Example:\n  pnpm lamina merge tiles/tiles.json --out survey-out',
     )
     .action(
-      action(async (tiles: string, opts: { out: string; quiet?: boolean; tileAnomalies?: boolean; bandMemory?: number }) => {
+      action(async (tiles: string, opts: { out: string; quiet?: boolean; tileAnomalies?: boolean; bandMemory?: number; bandOverlap?: number }) => {
         if (opts.bandMemory !== undefined && !(opts.bandMemory > 0)) throw new InputError('command line', '--band-memory must be a positive number of MiB');
+        if (opts.bandOverlap !== undefined && !(opts.bandOverlap >= 0)) throw new InputError('command line', '--band-overlap must be a number of metres >= 0');
         const s = await runMerge(tiles, opts.out, {
           onStep: (step) => opts.quiet || process.stderr.write(`merge: ${step}\n`),
           ...(opts.tileAnomalies ? { rescreen: false } : {}),
           ...(opts.bandMemory !== undefined ? { screenBandBytes: opts.bandMemory * 2 ** 20 } : {}),
+          ...(opts.bandOverlap !== undefined ? { bandOverlapM: opts.bandOverlap } : {}),
         });
         const r = s.exported;
         process.stdout.write(

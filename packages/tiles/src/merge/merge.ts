@@ -26,6 +26,8 @@ export interface MergeOptions {
   rescreen?: boolean;
   /** Memory for one screened band (`lamina process --band-memory`). @default 384 MiB */
   screenBandBytes?: number;
+  /** How far a screened band reaches past its core, m (`lamina process --band-overlap`). @default as `process` */
+  bandOverlapM?: number;
 }
 
 /** Features of the interfaces and forecast files the screening wrote (run.json counts). */
@@ -99,6 +101,7 @@ export async function runMerge(tilesPath: string, outDir: string, options: Merge
       if (raw?.before) {
         const s = await rescreen(inputs, stage.path, mosaic.json, { slices: raw.slices, before: raw.before }, join(stage.path, 'velocity.json'), {
           ...(options.screenBandBytes !== undefined ? { screenBandBytes: options.screenBandBytes } : {}),
+          ...(options.bandOverlapM !== undefined ? { bandOverlapM: options.bandOverlapM } : {}),
         });
         // ids as the untiled run numbers them: the tiles' decisions find their anomaly by place and depth
         anomalies = { ids: new Map(), cut: new Set(), anchored: s.anchored, count: s.anomalies, joined: 0 };

@@ -21,6 +21,8 @@ type Recipe = Parameters<typeof sliceAndScreen>[6];
 export interface RescreenOptions {
   /** Memory for one screened band, as `lamina process --band-memory`: the untiled run's bands are the same when it is the same. @default 384 MiB */
   screenBandBytes?: number;
+  /** How far a band reaches past its core, m, as `lamina process --band-overlap`. @default as `process` */
+  bandOverlapM?: number;
   onProgress?: (stage: string, done: number, total: number) => void;
 }
 
@@ -132,5 +134,6 @@ export async function rescreen(inputs: MergeInputs, stageDir: string, json: Slic
     source: mosaicSource(json, raw.slices, raw.before, lines),
     onProgress: options.onProgress ?? (() => {}),
     ...(options.screenBandBytes !== undefined ? { screenBandBytes: options.screenBandBytes } : {}),
+    ...(options.bandOverlapM !== undefined ? { bandOverlapM: options.bandOverlapM } : {}),
   }, 1);
 }
