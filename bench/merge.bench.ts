@@ -2,9 +2,11 @@
 // site folders, e.g. those `LAMINA_BENCH_SCALE_KEEP=1 pnpm bench scale` keeps) is fitted once
 // (`lamina velocity`, the one model every tile must share), cut by `lamina tiles --velocity`,
 // every tile processed by `lamina process-tile` (two at a time, one thread each), and the tiles merged
-// by the built CLI under `/usr/bin/time -v` (peak RSS of the whole process). Figures: tiles, mosaic
-// cells, anomalies, wall s, peak RSS MB; with LAMINA_BENCH_MERGE_UNTILED=1 also the untiled `lamina process`
-// peak of the same site (2 threads), for scale.
+// by the built CLI under `/usr/bin/time -v` (peak RSS of the whole process): screened again as one run
+// (the default) and, side by side on the same tiles, with --tile-anomalies (the tiles' own anomalies
+// joined at core edges). Figures: tiles, mosaic cells, anomalies, wall s, peak RSS MB; with
+// LAMINA_BENCH_MERGE_UNTILED=1 also the untiled `lamina process --velocity` of the same site (2 threads):
+// its peak, and whether its anomalies.geojson equals the merge's byte for byte.
 // Usage: LAMINA_BENCH_MERGE_SITES=/tmp/site-0.25,/tmp/site-1 pnpm bench merge
 //   LAMINA_BENCH_MERGE_SIZE=50 LAMINA_BENCH_MERGE_OVERLAP=5   tile size and overlap, m
 //   LAMINA_BENCH_MERGE_KEEP=1                                 keep the tiles and outputs
@@ -49,7 +51,7 @@ async function processTiles(tilesDir: string, n: number, jobs: number): Promise<
 if (sites.length === 0) console.log('merge: give LAMINA_BENCH_MERGE_SITES (site folders; `LAMINA_BENCH_SCALE_KEEP=1 pnpm bench scale` makes some)');
 spawnSync(process.execPath, [join(root, 'apps/cli/build.mjs')], { cwd: root, stdio: 'ignore' });
 console.log(`cores ${availableParallelism()}, load ${loadavg().map((l) => l.toFixed(2)).join(' ')}; tiles of ${size} m, overlap ${overlap} m`);
-console.log('  input GiB  tiles  tiles s  mosaic cells  anomalies  merge s  merge peak RSS MB  untiled process peak RSS MB');
+console.log('  input GiB  tiles  tiles s  mosaic cells  anomalies  merge s  merge peak RSS MB  --tile-anomalies: anomalies  s  peak RSS MB  untiled process peak RSS MB  same anomalies as untiled');
 for (const site of sites) {
   const work = `${site}-merge-bench`;
   rmSync(work, { recursive: true, force: true });
@@ -66,8 +68,11 @@ for (const site of sites) {
   const merge = timed(['merge', tilesDir, '--out', join(work, 'merged'), '-q']);
   const slices = JSON.parse(readFileSync(join(work, 'merged', 'slices.json'), 'utf8')) as { width: number; height: number };
   const anomalies = /(\d+) anomalies/.exec(merge.stdout)?.[1] ?? '?';
-  const untiled = process.env.LAMINA_BENCH_MERGE_UNTILED === '1' ? timed(['process', site, '--out', join(work, 'untiled'), '--threads', '2', '-q']) : { rssMb: NaN };
+  const pieces = timed(['merge', tilesDir, '--out', join(work, 'merged-pieces'), '--tile-anomalies', '-q']);
+  const pieceAnomalies = /(\d+) anomalies/.exec(pieces.stdout)?.[1] ?? '?';
+  const untiled = process.env.LAMINA_BENCH_MERGE_UNTILED === '1' ? timed(['process', site, '--velocity', join(work, 'survey', 'velocity.json'), '--out', join(work, 'untiled'), '--threads', '2', '-q']) : { rssMb: NaN, ok: false };
+  const same = untiled.ok ? (readFileSync(join(work, 'untiled', 'anomalies.geojson'), 'utf8') === readFileSync(join(work, 'merged', 'anomalies.geojson'), 'utf8') ? 'yes' : 'NO') : '-';
   const gib = bytesOf(site) / 2 ** 30;
-  console.log(`  ${gib.toFixed(3).padStart(9)} ${String(n).padStart(6)} ${tilesS.toFixed(0).padStart(8)} ${String(slices.width * slices.height).padStart(13)} ${anomalies.padStart(10)} ${merge.wallS.toFixed(1).padStart(8)} ${merge.rssMb.toFixed(0).padStart(18)} ${untiled.rssMb.toFixed(0).padStart(28)}${merge.ok ? '' : ` MERGE FAILED ${merge.stderr}`}`);
+  console.log(`  ${gib.toFixed(3).padStart(9)} ${String(n).padStart(6)} ${tilesS.toFixed(0).padStart(8)} ${String(slices.width * slices.height).padStart(13)} ${anomalies.padStart(10)} ${merge.wallS.toFixed(1).padStart(8)} ${merge.rssMb.toFixed(0).padStart(18)} ${pieceAnomalies.padStart(28)} ${pieces.wallS.toFixed(1).padStart(2)} ${pieces.rssMb.toFixed(0).padStart(12)} ${untiled.rssMb.toFixed(0).padStart(28)} ${same.padStart(26)}${merge.ok ? '' : ` MERGE FAILED ${merge.stderr}`}${pieces.ok ? '' : ` --tile-anomalies FAILED ${pieces.stderr}`}`);
   if (process.env.LAMINA_BENCH_MERGE_KEEP !== '1') rmSync(work, { recursive: true, force: true });
 }

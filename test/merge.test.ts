@@ -1,8 +1,9 @@
 // `lamina merge` on tiles that cut the objects (issue 17): the tiny invented site (6 x 4 m, a pipe and a
-// post on x = 431253, which is a tile edge) in 3 m tiles with 1 m of overlap, so that pieces meet at core
-// edges and are joined. Checked: the folder's contract, the mosaic against the tiles' cores (GDAL), each
-// object once (OGR measures the joined outlines against the pieces cut to their cores), review decisions
-// carried over, and the refusals (a tile not processed, a tile on another grid) naming the tile.
+// post on x = 431253, which is a tile edge) in 3 m tiles with 1 m of overlap, so that objects cross core
+// edges. Checked: the folder's contract, the mosaic against the tiles' cores (GDAL), the survey screened
+// again as one run (its equality with the untiled run: test/batch-engines.test.ts); with --tile-anomalies
+// each object once (OGR measures the joined outlines against the pieces cut to their cores); review
+// decisions carried over, and the refusals (a tile not processed, a tile on another grid) naming the tile.
 import { execFile, execFileSync } from 'node:child_process';
 import { existsSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { mkdtemp } from 'node:fs/promises';
@@ -90,14 +91,31 @@ describe('lamina merge', () => {
     }
   });
 
-  it('writes one folder of the output contract; the mosaic is the tiles\' cores; each object once, pieces joined at core edges', async () => {
+  it('writes one folder of the output contract; the mosaic is the tiles\' cores; the survey screened again as one run', async () => {
     const out = join(work, 'merged');
-    await lamina('merge', tiles, '--out', out, '-q');
+    const r = await lamina('merge', tiles, '--out', out, '-q');
+    expect(r.stdout).toMatch(/screened as one run/);
     expect(await checkFolder(out)).toEqual(FOLDER_FILES.map(([f]) => f));
     for (const f of ['targets.gpkg', 'targets.csv', 'targets.dxf', 'report.html', 'slices.tif']) expect(existsSync(join(out, f)), f).toBe(true);
     expectMosaicOfCores(tiles, out);
     const cog = validateCog(join(out, 'slices.tif')); // GDAL's COG validator (osgeo_utils), --full-check=yes
     expect(cog.ok, cog.output).toBe(true);
+    // numbered as one run numbers them (shallowest first); nothing joined; the scratch mosaics are gone
+    const anomalies = json<{ features: Feature[] }>(join(out, 'anomalies.geojson')).features;
+    expect(anomalies.map((f) => f.properties.id)).toEqual(anomalies.map((_, i) => `A${String(i + 1).padStart(4, '0')}`));
+    expect(anomalies.some((f) => f.properties.mergedFrom)).toBe(false);
+    for (const f of ['mosaic.f32', 'mosaic-before.f32', 'slices-before.f32']) expect(existsSync(join(out, f)), f).toBe(false);
+    const known = new Set(anomalies.map((f) => f.properties.id));
+    for (const f of json<{ features: Feature[] }>(join(out, 'interfaces.geojson')).features) expect(known.has(String(f.properties.anomalyId))).toBe(true);
+    const run = json<{ log: { step: string; params?: Record<string, unknown> }[] }>(join(out, 'run.json'));
+    expect(run.log.find((e) => e.step === 'merge')?.params?.ids).toBe('screened again as one run');
+  });
+
+  it("with --tile-anomalies keeps the tiles' anomalies: each object once, pieces joined at core edges", async () => {
+    const out = join(work, 'merged-pieces');
+    await lamina('merge', tiles, '--out', out, '--tile-anomalies', '-q');
+    expect(await checkFolder(out)).toEqual(FOLDER_FILES.map(([f]) => f));
+    expectMosaicOfCores(tiles, out);
 
     const run = json<{ site: { name: string }; merge: { tiles: number } }>(join(out, 'run.json'));
     expect(run.site.name).toBe('tiny');
@@ -162,17 +180,20 @@ describe('lamina merge', () => {
     for (const f of json<{ features: Feature[] }>(join(out, 'interfaces.geojson')).features) expect(known.has(String(f.properties.anomalyId))).toBe(true);
   });
 
-  it("carries the tiles' review decisions over to the merged ids, and keeps the merged folder's own on a second merge", async () => {
+  it("carries the tiles' review decisions over to the merged anomalies (by place and depth), and keeps the merged folder's own on a second merge", async () => {
     const out = join(work, 'merged-review');
     await lamina('merge', tiles, '--out', out, '-q');
     const targets = json<{ features: { properties: Record<string, unknown> }[] }>(join(out, 'targets.geojson')).features;
     expect(targets.length).toBeGreaterThan(0);
     const target = String(targets[0]!.properties.anomalyId ?? targets[0]!.properties.id);
-    const pieceKey = (json<{ features: Feature[] }>(join(out, 'anomalies.geojson')).features.find((f) => f.properties.id === target)!.properties.mergedFrom as string[] | undefined)?.[0] ?? target;
-    const [tile, local] = pieceKey.split('/') as [string, string];
-    const t = manifest.tiles.find((x) => x.id === tile)!;
+    const mine = json<{ features: Feature[] }>(join(out, 'anomalies.geojson')).features.find((f) => f.properties.id === target)!.properties;
+    // the tile anomaly nearest the merged target at its depth: a decision a surveyor made on that tile
+    const at = mine.centroid as [number, number];
+    const near = manifest.tiles.flatMap((t) => json<{ features: Feature[] }>(join(tiles, `${t.dir}-out`, 'anomalies.geojson')).features.map((f) => ({ t, f })));
+    const gap = (f: Feature) => Math.hypot((f.properties.centroid as number[])[0]! - at[0], (f.properties.centroid as number[])[1]! - at[1]) + Math.abs(f.properties.depthTopM - mine.depthTopM);
+    const { t, f: a } = near.reduce((b, x) => (gap(x.f) < gap(b.f) ? x : b));
+    const local = a.properties.id;
     const tileOut = join(tiles, `${t.dir}-out`);
-    const a = json<{ features: Feature[] }>(join(tileOut, 'anomalies.geojson')).features.find((f) => f.properties.id === local)!;
     const c = a.properties.centroid as [number, number];
     const review = json<{ decisions: unknown[] }>(join(tileOut, 'review.json'));
     const saved = JSON.stringify(review);

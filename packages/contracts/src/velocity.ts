@@ -40,6 +40,8 @@ export const hyperbolaSchema = z.object({
     .object({ feature: z.string(), angleDeg: num, apparentVelocityMPerNs: num, apparentDepthM: num, apparentRadiusM: num.optional(), lines: num })
     .optional(),
   lineDirection: z.tuple([num, num]).optional(),
+  /** Place of the fit in its whole line's list (a tile's run, `lamina process-tile`; the merge restores the order of an untiled run with it). */
+  lineOrder: num.optional(),
 });
 export type VelocityHyperbola = z.infer<typeof hyperbolaSchema>;
 

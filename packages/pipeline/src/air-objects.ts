@@ -3,6 +3,7 @@ import type { AirObjects } from '@lamina/processing';
 import { reflectorsOf } from '@lamina/screening';
 import type { PlanFeature } from '@lamina/site';
 import type { HyperbolaFit } from '@lamina/velocity';
+import type { Pass1Result } from './line-task';
 import type { LineSummary } from './outputs';
 
 /**
@@ -28,7 +29,7 @@ export function planAirObjects(plan: PlanFeature[], metresPerUnit: number): AirO
  * travels c t / 2 out in the record's time t) and the apexes of the air-velocity fits made on it
  * (velocity.json `origin: above-ground`).
  */
-export function airObjectsFor(all: AirObjects, line: LineSummary, timeZeroNs: number, fits: readonly HyperbolaFit[], metresPerUnit: number): AirObjects {
+export function airObjectsFor(all: AirObjects, line: LineSummary, timeZeroNs: number, fits: readonly HyperbolaFit[], metresPerUnit: number, context?: Pass1Result['context']): AirObjects {
   const reach = (C_M_PER_NS * ((line.samples - 1) * line.dtNs - timeZeroNs)) / 2 / metresPerUnit;
   let x0 = Infinity, x1 = -Infinity, y0 = Infinity, y1 = -Infinity;
   for (let i = 0; i < line.x.length; i++) {
@@ -37,6 +38,8 @@ export function airObjectsFor(all: AirObjects, line: LineSummary, timeZeroNs: nu
     y0 = Math.min(y0, line.y[i]!);
     y1 = Math.max(y1, line.y[i]!);
   }
+  // a piece is cleaned on its whole context (pass 2): the context's reach and apexes, as a run of the whole line
+  if (context) [x0, y0, x1, y1] = context.box;
   const near = (ax: number, ay: number, bx: number, by: number) =>
     Math.max(ax, bx) >= x0 - reach && Math.min(ax, bx) <= x1 + reach && Math.max(ay, by) >= y0 - reach && Math.min(ay, by) <= y1 + reach;
   const points: number[] = [];
@@ -45,7 +48,7 @@ export function airObjectsFor(all: AirObjects, line: LineSummary, timeZeroNs: nu
   const segments: number[] = [];
   const s = all.segments;
   for (let i = 0; i + 4 < s.length; i += 5) if (near(s[i]!, s[i + 1]!, s[i + 2]!, s[i + 3]!)) segments.push(s[i]!, s[i + 1]!, s[i + 2]!, s[i + 3]!, s[i + 4]!);
-  const apexes: number[] = [];
-  for (const f of fits) if (f.line === line.id && f.origin === 'above-ground') apexes.push(f.trace, f.t0Ns);
+  const apexes: number[] = context ? [...context.airApexes] : [];
+  if (!context) for (const f of fits) if (f.line === line.id && f.origin === 'above-ground') apexes.push(f.trace, f.t0Ns);
   return { points: Float64Array.from(points), segments: Float64Array.from(segments), apexes: Float64Array.from(apexes) };
 }

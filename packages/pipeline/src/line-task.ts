@@ -32,6 +32,12 @@ export interface Pass1Task {
   picks?: { hyperbola: ManualHyperbola; index: number }[];
   /** picks.json as shown in messages. */
   picksFile?: string;
+  /**
+   * Number each fit by its place in the list of its whole line (the context's, for a piece): velocity.json
+   * `lineOrder`, so that a merge of tiles lists the fits of a line in the order a run of the whole line
+   * gives them (screening takes the first of equally near fits). @default false
+   */
+  fitOrder?: boolean;
 }
 export interface Pass1Result {
   summary: LineSummary;
@@ -45,6 +51,12 @@ export interface Pass1Result {
   dtNs: number;
   /** Milliseconds of each part of this line's work (`ProcessTimings.lineWork`). */
   times: PartTimes;
+  /**
+   * A piece processed with its context (a tile's): what the `airEvents` step of pass 2, which runs on the
+   * context, needs of it: the above-ground fits' apexes on the context ([trace in the context, t0 ns]
+   * pairs; `fits` hold the piece's only, on the piece's traces) and the context's plan box [x0, y0, x1, y1].
+   */
+  context?: { airApexes: number[]; box: [number, number, number, number] };
   /** The kept line (`keepInMemory`), for `Pass2Task.kept`. */
   kept?: KeptLine;
 }
@@ -200,7 +212,17 @@ async function pass1Rest(task: Pass1Task, s: Site, src: LineSource, whole: Radar
           metresPerUnit: s.crs.metresPerUnit,
           frequencyMHz: s.antenna.frequencyMHz,
         });
+  if (task.fitOrder) fits.forEach((f, k) => ((f as HyperbolaFit & { lineOrder?: number }).lineOrder = k));
+  let onContext: Pass1Result['context'];
   if (line !== whole) {
+    let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
+    for (let t = 0; t < whole.nTraces; t++) {
+      x0 = Math.min(x0, whole.x[t]!);
+      x1 = Math.max(x1, whole.x[t]!);
+      y0 = Math.min(y0, whole.y[t]!);
+      y1 = Math.max(y1, whole.y[t]!);
+    }
+    onContext = { airApexes: fits.filter((f) => f.origin === 'above-ground').flatMap((f) => [f.trace, f.t0Ns]), box: [x0, y0, x1, y1] };
     // fits of the piece, with the trace and along-line offsets of the piece (its radargram)
     const from = src.traces![0] - src.context![0];
     const startM = alongTrackM(whole, s.crs.metresPerUnit)[from] as number;
@@ -223,6 +245,7 @@ async function pass1Rest(task: Pass1Task, s: Site, src: LineSource, whole: Radar
     log,
     radargramEntry,
     direction: lineDirection(line),
+    ...(onContext ? { context: onContext } : {}),
     timeZeroNs: line.timeZeroNs,
     nSamples: line.nSamples,
     dtNs: line.dtNs,

@@ -67,6 +67,11 @@ export interface ProcessOptions {
    */
   keepLinesInMemoryBytes?: number;
   /**
+   * Also write what `lamina merge` needs to screen the whole survey again (a tile's run; `SCREEN_INPUTS`
+   * of slice-and-screen.ts: the stack before background removal and the lines' trace positions). @default false
+   */
+  keepScreenInputs?: boolean;
+  /**
    * velocity.json of the whole survey (`lamina velocity`, or the tiles' shared model): its site velocity
    * and model are used for depth and screening instead of this run's own fit. @default none
    */
@@ -235,7 +240,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     progress('processing lines', 0, n);
     const pass1Done = timer.start('pass 1: process lines, hyperbolas');
     const run1 = (i: number, detect: boolean) =>
-      exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path, detect, keepLine: keepLines, keepInMemory, ...(picks?.has(i) ? { picks: picks.get(i), picksFile: shownPath(picksFile) } : {}) }) as Promise<Pass1Result>;
+      exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path, detect, keepLine: keepLines, keepInMemory, ...(options.keepScreenInputs ? { fitOrder: true } : {}), ...(picks?.has(i) ? { picks: picks.get(i), picksFile: shownPath(picksFile) } : {}) }) as Promise<Pass1Result>;
     const p1 = options.sampleVelocityLines
       ? await pass1Sampled(n, Math.max(1, threads), run1, { metresPerUnit: site.crs.metresPerUnit }, (d) => progress('processing lines', d, n))
       : ((await inOrder(n, (i) => run1(i, true), (d) => progress('processing lines', d, n))) as Pass1Result[]);
@@ -297,7 +302,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
             velocityMPerNs: velocity.site.velocityMPerNs,
             windows,
             ...(keepLines ? (kept ? { kept } : { keptIn: stage.path }) : {}),
-            ...(planAir ? { air: airObjectsFor(planAir, summaries[i]!, p1[i]!.timeZeroNs, airFits, site.crs.metresPerUnit) } : {}),
+            ...(planAir ? { air: airObjectsFor(planAir, summaries[i]!, p1[i]!.timeZeroNs, airFits, site.crs.metresPerUnit, p1[i]!.context) } : {}),
           }, keptBuffers(kept)).then((res) => {
             waiting.set(i, res as Pass2Result);
             addParts(timer.lineMs, (res as Pass2Result).times);

@@ -1,8 +1,9 @@
+import { open, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Site } from '@lamina/site';
 import { pointToWgs84 } from '@lamina/site';
 import { nearSurfaceDepthM, type VelocityReport } from '@lamina/velocity';
-import { DiskStack, SpillGridder, writeSlicesFromDisk, type PointSpill, type SliceWindow } from '@lamina/slices';
+import { DiskStack, SpillGridder, writeSlicesFromDisk, type GriddingInfo, type PointSpill, type SliceGrid, type SliceStack, type SliceWindow } from '@lamina/slices';
 import type { Recipe } from '@lamina/processing';
 import { CAUTION } from '@lamina/constants';
 import type { InterfaceProperties } from '@lamina/contracts';
@@ -25,6 +26,40 @@ export interface SliceAndScreenOptions {
   onProgress: (stage: string, done: number, total: number) => void;
   /** The run's stage timers (gridding, screening, writing are timed apart). @default a timer of its own */
   timer?: StageTimer;
+  /**
+   * Also write what a merge needs to screen the whole survey again (a tile's run, `lamina process-tile`):
+   * the stack before background removal (`slices-before.f32`) and the lines' trace positions
+   * (`screen-lines.f64`, `screen-lines.json`; see `SCREEN_INPUTS`). @default false
+   */
+  keepScreenInputs?: boolean;
+  /**
+   * Screen these rows instead of gridding `spill` (a merge of tiles: the mosaics of their stacks); the
+   * caller has written slices.tif, so it is not written here. @default grid the spill
+   */
+  source?: ScreenSource;
+}
+
+/** Files of `keepScreenInputs` in the output folder. */
+export const SCREEN_INPUTS = { before: 'slices-before.f32', positions: 'screen-lines.f64', lines: 'screen-lines.json' } as const;
+
+/** screen-lines.json: the lines of `screen-lines.f64` (x, y Float64 LE per trace, line after line). */
+export interface ScreenLinesJson {
+  /** Line ids, in the run's order. */
+  lines: string[];
+  /** Trace count of each line. */
+  traces: number[];
+}
+
+/** Rows of a survey's two stacks (after and before background removal) and its lines' trace positions: what screening reads. */
+export interface ScreenSource {
+  grid: SliceGrid;
+  gridding: GriddingInfo | undefined;
+  /** Rows [first, last) of the stack and of the stack before background removal. */
+  rows(first: number, last: number): Promise<[SliceStack, SliceStack]>;
+  /** First trace of each line and the end (as `PointSpill.lineStarts`). */
+  lineStarts(): Int32Array;
+  /** x, y of traces [a, b), interleaved. */
+  readCoords(a: number, b: number): Float64Array;
 }
 
 export type Anchored = { id: string; lon: number; lat: number; depthTopM: number; depthBottomM: number };
@@ -58,7 +93,7 @@ const BYTES_PER_CELL_SLICE = 70;
 export async function sliceAndScreen(
   site: Site,
   stageDir: string,
-  spill: PointSpill,
+  spill: PointSpill | undefined,
   ids: string[],
   windows: SliceWindow[],
   velocity: VelocityReport,
@@ -70,7 +105,8 @@ export async function sliceAndScreen(
   const timer = options.timer ?? new StageTimer();
   const toWgs84 = (x: number, y: number) => pointToWgs84(site.crs, x, y);
   const gridPlanned = timer.start('gridding');
-  const gridder = SpillGridder.open(spill, windows, {
+  const given = options.source;
+  const gridder = given ?? SpillGridder.open(spill!, windows, {
     crs: site.crs.code ?? site.crs.proj4,
     metresPerUnit: mpu,
     isGeographic: site.crs.isGeographic,
@@ -85,8 +121,9 @@ export async function sliceAndScreen(
   // Screening's view of the lines: positions thinned to one trace per grid cell (first and last kept),
   // read back from the spill one line at a time for each band (only the band's pieces are held), and the
   // line spacing from every trace.
-  const starts = spill.lineStarts();
-  const positions = { lineStarts: starts, line: (l: number) => spill.readCoords(starts[l]!, starts[l + 1]!) };
+  const coords: Pick<ScreenSource, 'lineStarts' | 'readCoords'> = given ?? spill!;
+  const starts = coords.lineStarts();
+  const positions = { lineStarts: starts, line: (l: number) => coords.readCoords(starts[l]!, starts[l + 1]!) };
   const thinned = (l: number): Line => {
     const c = positions.line(l);
     const m = c.length / 2;
@@ -124,7 +161,9 @@ export async function sliceAndScreen(
   const maxRows = Math.max(1, Math.floor((options.screenBandBytes ?? 384 * 2 ** 20) / (BYTES_PER_CELL_SLICE * width * Math.max(1, windows.length))));
   const bands = screenBands(height, maxRows, overlap);
 
-  const disk = DiskStack.create(join(stageDir, `.slices-${process.pid}.raw`), grid, windows);
+  const disk = given ? undefined : DiskStack.create(join(stageDir, `.slices-${process.pid}.raw`), grid, windows);
+  const beforeDisk = options.keepScreenInputs ? DiskStack.create(join(stageDir, SCREEN_INPUTS.before), grid, windows) : undefined;
+  if (options.keepScreenInputs && spill) await writeScreenLines(stageDir, spill, ids);
   const kept = new FeatureSpill<GeoJsonFeature>(stageDir);
   const surveyed = new Uint8Array(width * height);
   const joiner = new BandJoin({ toWgs84, metresPerUnit: mpu });
@@ -136,7 +175,8 @@ export async function sliceAndScreen(
       options.onProgress('air-wave screening', b, bands.length);
       const [stack, before] = await timer.time('gridding', () => gridder.rows(band.first, band.last));
       const c0 = (band.coreFirst - band.first) * width, c1 = (band.coreLast - band.first) * width;
-      timer.time('slices.tif', () => disk.writeRows(band.coreFirst, stack!.slices.map((s) => s.values.subarray(c0, c1))));
+      timer.time('slices.tif', () => disk?.writeRows(band.coreFirst, stack!.slices.map((s) => s.values.subarray(c0, c1))));
+      beforeDisk?.writeRows(band.coreFirst, before!.slices.map((s) => s.values.subarray(c0, c1)));
       const screeningDone = timer.start('air-wave screening');
       surveyed.set(surveyedMask(stack!).subarray(c0, c1), band.coreFirst * width);
       const screened = screenSite(
@@ -164,8 +204,10 @@ export async function sliceAndScreen(
       screeningDone();
     }
     options.onProgress('air-wave screening', bands.length, bands.length);
-    await timer.time('slices.tif', () => writeSlicesFromDisk(disk, stageDir, gridder.gridding));
-    disk.remove();
+    if (disk) {
+      await timer.time('slices.tif', () => writeSlicesFromDisk(disk, stageDir, gridder.gridding));
+      disk.remove();
+    }
     const featuresDone = timer.start('anomalies.geojson, forecast');
 
     const anchored: Anchored[] = [];
@@ -200,10 +242,29 @@ export async function sliceAndScreen(
     await writeFeatureCollection(join(stageDir, 'forecast.geojson'), forecast);
     featuresDone();
     return { anchored, ...counts, bands: bands.length, nearSurfaceM };
+  } catch (e) {
+    beforeDisk?.remove();
+    throw e;
   } finally {
-    disk.remove();
+    disk?.remove();
     kept.remove();
   }
+}
+
+/** screen-lines.json and screen-lines.f64 of `keepScreenInputs`: every line's trace positions, one line at a time. */
+async function writeScreenLines(dir: string, spill: PointSpill, ids: string[]): Promise<void> {
+  const starts = spill.lineStarts();
+  const fh = await open(join(dir, SCREEN_INPUTS.positions), 'w');
+  try {
+    for (let l = 0; l < ids.length; l++) {
+      const c = spill.readCoords(starts[l]!, starts[l + 1]!);
+      await fh.write(new Uint8Array(c.buffer, c.byteOffset, c.byteLength));
+    }
+  } finally {
+    await fh.close();
+  }
+  const json: ScreenLinesJson = { lines: ids, traces: ids.map((_, l) => starts[l + 1]! - starts[l]!) };
+  await writeFile(join(dir, SCREEN_INPUTS.lines), `${JSON.stringify(json)}\n`);
 }
 
 /**

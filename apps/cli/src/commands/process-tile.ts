@@ -57,7 +57,8 @@ export function register(program: Command): void {
           process.stdout.write(`tile ${index} (${tile.id}) is finished in ${outDir}: skipped (--force to process it again)\n`);
           return;
         }
-        const options: ProcessOptions = {};
+        // the merge screens the whole survey again from the tiles' stacks and line positions
+        const options: ProcessOptions = { keepScreenInputs: true };
         if (manifest.velocity) {
           const file = join(dir, manifest.velocity);
           if (!(await stat(file).catch(() => undefined))) throw new InputError(file, "expected the survey's velocity.json that tiles.json names, found no file");

@@ -105,7 +105,7 @@ export async function mergeVelocity(inputs: MergeInputs, stageDir: string): Prom
 }
 
 /** run.json of the merge: the first tile's run (recipe, CRS, antenna) for the survey, and what was merged. */
-export function mergedRun(inputs: MergeInputs, identity: SiteIdentity, extentSite: [number, number, number, number], now: Date, counts: Record<string, number>): RunJson {
+export function mergedRun(inputs: MergeInputs, identity: SiteIdentity, extentSite: [number, number, number, number], now: Date, counts: Record<string, number>, screenedNearSurfaceM?: number): RunJson {
   const { manifest, tiles } = inputs;
   const r = tiles[0]!.run;
   const nearSurface = tiles.map((t) => t.run.nearSurfaceM).filter((v): v is number => v !== undefined);
@@ -114,9 +114,9 @@ export function mergedRun(inputs: MergeInputs, identity: SiteIdentity, extentSit
     createdAt: now.toISOString(),
     site: { ...r.site, name: manifest.site.name, dir: manifest.site.dir, extentWgs84: identity.extent, extentSite },
     identity,
-    ...(nearSurface.length > 0 ? { nearSurfaceM: Math.max(...nearSurface) } : {}),
+    ...(screenedNearSurfaceM !== undefined ? { nearSurfaceM: screenedNearSurfaceM } : nearSurface.length > 0 ? { nearSurfaceM: Math.max(...nearSurface) } : {}),
     ...(r.recipe !== undefined ? { recipe: r.recipe } : {}),
-    log: [...(r.log ?? []), { step: 'merge', params: { tiles: tiles.length, sizeM: manifest.sizeM, overlapM: manifest.overlapM, ids: '<tile id>/<id in the tile>' }, result: counts }],
+    log: [...(r.log ?? []), { step: 'merge', params: { tiles: tiles.length, sizeM: manifest.sizeM, overlapM: manifest.overlapM, ids: screenedNearSurfaceM !== undefined ? 'screened again as one run' : '<tile id>/<id in the tile>' }, result: counts }],
     lines: tiles.flatMap((t) => (t.run.lines ?? []).map((l) => ({ ...l, id: `${t.entry.id}/${l.id}` }))),
     merge: { tiles: tiles.length, manifest: shownPath(join(inputs.dir, 'tiles.json')), tileIds: tiles.map((t) => t.entry.id) },
   } as RunJson;

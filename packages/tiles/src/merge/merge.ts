@@ -4,19 +4,40 @@ import { join } from 'node:path';
 import { lockFolder, stageFolder, type FolderLock } from '@lamina/atomic';
 import type { SiteIdentity } from '@lamina/contracts';
 import { shownPath } from '@lamina/site';
-import { exportTargets, type ExportResult } from '@lamina/targets';
-import { mergeAnomalies } from './anomalies';
+import { exportTargets, streamFeatures, type ExportResult } from '@lamina/targets';
+import { mergeAnomalies, type AnomalyMerge } from './anomalies';
 import { mergeLines, mergePlan, mergeVelocity, mergedRun } from './folder';
 import { readMergeInputs } from './inputs';
 import { writeMosaic } from './mosaic';
 import { mergeOverlays } from './overlays';
 import { mergeReview } from './review';
+import { canRescreen, rescreen } from './rescreen';
 
 export interface MergeOptions {
   /** Time written into run.json and the exports. @default new Date() */
   now?: Date;
   /** Stage name of each step as it starts, for progress. @default none */
   onStep?: (step: string) => void;
+  /**
+   * Screen the merged survey again as one run (`rescreen`) when every tile wrote its screening inputs
+   * (`lamina process-tile` does); false, or tiles without them, keep the tiles' anomalies, each once,
+   * pieces joined across core edges (`mergeAnomalies`). @default true
+   */
+  rescreen?: boolean;
+  /** Memory for one screened band (`lamina process --band-memory`). @default 384 MiB */
+  screenBandBytes?: number;
+  /** How far a screened band reaches past its core, m (`lamina process --band-overlap`). @default as `process` */
+  bandOverlapM?: number;
+}
+
+/** Features of the interfaces and forecast files the screening wrote (run.json counts). */
+async function countOverlays(dir: string): Promise<{ interfaces: number; forecast: number }> {
+  const count = async (f: string) => {
+    let n = 0;
+    for await (const _ of streamFeatures(join(dir, f))) n++;
+    return n;
+  };
+  return { interfaces: await count('interfaces.geojson'), forecast: await count('forecast.geojson') };
 }
 
 export interface MergeSummary {
@@ -28,8 +49,10 @@ export interface MergeSummary {
   height: number;
   slices: number;
   anomalies: number;
-  /** Objects joined from pieces of two or more tiles. */
+  /** Objects joined from pieces of two or more tiles (0 when screened again). */
   joined: number;
+  /** The merged survey was screened again as one run (`MergeOptions.rescreen`). */
+  rescreened: boolean;
   decisions: number;
   unmatchedDecisions: number;
   exported: ExportResult;
@@ -64,16 +87,38 @@ export async function runMerge(tilesPath: string, outDir: string, options: Merge
     const identity: SiteIdentity = { name: inputs.manifest.site.name, crs: inputs.tiles[0]!.run.identity.crs, extent: union(inputs.tiles.map((t) => t.run.identity.extent)) };
     const extentSite = union(inputs.tiles.map((t) => t.run.site.extentSite ?? (t.entry.core as [number, number, number, number])));
     step('slices');
-    const mosaic = await writeMosaic(inputs, stage.path, stage.path);
-    step('anomalies');
-    const anomalies = await mergeAnomalies(inputs, stage.path);
-    const overlays = await mergeOverlays(inputs, anomalies, stage.path);
-    step('lines, radargrams, velocity');
+    const again = (options.rescreen ?? true) && (await canRescreen(inputs));
+    const mosaic = await writeMosaic(inputs, stage.path, stage.path, { keep: again });
+    let anomalies: AnomalyMerge;
+    let overlays: { interfaces: number; forecast: number };
+    let hyperbolas: number;
+    let nearSurfaceM: number | undefined;
+    try {
+      step('lines, radargrams, velocity');
+      hyperbolas = await mergeVelocity(inputs, stage.path);
+      step('anomalies');
+      const raw = mosaic.raw;
+      if (raw?.before) {
+        const s = await rescreen(inputs, stage.path, mosaic.json, { slices: raw.slices, before: raw.before }, join(stage.path, 'velocity.json'), {
+          ...(options.screenBandBytes !== undefined ? { screenBandBytes: options.screenBandBytes } : {}),
+          ...(options.bandOverlapM !== undefined ? { bandOverlapM: options.bandOverlapM } : {}),
+        });
+        // ids as the untiled run numbers them: the tiles' decisions find their anomaly by place and depth
+        anomalies = { ids: new Map(), cut: new Set(), anchored: s.anchored, count: s.anomalies, joined: 0 };
+        overlays = await countOverlays(stage.path);
+        nearSurfaceM = s.nearSurfaceM;
+      } else {
+        anomalies = await mergeAnomalies(inputs, stage.path);
+        overlays = await mergeOverlays(inputs, anomalies, stage.path);
+      }
+    } finally {
+      mosaic.raw?.slices.remove();
+      mosaic.raw?.before?.remove();
+    }
     const lines = await mergeLines(inputs, stage.path);
     const plan = await mergePlan(inputs, stage.path);
-    const hyperbolas = await mergeVelocity(inputs, stage.path);
     const counts = { anomalies: anomalies.count, joined: anomalies.joined, interfaces: overlays.interfaces, forecast: overlays.forecast, lines, planFeatures: plan, hyperbolas };
-    const run = mergedRun(inputs, identity, extentSite, now, counts);
+    const run = mergedRun(inputs, identity, extentSite, now, counts, nearSurfaceM);
     await writeFile(join(stage.path, 'run.json'), `${JSON.stringify(run, null, 1)}\n`);
     step('review, targets');
     writeLock = await lockFolder(outDir, { what: 'lamina merge', waitMs: 120_000, shown: shownPath(outDir) });
@@ -91,6 +136,7 @@ export async function runMerge(tilesPath: string, outDir: string, options: Merge
       slices: mosaic.json.slices.length,
       anomalies: anomalies.count,
       joined: anomalies.joined,
+      rescreened: nearSurfaceM !== undefined,
       decisions: review.decisions,
       unmatchedDecisions: review.unmatched,
       exported,
