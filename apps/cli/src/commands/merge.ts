@@ -10,9 +10,9 @@ export function register(program: Command): void {
     .description('merge the processed tiles of a tiles.json into one output folder of `lamina process` (slices mosaic, anomalies once, review, targets, report)')
     .argument('<tiles>', 'tiles.json (or its folder), written by `lamina tiles`; every tile processed into <tile>-out (`lamina process-tile`)')
     .requiredOption('--out <dir>', 'output folder for the whole survey (replaced as a whole; its review.json is carried over)')
-    .option('--tile-anomalies', "keep the tiles' own anomalies (each once, pieces joined at core edges) instead of screening the merged survey again as one run")
-    .option('--band-memory <MiB>', 'memory for one screened band, as `lamina process --band-memory` (the same value gives the untiled run\'s bands)', Number.parseFloat)
-    .option('--band-overlap <m>', 'how far a screened band reaches past its core, as `lamina process --band-overlap`', Number.parseFloat)
+    .option('--tile-anomalies', "keep the tiles' own anomalies (each once, pieces joined at core edges) instead of screening the merged survey again as one run (default: off)")
+    .option('--band-memory <MiB>', 'memory for one screened band, MiB, as for `lamina process`: the same value gives the untiled run\'s bands (default: 384)', Number.parseFloat)
+    .option('--band-overlap <m>', 'how far a screened band reaches past its core, metres, as for `lamina process` (default: 20 or 2.5 x the deepest air-wave radius)', Number.parseFloat)
     .option('-q, --quiet', 'no step names (default: each step on stderr)')
     .addHelpText(
       'after',
