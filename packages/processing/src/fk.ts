@@ -168,13 +168,21 @@ function acrossTraces(spec: Float64Array, nx: number, nw: number, inverse: boole
       else fx.transform(res, col);
       col.set(res);
     }
-    for (let i = 0; i < nx; i++) {
-      const o = 2 * (i * nw + m0);
-      for (let b = 0; b < nb; b++) {
-        const col = cols[b] as Float64Array;
-        spec[o + 2 * b] = col[2 * i] as number;
-        spec[o + 2 * b + 1] = col[2 * i + 1] as number;
-      }
+    scatterColumns(cols, nb, nx, nw, m0, spec);
+  }
+}
+
+/**
+ * Writes the first `nb` complex columns of `cols` (length n each) back into a row-major complex array of
+ * `stride` bins per row, as bins m0 .. m0 + nb - 1 of rows 0 .. n - 1 (the transpose's way back).
+ */
+export function scatterColumns(cols: readonly Float64Array[], nb: number, n: number, stride: number, m0: number, out: Float64Array): void {
+  for (let i = 0; i < n; i++) {
+    const o = 2 * (i * stride + m0);
+    for (let b = 0; b < nb; b++) {
+      const col = cols[b] as Float64Array;
+      out[o + 2 * b] = col[2 * i] as number;
+      out[o + 2 * b + 1] = col[2 * i + 1] as number;
     }
   }
 }

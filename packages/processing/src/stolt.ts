@@ -1,5 +1,5 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, packTracePair, paddedSizes, scratch, shiftSpectrum, type FkLineOptions } from './fk';
+import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, packTracePair, paddedSizes, scatterColumns, scratch, shiftSpectrum, type FkLineOptions } from './fk';
 import { fftOfSize, inverseUnscaled } from './fft';
 
 export interface StoltOptions extends FkLineOptions {
@@ -316,14 +316,7 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
         inverseUnscaled(fx, res, col);
         col.set(res);
       }
-      for (let i = 0; i < nTraces; i++) {
-        const o = 2 * (i * nm + m0);
-        for (let c = 0; c < nbk; c++) {
-          const col = cols[c] as Float64Array;
-          ht[o + 2 * c] = col[2 * i] as number;
-          ht[o + 2 * c + 1] = col[2 * i + 1] as number;
-        }
-      }
+      scatterColumns(cols, nbk, nTraces, nm, m0, ht);
     }
     // in time, two real traces per complex inverse: ifft(A + iB) = a + ib for Hermitian A, B (bins past jHi stay 0)
     for (let i = 0; i < nTraces; i += 2) {
