@@ -6,22 +6,16 @@
 // joins the tiles and the result is compared with the untiled `lamina process` of the site with the same
 // model: equal cell for cell, though every line is cut into pieces, and every anomaly, utility and target
 // the same, on tile edges too (what is compared and why: test/merge-compare.ts).
-import { execFile, execFileSync, spawnSync } from 'node:child_process';
+import { spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { mkdtemp } from 'node:fs/promises';
 import { hostname, tmpdir, cpus } from 'node:os';
-import { dirname, join, resolve } from 'node:path';
-import { fileURLToPath } from 'node:url';
-import { promisify } from 'node:util';
+import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { FOLDER_FILES, checkFolder } from '@lamina/contracts';
 import { compareWithUntiled, expectMosaicOfCores } from './merge-compare';
+import { env, root, lamina, buildCli } from './built-cli';
 
-const run = promisify(execFile);
-const root = resolve(dirname(fileURLToPath(import.meta.url)), '..');
-const cli = join(root, 'apps/cli/dist/lamina.mjs');
-const env = { ...process.env, LAMINA_PROGRESS: '0', LAMINA_THREADS: '1' };
-const lamina = (...args: string[]) => run(process.execPath, [cli, ...args], { cwd: root, env, maxBuffer: 1 << 26 });
 
 let work: string;
 
@@ -74,7 +68,7 @@ function expectTilesDone(dir: string): void {
 
 beforeAll(async () => {
   work = await mkdtemp(join(tmpdir(), 'lamina-batch-'));
-  execFileSync(process.execPath, [join(root, 'apps/cli/build.mjs')], { cwd: root, stdio: 'ignore' });
+  buildCli();
   await lamina('simulate', join(root, 'test/fixtures/tiny-scenario.json'), '--out', join(work, 'site'));
   await lamina('velocity', join(work, 'site'), '--out', join(work, 'survey'));
   await lamina('process', join(work, 'site'), '--velocity', join(work, 'survey', 'velocity.json'), '--out', join(work, 'untiled'));

@@ -5,28 +5,21 @@
 // every line into pieces and put the post on a tile edge. Compared as test/batch-engines.test.ts compares
 // (test/merge-compare.ts): every cell bit for bit (GDAL), every anomaly one to one, and anomalies.geojson,
 // forecast.geojson and targets.csv byte for byte.
-import { execFile, execFileSync } from 'node:child_process';
 import { readFileSync, writeFileSync } from 'node:fs';
 import { mkdtemp } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
-import { dirname, join, resolve } from 'node:path';
-import { fileURLToPath } from 'node:url';
-import { promisify } from 'node:util';
+import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { defaultRecipe, withAirEvents } from '@lamina/processing';
 import { compareWithUntiled } from './merge-compare';
+import { root, lamina, buildCli } from './built-cli';
 
-const run = promisify(execFile);
-const root = resolve(dirname(fileURLToPath(import.meta.url)), '..');
-const cli = join(root, 'apps/cli/dist/lamina.mjs');
-const env = { ...process.env, LAMINA_PROGRESS: '0', LAMINA_THREADS: '1' };
-const lamina = (...args: string[]) => run(process.execPath, [cli, ...args], { cwd: root, env, maxBuffer: 1 << 26 });
 
 let work: string;
 
 beforeAll(async () => {
   work = await mkdtemp(join(tmpdir(), 'lamina-merge-air-'));
-  execFileSync(process.execPath, [join(root, 'apps/cli/build.mjs')], { cwd: root, stdio: 'ignore' });
+  buildCli();
   const site = join(work, 'site');
   await lamina('simulate', join(root, 'test/fixtures/tiny-scenario.json'), '--out', site);
   const json = JSON.parse(readFileSync(join(site, 'site.json'), 'utf8')) as { antenna: { frequencyMHz: number }; recipe?: unknown };

@@ -4,23 +4,16 @@
 // again as one run (its equality with the untiled run: test/batch-engines.test.ts); with --tile-anomalies
 // each object once (OGR measures the joined outlines against the pieces cut to their cores); review
 // decisions carried over, and the refusals (a tile not processed, a tile on another grid) naming the tile.
-import { execFile, execFileSync } from 'node:child_process';
 import { existsSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { mkdtemp } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
-import { dirname, join, resolve } from 'node:path';
-import { fileURLToPath } from 'node:url';
-import { promisify } from 'node:util';
+import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { FOLDER_FILES, checkFolder } from '@lamina/contracts';
 import { runPython, validateCog } from '@lamina/test-utils';
 import { expectMosaicOfCores } from './merge-compare';
+import { root, lamina, buildCli } from './built-cli';
 
-const run = promisify(execFile);
-const root = resolve(dirname(fileURLToPath(import.meta.url)), '..');
-const cli = join(root, 'apps/cli/dist/lamina.mjs');
-const env = { ...process.env, LAMINA_PROGRESS: '0', LAMINA_THREADS: '1' };
-const lamina = (...args: string[]) => run(process.execPath, [cli, ...args], { cwd: root, env, maxBuffer: 1 << 26 });
 /** Exit status and stderr of a command expected to fail. */
 const fails = (...args: string[]) =>
   lamina(...args).then(
@@ -37,7 +30,7 @@ let manifest: { tiles: { id: string; dir: string; core: [number, number, number,
 
 beforeAll(async () => {
   work = await mkdtemp(join(tmpdir(), 'lamina-merge-'));
-  execFileSync(process.execPath, [join(root, 'apps/cli/build.mjs')], { cwd: root, stdio: 'ignore' });
+  buildCli();
   await lamina('simulate', join(root, 'test/fixtures/tiny-scenario.json'), '--out', join(work, 'site'));
   await lamina('velocity', join(work, 'site'), '--out', join(work, 'survey'));
   tiles = join(work, 'tiles');
