@@ -5,7 +5,7 @@
  * every per-slice statistic (the Gamma noise law, the robust scores before background removal, the line
  * spacing and directions) is the survey's, not a tile's, and objects on core edges come out once, whole.
  */
-import { readFile } from 'node:fs/promises';
+import { access, readFile } from 'node:fs/promises';
 import { join, resolve } from 'node:path';
 import type { RawBands } from '@lamina/cog';
 import type { SlicesJson } from '@lamina/contracts';
@@ -29,7 +29,7 @@ export interface RescreenOptions {
 /** Whether every tile wrote what a merge screens again from (`lamina process-tile`; `SCREEN_INPUTS`). */
 export async function canRescreen(inputs: MergeInputs): Promise<boolean> {
   for (const t of inputs.tiles) {
-    const ok = await Promise.all(Object.values(SCREEN_INPUTS).map((f) => readFile(join(t.outDir, f)).then(() => true, () => false)));
+    const ok = await Promise.all(Object.values(SCREEN_INPUTS).map((f) => access(join(t.outDir, f)).then(() => true, () => false)));
     if (ok.includes(false)) return false;
   }
   return true;
