@@ -89,13 +89,11 @@ for (const scene of scenes) {
     const inTransition = a.depthTopM < nearSurfaceM + 1e-9 && !members.some((m) => m.topM >= nearSurfaceM);
     if (a.kind !== 'linear' && inTransition) fired.push('nsTransitionCompact');
     if (a.kind !== 'linear' && inTransition && a.widthM < 2 * spacing) fired.push('nsTransitionCompactNarrow');
-    {
-      // extent across the survey lines of a box L x W at the anomaly's angle to the nearest line direction
-      const dd = Math.min(...azs.map((az) => { const d = Math.abs((((a.directionDeg - az) % 180) + 180) % 180); return Math.min(d, 180 - d); })) * Math.PI / 180;
-      const across = a.lengthM * Math.abs(Math.sin(dd)) + a.widthM * Math.abs(Math.cos(dd));
-      if (a.depthTopM < nearSurfaceM + 1e-9 && !members.some((m) => m.topM >= nearSurfaceM) && across < 2 * spacing) fired.push('nsTransitionAcross');
-    }
     const angle = Math.min(...azs.map((az) => { const d = Math.abs((((a.directionDeg - az) % 180) + 180) % 180); return Math.min(d, 180 - d); }));
+    // extent across the survey lines of a box L x W at the anomaly's angle to the nearest line direction
+    const rad = (angle * Math.PI) / 180;
+    const across = a.lengthM * Math.abs(Math.sin(rad)) + a.widthM * Math.abs(Math.cos(rad));
+    if (inTransition && across < 2 * spacing) fired.push('nsTransitionAcross');
     const rf = fresnelRadiusM(0.5 * (a.depthTopM + a.depthBottomM), v, f);
     if (a.kind === 'linear' && a.widthM <= spacing && 2 * rf - spacing > a.widthM) fired.push('narrowStripAnyDirection');
     if (a.widthM < rf) fired.push('narrowerThanFresnel');
