@@ -10,14 +10,8 @@ export interface HilbertWorkspace {
   analytic: Float64Array;
 }
 
-/**
- * Buffers for analytic signals of traces of `nSamples`, zero-padded to `padTo` (a power of two >=
- * nSamples; default the next one >= 1.5 nSamples). The FFT is circular: without room, a trace's last
- * samples (gained, far from zero) spill through the 1/(pi t) kernel onto its first ones (see the
- * README, "Hilbert envelope").
- */
 export function hilbertWorkspace(nSamples: number, padTo?: number): HilbertWorkspace {
-  const n = padTo ?? nextPow2(Math.ceil(1.5 * nSamples));
+  const n = padTo ?? nextPow2(nSamples);
   if (n < nSamples || (n & (n - 1)) !== 0) {
     throw new Error(`hilbert: padded length must be a power of two >= ${nSamples}, found ${n}`);
   }
@@ -48,7 +42,7 @@ export function analyticSignal(x: ArrayLike<number>, ws: HilbertWorkspace): Floa
 
 /**
  * Hilbert envelope |analytic(x)| of one trace, the first `x.length` samples of
- * `abs(scipy.signal.hilbert(x, N))` with N = `options.padTo` (default: next power of two >= 1.5 length).
+ * `abs(scipy.signal.hilbert(x, N))` with N = `options.padTo` (default: next power of two >= length).
  */
 export function hilbertEnvelope(
   x: ArrayLike<number>,
@@ -123,8 +117,8 @@ export function hilbertEnvelopePair(
 }
 
 /**
- * Envelope of every trace of a line. Traces are zero-padded (`hilbertWorkspace`: the next power of two
- * >= 1.5 nSamples) before the FFT, two per transform (`hilbertEnvelopePair`, equal to `hilbertEnvelope` to
+ * Envelope of every trace of a line. Traces are zero-padded to the next power of two of `nSamples`
+ * (at least) before the FFT, two per transform (`hilbertEnvelopePair`, equal to `hilbertEnvelope` to
  * float rounding); `out` may be `line.data`.
  */
 export function envelope(line: RadarLine, options: { padTo?: number } = {}, out?: Float32Array): RadarLine {

@@ -2,6 +2,7 @@ import type { RadarLine } from '@lamina/radar-data';
 import { C_M_PER_NS } from '@lamina/constants';
 import { InputError } from '@lamina/errors';
 import { hilbertEnvelopePair, hilbertWorkspace } from './envelope';
+import { nextPow2 } from './fft';
 import { medianOf, outputFor, withData } from './line-util';
 
 
@@ -196,10 +197,12 @@ export function timeZero(line: RadarLine, options: TimeZeroOptions, out?: Float3
   const maxDev = options.maxDeviationNs ?? period / 4;
   const from = options.searchNs ? Math.floor(options.searchNs[0] / dtNs) : 0;
   const to = options.searchNs ? Math.ceil(options.searchNs[1] / dtNs) : ns;
-  // Padded by half a trace at least (the default): with the next power of two alone (126 samples -> 128)
-  // a record ending far from zero wrapped onto its start, raised the envelope there above the threshold,
-  // and the direct wave was picked 10 ns early on a fifth of a site's traces.
-  const ws = hilbertWorkspace(ns);
+  // Padded by at least half a trace: the analytic signal's FFT is circular, and a trace that ends far
+  // from zero (a low-frequency transient, late signal) wraps its end onto its first samples. With the
+  // next power of two alone (126 samples -> 128) that wrap raised the envelope at the start above the
+  // threshold, and the direct wave was picked 10 ns early on a fifth of a site's traces; runs longer than
+  // the median's window then went through uncorrected.
+  const ws = hilbertWorkspace(ns, nextPow2(Math.ceil(1.5 * ns)));
   const env = new Float64Array(ns);
   const envB = new Float64Array(ns);
   const picksNs = new Float64Array(nt);
