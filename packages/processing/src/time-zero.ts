@@ -2,6 +2,7 @@ import type { RadarLine } from '@lamina/radar-data';
 import { C_M_PER_NS } from '@lamina/constants';
 import { InputError } from '@lamina/errors';
 import { hilbertEnvelopePair, hilbertWorkspace } from './envelope';
+import { nextPow2 } from './fft';
 import { medianOf, outputFor, withData } from './line-util';
 
 
@@ -36,7 +37,11 @@ export interface TimeZeroOptions {
 
 export interface TimeZeroResult {
   line: RadarLine;
-  /** Raw first-arrival pick per trace, ns from the first sample (NaN for a dead trace). */
+  /**
+   * First-arrival pick per trace, ns from the first sample (NaN for a dead trace); picked again with the
+   * line's typical direct-wave envelope as reference where the first pick lay over half a period from
+   * the wide running median (see `timeZero`).
+   */
   picksNs: Float64Array;
   /** Pick used for alignment: the raw pick, or the running median where the raw pick was an outlier or dead. */
   usedNs: Float64Array;
@@ -51,13 +56,13 @@ export interface TimeZeroResult {
 }
 
 /**
- * First-arrival pick on one trace's envelope: first sample above `threshold` x max, then (`peak`) the
+ * First-arrival pick on one trace's envelope: first sample above `threshold` x max (or `level`), then (`peak`) the
  * centroid of the envelope lobe at the largest value in the following period. Returns samples (fractional), NaN if
  * the trace is dead (zero or non-finite envelope).
  */
 export function pickFirstArrival(
   env: ArrayLike<number>,
-  options: { threshold: number; pick: TimeZeroPick; periodSamples: number; from?: number; to?: number; trace?: ArrayLike<number> },
+  options: { threshold: number; pick: TimeZeroPick; periodSamples: number; from?: number; to?: number; trace?: ArrayLike<number>; level?: number },
 ): number {
   const from = Math.max(0, options.from ?? 0);
   const to = Math.min(env.length, options.to ?? env.length);
@@ -67,7 +72,9 @@ export function pickFirstArrival(
     if (e > max) max = e;
   }
   if (!(max > 0) || !Number.isFinite(max)) return Number.NaN;
-  const thr = options.threshold * max;
+  // `level`: an absolute threshold (the line's typical direct wave), for a trace whose own maximum is
+  // a later, stronger event.
+  const thr = options.level ?? options.threshold * max;
   let c = from;
   while (c < to && (env[c] as number) < thr) c++;
   if (options.pick === 'onset') {
@@ -190,29 +197,70 @@ export function timeZero(line: RadarLine, options: TimeZeroOptions, out?: Float3
   const maxDev = options.maxDeviationNs ?? period / 4;
   const from = options.searchNs ? Math.floor(options.searchNs[0] / dtNs) : 0;
   const to = options.searchNs ? Math.ceil(options.searchNs[1] / dtNs) : ns;
-  const ws = hilbertWorkspace(ns);
+  // Padded by at least half a trace: the analytic signal's FFT is circular, and a trace that ends far
+  // from zero (a low-frequency transient, late signal) wraps its end onto its first samples. With the
+  // next power of two alone (126 samples -> 128) that wrap raised the envelope at the start above the
+  // threshold, and the direct wave was picked 10 ns early on a fifth of a site's traces; runs longer than
+  // the median's window then went through uncorrected.
+  const ws = hilbertWorkspace(ns, nextPow2(Math.ceil(1.5 * ns)));
   const env = new Float64Array(ns);
   const envB = new Float64Array(ns);
   const picksNs = new Float64Array(nt);
+  // envelope at each pick: the direct wave's strength on that trace
+  const levels = new Float64Array(nt);
   const opts = { threshold, pick, periodSamples: period / dtNs, from, to };
+  const envAt = (e: Float64Array, pNs: number) => (Number.isFinite(pNs) ? (e[Math.min(ns - 1, Math.max(0, Math.round(pNs / dtNs)))] as number) : Number.NaN);
   for (let t = 0; t < nt; t += 2) {
     const tr = line.data.subarray(t * ns, (t + 1) * ns);
     const trB = t + 1 < nt ? line.data.subarray((t + 1) * ns, (t + 2) * ns) : undefined;
     hilbertEnvelopePair(tr, trB, ws, env, envB);
     picksNs[t] = pickFirstArrival(env, { ...opts, trace: tr }) * dtNs;
-    if (trB) picksNs[t + 1] = pickFirstArrival(envB, { ...opts, trace: trB }) * dtNs;
+    levels[t] = envAt(env, picksNs[t] as number);
+    if (trB) {
+      picksNs[t + 1] = pickFirstArrival(envB, { ...opts, trace: trB }) * dtNs;
+      levels[t + 1] = envAt(envB, picksNs[t + 1] as number);
+    }
   }
   if (!picksNs.some(Number.isFinite)) {
     throw new InputError(line.id, 'time-zero: expected a direct arrival, found no trace with signal (all traces zero or not finite)');
   }
   const h = medianTraces >> 1;
+  // Runs of wrong picks: a strong shallow reflector (a metal tank just below the surface) outshines the
+  // direct wave on tens of consecutive traces, so the threshold, a share of each trace's own maximum,
+  // falls on the reflector; a stretch of weak coupling leaves only noise above it. The running median
+  // of `medianTraces` cannot outvote a run longer than half its window. So: picks further than half a
+  // period from the median of a five times wider window are picked again with the line's typical
+  // direct-wave envelope as the threshold's reference (the direct wave arrives on every trace at nearly
+  // the same time and amplitude), and picks still that far out are left out of the medians below.
+  const wide = (v: Float64Array) => Float64Array.from(v, (_, t) => medianOf(v, Math.max(0, t - 5 * h), Math.min(nt, t + 5 * h + 1)));
+  const halfPeriodNs = period / 2;
+  const farOf = (v: Float64Array) => {
+    const w = wide(v);
+    return (t: number) => !(Math.abs((v[t] as number) - (w[t] as number)) <= halfPeriodNs);
+  };
+  const level = threshold * medianOf(levels);
+  if (level > 0) {
+    const far = farOf(picksNs);
+    const again: number[] = [];
+    for (let t = 0; t < nt; t++) if (far(t)) again.push(t);
+    for (const t of again) {
+      const tr = line.data.subarray(t * ns, (t + 1) * ns);
+      hilbertEnvelopePair(tr, undefined, ws, env);
+      picksNs[t] = pickFirstArrival(env, { ...opts, trace: tr, level }) * dtNs;
+    }
+  }
+  const valid = Float64Array.from(picksNs);
+  const far = farOf(picksNs);
+  for (let t = 0; t < nt; t++) if (far(t)) valid[t] = Number.NaN;
+  const wideValid = wide(valid);
   const usedNs = new Float64Array(nt);
   const replaced: number[] = [];
-  const global = medianOf(picksNs);
+  const global = Number.isFinite(medianOf(valid)) ? medianOf(valid) : medianOf(picksNs);
   for (let t = 0; t < nt; t++) {
-    let med = medianOf(picksNs, Math.max(0, t - h), Math.min(nt, t + h + 1));
+    let med = medianOf(valid, Math.max(0, t - h), Math.min(nt, t + h + 1));
+    if (!Number.isFinite(med)) med = wideValid[t] as number;
     if (!Number.isFinite(med)) med = global;
-    const p = picksNs[t] as number;
+    const p = valid[t] as number;
     if (Number.isFinite(p) && Math.abs(p - med) <= maxDev) usedNs[t] = p;
     else {
       usedNs[t] = med;

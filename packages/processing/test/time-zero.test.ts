@@ -76,6 +76,38 @@ describe('time-zero', () => {
     expect(Math.abs((res.shiftsNs[0] as number) - (res.shiftsNs[59] as number) - 3)).toBeLessThan(0.05);
   });
 
+  it('a record that ends far from zero (a slow transient) is not wrapped onto its first samples', () => {
+    // 126 samples of 0.455 ns at 183 MHz, a transient q e^(1 - q) (q = (t - 13.5 ns) / 33 ns) of 0.35 x
+    // the direct wave still near its peak at the record's end. The analytic signal's FFT is circular; with
+    // only two samples of padding the wrapped end raised the envelope at the start above the threshold.
+    const f = 183;
+    const line = makeLine(40, 126, 0.455, 0.05);
+    for (let t = 0; t < 40; t++) {
+      addRicker(line, t, 14.7, 1, f);
+      const tr = trace(line, t);
+      for (let i = 0; i < 126; i++) {
+        const q = (i * 0.455 - 13.5) / 33;
+        if (q > 0) tr[i] = (tr[i] as number) + 0.35 * q * Math.exp(1 - q);
+      }
+    }
+    const res = timeZero(line, { frequencyMHz: f });
+    expect(Math.abs(res.pickNs - 14.7)).toBeLessThan(0.2);
+    for (let t = 0; t < 40; t++) expect(Math.abs(res.picksNs[t]! - 14.7)).toBeLessThan(0.2);
+  });
+
+  it('a run of traces where a shallow reflector outshines the direct wave keeps the direct-wave pick', () => {
+    // 25 consecutive traces (longer than half the 11-trace median) with a reflection five times the
+    // direct wave, 4.5 ns (1.8 periods) after it: each trace's own threshold falls on the reflector.
+    const line = makeLine(80, 300, 0.1, 0.05);
+    for (let t = 0; t < 80; t++) {
+      addRicker(line, t, 6, 1, F);
+      if (t >= 30 && t < 55) addRicker(line, t, 10.5, 5, F);
+    }
+    const res = timeZero(line, { frequencyMHz: F });
+    expect(Math.abs(res.pickNs - 6)).toBeLessThan(0.05);
+    for (let t = 0; t < 80; t++) expect(Math.abs(res.shiftsNs[t]!)).toBeLessThan(0.05);
+  });
+
   it('onset pick is earlier than the peak pick; integer shifts are whole samples', () => {
     const line = makeLine(10, 300, 0.1, 0.05);
     for (let t = 0; t < 10; t++) addRicker(line, t, 5 + 0.037 * t, 1, F);

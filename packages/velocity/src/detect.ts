@@ -77,6 +77,17 @@ export interface DetectOptions {
   maxRelativeUncertainty?: number;
   /** Fit the target radius in the final fit (`fitHyperbola`'s `radius`). @default 'fit' */
   radius?: 'fit' | 'point';
+  /**
+   * Reject echoes: a fit whose picks, moved up by one constant delay of at least `echoMinDelayPeriods`
+   * periods (down to time-zero), land on a stronger copy of the same curve (on three quarters of each
+   * flank's picks the normalised envelope is larger there) repeats an object above it: the
+   * ringing of a metal pipe, the far wall of an air-filled one, a multiple near its apex. A delayed copy
+   * t(x) + T reads faster than the object (its move-out is the object's, its apex time later), so it
+   * biases the site velocity. @default true
+   */
+  rejectEchoes?: boolean;
+  /** Shortest delay of a copy above, in periods of the centre frequency (beyond the wavelet's own envelope). @default 1 */
+  echoMinDelayPeriods?: number;
 }
 
 export interface DetectedHyperbola extends PointFit {
@@ -90,6 +101,12 @@ export interface DetectedHyperbola extends PointFit {
   timeNs: Float64Array;
   /** Smaller of the two flanks' medians of the normalised envelope along the fitted curve. */
   score: number;
+}
+
+/** The q-quantile (lower, by rank) of `a`, which it sorts. */
+function quantile(a: Float32Array, q: number): number {
+  a.sort();
+  return a[Math.min(a.length - 1, Math.floor(q * a.length))]!;
 }
 
 export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): DetectedHyperbola[] {
@@ -113,6 +130,8 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   const maxRmsP = options.maxRmsPeriods ?? 0.12;
   const maxRel = options.maxRelativeUncertainty ?? 0.1;
   const radiusMode = options.radius ?? 'fit';
+  const rejectEchoes = options.rejectEchoes ?? true;
+  const echoMinDelay = options.echoMinDelayPeriods ?? 1;
 
   const along = alongLine(line, mpu);
   const length = along[nTraces - 1]!;
@@ -242,10 +261,12 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
     tim: number[];
     /** Normalised envelope at each pick. */
     amp: number[];
+    /** Trace of each pick. */
+    tr: number[];
   }
   const pick = (x0: number, z: number, v: number, R: number, ap: number, windowNs: number): Picks => {
     const [a, b] = traceRange(x0, ap);
-    const out: Picks = { off: [], tim: [], amp: [] };
+    const out: Picks = { off: [], tim: [], amp: [], tr: [] };
     const win = Math.max(1, Math.round(windowNs / dtNs));
     for (let j = a; j <= b; j++) {
       const sc = Math.round(sampleOf(hyperbolaTime(along[j]!, x0, z, v, sep, R)));
@@ -268,6 +289,7 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
       out.off.push(along[j]!);
       out.tim.push((best + Math.max(-0.5, Math.min(0.5, frac))) * dtNs - timeZeroNs);
       out.amp.push(N[j * nSamples + best]!);
+      out.tr.push(j);
     }
     return out;
   };
@@ -353,11 +375,46 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
     return true;
   };
 
+  /**
+   * Whether a stronger copy of the picked curve lies above it, one constant delay earlier (see
+   * `rejectEchoes`): for some delay from `echoMinDelay` periods to the apex time (in steps of a sample),
+   * on each flank three quarters of the retained picks have a larger normalised envelope at the pick
+   * moved up by that delay. A strong object straight above a weaker one matches the weaker one's curve
+   * only near the apex (their move-outs differ), a delayed copy matches it on the whole aperture.
+   */
+  const ratioL = new Float32Array(nTraces);
+  const ratioR = new Float32Array(nTraces);
+  const echoOfAbove = (fit: PointFit, picks: Picks): boolean => {
+    const n = picks.off.length;
+    const here = new Float64Array(n);
+    const idx: number[] = [];
+    for (let i = 0; i < n; i++) {
+      if (fit.weights[i]! <= 0) continue;
+      here[i] = at(picks.tr[i]!, sampleOf(picks.tim[i]!));
+      if (here[i]! > 0) idx.push(i);
+    }
+    if (idx.length < minPicks) return false;
+    const first = Math.max(1, Math.ceil((echoMinDelay * periodNs) / dtNs));
+    const last = Math.floor((fit.t0Ns + 0.5 * periodNs) / dtNs);
+    for (let k = first; k <= last; k++) {
+      let nl = 0;
+      let nr = 0;
+      for (const i of idx) {
+        const r = at(picks.tr[i]!, sampleOf(picks.tim[i]!) - k) / here[i]!;
+        if (picks.off[i]! < fit.x0M) ratioL[nl++] = r;
+        else ratioR[nr++] = r;
+      }
+      if (nl < minSide || nr < minSide) return false;
+      if (quantile(ratioL.subarray(0, nl), 0.25) >= 1 && quantile(ratioR.subarray(0, nr), 0.25) >= 1) return true;
+    }
+    return false;
+  };
+
   /** Picks, fits and acceptance from one start; the accepted fit or null. */
   const tryStart = (start: { x0M: number; t0Ns: number; velocityMPerNs: number }): DetectedHyperbola | null => {
     let guess = { ...start, radiusM: 0 };
     let fit: PointFit | null = null;
-    let picks: Picks = { off: [], tim: [], amp: [] };
+    let picks: Picks = { off: [], tim: [], amp: [], tr: [] };
     for (let pass = 0; pass < 4; pass++) {
       const z = apexDistance(guess.t0Ns, guess.velocityMPerNs, sep);
       picks = pick(guess.x0M, z, guess.velocityMPerNs, guess.radiusM, apertureOf(z), pass === 0 ? periodNs / 2 : periodNs / 3);
@@ -385,6 +442,7 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
       if (pass === 2 && radiusMode === 'point') break;
     }
     if (!fit || !acceptable(fit, picks)) return null;
+    if (rejectEchoes && echoOfAbove(fit, picks)) return null;
     const p = pointAlong(line, along, fit.x0M);
     return {
       ...fit,

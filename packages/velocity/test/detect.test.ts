@@ -83,4 +83,31 @@ describe('detectHyperbolas (end to end on a synthetic radargram)', () => {
     const line = synthLine('L4', [], { nTraces: 300, nSamples: 512, dtNs: 0.1, fMHz: 400, flats, noise: 0.05, seed: 5 });
     expect(detectHyperbolas(line, opts)).toEqual([]);
   });
+
+  it('leaves out the delayed copies of a ringing pipe, keeps a weaker object straight below a strong one', () => {
+    // A pipe whose echo train repeats its hyperbola 3 and 6 ns later (more than a period at 400 MHz),
+    // halving each time: a delayed copy t(x) + T is not a hyperbola of the soil's velocity, and its fit
+    // (apex curvature (2 / v)^2 / (t0 + T), flank slopes 2 / v) reads another velocity.
+    const pipe: Diffractor = { x0: 4, z: 0.5, v: 0.1, amp: 1 };
+    const ringing: Diffractor[] = [
+      { ...pipe, amp: 0.5, delayNs: 3 },
+      { ...pipe, amp: 0.25, delayNs: 6 },
+    ];
+    // A weaker point 0.7 m below another strong one: a different curve, not a copy.
+    const upper: Diffractor = { x0: 11, z: 0.4, v: 0.1, amp: 1 };
+    const lower: Diffractor = { x0: 11, z: 1.1, v: 0.1, amp: 0.3 };
+    const line = synthLine('L5', [pipe, ...ringing, upper, lower], { nTraces: 340, nSamples: 640, dtNs: 0.1, fMHz: 400, separationM: S, flats, noise: 0.01, seed: 3 });
+    const found = detectHyperbolas(line, opts);
+    for (const d of [pipe, upper, lower]) {
+      const h = match(found, d);
+      expect(h, `diffractor at ${d.x0} m, ${d.z} m`).toBeDefined();
+      expect(Math.abs(h!.velocityMPerNs / d.v - 1)).toBeLessThan(0.03);
+    }
+    const near = (f: DetectedHyperbola[]) => f.filter((h) => Math.abs(h.x0M - pipe.x0) < 0.3);
+    expect(near(found).length).toBe(1);
+    // Without the test the copies are fitted too, with a velocity off by more than the fits' 3 %.
+    const all = near(detectHyperbolas(line, { ...opts, rejectEchoes: false }));
+    expect(all.length).toBeGreaterThan(1);
+    for (const h of all.filter((h) => h.t0Ns > bistatic(0, pipe.z, pipe.v, S) + 2)) expect(Math.abs(h.velocityMPerNs / pipe.v - 1)).toBeGreaterThan(0.03);
+  });
 });

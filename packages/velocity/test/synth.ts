@@ -21,6 +21,8 @@ export interface Diffractor {
   z: number;
   v: number;
   amp: number;
+  /** A constant delay added to every trace's arrival, ns: a delayed copy (the ringing of a pipe). @default 0 */
+  delayNs?: number;
 }
 
 export interface SynthOptions {
@@ -67,7 +69,7 @@ export function synthLine(id: string, diffractors: Diffractor[], o: SynthOptions
     x[t] = ox + (hx * pos) / mpu;
     y[t] = oy + (hy * pos) / mpu;
     for (const d of diffractors) {
-      const tt = bistatic(pos - d.x0, d.z, d.v, s);
+      const tt = bistatic(pos - d.x0, d.z, d.v, s) + (d.delayNs ?? 0);
       const r = Math.hypot(pos - d.x0, d.z);
       // Beam falloff with angle from vertical (cos^2), spreading 1/r: a plausible shape, not a model of any antenna.
       const a = (d.amp * (d.z / r) ** 2) / Math.max(r, 0.05);
