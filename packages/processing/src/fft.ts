@@ -1,4 +1,5 @@
 import FFT from 'fft.js';
+import { WasmFFT, wasmFftAvailable } from './fft-wasm';
 
 /** Smallest power of two >= n (and >= 2, fft.js's minimum size). */
 export function nextPow2(n: number): number {
@@ -39,7 +40,7 @@ export interface Transform {
  * apply anyway (`MixedRadixFFT` skips a pass over the result; other transforms are rescaled).
  */
 export function inverseUnscaled(f: Transform, out: Float64Array, data: Float64Array): void {
-  if (f instanceof MixedRadixFFT) {
+  if (f instanceof MixedRadixFFT || f instanceof WasmFFT) {
     f.inverseUnscaled(out, data);
     return;
   }
@@ -313,11 +314,15 @@ function twiddled(y: Float64Array, o: number, zr: number, zi: number, tw: Float6
 // Transform tables are costly to build; lines reuse a handful of sizes.
 const cache = new Map<number, Transform>();
 
-/** The transform of size n: fft.js for a power of two, `MixedRadixFFT` otherwise (factors 2, 3, 5). */
+/**
+ * The transform of size n (factors 2, 3, 5): `WasmFFT` where WebAssembly SIMD runs (about twice as fast
+ * as either of the others on the migration's and envelopes' sizes), else fft.js for a power of two and
+ * `MixedRadixFFT` for the others.
+ */
 export function fftOfSize(n: number): Transform {
   let f = cache.get(n);
   if (!f) {
-    f = (n & (n - 1)) === 0 ? Object.assign(new FFT(n), { size: n }) : new MixedRadixFFT(n);
+    f = wasmFftAvailable() ? new WasmFFT(n) : (n & (n - 1)) === 0 ? Object.assign(new FFT(n), { size: n }) : new MixedRadixFFT(n);
     cache.set(n, f);
   }
   return f;
