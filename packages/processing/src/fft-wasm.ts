@@ -125,6 +125,20 @@ export class WasmFFT implements Transform {
     this.stages(out, false);
   }
 
+  /** The module's input array (2n numbers, interleaved complex): fill it, then `runInput`. */
+  get input(): Float64Array {
+    return this.view.subarray(0, 2 * this.size);
+  }
+
+  /**
+   * The transform (the inverse without its 1/n) of what `input` holds, returned as a view of the module's
+   * memory, valid until the next call; `input` is overwritten (the stages work in it).
+   */
+  runInput(inverse: boolean): Float64Array {
+    const x = this.stageRun(inverse);
+    return this.view.subarray(x / 8, x / 8 + 2 * this.size);
+  }
+
   private run(out: Float64Array, data: Float64Array, inverse: boolean): void {
     const n2 = 2 * this.size;
     this.view.set(data.length === n2 ? data : data.subarray(0, n2), 0);
@@ -133,6 +147,12 @@ export class WasmFFT implements Transform {
 
   /** The stages on the input at `bufA`, the result copied into `out`. */
   private stages(out: Float64Array, inverse: boolean): void {
+    const x = this.stageRun(inverse);
+    out.set(this.view.subarray(x / 8, x / 8 + 2 * this.size));
+  }
+
+  /** The stages on the input at `bufA`; returns the byte offset of the result. */
+  private stageRun(inverse: boolean): number {
     const k = this.k;
     const sg = inverse ? -1 : 1;
     const tws = inverse ? this.twInv : this.twFwd;
@@ -154,7 +174,6 @@ export class WasmFFT implements Transform {
       s *= p;
       len = m;
     }
-    const n2 = 2 * this.size;
-    out.set(this.view.subarray(x / 8, x / 8 + n2));
+    return x;
   }
 }

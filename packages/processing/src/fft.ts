@@ -49,6 +49,32 @@ export function inverseUnscaled(f: Transform, out: Float64Array, data: Float64Ar
   for (let i = 0; i < 2 * n; i++) out[i] = (out[i] as number) * n;
 }
 
+/** A transform that runs on its own input array (`stagedTransform`). */
+export interface Staged {
+  /** The input, 2n numbers (interleaved complex); the run may overwrite it. */
+  readonly input: Float64Array;
+  /** The forward transform, or the inverse without its 1/n, of `input`: an array valid until the next run. */
+  run(inverse: boolean): Float64Array;
+}
+
+/**
+ * `f` run on an input array of its own: for `WasmFFT` the module's memory itself (no copy in or out),
+ * for the others an array and the result copied out as usual. For loops of many transforms of one size.
+ */
+export function stagedTransform(f: Transform): Staged {
+  if (f instanceof WasmFFT) return { input: f.input, run: (inverse) => f.runInput(inverse) };
+  const input = new Float64Array(2 * f.size);
+  const out = new Float64Array(2 * f.size);
+  return {
+    input,
+    run: (inverse) => {
+      if (inverse) inverseUnscaled(f, out, input);
+      else f.transform(out, input);
+      return out;
+    },
+  };
+}
+
 /**
  * Complex FFT of a size with prime factors 2, 3 and 5 (Stockham autosort: each stage reads one array
  * and writes the other in order, no bit reversal), radix 4 where it can. For sizes that are not powers of
