@@ -5,8 +5,6 @@
 // Pointers are byte offsets into the module's memory. `tw` holds, per twiddle w = (wr, wi), the two
 // vectors (wr, wr) and (-wi, wi) (conjugated for the inverse), so that z w = z * (wr, wr) + swap(z) * (-wi, wi).
 
-// @ts-nocheck  (AssemblyScript types: v128, f64x2, load/store)
-
 @inline function swap(z: v128): v128 {
   return v128.shuffle<f64>(z, z, 1, 0);
 }
