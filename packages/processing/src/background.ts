@@ -75,6 +75,10 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
   // the ends share the window clamped to the line: its median trace is computed once.
   const block = new Float64Array(win * nSamples);
   const byStart = new Map<number, Float32Array>();
+  // each sample's selected value in the previous window: the next window shares three quarters of its
+  // traces, so its median lies near and is a good first pivot (`selectNear`)
+  const prev = new Float64Array(nSamples);
+  let havePrev = false;
   const bg = centres.map((c) => {
     const a = Math.max(0, Math.min(nTraces - win, c - Math.floor(win / 2)));
     const known = byStart.get(a);
@@ -88,7 +92,8 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
     const trace = new Float32Array(nSamples);
     for (let s = 0; s < nSamples; s++) {
       const lo = s * m;
-      const hi = selectF64(block, lo + (m >> 1), lo, lo + m - 1);
+      const hi = havePrev ? selectNear(block, lo + (m >> 1), lo, lo + m - 1, prev[s] as number) : selectF64(block, lo + (m >> 1), lo, lo + m - 1);
+      prev[s] = hi;
       if (m % 2) trace[s] = hi;
       else {
         let below = -Infinity;
@@ -97,6 +102,7 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
       }
     }
     byStart.set(a, trace);
+    havePrev = true;
     return trace;
   });
   let k = 0;
@@ -109,6 +115,28 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
     const b1 = bg[Math.min(k + 1, centres.length - 1)] as Float32Array;
     for (let s = 0; s < nSamples; s++) out[t * nSamples + s] = (data[t * nSamples + s] as number) - ((b0[s] as number) + f * ((b1[s] as number) - (b0[s] as number)));
   }
+}
+
+/**
+ * The k-th smallest of a[left..right] as `selectF64` finds it (the same value, and the same order
+ * property: smaller or equal before k, larger or equal after), with a first partition around the
+ * value `guess` (any number; the closer to the answer, the smaller the part left to `selectF64`).
+ */
+function selectNear(a: Float64Array, k: number, left: number, right: number, guess: number): number {
+  // a[left..i-1] < guess <= a[i..right]
+  let i = left;
+  let j = right;
+  for (;;) {
+    while (i <= j && (a[i] as number) < guess) i++;
+    while (j >= i && (a[j] as number) >= guess) j--;
+    if (i >= j) break;
+    const t = a[i] as number;
+    a[i] = a[j] as number;
+    a[j] = t;
+    i++;
+    j--;
+  }
+  return k < i ? selectF64(a, k, left, i - 1) : selectF64(a, k, i, right);
 }
 
 /**
