@@ -5,6 +5,9 @@
 // (bench/process-site.json: 31 lines x 481 traces x 640 samples), alternately, after one warm-up run of
 // each. Prints every run, the median ratio and the stage table (`--timings`) of the median lamina run.
 // Asserts nothing. Usage: pnpm bench process   (LAMINA_BENCH_RUNS=3)
+// LAMINA_BENCH_OTHER_CLI=<another build's lamina.mjs> (e.g. a copy of main's apps/cli/dist) also runs that
+// build in each pair, right after this one, and prints the median of the per-pair time ratios: on a machine
+// shared with other work, the figure that compares two versions.
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -46,9 +49,10 @@ if (!existsSync(truth) || statSync(truth).mtimeMs < Math.max(statSync(scenario).
   run(process.execPath, [cli, 'simulate', scenario, '--out', siteDir], 'simulating the bench site');
 }
 
-const lamina = (out: string) => {
+const other = process.env.LAMINA_BENCH_OTHER_CLI;
+const lamina = (out: string, build = cli) => {
   rmSync(out, { recursive: true, force: true });
-  const r = run(process.execPath, [cli, 'process', siteDir, '--out', out, '--json'], 'lamina process');
+  const r = run(process.execPath, [build, 'process', siteDir, '--out', out, '--json'], 'lamina process');
   return { seconds: r.seconds, summary: JSON.parse(r.stdout) as { lines: number; traces: number; slices: number; timings: ProcessTimings } };
 };
 
@@ -88,12 +92,17 @@ if (refWarm.parts.slices !== meta.windows.length || refWarm.parts.cells !== meta
 console.log(`site: ${warm.summary.lines} lines, ${warm.summary.traces} traces x ${runJson.lines[0].samples} samples, ${warm.summary.slices} slices on ${meta.grid.width} x ${meta.grid.height} cells`);
 const ours: { seconds: number; timings: ProcessTimings }[] = [];
 const refs: number[] = [];
+const others: { seconds: number; timings: ProcessTimings }[] = [];
+if (other) lamina(join(work, 'out-other'), other);
 for (let k = 0; k < RUNS; k++) {
   const a = lamina(join(work, 'out'));
   ours.push({ seconds: a.seconds, timings: a.summary.timings });
   const b = reference();
   refs.push(b.seconds);
-  console.log(`run ${k + 1}: lamina process ${a.seconds.toFixed(2)} s, reference ${b.seconds.toFixed(2)} s (lines ${b.parts.lines.toFixed(2)}, gridding ${b.parts.gridding.toFixed(2)}), ratio ${(a.seconds / b.seconds).toFixed(2)}`);
+  const c = other ? lamina(join(work, 'out-other'), other) : undefined;
+  if (c) others.push({ seconds: c.seconds, timings: c.summary.timings });
+  const vs = c ? `; other build ${c.seconds.toFixed(2)} s, this / other ${(a.seconds / c.seconds).toFixed(2)}` : '';
+  console.log(`run ${k + 1}: lamina process ${a.seconds.toFixed(2)} s, reference ${b.seconds.toFixed(2)} s (lines ${b.parts.lines.toFixed(2)}, gridding ${b.parts.gridding.toFixed(2)}), ratio ${(a.seconds / b.seconds).toFixed(2)}${vs}`);
 }
 const mOurs = median(ours.map((o) => o.seconds));
 const mRef = median(refs);
@@ -103,3 +112,10 @@ console.log(`median: lamina process ${mOurs.toFixed(2)} s, reference ${mRef.toFi
 const mid = [...ours].sort((a, b) => a.seconds - b.seconds)[ours.length >> 1]!;
 console.log(`\nstages of the median lamina run (${mid.seconds.toFixed(2)} s from the shell; the process's own timers):`);
 console.log(formatTimings(mid.timings));
+if (others.length > 0) {
+  const pairedOther = median(ours.map((o, k) => o.seconds / others[k]!.seconds));
+  const midOther = [...others].sort((a, b) => a.seconds - b.seconds)[others.length >> 1]!;
+  console.log(`\nother build (${other}): median ${median(others.map((o) => o.seconds)).toFixed(2)} s, ratio to the reference ${median(others.map((o, k) => o.seconds / refs[k]!)).toFixed(2)}; this / other, median of the pairs ${pairedOther.toFixed(2)}`);
+  console.log(`stages of the other build's median run (${midOther.seconds.toFixed(2)} s):`);
+  console.log(formatTimings(midOther.timings));
+}

@@ -115,9 +115,21 @@ const VERSION = '0.1.0';
 type Task = Pass1Task | Pass2Task;
 type Result = Pass1Result | Pass2Result;
 
-/** Runs tasks on worker threads or, with 0 threads, in this thread; results in task order. */
+/**
+ * Runs tasks on worker threads or, with 0 threads, in this thread one after the other (as a worker
+ * would: started together, their line reads would all be in memory at once, and each read's timer would
+ * count the lines worked on while it waited); results in task order.
+ */
 function runner(threads: number): { run: (t: Task, transfer?: ArrayBuffer[]) => Promise<Result>; close: () => Promise<void> } {
-  if (threads <= 0) return { run: (t) => (t.kind === 'pass1' ? pass1(t) : pass2(t)), close: async () => {} };
+  if (threads <= 0) {
+    let last: Promise<unknown> = Promise.resolve();
+    const run = (t: Task): Promise<Result> => {
+      const r = last.then((): Promise<Result> => (t.kind === 'pass1' ? pass1(t) : pass2(t)));
+      last = r.catch(() => undefined);
+      return r;
+    };
+    return { run, close: async () => {} };
+  }
   const pool: Pool<Task, Result> = createPool(new URL('./line-worker.ts', import.meta.url), threads);
   return { run: (t, transfer) => pool.run(t, transfer), close: () => pool.close() };
 }

@@ -1,5 +1,4 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { selectInPlace } from '@lamina/stats';
 import { alongTrackM, outputFor, withData } from './line-util';
 
 export interface BackgroundOptions {
@@ -72,10 +71,18 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
   for (let c = 0; c < nTraces; c += step) centres.push(c);
   if (centres[centres.length - 1] !== nTraces - 1) centres.push(nTraces - 1);
   // the window transposed (sample-major), read trace by trace; each sample's median selected in its
-  // contiguous column by index range (medianInPlace's rule, without a subarray per sample)
+  // contiguous column by index range (medianInPlace's rule, without a subarray per sample). Centres near
+  // the ends share the window clamped to the line: its median trace is computed once.
   const block = new Float64Array(win * nSamples);
+  const byStart = new Map<number, Float32Array>();
+  // each sample's selected value in the previous window: the next window shares three quarters of its
+  // traces, so its median lies near and is a good first pivot (`selectNear`)
+  const prev = new Float64Array(nSamples);
+  let havePrev = false;
   const bg = centres.map((c) => {
     const a = Math.max(0, Math.min(nTraces - win, c - Math.floor(win / 2)));
+    const known = byStart.get(a);
+    if (known) return known;
     const b = Math.min(nTraces, a + win);
     const m = b - a;
     for (let t = a; t < b; t++) {
@@ -85,7 +92,8 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
     const trace = new Float32Array(nSamples);
     for (let s = 0; s < nSamples; s++) {
       const lo = s * m;
-      const hi = selectInPlace(block, lo + (m >> 1), lo, lo + m - 1);
+      const hi = havePrev ? selectNear(block, lo + (m >> 1), lo, lo + m - 1, prev[s] as number) : selectF64(block, lo + (m >> 1), lo, lo + m - 1);
+      prev[s] = hi;
       if (m % 2) trace[s] = hi;
       else {
         let below = -Infinity;
@@ -93,6 +101,8 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
         trace[s] = 0.5 * (below + hi);
       }
     }
+    byStart.set(a, trace);
+    havePrev = true;
     return trace;
   });
   let k = 0;
@@ -105,4 +115,73 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
     const b1 = bg[Math.min(k + 1, centres.length - 1)] as Float32Array;
     for (let s = 0; s < nSamples; s++) out[t * nSamples + s] = (data[t * nSamples + s] as number) - ((b0[s] as number) + f * ((b1[s] as number) - (b0[s] as number)));
   }
+}
+
+/**
+ * The k-th smallest of a[left..right] as `selectF64` finds it (the same value, and the same order
+ * property: smaller or equal before k, larger or equal after), with a first partition around the
+ * value `guess` (any number; the closer to the answer, the smaller the part left to `selectF64`).
+ */
+function selectNear(a: Float64Array, k: number, left: number, right: number, guess: number): number {
+  // a[left..i-1] < guess <= a[i..right]
+  let i = left;
+  let j = right;
+  for (;;) {
+    while (i <= j && (a[i] as number) < guess) i++;
+    while (j >= i && (a[j] as number) >= guess) j--;
+    if (i >= j) break;
+    const t = a[i] as number;
+    a[i] = a[j] as number;
+    a[j] = t;
+    i++;
+    j--;
+  }
+  return k < i ? selectF64(a, k, left, i - 1) : selectF64(a, k, i, right);
+}
+
+/**
+ * `selectInPlace` of @lamina/stats (the same steps, so the same result) on a Float64Array only: the
+ * shared one takes any numeric array, and its element access does not specialise here, where it runs
+ * once per sample of every window (most of background removal's time).
+ */
+function selectF64(a: Float64Array, k: number, left: number, right: number): number {
+  while (right > left) {
+    const mid = (left + right) >> 1;
+    let x = a[mid] as number;
+    let l = a[left] as number;
+    if (x < l) {
+      a[mid] = l;
+      a[left] = x;
+      [x, l] = [l, x];
+    }
+    let r = a[right] as number;
+    if (r < l) {
+      a[right] = l;
+      a[left] = r;
+      [r, l] = [l, r];
+    }
+    if (r < x) {
+      a[right] = x;
+      a[mid] = r;
+      x = r;
+    }
+    const pivot = x;
+    let i = left;
+    let j = right;
+    while (i <= j) {
+      while ((a[i] as number) < pivot) i++;
+      while ((a[j] as number) > pivot) j--;
+      if (i <= j) {
+        const t = a[i] as number;
+        a[i] = a[j] as number;
+        a[j] = t;
+        i++;
+        j--;
+      }
+    }
+    if (k <= j) right = j;
+    else if (k >= i) left = i;
+    else break;
+  }
+  return a[k] as number;
 }

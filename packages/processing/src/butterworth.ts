@@ -170,6 +170,42 @@ export function sosfiltInPlace(sos: Float64Array, x: Float64Array, z: Float64Arr
   }
 }
 
+/**
+ * `sosfiltInPlace` on two signals of one length at once, each with its own state: the same operations
+ * per signal, so the same numbers; the two recurrences, each a chain of dependent multiply-adds,
+ * overlap in the processor (about twice the throughput of one).
+ */
+export function sosfiltInPlacePair(sos: Float64Array, x: Float64Array, z: Float64Array, u: Float64Array, w: Float64Array, reverse = false): void {
+  const nSec = sos.length / 6;
+  const n = x.length;
+  for (let s = 0; s < nSec; s++) {
+    const o = s * 6;
+    const b0 = sos[o] as number, b1 = sos[o + 1] as number, b2 = sos[o + 2] as number;
+    const a1 = sos[o + 4] as number, a2 = sos[o + 5] as number;
+    let z0 = z[2 * s] as number;
+    let z1 = z[2 * s + 1] as number;
+    let w0 = w[2 * s] as number;
+    let w1 = w[2 * s + 1] as number;
+    const step = reverse ? -1 : 1;
+    for (let k = 0, i = reverse ? n - 1 : 0; k < n; k++, i += step) {
+      const xi = x[i] as number;
+      const ui = u[i] as number;
+      const y = b0 * xi + z0;
+      const v = b0 * ui + w0;
+      z0 = b1 * xi - a1 * y + z1;
+      w0 = b1 * ui - a1 * v + w1;
+      z1 = b2 * xi - a2 * y;
+      w1 = b2 * ui - a2 * v;
+      x[i] = y;
+      u[i] = v;
+    }
+    z[2 * s] = z0;
+    z[2 * s + 1] = z1;
+    w[2 * s] = w0;
+    w[2 * s + 1] = w1;
+  }
+}
+
 /** Default pad length of scipy.signal.sosfiltfilt for these sections. */
 export function sosfiltfiltPadlen(sos: Float64Array): number {
   const n = sos.length / 6;
@@ -228,4 +264,54 @@ export function sosfiltfilt(
   sosfiltInPlace(sos, ext, z, true);
   for (let i = 0; i < n; i++) res[i] = ext[edge + i] as number;
   return res;
+}
+
+/**
+ * `sosfiltfilt` of two signals of one length at once (`sosfiltInPlacePair`): the same numbers as two
+ * calls. `wa` and `wb` are two workspaces of `filtfiltWorkspace(sos, n)`.
+ */
+export function sosfiltfiltPair(
+  sos: Float64Array,
+  xa: ArrayLike<number>,
+  xb: ArrayLike<number>,
+  wa: FiltfiltWorkspace,
+  wb: FiltfiltWorkspace,
+  outA: Float32Array | Float64Array,
+  outB: Float32Array | Float64Array,
+): void {
+  const n = xa.length;
+  if (xb.length !== n || wa.ext.length !== n + 2 * wa.edge || wb.ext.length !== wa.ext.length) throw new Error('sosfiltfiltPair: two signals of the workspaces\' length expected');
+  if (n === 0) return;
+  const { edge, zi } = wa;
+  const ea = wa.ext;
+  const eb = wb.ext;
+  for (const [x, ext] of [[xa, ea], [xb, eb]] as const) {
+    const x0 = x[0] as number;
+    const xn = x[n - 1] as number;
+    for (let i = 0; i < edge; i++) {
+      ext[i] = 2 * x0 - (x[edge - i] as number);
+      ext[edge + n + i] = 2 * xn - (x[n - 2 - i] as number);
+    }
+    for (let i = 0; i < n; i++) ext[edge + i] = x[i] as number;
+  }
+  const za = wa.z;
+  const zb = wb.z;
+  const a0 = ea[0] as number;
+  const b0 = eb[0] as number;
+  for (let i = 0; i < za.length; i++) {
+    za[i] = (zi[i] as number) * a0;
+    zb[i] = (zi[i] as number) * b0;
+  }
+  sosfiltInPlacePair(sos, ea, za, eb, zb);
+  const ya = ea[ea.length - 1] as number;
+  const yb = eb[eb.length - 1] as number;
+  for (let i = 0; i < za.length; i++) {
+    za[i] = (zi[i] as number) * ya;
+    zb[i] = (zi[i] as number) * yb;
+  }
+  sosfiltInPlacePair(sos, ea, za, eb, zb, true);
+  for (let i = 0; i < n; i++) {
+    outA[i] = ea[edge + i] as number;
+    outB[i] = eb[edge + i] as number;
+  }
 }

@@ -1,5 +1,5 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { fftOfSize, nextPow2 } from './fft';
+import { fftOfSize, nextPow2, stagedTransform, type Staged } from './fft';
 import { withData } from './line-util';
 
 /** Scratch buffers for analytic signals of one padded length (reused across traces). */
@@ -74,46 +74,60 @@ export function hilbertEnvelopePair(
   outA: Float32Array | Float64Array,
   outB?: Float32Array | Float64Array,
 ): void {
-  const { n, spec, analytic } = ws;
-  const z = analytic;
+  const { n } = ws;
+  const st = stagedOf(ws);
+  const z = st.input;
   const ma = Math.min(a.length, n);
   const mb = b ? Math.min(b.length, n) : 0;
   z.fill(0);
   for (let i = 0; i < ma; i++) z[2 * i] = a[i] as number;
   if (b) for (let i = 0; i < mb; i++) z[2 * i + 1] = b[i] as number;
-  const ft = fftOfSize(n);
-  ft.transform(spec, z);
+  const spec = st.run(false);
+  // the spectrum times -i sgn(k) into the input (which may be the same array: each bin is read before it is written)
   const half = n / 2;
-  spec[0] = 0;
-  spec[1] = 0;
-  spec[2 * half] = 0;
-  spec[2 * half + 1] = 0;
-  for (let k = 1; k < n; k++) {
-    if (k === half) continue;
+  z[0] = 0;
+  z[1] = 0;
+  for (let k = 1; k < half; k++) {
+    // -i (re + i im) = im - i re
     const re = spec[2 * k] as number;
     const im = spec[2 * k + 1] as number;
-    // -i (re + i im) = im - i re for 0 < k < N/2; +i (re + i im) above
-    if (k < half) {
-      spec[2 * k] = im;
-      spec[2 * k + 1] = -re;
-    } else {
-      spec[2 * k] = -im;
-      spec[2 * k + 1] = re;
-    }
+    z[2 * k] = im;
+    z[2 * k + 1] = -re;
   }
-  ft.inverseTransform(z, spec);
+  z[2 * half] = 0;
+  z[2 * half + 1] = 0;
+  for (let k = half + 1; k < n; k++) {
+    // +i (re + i im)
+    const re = spec[2 * k] as number;
+    const im = spec[2 * k + 1] as number;
+    z[2 * k] = -im;
+    z[2 * k + 1] = re;
+  }
+  const h2 = st.run(true);
+  const s = 1 / n;
   for (let i = 0; i < a.length; i++) {
     const x = a[i] as number;
-    const h = i < n ? (z[2 * i] as number) : 0;
+    const h = i < n ? (h2[2 * i] as number) * s : 0;
     outA[i] = Math.sqrt(x * x + h * h);
   }
   if (b && outB) {
     for (let i = 0; i < b.length; i++) {
       const x = b[i] as number;
-      const h = i < n ? (z[2 * i + 1] as number) : 0;
+      const h = i < n ? (h2[2 * i + 1] as number) * s : 0;
       outB[i] = Math.sqrt(x * x + h * h);
     }
   }
+}
+
+const staged = new WeakMap<HilbertWorkspace, Staged>();
+/** The workspace's transform on its own input array (`stagedTransform`), made once per workspace. */
+function stagedOf(ws: HilbertWorkspace): Staged {
+  let st = staged.get(ws);
+  if (!st) {
+    st = stagedTransform(fftOfSize(ws.n));
+    staged.set(ws, st);
+  }
+  return st;
 }
 
 /**

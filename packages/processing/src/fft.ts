@@ -1,4 +1,5 @@
 import FFT from 'fft.js';
+import { WasmFFT, wasmFftAvailable } from './fft-wasm';
 
 /** Smallest power of two >= n (and >= 2, fft.js's minimum size). */
 export function nextPow2(n: number): number {
@@ -39,13 +40,39 @@ export interface Transform {
  * apply anyway (`MixedRadixFFT` skips a pass over the result; other transforms are rescaled).
  */
 export function inverseUnscaled(f: Transform, out: Float64Array, data: Float64Array): void {
-  if (f instanceof MixedRadixFFT) {
+  if (f instanceof MixedRadixFFT || f instanceof WasmFFT) {
     f.inverseUnscaled(out, data);
     return;
   }
   f.inverseTransform(out, data);
   const n = f.size;
   for (let i = 0; i < 2 * n; i++) out[i] = (out[i] as number) * n;
+}
+
+/** A transform that runs on its own input array (`stagedTransform`). */
+export interface Staged {
+  /** The input, 2n numbers (interleaved complex); the run may overwrite it. */
+  readonly input: Float64Array;
+  /** The forward transform, or the inverse without its 1/n, of `input`: an array valid until the next run. */
+  run(inverse: boolean): Float64Array;
+}
+
+/**
+ * `f` run on an input array of its own: for `WasmFFT` the module's memory itself (no copy in or out),
+ * for the others an array and the result copied out as usual. For loops of many transforms of one size.
+ */
+export function stagedTransform(f: Transform): Staged {
+  if (f instanceof WasmFFT) return { input: f.input, run: (inverse) => f.runInput(inverse) };
+  const input = new Float64Array(2 * f.size);
+  const out = new Float64Array(2 * f.size);
+  return {
+    input,
+    run: (inverse) => {
+      if (inverse) inverseUnscaled(f, out, input);
+      else f.transform(out, input);
+      return out;
+    },
+  };
 }
 
 /**
@@ -58,6 +85,8 @@ export class MixedRadixFFT implements Transform {
   private readonly radices: number[] = [];
   /** Per stage: twiddles w^(k q) for q < m, k = 1..p-1, interleaved. */
   private readonly twiddles: Float64Array[] = [];
+  /** The same, conjugated (the inverse's). */
+  private readonly twiddlesConj: Float64Array[] = [];
   private readonly work: Float64Array;
   private readonly work2: Float64Array;
 
@@ -88,6 +117,7 @@ export class MixedRadixFFT implements Transform {
         }
       }
       this.twiddles.push(tw);
+      this.twiddlesConj.push(tw.map((v, i) => (i & 1 ? -v : v)));
       len = m;
     }
     this.work = new Float64Array(2 * n);
@@ -133,10 +163,12 @@ export class MixedRadixFFT implements Transform {
       const p = this.radices[st] as number;
       const m = len / p;
       const y = st === stages - 1 ? out : x === this.work ? this.work2 : this.work;
-      const tw = this.twiddles[st] as Float64Array;
+      const tw = (inverse ? this.twiddlesConj[st] : this.twiddles[st]) as Float64Array;
       const sg = inverse ? -1 : 1;
-      if (p === 4) radix4(x, y, m, s, tw, sg);
-      else if (p === 2) radix2(x, y, m, s, tw, sg);
+      if (p === 4) {
+        if (m === 1) radix4Last(x, y, s, sg);
+        else radix4(x, y, m, s, tw, sg);
+      } else if (p === 2) radix2(x, y, m, s, tw);
       else if (p === 3) radix3(x, y, m, s, tw, sg);
       else radix5(x, y, m, s, tw, sg);
       x = y;
@@ -146,12 +178,13 @@ export class MixedRadixFFT implements Transform {
   }
 }
 
-// In the butterflies `sg` is 1 forward, -1 inverse: it conjugates the twiddles and the DFT kernel.
+// In the butterflies `sg` is 1 forward, -1 inverse: it conjugates the DFT kernel; `tw` is the stage's
+// twiddle table, already conjugated for the inverse.
 
-function radix2(x: Float64Array, y: Float64Array, m: number, s: number, tw: Float64Array, sg: number): void {
+function radix2(x: Float64Array, y: Float64Array, m: number, s: number, tw: Float64Array): void {
   for (let j = 0; j < m; j++) {
     const wr = tw[2 * j] as number;
-    const wi = sg * (tw[2 * j + 1] as number);
+    const wi = tw[2 * j + 1] as number;
     for (let q = 0; q < s; q++) {
       const i0 = 2 * (q + s * j);
       const i1 = i0 + 2 * s * m;
@@ -171,9 +204,9 @@ function radix4(x: Float64Array, y: Float64Array, m: number, s: number, tw: Floa
   const sm = 2 * s * m;
   for (let j = 0; j < m; j++) {
     const t = 6 * j;
-    const w1r = tw[t] as number, w1i = sg * (tw[t + 1] as number);
-    const w2r = tw[t + 2] as number, w2i = sg * (tw[t + 3] as number);
-    const w3r = tw[t + 4] as number, w3i = sg * (tw[t + 5] as number);
+    const w1r = tw[t] as number, w1i = tw[t + 1] as number;
+    const w2r = tw[t + 2] as number, w2i = tw[t + 3] as number;
+    const w3r = tw[t + 4] as number, w3i = tw[t + 5] as number;
     for (let q = 0; q < s; q++) {
       const i0 = 2 * (q + s * j);
       const ar = x[i0] as number, ai = x[i0 + 1] as number;
@@ -202,14 +235,41 @@ function radix4(x: Float64Array, y: Float64Array, m: number, s: number, tw: Floa
   }
 }
 
+/**
+ * `radix4` for m = 1 (the last stage when the size is a multiple of 4 with no other factor left): its
+ * twiddles are all w^0 = 1, so the products are skipped (the same numbers for finite data).
+ */
+function radix4Last(x: Float64Array, y: Float64Array, s: number, sg: number): void {
+  const sm = 2 * s;
+  for (let q = 0; q < s; q++) {
+    const i0 = 2 * q;
+    const ar = x[i0] as number, ai = x[i0 + 1] as number;
+    const br = x[i0 + sm] as number, bi = x[i0 + sm + 1] as number;
+    const cr = x[i0 + 2 * sm] as number, ci = x[i0 + 2 * sm + 1] as number;
+    const dr = x[i0 + 3 * sm] as number, di = x[i0 + 3 * sm + 1] as number;
+    const t0r = ar + cr, t0i = ai + ci;
+    const t1r = ar - cr, t1i = ai - ci;
+    const t2r = br + dr, t2i = bi + di;
+    const t3r = sg * (bi - di), t3i = -sg * (br - dr);
+    y[i0] = t0r + t2r;
+    y[i0 + 1] = t0i + t2i;
+    y[i0 + sm] = t1r + t3r;
+    y[i0 + sm + 1] = t1i + t3i;
+    y[i0 + 2 * sm] = t0r - t2r;
+    y[i0 + 2 * sm + 1] = t0i - t2i;
+    y[i0 + 3 * sm] = t1r - t3r;
+    y[i0 + 3 * sm + 1] = t1i - t3i;
+  }
+}
+
 const S3 = Math.sqrt(3) / 2;
 
 function radix3(x: Float64Array, y: Float64Array, m: number, s: number, tw: Float64Array, sg: number): void {
   const sm = 2 * s * m;
   for (let j = 0; j < m; j++) {
     const t = 4 * j;
-    const w1r = tw[t] as number, w1i = sg * (tw[t + 1] as number);
-    const w2r = tw[t + 2] as number, w2i = sg * (tw[t + 3] as number);
+    const w1r = tw[t] as number, w1i = tw[t + 1] as number;
+    const w2r = tw[t + 2] as number, w2i = tw[t + 3] as number;
     for (let q = 0; q < s; q++) {
       const i0 = 2 * (q + s * j);
       const ar = x[i0] as number, ai = x[i0 + 1] as number;
@@ -261,18 +321,18 @@ function radix5(x: Float64Array, y: Float64Array, m: number, s: number, tw: Floa
       const o = 2 * (q + s * 5 * j);
       y[o] = ar + p1r + p2r;
       y[o + 1] = ai + p1i + p2i;
-      twiddled(y, o + os, r1r + q1r, r1i + q1i, tw, t, sg);
-      twiddled(y, o + 2 * os, r2r + q2r, r2i + q2i, tw, t + 2, sg);
-      twiddled(y, o + 3 * os, r2r - q2r, r2i - q2i, tw, t + 4, sg);
-      twiddled(y, o + 4 * os, r1r - q1r, r1i - q1i, tw, t + 6, sg);
+      twiddled(y, o + os, r1r + q1r, r1i + q1i, tw, t);
+      twiddled(y, o + 2 * os, r2r + q2r, r2i + q2i, tw, t + 2);
+      twiddled(y, o + 3 * os, r2r - q2r, r2i - q2i, tw, t + 4);
+      twiddled(y, o + 4 * os, r1r - q1r, r1i - q1i, tw, t + 6);
     }
   }
 }
 
-/** y[o] = z times twiddle `t` (conjugated when sg is -1). */
-function twiddled(y: Float64Array, o: number, zr: number, zi: number, tw: Float64Array, t: number, sg: number): void {
+/** y[o] = z times twiddle `t`. */
+function twiddled(y: Float64Array, o: number, zr: number, zi: number, tw: Float64Array, t: number): void {
   const wr = tw[t] as number;
-  const wi = sg * (tw[t + 1] as number);
+  const wi = tw[t + 1] as number;
   y[o] = zr * wr - zi * wi;
   y[o + 1] = zr * wi + zi * wr;
 }
@@ -280,11 +340,15 @@ function twiddled(y: Float64Array, o: number, zr: number, zi: number, tw: Float6
 // Transform tables are costly to build; lines reuse a handful of sizes.
 const cache = new Map<number, Transform>();
 
-/** The transform of size n: fft.js for a power of two, `MixedRadixFFT` otherwise (factors 2, 3, 5). */
+/**
+ * The transform of size n (factors 2, 3, 5): `WasmFFT` where WebAssembly SIMD runs (about twice as fast
+ * as either of the others on the migration's and envelopes' sizes), else fft.js for a power of two and
+ * `MixedRadixFFT` for the others.
+ */
 export function fftOfSize(n: number): Transform {
   let f = cache.get(n);
   if (!f) {
-    f = (n & (n - 1)) === 0 ? Object.assign(new FFT(n), { size: n }) : new MixedRadixFFT(n);
+    f = wasmFftAvailable() ? new WasmFFT(n) : (n & (n - 1)) === 0 ? Object.assign(new FFT(n), { size: n }) : new MixedRadixFFT(n);
     cache.set(n, f);
   }
   return f;

@@ -1,7 +1,7 @@
 // Shared pieces of the frequency-domain migrations (stolt.ts, phase-shift.ts): the padded 2D transform of a
 // line, the dip limit, the trace-slot rule and the bistatic-to-zero-offset time map.
 import type { RadarLine } from '@lamina/radar-data';
-import { fftOfSize, nextFastSize, nextPow2 } from './fft';
+import { fftOfSize, nextFastSize, nextPow2, stagedTransform } from './fft';
 import { alongTrackM, outputFor, withData } from './line-util';
 import { keys } from './time-zero';
 
@@ -32,9 +32,8 @@ export function fk2d(
   const nw = nt / 2 + 1;
   // the padding rows (traces nTraces..nx) must be zero; the others are all written below
   const spec = into ? into.fill(0, 2 * nTraces * nw, 2 * nx * nw) : new Float64Array(2 * nx * nw);
-  const ft = fftOfSize(nt);
-  const pair = new Float64Array(2 * nt);
-  const cplx = new Float64Array(2 * nt);
+  const ft = stagedTransform(fftOfSize(nt));
+  const pair = ft.input;
   const power = new Float64Array(nw);
   // two real traces a, b per complex transform Z of a + ib: A[m] = (Z[m] + conj Z[-m]) / 2, B[m] = (Z[m] - conj Z[-m]) / 2i
   for (let i = 0; i < nTraces; i += 2) {
@@ -42,7 +41,7 @@ export function fk2d(
     pair.fill(0);
     for (let k = 0; k < nSamples; k++) pair[2 * k] = data[i * nSamples + k] as number;
     if (two) for (let k = 0; k < nSamples; k++) pair[2 * k + 1] = data[(i + 1) * nSamples + k] as number;
-    ft.transform(cplx, pair);
+    const cplx = ft.run(false);
     const oa = 2 * i * nw;
     const ob = oa + 2 * nw;
     for (let m = 0; m < nw; m++) {
@@ -536,7 +535,7 @@ export function fkLine(
   const sep = options.separationM ?? 0;
   const { nSamples: ns, nTraces: nt, dtNs: dt, timeZeroNs: tz } = line;
   const { src, dst } = outputFor(line, out);
-  const zo = new Float64Array(src.length);
+  const zo = scratch('fk zero-offset', src.length);
   bistaticResample(src, nt, ns, dt, tz, layers, sep, true, zo);
   taperTraceEnds(zo, nt, ns, dt, dominantPeriodNs(zo, nt, ns, dt));
   const { spacingM } = traceSlots(line, options.metresPerUnit ?? 1);
@@ -564,7 +563,8 @@ export function passThroughBack(
   layers: readonly { topM: number; velocityMPerNs: number }[],
   separationM: number,
 ): void {
-  const back = new Float32Array(img.length);
+  // float64 work array: each value is rounded to float32 once, in `dst`, as it was in a float32 one
+  const back = scratch('fk back', img.length);
   bistaticResample(img, nTraces, nSamples, dtNs, timeZeroNs, layers, separationM, false, back);
   const tMin = separationM / (layers[0] as { velocityMPerNs: number }).velocityMPerNs;
   for (let k = 0; k < nSamples; k++) {

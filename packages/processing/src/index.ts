@@ -18,6 +18,7 @@ export {
   sosfiltfiltPadlen,
   filtfiltWorkspace,
   sosfiltfilt,
+  sosfiltfiltPair,
 } from './butterworth';
 export { type ZeroPhaseOptions, type BandpassOptions, nyquistFraction, zeroPhaseFilter, bandpass } from './bandpass';
 export { type DewowOptions, oddWindow, dewow } from './dewow';

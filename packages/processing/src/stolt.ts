@@ -1,6 +1,6 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, packTracePair, paddedSizes, scatterColumns, scratch, shiftSpectrum, type FkLineOptions } from './fk';
-import { fftOfSize, inverseUnscaled } from './fft';
+import { fftOfSize, stagedTransform } from './fft';
 
 export interface StoltOptions extends FkLineOptions {
   /** Constant velocity of the ground, m/ns. */
@@ -270,23 +270,47 @@ interface StoltSpectrum {
   jHi: number;
 }
 
+/**
+ * One bin of the interpolated spectrum (at `base`, nx wavenumbers) times a node's dip weight (dipWeight,
+ * fk.ts, from the angles `thT` computed once) and `scale`, into `col`.
+ */
+function weighBin(val: Float64Array, sinT: Float64Array, thT: Float64Array, base: number, nx: number, s1: number, sMax: number, th1: number, thMax: number, scale: number, col: Float64Array): void {
+  for (let ix = 0; ix < nx; ix++) {
+    const sin = sinT[base + ix] as number;
+    let g = scale;
+    if (sin > s1) {
+      const th = thT[base + ix] as number;
+      g = sin >= sMax || th >= thMax ? 0 : th <= th1 ? scale : 0.5 * (1 + Math.cos((Math.PI * (th - th1)) / (thMax - th1))) * scale;
+    }
+    col[2 * ix] = (val[2 * (base + ix)] as number) * g;
+    col[2 * ix + 1] = (val[2 * (base + ix) + 1] as number) * g;
+  }
+}
+
 /** Each node's dip weights on the spectrum, back across traces and in time, its tau range blended into `out`. */
 function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, anglesDeg: readonly number[], blend: readonly Float64Array[], taper: number, out: Float32Array): Float32Array {
   const { val, sinT, nx, nt, jHi } = sp;
   const nw = nt / 2 + 1;
   const acc = scratch('stolt acc', nTraces * nSamples).fill(0);
-  const fx = fftOfSize(nx);
-  const ft = fftOfSize(nt);
+  const fx = stagedTransform(fftOfSize(nx));
+  const ft = stagedTransform(fftOfSize(nt));
   const nm = jHi + 1;
   // a block of bins across traces at a time, written trace-major (each trace's bins contiguous for its
   // time transform); blocks of 16 bins write 256 contiguous bytes per trace
   const B = 16;
   const cols = Array.from({ length: B }, () => new Float64Array(2 * nx));
-  const res = new Float64Array(2 * nx);
   const ht = scratch('stolt ht', 2 * nTraces * nm);
-  const full = new Float64Array(2 * nt);
-  const back = new Float64Array(2 * nt);
+  const col = fx.input;
+  const full = ft.input;
   const bs = new Float64Array(nSamples);
+  // the angle of every bin whose sine some node's taper reaches, once for all nodes (asin is costly)
+  let sLow = 1;
+  for (const a of anglesDeg) sLow = Math.min(sLow, Math.sin(((a * Math.PI) / 180) * (1 - taper)));
+  const thT = scratch('stolt theta', nm * nx);
+  for (let q = 0; q < nm * nx; q++) {
+    const sin = sinT[q] as number;
+    thT[q] = sin > sLow && sin < 1 ? Math.asin(sin) : 0;
+  }
   const rx = 1 / nx;
   const rt = 1 / nt;
   for (let w = 0; w < anglesDeg.length; w++) {
@@ -296,25 +320,18 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
     let k1 = nSamples - 1;
     while (k1 >= k0 && b[k1] === 0) k1--;
     if (k1 < k0 || jHi < 0) continue;
-    const weight = dipWeigher(anglesDeg[w] as number, taper);
     // the blend weights with the time inverse's 1 / nt
     for (let k = k0; k <= k1; k++) bs[k] = (b[k] as number) * rt;
-    // dipWeight is 1 up to the taper: only the band between needs the weigher
-    const s1 = Math.sin(((anglesDeg[w] as number) * Math.PI * (1 - taper)) / 180);
+    // dipWeight (fk.ts) from the angles computed once: 1 up to the taper, 0 past the limit, the cosine between
+    const thMax = ((anglesDeg[w] as number) * Math.PI) / 180;
+    const th1 = thMax * (1 - taper);
+    const s1 = Math.sin(th1);
+    const sMax = Math.sin(thMax);
     for (let m0 = 0; m0 < nm; m0 += B) {
       const nbk = Math.min(B, nm - m0);
       for (let c = 0; c < nbk; c++) {
-        const col = cols[c] as Float64Array;
-        const base = (m0 + c) * nx;
-        for (let ix = 0; ix < nx; ix++) {
-          const sin = sinT[base + ix] as number;
-          // the inverse's 1 / nx with the weight
-          const g = (sin <= s1 ? 1 : weight(sin)) * rx;
-          col[2 * ix] = (val[2 * (base + ix)] as number) * g;
-          col[2 * ix + 1] = (val[2 * (base + ix) + 1] as number) * g;
-        }
-        inverseUnscaled(fx, res, col);
-        col.set(res);
+        weighBin(val, sinT, thT, (m0 + c) * nx, nx, s1, sMax, th1, thMax, rx, col);
+        (cols[c] as Float64Array).set(fx.run(true));
       }
       scatterColumns(cols, nbk, nTraces, nm, m0, ht);
     }
@@ -323,8 +340,10 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
       const pair = i + 1 < nTraces;
       const oa = 2 * i * nm;
       const ob = 2 * (i + 1) * nm;
+      // the transform's input is overwritten by each run: the bins past jHi are zeroed again
+      full.fill(0, 2 * nm, 2 * (nt - nm + 1));
       packTracePair(ht, oa, pair ? ob : -1, 0, nm - 1, nw, nt, full);
-      inverseUnscaled(ft, back, full);
+      const back = ft.run(true);
       const o = i * nSamples;
       for (let k = k0; k <= k1; k++) acc[o + k] = (acc[o + k] as number) + (bs[k] as number) * (back[2 * k] as number);
       if (pair) for (let k = k0; k <= k1; k++) acc[o + nSamples + k] = (acc[o + nSamples + k] as number) + (bs[k] as number) * (back[2 * k + 1] as number);

@@ -1,7 +1,13 @@
-// The mixed-radix FFT against numpy.fft (Debian /usr/bin/python3, python3-numpy).
+// The mixed-radix FFTs (JavaScript and WebAssembly) against numpy.fft (Debian /usr/bin/python3, python3-numpy).
 import { spawnSync } from 'node:child_process';
+import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
-import { MixedRadixFFT, nextFastSize } from '../src/fft';
+import { MixedRadixFFT, fftOfSize, nextFastSize } from '../src/fft';
+import { WasmFFT, wasmFftAvailable } from '../src/fft-wasm';
+import { FFT_WASM_BASE64 } from '../src/fft-wasm-binary';
 
 /** numpy.fft.fft of each interleaved complex array, in one python run. */
 const numpyFfts = (xs: Float64Array[]): number[][] => {
@@ -11,15 +17,18 @@ const numpyFfts = (xs: Float64Array[]): number[][] => {
   return JSON.parse(r.stdout) as number[][];
 };
 
-describe('MixedRadixFFT', () => {
+describe.each([
+  ['MixedRadixFFT', (n: number) => new MixedRadixFFT(n)],
+  ['WasmFFT', (n: number) => new WasmFFT(n)],
+] as const)('%s', (_name, make) => {
   it('agrees with numpy.fft.fft within 1e-12 of the peak for sizes made of 2, 3, 4, 5; inverse and real transforms', () => {
-    const sizes = [2, 3, 5, 6, 12, 15, 45, 100, 375, 576, 1280, 1000];
+    const sizes = [2, 3, 5, 6, 12, 15, 45, 100, 375, 576, 1280, 1000, 1024];
     const input = (n: number) => new Float64Array(2 * n).map((_, i) => Math.sin(1.7 * i + 0.3 * i * i));
     const realInput = (n: number) => Float64Array.from({ length: 2 * n }, (_, i) => (i % 2 ? 0 : Math.sin(0.85 * i + 0.075 * i * i)));
     const refs = numpyFfts([...sizes.map(input), ...sizes.map(realInput)]);
     sizes.forEach((n, c) => {
       const x = input(n);
-      const f = new MixedRadixFFT(n);
+      const f = make(n);
       const out = new Float64Array(2 * n);
       f.transform(out, x);
       const ref = refs[c] as number[];
@@ -37,8 +46,41 @@ describe('MixedRadixFFT', () => {
     });
   });
 
+  it('the unscaled inverse is n times the inverse; the input array is left as it was', () => {
+    const f = make(1280);
+    const x = new Float64Array(2 * 1280).map((_, i) => Math.cos(0.37 * i * i));
+    const copy = x.slice();
+    const a = new Float64Array(2 * 1280);
+    const b = new Float64Array(2 * 1280);
+    f.inverseTransform(a, x);
+    f.inverseUnscaled(b, x);
+    for (let i = 0; i < a.length; i++) expect(Math.abs((b[i] as number) - 1280 * (a[i] as number))).toBeLessThan(1e-12 * 1280);
+    expect(x).toEqual(copy);
+  });
+
   it('nextFastSize: the smallest size >= n with prime factors 2, 3, 5 only', () => {
     expect([2, 7, 481, 568, 577, 1024, 1281].map(nextFastSize)).toEqual([2, 8, 486, 576, 600, 1024, 1296]);
-    expect(() => new MixedRadixFFT(14)).toThrow(/prime factor/);
+    expect(() => make(14)).toThrow(/prime factor/);
+  });
+});
+
+describe('fftOfSize', () => {
+  it('takes the WebAssembly transform where SIMD runs (Node 20 here), for powers of two too', () => {
+    expect(wasmFftAvailable()).toBe(true);
+    expect(fftOfSize(1024)).toBeInstanceOf(WasmFFT);
+    expect(fftOfSize(1280)).toBeInstanceOf(WasmFFT);
+  });
+
+  it('the committed module is the build of wasm/fft-kernels.ts (scripts/build-fft-wasm.mjs, same flags)', () => {
+    const root = join(dirname(fileURLToPath(import.meta.url)), '../../..');
+    const dir = mkdtempSync(join(tmpdir(), 'lamina-fft-wasm-test-'));
+    try {
+      const out = join(dir, 'fft.wasm');
+      const r = spawnSync(join(root, 'node_modules/.bin/asc'), [join(root, 'packages/processing/wasm/fft-kernels.ts'), '-O3', '--runtime', 'stub', '--noAssert', '--enable', 'simd', '--initialMemory', '1', '-o', out], { encoding: 'utf8' });
+      if (r.status !== 0) throw new Error(r.stderr);
+      expect(readFileSync(out).toString('base64')).toBe(FFT_WASM_BASE64);
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
   });
 });

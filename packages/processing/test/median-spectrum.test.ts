@@ -18,6 +18,44 @@ describe('moving-median background removal', () => {
     expect(apex.value).toBeGreaterThan(0.5 * Math.abs(argmaxAbs(trace(line, 300)).value));
     expect(Math.abs(trace(out, 270)[apex.index] as number)).toBeLessThan(1e-6);
   });
+
+  it('subtracts the exact median of each window (a sort, as the documentation defines it), odd and even windows', () => {
+    for (const windowM of [2.5, 2.55]) {
+      const nT = 157;
+      const nS = 64;
+      const line = makeLine(nT, nS, 0.1, 0.05);
+      // noise with ties (rounded values), a trend along the line and a flat event
+      let seed = 11;
+      for (let q = 0; q < line.data.length; q++) {
+        seed = (seed * 16807) % 2147483647;
+        line.data[q] = Math.round(20 * (seed / 2147483647 - 0.5)) / 10 + 0.01 * Math.floor(q / nS) + (q % nS === 20 ? 3 : 0);
+      }
+      const out = backgroundRemoval(line, { method: 'movingMedian', windowM });
+      // the window of w traces at centres every w/4 traces (and the last), clamped to the line; linear between
+      const w = Math.round(windowM / 0.05);
+      const step = Math.floor(w / 4);
+      const centres: number[] = [];
+      for (let c = 0; c < nT; c += step) centres.push(c);
+      if (centres[centres.length - 1] !== nT - 1) centres.push(nT - 1);
+      const medianAt = (c: number, s: number) => {
+        const a = Math.max(0, Math.min(nT - w, c - Math.floor(w / 2)));
+        const v = Array.from({ length: w }, (_, i) => line.data[(a + i) * nS + s] as number).sort((x, y) => x - y);
+        return w % 2 ? (v[w >> 1] as number) : 0.5 * ((v[(w >> 1) - 1] as number) + (v[w >> 1] as number));
+      };
+      for (const t of [0, 7, 40, 80, 123, 156]) {
+        let k = 0;
+        while (k < centres.length - 2 && (centres[k + 1] as number) <= t) k++;
+        const c0 = centres[k] as number;
+        const c1 = centres[k + 1] as number;
+        const f = (t - c0) / (c1 - c0);
+        for (const s of [0, 20, 41, 63]) {
+          const b0 = Math.fround(medianAt(c0, s));
+          const b1 = Math.fround(medianAt(c1, s));
+          expect(out.data[t * nS + s]).toBeCloseTo((line.data[t * nS + s] as number) - (b0 + f * (b1 - b0)), 5);
+        }
+      }
+    }
+  });
 });
 
 describe('spectralCentroidMHz', () => {

@@ -1,0 +1,179 @@
+import { FFT_WASM_BASE64 } from './fft-wasm-binary';
+import type { Transform } from './fft';
+
+interface Kernels {
+  memory: WebAssembly.Memory;
+  radix2(x: number, y: number, m: number, s: number, tw: number): void;
+  radix3(x: number, y: number, m: number, s: number, tw: number, sg: number): void;
+  radix4(x: number, y: number, m: number, s: number, tw: number, sg: number): void;
+  radix4Last(x: number, y: number, s: number, sg: number): void;
+  radix5(x: number, y: number, m: number, s: number, tw: number, sg: number): void;
+}
+
+let compiled: WebAssembly.Module | null | undefined;
+
+/** The kernels' module, compiled once per thread; null where WebAssembly SIMD is not available. */
+function kernelModule(): WebAssembly.Module | null {
+  if (compiled === undefined) {
+    try {
+      const bytes = typeof Buffer !== 'undefined' ? Buffer.from(FFT_WASM_BASE64, 'base64') : Uint8Array.from(atob(FFT_WASM_BASE64), (c) => c.charCodeAt(0));
+      compiled = WebAssembly.validate(bytes) ? new WebAssembly.Module(bytes) : null;
+    } catch {
+      compiled = null;
+    }
+  }
+  return compiled;
+}
+
+/** True where `WasmFFT` can run (WebAssembly with 128-bit SIMD). */
+export function wasmFftAvailable(): boolean {
+  return kernelModule() !== null;
+}
+
+/**
+ * `MixedRadixFFT` (the same Stockham stages, radices 4, 2, 3, 5 in that order, and the same twiddles) with
+ * its butterflies in WebAssembly, one complex number per 128-bit SIMD vector (wasm/fft-kernels.ts).
+ * Each instance has its own module memory: the input, two work arrays and the twiddle tables. Agrees
+ * with `MixedRadixFFT` to float rounding (test/fft.test.ts, against numpy).
+ */
+export class WasmFFT implements Transform {
+  readonly size: number;
+  private readonly k: Kernels;
+  private readonly radices: number[] = [];
+  /** Byte offsets of each stage's twiddles, forward and inverse. */
+  private readonly twFwd: number[] = [];
+  private readonly twInv: number[] = [];
+  private readonly bufA: number;
+  private readonly bufB: number;
+  private readonly view: Float64Array;
+
+  constructor(n: number) {
+    const mod = kernelModule();
+    if (!mod) throw new Error('fft: WebAssembly SIMD is not available');
+    if (!(n >= 2) || n !== Math.floor(n)) throw new Error(`fft: size must be an integer >= 2, found ${n}`);
+    this.size = n;
+    let r = n;
+    while (r % 4 === 0) {
+      this.radices.push(4);
+      r /= 4;
+    }
+    for (const p of [2, 3, 5]) {
+      while (r % p === 0) {
+        this.radices.push(p);
+        r /= p;
+      }
+    }
+    if (r !== 1) throw new Error(`fft: size must have no prime factor above 5, found ${n}`);
+    // twiddles per stage: m (p - 1) complex numbers, each stored as 4 doubles (wr, wr, -wi, wi)
+    let twDoubles = 0;
+    let len = n;
+    for (const p of this.radices) {
+      twDoubles += 4 * (len / p) * (p - 1);
+      len /= p;
+    }
+    const bytes = 8 * (2 * 2 * n + 2 * twDoubles);
+    const instance = new WebAssembly.Instance(mod, {});
+    this.k = instance.exports as unknown as Kernels;
+    const have = this.k.memory.buffer.byteLength;
+    if (bytes > have) this.k.memory.grow(Math.ceil((bytes - have) / 65536));
+    this.view = new Float64Array(this.k.memory.buffer);
+    this.bufA = 0;
+    this.bufB = 16 * n;
+    let at = 32 * n;
+    len = n;
+    for (const p of this.radices) {
+      const m = len / p;
+      this.twFwd.push(at);
+      this.twInv.push(at + 32 * m * (p - 1));
+      for (let q = 0; q < m; q++) {
+        for (let kk = 1; kk < p; kk++) {
+          const a = (-2 * Math.PI * q * kk) / len;
+          const wr = Math.cos(a);
+          const wi = Math.sin(a);
+          const f = at / 8 + 4 * (q * (p - 1) + kk - 1);
+          this.view.set([wr, wr, -wi, wi], f);
+          const g = (at + 32 * m * (p - 1)) / 8 + 4 * (q * (p - 1) + kk - 1);
+          this.view.set([wr, wr, wi, -wi], g);
+        }
+      }
+      at += 64 * m * (p - 1);
+      len = m;
+    }
+  }
+
+  transform(out: Float64Array, data: Float64Array): void {
+    this.run(out, data, false);
+  }
+
+  inverseTransform(out: Float64Array, data: Float64Array): void {
+    this.run(out, data, true);
+    const s = 1 / this.size;
+    for (let i = 0; i < 2 * this.size; i++) out[i] = (out[i] as number) * s;
+  }
+
+  /** `inverseTransform` without the 1/n factor. */
+  inverseUnscaled(out: Float64Array, data: Float64Array): void {
+    this.run(out, data, true);
+  }
+
+  realTransform(out: Float64Array, data: Float64Array): void {
+    const v = this.view;
+    for (let i = 0; i < this.size; i++) {
+      v[2 * i] = data[i] as number;
+      v[2 * i + 1] = 0;
+    }
+    this.stages(out, false);
+  }
+
+  /** The module's input array (2n numbers, interleaved complex): fill it, then `runInput`. */
+  get input(): Float64Array {
+    return this.view.subarray(0, 2 * this.size);
+  }
+
+  /**
+   * The transform (the inverse without its 1/n) of what `input` holds, returned as a view of the module's
+   * memory, valid until the next call; `input` is overwritten (the stages work in it).
+   */
+  runInput(inverse: boolean): Float64Array {
+    const x = this.stageRun(inverse);
+    return this.view.subarray(x / 8, x / 8 + 2 * this.size);
+  }
+
+  private run(out: Float64Array, data: Float64Array, inverse: boolean): void {
+    const n2 = 2 * this.size;
+    this.view.set(data.length === n2 ? data : data.subarray(0, n2), 0);
+    this.stages(out, inverse);
+  }
+
+  /** The stages on the input at `bufA`, the result copied into `out`. */
+  private stages(out: Float64Array, inverse: boolean): void {
+    const x = this.stageRun(inverse);
+    out.set(this.view.subarray(x / 8, x / 8 + 2 * this.size));
+  }
+
+  /** The stages on the input at `bufA`; returns the byte offset of the result. */
+  private stageRun(inverse: boolean): number {
+    const k = this.k;
+    const sg = inverse ? -1 : 1;
+    const tws = inverse ? this.twInv : this.twFwd;
+    let x = this.bufA;
+    let y = this.bufB;
+    let s = 1;
+    let len = this.size;
+    for (let st = 0; st < this.radices.length; st++) {
+      const p = this.radices[st] as number;
+      const m = len / p;
+      const tw = tws[st] as number;
+      if (p === 4) {
+        if (m === 1) k.radix4Last(x, y, s, sg);
+        else k.radix4(x, y, m, s, tw, sg);
+      } else if (p === 2) k.radix2(x, y, m, s, tw);
+      else if (p === 3) k.radix3(x, y, m, s, tw, sg);
+      else k.radix5(x, y, m, s, tw, sg);
+      [x, y] = [y, x];
+      s *= p;
+      len = m;
+    }
+    return x;
+  }
+}

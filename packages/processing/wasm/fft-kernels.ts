@@ -1,0 +1,139 @@
+// AssemblyScript source of the WebAssembly kernels of `WasmFFT` (../src/fft-wasm.ts): the Stockham
+// stages of `MixedRadixFFT` (../src/fft.ts), the same formulas on interleaved complex float64 numbers,
+// one complex number per 128-bit SIMD vector. Built by scripts/build-fft-wasm.mjs into
+// ../src/fft-wasm-binary.ts (the module as base64); rebuild after a change here.
+// Pointers are byte offsets into the module's memory. `tw` holds, per twiddle w = (wr, wi), the two
+// vectors (wr, wr) and (-wi, wi) (conjugated for the inverse), so that z w = z * (wr, wr) + swap(z) * (-wi, wi).
+
+@inline function swap(z: v128): v128 {
+  return v128.shuffle<f64>(z, z, 1, 0);
+}
+
+@inline function twiddle(z: v128, tw: usize): v128 {
+  return f64x2.add(f64x2.mul(z, v128.load(tw)), f64x2.mul(swap(z), v128.load(tw, 16)));
+}
+
+/** -i sg z = swap(z) * (sg, -sg): `nsg` is the vector (sg, -sg). */
+@inline function mulNegI(z: v128, nsg: v128): v128 {
+  return f64x2.mul(swap(z), nsg);
+}
+
+export function radix2(x: usize, y: usize, m: i32, s: i32, tw: usize): void {
+  const sm = <usize>(s * m) << 4;
+  for (let j = 0; j < m; j++) {
+    const t = tw + (<usize>j << 5);
+    for (let q = 0; q < s; q++) {
+      const i0 = x + (<usize>(q + s * j) << 4);
+      const a = v128.load(i0);
+      const b = v128.load(i0 + sm);
+      const o = y + (<usize>(q + s * 2 * j) << 4);
+      v128.store(o, f64x2.add(a, b));
+      v128.store(o + (<usize>s << 4), twiddle(f64x2.sub(a, b), t));
+    }
+  }
+}
+
+export function radix4(x: usize, y: usize, m: i32, s: i32, tw: usize, sg: f64): void {
+  const sm = <usize>(s * m) << 4;
+  const os = <usize>s << 4;
+  const nsg = f64x2(sg, -sg);
+  for (let j = 0; j < m; j++) {
+    const t = tw + <usize>j * 96;
+    for (let q = 0; q < s; q++) {
+      const i0 = x + (<usize>(q + s * j) << 4);
+      const a = v128.load(i0);
+      const b = v128.load(i0 + sm);
+      const c = v128.load(i0 + 2 * sm);
+      const d = v128.load(i0 + 3 * sm);
+      const t0 = f64x2.add(a, c);
+      const t1 = f64x2.sub(a, c);
+      const t2 = f64x2.add(b, d);
+      const t3 = mulNegI(f64x2.sub(b, d), nsg);
+      const o = y + (<usize>(q + s * 4 * j) << 4);
+      v128.store(o, f64x2.add(t0, t2));
+      v128.store(o + os, twiddle(f64x2.add(t1, t3), t));
+      v128.store(o + 2 * os, twiddle(f64x2.sub(t0, t2), t + 32));
+      v128.store(o + 3 * os, twiddle(f64x2.sub(t1, t3), t + 64));
+    }
+  }
+}
+
+/** `radix4` for m = 1: unit twiddles. */
+export function radix4Last(x: usize, y: usize, s: i32, sg: f64): void {
+  const sm = <usize>s << 4;
+  const nsg = f64x2(sg, -sg);
+  for (let q = 0; q < s; q++) {
+    const i0 = x + (<usize>q << 4);
+    const a = v128.load(i0);
+    const b = v128.load(i0 + sm);
+    const c = v128.load(i0 + 2 * sm);
+    const d = v128.load(i0 + 3 * sm);
+    const t0 = f64x2.add(a, c);
+    const t1 = f64x2.sub(a, c);
+    const t2 = f64x2.add(b, d);
+    const t3 = mulNegI(f64x2.sub(b, d), nsg);
+    const o = y + (<usize>q << 4);
+    v128.store(o, f64x2.add(t0, t2));
+    v128.store(o + sm, f64x2.add(t1, t3));
+    v128.store(o + 2 * sm, f64x2.sub(t0, t2));
+    v128.store(o + 3 * sm, f64x2.sub(t1, t3));
+  }
+}
+
+export function radix3(x: usize, y: usize, m: i32, s: i32, tw: usize, sg: f64): void {
+  const sm = <usize>(s * m) << 4;
+  const os = <usize>s << 4;
+  const half = f64x2.splat(0.5);
+  const k3 = f64x2(sg * 0.8660254037844386, -sg * 0.8660254037844386);
+  for (let j = 0; j < m; j++) {
+    const t = tw + <usize>j * 64;
+    for (let q = 0; q < s; q++) {
+      const i0 = x + (<usize>(q + s * j) << 4);
+      const a = v128.load(i0);
+      const b = v128.load(i0 + sm);
+      const c = v128.load(i0 + 2 * sm);
+      const sum = f64x2.add(b, c);
+      const mid = f64x2.sub(a, f64x2.mul(half, sum));
+      const dd = f64x2.mul(swap(f64x2.sub(b, c)), k3);
+      const o = y + (<usize>(q + s * 3 * j) << 4);
+      v128.store(o, f64x2.add(a, sum));
+      v128.store(o + os, twiddle(f64x2.add(mid, dd), t));
+      v128.store(o + 2 * os, twiddle(f64x2.sub(mid, dd), t + 32));
+    }
+  }
+}
+
+export function radix5(x: usize, y: usize, m: i32, s: i32, tw: usize, sg: f64): void {
+  const sm = <usize>(s * m) << 4;
+  const os = <usize>s << 4;
+  const c1 = f64x2.splat(0.30901699437494745);
+  const c2 = f64x2.splat(-0.8090169943749473);
+  const s1 = f64x2(sg * 0.9510565162951535, -sg * 0.9510565162951535);
+  const s2 = f64x2(sg * 0.5877852522924732, -sg * 0.5877852522924732);
+  for (let j = 0; j < m; j++) {
+    const t = tw + <usize>j * 128;
+    for (let q = 0; q < s; q++) {
+      const i0 = x + (<usize>(q + s * j) << 4);
+      const a = v128.load(i0);
+      const b = v128.load(i0 + sm);
+      const c = v128.load(i0 + 2 * sm);
+      const d = v128.load(i0 + 3 * sm);
+      const e = v128.load(i0 + 4 * sm);
+      const p1 = f64x2.add(b, e);
+      const m1 = swap(f64x2.sub(b, e));
+      const p2 = f64x2.add(c, d);
+      const m2 = swap(f64x2.sub(c, d));
+      const r1 = f64x2.add(a, f64x2.add(f64x2.mul(c1, p1), f64x2.mul(c2, p2)));
+      const r2 = f64x2.add(a, f64x2.add(f64x2.mul(c2, p1), f64x2.mul(c1, p2)));
+      // -i sg (S1 m1 + S2 m2) and -i sg (S2 m1 - S1 m2)
+      const q1 = f64x2.add(f64x2.mul(s1, m1), f64x2.mul(s2, m2));
+      const q2 = f64x2.sub(f64x2.mul(s2, m1), f64x2.mul(s1, m2));
+      const o = y + (<usize>(q + s * 5 * j) << 4);
+      v128.store(o, f64x2.add(a, f64x2.add(p1, p2)));
+      v128.store(o + os, twiddle(f64x2.add(r1, q1), t));
+      v128.store(o + 2 * os, twiddle(f64x2.add(r2, q2), t + 32));
+      v128.store(o + 3 * os, twiddle(f64x2.sub(r2, q2), t + 64));
+      v128.store(o + 4 * os, twiddle(f64x2.sub(r1, q1), t + 96));
+    }
+  }
+}
