@@ -348,7 +348,7 @@ export function runStep(line: RadarLine, step: Step, ctx: RecipeContext): { line
           step: 'airEvents',
           params,
           notes,
-          result: { foci: r.foci, maskedShare: round(r.maskedShare, 5), removedShare: round(r.removedShare, 5), apexes: (objects.apexes?.length ?? 0) / 2 },
+          result: { foci: r.foci, maskedShare: round(r.maskedShare, 5), removedShare: round(r.removedShare, 5), apexes: (objects.apexes?.length ?? 0) / 2, steepEvents: r.steepEvents },
         },
       };
     }
