@@ -15,7 +15,7 @@ import { C_M_PER_NS } from '@lamina/constants';
 import type { RadarLine } from '@lamina/radar-data';
 import { bistaticResample, dipWeight, dominantPeriodNs, taperTraceEnds, traceSlots } from './fk';
 import { hilbertEnvelope, hilbertWorkspace } from './envelope';
-import { alongTrackM, outputFor, periodNs, withData } from './line-util';
+import { outputFor, periodNs, withData } from './line-util';
 import { stoltKernel } from './stolt';
 
 /**
@@ -349,9 +349,9 @@ export function subtractSteepAirEvents(line: RadarLine, objects: AirObjects, opt
   const T = st.timeHalfWidthNs;
   const sep = st.separationM;
   const direct = sep / C_M_PER_NS;
-  const s = alongTrackM(line, mpu);
   const { spacingM } = traceSlots(line, mpu);
   const M = Math.max(1, Math.round(st.moveoutHalfWidthM / spacingM));
+  const K = Math.max(1, Math.round(st.lateralHalfWidthM / spacingM));
   const J = Math.ceil((1.5 * T) / dt);
   const nj = 2 * J + 1;
   const d = new Float64Array(nt);
@@ -362,6 +362,9 @@ export function subtractSteepAirEvents(line: RadarLine, objects: AirObjects, opt
   const scratch = new Float64Array(2 * M + 1);
   let events = 0;
   let traces = 0;
+  const taken: Float64Array[] = [];
+  // the moveout may shift by up to half a period (see below)
+  const sMax = 0.5 * T;
   const one = (ax: number, ay: number, bx: number, by: number, h: number): void => {
     planDistances(line, ax, ay, bx, by, mpu, d);
     for (let i = 0; i < nt; i++) {
@@ -371,16 +374,29 @@ export function subtractSteepAirEvents(line: RadarLine, objects: AirObjects, opt
     }
     let any = 0;
     for (let i = 0; i < nt; i++) {
-      const a = Math.max(0, i - 1), b = Math.min(nt - 1, i + 1);
-      const ds = Math.abs((s[b] as number) - (s[a] as number));
+      // the dip over the chord of half a wavelength either side (the f-k step's own scale): positions
+      // carry centimetres of jitter, which over one trace step (or summed along the track) would take a
+      // wall straight ahead (sin = 1) under the dip limit
+      const a = Math.max(0, i - K), b = Math.min(nt - 1, i + K);
+      const ds = Math.hypot((line.x[b] as number) - (line.x[a] as number), (line.y[b] as number) - (line.y[a] as number)) * mpu;
       const sinT = ds > 0 ? Math.min(1, Math.abs((d[b] as number) - (d[a] as number)) / ds) : 0;
       const k0 = ((t[i] as number) + tz) / dt;
       w[i] = k0 + J < 0 || k0 - J > ns - 1 ? 0 : 1 - dipWeight(sinT, st.maxAngleDeg, st.taper);
       if ((w[i] as number) > 1e-6) any++;
     }
     if (any === 0) return;
+    // an event already taken: the moveout lies within the time half-width of one subtracted before on
+    // most of its steep traces (a fence's posts in its panel's plane, straight ahead of the line)
+    let same = 0;
+    for (const prev of taken) {
+      same = 0;
+      for (let i = 0; i < nt; i++) if ((w[i] as number) > 1e-6 && (prev[i] as number) > 1e-6 && Math.abs((prev[i] as number) - (t[i] as number)) <= 0.5 * T) same++;
+      if (same > 0.5 * any) return;
+    }
+    const mark = new Float64Array(nt);
+    for (let i = 0; i < nt; i++) mark[i] = (w[i] as number) > 1e-6 ? (t[i] as number) : 0;
+    taken.push(mark);
     // the shift that makes the mean along the moveout (over the steep traces) strongest
-    const sMax = 0.5 * T;
     let best = 0;
     let bestE = -1;
     for (let sh = -sMax; sh <= sMax + 1e-9; sh += 0.5 * dt) {
@@ -408,12 +424,22 @@ export function subtractSteepAirEvents(line: RadarLine, objects: AirObjects, opt
       if (!(wi > 1e-6)) continue;
       traces++;
       const lo = Math.max(0, i - M), hi = Math.min(nt - 1, i + M);
-      const n = hi - lo + 1;
       for (let j = 0; j < nj; j++) {
-        for (let q = lo; q <= hi; q++) scratch[q - lo] = panel[q * nj + j] as number;
+        let n = 0;
+        for (let q = lo; q <= hi; q++) scratch[n++] = panel[q * nj + j] as number;
         const v = scratch.subarray(0, n).sort();
         med[j] = n % 2 ? (v[n >> 1] as number) : 0.5 * ((v[n / 2 - 1] as number) + (v[n / 2] as number));
       }
+      // the median's share in this trace, least squares within [0, 1]: where the trace does not hold the
+      // event (or holds it weaker), less is taken out
+      let dm = 0;
+      let mm = 0;
+      for (let j = 0; j < nj; j++) {
+        const e = edge((j - J) * dt, T);
+        dm += e * (panel[i * nj + j] as number) * (med[j] as number);
+        mm += e * (med[j] as number) ** 2;
+      }
+      const alpha = mm > 0 ? Math.min(1, Math.max(0, dm / mm)) : 0;
       const tc = (t[i] as number) + best;
       const kLo = Math.max(0, Math.ceil((tc + tz) / dt - J)), kHi = Math.min(ns - 1, Math.floor((tc + tz) / dt + J));
       for (let k = kLo; k <= kHi; k++) {
@@ -421,14 +447,15 @@ export function subtractSteepAirEvents(line: RadarLine, objects: AirObjects, opt
         if (k * dt - tz < direct) continue;
         const e = edge(tau, T);
         if (e === 0) continue;
-        dst[i * ns + k] = (dst[i * ns + k] as number) - wi * e * lerp(med, 0, nj, tau / dt + J);
+        dst[i * ns + k] = (dst[i * ns + k] as number) - alpha * wi * e * lerp(med, 0, nj, tau / dt + J);
       }
     }
   };
-  const p = objects.points;
-  for (let q = 0; q + 2 < p.length; q += 3) one(p[q] as number, p[q + 1] as number, p[q] as number, p[q + 1] as number, p[q + 2] as number);
+  // walls and fence panels first: their plane reflections are the strongest
   const sg = objects.segments;
   for (let q = 0; q + 4 < sg.length; q += 5) one(sg[q] as number, sg[q + 1] as number, sg[q + 2] as number, sg[q + 3] as number, sg[q + 4] as number);
+  const p = objects.points;
+  for (let q = 0; q + 2 < p.length; q += 3) one(p[q] as number, p[q + 1] as number, p[q] as number, p[q + 1] as number, p[q + 2] as number);
   return { line: withData(line, dst), events, traces };
 }
 

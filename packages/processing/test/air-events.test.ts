@@ -127,6 +127,19 @@ describe('subtractSteepAirEvents (the part steeper than the f-k dip limit, along
     expect(10 * Math.log10(energy(line.data) / energy(r.line.data))).toBeGreaterThanOrEqual(10);
   });
 
+  // positions rounded to the centimetre with a centimetre of jitter across the line (as GNSS or a wheel
+  // give them): the dip is read over a chord, not trace to trace, so the wall stays straight ahead
+  it('does the same on positions with a centimetre of jitter', () => {
+    const line = blank();
+    for (let i = 0; i < line.nTraces; i++) {
+      line.x[i] = Math.round((line.x[i] as number) * 100) / 100;
+      line.y[i] = (i * 7919) % 3 === 0 ? 0.01 : (i * 7919) % 3 === 1 ? -0.01 : 0;
+    }
+    addWallAhead(line);
+    const r = removeAirEvents(line, ahead, options);
+    expect(10 * Math.log10(energy(line.data) / energy(r.line.data))).toBeGreaterThanOrEqual(10);
+  });
+
   // the soil hyperbolas cross the wall's moveout (13.3 ns at 19.5 m; 30 ns at 17 m): the running median
   // along the moveout leaves them out
   it('passes soil-velocity hyperbolas (0.1 m/ns) crossing that moveout through with more than 0.99 of their energy', () => {
