@@ -422,14 +422,30 @@ export function subtractSteepAirEvents(line: RadarLine, objects: AirObjects, opt
     for (let i = 0; i < nt; i++) {
       const wi = w[i] as number;
       if (!(wi > 1e-6)) continue;
-      traces++;
       const lo = Math.max(0, i - M), hi = Math.min(nt - 1, i + M);
+      let stackE = 0;
+      let traceE = 0;
       for (let j = 0; j < nj; j++) {
         let n = 0;
-        for (let q = lo; q <= hi; q++) scratch[n++] = panel[q * nj + j] as number;
+        let sum = 0;
+        for (let q = lo; q <= hi; q++) {
+          const a = panel[q * nj + j] as number;
+          scratch[n++] = a;
+          sum += a;
+          traceE += a * a;
+        }
+        stackE += (sum * sum) / n;
         const v = scratch.subarray(0, n).sort();
         med[j] = n % 2 ? (v[n >> 1] as number) : 0.5 * ((v[n / 2 - 1] as number) + (v[n / 2] as number));
       }
+      // semblance along the moveout over the median's window: the share of the energy there that is the
+      // same on every trace. Full weight when the air wave carries at least half of it, none under a
+      // quarter: a moveout that holds no air wave (an object the antenna does not see) holds what crosses
+      // it, and its median would be a piece of that
+      const semblance = traceE > 0 ? stackE / traceE : 0;
+      const gate = Math.min(1, Math.max(0, (semblance - 0.25) / 0.25));
+      if (gate === 0) continue;
+      traces++;
       // the median's share in this trace, least squares within [0, 1]: where the trace does not hold the
       // event (or holds it weaker), less is taken out
       let dm = 0;
@@ -439,7 +455,7 @@ export function subtractSteepAirEvents(line: RadarLine, objects: AirObjects, opt
         dm += e * (panel[i * nj + j] as number) * (med[j] as number);
         mm += e * (med[j] as number) ** 2;
       }
-      const alpha = mm > 0 ? Math.min(1, Math.max(0, dm / mm)) : 0;
+      const alpha = gate * (mm > 0 ? Math.min(1, Math.max(0, dm / mm)) : 0);
       const tc = (t[i] as number) + best;
       const kLo = Math.max(0, Math.ceil((tc + tz) / dt - J)), kHi = Math.min(ns - 1, Math.floor((tc + tz) / dt + J));
       for (let k = kLo; k <= kHi; k++) {
