@@ -180,9 +180,17 @@ describe('the airEvents recipe step', () => {
     const recipe = parseRecipe({ steps: [{ step: 'airEvents' }] });
     const ran = runRecipe(line, recipe, { frequencyMHz: F, separationM: S, velocityMPerNs: 0.1, airObjects: post });
     expect(ran.log[0]?.skipped).toBeUndefined();
-    expect(ran.log[0]?.params).toMatchObject({ maxAngleDeg: 88, taper: 0.05, timeHalfWidthNs: 2.5, keepSoilFoci: true });
+    expect(ran.log[0]?.params).toMatchObject({ maxAngleDeg: 88, taper: 0.05, timeHalfWidthNs: 2.5, keepSoilFoci: true, steepMoveout: true });
     expect(ran.log[0]?.result?.foci).toBe(1);
     expect(10 * Math.log10(energy(line.data) / energy(ran.line.data))).toBeGreaterThanOrEqual(10);
+    // the steep part can be left out by the step's own parameter
+    const wall = blank();
+    addWallAhead(wall);
+    const on = runRecipe(wall, recipe, { frequencyMHz: F, separationM: S, velocityMPerNs: 0.1, airObjects: ahead });
+    const off = runRecipe(wall, parseRecipe({ steps: [{ step: 'airEvents', steepMoveout: false }] }), { frequencyMHz: F, separationM: S, velocityMPerNs: 0.1, airObjects: ahead });
+    expect(on.log[0]?.result?.steepEvents).toBe(1);
+    expect(off.log[0]?.params.steepMoveout).toBe(false);
+    expect(off.log[0]?.result?.steepEvents).toBe(0);
     const skipped = runRecipe(line, recipe, { frequencyMHz: F, separationM: S });
     expect(skipped.log[0]?.skipped).toMatch(/no above-ground object/);
     expect(Array.from(skipped.line.data)).toEqual(Array.from(line.data));
