@@ -285,7 +285,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     const cleanAir = recipe.steps.some((st) => st.step === 'airEvents');
     const planAir = cleanAir ? planAirObjects(site.plan, site.crs.metresPerUnit) : undefined;
     const airFits = cleanAir ? (velocity.hyperbolas ?? []).filter((h) => h.origin === 'above-ground') : [];
-    const airRuns = { lines: 0, cleaned: 0, foci: 0, apexes: 0, removed: 0, skipped: '' };
+    const airRuns = { lines: 0, cleaned: 0, foci: 0, apexes: 0, steep: 0, removed: 0, skipped: '' };
     progress('depth slices', 0, n);
     // Each line's per-trace slice values (after and before background removal, side by side) go to a
     // point spill on disk in line order (so the result does not depend on which worker finished first),
@@ -332,6 +332,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
                   airRuns.cleaned++;
                   airRuns.foci += Number(air.result?.foci ?? 0);
                   airRuns.apexes += Number(air.result?.apexes ?? 0);
+                  airRuns.steep += Number(air.result?.steepEvents ?? 0);
                   airRuns.removed += Number(air.result?.removedShare ?? 0);
                 }
               }
@@ -349,7 +350,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       const airEntry = log.find((e) => e.step === 'airEvents');
       if (airEntry && airRuns.lines > 0) {
         const { skipped: _, ...rest } = airEntry;
-        const result = { linesCleaned: airRuns.cleaned, lines: airRuns.lines, foci: airRuns.foci, airFitApexes: airRuns.apexes, meanRemovedShare: airRuns.cleaned ? Math.round((airRuns.removed / airRuns.cleaned) * 1e5) / 1e5 : 0 };
+        const result = { linesCleaned: airRuns.cleaned, lines: airRuns.lines, foci: airRuns.foci, airFitApexes: airRuns.apexes, steepEvents: airRuns.steep, meanRemovedShare: airRuns.cleaned ? Math.round((airRuns.removed / airRuns.cleaned) * 1e5) / 1e5 : 0 };
         log = log.map((e) => (e === airEntry ? (airRuns.cleaned > 0 ? { ...rest, result } : { ...rest, skipped: airRuns.skipped, result }) : e));
       }
       screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress, timer }, Math.max(1, threads));

@@ -13,7 +13,7 @@
 // the line. Migration at the soil velocity runs after this step, on the cleaned line.
 import { C_M_PER_NS } from '@lamina/constants';
 import type { RadarLine } from '@lamina/radar-data';
-import { bistaticResample, dominantPeriodNs, taperTraceEnds, traceSlots } from './fk';
+import { bistaticResample, dipWeight, dominantPeriodNs, taperTraceEnds, traceSlots } from './fk';
 import { hilbertEnvelope, hilbertWorkspace } from './envelope';
 import { outputFor, periodNs, withData } from './line-util';
 import { stoltKernel } from './stolt';
@@ -60,6 +60,16 @@ export interface AirEventOptions {
   lateralHalfWidthM?: number;
   /** Soil velocity, m/ns: what focuses better at it than at c is kept (see `airEventKernel`). @default undefined */
   soilVelocityMPerNs?: number;
+  /**
+   * Take the part of each object's air wave steeper than the f-k step's dip limit out along its own
+   * moveout first (`subtractSteepAirEvents`). @default true
+   */
+  steepMoveout?: boolean;
+  /**
+   * Half-width along the line of the running median the steep part is estimated by, m: two air
+   * wavelengths (see `subtractSteepAirEvents`). @default 2 * C_M_PER_NS * 1000 / frequencyMHz
+   */
+  moveoutHalfWidthM?: number;
 }
 
 export interface AirEventResult {
@@ -70,6 +80,10 @@ export interface AirEventResult {
   foci: number;
   /** Share of the image samples under the mask (weight > 0). */
   maskedShare: number;
+  /** Objects whose air wave had a part steeper than the f-k step's dip limit, taken out along its moveout (`subtractSteepAirEvents`). */
+  steepEvents: number;
+  /** Traces of those parts, summed over the objects. */
+  steepTraces: number;
 }
 
 /** The resolved settings of `AirEventOptions` (defaults written once, here). */
@@ -82,6 +96,8 @@ function settings(o: AirEventOptions) {
     taper: o.taper ?? 0.05,
     timeHalfWidthNs: o.timeHalfWidthNs ?? T,
     lateralHalfWidthM: o.lateralHalfWidthM ?? (C_M_PER_NS * T) / 2,
+    steepMoveout: o.steepMoveout ?? true,
+    moveoutHalfWidthM: o.moveoutHalfWidthM ?? 2 * C_M_PER_NS * T,
   };
 }
 
@@ -272,6 +288,193 @@ export function airEventKernel(
   return stoltKernel(img, nTraces, nSamples, dtNs, dxM, timeZeroNs, C_M_PER_NS, { ...kernel, inverse: true }, out);
 }
 
+/** Result of `subtractSteepAirEvents`. */
+export interface SteepAirResult {
+  line: RadarLine;
+  /** Objects (points, segments) whose air wave had a part steeper than the f-k step's dip limit on this line. */
+  events: number;
+  /** Trace-object pairs on that part (how many traces were cleaned, summed over the objects). */
+  traces: number;
+}
+
+/**
+ * Horizontal distance (m) from every trace to a point (a = b) or to a segment (its nearest point: the
+ * specular point of a wall's plane, an end beyond it).
+ */
+function planDistances(line: RadarLine, ax: number, ay: number, bx: number, by: number, mpu: number, out: Float64Array): Float64Array {
+  const dx = bx - ax, dy = by - ay;
+  const l2 = dx * dx + dy * dy;
+  for (let i = 0; i < line.nTraces; i++) {
+    const px = (line.x[i] as number) - ax, py = (line.y[i] as number) - ay;
+    let u = l2 > 0 ? (px * dx + py * dy) / l2 : 0;
+    u = u < 0 ? 0 : u > 1 ? 1 : u;
+    out[i] = Math.hypot(px - u * dx, py - u * dy) * mpu;
+  }
+  return out;
+}
+
+/** Linear interpolation of `a` (from `off`, `n` samples) at fractional index `k`; 0 outside. */
+function lerp(a: ArrayLike<number>, off: number, n: number, k: number): number {
+  if (!(k >= 0 && k <= n - 1)) return 0;
+  const k0 = Math.floor(k);
+  const f = k - k0;
+  const v0 = a[off + k0] as number;
+  return f > 0 ? v0 + f * ((a[off + k0 + 1] as number) - v0) : v0;
+}
+
+/**
+ * The part of an above-ground object's air wave that the f-k step at c cannot take (steeper than its dip
+ * limit), taken out along the object's own moveout. The air wave of an object at slant distance D(s) from
+ * the antenna arrives at t(s) = 2 sqrt(D^2 + (separation / 2)^2) / c (bistatic, after time-zero); its dip
+ * in the line is sin(theta) = dD/ds, which reaches 1 for a wall straight ahead of the line's end and for
+ * the flanks of a post the line passes close to (2 / c exactly: what migration at c maps to 90 degrees).
+ * Each trace of that part is weighed by 1 - the f-k step's own dip weight (`dipWeight` with the step's
+ * `maxAngleDeg` and `taper`), so the two steps share the dip range without overlap. On those traces the
+ * data are read along the moveout (one period before to 1.5 after, cosine-edged), the event is estimated
+ * by the running median over `moveoutHalfWidthM` of traces read the same way, and subtracted. An air wave
+ * is the same event on all of them; a buried object's reflection crosses the moveout over about half an
+ * air wavelength (a flat event against a dip of 2 / c) to an air wavelength (the time window), under a
+ * quarter of a median window two wavelengths wide either side, so the median leaves it out. The moveout
+ * is first shifted by the constant (within half a period) that makes the mean along it strongest: a
+ * time-zero picked a fraction of a period off, or a plan position a few centimetres off. Samples before
+ * the direct wave (separation / c) are not touched. `out` may be `line.data`.
+ */
+export function subtractSteepAirEvents(line: RadarLine, objects: AirObjects, options: AirEventOptions, out?: Float32Array): SteepAirResult {
+  const st = settings(options);
+  const { src, dst } = outputFor(line, out);
+  if (dst !== src) dst.set(src);
+  const { nTraces: nt, nSamples: ns, dtNs: dt, timeZeroNs: tz } = line;
+  if (nt < 3) return { line: withData(line, dst), events: 0, traces: 0 };
+  const mpu = st.metresPerUnit;
+  const T = st.timeHalfWidthNs;
+  const sep = st.separationM;
+  const direct = sep / C_M_PER_NS;
+  const { spacingM } = traceSlots(line, mpu);
+  const M = Math.max(1, Math.round(st.moveoutHalfWidthM / spacingM));
+  const K = Math.max(1, Math.round(st.lateralHalfWidthM / spacingM));
+  const J = Math.ceil((1.5 * T) / dt);
+  const nj = 2 * J + 1;
+  const d = new Float64Array(nt);
+  const t = new Float64Array(nt);
+  const w = new Float64Array(nt);
+  const panel = new Float64Array(nt * nj);
+  const med = new Float64Array(nj);
+  const scratch = new Float64Array(2 * M + 1);
+  let events = 0;
+  let traces = 0;
+  const taken: Float64Array[] = [];
+  // the moveout may shift by up to half a period (see below)
+  const sMax = 0.5 * T;
+  const one = (ax: number, ay: number, bx: number, by: number, h: number): void => {
+    planDistances(line, ax, ay, bx, by, mpu, d);
+    for (let i = 0; i < nt; i++) {
+      const D = Math.hypot(d[i] as number, h);
+      d[i] = D;
+      t[i] = (2 * Math.hypot(D, sep / 2)) / C_M_PER_NS;
+    }
+    let any = 0;
+    for (let i = 0; i < nt; i++) {
+      // the dip over the chord of half a wavelength either side (the f-k step's own scale): positions
+      // carry centimetres of jitter, which over one trace step (or summed along the track) would take a
+      // wall straight ahead (sin = 1) under the dip limit
+      const a = Math.max(0, i - K), b = Math.min(nt - 1, i + K);
+      const ds = Math.hypot((line.x[b] as number) - (line.x[a] as number), (line.y[b] as number) - (line.y[a] as number)) * mpu;
+      const sinT = ds > 0 ? Math.min(1, Math.abs((d[b] as number) - (d[a] as number)) / ds) : 0;
+      const k0 = ((t[i] as number) + tz) / dt;
+      w[i] = k0 + J < 0 || k0 - J > ns - 1 ? 0 : 1 - dipWeight(sinT, st.maxAngleDeg, st.taper);
+      if ((w[i] as number) > 1e-6) any++;
+    }
+    if (any === 0) return;
+    // an event already taken: the moveout lies within the time half-width of one subtracted before on
+    // most of its steep traces (a fence's posts in its panel's plane, straight ahead of the line)
+    let same = 0;
+    for (const prev of taken) {
+      same = 0;
+      for (let i = 0; i < nt; i++) if ((w[i] as number) > 1e-6 && (prev[i] as number) > 1e-6 && Math.abs((prev[i] as number) - (t[i] as number)) <= 0.5 * T) same++;
+      if (same > 0.5 * any) return;
+    }
+    const mark = new Float64Array(nt);
+    for (let i = 0; i < nt; i++) mark[i] = (w[i] as number) > 1e-6 ? (t[i] as number) : 0;
+    taken.push(mark);
+    // the shift that makes the mean along the moveout (over the steep traces) strongest
+    let best = 0;
+    let bestE = -1;
+    for (let sh = -sMax; sh <= sMax + 1e-9; sh += 0.5 * dt) {
+      let e = 0;
+      for (let j = 0; j < nj; j++) {
+        let m = 0;
+        for (let i = 0; i < nt; i++) {
+          if (!((w[i] as number) > 1e-6)) continue;
+          m += lerp(dst, i * ns, ns, ((t[i] as number) + sh + tz) / dt + j - J);
+        }
+        e += m * m;
+      }
+      if (e > bestE) {
+        bestE = e;
+        best = sh;
+      }
+    }
+    for (let i = 0; i < nt; i++) {
+      const k0 = ((t[i] as number) + best + tz) / dt;
+      for (let j = 0; j < nj; j++) panel[i * nj + j] = lerp(dst, i * ns, ns, k0 + j - J);
+    }
+    events++;
+    for (let i = 0; i < nt; i++) {
+      const wi = w[i] as number;
+      if (!(wi > 1e-6)) continue;
+      const lo = Math.max(0, i - M), hi = Math.min(nt - 1, i + M);
+      let stackE = 0;
+      let traceE = 0;
+      for (let j = 0; j < nj; j++) {
+        let n = 0;
+        let sum = 0;
+        for (let q = lo; q <= hi; q++) {
+          const a = panel[q * nj + j] as number;
+          scratch[n++] = a;
+          sum += a;
+          traceE += a * a;
+        }
+        stackE += (sum * sum) / n;
+        const v = scratch.subarray(0, n).sort();
+        med[j] = n % 2 ? (v[n >> 1] as number) : 0.5 * ((v[n / 2 - 1] as number) + (v[n / 2] as number));
+      }
+      // semblance along the moveout over the median's window: the share of the energy there that is the
+      // same on every trace. Full weight when the air wave carries at least half of it, none under a
+      // quarter: a moveout that holds no air wave (an object the antenna does not see) holds what crosses
+      // it, and its median would be a piece of that
+      const semblance = traceE > 0 ? stackE / traceE : 0;
+      const gate = Math.min(1, Math.max(0, (semblance - 0.25) / 0.25));
+      if (gate === 0) continue;
+      traces++;
+      // the median's share in this trace, least squares within [0, 1]: where the trace does not hold the
+      // event (or holds it weaker), less is taken out
+      let dm = 0;
+      let mm = 0;
+      for (let j = 0; j < nj; j++) {
+        const e = edge((j - J) * dt, T);
+        dm += e * (panel[i * nj + j] as number) * (med[j] as number);
+        mm += e * (med[j] as number) ** 2;
+      }
+      const alpha = gate * (mm > 0 ? Math.min(1, Math.max(0, dm / mm)) : 0);
+      const tc = (t[i] as number) + best;
+      const kLo = Math.max(0, Math.ceil((tc + tz) / dt - J)), kHi = Math.min(ns - 1, Math.floor((tc + tz) / dt + J));
+      for (let k = kLo; k <= kHi; k++) {
+        const tau = k * dt - tz - tc;
+        if (k * dt - tz < direct) continue;
+        const e = edge(tau, T);
+        if (e === 0) continue;
+        dst[i * ns + k] = (dst[i * ns + k] as number) - alpha * wi * e * lerp(med, 0, nj, tau / dt + J);
+      }
+    }
+  };
+  // walls and fence panels first: their plane reflections are the strongest
+  const sg = objects.segments;
+  for (let q = 0; q + 4 < sg.length; q += 5) one(sg[q] as number, sg[q + 1] as number, sg[q + 2] as number, sg[q + 3] as number, sg[q + 4] as number);
+  const p = objects.points;
+  for (let q = 0; q + 2 < p.length; q += 3) one(p[q] as number, p[q + 1] as number, p[q] as number, p[q + 1] as number, p[q + 2] as number);
+  return { line: withData(line, dst), events, traces };
+}
+
 /**
  * Takes air-wave events out of a line: bistatic to zero-offset time at c, the record's end tapered
  * (as the migrations do), `airEventKernel` with `airEventMask`, back to bistatic time, subtracted from
@@ -282,6 +485,10 @@ export function removeAirEvents(line: RadarLine, objects: AirObjects, options: A
   const s = settings(options);
   const { nTraces: n0, nSamples: ns, dtNs: dt, timeZeroNs: tz } = line;
   const { src, dst } = outputFor(line, out);
+  // the steep part first, along each object's moveout; the f-k step takes what is left
+  const steep = s.steepMoveout ? subtractSteepAirEvents(line, objects, options, new Float32Array(src.length)) : undefined;
+  const from = steep ? steep.line.data : src;
+  const steepOf = { steepEvents: steep?.events ?? 0, steepTraces: steep?.traces ?? 0 };
   // Objects beyond an end focus outside the record: the image is made on the line extended by empty
   // traces far enough to hold their foci (their hyperbolas' flanks are in the record).
   const ext = extension(line, objects, s.metresPerUnit, s.lateralHalfWidthM);
@@ -289,28 +496,27 @@ export function removeAirEvents(line: RadarLine, objects: AirObjects, options: A
   const { mask, foci } = airEventMask({ ...line, nTraces: nt, x: ext.x, y: ext.y, data: new Float32Array(0) }, shiftApexes(objects, ext.before), options);
   let masked = 0;
   for (let q = 0; q < mask.length; q++) if ((mask[q] as number) > 0) masked++;
-  if (masked === 0) {
-    dst.set(src);
-    return { line: withData(line, dst), removedShare: 0, foci, maskedShare: 0 };
+  let back: Float32Array | undefined;
+  if (masked > 0) {
+    const air = [{ topM: 0, velocityMPerNs: C_M_PER_NS }];
+    const zo = new Float64Array(nt * ns);
+    bistaticResample(from, n0, ns, dt, tz, air, s.separationM, true, zo.subarray(ext.before * ns, (ext.before + n0) * ns));
+    taperTraceEnds(zo, nt, ns, dt, dominantPeriodNs(zo, nt, ns, dt));
+    const { spacingM } = traceSlots(line, s.metresPerUnit);
+    const part = airEventKernel(zo, nt, ns, dt, spacingM, tz, mask, { maxAngleDeg: s.maxAngleDeg, taper: s.taper, ...(options.soilVelocityMPerNs !== undefined ? { soilVelocityMPerNs: options.soilVelocityMPerNs } : {}), lateralHalfWidthTraces: s.lateralHalfWidthM / spacingM, timeHalfWidthSamples: s.timeHalfWidthNs / dt });
+    back = new Float32Array(n0 * ns);
+    bistaticResample(part.subarray(ext.before * ns, (ext.before + n0) * ns), n0, ns, dt, tz, air, s.separationM, false, back);
   }
-  const air = [{ topM: 0, velocityMPerNs: C_M_PER_NS }];
-  const zo = new Float64Array(nt * ns);
-  bistaticResample(src, n0, ns, dt, tz, air, s.separationM, true, zo.subarray(ext.before * ns, (ext.before + n0) * ns));
-  taperTraceEnds(zo, nt, ns, dt, dominantPeriodNs(zo, nt, ns, dt));
-  const { spacingM } = traceSlots(line, s.metresPerUnit);
-  const part = airEventKernel(zo, nt, ns, dt, spacingM, tz, mask, { maxAngleDeg: s.maxAngleDeg, taper: s.taper, ...(options.soilVelocityMPerNs !== undefined ? { soilVelocityMPerNs: options.soilVelocityMPerNs } : {}), lateralHalfWidthTraces: s.lateralHalfWidthM / spacingM, timeHalfWidthSamples: s.timeHalfWidthNs / dt });
-  const back = new Float32Array(n0 * ns);
-  bistaticResample(part.subarray(ext.before * ns, (ext.before + n0) * ns), n0, ns, dt, tz, air, s.separationM, false, back);
   let eIn = 0;
   let eOut = 0;
   for (let q = 0; q < dst.length; q++) {
     const a = src[q] as number;
-    const b = back[q] as number;
-    dst[q] = a - b;
+    const b = (from[q] as number) - (back ? (back[q] as number) : 0);
+    dst[q] = b;
     eIn += a * a;
-    eOut += b * b;
+    eOut += (a - b) * (a - b);
   }
-  return { line: withData(line, dst), removedShare: eIn > 0 ? eOut / eIn : 0, foci, maskedShare: masked / mask.length };
+  return { line: withData(line, dst), removedShare: eIn > 0 ? eOut / eIn : 0, foci, maskedShare: masked / mask.length, ...steepOf };
 }
 
 /** Apexes shifted by `by` traces (onto the extended line). */

@@ -44,7 +44,7 @@ export {
 export { type KirchhoffOptions, halfDerivative, kirchhoffMigrate } from './kirchhoff';
 export { type StoltOptions, type StoltKernelOptions, stoltKernel, stoltMigrate, stoltModel } from './stolt';
 export { type PhaseShiftOptions, type PhaseShiftKernelOptions, phaseShiftKernel, phaseShiftMigrate, phaseShiftModel } from './phase-shift';
-export { type AirObjects, type AirEventOptions, type AirEventResult, type AirEventKernelOptions, airEventMask, airEventKernel, removeAirEvents } from './air-events';
+export { type AirObjects, type AirEventOptions, type AirEventResult, type AirEventKernelOptions, type SteepAirResult, airEventMask, airEventKernel, removeAirEvents, subtractSteepAirEvents } from './air-events';
 export { type MigrationLayer, type TraceSlots, traceSlots, bistaticTime, dipWeight } from './fk';
 export {
   STEP_NAMES,

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { C_M_PER_NS } from '@lamina/constants';
 import type { RadarLine } from '@lamina/radar-data';
-import { airEventMask, parseRecipe, removeAirEvents, runRecipe } from '../src';
+import { airEventMask, parseRecipe, removeAirEvents, runRecipe, subtractSteepAirEvents } from '../src';
 import { addDiffraction, addRicker, makeLine } from './synth';
 
 const F = 400;
@@ -107,6 +107,72 @@ describe('removeAirEvents (f-k at c, mask, exact inverse, subtraction)', () => {
   });
 });
 
+// A wall across the line 1.5 m beyond its end (x = 21.5 m, from y = -5 to 5 m): its air wave is the
+// reflection off a plane straight ahead, t = 2 sqrt((21.5 - x)^2 + (S / 2)^2) / c, a line at exactly the
+// air rate 2 / c (90 degrees for migration at c: the f-k step cannot take it).
+const ahead = { points: new Float64Array(0), segments: Float64Array.of(21.5, -5, 21.5, 5, 0) };
+function addWallAhead(line: RadarLine, amp = 0.5): void {
+  for (let t = 0; t < line.nTraces; t++) {
+    const d = 21.5 - (line.x[t] as number);
+    addRicker(line, t, TZ + (2 * Math.hypot(d, S / 2)) / C_M_PER_NS, amp, F);
+  }
+}
+
+describe('subtractSteepAirEvents (the part steeper than the f-k dip limit, along its moveout)', () => {
+  it('takes at least 10 dB out of the air wave of a wall straight ahead of the line', () => {
+    const line = blank();
+    addWallAhead(line);
+    const r = removeAirEvents(line, ahead, options);
+    expect(r.steepEvents).toBe(1);
+    expect(10 * Math.log10(energy(line.data) / energy(r.line.data))).toBeGreaterThanOrEqual(10);
+  });
+
+  // positions rounded to the centimetre with a centimetre of jitter across the line (as GNSS or a wheel
+  // give them): the dip is read over a chord, not trace to trace, so the wall stays straight ahead
+  it('does the same on positions with a centimetre of jitter', () => {
+    const line = blank();
+    for (let i = 0; i < line.nTraces; i++) {
+      line.x[i] = Math.round((line.x[i] as number) * 100) / 100;
+      line.y[i] = (i * 7919) % 3 === 0 ? 0.01 : (i * 7919) % 3 === 1 ? -0.01 : 0;
+    }
+    addWallAhead(line);
+    const r = removeAirEvents(line, ahead, options);
+    expect(10 * Math.log10(energy(line.data) / energy(r.line.data))).toBeGreaterThanOrEqual(10);
+  });
+
+  // the soil hyperbolas cross the wall's moveout (13.3 ns at 19.5 m; 30 ns at 17 m): the running median
+  // along the moveout leaves them out
+  it('passes soil-velocity hyperbolas (0.1 m/ns) crossing that moveout through with more than 0.99 of their energy', () => {
+    for (const [x0, z] of [[19.5, 0.67], [17, 1.5], [14, 0.8]] as const) {
+      const line = blank();
+      addDiffraction(line, x0, z, 0.1, S, F);
+      const r = subtractSteepAirEvents(line, ahead, options);
+      expect(diffEnergy(r.line.data, line.data) / energy(line.data)).toBeLessThan(0.01);
+    }
+  });
+
+  it('both at once: what is left of the wall is 10 dB down and the soil hyperbola is kept', () => {
+    const wall = blank();
+    addWallAhead(wall);
+    const soil = blank();
+    addDiffraction(soil, 19.5, 0.67, 0.1, S, F);
+    const both = blank();
+    for (let q = 0; q < both.data.length; q++) both.data[q] = (wall.data[q] as number) + (soil.data[q] as number);
+    const r = removeAirEvents(both, ahead, options);
+    const left = new Float32Array(both.data.length);
+    for (let q = 0; q < left.length; q++) left[q] = (r.line.data[q] as number) - (soil.data[q] as number);
+    expect(10 * Math.log10(energy(wall.data) / energy(left))).toBeGreaterThanOrEqual(10);
+  });
+
+  it('leaves an object whose air wave stays within the dip limit to the f-k step', () => {
+    const line = blank();
+    addDiffraction(line, 8, 2, C_M_PER_NS, S, F);
+    // the post 2 m beside the line: its hyperbola reaches 83.6 degrees (the taper's start) only 17 m from the apex
+    const r = subtractSteepAirEvents(line, post, options);
+    expect(diffEnergy(r.line.data, line.data) / energy(line.data)).toBeLessThan(0.01);
+  });
+});
+
 describe('the airEvents recipe step', () => {
   it("runs with the context's objects, logs what it did, and is skipped without them", () => {
     const line = blank();
@@ -114,9 +180,17 @@ describe('the airEvents recipe step', () => {
     const recipe = parseRecipe({ steps: [{ step: 'airEvents' }] });
     const ran = runRecipe(line, recipe, { frequencyMHz: F, separationM: S, velocityMPerNs: 0.1, airObjects: post });
     expect(ran.log[0]?.skipped).toBeUndefined();
-    expect(ran.log[0]?.params).toMatchObject({ maxAngleDeg: 88, taper: 0.05, timeHalfWidthNs: 2.5, keepSoilFoci: true });
+    expect(ran.log[0]?.params).toMatchObject({ maxAngleDeg: 88, taper: 0.05, timeHalfWidthNs: 2.5, keepSoilFoci: true, steepMoveout: true });
     expect(ran.log[0]?.result?.foci).toBe(1);
     expect(10 * Math.log10(energy(line.data) / energy(ran.line.data))).toBeGreaterThanOrEqual(10);
+    // the steep part can be left out by the step's own parameter
+    const wall = blank();
+    addWallAhead(wall);
+    const on = runRecipe(wall, recipe, { frequencyMHz: F, separationM: S, velocityMPerNs: 0.1, airObjects: ahead });
+    const off = runRecipe(wall, parseRecipe({ steps: [{ step: 'airEvents', steepMoveout: false }] }), { frequencyMHz: F, separationM: S, velocityMPerNs: 0.1, airObjects: ahead });
+    expect(on.log[0]?.result?.steepEvents).toBe(1);
+    expect(off.log[0]?.params.steepMoveout).toBe(false);
+    expect(off.log[0]?.result?.steepEvents).toBe(0);
     const skipped = runRecipe(line, recipe, { frequencyMHz: F, separationM: S });
     expect(skipped.log[0]?.skipped).toMatch(/no above-ground object/);
     expect(Array.from(skipped.line.data)).toEqual(Array.from(line.data));

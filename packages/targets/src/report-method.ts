@@ -47,7 +47,7 @@ function paramText(params: Record<string, unknown>, result?: Record<string, unkn
   if (result && typeof result.linesCleaned === 'number' && typeof result.lines === 'number') {
     parts.push(
       result.linesCleaned > 0
-        ? `ran on ${n(result.linesCleaned, 0)} of ${n(result.lines, 0)} lines (migration at the speed of light, the foci of ${n(result.foci, 0)} plan points and air-velocity hyperbola apexes masked, demigrated and subtracted before slicing)`
+        ? `ran on ${n(result.linesCleaned, 0)} of ${n(result.lines, 0)} lines (migration at the speed of light, the foci of ${n(result.foci, 0)} plan points and air-velocity hyperbola apexes masked, demigrated and subtracted before slicing${typeof result.steepEvents === 'number' && result.steepEvents > 0 ? `; before that, the part of ${n(result.steepEvents, 0)} air waves steeper than the dip limit taken out along their own moveout (summed over lines)` : ''})`
         : 'did not run (no above-ground object of the plan near a line and no air-velocity hyperbola)',
     );
   }
