@@ -1,4 +1,5 @@
 import type { RadarLine } from '@lamina/radar-data';
+import { selectInPlace } from '@lamina/stats';
 import { alongTrackM, outputFor, withData } from './line-util';
 
 export interface BackgroundOptions {
@@ -92,7 +93,7 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
     const trace = new Float32Array(nSamples);
     for (let s = 0; s < nSamples; s++) {
       const lo = s * m;
-      const hi = havePrev ? selectNear(block, lo + (m >> 1), lo, lo + m - 1, prev[s] as number) : selectF64(block, lo + (m >> 1), lo, lo + m - 1);
+      const hi = havePrev ? selectNear(block, lo + (m >> 1), lo, lo + m - 1, prev[s] as number) : selectInPlace(block, lo + (m >> 1), lo, lo + m - 1);
       prev[s] = hi;
       if (m % 2) trace[s] = hi;
       else {
@@ -118,9 +119,9 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
 }
 
 /**
- * The k-th smallest of a[left..right] as `selectF64` finds it (the same value, and the same order
- * property: smaller or equal before k, larger or equal after), with a first partition around the
- * value `guess` (any number; the closer to the answer, the smaller the part left to `selectF64`).
+ * The k-th smallest of a[left..right] as `selectInPlace` of @lamina/stats finds it (the same value, and
+ * the same order property: smaller or equal before k, larger or equal after), with a first partition
+ * around the value `guess` (any number; the closer to the answer, the smaller the part left to it).
  */
 function selectNear(a: Float64Array, k: number, left: number, right: number, guess: number): number {
   // a[left..i-1] < guess <= a[i..right]
@@ -136,52 +137,5 @@ function selectNear(a: Float64Array, k: number, left: number, right: number, gue
     i++;
     j--;
   }
-  return k < i ? selectF64(a, k, left, i - 1) : selectF64(a, k, i, right);
-}
-
-/**
- * `selectInPlace` of @lamina/stats (the same steps, so the same result) on a Float64Array only: the
- * shared one takes any numeric array, and its element access does not specialise here, where it runs
- * once per sample of every window (most of background removal's time).
- */
-function selectF64(a: Float64Array, k: number, left: number, right: number): number {
-  while (right > left) {
-    const mid = (left + right) >> 1;
-    let x = a[mid] as number;
-    let l = a[left] as number;
-    if (x < l) {
-      a[mid] = l;
-      a[left] = x;
-      [x, l] = [l, x];
-    }
-    let r = a[right] as number;
-    if (r < l) {
-      a[right] = l;
-      a[left] = r;
-      [r, l] = [l, r];
-    }
-    if (r < x) {
-      a[right] = x;
-      a[mid] = r;
-      x = r;
-    }
-    const pivot = x;
-    let i = left;
-    let j = right;
-    while (i <= j) {
-      while ((a[i] as number) < pivot) i++;
-      while ((a[j] as number) > pivot) j--;
-      if (i <= j) {
-        const t = a[i] as number;
-        a[i] = a[j] as number;
-        a[j] = t;
-        i++;
-        j--;
-      }
-    }
-    if (k <= j) right = j;
-    else if (k >= i) left = i;
-    else break;
-  }
-  return a[k] as number;
+  return k < i ? selectInPlace(a, k, left, i - 1) : selectInPlace(a, k, i, right);
 }
