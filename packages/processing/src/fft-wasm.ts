@@ -1,5 +1,6 @@
 import { FFT_WASM_BASE64 } from './fft-wasm-binary';
 import type { Transform } from './fft';
+import { fftStages } from './fft-plan';
 
 interface Kernels {
   memory: WebAssembly.Memory;
@@ -39,7 +40,7 @@ export function wasmFftAvailable(): boolean {
 export class WasmFFT implements Transform {
   readonly size: number;
   private readonly k: Kernels;
-  private readonly radices: number[] = [];
+  private readonly radices: number[];
   /** Byte offsets of each stage's twiddles, forward and inverse. */
   private readonly twFwd: number[] = [];
   private readonly twInv: number[] = [];
@@ -50,27 +51,11 @@ export class WasmFFT implements Transform {
   constructor(n: number) {
     const mod = kernelModule();
     if (!mod) throw new Error('fft: WebAssembly SIMD is not available');
-    if (!(n >= 2) || n !== Math.floor(n)) throw new Error(`fft: size must be an integer >= 2, found ${n}`);
     this.size = n;
-    let r = n;
-    while (r % 4 === 0) {
-      this.radices.push(4);
-      r /= 4;
-    }
-    for (const p of [2, 3, 5]) {
-      while (r % p === 0) {
-        this.radices.push(p);
-        r /= p;
-      }
-    }
-    if (r !== 1) throw new Error(`fft: size must have no prime factor above 5, found ${n}`);
+    const { radices, twiddles } = fftStages(n);
+    this.radices = radices;
     // twiddles per stage: m (p - 1) complex numbers, each stored as 4 doubles (wr, wr, -wi, wi)
-    let twDoubles = 0;
-    let len = n;
-    for (const p of this.radices) {
-      twDoubles += 4 * (len / p) * (p - 1);
-      len /= p;
-    }
+    const twDoubles = twiddles.reduce((sum, tw) => sum + 2 * tw.length, 0);
     const bytes = 8 * (2 * 2 * n + 2 * twDoubles);
     const instance = new WebAssembly.Instance(mod, {});
     this.k = instance.exports as unknown as Kernels;
@@ -80,16 +65,17 @@ export class WasmFFT implements Transform {
     this.bufA = 0;
     this.bufB = 16 * n;
     let at = 32 * n;
-    len = n;
-    for (const p of this.radices) {
+    let len = n;
+    for (let st = 0; st < radices.length; st++) {
+      const p = radices[st] as number;
+      const tw = twiddles[st] as Float64Array;
       const m = len / p;
       this.twFwd.push(at);
       this.twInv.push(at + 32 * m * (p - 1));
       for (let q = 0; q < m; q++) {
         for (let kk = 1; kk < p; kk++) {
-          const a = (-2 * Math.PI * q * kk) / len;
-          const wr = Math.cos(a);
-          const wi = Math.sin(a);
+          const wr = tw[2 * (q * (p - 1) + kk - 1)] as number;
+          const wi = tw[2 * (q * (p - 1) + kk - 1) + 1] as number;
           const f = at / 8 + 4 * (q * (p - 1) + kk - 1);
           this.view.set([wr, wr, -wi, wi], f);
           const g = (at + 32 * m * (p - 1)) / 8 + 4 * (q * (p - 1) + kk - 1);

@@ -1,5 +1,6 @@
 import FFT from 'fft.js';
 import { WasmFFT, wasmFftAvailable } from './fft-wasm';
+import { fftStages } from './fft-plan';
 
 /** Smallest power of two >= n (and >= 2, fft.js's minimum size). */
 export function nextPow2(n: number): number {
@@ -82,44 +83,20 @@ export function stagedTransform(f: Transform): Staged {
  */
 export class MixedRadixFFT implements Transform {
   readonly size: number;
-  private readonly radices: number[] = [];
-  /** Per stage: twiddles w^(k q) for q < m, k = 1..p-1, interleaved. */
-  private readonly twiddles: Float64Array[] = [];
+  private readonly radices: number[];
+  /** Per stage: twiddles w^(k q) for q < m, k = 1..p-1, interleaved (`fftStages`). */
+  private readonly twiddles: Float64Array[];
   /** The same, conjugated (the inverse's). */
-  private readonly twiddlesConj: Float64Array[] = [];
+  private readonly twiddlesConj: Float64Array[];
   private readonly work: Float64Array;
   private readonly work2: Float64Array;
 
   constructor(n: number) {
-    if (!(n >= 2) || n !== Math.floor(n)) throw new Error(`fft: size must be an integer >= 2, found ${n}`);
     this.size = n;
-    let r = n;
-    while (r % 4 === 0) {
-      this.radices.push(4);
-      r /= 4;
-    }
-    for (const p of [2, 3, 5]) {
-      while (r % p === 0) {
-        this.radices.push(p);
-        r /= p;
-      }
-    }
-    if (r !== 1) throw new Error(`fft: size must have no prime factor above 5, found ${n}`);
-    let len = n;
-    for (const p of this.radices) {
-      const m = len / p;
-      const tw = new Float64Array(2 * m * (p - 1));
-      for (let q = 0; q < m; q++) {
-        for (let k = 1; k < p; k++) {
-          const a = (-2 * Math.PI * q * k) / len;
-          tw[2 * (q * (p - 1) + k - 1)] = Math.cos(a);
-          tw[2 * (q * (p - 1) + k - 1) + 1] = Math.sin(a);
-        }
-      }
-      this.twiddles.push(tw);
-      this.twiddlesConj.push(tw.map((v, i) => (i & 1 ? -v : v)));
-      len = m;
-    }
+    const { radices, twiddles } = fftStages(n);
+    this.radices = radices;
+    this.twiddles = twiddles;
+    this.twiddlesConj = twiddles.map((tw) => tw.map((v, i) => (i & 1 ? -v : v)));
     this.work = new Float64Array(2 * n);
     this.work2 = new Float64Array(2 * n);
   }
