@@ -1,6 +1,6 @@
 import { backgroundRemoval, envelope, spectralCentroidMHz } from '@lamina/processing';
 import type { RadarLine } from '@lamina/radar-data';
-import { medianInPlace as median } from '@lamina/stats';
+import { medianInPlace as median, selectInPlace } from '@lamina/stats';
 import { alongLine, pointAlong } from './along';
 import { envelopeLevel } from './noise-level';
 import { apexDistance, fitHyperbola, hyperbolaTime, linearisedFit, type PointFit } from './fit';
@@ -82,8 +82,8 @@ export interface DetectOptions {
    * periods (down to time-zero), land on a stronger copy of the same curve (on three quarters of each
    * flank's picks the normalised envelope is larger there) repeats an object above it: the
    * ringing of a metal pipe, the far wall of an air-filled one, a multiple near its apex. A delayed copy
-   * t(x) + T reads faster than the object (its move-out is the object's, its apex time later), so it
-   * biases the site velocity. @default true
+   * t(x) + T is no hyperbola of the soil's velocity (apex curvature (2 / v)^2 / (t0 + T), flank slopes
+   * 2 / v): its fit reads another velocity, faster or slower, and biases the site velocity. @default true
    */
   rejectEchoes?: boolean;
   /** Shortest delay of a copy above, in periods of the centre frequency (beyond the wavelet's own envelope). @default 1 */
@@ -103,10 +103,9 @@ export interface DetectedHyperbola extends PointFit {
   score: number;
 }
 
-/** The q-quantile (lower, by rank) of `a`, which it sorts. */
-function quantile(a: Float32Array, q: number): number {
-  a.sort();
-  return a[Math.min(a.length - 1, Math.floor(q * a.length))]!;
+/** The lower quartile (by rank, floor(n / 4)) of `a`, which it reorders. */
+function lowerQuartile(a: Float32Array): number {
+  return selectInPlace(a, Math.floor(0.25 * a.length));
 }
 
 export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): DetectedHyperbola[] {
@@ -405,7 +404,7 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
         else ratioR[nr++] = r;
       }
       if (nl < minSide || nr < minSide) return false;
-      if (quantile(ratioL.subarray(0, nl), 0.25) >= 1 && quantile(ratioR.subarray(0, nr), 0.25) >= 1) return true;
+      if (lowerQuartile(ratioL.subarray(0, nl)) >= 1 && lowerQuartile(ratioR.subarray(0, nr)) >= 1) return true;
     }
     return false;
   };
