@@ -232,33 +232,28 @@ export function timeZero(line: RadarLine, options: TimeZeroOptions, out?: Float3
   // period from the median of a five times wider window are picked again with the line's typical
   // direct-wave envelope as the threshold's reference (the direct wave arrives on every trace at nearly
   // the same time and amplitude), and picks still that far out are left out of the medians below.
-  const wide = (v: Float64Array) => Float64Array.from(v, (_, t) => medianOf(v, Math.max(0, t - 5 * h), Math.min(nt, t + 5 * h + 1)));
+  const wide = (v: Float64Array, t: number) => medianOf(v, Math.max(0, t - 5 * h), Math.min(nt, t + 5 * h + 1));
   const halfPeriodNs = period / 2;
-  const farOf = (v: Float64Array) => {
-    const w = wide(v);
-    return (t: number) => !(Math.abs((v[t] as number) - (w[t] as number)) <= halfPeriodNs);
-  };
+  const farFrom = (v: Float64Array) => Uint8Array.from(v, (p, t) => (Math.abs(p - wide(v, t)) <= halfPeriodNs ? 0 : 1));
+  let far = farFrom(picksNs);
   const level = threshold * medianOf(levels);
-  if (level > 0) {
-    const far = farOf(picksNs);
-    const again: number[] = [];
-    for (let t = 0; t < nt; t++) if (far(t)) again.push(t);
-    for (const t of again) {
+  if (level > 0 && far.includes(1)) {
+    for (let t = 0; t < nt; t++) {
+      if (!far[t]) continue;
       const tr = line.data.subarray(t * ns, (t + 1) * ns);
       hilbertEnvelopePair(tr, undefined, ws, env);
       picksNs[t] = pickFirstArrival(env, { ...opts, trace: tr, level }) * dtNs;
     }
+    far = farFrom(picksNs);
   }
-  const valid = Float64Array.from(picksNs);
-  const far = farOf(picksNs);
-  for (let t = 0; t < nt; t++) if (far(t)) valid[t] = Number.NaN;
-  const wideValid = wide(valid);
+  const valid = picksNs.map((p, t) => (far[t] ? Number.NaN : p));
   const usedNs = new Float64Array(nt);
   const replaced: number[] = [];
-  const global = Number.isFinite(medianOf(valid)) ? medianOf(valid) : medianOf(picksNs);
+  const validMedian = medianOf(valid);
+  const global = Number.isFinite(validMedian) ? validMedian : medianOf(picksNs);
   for (let t = 0; t < nt; t++) {
     let med = medianOf(valid, Math.max(0, t - h), Math.min(nt, t + h + 1));
-    if (!Number.isFinite(med)) med = wideValid[t] as number;
+    if (!Number.isFinite(med)) med = wide(valid, t);
     if (!Number.isFinite(med)) med = global;
     const p = valid[t] as number;
     if (Number.isFinite(p) && Math.abs(p - med) <= maxDev) usedNs[t] = p;
