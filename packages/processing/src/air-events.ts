@@ -13,6 +13,7 @@
 // the line. Migration at the soil velocity runs after this step, on the cleaned line.
 import { C_M_PER_NS } from '@lamina/constants';
 import type { RadarLine } from '@lamina/radar-data';
+import { medianInPlace } from '@lamina/stats';
 import { bistaticResample, dipWeight, dominantPeriodNs, taperTraceEnds, traceSlots } from './fk';
 import { hilbertEnvelope, hilbertWorkspace } from './envelope';
 import { outputFor, periodNs, withData } from './line-util';
@@ -435,8 +436,7 @@ export function subtractSteepAirEvents(line: RadarLine, objects: AirObjects, opt
           traceE += a * a;
         }
         stackE += (sum * sum) / n;
-        const v = scratch.subarray(0, n).sort();
-        med[j] = n % 2 ? (v[n >> 1] as number) : 0.5 * ((v[n / 2 - 1] as number) + (v[n / 2] as number));
+        med[j] = medianInPlace(scratch.subarray(0, n));
       }
       // semblance along the moveout over the median's window: the share of the energy there that is the
       // same on every trace. Full weight when the air wave carries at least half of it, none under a
