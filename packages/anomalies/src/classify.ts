@@ -1,3 +1,4 @@
+import { quantile } from '@lamina/stats';
 import type { Anomaly3D, Shape } from './types';
 
 /** What an anomaly is taken to be (anomalies.geojson `class`). */
@@ -40,6 +41,15 @@ export interface ClassifyOptions {
   nearSurfaceOverlap?: number;
   /** Largest angle between a strip and a survey line for the strip to run along that line, degrees. @default 15 */
   alongLineDeg?: number;
+  /**
+   * Point-sized anomalies (`isPointSized`) are the site's point scatterers (stones, roots crossed) unless
+   * their strength lies above the upper Tukey fence, Q3 + 1.5 IQR, of at least this many of them (an
+   * outlier of the population: a small man-made object, kept as a structure); with fewer, all of them
+   * stay structures (no population to be weak against). @default 5
+   */
+  pointPopulationMin?: number;
+  /** Tukey's fence factor k of Q3 + k IQR (1.5, Tukey 1977: the usual "outside" fence). @default 1.5 */
+  pointFenceIqr?: number;
 }
 
 export interface Classified {
@@ -89,6 +99,42 @@ export function isExtensive(shape: Shape, depthM: number, ctx: ClassifyContext, 
   return shape.lengthM > s && shape.widthM > maxUtilityWidthM(depthM, ctx, options) && (shape.kind !== 'linear' || shape.widthM > s);
 }
 
+/**
+ * Depth of one period of the pulse at two-way time, m: v / (2 f) (v m/ns, f MHz). A GPR pulse lasts
+ * about one period after the wavelet's onset (common practice, no source).
+ */
+export function pulseDepthM(ctx: ClassifyContext): number {
+  return (1000 * ctx.velocityMPerNs) / (2 * ctx.frequencyMHz);
+}
+
+/**
+ * Widest a point scatterer (a stone, a root crossed by the lines) at depth z may look in a slice of
+ * thickness dz, m. Migration runs along each line, so across the lines its diffraction keeps its move-out:
+ * it lies in the slice and the pulse after it (e = dz + one pulse, `pulseDepthM`) out to the offset y
+ * where sqrt(z^2 + y^2) = z + e, y = sqrt(2 z e + e^2), on either side; plus one line spacing of sampling
+ * across the lines and one cell. A survey in two directions leaves that extent along both, so it bounds
+ * the length as well as the width.
+ */
+export function pointFootprintM(depthM: number, thicknessM: number, ctx: ClassifyContext): number {
+  const e = thicknessM + pulseDepthM(ctx);
+  const z = Math.max(depthM, 0);
+  return 2 * Math.sqrt(2 * z * e + e * e) + ctx.lineSpacingM + ctx.cellM;
+}
+
+/**
+ * A compact anomaly no larger than a point scatterer's response at its depth (`pointFootprintM`, from
+ * the top of its first slice or of the zone below the near-surface zone, whichever is deeper) and no
+ * thicker than one pulse plus one slice: at the survey's resolution it may be a stone, a root crossed by
+ * the lines or a small object, and the site's population of such anomalies decides (`classifyAnomalies`).
+ */
+export function isPointSized(a: Anomaly3D, ctx: ClassifyContext): boolean {
+  if (a.shape.kind === 'linear' || a.members.length === 0) return false;
+  let thickness = 0;
+  for (const m of a.members) thickness = Math.max(thickness, m.bottomM - m.topM);
+  if (a.depthBottomM - a.depthTopM > pulseDepthM(ctx) + thickness + 1e-9) return false;
+  return a.shape.lengthM <= pointFootprintM(Math.max(a.depthTopM, ctx.nearSurfaceM), thickness, ctx);
+}
+
 /** Smallest angle between an azimuth and any of `azimuths` (all modulo 180 degrees), degrees. */
 function axisAngleDeg(az: number, azimuths: readonly number[]): number {
   let best = Infinity;
@@ -134,10 +180,14 @@ export function isOneLineStrip(a: Anomaly3D, ctx: ClassifyContext, options: Clas
  * - `utility`: linear and no wider than a utility may be;
  * - `clutter` (point-like): compact, seen on one line only (`oneLineWidthM`), spanning at most two
  *   slices (one pulse) — a stone or a root at the survey's resolution;
- * - `structure`: the other compact anomalies (a footing or a tank is wider than a line spacing, or thick).
+ * - `clutter` (point-sized): no larger than a point scatterer's response (`isPointSized`) and not an
+ *   outlier of the site's population of such anomalies by strength (`pointPopulationMin`, Tukey's upper
+ *   fence); the outliers are structures, and so are all of them when there are too few to judge;
+ * - `structure`: the other compact anomalies (a footing or a tank is wider than a point's response, or thick).
  */
 export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: boolean; planar?: boolean }[], ctx: ClassifyContext, options: ClassifyOptions = {}): Classified[] {
   const lines = options.nearSurfaceLines ?? 3;
+  const oneLine = new Set<Anomaly3D>();
   const own = items.map(({ anomaly: a, aboveGround, planar }): Classified => {
     if (aboveGround) return { class: 'above-ground', reason: 'air-wave screening' };
     const slack = options.nearSurfaceOverlap ?? 0.5;
@@ -157,9 +207,28 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
       if (a.shape.widthM <= maxUtilityWidthM(z, ctx, options)) return { class: 'utility', reason: 'linear, no wider than a utility' };
       return { class: 'structure', reason: 'linear but wider than a utility' };
     }
-    if (a.shape.widthM <= oneLineWidthM(ctx.lineSpacingM, ctx.cellM) && slices <= 2) return { class: 'clutter', reason: 'point-like: seen on one line, one pulse thick' };
+    if (a.shape.widthM <= oneLineWidthM(ctx.lineSpacingM, ctx.cellM) && slices <= 2) {
+      oneLine.add(a);
+      return { class: 'clutter', reason: 'point-like: seen on one line, one pulse thick' };
+    }
     return { class: 'structure', reason: 'compact, wider than a line spacing or thicker than a pulse' };
   });
+  // point-sized structures: the site's point scatterers, but for the outliers of their strengths
+  const points = own.flatMap((c, i) => (c.class === 'structure' && isPointSized(items[i]!.anomaly, ctx) ? [i] : []));
+  // the population: these and the point-like ones seen on one line
+  const strengths = [...points.map((i) => items[i]!.anomaly), ...oneLine].map((a) => a.strengthDb).filter(Number.isFinite);
+  let fence = -Infinity;
+  if (strengths.length >= (options.pointPopulationMin ?? 5)) {
+    const q1 = quantile(strengths, 0.25), q3 = quantile(strengths, 0.75);
+    fence = q3 + (options.pointFenceIqr ?? 1.5) * (q3 - q1);
+  }
+  for (const i of Number.isFinite(fence) ? points : []) {
+    const a = items[i]!.anomaly;
+    const foot = round(pointFootprintM(Math.max(a.depthTopM, ctx.nearSurfaceM), Math.max(...a.members.map((m) => m.bottomM - m.topM)), ctx));
+    own[i] = a.strengthDb > fence
+      ? { class: 'structure', reason: `point-sized (within ${foot} m, one pulse thick) but stronger than the site's ${strengths.length} point-sized anomalies (above ${round(fence)} dB, Tukey's upper fence): a small object` }
+      : { class: 'clutter', reason: `point-sized: within a point scatterer's response at its depth (${foot} m) and one pulse thick, no stronger than the site's other point-sized anomalies (fence ${round(fence)} dB): a stone, a root or an object too small to tell` };
+  }
   // echoes: below a stronger object, mostly inside its plan cells
   const overlap = options.echoOverlap ?? 0.6;
   const order = items.map((_, i) => i).sort((p, q) => items[p]!.anomaly.depthTopM - items[q]!.anomaly.depthTopM);

@@ -10,6 +10,12 @@ export interface JoinOptions extends ShapeOptions {
   maxDepthGapM?: number;
   /** A linear piece must run within this angle of the joined line, degrees. @default 20 (common practice, no source) */
   maxAngleDeg?: number;
+  /**
+   * Compact pieces that may join a piece of the usual kind (linear, or seen on one line) but not one
+   * another: e.g. point-sized ones (`isPointSized`), which a utility shows where its response breaks up.
+   * @default none
+   */
+  alsoJoinable?: (a: Anomaly3D) => boolean;
 }
 
 function angleDiff(a: number, b: number): number {
@@ -19,7 +25,7 @@ function angleDiff(a: number, b: number): number {
 
 /**
  * Groups pieces of one utility: anomalies that line up in plan and depth across small gaps. Only
- * linear pieces and compact ones seen on one line (`oneLineWidthM`) take part. Pairs
+ * linear pieces and compact ones seen on one line (`oneLineWidthM`) take part, and `alsoJoinable` ones with those. Pairs
  * are tried nearest first (union-find); two groups join when their depth ranges meet within
  * `maxDepthGapM`, some cells of the two lie within `maxGapM`, their union is linear and no wider than
  * `maxWidthM(depth)` allows, and every linear piece runs along the union. Returns groups of indices
@@ -37,7 +43,8 @@ export function joinAlignedPieces(
   const gapU = (options.maxGapM ?? 2 * lineSpacingM) / mpu;
   // a piece of a utility is linear, or compact and seen on one line only (a pipe crossing the lines
   // at an angle); a compact piece wider than a line spacing is an object of its own (a footing)
-  const joinable = (a: Anomaly3D) => a.shape.kind === 'linear' || a.shape.widthM <= oneLineWidthM(lineSpacingM, grid.cellSize * mpu);
+  const usual = pieces.map((a) => a.shape.kind === 'linear' || a.shape.widthM <= oneLineWidthM(lineSpacingM, grid.cellSize * mpu));
+  const also = pieces.map((a, i) => !usual[i] && (options.alsoJoinable?.(a) ?? false));
   const maxAngle = options.maxAngleDeg ?? 20;
   const box = pieces.map((a) => {
     let r0 = Infinity, r1 = -Infinity, c0 = Infinity, c1 = -Infinity;
@@ -56,7 +63,7 @@ export function joinAlignedPieces(
     for (let j = i + 1; j < n; j++) {
       const a = pieces[i]!, b = pieces[j]!;
       const dz = options.maxDepthGapM ?? 0;
-      if (!joinable(a) || !joinable(b)) continue;
+      if (!(usual[i] || also[i]) || !(usual[j] || also[j]) || (also[i] && also[j])) continue;
       if (a.depthTopM > b.depthBottomM + dz + 1e-9 || b.depthTopM > a.depthBottomM + dz + 1e-9) continue;
       const A = box[i]!, B = box[j]!;
       const br = Math.max(0, A.r0 - B.r1, B.r0 - A.r1), bc = Math.max(0, A.c0 - B.c1, B.c0 - A.c1);

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { buildAnomaly, classifyAnomalies, fresnelRadiusM, joinAlignedPieces, makeMember, maxUtilityWidthM, type Anomaly3D, type ClassifyContext } from '../src';
+import { buildAnomaly, classifyAnomalies, fresnelRadiusM, isPointSized, joinAlignedPieces, makeMember, maxUtilityWidthM, pointFootprintM, type Anomaly3D, type ClassifyContext } from '../src';
 import { grid } from './helpers';
 
 const g = grid(200, 200, 0.125, 0, 25);
@@ -98,6 +98,36 @@ describe('artefacts of the survey, not objects', () => {
   });
 });
 
+describe('point scatterers', () => {
+  it("a point's footprint across the lines: the offset y where sqrt(z^2 + y^2) = z + e (a 3-4-5 triangle), both sides, plus a line spacing and a cell", () => {
+    // v 0.1 m/ns, 400 MHz: one period is 0.125 m of depth; a slice 0.125 m thick: e = 0.25 m. At z = 1 m
+    // the diffraction leaves slice and pulse at y = 0.75 m (hypot(1, 0.75) = 1.25, Pythagoras).
+    expect(Math.hypot(1, 0.75)).toBeCloseTo(1.25, 12);
+    expect(pointFootprintM(1, 0.125, ctx)).toBeCloseTo(2 * 0.75 + 0.5 + 0.125, 12);
+  });
+
+  // lines 0.5 m apart; blobs 0.9 x 0.9 m in one slice at 1.0-1.125 m (footprint there 2.1 m), wider than a line
+  const blob = (x: number, y: number, peak: number) => anomaly(cellsOf((px, py) => Math.abs(px - x) < 0.45 && Math.abs(py - y) < 0.45), 8, 8, peak);
+
+  it("the site's point-sized anomalies are clutter, an outlier of their strengths (above Tukey's upper fence) stays a structure", () => {
+    // eight stones 16-20 dB over the noise (peak energies 40-100 over unit noise) and one at 30 dB
+    const stones = [40, 50, 60, 70, 80, 90, 100, 55].map((p, i) => blob(2 + 2.5 * i, 6, p));
+    const valve = blob(10, 14, 1000);
+    const c = classifyAnomalies([...stones, valve].map((a) => ({ anomaly: a, aboveGround: false })), ctx);
+    expect(c.slice(0, 8).map((x) => x.class)).toEqual(Array(8).fill('clutter'));
+    expect(c[8]!.class).toBe('structure');
+    expect(c[8]!.reason).toMatch(/Tukey/);
+    // a footing wider than a point's footprint is no point, however weak
+    const footing = anomaly(cellsOf((x, y) => Math.abs(x - 20) < 1.4 && Math.abs(y - 14) < 1.4), 8, 8, 40);
+    expect(classifyAnomalies([...stones, footing].map((a) => ({ anomaly: a, aboveGround: false })), ctx)[8]!.class).toBe('structure');
+  });
+
+  it('with fewer than five point-sized anomalies there is no population to be weak against: they stay structures', () => {
+    const few = [40, 50, 60].map((p, i) => blob(2 + 2.5 * i, 6, p));
+    expect(classifyAnomalies(few.map((a) => ({ anomaly: a, aboveGround: false })), ctx).map((x) => x.class)).toEqual(['structure', 'structure', 'structure']);
+  });
+});
+
 describe('joining pieces of a utility', () => {
   it('joins pieces along a line across gaps up to two line spacings, not pieces of a row of footings nor pieces at other depths', () => {
     // a pipe at 30 degrees seen once per line: short pieces 0.8 m apart along its axis
@@ -108,5 +138,18 @@ describe('joining pieces of a utility', () => {
     const groups = joinAlignedPieces([...pieces, ...footings, deep], g, 0.5, (z) => maxUtilityWidthM(z, ctx), { metresPerUnit: 1 });
     expect(groups).toContainEqual([0, 1, 2, 3]);
     for (const i of [4, 5, 6, 7]) expect(groups).toContainEqual([i]);
+  });
+
+  it('a point-sized piece of a utility joins its linear pieces (alsoJoinable), two such pieces alone do not', () => {
+    // a pipe along y = 12 m at 0.625-0.75 m: linear pieces either side of a compact 0.9 m blob where its response breaks up
+    const left = anomaly(cellsOf((x, y) => Math.abs(y - 12) < 0.2 && x > 2 && x < 6), 5, 5);
+    const blob = anomaly(cellsOf((x, y) => Math.abs(y - 12) < 0.45 && Math.abs(x - 6.8) < 0.45), 5, 5);
+    const right = anomaly(cellsOf((x, y) => Math.abs(y - 12) < 0.2 && x > 7.6 && x < 12), 5, 5);
+    const also = { metresPerUnit: 1, alsoJoinable: (a: Anomaly3D) => isPointSized(a, ctx) };
+    expect(isPointSized(blob, ctx)).toBe(true);
+    expect(joinAlignedPieces([left, blob, right], g, 0.5, (z) => maxUtilityWidthM(z, ctx), { metresPerUnit: 1 })).toContainEqual([1]);
+    expect(joinAlignedPieces([left, blob, right], g, 0.5, (z) => maxUtilityWidthM(z, ctx), also)).toContainEqual([0, 1, 2]);
+    const stones = [6.8, 7.9].map((x0) => anomaly(cellsOf((x, y) => Math.abs(y - 20) < 0.45 && Math.abs(x - x0) < 0.45), 5, 5));
+    expect(joinAlignedPieces(stones, g, 0.5, (z) => maxUtilityWidthM(z, ctx), also)).toEqual([[0], [1]]);
   });
 });
