@@ -103,6 +103,20 @@ for (const scene of scenes) {
     if (a.kind !== 'linear' && a.lengthM <= pointSize && nSl <= 3) fired.push('pointSized3');
     if (a.kind !== 'linear' && a.lengthM <= pointSize) fired.push('pointSizedAny');
     if (a.strengthDb < 10) fired.push('weakerThan10dB');
+    {
+      const th = Math.max(...members.map((m: any) => m.bottomM - m.topM));
+      const zt = Math.max(a.depthTopM, nearSurfaceM);
+      const rX = Math.sqrt(Math.max(0, (zt + th) ** 2 - zt ** 2));
+      const lam = (1000 * v) / f;
+      const foot = 2 * rX + spacing + lam / 2;
+      const dz = a.depthBottomM - a.depthTopM;
+      const pulse = (1.5 * v * 1000) / (2 * f);
+      if (a.kind !== 'linear' && a.lengthM <= foot && dz <= pulse + th + 1e-6) fired.push('pointResponse');
+      if (a.lengthM <= foot && dz <= pulse + th + 1e-6) fired.push('pointResponseAny');
+    }
+    if (nSl <= 2 && a.areaM2 >= Math.PI * rf * rf) fired.push('thinSheet');
+    if (nSl <= 2 && a.areaM2 >= 4 * Math.PI * rf * rf) fired.push('thinSheet4');
+    if (nSl <= 1 && a.areaM2 >= Math.PI * rf * rf) fired.push('thinSheet1');
     if (process.env.RULE && fired.includes(process.env.RULE)) console.log(`[${(a.members as any[]).map((m) => `${m.slice}:${m.strengthDb}`).join(' ')}] `+`    ${process.env.RULE} ${r.kind} ${r.kind === 'buried' ? r.matches : ''} ${r.id} ${a.class} z ${a.depthTopM.toFixed(2)}-${a.depthBottomM.toFixed(2)} L ${a.lengthM?.toFixed(1)} W ${a.widthM?.toFixed(2)} angle ${angle.toFixed(0)} rF ${rf.toFixed(2)} s ${spacing.toFixed(2)} ${a.strengthDb} dB`);
     for (const k of fired) { const q = (rules[k] ??= { buried: 0, unmatched: 0, air: 0 }); q[r.kind]++; }
   }
