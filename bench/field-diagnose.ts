@@ -113,6 +113,10 @@ for (const scene of scenes) {
       const pulse = (1.5 * v * 1000) / (2 * f);
       if (a.kind !== 'linear' && a.lengthM <= foot && dz <= pulse + th + 1e-6) fired.push('pointResponse');
       if (a.lengthM <= foot && dz <= pulse + th + 1e-6) fired.push('pointResponseAny');
+      const zm = Math.max(a.depthTopM, nearSurfaceM);
+      const rS = Math.sqrt(2 * zm * th + th * th);
+      if (a.kind === 'linear' && angle <= 15 && a.widthM <= 2 * spacing && rS > spacing) fired.push('alongOneLineSlice');
+      if (a.kind === 'linear' && angle <= 15 && a.widthM <= 2 * spacing && rX > spacing) fired.push('alongOneLinePulse');
     }
     if (nSl <= 2 && a.areaM2 >= Math.PI * rf * rf) fired.push('thinSheet');
     if (nSl <= 2 && a.areaM2 >= 4 * Math.PI * rf * rf) fired.push('thinSheet4');

@@ -146,21 +146,36 @@ function axisAngleDeg(az: number, azimuths: readonly number[]): number {
 }
 
 /**
- * A linear anomaly that runs along one survey line and is no wider than the line spacing, at a depth
- * where anything buried would be seen on the neighbouring lines too: in a slice half a wavelength thick
- * a point object shows on the lines within its first Fresnel zone radius (beyond it its diffraction
- * arrives more than a quarter period late and falls in the next slice), so its response is at least
- * 2 rF wide, less one line spacing lost to the sampling across lines. A strip narrower than that is a
- * per-line artefact: a layer edge or a patchy layer left by that line's background removal, a change of
- * coupling or of time-zero along the line.
+ * A linear anomaly that runs along one survey line and is seen on that line only, at a depth where
+ * anything buried would be seen on the neighbouring lines too. Two tests, either suffices:
+ * - no wider than the line spacing, where a point object's response is wider: in a slice half a
+ *   wavelength thick a point object shows on the lines within its first Fresnel zone radius (beyond it
+ *   its diffraction arrives more than a quarter period late and falls in the next slice), so its
+ *   response is at least 2 rF wide, less one line spacing lost to the sampling across the lines;
+ * - no wider than one line's gridded footprint (the gridding's search radius across the lines is one
+ *   line spacing on either side: 2 spacings and a cell), where an object running along the lines would
+ *   reach the neighbouring lines within the slice: at lateral offset d its reflection comes from
+ *   sqrt(z^2 + d^2), inside a slice of thickness dz from its top z for d < sqrt(2 z dz + dz^2), so it shows
+ *   on both neighbours when that exceeds the line spacing.
+ * A strip narrower than that is a per-line artefact: a layer edge or a patchy layer left by that line's
+ * background removal, a change of coupling or of time-zero along the line.
  */
 export function isOneLineStrip(a: Anomaly3D, ctx: ClassifyContext, options: ClassifyOptions = {}): boolean {
   const azimuths = ctx.lineAzimuthsDeg ?? [];
   if (a.shape.kind !== 'linear' || azimuths.length === 0 || !(ctx.lineSpacingM > 0)) return false;
-  if (a.shape.widthM > ctx.lineSpacingM) return false;
   if (axisAngleDeg(a.shape.directionDeg, azimuths) > (options.alongLineDeg ?? 15)) return false;
   const rF = fresnelRadiusM(0.5 * (a.depthTopM + a.depthBottomM), ctx.velocityMPerNs, ctx.frequencyMHz);
-  return 2 * rF - ctx.lineSpacingM > a.shape.widthM;
+  if (a.shape.widthM <= ctx.lineSpacingM && 2 * rF - ctx.lineSpacingM > a.shape.widthM) return true;
+  if (a.shape.widthM > 2 * ctx.lineSpacingM + ctx.cellM) return false;
+  return alongLineReachM(a, ctx) > ctx.lineSpacingM;
+}
+
+/** How far across the lines an object running along them at the anomaly's top still falls inside its thickest slice, m: sqrt(2 z dz + dz^2) (`isOneLineStrip`). */
+export function alongLineReachM(a: Anomaly3D, ctx: ClassifyContext): number {
+  let dz = 0;
+  for (const m of a.members) dz = Math.max(dz, m.bottomM - m.topM);
+  const z = Math.max(a.depthTopM, ctx.nearSurfaceM);
+  return Math.sqrt(2 * z * dz + dz * dz);
 }
 
 /**
@@ -201,7 +216,7 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
     const slices = new Set(a.members.map((m) => m.slice)).size;
     if (isExtensive(a.shape, z, ctx, options)) return { class: 'layer', reason: 'laterally extensive: wider than a utility and longer than a structure' };
     if (a.shape.kind === 'linear' && isOneLineStrip(a, ctx, options)) {
-      return { class: 'clutter', reason: `a strip along one line where a buried object would show on the next lines too (Fresnel zone ${round(fresnelRadiusM(0.5 * (a.depthTopM + a.depthBottomM), ctx.velocityMPerNs, ctx.frequencyMHz))} m, lines ${round(ctx.lineSpacingM)} m apart)` };
+      return { class: 'clutter', reason: `a strip along one line where a buried object would show on the next lines too (Fresnel zone ${round(fresnelRadiusM(0.5 * (a.depthTopM + a.depthBottomM), ctx.velocityMPerNs, ctx.frequencyMHz))} m, reach within its slice ${round(alongLineReachM(a, ctx))} m, lines ${round(ctx.lineSpacingM)} m apart)` };
     }
     if (a.shape.kind === 'linear') {
       if (a.shape.widthM <= maxUtilityWidthM(z, ctx, options)) return { class: 'utility', reason: 'linear, no wider than a utility' };

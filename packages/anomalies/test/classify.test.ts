@@ -75,9 +75,22 @@ describe('artefacts of the survey, not objects', () => {
     const c = classifyAnomalies([strip, across, wide].map((a) => ({ anomaly: a, aboveGround: false })), lines);
     expect(c.map((x) => x.class)).toEqual(['clutter', 'utility', 'utility']);
     expect(c[0]!.reason).toMatch(/along one line/);
-    // at 0.1 m (slice 0-1: rF 0.08 m) a line's neighbours need not see it: no verdict from the width
-    const shallow = anomaly(cellsOf((x, y) => Math.abs(y - 6.06) < 0.07 && x > 3 && x < 9), 1, 2);
-    expect(classifyAnomalies([{ anomaly: shallow, aboveGround: false }], lines)[0]!.class).toBe('utility');
+    // at 0.125-0.25 m (rF 0.11 m; within the slice an object along the lines reaches
+    // sqrt(2 x 0.125 x 0.125 + 0.125^2) = 0.22 m across, less than the spacing) a line's neighbours need not see it
+    const shallow = anomaly(cellsOf((x, y) => Math.abs(y - 6.06) < 0.07 && x > 3 && x < 9), 1, 1);
+    expect(classifyAnomalies([{ anomaly: shallow, aboveGround: false }], { ...lines, nearSurfaceM: 0 })[0]!.class).toBe('utility');
+  });
+
+  it("a strip as wide as one line's gridded footprint (2 spacings) along a line is clutter where an object along the lines would reach the next lines within its slice", () => {
+    // 0.45 m wide (one line gridded with a 0.25 m search radius either side); at 1.0-1.125 m an object
+    // along the lines falls in the slice out to sqrt(2 x 1 x 0.125 + 0.125^2) = 0.52 m across
+    const deep = anomaly(cellsOf((x, y) => Math.abs(y - 6.06) < 0.22 && x > 3 && x < 9), 8, 8);
+    const c = classifyAnomalies([{ anomaly: deep, aboveGround: false }], lines)[0]!;
+    expect(c.class).toBe('clutter');
+    expect(c.reason).toMatch(/reach within its slice 0.52 m/);
+    // at 0.125-0.25 m it reaches 0.22 m: it may be an object seen on one line
+    const shallow = anomaly(cellsOf((x, y) => Math.abs(y - 6.06) < 0.22 && x > 3 && x < 9), 1, 1);
+    expect(classifyAnomalies([{ anomaly: shallow, aboveGround: false }], { ...lines, nearSurfaceM: 0 })[0]!.class).toBe('utility');
   });
 
   it('a blob in the near-surface zone and the slice mostly inside it is clutter; one reaching a slice below is kept', () => {
