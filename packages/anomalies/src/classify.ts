@@ -100,6 +100,20 @@ export function isExtensive(shape: Shape, depthM: number, ctx: ClassifyContext, 
 }
 
 /**
+ * Widest a utility running along the survey lines may look across them within one slice, m. A cylinder
+ * of radius R (half the largest utility diameter, `maxUtilityDiameterM`) with its top at depth z, seen
+ * from a line at lateral offset d, reflects from its surface at distance sqrt((z + R)^2 + d^2) - R (the
+ * normal through its axis); that stays inside the slice of thickness dz below z while
+ * d <= sqrt(2 (z + R) dz + dz^2). Both sides, plus one line spacing of sampling and a cell. A flat
+ * reflector is seen in the same slice on lines further apart than that: a layer.
+ */
+export function sameSliceWidthM(topM: number, thicknessM: number, ctx: ClassifyContext, options: ClassifyOptions = {}): number {
+  const zr = Math.max(topM, 0) + (options.maxUtilityDiameterM ?? 1.5) / 2;
+  const e = thicknessM + pulseDepthM(ctx);
+  return 2 * Math.sqrt(2 * zr * e + e * e) + ctx.lineSpacingM + ctx.cellM;
+}
+
+/**
  * Depth of one period of the pulse at two-way time, m: v / (2 f) (v m/ns, f MHz). A GPR pulse lasts
  * about one period after the wavelet's onset (common practice, no source).
  */

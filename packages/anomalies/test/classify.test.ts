@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { buildAnomaly, classifyAnomalies, fresnelRadiusM, isPointSized, joinAlignedPieces, makeMember, maxUtilityWidthM, pointFootprintM, type Anomaly3D, type ClassifyContext } from '../src';
+import { buildAnomaly, classifyAnomalies, fresnelRadiusM, isPointSized, joinAlignedPieces, makeMember, maxUtilityWidthM, pointFootprintM, sameSliceWidthM, type Anomaly3D, type ClassifyContext } from '../src';
 import { grid } from './helpers';
 
 const g = grid(200, 200, 0.125, 0, 25);
@@ -117,6 +117,13 @@ describe('point scatterers', () => {
     // the diffraction leaves slice and pulse at y = 0.75 m (hypot(1, 0.75) = 1.25, Pythagoras).
     expect(Math.hypot(1, 0.75)).toBeCloseTo(1.25, 12);
     expect(pointFootprintM(1, 0.125, ctx)).toBeCloseTo(2 * 0.75 + 0.5 + 0.125, 12);
+  });
+
+  it('a cylinder of the largest utility diameter along the lines stays in one slice out to the offset where its reflection leaves slice and pulse', () => {
+    // top 0.25 m, R 0.75 m, slice 0.125 m + pulse 0.125 m: from a line at d = 0.75 m the reflection comes
+    // from sqrt((0.25 + 0.75)^2 + 0.75^2) - 0.75 = 0.5 m (Pythagoras), the bottom of slice and pulse
+    expect(Math.hypot(1, 0.75) - 0.75).toBeCloseTo(0.25 + 0.125 + 0.125, 12);
+    expect(sameSliceWidthM(0.25, 0.125, ctx)).toBeCloseTo(2 * 0.75 + 0.5 + 0.125, 12);
   });
 
   // lines 0.5 m apart; blobs 0.9 x 0.9 m in one slice at 1.0-1.125 m (footprint there 2.1 m), wider than a line

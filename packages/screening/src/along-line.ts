@@ -125,13 +125,13 @@ export function alongLineMembers(before: SliceStack, scores: Float32Array[], tak
 /**
  * Strips that belong to a planar reflector: per slice, the strips within `reachCells` of one another
  * (a line spacing: strips on neighbouring lines) are grouped, and a group that spans more across the
- * lines than any utility may (`tooWide(acrossM, depthM)`, e.g. `maxUtilityWidthM`) is a flat reflector
+ * lines than any utility may (`tooWide(acrossM, depthM, topM)`, e.g. `sameSliceWidthM`) is a flat reflector
  * crossing many lines (a layer, or the ground wave), not a utility along one line: a utility parallel
  * to the lines shows on the few lines within its footprint only. Every strip is long along its line
  * (background removal takes out only what runs along most of it), so the width across decides.
  * Returns the ids of the strips in such groups.
  */
-export function planarStrips(strips: readonly Member[], grid: SliceStack['grid'], reachCells: number, tooWide: (acrossM: number, depthM: number) => boolean, metresPerUnit = 1): Set<number> {
+export function planarStrips(strips: readonly Member[], grid: SliceStack['grid'], reachCells: number, tooWide: (acrossM: number, depthM: number, topM: number) => boolean, metresPerUnit = 1): Set<number> {
   const out = new Set<number>();
   const { width, height } = grid;
   const r = Math.max(1, Math.round(reachCells));
@@ -192,7 +192,7 @@ export function planarStrips(strips: readonly Member[], grid: SliceStack['grid']
         }
       }
       const acrossM = hi - lo + grid.cellSize * metresPerUnit;
-      if (tooWide(acrossM, ms[g[0]!]!.bottomM)) for (const i of g) out.add(ms[i]!.id);
+      if (tooWide(acrossM, ms[g[0]!]!.bottomM, ms[g[0]!]!.topM)) for (const i of g) out.add(ms[i]!.id);
     }
   }
   return out;

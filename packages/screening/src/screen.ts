@@ -8,6 +8,7 @@ import {
   isExtensive,
   isPointSized,
   maxUtilityWidthM,
+  sameSliceWidthM,
   noiseMean,
   traceOutline,
   linkMembers,
@@ -292,7 +293,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
       m.noiseEnergy = laws.get(m.slice)!;
       m.strengthDb = m.noiseEnergy > 0 ? 10 * Math.log10(Math.max(m.peakValue, 1e-300) / m.noiseEnergy) : Number.NaN;
     }
-    for (const id of planarStrips(strips, grid, Number.isFinite(spacing) ? spacing / cellM : 1, (acrossM, z) => acrossM > maxUtilityWidthM(z, classCtx, options.classes), mpu)) planar.add(id);
+    for (const id of planarStrips(strips, grid, Number.isFinite(spacing) ? spacing / cellM : 1, (acrossM, z, top) => acrossM > Math.min(maxUtilityWidthM(z, classCtx, options.classes), sameSliceWidthM(top, z - top, classCtx, options.classes)), mpu)) planar.add(id);
     for (const g of relink(strips, grid.width * grid.height, grid.cellSize, options)) {
       const before = screened.length;
       screenOne(buildAnomaly('A', g, bb, { ...options, metresPerUnit: mpu }), 0, ctxUnmigrated);
