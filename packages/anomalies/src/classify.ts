@@ -150,7 +150,7 @@ export function isPointSized(a: Anomaly3D, ctx: ClassifyContext): boolean {
 }
 
 /** Smallest angle between an azimuth and any of `azimuths` (all modulo 180 degrees), degrees. */
-function axisAngleDeg(az: number, azimuths: readonly number[]): number {
+export function axisAngleDeg(az: number, azimuths: readonly number[]): number {
   let best = Infinity;
   for (const b of azimuths) {
     const d = Math.abs((((az - b) % 180) + 180) % 180);

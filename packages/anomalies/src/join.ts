@@ -1,5 +1,5 @@
 import type { SliceGrid } from '@lamina/slices';
-import { oneLineWidthM } from './classify';
+import { axisAngleDeg, oneLineWidthM } from './classify';
 import { cellShape, type ShapeOptions } from './shape';
 import type { Anomaly3D } from './types';
 
@@ -16,6 +16,15 @@ export interface JoinOptions extends ShapeOptions {
    * @default none
    */
   alsoJoinable?: (a: Anomaly3D) => boolean;
+  /**
+   * Azimuths of the survey lines, degrees (`ClassifyContext.lineAzimuthsDeg`): a compact piece no wider
+   * than one line's gridded footprint (2 spacings and a cell) whose long axis runs along a line (within
+   * `alongLineDeg`) takes part too: a utility crossing the lines at a shallow angle is seen once per
+   * line, each time drawn out along it. @default none
+   */
+  lineAzimuthsDeg?: readonly number[];
+  /** @default 15 */
+  alongLineDeg?: number;
 }
 
 function angleDiff(a: number, b: number): number {
@@ -43,7 +52,12 @@ export function joinAlignedPieces(
   const gapU = (options.maxGapM ?? 2 * lineSpacingM) / mpu;
   // a piece of a utility is linear, or compact and seen on one line only (a pipe crossing the lines
   // at an angle); a compact piece wider than a line spacing is an object of its own (a footing)
-  const usual = pieces.map((a) => a.shape.kind === 'linear' || a.shape.widthM <= oneLineWidthM(lineSpacingM, grid.cellSize * mpu));
+  const cellM = grid.cellSize * mpu;
+  const azimuths = options.lineAzimuthsDeg ?? [];
+  const drawnAlongLine = (a: Anomaly3D) =>
+    azimuths.length > 0 && a.shape.widthM <= 2 * lineSpacingM + cellM && a.shape.lengthM > a.shape.widthM && axisAngleDeg(a.shape.directionDeg, azimuths) <= (options.alongLineDeg ?? 15);
+  const drawn = pieces.map((a) => a.shape.kind !== 'linear' && a.shape.widthM > oneLineWidthM(lineSpacingM, cellM) && drawnAlongLine(a));
+  const usual = pieces.map((a, i) => a.shape.kind === 'linear' || a.shape.widthM <= oneLineWidthM(lineSpacingM, cellM) || drawn[i]!);
   const also = pieces.map((a, i) => !usual[i] && (options.alsoJoinable?.(a) ?? false));
   const maxAngle = options.maxAngleDeg ?? 20;
   const box = pieces.map((a) => {
@@ -98,7 +112,15 @@ export function joinAlignedPieces(
     groupOf.delete(rj);
     groupOf.set(root, members.sort((p, q) => p - q));
   }
-  return [...groupOf.values()].sort((p, q) => p[0]! - q[0]!);
+  // A group of compact pieces drawn out along the lines and nothing linear is a utility only when seen
+  // on three lines at least: two such blobs side by side are as likely two stones.
+  const out: number[][] = [];
+  for (const g of groupOf.values()) {
+    const weak = g.length < 3 && g.some((m) => drawn[m]) && g.every((m) => pieces[m]!.shape.kind !== 'linear');
+    if (weak) for (const m of g) out.push([m]);
+    else out.push(g);
+  }
+  return out.sort((p, q) => p[0]! - q[0]!);
 }
 
 /** Smallest distance between cells of two ascending cell lists, in cells (brute force over the smaller's edge). */

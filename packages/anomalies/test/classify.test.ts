@@ -172,4 +172,15 @@ describe('joining pieces of a utility', () => {
     const stones = [6.8, 7.9].map((x0) => anomaly(cellsOf((x, y) => Math.abs(y - 20) < 0.45 && Math.abs(x - x0) < 0.45), 5, 5));
     expect(joinAlignedPieces(stones, g, 0.5, (z) => maxUtilityWidthM(z, ctx), also)).toEqual([[0], [1]]);
   });
+
+  it('a utility crossing the lines at a shallow angle, seen as blobs drawn out along each line, joins when seen on three lines or more; two such blobs stay apart', () => {
+    // lines east-west (azimuth 90) 0.5 m apart; a pipe at 20 degrees to them crosses them 1.37 m apart
+    // along x: one 1.0 x 0.7 m blob per line, drawn along the line, no wider than 2 spacings and a cell
+    const lines = [90];
+    const blobs = [0, 1, 2, 3].map((i) => anomaly(cellsOf((x, y) => Math.abs(x - (4 + 1.37 * i)) < 0.5 && Math.abs(y - (8 + 0.5 * i)) < 0.35), 5, 5));
+    const opts = { metresPerUnit: 1, lineAzimuthsDeg: lines };
+    expect(joinAlignedPieces(blobs, g, 0.5, (z) => maxUtilityWidthM(z, ctx), { metresPerUnit: 1 })).toEqual([[0], [1], [2], [3]]);
+    expect(joinAlignedPieces(blobs, g, 0.5, (z) => maxUtilityWidthM(z, ctx), opts)).toEqual([[0, 1, 2, 3]]);
+    expect(joinAlignedPieces(blobs.slice(0, 2), g, 0.5, (z) => maxUtilityWidthM(z, ctx), opts)).toEqual([[0], [1]]);
+  });
 });
