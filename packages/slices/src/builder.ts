@@ -178,9 +178,17 @@ export interface DefaultWindowOptions {
   overlap?: number;
 }
 
-/** Slice windows for a survey: from the surface to the record's depth, half a wavelength thick. */
+/**
+ * Slice windows for a survey: from the surface to one period (1000 / f ns) before the record's end, half
+ * a wavelength thick. The record's last period holds the processing's edge effects, not data: the dewow
+ * window shrinks to one side there, the band-pass and the envelope lose what follows, and a pulse
+ * arriving then is cut off; gain, largest at the end, then makes a band of it along every line (a
+ * record too short for that keeps its whole length).
+ */
 export function defaultWindows(o: DefaultWindowOptions): SliceWindow[] {
-  const maxDepth = sampleDepth(o.model, (o.nSamples - 1) * o.dtNs - o.timeZeroNs, o.separationM);
+  const end = (o.nSamples - 1) * o.dtNs - o.timeZeroNs;
+  const trimmed = sampleDepth(o.model, end - 1000 / o.frequencyMHz, o.separationM);
+  const maxDepth = trimmed > 0 ? trimmed : sampleDepth(o.model, end, o.separationM);
   if (!(maxDepth > 0)) throw new Error(`the record (${o.nSamples} samples of ${o.dtNs} ns) reaches no depth below the surface`);
   const top = o.topM ?? 0;
   const bottom = Math.min(o.bottomM ?? maxDepth, maxDepth);

@@ -19,11 +19,15 @@ describe('slice windows', () => {
     expect(() => sliceWindows(0, 1, { thicknessM: 0.2, overlap: 1 })).toThrow(/overlap/);
   });
 
-  it('default windows stop at the depth of the last sample', () => {
-    // 512 samples of 0.2 ns, time-zero 5 ns: last sample 97.2 ns after time-zero; at 0.1 m/ns, s = 0 that is 4.86 m.
+  it('default windows stop one period before the depth of the last sample', () => {
+    // 512 samples of 0.2 ns, time-zero 5 ns: last sample 97.2 ns after time-zero; one period at 400 MHz
+    // is 2.5 ns, so 94.7 ns: at 0.1 m/ns, s = 0, that is 4.735 m.
     const w = defaultWindows({ model: constantModel(0.1), separationM: 0, frequencyMHz: 400, nSamples: 512, dtNs: 0.2, timeZeroNs: 5 });
-    expect(w.length).toBe(Math.floor(4.86 / 0.125 + 1e-9));
-    expect(w.at(-1)!.bottomM).toBeLessThanOrEqual(4.86 + 1e-3);
+    expect(w.length).toBe(Math.floor(4.735 / 0.125 + 1e-9));
+    expect(w.at(-1)!.bottomM).toBeLessThanOrEqual(4.735 + 1e-3);
+    // a record shorter than a period keeps its whole length: 20 samples of 0.2 ns, 1.8 ns after time-zero
+    const short = defaultWindows({ model: constantModel(0.1), separationM: 0, frequencyMHz: 400, nSamples: 20, dtNs: 0.2, timeZeroNs: 2 });
+    expect(short.at(-1)!.bottomM).toBeGreaterThan(0.05);
   });
 });
 
