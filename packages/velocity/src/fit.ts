@@ -121,11 +121,12 @@ function specularPath(dx: number, zc: number, R: number, h: number, grad: Float6
     // which leaves out the R-v trade-off.
     const e1x = dx + h;
     const e2x = dx - h;
-    const n1 = Math.hypot(e1x, zc) || 1;
-    const n2 = Math.hypot(e2x, zc) || 1;
+    // square roots rather than Math.hypot (several times slower here; these lengths neither overflow nor underflow)
+    const n1 = Math.sqrt(e1x * e1x + zc * zc) || 1;
+    const n2 = Math.sqrt(e2x * e2x + zc * zc) || 1;
     const bx = e1x / n1 + e2x / n2;
     const bz = zc / n1 + zc / n2;
-    const nb = Math.hypot(bx, bz) || 1;
+    const nb = Math.sqrt(bx * bx + bz * bz) || 1;
     sin = bx / nb;
     cos = bz / nb;
   }
