@@ -258,6 +258,26 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
       ? { class: 'structure', reason: `point-sized (within ${foot} m, one pulse thick) but stronger than the site's ${strengths.length} point-sized anomalies (above ${round(fence)} dB, Tukey's upper fence): a small object` }
       : { class: 'clutter', reason: `point-sized: within a point scatterer's response at its depth (${foot} m) and one pulse thick, no stronger than the site's other point-sized anomalies (fence ${round(fence)} dB): a stone, a root or an object too small to tell` };
   }
+  // Shallow compact structures: starting inside the near-surface zone and one pulse thick, so not
+  // continuing into deeper slices. Where a site has enough of them they are its shallow clutter (stones,
+  // roots, rubble, the zone's residue: size tells nothing there), but for the outliers of their strengths.
+  const shallow: number[] = [];
+  for (const [i, c] of own.entries()) {
+    const a = items[i]!.anomaly;
+    if (c.class !== 'structure' || a.shape.kind === 'linear' || !(a.depthTopM < ctx.nearSurfaceM)) continue;
+    let th = 0;
+    for (const m of a.members) th = Math.max(th, m.bottomM - m.topM);
+    if (a.depthBottomM - a.depthTopM <= pulseDepthM(ctx) + th + 1e-9) shallow.push(i);
+  }
+  const shallowStrengths = shallow.map((i) => items[i]!.anomaly.strengthDb).filter(Number.isFinite);
+  if (shallowStrengths.length >= (options.pointPopulationMin ?? 5)) {
+    const q1 = quantile(shallowStrengths, 0.25), q3 = quantile(shallowStrengths, 0.75);
+    const shallowFence = q3 + (options.pointFenceIqr ?? 1.5) * (q3 - q1);
+    for (const i of shallow) {
+      if (items[i]!.anomaly.strengthDb > shallowFence) continue;
+      own[i] = { class: 'clutter', reason: `starts in the near-surface zone (top ${round(ctx.nearSurfaceM)} m), one pulse thick, no stronger than the site's ${shallowStrengths.length} such anomalies (fence ${round(shallowFence)} dB): shallow stones, roots or the zone's residue` };
+    }
+  }
   // echoes: below a stronger object, mostly inside its plan cells
   const overlap = options.echoOverlap ?? 0.6;
   const order = items.map((_, i) => i).sort((p, q) => items[p]!.anomaly.depthTopM - items[q]!.anomaly.depthTopM);

@@ -142,6 +142,20 @@ describe('point scatterers', () => {
     expect(classifyAnomalies([...stones, footing].map((a) => ({ anomaly: a, aboveGround: false })), ctx)[8]!.class).toBe('structure');
   });
 
+  it("compact anomalies starting in the near-surface zone and one pulse thick are the site's shallow clutter when there are five or more, but for a strength outlier", () => {
+    // zone 0.19 m, slices 0.125 m: blobs 2 x 2 m (larger than a point's footprint) in slices 1-2 (0.125-0.375 m)
+    const z: ClassifyContext = { ...ctx, nearSurfaceM: 0.19 };
+    const blobAt = (x: number, peak: number) => anomaly(cellsOf((px, py) => Math.abs(px - x) < 1 && Math.abs(py - 20) < 1), 1, 2, peak);
+    const roots = [40, 50, 60, 70, 80].map((p, i) => blobAt(3 + 3.5 * i, p));
+    const vault = anomaly(cellsOf((px, py) => Math.abs(px - 10) < 1 && Math.abs(py - 5) < 1), 1, 2, 2000);
+    const c = classifyAnomalies([...roots, vault].map((a) => ({ anomaly: a, aboveGround: false })), z);
+    expect(c.slice(0, 5).map((x) => x.class)).toEqual(Array(5).fill('clutter'));
+    expect(c[0]!.reason).toMatch(/near-surface zone/);
+    expect(c[5]!.class).toBe('structure');
+    // four of them are no population: they stay structures
+    expect(classifyAnomalies(roots.slice(0, 4).map((a) => ({ anomaly: a, aboveGround: false })), z).map((x) => x.class)).toEqual(Array(4).fill('structure'));
+  });
+
   it('with fewer than five point-sized anomalies there is no population to be weak against: they stay structures', () => {
     const few = [40, 50, 60].map((p, i) => blob(2 + 2.5 * i, 6, p));
     expect(classifyAnomalies(few.map((a) => ({ anomaly: a, aboveGround: false })), ctx).map((x) => x.class)).toEqual(['structure', 'structure', 'structure']);
