@@ -108,9 +108,8 @@ export function isExtensive(shape: Shape, depthM: number, ctx: ClassifyContext, 
  * reflector is seen in the same slice on lines further apart than that: a layer.
  */
 export function sameSliceWidthM(topM: number, thicknessM: number, ctx: ClassifyContext, options: ClassifyOptions = {}): number {
-  const zr = Math.max(topM, 0) + (options.maxUtilityDiameterM ?? 1.5) / 2;
-  const e = thicknessM + pulseDepthM(ctx);
-  return 2 * Math.sqrt(2 * zr * e + e * e) + ctx.lineSpacingM + ctx.cellM;
+  // a point's footprint (`pointFootprintM`) at the depth of the cylinder's axis
+  return pointFootprintM(Math.max(topM, 0) + (options.maxUtilityDiameterM ?? 1.5) / 2, thicknessM, ctx);
 }
 
 /**
@@ -130,9 +129,34 @@ export function pulseDepthM(ctx: ClassifyContext): number {
  * the length as well as the width.
  */
 export function pointFootprintM(depthM: number, thicknessM: number, ctx: ClassifyContext): number {
-  const e = thicknessM + pulseDepthM(ctx);
-  const z = Math.max(depthM, 0);
-  return 2 * Math.sqrt(2 * z * e + e * e) + ctx.lineSpacingM + ctx.cellM;
+  return 2 * reachM(Math.max(depthM, 0), thicknessM + pulseDepthM(ctx)) + ctx.lineSpacingM + ctx.cellM;
+}
+
+/** Lateral offset y at which a reflection from depth z arrives from z + e: sqrt(z^2 + y^2) = z + e, y = sqrt(2 z e + e^2), m. */
+function reachM(z: number, e: number): number {
+  return Math.sqrt(2 * z * e + e * e);
+}
+
+/** Thickness of the anomaly's thickest slice, m. */
+function thickestSliceM(a: Anomaly3D): number {
+  let t = 0;
+  for (const m of a.members) t = Math.max(t, m.bottomM - m.topM);
+  return t;
+}
+
+/** No thicker than one pulse (`pulseDepthM`) plus its thickest slice. */
+function isOnePulseThick(a: Anomaly3D, ctx: ClassifyContext): boolean {
+  return a.depthBottomM - a.depthTopM <= pulseDepthM(ctx) + thickestSliceM(a) + 1e-9;
+}
+
+/**
+ * Tukey's upper fence Q3 + k IQR of `values` (k = `pointFenceIqr`), or undefined with fewer than
+ * `pointPopulationMin` of them (no population to be an outlier of).
+ */
+function upperFence(values: number[], options: ClassifyOptions): number | undefined {
+  if (values.length < (options.pointPopulationMin ?? 5)) return undefined;
+  const q1 = quantile(values, 0.25), q3 = quantile(values, 0.75);
+  return q3 + (options.pointFenceIqr ?? 1.5) * (q3 - q1);
 }
 
 /**
@@ -142,11 +166,8 @@ export function pointFootprintM(depthM: number, thicknessM: number, ctx: Classif
  * the lines or a small object, and the site's population of such anomalies decides (`classifyAnomalies`).
  */
 export function isPointSized(a: Anomaly3D, ctx: ClassifyContext): boolean {
-  if (a.shape.kind === 'linear' || a.members.length === 0) return false;
-  let thickness = 0;
-  for (const m of a.members) thickness = Math.max(thickness, m.bottomM - m.topM);
-  if (a.depthBottomM - a.depthTopM > pulseDepthM(ctx) + thickness + 1e-9) return false;
-  return a.shape.lengthM <= pointFootprintM(Math.max(a.depthTopM, ctx.nearSurfaceM), thickness, ctx);
+  if (a.shape.kind === 'linear' || a.members.length === 0 || !isOnePulseThick(a, ctx)) return false;
+  return a.shape.lengthM <= pointFootprintM(Math.max(a.depthTopM, ctx.nearSurfaceM), thickestSliceM(a), ctx);
 }
 
 /** Smallest angle between an azimuth and any of `azimuths` (all modulo 180 degrees), degrees. */
@@ -186,10 +207,7 @@ export function isOneLineStrip(a: Anomaly3D, ctx: ClassifyContext, options: Clas
 
 /** How far across the lines an object running along them at the anomaly's top still falls inside its thickest slice, m: sqrt(2 z dz + dz^2) (`isOneLineStrip`). */
 export function alongLineReachM(a: Anomaly3D, ctx: ClassifyContext): number {
-  let dz = 0;
-  for (const m of a.members) dz = Math.max(dz, m.bottomM - m.topM);
-  const z = Math.max(a.depthTopM, ctx.nearSurfaceM);
-  return Math.sqrt(2 * z * dz + dz * dz);
+  return reachM(Math.max(a.depthTopM, ctx.nearSurfaceM), thickestSliceM(a));
 }
 
 /**
@@ -246,33 +264,26 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
   const points = own.flatMap((c, i) => (c.class === 'structure' && isPointSized(items[i]!.anomaly, ctx) ? [i] : []));
   // the population: these and the point-like ones seen on one line
   const strengths = [...points.map((i) => items[i]!.anomaly), ...oneLine].map((a) => a.strengthDb).filter(Number.isFinite);
-  let fence = -Infinity;
-  if (strengths.length >= (options.pointPopulationMin ?? 5)) {
-    const q1 = quantile(strengths, 0.25), q3 = quantile(strengths, 0.75);
-    fence = q3 + (options.pointFenceIqr ?? 1.5) * (q3 - q1);
-  }
-  for (const i of Number.isFinite(fence) ? points : []) {
-    const a = items[i]!.anomaly;
-    const foot = round(pointFootprintM(Math.max(a.depthTopM, ctx.nearSurfaceM), Math.max(...a.members.map((m) => m.bottomM - m.topM)), ctx));
-    own[i] = a.strengthDb > fence
-      ? { class: 'structure', reason: `point-sized (within ${foot} m, one pulse thick) but stronger than the site's ${strengths.length} point-sized anomalies (above ${round(fence)} dB, Tukey's upper fence): a small object` }
-      : { class: 'clutter', reason: `point-sized: within a point scatterer's response at its depth (${foot} m) and one pulse thick, no stronger than the site's other point-sized anomalies (fence ${round(fence)} dB): a stone, a root or an object too small to tell` };
+  const fence = upperFence(strengths, options);
+  if (fence !== undefined) {
+    for (const i of points) {
+      const a = items[i]!.anomaly;
+      const foot = round(pointFootprintM(Math.max(a.depthTopM, ctx.nearSurfaceM), thickestSliceM(a), ctx));
+      own[i] = a.strengthDb > fence
+        ? { class: 'structure', reason: `point-sized (within ${foot} m, one pulse thick) but stronger than the site's ${strengths.length} point-sized anomalies (above ${round(fence)} dB, Tukey's upper fence): a small object` }
+        : { class: 'clutter', reason: `point-sized: within a point scatterer's response at its depth (${foot} m) and one pulse thick, no stronger than the site's other point-sized anomalies (fence ${round(fence)} dB): a stone, a root or an object too small to tell` };
+    }
   }
   // Shallow compact structures: starting inside the near-surface zone and one pulse thick, so not
   // continuing into deeper slices. Where a site has enough of them they are its shallow clutter (stones,
   // roots, rubble, the zone's residue: size tells nothing there), but for the outliers of their strengths.
-  const shallow: number[] = [];
-  for (const [i, c] of own.entries()) {
+  const shallow = own.flatMap((c, i) => {
     const a = items[i]!.anomaly;
-    if (c.class !== 'structure' || a.shape.kind === 'linear' || !(a.depthTopM < ctx.nearSurfaceM)) continue;
-    let th = 0;
-    for (const m of a.members) th = Math.max(th, m.bottomM - m.topM);
-    if (a.depthBottomM - a.depthTopM <= pulseDepthM(ctx) + th + 1e-9) shallow.push(i);
-  }
+    return c.class === 'structure' && a.shape.kind !== 'linear' && a.depthTopM < ctx.nearSurfaceM && isOnePulseThick(a, ctx) ? [i] : [];
+  });
   const shallowStrengths = shallow.map((i) => items[i]!.anomaly.strengthDb).filter(Number.isFinite);
-  if (shallowStrengths.length >= (options.pointPopulationMin ?? 5)) {
-    const q1 = quantile(shallowStrengths, 0.25), q3 = quantile(shallowStrengths, 0.75);
-    const shallowFence = q3 + (options.pointFenceIqr ?? 1.5) * (q3 - q1);
+  const shallowFence = upperFence(shallowStrengths, options);
+  if (shallowFence !== undefined) {
     for (const i of shallow) {
       if (items[i]!.anomaly.strengthDb > shallowFence) continue;
       own[i] = { class: 'clutter', reason: `starts in the near-surface zone (top ${round(ctx.nearSurfaceM)} m), one pulse thick, no stronger than the site's ${shallowStrengths.length} such anomalies (fence ${round(shallowFence)} dB): shallow stones, roots or the zone's residue` };

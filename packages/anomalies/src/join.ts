@@ -56,8 +56,9 @@ export function joinAlignedPieces(
   const azimuths = options.lineAzimuthsDeg ?? [];
   const drawnAlongLine = (a: Anomaly3D) =>
     azimuths.length > 0 && a.shape.widthM <= 2 * lineSpacingM + cellM && a.shape.lengthM > a.shape.widthM && axisAngleDeg(a.shape.directionDeg, azimuths) <= (options.alongLineDeg ?? 15);
-  const drawn = pieces.map((a) => a.shape.kind !== 'linear' && a.shape.widthM > oneLineWidthM(lineSpacingM, cellM) && drawnAlongLine(a));
-  const usual = pieces.map((a, i) => a.shape.kind === 'linear' || a.shape.widthM <= oneLineWidthM(lineSpacingM, cellM) || drawn[i]!);
+  const oneLine = oneLineWidthM(lineSpacingM, cellM);
+  const drawn = pieces.map((a) => a.shape.kind !== 'linear' && a.shape.widthM > oneLine && drawnAlongLine(a));
+  const usual = pieces.map((a, i) => a.shape.kind === 'linear' || a.shape.widthM <= oneLine || drawn[i]!);
   const also = pieces.map((a, i) => !usual[i] && (options.alsoJoinable?.(a) ?? false));
   const maxAngle = options.maxAngleDeg ?? 20;
   const box = pieces.map((a) => {
