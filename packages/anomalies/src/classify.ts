@@ -160,13 +160,16 @@ function upperFence(values: number[], options: ClassifyOptions): number | undefi
 }
 
 /**
- * A compact anomaly no larger than a point scatterer's response at its depth (`pointFootprintM`, from
- * the top of its first slice or of the zone below the near-surface zone, whichever is deeper) and no
- * thicker than one pulse plus one slice: at the survey's resolution it may be a stone, a root crossed by
- * the lines or a small object, and the site's population of such anomalies decides (`classifyAnomalies`).
+ * An anomaly no longer than a point scatterer's response at its depth (`pointFootprintM`, from the top
+ * of its first slice or of the zone below the near-surface zone, whichever is deeper) and no thicker
+ * than one pulse plus one slice: at the survey's resolution it may be a stone, a root or a small object,
+ * and the site's population of such anomalies decides (`classifyAnomalies`). A linear one too when it
+ * runs across the lines (its axis further than 45 degrees from every line direction): migration focuses
+ * a stone along the lines but not across them, so its response is a short strip across the lines.
  */
 export function isPointSized(a: Anomaly3D, ctx: ClassifyContext): boolean {
-  if (a.shape.kind === 'linear' || a.members.length === 0 || !isOnePulseThick(a, ctx)) return false;
+  if (a.members.length === 0 || !isOnePulseThick(a, ctx)) return false;
+  if (a.shape.kind === 'linear' && !(axisAngleDeg(a.shape.directionDeg, ctx.lineAzimuthsDeg ?? []) > 45)) return false;
   return a.shape.lengthM <= pointFootprintM(Math.max(a.depthTopM, ctx.nearSurfaceM), thickestSliceM(a), ctx);
 }
 
@@ -227,9 +230,10 @@ export function alongLineReachM(a: Anomaly3D, ctx: ClassifyContext): number {
  * - `utility`: linear and no wider than a utility may be;
  * - `clutter` (point-like): compact, seen on one line only (`oneLineWidthM`), spanning at most two
  *   slices (one pulse) — a stone or a root at the survey's resolution;
- * - `clutter` (point-sized): no larger than a point scatterer's response (`isPointSized`) and not an
- *   outlier of the site's population of such anomalies by strength (`pointPopulationMin`, Tukey's upper
- *   fence); the outliers are structures, and so are all of them when there are too few to judge;
+ * - `clutter` (point-sized): a structure, or a utility running across the lines, no larger than a point
+ *   scatterer's response (`isPointSized`) and not an outlier of the site's population of such anomalies
+ *   by strength (`pointPopulationMin`, Tukey's upper fence); the outliers keep their class (compact ones
+ *   as structures), and so do all of them when there are too few to judge;
  * - `structure`: the other compact anomalies (a footing or a tank is wider than a point's response, or thick).
  */
 export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: boolean; planar?: boolean }[], ctx: ClassifyContext, options: ClassifyOptions = {}): Classified[] {
@@ -261,7 +265,7 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
     return { class: 'structure', reason: 'compact, wider than a line spacing or thicker than a pulse' };
   });
   // point-sized structures: the site's point scatterers, but for the outliers of their strengths
-  const points = own.flatMap((c, i) => (c.class === 'structure' && isPointSized(items[i]!.anomaly, ctx) ? [i] : []));
+  const points = own.flatMap((c, i) => ((c.class === 'structure' || c.class === 'utility') && isPointSized(items[i]!.anomaly, ctx) ? [i] : []));
   // the population: these and the point-like ones seen on one line
   const strengths = [...points.map((i) => items[i]!.anomaly), ...oneLine].map((a) => a.strengthDb).filter(Number.isFinite);
   const fence = upperFence(strengths, options);
@@ -269,6 +273,7 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
     for (const i of points) {
       const a = items[i]!.anomaly;
       const foot = round(pointFootprintM(Math.max(a.depthTopM, ctx.nearSurfaceM), thickestSliceM(a), ctx));
+      if (a.strengthDb > fence && own[i]!.class === 'utility') continue;
       own[i] = a.strengthDb > fence
         ? { class: 'structure', reason: `point-sized (within ${foot} m, one pulse thick) but stronger than the site's ${strengths.length} point-sized anomalies (above ${round(fence)} dB, Tukey's upper fence): a small object` }
         : { class: 'clutter', reason: `point-sized: within a point scatterer's response at its depth (${foot} m) and one pulse thick, no stronger than the site's other point-sized anomalies (fence ${round(fence)} dB): a stone, a root or an object too small to tell` };

@@ -156,6 +156,22 @@ describe('point scatterers', () => {
     expect(classifyAnomalies(roots.slice(0, 4).map((a) => ({ anomaly: a, aboveGround: false })), z).map((x) => x.class)).toEqual(Array(4).fill('structure'));
   });
 
+  it("short strips across the lines (a stone's response, migrated along the lines only) join the point-sized population; strips along the lines do not", () => {
+    // lines east-west (azimuth 90), 0.5 m apart; strips 1.6 x 0.25 m in one slice at 1.0-1.125 m (footprint 2.1 m)
+    const lines: ClassifyContext = { ...ctx, lineAzimuthsDeg: [90] };
+    const across = (x: number, peak: number) => anomaly(cellsOf((px, py) => Math.abs(px - x) < 0.125 && Math.abs(py - 6) < 0.8), 8, 8, peak);
+    const stones = [40, 50, 60, 70, 80, 90].map((p, i) => across(2 + 2.5 * i, p));
+    const cable = across(10, 1000);
+    const along = anomaly(cellsOf((px, py) => Math.abs(px - 10) < 0.8 && Math.abs(py - 16) < 0.125), 8, 8, 40);
+    expect(stones.every((a) => a.shape.kind === 'linear' && isPointSized(a, lines))).toBe(true);
+    expect(isPointSized(along, lines)).toBe(false);
+    const c = classifyAnomalies([...stones, cable, along].map((a) => ({ anomaly: a, aboveGround: false })), lines);
+    expect(c.slice(0, 6).map((x) => x.class)).toEqual(Array(6).fill('clutter'));
+    expect(c[6]!.class).toBe('utility');
+    // (a strip that narrow along a line is a one-line strip: clutter for another reason)
+    expect(c[7]!.reason).not.toMatch(/point-sized/);
+  });
+
   it('with fewer than five point-sized anomalies there is no population to be weak against: they stay structures', () => {
     const few = [40, 50, 60].map((p, i) => blob(2 + 2.5 * i, 6, p));
     expect(classifyAnomalies(few.map((a) => ({ anomaly: a, aboveGround: false })), ctx).map((x) => x.class)).toEqual(['structure', 'structure', 'structure']);
