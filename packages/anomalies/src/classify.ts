@@ -144,9 +144,12 @@ function thickestSliceM(a: Anomaly3D): number {
   return t;
 }
 
-/** No thicker than one pulse (`pulseDepthM`) plus its thickest slice. */
+/**
+ * No thicker than one pulse (`pulseDepthM`) plus its thickest slice, within a millimetre: slices are
+ * often one pulse thick, so two of them meet the bound exactly and rounding must not decide.
+ */
 function isOnePulseThick(a: Anomaly3D, ctx: ClassifyContext): boolean {
-  return a.depthBottomM - a.depthTopM <= pulseDepthM(ctx) + thickestSliceM(a) + 1e-9;
+  return a.depthBottomM - a.depthTopM <= pulseDepthM(ctx) + thickestSliceM(a) + 1e-3;
 }
 
 /**
