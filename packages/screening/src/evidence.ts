@@ -10,7 +10,9 @@ export type { Evidence, TestName };
  * Log-odds weights of the evidence. They express how strongly each observation separates an
  * air-wave reflection from a buried target by the physics, not a fit to any site:
  * - prior -1 (P = 0.27): an anomaly is a candidate target unless evidence says air;
- * - move-out: 2 (2f - 1) for the fraction f of members on the best feature's locus;
+ * - move-out: 2 (2f - 1) for the fraction f of members on the best feature's locus, each member on it
+ *   weighing ln(w) less where its band is w times wider than a standing object's (an overhead object's
+ *   band near its onset: a buried object lies in it w times as often by chance; `moveOutWeight`);
  * - slope dr/dz matching c/v: +2; a stationary anomaly where move-out was measurable: -3;
  * - edge alignment +1, post spacing +1, air hyperbola +2 when a plan feature stands at c t0 / 2 from
  *   its apex (+0.75 when none does: alone it leaves a candidate a target), soil hyperbola -1,

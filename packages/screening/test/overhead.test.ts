@@ -1,6 +1,7 @@
 import { C_M_PER_NS } from '@lamina/velocity';
 import { describe, expect, it } from 'vitest';
 import type { SliceGrid } from '@lamina/slices';
+import { moveOutWeight } from '../src/checks';
 import { locusAtHeight, screenSite, type ScreenedAnomaly, type SliceLocus } from '../src';
 import { constantVelocity, feature, identity, surveyLines, synthStack } from './synth';
 
@@ -19,6 +20,19 @@ describe('locus of an overhead object', () => {
     expect(o.bandHalfM).toBeGreaterThan(l.bandHalfM * 1.2);
     expect(o.bandHalfM).toBeLessThan(l.bandHalfM * 1.35);
     expect(o.rate).toBeCloseTo((3 * 5) / 4, 12);
+  });
+  it('weighs a member on its band less where the band is wider than a standing object\'s (the log of the widening)', () => {
+    // standing band: the full move-out weight 2 (shared by n members); a fail costs the same
+    expect(moveOutWeight(true, 0.3, 0.3, 1)).toBe(2);
+    expect(moveOutWeight(false, 0.9, 0.3, 2)).toBe(-1);
+    // a band e times wider holds a buried object e times as often by chance: one nat less
+    expect(moveOutWeight(true, 0.3 * Math.E, 0.3, 1)).toBeCloseTo(1, 12);
+    // near the onset (h 4.9 of R 5) the band is 3.4 times wider: 2 - ln 3.4 = 0.78
+    const o = locusAtHeight(l, 4.9);
+    expect(moveOutWeight(true, o.toleranceM, l.toleranceM, 1)).toBeCloseTo(2 - Math.log(o.toleranceM / 0.3), 12);
+    expect(o.toleranceM / 0.3).toBeGreaterThan(3);
+    // more than e^2 times wider: the position says nothing (never evidence against air)
+    expect(moveOutWeight(true, 0.3 * Math.exp(2.5), 0.3, 1)).toBe(0);
   });
   it('does not exist before the air wave can reach the slice (R + tolerance <= h)', () => {
     expect(locusAtHeight(l, 5.3).radiusM).toBeNaN();

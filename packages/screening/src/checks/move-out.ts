@@ -70,11 +70,25 @@ export function bestMoveOut(a: Anomaly3D, ctx: ScreenContext): MoveOutResult | u
   return best;
 }
 
+/**
+ * Log-odds weight of one member on (or off) a locus. A member on the locus weighs `WEIGHTS.moveOut`
+ * less the log of how much wider the locus band is than a standing object's in that slice: an overhead
+ * object's band widens near its onset (`locusAtHeight`), and a buried object falls in a band w times
+ * wider w times as often by chance (the likelihood ratio of the position falls as 1 / w). Shared by the
+ * anomaly's n members.
+ */
+export function moveOutWeight(passed: boolean, toleranceM: number, standingToleranceM: number, n: number): number {
+  if (!passed) return -WEIGHTS.moveOut / n;
+  const widening = standingToleranceM > 0 && toleranceM > standingToleranceM ? toleranceM / standingToleranceM : 1;
+  return Math.max(0, WEIGHTS.moveOut - Math.log(widening)) / n;
+}
+
 export function moveOutEvidence(mo: MoveOutResult, ctx: ScreenContext): Evidence[] {
   const refl = ctx.reflectors[mo.reflector]!;
   const n = mo.fits.length;
   return mo.fits.map((f) => {
     const l = locusOf(ctx, refl, f.member.slice);
+    const standing = ctx.loci[f.member.slice]!;
     return {
       test: 'move-out',
       featureId: refl.featureId,
@@ -83,7 +97,7 @@ export function moveOutEvidence(mo: MoveOutResult, ctx: ScreenContext): Evidence
       tolerance: l.toleranceM,
       units: 'm',
       passed: f.passed,
-      weight: ((f.passed ? 1 : -1) * WEIGHTS.moveOut) / n,
+      weight: moveOutWeight(f.passed, l.toleranceM, standing.toleranceM, n),
       slice: f.member.slice,
       detail: `slice ${f.member.slice} (${l.topM.toFixed(2)}-${l.bottomM.toFixed(2)} m): median distance to ${refl.kind}${refl.source === 'posts' ? ' posts' : ''} ${refl.featureId} ${f.medianM.toFixed(2)} m (IQR ${f.iqrM.toFixed(2)} m), locus z c/v ${l.radiusM.toFixed(2)} m`,
     } satisfies Evidence;
