@@ -339,10 +339,10 @@ export function formatTable(lines: string[][]): string {
 export function parseSeeds(spec: string): number[] {
   const out: number[] = [];
   for (const part of spec.split(',').map((s) => s.trim()).filter(Boolean)) {
-    const m = /^(\d+)(?:-(\d+))?$/.exec(part);
-    if (!m) throw new Error(`LAMINA_BENCH_FIELD_SEEDS: expected seeds like 1-24 or 2,4,6, found "${part}"`);
-    const a = Number(m[1]), b = m[2] === undefined ? a : Number(m[2]);
-    for (let s = a; s <= b; s++) out.push(s);
+    const m = /^(\d+)(?:-(\d+)(?:\/(\d+))?)?$/.exec(part);
+    if (!m) throw new Error(`LAMINA_BENCH_FIELD_SEEDS: expected seeds like 1-24, 1-47/2 (every second) or 2,4,6, found "${part}"`);
+    const a = Number(m[1]), b = m[2] === undefined ? a : Number(m[2]), step = Math.max(1, Number(m[3] ?? 1));
+    for (let s = a; s <= b; s += step) out.push(s);
   }
   return out;
 }

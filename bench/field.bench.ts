@@ -3,7 +3,8 @@
 // Seeds split in two halves: TUNE (odd seeds) and HELD-OUT (even seeds); the held-out half is for
 // reporting only. Pooled rows sum counts, areas and lengths. The sample sites' rows are printed too.
 // Usage: pnpm bench field
-//   LAMINA_BENCH_FIELD_SEEDS=1-24      seeds (ranges and comma lists; default 1-24)
+//   LAMINA_BENCH_FIELD_SEEDS=1-24      seeds (ranges, ranges with a step and comma lists; default 1-24; tune
+//                                      on 1-47/2, the odd seeds, DEVELOPERS.md)
 //   LAMINA_BENCH_FIELD_SAMPLES=0       leave out the sample sites (default: yard, carpark-ft, warehouse)
 //   LAMINA_BENCH_FIELD_KEEP=1          keep the site and output folders (printed at the end)
 //   LAMINA_BENCH_FIELD_THREADS=2       worker threads of lamina process

@@ -26,5 +26,6 @@ describe('pnpm bench field (smoke)', () => {
     if (p.targets) expect(p.precisionByCount).toBeCloseTo((rows[0]!.buriedTargets + rows[1]!.buriedTargets) / p.targets, 12);
     expect(p.utilityRecall).toBeCloseTo((rows[0]!.utilityCoveredM + rows[1]!.utilityCoveredM) / (rows[0]!.utilitySurveyedM + rows[1]!.utilitySurveyedM), 12);
     expect(parseSeeds('1-3,8')).toEqual([1, 2, 3, 8]);
+    expect(parseSeeds('1-9/2,12')).toEqual([1, 3, 5, 7, 9, 12]);
   });
 });
