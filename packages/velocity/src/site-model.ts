@@ -89,9 +89,17 @@ export function objectGroups(
   return { group, sizes };
 }
 
-/** A fit counts in the site model when it is subsurface, not flagged, with a finite uncertainty. */
+/**
+ * A fit counts in the site model when it is subsurface, not flagged, with a finite uncertainty, and the
+ * velocity it gives the model (`siteVelocityOf`) is a soil's: a radius-free velocity outside the soils'
+ * range (`classifyVelocity`: K above 40 or below 2) is the v-R trade-off run into a corner (a velocity
+ * no soil has with a "radius" to match), and the point fit beside it is biased fast by the radius it
+ * could not resolve, so the fit does not read the soil.
+ */
 export function usableForSite(f: HyperbolaFit): boolean {
-  return f.origin === 'subsurface' && (f.flags?.length ?? 0) === 0 && Number.isFinite(f.uncertaintyMPerNs) && f.velocityMPerNs > 0;
+  if (!(f.origin === 'subsurface' && (f.flags?.length ?? 0) === 0 && Number.isFinite(f.uncertaintyMPerNs) && f.velocityMPerNs > 0)) return false;
+  const c = classifyVelocity(siteVelocityOf(f));
+  return c.origin === 'subsurface' && c.flags.length === 0;
 }
 
 /** Weighted median and spread (1.4826 x weighted median absolute deviation, the normal-consistent scale). */

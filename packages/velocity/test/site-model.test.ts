@@ -37,7 +37,11 @@ describe('siteVelocityModel', () => {
     const fits = Array.from({ length: 15 }, (_, i) => fit(0.1 + 0.002 * g(), 0.4 + 0.1 * i));
     fits.push(fit(0.3, 1, 0.001, { origin: 'above-ground' }));
     fits.push(fit(0.35, 1, 0.001, { origin: 'above-ground', flags: ['v > c'] }));
-    fits.push(fit(0.02, 1, 0.0001)); // one wild fit, very confident: the median resists it
+    fits.push(fit(0.05, 1, 0.0001)); // one wild fit (K 36), very confident: the median resists it
+    // and one no soil has (K 225, beyond the wettest soils' K 40): not counted at all
+    fits.push(fit(0.02, 1, 0.0001));
+    // nor one whose unresolved radius left a radius-free velocity no soil has (K 1400)
+    fits.push(fit(0.1, 1, 0.002, { radiusResolved: false, radiusFreeVelocityMPerNs: 0.008 }));
     const { site, model } = siteVelocityModel(fits);
     expect(site.fitCount).toBe(16);
     expect(Math.abs(site.velocityMPerNs - 0.1)).toBeLessThan(0.003);
