@@ -73,6 +73,13 @@ export interface FitOptions {
    * errors); otherwise the point fit is reported. @default 2
    */
   radiusSignificance?: number;
+  /**
+   * Largest radius the four-parameter fit may take, m: half the largest utility diameter (1.5 m, common
+   * practice, no source; `maxUtilityDiameterM` of @lamina/anomalies). Without a bound, R and v slide
+   * along their trade-off on short or noisy flanks to metre-wide "radii" and velocities no soil has.
+   * @default 0.75
+   */
+  maxRadiusM?: number;
 }
 
 /** Two-way time of a target whose top is `zM` below the line, radius `radiusM` (0: a point), bistatic, ns. */
@@ -221,12 +228,13 @@ export function fitHyperbola(offsetM: ArrayLike<number>, timeNs: ArrayLike<numbe
   // Radius: LM from the point solution with two starting radii (the cost surface in R is flat near 0
   // and R trades off against v along a narrow valley, so one start may stop on the wrong side).
   let best: { p: Params; w: Float64Array; cost: number } | null = null;
+  const rMax = options.maxRadiusM ?? 0.75;
   for (const r0 of [0.1, 0.5]) {
     const q = Float64Array.from(point.p);
     // Same apex time, a radius a share of the point fit's depth.
-    q[3] = r0 * Math.max(axisDepth(q, s), 0.1);
+    q[3] = Math.min(r0 * Math.max(axisDepth(q, s), 0.1), rMax);
     // The point fit's weights already set gross outliers aside: a few reweighting rounds suffice.
-    const res = irls(x, t, Float64Array.from(point.w), prior, q, s, 4, robust, minScale, 5);
+    const res = irls(x, t, Float64Array.from(point.w), prior, q, s, 4, robust, minScale, 5, rMax);
     if (!res) continue;
     const cost = weightedCost(x, t, res.w, res.p, s) / Math.max(sumOf(res.w), 1e-300);
     if (!best || cost < best.cost) best = { ...res, cost };
@@ -302,9 +310,10 @@ function irls(
   robust: 'tukey' | 'huber' | 'none',
   minScale: number,
   rounds = 30,
+  rMax = Infinity,
 ): { p: Params; w: Float64Array } | null {
   const r = new Float64Array(x.length);
-  let p = levenbergMarquardt(x, t, w, p0, s, np);
+  let p = levenbergMarquardt(x, t, w, p0, s, np, rMax);
   if (!p) return null;
   if (robust !== 'none') {
     const prev = new Float64Array(w.length);
@@ -312,7 +321,7 @@ function irls(
       residuals(x, t, p, s, r);
       prev.set(w);
       updateWeights(r, prior, w, robust, minScale);
-      const solved = levenbergMarquardt(x, t, w, p, s, np);
+      const solved = levenbergMarquardt(x, t, w, p, s, np, rMax);
       if (!solved) return null;
       const moved = Math.abs(solved[2]! - p[2]!) / p[2]! + Math.abs(solved[0]! - p[0]!) / Math.max(1, Math.abs(p[0]!)) + Math.abs(solved[3]! - p[3]!);
       p = solved;
@@ -421,8 +430,8 @@ function weightedCost(x: Float64Array, t: Float64Array, w: Float64Array, p: Para
   return c;
 }
 
-/** LM on the first `np` parameters (R stays as given when np = 3); R >= 0 by an active set, a top depth >= 0 by rejecting steps. */
-function levenbergMarquardt(x: Float64Array, t: Float64Array, w: Float64Array, p0: Params, s: number, np: 3 | 4): Params | null {
+/** LM on the first `np` parameters (R stays as given when np = 3); 0 <= R <= rMax by an active set, a top depth >= 0 by rejecting steps. */
+function levenbergMarquardt(x: Float64Array, t: Float64Array, w: Float64Array, p0: Params, s: number, np: 3 | 4, rMax = Infinity): Params | null {
   let active = 0;
   for (let i = 0; i < w.length; i++) if (w[i]! > 0) active++;
   if (active < np) return null;
@@ -438,9 +447,9 @@ function levenbergMarquardt(x: Float64Array, t: Float64Array, w: Float64Array, p
       M.set(A);
       for (let a = 0; a < np; a++) M[a * (np + 1)] = A[a * (np + 1)]! * (1 + lambda) + 1e-15;
       let d = solveN(M, g, np);
-      // Active set: R at its bound 0 and pushed below it stays at 0; the others take the step of the
+      // Active set: R at a bound (0 or rMax) and pushed beyond it stays there; the others take the step of the
       // reduced system (projecting the full step instead stalls LM in tiny steps along the bound).
-      if (d && np === 4 && p[3]! === 0 && d[3]! < 0) {
+      if (d && np === 4 && ((p[3]! === 0 && d[3]! < 0) || (p[3]! === rMax && d[3]! > 0))) {
         const M3 = Float64Array.of(M[0]!, M[1]!, M[2]!, M[4]!, M[5]!, M[6]!, M[8]!, M[9]!, M[10]!);
         const d3 = solveN(M3, g.subarray(0, 3), 3);
         d = d3 ? Float64Array.of(d3[0]!, d3[1]!, d3[2]!, 0) : null;
@@ -453,7 +462,7 @@ function levenbergMarquardt(x: Float64Array, t: Float64Array, w: Float64Array, p
       q[0] = p[0]! + d[0]!;
       q[1] = p[1]! + d[1]!;
       q[2] = p[2]! + d[2]!;
-      if (np === 4) q[3] = Math.max(0, p[3]! + d[3]!);
+      if (np === 4) q[3] = Math.min(rMax, Math.max(0, p[3]! + d[3]!));
       if (!(q[2]! > 0) || !Number.isFinite(q[0]!) || Number.isNaN(axisDepth(q, s))) {
         lambda *= 10;
         continue;

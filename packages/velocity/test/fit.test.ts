@@ -155,6 +155,24 @@ describe('fitHyperbola', () => {
     }
   });
 
+  it('keeps the radius within its bound (0.75 m by default): a 1.2 m culvert fits at the bound, slower than its point fit', () => {
+    // K 16 soil, s 0.3 m, axis at 2 m, picks within +-60 degrees every 0.05 m, 0.1 ns noise
+    const v = 0.075, s = 0.3, R = 1.2, zc = 2;
+    const half = (zc - R) * Math.tan(Math.PI / 3);
+    const g = gauss(rng(3));
+    const off: number[] = [];
+    const t: number[] = [];
+    for (let x = -half; x <= half + 1e-9; x += 0.05) {
+      off.push(x);
+      t.push(cylinderTime(x, zc, R, v, s) + 0.1 * g());
+    }
+    const bounded = fitHyperbola(off, t, { separationM: s })!;
+    expect(bounded.radiusM).toBeLessThanOrEqual(0.75 + 1e-12);
+    expect(bounded.velocityRadiusFree).toBeLessThanOrEqual(fitHyperbola(off, t, { separationM: s, radius: 'point' })!.velocityMPerNs);
+    const free = fitHyperbola(off, t, { separationM: s, maxRadiusM: 5 })!;
+    expect(Math.max(free.radiusM, 0)).toBeGreaterThan(0.75);
+  });
+
   it("states an unresolved pipe's velocity with the R-v trade-off, so the truth lies within 2 sigma", () => {
     // A 0.1 m pipe, axis 1 m, K 16 (v 0.075 m/ns), s 0.3 m, picks within +-45 degrees every 0.05 m with
     // 0.1 ns noise: the flanks rarely resolve the radius, and the point fit reads v fast by about
