@@ -418,28 +418,18 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
       const z = apexDistance(guess.t0Ns, guess.velocityMPerNs, sep);
       picks = pick(guess.x0M, z, guess.velocityMPerNs, guess.radiusM, apertureOf(z), pass === 0 ? periodNs / 2 : periodNs / 3);
       if (picks.off.length < minPicks) return null;
+      // Early rejection: a candidate whose picks leave a flank empty never passes the final test.
+      const [l, r] = flankCounts(picks.off, guess.x0M, z);
+      if (l < minSide || r < minSide) return null;
       if (pass === 0) {
         // The linearised fit of the picks (closed form) replaces the scan's start when it explains the
-        // picks better (median absolute residual): LM then only polishes. Before the flank test: a start
-        // too fast (a long wavelet keeps a flat curve inside the envelope near the apex) finds its picks
-        // near the apex only, and the true curve through them may reach the flanks the start missed.
+        // picks better (median absolute residual): LM then only polishes.
         const lin = linearisedFit(picks.off, picks.tim);
         if (lin && lin.velocityMPerNs > vMin && lin.velocityMPerNs < vMax && Math.abs(lin.x0M - guess.x0M) < apertureOf(z)) {
           const zl = apexDistance(lin.t0Ns, lin.velocityMPerNs, sep);
-          if (medianMisfit(picks, lin.x0M, zl, lin.velocityMPerNs) < medianMisfit(picks, guess.x0M, z, guess.velocityMPerNs)) {
-            guess = { ...lin, radiusM: 0 };
-            const [l0, r0] = flankCounts(picks.off, guess.x0M, zl);
-            if (l0 < minSide || r0 < minSide) {
-              picks = pick(guess.x0M, zl, guess.velocityMPerNs, 0, apertureOf(zl), periodNs / 2);
-              if (picks.off.length < minPicks) return null;
-            }
-          }
+          if (medianMisfit(picks, lin.x0M, zl, lin.velocityMPerNs) < medianMisfit(picks, guess.x0M, z, guess.velocityMPerNs)) guess = { ...lin, radiusM: 0 };
         }
       }
-      // Early rejection: a candidate whose picks leave a flank empty never passes the final test.
-      const zNow = apexDistance(guess.t0Ns, guess.velocityMPerNs, sep);
-      const [l, r] = flankCounts(picks.off, guess.x0M, zNow);
-      if (l < minSide || r < minSide) return null;
       // Points first (cheap, and the start for R); the radius only in the last round.
       const withRadius = pass === 3 && radiusMode === 'fit';
       // A pick's time error scales as 1 / SNR (the normalised envelope): weights SNR^2.
