@@ -172,6 +172,16 @@ describe('point scatterers', () => {
     expect(c[7]!.reason).not.toMatch(/point-sized/);
   });
 
+  it('two slices each one pulse thick are one pulse plus one slice, whatever the rounding of the bounds', () => {
+    // pulse v / 2f = 0.125 m at 0.1 m/ns and 400 MHz, slices 0.125 m: a velocity 1e-7 lower makes the pulse
+    // 1.25e-8 m shorter than the slice, which a 1e-9 m allowance turned into "thicker than one pulse"
+    const twoSlices = anomaly(cellsOf((x, y) => Math.abs(x - 12) < 0.45 && Math.abs(y - 3) < 0.45), 8, 9);
+    expect(isPointSized(twoSlices, ctx)).toBe(true);
+    expect(isPointSized(twoSlices, { ...ctx, velocityMPerNs: 0.1 - 1e-7 })).toBe(true);
+    // a third slice is not rounding
+    expect(isPointSized(anomaly(cellsOf((x, y) => Math.abs(x - 16) < 0.45 && Math.abs(y - 3) < 0.45), 8, 10), ctx)).toBe(false);
+  });
+
   it('with fewer than five point-sized anomalies there is no population to be weak against: they stay structures', () => {
     const few = [40, 50, 60].map((p, i) => blob(2 + 2.5 * i, 6, p));
     expect(classifyAnomalies(few.map((a) => ({ anomaly: a, aboveGround: false })), ctx).map((x) => x.class)).toEqual(['structure', 'structure', 'structure']);
