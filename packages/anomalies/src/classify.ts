@@ -1,3 +1,4 @@
+import { MAX_UTILITY_DIAMETER_M } from '@lamina/constants';
 import { quantile } from '@lamina/stats';
 import type { Anomaly3D, Shape } from './types';
 
@@ -24,7 +25,7 @@ export interface ClassifyContext {
 }
 
 export interface ClassifyOptions {
-  /** Largest utility diameter, m (wider linear objects are culverts or structures). @default 1.5 (common practice, no source) */
+  /** Largest utility diameter, m (wider linear objects are culverts or structures). @default `MAX_UTILITY_DIAMETER_M` of @lamina/constants, 1.5 (common practice, no source) */
   maxUtilityDiameterM?: number;
   /** Largest compact structure (footing, tank, vault, grave), m. @default 6 (common practice, no source) */
   maxStructureM?: number;
@@ -80,7 +81,7 @@ export function oneLineWidthM(lineSpacingM: number, cellM: number): number {
 
 /** Widest a utility at depth z may look, m: its diameter plus the Fresnel zone, plus one line spacing of across-line sampling. */
 export function maxUtilityWidthM(depthM: number, ctx: ClassifyContext, options: ClassifyOptions = {}): number {
-  return (options.maxUtilityDiameterM ?? 1.5) + 2 * fresnelRadiusM(depthM, ctx.velocityMPerNs, ctx.frequencyMHz) + ctx.lineSpacingM;
+  return (options.maxUtilityDiameterM ?? MAX_UTILITY_DIAMETER_M) + 2 * fresnelRadiusM(depthM, ctx.velocityMPerNs, ctx.frequencyMHz) + ctx.lineSpacingM;
 }
 
 /** Largest a compact structure at depth z may look, m: its size plus the Fresnel zone and one line spacing. */
@@ -109,7 +110,7 @@ export function isExtensive(shape: Shape, depthM: number, ctx: ClassifyContext, 
  */
 export function sameSliceWidthM(topM: number, thicknessM: number, ctx: ClassifyContext, options: ClassifyOptions = {}): number {
   // a point's footprint (`pointFootprintM`) at the depth of the cylinder's axis
-  return pointFootprintM(Math.max(topM, 0) + (options.maxUtilityDiameterM ?? 1.5) / 2, thicknessM, ctx);
+  return pointFootprintM(Math.max(topM, 0) + (options.maxUtilityDiameterM ?? MAX_UTILITY_DIAMETER_M) / 2, thicknessM, ctx);
 }
 
 /**

@@ -1,2 +1,2 @@
-export { C_M_PER_NS } from './physics';
+export { C_M_PER_NS, MAX_UTILITY_DIAMETER_M } from './physics';
 export { CAUTIONS, CAUTION } from './cautions';

@@ -5,3 +5,10 @@
  * checks, the simulator) need it as much as @lamina/velocity, which re-exports it.
  */
 export const C_M_PER_NS = 0.2998;
+
+/**
+ * Largest diameter of a utility, m (common practice, no source): wider linear objects are culverts or
+ * structures. The classes' width bound (@lamina/anomalies `maxUtilityDiameterM`) and the radius bound of
+ * the hyperbola fit (@lamina/velocity `maxRadiusM`, half of it) both start from it.
+ */
+export const MAX_UTILITY_DIAMETER_M = 1.5;

@@ -1,3 +1,4 @@
+import { MAX_UTILITY_DIAMETER_M } from '@lamina/constants';
 import { medianHigh, medianLow } from '@lamina/stats';
 /**
  * Least-squares fit of a diffraction hyperbola to picks, for a common-offset antenna pair `s` apart
@@ -74,10 +75,10 @@ export interface FitOptions {
    */
   radiusSignificance?: number;
   /**
-   * Largest radius the four-parameter fit may take, m: half the largest utility diameter (1.5 m, common
-   * practice, no source; `maxUtilityDiameterM` of @lamina/anomalies). Without a bound, R and v slide
-   * along their trade-off on short or noisy flanks to metre-wide "radii" and velocities no soil has.
-   * @default 0.75
+   * Largest radius the four-parameter fit may take, m: half the largest utility diameter
+   * (`MAX_UTILITY_DIAMETER_M` of @lamina/constants, 1.5 m, common practice, no source). Without a bound,
+   * R and v slide along their trade-off on short or noisy flanks to metre-wide "radii" and velocities no
+   * soil has. @default 0.75
    */
   maxRadiusM?: number;
 }
@@ -228,7 +229,7 @@ export function fitHyperbola(offsetM: ArrayLike<number>, timeNs: ArrayLike<numbe
   // Radius: LM from the point solution with two starting radii (the cost surface in R is flat near 0
   // and R trades off against v along a narrow valley, so one start may stop on the wrong side).
   let best: { p: Params; w: Float64Array; cost: number } | null = null;
-  const rMax = options.maxRadiusM ?? 0.75;
+  const rMax = options.maxRadiusM ?? MAX_UTILITY_DIAMETER_M / 2;
   for (const r0 of [0.1, 0.5]) {
     const q = Float64Array.from(point.p);
     // Same apex time, a radius a share of the point fit's depth.
