@@ -79,6 +79,15 @@ export function oneLineWidthM(lineSpacingM: number, cellM: number): number {
   return lineSpacingM + cellM;
 }
 
+/**
+ * Widest a strip drawn out along a single line may look across it, m: the gridding's search radius
+ * across the lines is one line spacing on either side, so two spacings and a cell (`isOneLineStrip`,
+ * and the pieces drawn along a line that `joinAlignedPieces` takes).
+ */
+export function oneLineFootprintM(lineSpacingM: number, cellM: number): number {
+  return 2 * lineSpacingM + cellM;
+}
+
 /** Widest a utility at depth z may look, m: its diameter plus the Fresnel zone, plus one line spacing of across-line sampling. */
 export function maxUtilityWidthM(depthM: number, ctx: ClassifyContext, options: ClassifyOptions = {}): number {
   return (options.maxUtilityDiameterM ?? MAX_UTILITY_DIAMETER_M) + 2 * fresnelRadiusM(depthM, ctx.velocityMPerNs, ctx.frequencyMHz) + ctx.lineSpacingM;
@@ -208,7 +217,7 @@ export function isOneLineStrip(a: Anomaly3D, ctx: ClassifyContext, options: Clas
   if (axisAngleDeg(a.shape.directionDeg, azimuths) > (options.alongLineDeg ?? 15)) return false;
   const rF = fresnelRadiusM(0.5 * (a.depthTopM + a.depthBottomM), ctx.velocityMPerNs, ctx.frequencyMHz);
   if (a.shape.widthM <= ctx.lineSpacingM && 2 * rF - ctx.lineSpacingM > a.shape.widthM) return true;
-  if (a.shape.widthM > 2 * ctx.lineSpacingM + ctx.cellM) return false;
+  if (a.shape.widthM > oneLineFootprintM(ctx.lineSpacingM, ctx.cellM)) return false;
   return alongLineReachM(a, ctx) > ctx.lineSpacingM;
 }
 
@@ -276,8 +285,9 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
   if (fence !== undefined) {
     for (const i of points) {
       const a = items[i]!.anomaly;
-      const foot = round(pointFootprintM(Math.max(a.depthTopM, ctx.nearSurfaceM), thickestSliceM(a), ctx));
+      // an outlier keeps its class: a utility stays one, a compact one is a structure (said why)
       if (a.strengthDb > fence && own[i]!.class === 'utility') continue;
+      const foot = round(pointFootprintM(Math.max(a.depthTopM, ctx.nearSurfaceM), thickestSliceM(a), ctx));
       own[i] = a.strengthDb > fence
         ? { class: 'structure', reason: `point-sized (within ${foot} m, one pulse thick) but stronger than the site's ${strengths.length} point-sized anomalies (above ${round(fence)} dB, Tukey's upper fence): a small object` }
         : { class: 'clutter', reason: `point-sized: within a point scatterer's response at its depth (${foot} m) and one pulse thick, no stronger than the site's other point-sized anomalies (fence ${round(fence)} dB): a stone, a root or an object too small to tell` };

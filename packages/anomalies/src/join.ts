@@ -1,5 +1,5 @@
 import type { SliceGrid } from '@lamina/slices';
-import { axisAngleDeg, oneLineWidthM } from './classify';
+import { axisAngleDeg, oneLineFootprintM, oneLineWidthM } from './classify';
 import { cellShape, type ShapeOptions } from './shape';
 import type { Anomaly3D } from './types';
 
@@ -55,7 +55,7 @@ export function joinAlignedPieces(
   const cellM = grid.cellSize * mpu;
   const azimuths = options.lineAzimuthsDeg ?? [];
   const drawnAlongLine = (a: Anomaly3D) =>
-    azimuths.length > 0 && a.shape.widthM <= 2 * lineSpacingM + cellM && a.shape.lengthM > a.shape.widthM && axisAngleDeg(a.shape.directionDeg, azimuths) <= (options.alongLineDeg ?? 15);
+    azimuths.length > 0 && a.shape.widthM <= oneLineFootprintM(lineSpacingM, cellM) && a.shape.lengthM > a.shape.widthM && axisAngleDeg(a.shape.directionDeg, azimuths) <= (options.alongLineDeg ?? 15);
   const oneLine = oneLineWidthM(lineSpacingM, cellM);
   const drawn = pieces.map((a) => a.shape.kind !== 'linear' && a.shape.widthM > oneLine && drawnAlongLine(a));
   const usual = pieces.map((a, i) => a.shape.kind === 'linear' || a.shape.widthM <= oneLine || drawn[i]!);
