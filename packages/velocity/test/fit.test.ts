@@ -31,6 +31,17 @@ function cylinderTime(x: number, d: number, R: number, v: number, s: number): nu
   return path((a + b) / 2) / v;
 }
 
+/** Cylinder picks every 0.05 m over +-half along the line, each with `noiseNs` of Gaussian pick noise from `g`. */
+function noisyCylinderPicks(half: number, d: number, R: number, v: number, s: number, g: () => number, noiseNs = 0.1): { off: number[]; t: number[] } {
+  const off: number[] = [];
+  const t: number[] = [];
+  for (let x = -half; x <= half + 1e-9; x += 0.05) {
+    off.push(x);
+    t.push(cylinderTime(x, d, R, v, s) + noiseNs * g());
+  }
+  return { off, t };
+}
+
 describe('fitHyperbola', () => {
   it('recovers x0, z, v exactly from noise-free bistatic picks, including air velocity and off-line targets', () => {
     for (const s of [0, 0.15, 0.5]) {
@@ -129,13 +140,7 @@ describe('fitHyperbola', () => {
       const dv: number[] = [];
       const dr: number[] = [];
       for (let seed = 1; seed <= 40; seed++) {
-        const g = gauss(rng(seed));
-        const off: number[] = [];
-        const t: number[] = [];
-        for (let x = -half; x <= half + 1e-9; x += 0.05) {
-          off.push(x);
-          t.push(cylinderTime(x, zc, Math.max(R, 1e-9), v, s) + 0.1 * g());
-        }
+        const { off, t } = noisyCylinderPicks(half, zc, Math.max(R, 1e-9), v, s, gauss(rng(seed)));
         const f = fitHyperbola(off, t, { separationM: s })!;
         dv.push(Math.abs(f.velocityMPerNs / v - 1));
         dr.push(Math.abs(f.radiusM - R));
@@ -159,13 +164,7 @@ describe('fitHyperbola', () => {
     // K 16 soil, s 0.3 m, axis at 2 m, picks within +-60 degrees every 0.05 m, 0.1 ns noise
     const v = 0.075, s = 0.3, R = 1.2, zc = 2;
     const half = (zc - R) * Math.tan(Math.PI / 3);
-    const g = gauss(rng(3));
-    const off: number[] = [];
-    const t: number[] = [];
-    for (let x = -half; x <= half + 1e-9; x += 0.05) {
-      off.push(x);
-      t.push(cylinderTime(x, zc, R, v, s) + 0.1 * g());
-    }
+    const { off, t } = noisyCylinderPicks(half, zc, R, v, s, gauss(rng(3)));
     const bounded = fitHyperbola(off, t, { separationM: s })!;
     expect(bounded.radiusM).toBeLessThanOrEqual(0.75 + 1e-12);
     expect(bounded.velocityRadiusFree).toBeLessThanOrEqual(fitHyperbola(off, t, { separationM: s, radius: 'point' })!.velocityMPerNs);
@@ -189,13 +188,7 @@ describe('fitHyperbola', () => {
     let covered = 0;
     let pointCovered = 0;
     for (let seed = 1; seed <= 60; seed++) {
-      const g = gauss(rng(seed));
-      const off: number[] = [];
-      const t: number[] = [];
-      for (let x = -half; x <= half + 1e-9; x += 0.05) {
-        off.push(x);
-        t.push(cylinderTime(x, zc, R, v, s) + 0.1 * g());
-      }
+      const { off, t } = noisyCylinderPicks(half, zc, R, v, s, gauss(rng(seed)));
       const f = fitHyperbola(off, t, { separationM: s })!;
       if (f.radiusResolved) continue;
       unresolved++;
