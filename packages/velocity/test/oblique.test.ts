@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { buildVelocityReport, C_M_PER_NS, lineDirection, lineHyperbolas, type HyperbolaFit } from '../src';
+import { buildVelocityReport, C_M_PER_NS, correctObliqueCrossings, lineDirection, lineHyperbolas, permittivityFromVelocity, type HyperbolaFit } from '../src';
 import { synthLine } from './synth';
 
 // A pipe crossing parallel lines at angle beta is a hyperbola of apparent depth d / sin(beta) and
@@ -56,5 +56,68 @@ describe('oblique crossings of a linear reflector', () => {
     const again = buildVelocityReport(fits, { separationM: 0.15 });
     expect(again.hyperbolas.filter((f) => f.crossing).length).toBe(5);
     expect(again.site.permittivity).toBeCloseTo(report.site.permittivity, 10);
+  });
+
+  // Fits made by hand (geometry of the pipe above; no radargram): ten lines 0.5 m apart running east.
+  const fit = (line: number, x: number, t0: number, v: number): HyperbolaFit => ({
+    line: `l${line}`,
+    trace: 0,
+    x,
+    y: 0.5 * line,
+    t0Ns: t0,
+    velocityMPerNs: v,
+    permittivity: permittivityFromVelocity(v),
+    depthM: (v * t0) / 2,
+    uncertaintyMPerNs: 0.02 * v,
+    origin: 'subsurface',
+    lineDirection: [1, 0],
+  });
+  const dirs = Object.fromEntries(Array.from({ length: 10 }, (_, j) => [`l${j}`, [1, 0] as [number, number]]));
+  const k = 12;
+  const v = C_M_PER_NS / Math.sqrt(k);
+  it('corrects two pipes that cross each other at 35 degrees to the lines: one linked group, two strikes', () => {
+    // Single linkage (apexes within 2.5 m on other lines, t0 within 15 %, apparent velocity within 20 %)
+    // joins the two pipes where they meet into one group; each is a strike of its own.
+    const beta = (35 * Math.PI) / 180;
+    const d = 0.6;
+    const t0 = (2 * d) / v;
+    // a deterministic jitter of the apexes (a few centimetres, as picks place them)
+    const jitter = (j: number) => 0.04 * Math.sin(7.1 * j);
+    const a = Array.from({ length: 10 }, (_, j) => fit(j, 5 + (0.5 * j) / Math.tan(beta) + jitter(j), t0, v / Math.sin(beta)));
+    const b = Array.from({ length: 10 }, (_, j) => fit(j, 5 + (0.5 * (9 - j)) / Math.tan(beta) + jitter(j + 3), t0 * 1.03, v / Math.sin(beta)));
+    const out = correctObliqueCrossings([...a, ...b], dirs);
+    for (const f of out) {
+      expect(f.crossing).toBeDefined();
+      expect(Math.abs(f.crossing!.angleDeg - 35)).toBeLessThan(2);
+      expect(Math.abs(f.permittivity / k - 1)).toBeLessThan(0.05);
+    }
+    expect(new Set(out.map((f) => f.strike)).size).toBe(2);
+  });
+  it('leaves point fits linked to a pipe as they are, also three that happen to line up at other velocities', () => {
+    const beta = (35 * Math.PI) / 180;
+    const d = 0.6;
+    const t0 = (2 * d) / v;
+    const jitter = (j: number) => 0.04 * Math.sin(7.1 * j);
+    const pipe = Array.from({ length: 8 }, (_, j) => fit(j + 1, 5 + (0.5 * (j + 1)) / Math.tan(beta) + jitter(j), t0, v / Math.sin(beta)));
+    // point fits 1-2 m along the lines off the pipe, velocities stepping by 15 % from v to v / sin(beta)
+    // (stones, fits biased by a radius), so that single linkage chains them to the pipe; those on lines
+    // 4, 6 and 8 lie within 0.5 m of one straight line but read 1, 1.32 and 1.32 v
+    const steps = [1, 1.15, 1.32, 1.52, 1.74, 1.52, 1.32, 1.15, 1];
+    const offsets = [-1.3, 1.0, -1.8, 1.5, -1.1, 2.0, -1.6, 1.2, -2.1];
+    const points = steps.map((f, m) => fit((m * 3) % 10, 5 + (0.5 * ((m * 3) % 10)) / Math.tan(beta) + offsets[m]!, t0 * (1 + 0.02 * (m % 5)), v * f));
+    const out = correctObliqueCrossings([...pipe, ...points], dirs);
+    for (const f of out.slice(0, 8)) expect(Math.abs(f.permittivity / k - 1)).toBeLessThan(0.05);
+    for (const f of out.slice(8)) expect(f.crossing).toBeUndefined();
+  });
+  it('leaves a compact object seen on three lines as it is: any strike fits three apexes 0.3 m apart', () => {
+    // apexes of one small object on three lines (lines 0.5 m apart, so 1 m across), scattered 0.3 m along
+    // the lines by noise; both directions through them are poorly known, so neither corrects them
+    const t0 = 12;
+    const pts = [fit(3, 6.0, t0, v), fit(4, 6.3, t0, v), fit(5, 5.95, t0, v)];
+    const out = correctObliqueCrossings(pts, dirs);
+    for (const f of out) {
+      expect(f.crossing).toBeUndefined();
+      expect(f.velocityMPerNs).toBe(v);
+    }
   });
 });
