@@ -1,6 +1,8 @@
 // Why targets match nothing: for each kept scene folder of `pnpm bench field` (LAMINA_BENCH_FIELD_KEEP=1),
 // each target that covers no buried object and lies on no air-wave locus (scoring's `unmatched`) is put
 // in the first cause that fits, from the simulator's truth (never used by the pipeline):
+//   pipe-body     on a pipe within 0.5 m + its radius in plan, its depth range reaching the pipe's body
+//                 [z - R, z + R] but not the axis depth z that the scoring tests (a big pipe's top)
 //   near-surface  its top lies inside the near-surface zone (run.json nearSurfaceM); ns-stone with a stone there
 //   echo          over a buried object in plan, deeper than it (ringing, multiples)
 //   near-object   within 1.5 m + radius of a buried object in plan, at its depth (a piece off the axis)
@@ -145,8 +147,22 @@ for (const scene of scenes) {
     const top = p.depthTopM as number, bottom = p.depthBottomM as number;
     const tol = (z: number) => Math.max(0.25, 0.25 * z);
     let cause = 'other';
+    // on a pipe's body away from its axis depth: within 0.5 m + R of the axis in plan, the depth range
+    // (widened as the scoring widens it) reaching [z - R, z + R] but not z itself (the scoring's
+    // buried-sample rule tests the axis depth only: a big pipe's top reflection, R above it, is unmatched)
+    const flat = (c: any): number[][] => (typeof c[0] === 'number' ? [c] : c.flatMap(flat));
+    const verts: XY[] = [[x, y], ...((anom.members ?? []) as any[]).flatMap((m) => flat(m.outline?.coordinates ?? []).map((c) => from(c[0]!, c[1]!)))];
+    const onPipeBody = t.buried.some((b: any) => {
+      if (b.center) return false;
+      return verts.some(([vx, vy]) => {
+        const s = segDist(vx, vy, b.from, b.to);
+        const z = b.from[2] + s.t * (b.to[2] - b.from[2]);
+        return s.d <= 0.5 + b.radiusM && top - tol(z) <= z + b.radiusM && bottom + tol(z) >= z - b.radiusM;
+      });
+    });
     const stoneNear = t.clutter.some((c: number[]) => Math.hypot(c[0]! - x, c[1]! - y) < 0.5 && c[2]! >= top - tol(c[2]!) && c[2]! <= bottom + tol(c[2]!));
-    if (top < nearSurfaceM) cause = stoneNear ? 'ns-stone' : 'near-surface';
+    if (onPipeBody) cause = 'pipe-body';
+    else if (top < nearSurfaceM) cause = stoneNear ? 'ns-stone' : 'near-surface';
     else {
       for (const b of t.buried) {
         const { d, z } = b.center ? { d: Math.hypot(x - b.center[0], y - b.center[1]), z: b.center[2] } : (() => { const s = segDist(x, y, b.from, b.to); return { d: s.d, z: b.from[2] + s.t * (b.to[2] - b.from[2]) }; })();
