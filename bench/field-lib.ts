@@ -4,7 +4,7 @@
 // pool rows by summing counts, areas and lengths (never by averaging percentages).
 import { spawnSync } from 'node:child_process';
 import { mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { dirname, join, resolve } from 'node:path';
+import { basename, dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { scoreFolder } from '../packages/scoring/src/index';
 import { rng, simulateSite, type Scenario } from '../packages/simulate/src/index';
@@ -62,6 +62,13 @@ export interface FieldRow {
   unsurveyed?: string[];
   /** The scoring's figures of the `--keep-air-events` run, when asked for (`airBefore`). */
   scoredBefore?: Partial<FieldRow>;
+  /** A two-direction survey processed one direction at a time (`directions`): the scoring's figures of each. */
+  byDirection?: { azimuthDeg: number; lines: number; scored: Partial<FieldRow> }[];
+}
+
+/** The rows of a two-direction scene processed one direction at a time (`directions`), named by azimuth. */
+export function directionRows(r: FieldRow): FieldRow[] {
+  return (r.byDirection ?? []).map((d) => ({ ...r, ...d.scored, name: `${r.name} (${d.azimuthDeg} deg only)`, air: emptyAirMeasure(), airBefore: null, byDirection: undefined }));
 }
 
 /** The row of a scene as it was with `--keep-air-events` (null without that run). */
@@ -83,6 +90,41 @@ export interface SceneRunOptions {
    * air-wave loci are still scored. @default 0 (the plan is complete)
    */
   unsurveyedShare?: number;
+  /**
+   * A survey in two directions is also processed one direction at a time (a site folder per direction
+   * holding only its lines), each scored against the same truth: item 3 of issue 12 asks that the two
+   * directions together never score worse than either alone. @default false
+   */
+  directions?: boolean;
+}
+
+/**
+ * The survey directions of a simulated site (axial azimuths of its truth lines, degrees, rounded, lines
+ * within 10 degrees of each other in one), each with the site.json entries of its lines.
+ */
+function lineDirections(siteDir: string): { azimuthDeg: number; entries: unknown[] }[] {
+  const site = JSON.parse(readFileSync(join(siteDir, 'site.json'), 'utf8')) as { lines: { file: string }[] };
+  const truth = JSON.parse(readFileSync(join(siteDir, 'truth.json'), 'utf8')) as { lines: { file: string; start: number[]; end: number[] }[] };
+  const groups: { azimuthDeg: number; entries: unknown[] }[] = [];
+  for (const l of site.lines) {
+    const t = truth.lines.find((q) => q.file === l.file);
+    if (!t) continue;
+    const az = ((((Math.atan2(t.end[0]! - t.start[0]!, t.end[1]! - t.start[1]!) * 180) / Math.PI) % 180) + 180) % 180;
+    const g = groups.find((q) => Math.min(Math.abs(q.azimuthDeg - az), 180 - Math.abs(q.azimuthDeg - az)) < 10);
+    if (g) g.entries.push(l);
+    else groups.push({ azimuthDeg: Math.round(az), entries: [l] });
+  }
+  return groups;
+}
+
+/** A site folder beside `siteDir` with only `entries` as its lines (files and plan read from `siteDir`). */
+function oneDirectionSite(siteDir: string, entries: unknown[], dir: string): void {
+  mkdirSync(dir, { recursive: true });
+  const site = JSON.parse(readFileSync(join(siteDir, 'site.json'), 'utf8')) as Record<string, unknown>;
+  const up = (f: unknown) => (typeof f === 'string' ? join('..', basename(siteDir), f) : f);
+  const lines = (entries as Record<string, unknown>[]).map((l) => ({ ...l, file: up(l.file), ...(l.positions ? { positions: up(l.positions) } : {}) }));
+  writeFileSync(join(dir, 'site.json'), JSON.stringify({ ...site, plan: up(site.plan), lines }) + '\n');
+  writeFileSync(join(dir, 'truth.json'), readFileSync(join(siteDir, 'truth.json')));
 }
 
 /**
@@ -135,6 +177,18 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
       if (q.status !== 0) throw new Error(`lamina process --keep-air-events exited ${q.status}: ${(q.stderr || q.stdout).trim().split('\n').slice(-3).join(' | ')}`);
       row.airBefore = await airMeasure(keptDir, join(siteDir, 'truth.json'));
       row.scoredBefore = scored(keptDir, join(siteDir, 'truth.json'));
+    }
+    const dirs = options.directions ? lineDirections(siteDir) : [];
+    if (dirs.length === 2) {
+      row.byDirection = [];
+      for (const d of dirs) {
+        const oneSite = join(workDir, `${scenario.name}-site-${d.azimuthDeg}`), oneOut = join(workDir, `${scenario.name}-out-${d.azimuthDeg}`);
+        oneDirectionSite(siteDir, d.entries, oneSite);
+        const q = spawnSync(tsx, [join(ROOT, 'apps/cli/src/main.ts'), 'process', oneSite, '--out', oneOut, '--threads', String(options.threads ?? 2)], { encoding: 'utf8', maxBuffer: 64 << 20 });
+        if (q.status !== 0) throw new Error(`lamina process (${d.azimuthDeg} deg only) exited ${q.status}: ${(q.stderr || q.stdout).trim().split('\n').slice(-3).join(' | ')}`);
+        row.byDirection.push({ azimuthDeg: d.azimuthDeg, lines: d.entries.length, scored: scored(oneOut, join(oneSite, 'truth.json')) });
+        if (!options.keep) for (const f of [oneSite, oneOut]) rmSync(f, { recursive: true, force: true });
+      }
     }
   } catch (e) {
     row.error = (e as Error).message;

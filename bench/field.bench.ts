@@ -11,6 +11,9 @@
 //   LAMINA_BENCH_FIELD_AIR_BEFORE=1    also process every scene with --keep-air-events: the air measure
 //                                      before the airEvents step and the pooled rows without it (twice the
 //                                      time; default: after only)
+//   LAMINA_BENCH_FIELD_DIRECTIONS=1    also process each two-direction scene one direction at a time and
+//                                      print those rows beside the scene's (issue 12 item 3: together never
+//                                      worse than either direction alone; three runs of those scenes)
 //   LAMINA_BENCH_FIELD_UNSURVEYED=0.3  leave this share of each random scene's plan features out of its
 //                                      plan.geojson (objects nobody surveyed; still scored; default 0)
 // Writes bench/out/field.json (git-ignored): every row and the pooled rows, with the code's commit.
@@ -20,7 +23,7 @@ import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { parseScenario, randomScenario } from '../packages/simulate/src/index';
-import { beforeRow, classLines, formatTable, parseSeeds, pool, runScene, single, tableLine, type FieldRow } from './field-lib';
+import { beforeRow, classLines, directionRows, formatTable, parseSeeds, pool, runScene, single, tableLine, type FieldRow } from './field-lib';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const root = resolve(here, '..');
@@ -30,6 +33,7 @@ const keep = process.env.LAMINA_BENCH_FIELD_KEEP === '1';
 const threads = Number(process.env.LAMINA_BENCH_FIELD_THREADS ?? 2);
 const airBefore = process.env.LAMINA_BENCH_FIELD_AIR_BEFORE === '1';
 const unsurveyedShare = Number(process.env.LAMINA_BENCH_FIELD_UNSURVEYED ?? 0);
+const directions = process.env.LAMINA_BENCH_FIELD_DIRECTIONS === '1';
 const work = mkdtempSync(join(tmpdir(), 'lamina-bench-field-'));
 
 const commit = (() => {
@@ -44,7 +48,7 @@ console.log(`field: ${seeds.length} random scenes (seeds ${process.env.LAMINA_BE
 const rows: FieldRow[] = [];
 const t0 = performance.now();
 for (const seed of seeds) {
-  const row = await runScene(randomScenario(seed), work, seed % 2 === 1 ? 'tune' : 'held-out', seed, { threads, keep, airBefore, unsurveyedShare });
+  const row = await runScene(randomScenario(seed), work, seed % 2 === 1 ? 'tune' : 'held-out', seed, { threads, keep, airBefore, unsurveyedShare, directions });
   rows.push(row);
   console.log(`  ${row.name}: ${row.error ? `FAILED ${row.error}` : `${row.targets} targets, ${row.buriedTargets} on buried objects`} (${row.simulateS.toFixed(1)} + ${row.processS.toFixed(1)} s)${row.unsurveyed?.length ? `; left out of the plan: ${row.unsurveyed.join(', ')}` : ''}`);
 }
@@ -72,6 +76,23 @@ const table = [
   ...rows.filter((r) => r.half === 'sample').map((r) => tableLine(single(r), r)),
 ];
 console.log('\n' + formatTable(table));
+// two-direction scenes, both directions together and each alone (LAMINA_BENCH_FIELD_DIRECTIONS=1)
+const crossed = rows.filter((r) => r.byDirection?.length);
+if (crossed.length > 0) {
+  const byHalf = (half: FieldRow['half'], name: string) => {
+    const both = crossed.filter((r) => r.half === half);
+    if (both.length === 0) return [];
+    const alone = (k: number) => both.map((r) => directionRows(r)[k]!).filter(Boolean);
+    return [tableLine(pool(`${name}: both directions`, both)), tableLine(pool(`${name}: first direction only`, alone(0))), tableLine(pool(`${name}: second direction only`, alone(1)))];
+  };
+  console.log('\ntwo-direction surveys, together and one direction at a time:\n' + formatTable([
+    ...crossed.flatMap((r) => [tableLine(single(r), r), ...directionRows(r).map((d) => tableLine(single(d), d))]),
+    [],
+    ...byHalf('tune', 'TUNE'),
+    ...byHalf('held-out', 'HELD-OUT'),
+    ...byHalf('sample', 'samples'),
+  ]));
+}
 console.log(`
 Columns (packages/scoring/README.md, "Frozen definitions"): K err% = fitted site K / truth top-layer K - 1
 (pooled: mean |error|); Kobj|err|% = mean |interval K error| at the buried objects' depths (layered truths
