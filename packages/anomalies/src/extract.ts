@@ -5,7 +5,7 @@ import { fitNoiseLaw, noiseMean, noiseScores, normalIsf, type NoiseLaw } from '.
 import { robustScores } from './normalise';
 import { outlineArea, traceOutline } from './outline';
 import { cellShape, centreline, type ShapeOptions } from './shape';
-import { thickParts } from './split';
+import { connectedParts, straightBands, thickParts } from './split';
 import type { Anomaly3D, Member, Shape } from './types';
 
 export interface ExtractOptions extends ShapeOptions, LinkOptions {
@@ -54,6 +54,16 @@ export interface ExtractOptions extends ShapeOptions, LinkOptions {
    * targets in the warehouse (linear parts of wall bands). @default false
    */
   splitLayers?: boolean;
+  /**
+   * Width of a utility's response across its axis in a slice (its top and the component's depth), m
+   * (`maxUtilityWidthM` of the classes; not finite: no bands in that slice). A layer-sized component that
+   * falls apart into two or more straight bands this wide (`straightBands`), each linear and no layer by
+   * itself, with what is left no layer either, is those objects: utilities crossing in one slice make an
+   * X that its second moments size like a layer. @default none: no bands
+   */
+  bandWidthM?: (sliceTopM: number, depthM: number) => number;
+  /** Whether a band of cells in slice k lies along an air-wave locus (`bandWidthM`: such bands are not split off). @default none */
+  bandOnLocus?: (cells: Int32Array, slice: number) => boolean;
   /** Minimum cells of a component. @default 6 */
   minCells?: number;
   /** Minimum area of a component, m^2 (in addition to minCells). @default 0 */
@@ -120,6 +130,12 @@ export function extractAnomalies(stack: SliceStack, options: ExtractOptions = {}
         members.push(m);
         continue;
       }
+      // utilities crossing in the slice: straight bands, each an object, and no layer left over
+      const crossing = options.bandWidthM ? crossingObjects(cells, m.bottomM, options.bandWidthM(slice.topM, m.bottomM) / (grid.cellSize * mpu), min, z, high, (c) => cellShape(c, grid, options), isLayer, grid.width, options.bandOnLocus && ((c) => options.bandOnLocus!(c, si))) : null;
+      if (crossing) {
+        for (const p of crossing) members.push(makeMember(members.length, si, p, stack, z, options, energy));
+        continue;
+      }
       // pipes joined to the block by thin necks come out first; the rest stays one layer member
       // (compact parts stay in it: the ringing below a big pipe falls apart into many, and objects
       // inside a layer are what stands out from it, objectsInLayer)
@@ -145,6 +161,42 @@ export function extractAnomalies(stack: SliceStack, options: ExtractOptions = {}
   anomalies.sort((a, b) => a.depthTopM - b.depthTopM || a.members[0]!.x - b.members[0]!.x);
   anomalies.forEach((a, i) => (a.id = `A${String(i + 1).padStart(4, '0')}`));
   return { members, anomalies, scores, noise, threshold: high, lowThreshold: low };
+}
+
+/**
+ * The objects of a layer-sized component that is utilities crossing (`bandWidthM`): two or more straight
+ * bands (`straightBands`), each with a seed, linear and no layer by itself, none along an air-wave locus
+ * (`onLocus`), and the cells left over no layer either; the bands and the left-over parts of at least
+ * `minCells`, or null.
+ */
+function crossingObjects(
+  cells: Int32Array,
+  depthM: number,
+  bandCells: number,
+  minCells: number,
+  z: Float32Array,
+  high: number,
+  shapeOf: (cells: Int32Array) => Shape,
+  isLayer: (shape: Shape, depthM: number) => boolean,
+  width: number,
+  onLocus?: (cells: Int32Array) => boolean,
+): Int32Array[] | null {
+  if (!(bandCells >= 1) || !Number.isFinite(bandCells)) return null;
+  const found = straightBands(cells, width, bandCells, minCells);
+  // the bands up to the first that is no object; that one and those after it go back to the rest
+  const k = found.bands.findIndex((b) => {
+    if (!hasSeed(b, z, high)) return true;
+    const s = shapeOf(b);
+    return s.kind !== 'linear' || isLayer(s, depthM);
+  });
+  const objects = k < 0 ? found.bands : found.bands.slice(0, k);
+  if (objects.length < 2) return null;
+  // bands along an air-wave locus (the two sides of a row of posts, a wall's band) are no objects to
+  // split off: such a component stays as it was, for the screening
+  if (onLocus && objects.some((b) => onLocus(b))) return null;
+  const rest = k < 0 ? found.rest : Int32Array.from([...found.rest, ...found.bands.slice(k).flatMap((b) => Array.from(b))]).sort();
+  if (rest.length >= minCells && isLayer(shapeOf(rest), depthM)) return null;
+  return [...objects, ...connectedParts(rest, width).filter((p) => p.length >= minCells && hasSeed(p, z, high))];
 }
 
 /** First Fresnel zone radius at depth z for a slice half a wavelength thick (see `splitRadiusM`). */

@@ -95,3 +95,79 @@ export function squaredDistance(mask: Uint8Array, w: number, h: number, target: 
   for (let x = 0; x < w; x++) pass(h, (y) => d[y * w + x]!, (y, val) => (d[y * w + x] = val));
   return d;
 }
+
+/**
+ * Straight bands of a component, strongest first: the band `bandCells` wide (across its axis) that
+ * holds most of the component's cells, found over all directions (a Hough transform of the cell
+ * centres, directions about one cell apart at the component's far end), taken out, and the search
+ * repeated on what is left, up to `maxBands` bands of at least `minCells` cells. Two utilities crossing
+ * in one slice make an X that is as wide as it is long, sized like a layer by its second moments; as
+ * bands it is two objects. Returns the bands (cells ascending) and the cells in none of them.
+ */
+export function straightBands(cells: Int32Array, width: number, bandCells: number, minCells: number, maxBands = 4): { bands: Int32Array[]; rest: Int32Array } {
+  const w = Math.max(1, Math.round(bandCells));
+  let left = Array.from(cells);
+  const bands: Int32Array[] = [];
+  while (bands.length < maxBands && left.length >= minCells) {
+    const col = left.map((k) => k % width);
+    const row = left.map((k) => (k / width) | 0);
+    const span = Math.hypot(Math.max(...col) - Math.min(...col), Math.max(...row) - Math.min(...row));
+    const nA = Math.min(720, Math.max(90, Math.ceil(Math.PI * span)));
+    let best = { count: 0, c: 1, s: 0, lo: 0 };
+    const rho = new Float64Array(left.length);
+    for (let a = 0; a < nA; a++) {
+      const th = (Math.PI * a) / nA;
+      const c = Math.cos(th), s = Math.sin(th);
+      let r0 = Infinity, r1 = -Infinity;
+      for (let i = 0; i < left.length; i++) {
+        const r = col[i]! * c + row[i]! * s;
+        rho[i] = r;
+        if (r < r0) r0 = r;
+        if (r > r1) r1 = r;
+      }
+      // cells per one-cell bin of the offset, then the fullest window of w bins
+      const bins = new Int32Array(Math.floor(r1 - r0) + 2);
+      for (let i = 0; i < left.length; i++) bins[Math.floor(rho[i]! - r0)]!++;
+      let run = 0;
+      for (let b = 0; b < bins.length; b++) {
+        run += bins[b]!;
+        if (b >= w) run -= bins[b - w]!;
+        if (run > best.count) best = { count: run, c, s, lo: r0 + Math.max(0, b - w + 1) };
+      }
+    }
+    if (best.count < minCells) break;
+    const inBand = (k: number) => {
+      const r = (k % width) * best.c + ((k / width) | 0) * best.s;
+      return r >= best.lo && r < best.lo + w + 1e-9;
+    };
+    bands.push(Int32Array.from(left.filter(inBand)).sort());
+    left = left.filter((k) => !inBand(k));
+  }
+  return { bands, rest: Int32Array.from(left).sort() };
+}
+
+/** 8-connected parts of a set of cells (ascending grid indices), largest first. */
+export function connectedParts(cells: Int32Array, width: number): Int32Array[] {
+  const set = new Set<number>(cells);
+  const seen = new Set<number>();
+  const parts: Int32Array[] = [];
+  for (const s of cells) {
+    if (seen.has(s)) continue;
+    const out: number[] = [];
+    const stack = [s];
+    seen.add(s);
+    while (stack.length) {
+      const k = stack.pop()!;
+      out.push(k);
+      const c = k % width;
+      for (let dy = -1; dy <= 1; dy++)
+        for (let dx = -1; dx <= 1; dx++) {
+          if (!(dx || dy) || c + dx < 0 || c + dx >= width) continue;
+          const j = k + dy * width + dx;
+          if (set.has(j) && !seen.has(j)) (seen.add(j), stack.push(j));
+        }
+    }
+    parts.push(Int32Array.from(out).sort());
+  }
+  return parts.sort((p, q) => q.length - p.length);
+}

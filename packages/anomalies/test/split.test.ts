@@ -65,4 +65,29 @@ print(json.dumps(sorted([sorted(np.flatnonzero(lab.ravel()==i+1).tolist()) for i
     const whole = extractAnomalies(stack, { isLayer });
     expect(whole.members.filter((m) => !m.layer && m.shape.lengthM > 20 && m.shape.widthM < 1.2)).toHaveLength(0);
   });
+
+  it('two pipes crossing in a slice (an X sized like a layer) come out as two linear objects (bandWidthM)', () => {
+    // grid 24 x 16 m, 0.1 m cells; two 0.6 m wide pipes crossing at 60 degrees in the middle of the grid
+    const g = grid(240, 160, 0.1);
+    const band = (x: number, y: number, azDeg: number) => {
+      const a = (azDeg * Math.PI) / 180;
+      return Math.abs((x - 1012) * Math.cos(a) - (y - 1992) * Math.sin(a)) < 0.3 && Math.abs(x - 1012) < 10 && Math.abs(y - 1992) < 7;
+    };
+    const stack = synthStack(g, [1], 0.2, (x, y) => (band(x, y, 60) || band(x, y, 120) ? 60 : 0), 4);
+    const isLayer = (s: { lengthM: number; widthM: number }) => s.lengthM > 8 && s.widthM > 3;
+    const whole = extractAnomalies(stack, { isLayer });
+    // without bands the X is one layer member
+    expect(whole.members.filter((m) => !m.layer && m.shape.kind === 'linear' && m.shape.lengthM > 8)).toHaveLength(0);
+    const split = extractAnomalies(stack, { isLayer, bandWidthM: () => 1 });
+    const pipes = split.members.filter((m) => !m.layer && m.shape.kind === 'linear' && m.shape.lengthM > 8);
+    expect(pipes).toHaveLength(2);
+    for (const p of pipes) expect(p.shape.widthM).toBeLessThan(1);
+    const dirs = pipes.map((p) => p.shape.directionDeg).sort((a, b) => a - b);
+    expect(dirs[0]).toBeCloseTo(60, -1);
+    expect(dirs[1]).toBeCloseTo(120, -1);
+    // a broad layer (a filled 16 x 10 m sheet) is no bands: it stays one layer member
+    const sheet = synthStack(g, [1], 0.2, (x, y) => (Math.abs(x - 1012) < 8 && Math.abs(y - 1992) < 5 ? 60 : 0), 5);
+    const layer = extractAnomalies(sheet, { isLayer, bandWidthM: () => 1 });
+    expect(layer.members.filter((m) => m.layer)).toHaveLength(1);
+  });
 });

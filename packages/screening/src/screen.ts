@@ -35,6 +35,7 @@ import { lineToWgs84, outlineToWgs84, pointToWgs84, type FeatureCollection, type
 import { C_M_PER_NS, nearSurfaceDepthM } from '@lamina/velocity';
 import { distanceField, reflectorsOf } from './reflectors';
 import {
+  fitMember,
   beforeBackgroundEvidence,
   bestMoveOut,
   edgeEvidence,
@@ -162,7 +163,6 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     lineAzimuthsDeg: lineAzimuths(lines),
   };
   const isLayer = (shape: Shape, z: number) => isExtensive(shape, z, classCtx, options.classes);
-  const extraction = extractAnomalies(stack, { isLayer, ...options, metresPerUnit: mpu });
   let beforeScores: Float32Array[] | undefined;
   const bb = input.beforeBackgroundStack;
   if (bb && bb.grid.width === grid.width && bb.grid.height === grid.height && bb.slices.length === stack.slices.length) {
@@ -188,6 +188,15 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     const az = (dir * Math.PI) / 180;
     ctx.migration = { k2: (vMig / C_M_PER_NS) ** 2, ux: Math.sin(az), uy: Math.cos(az) };
   }
+  // utilities crossing in a slice: bands as wide as a utility's response (crossingObjects of
+  // @lamina/anomalies); none in the near-surface zone, whose residue runs in bands along the lines
+  const bandWidthM = (top: number, z: number) => (top >= classCtx.nearSurfaceM ? maxUtilityWidthM(z, classCtx, options.classes) : NaN);
+  // a band along some reflector's locus (a side of a post row's field, a wall's band) is not split off
+  const bandOnLocus = (cells: Int32Array, slice: number) => {
+    const m = { cells, slice } as Member;
+    return reflectors.some((r, i) => fields[i] !== null && fitMember(m, r, fields[i]!, ctx).passed);
+  };
+  const extraction = extractAnomalies(stack, { isLayer, bandWidthM, bandOnLocus, ...options, metresPerUnit: mpu });
   // cut buried targets out of the air-wave bands they cross, then link again
   const sep = separateCrossings(extraction.members, stack, extraction.scores, ctx, options.minCells ?? 6, mpu, options.threshold ?? 5);
   const members = sep.members;
