@@ -106,44 +106,71 @@ export function squaredDistance(mask: Uint8Array, w: number, h: number, target: 
  */
 export function straightBands(cells: Int32Array, width: number, bandCells: number, minCells: number, maxBands = 4): { bands: Int32Array[]; rest: Int32Array } {
   const w = Math.max(1, Math.round(bandCells));
-  let left = Array.from(cells);
+  const n0 = cells.length;
+  // the cells still left: their indices, columns and rows in the first `n` places
+  const left = Int32Array.from(cells);
+  const col = new Int32Array(n0);
+  const row = new Int32Array(n0);
+  for (let i = 0; i < n0; i++) {
+    col[i] = left[i]! % width;
+    row[i] = (left[i]! / width) | 0;
+  }
+  const rho = new Float64Array(n0);
+  let n = n0;
   const bands: Int32Array[] = [];
-  while (bands.length < maxBands && left.length >= minCells) {
-    const col = left.map((k) => k % width);
-    const row = left.map((k) => (k / width) | 0);
-    const span = Math.hypot(Math.max(...col) - Math.min(...col), Math.max(...row) - Math.min(...row));
+  while (bands.length < maxBands && n >= minCells) {
+    let c0 = Infinity, c1 = -Infinity, w0 = Infinity, w1 = -Infinity;
+    for (let i = 0; i < n; i++) {
+      if (col[i]! < c0) c0 = col[i]!;
+      if (col[i]! > c1) c1 = col[i]!;
+      if (row[i]! < w0) w0 = row[i]!;
+      if (row[i]! > w1) w1 = row[i]!;
+    }
+    const span = Math.hypot(c1 - c0, w1 - w0);
     const nA = Math.min(720, Math.max(90, Math.ceil(Math.PI * span)));
+    // a projection spans at most the bounding box's diagonal
+    const bins = new Int32Array(Math.floor(span) + 3);
     let best = { count: 0, c: 1, s: 0, lo: 0 };
-    const rho = new Float64Array(left.length);
     for (let a = 0; a < nA; a++) {
       const th = (Math.PI * a) / nA;
       const c = Math.cos(th), s = Math.sin(th);
       let r0 = Infinity, r1 = -Infinity;
-      for (let i = 0; i < left.length; i++) {
+      for (let i = 0; i < n; i++) {
         const r = col[i]! * c + row[i]! * s;
         rho[i] = r;
         if (r < r0) r0 = r;
         if (r > r1) r1 = r;
       }
       // cells per one-cell bin of the offset, then the fullest window of w bins
-      const bins = new Int32Array(Math.floor(r1 - r0) + 2);
-      for (let i = 0; i < left.length; i++) bins[Math.floor(rho[i]! - r0)]!++;
+      const nb = Math.floor(r1 - r0) + 2;
+      bins.fill(0, 0, nb);
+      for (let i = 0; i < n; i++) bins[Math.floor(rho[i]! - r0)]!++;
       let run = 0;
-      for (let b = 0; b < bins.length; b++) {
+      for (let b = 0; b < nb; b++) {
         run += bins[b]!;
         if (b >= w) run -= bins[b - w]!;
         if (run > best.count) best = { count: run, c, s, lo: r0 + Math.max(0, b - w + 1) };
       }
     }
     if (best.count < minCells) break;
-    const inBand = (k: number) => {
-      const r = (k % width) * best.c + ((k / width) | 0) * best.s;
-      return r >= best.lo && r < best.lo + w + 1e-9;
-    };
-    bands.push(Int32Array.from(left.filter(inBand)).sort());
-    left = left.filter((k) => !inBand(k));
+    // the band's cells out, the others moved down (kept in ascending order)
+    const band = new Int32Array(best.count);
+    let nb = 0;
+    let m = 0;
+    for (let i = 0; i < n; i++) {
+      const r = col[i]! * best.c + row[i]! * best.s;
+      if (r >= best.lo && r < best.lo + w + 1e-9) band[nb++] = left[i]!;
+      else {
+        left[m] = left[i]!;
+        col[m] = col[i]!;
+        row[m] = row[i]!;
+        m++;
+      }
+    }
+    bands.push(band.subarray(0, nb).slice());
+    n = m;
   }
-  return { bands, rest: Int32Array.from(left).sort() };
+  return { bands, rest: left.slice(0, n) };
 }
 
 /** 8-connected parts of a set of cells (ascending grid indices), largest first. */
