@@ -85,7 +85,18 @@ export interface FitOptions {
 
 /** Two-way time of a target whose top is `zM` below the line, radius `radiusM` (0: a point), bistatic, ns. */
 export function hyperbolaTime(offsetM: number, x0M: number, zM: number, velocityMPerNs: number, separationM: number, radiusM = 0): number {
+  if (radiusM === 0) return pointPath(offsetM - x0M, zM, separationM / 2) / velocityMPerNs;
   return specularPath(offsetM - x0M, zM + radiusM, radiusM, separationM / 2, null) / velocityMPerNs;
+}
+
+/**
+ * `specularPath` of a point (R = 0, no gradient), the same arithmetic in a function small enough to be
+ * inlined: the detection's velocity scan evaluates it millions of times per line.
+ */
+function pointPath(dx: number, z: number, h: number): number {
+  const ax = -dx + h;
+  const bx = -dx - h;
+  return Math.max(Math.sqrt(ax * ax + z * z), 1e-12) + Math.max(Math.sqrt(bx * bx + z * z), 1e-12);
 }
 
 /**
