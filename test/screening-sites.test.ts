@@ -36,14 +36,12 @@ const LEVELS: Record<SiteName, { utility: number; airRecall: number; targetAir: 
   // The yard's air-wave target share since the point-sized rules took out its clutter (2026-12-04): the
   // same 2 air-wave targets (near the porch column and the oak, neither on its locus slice by slice) of
   // 18 targets instead of 24, 11 %: the share rose because the denominator fell. Guard a little above.
-  // The yard's gas service since utilities crossing in one slice are split into straight bands
-  // (2026-12-04, 36d25c2): 95.6 -> 72.5 %. Its old cover came from a 41.7 m2 target (0-0.56 m) over the
-  // gas service, the power cable and the footings; the bands take that apart, but across slices 2-4 the
-  // pieces of the gas service and of the power cable (diverging from it at about 20 degrees, 0.1-0.3 m
-  // shallower) link into one anomaly whose union, a 20 x 8.6 m V, is classed `layer`. Both
-  // TUNE halves gained 3-4 points of precision and 1.5-4.7 of utility recall with the bands; held-out
-  // unchanged. Guard a little below the measured level.
-  yard: { utility: 0.7, airRecall: 0.9, targetAir: 0.12 },
+  // The yard's utilities since linear members of neighbouring slices count as crossing when their
+  // directions differ by more than their shapes fix them (2026-12-04): every one 100 %, the issue's 80 %
+  // asserted again (the straight-band split had left the gas service at 72.5 %: its pieces and the power
+  // cable's, diverging at about 20 degrees, linked across slices 2-4 into one V classed `layer`). The air
+  // share: the same 2 air-wave targets of 15 targets instead of 18, 13 %; guard a little above.
+  yard: { utility: 0.8, airRecall: 0.9, targetAir: 0.14 },
   'carpark-ft': { utility: 0.58, airRecall: 0.9, targetAir: 0.1 },
   // the warehouse's air-wave levels: the screening flags 80 % of its air-wave anomalies (16 of 20) with
   // 5 of 39 targets on a locus (12.8 %) since the noise-law detection; measured levels asserted

@@ -9,10 +9,19 @@ export interface LinkOptions {
   maxGap?: number;
   /** And shared cells at least this fraction of the larger member (keeps a large blob from absorbing every piece it touches). @default 0.1 */
   minOverlapOfLarger?: number;
-  /** Two linear members whose directions differ by more than this are crossing, degrees. @default 30 */
+  /**
+   * Two linear members whose directions differ by more than this are crossing, degrees; less for long
+   * thin members, whose shapes fix their directions better: the larger of their atan(width / length).
+   * @default 30
+   */
   crossingAngleDeg?: number;
   /** Overlap fraction (of the smaller) crossing linear members need to link. @default 0.5 */
   crossingOverlap?: number;
+}
+
+/** How well a member's shape fixes its direction: atan(width / length), degrees. */
+function spreadDeg(m: Member): number {
+  return (Math.atan2(m.shape.widthM, m.shape.lengthM) * 180) / Math.PI;
 }
 
 function angleDiff(a: number, b: number): number {
@@ -23,7 +32,8 @@ function angleDiff(a: number, b: number): number {
 /**
  * Groups members of neighbouring slices into 3D objects (union-find over links). A link needs
  * overlap in plan (shared cells / smaller member >= minOverlap; >= crossingOverlap for two linear
- * members at more than crossingAngleDeg, so crossing utilities at neighbouring depths stay apart), or, for two compact members,
+ * members further apart in direction than their shapes fix it, at most crossingAngleDeg, so crossing or
+ * diverging utilities at neighbouring depths stay apart), or, for two compact members,
  * centroids within maxCentroidDistance. Returns groups of member ids, each sorted by slice.
  */
 export function linkMembers(members: Member[], gridCells: number, cellSize: number, options: LinkOptions = {}): number[][] {
@@ -71,7 +81,7 @@ export function linkMembers(members: Member[], gridCells: number, cellSize: numb
           if ((a.layer ?? false) !== (b.layer ?? false)) continue;
           const shared = counts.get(a.id) ?? 0;
           // two linear members at an angle (crossing utilities at neighbouring depths) need more overlap
-          const crossing = a.shape.kind === 'linear' && b.shape.kind === 'linear' && angleDiff(a.shape.directionDeg, b.shape.directionDeg) > crossAngle;
+          const crossing = a.shape.kind === 'linear' && b.shape.kind === 'linear' && angleDiff(a.shape.directionDeg, b.shape.directionDeg) > Math.min(crossAngle, Math.max(spreadDeg(a), spreadDeg(b)));
           const need = Math.max(
             (crossing ? crossOverlap : minOverlap) * Math.min(a.cells.length, b.cells.length),
             minOverlapLarger * Math.max(a.cells.length, b.cells.length),
