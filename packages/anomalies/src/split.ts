@@ -7,21 +7,8 @@
  */
 export function thickParts(cells: Int32Array, width: number, radiusCells: number): Int32Array[] {
   if (cells.length === 0 || !(radiusCells > 0)) return [];
-  let r0 = Infinity, r1 = -Infinity, c0 = Infinity, c1 = -Infinity;
-  for (const k of cells) {
-    const r = (k / width) | 0, c = k - r * width;
-    if (r < r0) r0 = r;
-    if (r > r1) r1 = r;
-    if (c < c0) c0 = c;
-    if (c > c1) c1 = c;
-  }
   // a one-cell frame of outside cells round the bounding box
-  const w = c1 - c0 + 3, h = r1 - r0 + 3;
-  const inside = new Uint8Array(w * h);
-  for (const k of cells) {
-    const r = (k / width) | 0, c = k - r * width;
-    inside[(r - r0 + 1) * w + (c - c0 + 1)] = 1;
-  }
+  const { mask: inside, w, h, r0, c0 } = boxMask(cells, width);
   // erosion: cells farther than the radius from every outside cell
   const dOut = squaredDistance(inside, w, h, 0);
   const core = new Uint8Array(w * h);
@@ -33,11 +20,20 @@ export function thickParts(cells: Int32Array, width: number, radiusCells: number
   const dCore = squaredDistance(core, w, h, 1);
   const open = new Uint8Array(w * h);
   for (let i = 0; i < w * h; i++) if (inside[i] && dCore[i]! <= r2) open[i] = 1;
+  return maskParts(open, w, h, r0, c0, width);
+}
+
+/**
+ * 8-connected parts of the set cells of `mask` (w x h, a one-cell frame of unset cells round the box
+ * whose first row and column are r0, c0 of a grid `width` wide), as grid indices: each part ascending,
+ * the parts largest first.
+ */
+function maskParts(mask: Uint8Array, w: number, h: number, r0: number, c0: number, width: number): Int32Array[] {
   const parts: Int32Array[] = [];
   const seen = new Uint8Array(w * h);
   const stack: number[] = [];
   for (let s = 0; s < w * h; s++) {
-    if (!open[s] || seen[s]) continue;
+    if (!mask[s] || seen[s]) continue;
     const out: number[] = [];
     seen[s] = 1;
     stack.push(s);
@@ -48,12 +44,31 @@ export function thickParts(cells: Int32Array, width: number, radiusCells: number
       for (let dy = -1; dy <= 1; dy++)
         for (let dx = -1; dx <= 1; dx++) {
           const j = (y + dy) * w + (x + dx);
-          if ((dx || dy) && y + dy >= 0 && y + dy < h && x + dx >= 0 && x + dx < w && open[j] && !seen[j]) (seen[j] = 1), stack.push(j);
+          if ((dx || dy) && y + dy >= 0 && y + dy < h && x + dx >= 0 && x + dx < w && mask[j] && !seen[j]) (seen[j] = 1), stack.push(j);
         }
     }
     parts.push(Int32Array.from(out).sort());
   }
   return parts.sort((p, q) => q.length - p.length);
+}
+
+/** A set of cells (grid indices) as a mask of its bounding box with a one-cell frame (see `maskParts`). */
+function boxMask(cells: Int32Array, width: number): { mask: Uint8Array; w: number; h: number; r0: number; c0: number } {
+  let r0 = Infinity, r1 = -Infinity, c0 = Infinity, c1 = -Infinity;
+  for (const k of cells) {
+    const r = (k / width) | 0, c = k - r * width;
+    if (r < r0) r0 = r;
+    if (r > r1) r1 = r;
+    if (c < c0) c0 = c;
+    if (c > c1) c1 = c;
+  }
+  const w = c1 - c0 + 3, h = r1 - r0 + 3;
+  const mask = new Uint8Array(w * h);
+  for (const k of cells) {
+    const r = (k / width) | 0, c = k - r * width;
+    mask[(r - r0 + 1) * w + (c - c0 + 1)] = 1;
+  }
+  return { mask, w, h, r0, c0 };
 }
 
 /**
@@ -175,26 +190,7 @@ export function straightBands(cells: Int32Array, width: number, bandCells: numbe
 
 /** 8-connected parts of a set of cells (ascending grid indices), largest first. */
 export function connectedParts(cells: Int32Array, width: number): Int32Array[] {
-  const set = new Set<number>(cells);
-  const seen = new Set<number>();
-  const parts: Int32Array[] = [];
-  for (const s of cells) {
-    if (seen.has(s)) continue;
-    const out: number[] = [];
-    const stack = [s];
-    seen.add(s);
-    while (stack.length) {
-      const k = stack.pop()!;
-      out.push(k);
-      const c = k % width;
-      for (let dy = -1; dy <= 1; dy++)
-        for (let dx = -1; dx <= 1; dx++) {
-          if (!(dx || dy) || c + dx < 0 || c + dx >= width) continue;
-          const j = k + dy * width + dx;
-          if (set.has(j) && !seen.has(j)) (seen.add(j), stack.push(j));
-        }
-    }
-    parts.push(Int32Array.from(out).sort());
-  }
-  return parts.sort((p, q) => q.length - p.length);
+  if (cells.length === 0) return [];
+  const { mask, w, h, r0, c0 } = boxMask(cells, width);
+  return maskParts(mask, w, h, r0, c0, width);
 }
