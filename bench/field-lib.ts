@@ -145,7 +145,7 @@ export function leaveOutOfPlan(siteDir: string, seed: number, share: number): st
   return out;
 }
 
-function emptyRow(name: string, half: FieldRow['half'], seed: number | null): FieldRow {
+export function emptyRow(name: string, half: FieldRow['half'], seed: number | null): FieldRow {
   return {
     name, half, seed, error: null, kTruth: NaN, kFitted: null, kRelError: null, kObjAbsErrorSum: 0, kObjects: 0, invisible: 0,
     targets: 0, buriedTargets: 0, airTargets: 0, clutterTargets: 0, areaM2: 0, buriedAreaM2: 0, surveyedAreaM2: 0,
@@ -203,7 +203,7 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
 }
 
 /** The scoring's figures of one output folder (the counts behind the table's columns). */
-function scored(outDir: string, truthFile: string): Partial<FieldRow> {
+export function scored(outDir: string, truthFile: string): Partial<FieldRow> {
   const { report, truth } = scoreFolder(outDir, truthFile);
   const pr = report.precision;
   const lin = report.buried.filter((b) => b.lengthM > 0);
