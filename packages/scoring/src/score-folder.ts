@@ -36,6 +36,8 @@ export function readScoreTruth(file: string): ScoreTruth {
   if (!Array.isArray(t.aboveGround)) throw new InputError(file, 'expected an array', { field: 'aboveGround' });
   t.buried.forEach((b, i) => {
     if (!b.center && !(b.from && b.to)) throw new InputError(file, 'expected from/to or center', { field: `buried[${i}]` });
+    for (const k of ['topDepthM', 'bottomDepthM'] as const)
+      if (b[k] !== undefined && !(typeof b[k] === 'number' && Number.isFinite(b[k]))) throw new InputError(file, `expected a number, found ${JSON.stringify(b[k])}`, { field: `buried[${i}].${k}` });
   });
   t.aboveGround.forEach((a, i) => {
     if (!a.center && !(a.from && a.to)) throw new InputError(file, 'expected from/to or center', { field: `aboveGround[${i}]` });

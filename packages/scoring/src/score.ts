@@ -11,7 +11,11 @@ export interface ScoreTruth {
   soil: { permittivity: number; velocityMPerNs: number; layers?: { topM: number; bottomM: number | null; velocityMPerNs: number; permittivity: number }[] };
   crs: string;
   metresPerUnit: number;
-  buried: { id: string; kind: string; utility?: string; from?: XYZ; to?: XYZ; center?: XYZ; radiusM: number }[];
+  /**
+   * A compact object's `topDepthM` / `bottomDepthM` (truth.json) give its vertical extent; without them
+   * (and for pipes and cables) it is its centre or axis depth +- radiusM.
+   */
+  buried: { id: string; kind: string; utility?: string; from?: XYZ; to?: XYZ; center?: XYZ; radiusM: number; topDepthM?: number; bottomDepthM?: number }[];
   aboveGround: {
     id: string;
     planFeatureId?: string;
@@ -307,11 +311,17 @@ export function scoreRun(
   const tgs = read(targets, 'targets.geojson').filter((t) => t.origin !== 'above-ground');
   const ans = read(anomalies, 'anomalies.geojson');
 
-  const depthOk = (z: number, o: { top: number; bottom: number }) => {
+  // the body of a buried object at depth z (axis or centre): z - up .. z + down; the tolerance follows z
+  const depthOk = (z: number, up: number, down: number, o: { top: number; bottom: number }) => {
     const tol = Math.max(dTol, dFrac * z);
-    return z >= o.top - tol && z <= o.bottom + tol;
+    return z + down >= o.top - tol && z - up <= o.bottom + tol;
   };
-  const near = (x: number, y: number, z: number, radiusM: number, o: Obj) => depthOk(z, o) && shapeDist(x, y, o.shape) * mpu <= planTol + radiusM;
+  const near = (x: number, y: number, z: number, radiusM: number, o: Obj, up = radiusM, down = radiusM) => depthOk(z, up, down, o) && shapeDist(x, y, o.shape) * mpu <= planTol + radiusM;
+  // a compact object's vertical extent about its centre (truth topDepthM / bottomDepthM), else its radius
+  const extentOf = (b: ScoreTruth['buried'][number]): [number, number] => {
+    const z = b.center![2];
+    return b.topDepthM !== undefined && b.bottomDepthM !== undefined && b.bottomDepthM >= b.topDepthM ? [Math.max(0, z - b.topDepthM), Math.max(0, b.bottomDepthM - z)] : [b.radiusM, b.radiusM];
+  };
 
   // the survey's cover: within coverM (default half the median line spacing, at least 0.25 m) of a line
   const surveySegs: number[] = [];
@@ -323,7 +333,8 @@ export function scoreRun(
     const hit = new Set<string>();
     if (b.center) {
       const [x, y, z] = b.center;
-      for (const t of tgs) if (near(x, y, z, b.radiusM, t)) hit.add(t.id);
+      const [up, down] = extentOf(b);
+      for (const t of tgs) if (near(x, y, z, b.radiusM, t, up, down)) hit.add(t.id);
       const r = hit.size ? 1 : 0;
       return { id: b.id, kind: b.kind, lengthM: 0, recall: r, recallFullLength: r, surveyedLengthM: 0, targets: [...hit] };
     }
@@ -398,7 +409,7 @@ export function scoreRun(
   const buriedOf = (o: Obj): string | null => {
     for (const b of truth.buried) {
       if (b.center) {
-        if (near(b.center[0], b.center[1], b.center[2], b.radiusM, o)) return b.id;
+        if (near(b.center[0], b.center[1], b.center[2], b.radiusM, o, ...extentOf(b))) return b.id;
         continue;
       }
       const f = b.from!, t2 = b.to!;

@@ -40,6 +40,27 @@ describe('scoreRun', () => {
     expect(r.targets.find((t) => t.id === 'T2')!.kind).toBe('unmatched');
   });
 
+  it("covers a big pipe's body, not only its axis: the radar sees the top", () => {
+    // a 0.6 m pipe with its axis at 1.0 m: its top at 0.7 m. A target 0.4-0.5 m widened by
+    // max(0.25, 0.25 x 1.0) reaches 0.75 m: it holds the top (0.7) but not the axis (1.0).
+    const big: ScoreTruth = { ...truth, buried: [{ id: 'main', kind: 'pipe', from: [0, 0, 1], to: [10, 0, 1], radiusM: 0.3 }, { id: 'tank', kind: 'compact', center: [20, 20, 1.5], radiusM: 0.5, topDepthM: 0.9, bottomDepthM: 2.1 }] };
+    const targets = {
+      type: 'FeatureCollection' as const,
+      features: [
+        feat('T1', { type: 'LineString', coordinates: [[0, 0], [10, 0]] }, { depthTopM: 0.4, depthBottomM: 0.5, origin: 'subsurface' }),
+        // 0.2-0.35 m widened by 0.25 reaches 0.6 m: above the top, no cover
+        feat('T2', { type: 'LineString', coordinates: [[0, 0], [10, 0]] }, { depthTopM: 0.2, depthBottomM: 0.35, origin: 'subsurface' }),
+        // the tank's top at 0.9 m (truth topDepthM), its centre at 1.5 m: 0.5-0.6 m widened by 0.375 reaches it
+        feat('T3', { type: 'Point', coordinates: [20, 20] }, { depthTopM: 0.5, depthBottomM: 0.6, origin: 'subsurface' }),
+      ],
+    };
+    const r = scoreRun(targets, { type: 'FeatureCollection', features: [] }, big, identity);
+    expect(r.buried.find((b) => b.id === 'main')!.targets).toEqual(['T1']);
+    expect(r.buried.find((b) => b.id === 'main')!.recall).toBe(1);
+    expect(r.buried.find((b) => b.id === 'tank')!.targets).toEqual(['T3']);
+    expect(r.targets.find((t) => t.id === 'T2')!.kind).toBe('unmatched');
+  });
+
   it('counts an anomaly on the ring r = z c / v of a post as its reflection', () => {
     // K 9: r = 3 z; members at 0.5 and 0.6 m on rings of 1.5 and 1.8 m
     const member = (z: number) => ({ topM: z - 0.05, bottomM: z + 0.05, outline: ring(50, 50, 3 * z) });
