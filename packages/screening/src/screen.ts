@@ -192,10 +192,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   // @lamina/anomalies); none in the near-surface zone, whose residue runs in bands along the lines
   const bandWidthM = (top: number, z: number) => (top >= classCtx.nearSurfaceM ? maxUtilityWidthM(z, classCtx, options.classes) : NaN);
   // a band along some reflector's locus (a side of a post row's field, a wall's band) is not split off
-  const bandOnLocus = (cells: Int32Array, slice: number) => {
-    const m = { cells, slice } as Member;
-    return reflectors.some((r, i) => fields[i] !== null && fitMember(m, r, fields[i]!, ctx).passed);
-  };
+  const bandOnLocus = (cells: Int32Array, slice: number) => reflectors.some((r, i) => fields[i] !== null && fitMember({ cells, slice }, r, fields[i]!, ctx).passed);
   const extraction = extractAnomalies(stack, { isLayer, bandWidthM, bandOnLocus, ...options, metresPerUnit: mpu });
   // cut buried targets out of the air-wave bands they cross, then link again
   const sep = separateCrossings(extraction.members, stack, extraction.scores, ctx, options.minCells ?? 6, mpu, options.threshold ?? 5);

@@ -5,8 +5,11 @@ import { WEIGHTS, type Evidence } from '../evidence';
 import { cellResidual } from '../locus-residual';
 import type { Reflector } from '../reflectors';
 
-export interface MemberFit {
-  member: Member;
+/** What `fitMember` reads of a member: its cells and its slice. */
+export type MemberCells = Pick<Member, 'cells' | 'slice'>;
+
+export interface MemberFit<M extends MemberCells = Member> {
+  member: M;
   medianM: number;
   iqrM: number;
   residualM: number;
@@ -25,7 +28,7 @@ export const MAX_SAMPLES = 400;
 /**
  * Signed residuals (m) of a member's cells from a reflector's locus at radius r (see cellResidual).
  */
-function memberResiduals(m: Member, refl: Reflector, field: Float32Array, radiusM: number, ctx: ScreenContext): Float64Array {
+function memberResiduals(m: MemberCells, refl: Reflector, field: Float32Array, radiusM: number, ctx: ScreenContext): Float64Array {
   const step = Math.max(1, Math.ceil(m.cells.length / MAX_SAMPLES));
   const out = new Float64Array(Math.ceil(m.cells.length / step));
   let n = 0;
@@ -34,7 +37,7 @@ function memberResiduals(m: Member, refl: Reflector, field: Float32Array, radius
 }
 
 /** Member against one reflector's locus at the member's depth. */
-export function fitMember(m: Member, refl: Reflector, field: Float32Array, ctx: ScreenContext): MemberFit {
+export function fitMember<M extends MemberCells>(m: M, refl: Reflector, field: Float32Array, ctx: ScreenContext): MemberFit<M> {
   const locus = locusOf(ctx, refl, m.slice);
   if (!Number.isFinite(locus.radiusM)) return { member: m, medianM: NaN, iqrM: NaN, residualM: Infinity, passed: false };
   const res = memberResiduals(m, refl, field, locus.radiusM, ctx);
