@@ -1,6 +1,7 @@
 import type { SliceGrid } from '@lamina/slices';
 import { axisAngleDeg, oneLineFootprintM, oneLineWidthM } from './classify';
 import { cellShape, type ShapeOptions } from './shape';
+import { edgeCells } from './split';
 import type { Anomaly3D } from './types';
 
 export interface JoinOptions extends ShapeOptions {
@@ -73,6 +74,8 @@ export function joinAlignedPieces(
     return { r0, r1, c0, c1 };
   });
   const gapCells = gapU / grid.cellSize;
+  const edges: (Int32Array | undefined)[] = new Array(n);
+  const edgesOf = (i: number) => (edges[i] ??= edgeCells(pieces[i]!.cells, grid.width));
   const pairs: [number, number, number][] = [];
   for (let i = 0; i < n; i++)
     for (let j = i + 1; j < n; j++) {
@@ -83,7 +86,7 @@ export function joinAlignedPieces(
       const A = box[i]!, B = box[j]!;
       const br = Math.max(0, A.r0 - B.r1, B.r0 - A.r1), bc = Math.max(0, A.c0 - B.c1, B.c0 - A.c1);
       if (Math.hypot(br, bc) > gapCells + 1) continue;
-      const d = minCellDistance(a.cells, b.cells, grid.width);
+      const d = minCellDistance(a.cells, b.cells, grid.width, edgesOf(i), edgesOf(j));
       if (d <= gapCells + 1) pairs.push([d, i, j]);
     }
   pairs.sort((p, q) => p[0] - q[0] || p[1] - q[1] || p[2] - q[2]);
@@ -124,13 +127,23 @@ export function joinAlignedPieces(
   return out.sort((p, q) => p[0]! - q[0]!);
 }
 
-/** Smallest distance between cells of two ascending cell lists, in cells (brute force over the smaller's edge). */
-function minCellDistance(a: Int32Array, b: Int32Array, width: number): number {
+/**
+ * Smallest distance between cells of two ascending cell lists, in cells: 0 when they share a cell, else
+ * the least over their edge cells (`edgeCells`). Exact: for disjoint sets, a cell whose four neighbours
+ * all belong to its set has one of them strictly nearer to any cell of the other set (one step along the
+ * axis of the larger offset), so every nearest pair is a pair of edge cells.
+ */
+export function minCellDistance(a: Int32Array, b: Int32Array, width: number, edgeA = edgeCells(a, width), edgeB = edgeCells(b, width)): number {
+  for (let i = 0, j = 0; i < a.length && j < b.length; ) {
+    if (a[i]! === b[j]!) return 0;
+    if (a[i]! < b[j]!) i++;
+    else j++;
+  }
   let best = Infinity;
-  for (let i = 0; i < a.length; i++) {
-    const ra = (a[i]! / width) | 0, ca = a[i]! - ra * width;
-    for (let j = 0; j < b.length; j++) {
-      const rb = (b[j]! / width) | 0, cb = b[j]! - rb * width;
+  for (let i = 0; i < edgeA.length; i++) {
+    const ra = (edgeA[i]! / width) | 0, ca = edgeA[i]! - ra * width;
+    for (let j = 0; j < edgeB.length; j++) {
+      const rb = (edgeB[j]! / width) | 0, cb = edgeB[j]! - rb * width;
       const d = (ra - rb) ** 2 + (ca - cb) ** 2;
       if (d < best) best = d;
     }

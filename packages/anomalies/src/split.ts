@@ -194,3 +194,27 @@ export function connectedParts(cells: Int32Array, width: number): Int32Array[] {
   const { mask, w, h, r0, c0 } = boxMask(cells, width);
   return maskParts(mask, w, h, r0, c0, width);
 }
+
+/** The cells of an ascending cell list with a 4-neighbour outside it (or outside the grid's columns), ascending. */
+export function edgeCells(cells: Int32Array, width: number): Int32Array {
+  const has = (k: number) => {
+    let lo = 0, hi = cells.length - 1;
+    while (lo <= hi) {
+      const m = (lo + hi) >> 1, v = cells[m]!;
+      if (v === k) return true;
+      if (v < k) lo = m + 1;
+      else hi = m - 1;
+    }
+    return false;
+  };
+  const out = new Int32Array(cells.length);
+  let n = 0;
+  for (let i = 0; i < cells.length; i++) {
+    const k = cells[i]!, c = k % width;
+    // left and right neighbours are the list's neighbours when present (ascending), up and down by search
+    const left = c > 0 && i > 0 && cells[i - 1] === k - 1;
+    const right = c < width - 1 && i + 1 < cells.length && cells[i + 1] === k + 1;
+    if (!(left && right && has(k - width) && has(k + width))) out[n++] = k;
+  }
+  return out.slice(0, n);
+}
