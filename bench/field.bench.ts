@@ -16,6 +16,10 @@
 //                                      worse than either direction alone; three runs of those scenes)
 //   LAMINA_BENCH_FIELD_UNSURVEYED=0.3  leave this share of each random scene's plan features out of its
 //                                      plan.geojson (objects nobody surveyed; still scored; default 0)
+//   LAMINA_BENCH_FIELD_NOISE_SEED=1    simulate every scene with this `noiseSeed` (@lamina/simulate: the same
+//                                      site surveyed again, only the receiver noise drawn anew). Two runs
+//                                      with different noise seeds show how far the pooled figures move on
+//                                      noise alone: a change of the code that moves them less is no result
 // Writes bench/out/field.json (git-ignored): every row and the pooled rows, with the code's commit.
 import { execFileSync } from 'node:child_process';
 import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
@@ -34,6 +38,9 @@ const threads = Number(process.env.LAMINA_BENCH_FIELD_THREADS ?? 2);
 const airBefore = process.env.LAMINA_BENCH_FIELD_AIR_BEFORE === '1';
 const unsurveyedShare = Number(process.env.LAMINA_BENCH_FIELD_UNSURVEYED ?? 0);
 const directions = process.env.LAMINA_BENCH_FIELD_DIRECTIONS === '1';
+const noiseSeed = process.env.LAMINA_BENCH_FIELD_NOISE_SEED === undefined ? undefined : Number(process.env.LAMINA_BENCH_FIELD_NOISE_SEED);
+if (noiseSeed !== undefined && !(Number.isInteger(noiseSeed) && noiseSeed >= 0)) throw new Error(`LAMINA_BENCH_FIELD_NOISE_SEED: expected an integer >= 0, found "${process.env.LAMINA_BENCH_FIELD_NOISE_SEED}"`);
+const withNoise = <T extends { noiseSeed?: number }>(s: T): T => (noiseSeed === undefined ? s : { ...s, noiseSeed });
 const work = mkdtempSync(join(tmpdir(), 'lamina-bench-field-'));
 
 const commit = (() => {
@@ -43,18 +50,18 @@ const commit = (() => {
     return 'unknown';
   }
 })();
-console.log(`field: ${seeds.length} random scenes (seeds ${process.env.LAMINA_BENCH_FIELD_SEEDS ?? '1-24'}) + ${samples.length} sample sites; ${availableParallelism()} cores, load ${loadavg()[0]!.toFixed(2)}; code ${commit}`);
+console.log(`field: ${seeds.length} random scenes (seeds ${process.env.LAMINA_BENCH_FIELD_SEEDS ?? '1-24'}) + ${samples.length} sample sites${noiseSeed === undefined ? '' : `, noise seed ${noiseSeed}`}; ${availableParallelism()} cores, load ${loadavg()[0]!.toFixed(2)}; code ${commit}`);
 
 const rows: FieldRow[] = [];
 const t0 = performance.now();
 for (const seed of seeds) {
-  const row = await runScene(randomScenario(seed), work, seed % 2 === 1 ? 'tune' : 'held-out', seed, { threads, keep, airBefore, unsurveyedShare, directions });
+  const row = await runScene(withNoise(randomScenario(seed)), work, seed % 2 === 1 ? 'tune' : 'held-out', seed, { threads, keep, airBefore, unsurveyedShare, directions });
   rows.push(row);
   console.log(`  ${row.name}: ${row.error ? `FAILED ${row.error}` : `${row.targets} targets, ${row.buriedTargets} on buried objects`} (${row.simulateS.toFixed(1)} + ${row.processS.toFixed(1)} s)${row.unsurveyed?.length ? `; left out of the plan: ${row.unsurveyed.join(', ')}` : ''}`);
 }
 for (const name of samples) {
   const file = join(root, 'sample-sites', name, 'scenario.json');
-  const row = await runScene(parseScenario(JSON.parse(readFileSync(file, 'utf8')), file), work, 'sample', null, { threads, keep, airBefore });
+  const row = await runScene(withNoise(parseScenario(JSON.parse(readFileSync(file, 'utf8')), file)), work, 'sample', null, { threads, keep, airBefore });
   rows.push(row);
   console.log(`  ${row.name}: ${row.error ? `FAILED ${row.error}` : `${row.targets} targets`} (${row.simulateS.toFixed(1)} + ${row.processS.toFixed(1)} s)`);
 }

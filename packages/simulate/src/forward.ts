@@ -76,6 +76,8 @@ export function simulateLine(m: Model, line: LineGeom): LineResult {
   const t0s = new Float64Array(n);
   const stats = newStats(m.scatterers.length);
   const r = rng(m.scenario.seed, `line:${line.id}`);
+  // the receiver noise: its own stream with a noiseSeed (a repeat survey), else the line's
+  const rn = m.scenario.noiseSeed === undefined ? r : rng(m.scenario.noiseSeed, `noise:${line.id}`);
   const trace = new Float64Array(ns);
   const white = new Float64Array(ns);
   const kernel = noiseKernel(m);
@@ -269,11 +271,11 @@ export function simulateLine(m: Model, line: LineGeom): LineResult {
     }
 
     if (m.noiseRms > 0 && m.noiseColour === 'pink') {
-      pinkNoise(r, ns, white);
+      pinkNoise(rn, ns, white);
       for (let i = 0; i < ns; i++) trace[i] = trace[i]! + white[i]! * m.noiseRms;
     } else if (m.noiseRms > 0) {
       // Band-limited random noise.
-      for (let i = 0; i < ns; i++) white[i] = r.gauss() * m.noiseRms;
+      for (let i = 0; i < ns; i++) white[i] = rn.gauss() * m.noiseRms;
       for (let i = 0; i < ns; i++) {
         let acc = 0;
         const k0 = Math.max(-kh, -i);

@@ -108,6 +108,11 @@ export const scenarioSchema = z.strictObject({
   name: id,
   description: z.string().optional(),
   seed: z.number().int().min(0).max(2 ** 32 - 1),
+  /**
+   * Seed of the receiver noise alone (the same site surveyed again: geometry, clutter, jitter, coupling
+   * and roughness stay those of `seed`). @default none: the noise comes from the line's `seed` stream
+   */
+  noiseSeed: z.number().int().min(0).max(2 ** 32 - 1).optional(),
   crs: z.string().min(1),
   antenna: z.strictObject({
     frequencyMHz: z.number().min(10).max(5000),

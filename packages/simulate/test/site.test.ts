@@ -154,6 +154,37 @@ describe('simulated site folder', () => {
     expect(fa.get('site.json')!.equals(fc.get('site.json')!)).toBe(true);
   });
 
+  it('noiseSeed changes the receiver noise alone: a repeat survey of the same site', async () => {
+    const line = (over: Record<string, unknown>) => {
+      const sc = parseScenario(small(over));
+      const m = scenarioModel(sc, scenarioCrs(sc));
+      return simulateLine(m, m.lines[0]!).data;
+    };
+    const a = line({ noiseSeed: 1 }), a2 = line({ noiseSeed: 1 }), b = line({ noiseSeed: 2 });
+    // no noise at all: the same traces, jitter and wow (the line's own stream no longer serves the noise)
+    const clean = line({ noiseSeed: 1, noise: { rms: 0, clutterPerM2: 1 } });
+    expect(Buffer.from(a.buffer).equals(Buffer.from(a2.buffer))).toBe(true);
+    let na = 0, nb = 0, ab = 0;
+    for (let i = 0; i < a.length; i++) {
+      const u = a[i]! - clean[i]!, v = b[i]! - clean[i]!;
+      na += u * u;
+      nb += v * v;
+      ab += u * v;
+    }
+    const ra = Math.sqrt(na / a.length), rb = Math.sqrt(nb / a.length);
+    // what differs from the noiseless run is noise of one level in both, and the two draws are independent
+    expect(ra).toBeGreaterThan(0);
+    expect(Math.abs(ra / rb - 1)).toBeLessThan(0.1);
+    expect(Math.abs(ab / Math.sqrt(na * nb))).toBeLessThan(0.05);
+    // the truth is the same site
+    const ta = join(await tmp(), 'a'), tb = join(await tmp(), 'b');
+    await simulateSite(parseScenario(small({ noiseSeed: 1 })), ta);
+    await simulateSite(parseScenario(small({ noiseSeed: 2 })), tb);
+    const fa = await files(ta), fb = await files(tb);
+    expect(fa.get('truth.json')!.equals(fb.get('truth.json')!)).toBe(true);
+    expect(fa.get('lines/l01.sgy')!.equals(fb.get('lines/l01.sgy')!)).toBe(false);
+  });
+
   it('truth.json lists every target and reflector; air-wave apparent depths follow r / sqrt(K)', async () => {
     const out = join(await tmp(), 'site');
     const res = await simulateSite(parseScenario(small()), out);
