@@ -103,16 +103,17 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
 /**
  * Medians of the windows of one line, sample by sample, each window sharing most of its traces with the
  * one before (`next` between windows). The median is one value, or the mean of two, whatever selects
- * it, but for the sign of a zero (which reaches the output at a centre trace holding -0). So the values
- * are split in one pass, without branches, around a bracket: the previous window's values of rank
- * k -+ `spread` at the same sample, where the median has most likely moved to; the median is then
- * selected in the part that holds it, mostly the few values inside the bracket. Where the median or the
- * value below it is zero, or the window holds NaN, the window is selected as before (`exact`: the run in
- * trace order, `selectNear` around the previous median), so every result is the same, bit for bit.
+ * it, but for the sign of a zero (which reaches the output at a centre trace holding -0). So one pass
+ * without branches counts the values below and above a bracket, the previous window's values of rank
+ * k -+ `spread` at the same sample (where the median has most likely moved to), and keeps those inside
+ * it; the median is selected among those, or (a fifth of the windows) among the values of the side it
+ * moved to, kept by a second pass. Where the median or the value below it is zero, or the window holds
+ * NaN, the window is selected as before (`exact`: the run in trace order, `selectNear` around the
+ * previous median), so every result is the same, bit for bit.
  */
 class WindowMedian {
-  /** The values below, inside and above the bracket. */
-  private readonly parts: [Float32Array, Float32Array, Float32Array];
+  /** The values inside the bracket, and those on the side of it that holds the median when it moved out. */
+  private readonly parts: [Float32Array, Float32Array];
   /** A window's run, for `exact`. */
   private readonly col: Float32Array;
   /** The previous window's median at each sample (the first pivot of `exact`). */
@@ -123,7 +124,7 @@ class WindowMedian {
   private readonly spread: number;
 
   constructor(win: number, nSamples: number) {
-    this.parts = [new Float32Array(win + 1), new Float32Array(win + 1), new Float32Array(win + 1)];
+    this.parts = [new Float32Array(win + 1), new Float32Array(win + 1)];
     this.col = new Float32Array(win);
     this.prev = new Float64Array(nSamples);
     // the first window: everything inside
@@ -137,51 +138,51 @@ class WindowMedian {
     const k = m >> 1;
     const g1 = this.lo[s] as number;
     const g2 = this.hi[s] as number;
-    const [low, mid, high] = this.parts;
-    // every value written to all three parts, kept (the count moved on) in the one it belongs to; NaN in none
+    const [mid, side] = this.parts;
+    // every value written to `mid`, kept (the count moved on) when inside the bracket; NaN counts nowhere
     let nLow = 0;
     let nMid = 0;
     let nHigh = 0;
     for (let i = o; i < o + m; i++) {
       const x = v[i] as number;
-      low[nLow] = x;
       mid[nMid] = x;
-      high[nHigh] = x;
       nLow += +(x < g1);
       nHigh += +(x > g2);
       nMid += +(x >= g1) & +(x <= g2);
     }
     if (nLow + nMid + nHigh !== m) return this.exact(v, o, m, s);
-    // the part holding rank k, the rank in it, and the part below it
+    // the part holding rank k, the rank in it, and the bracket's ends around it
     let a = mid;
     let n = nMid;
     let r = k - nLow;
-    let under = low;
-    let nUnder = nLow;
     let floor = g1;
     let ceil = g2;
     if (r < 0) {
-      a = low;
-      n = nLow;
-      r = k;
-      nUnder = 0;
-      floor = -Infinity;
-      ceil = g1;
+      // the median fell below the bracket: a second pass for the values there
+      n = 0;
+      for (let i = o; i < o + m; i++) {
+        const x = v[i] as number;
+        side[n] = x;
+        n += +(x < g1);
+      }
+      [a, r, floor, ceil] = [side, k, -Infinity, g1];
     } else if (r >= nMid) {
-      a = high;
-      n = nHigh;
-      r = k - nLow - nMid;
-      under = nMid > 0 ? mid : low;
-      nUnder = nMid > 0 ? nMid : nLow;
-      floor = g2;
-      ceil = Infinity;
+      n = 0;
+      for (let i = o; i < o + m; i++) {
+        const x = v[i] as number;
+        side[n] = x;
+        n += +(x > g2);
+      }
+      [a, r, floor, ceil] = [side, k - nLow - nMid, g2, Infinity];
     }
     const h = selectInPlace(a, r, 0, n - 1);
     let below = Number.NaN;
     if (m % 2 === 0) {
       below = -Infinity;
       if (r > 0) for (let i = 0; i < r; i++) below = Math.max(below, a[i] as number);
-      else for (let i = 0; i < nUnder; i++) below = Math.max(below, under[i] as number);
+      // else the largest value under the part (r = 0 and k > 0: not the part below the bracket)
+      else if (a === mid) for (let i = o; i < o + m; i++) below = (v[i] as number) < g1 ? Math.max(below, v[i] as number) : below;
+      else for (let i = o; i < o + m; i++) below = (v[i] as number) <= g2 ? Math.max(below, v[i] as number) : below;
     }
     if (h === 0 || below === 0) return this.exact(v, o, m, s);
     this.prev[s] = h;

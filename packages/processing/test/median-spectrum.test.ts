@@ -39,24 +39,28 @@ describe('moving-median background removal', () => {
     // output at a centre trace holding -0)
     for (const [seed, windowM] of [[1, 2.5], [2, 2.55], [5, 6]] as const) {
       const line = tiesLine(157, 64, seed, true);
-      expectBackground(line, windowM, (nS) => {
-        const prev = new Float64Array(nS);
-        let havePrev = false;
-        let lastWindow = -1;
-        return (c, s, a) => {
-          if (s === 0 && lastWindow >= 0 && a !== lastWindow) havePrev = true;
-          lastWindow = a;
-          const col = Float64Array.from(c);
-          const m = col.length;
-          const k = m >> 1;
-          const hi = havePrev ? selectNear(col, k, 0, m - 1, prev[s] as number) : selectInPlace(col, k, 0, m - 1);
-          prev[s] = hi;
-          if (m % 2) return hi;
-          let below = -Infinity;
-          for (let i = 0; i < k; i++) if ((col[i] as number) > below) below = col[i] as number;
-          return 0.5 * (below + hi);
-        };
-      });
+      expectBackground(line, windowM, oldSelection);
+    }
+  });
+
+  it('is the old selection, bit for bit, where the median jumps between few tied values (brackets of one value, medians outside them)', () => {
+    // values from {-2, -1, 0.5, 1, 3} with shares drifting along the line and between samples: ties
+    // make brackets of one value, the drift moves the median out of them (either side)
+    for (const windowM of [2, 2.05, 4.4]) {
+      const nT = 240;
+      const nS = 40;
+      const line = makeLine(nT, nS, 0.1, 0.05);
+      const set = [-2, -1, 0.5, 1, 3];
+      let r = 17;
+      for (let t = 0; t < nT; t++) {
+        for (let q = 0; q < nS; q++) {
+          r = (r * 16807) % 2147483647;
+          const shift = Math.sin(t / (7 + q)) * 1.5 + (q % 3) - 1;
+          const i = Math.round(2 + shift + 2 * (r / 2147483647 - 0.5));
+          line.data[t * nS + q] = set[Math.max(0, Math.min(4, i))] as number;
+        }
+      }
+      expectBackground(line, windowM, oldSelection);
     }
   });
 });
@@ -128,4 +132,27 @@ function expectBackground(line: ReturnType<typeof makeLine>, windowM: number, re
       if (!Object.is(out.data[t * nS + s], want)) expect({ t, s, got: out.data[t * nS + s] }).toEqual({ t, s, got: want });
     }
   }
+}
+
+/**
+ * The moving median's selection before the bracket (4435c1a), per window in trace order: selectInPlace
+ * in the first window, then selectNear around the previous window's median at the sample.
+ */
+function oldSelection(nS: number): (c: number[], s: number, a: number) => number {
+  const prev = new Float64Array(nS);
+  let havePrev = false;
+  let lastWindow = -1;
+  return (c, s, a) => {
+    if (s === 0 && lastWindow >= 0 && a !== lastWindow) havePrev = true;
+    lastWindow = a;
+    const col = Float64Array.from(c);
+    const m = col.length;
+    const k = m >> 1;
+    const hi = havePrev ? selectNear(col, k, 0, m - 1, prev[s] as number) : selectInPlace(col, k, 0, m - 1);
+    prev[s] = hi;
+    if (m % 2) return hi;
+    let below = -Infinity;
+    for (let i = 0; i < k; i++) if ((col[i] as number) > below) below = col[i] as number;
+    return 0.5 * (below + hi);
+  };
 }
