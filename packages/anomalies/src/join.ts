@@ -124,14 +124,28 @@ export function joinAlignedPieces(
   return out.sort((p, q) => p[0]! - q[0]!);
 }
 
-/** Smallest distance between cells of two ascending cell lists, in cells (brute force over the smaller's edge). */
-function minCellDistance(a: Int32Array, b: Int32Array, width: number): number {
+/**
+ * Smallest distance between cells of two ascending cell lists, in cells: brute force, with b's rows and
+ * columns taken once, and for each cell of a only b's cells whose rows (ascending) lie within the best
+ * distance so far (the pairs left out are at least that far apart).
+ */
+export function minCellDistance(a: Int32Array, b: Int32Array, width: number): number {
+  const rb = new Int32Array(b.length);
+  const cb = new Int32Array(b.length);
+  for (let j = 0; j < b.length; j++) {
+    rb[j] = (b[j]! / width) | 0;
+    cb[j] = b[j]! - rb[j]! * width;
+  }
   let best = Infinity;
-  for (let i = 0; i < a.length; i++) {
+  // b's first cell not yet too far above: a's rows only grow and the best only shrinks
+  let j0 = 0;
+  for (let i = 0; i < a.length && best > 0; i++) {
     const ra = (a[i]! / width) | 0, ca = a[i]! - ra * width;
-    for (let j = 0; j < b.length; j++) {
-      const rb = (b[j]! / width) | 0, cb = b[j]! - rb * width;
-      const d = (ra - rb) ** 2 + (ca - cb) ** 2;
+    while (j0 < b.length && rb[j0]! < ra && (ra - rb[j0]!) ** 2 >= best) j0++;
+    for (let j = j0; j < b.length; j++) {
+      const dr = rb[j]! - ra;
+      if (dr > 0 && dr * dr >= best) break;
+      const d = dr ** 2 + (ca - cb[j]!) ** 2;
       if (d < best) best = d;
     }
   }
