@@ -1,5 +1,5 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { selectInPlace } from '@lamina/stats';
+import { selectInPlace, selectNear } from '@lamina/stats';
 import { alongTrackM, outputFor, withData } from './line-util';
 
 export interface BackgroundOptions {
@@ -71,39 +71,21 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
   const centres: number[] = [];
   for (let c = 0; c < nTraces; c += step) centres.push(c);
   if (centres[centres.length - 1] !== nTraces - 1) centres.push(nTraces - 1);
-  // the window transposed (sample-major), read trace by trace; each sample's median selected in its
-  // contiguous column by index range (medianInPlace's rule, without a subarray per sample). Centres near
-  // the ends share the window clamped to the line: its median trace is computed once.
-  const block = new Float64Array(win * nSamples);
+  // The line transposed once (sample-major, `transpose`): a window's values at one sample are one
+  // contiguous run. Centres near the ends share the window clamped to the line: its median trace is
+  // computed once.
+  const bySample = transpose(data, nTraces, nSamples);
+  const med = new WindowMedian(win, nSamples);
   const byStart = new Map<number, Float32Array>();
-  // each sample's selected value in the previous window: the next window shares three quarters of its
-  // traces, so its median lies near and is a good first pivot (`selectNear`)
-  const prev = new Float64Array(nSamples);
-  let havePrev = false;
   const bg = centres.map((c) => {
     const a = Math.max(0, Math.min(nTraces - win, c - Math.floor(win / 2)));
     const known = byStart.get(a);
     if (known) return known;
-    const b = Math.min(nTraces, a + win);
-    const m = b - a;
-    for (let t = a; t < b; t++) {
-      const o = t * nSamples;
-      for (let s = 0; s < nSamples; s++) block[s * m + t - a] = data[o + s] as number;
-    }
+    const m = Math.min(nTraces, a + win) - a;
     const trace = new Float32Array(nSamples);
-    for (let s = 0; s < nSamples; s++) {
-      const lo = s * m;
-      const hi = havePrev ? selectNear(block, lo + (m >> 1), lo, lo + m - 1, prev[s] as number) : selectInPlace(block, lo + (m >> 1), lo, lo + m - 1);
-      prev[s] = hi;
-      if (m % 2) trace[s] = hi;
-      else {
-        let below = -Infinity;
-        for (let i = lo; i < lo + (m >> 1); i++) if ((block[i] as number) > below) below = block[i] as number;
-        trace[s] = 0.5 * (below + hi);
-      }
-    }
+    for (let s = 0; s < nSamples; s++) trace[s] = med.of(bySample, s * nTraces + a, m, s);
+    med.next();
     byStart.set(a, trace);
-    havePrev = true;
     return trace;
   });
   let k = 0;
@@ -119,23 +101,134 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
 }
 
 /**
- * The k-th smallest of a[left..right] as `selectInPlace` of @lamina/stats finds it (the same value, and
- * the same order property: smaller or equal before k, larger or equal after), with a first partition
- * around the value `guess` (any number; the closer to the answer, the smaller the part left to it).
+ * Medians of the windows of one line, sample by sample, each window sharing most of its traces with the
+ * one before (`next` between windows). The median is one value, or the mean of two, whatever selects
+ * it, but for the sign of a zero (which reaches the output at a centre trace holding -0). So one pass
+ * without branches counts the values below and above a bracket, the previous window's values of rank
+ * k -+ `spread` at the same sample (where the median has most likely moved to), and keeps those inside
+ * it; the median is selected among those, or (a fifth of the windows) among the values of the side it
+ * moved to, kept by a second pass. Where the median or the value below it is zero, or the window holds
+ * NaN, the window is selected as before (`exact`: the run in trace order, `selectNear` around the
+ * previous median), so every result is the same, bit for bit.
  */
-function selectNear(a: Float64Array, k: number, left: number, right: number, guess: number): number {
-  // a[left..i-1] < guess <= a[i..right]
-  let i = left;
-  let j = right;
-  for (;;) {
-    while (i <= j && (a[i] as number) < guess) i++;
-    while (j >= i && (a[j] as number) >= guess) j--;
-    if (i >= j) break;
-    const t = a[i] as number;
-    a[i] = a[j] as number;
-    a[j] = t;
-    i++;
-    j--;
+class WindowMedian {
+  /** The values inside the bracket, and those on the side of it that holds the median when it moved out. */
+  private readonly parts: [Float32Array, Float32Array];
+  /** A window's run, for `exact`. */
+  private readonly col: Float32Array;
+  /** The previous window's median at each sample (the first pivot of `exact`). */
+  private readonly prev: Float64Array;
+  private readonly lo: Float64Array;
+  private readonly hi: Float64Array;
+  private havePrev = false;
+  private readonly spread: number;
+
+  constructor(win: number, nSamples: number) {
+    this.parts = [new Float32Array(win + 1), new Float32Array(win + 1)];
+    this.col = new Float32Array(win);
+    this.prev = new Float64Array(nSamples);
+    // the first window: everything inside
+    this.lo = new Float64Array(nSamples).fill(-Infinity);
+    this.hi = new Float64Array(nSamples).fill(Infinity);
+    this.spread = Math.max(2, win >> 4);
   }
-  return k < i ? selectInPlace(a, k, left, i - 1) : selectInPlace(a, k, i, right);
+
+  /** The median of v[o .. o + m) (sample s of the current window). */
+  of(v: Float32Array, o: number, m: number, s: number): number {
+    const k = m >> 1;
+    const g1 = this.lo[s] as number;
+    const g2 = this.hi[s] as number;
+    const [mid, side] = this.parts;
+    // every value written to `mid`, kept (the count moved on) when inside the bracket; NaN counts nowhere
+    let nLow = 0;
+    let nMid = 0;
+    let nHigh = 0;
+    for (let i = o; i < o + m; i++) {
+      const x = v[i] as number;
+      mid[nMid] = x;
+      nLow += +(x < g1);
+      nHigh += +(x > g2);
+      nMid += +(x >= g1) & +(x <= g2);
+    }
+    if (nLow + nMid + nHigh !== m) return this.exact(v, o, m, s);
+    // the part holding rank k, the rank in it, and the bracket's ends around it
+    let a = mid;
+    let n = nMid;
+    let r = k - nLow;
+    let floor = g1;
+    let ceil = g2;
+    if (r < 0) {
+      // the median fell below the bracket: a second pass for the values there
+      n = 0;
+      for (let i = o; i < o + m; i++) {
+        const x = v[i] as number;
+        side[n] = x;
+        n += +(x < g1);
+      }
+      [a, r, floor, ceil] = [side, k, -Infinity, g1];
+    } else if (r >= nMid) {
+      n = 0;
+      for (let i = o; i < o + m; i++) {
+        const x = v[i] as number;
+        side[n] = x;
+        n += +(x > g2);
+      }
+      [a, r, floor, ceil] = [side, k - nLow - nMid, g2, Infinity];
+    }
+    const h = selectInPlace(a, r, 0, n - 1);
+    let below = Number.NaN;
+    if (m % 2 === 0) {
+      below = -Infinity;
+      if (r > 0) for (let i = 0; i < r; i++) below = Math.max(below, a[i] as number);
+      // else the largest value under the part (r = 0 and k > 0: not the part below the bracket)
+      else if (a === mid) for (let i = o; i < o + m; i++) below = (v[i] as number) < g1 ? Math.max(below, v[i] as number) : below;
+      else for (let i = o; i < o + m; i++) below = (v[i] as number) <= g2 ? Math.max(below, v[i] as number) : below;
+    }
+    if (h === 0 || below === 0) return this.exact(v, o, m, s);
+    this.prev[s] = h;
+    const d = this.spread;
+    this.lo[s] = r - d >= 0 ? selectInPlace(a, r - d, 0, r - 1) : floor;
+    this.hi[s] = r + d < n ? selectInPlace(a, r + d, r + 1, n - 1) : ceil;
+    return m % 2 ? h : 0.5 * (below + h);
+  }
+
+  /** Between windows. */
+  next(): void {
+    this.havePrev = true;
+  }
+
+  /** The selection of `movingMedian` before the bracket, in the run's order; no bracket for the next window. */
+  private exact(v: Float32Array, o: number, m: number, s: number): number {
+    const col = this.col;
+    for (let i = 0; i < m; i++) col[i] = v[o + i] as number;
+    const k = m >> 1;
+    const h = this.havePrev ? selectNear(col, k, 0, m - 1, this.prev[s] as number) : selectInPlace(col, k, 0, m - 1);
+    this.prev[s] = h;
+    this.lo[s] = -Infinity;
+    this.hi[s] = Infinity;
+    if (m % 2) return h;
+    let below = -Infinity;
+    for (let i = 0; i < k; i++) if ((col[i] as number) > below) below = col[i] as number;
+    return 0.5 * (below + h);
+  }
+}
+
+/**
+ * Trace-major `data` (nTraces x nSamples) sample-major, in tiles of 8 traces by 64 samples so that
+ * both the reads and the writes stay in few cache lines.
+ */
+function transpose(data: Float32Array, nTraces: number, nSamples: number, out = new Float32Array(nTraces * nSamples)): Float32Array {
+  const TT = 8;
+  const TS = 64;
+  for (let t0 = 0; t0 < nTraces; t0 += TT) {
+    const t1 = Math.min(nTraces, t0 + TT);
+    for (let s0 = 0; s0 < nSamples; s0 += TS) {
+      const s1 = Math.min(nSamples, s0 + TS);
+      for (let t = t0; t < t1; t++) {
+        const o = t * nSamples;
+        for (let s = s0; s < s1; s++) out[s * nTraces + t] = data[o + s] as number;
+      }
+    }
+  }
+  return out;
 }

@@ -79,9 +79,18 @@ export function hilbertEnvelopePair(
   const z = st.input;
   const ma = Math.min(a.length, n);
   const mb = b ? Math.min(b.length, n) : 0;
-  z.fill(0);
-  for (let i = 0; i < ma; i++) z[2 * i] = a[i] as number;
-  if (b) for (let i = 0; i < mb; i++) z[2 * i + 1] = b[i] as number;
+  // a + ib, zero-padded (each slot written once: the input is the module's, not ours to clear first)
+  if (b && ma === mb) {
+    for (let i = 0; i < ma; i++) {
+      z[2 * i] = a[i] as number;
+      z[2 * i + 1] = b[i] as number;
+    }
+  } else {
+    z.fill(0, 0, 2 * Math.max(ma, mb));
+    for (let i = 0; i < ma; i++) z[2 * i] = a[i] as number;
+    if (b) for (let i = 0; i < mb; i++) z[2 * i + 1] = b[i] as number;
+  }
+  z.fill(0, 2 * Math.max(ma, mb));
   const spec = st.run(false);
   // the spectrum times -i sgn(k) into the input (which may be the same array: each bin is read before it is written)
   const half = n / 2;

@@ -39,12 +39,15 @@ export function alongTrackM(line: RadarLine, metresPerUnit = 1): Float64Array {
 
 /** Median of the finite values of `v[from..to)`, NaN if none. */
 export function medianOf(v: ArrayLike<number>, from = 0, to = v.length): number {
-  const a: number[] = [];
+  let n = 0;
+  for (let i = from; i < to; i++) if (Number.isFinite(v[i] as number)) n++;
+  const a = new Float64Array(n);
+  n = 0;
   for (let i = from; i < to; i++) {
     const x = v[i] as number;
-    if (Number.isFinite(x)) a.push(x);
+    if (Number.isFinite(x)) a[n++] = x;
   }
-  return medianInPlace(Float64Array.from(a));
+  return medianInPlace(a);
 }
 
 /** Period of the antenna centre frequency, ns. */

@@ -31,18 +31,27 @@ const HALF_TAPS = 4;
  * past Nyquist zero. The spectrum was centred (traces shifted so their support is [-T/4, T/4] of the padded
  * length T), so along omega it is oversampled twice (round trips in the tests: below 1 % RMS).
  * The value is returned in `ip` times e^{-i pi u / 2}, the shift back by T/4 at bin u (Stolt's e^{-i w T/4}).
+ * A second row (`rowB` >= 0, e.g. +kx's partner -kx, which has the same u) is interpolated with the same
+ * weights into ip[2], ip[3], each row's sums in the same order as alone.
  */
-function interpolate(spec: Float64Array, row: number, rowc: number, nw: number, u: number, ip: Float64Array): void {
+function interpolate(spec: Float64Array, row: number, rowc: number, nw: number, u: number, ip: Float64Array, rowB = -1, rowcB = -1): void {
+  const two = rowB >= 0;
   const i0 = Math.floor(u);
   const f = u - i0;
   let re = 0;
   let im = 0;
+  let reB = 0;
+  let imB = 0;
   let c2 = 1;
   let s2 = 0;
   if (f === 0) {
     if (i0 < nw) {
       re = spec[row + 2 * i0] as number;
       im = spec[row + 2 * i0 + 1] as number;
+      if (two) {
+        reB = spec[rowB + 2 * i0] as number;
+        imB = spec[rowB + 2 * i0 + 1] as number;
+      }
     }
   } else {
     // sinc(d) for the taps n = i0 - q, d = f + q, is (-1)^q sin(pi f) / (pi d): the common factor cancels
@@ -59,36 +68,51 @@ function interpolate(spec: Float64Array, row: number, rowc: number, nw: number, 
       if (n >= 0) {
         re += w * (spec[row + 2 * n] as number);
         im += w * (spec[row + 2 * n + 1] as number);
+        if (two) {
+          reB += w * (spec[rowB + 2 * n] as number);
+          imB += w * (spec[rowB + 2 * n + 1] as number);
+        }
       } else {
         re += w * (spec[rowc - 2 * n] as number);
         im -= w * (spec[rowc - 2 * n + 1] as number);
+        if (two) {
+          reB += w * (spec[rowcB - 2 * n] as number);
+          imB -= w * (spec[rowcB - 2 * n + 1] as number);
+        }
       }
     }
     re /= ws;
     im /= ws;
+    reB /= ws;
+    imB /= ws;
     // e^{-i pi f / 2} from the quarter angle
     c2 = cf4 * cf4 - sf4 * sf4;
     s2 = 2 * sf4 * cf4;
   }
-  // times (c2 - i s2), then (-i)^i0
+  rotate(re, im, c2, s2, i0, ip, 0);
+  if (two) rotate(reB, imB, c2, s2, i0, ip, 2);
+}
+
+/** (re + i im) times (c2 - i s2), then (-i)^i0, into ip[o], ip[o + 1]. */
+function rotate(re: number, im: number, c2: number, s2: number, i0: number, ip: Float64Array, o: number): void {
   const r = re * c2 + im * s2;
   const i = im * c2 - re * s2;
   switch (i0 & 3) {
     case 0:
-      ip[0] = r;
-      ip[1] = i;
+      ip[o] = r;
+      ip[o + 1] = i;
       break;
     case 1:
-      ip[0] = i;
-      ip[1] = -r;
+      ip[o] = i;
+      ip[o + 1] = -r;
       break;
     case 2:
-      ip[0] = -r;
-      ip[1] = -i;
+      ip[o] = -r;
+      ip[o + 1] = -i;
       break;
     default:
-      ip[0] = -i;
-      ip[1] = r;
+      ip[o] = -i;
+      ip[o + 1] = r;
   }
 }
 
@@ -221,12 +245,16 @@ function stoltMaps(
   const outer = dipWeigher(aMax, taper);
   // bins the interpolation can reach from [lo, hi] (negative bins mirror positive ones)
   const reach = (u: number) => u - HALF_TAPS <= hi && (u + HALF_TAPS >= lo || HALF_TAPS - u >= lo);
-  const ip = new Float64Array(2);
+  const ip = new Float64Array(4);
   let jHi = -1;
-  for (let ix = 0; ix < nx; ix++) {
+  // +kx and -kx (ix and nx - ix) have the same |kx|, so the same bins u, Jacobians, sines and
+  // interpolation weights: one pass over j for both rows
+  for (let ix = 0; ix <= nx >> 1; ix++) {
+    const ixB = (nx - ix) % nx;
+    const two = ixB !== ix;
     const a = ve * Math.abs(kxOf(ix, nx, dxM));
     const row = 2 * ix * nw;
-    const rowc = 2 * ((nx - ix) % nx) * nw;
+    const rowc = 2 * ixB * nw;
     for (let j = 0; j < nb; j++) {
       const wj = j * dw;
       let u: number;
@@ -248,13 +276,17 @@ function stoltMaps(
       }
       // the widest limit passes what any node passes (dipWeight grows with the limit)
       if (jac === 0 || u > nw - 1 || !reach(u) || outer(sin) === 0) continue;
-      interpolate(spec, row, rowc, nw, u, ip);
-      const re = ip[0] as number;
-      const im = ip[1] as number;
-      const q = j * nx + ix;
-      val[2 * q] = (re * (fRe[j] as number) - im * (fIm[j] as number)) * jac;
-      val[2 * q + 1] = (re * (fIm[j] as number) + im * (fRe[j] as number)) * jac;
-      sinT[q] = sin;
+      // the partner's row is this one's conjugate row and the other way round
+      if (two) interpolate(spec, row, rowc, nw, u, ip, rowc, row);
+      else interpolate(spec, row, rowc, nw, u, ip);
+      for (let p = 0; p < (two ? 2 : 1); p++) {
+        const re = ip[2 * p] as number;
+        const im = ip[2 * p + 1] as number;
+        const q = j * nx + (p === 0 ? ix : ixB);
+        val[2 * q] = (re * (fRe[j] as number) - im * (fIm[j] as number)) * jac;
+        val[2 * q + 1] = (re * (fIm[j] as number) + im * (fRe[j] as number)) * jac;
+        sinT[q] = sin;
+      }
       if (j > jHi) jHi = j;
     }
   }

@@ -1,6 +1,7 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { C_M_PER_NS } from '@lamina/constants';
 import { InputError } from '@lamina/errors';
+import { runningMedian } from '@lamina/stats';
 import { hilbertEnvelopePair, hilbertWorkspace } from './envelope';
 import { nextPow2 } from './fft';
 import { medianOf, outputFor, withData } from './line-util';
@@ -208,16 +209,19 @@ export function timeZero(line: RadarLine, options: TimeZeroOptions, out?: Float3
   const picksNs = new Float64Array(nt);
   // envelope at each pick: the direct wave's strength on that trace
   const levels = new Float64Array(nt);
-  const opts = { threshold, pick, periodSamples: period / dtNs, from, to };
+  // one options object, its trace swapped per call (not a spread per trace)
+  const opts: Parameters<typeof pickFirstArrival>[1] = { threshold, pick, periodSamples: period / dtNs, from, to, trace: line.data };
   const envAt = (e: Float64Array, pNs: number) => (Number.isFinite(pNs) ? (e[Math.min(ns - 1, Math.max(0, Math.round(pNs / dtNs)))] as number) : Number.NaN);
   for (let t = 0; t < nt; t += 2) {
     const tr = line.data.subarray(t * ns, (t + 1) * ns);
     const trB = t + 1 < nt ? line.data.subarray((t + 1) * ns, (t + 2) * ns) : undefined;
     hilbertEnvelopePair(tr, trB, ws, env, envB);
-    picksNs[t] = pickFirstArrival(env, { ...opts, trace: tr }) * dtNs;
+    opts.trace = tr;
+    picksNs[t] = pickFirstArrival(env, opts) * dtNs;
     levels[t] = envAt(env, picksNs[t] as number);
     if (trB) {
-      picksNs[t + 1] = pickFirstArrival(envB, { ...opts, trace: trB }) * dtNs;
+      opts.trace = trB;
+      picksNs[t + 1] = pickFirstArrival(envB, opts) * dtNs;
       levels[t + 1] = envAt(envB, picksNs[t + 1] as number);
     }
   }
@@ -232,9 +236,13 @@ export function timeZero(line: RadarLine, options: TimeZeroOptions, out?: Float3
   // period from the median of a five times wider window are picked again with the line's typical
   // direct-wave envelope as the threshold's reference (the direct wave arrives on every trace at nearly
   // the same time and amplitude), and picks still that far out are left out of the medians below.
-  const wide = (v: Float64Array, t: number) => medianOf(v, Math.max(0, t - 5 * h), Math.min(nt, t + 5 * h + 1));
+  // running medians: each window's median from one sorted window that slides (`runningMedian`)
+  const wide = (v: Float64Array) => runningMedian(v, 5 * h);
   const halfPeriodNs = period / 2;
-  const farFrom = (v: Float64Array) => Uint8Array.from(v, (p, t) => (Math.abs(p - wide(v, t)) <= halfPeriodNs ? 0 : 1));
+  const farFrom = (v: Float64Array) => {
+    const m = wide(v);
+    return Uint8Array.from(v, (p, t) => (Math.abs(p - (m[t] as number)) <= halfPeriodNs ? 0 : 1));
+  };
   let far = farFrom(picksNs);
   const level = threshold * medianOf(levels);
   if (level > 0 && far.includes(1)) {
@@ -251,9 +259,11 @@ export function timeZero(line: RadarLine, options: TimeZeroOptions, out?: Float3
   const replaced: number[] = [];
   const validMedian = medianOf(valid);
   const global = Number.isFinite(validMedian) ? validMedian : medianOf(picksNs);
+  const local = runningMedian(valid, h);
+  let wideValid: Float64Array | undefined;
   for (let t = 0; t < nt; t++) {
-    let med = medianOf(valid, Math.max(0, t - h), Math.min(nt, t + h + 1));
-    if (!Number.isFinite(med)) med = wide(valid, t);
+    let med = local[t] as number;
+    if (!Number.isFinite(med)) med = (wideValid ??= wide(valid))[t] as number;
     if (!Number.isFinite(med)) med = global;
     const p = valid[t] as number;
     if (Number.isFinite(p) && Math.abs(p - med) <= maxDev) usedNs[t] = p;
@@ -265,13 +275,11 @@ export function timeZero(line: RadarLine, options: TimeZeroOptions, out?: Float3
   const pickNs = medianOf(usedNs);
   const shiftsNs = new Float64Array(nt);
   const { src, dst } = outputFor(line, out);
-  const tmp = new Float64Array(ns);
   for (let t = 0; t < nt; t++) {
     let sh = (pickNs - (usedNs[t] as number)) / dtNs;
     if (options.shift === 'integer') sh = Math.round(sh);
     shiftsNs[t] = sh * dtNs;
-    shiftTrace(src.subarray(t * ns, (t + 1) * ns), sh, tmp);
-    dst.set(tmp, t * ns);
+    shiftTrace(src.subarray(t * ns, (t + 1) * ns), sh, dst.subarray(t * ns, (t + 1) * ns));
   }
   const timeZeroNs = pickNs - (options.separationM ?? 0) / C_M_PER_NS;
   return { line: withData(line, dst, timeZeroNs), picksNs, usedNs, shiftsNs, pickNs, timeZeroNs, replaced };

@@ -71,6 +71,13 @@ describe('Hilbert envelope vs scipy.signal.hilbert', () => {
       const single = new Float64Array(x.length);
       hilbertEnvelopePair(Float32Array.from(x), undefined, ws, single);
       expect(maxDiff(single, ref.envelope) / maxAbs(ref.envelope)).toBeLessThan(1e-8);
+      // a shorter second trace in the same workspace: nothing of the earlier pairs stays in the padding
+      const short = other.slice(0, Math.max(1, other.length - 5));
+      const bs = new Float64Array(short.length);
+      hilbertEnvelopePair(Float32Array.from(x), Float32Array.from(short), ws, a, bs);
+      expect(maxDiff(a, ref.envelope) / maxAbs(ref.envelope)).toBeLessThan(1e-8);
+      const shortAlone = hilbertEnvelope(Float32Array.from(short), { padTo: ref.N });
+      expect(maxDiff(bs, shortAlone) / maxAbs(shortAlone)).toBeLessThan(1e-12);
     });
   });
 });

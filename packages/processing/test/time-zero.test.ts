@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { C_M_PER_NS } from '@lamina/constants';
-import { envelope, pickFirstArrival, shiftTrace, timeZero } from '../src';
+import { envelope, medianOf, pickFirstArrival, shiftTrace, timeZero } from '../src';
 import { addNoise, addRicker, makeLine, rng, trace } from './synth';
 
 const F = 400;
@@ -106,6 +106,35 @@ describe('time-zero', () => {
     const res = timeZero(line, { frequencyMHz: F });
     expect(Math.abs(res.pickNs - 6)).toBeLessThan(0.05);
     for (let t = 0; t < 80; t++) expect(Math.abs(res.shiftsNs[t]!)).toBeLessThan(0.05);
+  });
+
+  it('replaces picks by the medians of their windows, as the rule says, bit for bit', () => {
+    // The rule written out with a median per window (medianOf): far = over half a period from the median
+    // of the 5 h wide window; the rest against the median of +-h traces (then the wide one, then all).
+    const nt = 150;
+    const line = makeLine(nt, 400, 0.1, 0.05);
+    const r = rng(11);
+    for (let t = 0; t < nt; t++) {
+      const late = t % 17 === 5 ? 2 : t % 23 === 7 ? 0.9 : 0; // outliers: far ones and near ones
+      addRicker(line, t, 6 + (r.next() - 0.5) * 0.6 + late, 1, F);
+      if (t >= 90 && t < 110) addRicker(line, t, 10.5, 5, F);
+    }
+    addNoise(line, 0.02, 7);
+    for (const t of [0, 40, 41, 42, 149]) trace(line, t).fill(0);
+    const res = timeZero(line, { frequencyMHz: F });
+    const h = 5;
+    const p = res.picksNs;
+    const far = Array.from(p, (x, t) => !(Math.abs(x - medianOf(p, Math.max(0, t - 5 * h), Math.min(nt, t + 5 * h + 1))) <= 1.25));
+    const valid = Float64Array.from(p, (x, t) => (far[t] ? Number.NaN : x));
+    const global = Number.isFinite(medianOf(valid)) ? medianOf(valid) : medianOf(p);
+    const used = Float64Array.from(valid, (x, t) => {
+      let med = medianOf(valid, Math.max(0, t - h), Math.min(nt, t + h + 1));
+      if (!Number.isFinite(med)) med = medianOf(valid, Math.max(0, t - 5 * h), Math.min(nt, t + 5 * h + 1));
+      if (!Number.isFinite(med)) med = global;
+      return Number.isFinite(x) && Math.abs(x - med) <= 0.625 ? x : med;
+    });
+    expect(res.replaced.length).toBeGreaterThan(10);
+    expect(Array.from(res.usedNs)).toEqual(Array.from(used));
   });
 
   it('onset pick is earlier than the peak pick; integer shifts are whole samples', () => {

@@ -1,3 +1,4 @@
-export { selectInPlace, type NumericArray } from './select';
+export { selectInPlace, selectNear, type NumericArray } from './select';
 export { median, medianInPlace, medianLow, medianHigh, medianAbsDeviation, weightedMedian } from './median';
 export { quantile, quantileSorted, quantileInPlace } from './quantile';
+export { runningMedian } from './running-median';

@@ -30,6 +30,26 @@ export function selectInPlace(a: NumericArray, k: number, left = 0, right = a.le
   return a[k]!;
 }
 
+/**
+ * The k-th smallest of a[left..right] as `selectInPlace` finds it (the same value, and the same order
+ * property: smaller or equal before k, larger or equal after), with a first partition around the value
+ * `guess` (any number; the closer to the answer, the smaller the part left to it).
+ */
+export function selectNear(a: NumericArray, k: number, left: number, right: number, guess: number): number {
+  // a[left..i-1] < guess <= a[i..right]
+  let i = left;
+  let j = right;
+  for (;;) {
+    while (i <= j && a[i]! < guess) i++;
+    while (j >= i && a[j]! >= guess) j--;
+    if (i >= j) break;
+    swap(a, i, j);
+    i++;
+    j--;
+  }
+  return k < i ? selectInPlace(a, k, left, i - 1) : selectInPlace(a, k, i, right);
+}
+
 function swap(a: NumericArray, i: number, j: number): void {
   const t = a[i]!;
   a[i] = a[j]!;

@@ -1,6 +1,6 @@
 import { execFileSync } from 'node:child_process';
 import { describe, expect, it } from 'vitest';
-import { median, medianAbsDeviation, medianHigh, medianInPlace, medianLow, quantile, quantileInPlace, quantileSorted, selectInPlace, weightedMedian } from '../src';
+import { median, medianAbsDeviation, medianHigh, medianInPlace, medianLow, quantile, quantileInPlace, quantileSorted, selectInPlace, selectNear, weightedMedian } from '../src';
 
 // Reference: numpy 1.24 on Debian's /usr/bin/python3 (not the python3 on PATH).
 const PY = '/usr/bin/python3';
@@ -60,6 +60,26 @@ describe('quantiles against numpy.quantile (method "linear")', () => {
   it('is NaN for an empty array', () => {
     expect(quantile([], 0.5)).toBeNaN();
     expect(quantileInPlace(new Float64Array(0), 0.5)).toBeNaN();
+  });
+});
+
+describe('selectNear against numpy.sort', () => {
+  it('finds the k-th smallest whatever the guess, with smaller or equal values before k and larger or equal after', () => {
+    const v = seeded(301, 5).map((x) => Math.round(x * 4) / 4); // ties
+    const sorted = numpy('np.sort(a)', [...v]);
+    for (const k of [0, 1, 150, 299, 300]) {
+      for (const guess of [-100, -3, 0.25, 2, 100, sorted[k]!]) {
+        const a = v.slice();
+        expect(selectNear(a, k, 0, a.length - 1, guess)).toBe(sorted[k]);
+        for (let i = 0; i < k; i++) expect(a[i]).toBeLessThanOrEqual(a[k]!);
+        for (let i = k + 1; i < a.length; i++) expect(a[i]).toBeGreaterThanOrEqual(a[k]!);
+      }
+    }
+    // a sub-range only
+    const a = Float32Array.from(v);
+    const part = numpy('np.sort(a[40:141])', [...a]);
+    expect(selectNear(a, 90, 40, 140, 1)).toBe(part[50]);
+    expect(Array.from(a.subarray(0, 40))).toEqual(Array.from(Float32Array.from(v).subarray(0, 40)));
   });
 });
 

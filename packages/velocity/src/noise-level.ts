@@ -10,13 +10,17 @@ export function envelopeLevel(env: Float32Array, nTraces: number, nSamples: numb
   const level = new Float64Array(nSamples);
   // At most 128 traces spread over the line: a median of 128 is within 0.11 standard deviations of the line's.
   const every = Math.max(1, Math.ceil(nTraces / 128));
-  const col = new Float32Array(Math.ceil(nTraces / every));
+  const m = Math.ceil(nTraces / every);
   let max = 0;
   for (let i = 0; i < env.length; i++) if (env[i]! > max) max = env[i]!;
-  for (let s = 0; s < nSamples; s++) {
-    for (let t = 0, m = 0; t < nTraces; t += every) col[m++] = env[t * nSamples + s]!;
-    level[s] = median(col);
+  // the chosen traces sample-major, read along each trace: gathered across the line at each sample, every
+  // value was a cache miss
+  const cols = new Float32Array(m * nSamples);
+  for (let t = 0, j = 0; t < nTraces; t += every, j++) {
+    const o = t * nSamples;
+    for (let s = 0; s < nSamples; s++) cols[s * m + j] = env[o + s]!;
   }
+  for (let s = 0; s < nSamples; s++) level[s] = median(cols.subarray(s * m, (s + 1) * m));
   const out = new Float64Array(nSamples);
   const floor = Math.max(max * floorFraction, Number.MIN_VALUE);
   for (let s = 0; s < nSamples; s++) {
