@@ -105,6 +105,8 @@ for (const scene of scenes) {
     if (a.kind !== 'linear' && a.lengthM <= pointSize && nSl <= 3) fired.push('pointSized3');
     if (a.kind !== 'linear' && a.lengthM <= pointSize) fired.push('pointSizedAny');
     if (a.strengthDb < 10) fired.push('weakerThan10dB');
+    // short utility-class pieces (issue 12: about 60 % of the unmatched targets in session 14), by length in line spacings
+    for (const k of [4, 6, 8]) if (a.class === 'utility' && a.lengthM < k * spacing * (t.metresPerUnit ?? 1)) fired.push(`shortUtility${k}`);
     {
       const th = Math.max(...members.map((m: any) => m.bottomM - m.topM));
       const zt = Math.max(a.depthTopM, nearSurfaceM);
