@@ -155,7 +155,6 @@ export function emptyRow(name: string, half: FieldRow['half'], seed: number | nu
   };
 }
 
-/** Simulates `scenario` under `workDir`, processes it with the CLI and scores it. */
 let built: string | undefined;
 /**
  * The built CLI (apps/cli/dist/lamina.mjs), built on first use and rebuilt when its sources are newer
@@ -169,6 +168,12 @@ export function builtCli(): string {
   return (built = join(ROOT, 'apps/cli/dist/lamina.mjs'));
 }
 
+/** `lamina process <siteDir> --out <outDir> --threads <threads> [...extra]` with the built CLI. */
+function processSite(siteDir: string, outDir: string, threads: number, extra: string[] = []) {
+  return spawnSync(process.execPath, [builtCli(), 'process', siteDir, '--out', outDir, '--threads', String(threads), ...extra], { encoding: 'utf8', maxBuffer: 64 << 20 });
+}
+
+/** Simulates `scenario` under `workDir`, processes it with the CLI and scores it. */
 export async function runScene(scenario: Scenario, workDir: string, half: FieldRow['half'], seed: number | null, options: SceneRunOptions = {}): Promise<FieldRow> {
   const row = emptyRow(scenario.name, half, seed);
   const siteDir = join(workDir, `${scenario.name}-site`), outDir = join(workDir, `${scenario.name}-out`), keptDir = join(workDir, `${scenario.name}-out-keep-air`);
@@ -179,13 +184,13 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
     if (options.unsurveyedShare && seed !== null) row.unsurveyed = leaveOutOfPlan(siteDir, seed, options.unsurveyedShare);
     row.simulateS = (performance.now() - t) / 1000;
     t = performance.now();
-    const p = spawnSync(process.execPath, [builtCli(), 'process', siteDir, '--out', outDir, '--threads', String(options.threads ?? 2), ...(options.airBefore ? ['--remove-air-events'] : [])], { encoding: 'utf8', maxBuffer: 64 << 20 });
+    const p = processSite(siteDir, outDir, options.threads ?? 2, options.airBefore ? ['--remove-air-events'] : []);
     row.processS = (performance.now() - t) / 1000;
     if (p.status !== 0) throw new Error(`lamina process exited ${p.status}: ${(p.stderr || p.stdout).trim().split('\n').slice(-3).join(' | ')}`);
     Object.assign(row, scored(outDir, join(siteDir, 'truth.json')));
     row.air = await airMeasure(outDir, join(siteDir, 'truth.json'));
     if (options.airBefore) {
-      const q = spawnSync(process.execPath, [builtCli(), 'process', siteDir, '--out', keptDir, '--threads', String(options.threads ?? 2), '--keep-air-events'], { encoding: 'utf8', maxBuffer: 64 << 20 });
+      const q = processSite(siteDir, keptDir, options.threads ?? 2, ['--keep-air-events']);
       if (q.status !== 0) throw new Error(`lamina process --keep-air-events exited ${q.status}: ${(q.stderr || q.stdout).trim().split('\n').slice(-3).join(' | ')}`);
       row.airBefore = await airMeasure(keptDir, join(siteDir, 'truth.json'));
       row.scoredBefore = scored(keptDir, join(siteDir, 'truth.json'));
@@ -196,7 +201,7 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
       for (const d of dirs) {
         const oneSite = join(workDir, `${scenario.name}-site-${d.azimuthDeg}`), oneOut = join(workDir, `${scenario.name}-out-${d.azimuthDeg}`);
         oneDirectionSite(siteDir, d.entries, oneSite);
-        const q = spawnSync(process.execPath, [builtCli(), 'process', oneSite, '--out', oneOut, '--threads', String(options.threads ?? 2)], { encoding: 'utf8', maxBuffer: 64 << 20 });
+        const q = processSite(oneSite, oneOut, options.threads ?? 2);
         if (q.status !== 0) throw new Error(`lamina process (${d.azimuthDeg} deg only) exited ${q.status}: ${(q.stderr || q.stdout).trim().split('\n').slice(-3).join(' | ')}`);
         row.byDirection.push({ azimuthDeg: d.azimuthDeg, lines: d.entries.length, scored: scored(oneOut, join(oneSite, 'truth.json')) });
         if (!options.keep) for (const f of [oneSite, oneOut]) rmSync(f, { recursive: true, force: true });
