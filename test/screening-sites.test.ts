@@ -41,7 +41,9 @@ const LEVELS: Record<SiteName, { utility: number; airRecall: number; targetAir: 
   // asserted again (the straight-band split had left the gas service at 72.5 %: its pieces and the power
   // cable's, diverging at about 20 degrees, linked across slices 2-4 into one V classed `layer`). The air
   // share: the same 2 air-wave targets of 15 targets instead of 18, 13 %; guard a little above.
-  yard: { utility: 0.8, airRecall: 0.9, targetAir: 0.14 },
+  // Point-sized by extent in any direction and by the depth a point's response reaches (2026-12-04): the
+  // same 2 air-wave targets of 14, 14.3 %; guard a little above.
+  yard: { utility: 0.8, airRecall: 0.9, targetAir: 0.15 },
   'carpark-ft': { utility: 0.58, airRecall: 0.9, targetAir: 0.1 },
   // the warehouse's air-wave levels: the screening flags 80 % of its air-wave anomalies (16 of 20) with
   // 5 of 39 targets on a locus (12.8 %) since the noise-law detection; measured levels asserted

@@ -173,14 +173,38 @@ function upperFence(values: number[], options: ClassifyOptions): number | undefi
 }
 
 /**
+ * Deepest a point scatterer's response reaches below its top z, m: on the lines furthest across its
+ * footprint (half of `pointFootprintM` away) its diffraction arrives at sqrt(z^2 + (F/2)^2), and lasts one
+ * pulse (`pulseDepthM`) after that; one slice (the thickest) more for the slicing. A stone's response is
+ * thicker than one pulse because migration runs along the lines only: across them it keeps its move-out.
+ */
+export function pointDepthExtentM(depthM: number, thicknessM: number, ctx: ClassifyContext): number {
+  const z = Math.max(depthM, 0), h = pointFootprintM(z, thicknessM, ctx) / 2;
+  return Math.sqrt(z * z + h * h) - z + pulseDepthM(ctx) + thicknessM;
+}
+
+/**
  * An anomaly no longer than a point scatterer's response at its depth (`pointFootprintM`, from the top
- * of its first slice or of the zone below the near-surface zone, whichever is deeper) and no thicker
- * than one pulse plus one slice: at the survey's resolution it may be a stone, a root or a small object,
- * and the site's population of such anomalies decides (`classifyAnomalies`). A linear one too when it
- * runs across the lines (its axis further than 45 degrees from every line direction): migration focuses
- * a stone along the lines but not across them, so its response is a short strip across the lines.
+ * of its first slice or of the zone below the near-surface zone, whichever is deeper) in any direction,
+ * and no deeper than that response reaches (`pointDepthExtentM`): at the survey's resolution it may be a
+ * stone, a root or a small object, and the site's population of such anomalies decides
+ * (`classifyAnomalies`). The footprint across the lines is the larger one (migration focuses along
+ * them), so it bounds a piece drawn out along a line as well.
  */
 export function isPointSized(a: Anomaly3D, ctx: ClassifyContext): boolean {
+  if (a.members.length === 0) return false;
+  const z = Math.max(a.depthTopM, ctx.nearSurfaceM), th = thickestSliceM(a);
+  return a.shape.lengthM <= pointFootprintM(z, th, ctx) && a.depthBottomM - a.depthTopM <= pointDepthExtentM(z, th, ctx) + 1e-3;
+}
+
+/**
+ * A piece a utility's response leaves where it breaks up (`joinAlignedPieces`' `alsoJoinable`): no longer
+ * than a point scatterer's response at its depth (`pointFootprintM`), no thicker than one pulse plus one
+ * slice, and, when linear, running across the lines (further than 45 degrees from every line direction:
+ * migration focuses a piece along the lines). Narrower than `isPointSized`: a compact object beside a
+ * pipe that reaches deeper slices is an object of its own, not a piece of the pipe.
+ */
+export function isPointPiece(a: Anomaly3D, ctx: ClassifyContext): boolean {
   if (a.members.length === 0 || !isOnePulseThick(a, ctx)) return false;
   if (a.shape.kind === 'linear' && !(axisAngleDeg(a.shape.directionDeg, ctx.lineAzimuthsDeg ?? []) > 45)) return false;
   return a.shape.lengthM <= pointFootprintM(Math.max(a.depthTopM, ctx.nearSurfaceM), thickestSliceM(a), ctx);
@@ -243,8 +267,8 @@ export function alongLineReachM(a: Anomaly3D, ctx: ClassifyContext): number {
  * - `utility`: linear and no wider than a utility may be;
  * - `clutter` (point-like): compact, seen on one line only (`oneLineWidthM`), spanning at most two
  *   slices (one pulse) — a stone or a root at the survey's resolution;
- * - `clutter` (point-sized): a structure, or a utility running across the lines, no larger than a point
- *   scatterer's response (`isPointSized`) and not an outlier of the site's population of such anomalies
+ * - `clutter` (point-sized): a structure or a utility no larger than a point scatterer's response in
+ *   length and depth (`isPointSized`) and not an outlier of the site's population of such anomalies
  *   by strength (`pointPopulationMin`, Tukey's upper fence); the outliers keep their class (compact ones
  *   as structures), and so do all of them when there are too few to judge;
  * - `structure`: the other compact anomalies (a footing or a tank is wider than a point's response, or thick).
@@ -287,10 +311,11 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
       const a = items[i]!.anomaly;
       // an outlier keeps its class: a utility stays one, a compact one is a structure (said why)
       if (a.strengthDb > fence && own[i]!.class === 'utility') continue;
-      const foot = round(pointFootprintM(Math.max(a.depthTopM, ctx.nearSurfaceM), thickestSliceM(a), ctx));
+      const zt = Math.max(a.depthTopM, ctx.nearSurfaceM), th = thickestSliceM(a);
+      const size = `${round(pointFootprintM(zt, th, ctx))} m across, ${round(pointDepthExtentM(zt, th, ctx))} m deep`;
       own[i] = a.strengthDb > fence
-        ? { class: 'structure', reason: `point-sized (within ${foot} m, one pulse thick) but stronger than the site's ${strengths.length} point-sized anomalies (above ${round(fence)} dB, Tukey's upper fence): a small object` }
-        : { class: 'clutter', reason: `point-sized: within a point scatterer's response at its depth (${foot} m) and one pulse thick, no stronger than the site's other point-sized anomalies (fence ${round(fence)} dB): a stone, a root or an object too small to tell` };
+        ? { class: 'structure', reason: `point-sized (within a point scatterer's response at its depth, ${size}) but stronger than the site's ${strengths.length} point-sized anomalies (above ${round(fence)} dB, Tukey's upper fence): a small object` }
+        : { class: 'clutter', reason: `point-sized: within a point scatterer's response at its depth (${size}), no stronger than the site's other point-sized anomalies (fence ${round(fence)} dB): a stone, a root or an object too small to tell` };
     }
   }
   // Shallow compact structures: starting inside the near-surface zone and one pulse thick, so not

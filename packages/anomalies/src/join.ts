@@ -13,7 +13,7 @@ export interface JoinOptions extends ShapeOptions {
   maxAngleDeg?: number;
   /**
    * Compact pieces that may join a piece of the usual kind (linear, or seen on one line) but not one
-   * another: e.g. point-sized ones (`isPointSized`), which a utility shows where its response breaks up.
+   * another: e.g. `isPointPiece` ones, which a utility shows where its response breaks up.
    * @default none
    */
   alsoJoinable?: (a: Anomaly3D) => boolean;

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { buildAnomaly, classifyAnomalies, fresnelRadiusM, isPointSized, joinAlignedPieces, makeMember, maxUtilityWidthM, pointFootprintM, sameSliceWidthM, type Anomaly3D, type ClassifyContext } from '../src';
+import { buildAnomaly, classifyAnomalies, fresnelRadiusM, isPointPiece, isPointSized, joinAlignedPieces, makeMember, maxUtilityWidthM, pointDepthExtentM, pointFootprintM, sameSliceWidthM, type Anomaly3D, type ClassifyContext } from '../src';
 import { grid } from './helpers';
 
 const g = grid(200, 200, 0.125, 0, 25);
@@ -156,30 +156,42 @@ describe('point scatterers', () => {
     expect(classifyAnomalies(roots.slice(0, 4).map((a) => ({ anomaly: a, aboveGround: false })), z).map((x) => x.class)).toEqual(Array(4).fill('structure'));
   });
 
-  it("short strips across the lines (a stone's response, migrated along the lines only) join the point-sized population; strips along the lines do not", () => {
+  it("short strips across the lines (a stone's response, migrated along the lines only) join the point-sized population, and so do strips along them no longer than that response", () => {
     // lines east-west (azimuth 90), 0.5 m apart; strips 1.6 x 0.25 m in one slice at 1.0-1.125 m (footprint 2.1 m)
     const lines: ClassifyContext = { ...ctx, lineAzimuthsDeg: [90] };
     const across = (x: number, peak: number) => anomaly(cellsOf((px, py) => Math.abs(px - x) < 0.125 && Math.abs(py - 6) < 0.8), 8, 8, peak);
     const stones = [40, 50, 60, 70, 80, 90].map((p, i) => across(2 + 2.5 * i, p));
     const cable = across(10, 1000);
     const along = anomaly(cellsOf((px, py) => Math.abs(px - 10) < 0.8 && Math.abs(py - 16) < 0.125), 8, 8, 40);
+    const longer = anomaly(cellsOf((px, py) => Math.abs(px - 10) < 1.5 && Math.abs(py - 16) < 0.125), 8, 8, 40);
     expect(stones.every((a) => a.shape.kind === 'linear' && isPointSized(a, lines))).toBe(true);
-    expect(isPointSized(along, lines)).toBe(false);
+    expect(isPointSized(along, lines)).toBe(true);
+    expect(isPointSized(longer, lines)).toBe(false);
     const c = classifyAnomalies([...stones, cable, along].map((a) => ({ anomaly: a, aboveGround: false })), lines);
     expect(c.slice(0, 6).map((x) => x.class)).toEqual(Array(6).fill('clutter'));
     expect(c[6]!.class).toBe('utility');
-    // (a strip that narrow along a line is a one-line strip: clutter for another reason)
-    expect(c[7]!.reason).not.toMatch(/point-sized/);
+    // (a strip that narrow along a line is a one-line strip: clutter for that reason first)
+    expect(c[7]!.reason).toMatch(/strip along one line/);
   });
 
-  it('two slices each one pulse thick are one pulse plus one slice, whatever the rounding of the bounds', () => {
-    // pulse v / 2f = 0.125 m at 0.1 m/ns and 400 MHz, slices 0.125 m: a velocity 1e-7 lower makes the pulse
-    // 1.25e-8 m shorter than the slice, which a 1e-9 m allowance turned into "thicker than one pulse"
-    const twoSlices = anomaly(cellsOf((x, y) => Math.abs(x - 12) < 0.45 && Math.abs(y - 3) < 0.45), 8, 9);
-    expect(isPointSized(twoSlices, ctx)).toBe(true);
-    expect(isPointSized(twoSlices, { ...ctx, velocityMPerNs: 0.1 - 1e-7 })).toBe(true);
-    // a third slice is not rounding
-    expect(isPointSized(anomaly(cellsOf((x, y) => Math.abs(x - 16) < 0.45 && Math.abs(y - 3) < 0.45), 8, 10), ctx)).toBe(false);
+  it("a point's response reaches as deep as its diffraction on the lines at the edge of its footprint, plus one pulse and one slice", () => {
+    // v 0.1 m/ns, 400 MHz, slices 0.125 m, top 1 m: footprint 2.125 m (above), so on the lines 1.0625 m
+    // across the diffraction arrives at hypot(1, 1.0625) m (Pythagoras); then one pulse (0.125 m) and one slice
+    const reach = Math.hypot(1, 1.0625) - 1 + 0.125 + 0.125;
+    expect(reach).toBeCloseTo(0.709, 3);
+    expect(pointDepthExtentM(1, 0.125, ctx)).toBeCloseTo(reach, 12);
+    // from 0.75 m (footprint 2 sqrt(2 * 0.75 * 0.25 + 0.25^2) + 0.5 + 0.125 = 1.948 m) it reaches 0.729 m:
+    // slices 6-10 (0.625 m) lie within it, slices 6-11 (0.75 m) do not
+    expect(pointDepthExtentM(0.75, 0.125, ctx)).toBeCloseTo(0.729, 3);
+    const blobIn = (last: number) => anomaly(cellsOf((x, y) => Math.abs(x - 12) < 0.45 && Math.abs(y - 3) < 0.45), 6, last);
+    expect(isPointSized(blobIn(10), ctx)).toBe(true);
+    expect(isPointSized(blobIn(11), ctx)).toBe(false);
+    // a velocity 1e-7 lower moves the bound by nanometres, not across a slice
+    expect(isPointSized(blobIn(10), { ...ctx, velocityMPerNs: 0.1 - 1e-7 })).toBe(true);
+    // a piece that may join a utility's pieces is one pulse thick: two slices, whatever the rounding, not three
+    expect(isPointPiece(blobIn(7), ctx)).toBe(true);
+    expect(isPointPiece(blobIn(7), { ...ctx, velocityMPerNs: 0.1 - 1e-7 })).toBe(true);
+    expect(isPointPiece(blobIn(8), ctx)).toBe(false);
   });
 
   it('with fewer than five point-sized anomalies there is no population to be weak against: they stay structures', () => {
@@ -205,8 +217,8 @@ describe('joining pieces of a utility', () => {
     const left = anomaly(cellsOf((x, y) => Math.abs(y - 12) < 0.2 && x > 2 && x < 6), 5, 5);
     const blob = anomaly(cellsOf((x, y) => Math.abs(y - 12) < 0.45 && Math.abs(x - 6.8) < 0.45), 5, 5);
     const right = anomaly(cellsOf((x, y) => Math.abs(y - 12) < 0.2 && x > 7.6 && x < 12), 5, 5);
-    const also = { metresPerUnit: 1, alsoJoinable: (a: Anomaly3D) => isPointSized(a, ctx) };
-    expect(isPointSized(blob, ctx)).toBe(true);
+    const also = { metresPerUnit: 1, alsoJoinable: (a: Anomaly3D) => isPointPiece(a, ctx) };
+    expect(isPointPiece(blob, ctx)).toBe(true);
     expect(joinAlignedPieces([left, blob, right], g, 0.5, (z) => maxUtilityWidthM(z, ctx), { metresPerUnit: 1 })).toContainEqual([1]);
     expect(joinAlignedPieces([left, blob, right], g, 0.5, (z) => maxUtilityWidthM(z, ctx), also)).toContainEqual([0, 1, 2]);
     const stones = [6.8, 7.9].map((x0) => anomaly(cellsOf((x, y) => Math.abs(y - 20) < 0.45 && Math.abs(x - x0) < 0.45), 5, 5));

@@ -6,7 +6,7 @@ import {
   fitNoiseLaw,
   joinAlignedPieces,
   isExtensive,
-  isPointSized,
+  isPointPiece,
   maxUtilityWidthM,
   sameSliceWidthM,
   noiseMean,
@@ -406,7 +406,7 @@ function lineAzimuths(lines: ScreenInput['lines']): number[] {
  */
 function joinPieces(screened: ScreenedAnomaly[], fromBefore: Set<Anomaly3D>, ctx: ClassifyContext, grid: SliceGrid, stack: SliceStack, options: ScreenOptions, mpu: number): void {
   const idx = screened.map((_s, i) => i).filter((i) => screened[i]!.verdict.origin !== 'above-ground' && !fromBefore.has(screened[i]!.anomaly));
-  const groups = joinAlignedPieces(idx.map((i) => screened[i]!.anomaly), grid, ctx.lineSpacingM, (z) => maxUtilityWidthM(z, ctx, options.classes), { ...options, metresPerUnit: mpu, alsoJoinable: (a) => isPointSized(a, ctx), lineAzimuthsDeg: ctx.lineAzimuthsDeg ?? [] });
+  const groups = joinAlignedPieces(idx.map((i) => screened[i]!.anomaly), grid, ctx.lineSpacingM, (z) => maxUtilityWidthM(z, ctx, options.classes), { ...options, metresPerUnit: mpu, alsoJoinable: (a) => isPointPiece(a, ctx), lineAzimuthsDeg: ctx.lineAzimuthsDeg ?? [] });
   const drop = new Set<number>();
   for (const g of groups) {
     if (g.length < 2) continue;
