@@ -63,10 +63,10 @@ export function fk2d(
   }
   const [lo, hi] = band(power, energyTolerance);
   for (let i = 0; i < nTraces; i++) {
-    for (let m = 0; m < nw; m++) {
-      if (m >= lo && m <= hi) continue;
-      spec[2 * (i * nw + m)] = 0;
-      spec[2 * (i * nw + m) + 1] = 0;
+    if (hi < lo) spec.fill(0, 2 * i * nw, 2 * (i + 1) * nw);
+    else {
+      spec.fill(0, 2 * i * nw, 2 * (i * nw + lo));
+      spec.fill(0, 2 * (i * nw + hi + 1), 2 * (i + 1) * nw);
     }
   }
   acrossTraces(spec, nx, nw, false, lo, hi);
@@ -567,9 +567,11 @@ export function passThroughBack(
   const back = scratch('fk back', img.length);
   bistaticResample(img, nTraces, nSamples, dtNs, timeZeroNs, layers, separationM, false, back);
   const tMin = separationM / (layers[0] as { velocityMPerNs: number }).velocityMPerNs;
-  for (let k = 0; k < nSamples; k++) {
-    const keep = k * dtNs - timeZeroNs <= tMin;
-    for (let i = 0; i < nTraces; i++) dst[i * nSamples + k] = keep ? (src[i * nSamples + k] as number) : (back[i * nSamples + k] as number);
+  const keep = new Uint8Array(nSamples);
+  for (let k = 0; k < nSamples; k++) keep[k] = k * dtNs - timeZeroNs <= tMin ? 1 : 0;
+  for (let i = 0; i < nTraces; i++) {
+    const o = i * nSamples;
+    for (let k = 0; k < nSamples; k++) dst[o + k] = keep[k] ? (src[o + k] as number) : (back[o + k] as number);
   }
 }
 
