@@ -381,14 +381,14 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
   }
   // in time, two real traces per complex inverse: ifft(A + iB) = a + ib for Hermitian A, B (bins past jHi stay 0)
   const acc = new Float64Array(2 * nSamples);
+  // the bins past jHi stay 0: packing writes the others, and a run leaves its input as it was
+  full.fill(0);
   for (let i = 0; i < nTraces; i += 2) {
     const pair = i + 1 < nTraces;
     const oa = 2 * i * nm;
     const ob = 2 * (i + 1) * nm;
     acc.fill(0);
     for (const { k0, k1, bs, ht } of nodes) {
-      // the transform's input is overwritten by each run: the bins past jHi are zeroed again
-      full.fill(0, 2 * nm, 2 * (nt - nm + 1));
       packTracePair(ht, oa, pair ? ob : -1, 0, nm - 1, nw, nt, full);
       const back = ft.run(true);
       for (let k = k0; k <= k1; k++) acc[k] = (acc[k] as number) + (bs[k] as number) * (back[2 * k] as number);
