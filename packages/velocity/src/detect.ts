@@ -230,28 +230,39 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   // With `floor`, a score that cannot exceed it is returned as `floor` itself, decided by counting the
   // values above it (the median of n values is <= floor when fewer than n / 2 exceed it, and > floor when
   // more than n / 2 do), without the selections: the scan only needs the scores above its threshold.
+  // The flanks' sizes are counted first (positions only), so that with `floor` the values stop as soon
+  // as one flank can no longer have half of them above it: the same result, most curves of the scan
+  // decided after a part of one flank.
   const curveScore = (x0: number, z: number, v: number, ap: number, floor = -Infinity): number => {
     const [a, b] = traceRange(x0, ap);
     const stride = Math.max(1, Math.ceil((b - a + 1) / 120));
     const skip = 1.5 * spacing;
     let nl = 0;
     let nr = 0;
-    let al = 0;
-    let ar = 0;
+    for (let j = a; j <= b; j += stride) {
+      const d = along[j]! - x0;
+      if (Math.abs(d) < skip) continue;
+      if (d < 0) nl++;
+      else nr++;
+    }
+    if (nl < 2 || nr < 2) return 0;
+    // a flank fails (fewer than half of its values above `floor`) once more than half are not above it
+    let il = 0;
+    let ir = 0;
+    let bl = 0;
+    let br = 0;
     for (let j = a; j <= b; j += stride) {
       const d = along[j]! - x0;
       if (Math.abs(d) < skip) continue;
       const u = at(j, sampleOf(hyperbolaTime(along[j]!, x0, z, v, sep)));
       if (d < 0) {
-        left[nl++] = u;
-        if (u > floor) al++;
+        left[il++] = u;
+        if (!(u > floor) && 2 * ++bl > nl) return floor;
       } else {
-        right[nr++] = u;
-        if (u > floor) ar++;
+        right[ir++] = u;
+        if (!(u > floor) && 2 * ++br > nr) return floor;
       }
     }
-    if (nl < 2 || nr < 2) return 0;
-    if (2 * al < nl || 2 * ar < nr) return floor;
     return Math.min(median(left.subarray(0, nl)), median(right.subarray(0, nr)));
   };
 
