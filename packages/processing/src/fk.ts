@@ -364,10 +364,15 @@ export function bistaticResample(
   toZeroOffset: boolean,
   out: Float64Array | Float32Array,
 ): void {
-  const { src, tap, wt } = resampleMap(nSamples, dtNs, timeZeroNs, layers, separationM, toZeroOffset);
+  resampleFrom(data, nTraces, nSamples, resampleMap(nSamples, dtNs, timeZeroNs, layers, separationM, toZeroOffset), 0, out);
+}
+
+/** `bistaticResample` through its map, samples `k0` on of every trace only. */
+function resampleFrom(data: ArrayLike<number>, nTraces: number, nSamples: number, map: ResampleMap, k0: number, out: Float64Array | Float32Array): void {
+  const { src, tap, wt } = map;
   for (let i = 0; i < nTraces; i++) {
     const o = i * nSamples;
-    for (let k = 0; k < nSamples; k++) {
+    for (let k = k0; k < nSamples; k++) {
       const t = tap[k] as number;
       if (t >= 0) {
         const q = o + t;
@@ -599,16 +604,13 @@ export function passThroughBack(
   layers: readonly { topM: number; velocityMPerNs: number }[],
   separationM: number,
 ): void {
-  // float64 work array: each value is rounded to float32 once, in `dst`, as it was in a float32 one
-  const back = scratch('fk back', img.length);
-  bistaticResample(img, nTraces, nSamples, dtNs, timeZeroNs, layers, separationM, false, back);
+  // the samples kept from `src` are the first ones (time grows with k); the others are resampled
+  // straight into `dst`, each value rounded to float32 once
   const tMin = separationM / (layers[0] as { velocityMPerNs: number }).velocityMPerNs;
-  const keep = new Uint8Array(nSamples);
-  for (let k = 0; k < nSamples; k++) keep[k] = k * dtNs - timeZeroNs <= tMin ? 1 : 0;
-  for (let i = 0; i < nTraces; i++) {
-    const o = i * nSamples;
-    for (let k = 0; k < nSamples; k++) dst[o + k] = keep[k] ? (src[o + k] as number) : (back[o + k] as number);
-  }
+  let kept = 0;
+  while (kept < nSamples && kept * dtNs - timeZeroNs <= tMin) kept++;
+  if (kept > 0) for (let i = 0; i < nTraces; i++) for (let k = 0; k < kept; k++) dst[i * nSamples + k] = src[i * nSamples + k] as number;
+  resampleFrom(img, nTraces, nSamples, resampleMap(nSamples, dtNs, timeZeroNs, layers, separationM, false), kept, dst);
 }
 
 const scratchPool = new Map<string, Float64Array>();
