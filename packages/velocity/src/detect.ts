@@ -108,6 +108,47 @@ function lowerQuartile(a: Float32Array): number {
   return selectInPlace(a, Math.floor(0.25 * a.length));
 }
 
+/** The envelope divided by the noise level of its sample (`envelopeLevel`), as float32. */
+function normalised(E: Float32Array, level: Float64Array, nTraces: number, nSamples: number): Float32Array {
+  const N = new Float32Array(E.length);
+  const inv = Float32Array.from(level, (l) => 1 / l);
+  for (let t = 0; t < nTraces; t++) {
+    const o = t * nSamples;
+    for (let s = 0; s < nSamples; s++) N[o + s] = E[o + s]! * inv[s]!;
+  }
+  return N;
+}
+
+/**
+ * Local maxima of the normalised envelope at samples [sStart, sEnd) at or above `threshold` over
+ * +-`nbT` traces and +-`halfS` samples (ties go to the earlier trace, then the earlier sample).
+ */
+function apexCandidates(N: Float32Array, nTraces: number, nSamples: number, sStart: number, sEnd: number, threshold: number, nbT: number, halfS: number): { t: number; s: number; v: number }[] {
+  const cands: { t: number; s: number; v: number }[] = [];
+  for (let t = 0; t < nTraces; t++) {
+    for (let s = sStart; s < sEnd; s++) {
+      const v = N[t * nSamples + s]!;
+      if (v < threshold) continue;
+      let isMax = true;
+      for (let dt = -nbT; dt <= nbT && isMax; dt++) {
+        const tt = t + dt;
+        if (tt < 0 || tt >= nTraces) continue;
+        for (let ds = -halfS; ds <= halfS; ds++) {
+          const ss = s + ds;
+          if (ss < 0 || ss >= nSamples || (dt === 0 && ds === 0)) continue;
+          const u = N[tt * nSamples + ss]!;
+          if (u > v || (u === v && (dt < 0 || (dt === 0 && ds < 0)))) {
+            isMax = false;
+            break;
+          }
+        }
+      }
+      if (isMax) cands.push({ t, s, v });
+    }
+  }
+  return cands;
+}
+
 export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): DetectedHyperbola[] {
   const { nTraces, nSamples, dtNs, timeZeroNs } = line;
   if (nTraces < 8 || nSamples < 8) return [];
@@ -151,12 +192,7 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   const E = envelope(clean, {}, clean === line ? undefined : clean.data).data;
   const level = envelopeLevel(E, nTraces, nSamples, halfPeriodS, options.levelFloor ?? 3e-3);
   // Normalised envelope: thresholds and scores. Pick times come from E itself, whose peak is not shifted by the level.
-  const N = new Float32Array(E.length);
-  const inv = Float32Array.from(level, (l) => 1 / l);
-  for (let t = 0; t < nTraces; t++) {
-    const o = t * nSamples;
-    for (let s = 0; s < nSamples; s++) N[o + s] = E[o + s]! * inv[s]!;
-  }
+  const N = normalised(E, level, nTraces, nSamples);
   const at = (t: number, sf: number): number => {
     if (sf < 0 || sf > nSamples - 1) return 0;
     const s0 = Math.floor(sf);
@@ -172,28 +208,7 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   const sEnd = nSamples - 1 - 4 * halfPeriodS;
   const nbT = 2;
   const apexShift = 2;
-  const cands: { t: number; s: number; v: number }[] = [];
-  for (let t = 0; t < nTraces; t++) {
-    for (let s = sStart; s < sEnd; s++) {
-      const v = N[t * nSamples + s]!;
-      if (v < candTh) continue;
-      let isMax = true;
-      for (let dt = -nbT; dt <= nbT && isMax; dt++) {
-        const tt = t + dt;
-        if (tt < 0 || tt >= nTraces) continue;
-        for (let ds = -halfPeriodS; ds <= halfPeriodS; ds++) {
-          const ss = s + ds;
-          if (ss < 0 || ss >= nSamples || (dt === 0 && ds === 0)) continue;
-          const u = N[tt * nSamples + ss]!;
-          if (u > v || (u === v && (dt < 0 || (dt === 0 && ds < 0)))) {
-            isMax = false;
-            break;
-          }
-        }
-      }
-      if (isMax) cands.push({ t, s, v });
-    }
-  }
+  const cands = apexCandidates(N, nTraces, nSamples, sStart, sEnd, candTh, nbT, halfPeriodS);
   cands.sort((a, b) => b.v - a.v);
 
   const velocities = new Float64Array(nV);
