@@ -46,6 +46,8 @@ export class WasmFFT implements Transform {
   private readonly twInv: number[] = [];
   private readonly bufA: number;
   private readonly bufB: number;
+  /** The third work array: the stages after the first alternate between B and C, so A keeps the input. */
+  private readonly bufC: number;
   private readonly view: Float64Array;
 
   constructor(n: number) {
@@ -56,7 +58,7 @@ export class WasmFFT implements Transform {
     this.radices = radices;
     // twiddles per stage: m (p - 1) complex numbers, each stored as 4 doubles (wr, wr, -wi, wi)
     const twDoubles = twiddles.reduce((sum, tw) => sum + 2 * tw.length, 0);
-    const bytes = 8 * (2 * 2 * n + 2 * twDoubles);
+    const bytes = 8 * (3 * 2 * n + 2 * twDoubles);
     const instance = new WebAssembly.Instance(mod, {});
     this.k = instance.exports as unknown as Kernels;
     const have = this.k.memory.buffer.byteLength;
@@ -85,6 +87,7 @@ export class WasmFFT implements Transform {
       at += 64 * m * (p - 1);
       len = m;
     }
+    this.bufC = at;
   }
 
   transform(out: Float64Array, data: Float64Array): void {
@@ -118,7 +121,7 @@ export class WasmFFT implements Transform {
 
   /**
    * The transform (the inverse without its 1/n) of what `input` holds, returned as a view of the module's
-   * memory, valid until the next call; `input` is overwritten (the stages work in it).
+   * memory, valid until the next call; `input` is left as it was (the stages work in the other two arrays).
    */
   runInput(inverse: boolean): Float64Array {
     const x = this.stageRun(inverse);
@@ -137,7 +140,7 @@ export class WasmFFT implements Transform {
     out.set(this.view.subarray(x / 8, x / 8 + 2 * this.size));
   }
 
-  /** The stages on the input at `bufA`; returns the byte offset of the result. */
+  /** The stages on the input at `bufA` (left as it was); returns the byte offset of the result. */
   private stageRun(inverse: boolean): number {
     const k = this.k;
     const sg = inverse ? -1 : 1;
@@ -156,7 +159,8 @@ export class WasmFFT implements Transform {
       } else if (p === 2) k.radix2(x, y, m, s, tw);
       else if (p === 3) k.radix3(x, y, m, s, tw, sg);
       else k.radix5(x, y, m, s, tw, sg);
-      [x, y] = [y, x];
+      if (st === 0) [x, y] = [y, this.bufC];
+      else [x, y] = [y, x];
       s *= p;
       len = m;
     }

@@ -52,7 +52,7 @@ export function inverseUnscaled(f: Transform, out: Float64Array, data: Float64Ar
 
 /** A transform that runs on its own input array (`stagedTransform`). */
 export interface Staged {
-  /** The input, 2n numbers (interleaved complex); the run may overwrite it. */
+  /** The input, 2n numbers (interleaved complex); a run leaves it as it was. */
   readonly input: Float64Array;
   /** The forward transform, or the inverse without its 1/n, of `input`: an array valid until the next run. */
   run(inverse: boolean): Float64Array;

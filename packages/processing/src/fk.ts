@@ -36,26 +36,36 @@ export function fk2d(
   const pair = ft.input;
   const power = new Float64Array(nw);
   // two real traces a, b per complex transform Z of a + ib: A[m] = (Z[m] + conj Z[-m]) / 2, B[m] = (Z[m] - conj Z[-m]) / 2i
+  // the padding past nSamples stays 0 (a run leaves its input as it was)
+  pair.fill(0);
   for (let i = 0; i < nTraces; i += 2) {
     const two = i + 1 < nTraces;
-    pair.fill(0);
-    for (let k = 0; k < nSamples; k++) pair[2 * k] = data[i * nSamples + k] as number;
-    if (two) for (let k = 0; k < nSamples; k++) pair[2 * k + 1] = data[(i + 1) * nSamples + k] as number;
+    const oa = i * nSamples;
+    if (two) {
+      const ob = oa + nSamples;
+      for (let k = 0; k < nSamples; k++) {
+        pair[2 * k] = data[oa + k] as number;
+        pair[2 * k + 1] = data[ob + k] as number;
+      }
+    } else for (let k = 0; k < nSamples; k++) {
+      pair[2 * k] = data[oa + k] as number;
+      pair[2 * k + 1] = 0;
+    }
     const cplx = ft.run(false);
-    const oa = 2 * i * nw;
-    const ob = oa + 2 * nw;
+    const sa = 2 * i * nw;
+    const sb = sa + 2 * nw;
     for (let m = 0; m < nw; m++) {
       const c = 2 * ((nt - m) % nt);
       const zr = cplx[2 * m] as number, zi = cplx[2 * m + 1] as number;
       const cr = cplx[c] as number, ci = cplx[c + 1] as number;
       const ar = 0.5 * (zr + cr), ai = 0.5 * (zi - ci);
-      spec[oa + 2 * m] = ar;
-      spec[oa + 2 * m + 1] = ai;
+      spec[sa + 2 * m] = ar;
+      spec[sa + 2 * m + 1] = ai;
       let p = ar * ar + ai * ai;
       if (two) {
         const br = 0.5 * (zi + ci), bi = -0.5 * (zr - cr);
-        spec[ob + 2 * m] = br;
-        spec[ob + 2 * m + 1] = bi;
+        spec[sb + 2 * m] = br;
+        spec[sb + 2 * m + 1] = bi;
         p += br * br + bi * bi;
       }
       power[m] = (power[m] as number) + p;
@@ -63,10 +73,10 @@ export function fk2d(
   }
   const [lo, hi] = band(power, energyTolerance);
   for (let i = 0; i < nTraces; i++) {
-    for (let m = 0; m < nw; m++) {
-      if (m >= lo && m <= hi) continue;
-      spec[2 * (i * nw + m)] = 0;
-      spec[2 * (i * nw + m) + 1] = 0;
+    if (hi < lo) spec.fill(0, 2 * i * nw, 2 * (i + 1) * nw);
+    else {
+      spec.fill(0, 2 * i * nw, 2 * (i * nw + lo));
+      spec.fill(0, 2 * (i * nw + hi + 1), 2 * (i + 1) * nw);
     }
   }
   acrossTraces(spec, nx, nw, false, lo, hi);
@@ -354,6 +364,47 @@ export function bistaticResample(
   toZeroOffset: boolean,
   out: Float64Array | Float32Array,
 ): void {
+  resampleFrom(data, nTraces, nSamples, resampleMap(nSamples, dtNs, timeZeroNs, layers, separationM, toZeroOffset), 0, out);
+}
+
+/** `bistaticResample` through its map, samples `k0` on of every trace only. */
+function resampleFrom(data: ArrayLike<number>, nTraces: number, nSamples: number, map: ResampleMap, k0: number, out: Float64Array | Float32Array): void {
+  const { src, tap, wt } = map;
+  for (let i = 0; i < nTraces; i++) {
+    const o = i * nSamples;
+    for (let k = k0; k < nSamples; k++) {
+      const t = tap[k] as number;
+      if (t >= 0) {
+        const q = o + t;
+        const w = 4 * k;
+        out[o + k] = (data[q] as number) * (wt[w] as number) + (data[q + 1] as number) * (wt[w + 1] as number) + (data[q + 2] as number) * (wt[w + 2] as number) + (data[q + 3] as number) * (wt[w + 3] as number);
+        continue;
+      }
+      const u = src[k] as number;
+      out[o + k] = u < 0 ? 0 : cubicAt(data, o + u, o, o + nSamples);
+    }
+  }
+}
+
+interface ResampleMap {
+  /** Source sample position of every output sample (-1: none). */
+  src: Float64Array;
+  /** First of the four Keys taps of every output sample whose taps all lie inside the trace, else -1. */
+  tap: Int32Array;
+  /** Their weights, four per sample. */
+  wt: Float64Array;
+}
+
+const resampleMaps = new Map<string, ResampleMap>();
+
+/**
+ * The sample map of `bistaticResample`, shared by all traces, kept for the last few parameter sets (the
+ * lines of a site share them, and the way back bisects for every sample).
+ */
+function resampleMap(nSamples: number, dtNs: number, timeZeroNs: number, layers: readonly MigrationLayer[], separationM: number, toZeroOffset: boolean): ResampleMap {
+  const key = JSON.stringify([nSamples, dtNs, timeZeroNs, layers.map((l) => [l.topM, l.velocityMPerNs]), separationM, toZeroOffset]);
+  const kept = resampleMaps.get(key);
+  if (kept) return kept;
   // source sample position of every output sample, shared by all traces
   const src = new Float64Array(nSamples).fill(-1);
   const tMin = bistaticTime(0, layers, separationM);
@@ -385,20 +436,10 @@ export function bistaticResample(
     tap[k] = i0 - 1;
     for (let j = 0; j < 4; j++) wt[4 * k + j] = keys(u - (i0 - 1 + j));
   }
-  for (let i = 0; i < nTraces; i++) {
-    const o = i * nSamples;
-    for (let k = 0; k < nSamples; k++) {
-      const t = tap[k] as number;
-      if (t >= 0) {
-        const q = o + t;
-        const w = 4 * k;
-        out[o + k] = (data[q] as number) * (wt[w] as number) + (data[q + 1] as number) * (wt[w + 1] as number) + (data[q + 2] as number) * (wt[w + 2] as number) + (data[q + 3] as number) * (wt[w + 3] as number);
-        continue;
-      }
-      const u = src[k] as number;
-      out[o + k] = u < 0 ? 0 : cubicAt(data, o + u, o, o + nSamples);
-    }
-  }
+  if (resampleMaps.size >= 8) resampleMaps.delete(resampleMaps.keys().next().value as string);
+  const map = { src, tap, wt };
+  resampleMaps.set(key, map);
+  return map;
 }
 
 /** Layers sorted from the surface, checked (velocity > 0, the first at 0 m). */
@@ -563,14 +604,13 @@ export function passThroughBack(
   layers: readonly { topM: number; velocityMPerNs: number }[],
   separationM: number,
 ): void {
-  // float64 work array: each value is rounded to float32 once, in `dst`, as it was in a float32 one
-  const back = scratch('fk back', img.length);
-  bistaticResample(img, nTraces, nSamples, dtNs, timeZeroNs, layers, separationM, false, back);
+  // the samples kept from `src` are the first ones (time grows with k); the others are resampled
+  // straight into `dst`, each value rounded to float32 once
   const tMin = separationM / (layers[0] as { velocityMPerNs: number }).velocityMPerNs;
-  for (let k = 0; k < nSamples; k++) {
-    const keep = k * dtNs - timeZeroNs <= tMin;
-    for (let i = 0; i < nTraces; i++) dst[i * nSamples + k] = keep ? (src[i * nSamples + k] as number) : (back[i * nSamples + k] as number);
-  }
+  let kept = 0;
+  while (kept < nSamples && kept * dtNs - timeZeroNs <= tMin) kept++;
+  if (kept > 0) for (let i = 0; i < nTraces; i++) for (let k = 0; k < kept; k++) dst[i * nSamples + k] = src[i * nSamples + k] as number;
+  resampleFrom(img, nTraces, nSamples, resampleMap(nSamples, dtNs, timeZeroNs, layers, separationM, false), kept, dst);
 }
 
 const scratchPool = new Map<string, Float64Array>();

@@ -319,11 +319,16 @@ function weighBin(val: Float64Array, sinT: Float64Array, thT: Float64Array, base
   }
 }
 
-/** Each node's dip weights on the spectrum, back across traces and in time, its tau range blended into `out`. */
+/**
+ * Each node's dip weights on the spectrum, back across traces (every node first, each into its own
+ * trace-major array; the bins no node's taper reaches, most of the band, once for all), then per pair of
+ * traces back in time node after node, each node's tau range blended into a sum of the pair's samples
+ * that goes to `out` once.
+ */
 function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, anglesDeg: readonly number[], blend: readonly Float64Array[], taper: number, out: Float32Array): Float32Array {
   const { val, sinT, nx, nt, jHi } = sp;
   const nw = nt / 2 + 1;
-  const acc = scratch('stolt acc', nTraces * nSamples).fill(0);
+  if (jHi < 0) return out.fill(0);
   const fx = stagedTransform(fftOfSize(nx));
   const ft = stagedTransform(fftOfSize(nt));
   const nm = jHi + 1;
@@ -331,57 +336,88 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
   // time transform); blocks of 16 bins write 256 contiguous bytes per trace
   const B = 16;
   const cols = Array.from({ length: B }, () => new Float64Array(2 * nx));
-  const ht = scratch('stolt ht', 2 * nTraces * nm);
   const col = fx.input;
   const full = ft.input;
-  const bs = new Float64Array(nSamples);
-  // the angle of every bin whose sine some node's taper reaches, once for all nodes (asin is costly)
+  // the angle of every bin whose sine some node's taper reaches and no node's limit cuts, once for all
+  // nodes (asin is costly; `weighBin` reads no angle at or past the limit)
   let sLow = 1;
-  for (const a of anglesDeg) sLow = Math.min(sLow, Math.sin(((a * Math.PI) / 180) * (1 - taper)));
-  const thT = scratch('stolt theta', nm * nx);
-  for (let q = 0; q < nm * nx; q++) {
-    const sin = sinT[q] as number;
-    thT[q] = sin > sLow && sin < 1 ? Math.asin(sin) : 0;
+  let sHigh = 0;
+  for (const a of anglesDeg) {
+    sLow = Math.min(sLow, Math.sin(((a * Math.PI) / 180) * (1 - taper)));
+    sHigh = Math.max(sHigh, Math.sin((a * Math.PI) / 180));
   }
   const rx = 1 / nx;
   const rt = 1 / nt;
+  // A node weighs a bin by 1 (`rx` with the inverse's 1 / nx) wherever no sine of the bin passes its
+  // taper's start: the largest sine of each bin, and from which bin on every bin is such a plain one
+  // for a node (below `sLow` for all). The plain bins are transformed across traces once, for every node.
+  const sinMax = new Float64Array(nm);
+  let tapered = 0;
+  for (let j = 0; j < nm; j++) {
+    let m = 0;
+    for (let ix = 0; ix < nx; ix++) m = Math.max(m, sinT[j * nx + ix] as number);
+    sinMax[j] = m;
+    if (m > sLow) tapered = j + 1;
+  }
+  const thT = scratch('stolt theta', nm * nx);
+  for (let q = 0; q < tapered * nx; q++) {
+    const sin = sinT[q] as number;
+    thT[q] = sin > sLow && sin < sHigh ? Math.asin(sin) : 0;
+  }
+  const across = (ht: Float64Array, m0: number, m1: number, s1: number, sMax: number, th1: number, thMax: number) => {
+    for (let b0 = m0; b0 < m1; b0 += B) {
+      const nbk = Math.min(B, m1 - b0);
+      for (let c = 0; c < nbk; c++) {
+        weighBin(val, sinT, thT, (b0 + c) * nx, nx, s1, sMax, th1, thMax, rx, col);
+        (cols[c] as Float64Array).set(fx.run(true));
+      }
+      scatterColumns(cols, nbk, nTraces, nm, b0, ht);
+    }
+  };
+  const nodes: { k0: number; k1: number; bs: Float64Array; ht: Float64Array; plainFrom: number }[] = [];
   for (let w = 0; w < anglesDeg.length; w++) {
     const b = blend[w] as Float64Array;
     let k0 = 0;
     while (k0 < nSamples && b[k0] === 0) k0++;
     let k1 = nSamples - 1;
     while (k1 >= k0 && b[k1] === 0) k1--;
-    if (k1 < k0 || jHi < 0) continue;
+    if (k1 < k0) continue;
     // the blend weights with the time inverse's 1 / nt
+    const bs = new Float64Array(nSamples);
     for (let k = k0; k <= k1; k++) bs[k] = (b[k] as number) * rt;
     // dipWeight (fk.ts) from the angles computed once: 1 up to the taper, 0 past the limit, the cosine between
     const thMax = ((anglesDeg[w] as number) * Math.PI) / 180;
     const th1 = thMax * (1 - taper);
     const s1 = Math.sin(th1);
     const sMax = Math.sin(thMax);
-    for (let m0 = 0; m0 < nm; m0 += B) {
-      const nbk = Math.min(B, nm - m0);
-      for (let c = 0; c < nbk; c++) {
-        weighBin(val, sinT, thT, (m0 + c) * nx, nx, s1, sMax, th1, thMax, rx, col);
-        (cols[c] as Float64Array).set(fx.run(true));
-      }
-      scatterColumns(cols, nbk, nTraces, nm, m0, ht);
-    }
-    // in time, two real traces per complex inverse: ifft(A + iB) = a + ib for Hermitian A, B (bins past jHi stay 0)
-    for (let i = 0; i < nTraces; i += 2) {
-      const pair = i + 1 < nTraces;
-      const oa = 2 * i * nm;
-      const ob = 2 * (i + 1) * nm;
-      // the transform's input is overwritten by each run: the bins past jHi are zeroed again
-      full.fill(0, 2 * nm, 2 * (nt - nm + 1));
-      packTracePair(ht, oa, pair ? ob : -1, 0, nm - 1, nw, nt, full);
-      const back = ft.run(true);
-      const o = i * nSamples;
-      for (let k = k0; k <= k1; k++) acc[o + k] = (acc[o + k] as number) + (bs[k] as number) * (back[2 * k] as number);
-      if (pair) for (let k = k0; k <= k1; k++) acc[o + nSamples + k] = (acc[o + nSamples + k] as number) + (bs[k] as number) * (back[2 * k + 1] as number);
-    }
+    let plainFrom = nm;
+    while (plainFrom > 0 && (sinMax[plainFrom - 1] as number) <= s1) plainFrom--;
+    const ht = scratch(`stolt ht ${nodes.length}`, 2 * nTraces * nm);
+    across(ht, 0, plainFrom, s1, sMax, th1, thMax);
+    nodes.push({ k0, k1, bs, ht, plainFrom });
   }
-  for (let q = 0; q < acc.length; q++) out[q] = acc[q] as number;
+  // the plain bins (weighBin's weight is 1 below any taper: the same columns as each node's own)
+  const plainFrom = Math.min(nm, ...nodes.map((n) => n.plainFrom));
+  const plain = scratch('stolt ht plain', 2 * nTraces * nm);
+  across(plain, plainFrom, nm, Infinity, Infinity, 0, 0);
+  // in time, two real traces per complex inverse: ifft(A + iB) = a + ib for Hermitian A, B (bins past jHi stay 0)
+  const acc = new Float64Array(2 * nSamples);
+  // the bins past jHi stay 0: packing writes the others, and a run leaves its input as it was
+  full.fill(0);
+  for (let i = 0; i < nTraces; i += 2) {
+    const pair = i + 1 < nTraces;
+    const oa = 2 * i * nm;
+    const ob = 2 * (i + 1) * nm;
+    acc.fill(0);
+    for (const { k0, k1, bs, ht, plainFrom: p } of nodes) {
+      packTracePair(ht, oa, pair ? ob : -1, 0, p - 1, nw, nt, full);
+      packTracePair(plain, oa, pair ? ob : -1, p, nm - 1, nw, nt, full);
+      const back = ft.run(true);
+      for (let k = k0; k <= k1; k++) acc[k] = (acc[k] as number) + (bs[k] as number) * (back[2 * k] as number);
+      if (pair) for (let k = k0; k <= k1; k++) acc[nSamples + k] = (acc[nSamples + k] as number) + (bs[k] as number) * (back[2 * k + 1] as number);
+    }
+    out.set(pair ? acc : acc.subarray(0, nSamples), i * nSamples);
+  }
   return out;
 }
 /**

@@ -5,7 +5,7 @@ import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
-import { MixedRadixFFT, fftOfSize, nextFastSize } from '../src/fft';
+import { MixedRadixFFT, fftOfSize, nextFastSize, stagedTransform } from '../src/fft';
 import { WasmFFT, wasmFftAvailable } from '../src/fft-wasm';
 import { FFT_WASM_BASE64 } from '../src/fft-wasm-binary';
 
@@ -56,6 +56,23 @@ describe.each([
     f.inverseUnscaled(b, x);
     for (let i = 0; i < a.length; i++) expect(Math.abs((b[i] as number) - 1280 * (a[i] as number))).toBeLessThan(1e-12 * 1280);
     expect(x).toEqual(copy);
+  });
+
+  it('a staged run gives the transform (and the unscaled inverse) of its input and leaves the input as it was', () => {
+    for (const n of [600, 1280]) {
+      const f = make(n);
+      const st = stagedTransform(f);
+      const x = new Float64Array(2 * n).map((_, i) => Math.sin(0.61 * i + 0.05 * i * i));
+      const fwd = new Float64Array(2 * n);
+      const inv = new Float64Array(2 * n);
+      f.transform(fwd, x);
+      f.inverseUnscaled(inv, x);
+      st.input.set(x);
+      expect(Array.from(st.run(false))).toEqual(Array.from(fwd));
+      expect(st.input).toEqual(x);
+      expect(Array.from(st.run(true))).toEqual(Array.from(inv));
+      expect(st.input).toEqual(x);
+    }
   });
 
   it('nextFastSize: the smallest size >= n with prime factors 2, 3, 5 only', () => {

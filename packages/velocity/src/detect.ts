@@ -108,6 +108,47 @@ function lowerQuartile(a: Float32Array): number {
   return selectInPlace(a, Math.floor(0.25 * a.length));
 }
 
+/** The envelope divided by the noise level of its sample (`envelopeLevel`), as float32. */
+function normalised(E: Float32Array, level: Float64Array, nTraces: number, nSamples: number): Float32Array {
+  const N = new Float32Array(E.length);
+  const inv = Float32Array.from(level, (l) => 1 / l);
+  for (let t = 0; t < nTraces; t++) {
+    const o = t * nSamples;
+    for (let s = 0; s < nSamples; s++) N[o + s] = E[o + s]! * inv[s]!;
+  }
+  return N;
+}
+
+/**
+ * Local maxima of the normalised envelope at samples [sStart, sEnd) at or above `threshold` over
+ * +-`nbT` traces and +-`halfS` samples (ties go to the earlier trace, then the earlier sample).
+ */
+function apexCandidates(N: Float32Array, nTraces: number, nSamples: number, sStart: number, sEnd: number, threshold: number, nbT: number, halfS: number): { t: number; s: number; v: number }[] {
+  const cands: { t: number; s: number; v: number }[] = [];
+  for (let t = 0; t < nTraces; t++) {
+    for (let s = sStart; s < sEnd; s++) {
+      const v = N[t * nSamples + s]!;
+      if (v < threshold) continue;
+      let isMax = true;
+      for (let dt = -nbT; dt <= nbT && isMax; dt++) {
+        const tt = t + dt;
+        if (tt < 0 || tt >= nTraces) continue;
+        for (let ds = -halfS; ds <= halfS; ds++) {
+          const ss = s + ds;
+          if (ss < 0 || ss >= nSamples || (dt === 0 && ds === 0)) continue;
+          const u = N[tt * nSamples + ss]!;
+          if (u > v || (u === v && (dt < 0 || (dt === 0 && ds < 0)))) {
+            isMax = false;
+            break;
+          }
+        }
+      }
+      if (isMax) cands.push({ t, s, v });
+    }
+  }
+  return cands;
+}
+
 export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): DetectedHyperbola[] {
   const { nTraces, nSamples, dtNs, timeZeroNs } = line;
   if (nTraces < 8 || nSamples < 8) return [];
@@ -151,12 +192,7 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   const E = envelope(clean, {}, clean === line ? undefined : clean.data).data;
   const level = envelopeLevel(E, nTraces, nSamples, halfPeriodS, options.levelFloor ?? 3e-3);
   // Normalised envelope: thresholds and scores. Pick times come from E itself, whose peak is not shifted by the level.
-  const N = new Float32Array(E.length);
-  const inv = Float32Array.from(level, (l) => 1 / l);
-  for (let t = 0; t < nTraces; t++) {
-    const o = t * nSamples;
-    for (let s = 0; s < nSamples; s++) N[o + s] = E[o + s]! * inv[s]!;
-  }
+  const N = normalised(E, level, nTraces, nSamples);
   const at = (t: number, sf: number): number => {
     if (sf < 0 || sf > nSamples - 1) return 0;
     const s0 = Math.floor(sf);
@@ -172,28 +208,7 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   const sEnd = nSamples - 1 - 4 * halfPeriodS;
   const nbT = 2;
   const apexShift = 2;
-  const cands: { t: number; s: number; v: number }[] = [];
-  for (let t = 0; t < nTraces; t++) {
-    for (let s = sStart; s < sEnd; s++) {
-      const v = N[t * nSamples + s]!;
-      if (v < candTh) continue;
-      let isMax = true;
-      for (let dt = -nbT; dt <= nbT && isMax; dt++) {
-        const tt = t + dt;
-        if (tt < 0 || tt >= nTraces) continue;
-        for (let ds = -halfPeriodS; ds <= halfPeriodS; ds++) {
-          const ss = s + ds;
-          if (ss < 0 || ss >= nSamples || (dt === 0 && ds === 0)) continue;
-          const u = N[tt * nSamples + ss]!;
-          if (u > v || (u === v && (dt < 0 || (dt === 0 && ds < 0)))) {
-            isMax = false;
-            break;
-          }
-        }
-      }
-      if (isMax) cands.push({ t, s, v });
-    }
-  }
+  const cands = apexCandidates(N, nTraces, nSamples, sStart, sEnd, candTh, nbT, halfPeriodS);
   cands.sort((a, b) => b.v - a.v);
 
   const velocities = new Float64Array(nV);
@@ -230,28 +245,39 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   // With `floor`, a score that cannot exceed it is returned as `floor` itself, decided by counting the
   // values above it (the median of n values is <= floor when fewer than n / 2 exceed it, and > floor when
   // more than n / 2 do), without the selections: the scan only needs the scores above its threshold.
+  // The flanks' sizes are counted first (positions only), so that with `floor` the values stop as soon
+  // as one flank can no longer have half of them above it: the same result, most curves of the scan
+  // decided after a part of one flank.
   const curveScore = (x0: number, z: number, v: number, ap: number, floor = -Infinity): number => {
     const [a, b] = traceRange(x0, ap);
     const stride = Math.max(1, Math.ceil((b - a + 1) / 120));
     const skip = 1.5 * spacing;
     let nl = 0;
     let nr = 0;
-    let al = 0;
-    let ar = 0;
+    for (let j = a; j <= b; j += stride) {
+      const d = along[j]! - x0;
+      if (Math.abs(d) < skip) continue;
+      if (d < 0) nl++;
+      else nr++;
+    }
+    if (nl < 2 || nr < 2) return 0;
+    // a flank fails (fewer than half of its values above `floor`) once more than half are not above it
+    let il = 0;
+    let ir = 0;
+    let bl = 0;
+    let br = 0;
     for (let j = a; j <= b; j += stride) {
       const d = along[j]! - x0;
       if (Math.abs(d) < skip) continue;
       const u = at(j, sampleOf(hyperbolaTime(along[j]!, x0, z, v, sep)));
       if (d < 0) {
-        left[nl++] = u;
-        if (u > floor) al++;
+        left[il++] = u;
+        if (!(u > floor) && 2 * ++bl > nl) return floor;
       } else {
-        right[nr++] = u;
-        if (u > floor) ar++;
+        right[ir++] = u;
+        if (!(u > floor) && 2 * ++br > nr) return floor;
       }
     }
-    if (nl < 2 || nr < 2) return 0;
-    if (2 * al < nl || 2 * ar < nr) return floor;
     return Math.min(median(left.subarray(0, nl)), median(right.subarray(0, nr)));
   };
 

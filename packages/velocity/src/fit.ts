@@ -106,10 +106,13 @@ function pointPath(dx: number, z: number, h: number): number {
  * steps reach 1e-9 of the path here. With `grad` (length 3): dL/dx0, dL/dzc and dL/dR at the
  * specular point (envelope theorem: phi is stationary, so only P's motion with C and R counts).
  */
-function specularPath(dx: number, zc: number, R: number, h: number, grad: Float64Array | null): number {
+function specularPath(dx: number, zc: number, R: number, h: number, grad: Float64Array | null, known: SpecularPoints | null = null, i = 0): number {
   let sin = 0;
   let cos = 1;
-  if (R > 0) {
+  if (R > 0 && known && known.have[i]) {
+    sin = known.sin[i]!;
+    cos = known.cos[i]!;
+  } else if (R > 0) {
     let phi = Math.atan2(dx, zc);
     for (let it = 0; it < 3 && h > 0; it++) {
       sin = Math.sin(phi);
@@ -132,6 +135,11 @@ function specularPath(dx: number, zc: number, R: number, h: number, grad: Float6
     }
     sin = Math.sin(phi);
     cos = Math.cos(phi);
+    if (known) {
+      known.sin[i] = sin;
+      known.cos[i] = cos;
+      known.have[i] = 1;
+    }
   } else if (grad) {
     // A point has no specular point, but dL/dR at R = 0+ does: the circle first grows along the
     // bisector of the directions to the two antennas. Taking the top of the circle instead made dL/dR
@@ -162,6 +170,43 @@ function specularPath(dx: number, zc: number, R: number, h: number, grad: Float6
     grad[2] = (ax / d1 + bx / d2) * sin - (pz / d1 + pz / d2) * cos;
   }
   return d1 + d2;
+}
+
+/** Specular points (sin and cos of the angle at the axis) of the picks of one fit at one parameter set. */
+interface SpecularPoints {
+  x: Float64Array | null;
+  /** x0, t0, v, R and the separation they are for. */
+  key: Float64Array;
+  sin: Float64Array;
+  cos: Float64Array;
+  have: Uint8Array;
+}
+
+const specular: SpecularPoints = { x: null, key: new Float64Array(5), sin: new Float64Array(0), cos: new Float64Array(0), have: new Uint8Array(0) };
+
+/**
+ * The specular points kept for picks `x` at parameters `p` (emptied when either changed), or null for a
+ * point (no Newton solve). LM evaluates the cost at a step and, the step taken, its normal equations at
+ * the same parameters, and reweighting evaluates residuals where LM then starts: each pick's specular
+ * point is solved once per parameter set. One fit at a time per thread.
+ */
+function specularPoints(x: Float64Array, p: Params, s: number): SpecularPoints | null {
+  if (!(p[3]! > 0)) return null;
+  const k = specular.key;
+  if (specular.x !== x || k[0] !== p[0] || k[1] !== p[1] || k[2] !== p[2] || k[3] !== p[3] || k[4] !== s) {
+    specular.x = x;
+    k[0] = p[0]!;
+    k[1] = p[1]!;
+    k[2] = p[2]!;
+    k[3] = p[3]!;
+    k[4] = s;
+    if (specular.have.length < x.length) {
+      specular.sin = new Float64Array(x.length);
+      specular.cos = new Float64Array(x.length);
+      specular.have = new Uint8Array(x.length);
+    } else specular.have.fill(0, 0, x.length);
+  }
+  return specular;
 }
 
 /**
@@ -200,8 +245,8 @@ function axisDepth(p: Params, s: number): number {
 }
 
 /** Model time at offset xi for the parameters (NaN for impossible parameters). */
-function modelTime(xi: number, p: Params, s: number, zc: number): number {
-  return specularPath(xi - p[0]!, zc, p[3]!, s / 2, null) / p[2]!;
+function modelTime(xi: number, p: Params, s: number, zc: number, known: SpecularPoints | null = null, i = 0): number {
+  return specularPath(xi - p[0]!, zc, p[3]!, s / 2, null, known, i) / p[2]!;
 }
 
 export function fitHyperbola(offsetM: ArrayLike<number>, timeNs: ArrayLike<number>, options: FitOptions = {}): PointFit | null {
@@ -347,7 +392,8 @@ function irls(
 
 function residuals(x: Float64Array, t: Float64Array, p: Params, s: number, out: Float64Array): void {
   const zc = axisDepth(p, s);
-  for (let i = 0; i < x.length; i++) out[i] = t[i]! - modelTime(x[i]!, p, s, zc);
+  const known = specularPoints(x, p, s);
+  for (let i = 0; i < x.length; i++) out[i] = t[i]! - modelTime(x[i]!, p, s, zc, known, i);
 }
 
 /** Prior weights scaled to mean 1 (all 1 when none are given). */
@@ -389,11 +435,11 @@ const pathGrad = new Float64Array(3);
  * Jacobian row of t(x; x0, t0, v, R) into `out` (4 entries); returns t. With A = v t0 / 2 and
  * ztop = sqrt(A^2 - h^2), zc = ztop + R: dzc/dt0 = A v / 2 ztop, dzc/dv = A t0 / 2 ztop, dzc/dR = 1.
  */
-function jacobian(xi: number, p: Params, s: number, zc: number, out: Float64Array): number {
+function jacobian(xi: number, p: Params, s: number, zc: number, out: Float64Array, known: SpecularPoints | null, i: number): number {
   const t0 = p[1]!;
   const v = p[2]!;
   const R = p[3]!;
-  const L = specularPath(xi - p[0]!, zc, R, s / 2, pathGrad);
+  const L = specularPath(xi - p[0]!, zc, R, s / 2, pathGrad, known, i);
   const tt = L / v;
   const ztop = Math.max(zc - R, 1e-12);
   const A = (v * t0) / 2;
@@ -415,11 +461,12 @@ function normalEquations(x: Float64Array, t: Float64Array, w: Float64Array, p: P
   const g = scratchG[np]!.fill(0);
   const j = scratchJ;
   const zc = axisDepth(p, s);
+  const known = specularPoints(x, p, s);
   let cost = 0;
   for (let i = 0; i < x.length; i++) {
     const wi = w[i]!;
     if (wi === 0) continue;
-    const ri = t[i]! - jacobian(x[i]!, p, s, zc, j);
+    const ri = t[i]! - jacobian(x[i]!, p, s, zc, j, known, i);
     cost += wi * ri * ri;
     for (let a = 0; a < np; a++) {
       g[a] = g[a]! + wi * j[a]! * ri;
@@ -432,11 +479,12 @@ function normalEquations(x: Float64Array, t: Float64Array, w: Float64Array, p: P
 function weightedCost(x: Float64Array, t: Float64Array, w: Float64Array, p: Params, s: number): number {
   const zc = axisDepth(p, s);
   if (Number.isNaN(zc)) return Number.POSITIVE_INFINITY;
+  const known = specularPoints(x, p, s);
   let c = 0;
   for (let i = 0; i < x.length; i++) {
     const wi = w[i]!;
     if (wi === 0) continue;
-    const ri = t[i]! - modelTime(x[i]!, p, s, zc);
+    const ri = t[i]! - modelTime(x[i]!, p, s, zc, known, i);
     c += wi * ri * ri;
   }
   return c;
