@@ -193,8 +193,18 @@ export function pointDepthExtentM(depthM: number, thicknessM: number, ctx: Class
  */
 export function isPointSized(a: Anomaly3D, ctx: ClassifyContext): boolean {
   if (a.members.length === 0) return false;
+  const r = pointResponseOf(a, ctx);
+  return a.shape.lengthM <= r.acrossM && a.depthBottomM - a.depthTopM <= r.deepM + 1e-3;
+}
+
+/**
+ * A point scatterer's response at an anomaly's depth (the top of its first slice or of the zone below
+ * the near-surface zone, whichever is deeper) for its thickest slice: how far across (`pointFootprintM`)
+ * and how deep (`pointDepthExtentM`) it reaches.
+ */
+function pointResponseOf(a: Anomaly3D, ctx: ClassifyContext): { acrossM: number; deepM: number } {
   const z = Math.max(a.depthTopM, ctx.nearSurfaceM), th = thickestSliceM(a);
-  return a.shape.lengthM <= pointFootprintM(z, th, ctx) && a.depthBottomM - a.depthTopM <= pointDepthExtentM(z, th, ctx) + 1e-3;
+  return { acrossM: pointFootprintM(z, th, ctx), deepM: pointDepthExtentM(z, th, ctx) };
 }
 
 /**
@@ -207,7 +217,7 @@ export function isPointSized(a: Anomaly3D, ctx: ClassifyContext): boolean {
 export function isPointPiece(a: Anomaly3D, ctx: ClassifyContext): boolean {
   if (a.members.length === 0 || !isOnePulseThick(a, ctx)) return false;
   if (a.shape.kind === 'linear' && !(axisAngleDeg(a.shape.directionDeg, ctx.lineAzimuthsDeg ?? []) > 45)) return false;
-  return a.shape.lengthM <= pointFootprintM(Math.max(a.depthTopM, ctx.nearSurfaceM), thickestSliceM(a), ctx);
+  return a.shape.lengthM <= pointResponseOf(a, ctx).acrossM;
 }
 
 /** Smallest angle between an azimuth and any of `azimuths` (all modulo 180 degrees), degrees. */
@@ -311,8 +321,8 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
       const a = items[i]!.anomaly;
       // an outlier keeps its class: a utility stays one, a compact one is a structure (said why)
       if (a.strengthDb > fence && own[i]!.class === 'utility') continue;
-      const zt = Math.max(a.depthTopM, ctx.nearSurfaceM), th = thickestSliceM(a);
-      const size = `${round(pointFootprintM(zt, th, ctx))} m across, ${round(pointDepthExtentM(zt, th, ctx))} m deep`;
+      const r = pointResponseOf(a, ctx);
+      const size = `${round(r.acrossM)} m across, ${round(r.deepM)} m deep`;
       own[i] = a.strengthDb > fence
         ? { class: 'structure', reason: `point-sized (within a point scatterer's response at its depth, ${size}) but stronger than the site's ${strengths.length} point-sized anomalies (above ${round(fence)} dB, Tukey's upper fence): a small object` }
         : { class: 'clutter', reason: `point-sized: within a point scatterer's response at its depth (${size}), no stronger than the site's other point-sized anomalies (fence ${round(fence)} dB): a stone, a root or an object too small to tell` };
