@@ -46,8 +46,12 @@ const LEVELS: Record<SiteName, { utility: number; airRecall: number; targetAir: 
   yard: { utility: 0.8, airRecall: 0.9, targetAir: 0.15 },
   'carpark-ft': { utility: 0.58, airRecall: 0.9, targetAir: 0.1 },
   // the warehouse's air-wave levels: the screening flags 80 % of its air-wave anomalies (16 of 20) with
-  // 5 of 39 targets on a locus (12.8 %) since the noise-law detection; measured levels asserted
-  warehouse: { utility: 0.5, airRecall: 0.75, targetAir: 0.13 },
+  // 5 of 39 targets on a locus (12.8 %) since the noise-law detection; measured levels asserted.
+  // Pieces of buried objects taken back (inside-buried.ts, 2026-12-04): one column ghost (col-a3, slice 6)
+  // lies inside the water main's 3.6 m wide footprint at its depth and goes with it, 23 of 31 flagged
+  // (74 %, was 24); on the field bench's random scenes the rule halved the real anomalies flagged (odd
+  // seeds 97-143: 9.2 -> 4.8 %) for 0-1 point of air-wave anomalies flagged. Guard a little below.
+  warehouse: { utility: 0.5, airRecall: 0.72, targetAir: 0.13 },
 };
 
 const root = mkdtempSync(join(tmpdir(), 'lamina-screening-sites-'));

@@ -20,7 +20,8 @@ export type { Evidence, TestName };
  *   with the screening's `countUnsurveyed`, off by default),
  *   energy on the locus before background removal +0.5;
  * - continuity -3: a linear object that keeps its position and depth on both sides of an above-ground
- *   field and through it (bridges.ts) is as stationary as a failed slope says.
+ *   field and through it (bridges.ts) is as stationary as a failed slope says; so is a piece lying in a
+ *   buried object's footprint at that object's depth (inside-buried.ts).
  */
 export const WEIGHTS = {
   prior: -1,

@@ -26,6 +26,7 @@ import type { SliceGrid, SliceStack } from '@lamina/slices';
 import type { VelocityReport } from '@lamina/velocity';
 import { separateCrossings } from './crossings';
 import { bridgeThroughFields } from './bridges';
+import { piecesOfBuried } from './inside-buried';
 import { alongLineMembers, nearestLineLabels, planarStrips } from './along-line';
 import { lineSpacingM, sliceLoci, surveyedMask, type Line, type ToleranceOptions } from './context';
 import { combine, type Evidence } from './evidence';
@@ -98,6 +99,8 @@ export interface ScreenOptions extends ExtractOptions, ToleranceOptions {
   classes?: ClassifyOptions;
   /** Join subsurface pieces that line up in plan and depth into one anomaly (`joinAlignedPieces`). @default true */
   joinPieces?: boolean;
+  /** Take back above-ground pieces lying in a buried object's footprint at its depth (`piecesOfBuried`). @default true */
+  piecesOfBuried?: boolean;
 }
 
 export interface ScreenSummary {
@@ -114,6 +117,8 @@ export interface ScreenSummary {
   crossingsCut: number;
   /** Linear objects joined through an above-ground field (bridges.ts). */
   bridges: number;
+  /** Above-ground pieces taken back as pieces of a buried object (inside-buried.ts). */
+  piecesTaken: number;
   elapsedMs: number;
 }
 
@@ -264,6 +269,8 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   // pipes swallowed by ghost fields: collinear pieces on both sides, joined through the field
   const bridged = bridgeThroughFields(screened, stack, extraction.scores, ctx, { lowThreshold: options.lowThreshold ?? 3 });
   if (bridged.bridges > 0) screened.splice(0, screened.length, ...bridged.screened);
+  // flagged pieces of buried objects: inside one's footprint at its depth
+  const piecesTaken = options.piecesOfBuried === false ? 0 : piecesOfBuried(screened, (s) => isLayer(s.anomaly.shape, s.anomaly.depthBottomM));
   // Background removal takes out a utility running along the survey lines (a flat event on its line).
   // Strips of the stack made before it, line by line and slice by slice, that no main member holds,
   // linear and along their line (alongLineMembers), are linked across depth, screened too and marked
@@ -340,6 +347,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     lineSpacingM: spacing,
     crossingsCut: sep.cut,
     bridges: bridged.bridges,
+    piecesTaken,
     elapsedMs: performance.now() - t0,
   };
   let collection: FeatureCollection | undefined;
