@@ -1,6 +1,7 @@
 import { access } from 'node:fs/promises';
 import { join } from 'node:path';
 import { fromFile } from 'geotiff';
+import { useNodeInflate } from '@lamina/cog';
 import { InputError } from '@lamina/errors';
 import type { SlicesInfo } from './folder';
 import { encodePng, pngDataUri } from './png';
@@ -34,6 +35,7 @@ export async function sliceThumbnails(outDir: string, info: SlicesInfo, options:
     if (e instanceof InputError) throw e;
     throw new InputError(file, `expected the GeoTIFF slices.json describes, found one that cannot be decoded (${e instanceof Error ? e.message : String(e)})`);
   };
+  useNodeInflate();
   const tiff = await fromFile(file).catch(damaged);
   let image: Awaited<ReturnType<typeof tiff.getImage>>;
   let bands: ArrayLike<number>[];
