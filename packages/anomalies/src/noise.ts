@@ -11,7 +11,7 @@
  * shape is not assumed: it is fitted to the lower half of the slice's values (the quartile ratio
  * q25 / q50 of a Gamma law depends on its shape only), where targets are too few to move it.
  */
-import { quantileSorted } from '@lamina/stats';
+import { quantileInPlace } from '@lamina/stats';
 
 /** Gamma law of a slice's noise energy. */
 export interface NoiseLaw {
@@ -155,8 +155,9 @@ export function fitNoiseLaw(values: Float32Array, nodata: number): NoiseLaw | nu
     const v = values[i]!;
     if (v !== nodata && Number.isFinite(v)) buf[n++] = v;
   }
-  buf.sort();
-  const q25 = quantileSorted(buf, 0.25), q50 = quantileSorted(buf, 0.5);
+  // by selection, no sort: the same order statistics (the values are energies, so the sign of a zero,
+  // which a sort orders and a selection does not, never reaches a quartile the law accepts)
+  const q25 = quantileInPlace(buf, 0.25), q50 = quantileInPlace(buf, 0.5);
   if (!(q50 > 0) || !(q25 > 0) || !(q25 < q50)) return null;
   const r = q25 / q50;
   let lo = Math.log(0.05), hi = Math.log(1e4);
