@@ -3,6 +3,7 @@ import { lockFolder, type StagedFile } from '@lamina/atomic';
 import { readRun, readSlicesInfo, readVelocity, streamAnomalies } from './folder';
 import type { ExportContext } from './formats';
 import { folderDepthError } from './depth-error';
+import { preloadGpkg } from './gpkg';
 import { readMapBackground } from './report-map';
 import { readReview } from './review';
 import { decisionsById, isDropped, targetOf } from './targets';
@@ -60,6 +61,8 @@ export async function exportTargets(outDir: string, options: ExportOptions = {})
 
 async function exportUnlocked(outDir: string, options: ExportOptions): Promise<ExportResult> {
   const now = options.now ?? new Date();
+  // sql.js compiles while the inputs and the thumbnails are read
+  preloadGpkg();
   const run = await readRun(outDir);
   const anomalies = streamAnomalies(outDir);
   const writers: TargetFileWriter[] = [];
