@@ -13,6 +13,7 @@ import { removeLineSpills } from './line-spill';
 import { keptBuffers, pass1, pass2, pass2Steps, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
 import { extents, linesGeoJson, planGeoJson, siteSummary, writeChunks, writeFeatureCollection, writeRadargramIndex } from './outputs';
 import { sliceAndScreen, type Anchored, type Screening } from './slice-and-screen';
+import { sideOutputs, type SideOutputsResult, type SideOutputsTask } from './side-outputs';
 import { addParts, StageTimer, type ProcessTimings } from './timings';
 import { preflight } from './preflight';
 import { airObjectsFor, planAirObjects } from './air-objects';
@@ -112,8 +113,8 @@ export interface ProcessSummary {
 
 const VERSION = '0.1.0';
 
-type Task = Pass1Task | Pass2Task;
-type Result = Pass1Result | Pass2Result;
+type Task = Pass1Task | Pass2Task | SideOutputsTask;
+type Result = Pass1Result | Pass2Result | SideOutputsResult;
 
 /**
  * Runs tasks on worker threads or, with 0 threads, in this thread one after the other (as a worker
@@ -124,7 +125,7 @@ function runner(threads: number): { run: (t: Task, transfer?: ArrayBuffer[]) => 
   if (threads <= 0) {
     let last: Promise<unknown> = Promise.resolve();
     const run = (t: Task): Promise<Result> => {
-      const r = last.then((): Promise<Result> => (t.kind === 'pass1' ? pass1(t) : pass2(t)));
+      const r = last.then((): Promise<Result> => (t.kind === 'pass1' ? pass1(t) : t.kind === 'pass2' ? pass2(t) : sideOutputs(t)));
       last = r.catch(() => undefined);
       return r;
     };
@@ -342,7 +343,6 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
         },
         (d) => progress('depth slices', d, n),
       );
-      await exec.close();
       pass2Done();
       const mig = log.find((e) => e.step === 'migration');
       if (mig && methods.size > 0) mig.result = { ...mig.result, linesByMethod: Object.fromEntries([...methods].sort()) };
@@ -353,7 +353,10 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
         const result = { linesCleaned: airRuns.cleaned, lines: airRuns.lines, foci: airRuns.foci, airFitApexes: airRuns.apexes, steepEvents: airRuns.steep, meanRemovedShare: airRuns.cleaned ? Math.round((airRuns.removed / airRuns.cleaned) * 1e5) / 1e5 : 0 };
         log = log.map((e) => (e === airEntry ? (airRuns.cleaned > 0 ? { ...rest, result } : { ...rest, skipped: airRuns.skipped, result }) : e));
       }
-      screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress, timer }, Math.max(1, threads));
+      // a worker, idle now, makes slices.tif, the thumbnails and the forecast while this thread screens
+      const side = (t: SideOutputsTask) => exec.run(t) as Promise<SideOutputsResult>;
+      screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress, timer, side }, Math.max(1, threads));
+      await exec.close();
     } finally {
       spill.remove();
       if (keepLines) await removeLineSpills(stage.path);
@@ -390,11 +393,12 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
 
     progress('targets', 0, 1);
     const exportDone = timer.start('targets export');
-    let exported = await exportTargets(stage.path, { now, lock: false });
+    const thumbnails = screening.thumbnails ? { thumbnails: screening.thumbnails } : {};
+    let exported = await exportTargets(stage.path, { now, lock: false, ...thumbnails });
     // The viewer may have saved decisions into the old folder while this run worked: take them along.
     if ((await readText(reviewFile)) !== reviewRead) {
       await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screening.anchored);
-      exported = await exportTargets(stage.path, { now, lock: false });
+      exported = await exportTargets(stage.path, { now, lock: false, ...thumbnails });
     }
     exportDone();
     progress('targets', 1, 1);

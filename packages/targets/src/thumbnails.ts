@@ -16,12 +16,15 @@ export interface Thumbnail {
   dataUri: string;
 }
 
+/** Long side of the thumbnails, pixels (report.html's). */
+export const THUMBNAIL_SIZE = 240;
+
 /**
  * Band previews of slices.tif, box-averaged down to at most `maxSize` pixels on the long side.
  * @param options.maxSize @default 240
  */
 export async function sliceThumbnails(outDir: string, info: SlicesInfo, options: { maxSize?: number } = {}): Promise<Thumbnail[]> {
-  const maxSize = options.maxSize ?? 240;
+  const maxSize = options.maxSize ?? THUMBNAIL_SIZE;
   const file = join(outDir, info.file);
   try {
     await access(file);
