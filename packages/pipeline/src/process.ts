@@ -204,6 +204,22 @@ async function pass1Sampled(
 }
 
 /**
+ * What the positions mean and whether the run fits, from headers only, before any trace is read; the
+ * site with its checked plan, the survey velocity file and the hand matches saved by the viewer
+ * (picks.json in the output folder), which join the automatic fits; the recipe as the site or options give it.
+ */
+async function checkInputs(loaded: Site, outDir: string, picksFile: string, options: ProcessOptions) {
+  const { survey, size, freeBytes } = await preflight(loaded, outDir, options);
+  for (const w of survey.warnings) (options.onWarning ?? ((m) => process.stderr.write(`warning: ${m}\n`)))(w);
+  const site: Site = { ...loaded, plan: survey.plan };
+  const surveyVelocity = options.velocityFile !== undefined ? await readSurveyVelocity(options.velocityFile) : undefined;
+  const picksText = await readText(picksFile);
+  const picks = picksText !== undefined ? picksByLine(picksText, shownPath(picksFile), site) : undefined;
+  const asGiven: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
+  return { survey, size, freeBytes, site, surveyVelocity, picks, asGiven };
+}
+
+/**
  * `lamina process`: lines -> processed -> velocity -> slices -> anomalies -> targets, written into a
  * staging folder beside `outDir` and renamed into place only when everything succeeded. Input files are
  * only read. An existing review.json in `outDir` is carried over and its decisions re-matched.
@@ -212,17 +228,16 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   const timer = new StageTimer();
   const siteLoaded = timer.start('load site');
   const loaded = await loadSite(siteDir);
-  // What the positions mean and whether the run fits, from headers only, before any trace is read.
-  const { survey, size, freeBytes } = await preflight(loaded, outDir, options);
-  for (const w of survey.warnings) (options.onWarning ?? ((m) => process.stderr.write(`warning: ${m}\n`)))(w);
-  const site: Site = { ...loaded, plan: survey.plan };
-  const surveyVelocity = options.velocityFile !== undefined ? await readSurveyVelocity(options.velocityFile) : undefined;
-  // Hand matches saved by the viewer (picks.json in the output folder) join the automatic fits.
+  const threads = Math.min(options.threads ?? defaultThreads(), loaded.lines.length);
+  // the workers start (each loads its code) while the inputs are checked; stopped when they fail
+  const exec = runner(threads);
+  const stopWorkers = async (e: unknown): Promise<never> => {
+    await exec.close().catch(() => {});
+    throw e;
+  };
   const picksFile = join(outDir, 'picks.json');
-  const picksText = await readText(picksFile);
-  const picks = picksText !== undefined ? picksByLine(picksText, shownPath(picksFile), site) : undefined;
+  const { survey, size, freeBytes, site, surveyVelocity, picks, asGiven } = await checkInputs(loaded, outDir, picksFile, options).catch(stopWorkers);
   siteLoaded();
-  const asGiven: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
   const recipe: Recipe = options.keepAirEvents
     ? withoutAirEvents(asGiven)
     : options.removeAirEvents
@@ -230,7 +245,6 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       : asGiven;
   const progress = options.onProgress ?? (() => {});
   const now = options.now ?? new Date();
-  const threads = Math.min(options.threads ?? defaultThreads(), site.lines.length);
   // Pass 2 starts from pass 1's lines, kept in the stage folder, when the recipe allows it and the disk
   // has room for them (two Float32 copies of every line, positions, a header) beside the run's own files.
   // (a tile's piece keeps its whole processed context: site.json `context`)
@@ -241,13 +255,12 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   const keepInMemory = keptBytes <= (options.keepLinesInMemoryBytes ?? 256 * 2 ** 20);
   const keepLines = (options.keepLines ?? true) && pass2Steps(recipe) !== undefined && (keepInMemory || freeBytes - size.diskBytes >= keptBytes);
   // One process per output folder: a second one would remove this one's stage (stageFolder clears stale ones).
-  const runLock = await lockFolder(outDir, { kind: 'run', what: 'lamina process', shown: shownPath(outDir) });
+  const runLock = await lockFolder(outDir, { kind: 'run', what: 'lamina process', shown: shownPath(outDir) }).catch(stopWorkers);
   let writeLock: FolderLock | undefined;
   const stage = await stageFolder(outDir).catch(async (e: unknown) => {
     await runLock.release();
-    throw e;
+    return stopWorkers(e);
   });
-  const exec = runner(threads);
   try {
     const n = site.lines.length;
     progress('processing lines', 0, n);
