@@ -271,17 +271,35 @@ export function memberOf(id: number, si: number, cells: Int32Array, scores: Floa
 }
 
 /** A 3D anomaly from its members (any slices of one stack). */
+/**
+ * The union of the members' cells (each ascending), ascending, each with its best score over the
+ * members: the members' lists merged one after another (a max does not depend on the order).
+ */
+function unionOfCells(members: Member[]): { cells: Int32Array; weights: Float32Array } {
+  let cells = members[0]?.cells ?? new Int32Array(0);
+  let weights: ArrayLike<number> = members[0]?.scores ?? new Float32Array(0);
+  for (let m = 1; m < members.length; m++) {
+    const b = members[m]!.cells, bw = members[m]!.scores;
+    const outC = new Int32Array(cells.length + b.length);
+    const outW = new Float64Array(outC.length);
+    let i = 0, j = 0, n = 0;
+    while (i < cells.length || j < b.length) {
+      const ka = i < cells.length ? cells[i]! : Infinity, kb = j < b.length ? b[j]! : Infinity;
+      if (ka < kb) (outC[n] = ka), (outW[n++] = weights[i++]!);
+      else if (kb < ka) (outC[n] = kb), (outW[n++] = bw[j++]!);
+      else (outC[n] = ka), (outW[n++] = Math.max(weights[i++]!, bw[j++]!));
+    }
+    cells = outC.subarray(0, n);
+    weights = outW.subarray(0, n);
+  }
+  return { cells: Int32Array.from(cells), weights: Float32Array.from(weights) };
+}
+
 export function buildAnomaly(id: string, members: Member[], stack: SliceStack, options: ShapeOptions = {}): Anomaly3D {
   const { grid } = stack;
   const mpu = options.metresPerUnit ?? 1;
   const sorted = [...members].sort((a, b) => a.slice - b.slice || a.id - b.id);
-  const best = new Map<number, number>();
-  for (const m of sorted) for (let i = 0; i < m.cells.length; i++) {
-    const k = m.cells[i]!;
-    best.set(k, Math.max(best.get(k) ?? -Infinity, m.scores[i]!));
-  }
-  const cells = Int32Array.from(best.keys()).sort();
-  const weights = Float32Array.from(cells, (k) => best.get(k)!);
+  const { cells, weights } = unionOfCells(sorted);
   const shape = cellShape(cells, grid, options);
   const outline = traceOutline(cells, grid);
   const a: Anomaly3D = {

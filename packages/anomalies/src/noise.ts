@@ -11,7 +11,7 @@
  * shape is not assumed: it is fitted to the lower half of the slice's values (the quartile ratio
  * q25 / q50 of a Gamma law depends on its shape only), where targets are too few to move it.
  */
-import { quantileSorted } from '@lamina/stats';
+import { quantileInPlace } from '@lamina/stats';
 
 /** Gamma law of a slice's noise energy. */
 export interface NoiseLaw {
@@ -24,10 +24,11 @@ export interface NoiseLaw {
 }
 
 const LN_SQRT_2PI = 0.5 * Math.log(2 * Math.PI);
+const LANCZOS = [0.99999999999980993, 676.5203681218851, -1259.1392167224028, 771.32342877765313, -176.61502916214059, 12.507343278686905, -0.13857109526572012, 9.9843695780195716e-6, 1.5056327351493116e-7];
 
 /** ln Gamma(x) for x > 0 (Lanczos, g = 7, n = 9; Numerical Recipes 3rd ed. section 6.1). */
 export function lnGamma(x: number): number {
-  const c = [0.99999999999980993, 676.5203681218851, -1259.1392167224028, 771.32342877765313, -176.61502916214059, 12.507343278686905, -0.13857109526572012, 9.9843695780195716e-6, 1.5056327351493116e-7];
+  const c = LANCZOS;
   if (x < 0.5) return Math.log(Math.PI / Math.abs(Math.sin(Math.PI * x))) - lnGamma(1 - x);
   const xx = x - 1;
   let a = c[0]!;
@@ -42,9 +43,14 @@ export function lnGamma(x: number): number {
  * (Numerical Recipes 3rd ed. section 6.2).
  */
 export function gammaQ(a: number, x: number): number {
+  return gammaQOf(a, lnGamma(a), x);
+}
+
+/** `gammaQ` with ln Gamma(a) given: loops over many x of one shape work it out once. */
+function gammaQOf(a: number, lnGammaA: number, x: number): number {
   if (!(x > 0)) return 1;
   if (!Number.isFinite(x)) return 0;
-  const lnPre = a * Math.log(x) - x - lnGamma(a);
+  const lnPre = a * Math.log(x) - x - lnGammaA;
   if (x < a + 1) {
     let sum = 1 / a, del = sum, ap = a;
     for (let n = 0; n < 1000; n++) {
@@ -75,13 +81,21 @@ export function gammaQ(a: number, x: number): number {
 /** x with Q(a, x) = q (the Gamma(a, 1) quantile at 1 - q), by bisection on log x. */
 export function gammaQInv(a: number, q: number): number {
   let lo = -60, hi = Math.log(Math.max(10, 10 * a + 200));
+  const lg = lnGamma(a);
   for (let i = 0; i < 200 && hi - lo > 1e-12; i++) {
     const m = 0.5 * (lo + hi);
-    if (gammaQ(a, Math.exp(m)) > q) lo = m;
+    if (gammaQOf(a, lg, Math.exp(m)) > q) lo = m;
     else hi = m;
   }
   return Math.exp(0.5 * (lo + hi));
 }
+
+const ACKLAM = {
+  a: [-3.969683028665376e1, 2.209460984245205e2, -2.759285104469687e2, 1.38357751867269e2, -3.066479806614716e1, 2.506628277459239],
+  b: [-5.447609879822406e1, 1.615858368580409e2, -1.556989798598866e2, 6.680131188771972e1, -1.328068155288572e1],
+  c: [-7.784894002430293e-3, -3.223964580411365e-1, -2.400758277161838, -2.549732539343734, 4.374664141464968, 2.938163982698783],
+  d: [7.784695709041462e-3, 3.224671290700398e-1, 2.445134137142996, 3.754408661907416],
+};
 
 /**
  * Standard normal deviate with upper-tail probability p (the inverse survival function): Acklam's
@@ -90,10 +104,7 @@ export function gammaQInv(a: number, q: number): number {
 export function normalIsf(p: number): number {
   if (!(p > 0)) return Infinity;
   if (!(p < 1)) return -Infinity;
-  const a = [-3.969683028665376e1, 2.209460984245205e2, -2.759285104469687e2, 1.38357751867269e2, -3.066479806614716e1, 2.506628277459239];
-  const b = [-5.447609879822406e1, 1.615858368580409e2, -1.556989798598866e2, 6.680131188771972e1, -1.328068155288572e1];
-  const c = [-7.784894002430293e-3, -3.223964580411365e-1, -2.400758277161838, -2.549732539343734, 4.374664141464968, 2.938163982698783];
-  const d = [7.784695709041462e-3, 3.224671290700398e-1, 2.445134137142996, 3.754408661907416];
+  const { a, b, c, d } = ACKLAM;
   // lower-tail quantile of probability 1 - p, written with p to keep the upper tail's precision
   const pl = 1 - p;
   let x: number;
@@ -144,8 +155,9 @@ export function fitNoiseLaw(values: Float32Array, nodata: number): NoiseLaw | nu
     const v = values[i]!;
     if (v !== nodata && Number.isFinite(v)) buf[n++] = v;
   }
-  buf.sort();
-  const q25 = quantileSorted(buf, 0.25), q50 = quantileSorted(buf, 0.5);
+  // by selection, no sort: the same order statistics (the values are energies, so the sign of a zero,
+  // which a sort orders and a selection does not, never reaches a quartile the law accepts)
+  const q25 = quantileInPlace(buf, 0.25), q50 = quantileInPlace(buf, 0.5);
   if (!(q50 > 0) || !(q25 > 0) || !(q25 < q50)) return null;
   const r = q25 / q50;
   let lo = Math.log(0.05), hi = Math.log(1e4);
@@ -171,13 +183,15 @@ export const noiseMean = (law: NoiseLaw): number => law.shape * law.scale;
  */
 export function noiseScores(values: Float32Array, nodata: number, law: NoiseLaw, out?: Float32Array): Float32Array {
   const res = out ?? new Float32Array(values.length);
+  const { shape, scale } = law;
+  const lg = lnGamma(shape);
   for (let i = 0; i < values.length; i++) {
     const v = values[i]!;
     if (v === nodata || !Number.isFinite(v)) {
       res[i] = Number.NaN;
       continue;
     }
-    const q = gammaQ(law.shape, v / law.scale);
+    const q = gammaQOf(shape, lg, v / scale);
     res[i] = q > 0 ? Math.min(38, normalIsf(q)) : 38;
   }
   return res;

@@ -124,49 +124,17 @@ export function straightBands(cells: Int32Array, width: number, bandCells: numbe
   const n0 = cells.length;
   // the cells still left: their indices, columns and rows in the first `n` places
   const left = Int32Array.from(cells);
-  const col = new Int32Array(n0);
-  const row = new Int32Array(n0);
+  const col = new Float64Array(n0);
+  const row = new Float64Array(n0);
   for (let i = 0; i < n0; i++) {
     col[i] = left[i]! % width;
     row[i] = (left[i]! / width) | 0;
   }
-  const rho = new Float64Array(n0);
+  const ends: RowEnds = { row: new Float64Array(n0), first: new Float64Array(n0), last: new Float64Array(n0), count: 0 };
   let n = n0;
   const bands: Int32Array[] = [];
   while (bands.length < maxBands && n >= minCells) {
-    let c0 = Infinity, c1 = -Infinity, w0 = Infinity, w1 = -Infinity;
-    for (let i = 0; i < n; i++) {
-      if (col[i]! < c0) c0 = col[i]!;
-      if (col[i]! > c1) c1 = col[i]!;
-      if (row[i]! < w0) w0 = row[i]!;
-      if (row[i]! > w1) w1 = row[i]!;
-    }
-    const span = Math.hypot(c1 - c0, w1 - w0);
-    const nA = Math.min(720, Math.max(90, Math.ceil(Math.PI * span)));
-    // a projection spans at most the bounding box's diagonal
-    const bins = new Int32Array(Math.floor(span) + 3);
-    let best = { count: 0, c: 1, s: 0, lo: 0 };
-    for (let a = 0; a < nA; a++) {
-      const th = (Math.PI * a) / nA;
-      const c = Math.cos(th), s = Math.sin(th);
-      let r0 = Infinity, r1 = -Infinity;
-      for (let i = 0; i < n; i++) {
-        const r = col[i]! * c + row[i]! * s;
-        rho[i] = r;
-        if (r < r0) r0 = r;
-        if (r > r1) r1 = r;
-      }
-      // cells per one-cell bin of the offset, then the fullest window of w bins
-      const nb = Math.floor(r1 - r0) + 2;
-      bins.fill(0, 0, nb);
-      for (let i = 0; i < n; i++) bins[Math.floor(rho[i]! - r0)]!++;
-      let run = 0;
-      for (let b = 0; b < nb; b++) {
-        run += bins[b]!;
-        if (b >= w) run -= bins[b - w]!;
-        if (run > best.count) best = { count: run, c, s, lo: r0 + Math.max(0, b - w + 1) };
-      }
-    }
+    const best = fullestBand(col, row, n, w, ends);
     if (best.count < minCells) break;
     // the band's cells out, the others moved down (kept in ascending order)
     const band = new Int32Array(best.count);
@@ -186,6 +154,80 @@ export function straightBands(cells: Int32Array, width: number, bandCells: numbe
     n = m;
   }
   return { bands, rest: left.slice(0, n) };
+}
+
+/** Each row's first and last column among a set of cells (`count` rows). */
+interface RowEnds {
+  row: Float64Array;
+  first: Float64Array;
+  last: Float64Array;
+  count: number;
+}
+
+/**
+ * The band `w` one-cell bins wide across direction (c, s) = (cos, sin) of some angle that holds most
+ * of the first `n` cells (columns `col`, rows `row`, ascending as grid indices): its count, direction
+ * and lowest offset col c + row s. `ends` is work space.
+ */
+function fullestBand(col: Float64Array, row: Float64Array, n: number, w: number, ends: RowEnds): { count: number; c: number; s: number; lo: number } {
+  let c0 = Infinity, c1 = -Infinity, w0 = Infinity, w1 = -Infinity;
+  let nRows = 0;
+  for (let i = 0; i < n; i++) {
+    if (col[i]! < c0) c0 = col[i]!;
+    if (col[i]! > c1) c1 = col[i]!;
+    if (row[i]! < w0) w0 = row[i]!;
+    if (row[i]! > w1) w1 = row[i]!;
+    // ascending cells: a row is one run
+    if (i === 0 || row[i] !== row[i - 1]) {
+      ends.row[nRows] = row[i]!;
+      ends.first[nRows++] = col[i]!;
+    }
+    ends.last[nRows - 1] = col[i]!;
+  }
+  ends.count = nRows;
+  const span = Math.hypot(c1 - c0, w1 - w0);
+  // directions about one cell apart at the far end
+  const nA = Math.min(720, Math.max(90, Math.ceil(Math.PI * span)));
+  // a projection spans at most the bounding box's diagonal; four interleaved histograms (cell i counts
+  // in histogram i mod 4): neighbouring cells mostly fall in one bin, and counting them in one array
+  // makes each increment wait for the one before
+  const nBins = Math.floor(span) + 3;
+  const bins = new Int32Array(4 * nBins);
+  let bestCount = 0, bestC = 1, bestS = 0, bestLo = 0;
+  for (let a = 0; a < nA; a++) {
+    const th = (Math.PI * a) / nA;
+    const c = Math.cos(th), s = Math.sin(th);
+    // The offset col c + row s, rounded, never decreases with col (c >= 0) or never increases (c < 0)
+    // along a row: each row's least and greatest offsets are at its ends.
+    const lo = c >= 0 ? ends.first : ends.last, hi = c >= 0 ? ends.last : ends.first;
+    let r0 = Infinity, r1 = -Infinity;
+    for (let k = 0; k < nRows; k++) {
+      const q0 = lo[k]! * c + ends.row[k]! * s, q1 = hi[k]! * c + ends.row[k]! * s;
+      if (q0 < r0) r0 = q0;
+      if (q1 > r1) r1 = q1;
+    }
+    // cells per one-cell bin of the offset (offset - r0 >= 0: truncation is the floor), then the
+    // fullest window of w bins
+    const nb = Math.floor(r1 - r0) + 2;
+    bins.fill(0, 0, 4 * nb);
+    let i = 0;
+    for (; i + 3 < n; i += 4) {
+      bins[4 * ((col[i]! * c + row[i]! * s - r0) | 0)]!++;
+      bins[4 * ((col[i + 1]! * c + row[i + 1]! * s - r0) | 0) + 1]!++;
+      bins[4 * ((col[i + 2]! * c + row[i + 2]! * s - r0) | 0) + 2]!++;
+      bins[4 * ((col[i + 3]! * c + row[i + 3]! * s - r0) | 0) + 3]!++;
+    }
+    for (; i < n; i++) bins[4 * ((col[i]! * c + row[i]! * s - r0) | 0)]!++;
+    // the four histograms summed into the first nb places (bin b reads places 4b.. not yet written)
+    for (let b = 0; b < nb; b++) bins[b] = bins[4 * b]! + bins[4 * b + 1]! + bins[4 * b + 2]! + bins[4 * b + 3]!;
+    let run = 0;
+    for (let b = 0; b < nb; b++) {
+      run += bins[b]!;
+      if (b >= w) run -= bins[b - w]!;
+      if (run > bestCount) (bestCount = run), (bestC = c), (bestS = s), (bestLo = r0 + Math.max(0, b - w + 1));
+    }
+  }
+  return { count: bestCount, c: bestC, s: bestS, lo: bestLo };
 }
 
 /** 8-connected parts of a set of cells (ascending grid indices), largest first. */

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { extractAnomalies, squaredDistance, thickParts } from '../src';
+import { straightBands } from '../src/split';
 import { grid, py, rng, synthStack } from './helpers';
 
 describe('thick parts (morphological opening)', () => {
@@ -89,5 +90,74 @@ print(json.dumps(sorted([sorted(np.flatnonzero(lab.ravel()==i+1).tolist()) for i
     const sheet = synthStack(g, [1], 0.2, (x, y) => (Math.abs(x - 1012) < 8 && Math.abs(y - 1992) < 5 ? 60 : 0), 5);
     const layer = extractAnomalies(sheet, { isLayer, bandWidthM: () => 1 });
     expect(layer.members.filter((m) => m.layer)).toHaveLength(1);
+  });
+});
+
+/**
+ * straightBands as first written (every direction's offsets and their least one by a pass over the
+ * cells, one histogram): the second method the kernel is held to, band for band.
+ */
+function plainStraightBands(cells: Int32Array, width: number, bandCells: number, minCells: number, maxBands = 4): { bands: Int32Array[]; rest: Int32Array } {
+  const w = Math.max(1, Math.round(bandCells));
+  let left = Array.from(cells);
+  const bands: Int32Array[] = [];
+  while (bands.length < maxBands && left.length >= minCells) {
+    const col = left.map((k) => k % width), row = left.map((k) => (k / width) | 0);
+    const span = Math.hypot(Math.max(...col) - Math.min(...col), Math.max(...row) - Math.min(...row));
+    const nA = Math.min(720, Math.max(90, Math.ceil(Math.PI * span)));
+    let best = { count: 0, c: 1, s: 0, lo: 0 };
+    for (let a = 0; a < nA; a++) {
+      const th = (Math.PI * a) / nA;
+      const c = Math.cos(th), s = Math.sin(th);
+      const rho = left.map((_, i) => col[i]! * c + row[i]! * s);
+      const r0 = Math.min(...rho), r1 = Math.max(...rho);
+      const nb = Math.floor(r1 - r0) + 2;
+      const bins = new Array<number>(nb).fill(0);
+      for (const r of rho) bins[Math.floor(r - r0)]!++;
+      let run = 0;
+      for (let b = 0; b < nb; b++) {
+        run += bins[b]!;
+        if (b >= w) run -= bins[b - w]!;
+        if (run > best.count) best = { count: run, c, s, lo: r0 + Math.max(0, b - w + 1) };
+      }
+    }
+    if (best.count < minCells) break;
+    const inBand = (i: number) => {
+      const r = col[i]! * best.c + row[i]! * best.s;
+      return r >= best.lo && r < best.lo + w + 1e-9;
+    };
+    bands.push(Int32Array.from(left.filter((_, i) => inBand(i))));
+    left = left.filter((_, i) => !inBand(i));
+  }
+  return { bands, rest: Int32Array.from(left) };
+}
+
+describe('straightBands', () => {
+  it('finds the same bands as the plain Hough search on random crossings of straight strips', () => {
+    const r = rng(7);
+    const width = 160;
+    let found = 0;
+    for (let trial = 0; trial < 25; trial++) {
+      const set = new Set<number>();
+      const strips = 2 + Math.floor(r() * 3);
+      for (let k = 0; k < strips; k++) {
+        const th = r() * Math.PI, half = 1 + r() * 4, cx = 50 + r() * 60, cy = 50 + r() * 60, len = 20 + r() * 50;
+        for (let y = 0; y < 160; y++)
+          for (let x = 0; x < width; x++) {
+            const along = (x - cx) * Math.cos(th) + (y - cy) * Math.sin(th);
+            const across = -(x - cx) * Math.sin(th) + (y - cy) * Math.cos(th);
+            if (Math.abs(along) <= len && Math.abs(across) <= half && r() > 0.1) set.add(y * width + x);
+          }
+      }
+      const cells = Int32Array.from(set).sort();
+      const bandCells = 2 + r() * 10;
+      const fast = straightBands(cells, width, bandCells, 6);
+      const plain = plainStraightBands(cells, width, bandCells, 6);
+      expect(fast.bands.map((b) => Array.from(b))).toEqual(plain.bands.map((b) => Array.from(b)));
+      expect(Array.from(fast.rest)).toEqual(Array.from(plain.rest));
+      found += plain.bands.length;
+    }
+    // most crossings come apart into two bands or more
+    expect(found).toBeGreaterThan(50);
   });
 });

@@ -55,6 +55,11 @@ export class RawBands implements RowSource {
     return raw;
   }
 
+  /** Opens an existing file (made by `create`, e.g. in another thread) to read it. */
+  static open(path: string, width: number, height: number, bands: number): RawBands {
+    return new RawBands(path, width, height, bands, openSync(path, 'r'));
+  }
+
   /** Writes `values.length / width` rows of band b from row r0. */
   writeRows(band: number, r0: number, values: Float32Array): void {
     const rows = values.length / this.width;
@@ -73,12 +78,17 @@ export class RawBands implements RowSource {
     return dst;
   }
 
-  /** Closes and deletes the file (safe to call twice). */
-  remove(): void {
+  /** Closes the file and leaves it in place (safe to call twice). */
+  close(): void {
     if (this.open) {
       this.open = false;
       closeSync(this.fd);
     }
+  }
+
+  /** Closes and deletes the file (safe to call twice). */
+  remove(): void {
+    this.close();
     rmSync(this.path, { force: true });
   }
 

@@ -13,6 +13,7 @@ import { removeLineSpills } from './line-spill';
 import { keptBuffers, pass1, pass2, pass2Steps, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
 import { extents, linesGeoJson, planGeoJson, siteSummary, writeChunks, writeFeatureCollection, writeRadargramIndex } from './outputs';
 import { sliceAndScreen, type Anchored, type Screening } from './slice-and-screen';
+import { sideOutputs, type SideOutputsResult, type SideOutputsTask } from './side-outputs';
 import { addParts, StageTimer, type ProcessTimings } from './timings';
 import { preflight } from './preflight';
 import { airObjectsFor, planAirObjects } from './air-objects';
@@ -112,8 +113,8 @@ export interface ProcessSummary {
 
 const VERSION = '0.1.0';
 
-type Task = Pass1Task | Pass2Task;
-type Result = Pass1Result | Pass2Result;
+type Task = Pass1Task | Pass2Task | SideOutputsTask;
+type Result = Pass1Result | Pass2Result | SideOutputsResult;
 
 /**
  * Runs tasks on worker threads or, with 0 threads, in this thread one after the other (as a worker
@@ -124,7 +125,7 @@ function runner(threads: number): { run: (t: Task, transfer?: ArrayBuffer[]) => 
   if (threads <= 0) {
     let last: Promise<unknown> = Promise.resolve();
     const run = (t: Task): Promise<Result> => {
-      const r = last.then((): Promise<Result> => (t.kind === 'pass1' ? pass1(t) : pass2(t)));
+      const r = last.then((): Promise<Result> => (t.kind === 'pass1' ? pass1(t) : t.kind === 'pass2' ? pass2(t) : sideOutputs(t)));
       last = r.catch(() => undefined);
       return r;
     };
@@ -203,6 +204,22 @@ async function pass1Sampled(
 }
 
 /**
+ * What the positions mean and whether the run fits, from headers only, before any trace is read; the
+ * site with its checked plan, the survey velocity file and the hand matches saved by the viewer
+ * (picks.json in the output folder), which join the automatic fits; the recipe as the site or options give it.
+ */
+async function checkInputs(loaded: Site, outDir: string, picksFile: string, options: ProcessOptions) {
+  const { survey, size, freeBytes } = await preflight(loaded, outDir, options);
+  for (const w of survey.warnings) (options.onWarning ?? ((m) => process.stderr.write(`warning: ${m}\n`)))(w);
+  const site: Site = { ...loaded, plan: survey.plan };
+  const surveyVelocity = options.velocityFile !== undefined ? await readSurveyVelocity(options.velocityFile) : undefined;
+  const picksText = await readText(picksFile);
+  const picks = picksText !== undefined ? picksByLine(picksText, shownPath(picksFile), site) : undefined;
+  const asGiven: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
+  return { survey, size, freeBytes, site, surveyVelocity, picks, asGiven };
+}
+
+/**
  * `lamina process`: lines -> processed -> velocity -> slices -> anomalies -> targets, written into a
  * staging folder beside `outDir` and renamed into place only when everything succeeded. Input files are
  * only read. An existing review.json in `outDir` is carried over and its decisions re-matched.
@@ -211,17 +228,16 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   const timer = new StageTimer();
   const siteLoaded = timer.start('load site');
   const loaded = await loadSite(siteDir);
-  // What the positions mean and whether the run fits, from headers only, before any trace is read.
-  const { survey, size, freeBytes } = await preflight(loaded, outDir, options);
-  for (const w of survey.warnings) (options.onWarning ?? ((m) => process.stderr.write(`warning: ${m}\n`)))(w);
-  const site: Site = { ...loaded, plan: survey.plan };
-  const surveyVelocity = options.velocityFile !== undefined ? await readSurveyVelocity(options.velocityFile) : undefined;
-  // Hand matches saved by the viewer (picks.json in the output folder) join the automatic fits.
+  const threads = Math.min(options.threads ?? defaultThreads(), loaded.lines.length);
+  // the workers start (each loads its code) while the inputs are checked; stopped when they fail
+  const exec = runner(threads);
+  const stopWorkers = async (e: unknown): Promise<never> => {
+    await exec.close().catch(() => {});
+    throw e;
+  };
   const picksFile = join(outDir, 'picks.json');
-  const picksText = await readText(picksFile);
-  const picks = picksText !== undefined ? picksByLine(picksText, shownPath(picksFile), site) : undefined;
+  const { survey, size, freeBytes, site, surveyVelocity, picks, asGiven } = await checkInputs(loaded, outDir, picksFile, options).catch(stopWorkers);
   siteLoaded();
-  const asGiven: Recipe = siteRecipe(site, options.recipe, options.recipeFile);
   const recipe: Recipe = options.keepAirEvents
     ? withoutAirEvents(asGiven)
     : options.removeAirEvents
@@ -229,7 +245,6 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
       : asGiven;
   const progress = options.onProgress ?? (() => {});
   const now = options.now ?? new Date();
-  const threads = Math.min(options.threads ?? defaultThreads(), site.lines.length);
   // Pass 2 starts from pass 1's lines, kept in the stage folder, when the recipe allows it and the disk
   // has room for them (two Float32 copies of every line, positions, a header) beside the run's own files.
   // (a tile's piece keeps its whole processed context: site.json `context`)
@@ -240,13 +255,12 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
   const keepInMemory = keptBytes <= (options.keepLinesInMemoryBytes ?? 256 * 2 ** 20);
   const keepLines = (options.keepLines ?? true) && pass2Steps(recipe) !== undefined && (keepInMemory || freeBytes - size.diskBytes >= keptBytes);
   // One process per output folder: a second one would remove this one's stage (stageFolder clears stale ones).
-  const runLock = await lockFolder(outDir, { kind: 'run', what: 'lamina process', shown: shownPath(outDir) });
+  const runLock = await lockFolder(outDir, { kind: 'run', what: 'lamina process', shown: shownPath(outDir) }).catch(stopWorkers);
   let writeLock: FolderLock | undefined;
   const stage = await stageFolder(outDir).catch(async (e: unknown) => {
     await runLock.release();
-    throw e;
+    return stopWorkers(e);
   });
-  const exec = runner(threads);
   try {
     const n = site.lines.length;
     progress('processing lines', 0, n);
@@ -342,7 +356,6 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
         },
         (d) => progress('depth slices', d, n),
       );
-      await exec.close();
       pass2Done();
       const mig = log.find((e) => e.step === 'migration');
       if (mig && methods.size > 0) mig.result = { ...mig.result, linesByMethod: Object.fromEntries([...methods].sort()) };
@@ -353,7 +366,10 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
         const result = { linesCleaned: airRuns.cleaned, lines: airRuns.lines, foci: airRuns.foci, airFitApexes: airRuns.apexes, steepEvents: airRuns.steep, meanRemovedShare: airRuns.cleaned ? Math.round((airRuns.removed / airRuns.cleaned) * 1e5) / 1e5 : 0 };
         log = log.map((e) => (e === airEntry ? (airRuns.cleaned > 0 ? { ...rest, result } : { ...rest, skipped: airRuns.skipped, result }) : e));
       }
-      screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress, timer }, Math.max(1, threads));
+      // a worker, idle now, makes slices.tif, the thumbnails and the forecast while this thread screens
+      const side = (t: SideOutputsTask) => exec.run(t) as Promise<SideOutputsResult>;
+      screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress, timer, side }, Math.max(1, threads));
+      await exec.close();
     } finally {
       spill.remove();
       if (keepLines) await removeLineSpills(stage.path);
@@ -390,11 +406,12 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
 
     progress('targets', 0, 1);
     const exportDone = timer.start('targets export');
-    let exported = await exportTargets(stage.path, { now, lock: false });
+    const thumbnails = screening.thumbnails ? { thumbnails: screening.thumbnails } : {};
+    let exported = await exportTargets(stage.path, { now, lock: false, ...thumbnails });
     // The viewer may have saved decisions into the old folder while this run worked: take them along.
     if ((await readText(reviewFile)) !== reviewRead) {
       await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screening.anchored);
-      exported = await exportTargets(stage.path, { now, lock: false });
+      exported = await exportTargets(stage.path, { now, lock: false, ...thumbnails });
     }
     exportDone();
     progress('targets', 1, 1);

@@ -3,12 +3,14 @@ import { join } from 'node:path';
 import type { Site } from '@lamina/site';
 import { pointToWgs84 } from '@lamina/site';
 import { nearSurfaceDepthM, type VelocityReport } from '@lamina/velocity';
-import { DiskStack, SpillGridder, writeSlicesFromDisk, type GriddingInfo, type PointSpill, type SliceGrid, type SliceStack, type SliceWindow } from '@lamina/slices';
+import { DiskStack, SpillGridder, type GriddingInfo, type PointSpill, type SliceGrid, type SliceStack, type SliceWindow } from '@lamina/slices';
 import type { Recipe } from '@lamina/processing';
 import { CAUTION } from '@lamina/constants';
 import type { InterfaceProperties } from '@lamina/contracts';
 import { airRadiusM, BandJoin, linesInRows, lineSpacingOfM, screenBands, screenSite, siteForecast, surveyedMask, type GeoJsonFeature, type Line } from '@lamina/screening';
 import { FeatureSpill } from './feature-spill';
+import { sideOutputs, type SideOutputsResult, type SideOutputsTask } from './side-outputs';
+import { THUMBNAIL_SIZE, type Thumbnail } from '@lamina/targets';
 import { writeFeatureCollection } from './outputs';
 import { StageTimer } from './timings';
 
@@ -37,7 +39,15 @@ export interface SliceAndScreenOptions {
    * caller has written slices.tif, so it is not written here. @default grid the spill
    */
   source?: ScreenSource;
+  /**
+   * Runs `sideOutputs` (slices.tif, the thumbnails, the forecast) elsewhere, e.g. on an idle worker: a grid
+   * screened in one band has them made there while this thread screens. @default made here, in turn
+   */
+  side?: (task: SideOutputsTask) => Promise<SideOutputsResult>;
 }
+
+/** The stage of the timers that writes slices.tif and makes the thumbnails and the forecast (`sideOutputs`). */
+const SIDE_STAGE = 'slices.tif, thumbnails, forecast';
 
 /** Files of `keepScreenInputs` in the output folder. */
 export const SCREEN_INPUTS = { before: 'slices-before.f32', positions: 'screen-lines.f64', lines: 'screen-lines.json' } as const;
@@ -72,6 +82,8 @@ export interface Screening {
   bands: number;
   /** Depth of the near-surface (direct- and ground-wave) zone, m: run.json `nearSurfaceM`. */
   nearSurfaceM: number;
+  /** report.html's slice thumbnails when they were made with slices.tif (`exportTargets`' `thumbnails`). */
+  thumbnails?: Thumbnail[];
 }
 
 /**
@@ -170,15 +182,30 @@ export async function sliceAndScreen(
   // lines reach this far past a band for the along-line search (half a line spacing, a margin)
   const lineMargin = (Number.isFinite(lineSpacingM) ? lineSpacingM : 0) / mpu + 4 * cellSize;
   const counts = { anomalies: 0, aboveGround: 0 };
+  // slices.tif, the thumbnails and the forecast, made on the side while a one-band grid is screened
+  let side: Promise<SideOutputsResult> | undefined;
+  const sideTask = (): SideOutputsTask => ({
+    kind: 'sideOutputs',
+    stageDir,
+    disk: { path: disk!.path, grid, slices: windows },
+    gridding: gridder.gridding,
+    thumbnailSize: THUMBNAIL_SIZE,
+    forecast: { plan: site.plan, velocity, crs: site.crs, surveyed, options: screenOptions },
+  });
   try {
     for (const [b, band] of bands.entries()) {
       options.onProgress('air-wave screening', b, bands.length);
       const [stack, before] = await timer.time('gridding', () => gridder.rows(band.first, band.last));
       const c0 = (band.coreFirst - band.first) * width, c1 = (band.coreLast - band.first) * width;
-      timer.time('slices.tif', () => disk?.writeRows(band.coreFirst, stack!.slices.map((s) => s.values.subarray(c0, c1))));
+      timer.time(SIDE_STAGE, () => disk?.writeRows(band.coreFirst, stack!.slices.map((s) => s.values.subarray(c0, c1))));
       beforeDisk?.writeRows(band.coreFirst, before!.slices.map((s) => s.values.subarray(c0, c1)));
       const screeningDone = timer.start('air-wave screening');
       surveyed.set(surveyedMask(stack!).subarray(c0, c1), band.coreFirst * width);
+      if (disk && options.side && bands.length === 1) {
+        side = options.side(sideTask());
+        // settled (and any error taken) when awaited below, or before the disk stack goes
+        side.catch(() => {});
+      }
       const screened = screenSite(
         {
           stack: stack!,
@@ -204,10 +231,10 @@ export async function sliceAndScreen(
       screeningDone();
     }
     options.onProgress('air-wave screening', bands.length, bands.length);
-    if (disk) {
-      await timer.time('slices.tif', () => writeSlicesFromDisk(disk, stageDir, gridder.gridding));
-      disk.remove();
-    }
+    // (a run without a side runner makes the side outputs here, in turn: the same function); with one,
+    // the stage's time is the wait for it after screening
+    const made = disk ? await timer.time(SIDE_STAGE, () => side ?? sideOutputs(sideTask())) : undefined;
+    disk?.remove();
     const featuresDone = timer.start('anomalies.geojson, forecast');
 
     const anchored: Anchored[] = [];
@@ -238,14 +265,16 @@ export async function sliceAndScreen(
     });
     await writeFeatureCollection(join(stageDir, 'interfaces.geojson'), { type: 'FeatureCollection', features: interfaces });
     // (the forecast takes the lines only to make a grid of its own; it is given the slices' grid)
-    const forecast = siteForecast(site.plan, velocity, [], { grid, slices: windows }, surveyed, toWgs84, mpu, screenOptions);
+    const forecast = made?.forecast ?? siteForecast(site.plan, velocity, [], { grid, slices: windows }, surveyed, toWgs84, mpu, screenOptions);
     await writeFeatureCollection(join(stageDir, 'forecast.geojson'), forecast);
     featuresDone();
-    return { anchored, ...counts, bands: bands.length, nearSurfaceM };
+    return { anchored, ...counts, bands: bands.length, nearSurfaceM, ...(made ? { thumbnails: made.thumbnails } : {}) };
   } catch (e) {
     beforeDisk?.remove();
     throw e;
   } finally {
+    // the side task reads the disk stack: done with it (settled either way) before it goes
+    await side?.catch(() => {});
     disk?.remove();
     kept.remove();
   }

@@ -1,7 +1,7 @@
 import { makeMember, type Member } from '@lamina/anomalies';
 import type { SliceStack } from '@lamina/slices';
 import { locusAtHeight, type ScreenContext } from './context';
-import { cellResidual } from './locus-residual';
+import { locusResidual } from './locus-residual';
 
 /** 8-connected components of a set of cells. */
 function subComponents(cells: number[], width: number): number[][] {
@@ -60,8 +60,9 @@ export function separateCrossings(members: Member[], stack: SliceStack, scores: 
       if (nearest > l.radiusM + band) continue;
       const inside: number[] = [], off: number[] = [];
       const res = new Map<number, number>();
+      const residual = locusResidual(refl, field, l.radiusM, ctx);
       for (const c of m.cells) {
-        const v = cellResidual(c, refl, field, l.radiusM, ctx);
+        const v = residual(c);
         res.set(c, v);
         (Math.abs(v) <= band ? inside : off).push(c);
       }

@@ -18,33 +18,49 @@ import type { Reflector } from './reflectors';
  * until that is understood.)
  */
 export function cellResidual(c: number, refl: Reflector, field: Float32Array, radiusM: number, ctx: ScreenContext): number {
+  return locusResidual(refl, field, radiusM, ctx)(c);
+}
+
+/**
+ * `cellResidual` of many cells against one locus: each segment's locus radius (which depends on the
+ * segment, not the cell) worked out once.
+ */
+export function locusResidual(refl: Reflector, field: Float32Array, radiusM: number, ctx: ScreenContext): (c: number) => number {
   const pts = refl.points, seg = refl.segments;
   const nElements = pts.length / 2 + seg.length / 4;
   const mig = ctx.migration;
-  if (nElements <= 1 && (!mig || seg.length === 0)) return field[c]! - radiusM;
+  if (nElements <= 1 && (!mig || seg.length === 0)) return (c) => field[c]! - radiusM;
   const g = ctx.grid;
   const mpu = ctx.metresPerUnit;
-  const row = (c / g.width) | 0;
-  const x = cellCentreX(g, c - row * g.width), y = cellCentreY(g, row);
   const k2 = mig ? mig.k2 : 0, ux = mig ? mig.ux : 0, uy = mig ? mig.uy : 0;
-  let best = Infinity;
-  for (let k = 0; k < pts.length; k += 2) {
-    const r = Math.hypot(x - pts[k]!, y - pts[k + 1]!) * mpu - radiusM;
-    if (Math.abs(r) < Math.abs(best)) best = r;
-  }
+  const rhos = new Float64Array(seg.length / 4);
   for (let i = 0; i < seg.length; i += 4) {
-    const ax = seg[i]!, ay = seg[i + 1]!, dx = seg[i + 2]! - ax, dy = seg[i + 3]! - ay;
+    const dx = seg[i + 2]! - seg[i]!, dy = seg[i + 3]! - seg[i + 1]!;
     const l2 = dx * dx + dy * dy;
-    let t = l2 > 0 ? ((x - ax) * dx + (y - ay) * dy) / l2 : 0;
-    t = t < 0 ? 0 : t > 1 ? 1 : t;
     let rho = radiusM;
     if (mig && l2 > 0) {
       // cos(phi) = |u . n| = |u x segment direction|
       const cosPhi = Math.abs(ux * dy - uy * dx) / Math.sqrt(l2);
       rho = radiusM * Math.sqrt(Math.max(0, 1 - k2 * cosPhi * cosPhi));
     }
-    const r = Math.hypot(x - ax - t * dx, y - ay - t * dy) * mpu - rho;
-    if (Math.abs(r) < Math.abs(best)) best = r;
+    rhos[i >> 2] = rho;
   }
-  return best;
+  return (c) => {
+    const row = (c / g.width) | 0;
+    const x = cellCentreX(g, c - row * g.width), y = cellCentreY(g, row);
+    let best = Infinity;
+    for (let k = 0; k < pts.length; k += 2) {
+      const r = Math.hypot(x - pts[k]!, y - pts[k + 1]!) * mpu - radiusM;
+      if (Math.abs(r) < Math.abs(best)) best = r;
+    }
+    for (let i = 0; i < seg.length; i += 4) {
+      const ax = seg[i]!, ay = seg[i + 1]!, dx = seg[i + 2]! - ax, dy = seg[i + 3]! - ay;
+      const l2 = dx * dx + dy * dy;
+      let t = l2 > 0 ? ((x - ax) * dx + (y - ay) * dy) / l2 : 0;
+      t = t < 0 ? 0 : t > 1 ? 1 : t;
+      const r = Math.hypot(x - ax - t * dx, y - ay - t * dy) * mpu - rhos[i >> 2]!;
+      if (Math.abs(r) < Math.abs(best)) best = r;
+    }
+    return best;
+  };
 }

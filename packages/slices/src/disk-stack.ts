@@ -26,6 +26,11 @@ export class DiskStack {
     return new DiskStack(RawBands.create(path, grid.width, grid.height, slices.length, grid.nodata), grid, slices);
   }
 
+  /** Opens a stack `create` made (e.g. in another thread), to read it. */
+  static open(path: string, grid: SliceGrid, slices: SliceDepth[]): DiskStack {
+    return new DiskStack(RawBands.open(path, grid.width, grid.height, slices.length), grid, slices);
+  }
+
   /** Writes rows [r0, r0 + rows) of every slice: values[k] holds rows*width values of slice k (sync, positional). */
   writeRows(r0: number, values: Float32Array[]): void {
     if (values.length !== this.slices.length) throw new Error(`disk stack ${this.path}: expected rows of ${this.slices.length} slices, found ${values.length}`);
@@ -39,6 +44,11 @@ export class DiskStack {
   /** Rows [r0, r1) of slice k. */
   readRows(k: number, r0: number, r1: number, out?: Float32Array): Float32Array {
     return this.raw.readRows(k, r0, r1, out);
+  }
+
+  /** Closes the file and leaves it in place. */
+  close(): void {
+    this.raw.close();
   }
 
   /** Deletes the file. */

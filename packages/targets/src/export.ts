@@ -3,10 +3,11 @@ import { lockFolder, type StagedFile } from '@lamina/atomic';
 import { readRun, readSlicesInfo, readVelocity, streamAnomalies } from './folder';
 import type { ExportContext } from './formats';
 import { folderDepthError } from './depth-error';
+import { preloadGpkg } from './gpkg';
 import { readMapBackground } from './report-map';
 import { readReview } from './review';
 import { decisionsById, isDropped, targetOf } from './targets';
-import { sliceThumbnails } from './thumbnails';
+import { sliceThumbnails, THUMBNAIL_SIZE, type Thumbnail } from './thumbnails';
 import { csvWriter, dxfWriter, geoJsonWriter, gpkgWriter, reportWriter, type TargetFileWriter } from './writers';
 
 export interface ExportOptions {
@@ -14,6 +15,11 @@ export interface ExportOptions {
   now?: Date;
   /** Long side of the slice thumbnails in report.html, pixels; 0 leaves them out. @default 240 */
   thumbnailSize?: number;
+  /**
+   * The thumbnails, already made from this folder's slices.tif by `sliceThumbnails` with `thumbnailSize`
+   * (a caller that made them while it did other work). @default made here
+   */
+  thumbnails?: Thumbnail[];
   /**
    * Hold the folder's write lock (shared with `process` and the viewer's review saves) while exporting;
    * `process` exports into its own stage and passes false. @default true
@@ -60,6 +66,8 @@ export async function exportTargets(outDir: string, options: ExportOptions = {})
 
 async function exportUnlocked(outDir: string, options: ExportOptions): Promise<ExportResult> {
   const now = options.now ?? new Date();
+  // sql.js compiles while the inputs and the thumbnails are read
+  preloadGpkg();
   const run = await readRun(outDir);
   const anomalies = streamAnomalies(outDir);
   const writers: TargetFileWriter[] = [];
@@ -80,7 +88,7 @@ async function exportUnlocked(outDir: string, options: ExportOptions): Promise<E
       ...(run.site.survey ? { survey: run.site.survey } : {}),
       exportDate: now.toISOString(),
     };
-    const thumbs = slices && (options.thumbnailSize ?? 240) > 0 ? await sliceThumbnails(outDir, slices, { maxSize: options.thumbnailSize ?? 240 }) : [];
+    const thumbs = options.thumbnails ?? (slices && (options.thumbnailSize ?? THUMBNAIL_SIZE) > 0 ? await sliceThumbnails(outDir, slices, { maxSize: options.thumbnailSize ?? THUMBNAIL_SIZE }) : []);
 
     const byId = decisionsById(review.decisions);
     const depthError = folderDepthError(velocity, slices, freq);

@@ -115,6 +115,15 @@ function sqlJs(): ReturnType<typeof initSqlJs> {
   return sqlPromise;
 }
 
+/**
+ * Starts loading sql.js (its WebAssembly compiles off the main thread) so that a later `openGpkg` finds
+ * it ready: a caller with other work before its first GeoPackage hides the compile behind that work.
+ * A failure to load surfaces at `openGpkg`, as without this.
+ */
+export function preloadGpkg(): void {
+  sqlJs().catch(() => {});
+}
+
 /** A feature table's definition: a GpkgLayer without its features. */
 export type GpkgLayerDef = Omit<GpkgLayer, 'features'>;
 

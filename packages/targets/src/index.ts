@@ -43,7 +43,7 @@ export {
 export { writeGpkg, openGpkg, gpkgGeometry, wkb, type GpkgSrs, type GpkgLayer, type GpkgLayerDef, type GpkgWriter, type GpkgFieldType, type GpkgValue } from './gpkg';
 export { crsToWkt, parseProj4, WGS84_WKT } from './wkt';
 export { encodePng, pngDataUri, crc32 } from './png';
-export { sliceThumbnails, type Thumbnail } from './thumbnails';
+export { sliceThumbnails, THUMBNAIL_SIZE, type Thumbnail } from './thumbnails';
 export { reportHtml, reportParts, reportTargetRow, reportFlaggedRow, byTargetId, type ReportInput, type ReportPage, type ReportRows } from './report';
 export { depthErrorModel, depthUncertainty, folderDepthError, type DepthErrorModel } from './depth-error';
 export { planMapSvg, planMapLegend, type MapFrame, type MapLayers, type MapTarget, type MapFlagged } from './plan-map';

@@ -1,6 +1,7 @@
 import { access } from 'node:fs/promises';
 import { join } from 'node:path';
 import { fromFile } from 'geotiff';
+import { useNodeInflate } from '@lamina/cog';
 import { InputError } from '@lamina/errors';
 import type { SlicesInfo } from './folder';
 import { encodePng, pngDataUri } from './png';
@@ -15,12 +16,15 @@ export interface Thumbnail {
   dataUri: string;
 }
 
+/** Long side of the thumbnails, pixels (report.html's). */
+export const THUMBNAIL_SIZE = 240;
+
 /**
  * Band previews of slices.tif, box-averaged down to at most `maxSize` pixels on the long side.
  * @param options.maxSize @default 240
  */
 export async function sliceThumbnails(outDir: string, info: SlicesInfo, options: { maxSize?: number } = {}): Promise<Thumbnail[]> {
-  const maxSize = options.maxSize ?? 240;
+  const maxSize = options.maxSize ?? THUMBNAIL_SIZE;
   const file = join(outDir, info.file);
   try {
     await access(file);
@@ -34,6 +38,7 @@ export async function sliceThumbnails(outDir: string, info: SlicesInfo, options:
     if (e instanceof InputError) throw e;
     throw new InputError(file, `expected the GeoTIFF slices.json describes, found one that cannot be decoded (${e instanceof Error ? e.message : String(e)})`);
   };
+  useNodeInflate();
   const tiff = await fromFile(file).catch(damaged);
   let image: Awaited<ReturnType<typeof tiff.getImage>>;
   let bands: ArrayLike<number>[];
