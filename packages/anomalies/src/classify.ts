@@ -1,5 +1,6 @@
 import { MAX_UTILITY_DIAMETER_M } from '@lamina/constants';
 import { quantile } from '@lamina/stats';
+import { sharedCells } from './extract';
 import type { Anomaly3D, Shape } from './types';
 
 /** What an anomaly is taken to be (anomalies.geojson `class`). */
@@ -346,12 +347,6 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
   // echoes: below a stronger object, mostly inside its plan cells
   const overlap = options.echoOverlap ?? 0.6;
   const order = items.map((_, i) => i).sort((p, q) => items[p]!.anomaly.depthTopM - items[q]!.anomaly.depthTopM);
-  const cellSets = new Map<number, Set<number>>();
-  const setOf = (i: number) => {
-    let s = cellSets.get(i);
-    if (!s) cellSets.set(i, (s = new Set(items[i]!.anomaly.cells)));
-    return s;
-  };
   for (const i of order) {
     const c = own[i]!;
     if (c.class === 'above-ground' || c.class === 'layer') continue;
@@ -362,10 +357,7 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
       const cb = own[j]!;
       if (j === i || cb.class === 'above-ground' || cb.class === 'layer' || cb.class === 'clutter') continue;
       if (b.depthBottomM > a.depthTopM + 1e-9 || !(b.strengthDb > a.strengthDb)) continue;
-      const s = setOf(j);
-      let inside = 0;
-      for (const k of a.cells) if (s.has(k)) inside++;
-      if (inside >= overlap * Math.min(a.cells.length, b.cells.length)) {
+      if (sharedCells(a.cells, b.cells) >= overlap * Math.min(a.cells.length, b.cells.length)) {
         const root = own[j]!.echoOf ?? j;
         own[i] = { class: own[root]!.class, reason: `echo below ${b.id}: same plan position, later, weaker`, echoOf: root };
         break;

@@ -44,9 +44,12 @@ export async function sideOutputs(task: SideOutputsTask): Promise<SideOutputsRes
   }
   const info = task.thumbnailSize > 0 ? await readSlicesInfo(task.stageDir) : undefined;
   const thumbnails = info ? await sliceThumbnails(task.stageDir, info, { maxSize: task.thumbnailSize }) : [];
-  const f = task.forecast;
+  return { thumbnails, forecast: gridForecast(task.forecast, grid, slices) };
+}
+
+/** forecast.geojson on the slices' grid, from what `SideOutputsTask.forecast` holds. */
+export function gridForecast(f: SideOutputsTask['forecast'], grid: SliceGrid, slices: SliceDepth[]): FeatureCollection {
   const toWgs84 = (x: number, y: number) => pointToWgs84(f.crs, x, y);
   // (the forecast takes the lines only to make a grid of its own; it is given the slices' grid)
-  const forecast = siteForecast(f.plan, f.velocity, [], { grid, slices }, f.surveyed, toWgs84, f.crs.metresPerUnit, f.options);
-  return { thumbnails, forecast };
+  return siteForecast(f.plan, f.velocity, [], { grid, slices }, f.surveyed, toWgs84, f.crs.metresPerUnit, f.options);
 }

@@ -7,9 +7,9 @@ import { DiskStack, SpillGridder, type GriddingInfo, type PointSpill, type Slice
 import type { Recipe } from '@lamina/processing';
 import { CAUTION } from '@lamina/constants';
 import type { InterfaceProperties } from '@lamina/contracts';
-import { airRadiusM, BandJoin, linesInRows, lineSpacingOfM, screenBands, screenSite, siteForecast, surveyedMask, type GeoJsonFeature, type Line } from '@lamina/screening';
+import { airRadiusM, BandJoin, linesInRows, lineSpacingOfM, screenBands, screenSite, surveyedMask, type GeoJsonFeature, type Line } from '@lamina/screening';
 import { FeatureSpill } from './feature-spill';
-import { sideOutputs, type SideOutputsResult, type SideOutputsTask } from './side-outputs';
+import { gridForecast, sideOutputs, type SideOutputsResult, type SideOutputsTask } from './side-outputs';
 import { THUMBNAIL_SIZE, type Thumbnail } from '@lamina/targets';
 import { writeFeatureCollection } from './outputs';
 import { StageTimer } from './timings';
@@ -184,13 +184,14 @@ export async function sliceAndScreen(
   const counts = { anomalies: 0, aboveGround: 0 };
   // slices.tif, the thumbnails and the forecast, made on the side while a one-band grid is screened
   let side: Promise<SideOutputsResult> | undefined;
+  const forecastInputs: SideOutputsTask['forecast'] = { plan: site.plan, velocity, crs: site.crs, surveyed, options: screenOptions };
   const sideTask = (): SideOutputsTask => ({
     kind: 'sideOutputs',
     stageDir,
     disk: { path: disk!.path, grid, slices: windows },
     gridding: gridder.gridding,
     thumbnailSize: THUMBNAIL_SIZE,
-    forecast: { plan: site.plan, velocity, crs: site.crs, surveyed, options: screenOptions },
+    forecast: forecastInputs,
   });
   try {
     for (const [b, band] of bands.entries()) {
@@ -264,8 +265,7 @@ export async function sliceAndScreen(
       if (f.properties.class === 'layer') interfaces.push(...interfaceParts(f));
     });
     await writeFeatureCollection(join(stageDir, 'interfaces.geojson'), { type: 'FeatureCollection', features: interfaces });
-    // (the forecast takes the lines only to make a grid of its own; it is given the slices' grid)
-    const forecast = made?.forecast ?? siteForecast(site.plan, velocity, [], { grid, slices: windows }, surveyed, toWgs84, mpu, screenOptions);
+    const forecast = made?.forecast ?? gridForecast(forecastInputs, grid, windows);
     await writeFeatureCollection(join(stageDir, 'forecast.geojson'), forecast);
     featuresDone();
     return { anchored, ...counts, bands: bands.length, nearSurfaceM, ...(made ? { thumbnails: made.thumbnails } : {}) };

@@ -1,3 +1,4 @@
+import { sharedCells } from '@lamina/anomalies';
 import { combine, WEIGHTS, type Evidence } from './evidence';
 import type { ScreenedAnomaly } from './screened';
 
@@ -18,12 +19,6 @@ export function piecesOfBuried(screened: ScreenedAnomaly[], isLayer: (a: Screene
   const minInside = options.minInside ?? 0.5;
   // objects only: a laterally extensive reflector (a layer, the near-surface zone's residue) holds anything
   const buried = screened.filter((s) => s.verdict.origin === 'subsurface' && !isLayer(s));
-  const footprints = new Map<ScreenedAnomaly, Set<number>>();
-  const footprint = (s: ScreenedAnomaly) => {
-    let f = footprints.get(s);
-    if (!f) footprints.set(s, (f = new Set(s.anomaly.cells)));
-    return f;
-  };
   let n = 0;
   for (let i = 0; i < screened.length; i++) {
     const s = screened[i]!;
@@ -34,10 +29,7 @@ export function piecesOfBuried(screened: ScreenedAnomaly[], isLayer: (a: Screene
     let host: { b: ScreenedAnomaly; share: number } | undefined;
     for (const b of buried) {
       if (!b.anomaly.members.some((m) => m.slice >= lo && m.slice <= hi)) continue;
-      const f = footprint(b);
-      let inside = 0;
-      for (const c of s.anomaly.cells) if (f.has(c)) inside++;
-      const share = inside / s.anomaly.cells.length;
+      const share = sharedCells(s.anomaly.cells, b.anomaly.cells) / s.anomaly.cells.length;
       if (share >= minInside && (!host || share > host.share)) host = { b, share };
     }
     if (!host) continue;
