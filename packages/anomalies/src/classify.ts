@@ -1,7 +1,7 @@
 import { MAX_UTILITY_DIAMETER_M } from '@lamina/constants';
 import { quantile } from '@lamina/stats';
 import { sharedCells } from './extract';
-import type { Anomaly3D, Shape } from './types';
+import type { Anomaly3D, Member, Shape } from './types';
 
 /** What an anomaly is taken to be (anomalies.geojson `class`). */
 export type AnomalyClass = 'utility' | 'structure' | 'layer' | 'clutter' | 'above-ground';
@@ -41,6 +41,12 @@ export interface ClassifyOptions {
    * sewer 0.35-0.63 m deep, whose slice reached a third into the zone. @default 0.5
    */
   nearSurfaceOverlap?: number;
+  /**
+   * Take as near-surface clutter an anomaly that starts in the near-surface zone, is both strongest and
+   * largest inside it, and is no longer than a point scatterer's response reaching its bottom
+   * (`isZoneResidue`). @default true
+   */
+  zoneResidue?: boolean;
   /** Largest angle between a strip and a survey line for the strip to run along that line, degrees. @default 15 */
   alongLineDeg?: number;
   /**
@@ -146,6 +152,24 @@ export function pointFootprintM(depthM: number, thicknessM: number, ctx: Classif
 /** Lateral offset y at which a reflection from depth z arrives from z + e: sqrt(z^2 + y^2) = z + e, y = sqrt(2 z e + e^2), m. */
 function reachM(z: number, e: number): number {
   return Math.sqrt(2 * z * e + e * e);
+}
+
+/**
+ * An anomaly that starts inside the near-surface zone and fades below it: its strongest member and its
+ * largest member both lie in slices inside the zone (`zone`, the others `deep`), and it is no longer
+ * than a point scatterer's response that reaches the bottom of its deepest slice (`pointFootprintM` at
+ * that depth). A buried object whose top the zone's slices catch grows or holds below the zone (its
+ * body, its diffraction flanks widening with depth) or runs across several point footprints (a pipe);
+ * what is biggest and strongest in the zone and small is the zone's own: the direct and ground wave's
+ * residue where coupling changes, or a shallow stone or root inside the zone. The near-surface rule of
+ * `classifyAnomalies` (no targets from the zone unless coherent across several lines and deeper slices).
+ */
+export function isZoneResidue(a: Anomaly3D, zone: readonly Member[], deep: readonly Member[], ctx: ClassifyContext): boolean {
+  if (zone.length === 0 || deep.length === 0) return false;
+  const most = (ms: readonly Member[], f: (m: Member) => number) => ms.reduce((best, m) => Math.max(best, f(m)), -Infinity);
+  if (!(most(zone, (m) => m.strengthDb) > most(deep, (m) => m.strengthDb))) return false;
+  if (!(most(zone, (m) => m.areaM2) > most(deep, (m) => m.areaM2))) return false;
+  return a.shape.lengthM <= pointFootprintM(a.depthBottomM, thickestSliceM(a), ctx);
 }
 
 /** Thickness of the anomaly's thickest slice, m. */
@@ -266,7 +290,8 @@ export function alongLineReachM(a: Anomaly3D, ctx: ClassifyContext): number {
  * - `above-ground`: the screening's verdict (its evidence stays on the feature);
  * - `clutter` (near surface): no member in a slice below the direct- and ground-wave zone (a slice
  *   reaching into the zone by more than `nearSurfaceOverlap` of its thickness is inside it), or members
- *   there and below that cross fewer than `nearSurfaceLines` lines;
+ *   there and below that cross fewer than `nearSurfaceLines` lines, or strongest and largest inside the
+ *   zone and no longer than a point's response down to its bottom (`isZoneResidue`);
  * - `layer` (planar): flat along its line (found before background removal) and part of a group of
  *   such strips on neighbouring lines too large for any object (the caller's `planar`);
  * - echo: sharing at least `echoOverlap` of the smaller one's cells with a stronger subsurface anomaly that ends above it
@@ -287,6 +312,8 @@ export function alongLineReachM(a: Anomaly3D, ctx: ClassifyContext): number {
 export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: boolean; planar?: boolean }[], ctx: ClassifyContext, options: ClassifyOptions = {}): Classified[] {
   const lines = options.nearSurfaceLines ?? 3;
   const oneLine = new Set<Anomaly3D>();
+  // the zone's residue stays in the populations below (it is what they are made of) but keeps its class
+  const zoneResidue = new Set<Anomaly3D>();
   const own = items.map(({ anomaly: a, aboveGround, planar }): Classified => {
     if (aboveGround) return { class: 'above-ground', reason: 'air-wave screening' };
     const slack = options.nearSurfaceOverlap ?? 0.5;
@@ -294,6 +321,10 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
     if (deep.length === 0) return { class: 'clutter', reason: `inside the near-surface zone (top ${round(ctx.nearSurfaceM)} m): no slice below it` };
     if (deep.length < a.members.length && a.shape.lengthM < (lines - 1) * ctx.lineSpacingM && a.shape.widthM < (lines - 1) * ctx.lineSpacingM) {
       return { class: 'clutter', reason: `starts in the near-surface zone and crosses fewer than ${lines} lines` };
+    }
+    if ((options.zoneResidue ?? true) && isZoneResidue(a, a.members.filter((m) => !deep.includes(m)), deep, ctx)) {
+      zoneResidue.add(a);
+      return { class: 'clutter', reason: `starts in the near-surface zone (top ${round(ctx.nearSurfaceM)} m), strongest and largest inside it, weaker and smaller below, and no longer than a point scatterer's response down to its bottom (${round(pointFootprintM(a.depthBottomM, thickestSliceM(a), ctx))} m): a shallow stone, a root or the zone's residue` };
     }
     if (planar) return { class: 'layer', reason: 'flat along its line and beside such strips on the neighbouring lines: a planar reflector that background removal takes out of the slices' };
     const z = a.depthBottomM;
@@ -314,8 +345,9 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
   });
   // point-sized structures: the site's point scatterers, but for the outliers of their strengths
   const points = own.flatMap((c, i) => ((c.class === 'structure' || c.class === 'utility') && isPointSized(items[i]!.anomaly, ctx) ? [i] : []));
-  // the population: these and the point-like ones seen on one line
-  const strengths = [...points.map((i) => items[i]!.anomaly), ...oneLine].map((a) => a.strengthDb).filter(Number.isFinite);
+  // the population: these, the point-like ones seen on one line and the point-sized residue of the zone
+  const residue = [...zoneResidue];
+  const strengths = [...points.map((i) => items[i]!.anomaly), ...oneLine, ...residue.filter((a) => isPointSized(a, ctx))].map((a) => a.strengthDb).filter(Number.isFinite);
   const fence = upperFence(strengths, options);
   if (fence !== undefined) {
     for (const i of points) {
@@ -336,7 +368,7 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
     const a = items[i]!.anomaly;
     return c.class === 'structure' && a.shape.kind !== 'linear' && a.depthTopM < ctx.nearSurfaceM && isOnePulseThick(a, ctx) ? [i] : [];
   });
-  const shallowStrengths = shallow.map((i) => items[i]!.anomaly.strengthDb).filter(Number.isFinite);
+  const shallowStrengths = [...shallow.map((i) => items[i]!.anomaly), ...residue.filter((a) => a.shape.kind !== 'linear' && isOnePulseThick(a, ctx))].map((a) => a.strengthDb).filter(Number.isFinite);
   const shallowFence = upperFence(shallowStrengths, options);
   if (shallowFence !== undefined) {
     for (const i of shallow) {

@@ -105,6 +105,34 @@ describe('artefacts of the survey, not objects', () => {
     expect(edge[0]!.class).toBe('structure');
   });
 
+  it("what is strongest and largest in the near-surface zone, fades below it and is no longer than a point's response down to its bottom is the zone's clutter", () => {
+    // zone 0.19 m, slices 0.125 m: slice 1 (0.125-0.25) is inside it, slice 2 (0.25-0.375) below it
+    const z: ClassifyContext = { ...ctx, nearSurfaceM: 0.19 };
+    const box = (x: number, y: number, hx: number, hy: number) => cellsOf((px, py) => Math.abs(px - x) < hx && Math.abs(py - y) < hy);
+    /** Members in slices 1 and 2 with their own cells and peaks. */
+    const twoSlices = (zoneCells: Int32Array, zonePeak: number, deepCells: Int32Array, deepPeak: number) => {
+      const members = [[1, zoneCells, zonePeak], [2, deepCells, deepPeak]].map(([s, cells, peak], i) => {
+        for (const k of cells as Int32Array) stack.slices[s as number]!.values[k] = peak as number;
+        return makeMember(i, s as number, cells as Int32Array, stack, new Float32Array(g.width * g.height).fill(5), { metresPerUnit: 1 }, 1);
+      });
+      return buildAnomaly('A', members, stack, { metresPerUnit: 1 });
+    };
+    // a point's response down to 0.375 m (slice 0.125 m + one pulse 0.125 m): 2 sqrt(2 * 0.375 * 0.25 + 0.25^2) + 0.5 + 0.125 = 1.625 m
+    expect(pointFootprintM(0.375, 0.125, ctx)).toBeCloseTo(1.625, 12);
+    // 1.4 x 1.2 m in the zone at 20 dB, a 0.6 x 0.5 m tail below at 13 dB
+    const residue = twoSlices(box(5, 5, 0.7, 0.6), 100, box(5, 5, 0.3, 0.25), 20);
+    // the same, but the part below is the larger one (an object whose body or flanks widen below the zone)
+    const grows = twoSlices(box(10, 5, 0.3, 0.25), 100, box(10, 5, 0.7, 0.6), 20);
+    // the same, but stronger below (an object whose top the zone's slice catches)
+    const stronger = twoSlices(box(15, 5, 0.7, 0.6), 20, box(15, 5, 0.3, 0.25), 100);
+    // a pipe crossing the lines: strongest and widest in the zone but 4 m long, several point footprints
+    const pipe = twoSlices(box(5, 15, 2, 0.4), 100, box(5, 15, 1, 0.2), 20);
+    const c = classifyAnomalies([residue, grows, stronger, pipe].map((a) => ({ anomaly: a, aboveGround: false })), z);
+    expect(c.map((x) => x.class)).toEqual(['clutter', 'structure', 'structure', 'utility']);
+    expect(c[0]!.reason).toMatch(/strongest and largest inside it/);
+    expect(classifyAnomalies([{ anomaly: residue, aboveGround: false }], z, { zoneResidue: false })[0]!.class).toBe('structure');
+  });
+
   it('a strip the caller found to be part of a planar reflector is a layer', () => {
     const strip = anomaly(cellsOf((x, y) => Math.abs(y - 8.06) < 0.07 && x > 3 && x < 20), 3, 3);
     expect(classifyAnomalies([{ anomaly: strip, aboveGround: false, planar: true }], lines)[0]!.class).toBe('layer');
