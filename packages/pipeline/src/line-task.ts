@@ -2,7 +2,7 @@ import type { RadarLine } from '@lamina/radar-data';
 import { InputError } from '@lamina/errors';
 import { loadSite, readLine, pointToWgs84, shownPath, type LineSource, type Site } from '@lamina/site';
 import { alongTrackM, defaultRecipe, hilbertEnvelopePair, hilbertWorkspace, parseRecipe, runRecipe, withoutAirEvents, type AirObjects, type Recipe, type RecipeLogEntry, type Step } from '@lamina/processing';
-import { fitManualPicks, lineDirection, lineHyperbolas, recipeForVelocity, sampleDepths, type HyperbolaFit, type ManualHyperbola, type VelocityModel } from '@lamina/velocity';
+import { EARLY_APEX_FLAG, fitManualPicks, lineDirection, lineHyperbolas, recipeForVelocity, sampleDepths, type HyperbolaFit, type ManualHyperbola, type VelocityModel } from '@lamina/velocity';
 import { traceSliceValues, type SliceWindow } from '@lamina/slices';
 import { lineSpillPath, readLineSpill, writeLineSpill } from './line-spill';
 import { summariseLine, writeRadargram, type LineSummary } from './outputs';
@@ -222,7 +222,7 @@ async function pass1Rest(task: Pass1Task, s: Site, src: LineSource, whole: Radar
       y0 = Math.min(y0, whole.y[t]!);
       y1 = Math.max(y1, whole.y[t]!);
     }
-    onContext = { airApexes: fits.filter((f) => f.origin === 'above-ground').flatMap((f) => [f.trace, f.t0Ns]), box: [x0, y0, x1, y1] };
+    onContext = { airApexes: fits.filter((f) => f.origin === 'above-ground' && !f.flags?.includes(EARLY_APEX_FLAG)).flatMap((f) => [f.trace, f.t0Ns]), box: [x0, y0, x1, y1] };
     // fits of the piece, with the trace and along-line offsets of the piece (its radargram)
     const from = src.traces![0] - src.context![0];
     const startM = alongTrackM(whole, s.crs.metresPerUnit)[from] as number;

@@ -156,14 +156,17 @@ interface FitRow {
   radiusM: unknown;
   radiusResolved: unknown;
   origin: unknown;
+  flags?: unknown;
 }
 
 /**
  * Whether a fit is marked in the appendix, and why: not used by the model (origin other than
- * subsurface: air, implausible, ...) or further than three times the site spread from the site velocity.
+ * subsurface: air, implausible, ...), flagged (its flags: a subsurface fit with flags serves the model only
+ * as velocity.json's site note says) or further than three times the site spread from the site velocity.
  */
 export function fitMark(h: FitRow, velocity: VelocityInfo): string {
   if (h.origin !== 'subsurface') return `not used (${String(h.origin ?? 'unknown')})`;
+  if (Array.isArray(h.flags) && h.flags.length > 0) return `flagged: ${h.flags.map(String).join(', ')}`;
   const v = Number(h.velocityMPerNs);
   const spread = velocity.spreadMPerNs;
   if (spread !== undefined && spread > 0 && Number.isFinite(v) && Math.abs(v - velocity.velocityMPerNs) > 3 * spread) return 'outlier (beyond 3 × the site spread)';
@@ -184,6 +187,7 @@ export function velocitySummary(velocity: VelocityInfo): { summary: string; appe
   const summary =
     `<table><tr><th>Site velocity</th><td class="n">${velocity.velocityMPerNs.toFixed(4)} m/ns</td><th>Permittivity K</th><td class="n">${n(velocity.permittivity, 2)}</td></tr>` +
     `<tr><th>Spread</th><td class="n">${velocity.spreadMPerNs !== undefined ? `${velocity.spreadMPerNs.toFixed(4)} m/ns (${n((100 * velocity.spreadMPerNs) / velocity.velocityMPerNs, 1)} %)` : 'not given'}</td><th>Hyperbola fits</th><td>${fits.length}${fits.length ? `: ${[...byOrigin].map(([o, c]) => `${c} ${esc(o)}`).join(', ')}; ${outliers} outlier${outliers === 1 ? '' : 's'}` : ''}</td></tr>` +
+    (isObj(vr.site) && typeof vr.site.note === 'string' ? `<tr><th>Note</th><td colspan="3">${esc(vr.site.note)}</td></tr>` : '') +
     (moisture ? `<tr><th>Moisture (estimate)</th><td colspan="3">${n(moisture.volumetricWaterContent, 3)} volumetric, ${esc(moisture.method)}. ${esc(moisture.caution)}</td></tr>` : '') +
     '</table>' +
     (layers.length ? `<table><tr><th>Layer top (m)</th><th>bottom (m)</th><th>v (m/ns)</th><th>K</th></tr>${layers.map((l) => `<tr><td class="n">${n(l.topM)}</td><td class="n">${n(l.bottomM)}</td><td class="n">${n(l.velocityMPerNs, 4)}</td><td class="n">${n(l.permittivity)}</td></tr>`).join('')}</table>` : '') +

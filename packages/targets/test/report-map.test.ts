@@ -147,3 +147,16 @@ print(json.dumps({'operator': f.GetField('operator'), 'acc': f.GetField('positio
     expect(html).toContain('RTK GNSS, stated horizontal accuracy 0.03 m');
   });
 });
+
+describe('report.html velocity summary', () => {
+  it("shows velocity.json's site note and marks flagged subsurface fits with their flags", async () => {
+    const { velocitySummary } = await import('../src/report-method');
+    const fit = (flags?: string[]) => ({ line: 'L1', trace: 5, t0Ns: 9, depthM: 0.5, velocityMPerNs: 0.13, uncertaintyMPerNs: 0.01, permittivity: 5.3, origin: 'subsurface', ...(flags ? { flags } : {}) });
+    const note = 'no fit below the direct-wave zone: the site rests on fits whose apexes lie inside it';
+    const raw = { site: { velocityMPerNs: 0.13, permittivity: 5.3, spreadMPerNs: 0.01, fitCount: 2, note }, model: { kind: 'constant', layers: [] }, hyperbolas: [fit(['apex in the direct-wave zone']), fit()] };
+    const { summary, appendix } = velocitySummary({ velocityMPerNs: 0.13, permittivity: 5.3, spreadMPerNs: 0.01, fitCount: 2, raw } as never);
+    expect(summary).toContain(note);
+    expect(appendix).toContain('flagged: apex in the direct-wave zone');
+    expect(appendix.match(/class="marked"/g)?.length).toBe(1);
+  });
+});

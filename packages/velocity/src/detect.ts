@@ -88,6 +88,19 @@ export interface DetectOptions {
   rejectEchoes?: boolean;
   /** Shortest delay of a copy above, in periods of the centre frequency (beyond the wavelet's own envelope). @default 1 */
   echoMinDelayPeriods?: number;
+  /**
+   * Earliest apex, in periods of the centre frequency after time-zero: the direct and ground waves
+   * (about one pulse) and their residue after background removal make apex-like maxima before it. @default 1.5
+   */
+  earliestApexPeriods?: number;
+  /**
+   * Also examine apexes from this many periods after time-zero up to `earliestApexPeriods`, after all
+   * later candidates, and return their accepted fits with `early: true`: a fit there may be direct-wave
+   * residue, so a site takes them only when nothing later fits (`siteVelocityModel`). Off when unset.
+   */
+  earlyApexPeriods?: number;
+  /** Examine the early window only when this holds for the fits of the later apexes. @default always */
+  earlyApexIf?: (late: DetectedHyperbola[]) => boolean;
 }
 
 export interface DetectedHyperbola extends PointFit {
@@ -101,6 +114,8 @@ export interface DetectedHyperbola extends PointFit {
   timeNs: Float64Array;
   /** Smaller of the two flanks' medians of the normalised envelope along the fitted curve. */
   score: number;
+  /** Apex inside the early window (`earlyApexPeriods` to `earliestApexPeriods`). */
+  early?: boolean;
 }
 
 /** The lower quartile (by rank, floor(n / 4)) of `a`, which it reorders. */
@@ -203,13 +218,14 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   const sampleOf = (tNs: number) => (tNs + timeZeroNs) / dtNs;
 
   // Apex candidates: local maxima after the direct wave.
-  const sStart = Math.max(1, Math.ceil(sampleOf(1.5 * periodNs)));
+  const sStart = Math.max(1, Math.ceil(sampleOf((options.earliestApexPeriods ?? 1.5) * periodNs)));
   // Apexes need room below them for a wavelet and some move-out before the end of the record.
   const sEnd = nSamples - 1 - 4 * halfPeriodS;
   const nbT = 2;
   const apexShift = 2;
   const cands = apexCandidates(N, nTraces, nSamples, sStart, sEnd, candTh, nbT, halfPeriodS);
   cands.sort((a, b) => b.v - a.v);
+  const sEarly = options.earlyApexPeriods === undefined ? sStart : Math.max(1, Math.ceil(sampleOf(options.earlyApexPeriods * periodNs)));
 
   const velocities = new Float64Array(nV);
   for (let k = 0; k < nV; k++) velocities[k] = vMin * (vMax / vMin) ** (k / (nV - 1));
@@ -482,49 +498,57 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
 
   const scoreV = new Float64Array(nV);
   const xV = new Float64Array(nV);
-  let examined = 0;
-  for (const c of cands) {
-    if (examined >= maxCand) break;
-    if (nearAccepted(c.t, c.s)) continue;
-    examined++;
-    // Scan velocity and a few traces of apex position (noise moves the envelope maximum off the apex).
-    const t0 = c.s * dtNs - timeZeroNs;
-    scoreV.fill(-1);
-    for (let dj = -apexShift; dj <= apexShift; dj++) {
-      const j = c.t + dj;
-      if (j < 0 || j >= nTraces) continue;
-      for (let k = 0; k < nV; k++) {
-        const v = velocities[k]!;
-        const z = apexDistance(t0, v, sep);
-        if (!(z > 0)) continue;
-        // only scores above pickTh / 2 make starts (and a lower one never outranks them): `floor`
-        const sc = curveScore(along[j]!, z, v, apertureOf(z), pickTh / 2);
-        if (sc > scoreV[k]!) {
-          scoreV[k] = sc;
-          xV[k] = along[j]!;
+  /** Examines the candidates, strongest first (at most `maxCand` off accepted curves), into `accepted`. */
+  const examineAll = (list: { t: number; s: number; v: number }[], early: boolean): void => {
+    let examined = 0;
+    for (const c of list) {
+      if (examined >= maxCand) break;
+      if (nearAccepted(c.t, c.s)) continue;
+      examined++;
+      // Scan velocity and a few traces of apex position (noise moves the envelope maximum off the apex).
+      const t0 = c.s * dtNs - timeZeroNs;
+      scoreV.fill(-1);
+      for (let dj = -apexShift; dj <= apexShift; dj++) {
+        const j = c.t + dj;
+        if (j < 0 || j >= nTraces) continue;
+        for (let k = 0; k < nV; k++) {
+          const v = velocities[k]!;
+          const z = apexDistance(t0, v, sep);
+          if (!(z > 0)) continue;
+          // only scores above pickTh / 2 make starts (and a lower one never outranks them): `floor`
+          const sc = curveScore(along[j]!, z, v, apertureOf(z), pickTh / 2);
+          if (sc > scoreV[k]!) {
+            scoreV[k] = sc;
+            xV[k] = along[j]!;
+          }
         }
       }
+      // Starts: the strongest local maxima of the score over velocity; the accepted fit with the smallest
+      // residual wins (a strong straight event crossing one flank can make a wrong curve score best).
+      const starts: number[] = [];
+      for (let k = 0; k < nV; k++) {
+        const u = scoreV[k]!;
+        if (!(u > pickTh / 2)) continue;
+        if ((k > 0 && scoreV[k - 1]! > u) || (k < nV - 1 && scoreV[k + 1]! >= u)) continue;
+        starts.push(k);
+      }
+      starts.sort((a, b) => scoreV[b]! - scoreV[a]!);
+      let best: DetectedHyperbola | null = null;
+      for (const k of starts.slice(0, 3)) {
+        const h = tryStart({ x0M: xV[k]!, t0Ns: t0, velocityMPerNs: velocities[k]! });
+        if (h && (!best || h.rmsNs < best.rmsNs)) best = h;
+      }
+      if (!best) continue;
+      const fit = best;
+      const dup = accepted.some((h) => Math.abs(h.x0M - fit.x0M) < Math.max(3 * spacing, 0.2) && Math.abs(h.t0Ns - fit.t0Ns) < periodNs);
+      if (dup) continue;
+      accepted.push(early ? { ...fit, early: true } : fit);
     }
-    // Starts: the strongest local maxima of the score over velocity; the accepted fit with the smallest
-    // residual wins (a strong straight event crossing one flank can make a wrong curve score best).
-    const starts: number[] = [];
-    for (let k = 0; k < nV; k++) {
-      const u = scoreV[k]!;
-      if (!(u > pickTh / 2)) continue;
-      if ((k > 0 && scoreV[k - 1]! > u) || (k < nV - 1 && scoreV[k + 1]! >= u)) continue;
-      starts.push(k);
-    }
-    starts.sort((a, b) => scoreV[b]! - scoreV[a]!);
-    let best: DetectedHyperbola | null = null;
-    for (const k of starts.slice(0, 3)) {
-      const h = tryStart({ x0M: xV[k]!, t0Ns: t0, velocityMPerNs: velocities[k]! });
-      if (h && (!best || h.rmsNs < best.rmsNs)) best = h;
-    }
-    if (!best) continue;
-    const fit = best;
-    const dup = accepted.some((h) => Math.abs(h.x0M - fit.x0M) < Math.max(3 * spacing, 0.2) && Math.abs(h.t0Ns - fit.t0Ns) < periodNs);
-    if (dup) continue;
-    accepted.push(fit);
+  };
+  examineAll(cands, false);
+  // the early window after all later apexes (its fits never take a later fit's place), when asked
+  if (sEarly < sStart && (options.earlyApexIf?.(accepted) ?? true)) {
+    examineAll(apexCandidates(N, nTraces, nSamples, sEarly, Math.min(sStart, sEnd), candTh, nbT, halfPeriodS).sort((a, b) => b.v - a.v), true);
   }
   return accepted;
 }

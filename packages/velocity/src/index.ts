@@ -27,6 +27,7 @@ export { envelopeLevel } from './noise-level';
 export { detectHyperbolas, type DetectOptions, type DetectedHyperbola } from './detect';
 export {
   ABOVE_GROUND_MAX_PERMITTIVITY,
+  EARLY_APEX_FLAG,
   MAX_SOIL_PERMITTIVITY,
   MIN_SOIL_PERMITTIVITY,
   classifyVelocity,

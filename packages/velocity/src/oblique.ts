@@ -1,7 +1,7 @@
 import type { RadarLine } from '@lamina/radar-data';
 import type { HyperbolaFit } from './model';
 import { permittivityFromVelocity } from './physics';
-import { classifyVelocity } from './site-model';
+import { classifyVelocity, EARLY_APEX_FLAG } from './site-model';
 
 /**
  * Oblique crossings of linear reflectors. A pipe (or a wall edge above ground) crossing a survey line at
@@ -136,7 +136,9 @@ export function correctObliqueCrossings(fits: HyperbolaFit[], directions: Record
             lines: idx.length,
           },
         };
-        if (flags.length > 0) g.flags = flags;
+        // the velocity's flags anew; where the apex lies stays as it was
+        const all = [...flags, ...(f.flags ?? []).filter((x) => x === EARLY_APEX_FLAG)];
+        if (all.length > 0) g.flags = all;
         else delete g.flags;
         out[i] = g;
       }

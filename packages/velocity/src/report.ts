@@ -6,7 +6,7 @@ import type { PointFit } from './fit';
 import { C_M_PER_NS, type HyperbolaFit, type VelocityReport } from './model';
 import { correctObliqueCrossings, lineDirection, type ObliqueOptions } from './oblique';
 import { permittivityFromVelocity } from './physics';
-import { ABOVE_GROUND_MAX_PERMITTIVITY, classifyVelocity, siteVelocityModel, type SiteModelOptions } from './site-model';
+import { ABOVE_GROUND_MAX_PERMITTIVITY, classifyVelocity, EARLY_APEX_FLAG, siteVelocityModel, usableForSite, type SiteModelOptions } from './site-model';
 
 /** One entry of `hyperbolas[]` from a fit on a line. */
 export function toHyperbolaFit(
@@ -43,10 +43,21 @@ export function toHyperbolaFit(
   return out;
 }
 
-/** Detect and fit the hyperbolas of one processed line, classified. */
+/**
+ * Detect and fit the hyperbolas of one processed line, classified. On a line whose later fits give the
+ * site model nothing (`usableForSite`), apexes from one period after time-zero (one pulse: the
+ * direct-wave zone) are examined too, after all later ones, and their fits carry `EARLY_APEX_FLAG`
+ * (`buildVelocityReport` takes them only for a site that no later fit serves; a site with later fits
+ * drops them, so examining them only on such lines changes no result).
+ */
 export function lineHyperbolas(line: RadarLine, options: DetectOptions & { aboveGroundMaxPermittivity?: number } = {}): HyperbolaFit[] {
   const dir = lineDirection(line);
-  return detectHyperbolas(line, options).map((d: DetectedHyperbola) => ({ ...toHyperbolaFit(line.id, d, 'auto', options), lineDirection: dir }));
+  const nothingLater = (late: DetectedHyperbola[]) => !late.some((d) => usableForSite(toHyperbolaFit(line.id, d, 'auto', options)));
+  return detectHyperbolas(line, { earlyApexPeriods: 1, earlyApexIf: nothingLater, ...options }).map((d: DetectedHyperbola) => {
+    const f: HyperbolaFit = { ...toHyperbolaFit(line.id, d, 'auto', options), lineDirection: dir };
+    if (d.early) f.flags = [...(f.flags ?? []), EARLY_APEX_FLAG];
+    return f;
+  });
 }
 
 export interface ReportOptions extends SiteModelOptions, ObliqueOptions {
@@ -61,14 +72,31 @@ export interface ReportOptions extends SiteModelOptions, ObliqueOptions {
   lineDirections?: Record<string, [number, number]>;
   /** Skip the oblique-crossing correction. @default false */
   noObliqueCorrection?: boolean;
+  /**
+   * Independent objects (`objectGroups`) whose fits in the direct-wave zone a site without later fits
+   * needs to take them: one object's fits share its own error (a pipe crossed obliquely, a tank, direct-wave
+   * residue along a line), and three is the fewest whose median outvotes one of them. @default 3
+   */
+  minEarlyObjects?: number;
 }
 
 /** The velocity.json content from all fits of a site, oblique crossings corrected (see `correctObliqueCrossings`). */
 export function buildVelocityReport(fits: HyperbolaFit[], options: ReportOptions = {}): VelocityReport {
   const dirs: Record<string, [number, number]> = { ...options.lineDirections };
   for (const f of fits) if (f.lineDirection && !dirs[f.line]) dirs[f.line] = f.lineDirection;
-  const all = options.noObliqueCorrection ? fits : correctObliqueCrossings(fits, dirs, options);
-  const { site, model } = siteVelocityModel(all, options);
+  const corrected = (f: HyperbolaFit[]) => (options.noObliqueCorrection ? f : correctObliqueCrossings(f, dirs, options));
+  // Fits in the direct-wave zone serve only a site that no later fit serves, when they come from
+  // `minEarlyObjects` objects (and then only the subsurface ones: an air-velocity fit there is no
+  // evidence of an above-ground object of its own).
+  const isEarly = (f: HyperbolaFit) => f.flags?.includes(EARLY_APEX_FLAG) === true;
+  let all = corrected(fits.filter((f) => !isEarly(f)));
+  let { site, model } = siteVelocityModel(all, options);
+  const early = fits.filter((f) => isEarly(f) && f.origin === 'subsurface');
+  if (site.fitCount === 0 && early.length > 0) {
+    const withEarly = corrected([...all, ...early]);
+    const m = siteVelocityModel(withEarly, { ...options, earlyApexes: true });
+    if ((m.site.objectCount ?? 0) >= (options.minEarlyObjects ?? 3)) ({ all, site, model } = { all: withEarly, ...m });
+  }
   return {
     site,
     model,

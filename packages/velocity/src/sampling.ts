@@ -58,7 +58,7 @@ export function spreadOrder(n: number): number[] {
 export function enoughFits(fits: HyperbolaFit[], linesFitted: number, nLines: number, options: SamplingOptions = {}): boolean {
   const minLines = options.minLines ?? 8;
   if (nLines <= 2 * minLines || linesFitted < minLines) return false;
-  const usable = fits.filter(usableForSite);
+  const usable = fits.filter((f) => usableForSite(f));
   if (usable.length < (options.minFits ?? 30)) return false;
   const { sizes, group } = objectGroups(usable, { metresPerUnit: options.metresPerUnit ?? 1 });
   if (sizes.length < (options.minObjects ?? 10)) return false;

@@ -18,6 +18,13 @@ export const MAX_SOIL_PERMITTIVITY = 40;
  */
 export const MIN_SOIL_PERMITTIVITY = 3;
 
+/**
+ * Flag of a fit whose apex lies in the direct-wave zone (`earlyApexPeriods` of `detectHyperbolas`): it may
+ * be the residue of the direct and ground waves, so the site model takes such fits only when no other fit
+ * qualifies (`earlyApexes`).
+ */
+export const EARLY_APEX_FLAG = 'apex in the direct-wave zone';
+
 /** Origin and flags of a fit from its velocity. */
 export function classifyVelocity(
   velocityMPerNs: number,
@@ -94,10 +101,12 @@ export function objectGroups(
  * velocity it gives the model (`siteVelocityOf`) is a soil's: a radius-free velocity outside the soils'
  * range (`classifyVelocity`: K above 40 or below 2) is the v-R trade-off run into a corner (a velocity
  * no soil has with a "radius" to match), and the point fit beside it is biased fast by the radius it
- * could not resolve, so the fit does not read the soil.
+ * could not resolve, so the fit does not read the soil. With `earlyApexes`, a fit whose only flag is
+ * `EARLY_APEX_FLAG` counts too.
  */
-export function usableForSite(f: HyperbolaFit): boolean {
-  if (!(f.origin === 'subsurface' && (f.flags?.length ?? 0) === 0 && Number.isFinite(f.uncertaintyMPerNs) && f.velocityMPerNs > 0)) return false;
+export function usableForSite(f: HyperbolaFit, options?: { earlyApexes?: boolean }): boolean {
+  const earlyApexes = options?.earlyApexes === true;
+  if (!(f.origin === 'subsurface' && (f.flags ?? []).every((g) => earlyApexes && g === EARLY_APEX_FLAG) && Number.isFinite(f.uncertaintyMPerNs) && f.velocityMPerNs > 0)) return false;
   const c = classifyVelocity(siteVelocityOf(f));
   return c.origin === 'subsurface' && c.flags.length === 0;
 }
@@ -132,6 +141,8 @@ export interface SiteModelOptions {
    * trade-off). @default 'radiusFree'
    */
   unresolvedVelocity?: 'radiusFree' | 'point';
+  /** Fits flagged `EARLY_APEX_FLAG` (and nothing else) count (`buildVelocityReport`: when no other fit does). @default false */
+  earlyApexes?: boolean;
 }
 
 /**
@@ -156,7 +167,7 @@ export function siteVelocityOf(f: HyperbolaFit): number {
  * at z1 = v1 t1 / 2.
  */
 export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOptions = {}): Pick<VelocityReport, 'site' | 'model'> {
-  const usable = fits.filter(usableForSite);
+  const usable = fits.filter((f) => usableForSite(f, options));
   const vOf = (f: HyperbolaFit) => (options.unresolvedVelocity === 'point' ? f.velocityMPerNs : siteVelocityOf(f));
   const plainMedian = usable.length > 0 ? medianHigh(usable.map(vOf)) : 0.1;
   const floor = (options.uncertaintyFloor ?? 0.02) * plainMedian;
@@ -187,6 +198,9 @@ export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOption
     fitCount: usable.length,
     objectCount: sizes.length,
     ...moisture(k, false),
+    ...(usable.some((f) => f.flags?.includes(EARLY_APEX_FLAG))
+      ? { note: 'no fit below the direct-wave zone: the site rests on fits whose apexes lie inside it (one pulse to 1.5 periods after time-zero), which may be residue of the direct and ground waves; depths are uncertain' }
+      : {}),
   };
   const constant: VelocityModel = { kind: 'constant', layers: [{ topM: 0, bottomM: bottom, velocityMPerNs: centre, permittivity: k }] };
   if (options.layered === false) return { site, model: constant };

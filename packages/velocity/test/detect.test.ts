@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { C_M_PER_NS, detectHyperbolas, lineHyperbolas, type DetectedHyperbola } from '../src';
+import { buildVelocityReport, C_M_PER_NS, detectHyperbolas, EARLY_APEX_FLAG, lineHyperbolas, type DetectedHyperbola } from '../src';
 import { bistatic, synthLine, type Diffractor } from './synth';
 
 const S = 0.15;
@@ -109,5 +109,58 @@ describe('detectHyperbolas (end to end on a synthetic radargram)', () => {
     const all = near(detectHyperbolas(line, { ...opts, rejectEchoes: false }));
     expect(all.length).toBeGreaterThan(1);
     for (const h of all.filter((h) => h.t0Ns > bistatic(0, pipe.z, pipe.v, S) + 2)) expect(Math.abs(h.velocityMPerNs / pipe.v - 1)).toBeGreaterThan(0.03);
+  });
+});
+
+describe('apexes in the direct-wave zone (earlyApexPeriods)', () => {
+  // 200 MHz (period 5 ns): a diffractor at 0.32 m in K 9 soil (v 0.1 m/ns, Davis & Annan 1989 range for
+  // moist soil, from memory) has its apex 6.5 ns after time-zero, 1.3 periods: inside the 1.5 periods
+  // that detection skips by default, where the direct wave's residue lies.
+  const shallow: Diffractor = { x0: 5, z: 0.32, v: 0.1, amp: 1 };
+  const deep: Diffractor = { x0: 12, z: 1.2, v: 0.1, amp: 1 };
+  const o = { nTraces: 340, nSamples: 500, dtNs: 0.2, fMHz: 200, separationM: S, flats: [[0.6, 4]] as [number, number][], noise: 0.02, seed: 5 };
+  const dopts = { separationM: S, frequencyMHz: 200 };
+
+  it('finds a shallow apex only in the early window, marks it early, and leaves the later fits as they were', () => {
+    const line = synthLine('E1', [shallow, deep], o);
+    const late = detectHyperbolas(line, dopts);
+    expect(late.some((h) => Math.abs(h.x0M - shallow.x0) < 0.2)).toBe(false);
+    const both = detectHyperbolas(line, { ...dopts, earlyApexPeriods: 1 });
+    const e = both.find((h) => Math.abs(h.x0M - shallow.x0) < 0.2);
+    expect(e?.early).toBe(true);
+    expect(Math.abs(e!.velocityMPerNs / shallow.v - 1)).toBeLessThan(0.05);
+    // the later fits are the same fits, in the same order, ahead of the early ones
+    expect(both.slice(0, late.length).map((h) => [h.x0M, h.t0Ns, h.velocityMPerNs])).toEqual(late.map((h) => [h.x0M, h.t0Ns, h.velocityMPerNs]));
+    expect(both.slice(late.length).every((h) => h.early === true)).toBe(true);
+  });
+
+  it('lineHyperbolas flags the early fits; the report keeps them only for a site that nothing later fits', () => {
+    // a line whose later fits serve the site: its early window is not examined (the report would drop its fits)
+    const withDeep = lineHyperbolas(synthLine('E1', [shallow, deep], o), dopts);
+    expect(withDeep.some((f) => Math.abs((f.x0M ?? 0) - deep.x0) < 0.2)).toBe(true);
+    expect(withDeep.some((f) => f.flags?.includes(EARLY_APEX_FLAG))).toBe(false);
+    // early fits beside later ones on other lines are dropped, the site is the later fits' alone
+    const early = lineHyperbolas(synthLine('E9', [shallow], { ...o, origin: [0, 20] }), dopts);
+    expect(early.length).toBeGreaterThan(0);
+    const r1 = buildVelocityReport([...withDeep, ...early], { separationM: S });
+    expect(r1.hyperbolas!.some((f) => f.flags?.includes(EARLY_APEX_FLAG))).toBe(false);
+    expect(r1.site).toEqual(buildVelocityReport(withDeep, { separationM: S }).site);
+
+    // three lines 5 m apart, each over a shallow object of its own: three objects (objectGroups)
+    const onlyShallow = [0, 5, 10].flatMap((y, i) => lineHyperbolas(synthLine(`E${i + 2}`, [shallow], { ...o, seed: 5 + i, origin: [0, y] }), dopts));
+    const r2 = buildVelocityReport(onlyShallow, { separationM: S });
+    expect(r2.site.objectCount).toBe(3);
+    // the site takes the radius-free velocity of an unresolved radius, uncertain by up to 10 % (maxRelativeUncertainty)
+    expect(Math.abs(r2.site.velocityMPerNs / shallow.v - 1)).toBeLessThan(0.1);
+    expect(r2.site.note).toMatch(/direct-wave zone/);
+    expect(r2.hyperbolas!.every((f) => f.flags?.includes(EARLY_APEX_FLAG))).toBe(true);
+    // one object's early fits are not enough: the site falls back to the assumed velocity, without them
+    const one = onlyShallow.filter((f) => f.line === 'E2');
+    const r4 = buildVelocityReport(one, { separationM: S });
+    expect(r4.site.fitCount).toBe(0);
+    expect(r4.hyperbolas).toEqual([]);
+    expect(buildVelocityReport(one, { separationM: S, minEarlyObjects: 1 }).site.fitCount).toBe(one.length);
+    const r3 = buildVelocityReport([], { separationM: S });
+    expect(r3.site.fitCount).toBe(0);
   });
 });
