@@ -114,6 +114,19 @@ describe('siteVelocityModel', () => {
     expect(siteVelocityModel([...pipe, ...stones], { layered: false }).site.objectCount).toBe(4);
   });
 
+  it('weighs each fit by its own uncertainty: a pipe seen on twelve lines outweighs two boxes read fast', () => {
+    // A flat-topped box (a tank, a footing) fits as a flatter hyperbola: faster soil (the TUNE scenes'
+    // tanks and footings read K at 0.16-0.76 of the truth, packages/velocity README). Per object (one vote
+    // each) two boxes outvote the pipe; per fit the pipe's twelve crossings hold the median.
+    const v = 0.1;
+    const pipe = Array.from({ length: 12 }, (_, i) => fit(v, 0.9, 0.003, { x: 5, y: 0.5 * i }));
+    const boxes = [0, 1].map((i) => fit(0.14, 1.1, 0.003, { x: 30 + 10 * i, y: 20 }));
+    const perFit = siteVelocityModel([...pipe, ...boxes], { layered: false, metresPerUnit: 1 });
+    expect(perFit.site.objectCount).toBe(3);
+    expect(perFit.site.velocityMPerNs).toBeCloseTo(v, 6);
+    expect(siteVelocityModel([...pipe, ...boxes], { layered: false, objectWeights: 'shared' }).site.velocityMPerNs).toBeCloseTo(0.14, 6);
+  });
+
   it("combines a pipe's resolved fits with its unresolved ones at their radius-free velocities", () => {
     // A 0.3 m pipe (axis 1.5 m) seen on 8 lines: 3 resolve R; 5 give point fits reading v fast by
     // sqrt(zc / (zc - R)) = sqrt(1.5 / 1.2) (packages/velocity README), whose radius-free fits scatter
