@@ -86,6 +86,25 @@ describe('siteVelocityModel', () => {
     expect(model.layers[1]!.topM).toBe(model.layers[0]!.bottomM);
   });
 
+  it('decides layers on objects: a shallow pipe seen on twelve lines moves the site median, not the layer test', () => {
+    // The two layers above (8 shallow and 8 deep objects, one fit each) and a pipe at 0.5 m crossing 12
+    // lines. Its fits read the shallow layer 3 % fast (its radius). The site's median weighs fits, the
+    // layer test's BIC counts objects: its residuals weigh each object once.
+    const v1 = 0.12;
+    const vDeep = 0.09;
+    const g = gauss(rng(6));
+    const fits: HyperbolaFit[] = [];
+    for (let i = 0; i < 8; i++) fits.push(fit(v1 * (1 + 0.003 * g()), 0.3 + 0.06 * i, 0.0015, { x: 3 * i }));
+    for (let i = 0; i < 8; i++) fits.push(fit(vDeep * (1 + 0.003 * g()), 1.8, 0.0015, { x: 3 * i, y: 10 }));
+    for (let i = 0; i < 12; i++) fits.push(fit(1.03 * v1 * (1 + 0.003 * g()), 0.5, 0.0015, { x: 40, y: 0.5 * i }));
+    const perFit = siteVelocityModel(fits);
+    const shared = siteVelocityModel(fits, { objectWeights: 'shared' });
+    expect(perFit.site.objectCount).toBe(17);
+    expect(perFit.model.kind).toBe('layered');
+    expect(perFit.model).toEqual(shared.model);
+    expect(perFit.site.velocityMPerNs).not.toBeCloseTo(shared.site.velocityMPerNs, 4);
+  });
+
   it('keeps a uniform soil uniform when objects scatter by their own biases (false layers in at most 1 of 20 sites)', () => {
     // Uniform v 0.106 m/ns; 16 objects at 0.3-1.6 m, each read 4 % off at random (radius bias, oblique
     // crossings, time-zero: the scatter of real fits), 1 % formal errors. Dix's inversion turns a deep
