@@ -78,6 +78,8 @@ describe('viewer on a synthetic output folder', () => {
     expect(state.drawnSlice).toBe(0);
     expect(b.requests.length).toBeGreaterThan(10);
     for (const u of b.requests) expect(new URL(u).hostname, u).toBe('127.0.0.1');
+    // what the depths rest on, from the fixture's velocity.json, beside the cautions
+    expect(await b.page.textContent('#velocity-line')).toMatch(/^Depths: K \d+\.\d\d/);
     await shot(b, 'fixture-slice-0');
   });
 

@@ -82,3 +82,17 @@ describe('anchors and ranges', () => {
     expect(parseRange('bytes=0-1,5-6', 10)).toBeUndefined();
   });
 });
+
+describe('velocityLine (what the depths rest on, in the side panel)', () => {
+  it('states the fitted site K with its spread and fits, and warns with the site note when the velocity is assumed', async () => {
+    const { velocityLine } = await import('../src/client/velocity-line');
+    const fitted = velocityLine({ site: { velocityMPerNs: 0.1064, permittivity: 7.94, spreadMPerNs: 0.0021, fitCount: 84, objectCount: 12 }, model: { kind: 'constant', layers: [] }, hyperbolas: [] } as never);
+    // K = (c / v)^2, so dK / K = 2 dv / v: 2 x 7.94 x 0.0021 / 0.1064 = 0.31
+    expect(fitted.text).toBe('Depths: K 7.94 ± 0.31 (v 0.1064 m/ns), from 84 hyperbola fits on 12 objects.');
+    expect(fitted.warn).toBe(false);
+    const assumed = velocityLine({ site: { velocityMPerNs: 0.1, permittivity: 8.988, spreadMPerNs: 0, fitCount: 0, note: 'no usable subsurface hyperbola fit: assumed 0.1 m/ns; depths are uncertain' }, model: { kind: 'constant', layers: [] }, hyperbolas: [] } as never);
+    expect(assumed.text).toBe('Depths: K 8.99 (v 0.1000 m/ns), assumed, no hyperbola fit. No usable subsurface hyperbola fit: assumed 0.1 m/ns; depths are uncertain.');
+    expect(assumed.warn).toBe(true);
+    expect(velocityLine(undefined).warn).toBe(true);
+  });
+});

@@ -6,6 +6,7 @@ import { wireControls } from './controls';
 import { loadFolder } from './folder';
 import { createMap, wireBasemap } from './map-view';
 import { cautionList } from './panel';
+import { velocityLine } from './velocity-line';
 import { createLineBrowser } from './line-browser';
 import { wireMapReadout } from './map-readout';
 import { wireQueue } from './queue-panel';
@@ -26,6 +27,9 @@ async function main(): Promise<void> {
   $('site-name').textContent = run.site.name;
   $('cautions').replaceChildren(...cautionList(config).children);
   $('caution-line').textContent = config.caution ?? config.cautions[0] ?? '';
+  const basis = velocityLine(folder.velocity);
+  $('velocity-line').textContent = basis.text;
+  $('velocity-line').classList.toggle('cautions', basis.warn);
   $('about-btn').addEventListener('click', () => $<HTMLDialogElement>('about').showModal());
 
   const sliceData = await openSlices(folder);
