@@ -88,12 +88,14 @@ export function buildVelocityReport(fits: HyperbolaFit[], options: ReportOptions
   // Fits in the direct-wave zone serve only a site that no later fit serves, when they come from
   // `minEarlyObjects` objects (and then only the subsurface ones: an air-velocity fit there is no
   // evidence of an above-ground object of its own).
+  // (each list is corrected from the fits as detected: the correction is not to be applied twice)
   const isEarly = (f: HyperbolaFit) => f.flags?.includes(EARLY_APEX_FLAG) === true;
-  let all = corrected(fits.filter((f) => !isEarly(f)));
+  const later = fits.filter((f) => !isEarly(f));
+  let all = corrected(later);
   let { site, model } = siteVelocityModel(all, options);
   const early = fits.filter((f) => isEarly(f) && f.origin === 'subsurface');
   if (site.fitCount === 0 && early.length > 0) {
-    const withEarly = corrected([...all, ...early]);
+    const withEarly = corrected([...later, ...early]);
     const m = siteVelocityModel(withEarly, { ...options, earlyApexes: true });
     if ((m.site.objectCount ?? 0) >= (options.minEarlyObjects ?? 3)) ({ all, site, model } = { all: withEarly, ...m });
   }

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { buildVelocityReport, C_M_PER_NS, correctObliqueCrossings, lineDirection, lineHyperbolas, permittivityFromVelocity, type HyperbolaFit } from '../src';
+import { buildVelocityReport, C_M_PER_NS, correctObliqueCrossings, EARLY_APEX_FLAG, lineDirection, lineHyperbolas, permittivityFromVelocity, type HyperbolaFit } from '../src';
 import { synthLine } from './synth';
 
 // A pipe crossing parallel lines at angle beta is a hyperbola of apparent depth d / sin(beta) and
@@ -118,6 +118,34 @@ describe('oblique crossings of a linear reflector', () => {
     for (const f of out) {
       expect(f.crossing).toBeUndefined();
       expect(f.velocityMPerNs).toBe(v);
+    }
+  });
+});
+
+describe('buildVelocityReport with fits in the direct-wave zone', () => {
+  it('corrects the oblique crossings once: an air-wave strike stays above-ground when the early fits are taken', () => {
+    // Three objects with apexes in the direct-wave zone (K 6), nothing later but a wall's air wave seen on
+    // four lines 0.5 m apart at 25 degrees: apparent K 0.3, corrected once K 0.3 / sin^2(25) = 1.7, still
+    // air. Corrected a second time it would read K 9.4 and join the soil.
+    const c = C_M_PER_NS;
+    const mk = (line: string, x: number, y: number, v: number, t0Ns: number, extra: Partial<HyperbolaFit> = {}): HyperbolaFit => ({
+      line, trace: 0, x, y, t0Ns, velocityMPerNs: v, permittivity: permittivityFromVelocity(v), depthM: (v * t0Ns) / 2, uncertaintyMPerNs: 0.003, lineDirection: [1, 0], ...extra,
+      origin: extra.origin ?? 'subsurface',
+    });
+    const vAir = c / Math.sqrt(0.3);
+    const beta = (25 * Math.PI) / 180;
+    const strike = [0, 1, 2, 3].map((j) => mk(`w${j}`, 4 + (0.5 * j) / Math.tan(beta), 0.5 * j, vAir, 3.66, { origin: 'above-ground', flags: ['v > c'] }));
+    const vSoil = c / Math.sqrt(6);
+    const early = [20, 30, 40].map((x, i) => mk(`e${i}`, x, 10, vSoil, 6, { flags: [EARLY_APEX_FLAG] }));
+    const report = buildVelocityReport([...strike, ...early]);
+    expect(report.site.objectCount).toBe(3);
+    expect(report.site.permittivity).toBeCloseTo(6, 6);
+    const crossed = report.hyperbolas.filter((f) => f.crossing);
+    expect(crossed.length).toBe(4);
+    for (const f of crossed) {
+      expect(f.crossing!.apparentVelocityMPerNs).toBeCloseTo(vAir, 9);
+      expect(f.permittivity).toBeCloseTo(0.3 / Math.sin(beta) ** 2, 6);
+      expect(f.origin).toBe('above-ground');
     }
   });
 });
