@@ -1,10 +1,10 @@
 import type { ProcessSummary } from '@lamina/pipeline';
+import { permittivitySpread } from '@lamina/velocity/physics';
 
 /** The one-screen summary of `lamina process`: lines, velocity with its spread, slices, targets by state. */
 export function summaryLines(s: ProcessSummary): string[] {
   const v = s.velocity;
-  // K = (c / v)^2, so dK / K = 2 dv / v: the spread of K from the spread of v
-  const kSpread = v.velocityMPerNs > 0 ? (2 * v.permittivity * v.spreadMPerNs) / v.velocityMPerNs : NaN;
+  const kSpread = permittivitySpread(v.permittivity, v.velocityMPerNs, v.spreadMPerNs);
   const accepted = s.targetsAccepted ?? 0;
   return [
     `site ${s.site}: ${s.lines} lines, ${s.traces} traces`,

@@ -19,6 +19,7 @@ export {
   sampleDepths,
   nearSurfaceDepthM,
   hyperbolaTimes,
+  permittivitySpread,
   type LayerVelocities,
 } from './physics';
 export { fitHyperbola, linearisedFit, hyperbolaTime, apexDistance, type PointFit, type FitOptions } from './fit';

@@ -16,6 +16,11 @@ export function permittivityFromVelocity(velocityMPerNs: number): number {
   return (C_M_PER_NS / velocityMPerNs) ** 2;
 }
 
+/** Spread of K from the spread of v: K = (c / v)^2, so dK / K = 2 dv / v. NaN unless v > 0. */
+export function permittivitySpread(permittivity: number, velocityMPerNs: number, spreadMPerNs: number): number {
+  return velocityMPerNs > 0 ? (2 * permittivity * spreadMPerNs) / velocityMPerNs : NaN;
+}
+
 /** Velocity v = c / sqrt(K), m/ns. */
 export function velocityFromPermittivity(permittivity: number): number {
   return C_M_PER_NS / Math.sqrt(permittivity);

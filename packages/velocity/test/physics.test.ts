@@ -6,6 +6,7 @@ import {
   dixInterval,
   hyperbolaTime,
   permittivityFromVelocity,
+  permittivitySpread,
   timeFromDepth,
   toppMoisture,
   toppPermittivity,
@@ -89,5 +90,17 @@ describe('Dix relation', () => {
     expect(dixInterval(v1, t1, vrms2, t2)).toBeCloseTo(vb, 12);
     // An RMS velocity that falls too fast has no real interval velocity.
     expect(Number.isNaN(dixInterval(0.12, 10, 0.01, 11))).toBe(true);
+  });
+});
+
+describe('permittivitySpread', () => {
+  it('propagates the spread of v to K: dK / K = 2 dv / v (K = (c / v)^2)', () => {
+    expect(permittivitySpread(7.94, 0.1064, 0.0021)).toBeCloseTo((2 * 7.94 * 0.0021) / 0.1064, 12);
+    // against a finite difference of K(v) itself
+    const v = 0.1064;
+    const h = 1e-7;
+    const dKdv = (permittivityFromVelocity(v + h) - permittivityFromVelocity(v - h)) / (2 * h);
+    expect(permittivitySpread(permittivityFromVelocity(v), v, 0.0021)).toBeCloseTo(Math.abs(dKdv) * 0.0021, 6);
+    expect(permittivitySpread(9, 0, 0.01)).toBeNaN();
   });
 });

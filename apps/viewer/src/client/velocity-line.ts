@@ -1,4 +1,4 @@
-import { permittivityFromVelocity } from '@lamina/velocity/physics';
+import { permittivityFromVelocity, permittivitySpread } from '@lamina/velocity/physics';
 import type { VelocityJson } from './data';
 
 /**
@@ -11,10 +11,10 @@ export function velocityLine(velocity: VelocityJson | undefined): { text: string
   if (!velocity) return { text: 'Depths: no velocity.json in this folder.', warn: true };
   const s = velocity.site;
   const kSite = s.permittivity ?? permittivityFromVelocity(s.velocityMPerNs);
-  const spreadK = s.spreadMPerNs && s.velocityMPerNs > 0 ? 2 * kSite * (s.spreadMPerNs / s.velocityMPerNs) : undefined;
+  const spreadK = s.spreadMPerNs ? permittivitySpread(kSite, s.velocityMPerNs, s.spreadMPerNs) : NaN;
   const fits = s.fitCount ?? 0;
   const basis = fits > 0 ? `from ${fits} hyperbola fit${fits === 1 ? '' : 's'}${s.objectCount ? ` on ${s.objectCount} object${s.objectCount === 1 ? '' : 's'}` : ''}` : 'assumed, no hyperbola fit';
-  const k = `K ${kSite.toFixed(2)}${spreadK !== undefined && fits > 0 ? ` ± ${spreadK.toFixed(2)}` : ''}`;
+  const k = `K ${kSite.toFixed(2)}${Number.isFinite(spreadK) && fits > 0 ? ` ± ${spreadK.toFixed(2)}` : ''}`;
   const text = `Depths: ${k} (v ${s.velocityMPerNs.toFixed(4)} m/ns), ${basis}${velocity.model?.kind === 'layered' ? `; ${velocity.model.layers.length} layers` : ''}.${s.note ? ` ${s.note.charAt(0).toUpperCase()}${s.note.slice(1)}.` : ''}`;
   return { text, warn: fits === 0 || s.note !== undefined };
 }
