@@ -105,9 +105,9 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
  * one before (`next` between windows). The median is one value, or the mean of two, whatever selects
  * it, but for the sign of a zero (which reaches the output at a centre trace holding -0). So one pass
  * without branches counts the values below and above a bracket, the previous window's values of rank
- * k -+ `spread` at the same sample (where the median has most likely moved to), and keeps those inside
- * it; the median is selected among those, or (a fifth of the windows) among the values of the side it
- * moved to, kept by a second pass. Where the median or the value below it is zero, or the window holds
+ * k -+ `spread` at the same sample (the first window: at the sample before; where the median has most
+ * likely moved to), and keeps those inside it; the median is selected among those, or (when it moved out
+ * of the bracket) among the values of the side it moved to, kept by a second pass. Where the median or the value below it is zero, or the window holds
  * NaN, the window is selected as before (`exact`: the run in trace order, `selectNear` around the
  * previous median), so every result is the same, bit for bit.
  */
@@ -127,17 +127,20 @@ class WindowMedian {
     this.parts = [new Float32Array(win + 1), new Float32Array(win + 1)];
     this.col = new Float32Array(win);
     this.prev = new Float64Array(nSamples);
-    // the first window: everything inside
+    // the first window's first sample: everything inside
     this.lo = new Float64Array(nSamples).fill(-Infinity);
     this.hi = new Float64Array(nSamples).fill(Infinity);
-    this.spread = Math.max(2, win >> 4);
+    this.spread = Math.max(2, win >> 3);
   }
 
   /** The median of v[o .. o + m) (sample s of the current window). */
   of(v: Float32Array, o: number, m: number, s: number): number {
     const k = m >> 1;
-    const g1 = this.lo[s] as number;
-    const g2 = this.hi[s] as number;
+    // the first window's bracket: that of the sample before (the line's samples are oversampled, so its
+    // median is near)
+    const b = this.havePrev || s === 0 ? s : s - 1;
+    const g1 = this.lo[b] as number;
+    const g2 = this.hi[b] as number;
     const [mid, side] = this.parts;
     // every value written to `mid`, kept (the count moved on) when inside the bracket; NaN counts nowhere
     let nLow = 0;
