@@ -414,7 +414,8 @@ function priorWeights(given: ArrayLike<number> | undefined, n: number): Float64A
  */
 function updateWeights(r: Float64Array, prior: Float64Array, w: Float64Array, kind: 'tukey' | 'huber' | 'none', minScale: number): void {
   if (kind === 'none') return;
-  const u = Float64Array.from(r, (ri, i) => Math.abs(ri) * Math.sqrt(prior[i]!));
+  const u = new Float64Array(r.length);
+  for (let i = 0; i < r.length; i++) u[i] = Math.abs(r[i]!) * Math.sqrt(prior[i]!);
   const scale = Math.max(1.4826 * medianLow(u), minScale);
   for (let i = 0; i < r.length; i++) {
     const v = u[i]! / scale;
@@ -456,7 +457,7 @@ const scratchA = [new Float64Array(0), new Float64Array(0), new Float64Array(0),
 const scratchG = [new Float64Array(0), new Float64Array(0), new Float64Array(0), new Float64Array(3), new Float64Array(4)];
 const scratchJ = new Float64Array(4);
 
-function normalEquations(x: Float64Array, t: Float64Array, w: Float64Array, p: Params, s: number, np: number) {
+function normalEquations(x: Float64Array, t: Float64Array, w: Float64Array, p: Params, s: number, np: 3 | 4) {
   const A = scratchA[np]!.fill(0);
   const g = scratchG[np]!.fill(0);
   const j = scratchJ;
@@ -468,9 +469,18 @@ function normalEquations(x: Float64Array, t: Float64Array, w: Float64Array, p: P
     if (wi === 0) continue;
     const ri = t[i]! - jacobian(x[i]!, p, s, zc, j, known, i);
     cost += wi * ri * ri;
-    for (let a = 0; a < np; a++) {
-      g[a] = g[a]! + wi * j[a]! * ri;
-      for (let b = 0; b < np; b++) A[a * np + b] = A[a * np + b]! + wi * j[a]! * j[b]!;
+    // A[a][b] += (wi j[a]) j[b], row by row, with the row's entries written out (np is 3 or 4)
+    const j0 = j[0]!;
+    const j1 = j[1]!;
+    const j2 = j[2]!;
+    const j3 = j[3]!;
+    for (let a = 0, o = 0; a < np; a++, o += np) {
+      const wa = wi * j[a]!;
+      g[a] = g[a]! + wa * ri;
+      A[o] = A[o]! + wa * j0;
+      A[o + 1] = A[o + 1]! + wa * j1;
+      A[o + 2] = A[o + 2]! + wa * j2;
+      if (np === 4) A[o + 3] = A[o + 3]! + wa * j3;
     }
   }
   return { A, g, cost };
@@ -545,9 +555,15 @@ function levenbergMarquardt(x: Float64Array, t: Float64Array, w: Float64Array, p
 }
 
 /** Solve the n x n system M y = b by Gaussian elimination with partial pivoting (M, b left intact). */
+// Scratch for solveN's elimination, by size (one solve at a time per thread).
+const solveA = [0, 1, 2, 3, 4].map((n) => new Float64Array(n * n));
+const solveY = [0, 1, 2, 3, 4].map((n) => new Float64Array(n));
+
 function solveN(M: Float64Array, b: Float64Array, n: number): Float64Array | null {
-  const a = Float64Array.from(M);
-  const y = Float64Array.from(b);
+  const a = n < solveA.length ? solveA[n]! : new Float64Array(n * n);
+  const y = n < solveY.length ? solveY[n]! : new Float64Array(n);
+  for (let i = 0; i < n * n; i++) a[i] = M[i]!;
+  for (let i = 0; i < n; i++) y[i] = b[i]!;
   for (let c = 0; c < n; c++) {
     let piv = c;
     for (let r = c + 1; r < n; r++) if (Math.abs(a[r * n + c]!) > Math.abs(a[piv * n + c]!)) piv = r;
