@@ -239,8 +239,12 @@ export interface RunOptions {
 
 const round = (x: number, d = 4): number => Math.round(x * 10 ** d) / 10 ** d || 0; // no -0 in logs
 
-/** Runs one step on `line` (never modifying `line`); returns the new line and the log entry. */
-export function runStep(line: RadarLine, step: Step, ctx: RecipeContext): { line: RadarLine; entry: RecipeLogEntry } {
+/**
+ * Runs one step on `line` (never modifying `line` unless `out` is its data); returns the new line and the
+ * log entry. `out`: a buffer of the line's size that dewow, band-pass and gain write their result to (it
+ * may be `line.data`); other steps allocate their own. @default undefined
+ */
+export function runStep(line: RadarLine, step: Step, ctx: RecipeContext, out?: Float32Array): { line: RadarLine; entry: RecipeLogEntry } {
   const f = ctx.frequencyMHz;
   const T = periodNs(f);
   const mpu = ctx.metresPerUnit ?? 1;
@@ -285,7 +289,7 @@ export function runStep(line: RadarLine, step: Step, ctx: RecipeContext): { line
         method === 'runningMean'
           ? { method, windowNs: step.windowNs ?? T }
           : { method, lowCutMHz: step.lowCutMHz ?? f / 4, order: step.order ?? 2 };
-      return { line: dewow(line, params), entry: { step: 'dewow', params } };
+      return { line: dewow(line, params, out), entry: { step: 'dewow', params } };
     }
     case 'backgroundRemoval': {
       const method = step.method ?? 'mean';
@@ -299,7 +303,7 @@ export function runStep(line: RadarLine, step: Step, ctx: RecipeContext): { line
       const kind = step.kind ?? 'divergence';
       if (kind === 'agc') {
         const params = { kind, windowNs: step.windowNs ?? 8 * T, floor: step.floor ?? 1e-3 };
-        return { line: agc(line, params), entry: { step: 'gain', params } };
+        return { line: agc(line, params, out), entry: { step: 'gain', params } };
       }
       const params = {
         kind,
@@ -308,7 +312,7 @@ export function runStep(line: RadarLine, step: Step, ctx: RecipeContext): { line
         startNs: step.startNs ?? T,
         maxGainDb: step.maxGainDb ?? 60,
       };
-      return { line: divergenceGain(line, params), entry: { step: 'gain', params } };
+      return { line: divergenceGain(line, params, out), entry: { step: 'gain', params } };
     }
     case 'bandpass': {
       const nyq = 500 / line.dtNs;
@@ -327,7 +331,7 @@ export function runStep(line: RadarLine, step: Step, ctx: RecipeContext): { line
       }
       lowMHz = Math.max(lowMHz, 1e-6 * nyq);
       const params = { lowMHz, highMHz, order };
-      return { line: bandpass(line, params), entry: { step: 'bandpass', params, notes } };
+      return { line: bandpass(line, params, out), entry: { step: 'bandpass', params, notes } };
     }
     case 'envelope':
       return { line: envelope(line), entry: { step: 'envelope', params: {} } };
@@ -395,7 +399,10 @@ export function runRecipe(line: RadarLine, recipe: Recipe, ctx: RecipeContext, o
   for (const step of recipe.steps) {
     if (options.keepBefore === step.step && before === undefined) before = cur === line ? { ...line, data: line.data.slice() } : cur;
     const t0 = options.onStep ? performance.now() : 0;
-    const r = runStep(cur, step, ctx);
+    // after the first step the data are our own: a step that can write in place does (never into
+    // `line`'s data or the kept `before`)
+    const own = cur !== line && cur.data.buffer !== line.data.buffer && cur.data !== before?.data ? cur.data : undefined;
+    const r = runStep(cur, step, ctx, own);
     options.onStep?.(step.step, performance.now() - t0);
     cur = r.line;
     log.push(r.entry);

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { isInputError } from '@lamina/errors';
-import { backgroundRemoval, defaultRecipe, parseRecipe, runRecipe, withAirEvents, type Recipe } from '../src';
+import { backgroundRemoval, defaultRecipe, parseRecipe, runRecipe, runStep, withAirEvents, type Recipe } from '../src';
 import { addDiffraction, addNoise, addRicker, makeLine } from './synth';
 import { C_M_PER_NS } from '@lamina/constants';
 
@@ -99,6 +99,22 @@ describe('runRecipe', () => {
     const k = Math.round(15 / 0.1);
     const at = (d: Float32Array, t: number) => Math.abs(d[t * 400 + k] as number);
     expect(at(r.before!.data, 10)).toBeGreaterThan(10 * at(r.line.data, 10));
+  });
+
+  it('writes steps in place into its own data only: the same bytes as one step at a time, the input and a kept `before` untouched', () => {
+    const line = surveyLine();
+    const input = line.data.slice();
+    const steps = [...defaultRecipe(F).steps.slice(0, 4), { step: 'dewow', method: 'lowCut' } as const, { step: 'gain', kind: 'agc' } as const];
+    let ref = line;
+    for (const step of steps) ref = runStep(ref, step, ctx).line;
+    for (const keepBefore of [undefined, 'bandpass', 'gain'] as const) {
+      const r = runRecipe(line, { steps }, ctx, keepBefore ? { keepBefore } : {});
+      expect(Buffer.from(r.line.data.buffer).equals(Buffer.from(ref.data.buffer))).toBe(true);
+      expect(Array.from(line.data)).toEqual(Array.from(input));
+      if (!keepBefore) continue;
+      const upTo = runRecipe(line, { steps: steps.slice(0, steps.findIndex((s) => s.step === keepBefore)) }, ctx).line;
+      expect(Array.from(r.before!.data)).toEqual(Array.from(upTo.data));
+    }
   });
 
   it('runs migration when a velocity is given, from the context or the step', () => {
