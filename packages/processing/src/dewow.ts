@@ -38,15 +38,24 @@ export function dewow(line: RadarLine, options: DewowOptions & { windowNs: numbe
   const w = oddWindow(options.windowNs, line.dtNs);
   const h = (w - 1) >> 1;
   const res = out ?? new Float32Array(line.data.length);
+  const data = line.data;
   const cum = new Float64Array(nSamples + 1);
+  // the window is clamped to the trace on the first and last h samples only: three loops, so that the
+  // full windows between (most samples) divide by w without clamping each end (the same numbers)
+  const i0 = Math.min(nSamples, h);
+  const i1 = Math.max(i0, nSamples - h);
   for (let t = 0; t < nTraces; t++) {
     const o = t * nSamples;
-    for (let i = 0; i < nSamples; i++) cum[i + 1] = (cum[i] as number) + (line.data[o + i] as number);
-    for (let i = 0; i < nSamples; i++) {
-      const a = Math.max(0, i - h);
+    let acc = 0;
+    for (let i = 0; i < nSamples; i++) cum[i + 1] = acc += data[o + i] as number;
+    for (let i = 0; i < i0; i++) {
       const b = Math.min(nSamples, i + h + 1);
-      const mean = ((cum[b] as number) - (cum[a] as number)) / (b - a);
-      res[o + i] = (line.data[o + i] as number) - mean;
+      res[o + i] = (data[o + i] as number) - ((cum[b] as number) - (cum[0] as number)) / b;
+    }
+    for (let i = i0; i < i1; i++) res[o + i] = (data[o + i] as number) - ((cum[i + h + 1] as number) - (cum[i - h] as number)) / w;
+    for (let i = i1; i < nSamples; i++) {
+      const a = Math.max(0, i - h);
+      res[o + i] = (data[o + i] as number) - ((cum[nSamples] as number) - (cum[a] as number)) / (nSamples - a);
     }
   }
   return withData(line, res);

@@ -40,6 +40,31 @@ describe('dewow', () => {
     expect(sxy / Math.sqrt(sxx * syy)).toBeGreaterThan(0.9);
   });
 
+  it('subtracts the centred running mean, its window clamped to the trace at the ends, on traces longer and shorter than the window', () => {
+    // Reference: the definition written out (mean of samples i - h .. i + h that exist), summed directly in
+    // float64; the kernel's prefix sums agree to rounding.
+    for (const nSamples of [5, 20, 37, 600]) {
+      const line = makeLine(3, nSamples, 0.1, 0.05);
+      for (let i = 0; i < line.data.length; i++) line.data[i] = Math.sin(0.37 * i) + 0.01 * i;
+      const windowNs = 2.5; // 25 samples, h = 12
+      const h = 12;
+      const out = dewow(line, { windowNs });
+      for (let t = 0; t < 3; t++) {
+        const x = trace(line, t);
+        const y = trace(out, t);
+        for (let i = 0; i < nSamples; i++) {
+          let sum = 0;
+          let n = 0;
+          for (let k = Math.max(0, i - h); k <= Math.min(nSamples - 1, i + h); k++) {
+            sum += x[k] as number;
+            n++;
+          }
+          expect(y[i] as number).toBeCloseTo((x[i] as number) - sum / n, 5);
+        }
+      }
+    }
+  });
+
   it('low-cut variant removes DC exactly at the steady state and accepts out = line.data', () => {
     const line = lineWithEvents();
     for (let i = 0; i < line.data.length; i++) line.data[i] = (line.data[i] as number) + 1;
