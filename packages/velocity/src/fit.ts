@@ -105,8 +105,10 @@ function pointPath(dx: number, z: number, h: number): number {
  * is found by Newton steps on dL/dphi from the normal through the midpoint (exact for h = 0); two
  * steps reach 1e-9 of the path here. With `grad` (length 3): dL/dx0, dL/dzc and dL/dR at the
  * specular point (envelope theorem: phi is stationary, so only P's motion with C and R counts).
+ * Without `radiusGrad` a point's dL/dR is not wanted (a fit of x0, t0 and v): grad[2] is left meaningless,
+ * grad[0] and grad[1] do not depend on it.
  */
-function specularPath(dx: number, zc: number, R: number, h: number, grad: Float64Array | null, known: SpecularPoints | null = null, i = 0): number {
+function specularPath(dx: number, zc: number, R: number, h: number, grad: Float64Array | null, known: SpecularPoints | null = null, i = 0, radiusGrad = true): number {
   let sin = 0;
   let cos = 1;
   if (R > 0 && known && known.have[i]) {
@@ -140,7 +142,7 @@ function specularPath(dx: number, zc: number, R: number, h: number, grad: Float6
       known.cos[i] = cos;
       known.have[i] = 1;
     }
-  } else if (grad) {
+  } else if (grad && radiusGrad) {
     // A point has no specular point, but dL/dR at R = 0+ does: the circle first grows along the
     // bisector of the directions to the two antennas. Taking the top of the circle instead made dL/dR
     // equal -dL/dzc on every trace, so the radius column of the Jacobian vanished at the bound: a fit
@@ -433,14 +435,14 @@ function updateWeights(r: Float64Array, prior: Float64Array, w: Float64Array, ki
 const pathGrad = new Float64Array(3);
 
 /**
- * Jacobian row of t(x; x0, t0, v, R) into `out` (4 entries); returns t. With A = v t0 / 2 and
+ * Jacobian row of t(x; x0, t0, v, R) into `out` (4 entries; the R entry meaningless for np = 3); returns t. With A = v t0 / 2 and
  * ztop = sqrt(A^2 - h^2), zc = ztop + R: dzc/dt0 = A v / 2 ztop, dzc/dv = A t0 / 2 ztop, dzc/dR = 1.
  */
-function jacobian(xi: number, p: Params, s: number, zc: number, out: Float64Array, known: SpecularPoints | null, i: number): number {
+function jacobian(xi: number, p: Params, s: number, zc: number, out: Float64Array, known: SpecularPoints | null, i: number, np: 3 | 4): number {
   const t0 = p[1]!;
   const v = p[2]!;
   const R = p[3]!;
-  const L = specularPath(xi - p[0]!, zc, R, s / 2, pathGrad, known, i);
+  const L = specularPath(xi - p[0]!, zc, R, s / 2, pathGrad, known, i, np === 4);
   const tt = L / v;
   const ztop = Math.max(zc - R, 1e-12);
   const A = (v * t0) / 2;
@@ -467,7 +469,7 @@ function normalEquations(x: Float64Array, t: Float64Array, w: Float64Array, p: P
   for (let i = 0; i < x.length; i++) {
     const wi = w[i]!;
     if (wi === 0) continue;
-    const ri = t[i]! - jacobian(x[i]!, p, s, zc, j, known, i);
+    const ri = t[i]! - jacobian(x[i]!, p, s, zc, j, known, i, np);
     cost += wi * ri * ri;
     // A[a][b] += (wi j[a]) j[b], row by row, with the row's entries written out (np is 3 or 4)
     const j0 = j[0]!;
