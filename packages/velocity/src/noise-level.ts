@@ -20,7 +20,8 @@ export function envelopeLevel(env: Float32Array, nTraces: number, nSamples: numb
     const o = t * nSamples;
     for (let s = 0; s < nSamples; s++) cols[s * m + j] = env[o + s]!;
   }
-  for (let s = 0; s < nSamples; s++) level[s] = median(cols.subarray(s * m, (s + 1) * m));
+  // neighbouring samples have near medians: each selection starts from the one before
+  for (let s = 0; s < nSamples; s++) level[s] = median(cols.subarray(s * m, (s + 1) * m), s > 0 ? level[s - 1] : undefined);
   const out = new Float64Array(nSamples);
   const floor = Math.max(max * floorFraction, Number.MIN_VALUE);
   for (let s = 0; s < nSamples; s++) {
