@@ -4,7 +4,10 @@
 // lines of the process bench's site (run `pnpm bench process` once to make it). On a machine shared with
 // other work both see the same load, so the median of the per-round ratios compares two versions where the
 // times of separate runs do not. CPU time of this process per line; the first round is a warm-up. Checks
-// that both give the same bytes (migrated data, detected fits). Asserts nothing.
+// that both give the same bytes (migrated data, detected fits). Asserts nothing. A part that allocates
+// much (pass1: a line-sized array per step) is compared unfairly in one process: the side that runs second
+// pays for collecting the first side's garbage, so a change that allocates less shows much less than it
+// saves; compare such changes in separate processes, alternated, as the pipeline's workers run them.
 // Usage: LAMINA_BENCH_OTHER_SRC=<a checkout with the workspace installed, e.g. a git worktree of main
 // after pnpm install --offline> tsx bench/line-ab.ts [rounds=12] [parts=migration,hyperbolas,pass1]
 import { createHash } from 'node:crypto';
