@@ -59,6 +59,9 @@ export function backgroundRemoval(line: RadarLine, options: BackgroundOptions = 
   return withData(line, dst);
 }
 
+/** `movingMedian`'s transposed line, kept from call to call on this thread (it lives inside one call). */
+let bySampleScratch = new Float32Array(0);
+
 /**
  * Subtract the median trace of a window of `w` traces, computed at window centres every w/4 traces
  * and interpolated linearly between them (a median per sample at every trace would cost w times more).
@@ -74,7 +77,8 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
   // The line transposed once (sample-major, `transpose`): a window's values at one sample are one
   // contiguous run. Centres near the ends share the window clamped to the line: its median trace is
   // computed once.
-  const bySample = transpose(data, nTraces, nSamples);
+  if (bySampleScratch.length < data.length) bySampleScratch = new Float32Array(data.length);
+  const bySample = transpose(data, nTraces, nSamples, bySampleScratch.subarray(0, data.length));
   const med = new WindowMedian(win, nSamples);
   const byStart = new Map<number, Float32Array>();
   const bg = centres.map((c) => {

@@ -123,9 +123,19 @@ function lowerQuartile(a: Float32Array): number {
   return selectInPlace(a, Math.floor(0.25 * a.length));
 }
 
+/**
+ * Two line-sized buffers of this thread, reused from line to line (nothing of them outlives a
+ * `detectHyperbolas` call): the background-removed line (then its envelope), and the normalised envelope.
+ */
+const scratch = [new Float32Array(0), new Float32Array(0)];
+function scratchOf(k: 0 | 1, n: number): Float32Array {
+  if (scratch[k]!.length < n) scratch[k] = new Float32Array(n);
+  return scratch[k]!.subarray(0, n);
+}
+
 /** The envelope divided by the noise level of its sample (`envelopeLevel`), as float32. */
 function normalised(E: Float32Array, level: Float64Array, nTraces: number, nSamples: number): Float32Array {
-  const N = new Float32Array(E.length);
+  const N = scratchOf(1, E.length);
   const inv = Float32Array.from(level, (l) => 1 / l);
   for (let t = 0; t < nTraces; t++) {
     const o = t * nSamples;
@@ -201,8 +211,8 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
     bgM <= 0
       ? line
       : Number.isFinite(bgM)
-        ? backgroundRemoval(line, { method: 'movingMedian', windowM: Math.max(bgM, 3 * spacing), metresPerUnit: mpu })
-        : backgroundRemoval(line, { method: 'mean' });
+        ? backgroundRemoval(line, { method: 'movingMedian', windowM: Math.max(bgM, 3 * spacing), metresPerUnit: mpu }, scratchOf(0, line.data.length))
+        : backgroundRemoval(line, { method: 'mean' }, scratchOf(0, line.data.length));
   // The background-removed copy is ours: its envelope may overwrite it.
   const E = envelope(clean, {}, clean === line ? undefined : clean.data).data;
   const level = envelopeLevel(E, nTraces, nSamples, halfPeriodS, options.levelFloor ?? 3e-3);
