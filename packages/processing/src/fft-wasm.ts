@@ -9,6 +9,7 @@ interface Kernels {
   radix4(x: number, y: number, m: number, s: number, tw: number, sg: number): void;
   radix4Last(x: number, y: number, s: number, sg: number): void;
   radix5(x: number, y: number, m: number, s: number, tw: number, sg: number): void;
+  radix5Last(x: number, y: number, s: number, sg: number): void;
 }
 
 let compiled: WebAssembly.Module | null | undefined;
@@ -125,8 +126,16 @@ export class WasmFFT implements Transform {
    */
   runInput(inverse: boolean): Float64Array {
     const x = this.stageRun(inverse);
-    return this.view.subarray(x / 8, x / 8 + 2 * this.size);
+    let v = this.results.get(x);
+    if (!v) {
+      v = this.view.subarray(x / 8, x / 8 + 2 * this.size);
+      this.results.set(x, v);
+    }
+    return v;
   }
+
+  /** Views of the work arrays a run may end in, made once (loops run thousands of transforms). */
+  private readonly results = new Map<number, Float64Array>();
 
   private run(out: Float64Array, data: Float64Array, inverse: boolean): void {
     const n2 = 2 * this.size;
@@ -158,6 +167,7 @@ export class WasmFFT implements Transform {
         else k.radix4(x, y, m, s, tw, sg);
       } else if (p === 2) k.radix2(x, y, m, s, tw);
       else if (p === 3) k.radix3(x, y, m, s, tw, sg);
+      else if (m === 1) k.radix5Last(x, y, s, sg);
       else k.radix5(x, y, m, s, tw, sg);
       if (st === 0) [x, y] = [y, this.bufC];
       else [x, y] = [y, x];
