@@ -1,5 +1,5 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, packTracePair, paddedSizes, scatterColumns, scratch, shiftSpectrum, type FkLineOptions } from './fk';
+import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, packTracePair, paddedSizes, scratch, shiftSpectrum, type FkLineOptions } from './fk';
 import { fftOfSize, stagedTransform } from './fft';
 
 export interface StoltOptions extends FkLineOptions {
@@ -321,7 +321,7 @@ function weighBin(val: Float64Array, sinT: Float64Array, thT: Float64Array, base
 
 /**
  * Each node's dip weights on the spectrum, back across traces (every node first, each into its own
- * trace-major array; the bins no node's taper reaches, most of the band, once for all), then per pair of
+ * bin-major array; the bins no node's taper reaches, most of the band, once for all), then per pair of
  * traces back in time node after node, each node's tau range blended into a sum of the pair's samples
  * that goes to `out` once.
  */
@@ -332,10 +332,6 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
   const fx = stagedTransform(fftOfSize(nx));
   const ft = stagedTransform(fftOfSize(nt));
   const nm = jHi + 1;
-  // a block of bins across traces at a time, written trace-major (each trace's bins contiguous for its
-  // time transform); blocks of 16 bins write 256 contiguous bytes per trace
-  const B = 16;
-  const cols = Array.from({ length: B }, () => new Float64Array(2 * nx));
   const col = fx.input;
   const full = ft.input;
   // the angle of every bin whose sine some node's taper reaches and no node's limit cuts, once for all
@@ -364,17 +360,16 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
     const sin = sinT[q] as number;
     thT[q] = sin > sLow && sin < sHigh ? Math.asin(sin) : 0;
   }
-  const across = (ht: Float64Array, m0: number, m1: number, s1: number, sMax: number, th1: number, thMax: number) => {
-    for (let b0 = m0; b0 < m1; b0 += B) {
-      const nbk = Math.min(B, m1 - b0);
-      for (let c = 0; c < nbk; c++) {
-        weighBin(val, sinT, thT, (b0 + c) * nx, nx, s1, sMax, th1, thMax, rx, col);
-        (cols[c] as Float64Array).set(fx.run(true));
-      }
-      scatterColumns(cols, nbk, nTraces, nm, b0, ht);
+  // bins m0..m1 - 1 back across traces, kept bin-major (the first nTraces of each): the time loop reads
+  // a pair of traces across the bins, two neighbours in each bin's cache line
+  const across = (hc: Float64Array, m0: number, m1: number, s1: number, sMax: number, th1: number, thMax: number) => {
+    for (let j = m0; j < m1; j++) {
+      weighBin(val, sinT, thT, j * nx, nx, s1, sMax, th1, thMax, rx, col);
+      const r = fx.run(true);
+      hc.set(nx === nTraces ? r : r.subarray(0, 2 * nTraces), 2 * nTraces * j);
     }
   };
-  const nodes: { k0: number; k1: number; bs: Float64Array; ht: Float64Array; plainFrom: number }[] = [];
+  const nodes: { k0: number; k1: number; bs: Float64Array; hc: Float64Array; plainFrom: number }[] = [];
   for (let w = 0; w < anglesDeg.length; w++) {
     const b = blend[w] as Float64Array;
     let k0 = 0;
@@ -392,26 +387,31 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
     const sMax = Math.sin(thMax);
     let plainFrom = nm;
     while (plainFrom > 0 && (sinMax[plainFrom - 1] as number) <= s1) plainFrom--;
-    const ht = scratch(`stolt ht ${nodes.length}`, 2 * nTraces * nm);
-    across(ht, 0, plainFrom, s1, sMax, th1, thMax);
-    nodes.push({ k0, k1, bs, ht, plainFrom });
+    const hc = scratch(`stolt hc ${nodes.length}`, 2 * nTraces * nm);
+    across(hc, 0, plainFrom, s1, sMax, th1, thMax);
+    nodes.push({ k0, k1, bs, hc, plainFrom });
   }
   // the plain bins (weighBin's weight is 1 below any taper: the same columns as each node's own)
   const plainFrom = Math.min(nm, ...nodes.map((n) => n.plainFrom));
-  const plain = scratch('stolt ht plain', 2 * nTraces * nm);
+  const plain = scratch('stolt hc plain', 2 * nTraces * nm);
   across(plain, plainFrom, nm, Infinity, Infinity, 0, 0);
   // in time, two real traces per complex inverse: ifft(A + iB) = a + ib for Hermitian A, B (bins past jHi stay 0)
   const acc = new Float64Array(2 * nSamples);
   // the bins past jHi stay 0: packing writes the others, and a run leaves its input as it was
   full.fill(0);
+  // nodes by their first plain bin: each writes its own bins below it over the last one's, so the plain
+  // bins from the first node's on are packed once per pair (at most two nodes blend at a sample, so
+  // the order of the sum does not matter)
+  nodes.sort((a, b) => a.plainFrom - b.plainFrom);
   for (let i = 0; i < nTraces; i += 2) {
     const pair = i + 1 < nTraces;
-    const oa = 2 * i * nm;
-    const ob = 2 * (i + 1) * nm;
+    const oa = 2 * i;
+    const ob = pair ? 2 * (i + 1) : -1;
+    const stride = 2 * nTraces;
     acc.fill(0);
-    for (const { k0, k1, bs, ht, plainFrom: p } of nodes) {
-      packTracePair(ht, oa, pair ? ob : -1, 0, p - 1, nw, nt, full);
-      packTracePair(plain, oa, pair ? ob : -1, p, nm - 1, nw, nt, full);
+    packTracePair(plain, oa, ob, plainFrom, nm - 1, nw, nt, full, stride);
+    for (const { k0, k1, bs, hc, plainFrom: p } of nodes) {
+      packTracePair(hc, oa, ob, 0, p - 1, nw, nt, full, stride);
       const back = ft.run(true);
       for (let k = k0; k <= k1; k++) acc[k] = (acc[k] as number) + (bs[k] as number) * (back[2 * k] as number);
       if (pair) for (let k = k0; k <= k1; k++) acc[nSamples + k] = (acc[nSamples + k] as number) + (bs[k] as number) * (back[2 * k + 1] as number);
