@@ -413,8 +413,13 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
     for (const { k0, k1, bs, hc, plainFrom: p } of nodes) {
       packTracePair(hc, oa, ob, 0, p - 1, nw, nt, full, stride);
       const back = ft.run(true);
-      for (let k = k0; k <= k1; k++) acc[k] = (acc[k] as number) + (bs[k] as number) * (back[2 * k] as number);
-      if (pair) for (let k = k0; k <= k1; k++) acc[nSamples + k] = (acc[nSamples + k] as number) + (bs[k] as number) * (back[2 * k + 1] as number);
+      if (pair) {
+        for (let k = k0; k <= k1; k++) {
+          const g = bs[k] as number;
+          acc[k] = (acc[k] as number) + g * (back[2 * k] as number);
+          acc[nSamples + k] = (acc[nSamples + k] as number) + g * (back[2 * k + 1] as number);
+        }
+      } else for (let k = k0; k <= k1; k++) acc[k] = (acc[k] as number) + (bs[k] as number) * (back[2 * k] as number);
     }
     out.set(pair ? acc : acc.subarray(0, nSamples), i * nSamples);
   }
