@@ -213,16 +213,15 @@ function apertureNodes(nSamples: number, dtNs: number, timeZeroNs: number, ve: n
 
 /**
  * What the map of `stoltMaps` takes from the geometry alone (sizes, sample interval, trace spacing,
- * velocity, widest dip limit and taper), for the entries (ix <= nx / 2, j) it visits with the band's top
- * bin up to `hi`: the input bin u, the Jacobian, sin(theta), theta (for `weighBin`'s taper) and the
- * interpolation weights (`tapWeights`), entry ix * nb + j, row ix built up to `rowLen[ix]` (where u
- * passes hi + HALF_TAPS). u is NaN where modelling has no real w_tau; `skip` marks entries no dip
- * limit passes or past Nyquist. The lines of a survey share it (kept per worker, see `stoltTable`).
+ * velocity, widest dip limit and taper), entry ix * nw + j for ix <= nx / 2: the input bin u, the
+ * Jacobian, sin(theta), theta (for `weighBin`'s taper) and the interpolation weights (`tapWeights`).
+ * u is NaN where modelling has no real w_tau; `skip` marks entries no dip limit passes or past Nyquist.
+ * Filled as lines reach the entries (`tableEntry`): row ix holds j < rowLen[ix]. The lines of a survey
+ * mostly share one (kept per worker, see `stoltTable`).
  */
 interface StoltTable {
   key: string;
-  hi: number;
-  nb: number;
+  nw: number;
   rowLen: Int32Array;
   u: Float64Array;
   jac: Float64Array;
@@ -235,24 +234,25 @@ interface StoltTable {
 let lastTable: StoltTable | undefined;
 
 /**
- * The `StoltTable` of a geometry, the last one kept (a survey's lines mostly share theirs; the weights'
- * sines, cosines and divisions were most of the map's own time). Built again for another geometry or a
- * wider band.
+ * The `StoltTable` of a geometry, the last one kept (the weights' sines, cosines and divisions were most
+ * of the map's own time); another geometry empties it (its arrays are reused when the sizes agree).
  */
-function stoltTable(nx: number, nt: number, nb: number, dtNs: number, dxM: number, ve: number, inverse: boolean, aMax: number, taper: number, hi: number): StoltTable {
+function stoltTable(nx: number, nt: number, dtNs: number, dxM: number, ve: number, inverse: boolean, aMax: number, taper: number): StoltTable {
   const key = JSON.stringify([nx, nt, dtNs, dxM, ve, inverse, aMax, taper]);
   const kept = lastTable;
-  if (kept && kept.key === key && kept.hi >= hi && kept.nb >= nb) return kept;
-  lastTable = undefined;
+  if (kept && kept.key === key) return kept;
   const nw = nt / 2 + 1;
-  const dw = (2 * Math.PI) / (nt * dtNs);
-  const outer = dipWeigher(aMax, taper);
   const rows = (nx >> 1) + 1;
-  const n = rows * nb;
+  const n = rows * nw;
+  if (kept && kept.nw === nw && kept.rowLen.length === rows) {
+    kept.key = key;
+    kept.rowLen.fill(0);
+    return kept;
+  }
+  lastTable = undefined;
   const t: StoltTable = {
     key,
-    hi,
-    nb,
+    nw,
     rowLen: new Int32Array(rows),
     u: new Float64Array(n),
     jac: new Float64Array(n),
@@ -261,48 +261,41 @@ function stoltTable(nx: number, nt: number, nb: number, dtNs: number, dxM: numbe
     skip: new Uint8Array(n),
     taps: new Float64Array(n * TAP_STRIDE),
   };
-  for (let ix = 0; ix < rows; ix++) {
-    const a = ve * Math.abs(kxOf(ix, nx, dxM));
-    let j = 0;
-    for (; j < nb; j++) {
-      const e = ix * nb + j;
-      const wj = j * dw;
-      let u: number;
-      let jac: number;
-      let sin: number;
-      if (!inverse) {
-        const w = Math.sqrt(wj * wj + a * a);
-        u = w / dw;
-        if (u - HALF_TAPS > hi) break; // u grows with j
-        jac = w === 0 ? 1 : wj / w;
-        sin = w === 0 ? 0 : a / w;
-      } else {
-        if (wj <= a && a > 0) {
-          t.u[e] = NaN;
-          continue;
-        }
-        const wt = Math.sqrt(wj * wj - a * a);
-        u = wt / dw;
-        if (u - HALF_TAPS > hi) break;
-        jac = wj === 0 ? 1 : wj / wt;
-        sin = wj === 0 ? 0 : a / wj;
-      }
-      t.u[e] = u;
-      t.jac[e] = jac;
-      t.sin[e] = sin;
-      // the widest limit passes what any node passes (dipWeight grows with the limit)
-      if (jac === 0 || u > nw - 1 || outer(sin) === 0) {
-        t.skip[e] = 1;
-        continue;
-      }
-      t.theta[e] = Math.asin(sin);
-      const f = u - Math.floor(u);
-      if (f !== 0) tapWeights(f, t.taps, e * TAP_STRIDE);
-    }
-    t.rowLen[ix] = j;
-  }
   lastTable = t;
   return t;
+}
+
+/** Fills entry e = ix * nw + j of `t` (a = v_e |kx| of row ix). */
+function tableEntry(t: StoltTable, e: number, j: number, a: number, dw: number, inverse: boolean, outer: (sin: number) => number): void {
+  const nw = t.nw;
+  const wj = j * dw;
+  let u: number;
+  let jac: number;
+  let sin: number;
+  if (!inverse) {
+    const w = Math.sqrt(wj * wj + a * a);
+    u = w / dw;
+    jac = w === 0 ? 1 : wj / w;
+    sin = w === 0 ? 0 : a / w;
+  } else {
+    if (wj <= a && a > 0) {
+      t.u[e] = NaN;
+      return;
+    }
+    const wt = Math.sqrt(wj * wj - a * a);
+    u = wt / dw;
+    jac = wj === 0 ? 1 : wj / wt;
+    sin = wj === 0 ? 0 : a / wj;
+  }
+  t.u[e] = u;
+  t.jac[e] = jac;
+  t.sin[e] = sin;
+  // the widest limit passes what any node passes (dipWeight grows with the limit)
+  t.skip[e] = jac === 0 || u > nw - 1 || outer(sin) === 0 ? 1 : 0;
+  if (t.skip[e]) return;
+  t.theta[e] = Math.asin(sin);
+  const f = u - Math.floor(u);
+  if (f !== 0) tapWeights(f, t.taps, e * TAP_STRIDE);
 }
 
 /**
@@ -357,7 +350,8 @@ function stoltMaps(
   const val = scratch('stolt val', 2 * nb * nx).fill(0);
   const sinT = scratch('stolt sin', nb * nx).fill(0);
   const thT = scratch('stolt theta', nb * nx);
-  const tb = stoltTable(nx, nt, nb, dtNs, dxM, ve, inverse, aMax, taper, hi);
+  const tb = stoltTable(nx, nt, dtNs, dxM, ve, inverse, aMax, taper);
+  const outer = dipWeigher(aMax, taper);
   // bins the interpolation can reach from [lo, hi] (negative bins mirror positive ones)
   const reach = (u: number) => u - HALF_TAPS <= hi && (u + HALF_TAPS >= lo || HALF_TAPS - u >= lo);
   const ip = new Float64Array(4);
@@ -369,9 +363,13 @@ function stoltMaps(
     const two = ixB !== ix;
     const row = 2 * ix * nw;
     const rowc = 2 * ixB * nw;
-    const len = Math.min(nb, tb.rowLen[ix] as number);
-    for (let j = 0; j < len; j++) {
-      const e = ix * tb.nb + j;
+    const a = ve * Math.abs(kxOf(ix, nx, dxM));
+    for (let j = 0; j < nb; j++) {
+      const e = ix * nw + j;
+      if (j >= (tb.rowLen[ix] as number)) {
+        tableEntry(tb, e, j, a, dw, inverse, outer);
+        tb.rowLen[ix] = j + 1;
+      }
       const u = tb.u[e] as number;
       if (u !== u) continue; // modelling: no real w_tau
       if (u - HALF_TAPS > hi) break; // u grows with j
