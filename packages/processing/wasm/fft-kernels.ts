@@ -179,3 +179,37 @@ export function radix5(x: usize, y: usize, m: i32, s: i32, tw: usize, sg: f64): 
     }
   }
 }
+
+/**
+ * The analytic signal's step of `hilbertEnvelopePair` (../src/envelope.ts): the spectrum at x (n complex
+ * numbers) times -i sgn(k), zero at 0 and n/2, into y. -i z = swap(z) (1, -1), +i z = swap(z) (-1, 1).
+ */
+export function hilbertMul(x: usize, y: usize, n: i32): void {
+  const half = n >> 1;
+  const neg = f64x2(1, -1);
+  const pos = f64x2(-1, 1);
+  v128.store(y, f64x2.splat(0));
+  for (let k = 1; k < half; k++) {
+    const o = <usize>k << 4;
+    v128.store(y + o, f64x2.mul(swap(v128.load(x + o)), neg));
+  }
+  v128.store(y + (<usize>half << 4), f64x2.splat(0));
+  for (let k = half + 1; k < n; k++) {
+    const o = <usize>k << 4;
+    v128.store(y + o, f64x2.mul(swap(v128.load(x + o)), pos));
+  }
+}
+
+/**
+ * Envelopes of two traces: x holds (a, b) interleaved, h their Hilbert transforms times n (the unscaled
+ * inverse); out[i] = sqrt(x^2 + (h s)^2) per lane for i < m, s = 1/n.
+ */
+export function envelopePair(x: usize, h: usize, out: usize, m: i32, s: f64): void {
+  const sv = f64x2.splat(s);
+  for (let i = 0; i < m; i++) {
+    const o = <usize>i << 4;
+    const xv = v128.load(x + o);
+    const hv = f64x2.mul(v128.load(h + o), sv);
+    v128.store(out + o, f64x2.sqrt(f64x2.add(f64x2.mul(xv, xv), f64x2.mul(hv, hv))));
+  }
+}
