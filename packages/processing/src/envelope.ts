@@ -1,5 +1,6 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { fftOfSize, nextPow2, stagedTransform, type Staged } from './fft';
+import { WasmFFT } from './fft-wasm';
 import { withData } from './line-util';
 
 /** Scratch buffers for analytic signals of one padded length (reused across traces). */
@@ -91,6 +92,14 @@ export function hilbertEnvelopePair(
     if (b) for (let i = 0; i < mb; i++) z[2 * i + 1] = b[i] as number;
   }
   z.fill(0, 2 * Math.max(ma, mb));
+  const f = fftOfSize(n);
+  if (f instanceof WasmFFT && a.length <= n && (!b || b.length === a.length)) {
+    // the same steps in the module (`WasmFFT.hilbertEnvelopes`)
+    const env = f.hilbertEnvelopes(a.length);
+    for (let i = 0; i < a.length; i++) outA[i] = env[2 * i] as number;
+    if (b && outB) for (let i = 0; i < b.length; i++) outB[i] = env[2 * i + 1] as number;
+    return;
+  }
   const spec = st.run(false);
   // the spectrum times -i sgn(k) into the input (which may be the same array: each bin is read before it is written)
   const half = n / 2;

@@ -9,6 +9,9 @@ interface Kernels {
   radix4(x: number, y: number, m: number, s: number, tw: number, sg: number): void;
   radix4Last(x: number, y: number, s: number, sg: number): void;
   radix5(x: number, y: number, m: number, s: number, tw: number, sg: number): void;
+  radix5Last(x: number, y: number, s: number, sg: number): void;
+  hilbertMul(x: number, y: number, n: number): void;
+  envelopePair(x: number, h: number, out: number, m: number, s: number): void;
 }
 
 let compiled: WebAssembly.Module | null | undefined;
@@ -48,6 +51,8 @@ export class WasmFFT implements Transform {
   private readonly bufB: number;
   /** The third work array: the stages after the first alternate between B and C, so A keeps the input. */
   private readonly bufC: number;
+  /** The fourth: the Hilbert step's spectrum and envelopes (`hilbertEnvelopes`). */
+  private readonly bufD: number;
   private readonly view: Float64Array;
 
   constructor(n: number) {
@@ -58,7 +63,7 @@ export class WasmFFT implements Transform {
     this.radices = radices;
     // twiddles per stage: m (p - 1) complex numbers, each stored as 4 doubles (wr, wr, -wi, wi)
     const twDoubles = twiddles.reduce((sum, tw) => sum + 2 * tw.length, 0);
-    const bytes = 8 * (3 * 2 * n + 2 * twDoubles);
+    const bytes = 8 * (4 * 2 * n + 2 * twDoubles);
     const instance = new WebAssembly.Instance(mod, {});
     this.k = instance.exports as unknown as Kernels;
     const have = this.k.memory.buffer.byteLength;
@@ -88,6 +93,7 @@ export class WasmFFT implements Transform {
       len = m;
     }
     this.bufC = at;
+    this.bufD = at + 16 * n;
   }
 
   transform(out: Float64Array, data: Float64Array): void {
@@ -125,8 +131,16 @@ export class WasmFFT implements Transform {
    */
   runInput(inverse: boolean): Float64Array {
     const x = this.stageRun(inverse);
-    return this.view.subarray(x / 8, x / 8 + 2 * this.size);
+    let v = this.results.get(x);
+    if (!v) {
+      v = this.view.subarray(x / 8, x / 8 + 2 * this.size);
+      this.results.set(x, v);
+    }
+    return v;
   }
+
+  /** Views of the work arrays a run may end in, made once (loops run thousands of transforms). */
+  private readonly results = new Map<number, Float64Array>();
 
   private run(out: Float64Array, data: Float64Array, inverse: boolean): void {
     const n2 = 2 * this.size;
@@ -140,12 +154,31 @@ export class WasmFFT implements Transform {
     out.set(this.view.subarray(x / 8, x / 8 + 2 * this.size));
   }
 
-  /** The stages on the input at `bufA` (left as it was); returns the byte offset of the result. */
-  private stageRun(inverse: boolean): number {
+  /**
+   * The Hilbert envelopes of the two real traces a, b that `input` holds as a + ib (zero-padded to the
+   * size n) for the first m samples: forward transform, times -i sgn(k) (zero at 0 and n/2), unscaled
+   * inverse (H(a) + i H(b)) times 1/n, sqrt(x^2 + H(x)^2); `hilbertEnvelopePair`'s steps in the same
+   * order. Returns (envelope of a, of b) interleaved in its first 2m numbers, a view valid until the next
+   * run; `input` is left as it was.
+   */
+  hilbertEnvelopes(m: number): Float64Array {
+    const n = this.size;
+    this.k.hilbertMul(this.stageRun(false), this.bufD, n);
+    this.k.envelopePair(this.bufA, this.stageRun(true, this.bufD), this.bufD, m, 1 / n);
+    let v = this.results.get(-1);
+    if (!v) {
+      v = this.view.subarray(this.bufD / 8, this.bufD / 8 + 2 * n);
+      this.results.set(-1, v);
+    }
+    return v;
+  }
+
+  /** The stages on the input at `from` (left as it was); returns the byte offset of the result. */
+  private stageRun(inverse: boolean, from = this.bufA): number {
     const k = this.k;
     const sg = inverse ? -1 : 1;
     const tws = inverse ? this.twInv : this.twFwd;
-    let x = this.bufA;
+    let x = from;
     let y = this.bufB;
     let s = 1;
     let len = this.size;
@@ -158,6 +191,7 @@ export class WasmFFT implements Transform {
         else k.radix4(x, y, m, s, tw, sg);
       } else if (p === 2) k.radix2(x, y, m, s, tw);
       else if (p === 3) k.radix3(x, y, m, s, tw, sg);
+      else if (m === 1) k.radix5Last(x, y, s, sg);
       else k.radix5(x, y, m, s, tw, sg);
       if (st === 0) [x, y] = [y, this.bufC];
       else [x, y] = [y, x];

@@ -106,15 +106,15 @@ export function band(power: ArrayLike<number>, tol: number): [number, number] {
  * Two real traces in one complex inverse transform: writes bins m0..m1 of the half spectra A (at `oa` in
  * `spec`) and B (at `ob`; none when ob < 0) into `full` as the full spectrum A + iB, whose inverse is
  * a + ib for Hermitian A and B. The DC and Nyquist bins of a real trace are real. Other bins of `full`
- * are left as they are.
+ * are left as they are. Bin m of a trace is at `stride` m numbers from its start (2: trace-major).
  */
-export function packTracePair(spec: Float64Array, oa: number, ob: number, m0: number, m1: number, nw: number, nt: number, full: Float64Array): void {
+export function packTracePair(spec: Float64Array, oa: number, ob: number, m0: number, m1: number, nw: number, nt: number, full: Float64Array, stride = 2): void {
   for (let m = m0; m <= m1; m++) {
     const edge = m === 0 || m === nw - 1;
-    const ar = spec[oa + 2 * m] as number;
-    const ai = edge ? 0 : (spec[oa + 2 * m + 1] as number);
-    const br = ob < 0 ? 0 : (spec[ob + 2 * m] as number);
-    const bi = ob < 0 || edge ? 0 : (spec[ob + 2 * m + 1] as number);
+    const ar = spec[oa + stride * m] as number;
+    const ai = edge ? 0 : (spec[oa + stride * m + 1] as number);
+    const br = ob < 0 ? 0 : (spec[ob + stride * m] as number);
+    const bi = ob < 0 || edge ? 0 : (spec[ob + stride * m + 1] as number);
     full[2 * m] = ar - bi;
     full[2 * m + 1] = ai + br;
     if (!edge) {

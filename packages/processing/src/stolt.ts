@@ -1,5 +1,5 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, packTracePair, paddedSizes, scatterColumns, scratch, shiftSpectrum, type FkLineOptions } from './fk';
+import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, packTracePair, paddedSizes, scratch, shiftSpectrum, type FkLineOptions } from './fk';
 import { fftOfSize, stagedTransform } from './fft';
 
 export interface StoltOptions extends FkLineOptions {
@@ -26,15 +26,42 @@ export interface StoltKernelOptions {
 const HALF_TAPS = 4;
 
 /**
+ * The weights of `interpolate` at fraction f (0 < f < 1) of a bin into `taps` at `o`: the 8 windowed-sinc
+ * weights for the taps n = i0 - q, q = -4..3, their sum, and e^{-i pi f / 2} as (c2, s2). They depend on
+ * the map's geometry only, so `stoltTable` keeps them.
+ */
+function tapWeights(f: number, taps: Float64Array, o: number): void {
+  // sinc(d) for the taps n = i0 - q, d = f + q, is (-1)^q sin(pi f) / (pi d): the common factor cancels
+  // in the normalisation; the Hann term by angle addition
+  const cf4 = Math.cos((Math.PI * f) / HALF_TAPS);
+  const sf4 = Math.sin((Math.PI * f) / HALF_TAPS);
+  let ws = 0;
+  for (let q = -HALF_TAPS; q < HALF_TAPS; q++) {
+    const hann = 0.5 * (1 + cf4 * (COS_Q[q + HALF_TAPS] as number) - sf4 * (SIN_Q[q + HALF_TAPS] as number));
+    const w = (q & 1 ? -hann : hann) / (f + q);
+    ws += w;
+    taps[o + q + HALF_TAPS] = w;
+  }
+  taps[o + 2 * HALF_TAPS] = ws;
+  // e^{-i pi f / 2} from the quarter angle
+  taps[o + 2 * HALF_TAPS + 1] = cf4 * cf4 - sf4 * sf4;
+  taps[o + 2 * HALF_TAPS + 2] = 2 * sf4 * cf4;
+}
+
+/** Numbers per entry of `StoltTable.taps`: `tapWeights`' weights, their sum, c2 and s2. */
+const TAP_STRIDE = 2 * HALF_TAPS + 3;
+
+/**
  * Windowed-sinc interpolation along omega of row `row` of a centred spectrum at fractional bin `u`: 8 taps,
- * Hann window, weights normalised to sum 1. Negative bins are conjugates of the row of -kx (`rowc`), bins
- * past Nyquist zero. The spectrum was centred (traces shifted so their support is [-T/4, T/4] of the padded
- * length T), so along omega it is oversampled twice (round trips in the tests: below 1 % RMS).
+ * Hann window, weights normalised to sum 1 (`tapWeights`, at `o` in `taps`). Negative bins are conjugates
+ * of the row of -kx (`rowc`), bins past Nyquist zero. The spectrum was centred (traces shifted so their
+ * support is [-T/4, T/4] of the padded length T), so along omega it is oversampled twice (round trips in
+ * the tests: below 1 % RMS).
  * The value is returned in `ip` times e^{-i pi u / 2}, the shift back by T/4 at bin u (Stolt's e^{-i w T/4}).
  * A second row (`rowB` >= 0, e.g. +kx's partner -kx, which has the same u) is interpolated with the same
  * weights into ip[2], ip[3], each row's sums in the same order as alone.
  */
-function interpolate(spec: Float64Array, row: number, rowc: number, nw: number, u: number, ip: Float64Array, rowB = -1, rowcB = -1): void {
+function interpolate(spec: Float64Array, row: number, rowc: number, nw: number, u: number, taps: Float64Array, o: number, ip: Float64Array, rowB = -1, rowcB = -1): void {
   const two = rowB >= 0;
   const i0 = Math.floor(u);
   const f = u - i0;
@@ -54,15 +81,8 @@ function interpolate(spec: Float64Array, row: number, rowc: number, nw: number, 
       }
     }
   } else {
-    // sinc(d) for the taps n = i0 - q, d = f + q, is (-1)^q sin(pi f) / (pi d): the common factor cancels
-    // in the normalisation; the Hann term by angle addition
-    const cf4 = Math.cos((Math.PI * f) / HALF_TAPS);
-    const sf4 = Math.sin((Math.PI * f) / HALF_TAPS);
-    let ws = 0;
     for (let q = -HALF_TAPS; q < HALF_TAPS; q++) {
-      const hann = 0.5 * (1 + cf4 * (COS_Q[q + HALF_TAPS] as number) - sf4 * (SIN_Q[q + HALF_TAPS] as number));
-      const w = ((q & 1 ? -hann : hann) / (f + q));
-      ws += w;
+      const w = taps[o + q + HALF_TAPS] as number;
       const n = i0 - q;
       if (n >= nw) continue;
       if (n >= 0) {
@@ -81,13 +101,13 @@ function interpolate(spec: Float64Array, row: number, rowc: number, nw: number, 
         }
       }
     }
+    const ws = taps[o + 2 * HALF_TAPS] as number;
     re /= ws;
     im /= ws;
     reB /= ws;
     imB /= ws;
-    // e^{-i pi f / 2} from the quarter angle
-    c2 = cf4 * cf4 - sf4 * sf4;
-    s2 = 2 * sf4 * cf4;
+    c2 = taps[o + 2 * HALF_TAPS + 1] as number;
+    s2 = taps[o + 2 * HALF_TAPS + 2] as number;
   }
   rotate(re, im, c2, s2, i0, ip, 0);
   if (two) rotate(reB, imB, c2, s2, i0, ip, 2);
@@ -192,6 +212,93 @@ function apertureNodes(nSamples: number, dtNs: number, timeZeroNs: number, ve: n
 }
 
 /**
+ * What the map of `stoltMaps` takes from the geometry alone (sizes, sample interval, trace spacing,
+ * velocity, widest dip limit and taper), entry ix * nw + j for ix <= nx / 2: the input bin u, the
+ * Jacobian, sin(theta), theta (for `weighBin`'s taper) and the interpolation weights (`tapWeights`).
+ * u is NaN where modelling has no real w_tau; `skip` marks entries no dip limit passes or past Nyquist.
+ * Filled as lines reach the entries (`tableEntry`): row ix holds j < rowLen[ix]. The lines of a survey
+ * mostly share one (kept per worker, see `stoltTable`).
+ */
+interface StoltTable {
+  key: string;
+  nw: number;
+  rowLen: Int32Array;
+  u: Float64Array;
+  jac: Float64Array;
+  sin: Float64Array;
+  theta: Float64Array;
+  skip: Uint8Array;
+  taps: Float64Array;
+}
+
+let lastTable: StoltTable | undefined;
+
+/**
+ * The `StoltTable` of a geometry, the last one kept (the weights' sines, cosines and divisions were most
+ * of the map's own time); another geometry empties it (its arrays are reused when the sizes agree).
+ */
+function stoltTable(nx: number, nt: number, dtNs: number, dxM: number, ve: number, inverse: boolean, aMax: number, taper: number): StoltTable {
+  const key = JSON.stringify([nx, nt, dtNs, dxM, ve, inverse, aMax, taper]);
+  const kept = lastTable;
+  if (kept && kept.key === key) return kept;
+  const nw = nt / 2 + 1;
+  const rows = (nx >> 1) + 1;
+  const n = rows * nw;
+  if (kept && kept.nw === nw && kept.rowLen.length === rows) {
+    kept.key = key;
+    kept.rowLen.fill(0);
+    return kept;
+  }
+  lastTable = undefined;
+  const t: StoltTable = {
+    key,
+    nw,
+    rowLen: new Int32Array(rows),
+    u: new Float64Array(n),
+    jac: new Float64Array(n),
+    sin: new Float64Array(n),
+    theta: new Float64Array(n),
+    skip: new Uint8Array(n),
+    taps: new Float64Array(n * TAP_STRIDE),
+  };
+  lastTable = t;
+  return t;
+}
+
+/** Fills entry e = ix * nw + j of `t` (a = v_e |kx| of row ix). */
+function tableEntry(t: StoltTable, e: number, j: number, a: number, dw: number, inverse: boolean, outer: (sin: number) => number): void {
+  const nw = t.nw;
+  const wj = j * dw;
+  let u: number;
+  let jac: number;
+  let sin: number;
+  if (!inverse) {
+    const w = Math.sqrt(wj * wj + a * a);
+    u = w / dw;
+    jac = w === 0 ? 1 : wj / w;
+    sin = w === 0 ? 0 : a / w;
+  } else {
+    if (wj <= a && a > 0) {
+      t.u[e] = NaN;
+      return;
+    }
+    const wt = Math.sqrt(wj * wj - a * a);
+    u = wt / dw;
+    jac = wj === 0 ? 1 : wj / wt;
+    sin = wj === 0 ? 0 : a / wj;
+  }
+  t.u[e] = u;
+  t.jac[e] = jac;
+  t.sin[e] = sin;
+  // the widest limit passes what any node passes (dipWeight grows with the limit)
+  t.skip[e] = jac === 0 || u > nw - 1 || outer(sin) === 0 ? 1 : 0;
+  if (t.skip[e]) return;
+  t.theta[e] = Math.asin(sin);
+  const f = u - Math.floor(u);
+  if (f !== 0) tapWeights(f, t.taps, e * TAP_STRIDE);
+}
+
+/**
  * The Stolt map with one dip limit per node, blended along tau (`blend[w][k]` the weight of node w at
  * sample k) into `out`. The blend commutes with the transforms, so the interpolation along omega (the
  * costly part) is done once and kept bin-major, times the Jacobian, with its sin(theta); each node then weights
@@ -242,6 +349,8 @@ function stoltMaps(
   // the interpolated spectrum times the Jacobian, bin-major (a bin's wavenumbers contiguous for the transform across traces)
   const val = scratch('stolt val', 2 * nb * nx).fill(0);
   const sinT = scratch('stolt sin', nb * nx).fill(0);
+  const thT = scratch('stolt theta', nb * nx);
+  const tb = stoltTable(nx, nt, dtNs, dxM, ve, inverse, aMax, taper);
   const outer = dipWeigher(aMax, taper);
   // bins the interpolation can reach from [lo, hi] (negative bins mirror positive ones)
   const reach = (u: number) => u - HALF_TAPS <= hi && (u + HALF_TAPS >= lo || HALF_TAPS - u >= lo);
@@ -252,51 +361,46 @@ function stoltMaps(
   for (let ix = 0; ix <= nx >> 1; ix++) {
     const ixB = (nx - ix) % nx;
     const two = ixB !== ix;
-    const a = ve * Math.abs(kxOf(ix, nx, dxM));
     const row = 2 * ix * nw;
     const rowc = 2 * ixB * nw;
+    const a = ve * Math.abs(kxOf(ix, nx, dxM));
     for (let j = 0; j < nb; j++) {
-      const wj = j * dw;
-      let u: number;
-      let jac: number;
-      let sin: number;
-      if (!inverse) {
-        const w = Math.sqrt(wj * wj + a * a);
-        u = w / dw;
-        if (u - HALF_TAPS > hi) break; // u grows with j
-        jac = w === 0 ? 1 : wj / w;
-        sin = w === 0 ? 0 : a / w;
-      } else {
-        if (wj <= a && a > 0) continue;
-        const wt = Math.sqrt(wj * wj - a * a);
-        u = wt / dw;
-        if (u - HALF_TAPS > hi) break;
-        jac = wj === 0 ? 1 : wj / wt;
-        sin = wj === 0 ? 0 : a / wj;
+      const e = ix * nw + j;
+      if (j >= (tb.rowLen[ix] as number)) {
+        tableEntry(tb, e, j, a, dw, inverse, outer);
+        tb.rowLen[ix] = j + 1;
       }
-      // the widest limit passes what any node passes (dipWeight grows with the limit)
-      if (jac === 0 || u > nw - 1 || !reach(u) || outer(sin) === 0) continue;
+      const u = tb.u[e] as number;
+      if (u !== u) continue; // modelling: no real w_tau
+      if (u - HALF_TAPS > hi) break; // u grows with j
+      if (tb.skip[e] || !reach(u)) continue;
+      const jac = tb.jac[e] as number;
       // the partner's row is this one's conjugate row and the other way round
-      if (two) interpolate(spec, row, rowc, nw, u, ip, rowc, row);
-      else interpolate(spec, row, rowc, nw, u, ip);
+      if (two) interpolate(spec, row, rowc, nw, u, tb.taps, e * TAP_STRIDE, ip, rowc, row);
+      else interpolate(spec, row, rowc, nw, u, tb.taps, e * TAP_STRIDE, ip);
       for (let p = 0; p < (two ? 2 : 1); p++) {
         const re = ip[2 * p] as number;
         const im = ip[2 * p + 1] as number;
         const q = j * nx + (p === 0 ? ix : ixB);
         val[2 * q] = (re * (fRe[j] as number) - im * (fIm[j] as number)) * jac;
         val[2 * q + 1] = (re * (fIm[j] as number) + im * (fRe[j] as number)) * jac;
-        sinT[q] = sin;
+        sinT[q] = tb.sin[e] as number;
+        thT[q] = tb.theta[e] as number;
       }
       if (j > jHi) jHi = j;
     }
   }
-  return blendNodes({ val, sinT, nx, nt, jHi }, nTraces, nSamples, anglesDeg, blend, taper, out);
+  return blendNodes({ val, sinT, thT, nx, nt, jHi }, nTraces, nSamples, anglesDeg, blend, taper, out);
 }
 
-/** The interpolated spectrum of `stoltMaps`: bin-major values (times the Jacobian) and sin(theta), bins 0..jHi. */
+/**
+ * The interpolated spectrum of `stoltMaps`: bin-major values (times the Jacobian), sin(theta) and theta
+ * (read only where sin(theta) is above 0), bins 0..jHi.
+ */
 interface StoltSpectrum {
   val: Float64Array;
   sinT: Float64Array;
+  thT: Float64Array;
   nx: number;
   nt: number;
   jHi: number;
@@ -321,60 +425,40 @@ function weighBin(val: Float64Array, sinT: Float64Array, thT: Float64Array, base
 
 /**
  * Each node's dip weights on the spectrum, back across traces (every node first, each into its own
- * trace-major array; the bins no node's taper reaches, most of the band, once for all), then per pair of
+ * bin-major array; the bins no node's taper reaches, most of the band, once for all), then per pair of
  * traces back in time node after node, each node's tau range blended into a sum of the pair's samples
  * that goes to `out` once.
  */
 function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, anglesDeg: readonly number[], blend: readonly Float64Array[], taper: number, out: Float32Array): Float32Array {
-  const { val, sinT, nx, nt, jHi } = sp;
+  const { val, sinT, thT, nx, nt, jHi } = sp;
   const nw = nt / 2 + 1;
   if (jHi < 0) return out.fill(0);
   const fx = stagedTransform(fftOfSize(nx));
   const ft = stagedTransform(fftOfSize(nt));
   const nm = jHi + 1;
-  // a block of bins across traces at a time, written trace-major (each trace's bins contiguous for its
-  // time transform); blocks of 16 bins write 256 contiguous bytes per trace
-  const B = 16;
-  const cols = Array.from({ length: B }, () => new Float64Array(2 * nx));
   const col = fx.input;
   const full = ft.input;
-  // the angle of every bin whose sine some node's taper reaches and no node's limit cuts, once for all
-  // nodes (asin is costly; `weighBin` reads no angle at or past the limit)
-  let sLow = 1;
-  let sHigh = 0;
-  for (const a of anglesDeg) {
-    sLow = Math.min(sLow, Math.sin(((a * Math.PI) / 180) * (1 - taper)));
-    sHigh = Math.max(sHigh, Math.sin((a * Math.PI) / 180));
-  }
   const rx = 1 / nx;
   const rt = 1 / nt;
   // A node weighs a bin by 1 (`rx` with the inverse's 1 / nx) wherever no sine of the bin passes its
   // taper's start: the largest sine of each bin, and from which bin on every bin is such a plain one
-  // for a node (below `sLow` for all). The plain bins are transformed across traces once, for every node.
+  // for a node. The plain bins are transformed across traces once, for every node.
   const sinMax = new Float64Array(nm);
-  let tapered = 0;
   for (let j = 0; j < nm; j++) {
     let m = 0;
     for (let ix = 0; ix < nx; ix++) m = Math.max(m, sinT[j * nx + ix] as number);
     sinMax[j] = m;
-    if (m > sLow) tapered = j + 1;
   }
-  const thT = scratch('stolt theta', nm * nx);
-  for (let q = 0; q < tapered * nx; q++) {
-    const sin = sinT[q] as number;
-    thT[q] = sin > sLow && sin < sHigh ? Math.asin(sin) : 0;
-  }
-  const across = (ht: Float64Array, m0: number, m1: number, s1: number, sMax: number, th1: number, thMax: number) => {
-    for (let b0 = m0; b0 < m1; b0 += B) {
-      const nbk = Math.min(B, m1 - b0);
-      for (let c = 0; c < nbk; c++) {
-        weighBin(val, sinT, thT, (b0 + c) * nx, nx, s1, sMax, th1, thMax, rx, col);
-        (cols[c] as Float64Array).set(fx.run(true));
-      }
-      scatterColumns(cols, nbk, nTraces, nm, b0, ht);
+  // bins m0..m1 - 1 back across traces, kept bin-major (the first nTraces of each): the time loop reads
+  // a pair of traces across the bins, two neighbours in each bin's cache line
+  const across = (hc: Float64Array, m0: number, m1: number, s1: number, sMax: number, th1: number, thMax: number) => {
+    for (let j = m0; j < m1; j++) {
+      weighBin(val, sinT, thT, j * nx, nx, s1, sMax, th1, thMax, rx, col);
+      const r = fx.run(true);
+      hc.set(nx === nTraces ? r : r.subarray(0, 2 * nTraces), 2 * nTraces * j);
     }
   };
-  const nodes: { k0: number; k1: number; bs: Float64Array; ht: Float64Array; plainFrom: number }[] = [];
+  const nodes: { k0: number; k1: number; bs: Float64Array; hc: Float64Array; plainFrom: number }[] = [];
   for (let w = 0; w < anglesDeg.length; w++) {
     const b = blend[w] as Float64Array;
     let k0 = 0;
@@ -392,29 +476,39 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
     const sMax = Math.sin(thMax);
     let plainFrom = nm;
     while (plainFrom > 0 && (sinMax[plainFrom - 1] as number) <= s1) plainFrom--;
-    const ht = scratch(`stolt ht ${nodes.length}`, 2 * nTraces * nm);
-    across(ht, 0, plainFrom, s1, sMax, th1, thMax);
-    nodes.push({ k0, k1, bs, ht, plainFrom });
+    const hc = scratch(`stolt hc ${nodes.length}`, 2 * nTraces * nm);
+    across(hc, 0, plainFrom, s1, sMax, th1, thMax);
+    nodes.push({ k0, k1, bs, hc, plainFrom });
   }
   // the plain bins (weighBin's weight is 1 below any taper: the same columns as each node's own)
   const plainFrom = Math.min(nm, ...nodes.map((n) => n.plainFrom));
-  const plain = scratch('stolt ht plain', 2 * nTraces * nm);
+  const plain = scratch('stolt hc plain', 2 * nTraces * nm);
   across(plain, plainFrom, nm, Infinity, Infinity, 0, 0);
   // in time, two real traces per complex inverse: ifft(A + iB) = a + ib for Hermitian A, B (bins past jHi stay 0)
   const acc = new Float64Array(2 * nSamples);
   // the bins past jHi stay 0: packing writes the others, and a run leaves its input as it was
   full.fill(0);
+  // nodes by their first plain bin: each writes its own bins below it over the last one's, so the plain
+  // bins from the first node's on are packed once per pair (at most two nodes blend at a sample, so
+  // the order of the sum does not matter)
+  nodes.sort((a, b) => a.plainFrom - b.plainFrom);
   for (let i = 0; i < nTraces; i += 2) {
     const pair = i + 1 < nTraces;
-    const oa = 2 * i * nm;
-    const ob = 2 * (i + 1) * nm;
+    const oa = 2 * i;
+    const ob = pair ? 2 * (i + 1) : -1;
+    const stride = 2 * nTraces;
     acc.fill(0);
-    for (const { k0, k1, bs, ht, plainFrom: p } of nodes) {
-      packTracePair(ht, oa, pair ? ob : -1, 0, p - 1, nw, nt, full);
-      packTracePair(plain, oa, pair ? ob : -1, p, nm - 1, nw, nt, full);
+    packTracePair(plain, oa, ob, plainFrom, nm - 1, nw, nt, full, stride);
+    for (const { k0, k1, bs, hc, plainFrom: p } of nodes) {
+      packTracePair(hc, oa, ob, 0, p - 1, nw, nt, full, stride);
       const back = ft.run(true);
-      for (let k = k0; k <= k1; k++) acc[k] = (acc[k] as number) + (bs[k] as number) * (back[2 * k] as number);
-      if (pair) for (let k = k0; k <= k1; k++) acc[nSamples + k] = (acc[nSamples + k] as number) + (bs[k] as number) * (back[2 * k + 1] as number);
+      if (pair) {
+        for (let k = k0; k <= k1; k++) {
+          const g = bs[k] as number;
+          acc[k] = (acc[k] as number) + g * (back[2 * k] as number);
+          acc[nSamples + k] = (acc[nSamples + k] as number) + g * (back[2 * k + 1] as number);
+        }
+      } else for (let k = k0; k <= k1; k++) acc[k] = (acc[k] as number) + (bs[k] as number) * (back[2 * k] as number);
     }
     out.set(pair ? acc : acc.subarray(0, nSamples), i * nSamples);
   }

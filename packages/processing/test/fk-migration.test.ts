@@ -155,6 +155,32 @@ describe('the aperture as a depth-dependent dip limit', () => {
   });
 });
 
+describe("Stolt's geometry table, kept between lines", () => {
+  // an invariant, no outside reference: the table built for a wider band or kept from another line of
+  // the same geometry gives the same bytes as one built for the line itself
+  it('a line migrated (and modelled) after a line of other spacing and one of a wider band: the same bytes', () => {
+    const clean = makeLine(151, 300, DT, 0.02, TZ);
+    addDiffraction(clean, 1.5, 0.6, V, S, F);
+    const noisy = makeLine(151, 300, DT, 0.02, TZ);
+    addDiffraction(noisy, 1.1, 0.4, V, S, F);
+    addNoise(noisy, 0.3, 5);
+    const other = makeLine(151, 300, DT, 0.025, TZ);
+    addDiffraction(other, 1.5, 0.6, V, S, F);
+    for (const run of [stoltMigrate, stoltModel]) {
+      const opts = { velocityMPerNs: V, separationM: S, apertureM: 1 };
+      const same = (a: Float32Array, b: Float32Array) => Buffer.from(a.buffer).equals(Buffer.from(b.buffer));
+      // after a line of another spacing each is the first of its geometry
+      run(other, opts);
+      const noisyAlone = run(noisy, opts).data;
+      run(other, opts);
+      const cleanAlone = run(clean, opts).data;
+      // the wider band after the narrower one, then the narrower one again
+      expect(same(run(noisy, opts).data, noisyAlone)).toBe(true);
+      expect(same(run(clean, opts).data, cleanAlone)).toBe(true);
+    }
+  });
+});
+
 describe('mirror symmetry: the line reversed migrates to the image reversed', () => {
   // +kx and -kx share their interpolation (one pass over the bins for both rows): an odd number of
   // traces and an even one (the Nyquist row is its own partner), and diffractors at different dips
