@@ -118,8 +118,12 @@ export function squaredDistance(mask: Uint8Array, w: number, h: number, target: 
  * repeated on what is left, up to `maxBands` bands of at least `minCells` cells. Two utilities crossing
  * in one slice make an X that is as wide as it is long, sized like a layer by its second moments; as
  * bands it is two objects. Returns the bands (cells ascending) and the cells in none of them.
+ *
+ * With `accept`, the search stops at the first band it refuses: that band's cells stay in `rest`, and
+ * the bands that would have followed it are never searched for (a caller that keeps only the bands
+ * before the first refused one gets the same bands and the same rest, ascending).
  */
-export function straightBands(cells: Int32Array, width: number, bandCells: number, minCells: number, maxBands = 4): { bands: Int32Array[]; rest: Int32Array } {
+export function straightBands(cells: Int32Array, width: number, bandCells: number, minCells: number, maxBands = 4, accept?: (band: Int32Array) => boolean): { bands: Int32Array[]; rest: Int32Array } {
   const w = Math.max(1, Math.round(bandCells));
   const n0 = cells.length;
   // the cells still left: their indices, columns and rows in the first `n` places
@@ -139,18 +143,23 @@ export function straightBands(cells: Int32Array, width: number, bandCells: numbe
     // the band's cells out, the others moved down (kept in ascending order)
     const band = new Int32Array(best.count);
     let nb = 0;
-    let m = 0;
     for (let i = 0; i < n; i++) {
       const r = col[i]! * best.c + row[i]! * best.s;
       if (r >= best.lo && r < best.lo + w + 1e-9) band[nb++] = left[i]!;
-      else {
+    }
+    const found = band.subarray(0, nb).slice();
+    if (accept && !accept(found)) break;
+    let m = 0;
+    for (let i = 0; i < n; i++) {
+      const r = col[i]! * best.c + row[i]! * best.s;
+      if (!(r >= best.lo && r < best.lo + w + 1e-9)) {
         left[m] = left[i]!;
         col[m] = col[i]!;
         row[m] = row[i]!;
         m++;
       }
     }
-    bands.push(band.subarray(0, nb).slice());
+    bands.push(found);
     n = m;
   }
   return { bands, rest: left.slice(0, n) };
