@@ -74,7 +74,11 @@ export interface Extraction {
   members: Member[];
   /** The members linked into 3D anomalies (made on first use). */
   readonly anomalies: Anomaly3D[];
-  /** Scores of each slice (NaN at nodata), same order as `stack.slices`. */
+  /**
+   * Scores of each slice (NaN at nodata), same order as `stack.slices`. Under a noise law, scores more
+   * than 0.5 under `lowThreshold` are not worked out: such cells read the score of the value cut (still
+   * that far under it), so compare them only with thresholds at or above `lowThreshold`.
+   */
   scores: Float32Array[];
   /** Each slice's noise law (null where none could be fitted: robust scores stand in). */
   noise: (NoiseLaw | null)[];
@@ -100,20 +104,26 @@ export function correlationArea(stack: SliceStack, metresPerUnit = 1): number {
 }
 
 /** Seed (`high`) and growth (`low`) thresholds of `extractAnomalies` for a stack and its options. */
-export interface Thresholds {
+interface Thresholds {
   high: number;
   low: number;
 }
 
 /** The thresholds `extractAnomalies` uses on a stack (see `ExtractOptions.threshold`, `lowThreshold`). */
-export function extractThresholds(stack: SliceStack, options: ExtractOptions = {}): Thresholds {
+function extractThresholds(stack: SliceStack, options: ExtractOptions = {}): Thresholds {
   const robust = options.scoring === 'robust';
   const high = options.threshold ?? (robust ? 5 : seedThreshold(options.falseAlarmsPerM2 ?? 1e-4, options.correlationAreaM2 ?? correlationArea(stack, options.metresPerUnit ?? 1)));
   return { high, low: Math.min(high, options.lowThreshold ?? (robust ? 3 : normalIsf(0.01))) };
 }
 
+/**
+ * How far under the growth threshold a slice's scores are worked out (`noiseScores`' floor): far more than
+ * their rounding near the cut (some 1e-9), so every cell that any threshold at or above it takes is scored.
+ */
+const SCORE_MARGIN = 0.5;
+
 /** One slice's part of an extraction: its members (ids counted from 0 within the slice), scores and noise law. */
-export interface SliceMembers {
+interface SliceMembers {
   members: Member[];
   /** Scores of the slice (NaN at nodata). */
   scores: Float32Array;
@@ -137,10 +147,10 @@ export function extractAnomalies(stack: SliceStack, options: ExtractOptions = {}
 }
 
 /**
- * The extraction of a stack from each slice's part (`sliceMembers`, in slice order, made anywhere: the
+ * The extraction of a stack from each slice's part (`sliceMembers`, in slice order; the
  * slices are independent): member ids numbered on across the slices, anomalies linked on first use.
  */
-export function extractionOf(stack: SliceStack, slices: SliceMembers[], options: ExtractOptions, thresholds: Thresholds): Extraction {
+function extractionOf(stack: SliceStack, slices: SliceMembers[], options: ExtractOptions, thresholds: Thresholds): Extraction {
   const members: Member[] = [];
   for (const part of slices) {
     const first = members.length;
@@ -168,7 +178,7 @@ export function extractionOf(stack: SliceStack, slices: SliceMembers[], options:
  * The members of slice `si` of a stack (ids from 0 within the slice), its scores and noise law: the
  * per-slice work of `extractAnomalies`. It reads that slice's values only (and the other slices' depths).
  */
-export function sliceMembers(stack: SliceStack, si: number, options: ExtractOptions, thresholds: Thresholds): SliceMembers {
+function sliceMembers(stack: SliceStack, si: number, options: ExtractOptions, thresholds: Thresholds): SliceMembers {
   const { grid } = stack;
   const { high, low } = thresholds;
   const mpu = options.metresPerUnit ?? 1;
@@ -179,7 +189,8 @@ export function sliceMembers(stack: SliceStack, si: number, options: ExtractOpti
   const members: Member[] = [];
   const slice = stack.slices[si]!;
   const law = robust ? null : fitNoiseLaw(slice.values, grid.nodata);
-  const z = law ? noiseScores(slice.values, grid.nodata, law) : robustScores(slice.values, grid.nodata);
+  // scores well under the growth threshold are only ever compared with it (or with higher ones): not worked out
+  const z = law ? noiseScores(slice.values, grid.nodata, law, undefined, low - SCORE_MARGIN) : robustScores(slice.values, grid.nodata);
   const min = Math.max(minCells, minCellsByArea);
   for (const cells of components(z, grid.width, grid.height, high, low, min)) {
     const energy = law ? noiseMean(law) : Number.NaN;
