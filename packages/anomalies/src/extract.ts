@@ -103,33 +103,11 @@ export function correlationArea(stack: SliceStack, metresPerUnit = 1): number {
   return g && g.radius > 0 && g.radiusAcross > 0 ? Math.max(cell, Math.PI * g.radius * g.radiusAcross * metresPerUnit ** 2) : cell;
 }
 
-/** Seed (`high`) and growth (`low`) thresholds of `extractAnomalies` for a stack and its options. */
-interface Thresholds {
-  high: number;
-  low: number;
-}
-
-/** The thresholds `extractAnomalies` uses on a stack (see `ExtractOptions.threshold`, `lowThreshold`). */
-function extractThresholds(stack: SliceStack, options: ExtractOptions = {}): Thresholds {
-  const robust = options.scoring === 'robust';
-  const high = options.threshold ?? (robust ? 5 : seedThreshold(options.falseAlarmsPerM2 ?? 1e-4, options.correlationAreaM2 ?? correlationArea(stack, options.metresPerUnit ?? 1)));
-  return { high, low: Math.min(high, options.lowThreshold ?? (robust ? 3 : normalIsf(0.01))) };
-}
-
 /**
  * How far under the growth threshold a slice's scores are worked out (`noiseScores`' floor): far more than
  * their rounding near the cut (some 1e-9), so every cell that any threshold at or above it takes is scored.
  */
 const SCORE_MARGIN = 0.5;
-
-/** One slice's part of an extraction: its members (ids counted from 0 within the slice), scores and noise law. */
-interface SliceMembers {
-  members: Member[];
-  /** Scores of the slice (NaN at nodata). */
-  scores: Float32Array;
-  /** The slice's noise law (null where none could be fitted: robust scores stand in). */
-  noise: NoiseLaw | null;
-}
 
 /**
  * Anomalies of a slice stack: per slice, robust z-scores (median / MAD), hysteresis threshold,
@@ -137,26 +115,56 @@ interface SliceMembers {
  * into 3D anomalies with depth range, union outline, shape and (linear) centreline.
  */
 export function extractAnomalies(stack: SliceStack, options: ExtractOptions = {}): Extraction {
-  const thresholds = extractThresholds(stack, options);
-  return extractionOf(
-    stack,
-    stack.slices.map((_, si) => sliceMembers(stack, si, options, thresholds)),
-    options,
-    thresholds,
-  );
-}
-
-/**
- * The extraction of a stack from each slice's part (`sliceMembers`, in slice order; the
- * slices are independent): member ids numbered on across the slices, anomalies linked on first use.
- */
-function extractionOf(stack: SliceStack, slices: SliceMembers[], options: ExtractOptions, thresholds: Thresholds): Extraction {
+  const { grid } = stack;
+  const mpu = options.metresPerUnit ?? 1;
+  const robust = options.scoring === 'robust';
+  const high = options.threshold ?? (robust ? 5 : seedThreshold(options.falseAlarmsPerM2 ?? 1e-4, options.correlationAreaM2 ?? correlationArea(stack, mpu)));
+  const low = Math.min(high, options.lowThreshold ?? (robust ? 3 : normalIsf(0.01)));
+  const minCells = options.minCells ?? 6;
+  const cellAreaM2 = (grid.cellSize * mpu) ** 2;
+  const minCellsByArea = Math.ceil((options.minAreaM2 ?? 0) / cellAreaM2);
   const members: Member[] = [];
-  for (const part of slices) {
-    const first = members.length;
-    for (const m of part.members) {
-      m.id += first;
-      members.push(m);
+  const scores: Float32Array[] = [];
+  const noise: (NoiseLaw | null)[] = [];
+  for (let si = 0; si < stack.slices.length; si++) {
+    const slice = stack.slices[si]!;
+    const law = robust ? null : fitNoiseLaw(slice.values, grid.nodata);
+    noise.push(law);
+    // scores well under the growth threshold are only ever compared with it (or with higher ones): not worked out
+    const z = law ? noiseScores(slice.values, grid.nodata, law, undefined, low - SCORE_MARGIN) : robustScores(slice.values, grid.nodata);
+    scores.push(z);
+    const min = Math.max(minCells, minCellsByArea);
+    for (const cells of components(z, grid.width, grid.height, high, low, min)) {
+      const energy = law ? noiseMean(law) : Number.NaN;
+      const m = makeMember(members.length, si, cells, stack, z, options, energy);
+      const isLayer = options.isLayer;
+      if (!isLayer?.(m.shape, m.bottomM)) {
+        members.push(m);
+        continue;
+      }
+      // utilities crossing in the slice: straight bands, each an object, and no layer left over
+      const crossing = options.bandWidthM ? crossingObjects(cells, m.bottomM, options.bandWidthM(slice.topM, m.bottomM) / (grid.cellSize * mpu), min, z, high, (c) => cellShape(c, grid, options), isLayer, grid.width, options.bandOnLocus && ((c) => options.bandOnLocus!(c, si))) : null;
+      if (crossing) {
+        for (const p of crossing) members.push(makeMember(members.length, si, p, stack, z, options, energy));
+        continue;
+      }
+      // pipes joined to the block by thin necks come out first; the rest stays one layer member
+      // (compact parts stay in it: the ringing below a big pipe falls apart into many, and objects
+      // inside a layer are what stands out from it, objectsInLayer)
+      const radius = options.splitLayers ? (options.splitRadiusM ?? fresnelOfSlice)(m.bottomM, slice.bottomM - slice.topM) / (grid.cellSize * mpu) : 0;
+      const objects = thickParts(cells, grid.width, radius).filter((p) => {
+        if (p.length < min || !hasSeed(p, z, high)) return false;
+        const shape = cellShape(p, grid, options);
+        return shape.kind === 'linear' && !isLayer(shape, m.bottomM);
+      });
+      for (const p of objects) members.push(makeMember(members.length, si, p, stack, z, options, energy));
+      const rest = objects.length === 0 ? cells : without(cells, objects);
+      if (rest.length === 0) continue;
+      const q = rest === cells ? m : makeMember(members.length, si, rest, stack, z, options, energy);
+      q.id = members.length;
+      q.layer = true;
+      members.push(q);
+      for (const part of objectsInLayer(rest, slice.values, grid, high, low, min)) members.push(makeMember(members.length, si, part.cells, stack, part.scores, options, part.noiseEnergy));
     }
   }
   // linked on first use: a caller that cuts members first (screening's crossings) links them itself
@@ -167,64 +175,11 @@ function extractionOf(stack: SliceStack, slices: SliceMembers[], options: Extrac
       anomalies ??= linkedAnomalies(members, stack, options);
       return anomalies;
     },
-    scores: slices.map((p) => p.scores),
-    noise: slices.map((p) => p.noise),
-    threshold: thresholds.high,
-    lowThreshold: thresholds.low,
+    scores,
+    noise,
+    threshold: high,
+    lowThreshold: low,
   };
-}
-
-/**
- * The members of slice `si` of a stack (ids from 0 within the slice), its scores and noise law: the
- * per-slice work of `extractAnomalies`. It reads that slice's values only (and the other slices' depths).
- */
-function sliceMembers(stack: SliceStack, si: number, options: ExtractOptions, thresholds: Thresholds): SliceMembers {
-  const { grid } = stack;
-  const { high, low } = thresholds;
-  const mpu = options.metresPerUnit ?? 1;
-  const robust = options.scoring === 'robust';
-  const minCells = options.minCells ?? 6;
-  const cellAreaM2 = (grid.cellSize * mpu) ** 2;
-  const minCellsByArea = Math.ceil((options.minAreaM2 ?? 0) / cellAreaM2);
-  const members: Member[] = [];
-  const slice = stack.slices[si]!;
-  const law = robust ? null : fitNoiseLaw(slice.values, grid.nodata);
-  // scores well under the growth threshold are only ever compared with it (or with higher ones): not worked out
-  const z = law ? noiseScores(slice.values, grid.nodata, law, undefined, low - SCORE_MARGIN) : robustScores(slice.values, grid.nodata);
-  const min = Math.max(minCells, minCellsByArea);
-  for (const cells of components(z, grid.width, grid.height, high, low, min)) {
-    const energy = law ? noiseMean(law) : Number.NaN;
-    const m = makeMember(members.length, si, cells, stack, z, options, energy);
-    const isLayer = options.isLayer;
-    if (!isLayer?.(m.shape, m.bottomM)) {
-      members.push(m);
-      continue;
-    }
-    // utilities crossing in the slice: straight bands, each an object, and no layer left over
-    const crossing = options.bandWidthM ? crossingObjects(cells, m.bottomM, options.bandWidthM(slice.topM, m.bottomM) / (grid.cellSize * mpu), min, z, high, (c) => cellShape(c, grid, options), isLayer, grid.width, options.bandOnLocus && ((c) => options.bandOnLocus!(c, si))) : null;
-    if (crossing) {
-      for (const p of crossing) members.push(makeMember(members.length, si, p, stack, z, options, energy));
-      continue;
-    }
-    // pipes joined to the block by thin necks come out first; the rest stays one layer member
-    // (compact parts stay in it: the ringing below a big pipe falls apart into many, and objects
-    // inside a layer are what stands out from it, objectsInLayer)
-    const radius = options.splitLayers ? (options.splitRadiusM ?? fresnelOfSlice)(m.bottomM, slice.bottomM - slice.topM) / (grid.cellSize * mpu) : 0;
-    const objects = thickParts(cells, grid.width, radius).filter((p) => {
-      if (p.length < min || !hasSeed(p, z, high)) return false;
-      const shape = cellShape(p, grid, options);
-      return shape.kind === 'linear' && !isLayer(shape, m.bottomM);
-    });
-    for (const p of objects) members.push(makeMember(members.length, si, p, stack, z, options, energy));
-    const rest = objects.length === 0 ? cells : without(cells, objects);
-    if (rest.length === 0) continue;
-    const q = rest === cells ? m : makeMember(members.length, si, rest, stack, z, options, energy);
-    q.id = members.length;
-    q.layer = true;
-    members.push(q);
-    for (const part of objectsInLayer(rest, slice.values, grid, high, low, min)) members.push(makeMember(members.length, si, part.cells, stack, part.scores, options, part.noiseEnergy));
-  }
-  return { members, scores: z, noise: law };
 }
 
 /** Members linked across neighbouring slices into 3D anomalies, shallowest first, then west to east, numbered in that order. */
@@ -232,6 +187,7 @@ function linkedAnomalies(members: Member[], stack: SliceStack, options: ExtractO
   const { grid } = stack;
   const groups = linkMembers(members, grid.width * grid.height, grid.cellSize, options);
   const anomalies = groups.map((g, i) => buildAnomaly(`A${String(i + 1).padStart(4, '0')}`, g.map((id) => members[id]!), stack, options));
+  // stable order: shallowest first, then west to east
   anomalies.sort((a, b) => a.depthTopM - b.depthTopM || a.members[0]!.x - b.members[0]!.x);
   anomalies.forEach((a, i) => (a.id = `A${String(i + 1).padStart(4, '0')}`));
   return anomalies;
