@@ -72,8 +72,13 @@ export interface ExtractOptions extends ShapeOptions, LinkOptions {
 
 export interface Extraction {
   members: Member[];
-  anomalies: Anomaly3D[];
-  /** Scores of each slice (NaN at nodata), same order as `stack.slices`. */
+  /** The members linked into 3D anomalies (made on first use). */
+  readonly anomalies: Anomaly3D[];
+  /**
+   * Scores of each slice (NaN at nodata), same order as `stack.slices`. Under a noise law, scores more
+   * than 0.5 under `lowThreshold` are not worked out: such cells read the score of the value cut (still
+   * that far under it), so compare them only with thresholds at or above `lowThreshold`.
+   */
   scores: Float32Array[];
   /** Each slice's noise law (null where none could be fitted: robust scores stand in). */
   noise: (NoiseLaw | null)[];
@@ -99,6 +104,12 @@ export function correlationArea(stack: SliceStack, metresPerUnit = 1): number {
 }
 
 /**
+ * How far under the growth threshold a slice's scores are worked out (`noiseScores`' floor): far more than
+ * their rounding near the cut (some 1e-9), so every cell that any threshold at or above it takes is scored.
+ */
+const SCORE_MARGIN = 0.5;
+
+/**
  * Anomalies of a slice stack: per slice, robust z-scores (median / MAD), hysteresis threshold,
  * 8-connected components of at least `minCells`; then members linked across neighbouring slices
  * into 3D anomalies with depth range, union outline, shape and (linear) centreline.
@@ -119,7 +130,8 @@ export function extractAnomalies(stack: SliceStack, options: ExtractOptions = {}
     const slice = stack.slices[si]!;
     const law = robust ? null : fitNoiseLaw(slice.values, grid.nodata);
     noise.push(law);
-    const z = law ? noiseScores(slice.values, grid.nodata, law) : robustScores(slice.values, grid.nodata);
+    // scores well under the growth threshold are only ever compared with it (or with higher ones): not worked out
+    const z = law ? noiseScores(slice.values, grid.nodata, law, undefined, low - SCORE_MARGIN) : robustScores(slice.values, grid.nodata);
     scores.push(z);
     const min = Math.max(minCells, minCellsByArea);
     for (const cells of components(z, grid.width, grid.height, high, low, min)) {
@@ -155,12 +167,30 @@ export function extractAnomalies(stack: SliceStack, options: ExtractOptions = {}
       for (const part of objectsInLayer(rest, slice.values, grid, high, low, min)) members.push(makeMember(members.length, si, part.cells, stack, part.scores, options, part.noiseEnergy));
     }
   }
+  // linked on first use: a caller that cuts members first (screening's crossings) links them itself
+  let anomalies: Anomaly3D[] | undefined;
+  return {
+    members,
+    get anomalies(): Anomaly3D[] {
+      anomalies ??= linkedAnomalies(members, stack, options);
+      return anomalies;
+    },
+    scores,
+    noise,
+    threshold: high,
+    lowThreshold: low,
+  };
+}
+
+/** Members linked across neighbouring slices into 3D anomalies, shallowest first, then west to east, numbered in that order. */
+function linkedAnomalies(members: Member[], stack: SliceStack, options: ExtractOptions): Anomaly3D[] {
+  const { grid } = stack;
   const groups = linkMembers(members, grid.width * grid.height, grid.cellSize, options);
   const anomalies = groups.map((g, i) => buildAnomaly(`A${String(i + 1).padStart(4, '0')}`, g.map((id) => members[id]!), stack, options));
   // stable order: shallowest first, then west to east
   anomalies.sort((a, b) => a.depthTopM - b.depthTopM || a.members[0]!.x - b.members[0]!.x);
   anomalies.forEach((a, i) => (a.id = `A${String(i + 1).padStart(4, '0')}`));
-  return { members, anomalies, scores, noise, threshold: high, lowThreshold: low };
+  return anomalies;
 }
 
 /**
@@ -182,19 +212,17 @@ function crossingObjects(
   onLocus?: (cells: Int32Array) => boolean,
 ): Int32Array[] | null {
   if (!(bandCells >= 1) || !Number.isFinite(bandCells)) return null;
-  const found = straightBands(cells, width, bandCells, minCells);
-  // the bands up to the first that is no object; that one and those after it go back to the rest
-  const k = found.bands.findIndex((b) => {
-    if (!hasSeed(b, z, high)) return true;
+  // the bands up to the first that is no object; that one and those it would have been followed by stay in the rest
+  const isObject = (b: Int32Array) => {
+    if (!hasSeed(b, z, high)) return false;
     const s = shapeOf(b);
-    return s.kind !== 'linear' || isLayer(s, depthM);
-  });
-  const objects = k < 0 ? found.bands : found.bands.slice(0, k);
+    return s.kind === 'linear' && !isLayer(s, depthM);
+  };
+  const { bands: objects, rest } = straightBands(cells, width, bandCells, minCells, 4, isObject);
   if (objects.length < 2) return null;
   // bands along an air-wave locus (the two sides of a row of posts, a wall's band) are no objects to
   // split off: such a component stays as it was, for the screening
   if (onLocus && objects.some((b) => onLocus(b))) return null;
-  const rest = k < 0 ? found.rest : Int32Array.from([...found.rest, ...found.bands.slice(k).flatMap((b) => Array.from(b))]).sort();
   if (rest.length >= minCells && isLayer(shapeOf(rest), depthM)) return null;
   return [...objects, ...connectedParts(rest, width).filter((p) => p.length >= minCells && hasSeed(p, z, high))];
 }

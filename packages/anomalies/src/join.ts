@@ -96,17 +96,18 @@ export function joinAlignedPieces(
     return a;
   };
   const groupOf = new Map<number, number[]>(Array.from({ length: n }, (_, i) => [i, [i]]));
+  // each group's cells (ascending, each once) and deepest bottom, kept with it: a trial union merges two lists
+  const groupCells = new Map<number, Int32Array>();
+  const groupBottom = new Map<number, number>();
+  const cellsOf = (r: number) => groupCells.get(r) ?? pieces[r]!.cells;
+  const bottomOf = (r: number) => groupBottom.get(r) ?? Math.max(0, pieces[r]!.depthBottomM);
   for (const [, i, j] of pairs) {
     const ri = find(i), rj = find(j);
     if (ri === rj) continue;
     const members = [...groupOf.get(ri)!, ...groupOf.get(rj)!];
-    const cells = new Set<number>();
-    let bottom = 0;
-    for (const m of members) {
-      for (const k of pieces[m]!.cells) cells.add(k);
-      bottom = Math.max(bottom, pieces[m]!.depthBottomM);
-    }
-    const shape = cellShape(Int32Array.from(cells).sort(), grid, options);
+    const cells = mergeAscending(cellsOf(ri), cellsOf(rj));
+    const bottom = Math.max(bottomOf(ri), bottomOf(rj));
+    const shape = cellShape(cells, grid, options);
     if (shape.kind !== 'linear' || shape.widthM > maxWidthM(bottom)) continue;
     if (members.some((m) => pieces[m]!.shape.kind === 'linear' && angleDiff(pieces[m]!.shape.directionDeg, shape.directionDeg) > maxAngle)) continue;
     const root = Math.min(ri, rj);
@@ -115,6 +116,8 @@ export function joinAlignedPieces(
     groupOf.delete(ri);
     groupOf.delete(rj);
     groupOf.set(root, members.sort((p, q) => p - q));
+    groupCells.set(root, cells);
+    groupBottom.set(root, bottom);
   }
   // A group of compact pieces drawn out along the lines and nothing linear is a utility only when seen
   // on three lines at least: two such blobs side by side are as likely two stones.
@@ -125,6 +128,21 @@ export function joinAlignedPieces(
     else out.push(g);
   }
   return out.sort((p, q) => p[0]! - q[0]!);
+}
+
+/** The union of two ascending lists of cells, ascending, each cell once. */
+function mergeAscending(a: Int32Array, b: Int32Array): Int32Array {
+  const out = new Int32Array(a.length + b.length);
+  let i = 0, j = 0, n = 0;
+  while (i < a.length && j < b.length) {
+    const x = a[i]!, y = b[j]!;
+    if (x < y) (out[n++] = x), i++;
+    else if (y < x) (out[n++] = y), j++;
+    else (out[n++] = x), i++, j++;
+  }
+  while (i < a.length) out[n++] = a[i++]!;
+  while (j < b.length) out[n++] = b[j++]!;
+  return out.slice(0, n);
 }
 
 /**

@@ -180,21 +180,54 @@ export const noiseMean = (law: NoiseLaw): number => law.shape * law.scale;
  * probability as the cell's value under the law (z = Phi^-1(1 - Q(shape, v / scale))), so a score
  * means the same false-alarm probability on every slice whatever its law. Capped at 38 (p ~ 1e-316).
  * Nodata and non-finite cells get NaN.
+ *
+ * With `floor`, scores below it are not worked out: a cell whose value lies below the value that scores
+ * `floor` (`scoreCut`) gets the score of that cut instead, which is under `floor` as its own is (the
+ * score grows with the value). A caller that only compares scores below `floor` with thresholds at or
+ * above it (extraction's hysteresis) decides as with every score worked out. @default no floor
  */
-export function noiseScores(values: Float32Array, nodata: number, law: NoiseLaw, out?: Float32Array): Float32Array {
+export function noiseScores(values: Float32Array, nodata: number, law: NoiseLaw, out?: Float32Array, floor = -Infinity): Float32Array {
   const res = out ?? new Float32Array(values.length);
   const { shape, scale } = law;
   const lg = lnGamma(shape);
+  const cut = scoreCut(shape, lg, floor);
   for (let i = 0; i < values.length; i++) {
     const v = values[i]!;
     if (v === nodata || !Number.isFinite(v)) {
       res[i] = Number.NaN;
       continue;
     }
-    const q = gammaQOf(shape, lg, v / scale);
-    res[i] = q > 0 ? Math.min(38, normalIsf(q)) : 38;
+    const x = v / scale;
+    res[i] = x < cut.x ? cut.z : scoreOf(shape, lg, x);
   }
   return res;
+}
+
+/** The score of x under a Gamma(a, 1) law with ln Gamma(a) = lg (`noiseScores`). */
+function scoreOf(a: number, lg: number, x: number): number {
+  const q = gammaQOf(a, lg, x);
+  return q > 0 ? Math.min(38, normalIsf(q)) : 38;
+}
+
+/**
+ * A value x (of a Gamma(a, 1) variable) that scores below `floor`, and its score z: within 1e-9 of the
+ * largest such, by bisection on log x over (e^-60, e^hi) with the scores as `noiseScores` works them
+ * out. The scores grow with x (up to rounding, some 1e-9 where normalIsf changes branch): every value
+ * below x scores below `floor`. x = -Infinity where even e^-60 does not (no cut).
+ */
+function scoreCut(a: number, lg: number, floor: number): { x: number; z: number } {
+  let lo = -60, hi = Math.log(Math.max(10, 10 * a + 200));
+  if (!(scoreOf(a, lg, Math.exp(lo)) < floor)) return { x: -Infinity, z: Number.NaN };
+  if (scoreOf(a, lg, Math.exp(hi)) < floor) lo = hi;
+  else {
+    for (let i = 0; i < 200 && hi - lo > 1e-9; i++) {
+      const m = 0.5 * (lo + hi);
+      if (scoreOf(a, lg, Math.exp(m)) < floor) lo = m;
+      else hi = m;
+    }
+  }
+  const x = Math.exp(lo);
+  return { x, z: scoreOf(a, lg, x) };
 }
 
 /** Peak strength of a value over the noise, dB of energy: 10 log10(v / mean noise energy). */

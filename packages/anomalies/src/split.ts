@@ -118,8 +118,12 @@ export function squaredDistance(mask: Uint8Array, w: number, h: number, target: 
  * repeated on what is left, up to `maxBands` bands of at least `minCells` cells. Two utilities crossing
  * in one slice make an X that is as wide as it is long, sized like a layer by its second moments; as
  * bands it is two objects. Returns the bands (cells ascending) and the cells in none of them.
+ *
+ * With `accept`, the search stops at the first band it refuses: that band's cells stay in `rest`, and
+ * the bands that would have followed it are never searched for (a caller that keeps only the bands
+ * before the first refused one gets the same bands and the same rest, ascending).
  */
-export function straightBands(cells: Int32Array, width: number, bandCells: number, minCells: number, maxBands = 4): { bands: Int32Array[]; rest: Int32Array } {
+export function straightBands(cells: Int32Array, width: number, bandCells: number, minCells: number, maxBands = 4, accept?: (band: Int32Array) => boolean): { bands: Int32Array[]; rest: Int32Array } {
   const w = Math.max(1, Math.round(bandCells));
   const n0 = cells.length;
   // the cells still left: their indices, columns and rows in the first `n` places
@@ -130,7 +134,7 @@ export function straightBands(cells: Int32Array, width: number, bandCells: numbe
     col[i] = left[i]! % width;
     row[i] = (left[i]! / width) | 0;
   }
-  const ends: RowEnds = { row: new Float64Array(n0), first: new Float64Array(n0), last: new Float64Array(n0), count: 0 };
+  const ends: RowEnds = { row: new Float64Array(n0), first: new Float64Array(n0), last: new Float64Array(n0), cells: new Int32Array(n0), count: 0 };
   let n = n0;
   const bands: Int32Array[] = [];
   while (bands.length < maxBands && n >= minCells) {
@@ -139,29 +143,54 @@ export function straightBands(cells: Int32Array, width: number, bandCells: numbe
     // the band's cells out, the others moved down (kept in ascending order)
     const band = new Int32Array(best.count);
     let nb = 0;
-    let m = 0;
     for (let i = 0; i < n; i++) {
       const r = col[i]! * best.c + row[i]! * best.s;
       if (r >= best.lo && r < best.lo + w + 1e-9) band[nb++] = left[i]!;
-      else {
+    }
+    const found = band.subarray(0, nb).slice();
+    if (accept && !accept(found)) break;
+    let m = 0;
+    for (let i = 0; i < n; i++) {
+      const r = col[i]! * best.c + row[i]! * best.s;
+      if (!(r >= best.lo && r < best.lo + w + 1e-9)) {
         left[m] = left[i]!;
         col[m] = col[i]!;
         row[m] = row[i]!;
         m++;
       }
     }
-    bands.push(band.subarray(0, nb).slice());
+    bands.push(found);
     n = m;
   }
   return { bands, rest: left.slice(0, n) };
 }
 
-/** Each row's first and last column among a set of cells (`count` rows). */
+/** Each row's first and last column and its number of cells among a set of cells (`count` rows). */
 interface RowEnds {
   row: Float64Array;
   first: Float64Array;
   last: Float64Array;
+  cells: Int32Array;
   count: number;
+}
+
+/**
+ * Below this |cos| (|sin|) of a direction the cells of one row (column) are not counted as spaced
+ * along it (`fullestBand`'s bound): their offsets are some 1e-11 apart at worst from rounding, far
+ * less than their spacing above it.
+ */
+const MIN_STEP = 1e-3;
+
+/** Cells of the fullest `w`-bin window a row (column) may hold when its cells' offsets step by `step`: at most ceil(w / step) + 1, with room for rounding. */
+function perLine(w: number, step: number): number {
+  return step < MIN_STEP ? Infinity : Math.floor((w / step) * (1 + 1e-6)) + 2;
+}
+
+/** Sum over counts of min(count, k). */
+function cappedSum(counts: Int32Array, n: number, k: number): number {
+  let t = 0;
+  for (let i = 0; i < n; i++) t += Math.min(counts[i]!, k);
+  return t;
 }
 
 /**
@@ -180,11 +209,17 @@ function fullestBand(col: Float64Array, row: Float64Array, n: number, w: number,
     // ascending cells: a row is one run
     if (i === 0 || row[i] !== row[i - 1]) {
       ends.row[nRows] = row[i]!;
+      ends.cells[nRows] = 0;
       ends.first[nRows++] = col[i]!;
     }
     ends.last[nRows - 1] = col[i]!;
+    ends.cells[nRows - 1]!++;
   }
   ends.count = nRows;
+  // cells per column, for the bound below
+  const nCols = c1 - c0 + 1;
+  const colCells = new Int32Array(nCols);
+  for (let i = 0; i < n; i++) colCells[col[i]! - c0]!++;
   const span = Math.hypot(c1 - c0, w1 - w0);
   // directions about one cell apart at the far end
   const nA = Math.min(720, Math.max(90, Math.ceil(Math.PI * span)));
@@ -197,6 +232,14 @@ function fullestBand(col: Float64Array, row: Float64Array, n: number, w: number,
   for (let a = 0; a < nA; a++) {
     const th = (Math.PI * a) / nA;
     const c = Math.cos(th), s = Math.sin(th);
+    // A direction whose fullest window cannot beat the best so far is skipped (it would change nothing:
+    // only a strictly fuller window is taken). Distinct columns of one row have offsets at least |c|
+    // apart, distinct rows of one column |s| apart: a window of w bins holds at most perLine of each.
+    if (bestCount > 0) {
+      let bound = cappedSum(ends.cells, nRows, perLine(w, Math.abs(c)));
+      if (bound > bestCount) bound = Math.min(bound, cappedSum(colCells, nCols, perLine(w, Math.abs(s))));
+      if (bound <= bestCount) continue;
+    }
     // The offset col c + row s, rounded, never decreases with col (c >= 0) or never increases (c < 0)
     // along a row: each row's least and greatest offsets are at its ends.
     const lo = c >= 0 ? ends.first : ends.last, hi = c >= 0 ? ends.last : ends.first;

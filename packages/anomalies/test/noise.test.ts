@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { extractAnomalies, fitNoiseLaw, gammaQ, gammaQInv, noiseMean, noiseScores, normalIsf, seedThreshold } from '../src';
+import { components, extractAnomalies, fitNoiseLaw, gammaQ, gammaQInv, noiseMean, noiseScores, normalIsf, seedThreshold } from '../src';
 import { grid, py, rng } from './helpers';
 
 /** Gamma(shape k, integer) sample as a sum of k exponentials times `scale`. */
@@ -52,6 +52,42 @@ print(json.dumps([[float(gammaincc(a,x)) for a,x in d['ax']],[float(gammainccinv
       const frac = (t: number) => z.filter((s) => s >= t).length / z.length;
       expect(Math.abs(frac(2) / 0.02275 - 1)).toBeLessThan(0.08);
       expect(Math.abs(frac(3) / 0.00135 - 1)).toBeLessThan(0.2);
+    }
+  });
+
+  it('a floor leaves every score at or above it as it was and every other under it', () => {
+    // the scores without a floor are the reference (checked against scipy above); the floor only skips work
+    for (const [k, floor] of [[1, 1.8], [6, 1.826], [30, 0], [2, -1]] as const) {
+      const v = gammaSample(50000, k, 3, 60 + k);
+      v[7] = -9999;
+      v[11] = 0;
+      const law = fitNoiseLaw(v, -9999)!;
+      const full = noiseScores(v, -9999, law);
+      const cut = noiseScores(v, -9999, law, undefined, floor);
+      let skipped = 0;
+      for (let i = 0; i < v.length; i++) {
+        if (Number.isNaN(full[i]!)) expect(cut[i]).toBeNaN();
+        // (scores are Float32: within its rounding of the floor either may hold)
+        else if (full[i]! >= floor + 1e-6) expect(cut[i]).toBe(full[i]);
+        else {
+          expect(cut[i]!).toBeLessThan(floor + 1e-6);
+          if (cut[i] !== full[i]) skipped++;
+        }
+      }
+      // most noise cells lie under the floor: their scores were not worked out
+      if (floor > 1) expect(skipped).toBeGreaterThan(0.8 * v.length);
+    }
+  });
+
+  it('hysteresis on scores floored half a unit under the growth threshold finds the same components', () => {
+    const low = normalIsf(0.01), high = normalIsf(1e-3);
+    for (const k of [1, 4]) {
+      const v = gammaSample(300 * 300, k, 2, 80 + k);
+      const law = fitNoiseLaw(v, -9999)!;
+      const whole = components(noiseScores(v, -9999, law), 300, 300, high, low, 2);
+      const floored = components(noiseScores(v, -9999, law, undefined, low - 0.5), 300, 300, high, low, 2);
+      expect(whole.length).toBeGreaterThan(5);
+      expect(floored.map((c) => Array.from(c))).toEqual(whole.map((c) => Array.from(c)));
     }
   });
 

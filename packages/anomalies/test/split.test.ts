@@ -160,4 +160,35 @@ describe('straightBands', () => {
     // most crossings come apart into two bands or more
     expect(found).toBeGreaterThan(50);
   });
+
+  it('finds the same bands on thick elongated blobs as wide as the band (where most directions are passed over)', () => {
+    const r = rng(11);
+    const width = 300;
+    for (let trial = 0; trial < 12; trial++) {
+      const set = new Set<number>();
+      const th = r() * Math.PI, half = 6 + r() * 8, len = 40 + r() * 60, cx = 150, cy = 150;
+      for (let y = 0; y < 300; y++)
+        for (let x = 0; x < width; x++) {
+          const along = (x - cx) * Math.cos(th) + (y - cy) * Math.sin(th);
+          const across = -(x - cx) * Math.sin(th) + (y - cy) * Math.cos(th);
+          // a ragged edge, holes, and a side branch on some
+          if (Math.abs(along) <= len && Math.abs(across) <= half + 2 * Math.sin(along / 7) && r() > 0.05) set.add(y * width + x);
+          if (trial % 3 === 0 && Math.abs(x - cx) <= 4 && y > cy && y < cy + 50) set.add(y * width + x);
+        }
+      const cells = Int32Array.from(set).sort();
+      const bandCells = 2 * half + r() * 10;
+      const fast = straightBands(cells, width, bandCells, 6);
+      const plain = plainStraightBands(cells, width, bandCells, 6);
+      expect(fast.bands.map((b) => Array.from(b))).toEqual(plain.bands.map((b) => Array.from(b)));
+      expect(Array.from(fast.rest)).toEqual(Array.from(plain.rest));
+      // stopped at the first band refused: the bands before it, and every other cell left, ascending
+      const k = 1 + (trial % 2);
+      let seen = 0;
+      const stopped = straightBands(cells, width, bandCells, 6, 4, () => seen++ < k);
+      const kept = plain.bands.slice(0, k);
+      expect(stopped.bands.map((b) => Array.from(b))).toEqual(kept.map((b) => Array.from(b)));
+      const taken = new Set(kept.flatMap((b) => Array.from(b)));
+      expect(Array.from(stopped.rest)).toEqual(Array.from(cells).filter((c) => !taken.has(c)));
+    }
+  });
 });

@@ -45,12 +45,24 @@ export function locusResidual(refl: Reflector, field: Float32Array, radiusM: num
     }
     rhos[i >> 2] = rho;
   }
+  // An element can only take over when its distance lies within |best| of its locus radius: the
+  // squared distance rules most elements out before Math.hypot (slow) is worked out for the others,
+  // with a margin far above the rounding of either, so the same elements win as when every one is.
+  const mayBeat = (d2: number, rho: number, best: number) => {
+    const b = Math.abs(best), slack = 1e-9 * (rho + b);
+    const far = (rho + b + slack) / mpu;
+    if (d2 > far * far * (1 + 1e-9)) return false;
+    const near = (rho - b - slack) / mpu;
+    return !(near > 0 && d2 < near * near * (1 - 1e-9));
+  };
   return (c) => {
     const row = (c / g.width) | 0;
     const x = cellCentreX(g, c - row * g.width), y = cellCentreY(g, row);
     let best = Infinity;
     for (let k = 0; k < pts.length; k += 2) {
-      const r = Math.hypot(x - pts[k]!, y - pts[k + 1]!) * mpu - radiusM;
+      const ex = x - pts[k]!, ey = y - pts[k + 1]!;
+      if (!mayBeat(ex * ex + ey * ey, radiusM, best)) continue;
+      const r = Math.hypot(ex, ey) * mpu - radiusM;
       if (Math.abs(r) < Math.abs(best)) best = r;
     }
     for (let i = 0; i < seg.length; i += 4) {
@@ -58,7 +70,10 @@ export function locusResidual(refl: Reflector, field: Float32Array, radiusM: num
       const l2 = dx * dx + dy * dy;
       let t = l2 > 0 ? ((x - ax) * dx + (y - ay) * dy) / l2 : 0;
       t = t < 0 ? 0 : t > 1 ? 1 : t;
-      const r = Math.hypot(x - ax - t * dx, y - ay - t * dy) * mpu - rhos[i >> 2]!;
+      const ex = x - ax - t * dx, ey = y - ay - t * dy;
+      const rho = rhos[i >> 2]!;
+      if (!mayBeat(ex * ex + ey * ey, rho, best)) continue;
+      const r = Math.hypot(ex, ey) * mpu - rho;
       if (Math.abs(r) < Math.abs(best)) best = r;
     }
     return best;

@@ -177,12 +177,18 @@ export function nearestOtherLine(
   while (pending.length > 0) {
     const rows = Math.floor((maxY - minY) / r) + 3;
     const key = (cx: number, cy: number) => cx * rows + cy;
+    // each query listed in its own cell and the eight round it: a trace looks in its own cell only
     const hash = new Map<number, number[]>();
     for (const q of pending) {
-      const k = key(Math.floor((qx[q]! - minX) / r), Math.floor((qy[q]! - minY) / r));
-      const list = hash.get(k);
-      if (list) list.push(q);
-      else hash.set(k, [q]);
+      const qcx = Math.floor((qx[q]! - minX) / r), qcy = Math.floor((qy[q]! - minY) / r);
+      for (let ax = qcx - 1; ax <= qcx + 1; ax++) {
+        for (let ay = qcy - 1; ay <= qcy + 1; ay++) {
+          const k = key(ax, ay);
+          const list = hash.get(k);
+          if (list) list.push(q);
+          else hash.set(k, [q]);
+        }
+      }
     }
     for (let l = 0; l < nLines; l++) {
       const c = source.line(l);
@@ -190,18 +196,12 @@ export function nearestOtherLine(
       for (let i = 0; i < c.length; i += step) {
         const x = c[i]!;
         const y = c[i + 1]!;
-        const cx = Math.floor((x - minX) / r);
-        const cy = Math.floor((y - minY) / r);
-        for (let ax = cx - 1; ax <= cx + 1; ax++) {
-          for (let ay = cy - 1; ay <= cy + 1; ay++) {
-            const list = hash.get(key(ax, ay));
-            if (!list) continue;
-            for (const q of list) {
-              if (qLine[q] === l || (options.group && options.group[l] !== options.group[qLine[q]!])) continue;
-              const d = Math.hypot(x - qx[q]!, y - qy[q]!);
-              if (d <= r && d < best[q]!) best[q] = d;
-            }
-          }
+        const list = hash.get(key(Math.floor((x - minX) / r), Math.floor((y - minY) / r)));
+        if (!list) continue;
+        for (const q of list) {
+          if (qLine[q] === l || (options.group && options.group[l] !== options.group[qLine[q]!])) continue;
+          const d = Math.hypot(x - qx[q]!, y - qy[q]!);
+          if (d <= r && d < best[q]!) best[q] = d;
         }
       }
     }
