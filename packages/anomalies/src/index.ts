@@ -3,7 +3,7 @@ export { robustStats, robustScores, type RobustStats } from './normalise';
 export { components } from './components';
 export { traceOutline, ringArea, pointInRing, outlineArea } from './outline';
 export { cellShape, moments, centreline, type ShapeOptions } from './shape';
-export { linkMembers, type LinkOptions } from './link';
+export { linkMembers, stationaryChains, type ChainOptions, type LinkOptions } from './link';
 export { extractAnomalies, buildAnomaly, sharedCells, correlationArea, makeMember, memberOf, seedThreshold, type ExtractOptions, type Extraction } from './extract';
 export { fitNoiseLaw, gammaQ, gammaQInv, lnGamma, noiseMean, noiseScores, normalIsf, strengthDb, type NoiseLaw } from './noise';
 export { classifyAnomalies, fresnelRadiusM, isExtensive, isZoneResidue, isPointPiece, isPointSized, pointDepthExtentM, pointFootprintM, pulseDepthM, sameSliceWidthM, maxStructureExtentM, maxUtilityWidthM, oneLineFootprintM, oneLineWidthM, type AnomalyClass, type ClassifyContext, type ClassifyOptions, type Classified } from './classify';

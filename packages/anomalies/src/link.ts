@@ -1,3 +1,4 @@
+import { sharedCells } from './extract';
 import type { Member } from './types';
 
 export interface LinkOptions {
@@ -43,18 +44,7 @@ export function linkMembers(members: Member[], gridCells: number, cellSize: numb
   const crossAngle = options.crossingAngleDeg ?? 30;
   const crossOverlap = options.crossingOverlap ?? 0.5;
   const minOverlapLarger = options.minOverlapOfLarger ?? 0.1;
-  const parent = Int32Array.from(members.keys());
-  const find = (a: number): number => {
-    while (parent[a] !== a) {
-      parent[a] = parent[parent[a]!]!;
-      a = parent[a]!;
-    }
-    return a;
-  };
-  const union = (a: number, b: number) => {
-    const ra = find(a), rb = find(b);
-    if (ra !== rb) parent[Math.max(ra, rb)] = Math.min(ra, rb);
-  };
+  const { union, groups } = disjointSets(members.length);
   const bySlice = new Map<number, Member[]>();
   for (const m of members) {
     const l = bySlice.get(m.slice);
@@ -96,12 +86,76 @@ export function linkMembers(members: Member[], gridCells: number, cellSize: numb
     }
     for (const m of here) for (const c of m.cells) label[c] = -1;
   }
-  const groups = new Map<number, number[]>();
-  for (const m of members) {
-    const r = find(m.id);
-    const l = groups.get(r);
-    if (l) l.push(m.id);
-    else groups.set(r, [m.id]);
-  }
-  return [...groups.values()].map((g) => g.sort((a, b) => members[a]!.slice - members[b]!.slice || a - b));
+  return groups(members.map((m) => m.id)).map((g) => g.sort((a, b) => members[a]!.slice - members[b]!.slice || a - b));
+}
+
+/** Disjoint sets of the items 0..n-1 (union-find; a union keeps the smaller root), and the sets in the order `order` meets their items. */
+function disjointSets(n: number): { union: (a: number, b: number) => void; groups: (order: Iterable<number>) => number[][] } {
+  const parent = Int32Array.from({ length: n }, (_, i) => i);
+  const find = (a: number): number => {
+    while (parent[a] !== a) a = parent[a] = parent[parent[a]!]!;
+    return a;
+  };
+  return {
+    union: (a, b) => {
+      const ra = find(a), rb = find(b);
+      if (ra !== rb) parent[Math.max(ra, rb)] = Math.min(ra, rb);
+    },
+    groups: (order) => {
+      const out = new Map<number, number[]>();
+      for (const i of order) {
+        const r = find(i);
+        const l = out.get(r);
+        if (l) l.push(i);
+        else out.set(r, [i]);
+      }
+      return [...out.values()];
+    },
+  };
+}
+
+export interface ChainOptions {
+  /** Shared cells a link needs, as a fraction of the smaller member. @default 0.7 */
+  minOverlap?: number;
+  /**
+   * Largest angle between two linear members of one chain, degrees; less for long thin members, whose
+   * shapes fix their directions better: the larger of their atan(width / length) (`linkMembers`' crossing
+   * rule). @default 20 (`joinAlignedPieces`' maxAngleDeg; common practice, no source)
+   */
+  maxAngleDeg?: number;
+  /** Slices a chain may skip. @default 0 (only adjacent slices link: an object keeps its depth from slice to slice) */
+  maxGap?: number;
+}
+
+/**
+ * Chains of members that keep their plan position from slice to slice: two members of neighbouring
+ * slices link when most of the smaller lies inside the other (`minOverlap`), they are of one kind (a
+ * small blob under a pipe's long member is something else: a ghost's piece, a stone) and, both linear,
+ * they run the same way within what their shapes fix (`maxAngleDeg`: a pipe's piece inside a wider band
+ * that crosses it at a small angle does not chain with it). An object (a pipe, a footing) keeps its
+ * position over depth; the bands in which a dipping layer crosses successive slices move down-dip by the
+ * slice thickness over the tangent of the dip, so a band and the next share about one pulse over the
+ * slice thickness plus one pulse (a half for slices one pulse thick), and a band crossing a pipe runs at
+ * an angle to it. `linkMembers` links on a fifth of the smaller: through a layer that crosses their
+ * depths, two objects and the layer come out as one anomaly. Returns groups of indices into `members`,
+ * by slice.
+ */
+export function stationaryChains(members: readonly Member[], options: ChainOptions = {}): number[][] {
+  const minOverlap = options.minOverlap ?? 0.7;
+  const maxAngle = options.maxAngleDeg ?? 20;
+  const maxGap = options.maxGap ?? 0;
+  const n = members.length;
+  const { union, groups } = disjointSets(n);
+  for (let i = 0; i < n; i++)
+    for (let j = 0; j < n; j++) {
+      const a = members[i]!, b = members[j]!;
+      const gap = b.slice - a.slice;
+      if (gap < 1 || gap > maxGap + 1) continue;
+      if (a.shape.kind !== b.shape.kind) continue;
+      if (a.shape.kind === 'linear' && angleDiff(a.shape.directionDeg, b.shape.directionDeg) > Math.min(maxAngle, Math.max(spreadDeg(a), spreadDeg(b)))) continue;
+      const shared = sharedCells(a.cells, b.cells);
+      if (shared < minOverlap * Math.min(a.cells.length, b.cells.length)) continue;
+      union(i, j);
+    }
+  return groups(members.keys()).map((g) => g.sort((p, q) => members[p]!.slice - members[q]!.slice || p - q));
 }

@@ -13,6 +13,7 @@ import {
   traceOutline,
   linkMembers,
   robustScores,
+  stationaryChains,
   type Anomaly3D,
   type ClassifyContext,
   type ClassifyOptions,
@@ -101,6 +102,8 @@ export interface ScreenOptions extends ExtractOptions, ToleranceOptions {
   joinPieces?: boolean;
   /** Take back above-ground pieces lying in a buried object's footprint at its depth (`piecesOfBuried`). @default true */
   piecesOfBuried?: boolean;
+  /** Screen the objects inside a laterally extensive subsurface anomaly on their own (`objectsOfExtensive`). @default true */
+  splitExtensive?: boolean;
 }
 
 export interface ScreenSummary {
@@ -261,6 +264,16 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
           for (const g of groups) screenOne(build(g), depth + 1, c);
           return;
         }
+      }
+    }
+    // a subsurface anomaly too large for any object (a layer and what it joined): the objects inside it
+    // are screened on their own (the stack's own anomalies; strips found before background removal lie
+    // along one line each)
+    if (depth < 3 && c === ctx && s.verdict.origin !== 'above-ground' && options.splitExtensive !== false) {
+      const parts = objectsOfExtensive(a, isLayer, build, (ms) => relink(ms, grid.width * grid.height, grid.cellSize, options));
+      if (parts.length > 1) {
+        for (const part of parts) screenOne(part, depth + 1, c);
+        return;
       }
     }
     screened.push(strip(s));
@@ -432,6 +445,42 @@ function joinPieces(screened: ScreenedAnomaly[], fromBefore: Set<Anomaly3D>, ctx
 
 function strip(s: ScreenedAnomaly & { mo?: MoveOutResult }): ScreenedAnomaly {
   return { anomaly: s.anomaly, evidence: s.evidence, verdict: s.verdict };
+}
+
+/**
+ * The objects inside a laterally extensive anomaly (`isLayer` of its union): a layer crossing the depths
+ * of a pipe or a footing joins them with it through the slices where they meet, and the whole is too
+ * large for any object (class `layer`), the pipe lost with it. Chains of its members that keep their
+ * plan position over two slices or more (`stationaryChains`) and are not extensive themselves are
+ * objects; chains that the usual links join again (pieces of one pipe) are one object unless that makes
+ * it extensive. The other members are linked again among themselves (a layer's bands, which move
+ * down-dip from slice to slice, stay one anomaly). Any other anomaly comes back as it is.
+ */
+export function objectsOfExtensive(a: Anomaly3D, isLayer: (shape: Shape, depthM: number) => boolean, build: (ms: Member[]) => Anomaly3D, relinkMembers: (ms: Member[]) => Member[][]): Anomaly3D[] {
+  if (a.members.length < 3 || !isLayer(a.shape, a.depthBottomM)) return [a];
+  const chains = stationaryChains(a.members)
+    .map((g) => g.map((i) => a.members[i]!))
+    .filter((g) => new Set(g.map((m) => m.slice)).size >= 2)
+    .map(build)
+    .filter((o) => !isLayer(o.shape, o.depthBottomM));
+  if (chains.length === 0) return [a];
+  // chains of one object (a pipe whose members share less than a chain asks from slice to slice) are
+  // linked again among themselves as usual; the members of a group too large for an object stay in
+  // their chains (each member in one object at most)
+  const objects: Anomaly3D[] = [];
+  const inLarge = new Set<Member>();
+  for (const g of relinkMembers(chains.flatMap((o) => o.members))) {
+    const o = build(g);
+    if (isLayer(o.shape, o.depthBottomM)) for (const m of g) inLarge.add(m);
+    else objects.push(o);
+  }
+  for (const c of chains) {
+    const part = c.members.filter((m) => inLarge.has(m));
+    if (new Set(part.map((m) => m.slice)).size >= 2) objects.push(part.length === c.members.length ? c : build(part));
+  }
+  const taken = new Set(objects.flatMap((o) => o.members));
+  const rest = a.members.filter((m) => !taken.has(m));
+  return [...objects, ...(rest.length > 0 ? relinkMembers(rest).map(build) : [])];
 }
 
 function relink(ms: Member[], cells: number, cellSize: number, options: ScreenOptions): Member[][] {
