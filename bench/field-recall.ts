@@ -61,7 +61,9 @@ for (const dir of dirs)
     for (const f of anomalies.features) {
       if (f.properties.origin === 'above-ground' || ids.has(String(f.properties.id))) continue;
       const k = ruleOf(f.properties);
-      byRule.set(k, [...(byRule.get(k) ?? []), f]);
+      const list = byRule.get(k);
+      if (list) list.push(f);
+      else byRule.set(k, [f]);
     }
     for (const [k, fs] of byRule) {
       const added = covered({ ...targets, features: [...targets.features, ...fs] });

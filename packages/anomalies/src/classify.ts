@@ -1,6 +1,6 @@
 import { MAX_UTILITY_DIAMETER_M } from '@lamina/constants';
 import { quantile } from '@lamina/stats';
-import { sharedCells } from './extract';
+import { sharedCells } from './link';
 import type { Anomaly3D, Member, Shape } from './types';
 
 /** What an anomaly is taken to be (anomalies.geojson `class`). */

@@ -322,21 +322,6 @@ function unionOfCells(members: Member[]): { cells: Int32Array; weights: Float32A
   return { cells: Int32Array.from(cells), weights: Float32Array.from(weights) };
 }
 
-/**
- * How many cells two ascending lists without repeats (`Anomaly3D.cells`, a member's `cells`) share: the
- * overlap of two anomalies in plan.
- */
-export function sharedCells(a: ArrayLike<number>, b: ArrayLike<number>): number {
-  let i = 0, j = 0, n = 0;
-  while (i < a.length && j < b.length) {
-    const ka = a[i]!, kb = b[j]!;
-    if (ka < kb) i++;
-    else if (kb < ka) j++;
-    else (n++, i++, j++);
-  }
-  return n;
-}
-
 /** A 3D anomaly from its members (any slices of one stack). */
 export function buildAnomaly(id: string, members: Member[], stack: SliceStack, options: ShapeOptions = {}): Anomaly3D {
   const { grid } = stack;

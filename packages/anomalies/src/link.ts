@@ -1,4 +1,3 @@
-import { sharedCells } from './extract';
 import type { Member } from './types';
 
 export interface LinkOptions {
@@ -158,4 +157,19 @@ export function stationaryChains(members: readonly Member[], options: ChainOptio
       union(i, j);
     }
   return groups(members.keys()).map((g) => g.sort((p, q) => members[p]!.slice - members[q]!.slice || p - q));
+}
+
+/**
+ * How many cells two ascending lists without repeats (`Anomaly3D.cells`, a member's `cells`) share: the
+ * overlap of two anomalies in plan.
+ */
+export function sharedCells(a: ArrayLike<number>, b: ArrayLike<number>): number {
+  let i = 0, j = 0, n = 0;
+  while (i < a.length && j < b.length) {
+    const ka = a[i]!, kb = b[j]!;
+    if (ka < kb) i++;
+    else if (kb < ka) j++;
+    else (n++, i++, j++);
+  }
+  return n;
 }
