@@ -299,7 +299,8 @@ export function alongLineReachM(a: Anomaly3D, ctx: ClassifyContext): number {
  *   gets `echoOf`;
  * - `layer`: too large for any object (`isExtensive`: a laterally extensive reflector);
  * - `clutter` (one-line strip): linear along a survey line, narrower than a buried object's response
- *   at its depth (`isOneLineStrip`);
+ *   at its depth (`isOneLineStrip`), unless the lines of a second survey direction that cross it record
+ *   it too (the caller's `crossed`: screening's `CrossingLines`);
  * - `utility`: linear and no wider than a utility may be;
  * - `clutter` (point-like): compact, seen on one line only (`oneLineWidthM`), spanning at most two
  *   slices (one pulse) — a stone or a root at the survey's resolution;
@@ -309,12 +310,12 @@ export function alongLineReachM(a: Anomaly3D, ctx: ClassifyContext): number {
  *   as structures), and so do all of them when there are too few to judge;
  * - `structure`: the other compact anomalies (a footing or a tank is wider than a point's response, or thick).
  */
-export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: boolean; planar?: boolean }[], ctx: ClassifyContext, options: ClassifyOptions = {}): Classified[] {
+export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: boolean; planar?: boolean; crossed?: boolean }[], ctx: ClassifyContext, options: ClassifyOptions = {}): Classified[] {
   const lines = options.nearSurfaceLines ?? 3;
   const oneLine = new Set<Anomaly3D>();
   // the zone's residue stays in the populations below (it is what they are made of) but keeps its class
   const zoneResidue = new Set<Anomaly3D>();
-  const own = items.map(({ anomaly: a, aboveGround, planar }): Classified => {
+  const own = items.map(({ anomaly: a, aboveGround, planar, crossed }): Classified => {
     if (aboveGround) return { class: 'above-ground', reason: 'air-wave screening' };
     const slack = options.nearSurfaceOverlap ?? 0.5;
     const deep = a.members.filter((m) => m.topM >= ctx.nearSurfaceM - slack * (m.bottomM - m.topM));
@@ -330,11 +331,11 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
     const z = a.depthBottomM;
     const slices = new Set(a.members.map((m) => m.slice)).size;
     if (isExtensive(a.shape, z, ctx, options)) return { class: 'layer', reason: 'laterally extensive: wider than a utility and longer than a structure' };
-    if (a.shape.kind === 'linear' && isOneLineStrip(a, ctx, options)) {
+    if (a.shape.kind === 'linear' && !crossed && isOneLineStrip(a, ctx, options)) {
       return { class: 'clutter', reason: `a strip along one line where a buried object would show on the next lines too (Fresnel zone ${round(fresnelRadiusM(0.5 * (a.depthTopM + a.depthBottomM), ctx.velocityMPerNs, ctx.frequencyMHz))} m, reach within its slice ${round(alongLineReachM(a, ctx))} m, lines ${round(ctx.lineSpacingM)} m apart)` };
     }
     if (a.shape.kind === 'linear') {
-      if (a.shape.widthM <= maxUtilityWidthM(z, ctx, options)) return { class: 'utility', reason: 'linear, no wider than a utility' };
+      if (a.shape.widthM <= maxUtilityWidthM(z, ctx, options)) return { class: 'utility', reason: crossed ? 'linear, no wider than a utility, along one set of lines and seen by the lines crossing it' : 'linear, no wider than a utility' };
       return { class: 'structure', reason: 'linear but wider than a utility' };
     }
     if (a.shape.widthM <= oneLineWidthM(ctx.lineSpacingM, ctx.cellM) && slices <= 2) {

@@ -3,11 +3,11 @@ import { join } from 'node:path';
 import type { Site } from '@lamina/site';
 import { pointToWgs84 } from '@lamina/site';
 import { nearSurfaceDepthM, type VelocityReport } from '@lamina/velocity';
-import { DiskStack, SpillGridder, type GriddingInfo, type PointSpill, type SliceGrid, type SliceStack, type SliceWindow } from '@lamina/slices';
+import { axialDeg, directionGroups, DiskStack, SpillGridder, type GriddingInfo, type PointSpill, type SliceGrid, type SliceStack, type SliceWindow } from '@lamina/slices';
 import type { Recipe } from '@lamina/processing';
 import { CAUTION } from '@lamina/constants';
 import type { InterfaceProperties } from '@lamina/contracts';
-import { airRadiusM, BandJoin, linesInRows, lineSpacingOfM, screenBands, screenSite, surveyedMask, type GeoJsonFeature, type Line } from '@lamina/screening';
+import { airRadiusM, BandJoin, linesInRows, lineSpacingOfM, screenBands, screenSite, surveyedMask, type DirectionStack, type GeoJsonFeature, type Line } from '@lamina/screening';
 import { FeatureSpill } from './feature-spill';
 import { gridForecast, sideOutputs, type SideOutputsResult, type SideOutputsTask } from './side-outputs';
 import { THUMBNAIL_SIZE, type Thumbnail } from '@lamina/targets';
@@ -58,6 +58,21 @@ export interface ScreenLinesJson {
   lines: string[];
   /** Trace count of each line. */
   traces: number[];
+  /**
+   * A survey in two directions: each direction's slices gridded from its own lines alone, a raw
+   * band-sequential Float32 file of the run's grid (`directionStackFile`), and the azimuth of its lines
+   * (degrees clockwise from north).
+   */
+  directions?: { azimuthDeg: number; file: string }[];
+}
+
+/** File of direction k's stack in a run that keeps its screening inputs (`ScreenLinesJson.directions`). */
+export const directionStackFile = (k: number) => `slices-direction-${k}.f32`;
+
+/** Rows of one direction's own stack (`ScreenLinesJson.directions`), with the azimuth of its lines. */
+export interface DirectionRows {
+  azimuthDeg: number;
+  rows(first: number, last: number): Promise<SliceStack>;
 }
 
 /** Rows of a survey's two stacks (after and before background removal) and its lines' trace positions: what screening reads. */
@@ -70,6 +85,8 @@ export interface ScreenSource {
   lineStarts(): Int32Array;
   /** x, y of traces [a, b), interleaved. */
   readCoords(a: number, b: number): Float64Array;
+  /** A survey in two directions: each direction's own stack (none: the one-line strip rule without them). */
+  directions?: DirectionRows[];
 }
 
 export type Anchored = { id: string; lon: number; lat: number; depthTopM: number; depthBottomM: number };
@@ -153,6 +170,10 @@ export async function sliceAndScreen(
     return { id: ids[l]!, x: Float64Array.from(x), y: Float64Array.from(y) };
   };
   const lineSpacingM = lineSpacingOfM(positions, mpu);
+  // a survey in two directions: each direction gridded from its own lines too (the one-line strip rule)
+  const directions: DirectionRows[] = given
+    ? (given.directions ?? [])
+    : directionSets(ids.map((_, l) => positions.line(l))).map((d) => ({ azimuthDeg: d.azimuthDeg, rows: (first, last) => (gridder as SpillGridder).rowsOfLines(first, last, d.lines) }));
   gridPlanned();
 
   const mig = recipe.steps.find((st) => st.step === 'migration');
@@ -170,12 +191,15 @@ export async function sliceAndScreen(
   const deepest = Math.max(0, ...windows.map((w) => w.bottomM));
   const overlapM = options.bandOverlapM ?? Math.max(20, 2.5 * airRadiusM(deepest, velocity.model, site.antenna.separationM));
   const overlap = Math.ceil(overlapM / cellM);
-  const maxRows = Math.max(1, Math.floor((options.screenBandBytes ?? 384 * 2 ** 20) / (BYTES_PER_CELL_SLICE * width * Math.max(1, windows.length))));
+  // each direction's own stack and its scores: 8 bytes a cell and slice more
+  const perCellSlice = BYTES_PER_CELL_SLICE + 8 * directions.length;
+  const maxRows = Math.max(1, Math.floor((options.screenBandBytes ?? 384 * 2 ** 20) / (perCellSlice * width * Math.max(1, windows.length))));
   const bands = screenBands(height, maxRows, overlap);
 
   const disk = given ? undefined : DiskStack.create(join(stageDir, `.slices-${process.pid}.raw`), grid, windows);
   const beforeDisk = options.keepScreenInputs ? DiskStack.create(join(stageDir, SCREEN_INPUTS.before), grid, windows) : undefined;
-  if (options.keepScreenInputs && spill) await writeScreenLines(stageDir, spill, ids);
+  const directionDisks = options.keepScreenInputs && !given ? directions.map((_, k) => DiskStack.create(join(stageDir, directionStackFile(k)), grid, windows)) : [];
+  if (options.keepScreenInputs && spill) await writeScreenLines(stageDir, spill, ids, directions);
   const kept = new FeatureSpill<GeoJsonFeature>(stageDir);
   const surveyed = new Uint8Array(width * height);
   const joiner = new BandJoin({ toWgs84, metresPerUnit: mpu });
@@ -198,6 +222,12 @@ export async function sliceAndScreen(
       options.onProgress('air-wave screening', b, bands.length);
       const [stack, before] = await timer.time('gridding', () => gridder.rows(band.first, band.last));
       const c0 = (band.coreFirst - band.first) * width, c1 = (band.coreLast - band.first) * width;
+      const directionStacks: DirectionStack[] = [];
+      for (const [k, d] of directions.entries()) {
+        const own = await timer.time('gridding', () => d.rows(band.first, band.last));
+        directionStacks.push({ azimuthDeg: d.azimuthDeg, stack: own });
+        directionDisks[k]?.writeRows(band.coreFirst, own.slices.map((s) => s.values.subarray(c0, c1)));
+      }
       timer.time(SIDE_STAGE, () => disk?.writeRows(band.coreFirst, stack!.slices.map((s) => s.values.subarray(c0, c1))));
       beforeDisk?.writeRows(band.coreFirst, before!.slices.map((s) => s.values.subarray(c0, c1)));
       const screeningDone = timer.start('air-wave screening');
@@ -217,6 +247,7 @@ export async function sliceAndScreen(
           metresPerUnit: mpu,
           toWgs84,
           beforeBackgroundStack: before!,
+          ...(directionStacks.length > 0 ? { directionStacks } : {}),
         },
         screenOptions,
       );
@@ -271,6 +302,7 @@ export async function sliceAndScreen(
     return { anchored, ...counts, bands: bands.length, nearSurfaceM, ...(made ? { thumbnails: made.thumbnails } : {}) };
   } catch (e) {
     beforeDisk?.remove();
+    for (const d of directionDisks) d.remove();
     throw e;
   } finally {
     // the side task reads the disk stack: done with it (settled either way) before it goes
@@ -281,7 +313,7 @@ export async function sliceAndScreen(
 }
 
 /** screen-lines.json and screen-lines.f64 of `keepScreenInputs`: every line's trace positions, one line at a time. */
-async function writeScreenLines(dir: string, spill: PointSpill, ids: string[]): Promise<void> {
+async function writeScreenLines(dir: string, spill: PointSpill, ids: string[], directions: DirectionRows[]): Promise<void> {
   const starts = spill.lineStarts();
   const fh = await open(join(dir, SCREEN_INPUTS.positions), 'w');
   try {
@@ -292,8 +324,34 @@ async function writeScreenLines(dir: string, spill: PointSpill, ids: string[]): 
   } finally {
     await fh.close();
   }
-  const json: ScreenLinesJson = { lines: ids, traces: ids.map((_, l) => starts[l + 1]! - starts[l]!) };
+  const json: ScreenLinesJson = {
+    lines: ids,
+    traces: ids.map((_, l) => starts[l + 1]! - starts[l]!),
+    ...(directions.length > 0 ? { directions: directions.map((d, k) => ({ azimuthDeg: d.azimuthDeg, file: directionStackFile(k) })) } : {}),
+  };
   await writeFile(join(dir, SCREEN_INPUTS.lines), `${JSON.stringify(json)}\n`);
+}
+
+/**
+ * The lines of each direction of a survey in two directions (`directionGroups`), with the azimuth of
+ * their mean axis (degrees clockwise from north, as anomaly directions are); none for one direction.
+ */
+function directionSets(lines: Float64Array[]): { azimuthDeg: number; lines: Uint8Array }[] {
+  const axes = lines.map((c) => axialDeg(c));
+  const group = directionGroups(axes);
+  if (!group.some((g) => g === 1)) return [];
+  return [0, 1].map((g) => {
+    const keep = Uint8Array.from(group, (x) => (x === g ? 1 : 0));
+    // mean axis on doubled angles (counter-clockwise from east), as an azimuth
+    let c2 = 0, s2 = 0;
+    axes.forEach((a, l) => {
+      if (!keep[l] || !Number.isFinite(a)) return;
+      c2 += Math.cos((2 * a * Math.PI) / 180);
+      s2 += Math.sin((2 * a * Math.PI) / 180);
+    });
+    const ccw = (Math.atan2(s2, c2) * 90) / Math.PI;
+    return { azimuthDeg: (((90 - ccw) % 180) + 180) % 180, lines: keep };
+  });
 }
 
 /**

@@ -9,3 +9,4 @@ export type { ScreenedAnomaly } from './screened';
 export { cellResidual } from './locus-residual';
 export { alongLineMembers, nearestLineLabels, type AlongLineOptions } from './along-line';
 export { BandJoin, screenBands, linesInRows, type BandRows, type BandJoinOptions, type JoinedFeature } from './band-join';
+export { CrossingLines, type CrossingOptions, type DirectionStack } from './crossing-lines';

@@ -6,6 +6,7 @@ import {
   fitNoiseLaw,
   joinAlignedPieces,
   isExtensive,
+  isOneLineStrip,
   isPointPiece,
   maxUtilityWidthM,
   sameSliceWidthM,
@@ -29,6 +30,7 @@ import { separateCrossings } from './crossings';
 import { bridgeThroughFields } from './bridges';
 import { piecesOfBuried } from './inside-buried';
 import { alongLineMembers, nearestLineLabels, planarStrips } from './along-line';
+import { CrossingLines, type DirectionStack } from './crossing-lines';
 import { lineSpacingM, sliceLoci, surveyedMask, type Line, type ToleranceOptions } from './context';
 import { combine, type Evidence } from './evidence';
 import { CAUTION } from '@lamina/constants';
@@ -63,6 +65,11 @@ export interface ScreenInput {
   toWgs84: ToWgs84;
   /** Same grid, made before background removal: optional evidence for flat air events. */
   beforeBackgroundStack?: SliceStack;
+  /**
+   * A survey in two directions: each direction's slices gridded from its own lines alone (same grid),
+   * for the one-line strip rule (`CrossingLines`).
+   */
+  directionStacks?: DirectionStack[];
 }
 
 export interface ScreenOptions extends ExtractOptions, ToleranceOptions {
@@ -137,6 +144,20 @@ export interface ScreenResult {
   summary: ScreenSummary;
   /** The screened anomalies in the site CRS (for the targets package and tests). */
   screened: ScreenedAnomaly[];
+}
+
+/**
+ * Subsurface one-line strips (`isOneLineStrip`) of a survey in two directions that the crossing lines
+ * record too (`CrossingLines`).
+ */
+function crossedStrips(screened: ScreenedAnomaly[], directionStacks: DirectionStack[] | undefined, lowThreshold: number, classCtx: ClassifyContext, options: ScreenOptions): Set<Anomaly3D> {
+  const out = new Set<Anomaly3D>();
+  if (!directionStacks?.length) return out;
+  const crossing = new CrossingLines(directionStacks, { lowThreshold });
+  for (const s of screened) {
+    if (s.verdict.origin !== 'above-ground' && isOneLineStrip(s.anomaly, classCtx, options.classes) && crossing.seen(s.anomaly) === true) out.add(s.anomaly);
+  }
+  return out;
 }
 
 /**
@@ -329,8 +350,14 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   if (options.joinPieces ?? true) joinPieces(screened, fromBefore, classCtx, grid, stack, options, mpu);
   screened.sort((p, q) => p.anomaly.depthTopM - q.anomaly.depthTopM || p.anomaly.members[0]!.x - q.anomaly.members[0]!.x);
   screened.forEach((s, i) => (s.anomaly.id = `A${String(i + 1).padStart(4, '0')}`));
+  const crossed = crossedStrips(screened, input.directionStacks, extraction.lowThreshold, classCtx, options);
   const classes = classifyAnomalies(
-    screened.map((s) => ({ anomaly: s.anomaly, aboveGround: s.verdict.origin === 'above-ground', planar: planar.size > 0 && 2 * s.anomaly.members.filter((m) => planar.has(m.id)).length >= s.anomaly.members.length })),
+    screened.map((s) => ({
+      anomaly: s.anomaly,
+      aboveGround: s.verdict.origin === 'above-ground',
+      planar: planar.size > 0 && 2 * s.anomaly.members.filter((m) => planar.has(m.id)).length >= s.anomaly.members.length,
+      crossed: crossed.has(s.anomaly),
+    })),
     classCtx,
     options.classes,
   );

@@ -59,7 +59,8 @@ export function gridSpillSync(spill: PointSpill, windows: SliceWindow[], options
  * one band of points.
  */
 export class SpillGridder {
-  private readonly buffers: { shared?: BandBuffers; local?: BandBuffers } = {};
+  /** Band buffers by kind (shared with workers or not) and values per point, reused between calls. */
+  private readonly buffers = new Map<string, BandBuffers>();
   /** Point bands filled so far, over all calls. */
   pointBands = 0;
 
@@ -87,21 +88,39 @@ export class SpillGridder {
   }
 
   async rows(r0: number, r1: number): Promise<SliceStack[]> {
+    return this.rowsOf(r0, r1, { nv: this.spill.nValues });
+  }
+
+  /** `rows` on the calling thread. */
+  rowsSync(r0: number, r1: number): SliceStack[] {
+    return this.rowsOfSync(r0, r1, { nv: this.spill.nValues });
+  }
+
+  /**
+   * `rows` of the first stack only (the spill's first `windows.length` values per trace), made from the
+   * traces of the lines `lines` keeps (1) alone, on the same grid with the same search: e.g. one
+   * direction of a survey in two directions.
+   */
+  async rowsOfLines(r0: number, r1: number, lines: Uint8Array): Promise<SliceStack> {
+    return (await this.rowsOf(r0, r1, { nv: this.windows.length, lines }))[0]!;
+  }
+
+  private async rowsOf(r0: number, r1: number, pick: Pick): Promise<SliceStack[]> {
     const { spill, plan } = this;
     const threads = this.options.threads ?? 1;
     const outRows = r1 - r0;
     const cells = plan.grid.width * outRows;
-    const nValues = spill.nValues;
+    const nValues = pick.nv;
     // Small grids are not worth the workers.
-    if (threads <= 1 || cells * nValues < 2e6) return this.rowsSync(r0, r1);
+    if (threads <= 1 || cells * nValues < 2e6) return this.rowsOfSync(r0, r1, pick);
     const buffer = new SharedArrayBuffer(cells * nValues * 4);
     const workers = idwWorkers(threads);
-    const buf = (this.buffers.shared ??= new BandBuffers(nValues, true));
+    const buf = this.buffersOf(nValues, true);
     const bands = pointBands(plan, r0, r1);
     buf.reserve(Math.max(0, ...bands.map(([b0, b1]) => plan.held(b0, b1))));
     try {
       for (const [b0, b1] of bands) {
-        const n = loadBand(spill, plan, b0, b1, buf);
+        const n = loadBand(spill, plan, b0, b1, buf, pick);
         const tree = buildIndex(buf.coords.subarray(0, 2 * n), searchFrame(plan.idw), true);
         await workers.rows(tree, n, buf.values.buffer as unknown as SharedArrayBuffer, nValues, plan.grid, plan.idw, b0, b1, buffer, spill.hasNaN, r0, outRows);
         this.pointBands++;
@@ -114,20 +133,27 @@ export class SpillGridder {
     return this.stacksOf(bandsOf(buffer, nValues, cells), r0, r1);
   }
 
-  /** `rows` on the calling thread. */
-  rowsSync(r0: number, r1: number): SliceStack[] {
+  private rowsOfSync(r0: number, r1: number, pick: Pick): SliceStack[] {
     const { spill, plan } = this;
+    const nValues = pick.nv;
     const cells = plan.grid.width * (r1 - r0);
-    const out = bandsOf(new ArrayBuffer(cells * spill.nValues * 4), spill.nValues, cells);
-    const buf = (this.buffers.local ??= new BandBuffers(spill.nValues, false));
+    const out = bandsOf(new ArrayBuffer(cells * nValues * 4), nValues, cells);
+    const buf = this.buffersOf(nValues, false);
     const bands = pointBands(plan, r0, r1);
     buf.reserve(Math.max(0, ...bands.map(([b0, b1]) => plan.held(b0, b1))));
     for (const [b0, b1] of bands) {
-      const n = loadBand(spill, plan, b0, b1, buf);
-      idwRows(buildIndex(buf.coords.subarray(0, 2 * n), searchFrame(plan.idw)), n, buf.values, spill.nValues, plan.grid, plan.idw, b0, b1, out, spill.hasNaN, r0);
+      const n = loadBand(spill, plan, b0, b1, buf, pick);
+      idwRows(buildIndex(buf.coords.subarray(0, 2 * n), searchFrame(plan.idw)), n, buf.values, nValues, plan.grid, plan.idw, b0, b1, out, spill.hasNaN, r0);
       this.pointBands++;
     }
     return this.stacksOf(out, r0, r1);
+  }
+
+  private buffersOf(nValues: number, sharedMemory: boolean): BandBuffers {
+    const key = `${sharedMemory}:${nValues}`;
+    let buf = this.buffers.get(key);
+    if (!buf) this.buffers.set(key, (buf = new BandBuffers(nValues, sharedMemory)));
+    return buf;
   }
 
   private stacksOf(out: Float32Array[], r0: number, r1: number): SliceStack[] {
@@ -136,7 +162,7 @@ export class SpillGridder {
     const g = this.plan.grid;
     const grid: SliceGrid = { ...g, originY: g.originY - r0 * g.cellSize, height: r1 - r0 };
     const gridding = this.gridding;
-    return Array.from({ length: this.spill.nValues / ns }, (_, s) => ({
+    return Array.from({ length: out.length / ns }, (_, s) => ({
       grid: { ...grid },
       slices: windows.map((w, k) => ({ index: w.index, topM: w.topM, bottomM: w.bottomM, values: out[s * ns + k]! })),
       gridding: { ...gridding },
@@ -208,10 +234,17 @@ class BandBuffers {
   }
 }
 
+/** Which values of which traces a gridding takes: the first `nv` of each trace, of the lines `lines` keeps (all without it). */
+interface Pick {
+  nv: number;
+  lines?: Uint8Array;
+}
+
 /** The points of rows [r0, r1) plus the margin, in spill order, levelled if asked, into `buf` (n of them). */
-function loadBand(spill: PointSpill, plan: BandPlan, r0: number, r1: number, buf: BandBuffers): number {
+function loadBand(spill: PointSpill, plan: BandPlan, r0: number, r1: number, buf: BandBuffers, pick: Pick): number {
   const { grid, marginRows, factors, lineStarts } = plan;
   const nv = spill.nValues;
+  const take = pick.nv;
   const yTop = grid.originY - (r0 - marginRows) * grid.cellSize;
   const yBottom = grid.originY - (r1 + marginRows) * grid.cellSize;
   let k = 0;
@@ -222,15 +255,14 @@ function loadBand(spill: PointSpill, plan: BandPlan, r0: number, r1: number, buf
       for (let t = 0; t < m; t++) {
         const y = c[2 * t + 1]!;
         if (!(y <= yTop && y >= yBottom)) continue;
+        if (factors || pick.lines) while (lineStarts[line + 1]! <= first + t) line++;
+        if (pick.lines && !pick.lines[line]) continue;
         buf.reserve(k + 1);
         const { coords, values } = buf;
         coords[2 * k] = c[2 * t]!;
         coords[2 * k + 1] = y;
-        values.set(v!.subarray(t * nv, (t + 1) * nv), k * nv);
-        if (factors) {
-          while (lineStarts[line + 1]! <= first + t) line++;
-          for (let b = 0; b < nv; b++) values[k * nv + b] = values[k * nv + b]! * factors[line * nv + b]!;
-        }
+        values.set(v!.subarray(t * nv, t * nv + take), k * take);
+        if (factors) for (let b = 0; b < take; b++) values[k * take + b] = values[k * take + b]! * factors[line * nv + b]!;
         k++;
       }
     },

@@ -182,4 +182,36 @@ describe('gridding in row bands from a point spill', () => {
     b.dispose();
     expect(existsSync(join(dir, sub!))).toBe(false);
   });
+  it("one direction's lines alone (rowsOfLines: first stack, same grid and search) equal a spill of those lines gridded with that grid's parameters", async () => {
+    const ns = windows.length;
+    const lines = survey(12, 200, 2 * ns, 11, 53);
+    const keep = Uint8Array.from(lines, (_, j) => (j % 3 === 1 ? 0 : 1));
+    const spill = spillOf(lines, 2 * ns);
+    const kept = lines.filter((_, j) => keep[j]).map((l) => ({ ...l, values: Float32Array.from({ length: l.x.length * ns }, (_, q) => l.values[Math.floor(q / ns) * 2 * ns + (q % ns)]!) }));
+    const only = spillOf(kept, ns);
+    try {
+      const gridder = SpillGridder.open(spill, windows, { crs, bandBytes: 30000 });
+      const g = gridder.grid;
+      const info = gridder.gridding;
+      let minX = Infinity, minY = Infinity, maxX = -Infinity, maxY = -Infinity;
+      for (const l of lines) for (let t = 0; t < l.x.length; t++) {
+        minX = Math.min(minX, l.x[t]!); maxX = Math.max(maxX, l.x[t]!);
+        minY = Math.min(minY, l.y[t]!); maxY = Math.max(maxY, l.y[t]!);
+      }
+      const ref = gridSpillSync(only, windows, { crs, bounds: [minX, minY, maxX, maxY], cellSizeM: g.cellSize, radiusM: info.radius, radiusAcrossM: info.radiusAcross, directionDeg: info.directionDeg })[0]!;
+      expect(ref.grid).toEqual(g);
+      for (const r of [[0, g.height], [3, 17]] as const) {
+        const part = await gridder.rowsOfLines(r[0], r[1], keep);
+        expect(part.slices.length).toBe(ns);
+        for (let k = 0; k < ns; k++) expect(Array.from(part.slices[k]!.values)).toEqual(Array.from(ref.slices[k]!.values.subarray(r[0] * g.width, r[1] * g.width)));
+      }
+      // the whole-survey rows are unchanged by the call
+      const [main] = await gridder.rows(0, g.height);
+      const [whole] = gridSpillSync(spill, windows, { crs });
+      for (let k = 0; k < ns; k++) expect(Array.from(main!.slices[k]!.values)).toEqual(Array.from(whole!.slices[k]!.values));
+    } finally {
+      spill.remove();
+      only.remove();
+    }
+  });
 });

@@ -99,7 +99,7 @@ export async function runMerge(tilesPath: string, outDir: string, options: Merge
       step('anomalies');
       const raw = mosaic.raw;
       if (raw?.before) {
-        const s = await rescreen(inputs, stage.path, mosaic.json, { slices: raw.slices, before: raw.before }, join(stage.path, 'velocity.json'), {
+        const s = await rescreen(inputs, stage.path, mosaic.json, { slices: raw.slices, before: raw.before, ...(raw.directions ? { directions: raw.directions } : {}) }, join(stage.path, 'velocity.json'), {
           ...(options.screenBandBytes !== undefined ? { screenBandBytes: options.screenBandBytes } : {}),
           ...(options.bandOverlapM !== undefined ? { bandOverlapM: options.bandOverlapM } : {}),
         });
@@ -114,6 +114,7 @@ export async function runMerge(tilesPath: string, outDir: string, options: Merge
     } finally {
       mosaic.raw?.slices.remove();
       mosaic.raw?.before?.remove();
+      for (const d of mosaic.raw?.directions ?? []) d.raw.remove();
     }
     const lines = await mergeLines(inputs, stage.path);
     const plan = await mergePlan(inputs, stage.path);

@@ -7,7 +7,7 @@ import type { SlicesJson } from '@lamina/contracts';
 import { InputError } from '@lamina/errors';
 import { shownPath } from '@lamina/site';
 import { sliceStatsOfRows, slicesCogOptions, slicesJsonOf, writeSlicesFiles, type SliceStats } from '@lamina/slices';
-import { SCREEN_INPUTS } from '@lamina/pipeline';
+import { SCREEN_INPUTS, type ScreenLinesJson } from '@lamina/pipeline';
 import { tileOf } from '../grid';
 import type { MergeInputs, MergeTile } from './inputs';
 
@@ -83,7 +83,7 @@ export interface MosaicResult {
    * With `keep`: the mosaic's raw band-sequential files, left for the caller to read and remove: the
    * slices, and the slices before background removal when every tile wrote them (`SCREEN_INPUTS.before`).
    */
-  raw?: { slices: RawBands; before?: RawBands };
+  raw?: { slices: RawBands; before?: RawBands; directions?: { azimuthDeg: number; raw: RawBands }[] };
 }
 
 export interface MosaicOptions {
@@ -93,13 +93,30 @@ export interface MosaicOptions {
 
 /** A tile's stack before background removal as it wrote it (band-sequential raw Float32 of its grid), or undefined when it has none. */
 async function readBefore(tile: MergeTile, bands: number): Promise<Float32Array[] | undefined> {
-  const file = join(tile.outDir, SCREEN_INPUTS.before);
+  return readTileStack(tile, SCREEN_INPUTS.before, bands);
+}
+
+/** A stack a tile wrote beside its slices (band-sequential raw Float32 of its grid), or undefined when it has none. */
+async function readTileStack(tile: MergeTile, name: string, bands: number): Promise<Float32Array[] | undefined> {
+  const file = join(tile.outDir, name);
   const b = await readFile(file).catch(() => undefined);
   if (!b) return undefined;
   const cells = tile.slices.width * tile.slices.height;
   if (b.byteLength !== cells * bands * 4) throw new InputError(shownPath(file), `expected ${cells * bands * 4} bytes (${tile.slices.width} x ${tile.slices.height} cells, ${bands} slices: slices.json), found ${b.byteLength}`);
   const all = new Float32Array(b.buffer.slice(b.byteOffset, b.byteOffset + b.byteLength));
   return Array.from({ length: bands }, (_, k) => all.subarray(k * cells, (k + 1) * cells));
+}
+
+/** The direction stacks a tile wrote (`ScreenLinesJson.directions`): none when it wrote none. */
+async function tileDirections(tile: MergeTile): Promise<{ azimuthDeg: number; file: string }[]> {
+  const text = await readFile(join(tile.outDir, SCREEN_INPUTS.lines), 'utf8').catch(() => undefined);
+  return text ? ((JSON.parse(text) as ScreenLinesJson).directions ?? []) : [];
+}
+
+/** Smallest angle between two axes, degrees (modulo 180). */
+function axisDiff(a: number, b: number): number {
+  const d = Math.abs(a - b) % 180;
+  return Math.min(d, 180 - d);
 }
 
 /**
@@ -125,6 +142,12 @@ export async function writeMosaic(inputs: MergeInputs, outDir: string, scratchDi
   const bands = first.slices.length;
   const raw = RawBands.create(join(scratchDir, 'mosaic.f32'), width, height, bands, first.nodata);
   let before: RawBands | undefined = options.keep ? RawBands.create(join(scratchDir, 'mosaic-before.f32'), width, height, bands, first.nodata) : undefined;
+  // a survey in two directions: each direction's own stack, matched by the azimuth of its lines (the
+  // first tile holding both directions names them; a tile holding one direction only gives the other
+  // nothing: no trace of it lies within the search radius of its cells)
+  const tileDirs = options.keep ? await Promise.all(cores.map((c) => tileDirections(c.tile))) : [];
+  const named = tileDirs.find((d) => d.length === 2) ?? [];
+  const directions = named.map((d, k) => ({ azimuthDeg: d.azimuthDeg, raw: RawBands.create(join(scratchDir, `mosaic-direction-${k}.f32`), width, height, bands, first.nodata) }));
   let kept = false;
   /** Copies a tile's core cells of every band (values[k]: slice k of the tile's grid) into a raw mosaic. */
   const copy = (to: RawBands, c: CoreCells, values: (k: number) => Float32Array) => {
@@ -160,6 +183,11 @@ export async function writeMosaic(inputs: MergeInputs, outDir: string, scratchDi
         throw new InputError(shownPath(file), `expected ${s.width} x ${s.height} cells and ${bands} bands (slices.json), found ${r.width} x ${r.height} and ${r.bands.length}`);
       }
       copy(raw, c, (b) => r.bands[s.slices[b]!.band - 1]!);
+      for (const d of directions) {
+        const own = tileDirs[cores.indexOf(c)]!.find((t) => axisDiff(t.azimuthDeg, d.azimuthDeg) < 45);
+        const values = own && (await readTileStack(c.tile, own.file, bands));
+        if (values) copy(d.raw, c, (b) => values[b]!);
+      }
       if (!before) continue;
       // a tile without the stack before background removal (processed by `lamina process`): no second mosaic
       const bb = await readBefore(c.tile, bands);
@@ -178,11 +206,12 @@ export async function writeMosaic(inputs: MergeInputs, outDir: string, scratchDi
     const json = slicesJsonOf(grid, depths, stats, gridding);
     await writeSlicesFiles(outDir, json, (tmp) => encodeCogFile(raw, cog, tmp));
     kept = options.keep === true;
-    return { json, cells: width * height, ...(kept ? { raw: { slices: raw, ...(before ? { before } : {}) } } : {}) };
+    return { json, cells: width * height, ...(kept ? { raw: { slices: raw, ...(before ? { before } : {}), ...(directions.length > 0 ? { directions } : {}) } } : {}) };
   } finally {
     if (!kept) {
       raw.remove();
       before?.remove();
+      for (const d of directions) d.raw.remove();
     }
   }
 }

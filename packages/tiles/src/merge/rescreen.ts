@@ -100,7 +100,7 @@ function asUntiled(inputs: MergeInputs, fits: Fit[], siteLines: { id: string; tr
 }
 
 /** The rows of the raw mosaics as the gridder gives them (a stack per band of rows, with the survey's gridding). */
-function mosaicSource(json: SlicesJson, slices: RawBands, before: RawBands, lines: { starts: Int32Array; coords: Float64Array }): ScreenSource {
+function mosaicSource(json: SlicesJson, raw: RescreenRaw, lines: { starts: Int32Array; coords: Float64Array }): ScreenSource {
   const grid: SliceGrid = { crs: json.crs, originX: json.originX, originY: json.originY, cellSize: json.cellSize, width: json.width, height: json.height, nodata: json.nodata, metresPerUnit: json.metresPerUnit, isGeographic: json.isGeographic };
   const gridding = (json.gridding ?? undefined) as GriddingInfo | undefined;
   const stackOf = (raw: RawBands, first: number, last: number): SliceStack => ({
@@ -111,10 +111,18 @@ function mosaicSource(json: SlicesJson, slices: RawBands, before: RawBands, line
   return {
     grid,
     gridding,
-    rows: async (first, last) => [stackOf(slices, first, last), stackOf(before, first, last)],
+    rows: async (first, last) => [stackOf(raw.slices, first, last), stackOf(raw.before, first, last)],
+    ...(raw.directions ? { directions: raw.directions.map((d) => ({ azimuthDeg: d.azimuthDeg, rows: async (first: number, last: number) => stackOf(d.raw, first, last) })) } : {}),
     lineStarts: () => lines.starts,
     readCoords: (a, b) => lines.coords.subarray(2 * a, 2 * b),
   };
+}
+
+/** The raw mosaics a merge screens again: slices, slices before background removal, each direction's own (a survey in two directions). */
+export interface RescreenRaw {
+  slices: RawBands;
+  before: RawBands;
+  directions?: { azimuthDeg: number; raw: RawBands }[];
 }
 
 /**
@@ -123,7 +131,7 @@ function mosaicSource(json: SlicesJson, slices: RawBands, before: RawBands, line
  * Memory: one screening band (`screenBandBytes`, as in `lamina process`) and the lines' trace positions
  * (16 bytes a trace).
  */
-export async function rescreen(inputs: MergeInputs, stageDir: string, json: SlicesJson, raw: { slices: RawBands; before: RawBands }, velocityFile: string, options: RescreenOptions = {}): Promise<Screening> {
+export async function rescreen(inputs: MergeInputs, stageDir: string, json: SlicesJson, raw: RescreenRaw, velocityFile: string, options: RescreenOptions = {}): Promise<Screening> {
   const site = await loadSite(resolve(inputs.dir, inputs.manifest.site.dir));
   const lines = await surveyLines(inputs, site.lines.map((l) => l.id));
   const velocity = JSON.parse(await readFile(velocityFile, 'utf8')) as VelocityReport;
@@ -131,7 +139,7 @@ export async function rescreen(inputs: MergeInputs, stageDir: string, json: Slic
   const recipe = inputs.tiles[0]!.run.recipe as unknown as Recipe;
   const windows = json.slices.map((s) => ({ index: s.index, topM: s.topM, bottomM: s.bottomM }));
   return sliceAndScreen(site, stageDir, undefined, lines.ids, windows, velocity, recipe, {
-    source: mosaicSource(json, raw.slices, raw.before, lines),
+    source: mosaicSource(json, raw, lines),
     onProgress: options.onProgress ?? (() => {}),
     ...(options.screenBandBytes !== undefined ? { screenBandBytes: options.screenBandBytes } : {}),
     ...(options.bandOverlapM !== undefined ? { bandOverlapM: options.bandOverlapM } : {}),
