@@ -134,7 +134,7 @@ export function straightBands(cells: Int32Array, width: number, bandCells: numbe
     col[i] = left[i]! % width;
     row[i] = (left[i]! / width) | 0;
   }
-  const ends: RowEnds = { row: new Float64Array(n0), first: new Float64Array(n0), last: new Float64Array(n0), cells: new Int32Array(n0), count: 0 };
+  const ends = rowEnds(n0);
   let n = n0;
   const bands: Int32Array[] = [];
   while (bands.length < maxBands && n >= minCells) {
@@ -174,6 +174,11 @@ interface RowEnds {
   count: number;
 }
 
+/** Work space of `fullestBand` for up to `n` cells. */
+function rowEnds(n: number): RowEnds {
+  return { row: new Float64Array(n), first: new Float64Array(n), last: new Float64Array(n), cells: new Int32Array(n), count: 0 };
+}
+
 /**
  * Below this |cos| (|sin|) of a direction the cells of one row (column) are not counted as spaced
  * along it (`fullestBand`'s bound): their offsets are some 1e-11 apart at worst from rounding, far
@@ -194,11 +199,24 @@ function cappedSum(counts: Int32Array, n: number, k: number): number {
 }
 
 /**
+ * Every COARSE-th direction is searched first; the others only where a bound from the nearest searched
+ * one says they could hold more (see `fullestBand`).
+ */
+const COARSE = 16;
+
+/**
  * The band `w` one-cell bins wide across direction (c, s) = (cos, sin) of some angle that holds most
  * of the first `n` cells (columns `col`, rows `row`, ascending as grid indices): its count, direction
- * and lowest offset col c + row s. `ends` is work space.
+ * and lowest offset col c + row s. `ends` is work space. Of equally full bands, the one of the lowest
+ * angle and, in it, of the lowest offset: what a search of every direction in turn finds.
+ *
+ * Branch and bound over the directions: every COARSE-th is searched; a direction d steps from a searched
+ * one turns every cell's offset about the box centre by at most R d pi / nA (R the box's half diagonal),
+ * so the cells of any of its windows lie within w + 2 R d pi / nA of each other in the searched
+ * direction, and the fullest window of that many bins (+ 2 for the bin edges) there bounds its count.
+ * A direction is searched only when that bound (or the per-row and per-column one) could reach the best.
  */
-function fullestBand(col: Float64Array, row: Float64Array, n: number, w: number, ends: RowEnds): { count: number; c: number; s: number; lo: number } {
+export function fullestBand(col: Float64Array, row: Float64Array, n: number, w: number, ends: RowEnds = rowEnds(n)): { count: number; c: number; s: number; lo: number } {
   let c0 = Infinity, c1 = -Infinity, w0 = Infinity, w1 = -Infinity;
   let nRows = 0;
   for (let i = 0; i < n; i++) {
@@ -223,54 +241,92 @@ function fullestBand(col: Float64Array, row: Float64Array, n: number, w: number,
   const span = Math.hypot(c1 - c0, w1 - w0);
   // directions about one cell apart at the far end
   const nA = Math.min(720, Math.max(90, Math.ceil(Math.PI * span)));
-  // a projection spans at most the bounding box's diagonal; four interleaved histograms (cell i counts
-  // in histogram i mod 4): neighbouring cells mostly fall in one bin, and counting them in one array
-  // makes each increment wait for the one before
   const nBins = Math.floor(span) + 3;
   const bins = new Int32Array(4 * nBins);
-  let bestCount = 0, bestC = 1, bestS = 0, bestLo = 0;
-  for (let a = 0; a < nA; a++) {
+  const cum = new Int32Array(nBins + 1);
+  // wide[g * half + d - 1]: the fullest window of widthAt(d) bins of searched direction g * COARSE
+  const half = COARSE >> 1;
+  const nG = Math.ceil(nA / COARSE);
+  const wide = new Int32Array(nG * half);
+  // cells of a window d directions away lie within this many offset units at the searched one (with room for rounding)
+  const widthAt = (d: number) => Math.floor(w + span * ((d * Math.PI) / nA) * (1 + 1e-9) + 1e-6) + 2;
+  let bestCount = 0, bestA = -1, bestC = 1, bestS = 0, bestLo = 0;
+  const search = (a: number): void => {
     const th = (Math.PI * a) / nA;
     const c = Math.cos(th), s = Math.sin(th);
-    // A direction whose fullest window cannot beat the best so far is skipped (it would change nothing:
-    // only a strictly fuller window is taken). Distinct columns of one row have offsets at least |c|
-    // apart, distinct rows of one column |s| apart: a window of w bins holds at most perLine of each.
-    if (bestCount > 0) {
-      let bound = cappedSum(ends.cells, nRows, perLine(w, Math.abs(c)));
-      if (bound > bestCount) bound = Math.min(bound, cappedSum(colCells, nCols, perLine(w, Math.abs(s))));
-      if (bound <= bestCount) continue;
-    }
-    // The offset col c + row s, rounded, never decreases with col (c >= 0) or never increases (c < 0)
-    // along a row: each row's least and greatest offsets are at its ends.
-    const lo = c >= 0 ? ends.first : ends.last, hi = c >= 0 ? ends.last : ends.first;
-    let r0 = Infinity, r1 = -Infinity;
-    for (let k = 0; k < nRows; k++) {
-      const q0 = lo[k]! * c + ends.row[k]! * s, q1 = hi[k]! * c + ends.row[k]! * s;
-      if (q0 < r0) r0 = q0;
-      if (q1 > r1) r1 = q1;
-    }
-    // cells per one-cell bin of the offset (offset - r0 >= 0: truncation is the floor), then the
-    // fullest window of w bins
-    const nb = Math.floor(r1 - r0) + 2;
-    bins.fill(0, 0, 4 * nb);
-    let i = 0;
-    for (; i + 3 < n; i += 4) {
-      bins[4 * ((col[i]! * c + row[i]! * s - r0) | 0)]!++;
-      bins[4 * ((col[i + 1]! * c + row[i + 1]! * s - r0) | 0) + 1]!++;
-      bins[4 * ((col[i + 2]! * c + row[i + 2]! * s - r0) | 0) + 2]!++;
-      bins[4 * ((col[i + 3]! * c + row[i + 3]! * s - r0) | 0) + 3]!++;
-    }
-    for (; i < n; i++) bins[4 * ((col[i]! * c + row[i]! * s - r0) | 0)]!++;
-    // the four histograms summed into the first nb places (bin b reads places 4b.. not yet written)
-    for (let b = 0; b < nb; b++) bins[b] = bins[4 * b]! + bins[4 * b + 1]! + bins[4 * b + 2]! + bins[4 * b + 3]!;
-    let run = 0;
+    const { nb, r0 } = histogram(col, row, n, c, s, ends, bins);
+    // the fullest window of w bins, the first of them (a direction of equal count before this one keeps the band)
+    let run = 0, most = 0, at = 0;
     for (let b = 0; b < nb; b++) {
       run += bins[b]!;
       if (b >= w) run -= bins[b - w]!;
-      if (run > bestCount) (bestCount = run), (bestC = c), (bestS = s), (bestLo = r0 + Math.max(0, b - w + 1));
+      if (run > most) (most = run), (at = b);
     }
+    if (most > bestCount || (most === bestCount && a < bestA)) (bestCount = most), (bestA = a), (bestC = c), (bestS = s), (bestLo = r0 + Math.max(0, at - w + 1));
+    if (a % COARSE !== 0) return;
+    cum[0] = 0;
+    for (let b = 0; b < nb; b++) cum[b + 1] = cum[b]! + bins[b]!;
+    const g = a / COARSE;
+    for (let d = 1; d <= half; d++) {
+      const wd = widthAt(d);
+      let m = 0;
+      for (let b = 0; b < nb; b++) m = Math.max(m, cum[Math.min(nb, b + wd)]! - cum[b]!);
+      wide[g * half + d - 1] = m;
+    }
+  };
+  for (let a = 0; a < nA; a += COARSE) search(a);
+  for (let a = 1; a < nA; a++) {
+    if (a % COARSE === 0) continue;
+    // the nearest searched direction; past the last one, direction 0 turned half a circle (offsets negated: the same windows)
+    const lower = a - (a % COARSE), upper = lower + COARSE;
+    const g = upper - a < a - lower ? (upper < nA ? upper / COARSE : 0) : lower / COARSE;
+    const d = Math.min(a - lower, upper - a);
+    let bound = wide[g * half + d - 1]!;
+    // skipped only when it could not take the band: a direction before the best one takes it on a tie
+    const beaten = (x: number) => x < bestCount || (x === bestCount && a > bestA);
+    if (beaten(bound)) continue;
+    const c = Math.cos((Math.PI * a) / nA), s = Math.sin((Math.PI * a) / nA);
+    // distinct columns of one row have offsets at least |c| apart, distinct rows of one column |s| apart:
+    // a window of w bins holds at most perLine of each
+    bound = Math.min(bound, cappedSum(ends.cells, nRows, perLine(w, Math.abs(c))));
+    if (beaten(bound)) continue;
+    bound = Math.min(bound, cappedSum(colCells, nCols, perLine(w, Math.abs(s))));
+    if (beaten(bound)) continue;
+    search(a);
   }
   return { count: bestCount, c: bestC, s: bestS, lo: bestLo };
+}
+
+/**
+ * Cells per one-cell bin of the offset col c + row s of the first `n` cells, from the least offset
+ * `r0` on, in the first `nb` places of `bins` (at least 4 nb long). `ends` holds the cells' rows (`fullestBand`).
+ */
+function histogram(col: Float64Array, row: Float64Array, n: number, c: number, s: number, ends: RowEnds, bins: Int32Array): { nb: number; r0: number } {
+  // The offset never decreases with col (c >= 0) or never increases (c < 0) along a row: each row's
+  // least and greatest offsets are at its ends.
+  const lo = c >= 0 ? ends.first : ends.last, hi = c >= 0 ? ends.last : ends.first;
+  let r0 = Infinity, r1 = -Infinity;
+  for (let k = 0; k < ends.count; k++) {
+    const q0 = lo[k]! * c + ends.row[k]! * s, q1 = hi[k]! * c + ends.row[k]! * s;
+    if (q0 < r0) r0 = q0;
+    if (q1 > r1) r1 = q1;
+  }
+  // offset - r0 >= 0: truncation is the floor. Four interleaved histograms (cell i counts in histogram
+  // i mod 4): neighbouring cells mostly fall in one bin, and counting them in one array makes each
+  // increment wait for the one before.
+  const nb = Math.floor(r1 - r0) + 2;
+  bins.fill(0, 0, 4 * nb);
+  let i = 0;
+  for (; i + 3 < n; i += 4) {
+    bins[4 * ((col[i]! * c + row[i]! * s - r0) | 0)]!++;
+    bins[4 * ((col[i + 1]! * c + row[i + 1]! * s - r0) | 0) + 1]!++;
+    bins[4 * ((col[i + 2]! * c + row[i + 2]! * s - r0) | 0) + 2]!++;
+    bins[4 * ((col[i + 3]! * c + row[i + 3]! * s - r0) | 0) + 3]!++;
+  }
+  for (; i < n; i++) bins[4 * ((col[i]! * c + row[i]! * s - r0) | 0)]!++;
+  // the four histograms summed into the first nb places (bin b reads places 4b.. not yet written)
+  for (let b = 0; b < nb; b++) bins[b] = bins[4 * b]! + bins[4 * b + 1]! + bins[4 * b + 2]! + bins[4 * b + 3]!;
+  return { nb, r0 };
 }
 
 /** 8-connected parts of a set of cells (ascending grid indices), largest first. */

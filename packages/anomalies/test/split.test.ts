@@ -1,6 +1,7 @@
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { extractAnomalies, squaredDistance, thickParts } from '../src';
-import { straightBands } from '../src/split';
+import { fullestBand, straightBands } from '../src/split';
 import { grid, py, rng, synthStack } from './helpers';
 
 describe('thick parts (morphological opening)', () => {
@@ -191,4 +192,60 @@ describe('straightBands', () => {
       expect(Array.from(stopped.rest)).toEqual(Array.from(cells).filter((c) => !taken.has(c)));
     }
   });
+
+  it('the fullest band is that of a search of every direction on small random sets (ties between directions and offsets)', () => {
+    // few cells on a small patch: many directions hold equally full bands, and the first of them must win
+    const cellSet = fc.uniqueArray(fc.integer({ min: 0, max: 40 * 40 - 1 }), { minLength: 1, maxLength: 300 });
+    fc.assert(
+      fc.property(cellSet, fc.integer({ min: 1, max: 40 }), fc.integer({ min: 1, max: 12 }), (list, width, w) => {
+        const cells = Int32Array.from(list).sort();
+        const col = Float64Array.from(cells, (k) => k % width), row = Float64Array.from(cells, (k) => (k / width) | 0);
+        expect(fullestBand(col, row, cells.length, w)).toEqual(plainFullestBand(col, row, w));
+      }),
+      { numRuns: 400, seed: 15 },
+    );
+  });
+
+  it('the fullest band is that of a search of every direction on thick strips and their crossings', () => {
+    const r = rng(23);
+    for (let trial = 0; trial < 40; trial++) {
+      const width = 200;
+      const set = new Set<number>();
+      for (let k = 0; k < 1 + (trial % 3); k++) {
+        const th = r() * Math.PI, half = 1 + r() * 10, cx = 60 + r() * 80, cy = 60 + r() * 80, len = 10 + r() * 60;
+        for (let y = 0; y < 200; y++)
+          for (let x = 0; x < width; x++) {
+            const along = (x - cx) * Math.cos(th) + (y - cy) * Math.sin(th);
+            const across = -(x - cx) * Math.sin(th) + (y - cy) * Math.cos(th);
+            if (Math.abs(along) <= len && Math.abs(across) <= half && r() > 0.1) set.add(y * width + x);
+          }
+      }
+      const cells = Int32Array.from(set).sort();
+      const col = Float64Array.from(cells, (k) => k % width), row = Float64Array.from(cells, (k) => (k / width) | 0);
+      const w = 1 + Math.floor(r() * 30);
+      expect(fullestBand(col, row, cells.length, w)).toEqual(plainFullestBand(col, row, w));
+    }
+  });
 });
+
+/** The fullest band of `w` bins over every direction in turn, the first strictly fuller one taken (`fullestBand` as first written). */
+function plainFullestBand(col: Float64Array, row: Float64Array, w: number): { count: number; c: number; s: number; lo: number } {
+  const span = Math.hypot(Math.max(...col) - Math.min(...col), Math.max(...row) - Math.min(...row));
+  const nA = Math.min(720, Math.max(90, Math.ceil(Math.PI * span)));
+  let best = { count: 0, c: 1, s: 0, lo: 0 };
+  for (let a = 0; a < nA; a++) {
+    const th = (Math.PI * a) / nA;
+    const c = Math.cos(th), s = Math.sin(th);
+    const rho = Array.from(col, (x, i) => x * c + row[i]! * s);
+    const r0 = Math.min(...rho), r1 = Math.max(...rho);
+    const bins = new Array<number>(Math.floor(r1 - r0) + 2).fill(0);
+    for (const q of rho) bins[Math.floor(q - r0)]!++;
+    let run = 0;
+    for (let b = 0; b < bins.length; b++) {
+      run += bins[b]!;
+      if (b >= w) run -= bins[b - w]!;
+      if (run > best.count) best = { count: run, c, s, lo: r0 + Math.max(0, b - w + 1) };
+    }
+  }
+  return best;
+}
