@@ -32,13 +32,20 @@ export function traceOutline(cells: ArrayLike<number>, grid: SliceGrid): Outline
   }
   // vertices (i, j) with i in 0..w, j in 0..h; y grows northwards, so j grows southwards
   const vw = w + 1;
-  const from: number[] = [];
-  const to: number[] = [];
-  const dir: number[] = []; // 0 east, 1 north, 2 west, 3 south
+  // boundary edges in the order they are met, and the (at most two) edges leaving each vertex in that
+  // order: two leave a vertex where cells touch only at a corner
+  const maxEdges = 4 * cells.length;
+  const from = new Int32Array(maxEdges), to = new Int32Array(maxEdges);
+  const dir = new Uint8Array(maxEdges); // 0 east, 1 north, 2 west, 3 south
+  const out1 = new Int32Array(vw * (h + 1)).fill(-1), out2 = new Int32Array(vw * (h + 1)).fill(-1);
+  let nEdges = 0;
   const add = (a: number, b: number, d: number) => {
-    from.push(a);
-    to.push(b);
-    dir.push(d);
+    from[nEdges] = a;
+    to[nEdges] = b;
+    dir[nEdges] = d;
+    if (out1[a]! < 0) out1[a] = nEdges;
+    else out2[a] = nEdges;
+    nEdges++;
   };
   for (let r = 1; r < h - 1; r++) {
     for (let c = 1; c < w - 1; c++) {
@@ -50,36 +57,41 @@ export function traceOutline(cells: ArrayLike<number>, grid: SliceGrid): Outline
       if (!mask[r * w + c - 1]) add(tl, bl, 3);
     }
   }
-  const out = new Map<number, number[]>();
-  for (let e = 0; e < from.length; e++) {
-    const list = out.get(from[e]!);
-    if (list) list.push(e);
-    else out.set(from[e]!, [e]);
-  }
-  const used = new Uint8Array(from.length);
+  const used = new Uint8Array(nEdges);
   const rings: Ring[] = [];
   const toXY = (v: number): [number, number] => {
     const j = (v / vw) | 0;
     const i = v - j * vw;
     return [grid.originX + (i - 1 + c0) * grid.cellSize, grid.originY - (j - 1 + r0) * grid.cellSize];
   };
-  for (let e0 = 0; e0 < from.length; e0++) {
+  // preference of the next edge by its turn from the last: left (3), straight (2), right (1)
+  const RANK = [2, 3, 0, 1];
+  // one ring's vertices and edge directions; a vertex's place in the loop being split off (-1: none)
+  const verts = new Int32Array(nEdges), dirs = new Uint8Array(nEdges);
+  const at = new Int32Array(vw * (h + 1)).fill(-1);
+  const sv = new Int32Array(nEdges), sd = new Uint8Array(nEdges);
+  const emit = (vs: Int32Array, ds: Uint8Array, a: number, b: number) => {
+    const ring: Ring = [];
+    const n = b - a;
+    for (let i = 0; i < n; i++) if (ds[a + i] !== ds[a + ((i - 1 + n) % n)]) ring.push(toXY(vs[a + i]!));
+    if (ring.length < 3) return;
+    ring.push([ring[0]![0], ring[0]![1]]);
+    rings.push(ring);
+  };
+  for (let e0 = 0; e0 < nEdges; e0++) {
     if (used[e0]) continue;
-    const verts: number[] = [];
-    const dirs: number[] = [];
+    let nv = 0;
     let e = e0;
     while (!used[e]) {
       used[e] = 1;
-      verts.push(from[e]!);
-      dirs.push(dir[e]!);
-      const options = out.get(to[e]!) ?? [];
+      verts[nv] = from[e]!;
+      dirs[nv++] = dir[e]!;
       let next = -1;
       let best = -1;
-      for (const o of options) {
-        if (used[o]) continue;
-        // preference: left turn (3), straight (2), right turn (1)
-        const turn = (dir[o]! - dir[e]! + 4) % 4;
-        const rank = turn === 1 ? 3 : turn === 0 ? 2 : turn === 3 ? 1 : 0;
+      for (let k = 0; k < 2; k++) {
+        const o = k === 0 ? out1[to[e]!]! : out2[to[e]!]!;
+        if (o < 0 || used[o]) continue;
+        const rank = RANK[(dir[o]! - dir[e]! + 4) % 4]!;
         if (rank > best) {
           best = rank;
           next = o;
@@ -90,30 +102,21 @@ export function traceOutline(cells: ArrayLike<number>, grid: SliceGrid): Outline
     }
     // a ring that passes a vertex twice touches itself there: split it into simple loops
     // (one outer and one hole, told apart by orientation)
-    const sv: number[] = [];
-    const sd: number[] = [];
-    const at = new Map<number, number>();
-    const emit = (vs: number[], ds: number[]) => {
-      const ring: Ring = [];
-      for (let i = 0; i < vs.length; i++) if (ds[i] !== ds[(i - 1 + ds.length) % ds.length]) ring.push(toXY(vs[i]!));
-      if (ring.length < 3) return;
-      ring.push([ring[0]![0], ring[0]![1]]);
-      rings.push(ring);
-    };
-    for (let i = 0; i < verts.length; i++) {
+    let ns = 0;
+    for (let i = 0; i < nv; i++) {
       const v = verts[i]!;
-      const p = at.get(v);
-      if (p !== undefined) {
-        const vs = sv.splice(p);
-        const ds = sd.splice(p);
-        for (const u of vs) at.delete(u);
-        emit(vs, ds);
+      const p = at[v]!;
+      if (p >= 0) {
+        for (let q = p; q < ns; q++) at[sv[q]!] = -1;
+        emit(sv, sd, p, ns);
+        ns = p;
       }
-      at.set(v, sv.length);
-      sv.push(v);
-      sd.push(dirs[i]!);
+      at[v] = ns;
+      sv[ns] = v;
+      sd[ns++] = dirs[i]!;
     }
-    emit(sv, sd);
+    emit(sv, sd, 0, ns);
+    for (let q = 0; q < ns; q++) at[sv[q]!] = -1;
   }
   const outers: Ring[][] = [];
   const holes: Ring[] = [];
