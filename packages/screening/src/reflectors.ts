@@ -88,26 +88,57 @@ export function reflectorsOf(plan: PlanFeature[], metresPerUnit: number): Reflec
   return out;
 }
 
-/** Distance from (x, y) to the segment at `s[i..i+3]` (ax, ay, bx, by). */
-function segmentDistance(s: Float64Array | number[], i: number, x: number, y: number): number {
+/** Offset (x, y) from its foot on the segment `s[i..i+3]` (ax, ay, bx, by), written into `offset`. */
+function segmentOffset(s: Float64Array | number[], i: number, x: number, y: number): void {
   const ax = s[i]!, ay = s[i + 1]!, bx = s[i + 2]!, by = s[i + 3]!;
   const dx = bx - ax, dy = by - ay;
   const l2 = dx * dx + dy * dy;
   let t = l2 > 0 ? ((x - ax) * dx + (y - ay) * dy) / l2 : 0;
   t = t < 0 ? 0 : t > 1 ? 1 : t;
-  return Math.hypot(x - ax - t * dx, y - ay - t * dy);
+  offset[0] = x - ax - t * dx;
+  offset[1] = y - ay - t * dy;
+}
+const offset = new Float64Array(2);
+
+/** Distance from (x, y) to the segment at `s[i..i+3]` (ax, ay, bx, by). */
+function segmentDistance(s: Float64Array | number[], i: number, x: number, y: number): number {
+  segmentOffset(s, i, x, y);
+  return Math.hypot(offset[0]!, offset[1]!);
 }
 
-/** Distance from (x, y) to a reflector, site CRS units. */
+/** The square of `segmentDistance` (not rounded to it): for comparisons within a margin. */
+function segmentDistance2(s: Float64Array | number[], i: number, x: number, y: number): number {
+  segmentOffset(s, i, x, y);
+  return offset[0]! * offset[0]! + offset[1]! * offset[1]!;
+}
+
+function pointDistance2(p: Float64Array, i: number, x: number, y: number): number {
+  const ex = x - p[i]!, ey = y - p[i + 1]!;
+  return ex * ex + ey * ey;
+}
+
+/**
+ * Distance from (x, y) to a reflector, site CRS units: the least `Math.hypot` over its segments and
+ * points. With more than one element, Math.hypot (slow) is worked out only for those whose squared
+ * distance lies within 1e-9 of the least one: far above the rounding of either, so no other element
+ * could give a smaller distance.
+ */
 export function distanceTo(r: Reflector, x: number, y: number): number {
+  const s = r.segments, p = r.points;
+  if (s.length === 0 && p.length <= 2) return p.length === 2 ? Math.hypot(x - p[0]!, y - p[1]!) : Infinity;
+  if (s.length === 4 && p.length === 0) return segmentDistance(s, 0, x, y);
+  let near2 = Infinity;
+  for (let i = 0; i < s.length; i += 4) near2 = Math.min(near2, segmentDistance2(s, i, x, y));
+  for (let i = 0; i < p.length; i += 2) near2 = Math.min(near2, pointDistance2(p, i, x, y));
+  const within = near2 * (1 + 1e-9) + 1e-300;
   let best = Infinity;
-  const s = r.segments;
   for (let i = 0; i < s.length; i += 4) {
+    if (!(segmentDistance2(s, i, x, y) <= within)) continue;
     const d = segmentDistance(s, i, x, y);
     if (d < best) best = d;
   }
-  const p = r.points;
   for (let i = 0; i < p.length; i += 2) {
+    if (!(pointDistance2(p, i, x, y) <= within)) continue;
     const d = Math.hypot(x - p[i]!, y - p[i + 1]!);
     if (d < best) best = d;
   }
