@@ -233,7 +233,7 @@ function fresnelOfSlice(depthM: number, thicknessM: number): number {
 }
 
 function hasSeed(cells: Int32Array, z: Float32Array, high: number): boolean {
-  for (const k of cells) if (z[k]! >= high) return true;
+  for (let i = 0; i < cells.length; i++) if (z[cells[i]!]! >= high) return true;
   return false;
 }
 

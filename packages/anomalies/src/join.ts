@@ -64,7 +64,8 @@ export function joinAlignedPieces(
   const maxAngle = options.maxAngleDeg ?? 20;
   const box = pieces.map((a) => {
     let r0 = Infinity, r1 = -Infinity, c0 = Infinity, c1 = -Infinity;
-    for (const k of a.cells) {
+    for (let ci = 0; ci < a.cells.length; ci++) {
+      const k = a.cells[ci]!;
       const r = (k / grid.width) | 0, c = k - r * grid.width;
       if (r < r0) r0 = r;
       if (r > r1) r1 = r;

@@ -55,13 +55,14 @@ export function linkMembers(members: Member[], gridCells: number, cellSize: numb
   const counts = new Map<number, number>();
   for (const s of slices) {
     const here = bySlice.get(s)!;
-    for (const m of here) for (const c of m.cells) label[c] = m.id;
+    for (const m of here) for (let ci = 0; ci < m.cells.length; ci++) label[m.cells[ci]!] = m.id;
     for (let g = 1; g <= maxGap + 1; g++) {
       const next = bySlice.get(s + g);
       if (!next) continue;
       for (const b of next) {
         counts.clear();
-        for (const c of b.cells) {
+        for (let ci = 0; ci < b.cells.length; ci++) {
+          const c = b.cells[ci]!;
           const a = label[c]!;
           if (a >= 0) counts.set(a, (counts.get(a) ?? 0) + 1);
         }
@@ -83,7 +84,7 @@ export function linkMembers(members: Member[], gridCells: number, cellSize: numb
         }
       }
     }
-    for (const m of here) for (const c of m.cells) label[c] = -1;
+    for (const m of here) for (let ci = 0; ci < m.cells.length; ci++) label[m.cells[ci]!] = -1;
   }
   return groups(members.map((m) => m.id)).map((g) => g.sort((a, b) => members[a]!.slice - members[b]!.slice || a - b));
 }

@@ -55,7 +55,8 @@ function maskParts(mask: Uint8Array, w: number, h: number, r0: number, c0: numbe
 /** A set of cells (grid indices) as a mask of its bounding box with a one-cell frame (see `maskParts`). */
 function boxMask(cells: Int32Array, width: number): { mask: Uint8Array; w: number; h: number; r0: number; c0: number } {
   let r0 = Infinity, r1 = -Infinity, c0 = Infinity, c1 = -Infinity;
-  for (const k of cells) {
+  for (let i = 0; i < cells.length; i++) {
+    const k = cells[i]!;
     const r = (k / width) | 0, c = k - r * width;
     if (r < r0) r0 = r;
     if (r > r1) r1 = r;
@@ -64,7 +65,8 @@ function boxMask(cells: Int32Array, width: number): { mask: Uint8Array; w: numbe
   }
   const w = c1 - c0 + 3, h = r1 - r0 + 3;
   const mask = new Uint8Array(w * h);
-  for (const k of cells) {
+  for (let i = 0; i < cells.length; i++) {
+    const k = cells[i]!;
     const r = (k / width) | 0, c = k - r * width;
     mask[(r - r0 + 1) * w + (c - c0 + 1)] = 1;
   }

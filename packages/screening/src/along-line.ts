@@ -149,7 +149,8 @@ export function planarStrips(strips: readonly Member[], grid: SliceStack['grid']
     const parent = ms.map((_, i) => i);
     const find = (i: number): number => (parent[i] === i ? i : (parent[i] = find(parent[i]!)));
     ms.forEach((m, i) => {
-      for (const k of m.cells) {
+      for (let ci = 0; ci < m.cells.length; ci++) {
+        const k = m.cells[ci]!;
         const y = (k / width) | 0, x = k - y * width;
         for (let dy = -r; dy <= r; dy++) {
           const yy = y + dy;
@@ -184,7 +185,8 @@ export function planarStrips(strips: readonly Member[], grid: SliceStack['grid']
       let lo = Infinity, hi = -Infinity;
       for (const i of g) {
         const m = ms[i]!;
-        for (const k of m.cells) {
+        for (let ci = 0; ci < m.cells.length; ci++) {
+          const k = m.cells[ci]!;
           const yy = (k / width) | 0;
           const p = (cellCentreX(grid, k - yy * width) * ax + cellCentreY(grid, yy) * ay) * metresPerUnit;
           lo = Math.min(lo, p);

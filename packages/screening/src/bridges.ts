@@ -48,7 +48,7 @@ export function bridgeThroughFields(screened: ScreenedAnomaly[], stack: SliceSta
       if (s.verdict.origin !== 'above-ground') continue;
       for (const m of s.anomaly.members) {
         const set = airCells.get(m.slice) ?? new Set<number>();
-        for (const c of m.cells) set.add(c);
+        for (let ci = 0; ci < m.cells.length; ci++) set.add(m.cells[ci]!);
         airCells.set(m.slice, set);
       }
     }

@@ -56,12 +56,13 @@ export function separateCrossings(members: Member[], stack: SliceStack, scores: 
       if (!Number.isFinite(l.radiusM)) continue;
       const band = l.bandHalfM + ctx.positionM;
       let nearest = Infinity;
-      for (const c of m.cells) nearest = Math.min(nearest, field[c]!);
+      for (let ci = 0; ci < m.cells.length; ci++) nearest = Math.min(nearest, field[m.cells[ci]!]!);
       if (nearest > l.radiusM + band) continue;
       const inside: number[] = [], off: number[] = [];
       const res = new Map<number, number>();
       const residual = locusResidual(refl, field, l.radiusM, ctx);
-      for (const c of m.cells) {
+      for (let ci = 0; ci < m.cells.length; ci++) {
+        const c = m.cells[ci]!;
         const v = residual(c);
         res.set(c, v);
         (Math.abs(v) <= band ? inside : off).push(c);

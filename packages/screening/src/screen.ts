@@ -316,7 +316,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     const taken = new Map<number, Set<number>>();
     for (const m of members) {
       const t = taken.get(m.slice) ?? new Set<number>();
-      for (const c of m.cells) t.add(c);
+      for (let ci = 0; ci < m.cells.length; ci++) t.add(m.cells[ci]!);
       taken.set(m.slice, t);
     }
     const reach = Number.isFinite(spacing) ? Math.max(1, Math.ceil((0.5 * spacing) / cellM)) : 1;

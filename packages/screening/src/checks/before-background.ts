@@ -18,7 +18,8 @@ export function beforeBackgroundEvidence(mo: MoveOutResult, ctx: ScreenContext, 
     const reach = Math.ceil(2 / (g.cellSize * ctx.metresPerUnit));
     const m = f.member;
     let c0 = Infinity, c1 = -Infinity, r0 = Infinity, r1 = -Infinity;
-    for (const c of m.cells) {
+    for (let ci = 0; ci < m.cells.length; ci++) {
+      const c = m.cells[ci]!;
       const r = (c / g.width) | 0, cc = c - r * g.width;
       c0 = Math.min(c0, cc); c1 = Math.max(c1, cc); r0 = Math.min(r0, r); r1 = Math.max(r1, r);
     }
