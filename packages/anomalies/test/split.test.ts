@@ -104,24 +104,7 @@ function plainStraightBands(cells: Int32Array, width: number, bandCells: number,
   const bands: Int32Array[] = [];
   while (bands.length < maxBands && left.length >= minCells) {
     const col = left.map((k) => k % width), row = left.map((k) => (k / width) | 0);
-    const span = Math.hypot(Math.max(...col) - Math.min(...col), Math.max(...row) - Math.min(...row));
-    const nA = Math.min(720, Math.max(90, Math.ceil(Math.PI * span)));
-    let best = { count: 0, c: 1, s: 0, lo: 0 };
-    for (let a = 0; a < nA; a++) {
-      const th = (Math.PI * a) / nA;
-      const c = Math.cos(th), s = Math.sin(th);
-      const rho = left.map((_, i) => col[i]! * c + row[i]! * s);
-      const r0 = Math.min(...rho), r1 = Math.max(...rho);
-      const nb = Math.floor(r1 - r0) + 2;
-      const bins = new Array<number>(nb).fill(0);
-      for (const r of rho) bins[Math.floor(r - r0)]!++;
-      let run = 0;
-      for (let b = 0; b < nb; b++) {
-        run += bins[b]!;
-        if (b >= w) run -= bins[b - w]!;
-        if (run > best.count) best = { count: run, c, s, lo: r0 + Math.max(0, b - w + 1) };
-      }
-    }
+    const best = plainFullestBand(Float64Array.from(col), Float64Array.from(row), w);
     if (best.count < minCells) break;
     const inBand = (i: number) => {
       const r = col[i]! * best.c + row[i]! * best.s;
@@ -143,12 +126,7 @@ describe('straightBands', () => {
       const strips = 2 + Math.floor(r() * 3);
       for (let k = 0; k < strips; k++) {
         const th = r() * Math.PI, half = 1 + r() * 4, cx = 50 + r() * 60, cy = 50 + r() * 60, len = 20 + r() * 50;
-        for (let y = 0; y < 160; y++)
-          for (let x = 0; x < width; x++) {
-            const along = (x - cx) * Math.cos(th) + (y - cy) * Math.sin(th);
-            const across = -(x - cx) * Math.sin(th) + (y - cy) * Math.cos(th);
-            if (Math.abs(along) <= len && Math.abs(across) <= half && r() > 0.1) set.add(y * width + x);
-          }
+        paintStrip(set, r, width, 160, th, half, cx, cy, len);
       }
       const cells = Int32Array.from(set).sort();
       const bandCells = 2 + r() * 10;
@@ -208,17 +186,12 @@ describe('straightBands', () => {
 
   it('the fullest band is that of a search of every direction on thick strips and their crossings', () => {
     const r = rng(23);
-    for (let trial = 0; trial < 40; trial++) {
+    for (let trial = 0; trial < 16; trial++) {
       const width = 200;
       const set = new Set<number>();
       for (let k = 0; k < 1 + (trial % 3); k++) {
         const th = r() * Math.PI, half = 1 + r() * 10, cx = 60 + r() * 80, cy = 60 + r() * 80, len = 10 + r() * 60;
-        for (let y = 0; y < 200; y++)
-          for (let x = 0; x < width; x++) {
-            const along = (x - cx) * Math.cos(th) + (y - cy) * Math.sin(th);
-            const across = -(x - cx) * Math.sin(th) + (y - cy) * Math.cos(th);
-            if (Math.abs(along) <= len && Math.abs(across) <= half && r() > 0.1) set.add(y * width + x);
-          }
+        paintStrip(set, r, width, 200, th, half, cx, cy, len);
       }
       const cells = Int32Array.from(set).sort();
       const col = Float64Array.from(cells, (k) => k % width), row = Float64Array.from(cells, (k) => (k / width) | 0);
@@ -227,6 +200,16 @@ describe('straightBands', () => {
     }
   });
 });
+
+/** Cells of a straight strip (direction th, half-width `half`, half-length `len` about (cx, cy)) into `set`, each kept with probability 0.9. */
+function paintStrip(set: Set<number>, r: () => number, width: number, height: number, th: number, half: number, cx: number, cy: number, len: number): void {
+  for (let y = 0; y < height; y++)
+    for (let x = 0; x < width; x++) {
+      const along = (x - cx) * Math.cos(th) + (y - cy) * Math.sin(th);
+      const across = -(x - cx) * Math.sin(th) + (y - cy) * Math.cos(th);
+      if (Math.abs(along) <= len && Math.abs(across) <= half && r() > 0.1) set.add(y * width + x);
+    }
+}
 
 /** The fullest band of `w` bins over every direction in turn, the first strictly fuller one taken (`fullestBand` as first written). */
 function plainFullestBand(col: Float64Array, row: Float64Array, w: number): { count: number; c: number; s: number; lo: number } {
