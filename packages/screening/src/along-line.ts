@@ -132,7 +132,12 @@ export function alongLineMembers(before: SliceStack, scores: Float32Array[], tak
  * Returns the ids of the strips in such groups.
  */
 export function planarStrips(strips: readonly Member[], grid: SliceStack['grid'], reachCells: number, tooWide: (acrossM: number, depthM: number, topM: number) => boolean, metresPerUnit = 1): Set<number> {
-  const out = new Set<number>();
+  return new Set(planarGroups(strips, grid, reachCells, tooWide, metresPerUnit).flatMap((g) => g.map((m) => m.id)));
+}
+
+/** The groups of strips that `planarStrips` finds too wide for a utility, each a list of its strips (one slice). */
+export function planarGroups(strips: readonly Member[], grid: SliceStack['grid'], reachCells: number, tooWide: (acrossM: number, depthM: number, topM: number) => boolean, metresPerUnit = 1): Member[][] {
+  const out: Member[][] = [];
   const { width, height } = grid;
   const r = Math.max(1, Math.round(reachCells));
   const bySlice = new Map<number, Member[]>();
@@ -194,7 +199,7 @@ export function planarStrips(strips: readonly Member[], grid: SliceStack['grid']
         }
       }
       const acrossM = hi - lo + grid.cellSize * metresPerUnit;
-      if (tooWide(acrossM, ms[g[0]!]!.bottomM, ms[g[0]!]!.topM)) for (const i of g) out.add(ms[i]!.id);
+      if (tooWide(acrossM, ms[g[0]!]!.bottomM, ms[g[0]!]!.topM)) out.push(g.map((i) => ms[i]!));
     }
   }
   return out;

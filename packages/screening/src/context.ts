@@ -172,6 +172,14 @@ export interface ScreenContext {
    * spans (see slopeEvidence).
    */
   lineBound?: boolean;
+  /**
+   * Strips found before background removal that lie in a planar group (`planarGroups`: strips on
+   * neighbouring lines together wider than a utility): the azimuth of the band their group makes in the
+   * slice, by member id, where that band is linear. A strip runs along its own line; a flat event
+   * crossing the lines obliquely (a cable's or a wall's air wave) shows as such strips side by side, and
+   * it is their band that runs parallel to the object (edgeEvidence).
+   */
+  groupDirectionDeg?: Map<number, number>;
 }
 
 /** A reflector's locus in slice k (an overhead object's lies nearer and wider: locusAtHeight). */

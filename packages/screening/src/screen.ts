@@ -5,6 +5,7 @@ import {
   extractAnomalies,
   fitNoiseLaw,
   joinAlignedPieces,
+  cellShape,
   isExtensive,
   isOneLineStrip,
   isPointPiece,
@@ -29,7 +30,7 @@ import type { VelocityReport } from '@lamina/velocity';
 import { separateCrossings } from './crossings';
 import { bridgeThroughFields } from './bridges';
 import { piecesOfBuried } from './inside-buried';
-import { alongLineMembers, nearestLineLabels, planarStrips } from './along-line';
+import { alongLineMembers, nearestLineLabels, planarGroups } from './along-line';
 import { CrossingLines, type DirectionStack } from './crossing-lines';
 import { lineSpacingM, sliceLoci, surveyedMask, type Line, type ToleranceOptions } from './context';
 import { combine, type Evidence } from './evidence';
@@ -340,7 +341,16 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
       m.noiseEnergy = laws.get(m.slice)!;
       m.strengthDb = m.noiseEnergy > 0 ? 10 * Math.log10(Math.max(m.peakValue, 1e-300) / m.noiseEnergy) : Number.NaN;
     }
-    for (const id of planarStrips(strips, grid, Number.isFinite(spacing) ? spacing / cellM : 1, (acrossM, z, top) => acrossM > Math.min(maxUtilityWidthM(z, classCtx, options.classes), sameSliceWidthM(top, z - top, classCtx, options.classes)), mpu)) planar.add(id);
+    const groups = planarGroups(strips, grid, Number.isFinite(spacing) ? spacing / cellM : 1, (acrossM, z, top) => acrossM > Math.min(maxUtilityWidthM(z, classCtx, options.classes), sameSliceWidthM(top, z - top, classCtx, options.classes)), mpu);
+    const groupDirectionDeg = new Map<number, number>();
+    for (const g of groups) {
+      const shape = cellShape(Int32Array.from(new Set(g.flatMap((m) => Array.from(m.cells)))).sort(), grid, { ...options, metresPerUnit: mpu });
+      for (const m of g) {
+        planar.add(m.id);
+        if (shape.kind === 'linear') groupDirectionDeg.set(m.id, shape.directionDeg);
+      }
+    }
+    ctxUnmigrated.groupDirectionDeg = groupDirectionDeg;
     for (const g of relink(strips, grid.width * grid.height, grid.cellSize, options)) {
       const before = screened.length;
       screenOne(buildAnomaly('A', g, bb, { ...options, metresPerUnit: mpu }), 0, ctxUnmigrated);

@@ -93,3 +93,40 @@ describe('strips of a flat layer on many lines are a layer, a utility along a li
     for (const f of utility) expect(f.properties.class, String(f.properties.classReason)).toBe('utility');
   });
 });
+
+/**
+ * A wall at 20 degrees to the lines: each line records its air wave where its distance d from the wall
+ * is z c / v, so before background removal each slice holds a strip along every line near that distance,
+ * and the strips side by side make a band parallel to the wall. A strip runs along its line, 20 degrees
+ * off the wall; the band of its planar group runs along the wall, and it is the band that the edge
+ * alignment reads (ScreenContext.groupDirectionDeg). K 9 (c / v = 3), lines north-south every 0.5 m.
+ */
+describe('strips of an air wave crossing the lines obliquely: their band is parallel to the object', () => {
+  const g: SliceGrid = { crs: 'local', originX: 0, originY: 12, cellSize: 0.1, width: 120, height: 120, nodata: -9999 };
+  const depths = Array.from({ length: 8 }, (_, i) => 0.45 + 0.1 * i);
+  const lines = surveyLines(g, 0.5, 0.05);
+  const gauss = (d: number, s: number) => Math.exp(-(d * d) / (2 * s * s));
+  const nearestLineX = (x: number) => 0.25 + 0.5 * Math.round((x - 0.25) / 0.5);
+  // the wall through (-1, 0) at azimuth 20 degrees (east of north); distance of (x, y) from it
+  const az = (20 * Math.PI) / 180;
+  const ux = Math.sin(az), uy = Math.cos(az);
+  const dist = (x: number, y: number) => Math.abs((x + 1) * uy - y * ux);
+  const main = synthStack(g, depths, 0.1, () => 0, 1);
+  const before = synthStack(g, depths, 0.1, (x, y, z) => {
+    if (y < 0.5 || y > 11.5 || Math.abs(x - nearestLineX(x)) >= 0.15) return 0;
+    return 30 * gauss(dist(nearestLineX(x), y) - 3 * z, 0.25);
+  }, 2);
+  const plan = [feature('W', 'wall', { type: 'LineString', coordinates: [[-1, 0], [-1 + 14 * ux, 14 * uy]] })];
+  const res = screenSite({ stack: main, beforeBackgroundStack: before, plan, velocity: constantVelocity(C / 3), lines, metresPerUnit: 1, toWgs84: identity, lineSpacingM: 0.5 }, { antennaFrequencyMHz: 400 });
+  const fromBefore = res.screened.filter((s) => res.anomalies.features.find((f) => f.properties.id === s.anomaly.id)?.properties.source === 'before-background');
+
+  it('the strips run along their lines and their edge alignment with the wall passes', () => {
+    expect(fromBefore.length).toBeGreaterThanOrEqual(5);
+    let aligned = 0;
+    for (const s of fromBefore) {
+      expect(Math.min(Math.abs(s.anomaly.shape.directionDeg), Math.abs(180 - s.anomaly.shape.directionDeg))).toBeLessThan(10);
+      if (s.evidence.some((e) => e.test === 'edge-alignment' && e.passed)) aligned++;
+    }
+    expect(aligned).toBeGreaterThanOrEqual(0.8 * fromBefore.length);
+  });
+});

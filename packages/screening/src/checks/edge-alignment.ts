@@ -15,7 +15,7 @@ export function edgeEvidence(mo: MoveOutResult, ctx: ScreenContext): Evidence | 
   if (refl.segments.length === 0) return undefined;
   const lin = mo.fits.filter((f) => f.member.shape.kind === 'linear');
   if (lin.length === 0) return undefined;
-  const diffs = lin.map((f) => angleDiff(f.member.shape.directionDeg, nearestSegmentAzimuth(refl, f.member.x, f.member.y)));
+  const diffs = lin.map((f) => angleDiff(ctx.groupDirectionDeg?.get(f.member.id) ?? f.member.shape.directionDeg, nearestSegmentAzimuth(refl, f.member.x, f.member.y)));
   const ok = lin.filter((f, i) => f.passed && diffs[i]! <= ctx.parallelToleranceDeg).length;
   const med = medianHigh(diffs);
   const passed = ok / lin.length >= 0.5;
