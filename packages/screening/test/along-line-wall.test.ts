@@ -6,6 +6,12 @@ import { constantVelocity, feature, identity, surveyLines, synthStack } from './
 
 const C = C_M_PER_NS;
 
+// Every case: 12 x 12 m of 0.1 m cells, lines north-south every 0.5 m (x = 0.25, 0.75, ...).
+const g: SliceGrid = { crs: 'local', originX: 0, originY: 12, cellSize: 0.1, width: 120, height: 120, nodata: -9999 };
+const lines = surveyLines(g, 0.5, 0.05);
+const gauss = (d: number, s: number) => Math.exp(-(d * d) / (2 * s * s));
+const nearestLineX = (x: number) => 0.25 + 0.5 * Math.round((x - 0.25) / 0.5);
+
 /**
  * Lines parallel to a wall: each records the wall's air wave at the constant time 2 d / c (d its
  * distance from the wall), a flat event that background removal takes out of the main stack. In the
@@ -14,12 +20,8 @@ const C = C_M_PER_NS;
  * lines north-south every 0.5 m, the wall north-south 1 m west of the first line.
  */
 describe('strips along lines parallel to a wall (before background removal)', () => {
-  const g: SliceGrid = { crs: 'local', originX: 0, originY: 12, cellSize: 0.1, width: 120, height: 120, nodata: -9999 };
   const depths = Array.from({ length: 16 }, (_, i) => 0.15 + 0.1 * i);
-  const lines = surveyLines(g, 0.5, 0.05); // x = 0.25, 0.75, ...
   const wallX = -0.75;
-  const gauss = (d: number, s: number) => Math.exp(-(d * d) / (2 * s * s));
-  const nearestLineX = (x: number) => 0.25 + 0.5 * Math.round((x - 0.25) / 0.5);
   const utilityX = 8.25;
   const main = synthStack(g, depths, 0.1, () => 0, 1);
   const before = synthStack(g, depths, 0.1, (x, y, z) => {
@@ -66,11 +68,7 @@ describe('strips along lines parallel to a wall (before background removal)', ()
  * while a utility along one line, three lines' footprint wide at most, stays a utility.
  */
 describe('strips of a flat layer on many lines are a layer, a utility along a line stays a utility', () => {
-  const g: SliceGrid = { crs: 'local', originX: 0, originY: 12, cellSize: 0.1, width: 120, height: 120, nodata: -9999 };
   const depths = Array.from({ length: 16 }, (_, i) => 0.15 + 0.1 * i);
-  const lines = surveyLines(g, 0.5, 0.05);
-  const gauss = (d: number, s: number) => Math.exp(-(d * d) / (2 * s * s));
-  const nearestLineX = (x: number) => 0.25 + 0.5 * Math.round((x - 0.25) / 0.5);
   const utilityX = 9.25;
   const main = synthStack(g, depths, 0.1, () => 0, 1);
   const before = synthStack(g, depths, 0.1, (x, y, z) => {
@@ -102,11 +100,7 @@ describe('strips of a flat layer on many lines are a layer, a utility along a li
  * alignment reads (ScreenContext.groupDirectionDeg). K 9 (c / v = 3), lines north-south every 0.5 m.
  */
 describe('strips of an air wave crossing the lines obliquely: their band is parallel to the object', () => {
-  const g: SliceGrid = { crs: 'local', originX: 0, originY: 12, cellSize: 0.1, width: 120, height: 120, nodata: -9999 };
   const depths = Array.from({ length: 8 }, (_, i) => 0.45 + 0.1 * i);
-  const lines = surveyLines(g, 0.5, 0.05);
-  const gauss = (d: number, s: number) => Math.exp(-(d * d) / (2 * s * s));
-  const nearestLineX = (x: number) => 0.25 + 0.5 * Math.round((x - 0.25) / 0.5);
   // the wall through (-1, 0) at azimuth 20 degrees (east of north); distance of (x, y) from it
   const az = (20 * Math.PI) / 180;
   const ux = Math.sin(az), uy = Math.cos(az);
