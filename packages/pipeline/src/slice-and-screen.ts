@@ -173,7 +173,7 @@ export async function sliceAndScreen(
   // a survey in two directions: each direction gridded from its own lines too (the one-line strip rule)
   const directions: DirectionRows[] = given
     ? (given.directions ?? [])
-    : directionSets(ids.map((_, l) => positions.line(l))).map((d) => ({ azimuthDeg: d.azimuthDeg, rows: (first, last) => (gridder as SpillGridder).rowsOfLines(first, last, d.lines) }));
+    : directionSets(ids.map((_, l) => axialDeg(positions.line(l)))).map((d) => ({ azimuthDeg: d.azimuthDeg, rows: (first, last) => (gridder as SpillGridder).rowsOfLines(first, last, d.lines) }));
   gridPlanned();
 
   const mig = recipe.steps.find((st) => st.step === 'migration');
@@ -334,10 +334,10 @@ async function writeScreenLines(dir: string, spill: PointSpill, ids: string[], d
 
 /**
  * The lines of each direction of a survey in two directions (`directionGroups`), with the azimuth of
- * their mean axis (degrees clockwise from north, as anomaly directions are); none for one direction.
+ * their mean axis (degrees clockwise from north, as anomaly directions are), from each line's axis
+ * (`axialDeg`); none for one direction.
  */
-function directionSets(lines: Float64Array[]): { azimuthDeg: number; lines: Uint8Array }[] {
-  const axes = lines.map((c) => axialDeg(c));
+function directionSets(axes: number[]): { azimuthDeg: number; lines: Uint8Array }[] {
   const group = directionGroups(axes);
   if (!group.some((g) => g === 1)) return [];
   return [0, 1].map((g) => {

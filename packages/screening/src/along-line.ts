@@ -129,13 +129,8 @@ export function alongLineMembers(before: SliceStack, scores: Float32Array[], tak
  * crossing many lines (a layer, or the ground wave), not a utility along one line: a utility parallel
  * to the lines shows on the few lines within its footprint only. Every strip is long along its line
  * (background removal takes out only what runs along most of it), so the width across decides.
- * Returns the ids of the strips in such groups.
+ * Returns such groups, each the list of its strips (one slice).
  */
-export function planarStrips(strips: readonly Member[], grid: SliceStack['grid'], reachCells: number, tooWide: (acrossM: number, depthM: number, topM: number) => boolean, metresPerUnit = 1): Set<number> {
-  return new Set(planarGroups(strips, grid, reachCells, tooWide, metresPerUnit).flatMap((g) => g.map((m) => m.id)));
-}
-
-/** The groups of strips that `planarStrips` finds too wide for a utility, each a list of its strips (one slice). */
 export function planarGroups(strips: readonly Member[], grid: SliceStack['grid'], reachCells: number, tooWide: (acrossM: number, depthM: number, topM: number) => boolean, metresPerUnit = 1): Member[][] {
   const out: Member[][] = [];
   const { width, height } = grid;

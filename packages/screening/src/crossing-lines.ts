@@ -36,15 +36,12 @@ export class CrossingLines {
 
   seen(a: Anomaly3D): boolean | undefined {
     const minAngle = this.options.minAngleDeg ?? 45;
-    let crossing: { d: DirectionStack; k: number } | undefined;
-    this.stacks.forEach((d, k) => {
-      if (axisAngleDeg(a.shape.directionDeg, [d.azimuthDeg]) >= minAngle && !crossing) crossing = { d, k };
-    });
-    if (!crossing) return undefined;
+    const k = this.stacks.findIndex((d) => axisAngleDeg(a.shape.directionDeg, [d.azimuthDeg]) >= minAngle);
+    if (k < 0) return undefined;
     let seen = 0;
     let total = 0;
     for (const m of a.members) {
-      const z = this.scoresOf(crossing.k, crossing.d.stack, m.slice);
+      const z = this.scoresOf(k, this.stacks[k]!.stack, m.slice);
       if (!z) continue;
       for (const c of m.cells) {
         total++;

@@ -209,8 +209,8 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     rateTolerance: options.rateTolerance ?? 0.25,
     ...(beforeScores ? { beforeScores } : {}),
   };
-  // the stack before background removal is never migrated: its strips are screened on the plain loci,
-  // and each of them lies along one line (lineBound)
+  // the stack before background removal is never migrated: its strips are screened on the plain loci
+  // (this context is taken before `migration` is set), and each of them lies along one line (lineBound)
   const ctxUnmigrated: ScreenContext = { ...ctx, lineBound: true };
   const vMig = options.migrationVelocityMPerNs;
   const dir = surveyDirection(lines);
@@ -350,10 +350,10 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
         if (shape.kind === 'linear') groupDirectionDeg.set(m.id, shape.directionDeg);
       }
     }
-    ctxUnmigrated.groupDirectionDeg = groupDirectionDeg;
+    const ctxStrips: ScreenContext = { ...ctxUnmigrated, groupDirectionDeg };
     for (const g of relink(strips, grid.width * grid.height, grid.cellSize, options)) {
       const before = screened.length;
-      screenOne(buildAnomaly('A', g, bb, { ...options, metresPerUnit: mpu }), 0, ctxUnmigrated);
+      screenOne(buildAnomaly('A', g, bb, { ...options, metresPerUnit: mpu }), 0, ctxStrips);
       for (let i = before; i < screened.length; i++) fromBefore.add(screened[i]!.anomaly);
     }
   }

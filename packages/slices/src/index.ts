@@ -2,7 +2,7 @@ export { type SliceGrid, type Slice, type SliceStack, type GriddingInfo, cellCen
 export { type SliceWindow, type WindowOptions, type SliceMode, defaultThicknessM, sliceWindows, traceSliceValues } from './windows';
 export { type IdwOptions, type SearchFrame, searchFrame, buildIndex, nearestWithin, idwGrid, idwRows, hasNaN } from './idw';
 export { levelLines, levelFactors } from './levelling';
-export { type SurveyGeometry, type LinePositions, type LineQueries, surveyGeometry, surveyGeometryOf, nearestOtherLine, axialDeg, directionGroups } from './survey';
+export { type SurveyGeometry, type LinePositions, type LineQueries, surveyGeometry, surveyGeometryOf, nearestOtherLine, angleDiff, axialDeg, directionGroups } from './survey';
 export { type SliceStats, type SliceRows, sliceStats, sliceStatsOfRows } from './stats';
 export {
   type LineInput,

@@ -117,7 +117,8 @@ export function directionGroups(axes: readonly number[]): Int32Array {
   return out;
 }
 
-function angleDiff(a: number, b: number): number {
+/** Smallest angle between two axes (directions modulo 180 degrees), degrees. */
+export function angleDiff(a: number, b: number): number {
   const d = Math.abs(a - b) % 180;
   return Math.min(d, 180 - d);
 }

@@ -6,7 +6,7 @@ import { encodeCogFile, RawBands, readGeoTiff } from '@lamina/cog';
 import type { SlicesJson } from '@lamina/contracts';
 import { InputError } from '@lamina/errors';
 import { shownPath } from '@lamina/site';
-import { sliceStatsOfRows, slicesCogOptions, slicesJsonOf, writeSlicesFiles, type SliceStats } from '@lamina/slices';
+import { angleDiff, sliceStatsOfRows, slicesCogOptions, slicesJsonOf, writeSlicesFiles, type SliceStats } from '@lamina/slices';
 import { SCREEN_INPUTS, type ScreenLinesJson } from '@lamina/pipeline';
 import { tileOf } from '../grid';
 import type { MergeInputs, MergeTile } from './inputs';
@@ -113,12 +113,6 @@ async function tileDirections(tile: MergeTile): Promise<{ azimuthDeg: number; fi
   return text ? ((JSON.parse(text) as ScreenLinesJson).directions ?? []) : [];
 }
 
-/** Smallest angle between two axes, degrees (modulo 180). */
-function axisDiff(a: number, b: number): number {
-  const d = Math.abs(a - b) % 180;
-  return Math.min(d, 180 - d);
-}
-
 /**
  * Writes slices.tif and slices.json of the merged survey into `outDir`: each tile's core cells (its grid
  * starts at its own extent, but all tiles share the cell size and grid lines) are copied into a raw
@@ -175,7 +169,7 @@ export async function writeMosaic(inputs: MergeInputs, outDir: string, scratchDi
     }
   };
   try {
-    for (const c of cores) {
+    for (const [i, c] of cores.entries()) {
       const file = join(c.tile.outDir, c.tile.slices.file);
       const r = await readGeoTiff(new Uint8Array(await readFile(file)));
       const s = c.tile.slices;
@@ -184,7 +178,7 @@ export async function writeMosaic(inputs: MergeInputs, outDir: string, scratchDi
       }
       copy(raw, c, (b) => r.bands[s.slices[b]!.band - 1]!);
       for (const d of directions) {
-        const own = tileDirs[cores.indexOf(c)]!.find((t) => axisDiff(t.azimuthDeg, d.azimuthDeg) < 45);
+        const own = tileDirs[i]!.find((t) => angleDiff(t.azimuthDeg, d.azimuthDeg) < 45);
         const values = own && (await readTileStack(c.tile, own.file, bands));
         if (values) copy(d.raw, c, (b) => values[b]!);
       }
