@@ -9,12 +9,13 @@
 //   layer         its depth range holds a truth interface's depth (with dip over the site)
 //   stone / root  a clutter point / root within 0.5 m in plan and at its depth
 //   other
-// Also lists the real anomalies (on a buried object, on no air-wave locus) flagged above-ground, by the
-// tests that passed. Also counts the targets that candidate rules would drop (buried / unmatched / air), to weigh a rule
+// Also lists the real anomalies (on a buried object, on no air-wave locus) flagged above-ground, and the
+// air-wave anomalies flagged and not flagged, by the tests that passed (DUMP=<file> writes every anomaly's
+// label and evidence items, a JSON line each, to weigh the evidence offline). Also counts the targets that candidate rules would drop (buried / unmatched / air), to weigh a rule
 // before building it. Usage: tsx bench/field-diagnose.ts <kept-dir> [scene ...] (VERBOSE=1 lists the
 // unmatched targets, RULE=<name> those a rule drops, with each member's slice:strength dB). A diagnostic, not a score: the frozen
 // definitions stay in packages/scoring.
-import { existsSync, readdirSync, readFileSync } from 'node:fs';
+import { existsSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { fresnelRadiusM } from '../packages/anomalies/src/index';
 import { scoreFolder } from '../packages/scoring/src/index';
@@ -37,6 +38,11 @@ const rules: Record<string, { buried: number; unmatched: number; air: number }> 
 const byClass: Record<string, Record<string, number>> = {};
 // real anomalies (on a buried object, on no locus) flagged above-ground, by the evidence that passed
 const realFlagged: Record<string, number> = {};
+// anomalies on an air-wave locus only, flagged or not, by the evidence that passed
+const airFlagged: Record<string, number> = {};
+const airMissed: Record<string, number> = {};
+// DUMP=<file>: one JSON line per anomaly (label from the truth, the evidence items), to weigh the evidence
+const dump: string[] = [];
 // anomalies whose unsurveyed-obstruction test passed, by what they match (air / real / ambiguous / none)
 const unsurveyedPasses: Record<string, number> = {};
 const strengths: Record<string, number[]> = { buried: [], unmatched: [] };
@@ -134,9 +140,17 @@ for (const scene of scenes) {
       const k = row.buried && row.reflector ? 'ambiguous' : row.reflector ? 'air' : row.buried ? 'real' : 'none';
       unsurveyedPasses[k] = (unsurveyedPasses[k] ?? 0) + 1;
     }
-    if (!row.buried || row.reflector || row.origin !== 'above-ground') continue;
     const a = anomalyProps.get(row.id);
     const tests = [...new Set(((a?.evidence ?? []) as any[]).filter((e) => e.passed && e.weight > 0).map((e) => e.test as string))].sort().join('+') || 'none';
+    if (process.env.DUMP) {
+      const label = row.reflector && !row.buried ? 'air' : row.buried && !row.reflector ? 'real' : row.buried ? 'ambiguous' : 'none';
+      dump.push(JSON.stringify({ scene, id: row.id, label, flagged: row.origin === 'above-ground', p: a?.pAboveGround, cls: a?.class, evidence: ((a?.evidence ?? []) as any[]).map((e) => ({ test: e.test, featureId: e.featureId, passed: e.passed, weight: e.weight, slice: e.slice })) }));
+    }
+    if (row.reflector && !row.buried) {
+      const tally = row.origin === 'above-ground' ? airFlagged : airMissed;
+      tally[tests] = (tally[tests] ?? 0) + 1;
+    }
+    if (!row.buried || row.reflector || row.origin !== 'above-ground') continue;
     realFlagged[tests] = (realFlagged[tests] ?? 0) + 1;
     if (process.env.VERBOSE) rows.push(`  flagged ${row.id} on ${row.buried} z ${a.depthTopM.toFixed(2)}-${a.depthBottomM.toFixed(2)} ${a.kind} L ${a.lengthM.toFixed(1)} W ${a.widthM.toFixed(1)} slices ${a.slices.length} P ${a.pAboveGround.toFixed(2)} by ${tests}`);
   }
@@ -192,6 +206,10 @@ for (const scene of scenes) {
 console.log('rules (targets each would drop):', JSON.stringify(rules));
 console.log('unmatched targets by cause:', JSON.stringify(totals));
 console.log('real anomalies flagged above-ground, by the evidence that passed:', JSON.stringify(realFlagged));
+if (process.env.DUMP) writeFileSync(process.env.DUMP, dump.join('\n') + '\n');
+const sorted = (r: Record<string, number>) => JSON.stringify(Object.fromEntries(Object.entries(r).sort((p, q) => q[1] - p[1])));
+console.log('air-wave anomalies flagged, by the evidence that passed:', sorted(airFlagged));
+console.log('air-wave anomalies not flagged, by the evidence that passed:', sorted(airMissed));
 console.log('unsurveyed-obstruction passed on anomalies matching:', JSON.stringify(unsurveyedPasses));
 for (const [c, v] of Object.entries(byClass)) console.log(`  ${c}: ${JSON.stringify(v)}`);
 const q = (a: number[], f: number) => { const s = a.filter(Number.isFinite).sort((p, r) => p - r); return s[Math.floor(f * (s.length - 1))]?.toFixed(1); };
