@@ -3,7 +3,7 @@
 import tseslint from 'typescript-eslint';
 
 export default tseslint.config(
-  // packages/processing/wasm: AssemblyScript sources (not TypeScript), compiled by scripts/build-fft-wasm.mjs
+  // packages/processing/wasm: AssemblyScript sources (not TypeScript), compiled by scripts/build-wasm.mjs
   { ignores: ['**/node_modules/**', '**/dist/**', 'bench/out/**', 'test-artifacts/**', '**/*.js', '**/*.mjs', '**/*.d.mts', '**/*.tmp.ts', 'packages/processing/wasm/**'] },
   {
     files: ['**/*.ts'],

@@ -1,6 +1,7 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { selectInPlace, selectNear } from '@lamina/stats';
 import { alongTrackM, outputFor, withData } from './line-util';
+import { lineKernels, type LineKernels } from './line-wasm';
 
 export interface BackgroundOptions {
   /**
@@ -74,6 +75,13 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
   const centres: number[] = [];
   for (let c = 0; c < nTraces; c += step) centres.push(c);
   if (centres[centres.length - 1] !== nTraces - 1) centres.push(nTraces - 1);
+  const kernels = lineKernels();
+  if (kernels) movingMedianWasm(kernels, data, nTraces, nSamples, win, centres, out);
+  else movingMedianJs(data, nTraces, nSamples, win, centres, out);
+}
+
+/** `movingMedian` in JavaScript, for the centres' windows of `win` traces. */
+export function movingMedianJs(data: Float32Array, nTraces: number, nSamples: number, win: number, centres: readonly number[], out: Float32Array): void {
   // The line transposed once (sample-major, `transpose`): a window's values at one sample are one
   // contiguous run. Centres near the ends share the window clamped to the line: its median trace is
   // computed once.
@@ -82,7 +90,7 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
   const med = new WindowMedian(win, nSamples);
   const byStart = new Map<number, Float32Array>();
   const bg = centres.map((c) => {
-    const a = Math.max(0, Math.min(nTraces - win, c - Math.floor(win / 2)));
+    const a = windowStart(c, win, nTraces);
     const known = byStart.get(a);
     if (known) return known;
     const m = Math.min(nTraces, a + win) - a;
@@ -102,6 +110,46 @@ function movingMedian(data: Float32Array, nTraces: number, nSamples: number, w: 
     const b1 = bg[Math.min(k + 1, centres.length - 1)] as Float32Array;
     for (let s = 0; s < nSamples; s++) out[t * nSamples + s] = (data[t * nSamples + s] as number) - ((b0[s] as number) + f * ((b1[s] as number) - (b0[s] as number)));
   }
+}
+
+/** The first trace of the window of `win` traces around centre c, clamped to the line. */
+function windowStart(c: number, win: number, nTraces: number): number {
+  return Math.max(0, Math.min(nTraces - win, c - Math.floor(win / 2)));
+}
+
+/**
+ * `movingMedian` in the line kernels: the transpose, each window's medians (`windowMedians`) and the
+ * subtraction there. The kernel selects its own way; where the sign of a zero or a NaN would depend on the
+ * way (flagged), `WindowMedian.exact` selects the sample as the JavaScript path does, from the same
+ * previous medians, so the result is the same, bit for bit. `out` may be `data`.
+ */
+export function movingMedianWasm(kernels: LineKernels, data: Float32Array, nTraces: number, nSamples: number, win: number, centres: readonly number[], out: Float32Array): void {
+  const n = nTraces * nSamples;
+  const starts = [...new Set(centres.map((c) => windowStart(c, win, nTraces)))];
+  const nC = centres.length;
+  const [d, t, o, lo, hi, mid, side, bg, kth, flags, cs, which] = kernels.layout(4 * n, 4 * n, 4 * n, 4 * nSamples, 4 * nSamples, 4 * (win + 1), 4 * (win + 1), 4 * nSamples * starts.length, 8 * nSamples, nSamples, 4 * nC, 4 * nC);
+  kernels.f32(d, n).set(data);
+  kernels.f32(lo, nSamples).fill(-Infinity);
+  kernels.f32(hi, nSamples).fill(Infinity);
+  kernels.k.transposeLine(d, t, nTraces, nSamples);
+  const bySample = kernels.f32(t, n);
+  const kthOf = kernels.f64(kth, nSamples);
+  const flagOf = kernels.u8(flags, nSamples);
+  const med = new WindowMedian(win, nSamples);
+  starts.forEach((a, i) => {
+    const m = Math.min(nTraces, a + win) - a;
+    kernels.k.windowMedians(t, nTraces, a, m, nSamples, i === 0, med.spread, lo, hi, mid, side, bg + 4 * nSamples * i, kth, flags);
+    const trace = kernels.f32(bg + 4 * nSamples * i, nSamples);
+    for (let s = 0; s < nSamples; s++) {
+      if (flagOf[s]) trace[s] = med.exact(bySample, s * nTraces + a, m, s);
+      else med.keep(s, kthOf[s] as number);
+    }
+    med.next();
+  });
+  kernels.i32(cs, nC).set(centres);
+  kernels.i32(which, nC).set(centres.map((c) => starts.indexOf(windowStart(c, win, nTraces))));
+  kernels.k.subtractBackground(d, o, nTraces, nSamples, bg, cs, which, nC);
+  out.set(kernels.f32(o, n));
 }
 
 /**
@@ -125,7 +173,7 @@ class WindowMedian {
   private readonly lo: Float64Array;
   private readonly hi: Float64Array;
   private havePrev = false;
-  private readonly spread: number;
+  readonly spread: number;
 
   constructor(win: number, nSamples: number) {
     this.parts = [new Float32Array(win + 1), new Float32Array(win + 1)];
@@ -204,8 +252,13 @@ class WindowMedian {
     this.havePrev = true;
   }
 
+  /** The value of rank m >> 1 at sample s, selected elsewhere (`movingMedianWasm`): the next window's pivot. */
+  keep(s: number, h: number): void {
+    this.prev[s] = h;
+  }
+
   /** The selection of `movingMedian` before the bracket, in the run's order; no bracket for the next window. */
-  private exact(v: Float32Array, o: number, m: number, s: number): number {
+  exact(v: Float32Array, o: number, m: number, s: number): number {
     const col = this.col;
     for (let i = 0; i < m; i++) col[i] = v[o + i] as number;
     const k = m >> 1;

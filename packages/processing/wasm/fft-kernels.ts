@@ -1,6 +1,6 @@
 // AssemblyScript source of the WebAssembly kernels of `WasmFFT` (../src/fft-wasm.ts): the Stockham
 // stages of `MixedRadixFFT` (../src/fft.ts), the same formulas on interleaved complex float64 numbers,
-// one complex number per 128-bit SIMD vector. Built by scripts/build-fft-wasm.mjs into
+// one complex number per 128-bit SIMD vector. Built by scripts/build-wasm.mjs into
 // ../src/fft-wasm-binary.ts (the module as base64); rebuild after a change here.
 // Pointers are byte offsets into the module's memory. `tw` holds, per twiddle w = (wr, wi), the two
 // vectors (wr, wr) and (-wi, wi) (conjugated for the inverse), so that z w = z * (wr, wr) + swap(z) * (-wi, wi).

@@ -1,0 +1,134 @@
+// The line kernels (wasm/line-kernels.ts) against the JavaScript they replace, on random lines: the same
+// bits. References outside the project: scipy.signal.sosfiltfilt (committed fixture of
+// data/make_fixtures.py) and the median by its definition (the middle of the sorted window, the mean of
+// the two middle values for an even count).
+import { spawnSync } from 'node:child_process';
+import { readFileSync } from 'node:fs';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { describe, expect, it } from 'vitest';
+import { butterworthSos } from '../src/butterworth';
+import { zeroPhaseJs, zeroPhaseWasm } from '../src/bandpass';
+import { movingMedianJs, movingMedianWasm } from '../src/background';
+import { lineKernels } from '../src/line-wasm';
+import { rng } from './synth';
+
+const kernels = lineKernels();
+if (!kernels) throw new Error('line kernels: WebAssembly SIMD expected on Node 20');
+const K = kernels;
+
+/** Byte-wise equality (tells -0 from 0 and keeps NaN payloads). */
+function sameBits(a: Float32Array, b: Float32Array): boolean {
+  return Buffer.from(a.buffer, a.byteOffset, a.byteLength).equals(Buffer.from(b.buffer, b.byteOffset, b.byteLength));
+}
+
+function randomLine(seed: number, n: number, opts: { zeros?: number; negZeros?: number; nans?: number; levels?: number } = {}): Float32Array {
+  const r = rng(seed);
+  const d = new Float32Array(n);
+  for (let i = 0; i < n; i++) {
+    const u = r.next();
+    let x = 1000 * r.normal() * Math.exp(3 * r.normal());
+    if (opts.levels) x = Math.round(r.normal() * opts.levels);
+    if (u < (opts.zeros ?? 0)) x = 0;
+    else if (u < (opts.zeros ?? 0) + (opts.negZeros ?? 0)) x = -0;
+    else if (u < (opts.zeros ?? 0) + (opts.negZeros ?? 0) + (opts.nans ?? 0)) x = NaN;
+    d[i] = x;
+  }
+  return d;
+}
+
+describe('filtfiltLine (zero-phase Butterworth of a line)', () => {
+  const cases = [
+    { nTraces: 7, nSamples: 301, order: 4, wn: [0.05, 0.4] as [number, number] },
+    { nTraces: 10, nSamples: 64, order: 2, wn: [0.1, 0.3] as [number, number] },
+    { nTraces: 3, nSamples: 5, order: 4, wn: [0.2, 0.6] as [number, number] },
+    { nTraces: 1, nSamples: 2, order: 3, wn: [0.2, 0.6] as [number, number] },
+  ];
+  for (const [i, c] of cases.entries()) {
+    it(`the JavaScript loop's bits: ${c.nTraces} traces x ${c.nSamples} samples, order ${c.order}`, () => {
+      const sos = butterworthSos(c.order, c.wn, 'bandpass');
+      const data = randomLine(11 + i, c.nTraces * c.nSamples);
+      const js = zeroPhaseJs(sos, data, c.nTraces, c.nSamples, new Float32Array(data.length));
+      const wasm = zeroPhaseWasm(K, sos, data, c.nTraces, c.nSamples, new Float32Array(data.length));
+      expect(sameBits(wasm, js)).toBe(true);
+      // in place
+      const copy = data.slice();
+      zeroPhaseWasm(K, sos, copy, c.nTraces, c.nSamples, copy);
+      expect(sameBits(copy, js)).toBe(true);
+    });
+  }
+
+  it('scipy.signal.sosfiltfilt on the fixture signals (1e-7 of the peak, float32 output)', () => {
+    const fx = JSON.parse(readFileSync(new URL('./data/scipy-signal.json', import.meta.url), 'utf8')) as {
+      signals: number[][];
+      filters: { kind: 'bandpass' | 'lowpass' | 'highpass'; order: number; wn: number[]; sosfiltfilt: number[][] }[];
+    };
+    for (const f of fx.filters) {
+      const sos = butterworthSos(f.order, f.kind === 'bandpass' ? [f.wn[0]!, f.wn[1]!] : f.wn[0]!, f.kind);
+      f.sosfiltfilt.forEach((ref, i) => {
+        const x = Float32Array.from(fx.signals[i]!);
+        const y = zeroPhaseWasm(K, sos, x, 1, x.length, new Float32Array(x.length));
+        const peak = Math.max(...ref.map(Math.abs));
+        // float32 output: half an ulp of float32 of the peak on top of the float64 agreement
+        for (let k = 0; k < ref.length; k++) expect(Math.abs(y[k]! - ref[k]!)).toBeLessThan(1e-7 * peak + 6e-8 * Math.abs(ref[k]!));
+      });
+    }
+  });
+});
+
+describe('movingMedian in the kernels (windowMedians, subtractBackground)', () => {
+  const centresOf = (nTraces: number, win: number) => {
+    const step = Math.max(1, Math.floor(win / 4));
+    const c: number[] = [];
+    for (let t = 0; t < nTraces; t += step) c.push(t);
+    if (c[c.length - 1] !== nTraces - 1) c.push(nTraces - 1);
+    return c;
+  };
+  const cases = [
+    { name: 'continuous values, odd window', nTraces: 97, nSamples: 130, win: 21, opts: {} },
+    { name: 'continuous values, even window', nTraces: 120, nSamples: 90, win: 40, opts: {} },
+    { name: 'few levels (ties), even window', nTraces: 64, nSamples: 70, win: 16, opts: { levels: 2 } },
+    { name: 'zeros and negative zeros', nTraces: 80, nSamples: 60, win: 12, opts: { zeros: 0.3, negZeros: 0.3 } },
+    { name: 'NaN in some windows', nTraces: 50, nSamples: 40, win: 9, opts: { nans: 0.01, zeros: 0.1 } },
+    { name: 'window of the whole line', nTraces: 9, nSamples: 33, win: 9, opts: { levels: 3, negZeros: 0.2 } },
+  ];
+  for (const [i, c] of cases.entries()) {
+    it(`the JavaScript selection's bits: ${c.name}`, () => {
+      const data = randomLine(101 + i, c.nTraces * c.nSamples, c.opts);
+      const centres = centresOf(c.nTraces, c.win);
+      const js = new Float32Array(data.length);
+      movingMedianJs(data, c.nTraces, c.nSamples, c.win, centres, js);
+      const wasm = new Float32Array(data.length);
+      movingMedianWasm(K, data, c.nTraces, c.nSamples, c.win, centres, wasm);
+      expect(sameBits(wasm, js)).toBe(true);
+    });
+  }
+
+  it('at a centre trace the background is the median by definition (sorted window)', () => {
+    const nTraces = 101;
+    const nSamples = 50;
+    for (const win of [20, 21]) {
+      const data = randomLine(7 + win, nTraces * nSamples);
+      const centres = centresOf(nTraces, win);
+      const out = new Float32Array(data.length);
+      movingMedianWasm(K, data, nTraces, nSamples, win, centres, out);
+      for (const c of centres) {
+        const a = Math.max(0, Math.min(nTraces - win, c - Math.floor(win / 2)));
+        for (let s = 0; s < nSamples; s++) {
+          const w = Array.from({ length: win }, (_, j) => data[(a + j) * nSamples + s]!).sort((x, y) => x - y);
+          const med = win % 2 ? w[win >> 1]! : 0.5 * (w[(win >> 1) - 1]! + w[win >> 1]!);
+          expect(out[c * nSamples + s]).toBe(Math.fround(data[c * nSamples + s]! - Math.fround(med)));
+        }
+      }
+    }
+  });
+});
+
+describe('the committed modules', () => {
+  it('are the builds of wasm/*-kernels.ts (scripts/build-wasm.mjs --check)', () => {
+    const root = join(dirname(fileURLToPath(import.meta.url)), '../../..');
+    const r = spawnSync(process.execPath, [join(root, 'scripts/build-wasm.mjs'), '--check'], { encoding: 'utf8' });
+    expect(r.stderr).toBe('');
+    expect(r.status).toBe(0);
+  });
+});
