@@ -29,6 +29,44 @@ function kernelModule(): WebAssembly.Module | null {
   return compiled;
 }
 
+const images = new Map<number, { radices: number[]; image: Float64Array; fwd: number[]; inv: number[] }>();
+
+/**
+ * The twiddles of `fftStages(n)` as the kernels read them: per twiddle w = (wr, wi) the vectors (wr, wr)
+ * and (-wi, wi), the inverse's conjugated, each stage's forward then inverse twiddles; `fwd`, `inv` the
+ * byte offsets of each stage's in `image`. Made once per size.
+ */
+export function twiddleImage(n: number): { radices: number[]; image: Float64Array; fwd: number[]; inv: number[] } {
+  let t = images.get(n);
+  if (t) return t;
+  const { radices, twiddles } = fftStages(n);
+  const image = new Float64Array(twiddles.reduce((sum, tw) => sum + 4 * tw.length, 0));
+  const fwd: number[] = [];
+  const inv: number[] = [];
+  let at = 0;
+  let len = n;
+  for (let st = 0; st < radices.length; st++) {
+    const p = radices[st] as number;
+    const tw = twiddles[st] as Float64Array;
+    const m = len / p;
+    fwd.push(at);
+    inv.push(at + 32 * m * (p - 1));
+    for (let q = 0; q < m; q++) {
+      for (let kk = 1; kk < p; kk++) {
+        const wr = tw[2 * (q * (p - 1) + kk - 1)] as number;
+        const wi = tw[2 * (q * (p - 1) + kk - 1) + 1] as number;
+        image.set([wr, wr, -wi, wi], at / 8 + 4 * (q * (p - 1) + kk - 1));
+        image.set([wr, wr, wi, -wi], (at + 32 * m * (p - 1)) / 8 + 4 * (q * (p - 1) + kk - 1));
+      }
+    }
+    at += 64 * m * (p - 1);
+    len = m;
+  }
+  t = { radices, image, fwd, inv };
+  images.set(n, t);
+  return t;
+}
+
 /** True where `WasmFFT` can run (WebAssembly with 128-bit SIMD). */
 export function wasmFftAvailable(): boolean {
   return kernelModule() !== null;
@@ -45,8 +83,8 @@ export class WasmFFT implements Transform {
   private readonly k: Kernels;
   private readonly radices: number[];
   /** Byte offsets of each stage's twiddles, forward and inverse. */
-  private readonly twFwd: number[] = [];
-  private readonly twInv: number[] = [];
+  private readonly twFwd: number[];
+  private readonly twInv: number[];
   private readonly bufA: number;
   private readonly bufB: number;
   /** The third work array: the stages after the first alternate between B and C, so A keeps the input. */
@@ -59,11 +97,9 @@ export class WasmFFT implements Transform {
     const mod = kernelModule();
     if (!mod) throw new Error('fft: WebAssembly SIMD is not available');
     this.size = n;
-    const { radices, twiddles } = fftStages(n);
-    this.radices = radices;
-    // twiddles per stage: m (p - 1) complex numbers, each stored as 4 doubles (wr, wr, -wi, wi)
-    const twDoubles = twiddles.reduce((sum, tw) => sum + 2 * tw.length, 0);
-    const bytes = 8 * (4 * 2 * n + 2 * twDoubles);
+    const tw = twiddleImage(n);
+    this.radices = tw.radices;
+    const bytes = 8 * (4 * 2 * n + tw.image.length);
     const instance = new WebAssembly.Instance(mod, {});
     this.k = instance.exports as unknown as Kernels;
     const have = this.k.memory.buffer.byteLength;
@@ -71,29 +107,12 @@ export class WasmFFT implements Transform {
     this.view = new Float64Array(this.k.memory.buffer);
     this.bufA = 0;
     this.bufB = 16 * n;
-    let at = 32 * n;
-    let len = n;
-    for (let st = 0; st < radices.length; st++) {
-      const p = radices[st] as number;
-      const tw = twiddles[st] as Float64Array;
-      const m = len / p;
-      this.twFwd.push(at);
-      this.twInv.push(at + 32 * m * (p - 1));
-      for (let q = 0; q < m; q++) {
-        for (let kk = 1; kk < p; kk++) {
-          const wr = tw[2 * (q * (p - 1) + kk - 1)] as number;
-          const wi = tw[2 * (q * (p - 1) + kk - 1) + 1] as number;
-          const f = at / 8 + 4 * (q * (p - 1) + kk - 1);
-          this.view.set([wr, wr, -wi, wi], f);
-          const g = (at + 32 * m * (p - 1)) / 8 + 4 * (q * (p - 1) + kk - 1);
-          this.view.set([wr, wr, wi, -wi], g);
-        }
-      }
-      at += 64 * m * (p - 1);
-      len = m;
-    }
-    this.bufC = at;
-    this.bufD = at + 16 * n;
+    const at = 32 * n;
+    this.view.set(tw.image, at / 8);
+    this.twFwd = tw.fwd.map((o) => at + o);
+    this.twInv = tw.inv.map((o) => at + o);
+    this.bufC = at + 8 * tw.image.length;
+    this.bufD = this.bufC + 16 * n;
   }
 
   transform(out: Float64Array, data: Float64Array): void {

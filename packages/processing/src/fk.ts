@@ -203,9 +203,13 @@ export function kxOf(ix: number, nx: number, dxM: number): number {
 
 /** Multiplies every row of a spectrum by e^{i omega_m shiftNs} (a shift of the traces `shiftNs` earlier). */
 export function shiftSpectrum(spec: Float64Array, nx: number, nt: number, dtNs: number, shiftNs: number, lo = 0, hi = nt / 2): void {
+  const { c, s } = shiftFactors(nt, dtNs, shiftNs);
+  rotateBins(spec, nx, nt / 2 + 1, Math.max(0, lo), Math.min(nt / 2, hi), c, s);
+}
+
+/** `shiftSpectrum`'s factor of each bin m < nt / 2 + 1, e^{i omega_m shiftNs} as (c[m], s[m]). */
+export function shiftFactors(nt: number, dtNs: number, shiftNs: number): { c: Float64Array; s: Float64Array } {
   const nw = nt / 2 + 1;
-  const m0 = Math.max(0, lo);
-  const m1 = Math.min(nw - 1, hi);
   const dw = (2 * Math.PI) / (nt * dtNs);
   const c = new Float64Array(nw);
   const s = new Float64Array(nw);
@@ -213,6 +217,11 @@ export function shiftSpectrum(spec: Float64Array, nx: number, nt: number, dtNs: 
     c[m] = Math.cos(m * dw * shiftNs);
     s[m] = Math.sin(m * dw * shiftNs);
   }
+  return { c, s };
+}
+
+/** Bins m0..m1 of each of nx rows (nw bins) times c[m] + i s[m]; the kernels' `rotateBins` does the same. */
+export function rotateBins(spec: Float64Array, nx: number, nw: number, m0: number, m1: number, c: Float64Array, s: Float64Array): void {
   for (let i = 0; i < nx; i++) {
     for (let m = m0; m <= m1; m++) {
       const o = 2 * (i * nw + m);
@@ -460,21 +469,23 @@ export function checkLayers(layers: readonly MigrationLayer[]): MigrationLayer[]
  * synthetics) focuses zero-phase after the half-integral; a reflector keeps its wavelet without it.
  */
 export function halfOrderFilter(spec: Float64Array, nx: number, nt: number, dtNs: number, order: 0.5 | -0.5, lo = 0, hi = nt / 2): void {
+  const { c, s } = halfOrderFactors(nt, dtNs, order);
+  rotateBins(spec, nx, nt / 2 + 1, Math.max(0, lo), Math.min(nt / 2, hi), c, s);
+}
+
+/** `halfOrderFilter`'s factor of each bin m < nt / 2 + 1 as (c[m], s[m]). */
+export function halfOrderFactors(nt: number, dtNs: number, order: 0.5 | -0.5): { c: Float64Array; s: Float64Array } {
   const nw = nt / 2 + 1;
   const dw = (2 * Math.PI) / (nt * dtNs);
-  const c = Math.SQRT1_2;
-  for (let m = Math.max(0, lo); m <= Math.min(nw - 1, hi); m++) {
-    const a = m === 0 ? 0 : Math.pow(m * dw, order) * c;
+  const c = new Float64Array(nw);
+  const s = new Float64Array(nw);
+  for (let m = 0; m < nw; m++) {
+    const a = m === 0 ? 0 : Math.pow(m * dw, order) * Math.SQRT1_2;
+    c[m] = a;
     // e^{-i pi/4} for the derivative, e^{+i pi/4} for the integral
-    const si = order > 0 ? -a : a;
-    for (let i = 0; i < nx; i++) {
-      const o = 2 * (i * nw + m);
-      const re = spec[o] as number;
-      const im = spec[o + 1] as number;
-      spec[o] = a * re - si * im;
-      spec[o + 1] = si * re + a * im;
-    }
+    s[m] = order > 0 ? -a : a;
   }
+  return { c, s };
 }
 
 /**

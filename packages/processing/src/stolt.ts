@@ -1,6 +1,7 @@
 import type { RadarLine } from '@lamina/radar-data';
-import { dipWeigher, fk2d, fkLine, halfOrderFilter, kxOf, packTracePair, paddedSizes, scratch, shiftSpectrum, type FkLineOptions } from './fk';
+import { band, dipWeigher, fk2d, fkLine, halfOrderFactors, halfOrderFilter, kxOf, packTracePair, paddedSizes, scratch, shiftFactors, shiftSpectrum, type FkLineOptions } from './fk';
 import { fftOfSize, stagedTransform } from './fft';
+import { fftPlanBytes, lineKernels, type LineKernels } from './line-wasm';
 
 export interface StoltOptions extends FkLineOptions {
   /** Constant velocity of the ground, m/ns. */
@@ -216,11 +217,14 @@ function apertureNodes(nSamples: number, dtNs: number, timeZeroNs: number, ve: n
  * velocity, widest dip limit and taper), entry ix * nw + j for ix <= nx / 2: the input bin u, the
  * Jacobian, sin(theta), theta (for `weighBin`'s taper) and the interpolation weights (`tapWeights`).
  * u is NaN where modelling has no real w_tau; `skip` marks entries no dip limit passes or past Nyquist.
- * Filled as lines reach the entries (`tableEntry`): row ix holds j < rowLen[ix]. The lines of a survey
- * mostly share one (kept per worker, see `stoltTable`).
+ * Filled as lines reach the entries (`fillTable`): row ix holds j < rowLen[ix]. The lines of a survey
+ * mostly share one (kept per worker, see `stoltTable`). With the line kernels its arrays live in their
+ * kept region (`LineKernels.keep`), views made again after each layout (`tableArrays`).
  */
 interface StoltTable {
   key: string;
+  /** Its arrays are views of the kernels' kept region. */
+  inKernels: boolean;
   nw: number;
   rowLen: Int32Array;
   u: Float64Array;
@@ -233,33 +237,61 @@ interface StoltTable {
 
 let lastTable: StoltTable | undefined;
 
+/** Byte offsets of the table's arrays in the kernels' kept region (n entries), and its size. */
+function tableLayout(n: number): { u: number; jac: number; sin: number; theta: number; taps: number; skip: number; bytes: number } {
+  const taps = 32 * n;
+  const skip = taps + 8 * TAP_STRIDE * n;
+  return { u: 0, jac: 8 * n, sin: 16 * n, theta: 24 * n, taps, skip, bytes: skip + n };
+}
+
+/** The table's arrays: its own, or views of the kernels' kept region (valid until their next layout). */
+function tableArrays(t: StoltTable, kernels: LineKernels | null): StoltTable {
+  if (!kernels || t.u.buffer === kernels.k.memory.buffer) return t;
+  const n = t.rowLen.length * t.nw;
+  const at = tableLayout(n);
+  return Object.assign(t, {
+    u: kernels.f64(at.u, n),
+    jac: kernels.f64(at.jac, n),
+    sin: kernels.f64(at.sin, n),
+    theta: kernels.f64(at.theta, n),
+    skip: kernels.u8(at.skip, n),
+    taps: kernels.f64(at.taps, n * TAP_STRIDE),
+  });
+}
+
 /**
  * The `StoltTable` of a geometry, the last one kept (the weights' sines, cosines and divisions were most
  * of the map's own time); another geometry empties it (its arrays are reused when the sizes agree).
  */
-function stoltTable(nx: number, nt: number, dtNs: number, dxM: number, ve: number, inverse: boolean, aMax: number, taper: number): StoltTable {
+function stoltTable(kernels: LineKernels | null, nx: number, nt: number, dtNs: number, dxM: number, ve: number, inverse: boolean, aMax: number, taper: number): StoltTable {
   const key = JSON.stringify([nx, nt, dtNs, dxM, ve, inverse, aMax, taper]);
   const kept = lastTable;
-  if (kept && kept.key === key) return kept;
   const nw = nt / 2 + 1;
   const rows = (nx >> 1) + 1;
   const n = rows * nw;
-  if (kept && kept.nw === nw && kept.rowLen.length === rows) {
+  if (kernels) kernels.keep(tableLayout(n).bytes);
+  // a table of the other path (the tests switch the kernels off and on) is not reused
+  const same = kept && kept.inKernels === (kernels !== null);
+  if (same && kept.key === key) return kept;
+  if (same && kept.nw === nw && kept.rowLen.length === rows) {
     kept.key = key;
     kept.rowLen.fill(0);
     return kept;
   }
   lastTable = undefined;
+  // with the kernels, empty arrays until `tableArrays` makes the views
+  const size = kernels ? 0 : n;
   const t: StoltTable = {
     key,
+    inKernels: kernels !== null,
     nw,
     rowLen: new Int32Array(rows),
-    u: new Float64Array(n),
-    jac: new Float64Array(n),
-    sin: new Float64Array(n),
-    theta: new Float64Array(n),
-    skip: new Uint8Array(n),
-    taps: new Float64Array(n * TAP_STRIDE),
+    u: new Float64Array(size),
+    jac: new Float64Array(size),
+    sin: new Float64Array(size),
+    theta: new Float64Array(size),
+    skip: new Uint8Array(size),
+    taps: new Float64Array(size * TAP_STRIDE),
   };
   lastTable = t;
   return t;
@@ -299,10 +331,29 @@ function tableEntry(t: StoltTable, e: number, j: number, a: number, dw: number, 
 }
 
 /**
+ * The entries the map reads for the band's last bin `hi` and output bins j < nb: along each row until
+ * u - HALF_TAPS passes hi (u grows with j), the row's first rowLen entries kept from earlier lines.
+ */
+function fillTable(t: StoltTable, nx: number, nb: number, hi: number, dxM: number, ve: number, dw: number, inverse: boolean, outer: (sin: number) => number): void {
+  const nw = t.nw;
+  for (let ix = 0; ix <= nx >> 1; ix++) {
+    let j = t.rowLen[ix] as number;
+    if (j > 0 && (t.u[ix * nw + j - 1] as number) - HALF_TAPS > hi) continue;
+    const a = ve * Math.abs(kxOf(ix, nx, dxM));
+    for (; j < nb; j++) {
+      tableEntry(t, ix * nw + j, j, a, dw, inverse, outer);
+      t.rowLen[ix] = j + 1;
+      if ((t.u[ix * nw + j] as number) - HALF_TAPS > hi) break;
+    }
+  }
+}
+
+/**
  * The Stolt map with one dip limit per node, blended along tau (`blend[w][k]` the weight of node w at
  * sample k) into `out`. The blend commutes with the transforms, so the interpolation along omega (the
  * costly part) is done once and kept bin-major, times the Jacobian, with its sin(theta); each node then weights
- * it, transforms it back across traces and in time, and adds its tau range to the sum.
+ * it, transforms it back across traces and in time, and adds its tau range to the sum. With the line
+ * kernels (`stoltMapsWasm`) every loop runs in WebAssembly, the same operations in the same order.
  */
 function stoltMaps(
   data: ArrayLike<number>,
@@ -317,44 +368,38 @@ function stoltMaps(
   blend: readonly Float64Array[],
   out: Float32Array,
 ): Float32Array {
+  const kernels = lineKernels();
   const taper = Math.min(1, Math.max(0, options.taper ?? 0.2));
   const inverse = options.inverse ?? false;
   const ve = v / 2;
   const aMax = Math.max(...anglesDeg);
   const { nx, nt } = paddedSizes(nTraces, nSamples, dtNs, dxM, ve, aMax, 2);
-  const nw = nt / 2 + 1;
-  const dw = (2 * Math.PI) / (nt * dtNs);
-  const tc = (nt * dtNs) / 4;
-  const { spec, lo, hi } = fk2d(data, nTraces, nSamples, nx, nt, options.energyTolerance ?? 0, scratch('stolt spec', 2 * nx * nw));
-  if (hi < lo) return out.fill(0);
-  if (options.halfIntegral && !inverse) halfOrderFilter(spec, nx, nt, dtNs, -0.5, lo, hi);
-  shiftSpectrum(spec, nx, nt, dtNs, timeZeroNs + tc, lo, hi);
+  const g: StoltGeometry = { nTraces, nSamples, nx, nt, nw: nt / 2 + 1, dw: (2 * Math.PI) / (nt * dtNs), inverse, taper, anglesDeg, blend };
+  const tb = stoltTable(kernels, nx, nt, dtNs, dxM, ve, inverse, aMax, taper);
+  const shiftNs = timeZeroNs + (nt * dtNs) / 4;
+  const tol = options.energyTolerance ?? 0;
+  const halfIntegral = options.halfIntegral ?? false;
   // migration reads bin u >= j, so no output bin lies past hi + HALF_TAPS; modelling's can
-  const nb = inverse ? nw : Math.min(nw, hi + HALF_TAPS + 1);
-  // per output bin: back to the record's time axis (e^{-i omega timeZero}), and modelling's half-derivative
-  const fRe = new Float64Array(nb);
-  const fIm = new Float64Array(nb);
-  for (let j = 0; j < nb; j++) {
-    const ph = -j * dw * timeZeroNs;
-    let re = Math.cos(ph);
-    let im = Math.sin(ph);
-    if (options.halfIntegral && inverse) {
-      // halfOrderFilter's half-derivative: |omega|^{1/2} e^{-i pi/4}, zero at omega = 0
-      const a = j === 0 ? 0 : Math.pow(j * dw, 0.5) * Math.SQRT1_2;
-      [re, im] = [a * re + a * im, a * im - a * re];
-    }
-    fRe[j] = re;
-    fIm[j] = im;
-  }
+  const binsTo = (hi: number) => (inverse ? g.nw : Math.min(g.nw, hi + HALF_TAPS + 1));
+  const prepare = (hi: number) => {
+    const nb = binsTo(hi);
+    fillTable(tb, nx, nb, hi, dxM, ve, g.dw, inverse, dipWeigher(aMax, taper));
+    return { nb, ...outputFactors(nb, g.dw, timeZeroNs, halfIntegral && inverse) };
+  };
+  if (kernels) return stoltMapsWasm(kernels, g, data, tb, tol, halfIntegral, dtNs, shiftNs, prepare, out);
+  const { spec, lo, hi } = fk2d(data, nTraces, nSamples, nx, nt, tol, scratch('stolt spec', 2 * nx * g.nw));
+  if (hi < lo) return out.fill(0);
+  if (halfIntegral && !inverse) halfOrderFilter(spec, nx, nt, dtNs, -0.5, lo, hi);
+  shiftSpectrum(spec, nx, nt, dtNs, shiftNs, lo, hi);
+  const { nb, fRe, fIm } = prepare(hi);
   // the interpolated spectrum times the Jacobian, bin-major (a bin's wavenumbers contiguous for the transform across traces)
   const val = scratch('stolt val', 2 * nb * nx).fill(0);
   const sinT = scratch('stolt sin', nb * nx).fill(0);
   const thT = scratch('stolt theta', nb * nx);
-  const tb = stoltTable(nx, nt, dtNs, dxM, ve, inverse, aMax, taper);
-  const outer = dipWeigher(aMax, taper);
   // bins the interpolation can reach from [lo, hi] (negative bins mirror positive ones)
   const reach = (u: number) => u - HALF_TAPS <= hi && (u + HALF_TAPS >= lo || HALF_TAPS - u >= lo);
   const ip = new Float64Array(4);
+  const nw = g.nw;
   let jHi = -1;
   // +kx and -kx (ix and nx - ix) have the same |kx|, so the same bins u, Jacobians, sines and
   // interpolation weights: one pass over j for both rows
@@ -363,13 +408,8 @@ function stoltMaps(
     const two = ixB !== ix;
     const row = 2 * ix * nw;
     const rowc = 2 * ixB * nw;
-    const a = ve * Math.abs(kxOf(ix, nx, dxM));
     for (let j = 0; j < nb; j++) {
       const e = ix * nw + j;
-      if (j >= (tb.rowLen[ix] as number)) {
-        tableEntry(tb, e, j, a, dw, inverse, outer);
-        tb.rowLen[ix] = j + 1;
-      }
       const u = tb.u[e] as number;
       if (u !== u) continue; // modelling: no real w_tau
       if (u - HALF_TAPS > hi) break; // u grows with j
@@ -390,7 +430,105 @@ function stoltMaps(
       if (j > jHi) jHi = j;
     }
   }
-  return blendNodes({ val, sinT, thT, nx, nt, jHi }, nTraces, nSamples, anglesDeg, blend, taper, out);
+  return blendNodes({ val, sinT, thT, nx, nt, jHi }, g, out);
+}
+
+/** The sizes and settings of one `stoltMaps` run. */
+interface StoltGeometry {
+  nTraces: number;
+  nSamples: number;
+  nx: number;
+  nt: number;
+  nw: number;
+  /** Bin spacing, rad/ns. */
+  dw: number;
+  inverse: boolean;
+  taper: number;
+  anglesDeg: readonly number[];
+  blend: readonly Float64Array[];
+}
+
+/** Per output bin j < nb: back to the record's time axis (e^{-i omega timeZero}), and modelling's half-derivative. */
+function outputFactors(nb: number, dw: number, timeZeroNs: number, halfDerivative: boolean): { fRe: Float64Array; fIm: Float64Array } {
+  const fRe = new Float64Array(nb);
+  const fIm = new Float64Array(nb);
+  for (let j = 0; j < nb; j++) {
+    const ph = -j * dw * timeZeroNs;
+    let re = Math.cos(ph);
+    let im = Math.sin(ph);
+    if (halfDerivative) {
+      // halfOrderFilter's half-derivative: |omega|^{1/2} e^{-i pi/4}, zero at omega = 0
+      const a = j === 0 ? 0 : Math.pow(j * dw, 0.5) * Math.SQRT1_2;
+      [re, im] = [a * re + a * im, a * im - a * re];
+    }
+    fRe[j] = re;
+    fIm[j] = im;
+  }
+  return { fRe, fIm };
+}
+
+/**
+ * `stoltMaps` in the line kernels: `fkTraces` and `fkColumns` (fk2d), `rotateBins` (the half-integral and
+ * the shift), `stoltInterpolate`, then per node `stoltAcross` and `stoltTime` (blendNodes). Only the
+ * band, the table's new entries and the nodes' settings are made here.
+ */
+function stoltMapsWasm(
+  kernels: LineKernels,
+  g: StoltGeometry,
+  data: ArrayLike<number>,
+  tb: StoltTable,
+  tol: number,
+  halfIntegral: boolean,
+  dtNs: number,
+  shiftNs: number,
+  prepare: (hi: number) => { nb: number; fRe: Float64Array; fIm: Float64Array },
+  out: Float32Array,
+): Float32Array {
+  const { nTraces, nSamples, nx, nt, nw } = g;
+  const K = kernels.k;
+  // every bin may be reached (nb <= nw); the nodes' arrays are laid out once the bins are known
+  const [d, spec, planT, planX, a, b, c, power, fr, fi, val, sinT, thT, cf, sf] = kernels.layout(
+    8 * nTraces * nSamples, 16 * nx * nw, fftPlanBytes(nt), fftPlanBytes(nx), 16 * Math.max(nt, nx), 16 * Math.max(nt, nx), 16 * Math.max(nt, nx),
+    8 * nw, 8 * nw, 8 * nw, 16 * nw * nx, 8 * nw * nx, 8 * nw * nx, 8 * nw, 8 * nw,
+  );
+  kernels.f64(d, nTraces * nSamples).set(data);
+  kernels.fftPlan(nt, planT);
+  kernels.fftPlan(nx, planX);
+  K.fkTraces(d, nTraces, nSamples, nt, nx, spec, planT, a, b, c, power);
+  const [lo, hi] = band(kernels.f64(power, nw), tol);
+  K.fkColumns(spec, nTraces, nx, nw, lo, hi, planX, a, b, c);
+  if (hi < lo) return out.fill(0);
+  const rotate = (f: { c: Float64Array; s: Float64Array }) => {
+    kernels.f64(cf, nw).set(f.c);
+    kernels.f64(sf, nw).set(f.s);
+    K.rotateBins(spec, nx, nw, Math.max(0, lo), Math.min(nw - 1, hi), cf, sf);
+  };
+  if (halfIntegral && !g.inverse) rotate(halfOrderFactors(nt, dtNs, -0.5));
+  rotate(shiftFactors(nt, dtNs, shiftNs));
+  const t = tableArrays(tb, kernels);
+  const { nb, fRe, fIm } = prepare(hi);
+  kernels.f64(fr, nb).set(fRe);
+  kernels.f64(fi, nb).set(fIm);
+  const at = tableLayout(t.rowLen.length * nw);
+  const jHi = K.stoltInterpolate(spec, nx, nw, nb, lo, hi, at.u, at.jac, at.sin, at.theta, at.skip, at.taps, fr, fi, val, sinT, thT);
+  if (jHi < 0) return out.fill(0);
+  const nm = jHi + 1;
+  const { nodes, plainFrom } = blendSetup(kernels.f64(sinT, nm * nx), g, nm);
+  const [hcs, plain, recs, acc, o] = kernels.append(
+    8 * 2 * nTraces * nm * nodes.length + 8 * nSamples * nodes.length, 8 * 2 * nTraces * nm, 20 * nodes.length, 16 * nSamples, 4 * nTraces * nSamples,
+  );
+  const rec = kernels.i32(recs, 5 * nodes.length);
+  nodes.forEach((n, w) => {
+    const hc = hcs + 8 * (2 * nTraces * nm + nSamples) * w;
+    const bs = hc + 8 * 2 * nTraces * nm;
+    kernels.f64(bs, nSamples).set(n.bs);
+    K.stoltAcross(val, sinT, thT, nx, nTraces, 0, n.plainFrom, n.s1, n.sMax, n.th1, n.thMax, 1 / nx, planX, a, b, c, hc);
+    rec.set([n.k0, n.k1, n.plainFrom, hc, bs], 5 * w);
+  });
+  K.stoltAcross(val, sinT, thT, nx, nTraces, plainFrom, nm, Infinity, Infinity, 0, 0, 1 / nx, planX, a, b, c, plain);
+  K.stoltTime(plain, plainFrom, nm, nt, nTraces, nSamples, recs, nodes.length, planT, a, b, c, acc, o);
+  out.set(kernels.f32(o, nTraces * nSamples));
+  return out;
 }
 
 /**
@@ -423,42 +561,34 @@ function weighBin(val: Float64Array, sinT: Float64Array, thT: Float64Array, base
   }
 }
 
+/** A node of `blendNodes`: its samples k0..k1, blend weights bs (with 1 / nt), dip limits, and its first plain bin. */
+interface BlendNode {
+  k0: number;
+  k1: number;
+  bs: Float64Array;
+  s1: number;
+  sMax: number;
+  th1: number;
+  thMax: number;
+  plainFrom: number;
+}
+
 /**
- * Each node's dip weights on the spectrum, back across traces (every node first, each into its own
- * bin-major array; the bins no node's taper reaches, most of the band, once for all), then per pair of
- * traces back in time node after node, each node's tau range blended into a sum of the pair's samples
- * that goes to `out` once.
+ * The nodes that weigh some sample, sorted by their first plain bin, and the first bin plain for all.
+ * A node weighs a bin by 1 (`rx` with the inverse's 1 / nx) wherever no sine of the bin passes its
+ * taper's start: the largest sine of each bin, and from which bin on every bin is such a plain one
+ * for a node. The plain bins are transformed across traces once, for every node.
  */
-function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, anglesDeg: readonly number[], blend: readonly Float64Array[], taper: number, out: Float32Array): Float32Array {
-  const { val, sinT, thT, nx, nt, jHi } = sp;
-  const nw = nt / 2 + 1;
-  if (jHi < 0) return out.fill(0);
-  const fx = stagedTransform(fftOfSize(nx));
-  const ft = stagedTransform(fftOfSize(nt));
-  const nm = jHi + 1;
-  const col = fx.input;
-  const full = ft.input;
-  const rx = 1 / nx;
+function blendSetup(sinT: Float64Array, g: StoltGeometry, nm: number): { nodes: BlendNode[]; plainFrom: number } {
+  const { nx, nt, nSamples, anglesDeg, blend, taper } = g;
   const rt = 1 / nt;
-  // A node weighs a bin by 1 (`rx` with the inverse's 1 / nx) wherever no sine of the bin passes its
-  // taper's start: the largest sine of each bin, and from which bin on every bin is such a plain one
-  // for a node. The plain bins are transformed across traces once, for every node.
   const sinMax = new Float64Array(nm);
   for (let j = 0; j < nm; j++) {
     let m = 0;
     for (let ix = 0; ix < nx; ix++) m = Math.max(m, sinT[j * nx + ix] as number);
     sinMax[j] = m;
   }
-  // bins m0..m1 - 1 back across traces, kept bin-major (the first nTraces of each): the time loop reads
-  // a pair of traces across the bins, two neighbours in each bin's cache line
-  const across = (hc: Float64Array, m0: number, m1: number, s1: number, sMax: number, th1: number, thMax: number) => {
-    for (let j = m0; j < m1; j++) {
-      weighBin(val, sinT, thT, j * nx, nx, s1, sMax, th1, thMax, rx, col);
-      const r = fx.run(true);
-      hc.set(nx === nTraces ? r : r.subarray(0, 2 * nTraces), 2 * nTraces * j);
-    }
-  };
-  const nodes: { k0: number; k1: number; bs: Float64Array; hc: Float64Array; plainFrom: number }[] = [];
+  const nodes: BlendNode[] = [];
   for (let w = 0; w < anglesDeg.length; w++) {
     const b = blend[w] as Float64Array;
     let k0 = 0;
@@ -476,22 +606,55 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
     const sMax = Math.sin(thMax);
     let plainFrom = nm;
     while (plainFrom > 0 && (sinMax[plainFrom - 1] as number) <= s1) plainFrom--;
-    const hc = scratch(`stolt hc ${nodes.length}`, 2 * nTraces * nm);
-    across(hc, 0, plainFrom, s1, sMax, th1, thMax);
-    nodes.push({ k0, k1, bs, hc, plainFrom });
+    nodes.push({ k0, k1, bs, s1, sMax, th1, thMax, plainFrom });
   }
-  // the plain bins (weighBin's weight is 1 below any taper: the same columns as each node's own)
+  // nodes by their first plain bin: each writes its own bins below it over the last one's, so the plain
+  // bins from the first node's on are packed once per pair (at most two nodes blend at a sample, so
+  // the order of the sum does not matter)
   const plainFrom = Math.min(nm, ...nodes.map((n) => n.plainFrom));
+  nodes.sort((a, b) => a.plainFrom - b.plainFrom);
+  return { nodes, plainFrom };
+}
+
+/**
+ * Each node's dip weights on the spectrum, back across traces (every node first, each into its own
+ * bin-major array; the bins no node's taper reaches, most of the band, once for all), then per pair of
+ * traces back in time node after node, each node's tau range blended into a sum of the pair's samples
+ * that goes to `out` once.
+ */
+function blendNodes(sp: StoltSpectrum, g: StoltGeometry, out: Float32Array): Float32Array {
+  const { val, sinT, thT, nx, nt, jHi } = sp;
+  const { nTraces, nSamples } = g;
+  const nw = nt / 2 + 1;
+  if (jHi < 0) return out.fill(0);
+  const fx = stagedTransform(fftOfSize(nx));
+  const ft = stagedTransform(fftOfSize(nt));
+  const nm = jHi + 1;
+  const col = fx.input;
+  const full = ft.input;
+  const rx = 1 / nx;
+  // bins m0..m1 - 1 back across traces, kept bin-major (the first nTraces of each): the time loop reads
+  // a pair of traces across the bins, two neighbours in each bin's cache line
+  const across = (hc: Float64Array, m0: number, m1: number, s1: number, sMax: number, th1: number, thMax: number) => {
+    for (let j = m0; j < m1; j++) {
+      weighBin(val, sinT, thT, j * nx, nx, s1, sMax, th1, thMax, rx, col);
+      const r = fx.run(true);
+      hc.set(nx === nTraces ? r : r.subarray(0, 2 * nTraces), 2 * nTraces * j);
+    }
+  };
+  const { nodes, plainFrom } = blendSetup(sinT, g, nm);
+  const hcs = nodes.map((n, w) => {
+    const hc = scratch(`stolt hc ${w}`, 2 * nTraces * nm);
+    across(hc, 0, n.plainFrom, n.s1, n.sMax, n.th1, n.thMax);
+    return hc;
+  });
+  // the plain bins (weighBin's weight is 1 below any taper: the same columns as each node's own)
   const plain = scratch('stolt hc plain', 2 * nTraces * nm);
   across(plain, plainFrom, nm, Infinity, Infinity, 0, 0);
   // in time, two real traces per complex inverse: ifft(A + iB) = a + ib for Hermitian A, B (bins past jHi stay 0)
   const acc = new Float64Array(2 * nSamples);
   // the bins past jHi stay 0: packing writes the others, and a run leaves its input as it was
   full.fill(0);
-  // nodes by their first plain bin: each writes its own bins below it over the last one's, so the plain
-  // bins from the first node's on are packed once per pair (at most two nodes blend at a sample, so
-  // the order of the sum does not matter)
-  nodes.sort((a, b) => a.plainFrom - b.plainFrom);
   for (let i = 0; i < nTraces; i += 2) {
     const pair = i + 1 < nTraces;
     const oa = 2 * i;
@@ -499,8 +662,8 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
     const stride = 2 * nTraces;
     acc.fill(0);
     packTracePair(plain, oa, ob, plainFrom, nm - 1, nw, nt, full, stride);
-    for (const { k0, k1, bs, hc, plainFrom: p } of nodes) {
-      packTracePair(hc, oa, ob, 0, p - 1, nw, nt, full, stride);
+    nodes.forEach(({ k0, k1, bs, plainFrom: p }, w) => {
+      packTracePair(hcs[w] as Float64Array, oa, ob, 0, p - 1, nw, nt, full, stride);
       const back = ft.run(true);
       if (pair) {
         for (let k = k0; k <= k1; k++) {
@@ -509,7 +672,7 @@ function blendNodes(sp: StoltSpectrum, nTraces: number, nSamples: number, angles
           acc[nSamples + k] = (acc[nSamples + k] as number) + g * (back[2 * k + 1] as number);
         }
       } else for (let k = k0; k <= k1; k++) acc[k] = (acc[k] as number) + (bs[k] as number) * (back[2 * k] as number);
-    }
+    });
     out.set(pair ? acc : acc.subarray(0, nSamples), i * nSamples);
   }
   return out;

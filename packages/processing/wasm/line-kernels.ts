@@ -227,3 +227,5 @@ export function subtractBackground(data: usize, out: usize, nTraces: i32, nSampl
     }
   }
 }
+
+export { fkTraces, fkColumns, rotateBins, stoltInterpolate, stoltAcross, stoltTime } from './stolt';
