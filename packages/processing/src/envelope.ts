@@ -2,6 +2,7 @@ import type { RadarLine } from '@lamina/radar-data';
 import { fftOfSize, nextPow2, stagedTransform, type Staged } from './fft';
 import { WasmFFT } from './fft-wasm';
 import { withData } from './line-util';
+import { fftPlanBytes, lineKernels, type LineKernels } from './line-wasm';
 
 /** Scratch buffers for analytic signals of one padded length (reused across traces). */
 export interface HilbertWorkspace {
@@ -157,6 +158,11 @@ export function envelope(line: RadarLine, options: { padTo?: number } = {}, out?
   const { nSamples, nTraces } = line;
   const res = out ?? new Float32Array(line.data.length);
   const ws = hilbertWorkspace(nSamples, options.padTo);
+  const kernels = lineKernels();
+  if (kernels) {
+    res.set(lineEnvelopes(kernels, line.data, nTraces, nSamples, ws.n));
+    return withData(line, res);
+  }
   const ea = new Float64Array(nSamples);
   const eb = new Float64Array(nSamples);
   // two traces per transform pair (`hilbertEnvelopePair`); `out` may be `line.data`: each pair is read before it is written
@@ -169,4 +175,17 @@ export function envelope(line: RadarLine, options: { padTo?: number } = {}, out?
     if (two) res.set(eb, (t + 1) * nSamples);
   }
   return withData(line, res);
+}
+
+/**
+ * The envelopes of every trace of a line (float64, trace-major) in the line kernels (`envelopeLine`): the
+ * steps of `hilbertEnvelopePair` on the traces two by two, padded to n (>= nSamples, a power of two), so
+ * the same numbers. A view of the kernels' memory, valid until their next layout.
+ */
+export function lineEnvelopes(kernels: LineKernels, data: Float32Array, nTraces: number, nSamples: number, n: number): Float64Array {
+  const [d, o, plan, a, b, c, w] = kernels.layout(4 * nTraces * nSamples, 8 * nTraces * nSamples, fftPlanBytes(n), 16 * n, 16 * n, 16 * n, 16 * n);
+  kernels.f32(d, nTraces * nSamples).set(data.subarray(0, nTraces * nSamples));
+  kernels.fftPlan(n, plan);
+  kernels.k.envelopeLine(d, o, nTraces, nSamples, n, plan, a, b, c, w);
+  return kernels.f64(o, nTraces * nSamples);
 }

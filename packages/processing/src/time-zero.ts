@@ -2,9 +2,10 @@ import type { RadarLine } from '@lamina/radar-data';
 import { C_M_PER_NS } from '@lamina/constants';
 import { InputError } from '@lamina/errors';
 import { runningMedian } from '@lamina/stats';
-import { hilbertEnvelopePair, hilbertWorkspace } from './envelope';
+import { hilbertEnvelopePair, hilbertWorkspace, lineEnvelopes } from './envelope';
 import { nextPow2 } from './fft';
 import { medianOf, outputFor, withData } from './line-util';
+import { lineKernels, type LineKernels } from './line-wasm';
 
 
 export type TimeZeroPick = 'peak' | 'firstPeak' | 'onset';
@@ -212,10 +213,16 @@ export function timeZero(line: RadarLine, options: TimeZeroOptions, out?: Float3
   // one options object, its trace swapped per call (not a spread per trace)
   const opts: Parameters<typeof pickFirstArrival>[1] = { threshold, pick, periodSamples: period / dtNs, from, to, trace: line.data };
   const envAt = (e: Float64Array, pNs: number) => (Number.isFinite(pNs) ? (e[Math.min(ns - 1, Math.max(0, Math.round(pNs / dtNs)))] as number) : Number.NaN);
+  const kernels = lineKernels();
+  // the line's envelopes at once in the kernels (the same pairs, the same numbers; a view read before any other kernel runs)
+  const all = kernels ? lineEnvelopes(kernels, line.data, nt, ns, ws.n) : undefined;
   for (let t = 0; t < nt; t += 2) {
     const tr = line.data.subarray(t * ns, (t + 1) * ns);
     const trB = t + 1 < nt ? line.data.subarray((t + 1) * ns, (t + 2) * ns) : undefined;
-    hilbertEnvelopePair(tr, trB, ws, env, envB);
+    if (all) {
+      env.set(all.subarray(t * ns, (t + 1) * ns));
+      if (trB) envB.set(all.subarray((t + 1) * ns, (t + 2) * ns));
+    } else hilbertEnvelopePair(tr, trB, ws, env, envB);
     opts.trace = tr;
     picksNs[t] = pickFirstArrival(env, opts) * dtNs;
     levels[t] = envAt(env, picksNs[t] as number);
@@ -274,13 +281,37 @@ export function timeZero(line: RadarLine, options: TimeZeroOptions, out?: Float3
   }
   const pickNs = medianOf(usedNs);
   const shiftsNs = new Float64Array(nt);
+  const shifts = new Float64Array(nt);
   const { src, dst } = outputFor(line, out);
   for (let t = 0; t < nt; t++) {
     let sh = (pickNs - (usedNs[t] as number)) / dtNs;
     if (options.shift === 'integer') sh = Math.round(sh);
+    shifts[t] = sh;
     shiftsNs[t] = sh * dtNs;
-    shiftTrace(src.subarray(t * ns, (t + 1) * ns), sh, dst.subarray(t * ns, (t + 1) * ns));
   }
+  if (kernels && shifts.every(Number.isFinite)) shiftLineWasm(kernels, src, dst, nt, ns, shifts);
+  else for (let t = 0; t < nt; t++) shiftTrace(src.subarray(t * ns, (t + 1) * ns), shifts[t] as number, dst.subarray(t * ns, (t + 1) * ns));
   const timeZeroNs = pickNs - (options.separationM ?? 0) / C_M_PER_NS;
   return { line: withData(line, dst, timeZeroNs), picksNs, usedNs, shiftsNs, pickNs, timeZeroNs, replaced };
+}
+
+/**
+ * `shiftTrace` of every trace (trace t by shifts[t] samples) in the line kernels (`shiftLine`): the same
+ * weights (`keys`, made here) and sums, so the same numbers. `dst` may be `src`.
+ */
+export function shiftLineWasm(kernels: LineKernels, src: Float32Array, dst: Float32Array, nTraces: number, n: number, shifts: Float64Array): void {
+  const [x, y, wh, w, ex] = kernels.layout(4 * nTraces * n, 4 * nTraces * n, 4 * nTraces, 32 * nTraces, nTraces);
+  kernels.f32(x, nTraces * n).set(src.subarray(0, nTraces * n));
+  const whole = kernels.i32(wh, nTraces);
+  const weights = kernels.f64(w, 4 * nTraces);
+  const exact = kernels.u8(ex, nTraces);
+  shifts.forEach((sh, t) => {
+    const f = sh - Math.floor(sh);
+    // beyond n + 4 samples every tap lies outside the trace either way
+    whole[t] = Math.max(-n - 4, Math.min(n + 4, Math.floor(sh)));
+    exact[t] = f === 0 ? 1 : 0;
+    weights.set([keys(2 - f), keys(1 - f), keys(f), keys(1 + f)], 4 * t);
+  });
+  kernels.k.shiftLine(x, y, nTraces, n, wh, w, ex);
+  dst.set(kernels.f32(y, nTraces * n));
 }

@@ -12,6 +12,9 @@ import { zeroPhaseJs, zeroPhaseWasm } from '../src/bandpass';
 import { movingMedianJs, movingMedianWasm } from '../src/background';
 import { lineKernels, useLineKernels } from '../src/line-wasm';
 import { stoltKernel, type StoltKernelOptions } from '../src/stolt';
+import { envelope } from '../src/envelope';
+import { shiftLineWasm, shiftTrace, timeZero } from '../src/time-zero';
+import { addNoise, addRicker, makeLine } from './synth';
 import { rng } from './synth';
 
 const kernels = lineKernels();
@@ -157,6 +160,63 @@ describe('Stolt maps in the kernels (fkTraces, fkColumns, rotateBins, stoltInter
   it('a silent line maps to zeros', () => {
     const data = new Float32Array(20 * 64);
     expect(sameBits(run(true, data, 20, 64, 0.05, {}), run(false, data, 20, 64, 0.05, {}))).toBe(true);
+  });
+});
+
+/** `f` with the kernels off (the JavaScript path) and on. */
+function bothPaths<T>(f: () => T): [T, T] {
+  useLineKernels(false);
+  try {
+    const js = f();
+    useLineKernels(true);
+    return [js, f()];
+  } finally {
+    useLineKernels(true);
+  }
+}
+
+describe('envelopeLine (Hilbert envelopes of a line)', () => {
+  for (const [nTraces, nSamples, padTo] of [[9, 100, undefined], [8, 64, 256], [1, 33, undefined]] as const) {
+    it(`the JavaScript path's bits: ${nTraces} traces x ${nSamples} samples${padTo ? `, padded to ${padTo}` : ''}`, () => {
+      const line = makeLine(nTraces, nSamples, 0.1, 0.05);
+      line.data.set(randomLine(500 + nTraces, nTraces * nSamples));
+      const [js, wasm] = bothPaths(() => envelope(line, { padTo }).data);
+      expect(sameBits(wasm, js)).toBe(true);
+    });
+  }
+
+  it('scipy.signal.hilbert on the fixture signals (abs of the analytic signal, 1e-6 of the peak)', () => {
+    const fx = JSON.parse(readFileSync(new URL('./data/scipy-signal.json', import.meta.url), 'utf8')) as { signals: number[][]; hilbert: { N: number; envelope: number[] }[] };
+    fx.hilbert.forEach((ref, i) => {
+      const x = Float32Array.from(fx.signals[i]!);
+      const line = { ...makeLine(1, x.length, 0.1, 0.05), data: x };
+      const env = envelope(line, { padTo: ref.N }).data;
+      const peak = Math.max(...ref.envelope);
+      for (let k = 0; k < x.length; k++) expect(Math.abs(env[k]! - ref.envelope[k]!)).toBeLessThan(1e-6 * peak);
+    });
+  });
+});
+
+describe('shiftLine (time-zero shifts of a line)', () => {
+  it('shiftTrace\'s bits for whole, fractional, negative and far shifts', () => {
+    const n = 50;
+    const shifts = Float64Array.of(0, 3, -2, 0.25, -0.75, 7.5, -13.125, 49.5, -60, 1e6, 0.999999, 2.5e-7);
+    const data = randomLine(77, shifts.length * n);
+    const wasm = new Float32Array(data.length);
+    shiftLineWasm(K, data, wasm, shifts.length, n, shifts);
+    const js = new Float32Array(data.length);
+    shifts.forEach((sh, t) => shiftTrace(data.subarray(t * n, (t + 1) * n), sh, js.subarray(t * n, (t + 1) * n)));
+    expect(sameBits(wasm, js)).toBe(true);
+  });
+
+  it('timeZero gives the same line, picks and shifts with the kernels', () => {
+    const line = makeLine(61, 200, 0.1, 0.05);
+    for (let t = 0; t < line.nTraces; t++) addRicker(line, t, 5 + 0.3 * Math.sin(t / 7), 1, 400);
+    addNoise(line, 0.02, 9);
+    const [js, wasm] = bothPaths(() => timeZero(line, { frequencyMHz: 400, separationM: 0.16 }));
+    expect(sameBits(wasm.line.data, js.line.data)).toBe(true);
+    expect([...wasm.picksNs]).toEqual([...js.picksNs]);
+    expect([...wasm.shiftsNs]).toEqual([...js.shiftsNs]);
   });
 });
 

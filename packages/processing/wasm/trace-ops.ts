@@ -1,0 +1,75 @@
+// Per-trace operations of a whole line as line kernels: the envelope (`envelope`, ../src/envelope.ts) and
+// time-zero's sub-sample shift (`shiftTrace`, ../src/time-zero.ts), the JavaScript's operations in the
+// same order, so the same numbers.
+import { envelopePair, hilbertMul } from './fft-kernels';
+import { runPlan } from './fft-run';
+
+/**
+ * Hilbert envelopes of the nTraces float32 traces at `data` (nSamples each, zero padded to n, a plan of
+ * size n), two per transform as `WasmFFT.hilbertEnvelopes` takes them (a last odd trace with zeros), into
+ * the float64 `out`. a, b, c, d: work arrays of n complex numbers.
+ */
+export function envelopeLine(data: usize, out: usize, nTraces: i32, nSamples: i32, n: i32, plan: usize, a: usize, b: usize, c: usize, d: usize): void {
+  memory.fill(a, 0, <usize>(2 * n) << 3);
+  const s = 1.0 / <f64>n;
+  for (let t = 0; t < nTraces; t += 2) {
+    const two = t + 1 < nTraces;
+    const ta = data + (<usize>(t * nSamples) << 2);
+    const tb = ta + (<usize>nSamples << 2);
+    for (let i = 0; i < nSamples; i++) {
+      store<f64>(a + (<usize>(2 * i) << 3), <f64>load<f32>(ta + (<usize>i << 2)));
+      store<f64>(a + (<usize>(2 * i + 1) << 3), two ? <f64>load<f32>(tb + (<usize>i << 2)) : 0);
+    }
+    hilbertMul(runPlan(plan, a, b, c, false), d, n);
+    envelopePair(a, runPlan(plan, d, b, c, true), d, nSamples, s);
+    const o = out + (<usize>(t * nSamples) << 3);
+    for (let i = 0; i < nSamples; i++) {
+      store<f64>(o + (<usize>i << 3), load<f64>(d + (<usize>(2 * i) << 3)));
+      if (two) store<f64>(o + (<usize>(nSamples + i) << 3), load<f64>(d + (<usize>(2 * i + 1) << 3)));
+    }
+  }
+}
+
+/**
+ * `shiftTrace` of each trace t of the float32 line at src into dst (n samples a trace): by whole[t]
+ * samples (int32) where exact[t], else by Keys cubic interpolation with the weights w[4 t..4 t + 3]
+ * (float64) of taps j - 1..j + 2, j = i - whole[t] - 1, zero outside the trace.
+ */
+export function shiftLine(src: usize, dst: usize, nTraces: i32, n: i32, whole: usize, w: usize, exact: usize): void {
+  for (let t = 0; t < nTraces; t++) {
+    const x = src + (<usize>(t * n) << 2);
+    const out = dst + (<usize>(t * n) << 2);
+    const wh = load<i32>(whole + (<usize>t << 2));
+    if (load<u8>(exact + <usize>t)) {
+      for (let i = 0; i < n; i++) {
+        const j = i - wh;
+        store<f32>(out + (<usize>i << 2), j >= 0 && j < n ? load<f32>(x + (<usize>j << 2)) : 0);
+      }
+      continue;
+    }
+    const wt = w + (<usize>(4 * t) << 3);
+    const w0 = load<f64>(wt);
+    const w1 = load<f64>(wt, 8);
+    const w2 = load<f64>(wt, 16);
+    const w3 = load<f64>(wt, 24);
+    const i0 = min(n, max(0, wh + 2));
+    const i1 = max(i0, min(n, n - 1 + wh));
+    for (let i = 0; i < n; i++) {
+      let acc: f64 = 0;
+      const k = i - wh - 2;
+      if (i >= i0 && i < i1) {
+        acc += <f64>load<f32>(x + (<usize>k << 2)) * w0;
+        acc += <f64>load<f32>(x + (<usize>(k + 1) << 2)) * w1;
+        acc += <f64>load<f32>(x + (<usize>(k + 2) << 2)) * w2;
+        acc += <f64>load<f32>(x + (<usize>(k + 3) << 2)) * w3;
+      } else {
+        // the edges: the taps inside the trace, in the same order
+        for (let m = 0; m < 4; m++) {
+          const km = k + m;
+          if (km >= 0 && km < n) acc += <f64>load<f32>(x + (<usize>km << 2)) * (m == 0 ? w0 : m == 1 ? w1 : m == 2 ? w2 : w3);
+        }
+      }
+      store<f32>(out + (<usize>i << 2), <f32>acc);
+    }
+  }
+}
