@@ -3,6 +3,7 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { fftOfSize, nextFastSize, nextPow2, stagedTransform } from './fft';
 import { alongTrackM, outputFor, withData } from './line-util';
+import { lineKernels, type LineKernels } from './line-wasm';
 import { keys } from './time-zero';
 
 /** An interval-velocity layer by depth (m, m/ns); the last layer extends to any depth. */
@@ -378,6 +379,11 @@ export function bistaticResample(
 
 /** `bistaticResample` through its map, samples `k0` on of every trace only. */
 function resampleFrom(data: ArrayLike<number>, nTraces: number, nSamples: number, map: ResampleMap, k0: number, out: Float64Array | Float32Array): void {
+  const kernels = lineKernels();
+  if (kernels && data instanceof Float32Array) {
+    resampleWasm(kernels, data, nTraces, nSamples, map, k0, out);
+    return;
+  }
   const { src, tap, wt } = map;
   for (let i = 0; i < nTraces; i++) {
     const o = i * nSamples;
@@ -402,6 +408,23 @@ interface ResampleMap {
   tap: Int32Array;
   /** Their weights, four per sample. */
   wt: Float64Array;
+}
+
+/**
+ * `resampleFrom` of a float32 line in the line kernels (`resampleLine`): the same weights and sums, so
+ * the same numbers. Samples before k0 of `out` are left as they are.
+ */
+function resampleWasm(kernels: LineKernels, data: Float32Array, nTraces: number, nSamples: number, map: ResampleMap, k0: number, out: Float64Array | Float32Array): void {
+  const n = nTraces * nSamples;
+  const [d, o, src, tap, wt] = kernels.layout(4 * n, 8 * n, 8 * nSamples, 4 * nSamples, 32 * nSamples);
+  kernels.f32(d, n).set(data.subarray(0, n));
+  kernels.f64(src, nSamples).set(map.src);
+  kernels.i32(tap, nSamples).set(map.tap);
+  kernels.f64(wt, 4 * nSamples).set(map.wt);
+  kernels.k.resampleLine(d, o, nTraces, nSamples, src, tap, wt, k0);
+  const res = kernels.f64(o, n);
+  if (k0 === 0) out.set(res);
+  else for (let i = 0; i < nTraces; i++) out.set(res.subarray(i * nSamples + k0, (i + 1) * nSamples), i * nSamples + k0);
 }
 
 const resampleMaps = new Map<string, ResampleMap>();

@@ -13,6 +13,7 @@ import { movingMedianJs, movingMedianWasm } from '../src/background';
 import { lineKernels, useLineKernels } from '../src/line-wasm';
 import { stoltKernel, type StoltKernelOptions } from '../src/stolt';
 import { envelope } from '../src/envelope';
+import { bistaticResample, passThroughBack } from '../src/fk';
 import { shiftLineWasm, shiftTrace, timeZero } from '../src/time-zero';
 import { addNoise, addRicker, makeLine } from './synth';
 import { rng } from './synth';
@@ -218,6 +219,28 @@ describe('shiftLine (time-zero shifts of a line)', () => {
     expect([...wasm.picksNs]).toEqual([...js.picksNs]);
     expect([...wasm.shiftsNs]).toEqual([...js.shiftsNs]);
   });
+});
+
+describe('resampleLine (bistatic to zero-offset time and back)', () => {
+  for (const [name, layers, sep] of [
+    ['one layer', [{ topM: 0, velocityMPerNs: 0.1 }], 0.16],
+    ['two layers, wide separation', [{ topM: 0, velocityMPerNs: 0.12 }, { topM: 0.5, velocityMPerNs: 0.08 }], 0.6],
+  ] as const) {
+    it(`the JavaScript path's bits: ${name}`, () => {
+      const nTraces = 7;
+      const nSamples = 120;
+      const data = randomLine(900, nTraces * nSamples);
+      const [js, wasm] = bothPaths(() => {
+        const zo = new Float64Array(nTraces * nSamples);
+        bistaticResample(data, nTraces, nSamples, 0.1, 3, layers, sep, true, zo);
+        const back = data.slice();
+        passThroughBack(Float32Array.from(zo), data, back, nTraces, nSamples, 0.1, 3, layers, sep);
+        return { zo, back };
+      });
+      expect(Buffer.from(wasm.zo.buffer).equals(Buffer.from(js.zo.buffer))).toBe(true);
+      expect(sameBits(wasm.back, js.back)).toBe(true);
+    });
+  }
 });
 
 describe('the committed modules', () => {

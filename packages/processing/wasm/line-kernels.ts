@@ -229,4 +229,4 @@ export function subtractBackground(data: usize, out: usize, nTraces: i32, nSampl
 }
 
 export { fkTraces, fkColumns, rotateBins, stoltInterpolate, stoltAcross, stoltTime } from './stolt';
-export { envelopeLine, shiftLine } from './trace-ops';
+export { envelopeLine, resampleLine, shiftLine } from './trace-ops';

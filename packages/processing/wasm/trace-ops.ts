@@ -73,3 +73,45 @@ export function shiftLine(src: usize, dst: usize, nTraces: i32, n: i32, whole: u
     }
   }
 }
+
+/** Keys cubic convolution weight (a = -0.5): `keys` of ../src/time-zero.ts. */
+function keys(x: f64): f64 {
+  const ax = Math.abs(x);
+  if (ax < 1) return 1.5 * ax * ax * ax - 2.5 * ax * ax + 1;
+  if (ax < 2) return -0.5 * ax * ax * ax + 2.5 * ax * ax - 4 * ax + 2;
+  return 0;
+}
+
+/**
+ * `resampleFrom` (../src/fk.ts) of the float32 line at `data` into the float64 `out`, samples k0.. of each
+ * trace: sample k from source position src[k] (float64; < 0: zero), by the four weights wt[4 k..] of taps
+ * tap[k]..tap[k] + 3 (int32) where tap[k] >= 0, else Keys cubic interpolation (`cubicAt`) within the trace.
+ */
+export function resampleLine(data: usize, out: usize, nTraces: i32, nSamples: i32, src: usize, tap: usize, wt: usize, k0: i32): void {
+  for (let i = 0; i < nTraces; i++) {
+    const o = i * nSamples;
+    for (let k = k0; k < nSamples; k++) {
+      const t = load<i32>(tap + (<usize>k << 2));
+      let v: f64;
+      if (t >= 0) {
+        const q = data + (<usize>(o + t) << 2);
+        const w = wt + (<usize>(4 * k) << 3);
+        v = <f64>load<f32>(q) * load<f64>(w) + <f64>load<f32>(q, 4) * load<f64>(w, 8) + <f64>load<f32>(q, 8) * load<f64>(w, 16) + <f64>load<f32>(q, 12) * load<f64>(w, 24);
+      } else {
+        const u = load<f64>(src + (<usize>k << 3));
+        v = 0;
+        if (!(u < 0)) {
+          // cubicAt(data, o + u, o, o + nSamples)
+          const uu = <f64>o + u;
+          const i0f = Math.floor(uu);
+          const i0 = <i32>i0f;
+          if (uu - i0f == 0) v = i0 >= o && i0 < o + nSamples ? <f64>load<f32>(data + (<usize>i0 << 2)) : 0;
+          else {
+            for (let m = i0 - 1; m <= i0 + 2; m++) if (m >= o && m < o + nSamples) v += <f64>load<f32>(data + (<usize>m << 2)) * keys(uu - <f64>m);
+          }
+        }
+      }
+      store<f64>(out + (<usize>(o + k) << 3), v);
+    }
+  }
+}
