@@ -2,7 +2,7 @@ import type { RadarLine } from '@lamina/radar-data';
 import { fftOfSize, nextPow2, stagedTransform, type Staged } from './fft';
 import { WasmFFT } from './fft-wasm';
 import { withData } from './line-util';
-import { fftPlanBytes, lineKernels, type LineKernels } from './line-wasm';
+import { fftPlanBytes, lineKernels, writeFftPlan, type LineKernels } from './line-wasm';
 
 /** Scratch buffers for analytic signals of one padded length (reused across traces). */
 export interface HilbertWorkspace {
@@ -185,7 +185,7 @@ export function envelope(line: RadarLine, options: { padTo?: number } = {}, out?
 export function lineEnvelopes(kernels: LineKernels, data: Float32Array, nTraces: number, nSamples: number, n: number): Float64Array {
   const [d, o, plan, a, b, c, w] = kernels.layout(4 * nTraces * nSamples, 8 * nTraces * nSamples, fftPlanBytes(n), 16 * n, 16 * n, 16 * n, 16 * n);
   kernels.f32(d, nTraces * nSamples).set(data.subarray(0, nTraces * nSamples));
-  kernels.fftPlan(n, plan);
+  writeFftPlan(kernels, n, plan);
   kernels.k.envelopeLine(d, o, nTraces, nSamples, n, plan, a, b, c, w);
   return kernels.f64(o, nTraces * nSamples);
 }

@@ -73,3 +73,4 @@ export {
   processLines,
   processLineInWorker,
 } from './pool';
+export { Kernels, kernelsOf, useKernels } from './wasm-kernels';

@@ -1,7 +1,7 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { band, dipWeigher, fk2d, fkLine, halfOrderFactors, halfOrderFilter, kxOf, packTracePair, paddedSizes, scratch, shiftFactors, shiftSpectrum, type FkLineOptions } from './fk';
 import { fftOfSize, stagedTransform } from './fft';
-import { fftPlanBytes, lineKernels, type LineKernels } from './line-wasm';
+import { fftPlanBytes, lineKernels, writeFftPlan, type LineKernels } from './line-wasm';
 
 export interface StoltOptions extends FkLineOptions {
   /** Constant velocity of the ground, m/ns. */
@@ -492,8 +492,8 @@ function stoltMapsWasm(
     8 * nw, 8 * nw, 8 * nw, 16 * nw * nx, 8 * nw * nx, 8 * nw * nx, 8 * nw, 8 * nw,
   );
   kernels.f64(d, nTraces * nSamples).set(data);
-  kernels.fftPlan(nt, planT);
-  kernels.fftPlan(nx, planX);
+  writeFftPlan(kernels, nt, planT);
+  writeFftPlan(kernels, nx, planX);
   K.fkTraces(d, nTraces, nSamples, nt, nx, spec, planT, a, b, c, power);
   const [lo, hi] = band(kernels.f64(power, nw), tol);
   K.fkColumns(spec, nTraces, nx, nw, lo, hi, planX, a, b, c);

@@ -10,7 +10,8 @@ import { describe, expect, it } from 'vitest';
 import { butterworthSos } from '../src/butterworth';
 import { zeroPhaseJs, zeroPhaseWasm } from '../src/bandpass';
 import { movingMedianJs, movingMedianWasm } from '../src/background';
-import { lineKernels, useLineKernels } from '../src/line-wasm';
+import { lineKernels } from '../src/line-wasm';
+import { useKernels } from '../src/wasm-kernels';
 import { stoltKernel, type StoltKernelOptions } from '../src/stolt';
 import { envelope } from '../src/envelope';
 import { bistaticResample, passThroughBack } from '../src/fk';
@@ -131,11 +132,11 @@ describe('movingMedian in the kernels (windowMedians, subtractBackground)', () =
 
 describe('Stolt maps in the kernels (fkTraces, fkColumns, rotateBins, stoltInterpolate, stoltAcross, stoltTime)', () => {
   const run = (kernelsOn: boolean, data: Float32Array, nTraces: number, nSamples: number, dxM: number, o: StoltKernelOptions) => {
-    useLineKernels(kernelsOn);
+    useKernels(kernelsOn);
     try {
       return stoltKernel(data, nTraces, nSamples, 0.1, dxM, 4, 0.1, o);
     } finally {
-      useLineKernels(true);
+      useKernels(true);
     }
   };
   const cases: { name: string; nTraces: number; nSamples: number; dxM: number; o: StoltKernelOptions }[] = [
@@ -166,13 +167,13 @@ describe('Stolt maps in the kernels (fkTraces, fkColumns, rotateBins, stoltInter
 
 /** `f` with the kernels off (the JavaScript path) and on. */
 function bothPaths<T>(f: () => T): [T, T] {
-  useLineKernels(false);
+  useKernels(false);
   try {
     const js = f();
-    useLineKernels(true);
+    useKernels(true);
     return [js, f()];
   } finally {
-    useLineKernels(true);
+    useKernels(true);
   }
 }
 

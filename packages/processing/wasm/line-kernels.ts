@@ -4,6 +4,7 @@
 // (or the same float32 roundings), so the results are the same bits. Built by scripts/build-wasm.mjs into
 // ../src/line-wasm-binary.ts; rebuild after a change here. Pointers are byte offsets into the module's
 // memory, which ../src/line-wasm.ts lays out per call.
+import { selectRank } from './select';
 
 /** Samples i of two float32 traces at a and b as the lanes of one vector. */
 @inline function pairAt(a: usize, b: usize, i: i32): v128 {
@@ -83,32 +84,6 @@ export function transposeLine(data: usize, out: usize, nTraces: i32, nSamples: i
       }
     }
   }
-}
-
-/** The value of rank k of the float32 numbers w[l..r] (no NaN), which it reorders: Hoare's selection. */
-function selectRank(w: usize, l: i32, r: i32, k: i32): f32 {
-  const pk = w + (<usize>k << 2);
-  while (l < r) {
-    const x = load<f32>(pk);
-    let i = l;
-    let j = r;
-    do {
-      while (load<f32>(w + (<usize>i << 2)) < x) i++;
-      while (x < load<f32>(w + (<usize>j << 2))) j--;
-      if (i <= j) {
-        const pi = w + (<usize>i << 2);
-        const pj = w + (<usize>j << 2);
-        const t = load<f32>(pi);
-        store<f32>(pi, load<f32>(pj));
-        store<f32>(pj, t);
-        i++;
-        j--;
-      }
-    } while (i <= j);
-    if (j < k) l = i;
-    if (k < i) r = j;
-  }
-  return load<f32>(pk);
 }
 
 /**

@@ -4,6 +4,8 @@ import { medianInPlace as median, selectInPlace } from '@lamina/stats';
 import { alongLine, pointAlong } from './along';
 import { envelopeLevel } from './noise-level';
 import { apexDistance, fitHyperbola, hyperbolaTime, linearisedFit, type PointFit } from './fit';
+import { kernelScan } from './detect-wasm';
+import { curveTools, type ScanLine } from './scan';
 
 /**
  * Automatic diffraction-hyperbola detection on one processed line:
@@ -218,94 +220,22 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
   const level = envelopeLevel(E, nTraces, nSamples, halfPeriodS, options.levelFloor ?? 3e-3);
   // Normalised envelope: thresholds and scores. Pick times come from E itself, whose peak is not shifted by the level.
   const N = normalised(E, level, nTraces, nSamples);
-  const at = (t: number, sf: number): number => {
-    if (sf < 0 || sf > nSamples - 1) return 0;
-    const s0 = Math.floor(sf);
-    const f = sf - s0;
-    const a = N[t * nSamples + s0]!;
-    return f > 0 ? a + f * (N[t * nSamples + s0 + 1]! - a) : a;
-  };
-  const sampleOf = (tNs: number) => (tNs + timeZeroNs) / dtNs;
+  const velocities = new Float64Array(nV);
+  for (let k = 0; k < nV; k++) velocities[k] = vMin * (vMax / vMin) ** (k / (nV - 1));
+  const apexShift = 2;
+  const scanLine: ScanLine = { N, along, nTraces, nSamples, separationM: sep, spacing, tanA, maxApertureM: maxAp, dtNs, timeZeroNs, velocities, apexShift };
+  const { at, sampleOf, traceRange, apertureOf, curveScore, scan: jsScan } = curveTools(scanLine);
+  // the scan in the detection kernels where they run (the same scores)
+  const scan = kernelScan(scanLine) ?? jsScan;
 
   // Apex candidates: local maxima after the direct wave.
   const sStart = Math.max(1, Math.ceil(sampleOf((options.earliestApexPeriods ?? 1.5) * periodNs)));
   // Apexes need room below them for a wavelet and some move-out before the end of the record.
   const sEnd = nSamples - 1 - 4 * halfPeriodS;
   const nbT = 2;
-  const apexShift = 2;
   const cands = apexCandidates(N, nTraces, nSamples, sStart, sEnd, candTh, nbT, halfPeriodS);
   cands.sort((a, b) => b.v - a.v);
   const sEarly = options.earlyApexPeriods === undefined ? sStart : Math.max(1, Math.ceil(sampleOf(options.earlyApexPeriods * periodNs)));
-
-  const velocities = new Float64Array(nV);
-  for (let k = 0; k < nV; k++) velocities[k] = vMin * (vMax / vMin) ** (k / (nV - 1));
-
-  // Traces within x0 -+ ap: the first at or past x0 - ap (at most the last), the last at or before x0 + ap
-  // (at least the first). `along` never decreases, so by bisection (the scan calls this for every curve).
-  const traceRange = (x0: number, ap: number): [number, number] => {
-    const lo = x0 - ap;
-    let a = 0;
-    let r = nTraces - 1;
-    while (a < r) {
-      const m = (a + r) >> 1;
-      if (along[m]! < lo) a = m + 1;
-      else r = m;
-    }
-    const hi = x0 + ap;
-    let l = 0;
-    let b = nTraces - 1;
-    while (l < b) {
-      const m = (l + b + 1) >> 1;
-      if (along[m]! > hi) b = m - 1;
-      else l = m;
-    }
-    return [a, b];
-  };
-  const apertureOf = (z: number) => Math.min(maxAp, Math.max(5 * spacing, z * tanA));
-
-  // Score of a curve: the smaller of the two flanks' medians of the normalised envelope along it. A
-  // median ignores a few crossings of strong straight events (air waves from walls), and taking the
-  // weaker flank favours curves that follow both flanks of a real hyperbola.
-  const left = new Float32Array(nTraces);
-  const right = new Float32Array(nTraces);
-  // With `floor`, a score that cannot exceed it is returned as `floor` itself, decided by counting the
-  // values above it (the median of n values is <= floor when fewer than n / 2 exceed it, and > floor when
-  // more than n / 2 do), without the selections: the scan only needs the scores above its threshold.
-  // The flanks' sizes are counted first (positions only), so that with `floor` the values stop as soon
-  // as one flank can no longer have half of them above it: the same result, most curves of the scan
-  // decided after a part of one flank.
-  const curveScore = (x0: number, z: number, v: number, ap: number, floor = -Infinity): number => {
-    const [a, b] = traceRange(x0, ap);
-    const stride = Math.max(1, Math.ceil((b - a + 1) / 120));
-    const skip = 1.5 * spacing;
-    let nl = 0;
-    let nr = 0;
-    for (let j = a; j <= b; j += stride) {
-      const d = along[j]! - x0;
-      if (Math.abs(d) < skip) continue;
-      if (d < 0) nl++;
-      else nr++;
-    }
-    if (nl < 2 || nr < 2) return 0;
-    // a flank fails (fewer than half of its values above `floor`) once more than half are not above it
-    let il = 0;
-    let ir = 0;
-    let bl = 0;
-    let br = 0;
-    for (let j = a; j <= b; j += stride) {
-      const d = along[j]! - x0;
-      if (Math.abs(d) < skip) continue;
-      const u = at(j, sampleOf(hyperbolaTime(along[j]!, x0, z, v, sep)));
-      if (d < 0) {
-        left[il++] = u;
-        if (!(u > floor) && 2 * ++bl > nl) return floor;
-      } else {
-        right[ir++] = u;
-        if (!(u > floor) && 2 * ++br > nr) return floor;
-      }
-    }
-    return Math.min(median(left.subarray(0, nl)), median(right.subarray(0, nr)));
-  };
 
   interface Picks {
     off: number[];
@@ -515,24 +445,10 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
       if (examined >= maxCand) break;
       if (nearAccepted(c.t, c.s)) continue;
       examined++;
-      // Scan velocity and a few traces of apex position (noise moves the envelope maximum off the apex).
+      // Scan velocity and a few traces of apex position; only scores above pickTh / 2 make starts (and a
+      // lower one never outranks them)
       const t0 = c.s * dtNs - timeZeroNs;
-      scoreV.fill(-1);
-      for (let dj = -apexShift; dj <= apexShift; dj++) {
-        const j = c.t + dj;
-        if (j < 0 || j >= nTraces) continue;
-        for (let k = 0; k < nV; k++) {
-          const v = velocities[k]!;
-          const z = apexDistance(t0, v, sep);
-          if (!(z > 0)) continue;
-          // only scores above pickTh / 2 make starts (and a lower one never outranks them): `floor`
-          const sc = curveScore(along[j]!, z, v, apertureOf(z), pickTh / 2);
-          if (sc > scoreV[k]!) {
-            scoreV[k] = sc;
-            xV[k] = along[j]!;
-          }
-        }
-      }
+      scan(c.t, t0, pickTh / 2, scoreV, xV);
       // Starts: the strongest local maxima of the score over velocity; the accepted fit with the smallest
       // residual wins (a strong straight event crossing one flank can make a wrong curve score best).
       const starts: number[] = [];

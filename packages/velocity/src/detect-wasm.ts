@@ -1,0 +1,40 @@
+import { kernelsOf } from '@lamina/processing';
+import { DETECT_WASM_BASE64 } from './detect-wasm-binary';
+import type { ScanLine } from './scan';
+
+/** The exports of wasm/detect-kernels.ts (pointers are byte offsets into `memory`). */
+interface DetectExports {
+  memory: WebAssembly.Memory;
+  anyNaN(p: number, n: number): number;
+  scanLine(N: number, along: number, nTraces: number, nSamples: number, sep: number, spacing: number, tanA: number, maxAp: number, dtNs: number, timeZeroNs: number, left: number, right: number): void;
+  scanCandidate(ct: number, t0: number, apexShift: number, velocities: number, nV: number, floor: number, scoreV: number, xV: number): void;
+}
+
+/** This thread's detection kernels; null where WebAssembly SIMD is not available. */
+const detectKernels = kernelsOf<DetectExports>(DETECT_WASM_BASE64);
+
+/**
+ * The velocity scan of `detectHyperbolas` in the detection kernels (`scanCandidate`): `curveTools`' `scan`
+ * (./scan.ts) with the same numbers. Null where the kernels do not run or
+ * the envelope holds NaN (whose medians the JavaScript selection decides).
+ */
+export function kernelScan(line: ScanLine): ((ct: number, t0: number, floor: number, scoreV: Float64Array, xV: Float64Array) => void) | null {
+  const K = detectKernels();
+  if (!K) return null;
+  const { nTraces, nSamples, velocities } = line;
+  const nV = velocities.length;
+  const n = nTraces * nSamples;
+  const [N, along, left, right, vel, sv, xv] = K.layout(4 * n, 8 * nTraces, 4 * nTraces, 4 * nTraces, 8 * nV, 8 * nV, 8 * nV);
+  K.f32(N, n).set(line.N.subarray(0, n));
+  if (K.k.anyNaN(N, n)) return null;
+  K.f64(along, nTraces).set(line.along.subarray(0, nTraces));
+  K.f64(vel, nV).set(velocities);
+  K.k.scanLine(N, along, nTraces, nSamples, line.separationM, line.spacing, line.tanA, line.maxApertureM, line.dtNs, line.timeZeroNs, left, right);
+  return (ct, t0, floor, scoreV, xV) => {
+    // offsets are written where a score improves: the others stay the caller's
+    K.f64(xv, nV).set(xV);
+    K.k.scanCandidate(ct, t0, line.apexShift, vel, nV, floor, sv, xv);
+    scoreV.set(K.f64(sv, nV));
+    xV.set(K.f64(xv, nV));
+  };
+}

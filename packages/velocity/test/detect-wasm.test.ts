@@ -1,0 +1,99 @@
+// The detection's velocity scan in WebAssembly (wasm/detect-kernels.ts) against its JavaScript
+// (`curveTools` of src/scan.ts): the same scores, bit for bit, on random envelopes; the same detections on
+// synthetic radargrams. The scores themselves are checked against their definition: the smaller of the
+// two flanks' medians (the middle of the sorted values, or the mean of the two middle ones).
+import { describe, expect, it } from 'vitest';
+import { useKernels } from '@lamina/processing';
+import { C_M_PER_NS, detectHyperbolas } from '../src';
+import { kernelScan } from '../src/detect-wasm';
+import { hyperbolaTime } from '../src/fit';
+import { curveTools, type ScanLine } from '../src/scan';
+import { synthLine, type Diffractor } from './synth';
+
+/** mulberry32, seeded. */
+function random(seed: number): () => number {
+  let s = seed >>> 0;
+  return () => {
+    s = (s + 0x6d2b79f5) >>> 0;
+    let t = s;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+function scanLine(seed: number, nTraces: number, nSamples: number): ScanLine {
+  const r = random(seed);
+  const N = Float32Array.from({ length: nTraces * nSamples }, () => (r() < 0.05 ? 0 : 8 * r() ** 3));
+  const along = new Float64Array(nTraces);
+  for (let i = 1; i < nTraces; i++) along[i] = along[i - 1]! + 0.03 + 0.04 * r();
+  const nV = 48;
+  const velocities = Float64Array.from({ length: nV }, (_, k) => 0.03 * (0.45 / 0.03) ** (k / (nV - 1)));
+  return { N, along, nTraces, nSamples, separationM: 0.15, spacing: along[nTraces - 1]! / (nTraces - 1), tanA: Math.tan(Math.PI / 3), maxApertureM: 4, dtNs: 0.1, timeZeroNs: 5, velocities, apexShift: 2 };
+}
+
+describe('the velocity scan in the detection kernels', () => {
+  for (const [seed, nTraces, nSamples] of [[1, 200, 300], [2, 61, 500], [3, 400, 128]] as const) {
+    it(`the JavaScript scores and offsets, bit for bit (seed ${seed}, ${nTraces} x ${nSamples})`, () => {
+      const line = scanLine(seed, nTraces, nSamples);
+      const js = curveTools(line);
+      const wasm = kernelScan(line);
+      expect(wasm).not.toBeNull();
+      const r = random(seed + 100);
+      const nV = line.velocities.length;
+      for (let c = 0; c < 40; c++) {
+        const ct = Math.floor(r() * nTraces);
+        const t0 = 2 + r() * (nSamples * line.dtNs - 10);
+        for (const floor of [1.5, -Infinity]) {
+          const a = [new Float64Array(nV), new Float64Array(nV)] as const;
+          const b = [new Float64Array(nV), new Float64Array(nV)] as const;
+          js.scan(ct, t0, floor, a[0], a[1]);
+          wasm!(ct, t0, floor, b[0], b[1]);
+          expect(Buffer.from(b[0].buffer).equals(Buffer.from(a[0].buffer))).toBe(true);
+          expect(Buffer.from(b[1].buffer).equals(Buffer.from(a[1].buffer))).toBe(true);
+        }
+      }
+    });
+  }
+
+  it('a score is the smaller flank median of the envelope along the curve (sorted values)', () => {
+    const line = scanLine(9, 150, 300);
+    const { curveScore, traceRange, at } = curveTools(line);
+    const x0 = line.along[70]!;
+    const [z, v, ap] = [0.6, 0.1, 1.2];
+    const [a, b] = traceRange(x0, ap);
+    const stride = Math.max(1, Math.ceil((b - a + 1) / 120));
+    const flanks: number[][] = [[], []];
+    for (let j = a; j <= b; j += stride) {
+      const d = line.along[j]! - x0;
+      if (Math.abs(d) < 1.5 * line.spacing) continue;
+      flanks[d < 0 ? 0 : 1]!.push(Math.fround(at(j, (hyperbolaTime(line.along[j]!, x0, z, v, line.separationM) + line.timeZeroNs) / line.dtNs)));
+    }
+    const med = (xs: number[]) => {
+      const s = [...xs].sort((p, q) => p - q);
+      const m = s.length >> 1;
+      return s.length % 2 ? s[m]! : 0.5 * (s[m - 1]! + s[m]!);
+    };
+    expect(curveScore(x0, z, v, ap)).toBe(Math.min(med(flanks[0]!), med(flanks[1]!)));
+  });
+
+  it('detectHyperbolas finds the same hyperbolas with the kernels off and on', () => {
+    const targets: Diffractor[] = [
+      { x0: 2.5, z: 0.5, v: C_M_PER_NS / 2, amp: 1 },
+      { x0: 6, z: 1.1, v: 0.1, amp: 1 },
+      { x0: 10.5, z: 0.7, v: C_M_PER_NS / 5, amp: 1 },
+    ];
+    const line = synthLine('L1', targets, { nTraces: 300, nSamples: 640, dtNs: 0.1, fMHz: 400, separationM: 0.15, flats: [[0.6, 4]], noise: 0.05, seed: 4 });
+    const opts = { separationM: 0.15, frequencyMHz: 400 };
+    useKernels(false);
+    let js;
+    try {
+      js = detectHyperbolas(line, opts);
+    } finally {
+      useKernels(true);
+    }
+    const wasm = detectHyperbolas(line, opts);
+    expect(js.length).toBeGreaterThanOrEqual(3);
+    expect(wasm).toEqual(js);
+  });
+});
