@@ -1,6 +1,6 @@
 import { twiddleImage } from './fft-wasm';
 import { LINE_WASM_BASE64 } from './line-wasm-binary';
-import { Kernels, kernelsOf } from './wasm-kernels';
+import { kernelsOf, type Kernels } from './wasm-kernels';
 
 /** The exports of wasm/line-kernels.ts (pointers are byte offsets into `memory`). */
 export interface LineKernelExports {
