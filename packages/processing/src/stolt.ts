@@ -237,18 +237,18 @@ interface StoltTable {
 
 let lastTable: StoltTable | undefined;
 
-/** Byte offsets of the table's arrays in the kernels' kept region (n entries), and its size. */
-function tableLayout(n: number): { u: number; jac: number; sin: number; theta: number; taps: number; skip: number; bytes: number } {
+/** Byte offsets of the table's arrays (n entries) in a kept region at `at`, and its size. */
+function tableLayout(n: number, at = 0): { u: number; jac: number; sin: number; theta: number; taps: number; skip: number; bytes: number } {
   const taps = 32 * n;
   const skip = taps + 8 * TAP_STRIDE * n;
-  return { u: 0, jac: 8 * n, sin: 16 * n, theta: 24 * n, taps, skip, bytes: skip + n };
+  return { u: at, jac: at + 8 * n, sin: at + 16 * n, theta: at + 24 * n, taps: at + taps, skip: at + skip, bytes: skip + n };
 }
 
 /** The table's arrays: its own, or views of the kernels' kept region (valid until their next layout). */
 function tableArrays(t: StoltTable, kernels: LineKernels | null): StoltTable {
   if (!kernels || t.u.buffer === kernels.k.memory.buffer) return t;
   const n = t.rowLen.length * t.nw;
-  const at = tableLayout(n);
+  const at = tableLayout(n, kernels.base);
   return Object.assign(t, {
     u: kernels.f64(at.u, n),
     jac: kernels.f64(at.jac, n),
@@ -509,7 +509,7 @@ function stoltMapsWasm(
   const { nb, fRe, fIm } = prepare(hi);
   kernels.f64(fr, nb).set(fRe);
   kernels.f64(fi, nb).set(fIm);
-  const at = tableLayout(t.rowLen.length * nw);
+  const at = tableLayout(t.rowLen.length * nw, kernels.base);
   const jHi = K.stoltInterpolate(spec, nx, nw, nb, lo, hi, at.u, at.jac, at.sin, at.theta, at.skip, at.taps, fr, fi, val, sinT, thT);
   if (jHi < 0) return out.fill(0);
   const nm = jHi + 1;

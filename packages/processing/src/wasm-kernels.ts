@@ -2,31 +2,36 @@
  * A WebAssembly kernel module's instance on this thread and its memory, reused from call to call. A caller
  * lays out its arrays with `layout` (then `append`), which grows the memory first, then takes views of
  * them: views are valid until the next `layout` or `append`. `keep` reserves a region at the start that
- * layouts leave alone (a cache kept from line to line).
+ * layouts leave alone (a cache kept from line to line). The module's own static data, below its
+ * `heapBase`, is never laid over.
  */
 export class Kernels<E extends { memory: WebAssembly.Memory }> {
   readonly k: E;
-  /** Bytes at the start of the memory kept from call to call (`keep`). */
+  /** Where the module's static data ends (its export `heapBase`): the kept region starts there. */
+  readonly base: number;
+  /** Bytes kept from call to call (`keep`). */
   private kept = 0;
   /** The end of the arrays laid out last. */
   private top = 0;
 
   constructor(mod: WebAssembly.Module, imports: WebAssembly.Imports) {
     this.k = new WebAssembly.Instance(mod, imports).exports as unknown as E;
+    const heapBase = (this.k as unknown as { heapBase?: () => number }).heapBase;
+    this.base = heapBase ? Math.ceil(heapBase() / 16) * 16 : 0;
   }
 
   /**
-   * A region of at least `bytes` at offset 0 that later `layout`s leave alone, for a cache kept from line
-   * to line (Stolt's table). Its content survives while the requests do not grow.
+   * A region of at least `bytes` at `base` that later `layout`s leave alone, for a cache kept from line
+   * to line (Stolt's table); returns its offset. Its content survives while the requests do not grow.
    */
   keep(bytes: number): number {
     if (bytes > this.kept) this.kept = Math.ceil(bytes / 16) * 16;
-    return 0;
+    return this.base;
   }
 
   /** Byte offsets of arrays of the given byte sizes, each 16-byte aligned after the kept region, the memory grown to hold them. */
   layout<T extends number[]>(...bytes: T): { [K in keyof T]: number } {
-    this.top = this.kept;
+    this.top = this.base + this.kept;
     return this.append(...bytes);
   }
 

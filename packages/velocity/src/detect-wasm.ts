@@ -3,15 +3,18 @@ import { DETECT_WASM_BASE64 } from './detect-wasm-binary';
 import type { ScanLine } from './scan';
 
 /** The exports of wasm/detect-kernels.ts (pointers are byte offsets into `memory`). */
-interface DetectExports {
+export interface DetectExports {
   memory: WebAssembly.Memory;
   anyNaN(p: number, n: number): number;
   scanLine(N: number, along: number, nTraces: number, nSamples: number, sep: number, spacing: number, tanA: number, maxAp: number, dtNs: number, timeZeroNs: number, left: number, right: number): void;
   scanCandidate(ct: number, t0: number, apexShift: number, velocities: number, nV: number, floor: number, scoreV: number, xV: number): void;
+  irls(x: number, t: number, w: number, prior: number, n: number, p: number, s: number, np: number, robust: number, minScale: number, rounds: number, rMax: number, work: number): number;
+  irlsWorkBytes(n: number): number;
 }
 
 /** This thread's detection kernels; null where WebAssembly SIMD is not available. */
-const detectKernels = kernelsOf<DetectExports>(DETECT_WASM_BASE64);
+// the fits' sines, cosines, arc tangents and powers are JavaScript's, so that their numbers are the JavaScript path's
+export const detectKernels = kernelsOf<DetectExports>(DETECT_WASM_BASE64, { Math: { sin: Math.sin, cos: Math.cos, atan2: Math.atan2, pow: Math.pow } });
 
 /**
  * The velocity scan of `detectHyperbolas` in the detection kernels (`scanCandidate`): `curveTools`' `scan`

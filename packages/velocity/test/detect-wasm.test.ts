@@ -1,12 +1,12 @@
-// The detection's velocity scan in WebAssembly (wasm/detect-kernels.ts) against its JavaScript
-// (`curveTools` of src/scan.ts): the same scores, bit for bit, on random envelopes; the same detections on
-// synthetic radargrams. The scores themselves are checked against their definition: the smaller of the
+// The detection's kernels (wasm/detect-kernels.ts) against their JavaScript: the velocity scan
+// (`curveTools` of src/scan.ts) gives the same scores, bit for bit, on random envelopes; the fits (`irls`
+// of src/fit.ts) the same results on random picks; detections on synthetic radargrams are the same. The scores themselves are checked against their definition: the smaller of the
 // two flanks' medians (the middle of the sorted values, or the mean of the two middle ones).
 import { describe, expect, it } from 'vitest';
 import { useKernels } from '@lamina/processing';
 import { C_M_PER_NS, detectHyperbolas } from '../src';
 import { kernelScan } from '../src/detect-wasm';
-import { hyperbolaTime } from '../src/fit';
+import { fitHyperbola, hyperbolaTime, type FitOptions } from '../src/fit';
 import { curveTools, type ScanLine } from '../src/scan';
 import { synthLine, type Diffractor } from './synth';
 
@@ -75,6 +75,45 @@ describe('the velocity scan in the detection kernels', () => {
       return s.length % 2 ? s[m]! : 0.5 * (s[m - 1]! + s[m]!);
     };
     expect(curveScore(x0, z, v, ap)).toBe(Math.min(med(flanks[0]!), med(flanks[1]!)));
+  });
+
+  it('fitHyperbola gives the same fits, bit for bit, with the kernels off and on (random picks, every option)', () => {
+    const r = random(77);
+    const gauss = () => Math.sqrt(-2 * Math.log(r() + 1e-300)) * Math.cos(2 * Math.PI * r());
+    const optionSets: FitOptions[] = [
+      { separationM: 0.15 },
+      { separationM: 0 },
+      { separationM: 0.3, robust: 'huber' },
+      { separationM: 0.15, robust: 'none' },
+      { separationM: 0.15, radius: 'point' },
+      { separationM: 0.1, maxRadiusM: 0.2, radiusSignificance: 2 },
+    ];
+    let fits = 0;
+    for (let trial = 0; trial < 60; trial++) {
+      const n = 8 + Math.floor(r() * 60);
+      const x0 = 5 * r();
+      const z = 0.2 + 1.5 * r();
+      const v = 0.05 + 0.15 * r();
+      const R = r() < 0.5 ? 0 : 0.3 * r();
+      const o = optionSets[trial % optionSets.length]!;
+      const off = Float64Array.from({ length: n }, (_, i) => x0 - 1.5 + (3 * i) / n);
+      const t = Float64Array.from(off, (x) => hyperbolaTime(x, x0, z, v, o.separationM ?? 0, R) + 0.05 * gauss() + (r() < 0.1 ? 3 * gauss() : 0));
+      const options = { ...o, ...(trial % 3 === 0 ? { initial: { x0M: x0 + 0.1, t0Ns: t[n >> 1]!, velocityMPerNs: v * 1.2 } } : {}), ...(trial % 4 === 0 ? { pickWeights: Float64Array.from(off, () => r()) } : {}) };
+      useKernels(false);
+      let js;
+      try {
+        js = fitHyperbola(off, t, options);
+      } finally {
+        useKernels(true);
+      }
+      const wasm = fitHyperbola(off, t, options);
+      if (js) fits++;
+      // the same numbers, -0 and NaN included
+      expect(JSON.stringify(wasm, (_, val) => (typeof val === 'number' ? (Object.is(val, -0) ? '-0' : String(val)) : val))).toBe(
+        JSON.stringify(js, (_, val) => (typeof val === 'number' ? (Object.is(val, -0) ? '-0' : String(val)) : val)),
+      );
+    }
+    expect(fits).toBeGreaterThan(40);
   });
 
   it('detectHyperbolas finds the same hyperbolas with the kernels off and on', () => {

@@ -176,3 +176,10 @@ export function scanCandidate(ct: i32, t0: f64, apexShift: i32, velocities: usiz
     }
   }
 }
+
+export { irls, irlsWorkBytes } from './fit';
+
+/** Where the module's own static data ends: arrays laid out from JavaScript start at or after it. */
+export function heapBase(): usize {
+  return __heap_base;
+}
