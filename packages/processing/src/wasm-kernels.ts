@@ -21,12 +21,20 @@ export class Kernels<E extends { memory: WebAssembly.Memory }> {
   }
 
   /**
-   * A region of at least `bytes` at `base` that later `layout`s leave alone, for a cache kept from line
-   * to line (Stolt's table); returns its offset. Its content survives while the requests do not grow.
+   * A region of at least `bytes` at `base` that later `layout`s leave alone, for what outlives one call:
+   * a cache kept from line to line (Stolt's table), a line that several calls read between others
+   * (the detection's scan between fits); returns its offset. One user per module. Its content survives
+   * while the requests do not grow.
    */
   keep(bytes: number): number {
     if (bytes > this.kept) this.kept = Math.ceil(bytes / 16) * 16;
+    this.grow(this.base + this.kept);
     return this.base;
+  }
+
+  private grow(end: number): void {
+    const have = this.k.memory.buffer.byteLength;
+    if (end > have) this.k.memory.grow(Math.ceil((end - have) / 65536));
   }
 
   /** Byte offsets of arrays of the given byte sizes, each 16-byte aligned after the kept region, the memory grown to hold them. */
@@ -43,8 +51,7 @@ export class Kernels<E extends { memory: WebAssembly.Memory }> {
       at.push(end);
       end += Math.ceil(b / 16) * 16;
     }
-    const have = this.k.memory.buffer.byteLength;
-    if (end > have) this.k.memory.grow(Math.ceil((end - have) / 65536));
+    this.grow(end);
     this.top = end;
     return at as { [K in keyof T]: number };
   }

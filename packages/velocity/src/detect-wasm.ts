@@ -27,7 +27,10 @@ export function kernelScan(line: ScanLine): ((ct: number, t0: number, floor: num
   const { nTraces, nSamples, velocities } = line;
   const nV = velocities.length;
   const n = nTraces * nSamples;
-  const [N, along, left, right, vel, sv, xv] = K.layout(4 * n, 8 * nTraces, 4 * nTraces, 4 * nTraces, 8 * nV, 8 * nV, 8 * nV);
+  // in the kept region: the fits (`irls`) lay out their arrays between the candidates' scans
+  const sizes = [4 * n, 8 * nTraces, 4 * nTraces, 4 * nTraces, 8 * nV, 8 * nV, 8 * nV].map((b) => Math.ceil(b / 16) * 16);
+  const base = K.keep(sizes.reduce((a, b) => a + b, 0));
+  const [N, along, left, right, vel, sv, xv] = sizes.map((_, i) => base + sizes.slice(0, i).reduce((a, b) => a + b, 0)) as [number, number, number, number, number, number, number];
   K.f32(N, n).set(line.N.subarray(0, n));
   if (K.k.anyNaN(N, n)) return null;
   K.f64(along, nTraces).set(line.along.subarray(0, nTraces));
