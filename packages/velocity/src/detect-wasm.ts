@@ -10,6 +10,7 @@ export interface DetectExports {
   scanCandidate(ct: number, t0: number, apexShift: number, velocities: number, nV: number, floor: number, scoreV: number, xV: number): void;
   irls(x: number, t: number, w: number, prior: number, n: number, p: number, s: number, np: number, robust: number, minScale: number, rounds: number, rMax: number, work: number): number;
   irlsWorkBytes(n: number): number;
+  normalisedEnvelope(env: number, nTraces: number, nSamples: number, smooth: number, floorFraction: number, cols: number, raw: number, level: number, N: number): void;
 }
 
 /** This thread's detection kernels; null where WebAssembly SIMD is not available. */
@@ -43,4 +44,21 @@ export function kernelScan(line: ScanLine): ((ct: number, t0: number, floor: num
     scoreV.set(K.f64(sv, nV));
     xV.set(K.f64(xv, nV));
   };
+}
+
+/**
+ * `normalised(E, envelopeLevel(E, ...))` of detect.ts in the detection kernels (`normalisedEnvelope`), the
+ * same numbers, into `out`; null where the kernels do not run or E holds NaN.
+ */
+export function kernelNormalised(E: Float32Array, nTraces: number, nSamples: number, smooth: number, floorFraction: number, out: Float32Array): Float32Array | null {
+  const K = detectKernels();
+  if (!K) return null;
+  const n = nTraces * nSamples;
+  const m = Math.ceil(nTraces / Math.max(1, Math.ceil(nTraces / 128)));
+  const [env, cols, raw, level, N] = K.layout(4 * n, 4 * m * nSamples, 8 * nSamples, 8 * nSamples, 4 * n);
+  K.f32(env, n).set(E.subarray(0, n));
+  if (K.k.anyNaN(env, n)) return null;
+  K.k.normalisedEnvelope(env, nTraces, nSamples, smooth, floorFraction, cols, raw, level, N);
+  out.set(K.f32(N, n));
+  return out;
 }

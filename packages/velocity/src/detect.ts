@@ -4,7 +4,7 @@ import { medianInPlace as median, selectInPlace } from '@lamina/stats';
 import { alongLine, pointAlong } from './along';
 import { envelopeLevel } from './noise-level';
 import { apexDistance, fitHyperbola, hyperbolaTime, linearisedFit, type PointFit } from './fit';
-import { kernelScan } from './detect-wasm';
+import { kernelNormalised, kernelScan } from './detect-wasm';
 import { curveTools, type ScanLine } from './scan';
 
 /**
@@ -135,7 +135,7 @@ function scratchOf(k: 0 | 1, n: number): Float32Array {
   return scratch[k]!.subarray(0, n);
 }
 
-/** The envelope divided by the noise level of its sample (`envelopeLevel`), as float32. */
+/** The envelope divided by the noise level of its sample (`envelopeLevel`), as float32 (`kernelNormalised` in WebAssembly). */
 function normalised(E: Float32Array, level: Float64Array, nTraces: number, nSamples: number): Float32Array {
   const N = scratchOf(1, E.length);
   const inv = Float32Array.from(level, (l) => 1 / l);
@@ -217,9 +217,11 @@ export function detectHyperbolas(line: RadarLine, options: DetectOptions = {}): 
         : backgroundRemoval(line, { method: 'mean' }, scratchOf(0, line.data.length));
   // The background-removed copy is ours: its envelope may overwrite it.
   const E = envelope(clean, {}, clean === line ? undefined : clean.data).data;
-  const level = envelopeLevel(E, nTraces, nSamples, halfPeriodS, options.levelFloor ?? 3e-3);
   // Normalised envelope: thresholds and scores. Pick times come from E itself, whose peak is not shifted by the level.
-  const N = normalised(E, level, nTraces, nSamples);
+  const floorFraction = options.levelFloor ?? 3e-3;
+  const N =
+    kernelNormalised(E, nTraces, nSamples, halfPeriodS, floorFraction, scratchOf(1, E.length)) ??
+    normalised(E, envelopeLevel(E, nTraces, nSamples, halfPeriodS, floorFraction), nTraces, nSamples);
   const velocities = new Float64Array(nV);
   for (let k = 0; k < nV; k++) velocities[k] = vMin * (vMax / vMin) ** (k / (nV - 1));
   const apexShift = 2;

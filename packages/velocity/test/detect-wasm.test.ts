@@ -5,7 +5,8 @@
 import { describe, expect, it } from 'vitest';
 import { useKernels } from '@lamina/processing';
 import { C_M_PER_NS, detectHyperbolas } from '../src';
-import { kernelScan } from '../src/detect-wasm';
+import { kernelNormalised, kernelScan } from '../src/detect-wasm';
+import { envelopeLevel } from '../src/noise-level';
 import { fitHyperbola, hyperbolaTime, type FitOptions } from '../src/fit';
 import { curveTools, type ScanLine } from '../src/scan';
 import { synthLine, type Diffractor } from './synth';
@@ -58,6 +59,18 @@ describe('the velocity scan in the detection kernels', () => {
       }
     });
   }
+
+  it('the normalised envelope (envelopeLevel, then the envelope over it as float32) bit for bit', () => {
+    for (const [seed, nTraces, nSamples, smooth] of [[5, 300, 200, 6], [6, 97, 64, 0], [7, 1, 40, 3]] as const) {
+      const r = random(seed);
+      const E = Float32Array.from({ length: nTraces * nSamples }, () => (r() < 0.1 ? 0 : r() ** 4 * 100));
+      const level = envelopeLevel(E, nTraces, nSamples, smooth, 3e-3);
+      const js = Float32Array.from(E, (e, i) => e * Math.fround(1 / level[i % nSamples]!));
+      const wasm = kernelNormalised(E, nTraces, nSamples, smooth, 3e-3, new Float32Array(E.length));
+      expect(wasm).not.toBeNull();
+      expect(Buffer.from(wasm!.buffer).equals(Buffer.from(js.buffer))).toBe(true);
+    }
+  });
 
   it('a score is the smaller flank median of the envelope along the curve (sorted values)', () => {
     const line = scanLine(9, 150, 300);

@@ -3,7 +3,7 @@
 // envelope, the JavaScript's arithmetic in the same order in float64 with the same float32 roundings, so
 // the same scores. Built by scripts/build-wasm.mjs into ../src/detect-wasm-binary.ts; rebuild after a
 // change here. Pointers are byte offsets into the module's memory, laid out by ../src/detect-wasm.ts.
-import { selectRank } from '../../processing/wasm/select';
+import { medianOf } from './median';
 
 @inline function f64At(p: usize, i: i32): f64 {
   return load<f64>(p + (<usize>i << 3));
@@ -30,19 +30,6 @@ export function anyNaN(p: usize, n: i32): bool {
   const ax = -dx + h;
   const bx = -dx - h;
   return max(Math.sqrt(ax * ax + z * z), 1e-12) + max(Math.sqrt(bx * bx + z * z), 1e-12);
-}
-
-/** `medianInPlace` (@lamina/stats) of the n float32 numbers at w (no NaN), which it reorders. */
-function medianOf(w: usize, n: i32): f64 {
-  const k = n >> 1;
-  const hi = <f64>selectRank(w, 0, n - 1, k);
-  if (n & 1) return hi;
-  let lo = -Infinity;
-  for (let i = 0; i < k; i++) {
-    const x = <f64>load<f32>(w + (<usize>i << 2));
-    if (x > lo) lo = x;
-  }
-  return 0.5 * (lo + hi);
 }
 
 // the line of the scan (`scanLine`)
@@ -178,6 +165,7 @@ export function scanCandidate(ct: i32, t0: f64, apexShift: i32, velocities: usiz
 }
 
 export { irls, irlsWorkBytes } from './fit';
+export { normalisedEnvelope } from './noise-level';
 
 /** Where the module's own static data ends: arrays laid out from JavaScript start at or after it. */
 export function heapBase(): usize {

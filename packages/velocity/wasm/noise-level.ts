@@ -1,0 +1,43 @@
+// `envelopeLevel` (../src/noise-level.ts) and `normalised` (../src/detect.ts) of a line in WebAssembly:
+// the same medians, sums and float32 roundings, so the same numbers.
+import { medianOf } from './median';
+
+/**
+ * The noise level of the float32 envelope at env (nTraces x nSamples) into level (float64, nSamples), and
+ * the envelope divided by it, as float32, into N. `cols` holds ceil(nTraces / every) x nSamples float32
+ * numbers, every = ceil(nTraces / 128). No NaN in env.
+ */
+export function normalisedEnvelope(env: usize, nTraces: i32, nSamples: i32, smooth: i32, floorFraction: f64, cols: usize, raw: usize, level: usize, N: usize): void {
+  const every = max(1, <i32>Math.ceil(<f64>nTraces / 128));
+  const m = <i32>Math.ceil(<f64>nTraces / <f64>every);
+  const n = nTraces * nSamples;
+  let mx: f64 = 0;
+  for (let i = 0; i < n; i++) {
+    const x = <f64>load<f32>(env + (<usize>i << 2));
+    if (x > mx) mx = x;
+  }
+  for (let t = 0, j = 0; t < nTraces; t += every, j++) {
+    const o = t * nSamples;
+    for (let s = 0; s < nSamples; s++) store<f32>(cols + (<usize>(s * m + j) << 2), load<f32>(env + (<usize>(o + s) << 2)));
+  }
+  for (let s = 0; s < nSamples; s++) store<f64>(raw + (<usize>s << 3), medianOf(cols + (<usize>(s * m) << 2), m));
+  const floor = max(mx * floorFraction, 5e-324);
+  for (let s = 0; s < nSamples; s++) {
+    let acc: f64 = 0;
+    let cnt = 0;
+    for (let k = max(0, s - smooth); k <= min(nSamples - 1, s + smooth); k++) {
+      acc += load<f64>(raw + (<usize>k << 3));
+      cnt++;
+    }
+    store<f64>(level + (<usize>s << 3), max(acc / <f64>cnt, floor));
+  }
+  // normalised: the inverse level rounded to float32 (`Float32Array.from(level, (l) => 1 / l)`), the product too
+  for (let s = 0; s < nSamples; s++) store<f32>(raw + (<usize>s << 2), <f32>(1 / load<f64>(level + (<usize>s << 3))));
+  for (let t = 0; t < nTraces; t++) {
+    const o = t * nSamples;
+    for (let s = 0; s < nSamples; s++) {
+      const p = <usize>(o + s) << 2;
+      store<f32>(N + p, <f32>(<f64>load<f32>(env + p) * <f64>load<f32>(raw + (<usize>s << 2))));
+    }
+  }
+}
