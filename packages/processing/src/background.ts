@@ -26,6 +26,16 @@ export function backgroundRemoval(line: RadarLine, options: BackgroundOptions = 
   const { nSamples: ns, nTraces: nt } = line;
   const { src, dst } = outputFor(line, out);
   const sum = new Float64Array(ns);
+  const kernels = lineKernels();
+  if (method === 'mean' && kernels) {
+    // the same sums in the line kernels (`subtractMeanTrace`)
+    const n = nt * ns;
+    const [d, o, m] = kernels.layout(4 * n, 4 * n, 8 * ns);
+    kernels.f32(d, n).set(src.subarray(0, n));
+    kernels.k.subtractMeanTrace(d, o, nt, ns, m);
+    dst.set(kernels.f32(o, n));
+    return withData(line, dst);
+  }
   if (method === 'mean') {
     for (let t = 0; t < nt; t++) for (let i = 0; i < ns; i++) sum[i] = (sum[i] as number) + (src[t * ns + i] as number);
     for (let i = 0; i < ns; i++) sum[i] = (sum[i] as number) / Math.max(1, nt);

@@ -1,6 +1,7 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { zeroPhaseFilter } from './bandpass';
 import { withData } from './line-util';
+import { lineKernels } from './line-wasm';
 
 export interface DewowOptions {
   /**
@@ -39,6 +40,16 @@ export function dewow(line: RadarLine, options: DewowOptions & { windowNs: numbe
   const h = (w - 1) >> 1;
   const res = out ?? new Float32Array(line.data.length);
   const data = line.data;
+  const kernels = lineKernels();
+  if (kernels) {
+    // the same sums and divisions in the line kernels (`dewowLine`)
+    const n = nTraces * nSamples;
+    const [d, o, c] = kernels.layout(4 * n, 4 * n, 8 * (nSamples + 1));
+    kernels.f32(d, n).set(data.subarray(0, n));
+    kernels.k.dewowLine(d, o, nTraces, nSamples, h, c);
+    res.set(kernels.f32(o, n));
+    return withData(line, res);
+  }
   const cum = new Float64Array(nSamples + 1);
   // the window is clamped to the trace on the first and last h samples only: three loops, so that the
   // full windows between (most samples) divide by w without clamping each end (the same numbers)

@@ -15,6 +15,8 @@ export interface LineKernelExports {
   stoltInterpolate(spec: number, nx: number, nw: number, nb: number, lo: number, hi: number, tu: number, tjac: number, tsin: number, tth: number, tskip: number, taps: number, fRe: number, fIm: number, val: number, sinT: number, thT: number): number;
   stoltAcross(val: number, sinT: number, thT: number, nx: number, nTraces: number, m0: number, m1: number, s1: number, sMax: number, th1: number, thMax: number, scale: number, plan: number, a: number, b: number, c: number, hc: number): void;
   envelopeLine(data: number, out: number, nTraces: number, nSamples: number, n: number, plan: number, a: number, b: number, c: number, d: number): void;
+  dewowLine(data: number, out: number, nTraces: number, n: number, h: number, cum: number): void;
+  subtractMeanTrace(data: number, out: number, nTraces: number, n: number, sum: number): void;
   resampleLine(data: number, out: number, nTraces: number, nSamples: number, src: number, tap: number, wt: number, k0: number): void;
   shiftLine(src: number, dst: number, nTraces: number, n: number, whole: number, w: number, exact: number): void;
   stoltTime(plain: number, plainFrom: number, nm: number, nt: number, nTraces: number, nSamples: number, nodes: number, nNodes: number, plan: number, full: number, b: number, c: number, acc: number, out: number): void;

@@ -9,7 +9,8 @@ import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { butterworthSos } from '../src/butterworth';
 import { zeroPhaseJs, zeroPhaseWasm } from '../src/bandpass';
-import { movingMedianJs, movingMedianWasm } from '../src/background';
+import { backgroundRemoval, movingMedianJs, movingMedianWasm } from '../src/background';
+import { dewow } from '../src/dewow';
 import { lineKernels } from '../src/line-wasm';
 import { useKernels } from '../src/wasm-kernels';
 import { stoltKernel, type StoltKernelOptions } from '../src/stolt';
@@ -240,6 +241,18 @@ describe('resampleLine (bistatic to zero-offset time and back)', () => {
       });
       expect(Buffer.from(wasm.zo.buffer).equals(Buffer.from(js.zo.buffer))).toBe(true);
       expect(sameBits(wasm.back, js.back)).toBe(true);
+    });
+  }
+});
+
+describe('dewowLine and subtractMeanTrace (running-mean dewow, mean background)', () => {
+  for (const [nTraces, nSamples, windowNs] of [[9, 200, 2.5], [4, 7, 2.5], [3, 30, 0.1], [1, 1, 1]] as const) {
+    it(`the JavaScript path's bits: ${nTraces} traces x ${nSamples} samples, window ${windowNs} ns`, () => {
+      const line = makeLine(nTraces, nSamples, 0.1, 0.05);
+      line.data.set(randomLine(700 + nSamples, nTraces * nSamples, { zeros: 0.1, negZeros: 0.1 }));
+      const [js, wasm] = bothPaths(() => ({ dewow: dewow(line, { windowNs }).data, mean: backgroundRemoval(line, { method: 'mean' }).data }));
+      expect(sameBits(wasm.dewow, js.dewow)).toBe(true);
+      expect(sameBits(wasm.mean, js.mean)).toBe(true);
     });
   }
 });

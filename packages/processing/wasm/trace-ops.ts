@@ -115,3 +115,55 @@ export function resampleLine(data: usize, out: usize, nTraces: i32, nSamples: i3
     }
   }
 }
+
+/**
+ * `dewow` (../src/dewow.ts), running mean: each float32 trace minus the mean of its w = 2 h + 1 samples
+ * centred on each sample (the window clamped to the trace at its ends), from the float64 cumulative sum
+ * (`cum`, n + 1 numbers), into out.
+ */
+export function dewowLine(data: usize, out: usize, nTraces: i32, n: i32, h: i32, cum: usize): void {
+  const w = <f64>(2 * h + 1);
+  const i0 = min(n, h);
+  const i1 = max(i0, n - h);
+  for (let t = 0; t < nTraces; t++) {
+    const x = data + (<usize>(t * n) << 2);
+    const y = out + (<usize>(t * n) << 2);
+    let acc: f64 = 0;
+    store<f64>(cum, 0);
+    for (let i = 0; i < n; i++) {
+      acc += <f64>load<f32>(x + (<usize>i << 2));
+      store<f64>(cum + (<usize>(i + 1) << 3), acc);
+    }
+    const c0 = load<f64>(cum);
+    for (let i = 0; i < i0; i++) {
+      const b = min(n, i + h + 1);
+      store<f32>(y + (<usize>i << 2), <f32>(<f64>load<f32>(x + (<usize>i << 2)) - (load<f64>(cum + (<usize>b << 3)) - c0) / <f64>b));
+    }
+    for (let i = i0; i < i1; i++) {
+      store<f32>(y + (<usize>i << 2), <f32>(<f64>load<f32>(x + (<usize>i << 2)) - (load<f64>(cum + (<usize>(i + h + 1) << 3)) - load<f64>(cum + (<usize>(i - h) << 3))) / w));
+    }
+    const cn = load<f64>(cum + (<usize>n << 3));
+    for (let i = i1; i < n; i++) {
+      const a = max(0, i - h);
+      store<f32>(y + (<usize>i << 2), <f32>(<f64>load<f32>(x + (<usize>i << 2)) - (cn - load<f64>(cum + (<usize>a << 3))) / <f64>(n - a)));
+    }
+  }
+}
+
+/**
+ * `backgroundRemoval` (../src/background.ts), method `mean`: the mean trace (float64 sums in trace order,
+ * into `sum`, n numbers) subtracted from every float32 trace, into out.
+ */
+export function subtractMeanTrace(data: usize, out: usize, nTraces: i32, n: i32, sum: usize): void {
+  memory.fill(sum, 0, <usize>n << 3);
+  for (let t = 0; t < nTraces; t++) {
+    const x = data + (<usize>(t * n) << 2);
+    for (let i = 0; i < n; i++) store<f64>(sum + (<usize>i << 3), load<f64>(sum + (<usize>i << 3)) + <f64>load<f32>(x + (<usize>i << 2)));
+  }
+  const d = <f64>max(1, nTraces);
+  for (let i = 0; i < n; i++) store<f64>(sum + (<usize>i << 3), load<f64>(sum + (<usize>i << 3)) / d);
+  for (let t = 0; t < nTraces; t++) {
+    const o = <usize>(t * n) << 2;
+    for (let i = 0; i < n; i++) store<f32>(out + o + (<usize>i << 2), <f32>(<f64>load<f32>(data + o + (<usize>i << 2)) - load<f64>(sum + (<usize>i << 3))));
+  }
+}
