@@ -359,6 +359,23 @@ function sumOf(a: Float64Array): number {
   return s;
 }
 
+/**
+ * `irls` in the detection kernels (wasm/fit.ts): the same steps, the same numbers. `w` is updated as
+ * the JavaScript updates it, also when the fit fails.
+ */
+function irlsWasm(kernels: Kernels<DetectExports>, ...[x, t, w, prior, p0, s, np, robust, minScale, rounds, rMax]: Required<Parameters<typeof irls>>): ReturnType<typeof irls> {
+  const n = x.length;
+  const [xa, ta, wa, pa, pp, work] = kernels.layout(8 * n, 8 * n, 8 * n, 8 * n, 32, kernels.k.irlsWorkBytes(n));
+  kernels.f64(xa, n).set(x);
+  kernels.f64(ta, n).set(t);
+  kernels.f64(wa, n).set(w);
+  kernels.f64(pa, n).set(prior);
+  kernels.f64(pp, 4).set(p0);
+  const ok = kernels.k.irls(xa, ta, wa, pa, n, pp, s, np, robust === 'none' ? 0 : robust === 'tukey' ? 1 : 2, minScale, rounds, rMax, work);
+  w.set(kernels.f64(wa, n));
+  return ok ? { p: kernels.f64(pp, 4).slice(), w } : null;
+}
+
 /** LM, then reweighting and LM again until the weights settle (at most 30 rounds); `irlsWasm` where the detection kernels run. */
 function irls(
   x: Float64Array,
@@ -375,52 +392,6 @@ function irls(
 ): { p: Params; w: Float64Array } | null {
   const kernels = detectKernels();
   if (kernels) return irlsWasm(kernels, x, t, w, prior, p0, s, np, robust, minScale, rounds, rMax);
-  return irlsJs(x, t, w, prior, p0, s, np, robust, minScale, rounds, rMax);
-}
-
-/**
- * `irls` in the detection kernels (wasm/fit.ts): the same steps, the same numbers. `w` is updated as
- * the JavaScript updates it, also when the fit fails.
- */
-function irlsWasm(
-  kernels: Kernels<DetectExports>,
-  x: Float64Array,
-  t: Float64Array,
-  w: Float64Array,
-  prior: Float64Array,
-  p0: Params,
-  s: number,
-  np: 3 | 4,
-  robust: 'tukey' | 'huber' | 'none',
-  minScale: number,
-  rounds: number,
-  rMax: number,
-): { p: Params; w: Float64Array } | null {
-  const n = x.length;
-  const [xa, ta, wa, pa, pp, work] = kernels.layout(8 * n, 8 * n, 8 * n, 8 * n, 32, kernels.k.irlsWorkBytes(n));
-  kernels.f64(xa, n).set(x);
-  kernels.f64(ta, n).set(t);
-  kernels.f64(wa, n).set(w);
-  kernels.f64(pa, n).set(prior);
-  kernels.f64(pp, 4).set(p0);
-  const ok = kernels.k.irls(xa, ta, wa, pa, n, pp, s, np, robust === 'none' ? 0 : robust === 'tukey' ? 1 : 2, minScale, rounds, rMax, work);
-  w.set(kernels.f64(wa, n));
-  return ok ? { p: kernels.f64(pp, 4).slice(), w } : null;
-}
-
-function irlsJs(
-  x: Float64Array,
-  t: Float64Array,
-  w: Float64Array,
-  prior: Float64Array,
-  p0: Params,
-  s: number,
-  np: 3 | 4,
-  robust: 'tukey' | 'huber' | 'none',
-  minScale: number,
-  rounds = 30,
-  rMax = Infinity,
-): { p: Params; w: Float64Array } | null {
   const r = new Float64Array(x.length);
   let p = levenbergMarquardt(x, t, w, p0, s, np, rMax);
   if (!p) return null;

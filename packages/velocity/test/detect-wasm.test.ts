@@ -9,19 +9,7 @@ import { kernelNormalised, kernelScan } from '../src/detect-wasm';
 import { envelopeLevel } from '../src/noise-level';
 import { fitHyperbola, hyperbolaTime, type FitOptions } from '../src/fit';
 import { curveTools, type ScanLine } from '../src/scan';
-import { synthLine, type Diffractor } from './synth';
-
-/** mulberry32, seeded. */
-function random(seed: number): () => number {
-  let s = seed >>> 0;
-  return () => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+import { rng as random, synthLine, type Diffractor } from './synth';
 
 function scanLine(seed: number, nTraces: number, nSamples: number): ScanLine {
   const r = random(seed);
