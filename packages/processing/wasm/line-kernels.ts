@@ -149,7 +149,7 @@ export function windowMedians(bySample: usize, nTraces: i32, a: i32, m: i32, nSa
       floor = g2;
       ceil = Infinity;
     }
-    const h = selectRank(part, 0, n - 1, r);
+    const h = selectRank<f32>(part, 0, n - 1, r);
     let med = <f64>h;
     let flag = h == 0;
     if (!(m & 1)) {
@@ -171,8 +171,8 @@ export function windowMedians(bySample: usize, nTraces: i32, a: i32, m: i32, nSa
       med = 0.5 * (<f64>below + med);
     }
     store<u8>(flags + s, flag ? 1 : 0);
-    store<f32>(lo + (<usize>s << 2), r - spread >= 0 ? selectRank(part, 0, r - 1, r - spread) : floor);
-    store<f32>(hi + (<usize>s << 2), r + spread < n ? selectRank(part, r + 1, n - 1, r + spread) : ceil);
+    store<f32>(lo + (<usize>s << 2), r - spread >= 0 ? selectRank<f32>(part, 0, r - 1, r - spread) : floor);
+    store<f32>(hi + (<usize>s << 2), r + spread < n ? selectRank<f32>(part, r + 1, n - 1, r + spread) : ceil);
     if (flag) continue;
     store<f64>(kth + (<usize>s << 3), <f64>h);
     store<f32>(bg + (<usize>s << 2), <f32>med);

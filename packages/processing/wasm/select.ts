@@ -1,21 +1,23 @@
-// Selection on float32 numbers for the kernels (the median of background removal, the detection's curve scores).
+// Selection for the kernels (the median of background removal, the detection's curve scores and robust
+// weights). Any selection finds the same value of a rank (no NaN); the sign of a zero is the callers' care.
 
-/** The value of rank k of the float32 numbers w[l..r] (no NaN), which it reorders: Hoare's selection. */
-export function selectRank(w: usize, l: i32, r: i32, k: i32): f32 {
-  const pk = w + (<usize>k << 2);
+/** The value of rank k of the numbers w[l..r] of type T (f32 or f64, no NaN), which it reorders: Hoare's selection. */
+export function selectRank<T>(w: usize, l: i32, r: i32, k: i32): T {
+  const size = sizeof<T>();
+  const pk = w + <usize>k * size;
   while (l < r) {
-    const x = load<f32>(pk);
+    const x = load<T>(pk);
     let i = l;
     let j = r;
     do {
-      while (load<f32>(w + (<usize>i << 2)) < x) i++;
-      while (x < load<f32>(w + (<usize>j << 2))) j--;
+      while (load<T>(w + <usize>i * size) < x) i++;
+      while (x < load<T>(w + <usize>j * size)) j--;
       if (i <= j) {
-        const pi = w + (<usize>i << 2);
-        const pj = w + (<usize>j << 2);
-        const t = load<f32>(pi);
-        store<f32>(pi, load<f32>(pj));
-        store<f32>(pj, t);
+        const pi = w + <usize>i * size;
+        const pj = w + <usize>j * size;
+        const t = load<T>(pi);
+        store<T>(pi, load<T>(pj));
+        store<T>(pj, t);
         i++;
         j--;
       }
@@ -23,5 +25,5 @@ export function selectRank(w: usize, l: i32, r: i32, k: i32): f32 {
     if (j < k) l = i;
     if (k < i) r = j;
   }
-  return load<f32>(pk);
+  return load<T>(pk);
 }

@@ -2,6 +2,8 @@
 // path of a circle (or a point), reweighted by Tukey's biweight or Huber. The same operations in the same
 // order in float64; sin, cos, atan2 and pow are JavaScript's (imports), so the same numbers.
 
+import { selectRank } from '../../processing/wasm/select';
+
 @external("Math", "sin")
 declare function jsSin(x: f64): f64;
 @external("Math", "cos")
@@ -306,40 +308,6 @@ function levenbergMarquardt(w: usize, p: usize, s: f64, np: i32, rMax: f64): boo
   return true;
 }
 
-/** The value of rank k of the n float64 numbers at a (no NaN), which it reorders: `selectInPlace` (@lamina/stats). */
-function selectF64(a: usize, n: i32, k: i32): f64 {
-  let left = 0;
-  let right = n - 1;
-  while (right > left) {
-    const mid = (left + right) >> 1;
-    if (at(a, mid) < at(a, left)) swap(a, mid, left);
-    if (at(a, right) < at(a, left)) swap(a, right, left);
-    if (at(a, right) < at(a, mid)) swap(a, right, mid);
-    const pivot = at(a, mid);
-    let i = left;
-    let j = right;
-    while (i <= j) {
-      while (at(a, i) < pivot) i++;
-      while (at(a, j) > pivot) j--;
-      if (i <= j) {
-        swap(a, i, j);
-        i++;
-        j--;
-      }
-    }
-    if (k <= j) right = j;
-    else if (k >= i) left = i;
-    else break;
-  }
-  return at(a, k);
-}
-
-@inline function swap(a: usize, i: i32, j: i32): void {
-  const t = at(a, i);
-  set(a, i, at(a, j));
-  set(a, j, t);
-}
-
 /** `updateWeights` (robust 1: Tukey, 2: Huber) with u and sel work arrays of n. */
 function updateWeights(r: usize, prior: usize, w: usize, robust: i32, minScale: f64, u: usize, sel: usize): void {
   let m = 0;
@@ -349,7 +317,7 @@ function updateWeights(r: usize, prior: usize, w: usize, robust: i32, minScale: 
     // medianLow: the values that are not NaN
     if (!isNaN(ui)) set(sel, m++, ui);
   }
-  const low = m == 0 ? NaN : selectF64(sel, m, (m - 1) >> 1);
+  const low = m == 0 ? NaN : selectRank<f64>(sel, 0, m - 1, (m - 1) >> 1);
   const scale = max(1.4826 * low, minScale);
   for (let i = 0; i < gN; i++) {
     const v = at(u, i) / scale;
