@@ -1,7 +1,7 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { InputError } from '@lamina/errors';
 import { loadSite, readLine, pointToWgs84, shownPath, type LineSource, type Site } from '@lamina/site';
-import { alongTrackM, defaultRecipe, hilbertEnvelopePair, hilbertWorkspace, parseRecipe, runRecipe, withoutAirEvents, type AirObjects, type HilbertWorkspace, type Recipe, type RecipeLogEntry, type Step } from '@lamina/processing';
+import { alongTrackM, defaultRecipe, envelope, parseRecipe, runRecipe, withoutAirEvents, type AirObjects, type Recipe, type RecipeLogEntry, type Step } from '@lamina/processing';
 import { EARLY_APEX_FLAG, fitManualPicks, lineDirection, lineHyperbolas, recipeForVelocity, sampleDepths, type HyperbolaFit, type ManualHyperbola, type VelocityModel } from '@lamina/velocity';
 import { traceSliceValues, type SliceWindow } from '@lamina/slices';
 import { lineSpillPath, readLineSpill, writeLineSpill } from './line-spill';
@@ -296,28 +296,16 @@ export async function pass2(task: Pass2Task): Promise<Pass2Result> {
 }
 
 /**
- * The envelope of a line and the workspace of its transforms, kept between the lines of a worker (the
- * slice values are taken from it before the next line needs it): a fresh one each line costs page faults
- * and garbage collection.
+ * The envelope of a line, kept between the lines of a worker (the slice values are taken from it before
+ * the next line needs it): a fresh one each line costs page faults and garbage collection.
  */
-const envScratch: { env: Float32Array; ws: HilbertWorkspace | undefined; ns: number } = { env: new Float32Array(0), ws: undefined, ns: 0 };
+const envScratch = { env: new Float32Array(0) };
 
 function sliceValues(line: RadarLine, task: Pass2Task, separationM: number): Float32Array {
-  const { nTraces: nt, nSamples: ns, data } = line;
-  // `envelope` of @lamina/processing, two traces per transform pair, written straight into the envelope
+  const { nSamples: ns, data } = line;
+  // `envelope` of @lamina/processing (two traces per transform pair, in the line kernels where they run)
   if (envScratch.env.length < data.length) envScratch.env = new Float32Array(data.length);
-  const env = envScratch.env.subarray(0, data.length);
-  if (!envScratch.ws || envScratch.ns !== ns) {
-    envScratch.ws = hilbertWorkspace(ns);
-    envScratch.ns = ns;
-  }
-  const ws = envScratch.ws;
-  for (let t = 0; t < nt; t += 2) {
-    const pair = t + 1 < nt;
-    const a = env.subarray(t * ns, (t + 1) * ns);
-    if (pair) hilbertEnvelopePair(data.subarray(t * ns, (t + 1) * ns), data.subarray((t + 1) * ns, (t + 2) * ns), ws, a, env.subarray((t + 1) * ns, (t + 2) * ns));
-    else hilbertEnvelopePair(data.subarray(t * ns, (t + 1) * ns), undefined, ws, a);
-  }
+  const env = envelope(line, {}, envScratch.env.subarray(0, data.length)).data;
   const depths = sampleDepths(ns, line.dtNs, line.timeZeroNs, task.model, separationM);
-  return traceSliceValues(env, nt, ns, depths, task.windows, 'mean-square');
+  return traceSliceValues(env, line.nTraces, ns, depths, task.windows, 'mean-square');
 }
