@@ -10,6 +10,7 @@ export interface DetectExports {
   scanCandidate(ct: number, t0: number, apexShift: number, velocities: number, nV: number, floor: number, scoreV: number, xV: number): void;
   irls(x: number, t: number, w: number, prior: number, n: number, p: number, s: number, np: number, robust: number, minScale: number, rounds: number, rMax: number, work: number): number;
   irlsWorkBytes(n: number): number;
+  apexMaxima(N: number, nTraces: number, nSamples: number, sStart: number, sEnd: number, threshold: number, nbT: number, halfS: number, out: number): number;
   normalisedEnvelope(env: number, nTraces: number, nSamples: number, smooth: number, floorFraction: number, cols: number, raw: number, level: number, N: number): void;
 }
 
@@ -61,4 +62,23 @@ export function kernelNormalised(E: Float32Array, nTraces: number, nSamples: num
   K.k.normalisedEnvelope(env, nTraces, nSamples, smooth, floorFraction, cols, raw, level, N);
   out.set(K.f32(N, n));
   return out;
+}
+
+/**
+ * `apexCandidates` of detect.ts in the detection kernels (`apexMaxima`), the same candidates in the same
+ * order; null where the kernels do not run.
+ */
+export function kernelApexCandidates(N: Float32Array, nTraces: number, nSamples: number, sStart: number, sEnd: number, threshold: number, nbT: number, halfS: number): { t: number; s: number; v: number }[] | null {
+  const K = detectKernels();
+  if (!K) return null;
+  const n = nTraces * nSamples;
+  const [a, out] = K.layout(4 * n, 8 * nTraces * Math.max(0, sEnd - sStart));
+  K.f32(a, n).set(N.subarray(0, n));
+  const count = K.k.apexMaxima(a, nTraces, nSamples, sStart, sEnd, threshold, nbT, halfS, out);
+  const ts = K.i32(out, 2 * count);
+  return Array.from({ length: count }, (_, i) => {
+    const t = ts[2 * i]!;
+    const s = ts[2 * i + 1]!;
+    return { t, s, v: N[t * nSamples + s]! };
+  });
 }

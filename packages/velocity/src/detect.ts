@@ -4,7 +4,7 @@ import { medianInPlace as median, selectInPlace } from '@lamina/stats';
 import { alongLine, pointAlong } from './along';
 import { envelopeLevel } from './noise-level';
 import { apexDistance, fitHyperbola, hyperbolaTime, linearisedFit, type PointFit } from './fit';
-import { kernelNormalised, kernelScan } from './detect-wasm';
+import { kernelApexCandidates, kernelNormalised, kernelScan } from './detect-wasm';
 import { curveTools, type ScanLine } from './scan';
 
 /**
@@ -148,9 +148,12 @@ function normalised(E: Float32Array, level: Float64Array, nTraces: number, nSamp
 
 /**
  * Local maxima of the normalised envelope at samples [sStart, sEnd) at or above `threshold` over
- * +-`nbT` traces and +-`halfS` samples (ties go to the earlier trace, then the earlier sample).
+ * +-`nbT` traces and +-`halfS` samples (ties go to the earlier trace, then the earlier sample); in the
+ * detection kernels where they run (`kernelApexCandidates`).
  */
-function apexCandidates(N: Float32Array, nTraces: number, nSamples: number, sStart: number, sEnd: number, threshold: number, nbT: number, halfS: number): { t: number; s: number; v: number }[] {
+export function apexCandidates(N: Float32Array, nTraces: number, nSamples: number, sStart: number, sEnd: number, threshold: number, nbT: number, halfS: number): { t: number; s: number; v: number }[] {
+  const inKernels = kernelApexCandidates(N, nTraces, nSamples, sStart, sEnd, threshold, nbT, halfS);
+  if (inKernels) return inKernels;
   const cands: { t: number; s: number; v: number }[] = [];
   for (let t = 0; t < nTraces; t++) {
     for (let s = sStart; s < sEnd; s++) {

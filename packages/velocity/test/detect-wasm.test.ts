@@ -5,6 +5,7 @@
 import { describe, expect, it } from 'vitest';
 import { useKernels } from '@lamina/processing';
 import { C_M_PER_NS, detectHyperbolas } from '../src';
+import { apexCandidates } from '../src/detect';
 import { kernelNormalised, kernelScan } from '../src/detect-wasm';
 import { envelopeLevel } from '../src/noise-level';
 import { fitHyperbola, hyperbolaTime, type FitOptions } from '../src/fit';
@@ -57,6 +58,24 @@ describe('the velocity scan in the detection kernels', () => {
       const wasm = kernelNormalised(E, nTraces, nSamples, smooth, 3e-3, new Float32Array(E.length));
       expect(wasm).not.toBeNull();
       expect(Buffer.from(wasm!.buffer).equals(Buffer.from(js.buffer))).toBe(true);
+    }
+  });
+
+  it('the apex candidates (local maxima with their ties) are the JavaScript\'s, in its order', () => {
+    for (const [seed, nTraces, nSamples] of [[8, 120, 200], [9, 3, 50]] as const) {
+      const r = random(seed);
+      // few levels, so that ties between neighbours are common
+      const N = Float32Array.from({ length: nTraces * nSamples }, () => Math.round(r() * r() * 12));
+      for (const [sStart, sEnd, th, nbT, halfS] of [[5, nSamples - 5, 5, 2, 3], [0, nSamples, 0, 1, 1], [30, 10, 5, 2, 2]] as const) {
+        useKernels(false);
+        let js;
+        try {
+          js = apexCandidates(N, nTraces, nSamples, sStart, sEnd, th, nbT, halfS);
+        } finally {
+          useKernels(true);
+        }
+        expect(apexCandidates(N, nTraces, nSamples, sStart, sEnd, th, nbT, halfS)).toEqual(js);
+      }
     }
   });
 

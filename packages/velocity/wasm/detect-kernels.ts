@@ -165,7 +165,7 @@ export function scanCandidate(ct: i32, t0: f64, apexShift: i32, velocities: usiz
 }
 
 export { irls, irlsWorkBytes } from './fit';
-export { normalisedEnvelope } from './noise-level';
+export { apexMaxima, normalisedEnvelope } from './noise-level';
 
 /** Where the module's own static data ends: arrays laid out from JavaScript start at or after it. */
 export function heapBase(): usize {

@@ -41,3 +41,39 @@ export function normalisedEnvelope(env: usize, nTraces: i32, nSamples: i32, smoo
     }
   }
 }
+
+/**
+ * `apexCandidates` of ../src/detect.ts: the local maxima of N (float32, nTraces x nSamples) at samples
+ * [sStart, sEnd) at or above `threshold` over -+nbT traces and -+halfS samples (ties to the earlier trace,
+ * then the earlier sample), in trace then sample order, as (trace, sample) int32 pairs into out; returns
+ * their count.
+ */
+export function apexMaxima(N: usize, nTraces: i32, nSamples: i32, sStart: i32, sEnd: i32, threshold: f64, nbT: i32, halfS: i32, out: usize): i32 {
+  let count = 0;
+  for (let t = 0; t < nTraces; t++) {
+    for (let s = sStart; s < sEnd; s++) {
+      const v = load<f32>(N + (<usize>(t * nSamples + s) << 2));
+      if (<f64>v < threshold) continue;
+      let isMax = true;
+      for (let dt = -nbT; dt <= nbT && isMax; dt++) {
+        const tt = t + dt;
+        if (tt < 0 || tt >= nTraces) continue;
+        for (let ds = -halfS; ds <= halfS; ds++) {
+          const ss = s + ds;
+          if (ss < 0 || ss >= nSamples || (dt == 0 && ds == 0)) continue;
+          const u = load<f32>(N + (<usize>(tt * nSamples + ss) << 2));
+          if (u > v || (u == v && (dt < 0 || (dt == 0 && ds < 0)))) {
+            isMax = false;
+            break;
+          }
+        }
+      }
+      if (isMax) {
+        store<i32>(out + (<usize>(2 * count) << 2), t);
+        store<i32>(out + (<usize>(2 * count + 1) << 2), s);
+        count++;
+      }
+    }
+  }
+  return count;
+}
