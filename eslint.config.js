@@ -3,8 +3,8 @@
 import tseslint from 'typescript-eslint';
 
 export default tseslint.config(
-  // packages/processing/wasm: AssemblyScript sources (not TypeScript), compiled by scripts/build-fft-wasm.mjs
-  { ignores: ['**/node_modules/**', '**/dist/**', 'bench/out/**', 'test-artifacts/**', '**/*.js', '**/*.mjs', '**/*.d.mts', '**/*.tmp.ts', 'packages/processing/wasm/**'] },
+  // packages/*/wasm: AssemblyScript sources (not TypeScript), compiled by scripts/build-*-wasm.mjs
+  { ignores: ['**/node_modules/**', '**/dist/**', 'bench/out/**', 'test-artifacts/**', '**/*.js', '**/*.mjs', '**/*.d.mts', '**/*.tmp.ts', 'packages/*/wasm/**'] },
   {
     files: ['**/*.ts'],
     languageOptions: {
