@@ -1,7 +1,7 @@
 // AssemblyScript source of the selection kernels of ../src/select-wasm.ts: `selectInPlace`,
 // `medianInPlace` and `quantileInPlace` of @lamina/stats (the same Hoare partition with a median-of-three
 // pivot, so the same element moves and the same value, bit for bit) on float64 arrays in the module's
-// memory, and the gathering of a slice's valid values. Built by scripts/build-select-wasm.mjs into
+// memory, and the gathering of a slice's valid values. Built by scripts/build-screen-wasm.mjs into
 // ../src/select-wasm-binary.ts (the module as base64); rebuild after a change here.
 // Pointers are byte offsets into the module's memory.
 

@@ -1,0 +1,82 @@
+// AssemblyScript source of the WebAssembly kernel of `distanceField` (../src/field-wasm.ts): for every
+// cell centre, `distanceTo` of ../src/reflectors.ts (the least squared distance over the reflector's
+// segments and points, then Math.hypot of those within 1e-9 of it, the least), times metres per unit,
+// the same operations in the same order. Built by scripts/build-screen-wasm.mjs into
+// ../src/field-wasm-binary.ts (the module as base64); rebuild after a change here.
+// Pointers are byte offsets into the module's memory.
+
+/**
+ * Math.hypot of two numbers (not NaN) as V8 works it out (its builtin: each magnitude divided by the
+ * larger, the squares summed with Kahan's compensation, the square root times the larger), so the same
+ * number bit for bit.
+ */
+@inline function hypot(a: f64, b: f64): f64 {
+  const x = Math.abs(a), y = Math.abs(b);
+  const max = x > y ? x : y;
+  if (max == Infinity) return Infinity;
+  if (max == 0) return 0;
+  let sum: f64 = 0, comp: f64 = 0;
+  let n = x / max;
+  let summand = n * n - comp;
+  let pre = sum + summand;
+  comp = pre - sum - summand;
+  sum = pre;
+  n = y / max;
+  summand = n * n - comp;
+  pre = sum + summand;
+  sum = pre;
+  return Math.sqrt(sum) * max;
+}
+
+@inline function f64At(p: usize, i: i32): f64 {
+  return load<f64>(p + (<usize>i << 3));
+}
+
+/** Offset of (x, y) from its foot on segment i of `seg` (ax, ay, bx, by), as reflectors.ts `segmentOffset`. */
+let ox: f64 = 0, oy: f64 = 0;
+@inline function segmentOffset(seg: usize, i: i32, x: f64, y: f64): void {
+  const ax = f64At(seg, 4 * i), ay = f64At(seg, 4 * i + 1), bx = f64At(seg, 4 * i + 2), by = f64At(seg, 4 * i + 3);
+  const dx = bx - ax, dy = by - ay;
+  const l2 = dx * dx + dy * dy;
+  let t = l2 > 0 ? ((x - ax) * dx + (y - ay) * dy) / l2 : 0;
+  t = t < 0 ? 0 : t > 1 ? 1 : t;
+  ox = x - ax - t * dx;
+  oy = y - ay - t * dy;
+}
+
+/**
+ * out[row * width + col] (float32) = distance from (xs[col], ys[row]) to the nSeg segments at `seg`
+ * (ax, ay, bx, by each) and the nPts points at `pts` (x, y each), times mpu.
+ */
+export function distanceField(seg: usize, nSeg: i32, pts: usize, nPts: i32, xs: usize, width: i32, ys: usize, height: i32, mpu: f64, out: usize): void {
+  for (let row = 0; row < height; row++) {
+    const y = f64At(ys, row);
+    for (let col = 0; col < width; col++) {
+      const x = f64At(xs, col);
+      let near2: f64 = Infinity;
+      for (let i = 0; i < nSeg; i++) {
+        segmentOffset(seg, i, x, y);
+        near2 = Math.min(near2, ox * ox + oy * oy);
+      }
+      for (let i = 0; i < nPts; i++) {
+        const ex = x - f64At(pts, 2 * i), ey = y - f64At(pts, 2 * i + 1);
+        near2 = Math.min(near2, ex * ex + ey * ey);
+      }
+      const within = near2 * (1 + 1e-9) + 1e-300;
+      let best: f64 = Infinity;
+      for (let i = 0; i < nSeg; i++) {
+        segmentOffset(seg, i, x, y);
+        if (!(ox * ox + oy * oy <= within)) continue;
+        const d = hypot(ox, oy);
+        if (d < best) best = d;
+      }
+      for (let i = 0; i < nPts; i++) {
+        const ex = x - f64At(pts, 2 * i), ey = y - f64At(pts, 2 * i + 1);
+        if (!(ex * ex + ey * ey <= within)) continue;
+        const d = hypot(ex, ey);
+        if (d < best) best = d;
+      }
+      store<f32>(out + (<usize>(row * width + col) << 2), <f32>(best * mpu));
+    }
+  }
+}
