@@ -1,6 +1,7 @@
 // Compiles the screening stage's WebAssembly kernels (AssemblyScript, no SIMD), each into a TypeScript
 // file holding the module as base64 (so the bundled CLI carries it with no file to find):
 //   packages/anomalies/wasm/select-kernels.ts -> packages/anomalies/src/select-wasm-binary.ts
+//   packages/anomalies/wasm/band-kernels.ts   -> packages/anomalies/src/band-wasm-binary.ts
 //   packages/screening/wasm/field-kernels.ts  -> packages/screening/src/field-wasm-binary.ts
 // Run after changing a kernel: node scripts/build-screen-wasm.mjs  (the same steps as
 // scripts/build-fft-wasm.mjs)
@@ -13,6 +14,7 @@ import { fileURLToPath } from 'node:url';
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
 const MODULES = [
   { src: 'packages/anomalies/wasm/select-kernels.ts', out: 'packages/anomalies/src/select-wasm-binary.ts', name: 'SELECT_WASM_BASE64' },
+  { src: 'packages/anomalies/wasm/band-kernels.ts', out: 'packages/anomalies/src/band-wasm-binary.ts', name: 'BAND_WASM_BASE64' },
   { src: 'packages/screening/wasm/field-kernels.ts', out: 'packages/screening/src/field-wasm-binary.ts', name: 'FIELD_WASM_BASE64' },
 ];
 const dir = mkdtempSync(join(tmpdir(), 'lamina-screen-wasm-'));
