@@ -67,7 +67,7 @@ function lineAzimuth(l: Line): number {
 
 /**
  * Strips of the stack made before background removal that the main stack lacks: per slice, cells
- * scoring >= lowThreshold there and in no member of the main stack (`taken`), grouped 8-connected
+ * scoring >= lowThreshold there and in no member of the main stack (`taken`: its members), grouped 8-connected
  * but only among cells nearest to the same survey line, so that a utility on one line does not merge
  * with a flat air-wave band or another utility on the next line. A strip holding a cell >= threshold,
  * of at least minCells, linear, minLengthM long and within parallelToleranceDeg of its line is kept.
@@ -78,20 +78,27 @@ function lineAzimuth(l: Line): number {
  * the same slice and, linked across depth as one blob, is neither linear nor new; taken line by line
  * and slice by slice it is both.
  */
-export function alongLineMembers(before: SliceStack, scores: Float32Array[], taken: Map<number, Set<number>>, lines: Line[], labels: Int32Array, options: AlongLineOptions): Member[] {
+export function alongLineMembers(before: SliceStack, scores: Float32Array[], taken: readonly Pick<Member, 'slice' | 'cells'>[], lines: Line[], labels: Int32Array, options: AlongLineOptions): Member[] {
   const { width, height } = before.grid;
   const az = lines.map(lineAzimuth);
   const out: Member[] = [];
+  const bySlice = new Map<number, Int32Array[]>();
+  for (const m of taken) {
+    const list = bySlice.get(m.slice);
+    if (list) list.push(m.cells);
+    else bySlice.set(m.slice, [m.cells]);
+  }
+  // a cell is not looked at (seen) when taken: so it starts no strip and joins none
   const seen = new Uint8Array(width * height);
   const queue = new Int32Array(width * height);
   for (let si = 0; si < before.slices.length; si++) {
     const z = scores[si];
     if (!z) continue;
-    const t = taken.get(si);
     seen.fill(0);
+    for (const cells of bySlice.get(si) ?? []) for (let i = 0; i < cells.length; i++) seen[cells[i]!] = 1;
     for (let start = 0; start < width * height; start++) {
       const li = labels[start]!;
-      if (seen[start] || li < 0 || !(z[start]! >= options.lowThreshold) || t?.has(start)) continue;
+      if (seen[start] || li < 0 || !(z[start]! >= options.lowThreshold)) continue;
       let head = 0, tail = 0, peak = -Infinity;
       queue[tail++] = start;
       seen[start] = 1;
@@ -104,7 +111,7 @@ export function alongLineMembers(before: SliceStack, scores: Float32Array[], tak
             const rr = r + dr, cc = c + dc;
             if (rr < 0 || cc < 0 || rr >= height || cc >= width) continue;
             const q = rr * width + cc;
-            if (seen[q] || labels[q] !== li || !(z[q]! >= options.lowThreshold) || t?.has(q)) continue;
+            if (seen[q] || labels[q] !== li || !(z[q]! >= options.lowThreshold)) continue;
             seen[q] = 1;
             queue[tail++] = q;
           }
