@@ -1,6 +1,6 @@
 import type { PlanFeature, Position } from '@lamina/site';
 import { cellCentreX, cellCentreY, type SliceGrid } from '@lamina/slices';
-import { wasmDistanceField } from './field-wasm';
+import { wasmDistanceField } from './screen-wasm';
 
 /** Kinds of reflector a plan feature stands for (truth.json `aboveGround[].kind` uses the same words). */
 export type ReflectorKind = 'wall' | 'building-edge' | 'fence' | 'post' | 'tree' | 'column' | 'overhead' | 'other';
@@ -185,7 +185,7 @@ export function alongDistance(r: Reflector, x: number, y: number): number {
 
 /**
  * Distance (metres) from every cell centre of the grid to the reflector: `distanceTo` of each cell
- * times `metresPerUnit`, in WebAssembly (field-wasm.ts: the same operations, the same numbers) where it
+ * times `metresPerUnit`, in WebAssembly (screen-wasm.ts: the same operations, the same numbers) where it
  * runs.
  */
 export function distanceField(r: Reflector, grid: SliceGrid, metresPerUnit: number, out?: Float32Array): Float32Array {

@@ -1,9 +1,13 @@
-// AssemblyScript source of the WebAssembly kernel of `distanceField` (../src/field-wasm.ts): for every
-// cell centre, `distanceTo` of ../src/reflectors.ts (the least squared distance over the reflector's
-// segments and points, then Math.hypot of those within 1e-9 of it, the least), times metres per unit,
-// the same operations in the same order. Built by scripts/build-screen-wasm.mjs into
-// ../src/field-wasm-binary.ts (the module as base64); rebuild after a change here.
-// Pointers are byte offsets into the module's memory.
+// AssemblyScript source of the WebAssembly kernels of the screening checks (../src/screen-wasm.ts):
+// `distanceField` (for every cell centre, `distanceTo` of ../src/reflectors.ts: the least squared
+// distance over the reflector's segments and points, then Math.hypot of those within 1e-9 of it, the
+// least, times metres per unit) and the locus band's scores of the before-background test
+// (../src/checks/before-background.ts), the same operations in the same order. Built by
+// scripts/build-screen-wasm.mjs into ../src/screen-wasm-binary.ts (the module as base64); rebuild after
+// a change here.
+// Pointers are byte offsets into the module's memory. The selection is that of ../../anomalies/wasm/select-kernels.ts.
+
+import { select } from '../../anomalies/wasm/select-kernels';
 
 /**
  * Math.hypot of two numbers (not NaN) as V8 works it out (its builtin: each magnitude divided by the
@@ -79,4 +83,29 @@ export function distanceField(seg: usize, nSeg: i32, pts: usize, nPts: i32, xs: 
       store<f32>(out + (<usize>(row * width + col) << 2), <f32>(best * mpu));
     }
   }
+}
+
+/**
+ * before-background.ts: the scores `sc` (float32) of the cells in rows r0..r1 and columns c0..c1 of a
+ * grid `width` wide whose distance `field` (float32) lies within bandHalf of radius, and that are
+ * finite, gathered as float64 in row order into `vals`; their count. `bandMedianHigh` then selects.
+ */
+export function locusBandScores(field: usize, sc: usize, width: i32, r0: i32, r1: i32, c0: i32, c1: i32, radius: f64, bandHalf: f64, vals: usize): i32 {
+  let n = 0;
+  for (let r = r0; r <= r1; r++)
+    for (let c = c0; c <= c1; c++) {
+      const k = r * width + c;
+      const f = <f64>load<f32>(field + (<usize>k << 2));
+      const s = <f64>load<f32>(sc + (<usize>k << 2));
+      if (Math.abs(f - radius) <= bandHalf && s - s == 0) {
+        store<f64>(vals + (<usize>n << 3), s);
+        n++;
+      }
+    }
+  return n;
+}
+
+/** `medianHigh` of @lamina/stats of n float64 values at `vals` (none NaN): `selectInPlace` at n >> 1; NaN when n is 0. */
+export function medianHigh(vals: usize, n: i32): f64 {
+  return n == 0 ? NaN : select(vals, n >> 1, 0, n - 1);
 }

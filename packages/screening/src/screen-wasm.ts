@@ -1,10 +1,12 @@
 import type { SliceGrid } from '@lamina/slices';
 import { cellCentreX, cellCentreY } from '@lamina/slices';
-import { FIELD_WASM_BASE64 } from './field-wasm-binary';
+import { SCREEN_WASM_BASE64 } from './screen-wasm-binary';
 
 interface Kernels {
   memory: WebAssembly.Memory;
   distanceField(seg: number, nSeg: number, pts: number, nPts: number, xs: number, width: number, ys: number, height: number, mpu: number, out: number): void;
+  locusBandScores(field: number, sc: number, width: number, r0: number, r1: number, c0: number, c1: number, radius: number, bandHalf: number, vals: number): number;
+  medianHigh(vals: number, n: number): number;
 }
 
 let kernels: Kernels | null | undefined;
@@ -13,7 +15,7 @@ let kernels: Kernels | null | undefined;
 function instance(): Kernels | null {
   if (kernels === undefined) {
     try {
-      const bytes = typeof Buffer !== 'undefined' ? Buffer.from(FIELD_WASM_BASE64, 'base64') : Uint8Array.from(atob(FIELD_WASM_BASE64), (c) => c.charCodeAt(0));
+      const bytes = typeof Buffer !== 'undefined' ? Buffer.from(SCREEN_WASM_BASE64, 'base64') : Uint8Array.from(atob(SCREEN_WASM_BASE64), (c) => c.charCodeAt(0));
       kernels = WebAssembly.validate(bytes) ? (new WebAssembly.Instance(new WebAssembly.Module(bytes), {}).exports as unknown as Kernels) : null;
     } catch {
       kernels = null;
@@ -24,7 +26,7 @@ function instance(): Kernels | null {
 
 /**
  * `distanceField` of a reflector's segments and points into `out`, in WebAssembly
- * (wasm/field-kernels.ts); null where WebAssembly does not run. The cell centres are worked out here, as
+ * (wasm/screen-kernels.ts); null where WebAssembly does not run. The cell centres are worked out here, as
  * `distanceFieldInJs` works them out.
  */
 export function wasmDistanceField(segments: Float64Array, points: Float64Array, grid: SliceGrid, metresPerUnit: number, out: Float32Array): Float32Array | null {
@@ -35,9 +37,7 @@ export function wasmDistanceField(segments: Float64Array, points: Float64Array, 
   const rows = Math.max(1, Math.min(height, Math.floor(BLOCK_CELLS / Math.max(1, width))));
   // float64: segments, points, column x, row y; then a block's float32 field
   const seg = 0, pts = seg + 8 * segments.length, xs = pts + 8 * points.length, ys = xs + 8 * width, f = ys + 8 * height;
-  const bytes = f + 4 * width * rows;
-  const have = k.memory.buffer.byteLength;
-  if (bytes > have) k.memory.grow(Math.ceil((bytes - have) / 65536));
+  room(k, f + 4 * width * rows);
   const mem = new Float64Array(k.memory.buffer, 0, f / 8);
   mem.set(segments, seg / 8);
   mem.set(points, pts / 8);
@@ -54,3 +54,31 @@ export function wasmDistanceField(segments: Float64Array, points: Float64Array, 
 
 /** Cells of the field worked out per call (the module's float32 block). */
 const BLOCK_CELLS = 1 << 16;
+
+/** Room in the module's memory for `bytes` bytes from 0. */
+function room(k: Kernels, bytes: number): void {
+  const have = k.memory.buffer.byteLength;
+  if (bytes > have) k.memory.grow(Math.ceil((bytes - have) / 65536));
+}
+
+/**
+ * The before-background test's locus band in a box of rows r0..r1 and columns c0..c1 (a grid `width`
+ * wide): the scores `sc` of its cells whose distance `field` lies within `bandHalfM` of `radiusM` and
+ * that are finite, their count and `medianHigh`, in WebAssembly (wasm/screen-kernels.ts: the same cells
+ * in the same order, the same selection); null where WebAssembly does not run.
+ */
+export function wasmLocusBandMedian(field: Float32Array, sc: Float32Array, width: number, r0: number, r1: number, c0: number, c1: number, radiusM: number, bandHalfM: number): { count: number; median: number } | null {
+  const k = instance();
+  if (!k) return null;
+  // the box's rows of both grids, one after the other, then room for the gathered scores
+  const bw = c1 - c0 + 1, cells = (r1 - r0 + 1) * bw;
+  const fb = 0, sb = 4 * cells, vals = (8 * cells + 7) & ~7;
+  room(k, vals + 8 * cells);
+  const f32 = new Float32Array(k.memory.buffer);
+  for (let r = r0; r <= r1; r++) {
+    f32.set(field.subarray(r * width + c0, r * width + c1 + 1), fb / 4 + (r - r0) * bw);
+    f32.set(sc.subarray(r * width + c0, r * width + c1 + 1), sb / 4 + (r - r0) * bw);
+  }
+  const count = k.locusBandScores(fb, sb, bw, 0, r1 - r0, 0, bw - 1, radiusM, bandHalfM, vals);
+  return { count, median: k.medianHigh(vals, count) };
+}

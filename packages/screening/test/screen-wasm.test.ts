@@ -1,0 +1,39 @@
+import fc from 'fast-check';
+import { describe, expect, it } from 'vitest';
+import { locusBandMedian } from '../src/checks/before-background';
+import { wasmLocusBandMedian } from '../src/screen-wasm';
+
+/** Same numbers bit for bit (+0 and -0 differ, NaN equals NaN). */
+const bits = (x: number) => (Number.isNaN(x) ? 'NaN' : Object.is(x, -0) ? '-0' : String(x));
+
+describe('the before-background locus band in WebAssembly (screen-wasm.ts)', () => {
+  it('gathers the same scores and selects the same median as locusBandMedian in JavaScript', () => {
+    const cases = fc
+      .record({
+        width: fc.integer({ min: 1, max: 30 }),
+        height: fc.integer({ min: 1, max: 30 }),
+        seed: fc.array(fc.float({ noNaN: true, min: -50, max: 50 }), { minLength: 1, maxLength: 64 }),
+        special: fc.array(fc.constantFrom(Number.NaN, Infinity, -Infinity, 0, -0, 3), { minLength: 1, maxLength: 8 }),
+        radius: fc.double({ min: 0, max: 5, noNaN: true }),
+        half: fc.double({ min: 0, max: 3, noNaN: true }),
+        box: fc.tuple(fc.nat(), fc.nat(), fc.nat(), fc.nat()),
+      })
+      .map(({ width, height, seed, special, radius, half, box }) => {
+        const n = width * height;
+        // distances on a coarse lattice (cells exactly on the band's edges), scores with repeats, NaN and infinities
+        const field = Float32Array.from({ length: n }, (_, i) => Math.abs(seed[i % seed.length]!) / 8 + (i % 3) * 0.25);
+        const sc = Float32Array.from({ length: n }, (_, i) => (i % 5 === 0 ? special[i % special.length]! : seed[(i * 7) % seed.length]!));
+        const [a, b] = [box[0] % height, box[1] % height].sort((p, q) => p - q);
+        const [c, d] = [box[2] % width, box[3] % width].sort((p, q) => p - q);
+        return { field, sc, width, r0: a!, r1: b!, c0: c!, c1: d!, radius, half };
+      });
+    fc.assert(
+      fc.property(cases, ({ field, sc, width, r0, r1, c0, c1, radius, half }) => {
+        const w = wasmLocusBandMedian(field, sc, width, r0, r1, c0, c1, radius, half)!;
+        const j = locusBandMedian(field, sc, width, r0, r1, c0, c1, radius, half);
+        expect([w.count, bits(w.median)]).toEqual([j.count, bits(j.median)]);
+      }),
+      { numRuns: 1000, seed: 8 },
+    );
+  });
+});
