@@ -70,15 +70,13 @@ function room(k: Kernels, bytes: number): void {
 export function wasmLocusBandMedian(field: Float32Array, sc: Float32Array, width: number, r0: number, r1: number, c0: number, c1: number, radiusM: number, bandHalfM: number): { count: number; median: number } | null {
   const k = instance();
   if (!k) return null;
-  // the box's rows of both grids, one after the other, then room for the gathered scores
-  const bw = c1 - c0 + 1, cells = (r1 - r0 + 1) * bw;
+  // the box's rows of both grids (whole rows: one copy each), one after the other, then room for the gathered scores
+  const cells = (r1 - r0 + 1) * width;
   const fb = 0, sb = 4 * cells, vals = (8 * cells + 7) & ~7;
   room(k, vals + 8 * cells);
   const f32 = new Float32Array(k.memory.buffer);
-  for (let r = r0; r <= r1; r++) {
-    f32.set(field.subarray(r * width + c0, r * width + c1 + 1), fb / 4 + (r - r0) * bw);
-    f32.set(sc.subarray(r * width + c0, r * width + c1 + 1), sb / 4 + (r - r0) * bw);
-  }
-  const count = k.locusBandScores(fb, sb, bw, 0, r1 - r0, 0, bw - 1, radiusM, bandHalfM, vals);
+  f32.set(field.subarray(r0 * width, (r1 + 1) * width), fb / 4);
+  f32.set(sc.subarray(r0 * width, (r1 + 1) * width), sb / 4);
+  const count = k.locusBandScores(fb, sb, width, 0, r1 - r0, c0, c1, radiusM, bandHalfM, vals);
   return { count, median: k.medianHigh(vals, count) };
 }
