@@ -7,6 +7,7 @@ interface Kernels {
   distanceField(seg: number, nSeg: number, pts: number, nPts: number, xs: number, width: number, ys: number, height: number, mpu: number, out: number): void;
   locusBandScores(field: number, sc: number, width: number, r0: number, r1: number, c0: number, c1: number, radius: number, bandHalf: number, vals: number): number;
   medianHigh(vals: number, n: number): number;
+  lineStrips(z: number, labels: number, seen: number, queue: number, width: number, height: number, low: number, threshold: number, minCells: number, out: number, found: number): number;
 }
 
 let kernels: Kernels | null | undefined;
@@ -79,4 +80,28 @@ export function wasmLocusBandMedian(field: Float32Array, sc: Float32Array, width
   f32.set(sc.subarray(r0 * width, (r1 + 1) * width), sb / 4);
   const count = k.locusBandScores(fb, sb, width, 0, r1 - r0, c0, c1, radiusM, bandHalfM, vals);
   return { count, median: k.medianHigh(vals, count) };
+}
+
+/**
+ * `lineStrips` of along-line.ts in WebAssembly (wasm/screen-kernels.ts: the same strips in the same
+ * order; `seen` is left as it was); null where WebAssembly does not run.
+ */
+export function wasmLineStrips(z: Float32Array, labels: Int32Array, seen: Uint8Array, width: number, height: number, low: number, threshold: number, minCells: number): { cells: Int32Array; line: number }[] | null {
+  const k = instance();
+  if (!k) return null;
+  const n = width * height;
+  // float32 scores, int32 labels, queue, cells out and strips found (three numbers each), the seen bytes
+  const zp = 0, lp = 4 * n, qp = 8 * n, op = 12 * n, fp = 16 * n, sp = 28 * n;
+  room(k, sp + n);
+  new Float32Array(k.memory.buffer, zp, n).set(z);
+  new Int32Array(k.memory.buffer, lp, n).set(labels);
+  new Uint8Array(k.memory.buffer, sp, n).set(seen);
+  const count = k.lineStrips(zp, lp, sp, qp, width, height, low, threshold, minCells, op, fp);
+  const i32 = new Int32Array(k.memory.buffer);
+  const out: { cells: Int32Array; line: number }[] = [];
+  for (let i = 0; i < count; i++) {
+    const at = fp / 4 + 3 * i;
+    out.push({ cells: i32.slice(op / 4 + i32[at]!, op / 4 + i32[at]! + i32[at + 1]!).sort(), line: i32[at + 2]! });
+  }
+  return out;
 }

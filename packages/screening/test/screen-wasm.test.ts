@@ -1,7 +1,8 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { locusBandMedian } from '../src/checks/before-background';
-import { wasmLocusBandMedian } from '../src/screen-wasm';
+import { lineStrips } from '../src/along-line';
+import { wasmLineStrips, wasmLocusBandMedian } from '../src/screen-wasm';
 
 /** Same numbers bit for bit (+0 and -0 differ, NaN equals NaN). */
 const bits = (x: number) => (Number.isNaN(x) ? 'NaN' : Object.is(x, -0) ? '-0' : String(x));
@@ -35,5 +36,41 @@ describe('the before-background locus band in WebAssembly (screen-wasm.ts)', () 
       }),
       { numRuns: 1000, seed: 8 },
     );
+  });
+});
+
+describe('the along-line strips in WebAssembly (screen-wasm.ts)', () => {
+  it('finds the same strips, in the same order, as lineStrips in JavaScript, and leaves seen as it was', () => {
+    const cases = fc
+      .record({
+        width: fc.integer({ min: 1, max: 25 }),
+        height: fc.integer({ min: 1, max: 25 }),
+        z: fc.array(fc.oneof(fc.float({ noNaN: true, min: -2, max: 9 }), fc.constantFrom(Number.NaN, 3, 5)), { minLength: 1, maxLength: 50 }),
+        lines: fc.integer({ min: 1, max: 4 }),
+        taken: fc.array(fc.nat(), { maxLength: 20 }),
+        minCells: fc.integer({ min: 1, max: 6 }),
+      })
+      .map(({ width, height, z, lines, taken, minCells }) => {
+        const n = width * height;
+        // lines in vertical bands (some cells of none), scores repeating with a stride that crosses them
+        const labels = Int32Array.from({ length: n }, (_, k) => ((k % width) % 5 === 4 ? -1 : Math.floor(((k % width) * lines) / width)));
+        const scores = Float32Array.from({ length: n }, (_, k) => z[(k * 3) % z.length]!);
+        const seen = new Uint8Array(n);
+        for (const t of taken) seen[t % n] = 1;
+        return { width, height, labels, scores, seen, minCells };
+      });
+    let found = 0;
+    fc.assert(
+      fc.property(cases, ({ width, height, labels, scores, seen, minCells }) => {
+        const before = Uint8Array.from(seen);
+        const w = wasmLineStrips(scores, labels, seen, width, height, 3, 5, minCells)!;
+        expect(seen).toEqual(before);
+        const j = lineStrips(scores, labels, seen, width, height, 3, 5, minCells);
+        expect(w.map((s) => [s.line, ...s.cells])).toEqual(j.map((s) => [s.line, ...s.cells]));
+        found += j.length;
+      }),
+      { numRuns: 1000, seed: 9 },
+    );
+    expect(found).toBeGreaterThan(500);
   });
 });

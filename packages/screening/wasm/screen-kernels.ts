@@ -1,8 +1,9 @@
 // AssemblyScript source of the WebAssembly kernels of the screening checks (../src/screen-wasm.ts):
 // `distanceField` (for every cell centre, `distanceTo` of ../src/reflectors.ts: the least squared
 // distance over the reflector's segments and points, then Math.hypot of those within 1e-9 of it, the
-// least, times metres per unit) and the locus band's scores of the before-background test
-// (../src/checks/before-background.ts), the same operations in the same order. Built by
+// least, times metres per unit), the locus band's scores of the before-background test
+// (../src/checks/before-background.ts) and the strips of along-line.ts, the same operations in the
+// same order. Built by
 // scripts/build-screen-wasm.mjs into ../src/screen-wasm-binary.ts (the module as base64); rebuild after
 // a change here.
 // Pointers are byte offsets into the module's memory. The selection is that of ../../anomalies/wasm/select-kernels.ts.
@@ -108,4 +109,49 @@ export function locusBandScores(field: usize, sc: usize, width: i32, r0: i32, r1
 /** `medianHigh` of @lamina/stats of n float64 values at `vals` (none NaN): `selectInPlace` at n >> 1; NaN when n is 0. */
 export function medianHigh(vals: usize, n: i32): f64 {
   return n == 0 ? NaN : select(vals, n >> 1, 0, n - 1);
+}
+
+/**
+ * along-line.ts `lineStrips`: per cell in order, not `seen`, of a line (`labels` >= 0) and scoring at
+ * least `low` (float32 `z`), the 8-connected cells of the same line label scoring at least `low`,
+ * breadth first from it (`queue`), marked seen; those of at least minCells cells holding a score of at
+ * least `threshold` written one after another into `out` (breadth-first order), each as (offset, count,
+ * line) into `found` (i32). Returns how many.
+ */
+export function lineStrips(z: usize, labels: usize, seen: usize, queue: usize, width: i32, height: i32, low: f64, threshold: f64, minCells: i32, out: usize, found: usize): i32 {
+  let nOut = 0, nFound = 0;
+  const n = width * height;
+  for (let start = 0; start < n; start++) {
+    const li = load<i32>(labels + (<usize>start << 2));
+    if (load<u8>(seen + <usize>start) != 0 || li < 0 || !(<f64>load<f32>(z + (<usize>start << 2)) >= low)) continue;
+    let head = 0, tail = 0;
+    let peak: f64 = -Infinity;
+    store<i32>(queue + (<usize>tail << 2), start);
+    tail++;
+    store<u8>(seen + <usize>start, 1);
+    while (head < tail) {
+      const k = load<i32>(queue + (<usize>head << 2));
+      head++;
+      peak = Math.max(peak, <f64>load<f32>(z + (<usize>k << 2)));
+      const r = k / width, c = k - r * width;
+      for (let dr = -1; dr <= 1; dr++)
+        for (let dc = -1; dc <= 1; dc++) {
+          const rr = r + dr, cc = c + dc;
+          if (rr < 0 || cc < 0 || rr >= height || cc >= width) continue;
+          const q = rr * width + cc;
+          if (load<u8>(seen + <usize>q) != 0 || load<i32>(labels + (<usize>q << 2)) != li || !(<f64>load<f32>(z + (<usize>q << 2)) >= low)) continue;
+          store<u8>(seen + <usize>q, 1);
+          store<i32>(queue + (<usize>tail << 2), q);
+          tail++;
+        }
+    }
+    if (tail < minCells || peak < threshold) continue;
+    memory.copy(out + (<usize>nOut << 2), queue, <usize>tail << 2);
+    store<i32>(found + (<usize>(3 * nFound) << 2), nOut);
+    store<i32>(found + (<usize>(3 * nFound + 1) << 2), tail);
+    store<i32>(found + (<usize>(3 * nFound + 2) << 2), li);
+    nFound++;
+    nOut += tail;
+  }
+  return nFound;
 }
