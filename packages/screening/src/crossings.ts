@@ -1,7 +1,7 @@
 import { makeMember, type Member } from '@lamina/anomalies';
 import type { SliceStack } from '@lamina/slices';
 import { locusAtHeight, type ScreenContext } from './context';
-import { locusResidual } from './locus-residual';
+import { locusResiduals } from './locus-residual';
 
 /** 8-connected components of a set of cells. */
 function subComponents(cells: number[], width: number): number[][] {
@@ -60,10 +60,10 @@ export function separateCrossings(members: Member[], stack: SliceStack, scores: 
       if (nearest > l.radiusM + band) continue;
       const inside: number[] = [], off: number[] = [];
       const res = new Map<number, number>();
-      const residual = locusResidual(refl, field, l.radiusM, ctx);
+      const residuals = locusResiduals(refl, field, l.radiusM, ctx, m.cells);
       for (let ci = 0; ci < m.cells.length; ci++) {
         const c = m.cells[ci]!;
-        const v = residual(c);
+        const v = residuals[ci]!;
         res.set(c, v);
         (Math.abs(v) <= band ? inside : off).push(c);
       }

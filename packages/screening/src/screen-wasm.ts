@@ -7,6 +7,7 @@ interface Kernels {
   distanceField(seg: number, nSeg: number, pts: number, nPts: number, xs: number, width: number, ys: number, height: number, mpu: number, out: number): void;
   locusBandScores(field: number, sc: number, width: number, r0: number, r1: number, c0: number, c1: number, radius: number, bandHalf: number, vals: number): number;
   medianHigh(vals: number, n: number): number;
+  locusResiduals(cells: number, n: number, step: number, pts: number, nPts: number, seg: number, nSeg: number, rhos: number, width: number, originX: number, originY: number, cellSize: number, mpu: number, radius: number, out: number): number;
   lineStrips(z: number, labels: number, seen: number, queue: number, width: number, height: number, low: number, threshold: number, minCells: number, out: number, found: number): number;
 }
 
@@ -104,4 +105,25 @@ export function wasmLineStrips(z: Float32Array, labels: Int32Array, seen: Uint8A
     out.push({ cells: i32.slice(op / 4 + i32[at]!, op / 4 + i32[at]! + i32[at + 1]!).sort(), line: i32[at + 2]! });
   }
   return out;
+}
+
+/**
+ * `locusResidual` (locus-residual.ts) of cells[0], cells[step], ... against points of locus radius
+ * `radiusM` and segments of radii `rhos`, in WebAssembly (wasm/screen-kernels.ts: the same operations,
+ * the same numbers); null where WebAssembly does not run.
+ */
+export function wasmLocusResiduals(cells: Int32Array, step: number, points: Float64Array, segments: Float64Array, rhos: Float64Array, grid: SliceGrid, metresPerUnit: number, radiusM: number): Float64Array | null {
+  const k = instance();
+  if (!k) return null;
+  const n = cells.length, m = Math.ceil(n / step);
+  // float64: points, segments, radii, residuals; then the int32 cells
+  const pts = 0, seg = pts + 8 * points.length, rp = seg + 8 * segments.length, op = rp + 8 * rhos.length, cp = op + 8 * m;
+  room(k, cp + 4 * n);
+  const f64 = new Float64Array(k.memory.buffer);
+  f64.set(points, pts / 8);
+  f64.set(segments, seg / 8);
+  f64.set(rhos, rp / 8);
+  new Int32Array(k.memory.buffer, cp, n).set(cells);
+  const got = k.locusResiduals(cp, n, step, pts, points.length / 2, seg, segments.length / 4, rp, grid.width, grid.originX, grid.originY, grid.cellSize, metresPerUnit, radiusM, op);
+  return new Float64Array(k.memory.buffer, op, got).slice();
 }

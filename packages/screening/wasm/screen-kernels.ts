@@ -155,3 +155,43 @@ export function lineStrips(z: usize, labels: usize, seen: usize, queue: usize, w
   }
   return nFound;
 }
+
+/** locus-residual.ts `mayBeat`: whether an element at squared distance d2 (site units) may have a residual smaller in magnitude than `best`. */
+@inline function mayBeat(d2: f64, rho: f64, best: f64, mpu: f64): bool {
+  const b = Math.abs(best), slack = 1e-9 * (rho + b);
+  const far = (rho + b + slack) / mpu;
+  if (d2 > far * far * (1 + 1e-9)) return false;
+  const near = (rho - b - slack) / mpu;
+  return !(near > 0 && d2 < near * near * (1 - 1e-9));
+}
+
+/**
+ * locus-residual.ts `locusResidual` of the cells cells[0], cells[step], ... (n cells at `cells`, i32,
+ * grid `width` wide from (originX, originY) by `cellSize`), into `out` (f64); how many. Points at `pts`
+ * have locus radius `radius`, segments at `seg` their own (`rhos`, f64).
+ */
+export function locusResiduals(cells: usize, n: i32, step: i32, pts: usize, nPts: i32, seg: usize, nSeg: i32, rhos: usize, width: i32, originX: f64, originY: f64, cellSize: f64, mpu: f64, radius: f64, out: usize): i32 {
+  let m = 0;
+  for (let i = 0; i < n; i += step) {
+    const c = load<i32>(cells + (<usize>i << 2));
+    const row = c / width;
+    const x = originX + (<f64>(c - row * width) + 0.5) * cellSize, y = originY - (<f64>row + 0.5) * cellSize;
+    let best: f64 = Infinity;
+    for (let k = 0; k < nPts; k++) {
+      const ex = x - f64At(pts, 2 * k), ey = y - f64At(pts, 2 * k + 1);
+      if (!mayBeat(ex * ex + ey * ey, radius, best, mpu)) continue;
+      const r = hypot(ex, ey) * mpu - radius;
+      if (Math.abs(r) < Math.abs(best)) best = r;
+    }
+    for (let k = 0; k < nSeg; k++) {
+      segmentOffset(seg, k, x, y);
+      const rho = f64At(rhos, k);
+      if (!mayBeat(ox * ox + oy * oy, rho, best, mpu)) continue;
+      const r = hypot(ox, oy) * mpu - rho;
+      if (Math.abs(r) < Math.abs(best)) best = r;
+    }
+    store<f64>(out + (<usize>m << 3), best);
+    m++;
+  }
+  return m;
+}
