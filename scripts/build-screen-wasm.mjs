@@ -2,6 +2,7 @@
 // file holding the module as base64 (so the bundled CLI carries it with no file to find):
 //   packages/anomalies/wasm/select-kernels.ts -> packages/anomalies/src/select-wasm-binary.ts
 //   packages/anomalies/wasm/band-kernels.ts   -> packages/anomalies/src/band-wasm-binary.ts
+//   packages/anomalies/wasm/cells-kernels.ts  -> packages/anomalies/src/cells-wasm-binary.ts
 //   packages/screening/wasm/screen-kernels.ts -> packages/screening/src/screen-wasm-binary.ts
 // Run after changing a kernel: node scripts/build-screen-wasm.mjs  (the same steps as
 // scripts/build-fft-wasm.mjs)
@@ -15,6 +16,7 @@ const root = join(dirname(fileURLToPath(import.meta.url)), '..');
 const MODULES = [
   { src: 'packages/anomalies/wasm/select-kernels.ts', out: 'packages/anomalies/src/select-wasm-binary.ts', name: 'SELECT_WASM_BASE64' },
   { src: 'packages/anomalies/wasm/band-kernels.ts', out: 'packages/anomalies/src/band-wasm-binary.ts', name: 'BAND_WASM_BASE64' },
+  { src: 'packages/anomalies/wasm/cells-kernels.ts', out: 'packages/anomalies/src/cells-wasm-binary.ts', name: 'CELLS_WASM_BASE64' },
   { src: 'packages/screening/wasm/screen-kernels.ts', out: 'packages/screening/src/screen-wasm-binary.ts', name: 'SCREEN_WASM_BASE64' },
 ];
 const dir = mkdtempSync(join(tmpdir(), 'lamina-screen-wasm-'));
