@@ -1,4 +1,5 @@
 import { cellCentreX, cellCentreY, type SliceStack } from '@lamina/slices';
+import { wasmUnionOfCells } from './cells-wasm';
 import { components } from './components';
 import { linkMembers, type LinkOptions } from './link';
 import { fitNoiseLaw, noiseMean, noiseScores, normalIsf, type NoiseLaw } from './noise';
@@ -303,6 +304,11 @@ export function memberOf(id: number, si: number, cells: Int32Array, scores: Floa
  * members: the members' lists merged one after another (a max does not depend on the order).
  */
 function unionOfCells(members: Member[]): { cells: Int32Array; weights: Float32Array } {
+  return (members.length > 1 ? wasmUnionOfCells(members) : null) ?? unionOfCellsInJs(members);
+}
+
+/** `unionOfCells` in JavaScript: where WebAssembly does not run, for one member or none, and its kernel's reference in the tests (cells-wasm.ts). */
+export function unionOfCellsInJs(members: readonly Pick<Member, 'cells' | 'scores'>[]): { cells: Int32Array; weights: Float32Array } {
   let cells = members[0]?.cells ?? new Int32Array(0);
   let weights: ArrayLike<number> = members[0]?.scores ?? new Float32Array(0);
   for (let m = 1; m < members.length; m++) {
