@@ -8,6 +8,7 @@ interface Kernels {
   locusBandScores(field: number, sc: number, width: number, r0: number, r1: number, c0: number, c1: number, radius: number, bandHalf: number, vals: number): number;
   medianHigh(vals: number, n: number): number;
   locusResiduals(cells: number, n: number, step: number, pts: number, nPts: number, seg: number, nSeg: number, rhos: number, width: number, originX: number, originY: number, cellSize: number, mpu: number, radius: number, out: number): number;
+  pointModel(xs: number, ys: number, rs: number, n: number, cellSize: number, res: number): void;
   lineStrips(z: number, labels: number, seen: number, queue: number, width: number, height: number, low: number, threshold: number, minCells: number, out: number, found: number): number;
 }
 
@@ -126,4 +127,29 @@ export function wasmLocusResiduals(cells: Int32Array, step: number, points: Floa
   new Int32Array(k.memory.buffer, cp, n).set(cells);
   const got = k.locusResiduals(cp, n, step, pts, points.length / 2, seg, segments.length / 4, rp, grid.width, grid.originX, grid.originY, grid.cellSize, metresPerUnit, radiusM, op);
   return new Float64Array(k.memory.buffer, op, got).slice();
+}
+
+/**
+ * The unsurveyed-obstruction test's point model (checks/unsurveyed.ts `pointModel`) in WebAssembly
+ * (wasm/screen-kernels.ts: the same sums in the same order); null where WebAssembly does not run.
+ */
+export function wasmPointModel(pts: readonly { x: Float64Array; y: Float64Array; r: number }[], px: number, py: number, cellSize: number): [number, number] | null {
+  const k = instance();
+  if (!k) return null;
+  let n = 0;
+  for (const p of pts) n += p.x.length;
+  const xs = 16, ys = xs + 8 * n, rs = ys + 8 * n;
+  room(k, rs + 8 * n);
+  const f64 = new Float64Array(k.memory.buffer);
+  let at = 0;
+  for (const p of pts) {
+    f64.set(p.x, xs / 8 + at);
+    f64.set(p.y, ys / 8 + at);
+    f64.fill(p.r, rs / 8 + at, rs / 8 + at + p.x.length);
+    at += p.x.length;
+  }
+  f64[0] = px;
+  f64[1] = py;
+  k.pointModel(xs, ys, rs, n, cellSize, 0);
+  return [f64[0]!, f64[1]!];
 }

@@ -2,7 +2,8 @@ import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { locusBandMedian } from '../src/checks/before-background';
 import { lineStrips } from '../src/along-line';
-import { wasmLineStrips, wasmLocusBandMedian } from '../src/screen-wasm';
+import { pointModel } from '../src/checks/unsurveyed';
+import { wasmLineStrips, wasmLocusBandMedian, wasmPointModel } from '../src/screen-wasm';
 
 /** Same numbers bit for bit (+0 and -0 differ, NaN equals NaN). */
 const bits = (x: number) => (Number.isNaN(x) ? 'NaN' : Object.is(x, -0) ? '-0' : String(x));
@@ -72,5 +73,19 @@ describe('the along-line strips in WebAssembly (screen-wasm.ts)', () => {
       { numRuns: 1000, seed: 9 },
     );
     expect(found).toBeGreaterThan(500);
+  });
+});
+
+describe('the unsurveyed-obstruction point model in WebAssembly (screen-wasm.ts)', () => {
+  it('ends at the same point, bit for bit, as pointModel in JavaScript (rings, lines, one cell repeated)', () => {
+    const coord = fc.oneof(fc.integer({ min: 0, max: 60 }).map((k) => 700_000 + k * 0.125), fc.double({ min: 700_000, max: 700_008, noNaN: true }));
+    const member = fc.record({ xy: fc.array(fc.tuple(coord, coord), { minLength: 1, maxLength: 40 }), r: fc.double({ min: 0, max: 6, noNaN: true }) }).map(({ xy, r }) => ({ x: Float64Array.from(xy, (p) => p[0]), y: Float64Array.from(xy, (p) => p[1]), r }));
+    fc.assert(
+      fc.property(fc.array(member, { minLength: 1, maxLength: 6 }), coord, coord, fc.constantFrom(0.125, 0.3), (pts, px, py, cellSize) => {
+        const w = wasmPointModel(pts, px, py, cellSize)!;
+        expect(w.map(bits)).toEqual(pointModel(pts, px, py, cellSize).map(bits));
+      }),
+      { numRuns: 500, seed: 12 },
+    );
   });
 });

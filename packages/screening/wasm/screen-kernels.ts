@@ -1,9 +1,10 @@
 // AssemblyScript source of the WebAssembly kernels of the screening checks (../src/screen-wasm.ts):
 // `distanceField` (for every cell centre, `distanceTo` of ../src/reflectors.ts: the least squared
 // distance over the reflector's segments and points, then Math.hypot of those within 1e-9 of it, the
-// least, times metres per unit), the locus band's scores of the before-background test
-// (../src/checks/before-background.ts) and the strips of along-line.ts, the same operations in the
-// same order. Built by
+// least, times metres per unit), the locus residuals of ../src/locus-residual.ts, the locus band's
+// scores of the before-background test (../src/checks/before-background.ts), the strips of
+// along-line.ts and the point model of the unsurveyed-obstruction test (../src/checks/unsurveyed.ts),
+// the same operations in the same order. Built by
 // scripts/build-screen-wasm.mjs into ../src/screen-wasm-binary.ts (the module as base64); rebuild after
 // a change here.
 // Pointers are byte offsets into the module's memory. The selection is that of ../../anomalies/wasm/select-kernels.ts.
@@ -11,12 +12,13 @@
 import { select } from '../../anomalies/wasm/select-kernels';
 
 /**
- * Math.hypot of two numbers (not NaN) as V8 works it out (its builtin: each magnitude divided by the
+ * Math.hypot of two numbers as V8 works it out (its builtin: each magnitude divided by the
  * larger, the squares summed with Kahan's compensation, the square root times the larger), so the same
  * number bit for bit.
  */
 @inline function hypot(a: f64, b: f64): f64 {
   const x = Math.abs(a), y = Math.abs(b);
+  if (isNaN(a) || isNaN(b)) return x == Infinity || y == Infinity ? Infinity : NaN;
   const max = x > y ? x : y;
   if (max == Infinity) return Infinity;
   if (max == 0) return 0;
@@ -194,4 +196,35 @@ export function locusResiduals(cells: usize, n: i32, step: i32, pts: usize, nPts
     m++;
   }
   return m;
+}
+
+/**
+ * checks/unsurveyed.ts, the point model: Gauss-Newton from (px, py) (at `res`, f64) for the point whose
+ * distances to the n cell centres (xs, ys, f64) best match their locus radii `rs` (site units), at most
+ * 30 steps, stopping at a singular system or a step under 1e-6 cellSize; the point back into `res`.
+ */
+export function pointModel(xs: usize, ys: usize, rs: usize, n: i32, cellSize: f64, res: usize): void {
+  let px = f64At(res, 0), py = f64At(res, 1);
+  for (let it = 0; it < 30; it++) {
+    let a11: f64 = 0, a12: f64 = 0, a22: f64 = 0, b1: f64 = 0, b2: f64 = 0;
+    for (let i = 0; i < n; i++) {
+      const dx = px - f64At(xs, i), dy = py - f64At(ys, i);
+      let d = hypot(dx, dy);
+      if (d == 0 || isNaN(d)) d = 1e-9;
+      const jx = dx / d, jy = dy / d, r = d - f64At(rs, i);
+      a11 += jx * jx;
+      a12 += jx * jy;
+      a22 += jy * jy;
+      b1 += jx * r;
+      b2 += jy * r;
+    }
+    const det = a11 * a22 - a12 * a12;
+    if (!(Math.abs(det) > 1e-12)) break;
+    const sx = (a22 * b1 - a12 * b2) / det, sy = (a11 * b2 - a12 * b1) / det;
+    px -= sx;
+    py -= sy;
+    if (hypot(sx, sy) < 1e-6 * cellSize) break;
+  }
+  store<f64>(res, px);
+  store<f64>(res + 8, py);
 }
