@@ -1,28 +1,15 @@
+import { ensureMemory, lazyKernels, type WasmKernels } from './wasm-module';
 import { BAND_WASM_BASE64 } from './band-wasm-binary';
 
-interface Kernels {
-  memory: WebAssembly.Memory;
+interface Kernels extends WasmKernels {
   prepare(left: number, col: number, row: number, n: number, width: number): void;
   fullestBand(col: number, row: number, n: number, w: number, eRow: number, eFirst: number, eLast: number, eCells: number, colCells: number, bins: number, cum: number, wide: number, res: number): void;
   takeBand(left: number, col: number, row: number, n: number, c: number, s: number, lo: number, w: number, count: number, band: number): number;
   dropBand(left: number, col: number, row: number, n: number, c: number, s: number, lo: number, w: number): number;
 }
 
-let kernels: Kernels | null | undefined;
-
-/** The module's one instance on this thread (its memory grown as needed); null where WebAssembly does not run. */
-function instance(): Kernels | null {
-  if (kernels === undefined) {
-    try {
-      const bytes = typeof Buffer !== 'undefined' ? Buffer.from(BAND_WASM_BASE64, 'base64') : Uint8Array.from(atob(BAND_WASM_BASE64), (c) => c.charCodeAt(0));
-      const env = { cos: Math.cos, sin: Math.sin, hypot: Math.hypot };
-      kernels = WebAssembly.validate(bytes) ? (new WebAssembly.Instance(new WebAssembly.Module(bytes), { env }).exports as unknown as Kernels) : null;
-    } catch {
-      kernels = null;
-    }
-  }
-  return kernels;
-}
+/** The module's one instance on this thread; null where WebAssembly does not run. */
+const instance = lazyKernels<Kernels>(BAND_WASM_BASE64, { env: { cos: Math.cos, sin: Math.sin, hypot: Math.hypot } });
 
 /** Byte offsets of `straightBands`' arrays in the module's memory, for n cells of a grid `width` wide reaching row `lastRow`. */
 function layout(n: number, width: number, lastRow: number) {
@@ -56,8 +43,7 @@ export function wasmStraightBands(cells: Int32Array, width: number, w: number, m
   if (!k) return null;
   const n0 = cells.length;
   const l = layout(n0, width, n0 > 0 ? (cells[n0 - 1]! / width) | 0 : 0);
-  const have = k.memory.buffer.byteLength;
-  if (l.bytes > have) k.memory.grow(Math.ceil((l.bytes - have) / 65536));
+  ensureMemory(k, l.bytes);
   const i32 = () => new Int32Array(k.memory.buffer);
   i32().set(cells, l.left / 4);
   k.prepare(l.left, l.col, l.row, n0, width);

@@ -1,25 +1,13 @@
+import { ensureMemory, lazyKernels, type WasmKernels } from './wasm-module';
 import { CELLS_WASM_BASE64 } from './cells-wasm-binary';
 
-interface Kernels {
-  memory: WebAssembly.Memory;
+interface Kernels extends WasmKernels {
   minCellDistance2(a: number, na: number, b: number, nb: number, edgeA: number, nea: number, edgeB: number, neb: number, width: number): number;
   mergeCells(a: number, wa: number, na: number, b: number, wb: number, nb: number, oc: number, ow: number): number;
 }
 
-let kernels: Kernels | null | undefined;
-
-/** The module's one instance on this thread (its memory grown as needed); null where WebAssembly does not run. */
-function instance(): Kernels | null {
-  if (kernels === undefined) {
-    try {
-      const bytes = typeof Buffer !== 'undefined' ? Buffer.from(CELLS_WASM_BASE64, 'base64') : Uint8Array.from(atob(CELLS_WASM_BASE64), (c) => c.charCodeAt(0));
-      kernels = WebAssembly.validate(bytes) ? (new WebAssembly.Instance(new WebAssembly.Module(bytes), {}).exports as unknown as Kernels) : null;
-    } catch {
-      kernels = null;
-    }
-  }
-  return kernels;
-}
+/** The module's one instance on this thread; null where WebAssembly does not run. */
+const instance = lazyKernels<Kernels>(CELLS_WASM_BASE64);
 
 /**
  * `minCellDistance` (join.ts) in WebAssembly (wasm/cells-kernels.ts: the same integer arithmetic, the
@@ -29,7 +17,7 @@ export function wasmMinCellDistance(a: Int32Array, b: Int32Array, width: number,
   const k = instance();
   if (!k) return null;
   const pa = 0, pb = pa + 4 * a.length, pea = pb + 4 * b.length, peb = pea + 4 * edgeA.length, end = peb + 4 * edgeB.length;
-  room(k, end);
+  ensureMemory(k, end);
   const i32 = new Int32Array(k.memory.buffer);
   i32.set(a, pa / 4);
   i32.set(b, pb / 4);
@@ -38,11 +26,6 @@ export function wasmMinCellDistance(a: Int32Array, b: Int32Array, width: number,
   return Math.sqrt(k.minCellDistance2(pa, a.length, pb, b.length, pea, edgeA.length, peb, edgeB.length, width));
 }
 
-/** Room in the module's memory for `bytes` bytes from 0. */
-function room(k: Kernels, bytes: number): void {
-  const have = k.memory.buffer.byteLength;
-  if (bytes > have) k.memory.grow(Math.ceil((bytes - have) / 65536));
-}
 
 /**
  * `unionOfCells` (extract.ts) of members' cells and scores, merged in WebAssembly one member after
@@ -56,7 +39,7 @@ export function wasmUnionOfCells(members: readonly { cells: Int32Array; scores: 
   for (const m of members) total += m.cells.length;
   // two lists of the union so far (cells, float64 weights), then each member's cells and float32 scores
   const c0 = 0, w0 = 8 * total, c1 = 16 * total, w1 = 24 * total, mc = 32 * total, ms = 36 * total;
-  room(k, 40 * total);
+  ensureMemory(k, 40 * total);
   const i32 = new Int32Array(k.memory.buffer), f32 = new Float32Array(k.memory.buffer), f64 = new Float64Array(k.memory.buffer);
   let at = 0;
   for (const m of members) {

@@ -1,27 +1,15 @@
+import { ensureMemory, lazyKernels, type WasmKernels } from './wasm-module';
 import { SELECT_WASM_BASE64 } from './select-wasm-binary';
 
-interface Kernels {
-  memory: WebAssembly.Memory;
+interface Kernels extends WasmKernels {
   gatherValid(src: number, n: number, nodata: number, dst: number): number;
   median(a: number, n: number): number;
   quantile(a: number, n: number, q: number): number;
   absDeviations(a: number, n: number, centre: number): void;
 }
 
-let kernels: Kernels | null | undefined;
-
-/** The module's one instance on this thread (its memory reused and grown as needed); null where WebAssembly does not run. */
-function instance(): Kernels | null {
-  if (kernels === undefined) {
-    try {
-      const bytes = typeof Buffer !== 'undefined' ? Buffer.from(SELECT_WASM_BASE64, 'base64') : Uint8Array.from(atob(SELECT_WASM_BASE64), (c) => c.charCodeAt(0));
-      kernels = WebAssembly.validate(bytes) ? (new WebAssembly.Instance(new WebAssembly.Module(bytes), {}).exports as unknown as Kernels) : null;
-    } catch {
-      kernels = null;
-    }
-  }
-  return kernels;
-}
+/** The module's one instance on this thread; null where WebAssembly does not run. */
+const instance = lazyKernels<Kernels>(SELECT_WASM_BASE64);
 
 /**
  * The slice's values in the module's memory (float32 at 0) and room for its valid ones as float64
@@ -30,8 +18,7 @@ function instance(): Kernels | null {
 function gathered(k: Kernels, values: Float32Array, nodata: number): { dst: number; n: number } {
   const dst = (4 * values.length + 7) & ~7;
   const bytes = dst + 8 * values.length;
-  const have = k.memory.buffer.byteLength;
-  if (bytes > have) k.memory.grow(Math.ceil((bytes - have) / 65536));
+  ensureMemory(k, bytes);
   new Float32Array(k.memory.buffer, 0, values.length).set(values);
   return { dst, n: k.gatherValid(0, values.length, nodata, dst) };
 }

@@ -1,9 +1,9 @@
+import { ensureMemory, lazyKernels, type WasmKernels } from '@lamina/anomalies';
 import type { SliceGrid } from '@lamina/slices';
 import { cellCentreX, cellCentreY } from '@lamina/slices';
 import { SCREEN_WASM_BASE64 } from './screen-wasm-binary';
 
-interface Kernels {
-  memory: WebAssembly.Memory;
+interface Kernels extends WasmKernels {
   distanceField(seg: number, nSeg: number, pts: number, nPts: number, xs: number, width: number, ys: number, height: number, mpu: number, out: number): void;
   locusBandScores(field: number, sc: number, width: number, r0: number, r1: number, c0: number, c1: number, radius: number, bandHalf: number, vals: number): number;
   medianHigh(vals: number, n: number): number;
@@ -12,20 +12,8 @@ interface Kernels {
   lineStrips(z: number, labels: number, seen: number, queue: number, width: number, height: number, low: number, threshold: number, minCells: number, out: number, found: number): number;
 }
 
-let kernels: Kernels | null | undefined;
-
-/** The module's one instance on this thread (its memory grown as needed); null where WebAssembly does not run. */
-function instance(): Kernels | null {
-  if (kernels === undefined) {
-    try {
-      const bytes = typeof Buffer !== 'undefined' ? Buffer.from(SCREEN_WASM_BASE64, 'base64') : Uint8Array.from(atob(SCREEN_WASM_BASE64), (c) => c.charCodeAt(0));
-      kernels = WebAssembly.validate(bytes) ? (new WebAssembly.Instance(new WebAssembly.Module(bytes), {}).exports as unknown as Kernels) : null;
-    } catch {
-      kernels = null;
-    }
-  }
-  return kernels;
-}
+/** The module's one instance on this thread; null where WebAssembly does not run. */
+const instance = lazyKernels<Kernels>(SCREEN_WASM_BASE64);
 
 /**
  * `distanceField` of a reflector's segments and points into `out`, in WebAssembly
@@ -40,7 +28,7 @@ export function wasmDistanceField(segments: Float64Array, points: Float64Array, 
   const rows = Math.max(1, Math.min(height, Math.floor(BLOCK_CELLS / Math.max(1, width))));
   // float64: segments, points, column x, row y; then a block's float32 field
   const seg = 0, pts = seg + 8 * segments.length, xs = pts + 8 * points.length, ys = xs + 8 * width, f = ys + 8 * height;
-  room(k, f + 4 * width * rows);
+  ensureMemory(k, f + 4 * width * rows);
   const mem = new Float64Array(k.memory.buffer, 0, f / 8);
   mem.set(segments, seg / 8);
   mem.set(points, pts / 8);
@@ -58,11 +46,6 @@ export function wasmDistanceField(segments: Float64Array, points: Float64Array, 
 /** Cells of the field worked out per call (the module's float32 block). */
 const BLOCK_CELLS = 1 << 16;
 
-/** Room in the module's memory for `bytes` bytes from 0. */
-function room(k: Kernels, bytes: number): void {
-  const have = k.memory.buffer.byteLength;
-  if (bytes > have) k.memory.grow(Math.ceil((bytes - have) / 65536));
-}
 
 /**
  * The before-background test's locus band in a box of rows r0..r1 and columns c0..c1 (a grid `width`
@@ -76,7 +59,7 @@ export function wasmLocusBandMedian(field: Float32Array, sc: Float32Array, width
   // the box's rows of both grids (whole rows: one copy each), one after the other, then room for the gathered scores
   const cells = (r1 - r0 + 1) * width;
   const fb = 0, sb = 4 * cells, vals = (8 * cells + 7) & ~7;
-  room(k, vals + 8 * cells);
+  ensureMemory(k, vals + 8 * cells);
   const f32 = new Float32Array(k.memory.buffer);
   f32.set(field.subarray(r0 * width, (r1 + 1) * width), fb / 4);
   f32.set(sc.subarray(r0 * width, (r1 + 1) * width), sb / 4);
@@ -94,7 +77,7 @@ export function wasmLineStrips(z: Float32Array, labels: Int32Array, seen: Uint8A
   const n = width * height;
   // float32 scores, int32 labels, queue, cells out and strips found (three numbers each), the seen bytes
   const zp = 0, lp = 4 * n, qp = 8 * n, op = 12 * n, fp = 16 * n, sp = 28 * n;
-  room(k, sp + n);
+  ensureMemory(k, sp + n);
   new Float32Array(k.memory.buffer, zp, n).set(z);
   new Int32Array(k.memory.buffer, lp, n).set(labels);
   new Uint8Array(k.memory.buffer, sp, n).set(seen);
@@ -119,7 +102,7 @@ export function wasmLocusResiduals(cells: Int32Array, step: number, points: Floa
   const n = cells.length, m = Math.ceil(n / step);
   // float64: points, segments, radii, residuals; then the int32 cells
   const pts = 0, seg = pts + 8 * points.length, rp = seg + 8 * segments.length, op = rp + 8 * rhos.length, cp = op + 8 * m;
-  room(k, cp + 4 * n);
+  ensureMemory(k, cp + 4 * n);
   const f64 = new Float64Array(k.memory.buffer);
   f64.set(points, pts / 8);
   f64.set(segments, seg / 8);
@@ -139,7 +122,7 @@ export function wasmPointModel(pts: readonly { x: Float64Array; y: Float64Array;
   let n = 0;
   for (const p of pts) n += p.x.length;
   const xs = 16, ys = xs + 8 * n, rs = ys + 8 * n;
-  room(k, rs + 8 * n);
+  ensureMemory(k, rs + 8 * n);
   const f64 = new Float64Array(k.memory.buffer);
   let at = 0;
   for (const p of pts) {

@@ -20,17 +20,22 @@ function plainDistanceTo(r: Reflector, x: number, y: number): number {
   return best;
 }
 
+/** Reflectors of segments and points whose coordinates `coord` gives (up to `most` numbers of each). */
+function reflectors(coord: fc.Arbitrary<number>, most: number): fc.Arbitrary<Reflector> {
+  return fc.record({ segments: fc.array(coord, { maxLength: most }), points: fc.array(coord, { maxLength: most }) }).map(({ segments, points }) => ({
+    featureId: 'f',
+    kind: 'wall' as const,
+    source: 'line' as const,
+    segments: Float64Array.from(segments.slice(0, segments.length - (segments.length % 4))),
+    points: Float64Array.from(points.slice(0, points.length - (points.length % 2))),
+  }));
+}
+
 describe('distanceTo', () => {
   it('is the least Math.hypot over every segment and point (reflectors of one to twelve elements, far from the origin, equal distances)', () => {
     // coordinates on a coarse lattice far from the origin: many elements at equal or nearly equal distances
     const coord = fc.integer({ min: -40, max: 40 }).map((k) => 500_000 + k * 0.25);
-    const reflector = fc.record({ segments: fc.array(coord, { maxLength: 24 }), points: fc.array(coord, { maxLength: 24 }) }).map(({ segments, points }) => ({
-      featureId: 'f',
-      kind: 'wall' as const,
-      source: 'line' as const,
-      segments: Float64Array.from(segments.slice(0, segments.length - (segments.length % 4))),
-      points: Float64Array.from(points.slice(0, points.length - (points.length % 2))),
-    }));
+    const reflector = reflectors(coord, 24);
     fc.assert(
       fc.property(reflector, coord, coord, (r, x, y) => {
         expect(distanceTo(r, x, y)).toBe(plainDistanceTo(r, x, y));
@@ -55,13 +60,7 @@ describe('distanceField', () => {
     fc.integer({ min: -60, max: 60 }).map((k) => 500_000 + k * 0.25),
     fc.double({ min: 499_980, max: 500_020, noNaN: true }),
   );
-  const reflector = fc.record({ segments: fc.array(coord, { maxLength: 20 }), points: fc.array(coord, { maxLength: 20 }) }).map(({ segments, points }) => ({
-    featureId: 'f',
-    kind: 'wall' as const,
-    source: 'line' as const,
-    segments: Float64Array.from(segments.slice(0, segments.length - (segments.length % 4))),
-    points: Float64Array.from(points.slice(0, points.length - (points.length % 2))),
-  }));
+  const reflector = reflectors(coord, 20);
 
   it('in WebAssembly is distanceTo of every cell centre in JavaScript (the same float32 numbers, bit for bit), for reflectors of none to ten elements', () => {
     const grid = fc.record({ width: fc.integer({ min: 1, max: 40 }), height: fc.integer({ min: 1, max: 40 }), cellSize: fc.constantFrom(0.125, 0.25, 0.3), mpu: fc.constantFrom(1, 0.3048) });
