@@ -1,4 +1,5 @@
 import { cellCentreX, cellCentreY, type SliceStack } from '@lamina/slices';
+import { wasmUnionOfCells } from './cells-wasm';
 import { components } from './components';
 import { linkMembers, type LinkOptions } from './link';
 import { fitNoiseLaw, noiseMean, noiseScores, normalIsf, type NoiseLaw } from './noise';
@@ -246,7 +247,7 @@ function without(cells: Int32Array, objects: Int32Array[]): Int32Array {
 
 /** Components inside a layer's cells that stand out from the layer's own Gamma law (see `isLayer`). */
 function objectsInLayer(cells: Int32Array, values: Float32Array, grid: SliceStack['grid'], high: number, low: number, minCells: number): { cells: Int32Array; scores: Float32Array; noiseEnergy: number }[] {
-  const inside = Float32Array.from(cells, (k) => values[k]!);
+  const inside = valuesAt(values, cells);
   const law = fitNoiseLaw(inside, grid.nodata);
   if (!law) return [];
   const z = new Float32Array(grid.width * grid.height).fill(Number.NaN);
@@ -257,7 +258,14 @@ function objectsInLayer(cells: Int32Array, values: Float32Array, grid: SliceStac
 
 /** A member (one slice's component) from its cells and the slice's robust scores. */
 export function makeMember(id: number, si: number, cells: Int32Array, stack: SliceStack, z: Float32Array, options: ShapeOptions = {}, noiseEnergy = Number.NaN): Member {
-  return memberOf(id, si, cells, Float32Array.from(cells, (k) => z[k]!), stack, options, noiseEnergy);
+  return memberOf(id, si, cells, valuesAt(z, cells), stack, options, noiseEnergy);
+}
+
+/** values[cells[i]] for each i (a plain loop: `Float32Array.from` with a function calls it per cell, slow before it is compiled). */
+function valuesAt(values: Float32Array, cells: Int32Array): Float32Array {
+  const out = new Float32Array(cells.length);
+  for (let i = 0; i < cells.length; i++) out[i] = values[cells[i]!]!;
+  return out;
 }
 
 /**
@@ -303,6 +311,11 @@ export function memberOf(id: number, si: number, cells: Int32Array, scores: Floa
  * members: the members' lists merged one after another (a max does not depend on the order).
  */
 function unionOfCells(members: Member[]): { cells: Int32Array; weights: Float32Array } {
+  return (members.length > 1 ? wasmUnionOfCells(members) : null) ?? unionOfCellsInJs(members);
+}
+
+/** `unionOfCells` in JavaScript: where WebAssembly does not run, for one member or none, and its kernel's reference in the tests (cells-wasm.ts). */
+export function unionOfCellsInJs(members: readonly Pick<Member, 'cells' | 'scores'>[]): { cells: Int32Array; weights: Float32Array } {
   let cells = members[0]?.cells ?? new Int32Array(0);
   let weights: ArrayLike<number> = members[0]?.scores ?? new Float32Array(0);
   for (let m = 1; m < members.length; m++) {

@@ -9,3 +9,4 @@ export { fitNoiseLaw, gammaQ, gammaQInv, lnGamma, noiseMean, noiseScores, normal
 export { axisAngleDeg, classifyAnomalies, fresnelRadiusM, isExtensive, isOneLineStrip, isZoneResidue, isPointPiece, isPointSized, pointDepthExtentM, pointFootprintM, pulseDepthM, sameSliceWidthM, maxStructureExtentM, maxUtilityWidthM, oneLineFootprintM, oneLineWidthM, type AnomalyClass, type ClassifyContext, type ClassifyOptions, type Classified } from './classify';
 export { joinAlignedPieces, minCellDistance, type JoinOptions } from './join';
 export { thickParts, squaredDistance } from './split';
+export { ensureMemory, lazyKernels, type WasmKernels } from './wasm-module';

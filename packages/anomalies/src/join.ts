@@ -1,4 +1,5 @@
 import type { SliceGrid } from '@lamina/slices';
+import { wasmMinCellDistance } from './cells-wasm';
 import { axisAngleDeg, oneLineFootprintM, oneLineWidthM } from './classify';
 import { cellShape, type ShapeOptions } from './shape';
 import { edgeCells } from './split';
@@ -153,6 +154,11 @@ function mergeAscending(a: Int32Array, b: Int32Array): Int32Array {
  * axis of the larger offset), so every nearest pair is a pair of edge cells.
  */
 export function minCellDistance(a: Int32Array, b: Int32Array, width: number, edgeA = edgeCells(a, width), edgeB = edgeCells(b, width)): number {
+  return wasmMinCellDistance(a, b, width, edgeA, edgeB) ?? minCellDistanceInJs(a, b, width, edgeA, edgeB);
+}
+
+/** `minCellDistance` in JavaScript: where WebAssembly does not run, and its kernel's reference in the tests (cells-wasm.ts). */
+export function minCellDistanceInJs(a: Int32Array, b: Int32Array, width: number, edgeA = edgeCells(a, width), edgeB = edgeCells(b, width)): number {
   for (let i = 0, j = 0; i < a.length && j < b.length; ) {
     if (a[i]! === b[j]!) return 0;
     if (a[i]! < b[j]!) i++;

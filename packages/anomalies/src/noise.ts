@@ -12,6 +12,7 @@
  * q25 / q50 of a Gamma law depends on its shape only), where targets are too few to move it.
  */
 import { quantileInPlace } from '@lamina/stats';
+import { validQuantiles } from './select-wasm';
 
 /** Gamma law of a slice's noise energy. */
 export interface NoiseLaw {
@@ -143,12 +144,21 @@ function quartileRatio(a: number): number {
  * 16 valid values or no spread (no law to fit).
  */
 export function fitNoiseLaw(values: Float32Array, nodata: number): NoiseLaw | null {
+  const q = validQuantiles(values, nodata, QUARTILES) ?? validQuartilesInJs(values, nodata);
+  return q.count < 16 ? null : noiseLawOf(q.quantiles[0]!, q.quantiles[1]!, q.count);
+}
+
+/** The lower quartile and the median of a slice's valid values, selected one after the other in one array. */
+const QUARTILES = [0.25, 0.5] as const;
+
+/** `validQuantiles` of `QUARTILES` in JavaScript (none worked out under 16 values): where WebAssembly does not run, and the kernels' reference in the tests. */
+export function validQuartilesInJs(values: Float32Array, nodata: number): { quantiles: number[]; count: number } {
   let n = 0;
   for (let i = 0; i < values.length; i++) {
     const v = values[i]!;
     if (v !== nodata && Number.isFinite(v)) n++;
   }
-  if (n < 16) return null;
+  if (n < 16) return { quantiles: [], count: n };
   const buf = new Float64Array(n);
   n = 0;
   for (let i = 0; i < values.length; i++) {
@@ -157,7 +167,11 @@ export function fitNoiseLaw(values: Float32Array, nodata: number): NoiseLaw | nu
   }
   // by selection, no sort: the same order statistics (the values are energies, so the sign of a zero,
   // which a sort orders and a selection does not, never reaches a quartile the law accepts)
-  const q25 = quantileInPlace(buf, 0.25), q50 = quantileInPlace(buf, 0.5);
+  return { quantiles: QUARTILES.map((q) => quantileInPlace(buf, q)), count: n };
+}
+
+/** The Gamma law of quartiles q25 and q50 of n valid values (`fitNoiseLaw`). */
+function noiseLawOf(q25: number, q50: number, n: number): NoiseLaw | null {
   if (!(q50 > 0) || !(q25 > 0) || !(q25 < q50)) return null;
   const r = q25 / q50;
   let lo = Math.log(0.05), hi = Math.log(1e4);

@@ -1,4 +1,5 @@
 import { medianInPlace } from '@lamina/stats';
+import { validMedianMad } from './select-wasm';
 
 /** Median and median absolute deviation of the finite, non-nodata values (one slice). */
 export interface RobustStats {
@@ -9,6 +10,11 @@ export interface RobustStats {
 }
 
 export function robustStats(values: Float32Array, nodata: number): RobustStats {
+  return validMedianMad(values, nodata) ?? robustStatsInJs(values, nodata);
+}
+
+/** `robustStats` in JavaScript: where WebAssembly does not run, and the kernels' reference in the tests. */
+export function robustStatsInJs(values: Float32Array, nodata: number): RobustStats {
   let n = 0;
   for (let i = 0; i < values.length; i++) {
     const v = values[i]!;

@@ -1,3 +1,5 @@
+import { wasmStraightBands } from './band-wasm';
+
 /**
  * Thick parts of a component: its morphological opening by a disk of radius `radiusCells` (erosion,
  * then dilation of what is left, Serra 1982), split into 8-connected parts. Two objects that touch
@@ -126,6 +128,11 @@ export function squaredDistance(mask: Uint8Array, w: number, h: number, target: 
  * before the first refused one gets the same bands and the same rest, ascending).
  */
 export function straightBands(cells: Int32Array, width: number, bandCells: number, minCells: number, maxBands = 4, accept?: (band: Int32Array) => boolean): { bands: Int32Array[]; rest: Int32Array } {
+  return wasmStraightBands(cells, width, Math.max(1, Math.round(bandCells)), minCells, maxBands, accept) ?? straightBandsInJs(cells, width, bandCells, minCells, maxBands, accept);
+}
+
+/** `straightBands` in JavaScript: where WebAssembly does not run, and the kernels' reference in the tests (band-wasm.ts). */
+export function straightBandsInJs(cells: Int32Array, width: number, bandCells: number, minCells: number, maxBands = 4, accept?: (band: Int32Array) => boolean): { bands: Int32Array[]; rest: Int32Array } {
   const w = Math.max(1, Math.round(bandCells));
   const n0 = cells.length;
   // the cells still left: their indices, columns and rows in the first `n` places

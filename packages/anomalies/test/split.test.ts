@@ -1,7 +1,8 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { extractAnomalies, squaredDistance, thickParts } from '../src';
-import { fullestBand, straightBands } from '../src/split';
+import { fullestBand, straightBands, straightBandsInJs } from '../src/split';
+import { wasmStraightBands } from '../src/band-wasm';
 import { grid, py, rng, synthStack } from './helpers';
 
 describe('thick parts (morphological opening)', () => {
@@ -202,6 +203,49 @@ describe('straightBands', () => {
 });
 
 /** Cells of a straight strip (direction th, half-width `half`, half-length `len` about (cx, cy)) into `set`, each kept with probability 0.9. */
+describe('straightBands in WebAssembly (band-wasm.ts)', () => {
+  const same = (cells: Int32Array, width: number, bandCells: number, minCells: number, accept?: () => (b: Int32Array) => boolean) => {
+    const wasm = wasmStraightBands(cells, width, Math.max(1, Math.round(bandCells)), minCells, 4, accept?.())!;
+    const js = straightBandsInJs(cells, width, bandCells, minCells, 4, accept?.());
+    expect(wasm.bands.map((b) => Array.from(b))).toEqual(js.bands.map((b) => Array.from(b)));
+    expect(Array.from(wasm.rest)).toEqual(Array.from(js.rest));
+    return js.bands.length;
+  };
+
+  it('gives the bands and the rest of the JavaScript search on small random sets (ties between directions and offsets)', () => {
+    const sets = fc.record({
+      width: fc.integer({ min: 1, max: 30 }),
+      cells: fc.uniqueArray(fc.integer({ min: 0, max: 899 }), { minLength: 0, maxLength: 120 }),
+      bandCells: fc.double({ min: 0.2, max: 8, noNaN: true }),
+      minCells: fc.integer({ min: 1, max: 8 }),
+      stopAfter: fc.integer({ min: 0, max: 4 }),
+    });
+    fc.assert(
+      fc.property(sets, ({ width, cells, bandCells, minCells, stopAfter }) => {
+        const sorted = Int32Array.from(cells).sort();
+        same(sorted, width, bandCells, minCells);
+        same(sorted, width, bandCells, minCells, () => {
+          let seen = 0;
+          return () => seen++ < stopAfter;
+        });
+      }),
+      { numRuns: 500, seed: 15 },
+    );
+  });
+
+  it('gives the bands and the rest of the JavaScript search on crossings of strips in a wide grid', () => {
+    const r = rng(23);
+    let found = 0;
+    for (let trial = 0; trial < 15; trial++) {
+      const width = 120 + Math.floor(r() * 200);
+      const set = new Set<number>();
+      for (let k = 0; k < 2 + Math.floor(r() * 3); k++) paintStrip(set, r, width, 160, r() * Math.PI, 1 + r() * 5, 30 + r() * 60, 30 + r() * 90, 15 + r() * 60);
+      found += same(Int32Array.from(set).sort(), width, 1 + r() * 12, 6);
+    }
+    expect(found).toBeGreaterThan(20);
+  });
+});
+
 function paintStrip(set: Set<number>, r: () => number, width: number, height: number, th: number, half: number, cx: number, cy: number, len: number): void {
   for (let y = 0; y < height; y++)
     for (let x = 0; x < width; x++) {

@@ -1,6 +1,7 @@
 import { makeMember, type Member } from '@lamina/anomalies';
 import { cellCentreX, cellCentreY, type SliceStack } from '@lamina/slices';
 import type { Line } from './context';
+import { wasmLineStrips } from './screen-wasm';
 
 export interface AlongLineOptions {
   /** Robust z a strip must reach somewhere. */
@@ -67,7 +68,7 @@ function lineAzimuth(l: Line): number {
 
 /**
  * Strips of the stack made before background removal that the main stack lacks: per slice, cells
- * scoring >= lowThreshold there and in no member of the main stack (`taken`), grouped 8-connected
+ * scoring >= lowThreshold there and in no member of the main stack (`taken`: its members), grouped 8-connected
  * but only among cells nearest to the same survey line, so that a utility on one line does not merge
  * with a flat air-wave band or another utility on the next line. A strip holding a cell >= threshold,
  * of at least minCells, linear, minLengthM long and within parallelToleranceDeg of its line is kept.
@@ -78,39 +79,25 @@ function lineAzimuth(l: Line): number {
  * the same slice and, linked across depth as one blob, is neither linear nor new; taken line by line
  * and slice by slice it is both.
  */
-export function alongLineMembers(before: SliceStack, scores: Float32Array[], taken: Map<number, Set<number>>, lines: Line[], labels: Int32Array, options: AlongLineOptions): Member[] {
+export function alongLineMembers(before: SliceStack, scores: Float32Array[], taken: readonly Pick<Member, 'slice' | 'cells'>[], lines: Line[], labels: Int32Array, options: AlongLineOptions): Member[] {
   const { width, height } = before.grid;
   const az = lines.map(lineAzimuth);
   const out: Member[] = [];
+  const bySlice = new Map<number, Int32Array[]>();
+  for (const m of taken) {
+    const list = bySlice.get(m.slice);
+    if (list) list.push(m.cells);
+    else bySlice.set(m.slice, [m.cells]);
+  }
+  // a cell is not looked at (seen) when taken: so it starts no strip and joins none
   const seen = new Uint8Array(width * height);
-  const queue = new Int32Array(width * height);
   for (let si = 0; si < before.slices.length; si++) {
     const z = scores[si];
     if (!z) continue;
-    const t = taken.get(si);
     seen.fill(0);
-    for (let start = 0; start < width * height; start++) {
-      const li = labels[start]!;
-      if (seen[start] || li < 0 || !(z[start]! >= options.lowThreshold) || t?.has(start)) continue;
-      let head = 0, tail = 0, peak = -Infinity;
-      queue[tail++] = start;
-      seen[start] = 1;
-      while (head < tail) {
-        const k = queue[head++]!;
-        peak = Math.max(peak, z[k]!);
-        const r = (k / width) | 0, c = k - r * width;
-        for (let dr = -1; dr <= 1; dr++)
-          for (let dc = -1; dc <= 1; dc++) {
-            const rr = r + dr, cc = c + dc;
-            if (rr < 0 || cc < 0 || rr >= height || cc >= width) continue;
-            const q = rr * width + cc;
-            if (seen[q] || labels[q] !== li || !(z[q]! >= options.lowThreshold) || t?.has(q)) continue;
-            seen[q] = 1;
-            queue[tail++] = q;
-          }
-      }
-      if (tail < options.minCells || peak < options.threshold) continue;
-      const cells = queue.slice(0, tail).sort();
+    for (const cells of bySlice.get(si) ?? []) for (let i = 0; i < cells.length; i++) seen[cells[i]!] = 1;
+    const strips = wasmLineStrips(z, labels, seen, width, height, options.lowThreshold, options.threshold, options.minCells) ?? lineStrips(z, labels, seen, width, height, options.lowThreshold, options.threshold, options.minCells);
+    for (const { cells, line: li } of strips) {
       const m = makeMember(options.firstId + out.length, si, cells, before, z, { metresPerUnit: options.metresPerUnit });
       if (m.shape.kind !== 'linear' || m.shape.lengthM < options.minLengthM) continue;
       const a = az[li]!;
@@ -118,6 +105,42 @@ export function alongLineMembers(before: SliceStack, scores: Float32Array[], tak
       if (!(Math.min(d, 180 - d) <= options.parallelToleranceDeg)) continue;
       out.push(m);
     }
+  }
+  return out;
+}
+
+/**
+ * The strips of one slice (`alongLineMembers`): per cell in order, not `seen`, of a line (`labels`
+ * >= 0) and scoring at least `low`, the 8-connected cells of the same line scoring at least `low`
+ * (each marked seen), kept when at least minCells and holding a score of at least `threshold`; each
+ * with its cells ascending and its line. In JavaScript: where WebAssembly does not run
+ * (`wasmLineStrips`, which leaves `seen` as it was), and its reference in the tests.
+ */
+export function lineStrips(z: Float32Array, labels: Int32Array, seen: Uint8Array, width: number, height: number, low: number, threshold: number, minCells: number): { cells: Int32Array; line: number }[] {
+  const out: { cells: Int32Array; line: number }[] = [];
+  const queue = new Int32Array(width * height);
+  for (let start = 0; start < width * height; start++) {
+    const li = labels[start]!;
+    if (seen[start] || li < 0 || !(z[start]! >= low)) continue;
+    let head = 0, tail = 0, peak = -Infinity;
+    queue[tail++] = start;
+    seen[start] = 1;
+    while (head < tail) {
+      const k = queue[head++]!;
+      peak = Math.max(peak, z[k]!);
+      const r = (k / width) | 0, c = k - r * width;
+      for (let dr = -1; dr <= 1; dr++)
+        for (let dc = -1; dc <= 1; dc++) {
+          const rr = r + dr, cc = c + dc;
+          if (rr < 0 || cc < 0 || rr >= height || cc >= width) continue;
+          const q = rr * width + cc;
+          if (seen[q] || labels[q] !== li || !(z[q]! >= low)) continue;
+          seen[q] = 1;
+          queue[tail++] = q;
+        }
+    }
+    if (tail < minCells || peak < threshold) continue;
+    out.push({ cells: queue.slice(0, tail).sort(), line: li });
   }
   return out;
 }

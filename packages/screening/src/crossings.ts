@@ -1,7 +1,18 @@
 import { makeMember, type Member } from '@lamina/anomalies';
 import type { SliceStack } from '@lamina/slices';
 import { locusAtHeight, type ScreenContext } from './context';
-import { locusResidual } from './locus-residual';
+import { locusResiduals } from './locus-residual';
+
+/** Place of cell c in ascending `cells`, which holds it. */
+function indexOf(cells: Int32Array, c: number): number {
+  let lo = 0, hi = cells.length - 1;
+  while (lo < hi) {
+    const mid = (lo + hi) >> 1;
+    if (cells[mid]! < c) lo = mid + 1;
+    else hi = mid;
+  }
+  return lo;
+}
 
 /** 8-connected components of a set of cells. */
 function subComponents(cells: number[], width: number): number[][] {
@@ -59,21 +70,15 @@ export function separateCrossings(members: Member[], stack: SliceStack, scores: 
       for (let ci = 0; ci < m.cells.length; ci++) nearest = Math.min(nearest, field[m.cells[ci]!]!);
       if (nearest > l.radiusM + band) continue;
       const inside: number[] = [], off: number[] = [];
-      const res = new Map<number, number>();
-      const residual = locusResidual(refl, field, l.radiusM, ctx);
-      for (let ci = 0; ci < m.cells.length; ci++) {
-        const c = m.cells[ci]!;
-        const v = residual(c);
-        res.set(c, v);
-        (Math.abs(v) <= band ? inside : off).push(c);
-      }
+      const residuals = locusResiduals(refl, field, l.radiusM, ctx, m.cells);
+      for (let ci = 0; ci < m.cells.length; ci++) (Math.abs(residuals[ci]!) <= band ? inside : off).push(m.cells[ci]!);
       const n = m.cells.length;
       if (inside.length < 0.3 * n || off.length < minCells) continue;
       const z = scores[m.slice]!;
       // a piece is cut when it is a fifth of the member, or a detection by itself (it holds a seed),
       // so a pipe crossing a dense field of loci is not swallowed by it
       const far = subComponents(off, stack.grid.width).filter(
-        (p) => p.length >= minCells && (p.length >= 0.2 * n || p.some((c) => z[c]! >= seedScore)) && p.some((c) => Math.abs(res.get(c)!) >= 2 * band),
+        (p) => p.length >= minCells && (p.length >= 0.2 * n || p.some((c) => z[c]! >= seedScore)) && p.some((c) => Math.abs(residuals[indexOf(m.cells, c)]!) >= 2 * band),
       );
       if (far.length === 0) continue;
       const farSet = new Set(far.flat());

@@ -1,6 +1,7 @@
 import { cellCentreX, cellCentreY } from '@lamina/slices';
 import type { ScreenContext } from './context';
 import type { Reflector } from './reflectors';
+import { wasmLocusResiduals } from './screen-wasm';
 
 /**
  * Signed distance (m) of cell c from a reflector's locus of radius r. Every element of a reflector
@@ -27,24 +28,10 @@ export function cellResidual(c: number, refl: Reflector, field: Float32Array, ra
  */
 export function locusResidual(refl: Reflector, field: Float32Array, radiusM: number, ctx: ScreenContext): (c: number) => number {
   const pts = refl.points, seg = refl.segments;
-  const nElements = pts.length / 2 + seg.length / 4;
-  const mig = ctx.migration;
-  if (nElements <= 1 && (!mig || seg.length === 0)) return (c) => field[c]! - radiusM;
+  if (readsField(refl, ctx)) return (c) => field[c]! - radiusM;
   const g = ctx.grid;
   const mpu = ctx.metresPerUnit;
-  const k2 = mig ? mig.k2 : 0, ux = mig ? mig.ux : 0, uy = mig ? mig.uy : 0;
-  const rhos = new Float64Array(seg.length / 4);
-  for (let i = 0; i < seg.length; i += 4) {
-    const dx = seg[i + 2]! - seg[i]!, dy = seg[i + 3]! - seg[i + 1]!;
-    const l2 = dx * dx + dy * dy;
-    let rho = radiusM;
-    if (mig && l2 > 0) {
-      // cos(phi) = |u . n| = |u x segment direction|
-      const cosPhi = Math.abs(ux * dy - uy * dx) / Math.sqrt(l2);
-      rho = radiusM * Math.sqrt(Math.max(0, 1 - k2 * cosPhi * cosPhi));
-    }
-    rhos[i >> 2] = rho;
-  }
+  const rhos = segmentRadii(seg, radiusM, ctx);
   // An element can only take over when its distance lies within |best| of its locus radius: the
   // squared distance rules most elements out before Math.hypot (slow) is worked out for the others,
   // with a margin far above the rounding of either, so the same elements win as when every one is.
@@ -78,4 +65,45 @@ export function locusResidual(refl: Reflector, field: Float32Array, radiusM: num
     }
     return best;
   };
+}
+
+/** Whether a reflector's residual is its distance field less the radius (one element, and no segment migrated). */
+function readsField(refl: Reflector, ctx: ScreenContext): boolean {
+  return refl.points.length / 2 + refl.segments.length / 4 <= 1 && (!ctx.migration || refl.segments.length === 0);
+}
+
+/** Each segment's locus radius (`cellResidual`): r, or under migration r sqrt(1 - k^2 cos^2 phi). */
+function segmentRadii(seg: Float64Array, radiusM: number, ctx: ScreenContext): Float64Array {
+  const mig = ctx.migration;
+  const k2 = mig ? mig.k2 : 0, ux = mig ? mig.ux : 0, uy = mig ? mig.uy : 0;
+  const rhos = new Float64Array(seg.length / 4);
+  for (let i = 0; i < seg.length; i += 4) {
+    const dx = seg[i + 2]! - seg[i]!, dy = seg[i + 3]! - seg[i + 1]!;
+    const l2 = dx * dx + dy * dy;
+    let rho = radiusM;
+    if (mig && l2 > 0) {
+      // cos(phi) = |u . n| = |u x segment direction|
+      const cosPhi = Math.abs(ux * dy - uy * dx) / Math.sqrt(l2);
+      rho = radiusM * Math.sqrt(Math.max(0, 1 - k2 * cosPhi * cosPhi));
+    }
+    rhos[i >> 2] = rho;
+  }
+  return rhos;
+}
+
+/**
+ * `locusResidual` of cells[0], cells[step], ... (every cell at step 1): in WebAssembly
+ * (`wasmLocusResiduals`, the same numbers) where it runs, else cell by cell.
+ */
+export function locusResiduals(refl: Reflector, field: Float32Array, radiusM: number, ctx: ScreenContext, cells: Int32Array, step = 1): Float64Array {
+  const fast = readsField(refl, ctx) ? null : wasmLocusResiduals(cells, step, refl.points, refl.segments, segmentRadii(refl.segments, radiusM, ctx), ctx.grid, ctx.metresPerUnit, radiusM);
+  return fast ?? locusResidualsInJs(refl, field, radiusM, ctx, cells, step);
+}
+
+/** `locusResiduals` cell by cell in JavaScript: where WebAssembly does not run, and its reference in the tests. */
+export function locusResidualsInJs(refl: Reflector, field: Float32Array, radiusM: number, ctx: ScreenContext, cells: Int32Array, step = 1): Float64Array {
+  const out = new Float64Array(Math.ceil(cells.length / step));
+  const residual = locusResidual(refl, field, radiusM, ctx);
+  for (let i = 0, n = 0; i < cells.length; i += step) out[n++] = residual(cells[i]!);
+  return out;
 }

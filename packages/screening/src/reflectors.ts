@@ -1,5 +1,6 @@
 import type { PlanFeature, Position } from '@lamina/site';
 import { cellCentreX, cellCentreY, type SliceGrid } from '@lamina/slices';
+import { wasmDistanceField } from './screen-wasm';
 
 /** Kinds of reflector a plan feature stands for (truth.json `aboveGround[].kind` uses the same words). */
 export type ReflectorKind = 'wall' | 'building-edge' | 'fence' | 'post' | 'tree' | 'column' | 'overhead' | 'other';
@@ -182,8 +183,18 @@ export function alongDistance(r: Reflector, x: number, y: number): number {
   return along;
 }
 
-/** Distance (metres) from every cell centre of the grid to the reflector. */
+/**
+ * Distance (metres) from every cell centre of the grid to the reflector: `distanceTo` of each cell
+ * times `metresPerUnit`, in WebAssembly (screen-wasm.ts: the same operations, the same numbers) where it
+ * runs.
+ */
 export function distanceField(r: Reflector, grid: SliceGrid, metresPerUnit: number, out?: Float32Array): Float32Array {
+  const f = out ?? new Float32Array(grid.width * grid.height);
+  return wasmDistanceField(r.segments, r.points, grid, metresPerUnit, f) ?? distanceFieldInJs(r, grid, metresPerUnit, f);
+}
+
+/** `distanceField` in JavaScript, a call of `distanceTo` per cell: where WebAssembly does not run, and the kernel's reference in the tests. */
+export function distanceFieldInJs(r: Reflector, grid: SliceGrid, metresPerUnit: number, out?: Float32Array): Float32Array {
   const f = out ?? new Float32Array(grid.width * grid.height);
   for (let row = 0; row < grid.height; row++) {
     const y = cellCentreY(grid, row);

@@ -314,15 +314,9 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   // ids of before-background strips that together with their neighbours make a planar reflector
   const planar = new Set<number>();
   if (bb && beforeScores && (options.alongLineFromBeforeBackground ?? true)) {
-    const taken = new Map<number, Set<number>>();
-    for (const m of members) {
-      const t = taken.get(m.slice) ?? new Set<number>();
-      for (let ci = 0; ci < m.cells.length; ci++) t.add(m.cells[ci]!);
-      taken.set(m.slice, t);
-    }
     const reach = Number.isFinite(spacing) ? Math.max(1, Math.ceil((0.5 * spacing) / cellM)) : 1;
     const labels = nearestLineLabels(grid, lines, reach);
-    const strips = alongLineMembers(bb, beforeScores, taken, lines, labels, {
+    const strips = alongLineMembers(bb, beforeScores, members, lines, labels, {
       threshold: options.threshold ?? 5,
       lowThreshold: options.lowThreshold ?? 3,
       minCells: options.minCells ?? 6,

@@ -1,9 +1,14 @@
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { mulberry32 as rng } from '@lamina/random';
 import { cellCentreX, cellCentreY, type SliceGrid } from '@lamina/slices';
 import { cellResidual } from '../src';
 import type { ScreenContext } from '../src/context';
+import { locusResiduals, locusResidualsInJs } from '../src/locus-residual';
 import type { Reflector } from '../src/reflectors';
+
+/** Same numbers bit for bit (+0 and -0 differ). */
+const bits = (x: number) => (Object.is(x, -0) ? '-0' : String(x));
 
 /** The residual as the formula reads: every element's Math.hypot distance from its locus, the least in magnitude (the first of equals). */
 function plainResidual(c: number, refl: Reflector, radiusM: number, ctx: ScreenContext): number {
@@ -50,5 +55,37 @@ describe('locus residual', () => {
         }
       }
     }
+  });
+});
+
+describe('locus residuals in WebAssembly', () => {
+  it('are locusResidual of every sampled cell, bit for bit (posts, footprints and both, migrated or not, random grids)', () => {
+    const coord = (lo: number) => fc.oneof(fc.integer({ min: 0, max: 80 }).map((k) => lo + k * 0.25), fc.double({ min: lo, max: lo + 20, noNaN: true }));
+    const cases = fc.record({
+      points: fc.array(fc.tuple(coord(500), coord(880)), { maxLength: 12 }),
+      segments: fc.array(fc.tuple(coord(500), coord(880)), { maxLength: 10 }),
+      migrated: fc.boolean(),
+      mpu: fc.constantFrom(1, 0.3048006096012192),
+      radiusM: fc.double({ min: 0, max: 8, noNaN: true }),
+      cells: fc.uniqueArray(fc.integer({ min: 0, max: 80 * 80 - 1 }), { minLength: 0, maxLength: 200 }),
+      step: fc.integer({ min: 1, max: 4 }),
+    });
+    const grid: SliceGrid = { crs: 'EPSG:32617', originX: 500, originY: 900, cellSize: 0.25, width: 80, height: 80, nodata: -9999, metresPerUnit: 1, isGeographic: false };
+    const field = Float32Array.from({ length: 80 * 80 }, (_, i) => (i % 97) / 7);
+    let compared = 0;
+    fc.assert(
+      fc.property(cases, ({ points, segments, migrated, mpu, radiusM, cells, step }) => {
+        const ctx: ScreenContext = { grid, metresPerUnit: mpu, loci: [], reflectors: [], fields: [], positionM: 0.3, parallelToleranceDeg: 15, rateTolerance: 0.25, ...(migrated ? { migration: { k2: 0.11, ux: 0.6, uy: 0.8 } } : {}) };
+        const seg = segments.length % 2 === 0 ? segments : segments.slice(1);
+        const refl: Reflector = { featureId: 'f', kind: 'fence', source: 'line', points: Float64Array.from(points.flat()), segments: Float64Array.from(seg.flat()) };
+        const sorted = Int32Array.from(cells).sort();
+        const fast = locusResiduals(refl, field, radiusM, ctx, sorted, step);
+        const js = locusResidualsInJs(refl, field, radiusM, ctx, sorted, step);
+        expect(Array.from(fast, bits)).toEqual(Array.from(js, bits));
+        compared += js.length;
+      }),
+      { numRuns: 400, seed: 31 },
+    );
+    expect(compared).toBeGreaterThan(1000);
   });
 });

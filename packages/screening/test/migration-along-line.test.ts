@@ -3,7 +3,7 @@ import { describe, expect, it } from 'vitest';
 import type { SliceGrid } from '@lamina/slices';
 import { alongLineMembers, cellResidual, distanceField, nearestLineLabels, reflectorsOf, sliceLoci, type Line } from '../src';
 import type { ScreenContext } from '../src/context';
-import { constantVelocity, feature, synthStack } from './synth';
+import { constantVelocity, feature, rng, synthStack } from './synth';
 
 const C = C_M_PER_NS;
 
@@ -84,7 +84,7 @@ describe('alongLineMembers', () => {
     // robust-score stand-in: values are already noise ~1 +- 0.5 plus 40 on the events
     stack.slices[0]!.values.forEach((v, i) => (scores[0]![i] = (v - 1) / 0.5));
     const labels = nearestLineLabels(grid, lines, 2);
-    const ms = alongLineMembers(stack, scores, new Map(), lines, labels, { threshold: 5, lowThreshold: 3, minCells: 6, minLengthM: 2, parallelToleranceDeg: 15, metresPerUnit: 1, firstId: 100 });
+    const ms = alongLineMembers(stack, scores, [], lines, labels, { threshold: 5, lowThreshold: 3, minCells: 6, minLengthM: 2, parallelToleranceDeg: 15, metresPerUnit: 1, firstId: 100 });
     // the strip under the middle line (x = 2) is one linear member along the line, about 16 m long;
     // the east-west band (0.6 m x 3 m) is cut by line and no piece is long along its line: none kept
     expect(ms.length).toBe(1);
@@ -92,7 +92,39 @@ describe('alongLineMembers', () => {
     expect(Math.abs(ms[0]!.x - 2)).toBeLessThan(0.3);
     expect(ms[0]!.id).toBe(100);
     // a strip already held by a main-stack member is not new
-    const taken = new Map([[0, new Set(ms[0]!.cells)]]);
+    const taken = [{ slice: 0, cells: ms[0]!.cells }];
     expect(alongLineMembers(stack, scores, taken, lines, labels, { threshold: 5, lowThreshold: 3, minCells: 6, minLengthM: 2, parallelToleranceDeg: 15, metresPerUnit: 1, firstId: 0 }).length).toBe(0);
+  });
+
+  it('a taken cell is as a cell under the growth threshold: the same strips as with the taken cells scored NaN', () => {
+    // events along and across the lines at random, in two slices; main-stack members take random boxes of them
+    const r = rng(5);
+    let found = 0, cut = 0;
+    for (let trial = 0; trial < 20; trial++) {
+      const bars = Array.from({ length: 6 }, () => ({ x0: r() * 3, x1: r() * 3, y0: r() * 20, y1: r() * 20 }));
+      const stack = synthStack(grid, [0.5, 1], 0.1, (x, y) => (bars.some((b) => x >= Math.min(b.x0, b.x1) && x <= Math.max(b.x0, b.x1) + 0.3 && y >= Math.min(b.y0, b.y1) && y <= Math.max(b.y0, b.y1)) ? 40 : 0), 3 + trial);
+      const scores = stack.slices.map((s) => Float32Array.from(s.values, (v) => (v - 1) / 0.5));
+      const labels = nearestLineLabels(grid, lines, 2);
+      const taken = Array.from({ length: 3 }, () => {
+        const slice = Math.floor(r() * 2), c0 = Math.floor(r() * 12), r0 = Math.floor(r() * 80);
+        const cells: number[] = [];
+        for (let row = r0; row < Math.min(80, r0 + 1 + Math.floor(r() * 30)); row++) for (let col = c0; col < Math.min(12, c0 + 1 + Math.floor(r() * 4)); col++) cells.push(row * 12 + col);
+        return { slice, cells: Int32Array.from(cells) };
+      });
+      const masked = scores.map((z, si) => {
+        const out = Float32Array.from(z);
+        for (const t of taken) if (t.slice === si) for (const k of t.cells) out[k] = Number.NaN;
+        return out;
+      });
+      const options = { threshold: 5, lowThreshold: 3, minCells: 6, minLengthM: 2, parallelToleranceDeg: 15, metresPerUnit: 1, firstId: 0 };
+      const cellsOf = (ms: { slice: number; cells: Int32Array }[]) => ms.map((m) => [m.slice, ...m.cells]);
+      const strips = alongLineMembers(stack, scores, taken, lines, labels, options);
+      expect(cellsOf(strips)).toEqual(cellsOf(alongLineMembers(stack, masked, [], lines, labels, options)));
+      found += strips.length;
+      cut += alongLineMembers(stack, scores, [], lines, labels, options).length - strips.length === 0 ? 0 : 1;
+    }
+    // strips found, and taken cells that changed them in some trials
+    expect(found).toBeGreaterThan(40);
+    expect(cut).toBeGreaterThan(0);
   });
 });

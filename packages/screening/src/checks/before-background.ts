@@ -2,6 +2,7 @@ import { medianHigh } from '@lamina/stats';
 import { locusOf, type ScreenContext } from '../context';
 import { WEIGHTS, type Evidence } from '../evidence';
 import type { MoveOutResult } from './move-out';
+import { wasmLocusBandMedian } from '../screen-wasm';
 
 /** Energy on the locus in the stack made before background removal (flat air events survive there). */
 export function beforeBackgroundEvidence(mo: MoveOutResult, ctx: ScreenContext, threshold: number): Evidence | undefined {
@@ -23,14 +24,10 @@ export function beforeBackgroundEvidence(mo: MoveOutResult, ctx: ScreenContext, 
       const r = (c / g.width) | 0, cc = c - r * g.width;
       c0 = Math.min(c0, cc); c1 = Math.max(c1, cc); r0 = Math.min(r0, r); r1 = Math.max(r1, r);
     }
-    const vals: number[] = [];
-    for (let r = Math.max(0, r0 - reach); r <= Math.min(g.height - 1, r1 + reach); r++)
-      for (let c = Math.max(0, c0 - reach); c <= Math.min(g.width - 1, c1 + reach); c++) {
-        const k = r * g.width + c;
-        if (Math.abs(field[k]! - l.radiusM) <= l.bandHalfM && Number.isFinite(sc[k]!)) vals.push(sc[k]!);
-      }
-    if (vals.length < 4) continue;
-    const med = medianHigh(vals);
+    const box = [Math.max(0, r0 - reach), Math.min(g.height - 1, r1 + reach), Math.max(0, c0 - reach), Math.min(g.width - 1, c1 + reach)] as const;
+    const band = wasmLocusBandMedian(field, sc, g.width, ...box, l.radiusM, l.bandHalfM) ?? locusBandMedian(field, sc, g.width, ...box, l.radiusM, l.bandHalfM);
+    if (band.count < 4) continue;
+    const med = band.median;
     const passed = med >= threshold;
     if (!best || (passed && !best.passed)) {
       best = {
@@ -48,4 +45,19 @@ export function beforeBackgroundEvidence(mo: MoveOutResult, ctx: ScreenContext, 
     }
   }
   return best;
+}
+
+/**
+ * The scores `sc` of the cells in rows r0..r1 and columns c0..c1 (a grid `width` wide) on the locus band
+ * (`field` within `bandHalfM` of `radiusM`) that are finite: their count and `medianHigh`. In
+ * JavaScript: where WebAssembly does not run (`wasmLocusBandMedian`), and its reference in the tests.
+ */
+export function locusBandMedian(field: Float32Array, sc: Float32Array, width: number, r0: number, r1: number, c0: number, c1: number, radiusM: number, bandHalfM: number): { count: number; median: number } {
+  const vals: number[] = [];
+  for (let r = r0; r <= r1; r++)
+    for (let c = c0; c <= c1; c++) {
+      const k = r * width + c;
+      if (Math.abs(field[k]! - radiusM) <= bandHalfM && Number.isFinite(sc[k]!)) vals.push(sc[k]!);
+    }
+  return { count: vals.length, median: medianHigh(vals) };
 }

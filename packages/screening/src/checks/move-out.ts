@@ -2,7 +2,7 @@ import type { Anomaly3D, Member } from '@lamina/anomalies';
 import { quantileSorted } from '@lamina/stats';
 import { locusOf, type ScreenContext } from '../context';
 import { WEIGHTS, type Evidence } from '../evidence';
-import { locusResidual } from '../locus-residual';
+import { locusResiduals } from '../locus-residual';
 import type { Reflector } from '../reflectors';
 
 /** What `fitMember` reads of a member: its cells and its slice. */
@@ -30,11 +30,7 @@ export const MAX_SAMPLES = 400;
  */
 function memberResiduals(m: MemberCells, refl: Reflector, field: Float32Array, radiusM: number, ctx: ScreenContext): Float64Array {
   const step = Math.max(1, Math.ceil(m.cells.length / MAX_SAMPLES));
-  const out = new Float64Array(Math.ceil(m.cells.length / step));
-  let n = 0;
-  const residual = locusResidual(refl, field, radiusM, ctx);
-  for (let i = 0; i < m.cells.length; i += step) out[n++] = residual(m.cells[i]!);
-  return out.subarray(0, n).sort();
+  return locusResiduals(refl, field, radiusM, ctx, m.cells, step).sort();
 }
 
 /** Member against one reflector's locus at the member's depth. */

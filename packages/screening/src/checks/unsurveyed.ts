@@ -5,6 +5,7 @@ import type { ScreenContext } from '../context';
 import { WEIGHTS, type Evidence } from '../evidence';
 import { MAX_SAMPLES } from './move-out';
 import { slope } from './slope';
+import { wasmPointModel } from '../screen-wasm';
 
 /** Cell centres of a member (site CRS), subsampled to at most MAX_SAMPLES. */
 function memberXY(m: Member, g: SliceGrid): { x: Float64Array; y: Float64Array } {
@@ -43,20 +44,7 @@ export function unsurveyedEvidence(a: Anomaly3D, ctx: ScreenContext): Evidence |
   let px = 0, py = 0, w = 0;
   for (const p of shallow) for (let i = 0; i < p.x.length; i++) { px += p.x[i]!; py += p.y[i]!; w++; }
   px /= w; py /= w;
-  for (let it = 0; it < 30; it++) {
-    let a11 = 0, a12 = 0, a22 = 0, b1 = 0, b2 = 0;
-    for (const p of pts) for (let i = 0; i < p.x.length; i++) {
-      const dx = px - p.x[i]!, dy = py - p.y[i]!;
-      const d = Math.hypot(dx, dy) || 1e-9;
-      const jx = dx / d, jy = dy / d, res = d - p.r;
-      a11 += jx * jx; a12 += jx * jy; a22 += jy * jy; b1 += jx * res; b2 += jy * res;
-    }
-    const det = a11 * a22 - a12 * a12;
-    if (!(Math.abs(det) > 1e-12)) break;
-    const sx = (a22 * b1 - a12 * b2) / det, sy = (a11 * b2 - a12 * b1) / det;
-    px -= sx; py -= sy;
-    if (Math.hypot(sx, sy) < 1e-6 * g.cellSize) break;
-  }
+  [px, py] = wasmPointModel(pts, px, py, g.cellSize) ?? pointModel(pts, px, py, g.cellSize);
   const perSlice = (dist: (x: number, y: number) => number) => {
     const zs: number[] = [], ds: number[] = [];
     let ss = 0, n = 0;
@@ -120,4 +108,28 @@ export function unsurveyedEvidence(a: Anomaly3D, ctx: ScreenContext): Evidence |
     e.detail += best.model === 'point' ? '; a post-like object must stand at the back-projected point' : '; a wall or edge must stand along the back-projected line';
   }
   return e;
+}
+
+/**
+ * The point model of `unsurveyedEvidence`: Gauss-Newton from (px, py) for the point whose distances to
+ * the cell centres best match their locus radii `r` (site units), at most 30 steps, stopping at a
+ * singular system or a step under 1e-6 cellSize. In JavaScript: where WebAssembly does not run
+ * (`wasmPointModel`), and its reference in the tests.
+ */
+export function pointModel(pts: readonly { x: Float64Array; y: Float64Array; r: number }[], px: number, py: number, cellSize: number): [number, number] {
+  for (let it = 0; it < 30; it++) {
+    let a11 = 0, a12 = 0, a22 = 0, b1 = 0, b2 = 0;
+    for (const p of pts) for (let i = 0; i < p.x.length; i++) {
+      const dx = px - p.x[i]!, dy = py - p.y[i]!;
+      const d = Math.hypot(dx, dy) || 1e-9;
+      const jx = dx / d, jy = dy / d, res = d - p.r;
+      a11 += jx * jx; a12 += jx * jy; a22 += jy * jy; b1 += jx * res; b2 += jy * res;
+    }
+    const det = a11 * a22 - a12 * a12;
+    if (!(Math.abs(det) > 1e-12)) break;
+    const sx = (a22 * b1 - a12 * b2) / det, sy = (a11 * b2 - a12 * b1) / det;
+    px -= sx; py -= sy;
+    if (Math.hypot(sx, sy) < 1e-6 * cellSize) break;
+  }
+  return [px, py];
 }
