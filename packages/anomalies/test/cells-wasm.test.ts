@@ -2,9 +2,7 @@ import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { wasmUnionOfCells } from '../src/cells-wasm';
 import { unionOfCellsInJs } from '../src/extract';
-
-/** Same numbers bit for bit (+0 and -0 differ, NaN equals NaN). */
-const bits = (x: number) => (Number.isNaN(x) ? 'NaN' : Object.is(x, -0) ? '-0' : String(x));
+import { bits } from '@lamina/test-utils';
 
 describe('cell-set kernels in WebAssembly (cells-wasm.ts)', () => {
   it('unionOfCells: the same cells and best scores as the JavaScript merges, for two members or more', () => {

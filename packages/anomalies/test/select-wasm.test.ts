@@ -3,6 +3,7 @@ import { describe, expect, it } from 'vitest';
 import { robustStats, robustStatsInJs } from '../src/normalise';
 import { fitNoiseLaw, validQuartilesInJs } from '../src/noise';
 import { validMedianMad, validQuantiles } from '../src/select-wasm';
+import { bits } from '@lamina/test-utils';
 
 const NODATA = -9999;
 
@@ -17,9 +18,6 @@ const slice = fc
     { minLength: 0, maxLength: 300 },
   )
   .map((v) => Float32Array.from(v));
-
-/** Same numbers bit for bit (so +0 and -0 differ, and NaN equals NaN). */
-const bits = (x: number) => (Number.isNaN(x) ? 'NaN' : Object.is(x, -0) ? '-0' : String(x));
 
 describe('selection kernels (WebAssembly) against the JavaScript selections of @lamina/stats', () => {
   it('median and MAD of the valid values: the same numbers bit for bit', () => {

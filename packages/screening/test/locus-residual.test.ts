@@ -6,9 +6,7 @@ import { cellResidual } from '../src';
 import type { ScreenContext } from '../src/context';
 import { locusResiduals, locusResidualsInJs } from '../src/locus-residual';
 import type { Reflector } from '../src/reflectors';
-
-/** Same numbers bit for bit (+0 and -0 differ). */
-const bits = (x: number) => (Object.is(x, -0) ? '-0' : String(x));
+import { bits } from '@lamina/test-utils';
 
 /** The residual as the formula reads: every element's Math.hypot distance from its locus, the least in magnitude (the first of equals). */
 function plainResidual(c: number, refl: Reflector, radiusM: number, ctx: ScreenContext): number {

@@ -4,9 +4,7 @@ import { locusBandMedian } from '../src/checks/before-background';
 import { lineStrips } from '../src/along-line';
 import { pointModel } from '../src/checks/unsurveyed';
 import { wasmLineStrips, wasmLocusBandMedian, wasmPointModel } from '../src/screen-wasm';
-
-/** Same numbers bit for bit (+0 and -0 differ, NaN equals NaN). */
-const bits = (x: number) => (Number.isNaN(x) ? 'NaN' : Object.is(x, -0) ? '-0' : String(x));
+import { bits } from '@lamina/test-utils';
 
 describe('the before-background locus band in WebAssembly (screen-wasm.ts)', () => {
   it('gathers the same scores and selects the same median as locusBandMedian in JavaScript', () => {
