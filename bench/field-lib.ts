@@ -8,7 +8,7 @@ import { basename, dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { scoreFolder } from '../packages/scoring/src/index';
 import { rng, simulateSite, type Scenario } from '../packages/simulate/src/index';
-import { airMeasure, emptyAirMeasure, excessDb, measureDb, type AirMeasure } from './air-measure';
+import { airMeasure, airSuppression, emptyAirMeasure, emptyAirSuppression, excessDb, measureDb, suppressionDb, type AirMeasure, type AirSuppression } from './air-measure';
 
 const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');
 
@@ -58,6 +58,8 @@ export interface FieldRow {
   air: AirMeasure;
   /** The same with `--keep-air-events` (the data as it was before the airEvents step), when asked for (`airBefore`). */
   airBefore: AirMeasure | null;
+  /** Issue 18's paired measure of the two runs (bench/air-measure.ts `airSuppression`), when asked for (`airBefore`). */
+  airSuppression: AirSuppression | null;
   /** Plan features left out of the site's plan (`unsurveyedShare`), by id. */
   unsurveyed?: string[];
   /** The scoring's figures of the `--keep-air-events` run, when asked for (`airBefore`). */
@@ -68,13 +70,13 @@ export interface FieldRow {
 
 /** The rows of a two-direction scene processed one direction at a time (`directions`), named by azimuth. */
 export function directionRows(r: FieldRow): FieldRow[] {
-  return (r.byDirection ?? []).map((d) => ({ ...r, ...d.scored, name: `${r.name} (${d.azimuthDeg} deg only)`, air: emptyAirMeasure(), airBefore: null, byDirection: undefined }));
+  return (r.byDirection ?? []).map((d) => ({ ...r, ...d.scored, name: `${r.name} (${d.azimuthDeg} deg only)`, air: emptyAirMeasure(), airBefore: null, airSuppression: null, byDirection: undefined }));
 }
 
 /** The row of a scene as it was with `--keep-air-events` (null without that run). */
 export function beforeRow(r: FieldRow): FieldRow | null {
   if (!r.scoredBefore || !r.airBefore) return r.error ? r : null;
-  return { ...r, ...r.scoredBefore, name: `${r.name} (kept)`, air: r.airBefore, airBefore: null };
+  return { ...r, ...r.scoredBefore, name: `${r.name} (kept)`, air: r.airBefore, airBefore: null, airSuppression: null };
 }
 
 export interface SceneRunOptions {
@@ -151,7 +153,7 @@ export function emptyRow(name: string, half: FieldRow['half'], seed: number | nu
     targets: 0, buriedTargets: 0, airTargets: 0, clutterTargets: 0, areaM2: 0, buriedAreaM2: 0, surveyedAreaM2: 0,
     utilitySurveyedM: 0, utilityCoveredM: 0, utilities: 0, piecesSum: 0, piecesUtilities: 0, piecesMax: 0,
     compactFound: 0, compacts: 0, onLocus: 0, onLocusFlagged: 0, real: 0, realFlagged: 0,
-    largestAreaM2: 0, largestDepthExtentM: 0, simulateS: 0, processS: 0, classes: {}, air: emptyAirMeasure(), airBefore: null,
+    largestAreaM2: 0, largestDepthExtentM: 0, simulateS: 0, processS: 0, classes: {}, air: emptyAirMeasure(), airBefore: null, airSuppression: null,
   };
 }
 
@@ -193,6 +195,7 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
       const q = processSite(siteDir, keptDir, options.threads ?? 2, ['--keep-air-events']);
       if (q.status !== 0) throw new Error(`lamina process --keep-air-events exited ${q.status}: ${(q.stderr || q.stdout).trim().split('\n').slice(-3).join(' | ')}`);
       row.airBefore = await airMeasure(keptDir, join(siteDir, 'truth.json'));
+      row.airSuppression = await airSuppression(keptDir, outDir, join(siteDir, 'truth.json'));
       row.scoredBefore = scored(keptDir, join(siteDir, 'truth.json'));
     }
     const dirs = options.directions ? lineDirections(siteDir) : [];
@@ -284,6 +287,8 @@ export interface Pooled {
   /** New (issue 18): the air measure pooled (sums over the scenes' cells); `airBefore` over the scenes that have it. */
   air: AirMeasure;
   airBefore: AirMeasure | null;
+  /** Issue 18's paired measure summed over the scenes that have it. */
+  airSuppression: AirSuppression | null;
 }
 
 const ratio = (a: number, b: number): number | null => (b > 0 ? a / b : null);
@@ -316,6 +321,7 @@ export function pool(name: string, rows: FieldRow[]): Pooled {
     classes: sumClasses(ok),
     air: sumAir(ok.map((r) => r.air)),
     airBefore: ok.some((r) => r.airBefore) ? sumAir(ok.map((r) => r.airBefore).filter((a): a is AirMeasure => a !== null)) : null,
+    airSuppression: ok.some((r) => r.airSuppression) ? sumSuppression(ok.map((r) => r.airSuppression).filter((a): a is AirSuppression => a !== null)) : null,
   };
 }
 
@@ -330,6 +336,20 @@ function sumAir(ms: AirMeasure[]): AirMeasure {
     o.restCells += m.restCells;
   }
   return o;
+}
+
+function sumSuppression(ms: AirSuppression[]): AirSuppression {
+  const o = emptyAirSuppression();
+  for (const m of ms) for (const k of Object.keys(o) as (keyof AirSuppression)[]) o[k] += m[k];
+  return o;
+}
+
+/** Issue 18's paired columns: energy above the background taken out on the counted locus and buried cells, dB (`-` without the before run). */
+function suppressionCells(p: Pooled): [string, string] {
+  const s = p.airSuppression;
+  if (!s) return ['-', '-'];
+  const db = (v: number | null) => (v === Infinity ? 'all' : fx(v));
+  return [db(suppressionDb(s.locusBefore, s.locusAfter, s.locusCells)), db(suppressionDb(s.buriedBefore, s.buriedAfter, s.buriedCells))];
 }
 
 /** The air measure's columns: dB over the background on the loci and on buried objects, `before>after` when the before run exists. */
@@ -369,7 +389,7 @@ const pct = (v: number | null) => (v === null ? '-' : `${(100 * v).toFixed(1)}`)
 const fx = (v: number | null, d = 1) => (v === null || !Number.isFinite(v) ? '-' : v.toFixed(d));
 
 export const TABLE_HEADER = [
-  'scene', 'K true', 'K fit', 'K err%', 'Kobj|err|%', 'invis', 'tgts', 'prec#%', 'precA%', 'clut/100m2', 'air%', 'util%', 'pcs', 'pcsMax', 'cmp%', 'airflag%', 'realflag%', 'largest m2', 'largest dz', 'locus dB', 'locus+ dB', 'buried dB', 'sim s', 'proc s',
+  'scene', 'K true', 'K fit', 'K err%', 'Kobj|err|%', 'invis', 'tgts', 'prec#%', 'precA%', 'clut/100m2', 'air%', 'util%', 'pcs', 'pcsMax', 'cmp%', 'airflag%', 'realflag%', 'largest m2', 'largest dz', 'locus dB', 'locus+ dB', 'buried dB', 'locus cut dB', 'buried cut dB', 'sim s', 'proc s',
 ];
 
 /** One table line: a scene (with its K and times) or a pooled row (K as mean |error|). */
@@ -396,6 +416,7 @@ export function tableLine(p: Pooled, scene?: FieldRow): string[] {
     fx(p.largestAreaM2),
     fx(p.largestDepthExtentM, 2),
     ...airCells(p),
+    ...suppressionCells(p),
     scene ? fx(scene.simulateS) : '',
     scene ? fx(scene.processS) : '',
   ];

@@ -5,6 +5,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { randomScenario } from '@lamina/simulate';
+import { airSuppression, suppressionDb } from '../bench/air-measure';
 import { parseSeeds, pool, runScene } from '../bench/field-lib';
 
 const work = mkdtempSync(join(tmpdir(), 'lamina-field-smoke-'));
@@ -13,7 +14,7 @@ afterAll(() => rmSync(work, { recursive: true, force: true }));
 describe('pnpm bench field (smoke)', () => {
   it('scores two tiny scenes and pools them by summing', async () => {
     const rows = [];
-    for (const seed of [1, 2]) rows.push(await runScene(randomScenario(seed, { sideM: [5, 6], maxTraces: 1200 }), work, seed % 2 ? 'tune' : 'held-out', seed, { threads: 1 }));
+    for (const seed of [1, 2]) rows.push(await runScene(randomScenario(seed, { sideM: [5, 6], maxTraces: 1200 }), work, seed % 2 ? 'tune' : 'held-out', seed, { threads: 1, keep: true }));
     for (const r of rows) {
       expect(r.error).toBeNull();
       expect(r.kFitted === null || r.kFitted > 0).toBe(true);
@@ -25,6 +26,18 @@ describe('pnpm bench field (smoke)', () => {
     expect(p.targets).toBe(rows[0]!.targets + rows[1]!.targets);
     if (p.targets) expect(p.precisionByCount).toBeCloseTo((rows[0]!.buriedTargets + rows[1]!.buriedTargets) / p.targets, 12);
     expect(p.utilityRecall).toBeCloseTo((rows[0]!.utilityCoveredM + rows[1]!.utilityCoveredM) / (rows[0]!.utilitySurveyedM + rows[1]!.utilitySurveyedM), 12);
+    // issue 18's paired measure: a run against itself (a step that changed nothing) reads 0 dB
+    for (const r of rows) {
+      const s = await airSuppression(join(work, `${r.name}-out`), join(work, `${r.name}-out`), join(work, `${r.name}-site`, 'truth.json'));
+      expect(s).not.toBeNull();
+      expect(s!.locusAfter).toBe(s!.locusBefore);
+      expect(s!.buriedAfter).toBe(s!.buriedBefore);
+      expect(s!.buriedCells).toBeGreaterThan(0);
+      expect(suppressionDb(s!.buriedBefore, s!.buriedAfter, s!.buriedCells)).toBe(0);
+    }
+    expect(suppressionDb(10, 1, 5)).toBeCloseTo(10, 12);
+    expect(suppressionDb(10, 0, 5)).toBe(Infinity);
+    expect(suppressionDb(0, 0, 0)).toBeNull();
     expect(parseSeeds('1-3,8')).toEqual([1, 2, 3, 8]);
     expect(parseSeeds('1-9/2,12')).toEqual([1, 3, 5, 7, 9, 12]);
   });
