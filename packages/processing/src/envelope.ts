@@ -183,9 +183,17 @@ export function envelope(line: RadarLine, options: { padTo?: number } = {}, out?
  * the same numbers. A view of the kernels' memory, valid until their next layout.
  */
 export function lineEnvelopes(kernels: LineKernels, data: Float32Array, nTraces: number, nSamples: number, n: number): Float64Array {
+  return kernels.f64(lineEnvelopesAt(kernels, data, nTraces, nSamples, n).env, nTraces * nSamples);
+}
+
+/**
+ * `lineEnvelopes`, left in the kernels' memory for a kernel that reads them next: the offsets of the line
+ * (float32, as copied in) and of its envelopes (float64), valid until the next layout (`append` keeps them).
+ */
+export function lineEnvelopesAt(kernels: LineKernels, data: Float32Array, nTraces: number, nSamples: number, n: number): { data: number; env: number } {
   const [d, o, plan, a, b, c, w] = kernels.layout(4 * nTraces * nSamples, 8 * nTraces * nSamples, fftPlanBytes(n), 16 * n, 16 * n, 16 * n, 16 * n);
   kernels.f32(d, nTraces * nSamples).set(data.subarray(0, nTraces * nSamples));
   writeFftPlan(kernels, n, plan);
   kernels.k.envelopeLine(d, o, nTraces, nSamples, n, plan, a, b, c, w);
-  return kernels.f64(o, nTraces * nSamples);
+  return { data: d, env: o };
 }

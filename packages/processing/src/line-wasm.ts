@@ -18,6 +18,7 @@ export interface LineKernelExports {
   dewowLine(data: number, out: number, nTraces: number, n: number, h: number, cum: number): void;
   subtractMeanTrace(data: number, out: number, nTraces: number, n: number, sum: number): void;
   resampleLine(data: number, out: number, nTraces: number, nSamples: number, src: number, tap: number, wt: number, k0: number): void;
+  pickLine(env: number, data: number, nTraces: number, n: number, from: number, to: number, pick: number, threshold: number, span: number, h: number, out: number): void;
   shiftLine(src: number, dst: number, nTraces: number, n: number, whole: number, w: number, exact: number): void;
   stoltTime(plain: number, plainFrom: number, nm: number, nt: number, nTraces: number, nSamples: number, nodes: number, nNodes: number, plan: number, full: number, b: number, c: number, acc: number, out: number): void;
 }

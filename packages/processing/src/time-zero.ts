@@ -2,7 +2,7 @@ import type { RadarLine } from '@lamina/radar-data';
 import { C_M_PER_NS } from '@lamina/constants';
 import { InputError } from '@lamina/errors';
 import { runningMedian } from '@lamina/stats';
-import { hilbertEnvelopePair, hilbertWorkspace, lineEnvelopes } from './envelope';
+import { hilbertEnvelopePair, hilbertWorkspace, lineEnvelopesAt } from './envelope';
 import { nextPow2 } from './fft';
 import { medianOf, outputFor, withData } from './line-util';
 import { lineKernels, type LineKernels } from './line-wasm';
@@ -212,24 +212,29 @@ export function timeZero(line: RadarLine, options: TimeZeroOptions, out?: Float3
   const levels = new Float64Array(nt);
   // one options object, its trace swapped per call (not a spread per trace)
   const opts: Parameters<typeof pickFirstArrival>[1] = { threshold, pick, periodSamples: period / dtNs, from, to, trace: line.data };
-  const envAt = (e: Float64Array, pNs: number) => (Number.isFinite(pNs) ? (e[Math.min(ns - 1, Math.max(0, Math.round(pNs / dtNs)))] as number) : Number.NaN);
+  // the envelope at pick pNs of the trace at offset o of e
+  const envAt = (e: Float64Array, o: number, pNs: number) => (Number.isFinite(pNs) ? (e[o + Math.min(ns - 1, Math.max(0, Math.round(pNs / dtNs)))] as number) : Number.NaN);
   const kernels = lineKernels();
-  // the line's envelopes at once in the kernels (the same pairs, the same numbers; a view read before any other kernel runs)
-  const all = kernels ? lineEnvelopes(kernels, line.data, nt, ns, ws.n) : undefined;
-  for (let t = 0; t < nt; t += 2) {
-    const tr = line.data.subarray(t * ns, (t + 1) * ns);
-    const trB = t + 1 < nt ? line.data.subarray((t + 1) * ns, (t + 2) * ns) : undefined;
-    if (all) {
-      env.set(all.subarray(t * ns, (t + 1) * ns));
-      if (trB) envB.set(all.subarray((t + 1) * ns, (t + 2) * ns));
-    } else hilbertEnvelopePair(tr, trB, ws, env, envB);
-    opts.trace = tr;
-    picksNs[t] = pickFirstArrival(env, opts) * dtNs;
-    levels[t] = envAt(env, picksNs[t] as number);
-    if (trB) {
-      opts.trace = trB;
-      picksNs[t + 1] = pickFirstArrival(envB, opts) * dtNs;
-      levels[t + 1] = envAt(envB, picksNs[t + 1] as number);
+  // the line's envelopes and picks at once in the kernels (the same pairs, the same numbers)
+  const inKernels = kernels && Number.isFinite(opts.periodSamples) ? linePicksWasm(kernels, line.data, nt, ns, ws.n, opts) : undefined;
+  if (inKernels) {
+    for (let t = 0; t < nt; t++) {
+      picksNs[t] = (inKernels.picks[t] as number) * dtNs;
+      levels[t] = envAt(inKernels.env, t * ns, picksNs[t] as number);
+    }
+  } else {
+    for (let t = 0; t < nt; t += 2) {
+      const tr = line.data.subarray(t * ns, (t + 1) * ns);
+      const trB = t + 1 < nt ? line.data.subarray((t + 1) * ns, (t + 2) * ns) : undefined;
+      hilbertEnvelopePair(tr, trB, ws, env, envB);
+      opts.trace = tr;
+      picksNs[t] = pickFirstArrival(env, opts) * dtNs;
+      levels[t] = envAt(env, 0, picksNs[t] as number);
+      if (trB) {
+        opts.trace = trB;
+        picksNs[t + 1] = pickFirstArrival(envB, opts) * dtNs;
+        levels[t + 1] = envAt(envB, 0, picksNs[t + 1] as number);
+      }
     }
   }
   if (!picksNs.some(Number.isFinite)) {
@@ -293,6 +298,50 @@ export function timeZero(line: RadarLine, options: TimeZeroOptions, out?: Float3
   else for (let t = 0; t < nt; t++) shiftTrace(src.subarray(t * ns, (t + 1) * ns), shifts[t] as number, dst.subarray(t * ns, (t + 1) * ns));
   const timeZeroNs = pickNs - (options.separationM ?? 0) / C_M_PER_NS;
   return { line: withData(line, dst, timeZeroNs), picksNs, usedNs, shiftsNs, pickNs, timeZeroNs, replaced };
+}
+
+const PICK_CODES: Record<TimeZeroPick, number> = { onset: 0, firstPeak: 1, peak: 2 };
+
+/**
+ * The envelopes of a line (`lineEnvelopesAt`) and `pickFirstArrival` of every trace on them (each trace's
+ * own threshold; no `level`) in the line kernels (`pickLine`): the same operations, so the same picks.
+ * Returns the picks (samples) and a view of the envelopes (trace-major), valid until the next layout.
+ */
+export function linePicksWasm(
+  kernels: LineKernels,
+  data: Float32Array,
+  nTraces: number,
+  nSamples: number,
+  n: number,
+  options: { threshold: number; pick: TimeZeroPick; periodSamples: number; from?: number; to?: number },
+): { picks: Float64Array; env: Float64Array } {
+  const at = lineEnvelopesAt(kernels, data, nTraces, nSamples, n);
+  return { picks: pickLineWasm(kernels, at, nTraces, nSamples, options), env: kernels.f64(at.env, nTraces * nSamples) };
+}
+
+/**
+ * `pickFirstArrival` of every trace (no `level`) in the line kernels (`pickLine`), on a line (float32) and
+ * its envelopes (float64) at `at` in their memory, both trace-major: the picks, samples.
+ * `options.periodSamples` must be finite.
+ */
+export function pickLineWasm(
+  kernels: LineKernels,
+  at: { data: number; env: number },
+  nTraces: number,
+  nSamples: number,
+  options: { threshold: number; pick: TimeZeroPick; periodSamples: number; from?: number; to?: number },
+): Float64Array {
+  const [out] = kernels.append(8 * nTraces);
+  // the search range in [0, nSamples] (an empty or NaN range stays empty), the roundings as the JavaScript
+  // makes them, capped where they reach past the trace either way (int32 for the kernel)
+  const from = Math.max(0, options.from ?? 0);
+  const to = Math.min(nSamples, options.to ?? nSamples);
+  const [lo, hi] = from < to ? [from, to] : [0, 0];
+  const cap = (v: number) => Math.min(nSamples + 1, v);
+  const span = cap(Math.max(2, Math.round(options.periodSamples)));
+  const h = cap(Math.max(1, Math.round(options.periodSamples / 10)));
+  kernels.k.pickLine(at.env, at.data, nTraces, nSamples, lo, hi, PICK_CODES[options.pick] ?? 2, options.threshold, span, h, out);
+  return kernels.f64(out, nTraces).slice();
 }
 
 /**

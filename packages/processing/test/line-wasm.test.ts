@@ -7,6 +7,7 @@ import { readFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
+import { bits } from '@lamina/test-utils';
 import { butterworthSos } from '../src/butterworth';
 import { zeroPhaseJs, zeroPhaseWasm } from '../src/bandpass';
 import { backgroundRemoval, movingMedianJs, movingMedianWasm } from '../src/background';
@@ -16,7 +17,7 @@ import { useKernels } from '../src/wasm-kernels';
 import { stoltKernel, type StoltKernelOptions } from '../src/stolt';
 import { envelope } from '../src/envelope';
 import { bistaticResample, passThroughBack } from '../src/fk';
-import { shiftLineWasm, shiftTrace, timeZero } from '../src/time-zero';
+import { pickFirstArrival, pickLineWasm, shiftLineWasm, shiftTrace, timeZero, type TimeZeroPick } from '../src/time-zero';
 import { addNoise, addRicker, makeLine } from './synth';
 import { rng } from './synth';
 
@@ -221,6 +222,70 @@ describe('shiftLine (time-zero shifts of a line)', () => {
     expect([...wasm.picksNs]).toEqual([...js.picksNs]);
     expect([...wasm.shiftsNs]).toEqual([...js.shiftsNs]);
   });
+});
+
+describe('pickLine (time-zero\'s first-arrival picks)', () => {
+  // envelopes with ties (integer levels), zeros of both signs, NaN, infinities, negative values (any
+  // array, not only an envelope), dead traces; traces with ties and NaN
+  const nTraces = 14;
+  const nSamples = 90;
+  const env = Float64Array.from(randomLine(31, nTraces * nSamples, { levels: 4, zeros: 0.2, negZeros: 0.05, nans: 0.01 }), (v) => (v < -3 ? -v : v));
+  env.fill(0, 0, nSamples);
+  env.fill(NaN, nSamples, 2 * nSamples);
+  env[2 * nSamples + 40] = Infinity;
+  env.fill(-0, 3 * nSamples, 4 * nSamples);
+  env.fill(2, 4 * nSamples, 5 * nSamples);
+  for (let i = 0; i < nSamples; i++) env[5 * nSamples + i] = i === nSamples - 1 ? 9 : 1;
+  // a peak whose neighbours lie at exactly half of it
+  env.fill(0, 6 * nSamples, 7 * nSamples).set([1, 2, 1, 1], 6 * nSamples + 40);
+  const data = randomLine(32, nTraces * nSamples, { levels: 3, zeros: 0.1, negZeros: 0.1, nans: 0.01 });
+  // firstPeak on a window of zeros (+0, then -0) after the crossing, signal just before it: a parabola
+  // with no sign to compare
+  for (const [t, zero] of [[7, 0], [8, -0]] as const) {
+    env.fill(0, t * nSamples, (t + 1) * nSamples).fill(1, t * nSamples + 40, t * nSamples + 70);
+    data.fill(zero, t * nSamples, (t + 1) * nSamples).set([5, 5], t * nSamples + 38);
+  }
+  // firstPeak beside NaN: a parabola of NaN
+  env.fill(0, 9 * nSamples, 10 * nSamples).fill(1, 9 * nSamples + 40, 9 * nSamples + 70);
+  data.fill(0, 9 * nSamples, 10 * nSamples).set([7, NaN], 9 * nSamples + 42);
+  const picks: TimeZeroPick[] = ['onset', 'firstPeak', 'peak'];
+  const settings = [
+    { threshold: 0.25, periodSamples: 25 },
+    { threshold: 0.5, periodSamples: 7.5, from: 10, to: 50 },
+    { threshold: 1.5, periodSamples: 0.3, from: -5, to: 1e9 },
+    { threshold: 0.9, periodSamples: 1e6, from: nSamples - 3 },
+    { threshold: 0.25, periodSamples: 25, from: 30, to: 30 },
+    { threshold: 0.25, periodSamples: 25, from: 60, to: 20 },
+    { threshold: 0.25, periodSamples: 4.5, from: NaN },
+    { threshold: 0, periodSamples: 12, to: nSamples - 1 },
+    { threshold: NaN, periodSamples: 12 },
+  ];
+  for (const pick of picks) {
+    for (const [i, o] of settings.entries()) {
+      it(`pickFirstArrival's bits: ${pick}, setting ${i}`, () => {
+        const [d, e] = K.layout(4 * data.length, 8 * env.length);
+        K.f32(d, data.length).set(data);
+        K.f64(e, env.length).set(env);
+        const wasm = pickLineWasm(K, { data: d, env: e }, nTraces, nSamples, { ...o, pick });
+        const js = Array.from({ length: nTraces }, (_, t) =>
+          pickFirstArrival(env.subarray(t * nSamples, (t + 1) * nSamples), { ...o, pick, trace: data.subarray(t * nSamples, (t + 1) * nSamples) }),
+        );
+        expect([...wasm].map(bits)).toEqual(js.map(bits));
+      });
+    }
+  }
+
+  for (const pick of picks) {
+    it(`timeZero gives the same line, picks and shifts with the kernels: ${pick}, a search window`, () => {
+      const line = makeLine(40, 200, 0.1, 0.05);
+      for (let t = 0; t < line.nTraces; t++) addRicker(line, t, 5 + 0.3 * Math.sin(t / 7), 1, 400);
+      addNoise(line, 0.02, 19);
+      const [js, wasm] = bothPaths(() => timeZero(line, { frequencyMHz: 400, pick, searchNs: [1, 15] }));
+      expect(sameBits(wasm.line.data, js.line.data)).toBe(true);
+      expect([...wasm.picksNs].map(bits)).toEqual([...js.picksNs].map(bits));
+      expect([...wasm.shiftsNs].map(bits)).toEqual([...js.shiftsNs].map(bits));
+    });
+  }
 });
 
 describe('resampleLine (bistatic to zero-offset time and back)', () => {

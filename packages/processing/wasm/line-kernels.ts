@@ -204,7 +204,7 @@ export function subtractBackground(data: usize, out: usize, nTraces: i32, nSampl
 }
 
 export { fkTraces, fkColumns, rotateBins, stoltInterpolate, stoltAcross, stoltTime } from './stolt';
-export { dewowLine, envelopeLine, resampleLine, shiftLine, subtractMeanTrace } from './trace-ops';
+export { dewowLine, envelopeLine, pickLine, resampleLine, shiftLine, subtractMeanTrace } from './trace-ops';
 
 /** Where the module's own static data ends: arrays laid out from JavaScript start at or after it. */
 export function heapBase(): usize {

@@ -1,6 +1,6 @@
-// Per-trace operations of a whole line as line kernels: the envelope (`envelope`, ../src/envelope.ts) and
-// time-zero's sub-sample shift (`shiftTrace`, ../src/time-zero.ts), the JavaScript's operations in the
-// same order, so the same numbers.
+// Per-trace operations of a whole line as line kernels: the envelope (`envelope`, ../src/envelope.ts),
+// time-zero's first-arrival picks (`pickFirstArrival`) and sub-sample shift (`shiftTrace`, ../src/time-zero.ts),
+// the JavaScript's operations in the same order, so the same numbers.
 import { envelopePair, hilbertMul } from './fft-kernels';
 import { runPlan } from './fft-run';
 
@@ -28,6 +28,91 @@ export function envelopeLine(data: usize, out: usize, nTraces: i32, nSamples: i3
       if (two) store<f64>(o + (<usize>(nSamples + i) << 3), load<f64>(d + (<usize>(2 * i + 1) << 3)));
     }
   }
+}
+
+/** Sample i of the float64 trace at p (n samples), NaN past its end: what JavaScript reads there (undefined) counts as. */
+@inline function envAt(p: usize, i: i32, n: i32): f64 {
+  return i < n ? load<f64>(p + (<usize>i << 3)) : NaN;
+}
+
+/** Sample i of the float32 trace at p (n samples) as float64, NaN past its end. */
+@inline function traceAt(p: usize, i: i32, n: i32): f64 {
+  return i < n ? <f64>load<f32>(p + (<usize>i << 2)) : NaN;
+}
+
+/**
+ * `pickFirstArrival` (../src/time-zero.ts) of each trace t, its float64 envelope at env and float32
+ * samples at data (n samples a trace), searched in [from, to) (0 <= from, to <= n), into out[t]
+ * (float64, samples; NaN for a dead trace). pick: 0 `onset`, 1 `firstPeak`, 2 `peak`; span is
+ * max(2, round(periodSamples)), h the parabola's half width max(1, round(periodSamples / 10)), as the
+ * JavaScript rounds them.
+ */
+export function pickLine(env: usize, data: usize, nTraces: i32, n: i32, from: i32, to: i32, pick: i32, threshold: f64, span: i32, h: i32, out: usize): void {
+  for (let t = 0; t < nTraces; t++) {
+    const e = env + (<usize>(t * n) << 3);
+    const x = data + (<usize>(t * n) << 2);
+    store<f64>(out + (<usize>t << 3), pickTrace(e, x, n, from, to, pick, threshold, span, h));
+  }
+}
+
+function pickTrace(env: usize, x: usize, n: i32, from: i32, to: i32, pick: i32, threshold: f64, span: i32, h: i32): f64 {
+  let top: f64 = 0;
+  for (let i = from; i < to; i++) {
+    const e = envAt(env, i, n);
+    if (e > top) top = e;
+  }
+  if (!(top > 0) || !isFinite(top)) return NaN;
+  const thr = threshold * top;
+  let c = from;
+  while (c < to && envAt(env, c, n) < thr) c++;
+  if (pick == 0) {
+    if (c == from) return <f64>c;
+    const e0 = envAt(env, c - 1, n);
+    const e1 = envAt(env, c, n);
+    let d = e1 - e0;
+    // JavaScript's `|| 1`: 0, -0 and NaN are falsy
+    if (d == 0 || isNaN(d)) d = 1;
+    return <f64>(c - 1) + (thr - e0) / d;
+  }
+  const end = min(to, c + span + 1);
+  if (pick == 1) {
+    let j = c;
+    for (let i = c; i < end; i++) if (Math.abs(traceAt(x, i, n)) > Math.abs(traceAt(x, j, n))) j = i;
+    if (j - h >= 0 && j + h < n) {
+      let s0: f64 = 0, s2: f64 = 0, s4: f64 = 0, sy: f64 = 0, suy: f64 = 0, su2y: f64 = 0;
+      for (let k = -h; k <= h; k++) {
+        const u = <f64>k;
+        const y = traceAt(x, j + k, n);
+        s0 += 1;
+        s2 += u * u;
+        s4 += u * u * u * u;
+        sy += y;
+        suy += u * y;
+        su2y += u * u * y;
+      }
+      const b = suy / s2;
+      const cc = (s0 * su2y - s2 * sy) / (s0 * s4 - s2 * s2);
+      const xj = traceAt(x, j, n);
+      // Math.sign(cc) === -Math.sign(x[j]), cc !== 0
+      if (cc != 0 && ((cc > 0 && xj < 0) || (cc < 0 && xj > 0))) return <f64>j + max(-1.0, min(1.0, -b / (2 * cc)));
+    }
+    return <f64>j;
+  }
+  let k = c;
+  for (let i = c; i < end; i++) if (envAt(env, i, n) > envAt(env, k, n)) k = i;
+  const half = 0.5 * envAt(env, k, n);
+  let a = k;
+  while (a > from && envAt(env, a - 1, n) > half) a--;
+  let b = k;
+  while (b < to - 1 && envAt(env, b + 1, n) > half) b++;
+  let sw: f64 = 0;
+  let swi: f64 = 0;
+  for (let i = a; i <= b; i++) {
+    const w = envAt(env, i, n) - half;
+    sw += w;
+    swi += w * <f64>i;
+  }
+  return sw > 0 ? swi / sw : <f64>k;
 }
 
 /**
