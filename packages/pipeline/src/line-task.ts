@@ -1,6 +1,6 @@
 import type { RadarLine } from '@lamina/radar-data';
 import { InputError } from '@lamina/errors';
-import { loadSite, readLine, pointToWgs84, shownPath, type LineSource, type Site } from '@lamina/site';
+import { loadSite, readLine, shownPath, type LineSource, type Site } from '@lamina/site';
 import { alongTrackM, defaultRecipe, envelope, parseRecipe, runRecipe, withoutAirEvents, type AirObjects, type Recipe, type RecipeLogEntry, type Step } from '@lamina/processing';
 import { EARLY_APEX_FLAG, fitManualPicks, lineDirection, lineHyperbolas, recipeForVelocity, sampleDepths, type HyperbolaFit, type ManualHyperbola, type VelocityModel } from '@lamina/velocity';
 import { traceSliceValues, type SliceWindow } from '@lamina/slices';
@@ -237,7 +237,7 @@ async function pass1Rest(task: Pass1Task, s: Site, src: LineSource, whole: Radar
   }
   for (const p of task.picks ?? []) fits.push(fitManualPicks(line, p.hyperbola, task.picksFile ?? 'picks.json', p.index, { separationM: s.antenna.separationM, metresPerUnit: s.crs.metresPerUnit }));
   times['pass 1 hyperbolas'] = performance.now() - t0;
-  const radargramEntry = await timed(times, 'pass 1 radargram', () => writeRadargram(task.stageDir, line, (x, y) => pointToWgs84(s.crs, x, y)));
+  const radargramEntry = await timed(times, 'pass 1 radargram', () => writeRadargram(task.stageDir, line));
   return {
     times,
     summary: summariseLine(line, src.relFile, s.crs.metresPerUnit),

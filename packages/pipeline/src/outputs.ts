@@ -3,7 +3,7 @@ import { mkdir, open, readFile, rm } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { LineProperties, RadargramLine } from '@lamina/contracts';
 import type { RadarLine } from '@lamina/radar-data';
-import type { Geometry, PlanFeature, Site } from '@lamina/site';
+import { pointToWgs84, type Crs, type Geometry, type PlanFeature, type Site } from '@lamina/site';
 
 export type ToWgs84 = (x: number, y: number) => [number, number];
 
@@ -89,49 +89,77 @@ export type RadargramEntry = RadargramLine;
 
 /**
  * Write a display radargram: little-endian Float32, trace-major, every `traceStep`-th trace, and its
- * index entry (positions of the kept traces) as JSON beside it; returns the entry's file, relative to
- * `dir`, for `writeRadargramIndex`. Entries go to disk so that no per-trace data waits in memory.
+ * index entry as JSON beside it, without the kept traces' WGS84 positions (`lon`, `lat`), which
+ * `writeRadargramIndex` adds; returns the entry's file, relative to `dir`. Entries go to disk so that no
+ * per-trace data waits in memory.
  */
-export async function writeRadargram(dir: string, line: RadarLine, toWgs84: ToWgs84, maxTraces = 1500): Promise<string> {
+export async function writeRadargram(dir: string, line: RadarLine, maxTraces = 1500): Promise<string> {
   // Synchronous writes: this runs on a line worker, which has nothing else to do meanwhile, and each step
   // of an asynchronous write waits for a turn of the process-wide file thread pool (measured: most of
   // the part's time when the cores are busy).
   mkdirSync(join(dir, 'radargrams'), { recursive: true });
   const step = Math.max(1, Math.ceil(line.nTraces / maxTraces));
   const n = Math.ceil(line.nTraces / step);
-  const out = new Float32Array(n * line.nSamples);
-  const x: number[] = [], y: number[] = [], lon: number[] = [], lat: number[] = [];
+  // every trace kept: the line's own samples, not a copy
+  const out = step === 1 ? line.data.subarray(0, n * line.nSamples) : new Float32Array(n * line.nSamples);
+  const x: number[] = [], y: number[] = [];
   for (let k = 0; k < n; k++) {
     const t = k * step;
-    out.set(line.data.subarray(t * line.nSamples, (t + 1) * line.nSamples), k * line.nSamples);
+    if (step > 1) out.set(line.data.subarray(t * line.nSamples, (t + 1) * line.nSamples), k * line.nSamples);
     x.push(line.x[t]!);
     y.push(line.y[t]!);
-    const [lo, la] = toWgs84(line.x[t]!, line.y[t]!);
-    lon.push(round(lo, 8));
-    lat.push(round(la, 8));
   }
-  const bytes = new Uint8Array(out.buffer);
+  const bytes = new Uint8Array(out.buffer, out.byteOffset, out.byteLength);
   if (!littleEndianHost()) throw new Error('big-endian hosts are not supported for radargram output');
   const file = `radargrams/${safeName(line.id)}.f32`;
   writeFileSync(join(dir, file), bytes);
-  const entry: RadargramEntry = { id: line.id, file, nTraces: n, nSamples: line.nSamples, dtNs: line.dtNs, timeZeroNs: line.timeZeroNs, traceStep: step, x, y, lon, lat };
+  const entry: Omit<RadargramEntry, 'lon' | 'lat'> = { id: line.id, file, nTraces: n, nSamples: line.nSamples, dtNs: line.dtNs, timeZeroNs: line.timeZeroNs, traceStep: step, x, y };
   const entryFile = `radargrams/${safeName(line.id)}.entry.json`;
   writeFileSync(join(dir, entryFile), JSON.stringify(entry));
   return entryFile;
 }
 
-/** `radargrams/index.json` (`{ lines: RadargramEntry[] }`) from the entry files, in order, streamed; the entry files are deleted. */
-export async function writeRadargramIndex(dir: string, entryFiles: string[]): Promise<void> {
+/**
+ * `radargrams/index.json` (`{ lines: RadargramEntry[] }`) from the entry files of `writeRadargram`, in
+ * order, streamed, each with its traces' WGS84 positions added (its numbers read back as written: JSON
+ * gives the same doubles); the entry files are deleted.
+ */
+export async function writeRadargramIndex(dir: string, entryFiles: string[], toWgs84: ToWgs84): Promise<void> {
   await mkdir(join(dir, 'radargrams'), { recursive: true });
   const out = await textFile(join(dir, 'radargrams', 'index.json'));
   try {
     await out.write('{"lines":[');
-    for (let i = 0; i < entryFiles.length; i++) await out.write((i > 0 ? ',\n' : '\n') + (await readFile(join(dir, entryFiles[i]!), 'utf8')));
+    for (let i = 0; i < entryFiles.length; i++) {
+      const e = JSON.parse(await readFile(join(dir, entryFiles[i]!), 'utf8')) as Omit<RadargramEntry, 'lon' | 'lat'>;
+      const lon: number[] = [], lat: number[] = [];
+      for (let k = 0; k < e.x.length; k++) {
+        const [lo, la] = toWgs84(e.x[k]!, e.y[k]!);
+        lon.push(round(lo, 8));
+        lat.push(round(la, 8));
+      }
+      const entry: RadargramEntry = { ...e, lon, lat };
+      await out.write((i > 0 ? ',\n' : '\n') + JSON.stringify(entry));
+    }
     await out.write('\n]}\n');
   } finally {
     await out.close();
   }
   await Promise.all(entryFiles.map((f) => rm(join(dir, f), { force: true })));
+}
+
+/**
+ * The radargrams' index made on a worker (`writeRadargramIndex` in the site's CRS): `lamina process` hands
+ * it to an idle one while its own thread grids and screens.
+ */
+export interface RadargramIndexTask {
+  kind: 'radargramIndex';
+  stageDir: string;
+  entryFiles: string[];
+  crs: Crs;
+}
+
+export async function radargramIndex(task: RadargramIndexTask): Promise<void> {
+  await writeRadargramIndex(task.stageDir, task.entryFiles, (x, y) => pointToWgs84(task.crs, x, y));
 }
 
 /** Writes text given in pieces (joined in 1 MiB writes), without joining all of it first. */

@@ -11,7 +11,7 @@ import { exportTargets, matchDecisions, readReview, writeReview, type Review } f
 import { createPool, defaultThreads, type Pool } from '@lamina/runtime-files';
 import { removeLineSpills } from './line-spill';
 import { keptBuffers, pass1, pass2, pass2Steps, siteRecipe, type Pass1Result, type Pass1Task, type Pass2Result, type Pass2Task } from './line-task';
-import { extents, linesGeoJson, planGeoJson, siteSummary, writeChunks, writeFeatureCollection, writeRadargramIndex } from './outputs';
+import { extents, linesGeoJson, planGeoJson, radargramIndex, siteSummary, writeChunks, writeFeatureCollection, type RadargramIndexTask } from './outputs';
 import { sliceAndScreen, type Anchored, type Screening } from './slice-and-screen';
 import { sideOutputs, type SideOutputsResult, type SideOutputsTask } from './side-outputs';
 import { addParts, StageTimer, type ProcessTimings } from './timings';
@@ -113,8 +113,8 @@ export interface ProcessSummary {
 
 const VERSION = '0.1.0';
 
-type Task = Pass1Task | Pass2Task | SideOutputsTask;
-type Result = Pass1Result | Pass2Result | SideOutputsResult;
+type Task = Pass1Task | Pass2Task | SideOutputsTask | RadargramIndexTask;
+type Result = Pass1Result | Pass2Result | SideOutputsResult | undefined;
 
 /**
  * Runs tasks on worker threads or, with 0 threads, in this thread one after the other (as a worker
@@ -125,7 +125,7 @@ function runner(threads: number): { run: (t: Task, transfer?: ArrayBuffer[]) => 
   if (threads <= 0) {
     let last: Promise<unknown> = Promise.resolve();
     const run = (t: Task): Promise<Result> => {
-      const r = last.then((): Promise<Result> => (t.kind === 'pass1' ? pass1(t) : t.kind === 'pass2' ? pass2(t) : sideOutputs(t)));
+      const r = last.then((): Promise<Result> => (t.kind === 'pass1' ? pass1(t) : t.kind === 'pass2' ? pass2(t) : t.kind === 'sideOutputs' ? sideOutputs(t) : radargramIndex(t).then(() => undefined)));
       last = r.catch(() => undefined);
       return r;
     };
@@ -311,6 +311,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     // the migration method is chosen per line (irregular spacing takes Kirchhoff): count them for the log
     const methods = new Map<string, number>();
     let screening: Screening;
+    let radargrams: Promise<unknown> | undefined;
     const pass2Done = timer.start('pass 2: process lines, slice values');
     try {
       await inOrder(
@@ -366,11 +367,17 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
         const result = { linesCleaned: airRuns.cleaned, lines: airRuns.lines, foci: airRuns.foci, airFitApexes: airRuns.apexes, steepEvents: airRuns.steep, meanRemovedShare: airRuns.cleaned ? Math.round((airRuns.removed / airRuns.cleaned) * 1e5) / 1e5 : 0 };
         log = log.map((e) => (e === airEntry ? (airRuns.cleaned > 0 ? { ...rest, result } : { ...rest, skipped: airRuns.skipped, result }) : e));
       }
-      // a worker, idle now, makes slices.tif, the thumbnails and the forecast while this thread screens
+      // a worker, idle now, writes the radargrams' index (their traces' WGS84 positions) while this thread
+      // grids, and one makes slices.tif, the thumbnails and the forecast while it screens
+      radargrams = exec.run({ kind: 'radargramIndex', stageDir: stage.path, entryFiles: p1.map((r) => r.radargramEntry), crs: site.crs });
+      radargrams.catch(() => {});
       const side = (t: SideOutputsTask) => exec.run(t) as Promise<SideOutputsResult>;
       screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress, timer, side }, Math.max(1, threads));
+      await radargrams;
       await exec.close();
     } finally {
+      // (settled either way before the stage can go)
+      await radargrams?.catch(() => {});
       spill.remove();
       if (keepLines) await removeLineSpills(stage.path);
     }
@@ -378,7 +385,6 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     const outputsDone = timer.start('outputs: run.json, lines, radargrams, review');
     await writeFeatureCollection(join(stage.path, 'lines.geojson'), linesGeoJson(summaries, toWgs84));
     await writeJson(stage.path, 'plan.geojson', planGeoJson(site.plan));
-    await writeRadargramIndex(stage.path, p1.map((r) => r.radargramEntry));
     const identity = { name: site.name, crs: site.crs.input, extent: ext.wgs84 };
     const run: RunJson = {
       tool: { name: 'lamina', version: VERSION },
