@@ -1,6 +1,6 @@
-import type { RadarLine } from '@lamina/radar-data';
+import { openSegy, type RadarLine } from '@lamina/radar-data';
 import { InputError } from '@lamina/errors';
-import { loadSite, readLine, shownPath, type LineSource, type Site } from '@lamina/site';
+import { loadSite, readLine, shownPath, type LineSource, type OpenSegy, type Site } from '@lamina/site';
 import { alongTrackM, defaultRecipe, envelope, parseRecipe, runRecipe, withoutAirEvents, type AirObjects, type Recipe, type RecipeLogEntry, type Step } from '@lamina/processing';
 import { EARLY_APEX_FLAG, fitManualPicks, lineDirection, lineHyperbolas, recipeForVelocity, sampleDepths, type HyperbolaFit, type ManualHyperbola, type VelocityModel } from '@lamina/velocity';
 import { traceSliceValues, type SliceWindow } from '@lamina/slices';
@@ -133,6 +133,12 @@ export function pass2Steps(recipe: Recipe): Step[] | undefined {
   return tail.every(late) && pass1Recipe(recipe).steps.length === first ? tail : undefined;
 }
 
+/**
+ * SEG-Y files of a line task are read with synchronous calls (`syncIo`): the task's thread has nothing
+ * else to do meanwhile, and an asynchronous read waits for a turn of the file thread pool.
+ */
+const openLine: OpenSegy = (path, options) => openSegy(path, { ...options, syncIo: true });
+
 const sites = new Map<string, Promise<Site>>();
 function site(dir: string): Promise<Site> {
   let s = sites.get(dir);
@@ -190,7 +196,7 @@ export async function pass1(task: Pass1Task): Promise<Pass1Result> {
   const times: PartTimes = {};
   const s = await site(task.siteDir);
   const src = s.lines[task.line]!;
-  const raw = await timed(times, 'pass 1 read line', () => readLine(s, contextSource(src)));
+  const raw = await timed(times, 'pass 1 read line', () => readLine(s, contextSource(src), { open: openLine }));
   const keepBefore = task.keepLine && task.recipe.steps.some((st) => st.step === 'backgroundRemoval');
   const { line: whole, log, before } = runRecipe(raw, pass1Recipe(task.recipe), context(s), { onStep: stepTimes(times, 'pass 1'), ...(keepBefore ? { keepBefore: 'backgroundRemoval' as const } : {}) });
   // pass 2 migrates the whole context, so that is what is kept for it
@@ -268,7 +274,7 @@ export async function pass2(task: Pass2Task): Promise<Pass2Result> {
     // without background removal the data "before" it is the final line, as runRecipe's keepBefore gives
     before = kept.before ?? line;
   } else {
-    raw = await timed(times, 'pass 2 read line', () => readLine(s, contextSource(src)));
+    raw = await timed(times, 'pass 2 read line', () => readLine(s, contextSource(src), { open: openLine }));
     ({ line, before, log } = runRecipe(raw, task.recipe, ctx, { keepBefore: 'backgroundRemoval', onStep: stepTimes(times, 'pass 2') }));
   }
   const same = before === line;
@@ -283,7 +289,7 @@ export async function pass2(task: Pass2Task): Promise<Pass2Result> {
   const inf = after.findIndex((v) => v === Infinity || v === -Infinity);
   if (inf >= 0) {
     const t = Math.floor(inf / nw);
-    raw = await readLine(s, src);
+    raw = await readLine(s, src, { open: openLine });
     const peak = raw.data.subarray(t * raw.nSamples, (t + 1) * raw.nSamples).reduce((m, v) => Math.max(m, Math.abs(v)), 0);
     throw new InputError(shownPath(src.file), `trace ${(src.traces?.[0] ?? 0) + t + 1}: expected sample values a receiver records, found values up to ${peak.toExponential(2)} whose energy overflows 32-bit floats; the samples are damaged or not in the format the binary header names`);
   }

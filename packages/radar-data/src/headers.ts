@@ -46,6 +46,12 @@ export interface SegyOpenOptions {
   sampleIntervalNs?: number;
   /** How messages name the file. @default path */
   name?: string;
+  /**
+   * Read with synchronous calls, for a thread with nothing else to do while it reads (a line worker):
+   * each asynchronous read waits for a turn of the process-wide file thread pool, long when the cores
+   * are busy. The same bytes either way. @default false
+   */
+  syncIo?: boolean;
 }
 
 /** Where `dtNs` came from: rev 2 bytes 3273-3280, bytes 3217-3218, or the caller's override. */

@@ -2,6 +2,7 @@
  * Streaming SEG-Y rev 1 / rev 2.0 reader. The file stays on disk: headers are read at open (headers.ts),
  * traces by positional reads of at most `BLOCK_BYTES` at a time into one reused scratch buffer.
  */
+import { closeSync, fstatSync, openSync, readSync } from 'node:fs';
 import { open, type FileHandle } from 'node:fs/promises';
 import { endianness } from 'node:os';
 import { InputError } from '@lamina/errors';
@@ -333,7 +334,7 @@ export async function openSegy(path: string, options: SegyOpenOptions = {}): Pro
   const name = options.name ?? path;
   let fh: FileHandle;
   try {
-    fh = await open(path, 'r');
+    fh = options.syncIo ? syncHandle(openSync(path, 'r')) : await open(path, 'r');
   } catch (e) {
     const code = (e as NodeJS.ErrnoException).code ?? String(e);
     throw new InputError(name, `expected a readable SEG-Y file, found ${code === 'ENOENT' ? 'no such file' : code}`);
@@ -347,4 +348,14 @@ export async function openSegy(path: string, options: SegyOpenOptions = {}): Pro
     await fh.close();
     throw e;
   }
+}
+
+/** The calls of a FileHandle the reader makes (read, stat, close), made synchronously on a descriptor (`syncIo`). */
+function syncHandle(fd: number): FileHandle {
+  const handle: Pick<FileHandle, 'read' | 'stat' | 'close'> = {
+    read: (async (buffer: Uint8Array, offset: number, length: number, position: number) => ({ bytesRead: readSync(fd, buffer, offset, length, position), buffer })) as FileHandle['read'],
+    stat: (async () => fstatSync(fd)) as FileHandle['stat'],
+    close: async () => closeSync(fd),
+  };
+  return handle as FileHandle;
 }

@@ -20,10 +20,19 @@ async function base(options: { revision?: 1 | 2; dtNs?: number; format?: SampleF
 }
 
 let n = 0;
-/** Write `bytes` as a file and return the message `openSegy` + reading every trace throws. */
+/**
+ * Write `bytes` as a file and return the message `openSegy` + reading every trace throws (the same with
+ * synchronous reads, `syncIo`).
+ */
 async function failure(bytes: Uint8Array, options: SegyOpenOptions = {}): Promise<string> {
   const file = join(tmp.dir, `bad-${n++}.sgy`);
   writeFileSync(file, bytes);
+  const message = await failureOf(file, options);
+  expect(await failureOf(file, { ...options, syncIo: true })).toBe(message);
+  return message;
+}
+
+async function failureOf(file: string, options: SegyOpenOptions): Promise<string> {
   try {
     const r = await openSegy(file, { name: 'l01.sgy', ...options });
     try {
@@ -72,6 +81,8 @@ describe('bad SEG-Y input', () => {
     const dir = join(tmp.dir, 'adir.sgy');
     mkdirSync(dir);
     await expect(openSegy(dir, { name: 'l01.sgy' })).rejects.toThrow('l01.sgy: expected a SEG-Y file, found a directory or device');
+    await expect(openSegy(join(tmp.dir, 'nope.sgy'), { name: 'l01.sgy', syncIo: true })).rejects.toThrow('l01.sgy: expected a readable SEG-Y file, found no such file');
+    await expect(openSegy(dir, { name: 'l01.sgy', syncIo: true })).rejects.toThrow('l01.sgy: expected a SEG-Y file, found a directory or device');
   });
 
   it('unknown format code', async () => {

@@ -75,6 +75,23 @@ describe('reader', () => {
     await r.close(); // idempotent
   });
 
+  it('reads the same with synchronous calls (syncIo)', async () => {
+    const l = line(41, 17, 5);
+    const file = join(tmp.dir, 'sync.sgy');
+    await writeSegyLine(file, l);
+    const read = async (syncIo: boolean) => {
+      const r = await openSegy(file, { syncIo });
+      try {
+        return { info: r.info(), data: await r.readTraces(0, 41), part: await r.readTraces(7, 5), headers: await r.readTraceHeaders(0, 41) };
+      } finally {
+        await r.close();
+      }
+    };
+    const [a, s] = [await read(false), await read(true)];
+    expect(s).toEqual(a);
+    expect(s.data).toEqual(l.data);
+  });
+
   it('surfaces a bad sample from chunks() at the chunk that holds it', async () => {
     const l = line(9, 8);
     l.data[6 * 8 + 2] = NaN;
