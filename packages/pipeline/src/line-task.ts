@@ -1,6 +1,6 @@
-import { openSegy, type RadarLine } from '@lamina/radar-data';
+import type { RadarLine } from '@lamina/radar-data';
 import { InputError } from '@lamina/errors';
-import { loadSite, readLine, shownPath, type LineSource, type OpenSegy, type Site } from '@lamina/site';
+import { loadSite, readLine, shownPath, syncOpenSegy, type LineSource, type Site } from '@lamina/site';
 import { alongTrackM, defaultRecipe, envelope, parseRecipe, runRecipe, withoutAirEvents, type AirObjects, type Recipe, type RecipeLogEntry, type Step } from '@lamina/processing';
 import { EARLY_APEX_FLAG, fitManualPicks, lineDirection, lineHyperbolas, recipeForVelocity, sampleDepths, type HyperbolaFit, type ManualHyperbola, type VelocityModel } from '@lamina/velocity';
 import { traceSliceValues, type SliceWindow } from '@lamina/slices';
@@ -133,11 +133,8 @@ export function pass2Steps(recipe: Recipe): Step[] | undefined {
   return tail.every(late) && pass1Recipe(recipe).steps.length === first ? tail : undefined;
 }
 
-/**
- * SEG-Y files of a line task are read with synchronous calls (`syncIo`): the task's thread has nothing
- * else to do meanwhile, and an asynchronous read waits for a turn of the file thread pool.
- */
-const openLine: OpenSegy = (path, options) => openSegy(path, { ...options, syncIo: true });
+/** A line task's thread has nothing else to do while it reads its line: synchronous reads. */
+const openLine = syncOpenSegy();
 
 const sites = new Map<string, Promise<Site>>();
 function site(dir: string): Promise<Site> {

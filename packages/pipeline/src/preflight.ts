@@ -3,7 +3,7 @@ import { statfs } from 'node:fs/promises';
 import { totalmem } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { InputError } from '@lamina/errors';
-import { checkSurvey, shownPath, type Site, type SurveyCheck } from '@lamina/site';
+import { checkSurvey, shownPath, syncOpenSegy, type Site, type SurveyCheck } from '@lamina/site';
 import { defaultWindows, resolveGrid, surveyGeometryOf } from '@lamina/slices';
 import { constantModel } from '@lamina/velocity';
 
@@ -130,7 +130,8 @@ export async function preflight(site: Site, outDir: string, options: PreflightOp
     const v = options[key];
     if (v !== undefined && !(Number.isFinite(v) && ok(v))) throw new InputError('command line', `expected ${what}, found ${v}`, { field: flag });
   }
-  const survey = await checkSurvey(site);
+  // (synchronous reads: the run has nothing else to do before its lines start)
+  const survey = await checkSurvey(site, { open: syncOpenSegy() });
   const size = estimateSize(site, survey, options);
   const siteFile = shownPath(join(site.dir, 'site.json'));
   const cells = size.width * size.height;

@@ -19,6 +19,6 @@ export {
 export { lineGeometry, type LineGeometry } from './geometry';
 export { loadSite, readLine, lineChunks, linePositions, lineTraces, summarizeLine, shownPath, type ReadLineOptions, type LineChunk, type LineChunksOptions, type LineSummary } from './load';
 export { InputProblems, jsonPath, type Problem } from './problems';
-export { defaultOpenSegy, type SegyReaderLike, type OpenSegy } from './segy';
+export { defaultOpenSegy, syncOpenSegy, type SegyReaderLike, type OpenSegy } from './segy';
 export { summarizeSite, type SiteSummary, type LineInfo, type SummarizeOptions } from './summary';
 export { checkSurvey, likelyCause, areaOfUse, insideArea, type SurveyCheck, type SurveyCheckOptions, type LineFacts } from './survey-check';

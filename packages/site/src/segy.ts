@@ -20,3 +20,12 @@ export type OpenSegy = (path: string, options?: { sampleIntervalNs?: number; nam
 export function defaultOpenSegy(): OpenSegy {
   return openSegy;
 }
+
+/**
+ * `openSegy` reading with synchronous calls (`syncIo`), for a thread with nothing else to do while it
+ * reads (a line worker, a run loading its site): an asynchronous read waits for a turn of the
+ * process-wide file thread pool, long when the cores are busy. The same bytes either way.
+ */
+export function syncOpenSegy(): OpenSegy {
+  return (path, options) => openSegy(path, { ...options, syncIo: true });
+}

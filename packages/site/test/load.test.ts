@@ -3,7 +3,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { writeSegy } from '@lamina/radar-data';
-import { lineChunks, loadSite, pointFromWgs84, readLine, summarizeLine, toWgs84, US_SURVEY_FOOT_M, type Site } from '../src';
+import { checkSurvey, lineChunks, loadSite, pointFromWgs84, readLine, summarizeLine, syncOpenSegy, toWgs84, US_SURVEY_FOOT_M, type Site } from '../src';
 import { writeTinySegy } from './tiny-segy';
 
 // A small site in NC state plane (US survey feet, EPSG:2264), one line per position source.
@@ -91,6 +91,14 @@ describe('loadSite and readLine', () => {
   it('CSV fixes are interpolated, then offset', async () => {
     const l = await readLine(site, site.lines[2]!);
     expect(l.y[10]).toBeCloseTo(N0 + 10 - 1, 9);
+  });
+
+  it('reads the same lines and survey facts with synchronous reads (syncOpenSegy)', async () => {
+    const open = syncOpenSegy();
+    for (const src of site.lines) expect(await readLine(site, src, { open })).toEqual(await readLine(site, src));
+    // (this site's plan lies far from its lines: the same error either way)
+    const settled = (p: Promise<unknown>) => p.then((value) => ({ value }), (e: unknown) => ({ error: String(e) }));
+    expect(await settled(checkSurvey(site, { open }))).toEqual(await settled(checkSurvey(site)));
   });
 
   it('lineChunks streams the same samples and positions', async () => {
