@@ -7,7 +7,7 @@ import { readFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
-import { bits } from '@lamina/test-utils';
+import { bits, kernelsOffAndOn } from '@lamina/test-utils';
 import { butterworthSos } from '../src/butterworth';
 import { zeroPhaseJs, zeroPhaseWasm } from '../src/bandpass';
 import { backgroundRemoval, movingMedianJs, movingMedianWasm } from '../src/background';
@@ -168,16 +168,7 @@ describe('Stolt maps in the kernels (fkTraces, fkColumns, rotateBins, stoltInter
 });
 
 /** `f` with the kernels off (the JavaScript path) and on. */
-function bothPaths<T>(f: () => T): [T, T] {
-  useKernels(false);
-  try {
-    const js = f();
-    useKernels(true);
-    return [js, f()];
-  } finally {
-    useKernels(true);
-  }
-}
+const bothPaths = <T>(f: () => T): [T, T] => kernelsOffAndOn(useKernels, f);
 
 describe('envelopeLine (Hilbert envelopes of a line)', () => {
   for (const [nTraces, nSamples, padTo] of [[9, 100, undefined], [8, 64, 256], [1, 33, undefined]] as const) {

@@ -1,4 +1,5 @@
 import KDBush from 'kdbush';
+import { idwKernels, idwRowsWasm } from './idw-wasm';
 import { cellCentreX, cellCentreY, type SliceGrid } from './stack';
 
 export interface IdwOptions {
@@ -177,7 +178,8 @@ export function hasNaN(values: Float32Array): boolean {
 }
 
 /**
- * The kernel of `idwGrid` for rows [rowStart, rowEnd) into preallocated `out` bands (also run by workers).
+ * The kernel of `idwGrid` for rows [rowStart, rowEnd) into preallocated `out` bands (also run by workers);
+ * in WebAssembly where it runs (`idwRowsWasm`, the same bits), else the JavaScript here.
  * `out` holds the grid's rows from `outRow0` on (row r at (r - outRow0) * width): a band of a grid is
  * gridded at the grid's own cell centres, so its cells equal the whole grid's.
  */
@@ -198,6 +200,9 @@ export function idwRows(
   const power = options.power ?? 2;
   const k = Math.max(1, options.maxPoints ?? 12);
   const minPoints = options.minPoints ?? 1;
+  // (a count that is no int32 makes the JavaScript throw, as before)
+  const kernels = k === (k | 0) ? idwKernels() : null;
+  if (kernels) return idwRowsWasm(kernels, tree, n, values, nBands, grid, { frame, k, minPoints, halfPower: power / 2 }, rowStart, rowEnd, out, anyNaN, outRow0);
   const { width, nodata } = grid;
   const ids = new Int32Array(k);
   const d2 = new Float64Array(k);
