@@ -261,6 +261,7 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     await runLock.release();
     return stopWorkers(e);
   });
+  let radargrams: Promise<unknown> | undefined;
   try {
     const n = site.lines.length;
     progress('processing lines', 0, n);
@@ -311,7 +312,6 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     // the migration method is chosen per line (irregular spacing takes Kirchhoff): count them for the log
     const methods = new Map<string, number>();
     let screening: Screening;
-    let radargrams: Promise<unknown> | undefined;
     const pass2Done = timer.start('pass 2: process lines, slice values');
     try {
       await inOrder(
@@ -367,17 +367,14 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
         const result = { linesCleaned: airRuns.cleaned, lines: airRuns.lines, foci: airRuns.foci, airFitApexes: airRuns.apexes, steepEvents: airRuns.steep, meanRemovedShare: airRuns.cleaned ? Math.round((airRuns.removed / airRuns.cleaned) * 1e5) / 1e5 : 0 };
         log = log.map((e) => (e === airEntry ? (airRuns.cleaned > 0 ? { ...rest, result } : { ...rest, skipped: airRuns.skipped, result }) : e));
       }
-      // a worker, idle now, writes the radargrams' index (their traces' WGS84 positions) while this thread
-      // grids, and one makes slices.tif, the thumbnails and the forecast while it screens
-      radargrams = exec.run({ kind: 'radargramIndex', stageDir: stage.path, entryFiles: p1.map((r) => r.radargramEntry), crs: site.crs });
-      radargrams.catch(() => {});
+      // a worker, idle now, makes slices.tif, the thumbnails and the forecast while this thread screens
       const side = (t: SideOutputsTask) => exec.run(t) as Promise<SideOutputsResult>;
       screening = await sliceAndScreen(site, stage.path, spill, summaries.map((l) => l.id), windows, velocity, recipe, { ...options, onProgress: progress, timer, side }, Math.max(1, threads));
-      await radargrams;
-      await exec.close();
+      // and one writes the radargrams' index (their traces' WGS84 positions) while this thread writes the
+      // other outputs and exports (during gridding and screening it would take a core from them)
+      radargrams = exec.run({ kind: 'radargramIndex', stageDir: stage.path, entryFiles: p1.map((r) => r.radargramEntry), crs: site.crs });
+      radargrams.catch(() => {});
     } finally {
-      // (settled either way before the stage can go)
-      await radargrams?.catch(() => {});
       spill.remove();
       if (keepLines) await removeLineSpills(stage.path);
     }
@@ -421,6 +418,8 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     }
     exportDone();
     progress('targets', 1, 1);
+    await radargrams;
+    await exec.close();
 
     if (options.failAfter === 'outputs') throw new Error('stopped before commit (failAfter)');
     const commitDone = timer.start('commit');
@@ -445,6 +444,8 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     };
   } catch (e) {
     await exec.close().catch(() => {});
+    // (a task still writing into the stage would leave a partial one behind)
+    await radargrams?.catch(() => {});
     await stage.abort().catch(() => {});
     await writeLock?.release();
     await runLock.release();
