@@ -2,7 +2,7 @@
 // simulate a scene, run `lamina process` on it as a user would (the CLI in a child process, so one scene's
 // crash or memory does not take the others with it), score the output folder with @lamina/scoring, and
 // pool rows by summing counts, areas and lengths (never by averaging percentages).
-import { spawnSync } from 'node:child_process';
+import { spawn, spawnSync } from 'node:child_process';
 import { mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { basename, dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -170,9 +170,39 @@ export function builtCli(): string {
   return (built = join(ROOT, 'apps/cli/dist/lamina.mjs'));
 }
 
-/** `lamina process <siteDir> --out <outDir> --threads <threads> [...extra]` with the built CLI. */
-function processSite(siteDir: string, outDir: string, threads: number, extra: string[] = []) {
-  return spawnSync(process.execPath, [builtCli(), 'process', siteDir, '--out', outDir, '--threads', String(threads), ...extra], { encoding: 'utf8', maxBuffer: 64 << 20 });
+/**
+ * `lamina process <siteDir> --out <outDir> --threads <threads> [...extra]` with the built CLI, in a child
+ * process that runs while this one goes on (`runScenes` runs scenes side by side).
+ */
+function processSite(siteDir: string, outDir: string, threads: number, extra: string[] = []): Promise<{ status: number | null; stdout: string; stderr: string }> {
+  return new Promise((done, fail) => {
+    const child = spawn(process.execPath, [builtCli(), 'process', siteDir, '--out', outDir, '--threads', String(threads), ...extra], { stdio: ['ignore', 'pipe', 'pipe'] });
+    let stdout = '', stderr = '';
+    child.stdout.setEncoding('utf8').on('data', (d: string) => (stdout = (stdout + d).slice(-1 << 20)));
+    child.stderr.setEncoding('utf8').on('data', (d: string) => (stderr = (stderr + d).slice(-1 << 20)));
+    child.on('error', fail);
+    child.on('close', (status) => done({ status, stdout, stderr }));
+  });
+}
+
+/**
+ * `run` for each item, at most `jobs` at a time, the results in the items' order; `onDone` as each ends.
+ * Scenes side by side fill the cores that one scene leaves idle in its serial stages (simulation,
+ * scoring, the CLI's start, screening and export on its main thread); each scene's files and figures are
+ * the same however many run at once (a scene's own thread count is not changed).
+ */
+export async function runScenes<T, R>(items: T[], jobs: number, run: (item: T) => Promise<R>, onDone: (r: R) => void = () => {}): Promise<R[]> {
+  const out: R[] = new Array(items.length);
+  let next = 0;
+  const lane = async () => {
+    while (next < items.length) {
+      const i = next++;
+      out[i] = await run(items[i]!);
+      onDone(out[i]!);
+    }
+  };
+  await Promise.all(Array.from({ length: Math.max(1, Math.min(jobs, items.length)) }, lane));
+  return out;
 }
 
 /** Simulates `scenario` under `workDir`, processes it with the CLI and scores it. */
@@ -186,13 +216,13 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
     if (options.unsurveyedShare && seed !== null) row.unsurveyed = leaveOutOfPlan(siteDir, seed, options.unsurveyedShare);
     row.simulateS = (performance.now() - t) / 1000;
     t = performance.now();
-    const p = processSite(siteDir, outDir, options.threads ?? 2, options.airBefore ? ['--remove-air-events'] : []);
+    const p = await processSite(siteDir, outDir, options.threads ?? 2, options.airBefore ? ['--remove-air-events'] : []);
     row.processS = (performance.now() - t) / 1000;
     if (p.status !== 0) throw new Error(`lamina process exited ${p.status}: ${(p.stderr || p.stdout).trim().split('\n').slice(-3).join(' | ')}`);
     Object.assign(row, scored(outDir, join(siteDir, 'truth.json')));
     row.air = await airMeasure(outDir, join(siteDir, 'truth.json'));
     if (options.airBefore) {
-      const q = processSite(siteDir, keptDir, options.threads ?? 2, ['--keep-air-events']);
+      const q = await processSite(siteDir, keptDir, options.threads ?? 2, ['--keep-air-events']);
       if (q.status !== 0) throw new Error(`lamina process --keep-air-events exited ${q.status}: ${(q.stderr || q.stdout).trim().split('\n').slice(-3).join(' | ')}`);
       row.airBefore = await airMeasure(keptDir, join(siteDir, 'truth.json'));
       row.airSuppression = await airSuppression(keptDir, outDir, join(siteDir, 'truth.json'));
@@ -204,7 +234,7 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
       for (const d of dirs) {
         const oneSite = join(workDir, `${scenario.name}-site-${d.azimuthDeg}`), oneOut = join(workDir, `${scenario.name}-out-${d.azimuthDeg}`);
         oneDirectionSite(siteDir, d.entries, oneSite);
-        const q = processSite(oneSite, oneOut, options.threads ?? 2);
+        const q = await processSite(oneSite, oneOut, options.threads ?? 2);
         if (q.status !== 0) throw new Error(`lamina process (${d.azimuthDeg} deg only) exited ${q.status}: ${(q.stderr || q.stdout).trim().split('\n').slice(-3).join(' | ')}`);
         row.byDirection.push({ azimuthDeg: d.azimuthDeg, lines: d.entries.length, scored: scored(oneOut, join(oneSite, 'truth.json')) });
         if (!options.keep) for (const f of [oneSite, oneOut]) rmSync(f, { recursive: true, force: true });

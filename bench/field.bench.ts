@@ -8,6 +8,8 @@
 //   LAMINA_BENCH_FIELD_SAMPLES=0       leave out the sample sites (default: yard, carpark-ft, warehouse)
 //   LAMINA_BENCH_FIELD_KEEP=1          keep the site and output folders (printed at the end)
 //   LAMINA_BENCH_FIELD_THREADS=2       worker threads of lamina process
+//   LAMINA_BENCH_FIELD_JOBS=2          scenes run side by side (default 2; the figures are the same for any
+//                                      number, the per-scene seconds are not comparable across numbers)
 //   LAMINA_BENCH_FIELD_AIR_BEFORE=1    also process every scene with --keep-air-events: the air measure
 //                                      before the airEvents step and the pooled rows without it (twice the
 //                                      time; default: after only)
@@ -27,7 +29,7 @@ import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { parseScenario, randomScenario } from '../packages/simulate/src/index';
-import { beforeRow, classLines, directionRows, formatTable, parseSeeds, pool, runScene, single, tableLine, type FieldRow } from './field-lib';
+import { beforeRow, classLines, directionRows, formatTable, parseSeeds, pool, runScene, runScenes, single, tableLine, type FieldRow } from './field-lib';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const root = resolve(here, '..');
@@ -35,6 +37,8 @@ const seeds = parseSeeds(process.env.LAMINA_BENCH_FIELD_SEEDS ?? '1-24');
 const samples = process.env.LAMINA_BENCH_FIELD_SAMPLES === '0' ? [] : ['yard', 'carpark-ft', 'warehouse'];
 const keep = process.env.LAMINA_BENCH_FIELD_KEEP === '1';
 const threads = Number(process.env.LAMINA_BENCH_FIELD_THREADS ?? 2);
+const jobs = Number(process.env.LAMINA_BENCH_FIELD_JOBS ?? 2);
+if (!(Number.isInteger(jobs) && jobs >= 1)) throw new Error(`LAMINA_BENCH_FIELD_JOBS: expected an integer >= 1, found "${process.env.LAMINA_BENCH_FIELD_JOBS}"`);
 const airBefore = process.env.LAMINA_BENCH_FIELD_AIR_BEFORE === '1';
 const unsurveyedShare = Number(process.env.LAMINA_BENCH_FIELD_UNSURVEYED ?? 0);
 const directions = process.env.LAMINA_BENCH_FIELD_DIRECTIONS === '1';
@@ -50,21 +54,22 @@ const commit = (() => {
     return 'unknown';
   }
 })();
-console.log(`field: ${seeds.length} random scenes (seeds ${process.env.LAMINA_BENCH_FIELD_SEEDS ?? '1-24'}) + ${samples.length} sample sites${noiseSeed === undefined ? '' : `, noise seed ${noiseSeed}`}; ${availableParallelism()} cores, load ${loadavg()[0]!.toFixed(2)}; code ${commit}`);
+console.log(`field: ${seeds.length} random scenes (seeds ${process.env.LAMINA_BENCH_FIELD_SEEDS ?? '1-24'}) + ${samples.length} sample sites${noiseSeed === undefined ? '' : `, noise seed ${noiseSeed}`}; ${jobs} at a time, ${availableParallelism()} cores, load ${loadavg()[0]!.toFixed(2)}; code ${commit}`);
 
-const rows: FieldRow[] = [];
 const t0 = performance.now();
-for (const seed of seeds) {
-  const row = await runScene(withNoise(randomScenario(seed)), work, seed % 2 === 1 ? 'tune' : 'held-out', seed, { threads, keep, airBefore, unsurveyedShare, directions });
-  rows.push(row);
-  console.log(`  ${row.name}: ${row.error ? `FAILED ${row.error}` : `${row.targets} targets, ${row.buriedTargets} on buried objects`} (${row.simulateS.toFixed(1)} + ${row.processS.toFixed(1)} s)${row.unsurveyed?.length ? `; left out of the plan: ${row.unsurveyed.join(', ')}` : ''}`);
-}
-for (const name of samples) {
-  const file = join(root, 'sample-sites', name, 'scenario.json');
-  const row = await runScene(withNoise(parseScenario(JSON.parse(readFileSync(file, 'utf8')), file)), work, 'sample', null, { threads, keep, airBefore });
-  rows.push(row);
-  console.log(`  ${row.name}: ${row.error ? `FAILED ${row.error}` : `${row.targets} targets`} (${row.simulateS.toFixed(1)} + ${row.processS.toFixed(1)} s)`);
-}
+const rows: FieldRow[] = await runScenes(
+  [...seeds.map((seed) => ({ seed, name: null as string | null })), ...samples.map((name) => ({ seed: null as number | null, name }))],
+  jobs,
+  ({ seed, name }) => {
+    if (seed !== null) return runScene(withNoise(randomScenario(seed)), work, seed % 2 === 1 ? 'tune' : 'held-out', seed, { threads, keep, airBefore, unsurveyedShare, directions });
+    const file = join(root, 'sample-sites', name!, 'scenario.json');
+    return runScene(withNoise(parseScenario(JSON.parse(readFileSync(file, 'utf8')), file)), work, 'sample', null, { threads, keep, airBefore });
+  },
+  (row) => {
+    const found = row.half === 'sample' ? `${row.targets} targets` : `${row.targets} targets, ${row.buriedTargets} on buried objects`;
+    console.log(`  ${row.name}: ${row.error ? `FAILED ${row.error}` : found} (${row.simulateS.toFixed(1)} + ${row.processS.toFixed(1)} s)${row.unsurveyed?.length ? `; left out of the plan: ${row.unsurveyed.join(', ')}` : ''}`);
+  },
+);
 
 const tune = pool('TUNE (odd seeds)', rows.filter((r) => r.half === 'tune'));
 const held = pool('HELD-OUT (even seeds)', rows.filter((r) => r.half === 'held-out'));

@@ -6,7 +6,7 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { randomScenario } from '@lamina/simulate';
 import { airSuppression, suppressionDb } from '../bench/air-measure';
-import { parseSeeds, pool, runScene } from '../bench/field-lib';
+import { parseSeeds, pool, runScene, runScenes } from '../bench/field-lib';
 
 const work = mkdtempSync(join(tmpdir(), 'lamina-field-smoke-'));
 afterAll(() => rmSync(work, { recursive: true, force: true }));
@@ -40,5 +40,20 @@ describe('pnpm bench field (smoke)', () => {
     expect(suppressionDb(0, 0, 0)).toBeNull();
     expect(parseSeeds('1-3,8')).toEqual([1, 2, 3, 8]);
     expect(parseSeeds('1-9/2,12')).toEqual([1, 3, 5, 7, 9, 12]);
+  });
+
+  it('runs scenes side by side and returns them in order', async () => {
+    let running = 0, most = 0;
+    const ended: number[] = [];
+    const out = await runScenes([30, 5, 20, 1, 10], 2, async (ms) => {
+      most = Math.max(most, ++running);
+      await new Promise((r) => setTimeout(r, ms));
+      running--;
+      return ms * 2;
+    }, (r) => ended.push(r));
+    expect(out).toEqual([60, 10, 40, 2, 20]);
+    expect(most).toBe(2);
+    expect(ended).not.toEqual(out);
+    expect([...ended].sort((a, b) => a - b)).toEqual([...out].sort((a, b) => a - b));
   });
 });
