@@ -16,8 +16,9 @@
 // the ratios summed over scenes, over the cells counted. Beside it, the excess on the loci over the mean of
 // the other cells (`excessDb`): the part of the locus figure that air waves make.
 //
-// The second, `airSuppression` (issue 18's acceptance measure since 2026-12-05), pairs a scene's run without
-// the airEvents step with its run with it, cell by cell, on the cells that stood out before the step.
+// The second, `AirSuppression` of `airMeasures` (issue 18's acceptance measure since 2026-12-05), pairs a
+// scene's run without the airEvents step with its run with it, cell by cell, on the cells that stood out
+// before the step.
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { readGeoTiff } from '../packages/cog/src/index';
@@ -65,32 +66,62 @@ function segDist(x: number, y: number, ax: number, ay: number, bx: number, by: n
   return Math.hypot(x - ax - t * dx, y - ay - t * dy);
 }
 
-/** Cell classes of `classify`: on no locus and away from buried objects (the background), on an air-wave locus, on a buried object, neither. */
+/** Cell zones of `zonesOf`: on no locus and away from buried objects (the background), on an air-wave locus, on a buried object, neither. */
 const REST = 0, LOCUS = 1, BURIED = 2, NONE = 3;
 
-interface ClassifiedSlice {
-  /** The slice's values (slices.tif band) and the median of those with a value. */
+/** A slice of an output folder with a positive median: its window, values (slices.tif band) and the median of those with a value. */
+interface SliceRead {
+  band: number;
+  topM: number;
+  bottomM: number;
   values: ArrayLike<number>;
   median: number;
-  /** REST, LOCUS, BURIED or NONE (also for cells without a value). */
-  cls: Uint8Array;
 }
 
-interface Classified {
+/** What the measures read from an output folder: its grid, nodata value, velocity model and slices. */
+interface FolderRead {
   grid: { width: number; height: number; originX: number; originY: number; pixelSize: number };
-  windows: string;
-  slices: ClassifiedSlice[];
+  nodata: number;
+  model: VelocityModel;
+  slices: SliceRead[];
 }
 
-/** Every slice of an output folder with its cells classed against truth.json (the rules in the header). */
-async function classify(outDir: string, truthFile: string): Promise<Classified> {
-  const truth = readScoreTruth(truthFile);
-  const mpu = truth.metresPerUnit;
+async function readFolder(outDir: string): Promise<FolderRead> {
   const sj = JSON.parse(readFileSync(join(outDir, 'slices.json'), 'utf8')) as { slices: { index: number; band: number; topM: number; bottomM: number }[]; nodata: number };
   const vj = JSON.parse(readFileSync(join(outDir, 'velocity.json'), 'utf8')) as { model: VelocityModel };
   const tif = await readGeoTiff(readFileSync(join(outDir, 'slices.tif')));
-  const f = truth.antenna?.frequencyMHz;
-  const tol = f && f > 0 ? 0.25 + (C_M_PER_NS * (1000 / f)) / 4 : 0.5;
+  const { width, height, originX, originY, pixelSize } = tif;
+  const slices: SliceRead[] = [];
+  for (const sl of sj.slices) {
+    const band = tif.bands[sl.band - 1];
+    if (!band) continue;
+    const vals: number[] = [];
+    for (let q = 0; q < width * height; q++) {
+      const v = band[q]!;
+      if (v !== sj.nodata && Number.isFinite(v)) vals.push(v);
+    }
+    if (vals.length === 0) continue;
+    vals.sort((a, b) => a - b);
+    const median = vals[vals.length >> 1]!;
+    if (!(median > 0)) continue;
+    slices.push({ band: sl.band, topM: sl.topM, bottomM: sl.bottomM, values: band, median });
+  }
+  return { grid: { width, height, originX, originY, pixelSize }, nodata: sj.nodata, model: vj.model, slices };
+}
+
+/** Whether a slice value is one (not nodata, finite). */
+const hasValue = (v: number, nodata: number) => v !== nodata && Number.isFinite(v);
+
+/**
+ * The zone of every cell of every slice of `f` against truth.json (the rules in the header), whether or
+ * not the cell has a value: a function of the grid, the slice windows and the velocity model only, so two
+ * folders that share those share their zones.
+ */
+function zonesOf(f: FolderRead, truthFile: string): Uint8Array[] {
+  const truth = readScoreTruth(truthFile);
+  const mpu = truth.metresPerUnit;
+  const fr = truth.antenna?.frequencyMHz;
+  const tol = fr && fr > 0 ? 0.25 + (C_M_PER_NS * (1000 / fr)) / 4 : 0.5;
   const seg = (a: { from?: number[]; to?: number[]; center?: number[] }): [number, number, number, number] =>
     a.center ? [a.center[0]!, a.center[1]!, a.center[0]!, a.center[1]!] : [a.from![0]!, a.from![1]!, a.to![0]!, a.to![1]!];
   const refl = truth.aboveGround.filter((a) => a.airWave?.traces === undefined || a.airWave.traces > 0).map((a) => ({ s: seg(a), h: a.kind === 'overhead' ? (a.heightM ?? 0) : 0 }));
@@ -100,7 +131,7 @@ async function classify(outDir: string, truthFile: string): Promise<Classified> 
     const z1 = b.center ? b.center[2]! : Math.max(b.from![2]!, b.to![2]!);
     return { s, r: b.radiusM, top: z0 - b.radiusM, bottom: z1 + b.radiusM };
   });
-  const { width, height, originX, originY, pixelSize } = tif;
+  const { width, height, originX, originY, pixelSize } = f.grid;
   // plan distances of every cell, once
   const n = width * height;
   const dRefl = refl.map(() => new Float32Array(n));
@@ -116,61 +147,54 @@ async function classify(outDir: string, truthFile: string): Promise<Classified> 
   }
   const nearBuried = new Uint8Array(n);
   for (let q = 0; q < n; q++) if (buried.some((b, i) => dBur[i]![q]! <= b.r + 1)) nearBuried[q] = 1;
-  const slices: ClassifiedSlice[] = [];
-  for (const sl of sj.slices) {
-    const band = tif.bands[sl.band - 1];
-    if (!band) continue;
-    const vals: number[] = [];
-    for (let q = 0; q < n; q++) {
-      const v = band[q]!;
-      if (v !== sj.nodata && Number.isFinite(v)) vals.push(v);
-    }
-    if (vals.length === 0) continue;
-    vals.sort((a, b) => a - b);
-    const median = vals[vals.length >> 1]!;
-    if (!(median > 0)) continue;
-    const ra = airRadiusM(sl.topM, vj.model), rb = airRadiusM(sl.bottomM, vj.model);
+  return f.slices.map((sl) => {
+    const ra = airRadiusM(sl.topM, f.model), rb = airRadiusM(sl.bottomM, f.model);
     const bands = refl.map((r) => {
       const plan = (v: number) => (r.h > 0 ? Math.sqrt(Math.max(0, v * v - r.h * r.h)) : v);
       const on = !(r.h > 0 && Math.max(ra, rb) < r.h - tol);
       return { on, lo: Math.min(plan(ra), plan(rb)) - tol, hi: Math.max(plan(ra), plan(rb)) + tol };
     });
     const inSlice = buried.map((b) => b.top - 0.25 <= sl.bottomM && b.bottom + 0.25 >= sl.topM);
-    const cls = new Uint8Array(n).fill(NONE);
+    const zone = new Uint8Array(n).fill(NONE);
     for (let q = 0; q < n; q++) {
-      const v = band[q]!;
-      if (v === sj.nodata || !Number.isFinite(v)) continue;
       const onLocus = bands.some((b, i) => b.on && dRefl[i]![q]! >= b.lo && dRefl[i]![q]! <= b.hi);
       if (onLocus) {
-        if (!nearBuried[q]) cls[q] = LOCUS;
-      } else if (buried.some((b, i) => inSlice[i] && dBur[i]![q]! <= b.r + 0.25)) cls[q] = BURIED;
-      else if (!nearBuried[q]) cls[q] = REST;
+        if (!nearBuried[q]) zone[q] = LOCUS;
+      } else if (buried.some((b, i) => inSlice[i] && dBur[i]![q]! <= b.r + 0.25)) zone[q] = BURIED;
+      else if (!nearBuried[q]) zone[q] = REST;
     }
-    slices.push({ values: band, median, cls });
-  }
-  const windows = JSON.stringify(sj.slices.map((s) => [s.band, s.topM, s.bottomM]));
-  return { grid: { width, height, originX, originY, pixelSize }, windows, slices };
+    return zone;
+  });
 }
 
-/** The measure of one output folder against its truth.json. */
-export async function airMeasure(outDir: string, truthFile: string): Promise<AirMeasure> {
+/** `airMeasure` of a folder already read, with its zones. */
+function measureOf(f: FolderRead, zones: Uint8Array[]): AirMeasure {
   const out = emptyAirMeasure();
-  for (const { values, median, cls } of (await classify(outDir, truthFile)).slices) {
-    for (let q = 0; q < cls.length; q++) {
-      const r = (values[q] as number) / median;
-      if (cls[q] === LOCUS) {
+  f.slices.forEach(({ values, median }, k) => {
+    const zone = zones[k]!;
+    for (let q = 0; q < zone.length; q++) {
+      const v = values[q] as number;
+      if (!hasValue(v, f.nodata)) continue;
+      const r = v / median;
+      if (zone[q] === LOCUS) {
         out.locusSum += r;
         out.locusCells++;
-      } else if (cls[q] === BURIED) {
+      } else if (zone[q] === BURIED) {
         out.buriedSum += r;
         out.buriedCells++;
-      } else if (cls[q] === REST) {
+      } else if (zone[q] === REST) {
         out.restSum += r;
         out.restCells++;
       }
     }
-  }
+  });
   return out;
+}
+
+/** The measure of one output folder against its truth.json. */
+export async function airMeasure(outDir: string, truthFile: string): Promise<AirMeasure> {
+  const f = await readFolder(outDir);
+  return measureOf(f, zonesOf(f, truthFile));
 }
 
 /**
@@ -212,31 +236,33 @@ export function suppressionDb(before: number, after: number, cells: number): num
   return after > 0 ? 10 * Math.log10(before / after) : Infinity;
 }
 
-/** The paired measure of a scene processed without (`beforeDir`) and with (`afterDir`) the airEvents step; null when their grids or slices differ. */
-export async function airSuppression(beforeDir: string, afterDir: string, truthFile: string): Promise<AirSuppression | null> {
-  const b = await classify(beforeDir, truthFile);
-  const a = await classify(afterDir, truthFile);
-  if (JSON.stringify(b.grid) !== JSON.stringify(a.grid) || b.windows !== a.windows || b.slices.length !== a.slices.length) return null;
+/** `AirSuppression` of two folders read, on their shared zones (above). */
+function suppressionOf(b: FolderRead, a: FolderRead, zones: Uint8Array[]): AirSuppression {
   const out = emptyAirSuppression();
-  const background = (s: ClassifiedSlice): { mean: number; sorted: Float64Array } => {
+  /** The background's values over the median (sorted) and their mean. */
+  const background = (f: FolderRead, k: number): { mean: number; sorted: Float64Array } => {
+    const { values, median } = f.slices[k]!;
+    const zone = zones[k]!;
     const rest: number[] = [];
-    for (let q = 0; q < s.cls.length; q++) if (s.cls[q] === REST) rest.push((s.values[q] as number) / s.median);
-    const sorted = Float64Array.from(rest).sort();
-    return { mean: rest.reduce((x, y) => x + y, 0) / Math.max(1, rest.length), sorted };
+    for (let q = 0; q < zone.length; q++) if (zone[q] === REST && hasValue(values[q] as number, f.nodata)) rest.push((values[q] as number) / median);
+    return { mean: rest.reduce((x, y) => x + y, 0) / Math.max(1, rest.length), sorted: Float64Array.from(rest).sort() };
   };
   for (let k = 0; k < b.slices.length; k++) {
     const sb = b.slices[k]!, sa = a.slices[k]!;
-    const bgB = background(sb), bgA = background(sa);
+    const zone = zones[k]!;
+    const bgB = background(b, k), bgA = background(a, k);
     if (bgB.sorted.length === 0) continue;
     const limit = bgB.sorted[Math.min(bgB.sorted.length - 1, Math.floor(STANDS_OUT_QUANTILE * bgB.sorted.length))]!;
-    for (let q = 0; q < sb.cls.length; q++) {
-      const c = sb.cls[q];
+    for (let q = 0; q < zone.length; q++) {
+      const c = zone[q];
       if (c !== LOCUS && c !== BURIED) continue;
-      const rb = (sb.values[q] as number) / sb.median;
+      const vb = sb.values[q] as number;
+      if (!hasValue(vb, b.nodata)) continue;
+      const rb = vb / sb.median;
       if (!(rb > limit)) continue;
       const eb = rb - bgB.mean;
-      const ra = (sa.values[q] as number) / sa.median;
-      const ea = Number.isFinite(ra) ? Math.max(0, ra - bgA.mean) : 0;
+      const va = sa.values[q] as number;
+      const ea = hasValue(va, a.nodata) ? Math.max(0, va / sa.median - bgA.mean) : 0;
       if (c === LOCUS) {
         out.locusBefore += eb;
         out.locusAfter += ea;
@@ -249,4 +275,19 @@ export async function airSuppression(beforeDir: string, afterDir: string, truthF
     }
   }
   return out;
+}
+
+/**
+ * Both runs of a scene, without (`beforeDir`) and with (`afterDir`) the airEvents step: each one's
+ * `airMeasure`, and their `AirSuppression` (null when their grids, slice windows or velocity models
+ * differ). Each folder is read once and the cells are zoned once when the two share them.
+ */
+export async function airMeasures(beforeDir: string, afterDir: string, truthFile: string): Promise<{ before: AirMeasure; after: AirMeasure; suppression: AirSuppression | null }> {
+  const b = await readFolder(beforeDir);
+  const a = await readFolder(afterDir);
+  const shape = (f: FolderRead) => JSON.stringify([f.grid, f.model, f.slices.map((s) => [s.band, s.topM, s.bottomM])]);
+  const shared = shape(b) === shape(a);
+  const zonesB = zonesOf(b, truthFile);
+  const zonesA = shared ? zonesB : zonesOf(a, truthFile);
+  return { before: measureOf(b, zonesB), after: measureOf(a, zonesA), suppression: shared ? suppressionOf(b, a, zonesB) : null };
 }

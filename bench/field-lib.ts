@@ -8,7 +8,7 @@ import { basename, dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { scoreFolder } from '../packages/scoring/src/index';
 import { rng, simulateSite, type Scenario } from '../packages/simulate/src/index';
-import { airMeasure, airSuppression, emptyAirMeasure, emptyAirSuppression, excessDb, measureDb, suppressionDb, type AirMeasure, type AirSuppression } from './air-measure';
+import { airMeasure, airMeasures, emptyAirMeasure, emptyAirSuppression, excessDb, measureDb, suppressionDb, type AirMeasure, type AirSuppression } from './air-measure';
 
 const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');
 
@@ -58,7 +58,7 @@ export interface FieldRow {
   air: AirMeasure;
   /** The same with `--keep-air-events` (the data as it was before the airEvents step), when asked for (`airBefore`). */
   airBefore: AirMeasure | null;
-  /** Issue 18's paired measure of the two runs (bench/air-measure.ts `airSuppression`), when asked for (`airBefore`). */
+  /** Issue 18's paired measure of the two runs (bench/air-measure.ts `airMeasures`), when asked for (`airBefore`). */
   airSuppression: AirSuppression | null;
   /** Plan features left out of the site's plan (`unsurveyedShare`), by id. */
   unsurveyed?: string[];
@@ -220,14 +220,15 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
     row.processS = (performance.now() - t) / 1000;
     if (p.status !== 0) throw new Error(`lamina process exited ${p.status}: ${(p.stderr || p.stdout).trim().split('\n').slice(-3).join(' | ')}`);
     Object.assign(row, scored(outDir, join(siteDir, 'truth.json')));
-    row.air = await airMeasure(outDir, join(siteDir, 'truth.json'));
     if (options.airBefore) {
       const q = await processSite(siteDir, keptDir, options.threads ?? 2, ['--keep-air-events']);
       if (q.status !== 0) throw new Error(`lamina process --keep-air-events exited ${q.status}: ${(q.stderr || q.stdout).trim().split('\n').slice(-3).join(' | ')}`);
-      row.airBefore = await airMeasure(keptDir, join(siteDir, 'truth.json'));
-      row.airSuppression = await airSuppression(keptDir, outDir, join(siteDir, 'truth.json'));
+      const m = await airMeasures(keptDir, outDir, join(siteDir, 'truth.json'));
+      row.air = m.after;
+      row.airBefore = m.before;
+      row.airSuppression = m.suppression;
       row.scoredBefore = scored(keptDir, join(siteDir, 'truth.json'));
-    }
+    } else row.air = await airMeasure(outDir, join(siteDir, 'truth.json'));
     const dirs = options.directions ? lineDirections(siteDir) : [];
     if (dirs.length === 2) {
       row.byDirection = [];

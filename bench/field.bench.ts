@@ -118,7 +118,7 @@ New (issue 18, bench/air-measure.ts, not a scoring definition): locus dB / burie
 the air-wave loci (away from buried objects) / on buried objects, over the slice's median, in dB; locus+ dB =
 the locus figure's excess over the mean of the other cells (what air waves add), in dB;
 "before>after" with LAMINA_BENCH_FIELD_AIR_BEFORE=1 (before = lamina process --keep-air-events).
-Issue 18's acceptance measure (with LAMINA_BENCH_FIELD_AIR_BEFORE=1, bench/air-measure.ts airSuppression):
+Issue 18's acceptance measure (with LAMINA_BENCH_FIELD_AIR_BEFORE=1, bench/air-measure.ts airMeasures):
 locus cut dB / buried cut dB = the energy above the slice's background mean on the locus / buried-object
 cells that stood out before the step (brighter than 99 % of the slice's background cells), summed before
 over after, in dB ("all" when nothing is left; 0 dB for a step that changes nothing).

@@ -5,7 +5,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { randomScenario } from '@lamina/simulate';
-import { airSuppression, suppressionDb } from '../bench/air-measure';
+import { airMeasures, suppressionDb } from '../bench/air-measure';
 import { parseSeeds, pool, runScene, runScenes } from '../bench/field-lib';
 
 const work = mkdtempSync(join(tmpdir(), 'lamina-field-smoke-'));
@@ -28,7 +28,7 @@ describe('pnpm bench field (smoke)', () => {
     expect(p.utilityRecall).toBeCloseTo((rows[0]!.utilityCoveredM + rows[1]!.utilityCoveredM) / (rows[0]!.utilitySurveyedM + rows[1]!.utilitySurveyedM), 12);
     // issue 18's paired measure: a run against itself (a step that changed nothing) reads 0 dB
     for (const r of rows) {
-      const s = await airSuppression(join(work, `${r.name}-out`), join(work, `${r.name}-out`), join(work, `${r.name}-site`, 'truth.json'));
+      const s = (await airMeasures(join(work, `${r.name}-out`), join(work, `${r.name}-out`), join(work, `${r.name}-site`, 'truth.json'))).suppression;
       expect(s).not.toBeNull();
       expect(s!.locusAfter).toBe(s!.locusBefore);
       expect(s!.buriedAfter).toBe(s!.buriedBefore);
