@@ -1,2 +1,2 @@
-export { C_M_PER_NS, MAX_UTILITY_DIAMETER_M } from './physics';
+export { C_M_PER_NS, MAX_UTILITY_DIAMETER_M, nearSurfaceTimeNs } from './physics';
 export { CAUTIONS, CAUTION } from './cautions';

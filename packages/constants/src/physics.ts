@@ -12,3 +12,13 @@ export const C_M_PER_NS = 0.2998;
  * the hyperbola fit (@lamina/velocity `maxRadiusM`, half of it) both start from it.
  */
 export const MAX_UTILITY_DIAMETER_M = 1.5;
+
+/**
+ * End of the direct- and ground-wave zone in two-way time after time-zero, ns: the ground wave arrives
+ * at separation / v and rings about one period of the antenna frequency (common practice, no source).
+ * The near-surface zone of the slices (@lamina/velocity `nearSurfaceDepthM`) is this time in depth, and
+ * the `airEvents` step (@lamina/processing) lets the plan carry its mask inside it.
+ */
+export function nearSurfaceTimeNs(frequencyMHz: number, separationM: number, velocityMPerNs: number): number {
+  return separationM / velocityMPerNs + 1000 / frequencyMHz;
+}

@@ -14,15 +14,26 @@ import type { LineSummary } from './outputs';
  */
 export function planAirObjects(plan: PlanFeature[], metresPerUnit: number): AirObjects {
   const points: number[] = [];
+  const radii: number[] = [];
   const segments: number[] = [];
   for (const r of reflectorsOf(plan, metresPerUnit)) {
     if (r.kind === 'other') continue;
     const h = r.kind === 'overhead' ? (r.heightM ?? 0) : 0;
-    for (let i = 0; i + 1 < r.points.length; i += 2) points.push(r.points[i]!, r.points[i + 1]!, h);
+    for (let i = 0; i + 1 < r.points.length; i += 2) {
+      points.push(r.points[i]!, r.points[i + 1]!, h);
+      radii.push(POINT_RADIUS_M[r.kind] ?? 0);
+    }
     for (let i = 0; i + 3 < r.segments.length; i += 4) segments.push(r.segments[i]!, r.segments[i + 1]!, r.segments[i + 2]!, r.segments[i + 3]!, h);
   }
-  return { points: Float64Array.from(points), segments: Float64Array.from(segments) };
+  return { points: Float64Array.from(points), segments: Float64Array.from(segments), pointRadiiM: Float64Array.from(radii) };
 }
+
+/**
+ * The largest radius a plan point of each kind is taken to have, m (common practice, no source: steel and
+ * timber posts up to 0.1 m, building columns up to 0.4 m, tree trunks up to 0.5 m). A plan point is the
+ * centre; the air wave returns from the nearest face (`AirObjects.pointRadiiM`).
+ */
+const POINT_RADIUS_M: Partial<Record<string, number>> = { post: 0.1, column: 0.4, tree: 0.5 };
 
 /**
  * What one line's `airEvents` step needs: the plan's objects within reach of its record (an air wave
@@ -43,12 +54,17 @@ export function airObjectsFor(all: AirObjects, line: LineSummary, timeZeroNs: nu
   const near = (ax: number, ay: number, bx: number, by: number) =>
     Math.max(ax, bx) >= x0 - reach && Math.min(ax, bx) <= x1 + reach && Math.max(ay, by) >= y0 - reach && Math.min(ay, by) <= y1 + reach;
   const points: number[] = [];
+  const radii: number[] = [];
   const p = all.points;
-  for (let i = 0; i + 2 < p.length; i += 3) if (near(p[i]!, p[i + 1]!, p[i]!, p[i + 1]!)) points.push(p[i]!, p[i + 1]!, p[i + 2]!);
+  for (let i = 0; i + 2 < p.length; i += 3) {
+    if (!near(p[i]!, p[i + 1]!, p[i]!, p[i + 1]!)) continue;
+    points.push(p[i]!, p[i + 1]!, p[i + 2]!);
+    radii.push(all.pointRadiiM?.[i / 3] ?? 0);
+  }
   const segments: number[] = [];
   const s = all.segments;
   for (let i = 0; i + 4 < s.length; i += 5) if (near(s[i]!, s[i + 1]!, s[i + 2]!, s[i + 3]!)) segments.push(s[i]!, s[i + 1]!, s[i + 2]!, s[i + 3]!, s[i + 4]!);
   const apexes: number[] = context ? [...context.airApexes] : [];
   if (!context) for (const f of fits) if (f.line === line.id && f.origin === 'above-ground') apexes.push(f.trace, f.t0Ns);
-  return { points: Float64Array.from(points), segments: Float64Array.from(segments), apexes: Float64Array.from(apexes) };
+  return { points: Float64Array.from(points), segments: Float64Array.from(segments), apexes: Float64Array.from(apexes), pointRadiiM: Float64Array.from(radii) };
 }

@@ -11,7 +11,7 @@
 // Flat events are left to background removal even where a focus lies (`airLikeness`: they are the same at
 // c and at the soil velocity), including what the mean trace leaves of a parallel wall covering part of
 // the line. Migration at the soil velocity runs after this step, on the cleaned line.
-import { C_M_PER_NS } from '@lamina/constants';
+import { C_M_PER_NS, nearSurfaceTimeNs } from '@lamina/constants';
 import type { RadarLine } from '@lamina/radar-data';
 import { medianInPlace } from '@lamina/stats';
 import { bistaticResample, dipWeight, dominantPeriodNs, taperTraceEnds, traceSlots } from './fk';
@@ -31,6 +31,12 @@ export interface AirObjects {
   points: Float64Array;
   segments: Float64Array;
   apexes?: Float64Array;
+  /**
+   * Radius of each point object, m (one per point; posts, trees, columns): the plan gives a centre, the
+   * air wave returns from the face nearest the antenna, up to a radius earlier. The mask covers the foci
+   * of every face distance from r - R to r. @default 0 for every point
+   */
+  pointRadiiM?: Float64Array;
 }
 
 export interface AirEventOptions {
@@ -149,7 +155,7 @@ export function airEventMask(line: RadarLine, objects: AirObjects, options: AirE
     return true;
   };
   let foci = 0;
-  const pointFocus = (px: number, py: number, h: number): void => {
+  const pointFocus = (px: number, py: number, h: number, radiusM = 0): void => {
     let best = Infinity;
     let ib = 0;
     for (let i = 0; i < nt; i++) {
@@ -168,10 +174,17 @@ export function airEventMask(line: RadarLine, objects: AirObjects, options: AirE
       if (len > 0 && ((px - (x[ib] as number)) * ex + (py - (y[ib] as number)) * ey) / len > 0.5 * len) return;
     }
     const r = Math.sqrt(best) * mpu;
-    if (stamp(ib, (2 * Math.hypot(r, h)) / C_M_PER_NS)) foci++;
+    const tFar = (2 * Math.hypot(r, h)) / C_M_PER_NS;
+    const tNear = (2 * Math.hypot(Math.max(0, r - radiusM), h)) / C_M_PER_NS;
+    // faces from r - R to r, stamped at most half a mask height apart
+    const n = Math.ceil((tFar - tNear) / (0.5 * s.timeHalfWidthNs));
+    let any = false;
+    for (let j = 0; j <= n; j++) any = stamp(ib, n > 0 ? tNear + ((tFar - tNear) * j) / n : tFar) || any;
+    if (any) foci++;
   };
   const p = objects.points;
-  for (let q = 0; q + 2 < p.length; q += 3) pointFocus(p[q] as number, p[q + 1] as number, p[q + 2] as number);
+  const radii = objects.pointRadiiM;
+  for (let q = 0; q + 2 < p.length; q += 3) pointFocus(p[q] as number, p[q + 1] as number, p[q + 2] as number, radii ? (radii[q / 3] as number) : 0);
   const sg = objects.segments;
   const step = Math.max(1e-6, 0.25 * s.lateralHalfWidthM) / mpu;
   for (let q = 0; q + 4 < sg.length; q += 5) {
@@ -209,6 +222,14 @@ export interface AirEventKernelOptions {
   timeHalfWidthSamples?: number;
   /** Band kept by the transforms (`band`, fk.ts). @default 1e-6 */
   energyTolerance?: number;
+  /**
+   * Image time (vertical two-way, after time-zero, ns) up to which the mask stands as the plan and the fits
+   * put it, without the soil-focus test: an object whose air-wave apex lies this close to time-zero (a post
+   * or column among the lines) focuses alike at every velocity (nothing moves at t = 0), so the comparison
+   * cannot tell it, and a buried object there lies in the near-surface zone, which gives no targets.
+   * `removeAirEvents` sets it to the zone's end (`nearSurfaceTimeNs`). @default 0
+   */
+  planCarriesNs?: number;
 }
 
 /**
@@ -267,8 +288,9 @@ export function airEventKernel(
     // wider than its focus at v, so sample by sample the smile's shoulders would pass for air foci.
     const ri = Math.max(1, Math.round(1.5 * (options.lateralHalfWidthTraces ?? 1)));
     const rk = Math.max(1, Math.round(1.5 * (options.timeHalfWidthSamples ?? 1)));
+    const k0 = Math.max(0, Math.floor((timeZeroNs + (options.planCarriesNs ?? 0)) / dtNs) + 1);
     for (let i = 0; i < nTraces; i++) {
-      for (let k = 0; k < nSamples; k++) {
+      for (let k = k0; k < nSamples; k++) {
         const q = i * nSamples + k;
         if (!((w[q] as number) > 0)) continue;
         let mc = 0;
@@ -364,9 +386,9 @@ export function subtractSteepAirEvents(line: RadarLine, objects: AirObjects, opt
   let events = 0;
   let traces = 0;
   const taken: Float64Array[] = [];
-  // the moveout may shift by up to half a period (see below)
+  // the moveout may shift by up to half a period (see below), and a point object's by its radius earlier
   const sMax = 0.5 * T;
-  const one = (ax: number, ay: number, bx: number, by: number, h: number): void => {
+  const one = (ax: number, ay: number, bx: number, by: number, h: number, radiusM = 0): void => {
     planDistances(line, ax, ay, bx, by, mpu, d);
     for (let i = 0; i < nt; i++) {
       const D = Math.hypot(d[i] as number, h);
@@ -400,7 +422,7 @@ export function subtractSteepAirEvents(line: RadarLine, objects: AirObjects, opt
     // the shift that makes the mean along the moveout (over the steep traces) strongest
     let best = 0;
     let bestE = -1;
-    for (let sh = -sMax; sh <= sMax + 1e-9; sh += 0.5 * dt) {
+    for (let sh = -sMax - (2 * radiusM) / C_M_PER_NS; sh <= sMax + 1e-9; sh += 0.5 * dt) {
       let e = 0;
       for (let j = 0; j < nj; j++) {
         let m = 0;
@@ -471,7 +493,8 @@ export function subtractSteepAirEvents(line: RadarLine, objects: AirObjects, opt
   const sg = objects.segments;
   for (let q = 0; q + 4 < sg.length; q += 5) one(sg[q] as number, sg[q + 1] as number, sg[q + 2] as number, sg[q + 3] as number, sg[q + 4] as number);
   const p = objects.points;
-  for (let q = 0; q + 2 < p.length; q += 3) one(p[q] as number, p[q + 1] as number, p[q] as number, p[q + 1] as number, p[q + 2] as number);
+  const radii = objects.pointRadiiM;
+  for (let q = 0; q + 2 < p.length; q += 3) one(p[q] as number, p[q + 1] as number, p[q] as number, p[q + 1] as number, p[q + 2] as number, radii ? (radii[q / 3] as number) : 0);
   return { line: withData(line, dst), events, traces };
 }
 
@@ -503,7 +526,9 @@ export function removeAirEvents(line: RadarLine, objects: AirObjects, options: A
     bistaticResample(from, n0, ns, dt, tz, air, s.separationM, true, zo.subarray(ext.before * ns, (ext.before + n0) * ns));
     taperTraceEnds(zo, nt, ns, dt, dominantPeriodNs(zo, nt, ns, dt));
     const { spacingM } = traceSlots(line, s.metresPerUnit);
-    const part = airEventKernel(zo, nt, ns, dt, spacingM, tz, mask, { maxAngleDeg: s.maxAngleDeg, taper: s.taper, ...(options.soilVelocityMPerNs !== undefined ? { soilVelocityMPerNs: options.soilVelocityMPerNs } : {}), lateralHalfWidthTraces: s.lateralHalfWidthM / spacingM, timeHalfWidthSamples: s.timeHalfWidthNs / dt });
+    const v = options.soilVelocityMPerNs;
+    const soil = v !== undefined ? { soilVelocityMPerNs: v, planCarriesNs: nearSurfaceTimeNs(options.frequencyMHz, s.separationM, v) } : {};
+    const part = airEventKernel(zo, nt, ns, dt, spacingM, tz, mask, { maxAngleDeg: s.maxAngleDeg, taper: s.taper, ...soil, lateralHalfWidthTraces: s.lateralHalfWidthM / spacingM, timeHalfWidthSamples: s.timeHalfWidthNs / dt });
     back = new Float32Array(n0 * ns);
     bistaticResample(part.subarray(ext.before * ns, (ext.before + n0) * ns), n0, ns, dt, tz, air, s.separationM, false, back);
   }

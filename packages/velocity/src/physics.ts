@@ -1,3 +1,4 @@
+import { nearSurfaceTimeNs } from '@lamina/constants';
 import { C_M_PER_NS, type VelocityLayer, type VelocityModel } from './model';
 
 /**
@@ -209,7 +210,7 @@ export function sampleDepths(
  */
 export function nearSurfaceDepthM(frequencyMHz: number, separationM: number, model: LayerVelocities): number {
   const v = model.layers[0]!.velocityMPerNs;
-  const z = sampleDepth(model, separationM / v + 1000 / frequencyMHz, separationM);
+  const z = sampleDepth(model, nearSurfaceTimeNs(frequencyMHz, separationM, v), separationM);
   return Number.isFinite(z) ? z : 0;
 }
 
