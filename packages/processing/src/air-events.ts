@@ -358,7 +358,8 @@ function lerp(a: ArrayLike<number>, off: number, n: number, k: number): number {
  * is the same event on all of them; a buried object's reflection crosses the moveout over about half an
  * air wavelength (a flat event against a dip of 2 / c) to an air wavelength (the time window), under a
  * quarter of a median window two wavelengths wide either side, so the median leaves it out. The moveout
- * is first shifted by the constant (within half a period) that makes the mean along it strongest: a
+ * is first shifted by the constant (within half a period, and for a point object up to 2 R / c earlier,
+ * R its `pointRadiiM`: the air wave returns from its nearest face) that makes the mean along it strongest: a
  * time-zero picked a fraction of a period off, or a plan position a few centimetres off. Samples before
  * the direct wave (separation / c) are not touched. `out` may be `line.data`.
  */
