@@ -368,11 +368,11 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     progress('targets', 0, 1);
     const exportDone = timer.start('targets export');
     const thumbnails = screening.thumbnails ? { thumbnails: screening.thumbnails } : {};
-    let exported = await exportTargets(stage.path, { now, lock: false, ...thumbnails });
+    let exported = await exportTargets(stage.path, { now, lock: false, ownFiles: true, ...thumbnails });
     // The viewer may have saved decisions into the old folder while this run worked: take them along.
     if ((await readText(reviewFile)) !== reviewRead) {
       await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screening.anchored);
-      exported = await exportTargets(stage.path, { now, lock: false, ...thumbnails });
+      exported = await exportTargets(stage.path, { now, lock: false, ownFiles: true, ...thumbnails });
     }
     exportDone();
     progress('targets', 1, 1);
