@@ -4,7 +4,7 @@ import type { RunJson } from '@lamina/contracts';
 import { InputError, isInputError } from '@lamina/errors';
 import { lockFolder, stageFolder, type FolderLock } from '@lamina/atomic';
 import { checkPlanNearSurvey, loadSite, pointToWgs84, shownPath, type Site } from '@lamina/site';
-import { buildVelocityReport, enoughFits, parsePicks, spreadOrder, velocityJsonChunks, type HyperbolaFit, type ManualHyperbola, type VelocityReport } from '@lamina/velocity';
+import { buildVelocityReport, parsePicks, SiteSampler, velocityJsonChunks, type ManualHyperbola, type VelocityReport } from '@lamina/velocity';
 import { PointSpill, type SliceWindow } from '@lamina/slices';
 import { withAirEvents, withoutAirEvents, type Recipe } from '@lamina/processing';
 import { exportTargets, matchDecisions, readReview, writeReview, type Review } from '@lamina/targets';
@@ -16,6 +16,7 @@ import { sliceAndScreen, type Anchored, type Screening } from './slice-and-scree
 import { sideOutputs, type SideOutputsResult, type SideOutputsTask } from './side-outputs';
 import { addParts, StageTimer, type ProcessTimings } from './timings';
 import { preflight } from './preflight';
+import { pass1Sampled } from './sampled-pass';
 import { airObjectsFor, planAirObjects } from './air-objects';
 import { adoptSurveyVelocity, readSurveyVelocity, type SurveyVelocity } from './survey-velocity';
 import { checkSurveyWindows, recordWindows } from './windows';
@@ -50,9 +51,10 @@ export interface ProcessOptions {
   /** Stop after this stage (for tests of interruption). */
   failAfter?: string;
   /**
-   * Fit hyperbolas only until the site velocity is known well (`enoughFits` of @lamina/velocity, lines
-   * in `spreadOrder`); later lines carry no fits, so screening's hyperbola evidence covers fewer lines.
-   * @default false
+   * Fit hyperbolas only until the site velocity is known well and has settled (`SiteSampler` of
+   * @lamina/velocity, lines in `spreadOrder`); later lines carry no automatic fits, so screening's
+   * hyperbola evidence covers fewer lines (on the warehouse sample site that lost most of the old sewer's
+   * targets: DEVELOPERS.md). @default false
    */
   sampleVelocityLines?: boolean;
   /**
@@ -159,51 +161,6 @@ async function settleAll<T>(tasks: Promise<T>[]): Promise<T[]> {
 }
 
 /**
- * Pass 1 over all lines, `inFlight` at a time, in `spreadOrder`: lines started after `enoughFits` holds
- * for the lines finished so far are processed without hyperbola detection (see @lamina/velocity's
- * sampling.ts for the rule and what screening loses). Results in line order.
- */
-async function pass1Sampled(
-  n: number,
-  inFlight: number,
-  start: (i: number, detect: boolean) => Promise<Pass1Result>,
-  sampling: { metresPerUnit: number },
-  onDone: (done: number) => void,
-): Promise<Pass1Result[]> {
-  const order = spreadOrder(n);
-  const out: Pass1Result[] = new Array(n);
-  const fits: HyperbolaFit[] = [];
-  let fitted = 0;
-  let enough = false;
-  let next = 0;
-  let done = 0;
-  let failed = false;
-  const worker = async (): Promise<void> => {
-    while (next < n && !failed) {
-      const i = order[next++]!;
-      const detect = !enough;
-      const r = await start(i, detect);
-      out[i] = r;
-      if (detect) {
-        fitted++;
-        fits.push(...r.fits);
-        enough = enough || enoughFits(fits, fitted, n, sampling);
-      }
-      onDone(++done);
-    }
-  };
-  await settleAll(
-    Array.from({ length: Math.min(inFlight, n) }, () =>
-      worker().catch((e: unknown) => {
-        failed = true;
-        throw e;
-      }),
-    ),
-  );
-  return out;
-}
-
-/**
  * What the positions mean and whether the run fits, from headers only, before any trace is read; the
  * site with its checked plan, the survey velocity file and the hand matches saved by the viewer
  * (picks.json in the output folder), which join the automatic fits; the recipe as the site or options give it.
@@ -268,8 +225,9 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     const pass1Done = timer.start('pass 1: process lines, hyperbolas');
     const run1 = (i: number, detect: boolean) =>
       exec.run({ kind: 'pass1', siteDir: site.dir, line: i, recipe, stageDir: stage.path, detect, keepLine: keepLines, keepInMemory, ...(options.keepScreenInputs ? { fitOrder: true } : {}), ...(picks?.has(i) ? { picks: picks.get(i), picksFile: shownPath(picksFile) } : {}) }) as Promise<Pass1Result>;
+    const reportOptions = { separationM: site.antenna.separationM, metresPerUnit: site.crs.metresPerUnit };
     const p1 = options.sampleVelocityLines
-      ? await pass1Sampled(n, Math.max(1, threads), run1, { metresPerUnit: site.crs.metresPerUnit }, (d) => progress('processing lines', d, n))
+      ? await pass1Sampled(n, Math.max(1, threads), run1, new SiteSampler(n, (f) => buildVelocityReport(f, reportOptions), { metresPerUnit: site.crs.metresPerUnit }), (d) => progress('processing lines', d, n))
       : ((await inOrder(n, (i) => run1(i, true), (d) => progress('processing lines', d, n))) as Pass1Result[]);
     pass1Done();
     for (const r of p1) addParts(timer.lineMs, r.times);
@@ -410,11 +368,11 @@ export async function runProcess(siteDir: string, outDir: string, options: Proce
     progress('targets', 0, 1);
     const exportDone = timer.start('targets export');
     const thumbnails = screening.thumbnails ? { thumbnails: screening.thumbnails } : {};
-    let exported = await exportTargets(stage.path, { now, lock: false, ...thumbnails });
+    let exported = await exportTargets(stage.path, { now, lock: false, ownFiles: true, ...thumbnails });
     // The viewer may have saved decisions into the old folder while this run worked: take them along.
     if ((await readText(reviewFile)) !== reviewRead) {
       await carryReview(reviewFile, join(stage.path, 'review.json'), identity, screening.anchored);
-      exported = await exportTargets(stage.path, { now, lock: false, ...thumbnails });
+      exported = await exportTargets(stage.path, { now, lock: false, ownFiles: true, ...thumbnails });
     }
     exportDone();
     progress('targets', 1, 1);

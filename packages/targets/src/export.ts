@@ -25,6 +25,12 @@ export interface ExportOptions {
    * `process` exports into its own stage and passes false. @default true
    */
   lock?: boolean;
+  /**
+   * run.json, anomalies.geojson, velocity.json and slices.json were written by the caller in this process
+   * (`process` exporting into its own stage): not checked against their schemas again (`ReadOptions` of
+   * folder.ts; the same files either way). review.json is always checked. @default false
+   */
+  ownFiles?: boolean;
 }
 
 export interface ExportResult {
@@ -68,17 +74,18 @@ async function exportUnlocked(outDir: string, options: ExportOptions): Promise<E
   const now = options.now ?? new Date();
   // sql.js compiles while the inputs and the thumbnails are read
   preloadGpkg();
-  const run = await readRun(outDir);
-  const anomalies = streamAnomalies(outDir);
+  const read = { trusted: options.ownFiles === true };
+  const run = await readRun(outDir, read);
+  const anomalies = streamAnomalies(outDir, read);
   const writers: TargetFileWriter[] = [];
   const staged: StagedFile[] = [];
   try {
     // The first step checks the whole file (every input error of anomalies.geojson is thrown here, before
     // velocity.json and the rest are read, as when it was read whole).
     const first = await anomalies.next();
-    const velocity = await readVelocity(outDir);
+    const velocity = await readVelocity(outDir, read);
     const review = await readReview(join(outDir, 'review.json'), run.identity);
-    const slices = await readSlicesInfo(outDir);
+    const slices = await readSlicesInfo(outDir, read);
     const freq = run.site.antenna?.frequencyMHz;
     const ctx: ExportContext = {
       siteName: run.site.name,

@@ -68,9 +68,24 @@ export async function readJsonFile(file: string, options: { optional?: boolean }
 const isObj = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
 const num = (v: number | null | undefined): number | undefined => (typeof v === 'number' && Number.isFinite(v) ? v : undefined);
 
-export async function readRun(outDir: string): Promise<RunInfo> {
+/**
+ * How the folder's files are read. `trusted`: they were written by the caller itself in this process
+ * (`lamina process` exporting into its own stage), from objects of the contracts' types, so they are not
+ * checked against their schemas again; `checkContract` returns the very object it is given, so what is
+ * read is the same. The other checks (unique ids, depth order, the CRS) still run. @default checked
+ */
+export interface ReadOptions {
+  trusted?: boolean;
+}
+
+/** `checkContract`, or the object as it is for a trusted file. */
+function contract<S extends Parameters<typeof checkContract>[0]>(schema: S, json: unknown, file: string, options: ReadOptions, at?: string): ReturnType<typeof checkContract<S>> {
+  return options.trusted ? (json as ReturnType<typeof checkContract<S>>) : checkContract(schema, json, file, at !== undefined ? { at } : {});
+}
+
+export async function readRun(outDir: string, options: ReadOptions = {}): Promise<RunInfo> {
   const file = join(outDir, 'run.json');
-  const j = checkContract(runSchema, await readJsonFile(file), file);
+  const j = contract(runSchema, await readJsonFile(file), file, options);
   const site = j.site;
   const c = site.crs;
   // proj4 first (it is what the run actually used); the code names the CRS in outputs.
@@ -161,9 +176,9 @@ export async function* streamFeatures(file: string): AsyncGenerator<unknown, voi
 const featureSchema = anomaliesSchema.shape.features.element;
 
 /** Checks one feature of anomalies.geojson (index `i`; `ids` the ids before it) as readAnomalies does. */
-function anomalyOf(file: string, f: unknown, i: number, ids: Set<string>): AnomalyFeature {
+function anomalyOf(file: string, f: unknown, i: number, ids: Set<string>, options: ReadOptions): AnomalyFeature {
   const at = `features[${i}]`;
-  const a = checkContract(featureSchema, f, file, { at });
+  const a = contract(featureSchema, f, file, options, at);
   const p = a.properties;
   if (ids.has(p.id)) throw new InputError(file, `expected unique anomaly ids, found "${p.id}" twice`, { field: `${at}.properties.id` });
   ids.add(p.id);
@@ -181,7 +196,7 @@ const collectionError = (file: string, j: unknown) =>
  * a layout that breaks late still falls back to the whole-file read as before), the second yields.
  * Held: one feature and the set of ids (for uniqueness). Other layouts are read whole.
  */
-export async function* streamAnomalies(outDir: string): AsyncGenerator<AnomalyFeature, void> {
+export async function* streamAnomalies(outDir: string, options: ReadOptions = {}): AsyncGenerator<AnomalyFeature, void> {
   const file = join(outDir, 'anomalies.geojson');
   let headType: unknown;
   let firstError: unknown;
@@ -194,7 +209,7 @@ export async function* streamAnomalies(outDir: string): AsyncGenerator<AnomalyFe
     if ('head' in v) headType = v.head.type;
     else if (firstError === undefined) {
       try {
-        anomalyOf(file, v.feature, n++, ids);
+        anomalyOf(file, v.feature, n++, ids, options);
       } catch (e) {
         firstError = e;
       }
@@ -205,7 +220,7 @@ export async function* streamAnomalies(outDir: string): AsyncGenerator<AnomalyFe
     if (!isObj(j) || j.type !== 'FeatureCollection' || !Array.isArray(j.features)) throw collectionError(file, j);
     // Whole in memory already: check every feature before yielding the first, as for the line layout.
     const seen = new Set<string>();
-    yield* j.features.map((f, i) => anomalyOf(file, f, i, seen));
+    yield* j.features.map((f, i) => anomalyOf(file, f, i, seen, options));
     return;
   }
   if (headType !== 'FeatureCollection') throw collectionError(file, { type: headType });
@@ -215,7 +230,7 @@ export async function* streamAnomalies(outDir: string): AsyncGenerator<AnomalyFe
   const again = featureLines(file);
   try {
     let s = await again.next();
-    for (; !s.done; s = await again.next()) if ('feature' in s.value) yield anomalyOf(file, s.value.feature, i++, ids);
+    for (; !s.done; s = await again.next()) if ('feature' in s.value) yield anomalyOf(file, s.value.feature, i++, ids, options);
     if (!s.value || i !== n) throw new InputError(file, `expected the file unchanged while it was read, found ${i} features where there were ${n}`);
   } finally {
     await again.return(false); // closes the file when the caller stops early
@@ -230,9 +245,9 @@ export async function readAnomalies(outDir: string): Promise<AnomalyFeature[]> {
 }
 
 /** velocity.json; a missing file is an error (depths and their uncertainty come from it). */
-export async function readVelocity(outDir: string): Promise<VelocityInfo> {
+export async function readVelocity(outDir: string, options: ReadOptions = {}): Promise<VelocityInfo> {
   const file = join(outDir, 'velocity.json');
-  const j = checkContract(velocitySchema, await readJsonFile(file), file);
+  const j = contract(velocitySchema, await readJsonFile(file), file, options);
   const spread = num(j.site.spreadMPerNs);
   const k = num(j.site.permittivity);
   const n = num(j.site.fitCount);
@@ -240,8 +255,8 @@ export async function readVelocity(outDir: string): Promise<VelocityInfo> {
 }
 
 /** slices.json; missing is allowed (the report then has no thumbnails). */
-export async function readSlicesInfo(outDir: string): Promise<SlicesJson | undefined> {
+export async function readSlicesInfo(outDir: string, options: ReadOptions = {}): Promise<SlicesJson | undefined> {
   const file = join(outDir, 'slices.json');
   const j = await readJsonFile(file, { optional: true });
-  return j === undefined ? undefined : checkContract(slicesSchema, j, file);
+  return j === undefined ? undefined : contract(slicesSchema, j, file, options);
 }

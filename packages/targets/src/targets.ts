@@ -289,32 +289,53 @@ export function buildTargets(
   return { targets, dropped };
 }
 
+function ringsOf(g: Geometry): number[][][] {
+  return g.type === 'Polygon' ? g.coordinates : g.type === 'MultiPolygon' ? g.coordinates.flat() : [];
+}
+
 /** Even-odd point in polygon over all rings (holes included). */
-function inside(p: number[], g: Geometry): boolean {
-  const rings = g.type === 'Polygon' ? g.coordinates : g.type === 'MultiPolygon' ? g.coordinates.flat() : [];
+function insideRings(px: number, py: number, rings: number[][][]): boolean {
   let odd = false;
   for (const r of rings) {
     for (let i = 0, j = r.length - 1; i < r.length; j = i++) {
-      const [xi, yi] = r[i] as [number, number];
-      const [xj, yj] = r[j] as [number, number];
-      if (yi > p[1]! !== yj > p[1]! && p[0]! < ((xj - xi) * (p[1]! - yi)) / (yj - yi) + xi) odd = !odd;
+      const a = r[i]!, b = r[j]!;
+      const xi = a[0]!, yi = a[1]!, xj = b[0]!, yj = b[1]!;
+      if (yi > py !== yj > py && px < ((xj - xi) * (py - yi)) / (yj - yi) + xi) odd = !odd;
     }
   }
   return odd;
 }
 
+/**
+ * Each vertex's depth: the shallowest top of the members whose outline holds it (a finite one), else
+ * `fallback`. The members are tried shallowest first, and a vertex outside a member's rings' vertical
+ * extent crosses none of its edges (each edge test asks for one end above the vertex and one at or below
+ * it), so it skips that member: the same depths as testing every member.
+ */
 function vertexDepths(line: number[][], members: unknown, fallback: number): number[] {
   const ms = Array.isArray(members)
     ? members.flatMap((m) => {
         const o = typeof m === 'object' && m !== null ? (m as { topM?: unknown; outline?: unknown }) : {};
         const g = asGeometry(o.outline);
-        return typeof o.topM === 'number' && g ? [{ topM: o.topM, g }] : [];
+        if (typeof o.topM !== 'number' || !g) return [];
+        const rings = ringsOf(g);
+        let y0 = Infinity, y1 = -Infinity;
+        for (const r of rings) for (const q of r) {
+          y0 = Math.min(y0, q[1]!);
+          y1 = Math.max(y1, q[1]!);
+        }
+        return [{ topM: o.topM, rings, y0, y1 }];
       })
     : [];
+  // (a top that is NaN or +Infinity is never the shallowest; -Infinity, the shallowest of all, gives the fallback)
+  const sorted = ms.filter((m) => m.topM < Infinity).sort((a, b) => a.topM - b.topM);
   return line.map((p) => {
-    let best = Infinity;
-    for (const m of ms) if (m.topM < best && inside(p, m.g)) best = m.topM;
-    return Number.isFinite(best) ? best : fallback;
+    const px = p[0]!, py = p[1]!;
+    for (const m of sorted) {
+      if (py < m.y0 || py >= m.y1) continue;
+      if (insideRings(px, py, m.rings)) return Number.isFinite(m.topM) ? m.topM : fallback;
+    }
+    return fallback;
   });
 }
 
