@@ -1,6 +1,6 @@
 import { C_M_PER_NS } from '@lamina/constants';
 import type { AirObjects } from '@lamina/processing';
-import { reflectorsOf } from '@lamina/screening';
+import { reflectorsOf, type ReflectorKind } from '@lamina/screening';
 import type { PlanFeature } from '@lamina/site';
 import type { HyperbolaFit } from '@lamina/velocity';
 import type { Pass1Result } from './line-task';
@@ -33,7 +33,7 @@ export function planAirObjects(plan: PlanFeature[], metresPerUnit: number): AirO
  * timber posts up to 0.1 m, building columns up to 0.4 m, tree trunks up to 0.5 m). A plan point is the
  * centre; the air wave returns from the nearest face (`AirObjects.pointRadiiM`).
  */
-const POINT_RADIUS_M: Partial<Record<string, number>> = { post: 0.1, column: 0.4, tree: 0.5 };
+const POINT_RADIUS_M: Partial<Record<ReflectorKind, number>> = { post: 0.1, column: 0.4, tree: 0.5 };
 
 /**
  * What one line's `airEvents` step needs: the plan's objects within reach of its record (an air wave
