@@ -17,6 +17,7 @@ import { sideOutputs, type SideOutputsResult, type SideOutputsTask } from './sid
 import { addParts, StageTimer, type ProcessTimings } from './timings';
 import { preflight } from './preflight';
 import { pass1Sampled } from './sampled-pass';
+import { settleAll } from './settle';
 import { airObjectsFor, planAirObjects } from './air-objects';
 import { adoptSurveyVelocity, readSurveyVelocity, type SurveyVelocity } from './survey-velocity';
 import { checkSurveyWindows, recordWindows } from './windows';
@@ -147,17 +148,6 @@ async function inOrder<T>(n: number, start: (i: number) => Promise<T>, onDone: (
       }),
     ),
   );
-}
-
-/**
- * The values of all tasks, once every one has settled; then the first failure is thrown. A task still
- * writing into the stage folder after it was removed would leave a partial one behind.
- */
-async function settleAll<T>(tasks: Promise<T>[]): Promise<T[]> {
-  const settled = await Promise.allSettled(tasks);
-  const failed = settled.find((s): s is PromiseRejectedResult => s.status === 'rejected');
-  if (failed) throw failed.reason;
-  return settled.map((s) => (s as PromiseFulfilledResult<T>).value);
 }
 
 /**

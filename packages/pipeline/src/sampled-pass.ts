@@ -1,4 +1,5 @@
 import { spreadOrder, type HyperbolaFit, type SiteSampler } from '@lamina/velocity';
+import { settleAll } from './settle';
 
 /** What `pass1Sampled` reads and changes of a line's pass-1 result. */
 export interface SampledLine {
@@ -42,9 +43,8 @@ export async function pass1Sampled<R extends SampledLine>(
       onDone(++done);
     }
   };
-  // every worker settles before the first failure is thrown (a task still writing into the stage
-  // folder after it was removed would leave a partial one behind)
-  const settled = await Promise.allSettled(
+  // every worker settles before the first failure is thrown (`settleAll`)
+  await settleAll(
     Array.from({ length: Math.min(inFlight, n) }, () =>
       worker().catch((e: unknown) => {
         failed = true;
@@ -52,8 +52,6 @@ export async function pass1Sampled<R extends SampledLine>(
       }),
     ),
   );
-  const failure = settled.find((x): x is PromiseRejectedResult => x.status === 'rejected');
-  if (failure) throw failure.reason;
   const out: R[] = new Array(n);
   for (let k = 0; k < n; k++) {
     const r = byPosition[k]!;
