@@ -22,7 +22,7 @@ export interface Pass1Task {
   line: number;
   recipe: Recipe;
   stageDir: string;
-  /** Detect and fit hyperbolas on this line (false once the site has enough fits: `enoughFits`). @default true */
+  /** Detect and fit hyperbolas on this line (false once the site velocity is known: `SiteSampler`). @default true */
   detect?: boolean;
   /** Keep the processed line (and the line before background removal) in the stage folder for pass 2. @default false */
   keepLine?: boolean;

@@ -43,4 +43,4 @@ export { toHyperbolaFit, lineHyperbolas, buildVelocityReport, velocityJson, velo
 export { parsePicks, fitManualPicks, type PicksFile, type ManualHyperbola } from './picks';
 export { lineDirection, correctObliqueCrossings, type ObliqueOptions } from './oblique';
 export { recipeForVelocity } from './recipe';
-export { spreadOrder, enoughFits, effectiveObjects, SiteSampler, type SamplingOptions, type SiteSamplerOptions, type SiteEstimate } from './sampling';
+export { spreadOrder, effectiveObjects, SiteSampler, type SamplingOptions, type SiteSamplerOptions, type SiteEstimate } from './sampling';

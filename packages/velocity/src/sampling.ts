@@ -1,12 +1,11 @@
-import { medianHigh } from '@lamina/stats';
 import type { HyperbolaFit, VelocityReport } from './model';
-import { objectGroups, robustCentre, siteVelocityOf, usableForSite } from './site-model';
+import { fitWeights, objectGroups, siteVelocityOf, usableForSite } from './site-model';
 
 /**
  * Which lines a large site needs fitted for its velocity model. Fitting every candidate on every line
  * of a large site buys nothing once the site velocity is known well: with `sampleVelocityLines` (off by
  * default) `lamina process` takes lines in `spreadOrder` (so the first few already span the site) and
- * stops detecting hyperbolas on new lines once `enoughFits` holds. The lines after that are still processed, gridded and screened; they only
+ * stops detecting hyperbolas on new lines once `SiteSampler` says the site velocity is known. The lines after that are still processed, gridded and screened; they only
  * carry no fits.
  *
  * What screening loses: its hyperbola evidence (`hyperbolaHits`: above-ground fits pointing at plan
@@ -49,30 +48,6 @@ export function spreadOrder(n: number): number[] {
   return out;
 }
 
-/**
- * True when the fits of `linesFitted` lines (of `nLines`) pin the site velocity down: enough usable
- * fits and independent objects, enough lines, and a relative standard error of the weighted median
- * (1.2533 sigma / sqrt(n), n the objects) below the target. Thresholds: our own choice (a 2 % velocity
- * error is a 2 % depth error, well inside the depth uncertainty a locate carries), not tuned on a site.
- */
-export function enoughFits(fits: HyperbolaFit[], linesFitted: number, nLines: number, options: SamplingOptions = {}): boolean {
-  const minLines = options.minLines ?? 8;
-  if (nLines <= 2 * minLines || linesFitted < minLines) return false;
-  const usable = fits.filter((f) => usableForSite(f));
-  if (usable.length < (options.minFits ?? 30)) return false;
-  const { sizes, group } = objectGroups(usable, { metresPerUnit: options.metresPerUnit ?? 1 });
-  if (sizes.length < (options.minObjects ?? 10)) return false;
-  // The site model's weights (`siteVelocityModel`): 1 / max(sigma, 2 % of the median v)^2, shared within an object.
-  const v = usable.map((f) => f.velocityMPerNs);
-  const floor = 0.02 * medianHigh(v);
-  const { centre, spread } = robustCentre(
-    v,
-    usable.map((f, i) => 1 / Math.max(f.uncertaintyMPerNs, floor) ** 2 / sizes[group[i]!]!),
-  );
-  const se = (1.2533 * spread) / Math.sqrt(sizes.length) / centre;
-  return se < (options.targetStandardError ?? 0.02);
-}
-
 /** What `SiteSampler` reads of a site velocity model worked out from some fits (`buildVelocityReport`). */
 export type SiteEstimate = Pick<VelocityReport, 'site' | 'model'>;
 
@@ -85,12 +60,10 @@ export type SiteEstimate = Pick<VelocityReport, 'site' | 'model'>;
 export function effectiveObjects(fits: HyperbolaFit[], options: { metresPerUnit?: number; uncertaintyFloor?: number } = {}): number {
   const usable = fits.filter((f) => usableForSite(f));
   if (usable.length === 0) return 0;
-  const v = usable.map(siteVelocityOf);
-  const plain = medianHigh(v);
-  const floor = (options.uncertaintyFloor ?? 0.02) * plain;
+  const { fitWeight } = fitWeights(usable, siteVelocityOf, options.uncertaintyFloor);
   const { group, sizes } = objectGroups(usable, { metresPerUnit: options.metresPerUnit ?? 1 });
   const w = new Float64Array(sizes.length);
-  usable.forEach((f, i) => (w[group[i]!]! += 1 / Math.max((f.uncertaintyMPerNs / v[i]!) * plain, floor) ** 2));
+  usable.forEach((f, i) => (w[group[i]!]! += fitWeight(f)));
   let s = 0, s2 = 0;
   for (const x of w) {
     s += x;

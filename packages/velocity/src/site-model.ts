@@ -160,6 +160,18 @@ export function siteVelocityOf(f: HyperbolaFit): number {
 }
 
 /**
+ * The per-fit weights of the site's weighted median over the usable fits: 1 / sigma^2, sigma the fit's
+ * relative uncertainty times the plain median velocity (relative: K's relative error is twice v's, and a
+ * slow fit is not more certain for being slow), floored at `uncertaintyFloor` of that median (`floor`,
+ * m/ns) so no single near-exact fit outweighs the rest. `vOf` is the velocity each fit gives the site.
+ */
+export function fitWeights(usable: HyperbolaFit[], vOf: (f: HyperbolaFit) => number = siteVelocityOf, uncertaintyFloor = 0.02): { fitWeight: (f: HyperbolaFit) => number; floor: number } {
+  const plainMedian = usable.length > 0 ? medianHigh(usable.map(vOf)) : 0.1;
+  const floor = uncertaintyFloor * plainMedian;
+  return { fitWeight: (f) => 1 / Math.max((f.uncertaintyMPerNs / vOf(f)) * plainMedian, floor) ** 2, floor };
+}
+
+/**
  * Site velocity from the usable fits: weighted median with a 1.4826 x weighted-MAD spread (at least the
  * `uncertaintyFloor`); weights 1/sigma^2 of each fit (`objectWeights` 'perFit'). Each line that crosses a
  * pipe samples the soil above another stretch of it, and the fits of one compact object are few: shared
@@ -182,14 +194,11 @@ export function siteVelocityOf(f: HyperbolaFit): number {
 export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOptions = {}): Pick<VelocityReport, 'site' | 'model'> {
   const usable = fits.filter((f) => usableForSite(f, options));
   const vOf = (f: HyperbolaFit) => (options.unresolvedVelocity === 'point' ? f.velocityMPerNs : siteVelocityOf(f));
-  const plainMedian = usable.length > 0 ? medianHigh(usable.map(vOf)) : 0.1;
-  const floor = (options.uncertaintyFloor ?? 0.02) * plainMedian;
+  const { fitWeight, floor } = fitWeights(usable, vOf, options.uncertaintyFloor);
   const { group, sizes } = objectGroups(usable, { metresPerUnit: options.metresPerUnit ?? 1 });
   const objectOf = new Map<HyperbolaFit, number>(usable.map((f, i) => [f, group[i]!]));
-  // 1 / sigma^2 (relative: K's relative error is twice v's, and a slow fit is not more certain for being
-  // slow), floored; for the site's median per fit unless asked (`objectWeights`), for the layer test
-  // always shared among an object's fits: its BIC counts objects, the independent samples
-  const fitWeight = (f: HyperbolaFit) => 1 / Math.max((f.uncertaintyMPerNs / vOf(f)) * plainMedian, floor) ** 2;
+  // per fit for the site's median unless asked (`objectWeights`), for the layer test always shared among
+  // an object's fits: its BIC counts objects, the independent samples
   const objectWeight = (f: HyperbolaFit) => fitWeight(f) / sizes[objectOf.get(f)!]!;
   const weightOf = options.objectWeights === 'shared' ? objectWeight : fitWeight;
   const deepest = usable.reduce((m, f) => Math.max(m, f.depthM), 0);

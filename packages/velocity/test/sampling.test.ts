@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { buildVelocityReport, effectiveObjects, enoughFits, permittivityFromVelocity, SiteSampler, spreadOrder, type HyperbolaFit } from '../src';
+import { buildVelocityReport, effectiveObjects, permittivityFromVelocity, SiteSampler, spreadOrder, type HyperbolaFit } from '../src';
 import { gauss, rng } from './synth';
 
 function fit(v: number, x: number, y: number, sigma = 0.002): HyperbolaFit {
@@ -20,21 +20,6 @@ describe('sampling of lines for the site velocity', () => {
         for (let i = 1; i < s.length; i++) expect(s[i]! - s[i - 1]!).toBeLessThanOrEqual(Math.ceil(n / 4));
       }
     }
-  });
-
-  it('enoughFits: not for small sites or few objects; yes once the standard error is below 2 %', () => {
-    const g = gauss(rng(5));
-    // 40 separate objects (5 m apart) with a 3 % scatter: SE = 1.2533 x 0.003 / sqrt(40) / 0.1 = 0.6 %.
-    const good = Array.from({ length: 40 }, (_, i) => fit(0.1 * (1 + 0.03 * g()), 5 * i, 0));
-    expect(enoughFits(good, 10, 33)).toBe(true);
-    expect(enoughFits(good, 10, 16)).toBe(false); // a small site is always fitted in full
-    expect(enoughFits(good, 5, 33)).toBe(false); // too few lines fitted yet
-    // One pipe on 40 lines is one object, however many fits it gives.
-    const onePipe = Array.from({ length: 40 }, (_, i) => fit(0.1, 0, 0.5 * i));
-    expect(enoughFits(onePipe, 10, 33)).toBe(false);
-    // A 30 % scatter over 40 objects: SE 6 %, keep fitting.
-    const wide = Array.from({ length: 40 }, (_, i) => fit(0.1 * (1 + 0.3 * g()), 5 * i, 0));
-    expect(enoughFits(wide, 10, 33)).toBe(false);
   });
 
   it('effectiveObjects: m objects of equal weight count m, one object holding all the weight counts 1', () => {
