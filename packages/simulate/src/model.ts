@@ -3,6 +3,7 @@ import { buildMedium, type Medium } from './medium';
 import { C_M_PER_NS } from '@lamina/constants';
 import { MATERIAL_PERMITTIVITY, materialReflection, type Material } from './physics';
 import { ringArea } from './geometry';
+import { linesAroundObstructions } from './swath';
 
 /**
  * The scenario turned into what the forward model needs: reflectors in local metres (x east and y north
@@ -154,6 +155,7 @@ function airReflection(material: Material, permittivity: number | undefined, fal
 
 export function buildModel(s: Scenario, metresPerUnit: number, clutterRng: () => number): Model {
   const mpu = metresPerUnit;
+  const antenna = s.antenna;
   const [ox, oy] = s.survey.origin;
   const lx = (x: number): number => (x - ox) * mpu;
   const ly = (y: number): number => (y - oy) * mpu;
@@ -293,7 +295,7 @@ export function buildModel(s: Scenario, metresPerUnit: number, clutterRng: () =>
   const ids = Array.from({ length: nLines + nCross }, (_, i) => lineId(i, nLines + nCross));
   const startEnd = new Set(sv.startEndLines ?? (nLines >= 3 ? [ids[1]!] : []));
   const csv = new Set(sv.csvLines ?? (nLines >= 3 ? [ids[2]!] : []));
-  const lines: LineGeom[] = [];
+  let lines: LineGeom[] = [];
   for (let i = 0; i < nLines; i++) {
     const reverse = (sv.pattern ?? 'zigzag') === 'zigzag' && i % 2 === 1;
     const mx = new Float64Array(nTraces);
@@ -326,6 +328,8 @@ export function buildModel(s: Scenario, metresPerUnit: number, clutterRng: () =>
       lines.push({ id, index: nLines + i, mx, my, dx: d * rx, dy: d * ry, positionSource: startEnd.has(id) ? 'startEnd' : csv.has(id) ? 'csv' : 'headers' });
     }
   }
+
+  if (sv.cartHalfWidthM !== undefined) lines = linesAroundObstructions(lines, scatterers, sv.cartHalfWidthM, antenna.separationM);
 
   // Clutter: stones and roots, uniformly over the surveyed rectangle plus a metre around it.
   const density = s.noise?.clutterPerM2 ?? 0.3;
@@ -364,19 +368,18 @@ export function buildModel(s: Scenario, metresPerUnit: number, clutterRng: () =>
     scatterers.push({ type: 'segment', truth: -1, medium: 'soil', ax: x0, ay: y0, az: z0, bx: x1, by: y1, bz: z1, radius, r, spread: 'cylinder', polarised: true });
   }
 
-  const a = s.antenna;
   const rec = s.recording;
   return {
     scenario: s,
     metresPerUnit: mpu,
     origin: [ox, oy],
     medium,
-    frequencyMHz: a.frequencyMHz,
-    separationM: a.separationM,
-    beamExponent: a.beamExponent ?? 1,
-    shielding: a.shielding ?? 0.35,
-    directWave: a.directWave ?? 1,
-    groundWave: a.groundWave ?? 0.6,
+    frequencyMHz: antenna.frequencyMHz,
+    separationM: antenna.separationM,
+    beamExponent: antenna.beamExponent ?? 1,
+    shielding: antenna.shielding ?? 0.35,
+    directWave: antenna.directWave ?? 1,
+    groundWave: antenna.groundWave ?? 0.6,
     dtNs: rec.sampleIntervalNs,
     nSamples: rec.samples,
     timeZeroNs: rec.timeZeroNs,

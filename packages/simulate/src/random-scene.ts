@@ -33,6 +33,9 @@ function int(r: Rng, lo: number, hi: number): number {
   return lo + Math.floor(r.next() * (hi - lo + 1));
 }
 
+/** Half the width of a survey cart (carts are about 0.5-0.7 m wide; common practice, no source). */
+export const CART_HALF_WIDTH_M = 0.3;
+
 /** A random scene (see the README for the ranges). */
 export function randomScenario(seed: number, options: RandomScenarioOptions = {}): Scenario {
   const r = rng(seed, 'random-scene');
@@ -239,6 +242,8 @@ export function randomScenario(seed: number, options: RandomScenarioOptions = {}
       traceSpacingM: r3(traceSpacing),
       pattern: r.next() < 0.7 ? 'zigzag' : 'parallel',
       positionNoiseM: r3(0.02 * r.next()),
+      // no cart drives through a post or a column: lines go around what stands on the ground
+      cartHalfWidthM: CART_HALF_WIDTH_M,
       ...(cross ? { crossAzimuthDeg: (az + 90) % 360 } : {}),
     },
     plan,

@@ -195,6 +195,12 @@ export const scenarioSchema = z.strictObject({
     crossAzimuthDeg: num.optional(),
     /** Line spacing of the second grid (m). @default lineSpacingM */
     crossLineSpacingM: pos.optional(),
+    /**
+     * Half the cart's width (m). Given, lines go around what stands on the ground: no trace is recorded
+     * where the cart would overlap a post, tree, column, wall, fence or building, and the line goes on
+     * after it as a new file (ids "l05b", "l05c", ...). Absent, lines run through them. @default absent
+     */
+    cartHalfWidthM: pos.optional(),
   }),
   plan: z.array(planFeatureSchema).default([]),
   buried: z.array(buriedSchema).default([]),

@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { C_M_PER_NS } from '@lamina/constants';
-import { parseScenario, randomScenario } from '../src';
+import { buildModel, parseScenario, randomScenario } from '../src';
+import { CART_HALF_WIDTH_M } from '../src/random-scene';
 
 describe('randomScenario', () => {
   it('is deterministic per seed, differs between seeds, and always validates', () => {
@@ -45,5 +46,32 @@ describe('randomScenario', () => {
     }
     // every kind of scene occurs in the population
     for (const n of [cross, noObstruction, big, overhead, layered]) expect(n).toBeGreaterThan(10);
+  });
+
+  it('keeps the cart off posts, trees and columns: lines go around them (no cart drives through a column)', () => {
+    let standing = 0, among = 0, split = 0;
+    for (let seed = 1; seed <= 200; seed++) {
+      const s = randomScenario(seed);
+      // the simulator's own trace positions (local metres from the survey origin) and above-ground truth
+      const m = buildModel(s, 1, () => 0.5);
+      const [E0, N0] = s.survey.origin;
+      if (m.lines.some((l) => /[a-z]$/.test(l.id))) split++;
+      for (const o of m.above) {
+        if (o.kind !== 'post' && o.kind !== 'tree' && o.kind !== 'column') continue;
+        standing++;
+        const x = o.center![0] - E0, y = o.center![1] - N0;
+        let d = Infinity;
+        for (const l of m.lines) for (let j = 0; j < l.mx.length; j++) d = Math.min(d, Math.hypot(l.mx[j]! - x, l.my[j]! - y));
+        // no antenna midpoint within the cart's half width plus the object's radius
+        expect(d).toBeGreaterThanOrEqual(CART_HALF_WIDTH_M + o.radiusM!);
+        const az = (s.survey.azimuthDeg * Math.PI) / 180;
+        const a = x * Math.sin(az) + y * Math.cos(az), b = x * Math.cos(az) - y * Math.sin(az);
+        if (a > 0 && a < s.survey.lengthM && b > 0 && b < s.survey.widthM) among++;
+      }
+    }
+    // objects still stand among the lines, and the lines stop at them
+    expect(standing).toBeGreaterThan(100);
+    expect(among).toBeGreaterThan(50);
+    expect(split).toBeGreaterThan(20);
   });
 });
