@@ -29,6 +29,7 @@ import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { parseScenario, randomScenario } from '../packages/simulate/src/index';
+import { intervalLine, poolIntervals } from './field-intervals';
 import { beforeRow, classLines, directionRows, formatTable, parseSeeds, pool, runScene, runScenes, single, tableLine, type FieldRow } from './field-lib';
 
 const here = dirname(fileURLToPath(import.meta.url));
@@ -88,6 +89,13 @@ const table = [
   ...rows.filter((r) => r.half === 'sample').map((r) => tableLine(single(r), r)),
 ];
 console.log('\n' + formatTable(table));
+// how far the pooled figures move with the choice of scenes alone (bench/field-intervals.ts)
+const tuneIntervals = poolIntervals(rows.filter((r) => r.half === 'tune'));
+const heldIntervals = poolIntervals(rows.filter((r) => r.half === 'held-out'));
+console.log(`\n90 % intervals over scenes (bootstrap: 2000 populations of as many scenes drawn with replacement; a gap
+narrower than these is not yet a result; compare two runs on the same scenes with bench/field-compare.ts):
+${intervalLine('TUNE', tuneIntervals)}
+${intervalLine('HELD-OUT', heldIntervals)}`);
 // two-direction scenes, both directions together and each alone (LAMINA_BENCH_FIELD_DIRECTIONS=1)
 const crossed = rows.filter((r) => r.byDirection?.length);
 if (crossed.length > 0) {
@@ -127,7 +135,7 @@ for (const p of [tune, held]) console.log(`\nanomaly class (properties.class; no
 
 const outDir = join(here, 'out');
 mkdirSync(outDir, { recursive: true });
-writeFileSync(join(outDir, 'field.json'), JSON.stringify({ createdAt: new Date().toISOString(), commit, seeds, rows, pooled: { tune, heldOut: held, ...(airBefore ? { tuneKept: pool('TUNE --keep-air-events', kept('tune')), heldOutKept: pool('HELD-OUT --keep-air-events', kept('held-out')) } : {}) } }, null, 1) + '\n');
+writeFileSync(join(outDir, 'field.json'), JSON.stringify({ createdAt: new Date().toISOString(), commit, seeds, rows, pooled: { tune, heldOut: held, tuneIntervals, heldOutIntervals: heldIntervals, ...(airBefore ? { tuneKept: pool('TUNE --keep-air-events', kept('tune')), heldOutKept: pool('HELD-OUT --keep-air-events', kept('held-out')) } : {}) } }, null, 1) + '\n');
 console.log(`wrote ${join(outDir, 'field.json')}`);
 if (keep) console.log(`kept the site and output folders in ${work}`);
 else rmSync(work, { recursive: true, force: true });

@@ -6,7 +6,8 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { randomScenario } from '@lamina/simulate';
 import { airMeasures, suppressionDb } from '../bench/air-measure';
-import { parseSeeds, pool, runScene, runScenes } from '../bench/field-lib';
+import { emptyRow, parseSeeds, pool, runScene, runScenes, type FieldRow } from '../bench/field-lib';
+import { pairedIntervals, poolIntervals } from '../bench/field-intervals';
 
 const work = mkdtempSync(join(tmpdir(), 'lamina-field-smoke-'));
 afterAll(() => rmSync(work, { recursive: true, force: true }));
@@ -55,5 +56,29 @@ describe('pnpm bench field (smoke)', () => {
     expect(most).toBe(2);
     expect(ended).not.toEqual(out);
     expect([...ended].sort((a, b) => a - b)).toEqual([...out].sort((a, b) => a - b));
+  });
+
+  it('puts bootstrap intervals over scenes around the pooled figures, and paired ones around a difference', () => {
+    // scenes with 10 targets each, 5..9 of them on buried objects (pooled precision 0.7)
+    const scene = (i: number, buried: number): FieldRow => ({ ...emptyRow(`s${i}`, 'tune', i), targets: 10, buriedTargets: buried, utilitySurveyedM: 10, utilityCoveredM: 8 });
+    const rows = [5, 6, 7, 8, 9, 5, 6, 7, 8, 9].map((b, i) => scene(i, b));
+    const iv = poolIntervals(rows);
+    expect(pool('all', rows).precisionByCount).toBeCloseTo(0.7, 12);
+    expect(iv.precisionByCount![0]).toBeLessThan(0.7);
+    expect(iv.precisionByCount![1]).toBeGreaterThan(0.7);
+    // the same rows give the same intervals; identical scenes give none of width
+    expect(poolIntervals(rows)).toEqual(iv);
+    expect(poolIntervals(rows.map((r) => ({ ...r, buriedTargets: 7 }))).precisionByCount).toEqual([0.7, 0.7]);
+    expect(iv.utilityRecall).toEqual([0.8, 0.8]);
+    // a run against itself differs by 0 everywhere; one more buried target in every scene by exactly +0.1,
+    // an interval of no width, while each run's own interval is wide
+    const same = pairedIntervals(rows, rows);
+    expect(same.scenes).toBe(10);
+    expect(same.diff.precisionByCount).toEqual({ diff: 0, interval: [0, 0] });
+    const better = pairedIntervals(rows, rows.map((r) => ({ ...r, buriedTargets: r.buriedTargets + 1 })));
+    expect(better.diff.precisionByCount.diff).toBeCloseTo(0.1, 12);
+    expect(better.diff.precisionByCount.interval![0]).toBeCloseTo(0.1, 12);
+    expect(better.diff.precisionByCount.interval![1]).toBeCloseTo(0.1, 12);
+    expect(iv.precisionByCount![1] - iv.precisionByCount![0]).toBeGreaterThan(0.05);
   });
 });

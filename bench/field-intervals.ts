@@ -1,0 +1,106 @@
+// How far the field bench's pooled figures move with the choice of scenes alone (a bootstrap over scenes):
+// with 24 scenes a pooled precision moves by about +-8 to 15 points, so a gap between two populations or
+// two runs is a result only where it is wider than that. Reporting only: the figures themselves are
+// @lamina/scoring's frozen definitions, pooled by `pool` (bench/field-lib.ts).
+import { mulberry32 } from '../packages/random/src/index';
+import { pool, type FieldRow, type Pooled } from './field-lib';
+
+/** The pooled figures that get an interval. */
+export const INTERVAL_KEYS = ['precisionByCount', 'utilityRecall', 'piecesMean', 'airTargetShare', 'airFlagRecall', 'realFlaggedShare', 'kAbsErrorMean'] as const;
+export type IntervalKey = (typeof INTERVAL_KEYS)[number];
+
+export interface IntervalOptions {
+  /** Central share of the bootstrap values. @default 0.9 */
+  level?: number;
+  /** Populations drawn. @default 2000 */
+  draws?: number;
+  /** Seed of the draws (the same rows give the same intervals). @default 1 */
+  seed?: number;
+}
+
+/** The figure of one pooled row (null where the pool has nothing to divide by). */
+const figure = (p: Pooled, k: IntervalKey): number | null => p[k];
+
+/** The central `level` share of `values` (nulls left out), or null when none is left. */
+function central(values: (number | null)[], level: number): [number, number] | null {
+  const v = values.filter((x): x is number => x !== null && Number.isFinite(x)).sort((a, b) => a - b);
+  if (!v.length) return null;
+  const tail = (1 - level) / 2;
+  return [v[Math.floor(tail * (v.length - 1))]!, v[Math.ceil((1 - tail) * (v.length - 1))]!];
+}
+
+/** Indices of `n` scenes drawn with replacement, `draws` times. */
+function* resamples(n: number, draws: number, seed: number): Generator<number[]> {
+  const next = mulberry32(seed);
+  for (let d = 0; d < draws; d++) yield Array.from({ length: n }, () => Math.floor(next() * n));
+}
+
+/**
+ * Bootstrap intervals of the pooled figures over the scenes of `rows` (failed scenes left out): `draws`
+ * populations of as many scenes drawn with replacement, each pooled by `pool`, and the central `level`
+ * share of each figure.
+ */
+export function poolIntervals(rows: FieldRow[], options: IntervalOptions = {}): Record<IntervalKey, [number, number] | null> {
+  const ok = rows.filter((r) => !r.error);
+  const values = Object.fromEntries(INTERVAL_KEYS.map((k) => [k, [] as (number | null)[]])) as Record<IntervalKey, (number | null)[]>;
+  if (ok.length) {
+    for (const idx of resamples(ok.length, options.draws ?? 2000, options.seed ?? 1)) {
+      const p = pool('draw', idx.map((i) => ok[i]!));
+      for (const k of INTERVAL_KEYS) values[k].push(figure(p, k));
+    }
+  }
+  return Object.fromEntries(INTERVAL_KEYS.map((k) => [k, central(values[k], options.level ?? 0.9)])) as Record<IntervalKey, [number, number] | null>;
+}
+
+/**
+ * Two runs on the same scenes (rows matched by name; scenes failed in either are left out): each figure's
+ * difference b - a of the pooled rows, and its bootstrap interval with every draw taking the same scenes
+ * from both runs (far tighter than the two runs' own intervals, since most of a scene's figure is the scene).
+ */
+export function pairedIntervals(a: FieldRow[], b: FieldRow[], options: IntervalOptions = {}): { scenes: number; diff: Record<IntervalKey, { diff: number | null; interval: [number, number] | null }> } {
+  const byName = new Map(b.filter((r) => !r.error).map((r) => [r.name, r]));
+  const pairs = a.filter((r) => !r.error && byName.has(r.name)).map((r) => [r, byName.get(r.name)!] as const);
+  const delta = (pa: Pooled, pb: Pooled, k: IntervalKey): number | null => {
+    const x = figure(pa, k), y = figure(pb, k);
+    return x === null || y === null ? null : y - x;
+  };
+  const all = [pool('a', pairs.map((p) => p[0])), pool('b', pairs.map((p) => p[1]))] as const;
+  const values = Object.fromEntries(INTERVAL_KEYS.map((k) => [k, [] as (number | null)[]])) as Record<IntervalKey, (number | null)[]>;
+  if (pairs.length) {
+    for (const idx of resamples(pairs.length, options.draws ?? 2000, options.seed ?? 1)) {
+      const pa = pool('a', idx.map((i) => pairs[i]![0])), pb = pool('b', idx.map((i) => pairs[i]![1]));
+      for (const k of INTERVAL_KEYS) values[k].push(delta(pa, pb, k));
+    }
+  }
+  const diff = Object.fromEntries(INTERVAL_KEYS.map((k) => [k, { diff: pairs.length ? delta(all[0], all[1], k) : null, interval: central(values[k], options.level ?? 0.9) }]));
+  return { scenes: pairs.length, diff: diff as Record<IntervalKey, { diff: number | null; interval: [number, number] | null }> };
+}
+
+const LABELS: Record<IntervalKey, [string, number]> = {
+  precisionByCount: ['prec#', 100],
+  utilityRecall: ['util', 100],
+  piecesMean: ['pcs', 1],
+  airTargetShare: ['air', 100],
+  airFlagRecall: ['airflag', 100],
+  realFlaggedShare: ['realflag', 100],
+  kAbsErrorMean: ['K|err|', 100],
+};
+
+/** One line: each figure's interval (percentages as the table prints them). */
+export function intervalLine(name: string, iv: Record<IntervalKey, [number, number] | null>): string {
+  const cell = (k: IntervalKey) => {
+    const v = iv[k], [label, s] = LABELS[k];
+    return `${label} ${v ? `${(s * v[0]).toFixed(1)}..${(s * v[1]).toFixed(1)}` : '-'}`;
+  };
+  return `${name}: ${INTERVAL_KEYS.map(cell).join(', ')}`;
+}
+
+/** One line: each figure's paired difference b - a and its interval. */
+export function differenceLine(name: string, d: ReturnType<typeof pairedIntervals>): string {
+  const sign = (x: number) => (x > 0 ? '+' : '') + x.toFixed(1);
+  const cell = (k: IntervalKey) => {
+    const { diff, interval } = d.diff[k], [label, s] = LABELS[k];
+    return `${label} ${diff === null ? '-' : sign(s * diff)}${interval ? ` (${sign(s * interval[0])}..${sign(s * interval[1])})` : ''}`;
+  };
+  return `${name} (${d.scenes} scenes): ${INTERVAL_KEYS.map(cell).join(', ')}`;
+}
