@@ -8,6 +8,7 @@ import { basename, dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { scoreFolder } from '../packages/scoring/src/index';
 import { rng, simulateSite, type Scenario } from '../packages/simulate/src/index';
+import { simulateCached } from './site-cache';
 import { airMeasure, airMeasures, emptyAirMeasure, emptyAirSuppression, excessDb, measureDb, suppressionDb, type AirMeasure, type AirSuppression } from './air-measure';
 
 const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');
@@ -60,6 +61,8 @@ export interface FieldRow {
   airBefore: AirMeasure | null;
   /** Issue 18's paired measure of the two runs (bench/air-measure.ts `airMeasures`), when asked for (`airBefore`). */
   airSuppression: AirSuppression | null;
+  /** The site came from the site cache (`siteCache`): `simulateS` is then the time to link it. */
+  siteCached?: boolean;
   /** Plan features left out of the site's plan (`unsurveyedShare`), by id. */
   unsurveyed?: string[];
   /** The scoring's figures of the `--keep-air-events` run, when asked for (`airBefore`). */
@@ -98,6 +101,8 @@ export interface SceneRunOptions {
    * directions together never score worse than either alone. @default false
    */
   directions?: boolean;
+  /** Keep simulated sites in this folder and reuse them (bench/site-cache.ts). @default none (simulate every time) */
+  siteCache?: string;
 }
 
 /**
@@ -212,7 +217,8 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
   mkdirSync(workDir, { recursive: true });
   try {
     let t = performance.now();
-    await simulateSite(scenario, siteDir);
+    if (options.siteCache) row.siteCached = await simulateCached(scenario, siteDir, options.siteCache);
+    else await simulateSite(scenario, siteDir);
     if (options.unsurveyedShare && seed !== null) row.unsurveyed = leaveOutOfPlan(siteDir, seed, options.unsurveyedShare);
     row.simulateS = (performance.now() - t) / 1000;
     t = performance.now();

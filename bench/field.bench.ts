@@ -18,6 +18,9 @@
 //                                      worse than either direction alone; three runs of those scenes)
 //   LAMINA_BENCH_FIELD_UNSURVEYED=0.3  leave this share of each random scene's plan features out of its
 //                                      plan.geojson (objects nobody surveyed; still scored; default 0)
+//   LAMINA_BENCH_FIELD_SITE_CACHE=<dir>  keep the simulated sites in <dir> and reuse them on later runs
+//                                      (keyed by scenario and simulator sources, bench/site-cache.ts;
+//                                      about 20 MB a scene: clear the folder when done)
 //   LAMINA_BENCH_FIELD_NOISE_SEED=1    simulate every scene with this `noiseSeed` (@lamina/simulate: the same
 //                                      site surveyed again, only the receiver noise drawn anew). Two runs
 //                                      with different noise seeds show how far the pooled figures move on
@@ -47,6 +50,7 @@ const noiseSeed = process.env.LAMINA_BENCH_FIELD_NOISE_SEED === undefined ? unde
 if (noiseSeed !== undefined && !(Number.isInteger(noiseSeed) && noiseSeed >= 0)) throw new Error(`LAMINA_BENCH_FIELD_NOISE_SEED: expected an integer >= 0, found "${process.env.LAMINA_BENCH_FIELD_NOISE_SEED}"`);
 const withNoise = <T extends { noiseSeed?: number }>(s: T): T => (noiseSeed === undefined ? s : { ...s, noiseSeed });
 const work = mkdtempSync(join(tmpdir(), 'lamina-bench-field-'));
+const siteCache = process.env.LAMINA_BENCH_FIELD_SITE_CACHE ? resolve(process.env.LAMINA_BENCH_FIELD_SITE_CACHE) : undefined;
 
 const commit = (() => {
   try {
@@ -62,13 +66,13 @@ const rows: FieldRow[] = await runScenes(
   [...seeds.map((seed) => ({ seed, name: null as string | null })), ...samples.map((name) => ({ seed: null as number | null, name }))],
   jobs,
   ({ seed, name }) => {
-    if (seed !== null) return runScene(withNoise(randomScenario(seed)), work, seed % 2 === 1 ? 'tune' : 'held-out', seed, { threads, keep, airBefore, unsurveyedShare, directions });
+    if (seed !== null) return runScene(withNoise(randomScenario(seed)), work, seed % 2 === 1 ? 'tune' : 'held-out', seed, { threads, keep, airBefore, unsurveyedShare, directions, ...(siteCache ? { siteCache } : {}) });
     const file = join(root, 'sample-sites', name!, 'scenario.json');
-    return runScene(withNoise(parseScenario(JSON.parse(readFileSync(file, 'utf8')), file)), work, 'sample', null, { threads, keep, airBefore });
+    return runScene(withNoise(parseScenario(JSON.parse(readFileSync(file, 'utf8')), file)), work, 'sample', null, { threads, keep, airBefore, ...(siteCache ? { siteCache } : {}) });
   },
   (row) => {
     const found = row.half === 'sample' ? `${row.targets} targets` : `${row.targets} targets, ${row.buriedTargets} on buried objects`;
-    console.log(`  ${row.name}: ${row.error ? `FAILED ${row.error}` : found} (${row.simulateS.toFixed(1)} + ${row.processS.toFixed(1)} s)${row.unsurveyed?.length ? `; left out of the plan: ${row.unsurveyed.join(', ')}` : ''}`);
+    console.log(`  ${row.name}: ${row.error ? `FAILED ${row.error}` : found} (${row.simulateS.toFixed(1)}${row.siteCached ? ' cached' : ''} + ${row.processS.toFixed(1)} s)${row.unsurveyed?.length ? `; left out of the plan: ${row.unsurveyed.join(', ')}` : ''}`);
   },
 );
 

@@ -1,13 +1,14 @@
 // Smoke test of the field benchmark's path (bench/field-lib.ts): two tiny random scenes simulated,
 // processed by the CLI and scored; the pooled row sums their counts.
-import { mkdtempSync, rmSync } from 'node:fs';
+import { mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { randomScenario } from '@lamina/simulate';
+import { randomScenario, simulateSite } from '@lamina/simulate';
 import { airMeasures, suppressionDb } from '../bench/air-measure';
 import { emptyRow, parseSeeds, pool, runScene, runScenes, type FieldRow } from '../bench/field-lib';
 import { pairedIntervals, poolIntervals } from '../bench/field-intervals';
+import { cachedSiteDir, simulateCached } from '../bench/site-cache';
 
 const work = mkdtempSync(join(tmpdir(), 'lamina-field-smoke-'));
 afterAll(() => rmSync(work, { recursive: true, force: true }));
@@ -80,5 +81,18 @@ describe('pnpm bench field (smoke)', () => {
     expect(better.diff.precisionByCount.interval![0]).toBeCloseTo(0.1, 12);
     expect(better.diff.precisionByCount.interval![1]).toBeCloseTo(0.1, 12);
     expect(iv.precisionByCount![1] - iv.precisionByCount![0]).toBeGreaterThan(0.05);
+  });
+
+  it('keeps simulated sites in a cache keyed by scenario and simulator sources, the same files as a fresh simulation', async () => {
+    const cache = join(work, 'cache');
+    const scene = randomScenario(5, { sideM: [5, 6], maxTraces: 800 });
+    expect(await simulateCached(scene, join(work, 'c1'), cache)).toBe(false);
+    expect(await simulateCached(scene, join(work, 'c2'), cache)).toBe(true);
+    await simulateSite(scene, join(work, 'fresh'));
+    const files = (d: string) => readdirSync(d, { recursive: true, withFileTypes: true }).filter((e) => e.isFile()).map((e) => join(e.parentPath, e.name).slice(d.length)).sort();
+    expect(files(join(work, 'c2'))).toEqual(files(join(work, 'fresh')));
+    for (const f of files(join(work, 'fresh'))) expect(readFileSync(join(work, 'c2', f)).equals(readFileSync(join(work, 'fresh', f))), f).toBe(true);
+    // another scene (or another noise draw) is another entry
+    expect(cachedSiteDir({ ...scene, noiseSeed: 1 }, cache)).not.toBe(cachedSiteDir(scene, cache));
   });
 });
