@@ -8,7 +8,7 @@ import type { LineGeom, Scatterer } from './model';
  * wheels; common practice, no source). A trace is not recorded where that rectangle, grown by an object's
  * radius, holds the object (walls, fences and building edges are taken as chains of points 0.05 m apart).
  * Each run of recorded traces at least one footprint long becomes a line: the first keeps the line's id,
- * the next ones add "b", "c", ... Overhead objects (cables, beams) do not stop the cart.
+ * the next ones add "b", "c", ... ("-27", "-28", ... past "z"). Overhead objects (cables, beams) do not stop the cart.
  */
 export function linesAroundObstructions(lines: LineGeom[], scatterers: Scatterer[], halfWidthM: number, separationM: number): LineGeom[] {
   const obstacles = standingPoints(scatterers);
@@ -37,13 +37,19 @@ export function linesAroundObstructions(lines: LineGeom[], scatterers: Scatterer
       while (e + 1 < n && keep[e + 1]) e++;
       const length = Math.hypot(line.mx[e]! - line.mx[j]!, line.my[e]! - line.my[j]!);
       if (e > j && length >= 2 * halfLength) {
-        out.push({ ...line, id: piece === 0 ? line.id : `${line.id}${String.fromCharCode(97 + piece)}`, mx: line.mx.slice(j, e + 1), my: line.my.slice(j, e + 1) });
+        out.push({ ...line, id: pieceId(line.id, piece), mx: line.mx.slice(j, e + 1), my: line.my.slice(j, e + 1) });
         piece++;
       }
       j = e + 1;
     }
   }
   return out.map((l, index) => ({ ...l, index }));
+}
+
+/** The id of a line's piece: the line's own for the first, then "b" to "z", then "-27", "-28", ... */
+function pieceId(id: string, piece: number): string {
+  if (piece === 0) return id;
+  return piece < 26 ? `${id}${String.fromCharCode(97 + piece)}` : `${id}-${piece + 1}`;
 }
 
 /** Ground-standing above-ground scatterers as points (local metres) with their radius. */

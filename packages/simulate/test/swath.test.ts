@@ -40,4 +40,16 @@ describe('linesAroundObstructions', () => {
     expect(out[0]!.mx[0]).toBeGreaterThanOrEqual(0.9 - 1e-9);
     expect(out[0]!.mx[0]).toBeLessThan(1.05);
   });
+
+  it('names a line\'s pieces past "z" by number', () => {
+    // 40 thin posts 1 m apart beside a 40.5 m line, a footprint 0.24 m long: 41 pieces of about 0.7 m
+    const posts = Array.from({ length: 40 }, (_, k) => post(0.5 + k, 0.1, 0.01));
+    const out = linesAroundObstructions([line('l01', 4051, 0.01)], posts, 0.12, 0);
+    expect(out.length).toBe(41);
+    expect(out.length).toBeGreaterThan(27);
+    expect(out[1]!.id).toBe('l01b');
+    expect(out[25]!.id).toBe('l01z');
+    expect(out[26]!.id).toBe('l01-27');
+    expect(new Set(out.map((l) => l.id)).size).toBe(out.length);
+  });
 });
