@@ -20,7 +20,7 @@
 //                                      plan.geojson (objects nobody surveyed; still scored; default 0)
 //   LAMINA_BENCH_FIELD_SITE_CACHE=<dir>  keep the simulated sites in <dir> and reuse them on later runs
 //                                      (keyed by scenario and simulator sources, bench/site-cache.ts;
-//                                      about 20 MB a scene: clear the folder when done)
+//                                      2-20 MB a scene: clear the folder when done)
 //   LAMINA_BENCH_FIELD_NOISE_SEED=1    simulate every scene with this `noiseSeed` (@lamina/simulate: the same
 //                                      site surveyed again, only the receiver noise drawn anew). Two runs
 //                                      with different noise seeds show how far the pooled figures move on
