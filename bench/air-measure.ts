@@ -86,6 +86,9 @@ interface FolderRead {
   slices: SliceRead[];
 }
 
+/** Whether a slice value is one (not nodata, finite). */
+const hasValue = (v: number, nodata: number) => v !== nodata && Number.isFinite(v);
+
 async function readFolder(outDir: string): Promise<FolderRead> {
   const sj = JSON.parse(readFileSync(join(outDir, 'slices.json'), 'utf8')) as { slices: { index: number; band: number; topM: number; bottomM: number }[]; nodata: number };
   const vj = JSON.parse(readFileSync(join(outDir, 'velocity.json'), 'utf8')) as { model: VelocityModel };
@@ -98,7 +101,7 @@ async function readFolder(outDir: string): Promise<FolderRead> {
     const vals: number[] = [];
     for (let q = 0; q < width * height; q++) {
       const v = band[q]!;
-      if (v !== sj.nodata && Number.isFinite(v)) vals.push(v);
+      if (hasValue(v, sj.nodata)) vals.push(v);
     }
     if (vals.length === 0) continue;
     vals.sort((a, b) => a - b);
@@ -108,9 +111,6 @@ async function readFolder(outDir: string): Promise<FolderRead> {
   }
   return { grid: { width, height, originX, originY, pixelSize }, nodata: sj.nodata, model: vj.model, slices };
 }
-
-/** Whether a slice value is one (not nodata, finite). */
-const hasValue = (v: number, nodata: number) => v !== nodata && Number.isFinite(v);
 
 /**
  * The zone of every cell of every slice of `f` against truth.json (the rules in the header), whether or

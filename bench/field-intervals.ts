@@ -18,8 +18,11 @@ export interface IntervalOptions {
   seed?: number;
 }
 
-/** The figure of one pooled row (null where the pool has nothing to divide by). */
-const figure = (p: Pooled, k: IntervalKey): number | null => p[k];
+type Figures = Record<IntervalKey, number | null>;
+type Intervals = Record<IntervalKey, [number, number] | null>;
+
+/** The figures of one pooled row (null where the pool has nothing to divide by). */
+const figuresOf = (p: Pooled): Figures => Object.fromEntries(INTERVAL_KEYS.map((k) => [k, p[k]])) as Figures;
 
 /** The central `level` share of `values` (nulls left out), or null when none is left. */
 function central(values: (number | null)[], level: number): [number, number] | null {
@@ -29,10 +32,20 @@ function central(values: (number | null)[], level: number): [number, number] | n
   return [v[Math.floor(tail * (v.length - 1))]!, v[Math.ceil((1 - tail) * (v.length - 1))]!];
 }
 
-/** Indices of `n` scenes drawn with replacement, `draws` times. */
-function* resamples(n: number, draws: number, seed: number): Generator<number[]> {
-  const next = mulberry32(seed);
-  for (let d = 0; d < draws; d++) yield Array.from({ length: n }, () => Math.floor(next() * n));
+/**
+ * The bootstrap over `n` scenes: `draws` populations of n scenes' indices drawn with replacement (a fixed
+ * seed), `figures` of each, and the central `level` share of every figure (none when n is 0).
+ */
+function bootstrap(n: number, figures: (idx: number[]) => Figures, options: IntervalOptions): Intervals {
+  const values = Object.fromEntries(INTERVAL_KEYS.map((k) => [k, [] as (number | null)[]])) as Record<IntervalKey, (number | null)[]>;
+  if (n > 0) {
+    const next = mulberry32(options.seed ?? 1);
+    for (let d = 0; d < (options.draws ?? 2000); d++) {
+      const f = figures(Array.from({ length: n }, () => Math.floor(next() * n)));
+      for (const k of INTERVAL_KEYS) values[k].push(f[k]);
+    }
+  }
+  return Object.fromEntries(INTERVAL_KEYS.map((k) => [k, central(values[k], options.level ?? 0.9)])) as Intervals;
 }
 
 /**
@@ -40,16 +53,9 @@ function* resamples(n: number, draws: number, seed: number): Generator<number[]>
  * populations of as many scenes drawn with replacement, each pooled by `pool`, and the central `level`
  * share of each figure.
  */
-export function poolIntervals(rows: FieldRow[], options: IntervalOptions = {}): Record<IntervalKey, [number, number] | null> {
+export function poolIntervals(rows: FieldRow[], options: IntervalOptions = {}): Intervals {
   const ok = rows.filter((r) => !r.error);
-  const values = Object.fromEntries(INTERVAL_KEYS.map((k) => [k, [] as (number | null)[]])) as Record<IntervalKey, (number | null)[]>;
-  if (ok.length) {
-    for (const idx of resamples(ok.length, options.draws ?? 2000, options.seed ?? 1)) {
-      const p = pool('draw', idx.map((i) => ok[i]!));
-      for (const k of INTERVAL_KEYS) values[k].push(figure(p, k));
-    }
-  }
-  return Object.fromEntries(INTERVAL_KEYS.map((k) => [k, central(values[k], options.level ?? 0.9)])) as Record<IntervalKey, [number, number] | null>;
+  return bootstrap(ok.length, (idx) => figuresOf(pool('draw', idx.map((i) => ok[i]!))), options);
 }
 
 /**
@@ -60,19 +66,14 @@ export function poolIntervals(rows: FieldRow[], options: IntervalOptions = {}): 
 export function pairedIntervals(a: FieldRow[], b: FieldRow[], options: IntervalOptions = {}): { scenes: number; diff: Record<IntervalKey, { diff: number | null; interval: [number, number] | null }> } {
   const byName = new Map(b.filter((r) => !r.error).map((r) => [r.name, r]));
   const pairs = a.filter((r) => !r.error && byName.has(r.name)).map((r) => [r, byName.get(r.name)!] as const);
-  const delta = (pa: Pooled, pb: Pooled, k: IntervalKey): number | null => {
-    const x = figure(pa, k), y = figure(pb, k);
-    return x === null || y === null ? null : y - x;
+  /** The figures' differences b - a of the pairs `idx` pooled. */
+  const deltas = (idx: number[]): Figures => {
+    const fa = figuresOf(pool('a', idx.map((i) => pairs[i]![0]))), fb = figuresOf(pool('b', idx.map((i) => pairs[i]![1])));
+    return Object.fromEntries(INTERVAL_KEYS.map((k) => [k, fa[k] === null || fb[k] === null ? null : fb[k] - fa[k]])) as Figures;
   };
-  const all = [pool('a', pairs.map((p) => p[0])), pool('b', pairs.map((p) => p[1]))] as const;
-  const values = Object.fromEntries(INTERVAL_KEYS.map((k) => [k, [] as (number | null)[]])) as Record<IntervalKey, (number | null)[]>;
-  if (pairs.length) {
-    for (const idx of resamples(pairs.length, options.draws ?? 2000, options.seed ?? 1)) {
-      const pa = pool('a', idx.map((i) => pairs[i]![0])), pb = pool('b', idx.map((i) => pairs[i]![1]));
-      for (const k of INTERVAL_KEYS) values[k].push(delta(pa, pb, k));
-    }
-  }
-  const diff = Object.fromEntries(INTERVAL_KEYS.map((k) => [k, { diff: pairs.length ? delta(all[0], all[1], k) : null, interval: central(values[k], options.level ?? 0.9) }]));
+  const all = pairs.length ? deltas(pairs.map((_, i) => i)) : null;
+  const intervals = bootstrap(pairs.length, deltas, options);
+  const diff = Object.fromEntries(INTERVAL_KEYS.map((k) => [k, { diff: all ? all[k] : null, interval: intervals[k] }]));
   return { scenes: pairs.length, diff: diff as Record<IntervalKey, { diff: number | null; interval: [number, number] | null }> };
 }
 
@@ -87,7 +88,7 @@ const LABELS: Record<IntervalKey, [string, number]> = {
 };
 
 /** One line: each figure's interval (percentages as the table prints them). */
-export function intervalLine(name: string, iv: Record<IntervalKey, [number, number] | null>): string {
+export function intervalLine(name: string, iv: Intervals): string {
   const cell = (k: IntervalKey) => {
     const v = iv[k], [label, s] = LABELS[k];
     return `${label} ${v ? `${(s * v[0]).toFixed(1)}..${(s * v[1]).toFixed(1)}` : '-'}`;
