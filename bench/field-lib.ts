@@ -26,7 +26,10 @@ export interface FieldRow {
   /** Layered truth: |interval K error| at each buried object's depth (scoring's siteK.atObjects), summed, and their number. */
   kObjAbsErrorSum: number;
   kObjects: number;
-  /** Buried objects the raw data shows on no trace (truth.json response.traces 0): still scored, listed for context. */
+  /**
+   * Buried objects the raw data shows on no trace (truth.json response.traces 0). Since 2026-12-05 the
+   * recall figures leave them out (scoring's `recorded`); the `...AllM` / `...All` fields count them.
+   */
   invisible: number;
   targets: number;
   buriedTargets: number;
@@ -35,16 +38,23 @@ export interface FieldRow {
   areaM2: number;
   buriedAreaM2: number;
   surveyedAreaM2: number;
-  /** Pipes/cables: surveyed length and the part of it covered (recall x surveyed length), m. */
+  /** Recorded pipes/cables: surveyed length and the part of it covered (recall x surveyed length), m. */
   utilitySurveyedM: number;
   utilityCoveredM: number;
+  /** The same over every pipe/cable, recorded or not (the figure before 2026-12-05), m. */
+  utilitySurveyedAllM?: number;
+  utilityCoveredAllM?: number;
   utilities: number;
   /** Sum of pieces over the utilities covered at all, and their number. */
   piecesSum: number;
   piecesUtilities: number;
   piecesMax: number;
+  /** Recorded compact objects found, and their number. */
   compactFound: number;
   compacts: number;
+  /** The same over every compact object, recorded or not. */
+  compactFoundAll?: number;
+  compactsAll?: number;
   onLocus: number;
   onLocusFlagged: number;
   real: number;
@@ -263,8 +273,10 @@ export async function runScene(scenario: Scenario, workDir: string, half: FieldR
 export function scored(outDir: string, truthFile: string): Partial<FieldRow> {
   const { report, truth } = scoreFolder(outDir, truthFile);
   const pr = report.precision;
-  const lin = report.buried.filter((b) => b.lengthM > 0);
-  const cmp = report.buried.filter((b) => b.lengthM === 0);
+  const linAll = report.buried.filter((b) => b.lengthM > 0);
+  const cmpAll = report.buried.filter((b) => b.lengthM === 0);
+  const lin = linAll.filter((b) => b.recorded);
+  const cmp = cmpAll.filter((b) => b.recorded);
   return {
     kTruth: pr.siteK.truth,
     kFitted: pr.siteK.fitted,
@@ -281,12 +293,16 @@ export function scored(outDir: string, truthFile: string): Partial<FieldRow> {
     surveyedAreaM2: pr.surveyedAreaM2 ?? 0,
     utilitySurveyedM: lin.reduce((s, b) => s + b.surveyedLengthM, 0),
     utilityCoveredM: lin.reduce((s, b) => s + b.recall * b.surveyedLengthM, 0),
+    utilitySurveyedAllM: linAll.reduce((s, b) => s + b.surveyedLengthM, 0),
+    utilityCoveredAllM: linAll.reduce((s, b) => s + b.recall * b.surveyedLengthM, 0),
     utilities: lin.length,
     piecesSum: pr.pieces.reduce((s, q) => s + q.pieces, 0),
     piecesUtilities: pr.pieces.filter((q) => q.pieces > 0).length,
     piecesMax: pr.piecesMax,
     compactFound: cmp.filter((b) => b.recall > 0).length,
     compacts: cmp.length,
+    compactFoundAll: cmpAll.filter((b) => b.recall > 0).length,
+    compactsAll: cmpAll.length,
     onLocus: pr.airFlags.onLocus,
     onLocusFlagged: pr.airFlags.onLocusFlagged,
     real: pr.airFlags.real,
@@ -312,10 +328,13 @@ export interface Pooled {
   precisionByArea: number | null;
   clutterPer100M2: number | null;
   airTargetShare: number | null;
+  /** Over the recorded pipes/cables; `utilityRecallAll` over all (rows from before 2026-12-05: all). */
   utilityRecall: number | null;
+  utilityRecallAll: number | null;
   piecesMean: number | null;
   piecesMax: number;
   compactRecall: number | null;
+  compactRecallAll: number | null;
   airFlagRecall: number | null;
   realFlaggedShare: number | null;
   largestAreaM2: number;
@@ -333,6 +352,8 @@ const ratio = (a: number, b: number): number | null => (b > 0 ? a / b : null);
 export function pool(name: string, rows: FieldRow[]): Pooled {
   const ok = rows.filter((r) => !r.error);
   const sum = (k: keyof FieldRow) => ok.reduce((s, r) => s + (r[k] as number), 0);
+  // a field that rows written before it existed lack: their `fallback` held the same figure then
+  const sumOr = (k: keyof FieldRow, fallback: keyof FieldRow) => ok.reduce((s, r) => s + ((r[k] ?? r[fallback]) as number), 0);
   const kErr = ok.filter((r) => r.kRelError !== null).map((r) => Math.abs(r.kRelError!));
   return {
     name,
@@ -348,9 +369,11 @@ export function pool(name: string, rows: FieldRow[]): Pooled {
     clutterPer100M2: ratio(100 * sum('clutterTargets'), sum('surveyedAreaM2')),
     airTargetShare: ratio(sum('airTargets'), sum('targets')),
     utilityRecall: ratio(sum('utilityCoveredM'), sum('utilitySurveyedM')),
+    utilityRecallAll: ratio(sumOr('utilityCoveredAllM', 'utilityCoveredM'), sumOr('utilitySurveyedAllM', 'utilitySurveyedM')),
     piecesMean: ratio(sum('piecesSum'), sum('piecesUtilities')),
     piecesMax: Math.max(0, ...ok.map((r) => r.piecesMax)),
     compactRecall: ratio(sum('compactFound'), sum('compacts')),
+    compactRecallAll: ratio(sumOr('compactFoundAll', 'compactFound'), sumOr('compactsAll', 'compacts')),
     airFlagRecall: ratio(sum('onLocusFlagged'), sum('onLocus')),
     realFlaggedShare: ratio(sum('realFlagged'), sum('real')),
     largestAreaM2: Math.max(0, ...ok.map((r) => r.largestAreaM2)),
@@ -426,7 +449,7 @@ const pct = (v: number | null) => (v === null ? '-' : `${(100 * v).toFixed(1)}`)
 const fx = (v: number | null, d = 1) => (v === null || !Number.isFinite(v) ? '-' : v.toFixed(d));
 
 export const TABLE_HEADER = [
-  'scene', 'K true', 'K fit', 'K err%', 'Kobj|err|%', 'invis', 'tgts', 'prec#%', 'precA%', 'clut/100m2', 'air%', 'util%', 'pcs', 'pcsMax', 'cmp%', 'airflag%', 'realflag%', 'largest m2', 'largest dz', 'locus dB', 'locus+ dB', 'buried dB', 'locus cut dB', 'buried cut dB', 'sim s', 'proc s',
+  'scene', 'K true', 'K fit', 'K err%', 'Kobj|err|%', 'invis', 'tgts', 'prec#%', 'precA%', 'clut/100m2', 'air%', 'util%', 'utilAll%', 'pcs', 'pcsMax', 'cmp%', 'cmpAll%', 'airflag%', 'realflag%', 'largest m2', 'largest dz', 'locus dB', 'locus+ dB', 'buried dB', 'locus cut dB', 'buried cut dB', 'sim s', 'proc s',
 ];
 
 /** One table line: a scene (with its K and times) or a pooled row (K as mean |error|). */
@@ -445,9 +468,11 @@ export function tableLine(p: Pooled, scene?: FieldRow): string[] {
     fx(p.clutterPer100M2, 2),
     pct(p.airTargetShare),
     pct(p.utilityRecall),
+    pct(p.utilityRecallAll),
     fx(p.piecesMean),
     String(p.piecesMax),
     pct(p.compactRecall),
+    pct(p.compactRecallAll),
     pct(p.airFlagRecall),
     pct(p.realFlaggedShare),
     fx(p.largestAreaM2),

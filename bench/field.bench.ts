@@ -120,10 +120,12 @@ if (crossed.length > 0) {
 console.log(`
 Columns (packages/scoring/README.md, "Frozen definitions"): K err% = fitted site K / truth top-layer K - 1
 (pooled: mean |error|); Kobj|err|% = mean |interval K error| at the buried objects' depths (layered truths
-only); invis = buried objects the raw data shows on no trace (still scored); prec#% / precA% = targets covering a buried object by count / by plan area;
-clut/100m2 = targets matching neither a buried object nor an air-wave locus per 100 m2 surveyed; air% =
-air-wave targets; util% = utility recall over the surveyed length (pooled by length); pcs = pieces per
-utility found (mean; pcsMax the most); cmp% = compact objects found; airflag% = anomalies on an air-wave
+only); invis = buried objects the raw data shows on no trace (left out of util% and cmp%); prec#% /
+precA% = targets covering a buried object by count / by plan area; clut/100m2 = targets matching neither
+a buried object nor an air-wave locus per 100 m2 surveyed; air% = air-wave targets; util% = utility
+recall over the surveyed length of the recorded utilities (pooled by length; utilAll% over all of them,
+the figure before 2026-12-05); pcs = pieces per utility found (mean; pcsMax the most); cmp% = recorded
+compact objects found (cmpAll% all of them); airflag% = anomalies on an air-wave
 locus that are flagged; realflag% = real anomalies (on a buried object, on no locus) wrongly flagged;
 largest = the largest target's plan area and depth extent. Pooled rows sum counts, areas and lengths.
 New (issue 18, bench/air-measure.ts, not a scoring definition): locus dB / buried dB = mean slice value on

@@ -15,7 +15,19 @@ export interface ScoreTruth {
    * A compact object's `topDepthM` / `bottomDepthM` (truth.json) give its vertical extent; without them
    * (and for pipes and cables) it is its centre or axis depth +- radiusM.
    */
-  buried: { id: string; kind: string; utility?: string; from?: XYZ; to?: XYZ; center?: XYZ; radiusM: number; topDepthM?: number; bottomDepthM?: number }[];
+  buried: {
+    id: string;
+    kind: string;
+    utility?: string;
+    from?: XYZ;
+    to?: XYZ;
+    center?: XYZ;
+    radiusM: number;
+    topDepthM?: number;
+    bottomDepthM?: number;
+    /** The simulator's record of the object's own response (traces: on how many traces above 3x the noise). */
+    response?: { traces?: number };
+  }[];
   aboveGround: {
     id: string;
     planFeatureId?: string;
@@ -106,13 +118,22 @@ export interface BuriedScore {
   recallFullLength: number;
   /** Length within the survey's cover, m (the whole length without `survey`). */
   surveyedLengthM: number;
+  /**
+   * The data record the object: truth.json gives no `response.traces`, or a positive one. An object the
+   * simulator drew on no trace above three times the noise (too deep for the record, too weak, too small)
+   * counts in the `...All` recall figures only.
+   */
+  recorded: boolean;
   targets: string[];
 }
 
 export interface ScoreReport {
   buried: BuriedScore[];
-  /** Length-weighted recall of pipes and cables (over their surveyed length), and the fraction of compact targets found. */
-  buriedRecall: { linear: number; compact: number; minimum: number; linearFullLength: number; minimumFullLength: number };
+  /**
+   * Length-weighted recall of the recorded pipes and cables (over their surveyed length), and the fraction
+   * of recorded compact objects found; `linearAll` / `compactAll` over every buried object, recorded or not.
+   */
+  buriedRecall: { linear: number; compact: number; minimum: number; linearFullLength: number; minimumFullLength: number; linearAll: number; compactAll: number; unrecorded: number };
   targets: { id: string; matches: string; kind: 'buried' | 'air' | 'unmatched' }[];
   /** Fraction of targets that are air-wave reflections (on a reflector's locus, matching no buried target). */
   targetAirFraction: number;
@@ -235,6 +256,11 @@ function num(v: unknown, file: string, field: string): number {
   return v;
 }
 
+/** The data record a buried object: truth.json gives no `response.traces` (not from our simulator), or a positive one. */
+function recordedOf(b: ScoreTruth['buried'][number]): boolean {
+  return b.response?.traces === undefined || b.response.traces > 0;
+}
+
 /**
  * Scores a run against the simulator's truth.
  *
@@ -243,6 +269,7 @@ function num(v: unknown, file: string, field: string): number {
  * (inside its polygon or its `properties.outline`, the plan extent a linear target keeps beside its
  * centreline, or near its outline, centreline or point) and its depth range widened by
  * max(depthToleranceM, depthFraction * depth) holds the sample's depth. Compact targets: found or not.
+ * The recall figures count the objects the data record (`recorded`); `linearAll` / `compactAll` every one.
  *
  * Above-ground flags: reflector R's locus at depth z is the set of points at r(z) = c t(z) / 2 from
  * R (t from the truth soil; R a segment from -> to, or a point). A slice member of an anomaly is on
@@ -336,7 +363,7 @@ export function scoreRun(
       const [up, down] = extentOf(b);
       for (const t of tgs) if (near(x, y, z, b.radiusM, t, up, down)) hit.add(t.id);
       const r = hit.size ? 1 : 0;
-      return { id: b.id, kind: b.kind, lengthM: 0, recall: r, recallFullLength: r, surveyedLengthM: 0, targets: [...hit] };
+      return { id: b.id, kind: b.kind, lengthM: 0, recall: r, recallFullLength: r, surveyedLengthM: 0, recorded: recordedOf(b), targets: [...hit] };
     }
     const f = b.from!, t2 = b.to!;
     const lengthM = Math.hypot(t2[0] - f[0], t2[1] - f[1]) * mpu;
@@ -364,15 +391,23 @@ export function scoreRun(
       recall: inside > 0 ? coveredInside / inside : 1,
       recallFullLength: full,
       surveyedLengthM: (lengthM * inside) / (n + 1),
+      recorded: recordedOf(b),
       targets: [...hit],
     };
   });
-  const lin = buried.filter((b) => b.lengthM > 0);
-  const cmp = buried.filter((b) => b.lengthM === 0);
-  const linSurveyed = lin.reduce((s, b) => s + b.surveyedLengthM, 0);
-  const linRecall = lin.length && linSurveyed > 0 ? lin.reduce((s, b) => s + b.recall * b.surveyedLengthM, 0) / linSurveyed : 1;
+  // recall over the objects the data record (`recorded`); the `...All` figures over every object
+  const linearRecall = (ls: BuriedScore[]) => {
+    const surveyedM = ls.reduce((s, b) => s + b.surveyedLengthM, 0);
+    return ls.length && surveyedM > 0 ? ls.reduce((s, b) => s + b.recall * b.surveyedLengthM, 0) / surveyedM : 1;
+  };
+  const compactRecall = (cs: BuriedScore[]) => (cs.length ? cs.reduce((s, b) => s + b.recall, 0) / cs.length : 1);
+  const linAll = buried.filter((b) => b.lengthM > 0);
+  const cmpAll = buried.filter((b) => b.lengthM === 0);
+  const lin = linAll.filter((b) => b.recorded);
+  const cmp = cmpAll.filter((b) => b.recorded);
+  const linRecall = linearRecall(lin);
   const linFull = lin.length ? lin.reduce((s, b) => s + b.recallFullLength * b.lengthM, 0) / lin.reduce((s, b) => s + b.lengthM, 0) : 1;
-  const cmpRecall = cmp.length ? cmp.reduce((s, b) => s + b.recall, 0) / cmp.length : 1;
+  const cmpRecall = compactRecall(cmp);
 
   // A reflector whose air wave the simulator drew on no trace (airWave.traces 0) makes no reflection.
   // (Its distanceMinM..distanceMaxM is an amplitude summary, not a limit: it is not used.)
@@ -454,7 +489,7 @@ export function scoreRun(
   const nAir = targetRows.filter((t) => t.kind === 'air').length;
   const nClutter = targetRows.length - nBuried - nAir;
   const surveyArea = surveySegs.length ? surveyedAreaM2(options.survey!.lines, mpu, coverM) : null;
-  const pieces = lin.map((b) => ({ id: b.id, pieces: b.targets.length }));
+  const pieces = linAll.map((b) => ({ id: b.id, pieces: b.targets.length }));
   const found = pieces.filter((p) => p.pieces > 0);
   const largest = tgs.reduce<Obj | null>((m, t) => (!m || t.areaM2 > m.areaM2 ? t : m), null);
   const truthK = (truth.soil.layers ?? [])[0]?.permittivity ?? truth.soil.permittivity;
@@ -498,7 +533,16 @@ export function scoreRun(
   };
   return {
     buried,
-    buriedRecall: { linear: linRecall, compact: cmpRecall, minimum: Math.min(1, ...lin.map((b) => b.recall)), linearFullLength: linFull, minimumFullLength: Math.min(1, ...lin.map((b) => b.recallFullLength)) },
+    buriedRecall: {
+      linear: linRecall,
+      compact: cmpRecall,
+      minimum: Math.min(1, ...lin.map((b) => b.recall)),
+      linearFullLength: linFull,
+      minimumFullLength: Math.min(1, ...lin.map((b) => b.recallFullLength)),
+      linearAll: linearRecall(linAll),
+      compactAll: compactRecall(cmpAll),
+      unrecorded: buried.filter((b) => !b.recorded).length,
+    },
     targets: targetRows,
     targetAirFraction: targetRows.length ? targetRows.filter((t) => t.kind === 'air').length / targetRows.length : 0,
     aboveGround: {

@@ -27,9 +27,10 @@ export function register(program: Command): void {
         if (!targetsFile) out.push(`note: ${tFile} not found; buried recall counts no targets`);
         out.push('buried utilities (fraction of the surveyed length covered by targets.geojson):');
         for (const b of report.buried)
-          out.push(`  ${b.id.padEnd(16)} ${b.kind.padEnd(8)} ${b.lengthM ? `${b.lengthM.toFixed(1)} m (${b.surveyedLengthM.toFixed(1)} m surveyed)` : 'compact'}  ${pct(b.recall)}${b.lengthM ? ` (full length ${pct(b.recallFullLength)})` : ''}  ${b.targets.join(' ')}`);
+          out.push(`  ${b.id.padEnd(16)} ${b.kind.padEnd(8)} ${b.lengthM ? `${b.lengthM.toFixed(1)} m (${b.surveyedLengthM.toFixed(1)} m surveyed)` : 'compact'}  ${pct(b.recall)}${b.lengthM ? ` (full length ${pct(b.recallFullLength)})` : ''}${b.recorded ? '' : ' (recorded on no trace)'}  ${b.targets.join(' ')}`);
         const br = report.buriedRecall;
         out.push(`  recall over the surveyed length: linear ${pct(br.linear)} (lowest ${pct(br.minimum)}), compact ${pct(br.compact)}; over the full length: linear ${pct(br.linearFullLength)} (lowest ${pct(br.minimumFullLength)})`);
+        if (br.unrecorded > 0) out.push(`  ${br.unrecorded} buried object(s) recorded on no trace (truth.json response.traces 0), left out above; counting them: linear ${pct(br.linearAll)}, compact ${pct(br.compactAll)}`);
         const ag = report.aboveGround;
         out.push(`above-ground flags: precision ${pct(ag.precision)}, recall ${pct(ag.recall)} (TP ${ag.truePositive}, FP ${ag.falsePositive}, FN ${ag.falseNegative}, ambiguous ${ag.ambiguous})`);
         out.push(`targets that are air-wave reflections: ${pct(report.targetAirFraction)} of ${report.targets.length}`);

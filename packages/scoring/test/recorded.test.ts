@@ -1,0 +1,50 @@
+import { C_M_PER_NS } from '@lamina/velocity';
+import { describe, expect, it } from 'vitest';
+import { scoreRun, type ScoreTruth } from '../src';
+
+// Recall counts the buried objects the data record (README "Recorded objects"): an object whose own
+// response the simulator drew on no trace above three times the noise is left out of `linear` and
+// `compact` and counted in `linearAll` / `compactAll`. Arithmetic on the definitions.
+const identity = (x: number, y: number): [number, number] => [x, y];
+const feat = (id: string, geometry: unknown, props: Record<string, unknown>) => ({ type: 'Feature' as const, geometry: geometry as never, properties: { id, ...props } });
+const empty = { type: 'FeatureCollection' as const, features: [] };
+
+describe('scoreRun: recall over the recorded objects', () => {
+  const truth: ScoreTruth = {
+    soil: { permittivity: 9, velocityMPerNs: C_M_PER_NS / 3 },
+    crs: 'local',
+    metresPerUnit: 1,
+    buried: [
+      // found along its whole length, recorded on 40 traces
+      { id: 'seen', kind: 'pipe', from: [0, 0, 1], to: [10, 0, 1], radiusM: 0.05, response: { traces: 40 } },
+      // as long, deep and weak: recorded on no trace, not found
+      { id: 'unseen', kind: 'pipe', from: [0, 20, 4], to: [10, 20, 4], radiusM: 0.01, response: { traces: 0 } },
+      // a truth written elsewhere (no response): counted as recorded
+      { id: 'other', kind: 'pipe', from: [0, 40, 1], to: [10, 40, 1], radiusM: 0.05 },
+      { id: 'tank', kind: 'compact', center: [30, 0, 1], radiusM: 0.5, response: { traces: 0 } },
+    ],
+    aboveGround: [],
+  };
+  const seen = feat('T', { type: 'LineString', coordinates: [[0, 0], [10, 0]] }, { depthTopM: 0.9, depthBottomM: 1.1, origin: 'subsurface' });
+
+  it('leaves the objects recorded on no trace out of recall and counts them in the All figures', () => {
+    const r = scoreRun({ type: 'FeatureCollection', features: [seen] }, empty, truth, identity);
+    expect(r.buried.map((b) => b.recorded)).toEqual([true, false, true, false]);
+    // recorded pipes: 'seen' (all of its 10 m) and 'other' (none of its 10 m)
+    expect(r.buriedRecall.linear).toBeCloseTo(0.5, 12);
+    // all three pipes of 10 m: one found
+    expect(r.buriedRecall.linearAll).toBeCloseTo(1 / 3, 12);
+    // no recorded compact object: recall 1 by the empty-set rule; all: 0 of 1
+    expect(r.buriedRecall.compact).toBe(1);
+    expect(r.buriedRecall.compactAll).toBe(0);
+    expect(r.buriedRecall.unrecorded).toBe(2);
+    expect(r.buriedRecall.minimum).toBe(0);
+  });
+
+  it('keeps pieces per utility over every utility', () => {
+    const under = feat('U', { type: 'LineString', coordinates: [[0, 20], [10, 20]] }, { depthTopM: 3.9, depthBottomM: 4.1, origin: 'subsurface' });
+    const r = scoreRun({ type: 'FeatureCollection', features: [seen, under] }, empty, truth, identity);
+    expect(r.precision.pieces.map((p) => p.id)).toEqual(['seen', 'unseen', 'other']);
+    expect(r.precision.piecesMean).toBe(1);
+  });
+});
