@@ -3,7 +3,8 @@
 // in the first cause that fits, from the simulator's truth (never used by the pipeline):
 //   pipe-body     on a pipe within 0.5 m + its radius in plan, its depth range reaching the pipe's body
 //                 [z - R, z + R] but not the axis depth z that the scoring tests (a big pipe's top)
-//   near-surface  its top lies inside the near-surface zone (run.json nearSurfaceM); ns-stone with a stone there
+//   near-surface  its top lies inside the near-surface zone (run.json nearSurfaceM); ns-stone with a stone
+//                 there, else ns-root with a root within 0.5 m in plan
 //   echo          over a buried object in plan, deeper than it (ringing, multiples)
 //   near-object   within 1.5 m + radius of a buried object in plan, at its depth (a piece off the axis)
 //   layer         its depth range holds a truth interface's depth (with dip over the site)
@@ -176,9 +177,10 @@ for (const scene of scenes) {
         return s.d <= 0.5 + b.radiusM && top - tol(z) <= z + b.radiusM && bottom + tol(z) >= z - b.radiusM;
       });
     });
+    const rootNear = (t.roots ?? []).some((q: number[]) => segDist(x, y, q.slice(0, 2), q.slice(3, 5)).d < 0.5);
     const stoneNear = t.clutter.some((c: number[]) => Math.hypot(c[0]! - x, c[1]! - y) < 0.5 && c[2]! >= top - tol(c[2]!) && c[2]! <= bottom + tol(c[2]!));
     if (onPipeBody) cause = 'pipe-body';
-    else if (top < nearSurfaceM) cause = stoneNear ? 'ns-stone' : 'near-surface';
+    else if (top < nearSurfaceM) cause = stoneNear ? 'ns-stone' : rootNear ? 'ns-root' : 'near-surface';
     else {
       for (const b of t.buried) {
         const { d, z } = b.center ? { d: Math.hypot(x - b.center[0], y - b.center[1]), z: b.center[2] } : (() => { const s = segDist(x, y, b.from, b.to); return { d: s.d, z: b.from[2] + s.t * (b.to[2] - b.from[2]) }; })();
@@ -192,7 +194,7 @@ for (const scene of scenes) {
           if (top <= l.topM + dz + tol(l.topM) && bottom >= l.topM - dz - tol(l.topM)) cause = 'layer';
         }
       if (cause === 'other' && t.clutter.some((c: number[]) => Math.hypot(c[0]! - x, c[1]! - y) < 0.5 && c[2]! >= top - tol(c[2]!) && c[2]! <= bottom + tol(c[2]!))) cause = 'stone';
-      if (cause === 'other' && (t.roots ?? []).some((q: number[]) => segDist(x, y, q.slice(0, 2), q.slice(3, 5)).d < 0.5)) cause = 'root';
+      if (cause === 'other' && rootNear) cause = 'root';
     }
     count[cause] = (count[cause] ?? 0) + 1;
     totals[cause] = (totals[cause] ?? 0) + 1;
