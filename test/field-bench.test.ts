@@ -3,12 +3,14 @@
 import { mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import { C_M_PER_NS } from '@lamina/constants';
 import { afterAll, describe, expect, it } from 'vitest';
 import { randomScenario, simulateSite } from '@lamina/simulate';
 import { airMeasures, suppressionDb } from '../bench/air-measure';
 import { emptyRow, parseSeeds, pool, runScene, runScenes, type FieldRow } from '../bench/field-lib';
 import { pairedIntervals, poolIntervals } from '../bench/field-intervals';
 import { cachedSiteDir, simulateCached } from '../bench/site-cache';
+import { replayFolder } from '../bench/velocity-replay';
 
 const work = mkdtempSync(join(tmpdir(), 'lamina-field-smoke-'));
 afterAll(() => rmSync(work, { recursive: true, force: true }));
@@ -42,6 +44,12 @@ describe('pnpm bench field (smoke)', () => {
     expect(suppressionDb(0, 0, 0)).toBeNull();
     expect(parseSeeds('1-3,8')).toEqual([1, 2, 3, 8]);
     expect(parseSeeds('1-9/2,12')).toEqual([1, 3, 5, 7, 9, 12]);
+    // bench/velocity-replay.ts: the site model replayed on the kept runs' fits gives their site K
+    const replayed = replayFolder(work);
+    expect(replayed.map((r) => r.name)).toEqual(rows.map((r) => r.name));
+    for (const r of replayed) expect(r.kReplay).toBe(r.kRun);
+    // and moves it when the model is asked for something else (here: a fallback, where no fit was usable)
+    for (const r of replayed) if (r.fits === 0) expect(replayFolder(work, { fallbackVelocityMPerNs: 0.05 }).find((q) => q.name === r.name)!.kReplay).toBeCloseTo((C_M_PER_NS / 0.05) ** 2, 9);
   });
 
   it('runs scenes side by side and returns them in order', async () => {
