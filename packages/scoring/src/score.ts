@@ -191,6 +191,36 @@ function shapeOf(g: Geo | null | undefined, from: (lon: number, lat: number) => 
   return s;
 }
 
+/**
+ * Axis of a target's centreline (its geometry when a LineString or MultiLineString, else a LineString
+ * `properties.centreline`), radians in [0, pi): the length-weighted mean of its segments' directions on
+ * doubled angles (a centreline has no heading). Null when it has none or no length.
+ */
+function axisOf(g: Geo | null | undefined, centreline: Geo | undefined, from: (lon: number, lat: number) => XY): number | null {
+  const line = g && (g.type === 'LineString' || g.type === 'MultiLineString') ? g : centreline && centreline.type === 'LineString' ? centreline : null;
+  if (!line) return null;
+  const segs = shapeOf(line, from).segs;
+  let c = 0, sn = 0;
+  for (let i = 0; i < segs.length; i += 4) {
+    const dx = segs[i + 2]! - segs[i]!, dy = segs[i + 3]! - segs[i + 1]!;
+    const l2 = dx * dx + dy * dy;
+    if (!(l2 > 0)) continue;
+    // length-weighted cos / sin of the doubled angle: (dx^2 - dy^2) / l and 2 dx dy / l
+    const l = Math.sqrt(l2);
+    c += (dx * dx - dy * dy) / l;
+    sn += (2 * dx * dy) / l;
+  }
+  if (c === 0 && sn === 0) return null;
+  const a = 0.5 * Math.atan2(sn, c);
+  return a < 0 ? a + Math.PI : a;
+}
+
+/** Angle between two axes (radians, any sign or turn), in [0, pi / 2]. */
+function axisAngle(a: number, b: number): number {
+  const d = Math.abs(a - b) % Math.PI;
+  return Math.min(d, Math.PI - d);
+}
+
 function segDist(x: number, y: number, s: number[]): number {
   let best = Infinity;
   for (let i = 0; i < s.length; i += 4) {
@@ -307,6 +337,8 @@ export function scoreRun(
     members: { top: number; bottom: number; pts: XY[] }[];
     areaM2: number;
     cls: string;
+    /** Axis of its centreline, radians in [0, pi) (`axisOf`); null for a target with none (a polygon, a point). */
+    axis: number | null;
   }
   const read = (fc: FeatureCollection | undefined, file: string): Obj[] =>
     (fc?.features ?? []).map((f, i) => {
@@ -333,7 +365,8 @@ export function scoreRun(
           })
         : [{ top, bottom, pts: outlinePts }];
       const areaM2 = ringsArea(targetPolygons(f.geometry as Geo, ol, fromWgs84)) * mpu * mpu;
-      return { id: str(p.id) || str(f.id) || `#${i}`, top, bottom, shape, origin: str(p.origin) || 'subsurface', members, areaM2, cls: str(p.class) || 'none' };
+      const axis = axisOf(f.geometry as Geo, cl, fromWgs84);
+      return { id: str(p.id) || str(f.id) || `#${i}`, top, bottom, shape, origin: str(p.origin) || 'subsurface', members, areaM2, cls: str(p.class) || 'none', axis };
     });
   const tgs = read(targets, 'targets.geojson').filter((t) => t.origin !== 'above-ground');
   const ans = read(anomalies, 'anomalies.geojson');
@@ -489,7 +522,19 @@ export function scoreRun(
   const nAir = targetRows.filter((t) => t.kind === 'air').length;
   const nClutter = targetRows.length - nBuried - nAir;
   const surveyArea = surveySegs.length ? surveyedAreaM2(options.survey!.lines, mpu, coverM) : null;
-  const pieces = linAll.map((b) => ({ id: b.id, pieces: b.targets.length }));
+  // a piece runs along the utility: a linear target whose axis crosses it at more than 45 degrees is a
+  // crossing object's target (README "Pieces per utility")
+  const targetOf = new Map(tgs.map((t) => [t.id, t]));
+  const truthOf = new Map(truth.buried.map((b) => [b.id, b]));
+  const pieces = linAll.map((b) => {
+    const u = truthOf.get(b.id)!;
+    const ua = Math.atan2(u.to![1] - u.from![1], u.to![0] - u.from![0]);
+    const along = b.targets.filter((id) => {
+      const axis = targetOf.get(id)?.axis ?? null;
+      return axis === null || axisAngle(axis, ua) <= Math.PI / 4;
+    });
+    return { id: b.id, pieces: along.length };
+  });
   const found = pieces.filter((p) => p.pieces > 0);
   const largest = tgs.reduce<Obj | null>((m, t) => (!m || t.areaM2 > m.areaM2 ? t : m), null);
   const truthK = (truth.soil.layers ?? [])[0]?.permittivity ?? truth.soil.permittivity;
@@ -566,7 +611,8 @@ export function scoreRun(
       'air-wave anomaly: at least half of its members on one reflector locus; also near a buried target = ambiguous (not counted)',
       'target precision by count: targets covering a buried object (the buried-sample rule: pipes/cables sampled along the axis, compact objects at their centre) / targets; by area: their plan area / the plan area of all targets',
       `clutter targets: covering no buried object and on no reflector locus; per 100 m2 of surveyed area (cells within ${coverM.toFixed(2)} m of a line)`,
-      'pieces per utility: distinct targets covering a pipe/cable anywhere along it; mean and max over the utilities covered at all',
+      'pieces per utility: distinct targets covering a pipe/cable and running along it (a linear target whose axis crosses it at more than 45 degrees is not a piece); mean and max over the utilities with a piece',
+      'recall counts the buried objects the data record (truth response.traces > 0, or none given); linearAll / compactAll count every object',
       'air flags per anomaly: recall = flagged / on a locus (ambiguous left out); real wrongly flagged = flagged / (covering a buried object and on no locus)',
       'site K error: velocity.json site permittivity / truth top-layer permittivity - 1; layered truth: interval K of the run model / of the truth at each object depth - 1 (interfaces at their nominal depth, dip ignored)',
     ],

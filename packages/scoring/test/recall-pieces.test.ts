@@ -48,3 +48,36 @@ describe('scoreRun: recall over the recorded objects', () => {
     expect(r.precision.piecesMean).toBe(1);
   });
 });
+
+// Pieces per utility count the targets that run along it (README "Pieces per utility"): a linear target
+// crossing it at more than 45 degrees is the crossing object's. Arithmetic on the definitions.
+describe('scoreRun: pieces per utility along the utility', () => {
+  const truth: ScoreTruth = {
+    soil: { permittivity: 9, velocityMPerNs: C_M_PER_NS / 3 },
+    crs: 'local',
+    metresPerUnit: 1,
+    buried: [
+      { id: 'east', kind: 'pipe', from: [0, 0, 1], to: [10, 0, 1], radiusM: 0.05 },
+      { id: 'north', kind: 'pipe', from: [5, -5, 1], to: [5, 5, 1], radiusM: 0.05 },
+    ],
+    aboveGround: [],
+  };
+  const line = (id: string, a: [number, number], b: [number, number]) => feat(id, { type: 'LineString', coordinates: [a, b] }, { depthTopM: 0.9, depthBottomM: 1.1, origin: 'subsurface' });
+
+  it('two crossing pipes, each reported whole: one piece each (each target covers both at the crossing)', () => {
+    const r = scoreRun({ type: 'FeatureCollection', features: [line('E', [0, 0], [10, 0]), line('N', [5, -5], [5, 5])] }, empty, truth, identity);
+    expect(r.buried.map((b) => b.targets.length)).toEqual([2, 2]);
+    expect(r.precision.pieces).toEqual([{ id: 'east', pieces: 1 }, { id: 'north', pieces: 1 }]);
+    expect(r.precision.piecesMean).toBe(1);
+  });
+
+  it('counts every piece along a pipe, a compact target on it, and a piece 40 degrees off its axis', () => {
+    const off = (() => {
+      const a = (40 * Math.PI) / 180;
+      return line('D', [8 - Math.cos(a), -Math.sin(a)], [8 + Math.cos(a), Math.sin(a)]);
+    })();
+    const box = feat('B', { type: 'Polygon', coordinates: [[[2, -0.3], [3, -0.3], [3, 0.3], [2, 0.3], [2, -0.3]]] }, { depthTopM: 0.9, depthBottomM: 1.1, origin: 'subsurface' });
+    const r = scoreRun({ type: 'FeatureCollection', features: [line('A', [0, 0], [1.5, 0]), box, line('C', [6, 0], [7, 0]), off] }, empty, truth, identity);
+    expect(r.precision.pieces.find((p) => p.id === 'east')!.pieces).toBe(4);
+  });
+});
