@@ -6,6 +6,7 @@
 import { existsSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { emptyRow, formatTable, pool, scored, single, tableLine, type FieldRow } from './field-lib';
+import { intervalLine, poolIntervals } from './field-intervals';
 
 const dir = process.argv[2];
 if (!dir) throw new Error('usage: tsx bench/field-rescore.ts <kept-dir>');
@@ -33,3 +34,5 @@ console.log(formatTable([
   [],
   ...rows.filter((r) => r.half === 'sample').map((r) => tableLine(single(r), r)),
 ]));
+// how far the pooled figures move with the choice of scenes alone, as `pnpm bench field` prints it
+console.log(`\n90 % intervals over scenes (bench/field-intervals.ts):\n${halves.map((h) => intervalLine(h === 'tune' ? 'TUNE' : 'HELD-OUT', poolIntervals(rows.filter((r) => r.half === h)))).join('\n')}`);
