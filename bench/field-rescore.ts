@@ -2,8 +2,9 @@
 // today's scoring, without processing anything: the figure that shows what a change of a scoring
 // definition alone moves (the outputs stay the same). Prints the table of `pnpm bench field` (its columns
 // are explained there). Seeds: random-<odd> is TUNE, random-<even> HELD-OUT, the rest sample sites.
-// Usage: tsx bench/field-rescore.ts <kept-dir>   (the air measure of issue 18 is not recomputed)
-import { existsSync, readdirSync } from 'node:fs';
+// Usage: tsx bench/field-rescore.ts <kept-dir> [rows.json]   (the air measure of issue 18 is not recomputed;
+// with rows.json, the rows are also written there as a field.json that bench/field-compare.ts reads)
+import { existsSync, readdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { emptyRow, formatTable, pool, scored, single, tableLine, type FieldRow } from './field-lib';
 import { intervalLine, poolIntervals } from './field-intervals';
@@ -34,5 +35,7 @@ console.log(formatTable([
   [],
   ...rows.filter((r) => r.half === 'sample').map((r) => tableLine(single(r), r)),
 ]));
+const rowsFile = process.argv[3];
+if (rowsFile) writeFileSync(rowsFile, JSON.stringify({ createdAt: new Date().toISOString(), rescoredFrom: dir, rows }, null, 1) + '\n');
 // how far the pooled figures move with the choice of scenes alone, as `pnpm bench field` prints it
 console.log(`\n90 % intervals over scenes (bench/field-intervals.ts):\n${halves.map((h) => intervalLine(h === 'tune' ? 'TUNE' : 'HELD-OUT', poolIntervals(rows.filter((r) => r.half === h)))).join('\n')}`);
