@@ -15,7 +15,9 @@ export type { Evidence, TestName };
  *   band near its onset: a buried object lies in it w times as often by chance; `moveOutWeight`);
  * - slope dr/dz matching c/v: +2; a stationary anomaly where move-out was measurable: -3;
  * - edge alignment +1, post spacing +1, air hyperbola +2 when a plan feature stands at c t0 / 2 from
- *   its apex (+0.75 when none does: alone it leaves a candidate a target), soil hyperbola -1,
+ *   its apex (+0.75 when none does: alone it leaves a candidate a target), soil hyperbola -1 (-3 with
+ *   the screening's `soilApexSplit` when the apexes of soil-velocity fits on several lines lie on the
+ *   anomaly: no air wave draws a hyperbola at soil velocity, so that is as strong as a failed slope),
  *   unsurveyed obstruction +2.5 (needs move-out at the air rate over at least three slices; counted only
  *   with the screening's `countUnsurveyed`, off by default),
  *   energy on the locus before background removal +0.5;
@@ -33,6 +35,7 @@ export const WEIGHTS = {
   airHyperbola: 2,
   airHyperbolaUnexplained: 0.75,
   soilHyperbola: -1,
+  soilApexes: -3,
   unsurveyed: 2.5,
   beforeBackground: 0.5,
   continuity: -3,

@@ -30,10 +30,11 @@ import type { VelocityReport } from '@lamina/velocity';
 import { separateCrossings } from './crossings';
 import { bridgeThroughFields } from './bridges';
 import { piecesOfBuried } from './inside-buried';
+import { apexLines, carveSoilApexes, soilApexes } from './soil-apexes';
 import { alongLineMembers, nearestLineLabels, planarGroups } from './along-line';
 import { CrossingLines, type DirectionStack } from './crossing-lines';
 import { lineSpacingM, sliceLoci, surveyedMask, type Line, type ToleranceOptions } from './context';
-import { combine, type Evidence } from './evidence';
+import { combine, WEIGHTS, type Evidence } from './evidence';
 import { CAUTION } from '@lamina/constants';
 import { forecastLoci } from './forecast';
 import { lineToWgs84, outlineToWgs84, pointToWgs84, type FeatureCollection, type GeoJsonFeature, type ToWgs84 } from './geojson';
@@ -112,6 +113,17 @@ export interface ScreenOptions extends ExtractOptions, ToleranceOptions {
   piecesOfBuried?: boolean;
   /** Screen the objects inside a laterally extensive subsurface anomaly on their own (`objectsOfExtensive`). @default true */
   splitExtensive?: boolean;
+  /**
+   * A buried object inside an air-wave anomaly: members holding the apexes of soil-velocity fits on at
+   * least `soilApexLines` survey lines are screened apart from an above-ground anomaly they were linked
+   * into, and any anomaly holding such members gets the `soilApexes` item (evidence.ts) instead of the
+   * one soil-hyperbola item. Off by default until a tuning session has weighed it on the field bench
+   * (DEVELOPERS.md, session 26: on four TUNE populations 38 of 39 such members of flagged anomalies lay
+   * on a buried object). @default false
+   */
+  soilApexSplit?: boolean;
+  /** Survey lines whose soil-velocity fits must have their apex on a member for `soilApexSplit`. @default 2 */
+  soilApexLines?: number;
 }
 
 export interface ScreenSummary {
@@ -145,6 +157,24 @@ export interface ScreenResult {
   summary: ScreenSummary;
   /** The screened anomalies in the site CRS (for the targets package and tests). */
   screened: ScreenedAnomaly[];
+}
+
+/** The `soilApexes` item of an anomaly whose `members` hold the apexes of soil-velocity fits on several lines. */
+function soilApexEvidence(members: Member[], soilLines: Map<number, Set<string>>, minLines: number): Evidence {
+  const lines = new Set(members.flatMap((m) => [...(soilLines.get(m.id) ?? [])]));
+  const slices = [...new Set(members.map((m) => m.slice))].sort((p, q) => p - q);
+  return {
+    test: 'soil-hyperbola',
+    featureId: null,
+    measured: lines.size,
+    expected: minLines,
+    tolerance: 0,
+    units: 'lines',
+    passed: true,
+    weight: WEIGHTS.soilApexes,
+    slice: slices[0]!,
+    detail: `soil-velocity hyperbolas on ${lines.size} lines (${[...lines].sort().join(', ')}) with their apexes on its slice ${slices.join(', ')} member${members.length > 1 ? 's' : ''}: no air wave draws a hyperbola at soil velocity`,
+  };
 }
 
 /**
@@ -226,14 +256,22 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   const extraction = extractAnomalies(stack, { isLayer, bandWidthM, bandOnLocus, ...options, metresPerUnit: mpu });
   // cut buried targets out of the air-wave bands they cross, then link again
   const sep = separateCrossings(extraction.members, stack, extraction.scores, ctx, options.minCells ?? 6, mpu, options.threshold ?? 5);
-  const members = sep.members;
+  // a buried object sharing a member with an air-wave band, where soil-velocity fits put their apexes
+  // (`soilApexSplit`): cut out of the member, and screened apart below
+  const soilSplit = options.soilApexSplit === true;
+  const apexOptions = { minLines: options.soilApexLines ?? 2, metresPerUnit: mpu, velocityMPerNs: velocity.site.velocityMPerNs, ...(f && f > 0 ? { frequencyMHz: f } : {}) };
+  const apexes = soilSplit ? soilApexes(velocity.hyperbolas ?? [], velocity.model, ctx) : [];
+  const carved = apexes.length ? carveSoilApexes(sep.members, apexes, stack, extraction.scores, ctx, { ...apexOptions, minCells: options.minCells ?? 6 }) : { members: sep.members, cut: 0 };
+  const members = carved.members;
   const linked =
-    sep.cut === 0
+    sep.cut === 0 && carved.cut === 0
       ? extraction.anomalies
       : linkMembers(members, grid.width * grid.height, grid.cellSize, options).map((g) => buildAnomaly('A', g.map((i) => members[i]!), stack, { ...options, metresPerUnit: mpu }));
   const trains = postTrains(members, ctx);
   const hyper = hyperbolaHits(members, velocity.hyperbolas ?? [], velocity.model, ctx);
-  const evaluate = (a: Anomaly3D, c: ScreenContext = ctx): ScreenedAnomaly & { mo?: MoveOutResult } => {
+  const soilLines = apexLines(members, apexes, stack, ctx, apexOptions);
+  const soilMembers = (a: Anomaly3D) => a.members.filter((m) => soilLines.has(m.id));
+  const evaluate = (a: Anomaly3D, c: ScreenContext = ctx, soilItem = soilSplit): ScreenedAnomaly & { mo?: MoveOutResult } => {
     const evidence: Evidence[] = [];
     const mo = bestMoveOut(a, c);
     if (mo) {
@@ -251,8 +289,10 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     if (p) evidence.push(p);
     const hs = a.members.map((m) => hyper.get(m.id)).filter((e): e is Evidence => !!e);
     const air = hs.find((e) => e.test === 'air-hyperbola');
+    const soil = soilItem ? soilMembers(a) : [];
     if (air) evidence.push(air);
-    else if (hs[0]) evidence.push(hs[0]);
+    else if (hs[0] && soil.length === 0) evidence.push(hs[0]);
+    if (soil.length > 0) evidence.push(soilApexEvidence(soil, soilLines, apexOptions.minLines));
     if (!mo || mo.fraction < 0.5) {
       const u = unsurveyedEvidence(a, c);
       if (u && u.passed && !options.countUnsurveyed) {
@@ -270,6 +310,17 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   // members on the best locus make an above-ground anomaly by themselves and the rest span at least
   // splitMin slices, the rest are relinked and screened on their own (twice at most).
   const screenOne = (a: Anomaly3D, depth: number, c: ScreenContext = ctx) => {
+    // a buried object linked into an air-wave anomaly: the members holding soil-velocity apexes on
+    // several lines, and the rest, screened apart (`soilApexSplit`)
+    if (soilSplit && depth < 3) {
+      const soil = soilMembers(a);
+      if (soil.length > 0 && soil.length < a.members.length && evaluate(a, c, false).verdict.origin === 'above-ground') {
+        const rest = a.members.filter((m) => !soil.includes(m));
+        for (const g of relink(soil, grid.width * grid.height, grid.cellSize, options)) screenOne(build(g), depth + 1, c);
+        for (const g of relink(rest, grid.width * grid.height, grid.cellSize, options)) screenOne(build(g), depth + 1, c);
+        return;
+      }
+    }
     const s = evaluate(a, c);
     const explained = s.evidence.some((e) => e.test === 'unsurveyed-obstruction' && e.passed && e.weight > 0);
     if (depth < 3 && s.mo && !explained) {

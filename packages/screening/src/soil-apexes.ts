@@ -1,0 +1,103 @@
+import { fresnelRadiusM, makeMember, type Member } from '@lamina/anomalies';
+import { cellCentreX, cellCentreY, type SliceStack } from '@lamina/slices';
+import { C_M_PER_NS, depthAtVerticalTimeNs, type HyperbolaFit, type VelocityModel } from '@lamina/velocity';
+import type { ScreenContext } from './context';
+
+/** A soil-velocity fit's apex in the slices: plan position (site CRS), depth and the slice that holds it. */
+export interface SoilApex {
+  line: string;
+  x: number;
+  y: number;
+  depthM: number;
+  slice: number;
+}
+
+/**
+ * The apexes of the fits that read the soil: subsurface, unflagged, not air-like (K 2 and above, the
+ * velocity well below c), each in the slice whose depth range holds its apex depth (none for an apex
+ * outside every slice). No air wave draws a hyperbola at soil velocity: an above-ground object's is
+ * at c (air-hyperbola.ts), so such an apex marks something in the ground.
+ */
+export function soilApexes(hyperbolas: readonly HyperbolaFit[], model: VelocityModel, ctx: ScreenContext): SoilApex[] {
+  const out: SoilApex[] = [];
+  for (const h of hyperbolas) {
+    if (h.origin !== 'subsurface' || (h.flags && h.flags.length > 0) || !(h.permittivity >= 2) || !(h.velocityMPerNs < 0.9 * C_M_PER_NS)) continue;
+    const z = depthAtVerticalTimeNs(model, h.t0Ns);
+    const slice = ctx.loci.findIndex((l) => z >= l.topM && z <= l.bottomM);
+    if (slice >= 0) out.push({ line: h.line, x: h.x, y: h.y, depthM: z, slice });
+  }
+  return out;
+}
+
+/** How far from a soil apex a member's cell counts as on it, m: the first Fresnel zone's radius at the apex depth (a buried reflector's response in a slice is that wide about its apex), at least the position tolerance. */
+export function apexReachM(depthM: number, ctx: ScreenContext, velocityMPerNs: number, frequencyMHz?: number): number {
+  return Math.max(ctx.positionM, frequencyMHz && frequencyMHz > 0 ? fresnelRadiusM(depthM, velocityMPerNs, frequencyMHz) : 0);
+}
+
+export interface ApexOptions {
+  /** Survey lines whose apexes a member must hold. */
+  minLines: number;
+  metresPerUnit: number;
+  /** Site velocity and antenna frequency, for the reach (`apexReachM`). */
+  velocityMPerNs: number;
+  frequencyMHz?: number;
+}
+
+/** The soil apexes within reach of some cell of member `m`, in its own slice. */
+function apexesOn(m: Member, apexes: readonly SoilApex[], stack: SliceStack, ctx: ScreenContext, options: ApexOptions): { on: SoilApex[]; near: (a: SoilApex, c: number) => boolean } {
+  const g = stack.grid;
+  const near = (a: SoilApex, c: number) => {
+    const row = (c / g.width) | 0;
+    return Math.hypot(cellCentreX(g, c - row * g.width) - a.x, cellCentreY(g, row) - a.y) * options.metresPerUnit <= apexReachM(a.depthM, ctx, options.velocityMPerNs, options.frequencyMHz);
+  };
+  const on = apexes.filter((a) => a.slice === m.slice && m.cells.some((c) => near(a, c)));
+  return { on, near };
+}
+
+/** For each member holding soil apexes of at least `minLines` survey lines in its own slice: those lines. */
+export function apexLines(members: readonly Member[], apexes: readonly SoilApex[], stack: SliceStack, ctx: ScreenContext, options: ApexOptions): Map<number, Set<string>> {
+  const out = new Map<number, Set<string>>();
+  if (apexes.length === 0) return out;
+  for (const m of members) {
+    const lines = new Set(apexesOn(m, apexes, stack, ctx, options).on.map((a) => a.line));
+    if (lines.size >= options.minLines) out.set(m.id, lines);
+  }
+  return out;
+}
+
+/**
+ * Cuts a buried object out of a member that an air-wave band (a ring, a wall's strip) shares with it in
+ * one slice. Where the apexes of soil-velocity fits (`soilApexes`) on at least `minLines` survey lines lie
+ * within reach (`apexReachM`) of a member's cells in their own slice, the member's cells within reach of
+ * those apexes become a member of their own when both it and the rest keep `minCells` cells; the rest
+ * stays one member (what of the band is left). Returns the new member list (ids renumbered) and how many
+ * members were cut.
+ */
+export function carveSoilApexes(members: Member[], apexes: readonly SoilApex[], stack: SliceStack, scores: Float32Array[], ctx: ScreenContext, options: ApexOptions & { minCells: number }): { members: Member[]; cut: number } {
+  const out: Member[] = [];
+  let cut = 0;
+  for (const m of members) {
+    const { on, near } = apexesOn(m, apexes, stack, ctx, options);
+    if (new Set(on.map((a) => a.line)).size < options.minLines) {
+      out.push(m);
+      continue;
+    }
+    const inside: number[] = [], rest: number[] = [];
+    for (let i = 0; i < m.cells.length; i++) {
+      const c = m.cells[i]!;
+      (on.some((a) => near(a, c)) ? inside : rest).push(c);
+    }
+    if (inside.length < options.minCells || rest.length < options.minCells) {
+      out.push(m);
+      continue;
+    }
+    cut++;
+    for (const p of [inside, rest]) {
+      const piece = makeMember(0, m.slice, Int32Array.from(p), stack, scores[m.slice]!, { metresPerUnit: options.metresPerUnit }, m.noiseEnergy);
+      if (m.layer) piece.layer = true;
+      out.push(piece);
+    }
+  }
+  out.forEach((m, i) => (m.id = i));
+  return { members: out, cut };
+}
