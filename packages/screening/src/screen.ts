@@ -271,7 +271,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   const hyper = hyperbolaHits(members, velocity.hyperbolas ?? [], velocity.model, ctx);
   const soilLines = apexLines(members, apexes, stack, ctx, apexOptions);
   const soilMembers = (a: Anomaly3D) => a.members.filter((m) => soilLines.has(m.id));
-  const evaluate = (a: Anomaly3D, c: ScreenContext = ctx, soilItem = soilSplit): ScreenedAnomaly & { mo?: MoveOutResult } => {
+  const evaluate = (a: Anomaly3D, c: ScreenContext = ctx): ScreenedAnomaly & { mo?: MoveOutResult } => {
     const evidence: Evidence[] = [];
     const mo = bestMoveOut(a, c);
     if (mo) {
@@ -289,7 +289,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     if (p) evidence.push(p);
     const hs = a.members.map((m) => hyper.get(m.id)).filter((e): e is Evidence => !!e);
     const air = hs.find((e) => e.test === 'air-hyperbola');
-    const soil = soilItem ? soilMembers(a) : [];
+    const soil = soilMembers(a);
     if (air) evidence.push(air);
     else if (hs[0] && soil.length === 0) evidence.push(hs[0]);
     if (soil.length > 0) evidence.push(soilApexEvidence(soil, soilLines, apexOptions.minLines));
@@ -310,27 +310,19 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   // members on the best locus make an above-ground anomaly by themselves and the rest span at least
   // splitMin slices, the rest are relinked and screened on their own (twice at most).
   const screenOne = (a: Anomaly3D, depth: number, c: ScreenContext = ctx) => {
-    // a buried object linked into an air-wave anomaly: the members holding soil-velocity apexes on
-    // several lines, and the rest, screened apart (`soilApexSplit`)
-    if (soilSplit && depth < 3) {
-      const soil = soilMembers(a);
-      if (soil.length > 0 && soil.length < a.members.length && evaluate(a, c, false).verdict.origin === 'above-ground') {
-        const rest = a.members.filter((m) => !soil.includes(m));
-        for (const g of relink(soil, grid.width * grid.height, grid.cellSize, options)) screenOne(build(g), depth + 1, c);
-        for (const g of relink(rest, grid.width * grid.height, grid.cellSize, options)) screenOne(build(g), depth + 1, c);
-        return;
-      }
-    }
     const s = evaluate(a, c);
     const explained = s.evidence.some((e) => e.test === 'unsurveyed-obstruction' && e.passed && e.weight > 0);
     if (depth < 3 && s.mo && !explained) {
-      const off = s.mo.fits.filter((f) => !f.passed).map((f) => f.member);
-      const on = s.mo.fits.filter((f) => f.passed).map((f) => f.member);
-      if (on.length > 0 && off.length > 0 && new Set(off.map((m) => m.slice)).size >= splitMin) {
+      // a member holding soil-velocity apexes on several lines (`soilApexSplit`) is a buried object's,
+      // whether or not it lies on a locus: it goes with the off-locus part
+      const soil = new Set(soilMembers(a));
+      const off = s.mo.fits.filter((f) => !f.passed || soil.has(f.member)).map((f) => f.member);
+      const on = s.mo.fits.filter((f) => f.passed && !soil.has(f.member)).map((f) => f.member);
+      if (on.length > 0 && off.length > 0 && (new Set(off.map((m) => m.slice)).size >= splitMin || off.some((m) => soil.has(m)))) {
         // Off-locus pieces of one slice each, with the whole anomaly above-ground, are the skirts of
         // the same air event (the pulse's tails just outside the band): they stay with it.
         const groups = relink(off, grid.width * grid.height, grid.cellSize, options);
-        const skirtsOnly = groups.every((g) => new Set(g.map((m) => m.slice)).size < splitMin);
+        const skirtsOnly = groups.every((g) => new Set(g.map((m) => m.slice)).size < splitMin && !g.some((m) => soil.has(m)));
         const onPart = skirtsOnly && s.verdict.origin === 'above-ground' ? undefined : evaluate(build(on), c);
         if (onPart && onPart.verdict.origin === 'above-ground') {
           screened.push(strip(onPart));
