@@ -1,7 +1,8 @@
 import { fresnelRadiusM, makeMember, type Member } from '@lamina/anomalies';
 import { cellCentreX, cellCentreY, type SliceStack } from '@lamina/slices';
 import { C_M_PER_NS, depthAtVerticalTimeNs, type HyperbolaFit, type VelocityModel } from '@lamina/velocity';
-import type { ScreenContext } from './context';
+import { locusAtHeight, type ScreenContext } from './context';
+import { locusResiduals } from './locus-residual';
 
 /** A soil-velocity fit's apex in the slices: plan position (site CRS), depth and the slice that holds it. */
 export interface SoilApex {
@@ -65,12 +66,31 @@ export function apexLines(members: readonly Member[], apexes: readonly SoilApex[
   return out;
 }
 
+/** The largest share of `cells` on one reflector's locus band in slice `slice` (|residual| within the band half-width and the position tolerance). */
+function bandShare(cells: Int32Array, slice: number, ctx: ScreenContext): number {
+  let best = 0;
+  for (let r = 0; r < ctx.reflectors.length; r++) {
+    const field = ctx.fields[r];
+    if (!field) continue;
+    const refl = ctx.reflectors[r]!;
+    const l = locusAtHeight(ctx.loci[slice]!, refl.heightM);
+    if (!Number.isFinite(l.radiusM)) continue;
+    const band = l.bandHalfM + ctx.positionM;
+    const res = locusResiduals(refl, field, l.radiusM, ctx, cells);
+    let n = 0;
+    for (let i = 0; i < res.length; i++) if (Math.abs(res[i]!) <= band) n++;
+    best = Math.max(best, n / Math.max(1, res.length));
+  }
+  return best;
+}
+
 /**
  * Cuts a buried object out of a member that an air-wave band (a ring, a wall's strip) shares with it in
  * one slice. Where the apexes of soil-velocity fits (`soilApexes`) on at least `minLines` survey lines lie
  * within reach (`apexReachM`) of a member's cells in their own slice, the member's cells within reach of
- * those apexes become a member of their own when both it and the rest keep `minCells` cells; the rest
- * stays one member (what of the band is left). Returns the new member list (ids renumbered) and how many
+ * those apexes become a member of their own when both it and the rest keep `minCells` cells and at
+ * least half of the rest lies on one reflector's locus band (`bandShare`); the rest stays one member
+ * (what of the band is left). A member that no band holds is a buried object's own and is not cut. Returns the new member list (ids renumbered) and how many
  * members were cut.
  */
 export function carveSoilApexes(members: Member[], apexes: readonly SoilApex[], stack: SliceStack, scores: Float32Array[], ctx: ScreenContext, options: ApexOptions & { minCells: number }): { members: Member[]; cut: number } {
@@ -87,7 +107,8 @@ export function carveSoilApexes(members: Member[], apexes: readonly SoilApex[], 
       const c = m.cells[i]!;
       (on.some((a) => near(a, c)) ? inside : rest).push(c);
     }
-    if (inside.length < options.minCells || rest.length < options.minCells) {
+    // only where an air-wave band holds the rest: a buried object's own member is not cut
+    if (inside.length < options.minCells || rest.length < options.minCells || bandShare(Int32Array.from(rest), m.slice, ctx) < 0.5) {
       out.push(m);
       continue;
     }
