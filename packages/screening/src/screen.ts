@@ -114,12 +114,12 @@ export interface ScreenOptions extends ExtractOptions, ToleranceOptions {
   /** Screen the objects inside a laterally extensive subsurface anomaly on their own (`objectsOfExtensive`). @default true */
   splitExtensive?: boolean;
   /**
-   * A buried object inside an air-wave anomaly: members holding the apexes of soil-velocity fits on at
-   * least `soilApexLines` survey lines are screened apart from an above-ground anomaly they were linked
-   * into, and any anomaly holding such members gets the `soilApexes` item (evidence.ts) instead of the
-   * one soil-hyperbola item. Off by default until a tuning session has weighed it on the field bench
-   * (DEVELOPERS.md, session 26: on four TUNE populations 38 of 39 such members of flagged anomalies lay
-   * on a buried object). @default false
+   * A buried object inside an air-wave anomaly (soil-apexes.ts): where the apexes of soil-velocity fits
+   * on at least `soilApexLines` survey lines lie on a member in their slice, the member's cells about
+   * them are cut out when an air-wave band holds the rest (`carveSoilApexes`); such members count as off
+   * the locus in the on/off-locus split, so they are screened apart from the air-wave part; and an
+   * anomaly holding them gets the soil-hyperbola item at `soilApexes` (evidence.ts). Off by default until
+   * a tuning session has weighed it with the held-out halves (DEVELOPERS.md, session 26). @default false
    */
   soilApexSplit?: boolean;
   /** Survey lines whose soil-velocity fits must have their apex on a member for `soilApexSplit`. @default 2 */

@@ -1,6 +1,6 @@
 import { fresnelRadiusM, makeMember, type Member } from '@lamina/anomalies';
 import { cellCentreX, cellCentreY, type SliceStack } from '@lamina/slices';
-import { C_M_PER_NS, depthAtVerticalTimeNs, type HyperbolaFit, type VelocityModel } from '@lamina/velocity';
+import { ABOVE_GROUND_MAX_PERMITTIVITY, depthAtVerticalTimeNs, type HyperbolaFit, type VelocityModel } from '@lamina/velocity';
 import { locusAtHeight, type ScreenContext } from './context';
 import { locusResiduals } from './locus-residual';
 
@@ -14,15 +14,15 @@ export interface SoilApex {
 }
 
 /**
- * The apexes of the fits that read the soil: subsurface, unflagged, not air-like (K 2 and above, the
- * velocity well below c), each in the slice whose depth range holds its apex depth (none for an apex
+ * The apexes of the fits that read the soil: subsurface, unflagged, not air-like (K at least
+ * `ABOVE_GROUND_MAX_PERMITTIVITY`, 2), each in the slice whose depth range holds its apex depth (none for an apex
  * outside every slice). No air wave draws a hyperbola at soil velocity: an above-ground object's is
  * at c (air-hyperbola.ts), so such an apex marks something in the ground.
  */
 export function soilApexes(hyperbolas: readonly HyperbolaFit[], model: VelocityModel, ctx: ScreenContext): SoilApex[] {
   const out: SoilApex[] = [];
   for (const h of hyperbolas) {
-    if (h.origin !== 'subsurface' || (h.flags && h.flags.length > 0) || !(h.permittivity >= 2) || !(h.velocityMPerNs < 0.9 * C_M_PER_NS)) continue;
+    if (h.origin !== 'subsurface' || (h.flags && h.flags.length > 0) || !(h.permittivity >= ABOVE_GROUND_MAX_PERMITTIVITY)) continue;
     const z = depthAtVerticalTimeNs(model, h.t0Ns);
     const slice = ctx.loci.findIndex((l) => z >= l.topM && z <= l.bottomM);
     if (slice >= 0) out.push({ line: h.line, x: h.x, y: h.y, depthM: z, slice });
