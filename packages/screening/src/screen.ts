@@ -260,7 +260,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   // (`soilApexSplit`): cut out of the member, and screened apart below
   const soilSplit = options.soilApexSplit === true;
   const apexOptions = { minLines: options.soilApexLines ?? 2, metresPerUnit: mpu, velocityMPerNs: velocity.site.velocityMPerNs, ...(f && f > 0 ? { frequencyMHz: f } : {}) };
-  const apexes = soilSplit ? soilApexes(velocity.hyperbolas ?? [], velocity.model, ctx) : [];
+  const apexes = soilSplit ? soilApexes(velocity.hyperbolas ?? [], velocity.model, ctx, apexOptions) : [];
   const carved = apexes.length ? carveSoilApexes(sep.members, apexes, stack, extraction.scores, ctx, { ...apexOptions, minCells: options.minCells ?? 6 }) : { members: sep.members, cut: 0 };
   const members = carved.members;
   const linked =
@@ -269,7 +269,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
       : linkMembers(members, grid.width * grid.height, grid.cellSize, options).map((g) => buildAnomaly('A', g.map((i) => members[i]!), stack, { ...options, metresPerUnit: mpu }));
   const trains = postTrains(members, ctx);
   const hyper = hyperbolaHits(members, velocity.hyperbolas ?? [], velocity.model, ctx);
-  const soilLines = apexLines(members, apexes, stack, ctx, apexOptions);
+  const soilLines = apexLines(members, apexes, stack, apexOptions);
   const soilMembers = (a: Anomaly3D) => a.members.filter((m) => soilLines.has(m.id));
   const evaluate = (a: Anomaly3D, c: ScreenContext = ctx): ScreenedAnomaly & { mo?: MoveOutResult } => {
     const evidence: Evidence[] = [];

@@ -2,6 +2,7 @@ import { fresnelRadiusM, makeMember, type Member } from '@lamina/anomalies';
 import { cellCentreX, cellCentreY, type SliceStack } from '@lamina/slices';
 import { ABOVE_GROUND_MAX_PERMITTIVITY, depthAtVerticalTimeNs, type HyperbolaFit, type VelocityModel } from '@lamina/velocity';
 import { locusAtHeight, type ScreenContext } from './context';
+import { lowerBound } from './checks/air-hyperbola';
 import { locusResiduals } from './locus-residual';
 
 /** A soil-velocity fit's apex in the slices: plan position (site CRS), depth and the slice that holds it. */
@@ -11,6 +12,8 @@ export interface SoilApex {
   y: number;
   depthM: number;
   slice: number;
+  /** How far from it a member's cell counts as on it, m (`apexReachM`). */
+  reachM: number;
 }
 
 /**
@@ -19,13 +22,13 @@ export interface SoilApex {
  * outside every slice). No air wave draws a hyperbola at soil velocity: an above-ground object's is
  * at c (air-hyperbola.ts), so such an apex marks something in the ground.
  */
-export function soilApexes(hyperbolas: readonly HyperbolaFit[], model: VelocityModel, ctx: ScreenContext): SoilApex[] {
+export function soilApexes(hyperbolas: readonly HyperbolaFit[], model: VelocityModel, ctx: ScreenContext, options: Pick<ApexOptions, 'velocityMPerNs' | 'frequencyMHz'>): SoilApex[] {
   const out: SoilApex[] = [];
   for (const h of hyperbolas) {
     if (h.origin !== 'subsurface' || (h.flags && h.flags.length > 0) || !(h.permittivity >= ABOVE_GROUND_MAX_PERMITTIVITY)) continue;
     const z = depthAtVerticalTimeNs(model, h.t0Ns);
     const slice = ctx.loci.findIndex((l) => z >= l.topM && z <= l.bottomM);
-    if (slice >= 0) out.push({ line: h.line, x: h.x, y: h.y, depthM: z, slice });
+    if (slice >= 0) out.push({ line: h.line, x: h.x, y: h.y, depthM: z, slice, reachM: apexReachM(z, ctx, options.velocityMPerNs, options.frequencyMHz) });
   }
   return out;
 }
@@ -45,22 +48,29 @@ export interface ApexOptions {
 }
 
 /** The soil apexes within reach of some cell of member `m`, in its own slice. */
-function apexesOn(m: Member, apexes: readonly SoilApex[], stack: SliceStack, ctx: ScreenContext, options: ApexOptions): { on: SoilApex[]; near: (a: SoilApex, c: number) => boolean } {
+function apexesOn(m: Member, apexes: readonly SoilApex[], stack: SliceStack, options: Pick<ApexOptions, 'metresPerUnit'>): { on: SoilApex[]; near: (a: SoilApex, c: number) => boolean } {
   const g = stack.grid;
   const near = (a: SoilApex, c: number) => {
     const row = (c / g.width) | 0;
-    return Math.hypot(cellCentreX(g, c - row * g.width) - a.x, cellCentreY(g, row) - a.y) * options.metresPerUnit <= apexReachM(a.depthM, ctx, options.velocityMPerNs, options.frequencyMHz);
+    return Math.hypot(cellCentreX(g, c - row * g.width) - a.x, cellCentreY(g, row) - a.y) * options.metresPerUnit <= a.reachM;
   };
-  const on = apexes.filter((a) => a.slice === m.slice && m.cells.some((c) => near(a, c)));
+  // only the member's rows within reach of the apex can hold such a cell (cells are row-major, ascending)
+  const reaches = (a: SoilApex) => {
+    const rowA = (g.originY - a.y) / g.cellSize - 0.5, rows = a.reachM / (g.cellSize * options.metresPerUnit);
+    const end = lowerBound(m.cells, (Math.ceil(rowA + rows) + 2) * g.width);
+    for (let i = lowerBound(m.cells, Math.max(0, Math.floor(rowA - rows) - 1) * g.width); i < end; i++) if (near(a, m.cells[i]!)) return true;
+    return false;
+  };
+  const on = apexes.filter((a) => a.slice === m.slice && reaches(a));
   return { on, near };
 }
 
 /** For each member holding soil apexes of at least `minLines` survey lines in its own slice: those lines. */
-export function apexLines(members: readonly Member[], apexes: readonly SoilApex[], stack: SliceStack, ctx: ScreenContext, options: ApexOptions): Map<number, Set<string>> {
+export function apexLines(members: readonly Member[], apexes: readonly SoilApex[], stack: SliceStack, options: Pick<ApexOptions, 'minLines' | 'metresPerUnit'>): Map<number, Set<string>> {
   const out = new Map<number, Set<string>>();
   if (apexes.length === 0) return out;
   for (const m of members) {
-    const lines = new Set(apexesOn(m, apexes, stack, ctx, options).on.map((a) => a.line));
+    const lines = new Set(apexesOn(m, apexes, stack, options).on.map((a) => a.line));
     if (lines.size >= options.minLines) out.set(m.id, lines);
   }
   return out;
@@ -97,7 +107,7 @@ export function carveSoilApexes(members: Member[], apexes: readonly SoilApex[], 
   const out: Member[] = [];
   let cut = 0;
   for (const m of members) {
-    const { on, near } = apexesOn(m, apexes, stack, ctx, options);
+    const { on, near } = apexesOn(m, apexes, stack, options);
     if (new Set(on.map((a) => a.line)).size < options.minLines) {
       out.push(m);
       continue;

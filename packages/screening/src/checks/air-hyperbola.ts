@@ -89,7 +89,7 @@ export function hyperbolaHits(members: Member[], hyperbolas: HyperbolaFit[], mod
 }
 
 /** First index of ascending `a` whose value is >= v (a.length when none). */
-function lowerBound(a: Int32Array, v: number): number {
+export function lowerBound(a: Int32Array, v: number): number {
   let lo = 0, hi = a.length;
   while (lo < hi) {
     const mid = (lo + hi) >> 1;
