@@ -3,8 +3,8 @@
 // which fits count, their weights, the centre, the layer test) is measured in seconds on every kept scene
 // instead of a bench run. The fits are the run's own, as velocity.json lists them (oblique crossings
 // already corrected, `buildVelocityReport`); a change to detection, fitting or the oblique correction needs
-// `pnpm bench field`. The replay follows `buildVelocityReport`'s rule for fits whose apexes lie in the
-// direct-wave zone (used only when no other fit is usable, from at least `minEarlyObjects` objects).
+// `pnpm bench field`. The replay is `buildVelocityReport`'s own `siteModelOfFits` (with its rule for fits
+// whose apexes lie in the direct-wave zone) without the oblique correction, which the fits already had.
 // Prints each scene whose site K moves, and the pooled site-K mean |error| (scoring's frozen definition:
 // velocity.json site permittivity / truth top-layer permittivity - 1) of the runs and of the replay, with
 // the paired 90 % bootstrap interval of the difference (bench/field-intervals.ts).
@@ -13,7 +13,7 @@
 import { existsSync, readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { EARLY_APEX_FLAG, siteVelocityModel, type HyperbolaFit, type SiteModelOptions } from '../packages/velocity/src/index';
+import { siteModelOfFits, type HyperbolaFit, type SiteModelOptions } from '../packages/velocity/src/index';
 import { emptyRow, type FieldRow } from './field-lib';
 import { pairedIntervals } from './field-intervals';
 
@@ -27,17 +27,9 @@ export interface Replayed {
   fits: number;
 }
 
-/** `buildVelocityReport`'s site model on the fits of a velocity.json (already corrected), with `options`. */
+/** `buildVelocityReport`'s site model (`siteModelOfFits`) on the fits of a velocity.json (already corrected), with `options`. */
 export function replaySiteK(hyperbolas: HyperbolaFit[], options: SiteModelOptions & { minEarlyObjects?: number } = {}): number {
-  const isEarly = (f: HyperbolaFit) => f.flags?.includes(EARLY_APEX_FLAG) === true;
-  const later = hyperbolas.filter((f) => !isEarly(f));
-  const { site } = siteVelocityModel(later, options);
-  const early = hyperbolas.filter((f) => isEarly(f) && f.origin === 'subsurface');
-  if (site.fitCount === 0 && early.length > 0) {
-    const m = siteVelocityModel(hyperbolas, { ...options, earlyApexes: true });
-    if ((m.site.objectCount ?? 0) >= (options.minEarlyObjects ?? 3)) return m.site.permittivity;
-  }
-  return site.permittivity;
+  return siteModelOfFits(hyperbolas, options).site.permittivity;
 }
 
 /** Every scene of a kept folder (`<name>-out` beside `<name>-site`) replayed. */

@@ -39,7 +39,7 @@ export {
   siteVelocityOf,
   type SiteModelOptions,
 } from './site-model';
-export { toHyperbolaFit, lineHyperbolas, buildVelocityReport, velocityJson, velocityJsonChunks, writeVelocityJson, type ReportOptions } from './report';
+export { toHyperbolaFit, lineHyperbolas, buildVelocityReport, siteModelOfFits, velocityJson, velocityJsonChunks, writeVelocityJson, type ReportOptions } from './report';
 export { parsePicks, fitManualPicks, type PicksFile, type ManualHyperbola } from './picks';
 export { lineDirection, correctObliqueCrossings, type ObliqueOptions } from './oblique';
 export { recipeForVelocity } from './recipe';

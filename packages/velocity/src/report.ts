@@ -80,25 +80,38 @@ export interface ReportOptions extends SiteModelOptions, ObliqueOptions {
   minEarlyObjects?: number;
 }
 
+/**
+ * The site model of a site's fits (`siteVelocityModel`) with the rule for fits in the direct-wave zone
+ * (`EARLY_APEX_FLAG`): they serve only a site that no later fit serves, when they come from
+ * `minEarlyObjects` objects, and then only the subsurface ones (an air-velocity fit there is no evidence
+ * of an above-ground object of its own). `prepare` makes each list of fits the model reads from the fits
+ * as given (`buildVelocityReport`: the oblique correction, which is not to be applied twice). Returns the
+ * fits the chosen model read, with it.
+ */
+export function siteModelOfFits(
+  fits: HyperbolaFit[],
+  options: SiteModelOptions & { minEarlyObjects?: number } = {},
+  prepare: (fits: HyperbolaFit[]) => HyperbolaFit[] = (f) => f,
+): Pick<VelocityReport, 'site' | 'model'> & { all: HyperbolaFit[] } {
+  const isEarly = (f: HyperbolaFit) => f.flags?.includes(EARLY_APEX_FLAG) === true;
+  const later = fits.filter((f) => !isEarly(f));
+  const all = prepare(later);
+  const chosen = { all, ...siteVelocityModel(all, options) };
+  const early = fits.filter((f) => isEarly(f) && f.origin === 'subsurface');
+  if (chosen.site.fitCount === 0 && early.length > 0) {
+    const withEarly = prepare([...later, ...early]);
+    const m = siteVelocityModel(withEarly, { ...options, earlyApexes: true });
+    if ((m.site.objectCount ?? 0) >= (options.minEarlyObjects ?? 3)) return { all: withEarly, ...m };
+  }
+  return chosen;
+}
+
 /** The velocity.json content from all fits of a site, oblique crossings corrected (see `correctObliqueCrossings`). */
 export function buildVelocityReport(fits: HyperbolaFit[], options: ReportOptions = {}): VelocityReport {
   const dirs: Record<string, [number, number]> = { ...options.lineDirections };
   for (const f of fits) if (f.lineDirection && !dirs[f.line]) dirs[f.line] = f.lineDirection;
   const corrected = (f: HyperbolaFit[]) => (options.noObliqueCorrection ? f : correctObliqueCrossings(f, dirs, options));
-  // Fits in the direct-wave zone serve only a site that no later fit serves, when they come from
-  // `minEarlyObjects` objects (and then only the subsurface ones: an air-velocity fit there is no
-  // evidence of an above-ground object of its own).
-  // (each list is corrected from the fits as detected: the correction is not to be applied twice)
-  const isEarly = (f: HyperbolaFit) => f.flags?.includes(EARLY_APEX_FLAG) === true;
-  const later = fits.filter((f) => !isEarly(f));
-  let all = corrected(later);
-  let { site, model } = siteVelocityModel(all, options);
-  const early = fits.filter((f) => isEarly(f) && f.origin === 'subsurface');
-  if (site.fitCount === 0 && early.length > 0) {
-    const withEarly = corrected([...later, ...early]);
-    const m = siteVelocityModel(withEarly, { ...options, earlyApexes: true });
-    if ((m.site.objectCount ?? 0) >= (options.minEarlyObjects ?? 3)) ({ all, site, model } = { all: withEarly, ...m });
-  }
+  const { all, site, model } = siteModelOfFits(fits, options, corrected);
   return {
     site,
     model,
