@@ -1,6 +1,6 @@
 import { makeMember, type Member } from '@lamina/anomalies';
 import type { SliceStack } from '@lamina/slices';
-import { locusAtHeight, type ScreenContext } from './context';
+import { locusOf, type ScreenContext } from './context';
 import { locusResiduals } from './locus-residual';
 
 /** Place of cell c in ascending `cells`, which holds it. */
@@ -63,7 +63,7 @@ export function separateCrossings(members: Member[], stack: SliceStack, scores: 
       const field = ctx.fields[r];
       if (!field) continue;
       const refl = ctx.reflectors[r]!;
-      const l = locusAtHeight(ctx.loci[m.slice]!, refl.heightM);
+      const l = locusOf(ctx, refl, m.slice);
       if (!Number.isFinite(l.radiusM)) continue;
       const band = l.bandHalfM + ctx.positionM;
       let nearest = Infinity;

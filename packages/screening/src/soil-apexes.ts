@@ -1,7 +1,7 @@
 import { fresnelRadiusM, makeMember, type Member } from '@lamina/anomalies';
 import { cellCentreX, cellCentreY, type SliceStack } from '@lamina/slices';
 import { ABOVE_GROUND_MAX_PERMITTIVITY, depthAtVerticalTimeNs, type HyperbolaFit, type VelocityModel } from '@lamina/velocity';
-import { locusAtHeight, type ScreenContext } from './context';
+import { locusOf, type ScreenContext } from './context';
 import { lowerBound } from './checks/air-hyperbola';
 import { locusResiduals } from './locus-residual';
 
@@ -18,8 +18,8 @@ export interface SoilApex {
 
 /**
  * The apexes of the fits that read the soil: subsurface, unflagged, not air-like (K at least
- * `ABOVE_GROUND_MAX_PERMITTIVITY`, 2), each in the slice whose depth range holds its apex depth (none for an apex
- * outside every slice). No air wave draws a hyperbola at soil velocity: an above-ground object's is
+ * `ABOVE_GROUND_MAX_PERMITTIVITY`, 2), each in the slice whose depth range holds its apex depth (none
+ * for an apex outside every slice). No air wave draws a hyperbola at soil velocity: an above-ground object's is
  * at c (air-hyperbola.ts), so such an apex marks something in the ground.
  */
 export function soilApexes(hyperbolas: readonly HyperbolaFit[], model: VelocityModel, ctx: ScreenContext, options: Pick<ApexOptions, 'velocityMPerNs' | 'frequencyMHz'>): SoilApex[] {
@@ -83,7 +83,7 @@ function bandShare(cells: Int32Array, slice: number, ctx: ScreenContext): number
     const field = ctx.fields[r];
     if (!field) continue;
     const refl = ctx.reflectors[r]!;
-    const l = locusAtHeight(ctx.loci[slice]!, refl.heightM);
+    const l = locusOf(ctx, refl, slice);
     if (!Number.isFinite(l.radiusM)) continue;
     const band = l.bandHalfM + ctx.positionM;
     const res = locusResiduals(refl, field, l.radiusM, ctx, cells);
@@ -100,8 +100,8 @@ function bandShare(cells: Int32Array, slice: number, ctx: ScreenContext): number
  * within reach (`apexReachM`) of a member's cells in their own slice, the member's cells within reach of
  * those apexes become a member of their own when both it and the rest keep `minCells` cells and at
  * least half of the rest lies on one reflector's locus band (`bandShare`); the rest stays one member
- * (what of the band is left). A member that no band holds is a buried object's own and is not cut. Returns the new member list (ids renumbered) and how many
- * members were cut.
+ * (what of the band is left). A member that no band holds is a buried object's own and is not cut.
+ * Returns the new member list (ids renumbered) and how many members were cut.
  */
 export function carveSoilApexes(members: Member[], apexes: readonly SoilApex[], stack: SliceStack, scores: Float32Array[], ctx: ScreenContext, options: ApexOptions & { minCells: number }): { members: Member[]; cut: number } {
   const out: Member[] = [];
