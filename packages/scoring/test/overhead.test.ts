@@ -1,26 +1,17 @@
-import { C_M_PER_NS } from '@lamina/velocity';
 import { describe, expect, it } from 'vitest';
-import { scoreRun, type ScoreTruth } from '../src';
+import { scoreRun } from '../src';
+import { feat, identity, k9Truth } from './fixtures';
 
-const C = C_M_PER_NS;
-const identity = (x: number, y: number): [number, number] => [x, y];
 const ring = (cx: number, cy: number, r: number) => ({
   type: 'Polygon',
   coordinates: [Array.from({ length: 65 }, (_, i) => [cx + r * Math.cos((i * Math.PI) / 32), cy + r * Math.sin((i * Math.PI) / 32)])],
 });
-const feat = (id: string, geometry: unknown, props: Record<string, unknown>) => ({ type: 'Feature' as const, geometry: geometry as never, properties: { id, ...props } });
 
 describe('overhead reflectors', () => {
   // K 9: r(z) = c t / 2 = 3 z. A point 1 m above the ground: the air wave at two-way time t comes from
   // plan distance sqrt((c t / 2)^2 - h^2) (slant path, geometry), so at z = 0.5 m: sqrt(1.5^2 - 1) = 1.118 m.
-  const truth: ScoreTruth = {
-    soil: { permittivity: 9, velocityMPerNs: C / 3 },
-    crs: 'local',
-    metresPerUnit: 1,
-    buried: [],
-    aboveGround: [{ id: 'lamp', kind: 'overhead', center: [50, 50], heightM: 1 }],
-    antenna: { frequencyMHz: 2000 }, // locus tolerance 0.25 + 0.0375 m
-  };
+  // antenna 2000 MHz: locus tolerance 0.25 + 0.0375 m
+  const truth = k9Truth([], [{ id: 'lamp', kind: 'overhead', center: [50, 50], heightM: 1 }], { antenna: { frequencyMHz: 2000 } });
   const at = (id: string, z: number, r: number) => feat(id, ring(50, 50, r), { depthTopM: z - 0.01, depthBottomM: z + 0.01, origin: 'above-ground' });
 
   it('puts the locus at the slant plan distance, and none above z = h v / c', () => {

@@ -2,11 +2,10 @@ import { C_M_PER_NS } from '@lamina/velocity';
 import { describe, expect, it } from 'vitest';
 import { scoreRun, type ScoreTruth } from '../src';
 import { permittivityAt, ringsArea, surveyedAreaM2 } from '../src/precision';
+import { feat, identity, k9Truth } from './fixtures';
 
 // Hand-built fixtures: every expected value below is arithmetic on the frozen definitions (README).
 const C = C_M_PER_NS;
-const identity = (x: number, y: number): [number, number] => [x, y];
-const feat = (id: string, geometry: unknown, props: Record<string, unknown>) => ({ type: 'Feature' as const, geometry: geometry as never, properties: { id, ...props } });
 const fc = (features: ReturnType<typeof feat>[]) => ({ type: 'FeatureCollection' as const, features });
 const rect = (x0: number, y0: number, x1: number, y1: number) => ({ type: 'Polygon', coordinates: [[[x0, y0], [x1, y0], [x1, y1], [x0, y1], [x0, y0]]] });
 const ring = (cx: number, cy: number, r: number) => ({
@@ -15,16 +14,13 @@ const ring = (cx: number, cy: number, r: number) => ({
 });
 const sub = { origin: 'subsurface' };
 
-const truth: ScoreTruth = {
-  soil: { permittivity: 9, velocityMPerNs: C / 3 },
-  crs: 'local',
-  metresPerUnit: 1,
-  buried: [
+const truth = k9Truth(
+  [
     { id: 'pipe', kind: 'pipe', from: [0, 0, 1], to: [10, 0, 1], radiusM: 0.05 },
     { id: 'box', kind: 'compact', center: [20, 20, 0.5], radiusM: 0.2 },
   ],
-  aboveGround: [{ id: 'post', kind: 'post', center: [50, 50] }],
-};
+  [{ id: 'post', kind: 'post', center: [50, 50] }],
+);
 
 describe('target precision', () => {
   // two pieces on the pipe (2 m2 and 1 m2), one on the box (0.25 m2), one on the post's locus at 0.5 m

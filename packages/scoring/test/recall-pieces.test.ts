@@ -1,20 +1,13 @@
-import { C_M_PER_NS } from '@lamina/velocity';
 import { describe, expect, it } from 'vitest';
-import { scoreRun, type ScoreTruth } from '../src';
+import { scoreRun } from '../src';
+import { empty, feat, identity, k9Truth } from './fixtures';
 
 // Recall counts the buried objects the data record (README "Recorded objects"): an object whose own
 // response the simulator drew on no trace above three times the noise is left out of `linear` and
 // `compact` and counted in `linearAll` / `compactAll`. Arithmetic on the definitions.
-const identity = (x: number, y: number): [number, number] => [x, y];
-const feat = (id: string, geometry: unknown, props: Record<string, unknown>) => ({ type: 'Feature' as const, geometry: geometry as never, properties: { id, ...props } });
-const empty = { type: 'FeatureCollection' as const, features: [] };
 
 describe('scoreRun: recall over the recorded objects', () => {
-  const truth: ScoreTruth = {
-    soil: { permittivity: 9, velocityMPerNs: C_M_PER_NS / 3 },
-    crs: 'local',
-    metresPerUnit: 1,
-    buried: [
+  const truth = k9Truth([
       // found along its whole length, recorded on 40 traces
       { id: 'seen', kind: 'pipe', from: [0, 0, 1], to: [10, 0, 1], radiusM: 0.05, response: { traces: 40 } },
       // as long, deep and weak: recorded on no trace, not found
@@ -22,9 +15,7 @@ describe('scoreRun: recall over the recorded objects', () => {
       // a truth written elsewhere (no response): counted as recorded
       { id: 'other', kind: 'pipe', from: [0, 40, 1], to: [10, 40, 1], radiusM: 0.05 },
       { id: 'tank', kind: 'compact', center: [30, 0, 1], radiusM: 0.5, response: { traces: 0 } },
-    ],
-    aboveGround: [],
-  };
+  ]);
   const seen = feat('T', { type: 'LineString', coordinates: [[0, 0], [10, 0]] }, { depthTopM: 0.9, depthBottomM: 1.1, origin: 'subsurface' });
 
   it('leaves the objects recorded on no trace out of recall and counts them in the All figures', () => {
@@ -52,16 +43,10 @@ describe('scoreRun: recall over the recorded objects', () => {
 // Pieces per utility count the targets that run along it (README "Pieces per utility"): a linear target
 // crossing it at more than 45 degrees is the crossing object's. Arithmetic on the definitions.
 describe('scoreRun: pieces per utility along the utility', () => {
-  const truth: ScoreTruth = {
-    soil: { permittivity: 9, velocityMPerNs: C_M_PER_NS / 3 },
-    crs: 'local',
-    metresPerUnit: 1,
-    buried: [
-      { id: 'east', kind: 'pipe', from: [0, 0, 1], to: [10, 0, 1], radiusM: 0.05 },
-      { id: 'north', kind: 'pipe', from: [5, -5, 1], to: [5, 5, 1], radiusM: 0.05 },
-    ],
-    aboveGround: [],
-  };
+  const truth = k9Truth([
+    { id: 'east', kind: 'pipe', from: [0, 0, 1], to: [10, 0, 1], radiusM: 0.05 },
+    { id: 'north', kind: 'pipe', from: [5, -5, 1], to: [5, 5, 1], radiusM: 0.05 },
+  ]);
   const line = (id: string, a: [number, number], b: [number, number]) => feat(id, { type: 'LineString', coordinates: [a, b] }, { depthTopM: 0.9, depthBottomM: 1.1, origin: 'subsurface' });
 
   it('two crossing pipes, each reported whole: one piece each (each target covers both at the crossing)', () => {

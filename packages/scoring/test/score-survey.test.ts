@@ -1,20 +1,10 @@
-import { C_M_PER_NS } from '@lamina/velocity';
 import { describe, expect, it } from 'vitest';
-import { scoreRun, type ScoreTruth } from '../src';
-
-const identity = (x: number, y: number): [number, number] => [x, y];
-const feat = (id: string, geometry: unknown, props: Record<string, unknown>) => ({ type: 'Feature' as const, geometry: geometry as never, properties: { id, ...props } });
-const empty = { type: 'FeatureCollection' as const, features: [] };
+import { scoreRun } from '../src';
+import { empty, feat, identity, k9Truth } from './fixtures';
 
 describe('scoreRun over the surveyed length', () => {
   // a pipe from x = 0 to 20 m; survey lines cross it at x = 5 .. 15 every 0.5 m (cover = half the spacing)
-  const truth: ScoreTruth = {
-    soil: { permittivity: 9, velocityMPerNs: C_M_PER_NS / 3 },
-    crs: 'local',
-    metresPerUnit: 1,
-    buried: [{ id: 'pipe', kind: 'pipe', from: [0, 0, 1], to: [20, 0, 1], radiusM: 0.05 }],
-    aboveGround: [],
-  };
+  const truth = k9Truth([{ id: 'pipe', kind: 'pipe', from: [0, 0, 1], to: [20, 0, 1], radiusM: 0.05 }]);
   const lines = Array.from({ length: 21 }, (_, i) => [[5 + 0.5 * i, -5], [5 + 0.5 * i, 5]] as [number, number][]);
   const target = feat('T', { type: 'LineString', coordinates: [[5, 0], [15, 0]] }, { depthTopM: 0.9, depthBottomM: 1.1, origin: 'subsurface' });
 

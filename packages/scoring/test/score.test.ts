@@ -1,24 +1,18 @@
-import { C_M_PER_NS } from '@lamina/velocity';
 import { describe, expect, it } from 'vitest';
 import { scoreRun, type ScoreTruth } from '../src';
+import { feat, identity, k9Truth } from './fixtures';
 
-const C = C_M_PER_NS;
-const identity = (x: number, y: number): [number, number] => [x, y];
-const truth: ScoreTruth = {
-  soil: { permittivity: 9, velocityMPerNs: C / 3 },
-  crs: 'local',
-  metresPerUnit: 1,
-  buried: [
+const truth = k9Truth(
+  [
     { id: 'pipe', kind: 'pipe', from: [0, 0, 1], to: [10, 0, 1], radiusM: 0.05 },
     { id: 'box', kind: 'compact', center: [20, 20, 0.5], radiusM: 0.2 },
   ],
-  aboveGround: [{ id: 'post', kind: 'post', center: [50, 50] }],
-};
+  [{ id: 'post', kind: 'post', center: [50, 50] }],
+);
 const ring = (cx: number, cy: number, r: number) => ({
   type: 'Polygon',
   coordinates: [Array.from({ length: 33 }, (_, i) => [cx + r * Math.cos((i * Math.PI) / 16), cy + r * Math.sin((i * Math.PI) / 16)])],
 });
-const feat = (id: string, geometry: unknown, props: Record<string, unknown>) => ({ type: 'Feature' as const, geometry: geometry as never, properties: { id, ...props } });
 
 describe('scoreRun', () => {
   it('covers the length of a pipe a centreline runs along, within the depth tolerance', () => {
