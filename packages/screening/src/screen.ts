@@ -270,7 +270,8 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   const trains = postTrains(members, ctx);
   const hyper = hyperbolaHits(members, velocity.hyperbolas ?? [], velocity.model, ctx);
   const soilLines = apexLines(members, apexes, stack, apexOptions);
-  const soilMembers = (a: Anomaly3D) => a.members.filter((m) => soilLines.has(m.id));
+  // (nothing to look up with `soilApexSplit` off, the default: every anomaly's evaluation asks)
+  const soilMembers = (a: Anomaly3D) => (soilLines.size === 0 ? [] : a.members.filter((m) => soilLines.has(m.id)));
   const evaluate = (a: Anomaly3D, c: ScreenContext = ctx): ScreenedAnomaly & { mo?: MoveOutResult } => {
     const evidence: Evidence[] = [];
     const mo = bestMoveOut(a, c);
