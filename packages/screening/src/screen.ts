@@ -118,8 +118,8 @@ export interface ScreenOptions extends ExtractOptions, ToleranceOptions {
    * on at least `soilApexLines` survey lines lie on a member in their slice, the member's cells about
    * them are cut out when an air-wave band holds the rest (`carveSoilApexes`); such members count as off
    * the locus in the on/off-locus split, so they are screened apart from the air-wave part; and an
-   * anomaly holding them gets the soil-hyperbola item at `soilApexes` (evidence.ts). Off by default until
-   * a tuning session has weighed it with the held-out halves (DEVELOPERS.md, session 26). @default false
+   * anomaly holding them gets the soil-hyperbola item at `soilApexes` (evidence.ts). On by default since
+   * session 27 (weighed on four TUNE populations and the held-out halves, DEVELOPERS.md). @default true
    */
   soilApexSplit?: boolean;
   /** Survey lines whose soil-velocity fits must have their apex on a member for `soilApexSplit`. @default 2 */
@@ -258,7 +258,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   const sep = separateCrossings(extraction.members, stack, extraction.scores, ctx, options.minCells ?? 6, mpu, options.threshold ?? 5);
   // a buried object sharing a member with an air-wave band, where soil-velocity fits put their apexes
   // (`soilApexSplit`): cut out of the member, and screened apart below
-  const soilSplit = options.soilApexSplit === true;
+  const soilSplit = options.soilApexSplit ?? true;
   const apexOptions = { minLines: options.soilApexLines ?? 2, metresPerUnit: mpu, velocityMPerNs: velocity.site.velocityMPerNs, ...(f && f > 0 ? { frequencyMHz: f } : {}) };
   const apexes = soilSplit ? soilApexes(velocity.hyperbolas ?? [], velocity.model, ctx, apexOptions) : [];
   const carved = apexes.length ? carveSoilApexes(sep.members, apexes, stack, extraction.scores, ctx, { ...apexOptions, minCells: options.minCells ?? 6 }) : { members: sep.members, cut: 0 };
@@ -270,7 +270,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
   const trains = postTrains(members, ctx);
   const hyper = hyperbolaHits(members, velocity.hyperbolas ?? [], velocity.model, ctx);
   const soilLines = apexLines(members, apexes, stack, apexOptions);
-  // (nothing to look up with `soilApexSplit` off, the default: every anomaly's evaluation asks)
+  // (nothing to look up where no member holds soil apexes: every anomaly's evaluation asks)
   const soilMembers = (a: Anomaly3D) => (soilLines.size === 0 ? [] : a.members.filter((m) => soilLines.has(m.id)));
   const evaluate = (a: Anomaly3D, c: ScreenContext = ctx): ScreenedAnomaly & { mo?: MoveOutResult } => {
     const evidence: Evidence[] = [];
