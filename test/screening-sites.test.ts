@@ -45,7 +45,9 @@ const LEVELS: Record<SiteName, { utility: number; airRecall: number; targetAir: 
   // same 2 air-wave targets of 14, 14.3 %; guard a little above.
   // Site velocity weighted per fit (2026-12-05): K 7.07 for 7.5 (was 7.17); one target that matched
   // nothing is gone, the same 2 air-wave targets of 13, 15.4 %; guard a little above.
-  yard: { utility: 0.8, airRecall: 0.9, targetAir: 0.16 },
+  // Short utilities in line with nothing taken as clutter (2026-12-05, session 27): the yard in row bands
+  // (the same guard) keeps the same 3 air-wave targets of 17 instead of 19, 17.6 %; guard a little above.
+  yard: { utility: 0.8, airRecall: 0.9, targetAir: 0.18 },
   'carpark-ft': { utility: 0.58, airRecall: 0.9, targetAir: 0.1 },
   // the warehouse's air-wave levels: the screening flags 80 % of its air-wave anomalies (16 of 20) with
   // 5 of 39 targets on a locus (12.8 %) since the noise-law detection; measured levels asserted.
@@ -149,6 +151,6 @@ describe.sequential('issue 5 on the yard screened in row bands', () => {
     for (const b of r.buried.filter((x) => x.lengthM > 0)) expect(b.recall, `${b.id} covered`).toBeGreaterThanOrEqual(BANDED_YARD_UTILITY);
     for (const b of r.buried.filter((x) => x.lengthM === 0)) expect(b.recall, `${b.id} found as a subsurface target`).toBe(1);
     expect(r.aboveGround.recall, JSON.stringify(r.aboveGround)).toBeGreaterThanOrEqual(LEVELS.yard.airRecall);
-    expect(r.targetAirFraction).toBeLessThanOrEqual(LEVELS.yard.targetAir);
+    expect(r.targetAirFraction, `${r.targets.filter((t) => t.kind === 'air').length} of ${r.targets.length}`).toBeLessThanOrEqual(LEVELS.yard.targetAir);
   });
 });

@@ -1,6 +1,6 @@
 import type { SliceGrid } from '@lamina/slices';
 import { wasmMinCellDistance } from './cells-wasm';
-import { axisAngleDeg, oneLineFootprintM, oneLineWidthM } from './classify';
+import { axisAngleDeg, IN_LINE_ANGLE_DEG, oneLineFootprintM, oneLineWidthM } from './classify';
 import { cellShape, type ShapeOptions } from './shape';
 import { edgeCells } from './split';
 import type { Anomaly3D } from './types';
@@ -10,7 +10,7 @@ export interface JoinOptions extends ShapeOptions {
   maxGapM?: number;
   /** Largest depth gap between the pieces' depth ranges, m. @default 0 (the ranges meet) */
   maxDepthGapM?: number;
-  /** A linear piece must run within this angle of the joined line, degrees. @default 20 (common practice, no source) */
+  /** A linear piece must run within this angle of the joined line, degrees. @default `IN_LINE_ANGLE_DEG`, 20 (common practice, no source) */
   maxAngleDeg?: number;
   /**
    * Compact pieces that may join a piece of the usual kind (linear, or seen on one line) but not one
@@ -62,7 +62,7 @@ export function joinAlignedPieces(
   const drawn = pieces.map((a) => a.shape.kind !== 'linear' && a.shape.widthM > oneLine && drawnAlongLine(a));
   const usual = pieces.map((a, i) => a.shape.kind === 'linear' || a.shape.widthM <= oneLine || drawn[i]!);
   const also = pieces.map((a, i) => !usual[i] && (options.alsoJoinable?.(a) ?? false));
-  const maxAngle = options.maxAngleDeg ?? 20;
+  const maxAngle = options.maxAngleDeg ?? IN_LINE_ANGLE_DEG;
   const box = pieces.map((a) => {
     let r0 = Infinity, r1 = -Infinity, c0 = Infinity, c1 = -Infinity;
     for (let ci = 0; ci < a.cells.length; ci++) {

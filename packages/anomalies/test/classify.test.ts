@@ -264,3 +264,56 @@ describe('joining pieces of a utility', () => {
     expect(joinAlignedPieces(blobs.slice(0, 2), g, 0.5, (z) => maxUtilityWidthM(z, ctx), opts)).toEqual([[0], [1]]);
   });
 });
+
+describe('short utilities in line with nothing (minUtilityLengthM)', () => {
+  // Our own rule of the classes (issue 12 item 3: `utility` is linear and continuous; `clutter` is
+  // isolated); the length is the field bench's choice (ClassifyOptions.minUtilityLengthM), the checks here
+  // are its geometry: in line = within 20 degrees (common practice, no source) and within half the other's
+  // width plus one line spacing of its axis.
+  // A 1.2 m linear piece at 0.75-1 m (20 dB): a utility by shape, too short to call on its own.
+  const shortPiece = (x0: number, y0: number, azDeg: number) => {
+    const t = (azDeg * Math.PI) / 180, ux = Math.sin(t), uy = Math.cos(t);
+    return anomaly(cellsOf((x, y) => Math.abs((x - x0) * ux + (y - y0) * uy) < 0.6 && Math.abs(-(x - x0) * uy + (y - y0) * ux) < 0.12), 6, 7, 100);
+  };
+  it('alone it is clutter; with a piece of the same line further on both stay utilities', () => {
+    const alone = classifyAnomalies([{ anomaly: shortPiece(10, 10, 90), aboveGround: false }], ctx);
+    expect(alone[0]!.class).toBe('clutter');
+    expect(alone[0]!.reason).toMatch(/in line with no other/);
+    // two pieces of one east-west pipe, 4 m apart (a gap the joining does not bridge)
+    const two = classifyAnomalies([shortPiece(6, 10, 90), shortPiece(12, 10, 90)].map((a) => ({ anomaly: a, aboveGround: false })), ctx);
+    expect(two.map((c) => c.class)).toEqual(['utility', 'utility']);
+  });
+
+  it('a parallel piece beside it, a crossing one, or an above-ground one does not make it a line', () => {
+    const beside = classifyAnomalies([shortPiece(10, 10, 90), shortPiece(10, 11.5, 90)].map((a) => ({ anomaly: a, aboveGround: false })), ctx);
+    expect(beside.map((c) => c.class)).toEqual(['clutter', 'clutter']);
+    const crossing = classifyAnomalies([shortPiece(10, 10, 90), shortPiece(14, 10, 45)].map((a) => ({ anomaly: a, aboveGround: false })), ctx);
+    expect(crossing[0]!.class).toBe('clutter');
+    const air = classifyAnomalies([shortPiece(10, 10, 90), shortPiece(14, 10, 90)].map((a, i) => ({ anomaly: a, aboveGround: i === 1 })), ctx);
+    expect(air[0]!.class).toBe('clutter');
+  });
+
+  it('a utility longer than the bound stays one alone, and the rule is off at 0', () => {
+    const pipe = anomaly(cellsOf((x, y) => Math.abs(y - 20) < 0.2 && x > 2 && x < 20), 6, 7, 100);
+    expect(classifyAnomalies([{ anomaly: pipe, aboveGround: false }], ctx)[0]!.class).toBe('utility');
+    expect(classifyAnomalies([{ anomaly: shortPiece(10, 10, 90), aboveGround: false }], ctx, { minUtilityLengthM: 0 })[0]!.class).toBe('utility');
+  });
+});
+
+describe('the near-surface zone counts the lines an object crosses (nearSurfaceLines)', () => {
+  // Issue 12 item 2: the zone gives no targets unless an object is coherent across several lines. A strip
+  // starting in the zone (0.19 m here) and drawn out 3 m along one east-west line crosses one line,
+  // however long it is; the same strip running north-south crosses the lines 0.5 m apart six times.
+  const eastWest = { ...ctx, lineAzimuthsDeg: [90] };
+  it('a 3 m strip along a line is clutter, across the lines it is not', () => {
+    const along = anomaly(cellsOf((x, y) => Math.abs(y - 5) < 0.15 && x > 8 && x < 11), 0, 2, 100);
+    const across = anomaly(cellsOf((x, y) => Math.abs(x - 15) < 0.15 && y > 8 && y < 11), 0, 2, 100);
+    const c = classifyAnomalies([along, across].map((a) => ({ anomaly: a, aboveGround: false })), eastWest);
+    expect(c[0]!.class).toBe('clutter');
+    expect(c[0]!.reason).toMatch(/crosses fewer than 3 lines/);
+    expect(c[1]!.reason).not.toMatch(/crosses fewer than/);
+    // without the lines' directions the rule reads the larger extent, as before: neither is taken by it
+    const plain = classifyAnomalies([along].map((a) => ({ anomaly: a, aboveGround: false })), ctx);
+    expect(plain[0]!.reason).not.toMatch(/crosses fewer than/);
+  });
+});

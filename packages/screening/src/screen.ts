@@ -220,6 +220,7 @@ export function screenSite(input: ScreenInput, options: ScreenOptions = {}): Scr
     lineSpacingM: Number.isFinite(spacing) ? spacing : cellM,
     nearSurfaceM: options.nearSurfaceM ?? (f && f > 0 ? nearSurfaceDepthM(f, options.antennaSeparationM ?? 0, velocity.model) : 0),
     cellM,
+    metresPerUnit: mpu,
     lineAzimuthsDeg: lineAzimuths(lines),
   };
   const isLayer = (shape: Shape, z: number) => isExtensive(shape, z, classCtx, options.classes);
