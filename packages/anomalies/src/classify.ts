@@ -322,7 +322,9 @@ export function alongLineReachM(a: Anomaly3D, ctx: ClassifyContext): number {
  *   length and depth (`isPointSized`) and not an outlier of the site's population of such anomalies
  *   by strength (`pointPopulationMin`, Tukey's upper fence); the outliers keep their class (compact ones
  *   as structures), and so do all of them when there are too few to judge;
- * - `structure`: the other compact anomalies (a footing or a tank is wider than a point's response, or thick).
+ * - `structure`: the other compact anomalies (a footing or a tank is wider than a point's response, or thick);
+ * - `clutter` (short, in line with nothing): a utility shorter than `minUtilityLengthM` that no other
+ *   linear subsurface anomaly continues (`inLineWith`).
  */
 export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: boolean; planar?: boolean; crossed?: boolean }[], ctx: ClassifyContext, options: ClassifyOptions = {}): Classified[] {
   const lines = options.nearSurfaceLines ?? 3;
@@ -396,10 +398,11 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
   const minLength = options.minUtilityLengthM ?? 2;
   if (minLength > 0) {
     const linear = items.filter((it) => !it.aboveGround && it.anomaly.shape.kind === 'linear').map((it) => it.anomaly);
+    const centroids = new Map(linear.map((b) => [b, centroidOf(b)] as const));
     own.forEach((c, i) => {
       const a = items[i]!.anomaly;
       if (c.class !== 'utility' || !(a.shape.lengthM < minLength)) return;
-      if (linear.some((b) => b !== a && inLineWith(a, b, ctx))) return;
+      if (linear.some((b) => b !== a && inLineWith(a, b, ctx, centroids))) return;
       own[i] = { class: 'clutter', reason: `linear but ${round(a.shape.lengthM)} m long, under the ${round(minLength)} m a utility shows, and in line with no other linear anomaly: a root, a stone's smear or a piece too short to call` };
     });
   }
@@ -459,12 +462,13 @@ function centroidOf(a: Anomaly3D): [number, number] {
 /**
  * Whether linear anomaly `a` lies in line with linear anomaly `b`: their directions within
  * `IN_LINE_ANGLE_DEG`, and a's centroid within half b's width plus one line spacing (where the gridding
- * puts a piece of a line it samples once per line) of b's axis, anywhere along it.
+ * puts a piece of a line it samples once per line) of b's axis, anywhere along it. `centroids`: the
+ * anomalies' plan centroids worked out once, where a caller asks of many pairs.
  */
-export function inLineWith(a: Anomaly3D, b: Anomaly3D, ctx: ClassifyContext): boolean {
+export function inLineWith(a: Anomaly3D, b: Anomaly3D, ctx: ClassifyContext, centroids?: ReadonlyMap<Anomaly3D, [number, number]>): boolean {
   const d = Math.abs(a.shape.directionDeg - b.shape.directionDeg) % 180;
   if (Math.min(d, 180 - d) > IN_LINE_ANGLE_DEG) return false;
-  const [ax, ay] = centroidOf(a), [bx, by] = centroidOf(b);
+  const [ax, ay] = centroids?.get(a) ?? centroidOf(a), [bx, by] = centroids?.get(b) ?? centroidOf(b);
   const t = (b.shape.directionDeg * Math.PI) / 180;
   // azimuth clockwise from grid north: the axis runs along (sin t, cos t)
   const acrossM = Math.abs(-(ax - bx) * Math.cos(t) + (ay - by) * Math.sin(t)) * (ctx.metresPerUnit ?? 1);
