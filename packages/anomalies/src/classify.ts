@@ -70,6 +70,12 @@ export interface ClassifyOptions {
   minUtilityLengthM?: number;
 }
 
+/** Angle between two axes given as azimuths in degrees (no heading), in [0, 90]. */
+export function axisDiffDeg(a: number, b: number): number {
+  const d = Math.abs(a - b) % 180;
+  return Math.min(d, 180 - d);
+}
+
 /** Largest angle between two pieces of one utility, degrees (`joinAlignedPieces`, `inLineWith`; common practice, no source). */
 export const IN_LINE_ANGLE_DEG = 20;
 
@@ -336,8 +342,9 @@ export function classifyAnomalies(items: { anomaly: Anomaly3D; aboveGround: bool
     const slack = options.nearSurfaceOverlap ?? 0.5;
     const deep = a.members.filter((m) => m.topM >= ctx.nearSurfaceM - slack * (m.bottomM - m.topM));
     if (deep.length === 0) return { class: 'clutter', reason: `inside the near-surface zone (top ${round(ctx.nearSurfaceM)} m): no slice below it` };
-    if (deep.length < a.members.length && acrossLinesM(a, ctx) < (lines - 1) * ctx.lineSpacingM) {
-      return { class: 'clutter', reason: `starts in the near-surface zone and crosses fewer than ${lines} lines (${round(acrossLinesM(a, ctx))} m across them, lines ${round(ctx.lineSpacingM)} m apart)` };
+    const across = deep.length < a.members.length ? acrossLinesM(a, ctx) : Infinity;
+    if (across < (lines - 1) * ctx.lineSpacingM) {
+      return { class: 'clutter', reason: `starts in the near-surface zone and crosses fewer than ${lines} lines (${round(across)} m across them, lines ${round(ctx.lineSpacingM)} m apart)` };
     }
     if ((options.zoneResidue ?? true) && isZoneResidue(a, a.members.filter((m) => !deep.includes(m)), deep, ctx)) {
       zoneResidue.add(a);
@@ -466,8 +473,7 @@ function centroidOf(a: Anomaly3D): [number, number] {
  * anomalies' plan centroids worked out once, where a caller asks of many pairs.
  */
 export function inLineWith(a: Anomaly3D, b: Anomaly3D, ctx: ClassifyContext, centroids?: ReadonlyMap<Anomaly3D, [number, number]>): boolean {
-  const d = Math.abs(a.shape.directionDeg - b.shape.directionDeg) % 180;
-  if (Math.min(d, 180 - d) > IN_LINE_ANGLE_DEG) return false;
+  if (axisDiffDeg(a.shape.directionDeg, b.shape.directionDeg) > IN_LINE_ANGLE_DEG) return false;
   const [ax, ay] = centroids?.get(a) ?? centroidOf(a), [bx, by] = centroids?.get(b) ?? centroidOf(b);
   const t = (b.shape.directionDeg * Math.PI) / 180;
   // azimuth clockwise from grid north: the axis runs along (sin t, cos t)

@@ -6,7 +6,7 @@ export { cellShape, moments, centreline, type ShapeOptions } from './shape';
 export { linkMembers, sharedCells, stationaryChains, type ChainOptions, type LinkOptions } from './link';
 export { extractAnomalies, buildAnomaly, correlationArea, makeMember, memberOf, seedThreshold, type ExtractOptions, type Extraction } from './extract';
 export { fitNoiseLaw, gammaQ, gammaQInv, lnGamma, noiseMean, noiseScores, normalIsf, strengthDb, type NoiseLaw } from './noise';
-export { axisAngleDeg, classifyAnomalies, acrossLinesM, fresnelRadiusM, inLineWith, IN_LINE_ANGLE_DEG, isExtensive, isOneLineStrip, isZoneResidue, isPointPiece, isPointSized, pointDepthExtentM, pointFootprintM, pulseDepthM, sameSliceWidthM, maxStructureExtentM, maxUtilityWidthM, oneLineFootprintM, oneLineWidthM, type AnomalyClass, type ClassifyContext, type ClassifyOptions, type Classified } from './classify';
+export { axisAngleDeg, axisDiffDeg, classifyAnomalies, acrossLinesM, fresnelRadiusM, inLineWith, IN_LINE_ANGLE_DEG, isExtensive, isOneLineStrip, isZoneResidue, isPointPiece, isPointSized, pointDepthExtentM, pointFootprintM, pulseDepthM, sameSliceWidthM, maxStructureExtentM, maxUtilityWidthM, oneLineFootprintM, oneLineWidthM, type AnomalyClass, type ClassifyContext, type ClassifyOptions, type Classified } from './classify';
 export { joinAlignedPieces, minCellDistance, type JoinOptions } from './join';
 export { thickParts, squaredDistance } from './split';
 export { ensureMemory, lazyKernels, type WasmKernels } from './wasm-module';

@@ -1,6 +1,6 @@
 import type { SliceGrid } from '@lamina/slices';
 import { wasmMinCellDistance } from './cells-wasm';
-import { axisAngleDeg, IN_LINE_ANGLE_DEG, oneLineFootprintM, oneLineWidthM } from './classify';
+import { axisAngleDeg, axisDiffDeg, IN_LINE_ANGLE_DEG, oneLineFootprintM, oneLineWidthM } from './classify';
 import { cellShape, type ShapeOptions } from './shape';
 import { edgeCells } from './split';
 import type { Anomaly3D } from './types';
@@ -27,11 +27,6 @@ export interface JoinOptions extends ShapeOptions {
   lineAzimuthsDeg?: readonly number[];
   /** @default 15 */
   alongLineDeg?: number;
-}
-
-function angleDiff(a: number, b: number): number {
-  const d = Math.abs(a - b) % 180;
-  return Math.min(d, 180 - d);
 }
 
 /**
@@ -111,7 +106,7 @@ export function joinAlignedPieces(
     const bottom = Math.max(bottomOf(ri), bottomOf(rj));
     const shape = cellShape(cells, grid, options);
     if (shape.kind !== 'linear' || shape.widthM > maxWidthM(bottom)) continue;
-    if (members.some((m) => pieces[m]!.shape.kind === 'linear' && angleDiff(pieces[m]!.shape.directionDeg, shape.directionDeg) > maxAngle)) continue;
+    if (members.some((m) => pieces[m]!.shape.kind === 'linear' && axisDiffDeg(pieces[m]!.shape.directionDeg, shape.directionDeg) > maxAngle)) continue;
     const root = Math.min(ri, rj);
     parent[ri] = root;
     parent[rj] = root;
