@@ -93,6 +93,9 @@ describe('velocityLine (what the depths rest on, in the side panel)', () => {
     const assumed = velocityLine({ site: { velocityMPerNs: 0.1, permittivity: 8.988, spreadMPerNs: 0, fitCount: 0, note: 'no usable subsurface hyperbola fit: assumed 0.1 m/ns; depths are uncertain' }, model: { kind: 'constant', layers: [] }, hyperbolas: [] } as never);
     expect(assumed.text).toBe('Depths: K 8.99 (v 0.1000 m/ns), assumed, no hyperbola fit. No usable subsurface hyperbola fit: assumed 0.1 m/ns; depths are uncertain.');
     expect(assumed.warn).toBe(true);
+    // with the site value's own uncertainty (velocity.json uncertaintyMPerNs): 2 x 8.988 x 0.0291 / 0.1 = 5.2
+    const withU = velocityLine({ site: { velocityMPerNs: 0.1, permittivity: 8.988, spreadMPerNs: 0, uncertaintyMPerNs: 0.0291, fitCount: 0 }, model: { kind: 'constant', layers: [] }, hyperbolas: [] } as never);
+    expect(withU.text).toBe('Depths: K 8.99, site value ± 5.2 (v 0.1000 m/ns), assumed, no hyperbola fit.');
     expect(velocityLine(undefined).warn).toBe(true);
   });
 });

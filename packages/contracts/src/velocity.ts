@@ -61,6 +61,8 @@ export const velocitySchema = z.object({
     velocityMPerNs: num.positive({ error: 'expected a positive velocity in m/ns' }),
     permittivity: maybe.optional(),
     spreadMPerNs: maybe.optional(),
+    /** Standard uncertainty of the site velocity itself (additive: older files lack it). */
+    uncertaintyMPerNs: maybe.optional(),
     fitCount: num.optional(),
     /** Independent objects among the fits that count. */
     objectCount: num.optional(),

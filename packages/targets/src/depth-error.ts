@@ -1,6 +1,9 @@
 /**
  * Depth uncertainty of an exported target. Three independent parts, added in quadrature:
- * - the velocity: dz = z dv / v, from the spread of the fitted velocities (velocity.json);
+ * - the velocity: dz = z dv / v, dv the spread of the fitted velocities (the soil's velocity varies over
+ *   the site) and the uncertainty of the site velocity itself (velocity.json `uncertaintyMPerNs`: large
+ *   when the site rests on one or two objects or on an assumed velocity) in quadrature
+ *   (`velocityErrorMPerNs`);
  * - the slice: an anomaly's depth is known to the slice that holds it, +- half the slice thickness;
  * - the pulse: a reflection's top cannot be placed closer than about a quarter wavelength in the ground,
  *   v / (4 f) at the antenna's centre frequency (the usual vertical-resolution rule: common practice,
@@ -9,7 +12,7 @@
  */
 import type { SlicesInfo, VelocityInfo } from './folder';
 export interface DepthErrorModel {
-  /** Relative velocity spread dv / v; undefined when velocity.json gives none. */
+  /** Relative velocity error dv / v (`velocityErrorMPerNs`); undefined when velocity.json gives none. */
   relativeSpread?: number;
   /** Median slice thickness, m; undefined without slices.json. */
   sliceThicknessM?: number;
@@ -17,11 +20,20 @@ export interface DepthErrorModel {
   quarterWavelengthM?: number;
 }
 
-/** The model of one export from the site velocity (m/ns), its spread, the slices and the antenna. */
-export function depthErrorModel(velocityMPerNs: number, spreadMPerNs: number | undefined, sliceThicknessesM: number[], frequencyMHz: number | undefined): DepthErrorModel {
+/**
+ * The velocity part dv of a depth's error, m/ns: velocity.json's spread and site uncertainty in quadrature;
+ * undefined when the file gives neither.
+ */
+export function velocityErrorMPerNs(velocity: Pick<VelocityInfo, 'spreadMPerNs' | 'uncertaintyMPerNs'>): number | undefined {
+  const { spreadMPerNs: s, uncertaintyMPerNs: u } = velocity;
+  return s === undefined && u === undefined ? undefined : Math.hypot(s ?? 0, u ?? 0);
+}
+
+/** The model of one export from the site velocity (m/ns), its error dv (`velocityErrorMPerNs`), the slices and the antenna. */
+export function depthErrorModel(velocityMPerNs: number, velocityErrorMPerNs: number | undefined, sliceThicknessesM: number[], frequencyMHz: number | undefined): DepthErrorModel {
   const sorted = sliceThicknessesM.filter((t) => t > 0 && Number.isFinite(t)).sort((a, b) => a - b);
   return {
-    ...(spreadMPerNs !== undefined && velocityMPerNs > 0 ? { relativeSpread: Math.abs(spreadMPerNs) / velocityMPerNs } : {}),
+    ...(velocityErrorMPerNs !== undefined && velocityMPerNs > 0 ? { relativeSpread: Math.abs(velocityErrorMPerNs) / velocityMPerNs } : {}),
     ...(sorted.length ? { sliceThicknessM: sorted[sorted.length >> 1]! } : {}),
     // v in m/ns, f in MHz: wavelength = v / f = (v 1e9 m/s) / (f 1e6 1/s) = 1000 v / f metres
     ...(frequencyMHz !== undefined && frequencyMHz > 0 && velocityMPerNs > 0 ? { quarterWavelengthM: (1000 * velocityMPerNs) / frequencyMHz / 4 } : {}),
@@ -39,4 +51,4 @@ export function depthUncertainty(z: number, m: DepthErrorModel): number | null {
 
 /** The model of an output folder: velocity.json, slices.json and the antenna of run.json. */
 export const folderDepthError = (velocity: VelocityInfo, slices: SlicesInfo | undefined, frequencyMHz: number | undefined): DepthErrorModel =>
-  depthErrorModel(velocity.velocityMPerNs, velocity.spreadMPerNs, slices?.slices.map((s) => s.bottomM - s.topM) ?? [], frequencyMHz);
+  depthErrorModel(velocity.velocityMPerNs, velocityErrorMPerNs(velocity), slices?.slices.map((s) => s.bottomM - s.topM) ?? [], frequencyMHz);

@@ -43,6 +43,8 @@ export interface VelocityInfo {
   velocityMPerNs: number;
   permittivity?: number;
   spreadMPerNs?: number;
+  /** Standard uncertainty of the site velocity itself (velocity.json `site.uncertaintyMPerNs`; older files lack it). */
+  uncertaintyMPerNs?: number;
   fitCount?: number;
   raw: VelocityJson;
 }
@@ -251,7 +253,15 @@ export async function readVelocity(outDir: string, options: ReadOptions = {}): P
   const spread = num(j.site.spreadMPerNs);
   const k = num(j.site.permittivity);
   const n = num(j.site.fitCount);
-  return { velocityMPerNs: j.site.velocityMPerNs, ...(k !== undefined ? { permittivity: k } : {}), ...(spread !== undefined ? { spreadMPerNs: Math.abs(spread) } : {}), ...(n !== undefined ? { fitCount: n } : {}), raw: j };
+  const u = num(j.site.uncertaintyMPerNs);
+  return {
+    velocityMPerNs: j.site.velocityMPerNs,
+    ...(k !== undefined ? { permittivity: k } : {}),
+    ...(spread !== undefined ? { spreadMPerNs: Math.abs(spread) } : {}),
+    ...(u !== undefined ? { uncertaintyMPerNs: Math.abs(u) } : {}),
+    ...(n !== undefined ? { fitCount: n } : {}),
+    raw: j,
+  };
 }
 
 /** slices.json; missing is allowed (the report then has no thumbnails). */

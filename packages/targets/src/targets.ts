@@ -3,7 +3,7 @@ import type { Crs } from '@lamina/site';
 import { APWA_COLOURS, type UtilityType } from './apwa';
 import type { AnomalyFeature, VelocityInfo } from './folder';
 import type { Decision } from './review';
-import { depthErrorModel, depthUncertainty, type DepthErrorModel } from './depth-error';
+import { depthErrorModel, depthUncertainty, velocityErrorMPerNs, type DepthErrorModel } from './depth-error';
 
 /**
  * Depths in feet use the international foot (0.3048 m exactly): depths are lengths below the surface,
@@ -193,7 +193,7 @@ export function targetOf(
   decisions: Map<string, Decision>,
   velocity: VelocityInfo,
   crs: Crs,
-  depthError: DepthErrorModel = depthErrorModel(velocity.velocityMPerNs, velocity.spreadMPerNs, [], undefined),
+  depthError: DepthErrorModel = depthErrorModel(velocity.velocityMPerNs, velocityErrorMPerNs(velocity), [], undefined),
 ): Target | Dropped | null {
   const toSite = (p: number[]) => pointFromWgs84(crs, p[0]!, p[1]!) as number[];
   const p = a.properties;

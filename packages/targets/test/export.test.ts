@@ -309,6 +309,17 @@ describe('exportTargets inputs', () => {
     expect(r.aboveGround).toBe(2);
   });
 
+  it('the site velocity\'s own uncertainty (velocity.json uncertaintyMPerNs) joins the spread in the depth uncertainty', async () => {
+    // a site resting on one object: spread 0.005 m/ns among its fits, the site value itself +- 0.02 m/ns
+    // (a fifth of v, `ONE_OBJECT_RELATIVE_UNCERTAINTY`): dv = hypot(0.005, 0.02), dz / z = dv / v
+    const fx = await makeFolder({ crs: 'EPSG:32617', origin: [431250, 4429800], uncertaintyMPerNs: 0.02 });
+    await exportTargets(fx.dir, { now: NOW });
+    const fc = JSON.parse(await readFile(join(fx.dir, 'targets.geojson'), 'utf8'));
+    const dz = (z: number) => Math.sqrt((z * Math.hypot(0.005, 0.02) / 0.1) ** 2 + 0.1 ** 2 + 0.0625 ** 2);
+    expect(fc.features.length).toBeGreaterThan(0);
+    for (const f of fc.features) expect(f.properties.depthUncertaintyM).toBeCloseTo(dz(f.properties.depthTopM), 4);
+  });
+
   it('a review.json from another site is an InputError naming the file, and nothing is written', async () => {
     const fx = await makeFolder({ crs: 'EPSG:32617', origin: [431250, 4429800], review: false });
     await writeFile(join(fx.dir, 'review.json'), JSON.stringify({ version: 1, site: { ...fx.identity, name: 'elsewhere' }, decisions: [] }));

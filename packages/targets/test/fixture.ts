@@ -17,6 +17,8 @@ export interface FixtureOptions {
   name?: string;
   decisions?: (ids: Record<string, string>) => Partial<Decision>[];
   spreadMPerNs?: number;
+  /** velocity.json `site.uncertaintyMPerNs` (absent when not given, as in files before it). */
+  uncertaintyMPerNs?: number;
   review?: boolean;
   /** site.json's survey block, carried in run.json's site. */
   survey?: Record<string, unknown>;
@@ -96,7 +98,7 @@ export async function makeFolder(o: FixtureOptions): Promise<Fixture> {
   await writeFile(
     join(dir, 'velocity.json'),
     JSON.stringify({
-      site: { velocityMPerNs: 0.1, permittivity: (C_M_PER_NS / 0.1) ** 2, spreadMPerNs: o.spreadMPerNs ?? 0.005, fitCount: 2 },
+      site: { velocityMPerNs: 0.1, permittivity: (C_M_PER_NS / 0.1) ** 2, spreadMPerNs: o.spreadMPerNs ?? 0.005, ...(o.uncertaintyMPerNs !== undefined ? { uncertaintyMPerNs: o.uncertaintyMPerNs } : {}), fitCount: 2 },
       model: { kind: 'constant', layers: [{ topM: 0, bottomM: 2, velocityMPerNs: 0.1, permittivity: 8.99 }] },
       hyperbolas: [
         { line: 'l01', trace: 100, x: 0, y: 0, t0Ns: 20, velocityMPerNs: 0.102, permittivity: 8.64, depthM: 1.0, uncertaintyMPerNs: 0.002, origin: 'subsurface' },

@@ -37,6 +37,9 @@ export {
   robustCentre,
   siteVelocityModel,
   siteVelocityOf,
+  siteVelocityUncertainty,
+  ONE_OBJECT_RELATIVE_UNCERTAINTY,
+  ASSUMED_RELATIVE_UNCERTAINTY,
   type SiteModelOptions,
 } from './site-model';
 export { toHyperbolaFit, lineHyperbolas, buildVelocityReport, siteModelOfFits, velocityJson, velocityJsonChunks, writeVelocityJson, type ReportOptions } from './report';

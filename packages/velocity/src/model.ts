@@ -88,6 +88,12 @@ export interface VelocityReport {
     velocityMPerNs: number;
     permittivity: number;
     spreadMPerNs: number;
+    /**
+     * Standard uncertainty of `velocityMPerNs` as the soil's velocity (`siteVelocityUncertainty`): small
+     * with many objects, about a fifth of v with one, 0.29 v when assumed. Absent in files written
+     * before 2026-12-05 (session 28).
+     */
+    uncertaintyMPerNs?: number;
     fitCount: number;
     /**
      * Independent objects among the fits that count: fits of one object on neighbouring lines (apexes

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { buildVelocityReport, permittivityFromVelocity, robustCentre, siteVelocityModel, toppMoisture, velocityAt, type HyperbolaFit } from '../src';
+import { ASSUMED_RELATIVE_UNCERTAINTY, buildVelocityReport, ONE_OBJECT_RELATIVE_UNCERTAINTY, permittivityFromVelocity, robustCentre, siteVelocityModel, siteVelocityUncertainty, toppMoisture, velocityAt, type HyperbolaFit } from '../src';
 import { weightedMedian } from '@lamina/stats';
 import { gauss, rng } from './synth';
 
@@ -57,6 +57,22 @@ describe('siteVelocityModel', () => {
     const { site } = siteVelocityModel([fit(0.1, 0.8), fit(0.1, 0.8), fit(0.1, 0.8)]);
     expect(site.velocityMPerNs).toBeCloseTo(0.1, 12);
     expect(site.spreadMPerNs).toBeCloseTo(0.02 * 0.1, 12);
+  });
+
+  it('states the uncertainty of the site value: one object at least a fifth of v, shrinking as 1 / sqrt(objects), the assumed velocity 0.29 v', () => {
+    // one object (three fits of one pipe on neighbouring lines): the fits agree, the object may not
+    const one = siteVelocityModel([fit(0.1, 0.8), fit(0.1, 0.8), fit(0.1, 0.8)]).site;
+    expect(one.objectCount).toBe(1);
+    expect(one.uncertaintyMPerNs).toBeCloseTo(ONE_OBJECT_RELATIVE_UNCERTAINTY * 0.1, 12);
+    // sixteen objects that agree to 1 %: the floor per object over sqrt(16)
+    expect(siteVelocityUncertainty(0.1, 0.001, 16)).toBeCloseTo((0.2 * 0.1) / 4, 12);
+    // scattered objects: the standard error of their median, 1.2533 x spread / sqrt(n)
+    expect(siteVelocityUncertainty(0.1, 0.03, 9)).toBeCloseTo((1.2533 * 0.03) / 3, 12);
+    // nothing fits: common soils K 4 to 30 as a uniform spread in ln v, (ln sqrt(30 / 4) / 2) / sqrt(3)
+    const none = siteVelocityModel([]).site;
+    expect(none.fitCount).toBe(0);
+    expect(ASSUMED_RELATIVE_UNCERTAINTY).toBeCloseTo(0.2908, 4);
+    expect(none.uncertaintyMPerNs).toBeCloseTo(ASSUMED_RELATIVE_UNCERTAINTY * 0.1, 12);
   });
 
   it('chooses a layered model with the Dix interval velocity when shallow and deep fits disagree', () => {
