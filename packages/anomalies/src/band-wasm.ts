@@ -4,7 +4,7 @@ import { BAND_WASM_BASE64 } from './band-wasm-binary';
 interface Kernels extends WasmKernels {
   prepare(left: number, col: number, row: number, n: number, width: number): void;
   fullestBand(col: number, row: number, n: number, w: number, eRow: number, eFirst: number, eLast: number, eCells: number, colCells: number, bins: number, cum: number, wide: number, res: number): void;
-  takeBand(left: number, col: number, row: number, n: number, c: number, s: number, lo: number, w: number, count: number, band: number): number;
+  takeBand(left: number, col: number, row: number, n: number, c: number, s: number, lo: number, w: number, band: number): number;
   dropBand(left: number, col: number, row: number, n: number, c: number, s: number, lo: number, w: number): number;
 }
 
@@ -53,7 +53,7 @@ export function wasmStraightBands(cells: Int32Array, width: number, w: number, m
     k.fullestBand(l.col, l.row, n, w, l.eRow, l.eFirst, l.eLast, l.eCells, l.colCells, l.bins, l.cum, l.wide, l.res);
     const [count, c, s, lo] = new Float64Array(k.memory.buffer, l.res, 4);
     if (count! < minCells) break;
-    const nb = k.takeBand(l.left, l.col, l.row, n, c!, s!, lo!, w, count!, l.band);
+    const nb = k.takeBand(l.left, l.col, l.row, n, c!, s!, lo!, w, l.band);
     const found = i32().slice(l.band / 4, l.band / 4 + nb);
     if (accept && !accept(found)) break;
     n = k.dropBand(l.left, l.col, l.row, n, c!, s!, lo!, w);

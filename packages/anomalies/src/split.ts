@@ -149,8 +149,9 @@ export function straightBandsInJs(cells: Int32Array, width: number, bandCells: n
   while (bands.length < maxBands && n >= minCells) {
     const best = fullestBand(col, row, n, w, ends);
     if (best.count < minCells) break;
-    // the band's cells out, the others moved down (kept in ascending order)
-    const band = new Int32Array(best.count);
+    // the band's cells out, the others moved down (kept in ascending order); every cell of the range,
+    // also one on its far edge that the window's count (bins [lo, lo + w)) left to the next window
+    const band = new Int32Array(n);
     let nb = 0;
     for (let i = 0; i < n; i++) {
       const r = col[i]! * best.c + row[i]! * best.s;

@@ -233,6 +233,25 @@ describe('straightBands in WebAssembly (band-wasm.ts)', () => {
     );
   });
 
+  it('loses no cell: the bands and the rest together are the input, once each (a cell on a band\'s far edge goes with the band)', () => {
+    const sets = fc.record({
+      width: fc.integer({ min: 1, max: 30 }),
+      cells: fc.uniqueArray(fc.integer({ min: 0, max: 899 }), { minLength: 0, maxLength: 120 }),
+      bandCells: fc.double({ min: 0.2, max: 8, noNaN: true }),
+      minCells: fc.integer({ min: 1, max: 8 }),
+    });
+    fc.assert(
+      fc.property(sets, ({ width, cells, bandCells, minCells }) => {
+        const sorted = Int32Array.from(cells).sort();
+        for (const out of [straightBandsInJs(sorted, width, bandCells, minCells), wasmStraightBands(sorted, width, Math.max(1, Math.round(bandCells)), minCells, 4)!]) {
+          const all = [...out.bands.flatMap((b) => Array.from(b)), ...out.rest].sort((a, b) => a - b);
+          expect(all).toEqual(Array.from(sorted));
+        }
+      }),
+      { numRuns: 500, seed: 16 },
+    );
+  });
+
   it('gives the bands and the rest of the JavaScript search on crossings of strips in a wide grid', () => {
     const r = rng(23);
     let found = 0;

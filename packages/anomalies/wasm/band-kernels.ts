@@ -181,13 +181,13 @@ function search(a: i32, nA: i32, col: usize, row: usize, n: i32, w: i32, eRow: u
 }
 
 /**
- * The first `count` cells of the first n at `left` in the band [lo, lo + w + 1e-9) across (c, s), into
- * `band`, in order; how many. (split.ts keeps the band in an array of the window's count: a cell at the
- * band's far edge, which the window's bins leave out, goes into neither the band nor the rest.)
+ * The cells of the first n at `left` in the band [lo, lo + w + 1e-9) across (c, s), into `band`, in
+ * order; how many: every cell of the range, also one on its far edge that the window's count left to the
+ * next window (split.ts `straightBandsInJs` takes the same).
  */
-export function takeBand(left: usize, col: usize, row: usize, n: i32, c: f64, s: f64, lo: f64, w: f64, count: i32, band: usize): i32 {
+export function takeBand(left: usize, col: usize, row: usize, n: i32, c: f64, s: f64, lo: f64, w: f64, band: usize): i32 {
   let nb = 0;
-  for (let i = 0; i < n && nb < count; i++) if (inBand(col, row, i, c, s, lo, w)) set32(band, nb++, n32(left, i));
+  for (let i = 0; i < n; i++) if (inBand(col, row, i, c, s, lo, w)) set32(band, nb++, n32(left, i));
   return nb;
 }
 
