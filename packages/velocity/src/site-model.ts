@@ -236,7 +236,7 @@ export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOption
   if (usable.length === 0) {
     const v = options.fallbackVelocityMPerNs ?? 0.1;
     return {
-      site: { velocityMPerNs: v, permittivity: permittivityFromVelocity(v), spreadMPerNs: 0, uncertaintyMPerNs: siteVelocityUncertainty(v, 0, 0), fitCount: 0, note: `no usable subsurface hyperbola fit: assumed ${v} m/ns; depths are uncertain` },
+      site: { velocityMPerNs: v, permittivity: permittivityFromVelocity(v), spreadMPerNs: 0, uncertaintyMPerNs: siteVelocityUncertainty(v, 0, 0), fitCount: 0, note: `no usable subsurface hyperbola fit: assumed ${v} m/ns; depths are uncertain (the site velocity by about ${Math.round(100 * ASSUMED_RELATIVE_UNCERTAINTY)} %, the range of common soils)` },
       model: { kind: 'constant', layers: [{ topM: 0, bottomM: bottom, velocityMPerNs: v, permittivity: permittivityFromVelocity(v) }] },
     };
   }

@@ -73,6 +73,7 @@ describe('siteVelocityModel', () => {
     expect(none.fitCount).toBe(0);
     expect(ASSUMED_RELATIVE_UNCERTAINTY).toBeCloseTo(0.2908, 4);
     expect(none.uncertaintyMPerNs).toBeCloseTo(ASSUMED_RELATIVE_UNCERTAINTY * 0.1, 12);
+    expect(none.note).toMatch(/assumed 0\.1 m\/ns; depths are uncertain \(the site velocity by about 29 %/);
   });
 
   it('chooses a layered model with the Dix interval velocity when shallow and deep fits disagree', () => {
