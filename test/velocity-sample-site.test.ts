@@ -33,7 +33,8 @@ interface Truth {
   aboveGround: { id: string; kind: string; from?: number[]; to?: number[]; center?: number[] }[];
 }
 
-let report: { site: { permittivity: number; fitCount: number }; hyperbolas: Fit[]; method: { separationM: number } };
+let report: { site: { permittivity: number; velocityMPerNs: number; uncertaintyMPerNs: number; fitCount: number }; hyperbolas: Fit[]; method: { separationM: number } };
+let stdout: string;
 let truth: Truth;
 let lineDir: Record<string, P>;
 
@@ -42,7 +43,7 @@ beforeAll(async () => {
   const site = join(work, 'site');
   await simulateScenarioFile(join(root, 'sample-sites/yard/scenario.json'), site);
   const out = join(work, 'out');
-  await run(process.execPath, ['--import', 'tsx', join(root, 'apps/cli/src/main.ts'), 'velocity', site, '--out', out], { cwd: root, maxBuffer: 1 << 24 });
+  ({ stdout } = await run(process.execPath, ['--import', 'tsx', join(root, 'apps/cli/src/main.ts'), 'velocity', site, '--out', out], { cwd: root, maxBuffer: 1 << 24 }));
   report = JSON.parse(await readFile(join(out, 'velocity.json'), 'utf8'));
   truth = JSON.parse(await readFile(join(site, 'truth.json'), 'utf8'));
   // Line direction: from the one line whose start and end site.json gives (the sample site's lines are
@@ -68,6 +69,15 @@ describe('velocity on the sample site (yard)', () => {
     const k = report.site.permittivity;
     const kTrue = truth.soil.permittivity;
     expect(Math.abs(k / kTrue - 1)).toBeLessThan(0.1);
+  });
+
+  it('states the uncertainty of the site velocity, and the simulated soil lies within two of it', () => {
+    // v = c / sqrt(K) of the truth; the site value's own standard uncertainty (velocity.json
+    // site.uncertaintyMPerNs), printed by `lamina velocity` beside the spread
+    const vTrue = C / Math.sqrt(truth.soil.permittivity);
+    expect(report.site.uncertaintyMPerNs).toBeGreaterThan(0);
+    expect(Math.abs(report.site.velocityMPerNs - vTrue)).toBeLessThan(2 * report.site.uncertaintyMPerNs);
+    expect(stdout).toContain(`the site value itself +- ${report.site.uncertaintyMPerNs.toFixed(4)} m/ns`);
   });
 
   it('classifies every fitted air-wave hyperbola as above-ground', () => {

@@ -99,7 +99,7 @@ function summary(r: VelocityReport, file: string, windows: string): string {
   const s = r.site;
   const lines = [
     `${file}: ${h.length} hyperbolas (${manual} from manual picks), ${s.fitCount} used for the site model, ${air} above-ground (air-wave), ${impossible} faster than light (flagged), ${oblique} corrected for oblique crossing`,
-    `site velocity ${s.velocityMPerNs.toFixed(4)} m/ns +- ${s.spreadMPerNs.toFixed(4)} (K ${s.permittivity.toFixed(2)}), model ${r.model.kind}` +
+    `site velocity ${s.velocityMPerNs.toFixed(4)} m/ns +- ${s.spreadMPerNs.toFixed(4)} (K ${s.permittivity.toFixed(2)})${s.uncertaintyMPerNs !== undefined ? `, the site value itself +- ${s.uncertaintyMPerNs.toFixed(4)} m/ns` : ''}, model ${r.model.kind}` +
       (r.model.kind === 'layered' ? ': ' + r.model.layers.map((l) => `${l.topM.toFixed(2)} m: ${l.velocityMPerNs.toFixed(4)} m/ns`).join(', ') : ''),
   ];
   if (s.note) lines.push(`note: ${s.note}`);
