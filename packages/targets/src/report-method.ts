@@ -173,6 +173,15 @@ export function fitMark(h: FitRow, velocity: VelocityInfo): string {
   return '';
 }
 
+/** What the site velocity's own uncertainty rests on, in words for the report (velocity.json `uncertaintyMPerNs`). */
+function uncertaintyBasis(velocity: VelocityInfo): string {
+  const objects = velocity.raw.site.objectCount ?? undefined;
+  const fits = velocity.fitCount ?? 0;
+  if (fits === 0) return 'the site value itself: assumed, so the range of common soils';
+  const on = objects !== undefined ? ` on ${objects} object${objects === 1 ? '' : 's'}` : '';
+  return `the site value itself, from ${fits} fit${fits === 1 ? '' : 's'}${on}: the standard error of their median, each object at least a fifth of v uncertain`;
+}
+
 /** The velocity summary: the model, the spread, the fits counted by origin (the fits themselves go to the appendix). */
 export function velocitySummary(velocity: VelocityInfo): { summary: string; appendix: string } {
   const vr = velocity.raw;
@@ -188,7 +197,7 @@ export function velocitySummary(velocity: VelocityInfo): { summary: string; appe
     `<table><tr><th>Site velocity</th><td class="n">${velocity.velocityMPerNs.toFixed(4)} m/ns</td><th>Permittivity K</th><td class="n">${n(velocity.permittivity, 2)}</td></tr>` +
     `<tr><th>Spread</th><td class="n">${velocity.spreadMPerNs !== undefined ? `${velocity.spreadMPerNs.toFixed(4)} m/ns (${n((100 * velocity.spreadMPerNs) / velocity.velocityMPerNs, 1)} %)` : 'not given'}</td><th>Hyperbola fits</th><td>${fits.length}${fits.length ? `: ${[...byOrigin].map(([o, c]) => `${c} ${esc(o)}`).join(', ')}; ${outliers} outlier${outliers === 1 ? '' : 's'}` : ''}</td></tr>` +
     (velocity.uncertaintyMPerNs !== undefined
-      ? `<tr><th>Site velocity uncertainty</th><td class="n">± ${velocity.uncertaintyMPerNs.toFixed(4)} m/ns (${n((100 * velocity.uncertaintyMPerNs) / velocity.velocityMPerNs, 1)} %)</td><td colspan="2">the site value itself, ${velocity.fitCount ? `from ${velocity.fitCount} fit${velocity.fitCount === 1 ? '' : 's'}${isObj(vr.site) && typeof vr.site.objectCount === 'number' ? ` on ${vr.site.objectCount} object${vr.site.objectCount === 1 ? '' : 's'}` : ''}: few objects, large uncertainty` : 'assumed: the range of common soils'}; with the spread, in every target's depth uncertainty</td></tr>`
+      ? `<tr><th>Site velocity uncertainty</th><td class="n">± ${velocity.uncertaintyMPerNs.toFixed(4)} m/ns (${n((100 * velocity.uncertaintyMPerNs) / velocity.velocityMPerNs, 1)} %)</td><td colspan="2">${uncertaintyBasis(velocity)}; with the spread, in every target's depth uncertainty</td></tr>`
       : '') +
     (isObj(vr.site) && typeof vr.site.note === 'string' ? `<tr><th>Note</th><td colspan="3">${esc(vr.site.note)}</td></tr>` : '') +
     (moisture ? `<tr><th>Moisture (estimate)</th><td colspan="3">${n(moisture.volumetricWaterContent, 3)} volumetric, ${esc(moisture.method)}. ${esc(moisture.caution)}</td></tr>` : '') +

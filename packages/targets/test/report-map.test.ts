@@ -159,4 +159,18 @@ describe('report.html velocity summary', () => {
     expect(appendix).toContain('flagged: apex in the direct-wave zone');
     expect(appendix.match(/class="marked"/g)?.length).toBe(1);
   });
+
+  it("states the site velocity's own uncertainty and what it rests on: fitted objects, or the assumed velocity", async () => {
+    const { velocitySummary } = await import('../src/report-method');
+    const site = { velocityMPerNs: 0.1, permittivity: 8.99, spreadMPerNs: 0.004, uncertaintyMPerNs: 0.02, fitCount: 3, objectCount: 1 };
+    const fitted = velocitySummary({ ...site, raw: { site, model: { kind: 'constant', layers: [] }, hyperbolas: [] } } as never).summary;
+    expect(fitted).toContain('± 0.0200 m/ns (20 %)');
+    expect(fitted).toContain('from 3 fits on 1 object:');
+    const none = { velocityMPerNs: 0.1, permittivity: 8.99, spreadMPerNs: 0, uncertaintyMPerNs: 0.0291, fitCount: 0 };
+    const assumed = velocitySummary({ ...none, raw: { site: none, model: { kind: 'constant', layers: [] }, hyperbolas: [] } } as never).summary;
+    expect(assumed).toContain('assumed, so the range of common soils');
+    // a file written before the field: no row
+    const old = { velocityMPerNs: 0.1, permittivity: 8.99, spreadMPerNs: 0.004, fitCount: 3 };
+    expect(velocitySummary({ ...old, raw: { site: old, model: { kind: 'constant', layers: [] }, hyperbolas: [] } } as never).summary).not.toContain('Site velocity uncertainty');
+  });
 });
