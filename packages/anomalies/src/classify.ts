@@ -267,10 +267,7 @@ export function isPointPiece(a: Anomaly3D, ctx: ClassifyContext): boolean {
 /** Smallest angle between an azimuth and any of `azimuths` (all modulo 180 degrees), degrees. */
 export function axisAngleDeg(az: number, azimuths: readonly number[]): number {
   let best = Infinity;
-  for (const b of azimuths) {
-    const d = Math.abs((((az - b) % 180) + 180) % 180);
-    best = Math.min(best, d, 180 - d);
-  }
+  for (const b of azimuths) best = Math.min(best, axisDiffDeg(az, b));
   return best;
 }
 
@@ -449,7 +446,7 @@ export function acrossLinesM(a: Anomaly3D, ctx: ClassifyContext): number {
   if (azimuths.length === 0) return Math.max(a.shape.lengthM, a.shape.widthM);
   let best = 0;
   for (const b of azimuths) {
-    const d = (axisAngleDeg(a.shape.directionDeg, [b]) * Math.PI) / 180;
+    const d = (axisDiffDeg(a.shape.directionDeg, b) * Math.PI) / 180;
     best = Math.max(best, a.shape.lengthM * Math.sin(d) + a.shape.widthM * Math.cos(d));
   }
   return best;

@@ -1,4 +1,4 @@
-import { axisAngleDeg, fitNoiseLaw, noiseScores, type Anomaly3D } from '@lamina/anomalies';
+import { axisDiffDeg, fitNoiseLaw, noiseScores, type Anomaly3D } from '@lamina/anomalies';
 import type { SliceStack } from '@lamina/slices';
 
 /** The slices of one direction of a survey in two directions, gridded from its own lines alone (same grid). */
@@ -36,7 +36,7 @@ export class CrossingLines {
 
   seen(a: Anomaly3D): boolean | undefined {
     const minAngle = this.options.minAngleDeg ?? 45;
-    const k = this.stacks.findIndex((d) => axisAngleDeg(a.shape.directionDeg, [d.azimuthDeg]) >= minAngle);
+    const k = this.stacks.findIndex((d) => axisDiffDeg(a.shape.directionDeg, d.azimuthDeg) >= minAngle);
     if (k < 0) return undefined;
     let seen = 0;
     let total = 0;

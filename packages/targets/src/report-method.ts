@@ -175,7 +175,7 @@ export function fitMark(h: FitRow, velocity: VelocityInfo): string {
 
 /** What the site velocity's own uncertainty rests on, in words for the report (velocity.json `uncertaintyMPerNs`). */
 function uncertaintyBasis(velocity: VelocityInfo): string {
-  const objects = velocity.raw.site.objectCount ?? undefined;
+  const objects = velocity.raw.site.objectCount;
   const fits = velocity.fitCount ?? 0;
   if (fits === 0) return 'the site value itself: assumed, so the range of common soils';
   const on = objects !== undefined ? ` on ${objects} object${objects === 1 ? '' : 's'}` : '';

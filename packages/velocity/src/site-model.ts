@@ -245,13 +245,14 @@ export function siteVelocityModel(fits: HyperbolaFit[], options: SiteModelOption
     usable.map(weightOf),
   );
   const k = permittivityFromVelocity(centre);
+  // the weighted MAD is 0 when one object holds over half the weight with one velocity; no fit is
+  // taken as more certain than the floor, so neither is the site
+  const spreadMPerNs = Math.max(spread, floor);
   const site: VelocityReport['site'] = {
     velocityMPerNs: centre,
     permittivity: k,
-    // the weighted MAD is 0 when one object holds over half the weight with one velocity; no fit is
-    // taken as more certain than the floor, so neither is the site
-    spreadMPerNs: Math.max(spread, floor),
-    uncertaintyMPerNs: siteVelocityUncertainty(centre, Math.max(spread, floor), sizes.length),
+    spreadMPerNs,
+    uncertaintyMPerNs: siteVelocityUncertainty(centre, spreadMPerNs, sizes.length),
     fitCount: usable.length,
     objectCount: sizes.length,
     ...moisture(k, false),

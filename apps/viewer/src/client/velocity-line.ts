@@ -5,8 +5,8 @@ import type { VelocityJson } from './data';
  * What the depths rest on, in one line for the side panel: the site velocity and permittivity with their
  * spread, the uncertainty of the site value itself (velocity.json `uncertaintyMPerNs`) and the number of
  * hyperbola fits, and velocity.json's site note when it has one (an assumed velocity, fits only in the
- * direct-wave zone, a survey's own velocity). `warn` when there is a note or no
- * fit: the depths then rest on an assumption, and the line takes the cautions' colours.
+ * direct-wave zone, a survey's own velocity). `warn` when there is a note or no fit: the depths then
+ * rest on an assumption, and the line takes the cautions' colours.
  */
 export function velocityLine(velocity: VelocityJson | undefined): { text: string; warn: boolean } {
   if (!velocity) return { text: 'Depths: no velocity.json in this folder.', warn: true };
